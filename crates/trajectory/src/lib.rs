@@ -1,0 +1,16 @@
+//!
+//! # Conventions
+//!
+//! SI units throughout: positions in rad (m for a sliding joint), velocities in rad/s,
+//! accelerations in rad/s², jerks in rad/s³, time in s measured from the start of a move,
+//! frequencies in rad/s. Limits are symmetric per joint and given as plain numbers. A number in
+//! another unit carries the unit in its name. No function panics on any input; bad inputs give a
+//! typed error.
+#![warn(missing_docs)]
+
+mod profile; // one joint's move: trapezoid and double-S profiles, evaluation, stretching
+
+pub use crate::profile::{
+    Boundary, JointLimits, JointMove, JointState, LimitKind, Profile, ProfileError, ProfileShape,
+    ProfileTimes,
+};

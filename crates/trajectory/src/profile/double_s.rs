@@ -1,0 +1,157 @@
+//! Jerk-limited double-S profile (Biagiotti & Melchiorri, *Trajectory Planning for Automatic
+//! Machines and Robots*, Springer 2008, ch. 3), with general start and end velocities and zero
+//! acceleration at both ends.
+//!
+//! The book's algorithm first assumes the velocity limit is reached; if not, it assumes the
+//! acceleration limit is reached in both changes, and if that fails it lowers the acceleration
+//! step by step. Here the peak velocity is instead found exactly: the distance covered by the
+//! two velocity changes grows with the peak, so the highest peak whose changes fit in the move
+//! is the root of one increasing function, found in closed form for rest-to-rest moves and by
+//! a bracketed Newton search otherwise. Every case of the book — cruise reached or not,
+//! acceleration limit reached or not in either change — falls out of the same root.
+
+use super::limits::{JointLimits, ProfileError};
+use super::{ThreePart, VelocityChange, changes_through, solve_bracketed, stretch_peak};
+
+/// The time-optimal parts for displacement `distance` (rad, ≥ 0) from velocity `start` to
+/// `end` (rad/s, in the direction of motion), limits already checked.
+pub(super) fn fastest(
+    distance: f64,
+    start: f64,
+    end: f64,
+    limits: &JointLimits,
+) -> Result<ThreePart, ProfileError> {
+    let (vmax, amax, jmax) = (limits.velocity, limits.acceleration, limits.jerk);
+    if start == 0.0 && end == 0.0 {
+        return Ok(rest_to_rest(distance, vmax, amax, jmax));
+    }
+    // Feasibility (Biagiotti & Melchiorri 2008, ch. 3): the direct change from one boundary
+    // velocity to the other must fit in the move.
+    let lowest_peak = start.max(end);
+    let (direct, _, _) = changes_through(start, lowest_peak, end, amax, jmax);
+    if direct > distance * (1.0 + 1e-12) + 1e-15 {
+        return Err(ProfileError::TooShort {
+            distance,
+            needed: direct,
+        });
+    }
+    let (covered, first, last) = changes_through(start, vmax, end, amax, jmax);
+    if covered <= distance {
+        return Ok(ThreePart {
+            start_velocity: start,
+            peak_velocity: vmax,
+            end_velocity: end,
+            first,
+            cruise: (distance - covered) / vmax,
+            last,
+        });
+    }
+    let peak = if direct >= distance {
+        lowest_peak
+    } else {
+        solve_bracketed(lowest_peak, vmax, |peak| {
+            covered_and_slope(distance, start, peak, end, amax, jmax)
+        })
+    };
+    let (_, first, last) = changes_through(start, peak, end, amax, jmax);
+    Ok(ThreePart {
+        start_velocity: start,
+        peak_velocity: peak,
+        end_velocity: end,
+        first,
+        cruise: 0.0,
+        last,
+    })
+}
+
+/// Covered distance minus `distance`, and its slope with respect to the peak.
+fn covered_and_slope(
+    distance: f64,
+    start: f64,
+    peak: f64,
+    end: f64,
+    amax: f64,
+    jmax: f64,
+) -> (f64, f64) {
+    let (covered, first, last) = changes_through(start, peak, end, amax, jmax);
+    let first_slope = VelocityChange::duration_slope(peak - start, amax, jmax);
+    let last_slope = VelocityChange::duration_slope(peak - end, amax, jmax);
+    let slope = 0.5 * (first.duration + last.duration)
+        + 0.5 * (start + peak) * first_slope
+        + 0.5 * (peak + end) * last_slope;
+    (covered - distance, slope)
+}
+
+/// Closed-form time-optimal rest-to-rest double-S (Biagiotti & Melchiorri 2008, ch. 3, with
+/// v0 = v1 = 0, where both velocity changes are alike and each covers half the peak velocity
+/// times its duration).
+fn rest_to_rest(distance: f64, vmax: f64, amax: f64, jmax: f64) -> ThreePart {
+    let at_rest = ThreePart {
+        start_velocity: 0.0,
+        peak_velocity: 0.0,
+        end_velocity: 0.0,
+        first: VelocityChange::default(),
+        cruise: 0.0,
+        last: VelocityChange::default(),
+    };
+    if distance <= 0.0 {
+        return at_rest;
+    }
+    let full = VelocityChange::fastest(vmax, amax, jmax);
+    let peak = if distance >= vmax * full.duration {
+        vmax
+    } else if distance * jmax * jmax >= 2.0 * amax * amax * amax {
+        // Acceleration limit reached: peak²/amax + peak·amax/jmax = distance.
+        let ramp = amax / jmax;
+        0.5 * amax * (-ramp + (ramp * ramp + 4.0 * distance / amax).sqrt())
+    } else {
+        // Neither limit reached: four jerk ramps of cbrt(distance / (2 jmax)).
+        let ramp = (0.5 * distance / jmax).cbrt();
+        jmax * ramp * ramp
+    };
+    let change = VelocityChange::fastest(peak, amax, jmax);
+    let cruise = if peak >= vmax {
+        (distance / vmax - change.duration).max(0.0)
+    } else {
+        0.0
+    };
+    ThreePart {
+        peak_velocity: peak,
+        first: change,
+        cruise,
+        last: change,
+        ..at_rest
+    }
+}
+
+/// A profile with boundary velocities slowed to `duration` (s): the peak velocity is lowered,
+/// the limits kept.
+pub(super) fn stretch(
+    distance: f64,
+    parts: &ThreePart,
+    duration: f64,
+    limits: &JointLimits,
+) -> Result<ThreePart, ProfileError> {
+    stretch_peak(distance, parts, duration, limits.acceleration, limits.jerk)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn rest_to_rest_closed_form_matches_the_general_search() {
+        let limits = JointLimits::new(2.0, 3.0, 7.0);
+        for &distance in &[1e-6, 0.01, 0.3, 1.0, 2.0, 5.0] {
+            let closed = rest_to_rest(distance, 2.0, 3.0, 7.0);
+            // Same search as for boundary velocities, started at a tiny start velocity.
+            let searched = fastest(distance, 1e-300, 0.0, &limits).expect("feasible");
+            assert!(
+                (closed.duration() - searched.duration()).abs() < 1e-12,
+                "{distance}: {} vs {}",
+                closed.duration(),
+                searched.duration()
+            );
+        }
+    }
+}

@@ -1,0 +1,270 @@
+//! Velocity profiles for one joint.
+//!
+//! Naming scheme: one file per published method, named after the method —
+//! `trapezoid.rs` (velocity and acceleration limited) and `double_s.rs` (jerk limited, after
+//! Biagiotti & Melchiorri, *Trajectory Planning for Automatic Machines and Robots*, Springer
+//! 2008, ch. 3). `phases.rs` holds the representation both methods produce: seven phases of
+//! constant jerk. `limits.rs` holds the inputs (a joint's move and limits) and their checks.
+//!
+//! Every profile has the same three-part shape: a velocity change from the start velocity to a
+//! peak velocity, a cruise at the peak velocity, and a velocity change to the end velocity.
+//! The methods differ in how a velocity change is made (constant acceleration, or an S-curve
+//! with limited jerk). Internally the maths works in a frame where the displacement is not
+//! negative; the sign is put back when the phases are built.
+
+mod double_s; // jerk-limited double-S: minimum time, peak velocity search, stretching
+mod limits; // JointMove, JointLimits, ProfileError and their validation
+mod phases; // seven constant-jerk phases: the Profile value and its evaluation
+mod trapezoid; // velocity and acceleration limited trapezoid: closed forms
+
+pub use limits::{Boundary, JointLimits, JointMove, LimitKind, ProfileError};
+pub use phases::{JointState, Profile, ProfileShape, ProfileTimes};
+
+/// A time-optimal change of velocity with zero acceleration at both ends.
+///
+/// Times in s, acceleration in rad/s², jerk in rad/s³. With jerk = ∞ (trapezoid) the ramp
+/// times are zero and the acceleration jumps to `peak_acceleration`.
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub(crate) struct VelocityChange {
+    /// Whole duration of the change, s.
+    pub duration: f64,
+    /// Duration of each jerk ramp (rising and falling), s.
+    pub ramp: f64,
+    /// Largest acceleration magnitude reached, rad/s².
+    pub peak_acceleration: f64,
+    /// Jerk magnitude during the ramps, rad/s³ (0 when the ramps have zero length).
+    pub jerk: f64,
+}
+
+impl VelocityChange {
+    /// The velocity change of magnitude `dv` (rad/s, ≥ 0) in minimum time with the given
+    /// acceleration and jerk limits. `jerk = ∞` gives a constant-acceleration change.
+    #[inline]
+    pub(crate) fn fastest(dv: f64, acceleration: f64, jerk: f64) -> Self {
+        if dv <= 0.0 {
+            return Self::default();
+        }
+        if dv * jerk >= acceleration * acceleration {
+            // Acceleration limit reached: ramp, constant acceleration, ramp.
+            let ramp = acceleration / jerk;
+            Self {
+                duration: ramp + dv / acceleration,
+                ramp,
+                peak_acceleration: acceleration,
+                jerk: if ramp > 0.0 { jerk } else { 0.0 },
+            }
+        } else {
+            // Acceleration limit not reached: two ramps meeting at the peak.
+            let ramp = (dv / jerk).sqrt();
+            Self {
+                duration: 2.0 * ramp,
+                ramp,
+                peak_acceleration: jerk * ramp,
+                jerk,
+            }
+        }
+    }
+
+    /// This change made `factor` (≥ 1) times slower: acceleration ÷ factor², jerk ÷ factor³.
+    pub(crate) fn time_scaled(self, factor: f64) -> Self {
+        Self {
+            duration: self.duration * factor,
+            ramp: self.ramp * factor,
+            peak_acceleration: self.peak_acceleration / (factor * factor),
+            jerk: self.jerk / (factor * factor * factor),
+        }
+    }
+
+    /// Derivative of the duration with respect to `dv` (s per rad/s), for Newton steps.
+    #[inline]
+    pub(crate) fn duration_slope(dv: f64, acceleration: f64, jerk: f64) -> f64 {
+        if dv * jerk >= acceleration * acceleration {
+            1.0 / acceleration
+        } else {
+            1.0 / (dv * jerk).sqrt()
+        }
+    }
+}
+
+/// The three-part shape of a profile in the non-negative displacement frame.
+///
+/// Velocities in rad/s, durations in s.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(crate) struct ThreePart {
+    /// Velocity at the start.
+    pub start_velocity: f64,
+    /// Velocity of the cruise.
+    pub peak_velocity: f64,
+    /// Velocity at the end.
+    pub end_velocity: f64,
+    /// Change from start to peak velocity.
+    pub first: VelocityChange,
+    /// Cruise duration, s.
+    pub cruise: f64,
+    /// Change from peak to end velocity.
+    pub last: VelocityChange,
+}
+
+#[cfg(test)]
+impl ThreePart {
+    /// Total duration, s.
+    pub(crate) fn duration(&self) -> f64 {
+        self.first.duration + self.cruise + self.last.duration
+    }
+}
+
+/// Distance covered by the two velocity changes through `peak` with no cruise, and the two
+/// changes themselves. An S-curve or a ramp is symmetric, so each covers the mean of its end
+/// velocities times its duration (Biagiotti & Melchiorri 2008, ch. 3).
+#[inline]
+pub(crate) fn changes_through(
+    start: f64,
+    peak: f64,
+    end: f64,
+    acceleration: f64,
+    jerk: f64,
+) -> (f64, VelocityChange, VelocityChange) {
+    let first = VelocityChange::fastest((peak - start).abs(), acceleration, jerk);
+    let last = VelocityChange::fastest((peak - end).abs(), acceleration, jerk);
+    let distance = 0.5 * (start + peak) * first.duration + 0.5 * (peak + end) * last.duration;
+    (distance, first, last)
+}
+
+/// Solves `f(x) = 0` for `x` in `[lo, hi]`, where `f` returns the value and its slope and
+/// `f(lo)` and `f(hi)` have opposite signs (or one is zero). Newton steps, with bisection
+/// whenever a step leaves the bracket. Returns the best `x` found.
+pub(crate) fn solve_bracketed(mut lo: f64, mut hi: f64, f: impl Fn(f64) -> (f64, f64)) -> f64 {
+    let (f_lo, _) = f(lo);
+    let (f_hi, _) = f(hi);
+    if f_lo == 0.0 {
+        return lo;
+    }
+    if f_hi == 0.0 {
+        return hi;
+    }
+    let rising = f_hi > f_lo;
+    let mut x = 0.5 * (lo + hi);
+    for _ in 0..200 {
+        let (value, slope) = f(x);
+        if value == 0.0 {
+            return x;
+        }
+        if (value > 0.0) == rising {
+            hi = x;
+        } else {
+            lo = x;
+        }
+        let newton = x - value / slope;
+        let usable = slope.is_finite() && slope != 0.0 && newton > lo && newton < hi;
+        let next = if usable { newton } else { 0.5 * (lo + hi) };
+        if (next - x).abs() <= 1e-15 * x.abs().max(1e-300) || hi - lo <= 1e-15 * hi.abs() {
+            return next;
+        }
+        x = next;
+    }
+    x
+}
+
+/// Duration through peak velocity `peak` with the cruise that completes `distance`, and its
+/// slope with respect to `peak` (s per rad/s). Also returns the no-cruise distance.
+fn duration_through(
+    distance: f64,
+    start: f64,
+    peak: f64,
+    end: f64,
+    acceleration: f64,
+    jerk: f64,
+) -> (f64, f64, f64) {
+    let (covered, first, last) = changes_through(start, peak, end, acceleration, jerk);
+    let duration = first.duration + last.duration + (distance - covered) / peak;
+    let first_slope = (peak - start).signum()
+        * VelocityChange::duration_slope((peak - start).abs(), acceleration, jerk);
+    let last_slope = (peak - end).signum()
+        * VelocityChange::duration_slope((peak - end).abs(), acceleration, jerk);
+    let covered_slope = 0.5 * first.duration
+        + 0.5 * (start + peak) * first_slope
+        + 0.5 * last.duration
+        + 0.5 * (peak + end) * last_slope;
+    let slope =
+        first_slope + last_slope - (covered_slope * peak + (distance - covered)) / (peak * peak);
+    (duration, slope, covered)
+}
+
+/// Lowers the peak velocity of `parts` (time-optimal, non-negative frame) until the profile
+/// takes `duration` s, keeping acceleration and jerk limits and the boundary velocities.
+///
+/// First along the usual shape (peak at or above both boundary velocities), where the duration
+/// falls as the peak rises; if that cannot take long enough, along peaks below a boundary
+/// velocity, found by a scan and then refined.
+pub(crate) fn stretch_peak(
+    distance: f64,
+    parts: &ThreePart,
+    duration: f64,
+    acceleration: f64,
+    jerk: f64,
+) -> Result<ThreePart, ProfileError> {
+    let start = parts.start_velocity;
+    let end = parts.end_velocity;
+    let fastest_peak = parts.peak_velocity;
+    let timing = |peak: f64| duration_through(distance, start, peak, end, acceleration, jerk);
+    let tolerance = 1e-12 * distance.max(1e-12);
+    let unreachable = ProfileError::StretchUnreachable {
+        requested: duration,
+    };
+    let mut low = start.max(end).max(0.0);
+    if low <= 0.0 {
+        // Both boundary velocities are zero or negative: the duration grows without bound as
+        // the peak falls towards zero.
+        low = fastest_peak;
+        for _ in 0..2000 {
+            if timing(low).0 >= duration {
+                break;
+            }
+            low *= 0.5;
+        }
+    }
+    let mut bracket = None;
+    if low > 0.0 && low <= fastest_peak && timing(low).0 >= duration {
+        bracket = Some((low, fastest_peak));
+    } else if low > 0.0 {
+        // Peaks below a boundary velocity: scan down from `low` for a feasible bracket.
+        let mut previous = Some(low);
+        let candidates = (1..64)
+            .rev()
+            .map(|k| low * f64::from(k) / 64.0)
+            .chain((1..48).map(|m| low / 64.0 * 0.5_f64.powi(m)));
+        for peak in candidates {
+            let (time, _, covered) = timing(peak);
+            if covered > distance + tolerance || !time.is_finite() {
+                previous = None;
+                continue;
+            }
+            if time >= duration {
+                if let Some(above) = previous {
+                    bracket = Some((peak, above));
+                }
+                break;
+            }
+            previous = Some(peak);
+        }
+    }
+    let (low, high) = bracket.ok_or(unreachable)?;
+    let peak = solve_bracketed(low, high, |peak| {
+        let (time, slope, _) = timing(peak);
+        (time - duration, slope)
+    });
+    let (covered, first, last) = changes_through(start, peak, end, acceleration, jerk);
+    let cruise = (duration - first.duration - last.duration).max(0.0);
+    let miss = distance - covered - peak * cruise;
+    if miss.is_nan() || miss.abs() > 1e-9 * distance.max(1e-6) {
+        return Err(unreachable);
+    }
+    Ok(ThreePart {
+        start_velocity: start,
+        peak_velocity: peak,
+        end_velocity: end,
+        first,
+        cruise,
+        last,
+    })
+}

@@ -1,0 +1,412 @@
+//! Seven phases of constant jerk: the [`Profile`] value both methods produce, and its
+//! evaluation at a time.
+
+use super::limits::{JointLimits, JointMove, ProfileError};
+use super::{ThreePart, VelocityChange, double_s, trapezoid};
+
+/// Which published method made a profile.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum ProfileShape {
+    /// Velocity and acceleration limited; acceleration jumps (Biagiotti & Melchiorri 2008,
+    /// ch. 3, "trapezoidal velocity profile").
+    Trapezoid,
+    /// Jerk limited; acceleration continuous (Biagiotti & Melchiorri 2008, ch. 3, "double S").
+    #[default]
+    DoubleS,
+}
+
+/// Position, velocity, acceleration and jerk of one joint at one instant.
+///
+/// Units: rad, rad/s, rad/s², rad/s³ (m, m/s, … for a sliding joint).
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub struct JointState {
+    /// Position, rad.
+    pub position: f64,
+    /// Velocity, rad/s.
+    pub velocity: f64,
+    /// Acceleration, rad/s².
+    pub acceleration: f64,
+    /// Jerk, rad/s³ (0 in a trapezoid, whose jerk is not defined where acceleration jumps).
+    pub jerk: f64,
+}
+
+/// Durations of the parts of a profile, in s, named as in Biagiotti & Melchiorri 2008, ch. 3.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct ProfileTimes {
+    /// Tj1: each jerk ramp of the first velocity change, s.
+    pub start_ramp: f64,
+    /// Ta: the first velocity change (start velocity to peak velocity), s.
+    pub start_change: f64,
+    /// Tv: the cruise at peak velocity, s.
+    pub cruise: f64,
+    /// Td: the last velocity change (peak velocity to end velocity), s.
+    pub end_change: f64,
+    /// Tj2: each jerk ramp of the last velocity change, s.
+    pub end_ramp: f64,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+struct Phase {
+    start: f64,
+    position: f64,
+    velocity: f64,
+    acceleration: f64,
+    jerk: f64,
+}
+
+impl Phase {
+    #[inline]
+    fn state(&self, t: f64) -> JointState {
+        let tau = t - self.start;
+        JointState {
+            position: self.position
+                + tau * (self.velocity + tau * (0.5 * self.acceleration + tau * self.jerk / 6.0)),
+            velocity: self.velocity + tau * (self.acceleration + 0.5 * tau * self.jerk),
+            acceleration: self.acceleration + tau * self.jerk,
+            jerk: self.jerk,
+        }
+    }
+}
+
+/// A velocity profile for one joint: a value with a duration that can be evaluated at any time.
+///
+/// Made by [`Profile::double_s`] or [`Profile::trapezoid`]; positions in rad, time in s.
+/// Evaluation outside `[0, duration]` is clamped: before the start it gives the start state,
+/// after the end the end state, both with zero acceleration and jerk.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Profile {
+    shape: ProfileShape,
+    joint_move: JointMove,
+    limits: JointLimits,
+    /// Direction of motion, +1 or −1.
+    sign: f64,
+    /// Displacement in the direction of motion, rad (≥ 0).
+    distance: f64,
+    parts: ThreePart,
+    duration: f64,
+    phases: [Phase; 7],
+}
+
+impl Profile {
+    /// The time-optimal jerk-limited double-S profile for `joint_move` within `limits`
+    /// (Biagiotti & Melchiorri 2008, ch. 3), with any boundary velocities the move allows.
+    ///
+    /// The velocity rises (or falls) from the start velocity to a peak, cruises, and changes to
+    /// the end velocity, each change an S-curve with zero acceleration at its ends; the peak is
+    /// the highest the move's length allows, up to `limits.velocity`. Rest-to-rest moves use
+    /// closed forms; others find the peak by a bracketed Newton search to machine precision.
+    ///
+    /// # Errors
+    /// [`ProfileError::BadLimit`] for a limit that is zero, negative, NaN or infinite;
+    /// [`ProfileError::NotFinite`] for a NaN or infinite position or velocity;
+    /// [`ProfileError::BoundaryVelocityOverLimit`]; [`ProfileError::TooShort`] when the move is
+    /// shorter than the distance needed to change from the start to the end velocity.
+    ///
+    /// # Example
+    /// ```
+    /// use armwright_trajectory::{JointLimits, JointMove, Profile};
+    /// let limits = JointLimits::new(5.0, 10.0, 30.0);
+    /// let profile = Profile::double_s(&JointMove::passing(0.0, 10.0, 1.0, 0.0), &limits)?;
+    /// assert!((profile.duration() - 2.71).abs() < 1e-3);
+    /// assert_eq!(profile.state_at(100.0).position, 10.0);
+    /// # Ok::<(), armwright_trajectory::ProfileError>(())
+    /// ```
+    pub fn double_s(joint_move: &JointMove, limits: &JointLimits) -> Result<Self, ProfileError> {
+        super::limits::validate(joint_move, limits, true)?;
+        let (sign, distance, v0, v1) = frame(joint_move);
+        let parts = double_s::fastest(distance, v0, v1, limits)?;
+        Ok(Self::build(
+            ProfileShape::DoubleS,
+            joint_move,
+            limits,
+            sign,
+            distance,
+            parts,
+        ))
+    }
+
+    /// The time-optimal trapezoidal profile for `joint_move` within the velocity and
+    /// acceleration of `limits` (`limits.jerk` is not used), with any boundary velocities the
+    /// move allows (Biagiotti & Melchiorri 2008, ch. 3).
+    ///
+    /// # Errors
+    /// As [`Profile::double_s`], except that the jerk limit is not checked.
+    pub fn trapezoid(joint_move: &JointMove, limits: &JointLimits) -> Result<Self, ProfileError> {
+        super::limits::validate(joint_move, limits, false)?;
+        let (sign, distance, v0, v1) = frame(joint_move);
+        let parts = trapezoid::fastest(distance, v0, v1, limits)?;
+        Ok(Self::build(
+            ProfileShape::Trapezoid,
+            joint_move,
+            limits,
+            sign,
+            distance,
+            parts,
+        ))
+    }
+
+    /// The time-optimal profile of the given shape; see [`Profile::double_s`] and
+    /// [`Profile::trapezoid`].
+    ///
+    /// # Errors
+    /// As the method called.
+    pub fn fastest(
+        shape: ProfileShape,
+        joint_move: &JointMove,
+        limits: &JointLimits,
+    ) -> Result<Self, ProfileError> {
+        match shape {
+            ProfileShape::Trapezoid => Self::trapezoid(joint_move, limits),
+            ProfileShape::DoubleS => Self::double_s(joint_move, limits),
+        }
+    }
+
+    /// The same move with the same shape and boundary velocities, slowed to take exactly
+    /// `duration` s, with every limit still respected.
+    ///
+    /// A rest-to-rest move is scaled uniformly in time (the fixed-duration approach of
+    /// Biagiotti & Melchiorri 2008, ch. 3, with the phase proportions of the time-optimal
+    /// profile): velocity falls by the factor, acceleration by its square, jerk by its cube. A
+    /// move with boundary velocities keeps its limits and lowers its peak velocity until the
+    /// duration fits. A duration no longer than this profile's returns it unchanged.
+    ///
+    /// # Errors
+    /// [`ProfileError::StretchTooShort`] when `duration` is shorter than this profile's by more
+    /// than rounding; [`ProfileError::StretchUnreachable`] when no profile of this shape with
+    /// these boundary velocities can take that long (only possible with a boundary velocity).
+    pub fn stretched(&self, duration: f64) -> Result<Self, ProfileError> {
+        let tolerance = 1e-12 * self.duration.max(1e-3);
+        if duration.is_nan() || duration < self.duration - tolerance {
+            return Err(ProfileError::StretchTooShort {
+                requested: duration,
+                minimum: self.duration,
+            });
+        }
+        if duration <= self.duration {
+            return Ok(*self);
+        }
+        if !duration.is_finite() {
+            return Err(ProfileError::StretchUnreachable {
+                requested: duration,
+            });
+        }
+        let parts = if self.parts.start_velocity == 0.0 && self.parts.end_velocity == 0.0 {
+            rest_to_rest_scaled(&self.parts, self.duration, duration)
+        } else {
+            match self.shape {
+                ProfileShape::Trapezoid => {
+                    trapezoid::stretch(self.distance, &self.parts, duration, &self.limits)
+                }
+                ProfileShape::DoubleS => {
+                    double_s::stretch(self.distance, &self.parts, duration, &self.limits)
+                }
+            }?
+        };
+        let mut stretched = Self::build(
+            self.shape,
+            &self.joint_move,
+            &self.limits,
+            self.sign,
+            self.distance,
+            parts,
+        );
+        stretched.duration = duration;
+        Ok(stretched)
+    }
+
+    /// Duration, s.
+    pub fn duration(&self) -> f64 {
+        self.duration
+    }
+
+    /// The method that made this profile.
+    pub fn shape(&self) -> ProfileShape {
+        self.shape
+    }
+
+    /// The move this profile makes.
+    pub fn joint_move(&self) -> &JointMove {
+        &self.joint_move
+    }
+
+    /// The limits this profile respects.
+    pub fn limits(&self) -> &JointLimits {
+        &self.limits
+    }
+
+    /// Peak velocity (the cruise velocity), rad/s, signed in the direction of the joint's axis.
+    pub fn peak_velocity(&self) -> f64 {
+        self.sign * self.parts.peak_velocity
+    }
+
+    /// Durations of the parts, in s, with the names of Biagiotti & Melchiorri 2008, ch. 3.
+    pub fn times(&self) -> ProfileTimes {
+        ProfileTimes {
+            start_ramp: self.parts.first.ramp,
+            start_change: self.parts.first.duration,
+            cruise: self.parts.cruise,
+            end_change: self.parts.last.duration,
+            end_ramp: self.parts.last.ramp,
+        }
+    }
+
+    /// Position, velocity, acceleration and jerk at time `t` (s from the start of the move),
+    /// clamped to `[0, duration]`. A NaN time gives the start state.
+    #[inline]
+    pub fn state_at(&self, t: f64) -> JointState {
+        if t <= 0.0 || t.is_nan() {
+            return JointState {
+                position: self.joint_move.from,
+                velocity: self.joint_move.from_velocity,
+                acceleration: 0.0,
+                jerk: 0.0,
+            };
+        }
+        if t >= self.duration {
+            return JointState {
+                position: self.joint_move.to,
+                velocity: self.joint_move.to_velocity,
+                acceleration: 0.0,
+                jerk: 0.0,
+            };
+        }
+        let mut index = 6;
+        while index > 0 && self.phases[index].start > t {
+            index -= 1;
+        }
+        self.phases[index].state(t)
+    }
+
+    /// Position at time `t` (s), rad; see [`Profile::state_at`].
+    #[inline]
+    pub fn position_at(&self, t: f64) -> f64 {
+        self.state_at(t).position
+    }
+
+    /// Builds the phases from the three parts in the non-negative frame. The first half is
+    /// integrated forward from the start state and the last half backward from the end state,
+    /// so that both ends are exact.
+    fn build(
+        shape: ProfileShape,
+        joint_move: &JointMove,
+        limits: &JointLimits,
+        sign: f64,
+        distance: f64,
+        parts: ThreePart,
+    ) -> Self {
+        let up_first = if parts.peak_velocity >= parts.start_velocity {
+            1.0
+        } else {
+            -1.0
+        };
+        let down_last = if parts.peak_velocity >= parts.end_velocity {
+            1.0
+        } else {
+            -1.0
+        };
+        let first = parts.first;
+        let last = parts.last;
+        let constant = |change: &VelocityChange| (change.duration - 2.0 * change.ramp).max(0.0);
+        // (duration, acceleration at the phase start, jerk), in the non-negative frame.
+        let specs: [(f64, f64, f64); 7] = [
+            (first.ramp, 0.0, up_first * first.jerk),
+            (constant(&first), up_first * first.peak_acceleration, 0.0),
+            (
+                first.ramp,
+                up_first * first.peak_acceleration,
+                -up_first * first.jerk,
+            ),
+            (parts.cruise, 0.0, 0.0),
+            (last.ramp, 0.0, -down_last * last.jerk),
+            (constant(&last), -down_last * last.peak_acceleration, 0.0),
+            (
+                last.ramp,
+                -down_last * last.peak_acceleration,
+                down_last * last.jerk,
+            ),
+        ];
+        let mut phases = [Phase::default(); 7];
+        let mut time = 0.0;
+        let mut position = 0.0;
+        let mut velocity = parts.start_velocity;
+        for (phase, &(d, acceleration, jerk)) in phases.iter_mut().zip(specs.iter()).take(4) {
+            let jerk = if d > 0.0 { jerk } else { 0.0 };
+            *phase = Phase {
+                start: time,
+                position,
+                velocity,
+                acceleration,
+                jerk,
+            };
+            position += d * (velocity + d * (0.5 * acceleration + d * jerk / 6.0));
+            velocity += d * (acceleration + 0.5 * d * jerk);
+            time += d;
+        }
+        for (phase, &(d, _, _)) in phases.iter_mut().zip(specs.iter()).skip(4) {
+            phase.start = time;
+            time += d;
+        }
+        let duration = time;
+        let mut position = distance;
+        let mut velocity = parts.end_velocity;
+        for index in (4..7).rev() {
+            let (d, acceleration, jerk) = specs[index];
+            let jerk = if d > 0.0 { jerk } else { 0.0 };
+            velocity -= d * (acceleration + 0.5 * d * jerk);
+            position -= d * (velocity + d * (0.5 * acceleration + d * jerk / 6.0));
+            let phase = &mut phases[index];
+            phase.position = position;
+            phase.velocity = velocity;
+            phase.acceleration = acceleration;
+            phase.jerk = jerk;
+        }
+        for phase in &mut phases {
+            phase.position = joint_move.from + sign * phase.position;
+            phase.velocity *= sign;
+            phase.acceleration *= sign;
+            phase.jerk *= sign;
+        }
+        Self {
+            shape,
+            joint_move: *joint_move,
+            limits: *limits,
+            sign,
+            distance,
+            parts,
+            duration,
+            phases,
+        }
+    }
+}
+
+/// The frame where the displacement is not negative: (sign, distance, v0, v1).
+fn frame(joint_move: &JointMove) -> (f64, f64, f64, f64) {
+    let displacement = joint_move.to - joint_move.from;
+    let sign = if displacement < 0.0 { -1.0 } else { 1.0 };
+    (
+        sign,
+        displacement.abs(),
+        sign * joint_move.from_velocity,
+        sign * joint_move.to_velocity,
+    )
+}
+
+/// A rest-to-rest profile slowed uniformly in time from `from_duration` to `to_duration`.
+fn rest_to_rest_scaled(parts: &ThreePart, from_duration: f64, to_duration: f64) -> ThreePart {
+    if from_duration <= 0.0 {
+        // A zero-length move: stay at rest.
+        return ThreePart {
+            cruise: to_duration,
+            ..*parts
+        };
+    }
+    let factor = to_duration / from_duration;
+    ThreePart {
+        start_velocity: 0.0,
+        peak_velocity: parts.peak_velocity / factor,
+        end_velocity: 0.0,
+        first: parts.first.time_scaled(factor),
+        cruise: parts.cruise * factor,
+        last: parts.last.time_scaled(factor),
+    }
+}

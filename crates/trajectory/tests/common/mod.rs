@@ -1,0 +1,131 @@
+//! Shared helpers for the integration tests: a seeded generator and the reference library.
+#![allow(dead_code)]
+
+use rsruckig::prelude::*;
+
+/// Small deterministic generator (xorshift64*), so every run checks the same cases.
+pub struct Seeded(u64);
+
+impl Seeded {
+    /// A generator from `seed`.
+    pub fn new(seed: u64) -> Self {
+        Self(seed | 1)
+    }
+
+    /// Uniform in `[low, high)`.
+    pub fn uniform(&mut self, low: f64, high: f64) -> f64 {
+        let mut x = self.0;
+        x ^= x >> 12;
+        x ^= x << 25;
+        x ^= x >> 27;
+        self.0 = x;
+        let unit = (x.wrapping_mul(0x2545_F491_4F6C_DD1D) >> 11) as f64 / (1u64 << 53) as f64;
+        low + unit * (high - low)
+    }
+
+    /// Log-uniform in `[low, high)`, for quantities spanning decades.
+    pub fn log_uniform(&mut self, low: f64, high: f64) -> f64 {
+        self.uniform(low.ln(), high.ln()).exp()
+    }
+}
+
+/// One joint for the reference library: start, end, start/end velocity, vmax, amax, jmax.
+#[derive(Debug, Clone, Copy)]
+pub struct ReferenceJoint {
+    pub from: f64,
+    pub to: f64,
+    pub from_velocity: f64,
+    pub to_velocity: f64,
+    pub velocity: f64,
+    pub acceleration: f64,
+    pub jerk: f64,
+}
+
+/// Synchronised duration (s) of the reference library (`rsruckig`, a Rust port of the
+/// time-optimal jerk-limited generator of Berscheid & Kröger, RSS 2021) for `N` joints, with
+/// zero boundary accelerations. `None` when it reports an error.
+pub fn reference_duration<const N: usize>(joints: &[ReferenceJoint; N]) -> Option<f64> {
+    let mut otg = Ruckig::<N, ThrowErrorHandler>::new(None, 0.001);
+    let mut input = InputParameter::<N>::new(None);
+    for (index, joint) in joints.iter().enumerate() {
+        input.current_position[index] = joint.from;
+        input.target_position[index] = joint.to;
+        input.current_velocity[index] = joint.from_velocity;
+        input.target_velocity[index] = joint.to_velocity;
+        input.max_velocity[index] = joint.velocity;
+        input.max_acceleration[index] = joint.acceleration;
+        input.max_jerk[index] = joint.jerk;
+    }
+    let mut trajectory = Trajectory::<N>::new(None);
+    otg.calculate(&input, &mut trajectory).ok()?;
+    Some(trajectory.get_duration())
+}
+
+use armwright_trajectory::{Profile, ProfileShape};
+
+/// Sampling step of the limit and continuity checks: 10 kHz.
+pub const SAMPLE_STEP: f64 = 1e-4;
+
+/// Samples `profile` at 10 kHz and checks that no limit is exceeded (relative tolerance
+/// 1e-9), that position and velocity (and, for the double-S, acceleration) are continuous —
+/// no change between samples larger than the limit of its derivative allows — and that both
+/// ends are exact. Returns what failed.
+pub fn check_sampled(profile: &Profile) -> Result<(), String> {
+    let limits = *profile.limits();
+    let joint_move = *profile.joint_move();
+    let duration = profile.duration();
+    let slack = |limit: f64| limit * (1.0 + 1e-9) + 1e-12;
+    let double_s = profile.shape() == ProfileShape::DoubleS;
+    let steps = (duration / SAMPLE_STEP).ceil() as usize;
+    let mut previous = profile.state_at(0.0);
+    let mut previous_t = 0.0;
+    for k in 0..=steps + 1 {
+        let t = (k as f64 * SAMPLE_STEP).min(duration);
+        let state = profile.state_at(t);
+        if state.velocity.abs() > slack(limits.velocity) {
+            return Err(format!("velocity {} at t = {t}", state.velocity));
+        }
+        if state.acceleration.abs() > slack(limits.acceleration) {
+            return Err(format!("acceleration {} at t = {t}", state.acceleration));
+        }
+        if double_s && state.jerk.abs() > slack(limits.jerk) {
+            return Err(format!("jerk {} at t = {t}", state.jerk));
+        }
+        let dt = t - previous_t;
+        if (state.position - previous.position).abs() > slack(limits.velocity) * dt + 1e-12 {
+            return Err(format!("position jumps near t = {t}"));
+        }
+        if (state.velocity - previous.velocity).abs() > slack(limits.acceleration) * dt + 1e-12 {
+            return Err(format!("velocity jumps near t = {t}"));
+        }
+        if double_s
+            && (state.acceleration - previous.acceleration).abs() > slack(limits.jerk) * dt + 1e-9
+        {
+            return Err(format!("acceleration jumps near t = {t}"));
+        }
+        previous = state;
+        previous_t = t;
+    }
+    let start = profile.state_at(0.0);
+    let end = profile.state_at(duration);
+    if start.position != joint_move.from || start.velocity != joint_move.from_velocity {
+        return Err(format!("start state {start:?} is not the move's start"));
+    }
+    if end.position != joint_move.to || end.velocity != joint_move.to_velocity {
+        return Err(format!("end state {end:?} is not the move's end"));
+    }
+    let just_before = profile.state_at(duration * (1.0 - 1e-12));
+    if (just_before.position - joint_move.to).abs() > 1e-9 * (1.0 + joint_move.to.abs()) {
+        return Err(format!(
+            "position just before the end is {}, not {}",
+            just_before.position, joint_move.to
+        ));
+    }
+    if (just_before.velocity - joint_move.to_velocity).abs() > 1e-7 * (1.0 + limits.velocity) {
+        return Err(format!(
+            "velocity just before the end is {}, not {}",
+            just_before.velocity, joint_move.to_velocity
+        ));
+    }
+    Ok(())
+}
