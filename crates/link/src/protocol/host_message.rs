@@ -1,0 +1,179 @@
+//! Host → device lines (`PROTOCOL.md` §3): types, encoder and parser side by side.
+
+use super::line::{ChannelValues, LineBuf, LineErrorKind, ParseLineError, check_line};
+
+/// What the host asks of the device.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum HostMessage {
+    /// `h`: asks the device to describe itself; carries the host's protocol version.
+    Greeting {
+        /// Protocol version the host speaks (1).
+        protocol_version: u8,
+    },
+    /// `s`: every channel's pulse width, in the device's pulse units, channel 0 first.
+    Setpoint(ChannelValues),
+    /// `k`: keep sending the current pulses.
+    Hold,
+    /// `l`: stop sending pulses; the servos go limp and an unbalanced arm falls.
+    Release,
+    /// `x`: emergency stop; holds the pulses and latches until [`HostMessage::Reset`].
+    EmergencyStop,
+    /// `c`: clears the emergency-stop latch and the sticky faults.
+    Reset,
+    /// `b`: keeps the link alive and asks for a status line.
+    Heartbeat,
+}
+
+impl HostMessage {
+    /// The kind letter on the wire.
+    pub fn kind_letter(&self) -> u8 {
+        match self {
+            Self::Greeting { .. } => b'h',
+            Self::Setpoint(_) => b's',
+            Self::Hold => b'k',
+            Self::Release => b'l',
+            Self::EmergencyStop => b'x',
+            Self::Reset => b'c',
+            Self::Heartbeat => b'b',
+        }
+    }
+}
+
+/// One host → device line: a sequence number and a message.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct HostLine {
+    /// The host's sequence number for this line (wraps at 256).
+    pub seq: u8,
+    /// What the line says.
+    pub message: HostMessage,
+}
+
+impl HostLine {
+    /// The line on the wire, with its check digits and line feed.
+    ///
+    /// # Example
+    /// ```
+    /// use armwright_link::{HostLine, HostMessage};
+    /// let line = HostLine { seq: 5, message: HostMessage::EmergencyStop };
+    /// assert_eq!(line.encode().as_str(), "x05/DE56\n");
+    /// ```
+    pub fn encode(&self) -> LineBuf {
+        let mut line = LineBuf::new();
+        line.push(self.message.kind_letter());
+        line.push_hex(u16::from(self.seq), 2);
+        match &self.message {
+            HostMessage::Greeting { protocol_version } => {
+                line.push(b':');
+                line.push_decimal(u16::from(*protocol_version));
+            }
+            HostMessage::Setpoint(values) => {
+                line.push(b':');
+                for &value in values.as_slice() {
+                    line.push_hex(value, 4);
+                }
+            }
+            HostMessage::Hold
+            | HostMessage::Release
+            | HostMessage::EmergencyStop
+            | HostMessage::Reset
+            | HostMessage::Heartbeat => {}
+        }
+        line.finish()
+    }
+
+    /// Parses one host → device line, with or without its line feed.
+    ///
+    /// # Errors
+    /// A [`ParseLineError`] naming what was expected and where, for any line that fails the
+    /// checks of `PROTOCOL.md` §2.
+    pub fn parse(raw: &[u8]) -> Result<Self, ParseLineError> {
+        let checked = check_line(raw)?;
+        let mut body = checked.body;
+        let message = match checked.kind {
+            b'h' => {
+                let version = body.decimal("protocol version", 1, 255)? as u8;
+                HostMessage::Greeting {
+                    protocol_version: version,
+                }
+            }
+            b's' => HostMessage::Setpoint(body.hex_values(4)?),
+            b'k' => HostMessage::Hold,
+            b'l' => HostMessage::Release,
+            b'x' => HostMessage::EmergencyStop,
+            b'c' => HostMessage::Reset,
+            b'b' => HostMessage::Heartbeat,
+            kind => {
+                return Err(ParseLineError::new(
+                    LineErrorKind::UnknownKind { kind },
+                    0,
+                    raw,
+                ));
+            }
+        };
+        body.end()?;
+        Ok(Self {
+            seq: checked.seq,
+            message,
+        })
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn parse(text: &str) -> Result<HostLine, ParseLineError> {
+        HostLine::parse(text.as_bytes())
+    }
+
+    #[test]
+    fn setpoint_round_trips() {
+        let values = ChannelValues::from_slice(&[1500, 1000, 2000, 1234, 900, 2100]);
+        let line = HostLine {
+            seq: 0x2A,
+            message: HostMessage::Setpoint(values.expect("six values")),
+        };
+        assert_eq!(parse(line.encode().as_str()), Ok(line));
+    }
+
+    #[test]
+    fn a_body_on_a_bodiless_kind_is_refused() {
+        // "k03:1" with a correct check: the body is not allowed for hold.
+        let mut line = LineBuf::new();
+        line.push_str(b"k03:1");
+        let error = parse(line.finish().as_str()).expect_err("body on hold");
+        assert_eq!(error.kind, LineErrorKind::TrailingText);
+        assert_eq!(error.column, 4);
+    }
+
+    #[test]
+    fn device_kinds_are_unknown_to_the_device() {
+        let mut line = LineBuf::new();
+        line.push_str(b"S03");
+        let error = parse(line.finish().as_str()).expect_err("upper case is device to host");
+        assert_eq!(error.kind, LineErrorKind::UnknownKind { kind: b'S' });
+    }
+
+    #[test]
+    fn lower_case_hex_is_refused() {
+        let mut line = LineBuf::new();
+        line.push_str(b"s01:05dc");
+        let error = parse(line.finish().as_str()).expect_err("lower-case hex");
+        assert_eq!(error.kind, LineErrorKind::ExpectedHex { digits: 4 });
+        assert_eq!(error.column, 4);
+    }
+
+    #[test]
+    fn too_many_channels_are_refused() {
+        let mut line = LineBuf::new();
+        line.push_str(b"s01:");
+        for _ in 0..9 {
+            line.push_str(b"05DC");
+        }
+        let error = parse(line.finish().as_str()).expect_err("nine channels");
+        assert_eq!(
+            error.kind,
+            LineErrorKind::BadValueCount { len: 36, width: 4 }
+        );
+    }
+}
