@@ -8,9 +8,11 @@
 #![warn(missing_docs)]
 
 mod protocol; // line protocol: encoder and parser for both directions, CRC, line assembly
+mod sim_device; // in-process simulated device with watchdog, clamping and stop latch
 
 pub use crate::protocol::{
     Ack, AckOutcome, Assembled, ChannelValues, DeviceInfo, DeviceLine, DeviceMessage, DeviceMode,
     DeviceStatus, Faults, FirmwareVersion, HostLine, HostMessage, LineAssembler, LineBuf,
     LineErrorKind, MAX_CHANNELS, MAX_LINE_LEN, PROTOCOL_VERSION, ParseLineError, crc16_ccitt_false,
 };
+pub use crate::sim_device::{SimDevice, SimDeviceConfig};

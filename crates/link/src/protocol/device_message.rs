@@ -36,6 +36,15 @@ impl FirmwareVersion {
     }
 }
 
+impl Default for FirmwareVersion {
+    /// The version `0`.
+    fn default() -> Self {
+        let mut bytes = [0u8; 12];
+        bytes[0] = b'0';
+        Self { bytes, len: 1 }
+    }
+}
+
 impl fmt::Debug for FirmwareVersion {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         write!(f, "{:?}", self.as_str())

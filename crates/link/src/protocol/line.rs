@@ -203,7 +203,7 @@ pub enum Assembled<'a> {
 
 /// Cuts a byte stream into lines of at most 64 bytes, discarding overlong ones up to their
 /// line feed (`PROTOCOL.md` §1). Works byte by byte, without allocating.
-#[derive(Clone)]
+#[derive(Debug, Clone)]
 pub struct LineAssembler {
     bytes: [u8; MAX_LINE_LEN],
     len: usize,

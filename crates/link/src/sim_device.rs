@@ -1,0 +1,393 @@
+//! The simulated device: the protocol of `PROTOCOL.md` as the reference firmware speaks it,
+//! in process, driven by a clock the caller passes in, so tests are deterministic.
+
+use std::collections::VecDeque;
+use std::time::Duration;
+
+use crate::protocol::{
+    Ack, AckOutcome, Assembled, ChannelValues, DeviceInfo, DeviceLine, DeviceMessage, DeviceMode,
+    DeviceStatus, Faults, FirmwareVersion, HostLine, HostMessage, LineAssembler, LineBuf,
+    PROTOCOL_VERSION,
+};
+
+/// How a simulated device is built: what it announces and its timing.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct SimDeviceConfig {
+    /// Number of pulse channels, 1 to 8.
+    pub channel_count: u8,
+    /// Pulse unit in nanoseconds (1000 = 1 µs).
+    pub pulse_unit_ns: u16,
+    /// Lowest accepted pulse width, in pulse units.
+    pub min_pulse_units: u16,
+    /// Highest accepted pulse width, in pulse units.
+    pub max_pulse_units: u16,
+    /// Pulse frame period.
+    pub frame_period: Duration,
+    /// Silence after which a driving device holds (250 ms in the protocol).
+    pub watchdog: Duration,
+    /// Lines the input queue holds.
+    pub queue_capacity: u8,
+}
+
+impl Default for SimDeviceConfig {
+    /// Seven channels (six joints and the gripper), 1 µs units, 500–2500 µs, a 20 ms
+    /// frame, a 250 ms watchdog and a 4-line input queue.
+    fn default() -> Self {
+        Self {
+            channel_count: 7,
+            pulse_unit_ns: 1000,
+            min_pulse_units: 500,
+            max_pulse_units: 2500,
+            frame_period: Duration::from_millis(20),
+            watchdog: Duration::from_millis(250),
+            queue_capacity: 4,
+        }
+    }
+}
+
+/// A servo-pulse device simulated in process.
+///
+/// Feed it host bytes with [`SimDevice::receive`], move its clock with
+/// [`SimDevice::advance`] and collect its answer with [`SimDevice::take_output`]. Times are
+/// durations since power-up; they must not go backwards (an earlier time is treated as the
+/// latest one seen).
+#[derive(Debug, Clone)]
+pub struct SimDevice {
+    config: SimDeviceConfig,
+    info: DeviceInfo,
+    assembler: LineAssembler,
+    queue: VecDeque<(HostLine, Duration)>,
+    output: VecDeque<u8>,
+    seq: u8,
+    mode: DeviceMode,
+    status: DeviceStatus,
+    /// The newest accepted setpoint, started at the next frame.
+    next_pulses: Option<ChannelValues>,
+    /// What the device sends now; `None` while limp.
+    pulses: Option<ChannelValues>,
+    last_good_line: Duration,
+    next_frame: Duration,
+    frames: u64,
+    status_pending: bool,
+    last_status: Option<Duration>,
+    now: Duration,
+}
+
+impl SimDevice {
+    /// A device at power-up (time zero): limp, with its greeting waiting in the output.
+    pub fn new(config: SimDeviceConfig) -> Self {
+        let info = DeviceInfo {
+            protocol_version: PROTOCOL_VERSION,
+            firmware: FirmwareVersion::new("sim-0.1.0").unwrap_or_default(),
+            channel_count: config.channel_count.clamp(1, 8),
+            pulse_unit_ns: config.pulse_unit_ns.max(1),
+            min_pulse_units: config.min_pulse_units.min(config.max_pulse_units),
+            max_pulse_units: config.max_pulse_units.max(config.min_pulse_units),
+            frame_period_us: u16::try_from(config.frame_period.as_micros()).unwrap_or(u16::MAX),
+        };
+        let mut device = Self {
+            config,
+            info,
+            assembler: LineAssembler::new(),
+            queue: VecDeque::new(),
+            output: VecDeque::new(),
+            seq: 0,
+            mode: DeviceMode::Limp,
+            status: DeviceStatus {
+                mode: DeviceMode::Limp,
+                faults: Faults::default(),
+                bad_checksums: 0,
+                bad_lines: 0,
+                clamped_values: 0,
+                watchdog_trips: 0,
+            },
+            next_pulses: None,
+            pulses: None,
+            last_good_line: Duration::ZERO,
+            next_frame: Duration::ZERO,
+            frames: 0,
+            status_pending: false,
+            last_status: None,
+            now: Duration::ZERO,
+        };
+        device.send(DeviceMessage::Greeting(info));
+        device
+    }
+
+    /// What the device announces in its greeting.
+    pub fn info(&self) -> DeviceInfo {
+        self.info
+    }
+
+    /// Current mode.
+    pub fn mode(&self) -> DeviceMode {
+        self.mode
+    }
+
+    /// Current mode, faults and counters, as a status line would report them.
+    pub fn status(&self) -> DeviceStatus {
+        DeviceStatus {
+            mode: self.mode,
+            ..self.status
+        }
+    }
+
+    /// The pulse widths being sent, in pulse units, channel 0 first; `None` while limp.
+    pub fn pulse_units(&self) -> Option<ChannelValues> {
+        self.pulses
+    }
+
+    /// The pulse widths being sent, in µs, channel 0 first; empty while limp.
+    pub fn pulse_widths_us(&self) -> Vec<f64> {
+        self.pulses
+            .map(|values| {
+                values
+                    .as_slice()
+                    .iter()
+                    .map(|&units| self.info.us_from_units(units))
+                    .collect()
+            })
+            .unwrap_or_default()
+    }
+
+    /// Number of pulse frames started since power-up.
+    pub fn frames_started(&self) -> u64 {
+        self.frames
+    }
+
+    /// Takes host bytes arriving at `now`. Whole lines go to the input queue; an emergency
+    /// stop acts at once, ahead of the queue; bad lines are counted and dropped.
+    pub fn receive(&mut self, bytes: &[u8], now: Duration) {
+        self.now = self.now.max(now);
+        for &byte in bytes {
+            let line = match self.assembler.push(byte) {
+                Assembled::Pending => continue,
+                Assembled::Overlong => {
+                    self.count_bad_line();
+                    continue;
+                }
+                Assembled::Line(line) => HostLine::parse(line),
+            };
+            match line {
+                Err(error) if error.is_checksum_mismatch() => {
+                    self.status.bad_checksums = self.status.bad_checksums.saturating_add(1);
+                    self.flag(Faults::BAD_INPUT);
+                }
+                Err(_) => self.count_bad_line(),
+                Ok(line) if line.message == HostMessage::EmergencyStop => {
+                    self.last_good_line = self.now;
+                    self.latch_stop();
+                    self.acknowledge(line.seq, AckOutcome::Accepted);
+                }
+                Ok(line) if self.queue.len() >= usize::from(self.config.queue_capacity) => {
+                    let _ = line;
+                    self.count_bad_line();
+                    self.flag(Faults::OVERFLOW);
+                }
+                Ok(line) => {
+                    self.last_good_line = self.now;
+                    self.queue.push_back((line, self.now));
+                }
+            }
+        }
+    }
+
+    /// Moves the clock to `now`: acts on queued lines, starts the pulse frames that fall
+    /// due, runs the watchdog and sends a waiting status line (at most one per frame).
+    pub fn advance(&mut self, now: Duration) {
+        self.now = self.now.max(now);
+        while let Some((line, _)) = self.queue.pop_front() {
+            self.act_on(line);
+        }
+        let watchdog_due = self.last_good_line + self.config.watchdog;
+        while self.next_frame <= self.now {
+            let frame_start = self.next_frame;
+            self.check_watchdog(frame_start.max(watchdog_due).min(self.now));
+            if self.mode == DeviceMode::Driving
+                && let Some(next) = self.next_pulses.take()
+            {
+                self.pulses = Some(next);
+            }
+            self.frames += 1;
+            self.next_frame = frame_start + self.config.frame_period;
+        }
+        self.check_watchdog(self.now);
+        self.send_status_if_due();
+    }
+
+    /// Moves the bytes the device has sent into `out`.
+    pub fn take_output(&mut self, out: &mut Vec<u8>) {
+        out.extend(self.output.drain(..));
+    }
+
+    /// Copies up to `buf.len()` sent bytes into `buf`; returns how many.
+    pub fn read_output(&mut self, buf: &mut [u8]) -> usize {
+        let count = buf.len().min(self.output.len());
+        for (slot, byte) in buf.iter_mut().zip(self.output.drain(..count)) {
+            *slot = byte;
+        }
+        count
+    }
+
+    fn check_watchdog(&mut self, at: Duration) {
+        if self.mode == DeviceMode::Driving && at >= self.last_good_line + self.config.watchdog {
+            self.mode = DeviceMode::Keeping;
+            self.next_pulses = None;
+            self.status.watchdog_trips = self.status.watchdog_trips.saturating_add(1);
+            self.flag(Faults::WATCHDOG);
+        }
+    }
+
+    fn act_on(&mut self, line: HostLine) {
+        let stopped = self.mode == DeviceMode::Stopped;
+        let outcome = match line.message {
+            HostMessage::Greeting { .. } => {
+                self.acknowledge(line.seq, AckOutcome::Accepted);
+                self.send(DeviceMessage::Greeting(self.info));
+                return;
+            }
+            HostMessage::Heartbeat => {
+                self.status_pending = true;
+                AckOutcome::Accepted
+            }
+            HostMessage::EmergencyStop => {
+                self.latch_stop();
+                AckOutcome::Accepted
+            }
+            HostMessage::Setpoint(values)
+                if values.len() != usize::from(self.info.channel_count) =>
+            {
+                self.count_bad_line();
+                return;
+            }
+            HostMessage::Setpoint(_) | HostMessage::Hold | HostMessage::Release if stopped => {
+                AckOutcome::Refused
+            }
+            HostMessage::Setpoint(mut values) => {
+                let mut clamped = 0u16;
+                for value in values.as_mut_slice() {
+                    let (limited, was_clamped) = self.info.clamp_units(*value);
+                    *value = limited;
+                    clamped += u16::from(was_clamped);
+                }
+                self.next_pulses = Some(values);
+                self.set_mode(DeviceMode::Driving);
+                if clamped > 0 {
+                    self.status.clamped_values = self.status.clamped_values.saturating_add(clamped);
+                    self.flag(Faults::CLAMPED);
+                    AckOutcome::Clamped
+                } else {
+                    AckOutcome::Accepted
+                }
+            }
+            HostMessage::Hold => {
+                self.next_pulses = None;
+                if self.mode != DeviceMode::Limp {
+                    self.set_mode(DeviceMode::Keeping);
+                }
+                AckOutcome::Accepted
+            }
+            HostMessage::Release => {
+                self.next_pulses = None;
+                self.pulses = None;
+                self.set_mode(DeviceMode::Limp);
+                AckOutcome::Accepted
+            }
+            HostMessage::Reset => {
+                self.status.faults = Faults::default();
+                self.status_pending = true;
+                if matches!(self.mode, DeviceMode::Stopped | DeviceMode::Driving) {
+                    self.next_pulses = None;
+                    self.set_mode(if self.pulses.is_some() {
+                        DeviceMode::Keeping
+                    } else {
+                        DeviceMode::Limp
+                    });
+                }
+                AckOutcome::Accepted
+            }
+        };
+        self.acknowledge(line.seq, outcome);
+    }
+
+    fn latch_stop(&mut self) {
+        self.next_pulses = None;
+        self.set_mode(DeviceMode::Stopped);
+        self.flag(Faults::EMERGENCY_STOP);
+    }
+
+    fn set_mode(&mut self, mode: DeviceMode) {
+        if self.mode != mode {
+            self.mode = mode;
+            self.status_pending = true;
+        }
+    }
+
+    fn flag(&mut self, fault: Faults) {
+        self.status.faults.insert(fault);
+        self.status_pending = true;
+    }
+
+    fn count_bad_line(&mut self) {
+        self.status.bad_lines = self.status.bad_lines.saturating_add(1);
+        self.flag(Faults::BAD_INPUT);
+    }
+
+    fn acknowledge(&mut self, acked_seq: u8, outcome: AckOutcome) {
+        let free = usize::from(self.config.queue_capacity).saturating_sub(self.queue.len());
+        self.send(DeviceMessage::Ack(Ack {
+            acked_seq,
+            room: u8::try_from(free.min(99)).unwrap_or(99),
+            outcome,
+        }));
+        self.send_status_if_due();
+    }
+
+    fn send_status_if_due(&mut self) {
+        let due = self
+            .last_status
+            .is_none_or(|last| self.now >= last + self.config.frame_period);
+        if self.status_pending && due {
+            self.status_pending = false;
+            self.last_status = Some(self.now);
+            if self.mode == DeviceMode::Stopped {
+                self.status.faults.insert(Faults::EMERGENCY_STOP);
+            } else {
+                self.status.faults.remove(Faults::EMERGENCY_STOP);
+            }
+            self.send(DeviceMessage::Status(self.status()));
+        }
+    }
+
+    fn send(&mut self, message: DeviceMessage) {
+        let line: LineBuf = DeviceLine {
+            seq: self.seq,
+            message,
+        }
+        .encode();
+        self.seq = self.seq.wrapping_add(1);
+        self.output.extend(line.as_bytes());
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn power_up_sends_the_greeting_and_stays_limp() {
+        let mut device = SimDevice::new(SimDeviceConfig::default());
+        device.advance(Duration::from_millis(100));
+        let mut out = Vec::new();
+        device.take_output(&mut out);
+        let first = out.split(|&b| b == b'\n').next().unwrap_or_default();
+        assert!(matches!(
+            DeviceLine::parse(first).map(|line| line.message),
+            Ok(DeviceMessage::Greeting(_))
+        ));
+        assert_eq!(device.mode(), DeviceMode::Limp);
+        assert_eq!(device.pulse_units(), None);
+        // Frames start at 0, 20, …, 100 ms.
+        assert_eq!(device.frames_started(), 6);
+    }
+}

@@ -1,0 +1,382 @@
+//! The simulated device against `PROTOCOL.md` §3–5: acknowledgements, frames, clamping,
+//! watchdog, the emergency-stop latch, bad input and flow control, on a simulated clock.
+
+use std::time::Duration;
+
+use armwright_link::{
+    Ack, AckOutcome, ChannelValues, DeviceLine, DeviceMessage, DeviceMode, DeviceStatus, Faults,
+    HostLine, HostMessage, SimDevice, SimDeviceConfig,
+};
+
+/// A device, a clock in ms and the lines the device has sent.
+struct Bench {
+    device: SimDevice,
+    now_ms: u64,
+    seq: u8,
+    heard: Vec<DeviceLine>,
+}
+
+impl Bench {
+    fn new() -> Self {
+        let mut bench = Self {
+            device: SimDevice::new(SimDeviceConfig::default()),
+            now_ms: 0,
+            seq: 0,
+            heard: Vec::new(),
+        };
+        bench.collect();
+        bench.heard.clear();
+        bench
+    }
+
+    fn now(&self) -> Duration {
+        Duration::from_millis(self.now_ms)
+    }
+
+    fn collect(&mut self) {
+        let mut out = Vec::new();
+        self.device.take_output(&mut out);
+        for line in out.split_inclusive(|&b| b == b'\n') {
+            self.heard
+                .push(DeviceLine::parse(line).expect("the device sends only good lines"));
+        }
+    }
+
+    /// Sends one host line (without acting on it yet); returns its sequence number.
+    fn send(&mut self, message: HostMessage) -> u8 {
+        let seq = self.seq;
+        self.seq = self.seq.wrapping_add(1);
+        let line = HostLine { seq, message }.encode();
+        self.raw(line.as_bytes());
+        seq
+    }
+
+    fn raw(&mut self, bytes: &[u8]) {
+        let now = self.now();
+        self.device.receive(bytes, now);
+        self.collect();
+    }
+
+    /// Moves the clock on by `ms` in 1 ms steps.
+    fn wait_ms(&mut self, ms: u64) {
+        for _ in 0..ms {
+            self.now_ms += 1;
+            let now = self.now();
+            self.device.advance(now);
+            self.collect();
+        }
+    }
+
+    fn acks(&self) -> Vec<Ack> {
+        self.heard
+            .iter()
+            .filter_map(|line| match line.message {
+                DeviceMessage::Ack(ack) => Some(ack),
+                _ => None,
+            })
+            .collect()
+    }
+
+    fn last_status(&self) -> Option<DeviceStatus> {
+        self.heard.iter().rev().find_map(|line| match line.message {
+            DeviceMessage::Status(status) => Some(status),
+            _ => None,
+        })
+    }
+}
+
+fn setpoint(units: &[u16]) -> HostMessage {
+    HostMessage::Setpoint(ChannelValues::from_slice(units).expect("1 to 8 values"))
+}
+
+const MID: [u16; 7] = [1500; 7];
+const POSE: [u16; 7] = [1000, 1200, 1400, 1600, 1800, 2000, 2200];
+
+#[test]
+fn greeting_is_answered_with_an_ack_and_the_device_description() {
+    let mut bench = Bench::new();
+    let seq = bench.send(HostMessage::Greeting {
+        protocol_version: 1,
+    });
+    bench.wait_ms(1);
+    assert_eq!(
+        bench.acks(),
+        [Ack {
+            acked_seq: seq,
+            room: 4,
+            outcome: AckOutcome::Accepted
+        }]
+    );
+    let info = bench.heard.iter().find_map(|line| match line.message {
+        DeviceMessage::Greeting(info) => Some(info),
+        _ => None,
+    });
+    let info = info.expect("a greeting");
+    assert_eq!(info.channel_count, 7);
+    assert_eq!(info.frame_period_us, 20_000);
+}
+
+#[test]
+fn a_setpoint_starts_at_the_next_frame() {
+    let mut bench = Bench::new();
+    bench.wait_ms(5);
+    bench.send(setpoint(&POSE));
+    bench.wait_ms(1);
+    assert_eq!(bench.device.mode(), DeviceMode::Driving);
+    assert_eq!(
+        bench.device.pulse_units(),
+        None,
+        "not before the frame at 20 ms"
+    );
+    bench.wait_ms(14);
+    assert_eq!(
+        bench.device.pulse_units().map(|v| v.as_slice().to_vec()),
+        Some(POSE.to_vec())
+    );
+    assert_eq!(bench.device.pulse_widths_us()[6], 2200.0);
+}
+
+#[test]
+fn out_of_range_values_are_clamped_and_flagged() {
+    let mut bench = Bench::new();
+    let seq = bench.send(setpoint(&[100, 1500, 1500, 1500, 1500, 1500, 3000]));
+    bench.wait_ms(20);
+    assert_eq!(bench.acks()[0].acked_seq, seq);
+    assert_eq!(bench.acks()[0].outcome, AckOutcome::Clamped);
+    let pulses = bench.device.pulse_units().expect("driving");
+    assert_eq!(pulses.as_slice()[0], 500);
+    assert_eq!(pulses.as_slice()[6], 2500);
+    let status = bench.last_status().expect("a status after the clamp");
+    assert_eq!(status.clamped_values, 2);
+    assert!(status.faults.contains(Faults::CLAMPED));
+}
+
+#[test]
+fn watchdog_holds_after_250_ms_of_silence_and_reports_it() {
+    let mut bench = Bench::new();
+    bench.send(setpoint(&POSE));
+    bench.wait_ms(100);
+    bench.send(HostMessage::Heartbeat);
+    let last_line_ms = bench.now_ms;
+    let mut tripped_at = None;
+    for _ in 0..400 {
+        bench.wait_ms(1);
+        let status = bench.last_status().expect("status lines flow");
+        if status.faults.contains(Faults::WATCHDOG) {
+            tripped_at = Some(bench.now_ms);
+            assert_eq!(status.mode, DeviceMode::Keeping);
+            assert_eq!(status.watchdog_trips, 1);
+            break;
+        }
+    }
+    let silence_ms = tripped_at.expect("the watchdog trips") - last_line_ms;
+    assert!(
+        (250..=251).contains(&silence_ms),
+        "tripped after {silence_ms} ms"
+    );
+    assert_eq!(
+        bench.device.pulse_units().map(|v| v.as_slice().to_vec()),
+        Some(POSE.to_vec()),
+        "holds, does not go limp"
+    );
+    bench.send(setpoint(&MID));
+    bench.wait_ms(20);
+    assert_eq!(
+        bench.device.mode(),
+        DeviceMode::Driving,
+        "a setpoint resumes driving"
+    );
+}
+
+#[test]
+fn heartbeats_keep_the_watchdog_quiet() {
+    let mut bench = Bench::new();
+    bench.send(setpoint(&POSE));
+    for _ in 0..10 {
+        bench.wait_ms(100);
+        bench.send(HostMessage::Heartbeat);
+    }
+    bench.wait_ms(1);
+    assert_eq!(bench.device.mode(), DeviceMode::Driving);
+    assert_eq!(bench.device.status().watchdog_trips, 0);
+}
+
+#[test]
+fn emergency_stop_overtakes_the_queue_latches_and_needs_a_reset() {
+    let mut bench = Bench::new();
+    bench.send(setpoint(&MID));
+    bench.wait_ms(20);
+    assert_eq!(
+        bench.device.pulse_units().map(|v| v.as_slice()[0]),
+        Some(1500)
+    );
+    // A setpoint and then a stop arrive together; the stop is acted on first.
+    let moved = bench.send(setpoint(&POSE));
+    let stop = bench.send(HostMessage::EmergencyStop);
+    assert_eq!(bench.device.mode(), DeviceMode::Stopped, "acts on arrival");
+    bench.wait_ms(1);
+    let acks = bench.acks();
+    assert_eq!(acks[1].acked_seq, stop);
+    assert_eq!(
+        (acks[2].acked_seq, acks[2].outcome),
+        (moved, AckOutcome::Refused)
+    );
+    bench.wait_ms(100);
+    assert_eq!(
+        bench.device.pulse_units().map(|v| v.as_slice()[0]),
+        Some(1500),
+        "held"
+    );
+    let status = bench.last_status().expect("a status");
+    assert_eq!(status.mode, DeviceMode::Stopped);
+    assert!(status.faults.contains(Faults::EMERGENCY_STOP));
+    // Hold and release are refused too, and the watchdog does not undo the latch.
+    for message in [HostMessage::Hold, HostMessage::Release, setpoint(&POSE)] {
+        bench.send(message);
+        bench.wait_ms(300);
+        assert_eq!(
+            bench.acks().last().map(|a| a.outcome),
+            Some(AckOutcome::Refused)
+        );
+        assert_eq!(bench.device.mode(), DeviceMode::Stopped);
+        assert_eq!(
+            bench.device.pulse_units().map(|v| v.as_slice()[0]),
+            Some(1500)
+        );
+    }
+    // Reset: keeps holding, clears the fault; a new setpoint drives again.
+    bench.send(HostMessage::Reset);
+    bench.wait_ms(20);
+    assert_eq!(bench.device.mode(), DeviceMode::Keeping);
+    assert!(
+        !bench
+            .last_status()
+            .expect("status")
+            .faults
+            .contains(Faults::EMERGENCY_STOP)
+    );
+    bench.send(setpoint(&POSE));
+    bench.wait_ms(20);
+    assert_eq!(
+        bench.device.pulse_units().map(|v| v.as_slice().to_vec()),
+        Some(POSE.to_vec())
+    );
+}
+
+#[test]
+fn release_goes_limp() {
+    let mut bench = Bench::new();
+    bench.send(setpoint(&MID));
+    bench.wait_ms(20);
+    bench.send(HostMessage::Release);
+    bench.wait_ms(1);
+    assert_eq!(bench.device.mode(), DeviceMode::Limp);
+    assert_eq!(bench.device.pulse_units(), None);
+}
+
+#[test]
+fn bad_lines_are_not_acted_on_but_counted_and_reported() {
+    let mut bench = Bench::new();
+    bench.send(setpoint(&MID));
+    bench.wait_ms(20);
+    let before = bench.acks().len();
+    // Bad checksum (last digit changed), truncated line, a setpoint with the wrong channel
+    // count; the unknown kind has its own test below.
+    bench.raw(b"s01:05DC05DC05DC05DC05DC05DC/E8F6\n");
+    bench.raw(b"s01:05DC05DC05DC05DC05DC05DC/E8\n");
+    bench.raw(b"q09/");
+    bench.raw(b"\n"); // completes "q09/" as a truncated line
+    bench.send(setpoint(&[2000; 6]));
+    bench.wait_ms(40);
+    assert_eq!(bench.acks().len(), before, "no bad line is acknowledged");
+    assert_eq!(
+        bench.device.pulse_units().map(|v| v.as_slice()[0]),
+        Some(1500),
+        "not acted on"
+    );
+    let status = bench.last_status().expect("reported");
+    assert_eq!(status.bad_checksums, 1);
+    assert_eq!(status.bad_lines, 3);
+    assert!(status.faults.contains(Faults::BAD_INPUT));
+}
+
+#[test]
+fn unknown_kind_with_a_good_check_is_a_bad_line() {
+    let mut bench = Bench::new();
+    let mut line = b"q09".to_vec();
+    let check = armwright_link::crc16_ccitt_false(&line);
+    line.extend(format!("/{check:04X}\n").bytes());
+    bench.raw(&line);
+    bench.wait_ms(20);
+    assert!(bench.acks().is_empty());
+    assert_eq!(
+        bench.last_status().map(|s| (s.bad_lines, s.bad_checksums)),
+        Some((1, 0))
+    );
+}
+
+#[test]
+fn room_shrinks_as_the_queue_fills_and_overflow_is_flagged() {
+    let mut bench = Bench::new();
+    for _ in 0..6 {
+        bench.send(HostMessage::Heartbeat);
+    }
+    bench.wait_ms(1);
+    let rooms: Vec<u8> = bench.acks().iter().map(|ack| ack.room).collect();
+    assert_eq!(
+        rooms,
+        [1, 2, 3, 4],
+        "4 queued, acked as the queue drains; 2 overflowed"
+    );
+    let status = bench.device.status();
+    assert_eq!(status.bad_lines, 2);
+    assert!(status.faults.contains(Faults::OVERFLOW));
+}
+
+#[test]
+fn status_lines_come_at_most_once_per_frame() {
+    let mut bench = Bench::new();
+    for _ in 0..50 {
+        bench.send(HostMessage::Heartbeat);
+        bench.wait_ms(2);
+    }
+    let statuses = bench
+        .heard
+        .iter()
+        .filter(|line| matches!(line.message, DeviceMessage::Status(_)))
+        .count();
+    // 100 ms → at most 5 full frames plus the first line.
+    assert!((5..=6).contains(&statuses), "{statuses} status lines");
+}
+
+#[test]
+fn random_bytes_do_not_disturb_the_device() {
+    let mut bench = Bench::new();
+    bench.send(setpoint(&MID));
+    bench.wait_ms(20);
+    let mut state = 12_345_u32;
+    let noise: Vec<u8> = (0..5000)
+        .map(|_| {
+            state = state.wrapping_mul(1_103_515_245).wrapping_add(12_345);
+            (state >> 16) as u8
+        })
+        .collect();
+    for chunk in noise.chunks(50) {
+        bench.raw(chunk);
+        bench.wait_ms(1);
+    }
+    bench.raw(b"\n");
+    let frames_before = bench.device.frames_started();
+    bench.send(HostMessage::Heartbeat);
+    bench.wait_ms(40);
+    assert_eq!(
+        bench.device.frames_started(),
+        frames_before + 2,
+        "frames keep coming"
+    );
+    assert!(bench.device.status().bad_lines + bench.device.status().bad_checksums > 0);
+    assert_eq!(
+        bench.device.pulse_units().map(|v| v.as_slice()[3]),
+        Some(1500)
+    );
+}
