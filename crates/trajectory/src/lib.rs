@@ -1,3 +1,4 @@
+//! Velocity profiles, multi-joint synchronisation and input shaping for small servo arms.
 //!
 //! # Conventions
 //!
@@ -9,8 +10,10 @@
 #![warn(missing_docs)]
 
 mod profile; // one joint's move: trapezoid and double-S profiles, evaluation, stretching
+mod sync; // several joints of one move: start and end together, slowest sets the duration
 
 pub use crate::profile::{
     Boundary, JointLimits, JointMove, JointState, LimitKind, Profile, ProfileError, ProfileShape,
     ProfileTimes,
 };
+pub use crate::sync::{MAX_JOINTS, SyncError, SyncedMove, synchronise};

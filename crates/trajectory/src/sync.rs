@@ -1,0 +1,163 @@
+//! Multi-joint synchronisation: every joint of a move starts and ends together.
+//!
+//! The slowest joint sets the duration; every other joint's profile is stretched to that
+//! duration within its own limits ([`Profile::stretched`]). Up to [`MAX_JOINTS`] joints are
+//! held in a fixed array, so planning a move does not allocate.
+
+use crate::profile::{JointLimits, JointMove, JointState, Profile, ProfileError, ProfileShape};
+
+/// The most joints one synchronised move can hold.
+pub const MAX_JOINTS: usize = 8;
+
+/// Why a move could not be synchronised.
+#[derive(Debug, Clone, Copy, PartialEq, thiserror::Error)]
+pub enum SyncError {
+    /// No joints were given.
+    #[error("a move needs at least one joint")]
+    NoJoints,
+    /// More joints than [`MAX_JOINTS`].
+    #[error("a move can hold at most {max} joints, {count} were given")]
+    TooManyJoints {
+        /// Joints given.
+        count: usize,
+        /// The most allowed.
+        max: usize,
+    },
+    /// The lists of moves and limits differ in length.
+    #[error("{moves} joint moves were given with {limits} sets of limits")]
+    LimitCountMismatch {
+        /// Number of joint moves.
+        moves: usize,
+        /// Number of limit sets.
+        limits: usize,
+    },
+    /// One joint's profile could not be made or stretched.
+    #[error("joint {joint}: {source}")]
+    Joint {
+        /// Index of the joint (0-based, in chain order).
+        joint: usize,
+        /// What went wrong.
+        #[source]
+        source: ProfileError,
+    },
+}
+
+/// A move of several joints that start and end together.
+///
+/// Time in s from the start of the move; positions in rad.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct SyncedMove {
+    duration: f64,
+    joint_count: usize,
+    profiles: [Profile; MAX_JOINTS],
+}
+
+/// Plans every joint's part of a move with the given profile shape, all starting and ending
+/// together, as fast as the slowest joint allows.
+///
+/// `moves[i]` and `limits[i]` belong to joint `i`. Each joint's profile respects its own
+/// velocity, acceleration and (for the double-S) jerk limits.
+///
+/// # Errors
+/// [`SyncError::NoJoints`], [`SyncError::TooManyJoints`], [`SyncError::LimitCountMismatch`];
+/// [`SyncError::Joint`] naming the joint whose profile could not be made or stretched.
+///
+/// # Example
+/// ```
+/// use armwright_trajectory::{JointLimits, JointMove, ProfileShape, synchronise};
+/// let limits = [JointLimits::new(2.0, 5.0, 40.0); 2];
+/// let moves = [JointMove::rest_to_rest(0.0, 1.0), JointMove::rest_to_rest(0.5, 0.4)];
+/// let synced = synchronise(ProfileShape::DoubleS, &moves, &limits)?;
+/// assert_eq!(synced.profiles()[1].duration(), synced.duration());
+/// # Ok::<(), armwright_trajectory::SyncError>(())
+/// ```
+pub fn synchronise(
+    shape: ProfileShape,
+    moves: &[JointMove],
+    limits: &[JointLimits],
+) -> Result<SyncedMove, SyncError> {
+    if moves.is_empty() {
+        return Err(SyncError::NoJoints);
+    }
+    if moves.len() > MAX_JOINTS {
+        return Err(SyncError::TooManyJoints {
+            count: moves.len(),
+            max: MAX_JOINTS,
+        });
+    }
+    if moves.len() != limits.len() {
+        return Err(SyncError::LimitCountMismatch {
+            moves: moves.len(),
+            limits: limits.len(),
+        });
+    }
+    let fastest = |joint: usize| {
+        Profile::fastest(shape, &moves[joint], &limits[joint])
+            .map_err(|source| SyncError::Joint { joint, source })
+    };
+    let first = fastest(0)?;
+    let mut profiles = [first; MAX_JOINTS];
+    let mut duration = first.duration();
+    for (joint, profile) in profiles.iter_mut().enumerate().take(moves.len()).skip(1) {
+        *profile = fastest(joint)?;
+        duration = duration.max(profile.duration());
+    }
+    let synced = SyncedMove {
+        duration: 0.0,
+        joint_count: moves.len(),
+        profiles,
+    };
+    synced.stretched(duration)
+}
+
+impl SyncedMove {
+    /// The same move slowed so that every joint takes exactly `duration` s.
+    ///
+    /// # Errors
+    /// [`SyncError::Joint`] when a joint cannot take that long (shorter than its fastest
+    /// profile, or a boundary velocity that cannot be kept at that duration).
+    pub fn stretched(&self, duration: f64) -> Result<Self, SyncError> {
+        let mut profiles = self.profiles;
+        for (joint, profile) in profiles.iter_mut().enumerate().take(self.joint_count) {
+            *profile = profile
+                .stretched(duration)
+                .map_err(|source| SyncError::Joint { joint, source })?;
+        }
+        Ok(Self {
+            duration,
+            joint_count: self.joint_count,
+            profiles,
+        })
+    }
+
+    /// Duration shared by every joint, s.
+    pub fn duration(&self) -> f64 {
+        self.duration
+    }
+
+    /// Number of joints.
+    pub fn joint_count(&self) -> usize {
+        self.joint_count
+    }
+
+    /// Each joint's profile, in joint order.
+    pub fn profiles(&self) -> &[Profile] {
+        &self.profiles[..self.joint_count]
+    }
+
+    /// Writes every joint's state at time `t` (s, clamped to the move) into `states`, as many
+    /// as both hold.
+    pub fn states_at(&self, t: f64, states: &mut [JointState]) {
+        for (state, profile) in states.iter_mut().zip(self.profiles()) {
+            *state = profile.state_at(t);
+        }
+    }
+
+    /// Writes every joint's position at time `t` (s, clamped to the move) into `positions`
+    /// (rad), as many as both hold.
+    pub fn positions_at(&self, t: f64, positions: &mut [f64]) {
+        for (position, profile) in positions.iter_mut().zip(self.profiles()) {
+            *position = profile.position_at(t);
+        }
+    }
+}
