@@ -19,6 +19,30 @@ pub enum KinematicsError {
         /// The bad value.
         value: f64,
     },
+    /// A joint rate or acceleration is NaN or infinite.
+    #[error("joint {joint} {quantity} is not a finite number ({value})")]
+    MotionNotFinite {
+        /// Joint index, 0-based.
+        joint: usize,
+        /// `rate` or `acceleration`.
+        quantity: &'static str,
+        /// The bad value.
+        value: f64,
+    },
+    /// A payload mass is negative or not finite.
+    #[error("payload must be a finite mass of 0 kg or more, got {value} kg")]
+    Payload {
+        /// The bad value, in kg.
+        value: f64,
+    },
+    /// A joint index past the arm's last joint.
+    #[error("joint {joint} does not exist; the arm has {count} joints")]
+    NoSuchJoint {
+        /// The index asked for, 0-based.
+        joint: usize,
+        /// The arm's joint count.
+        count: usize,
+    },
 }
 
 /// Checks a pose for count and finiteness.
@@ -35,5 +59,16 @@ pub(crate) fn check_pose(joint_count: usize, positions: &[f64]) -> Result<(), Ki
             value: positions[joint],
         }),
         None => Ok(()),
+    }
+}
+
+/// Checks a payload mass: finite and not negative, in kg.
+pub(crate) fn check_payload(payload_mass: f64) -> Result<(), KinematicsError> {
+    if payload_mass.is_finite() && payload_mass >= 0.0 {
+        Ok(())
+    } else {
+        Err(KinematicsError::Payload {
+            value: payload_mass,
+        })
     }
 }

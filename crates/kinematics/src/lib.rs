@@ -10,7 +10,9 @@
 mod arm; // the arm model: joints, servos, calibrations, masses, arm types
 mod error; // the error shared by every pose-taking function
 mod fk; // joint positions → link frames and tool-point pose
+mod gravity; // holding torque against gravity, with payload
 mod jacobian; // tool-point and space Jacobians
+mod torque_use; // per-joint efforts and the share of each servo's rating they use
 
 pub use crate::arm::{
     Arm, ArmDescription, ArmError, ArmType, ArticulatedDims, Calibration, ChainDims, DhRow,
@@ -19,4 +21,6 @@ pub use crate::arm::{
 };
 pub use crate::error::KinematicsError;
 pub use crate::fk::{ChainPose, ToolAngles, forward, tool_pose};
+pub use crate::gravity::{STANDARD_GRAVITY, gravity_torques};
 pub use crate::jacobian::{Jacobian, space_jacobian, tool_jacobian};
+pub use crate::torque_use::{JointEfforts, torque_use};
