@@ -62,6 +62,28 @@ pub(crate) fn check_pose(joint_count: usize, positions: &[f64]) -> Result<(), Ki
     }
 }
 
+/// Checks joint rates or accelerations for count and finiteness; `quantity` names them.
+pub(crate) fn check_motion(
+    joint_count: usize,
+    values: &[f64],
+    quantity: &'static str,
+) -> Result<(), KinematicsError> {
+    if values.len() != joint_count {
+        return Err(KinematicsError::WrongJointCount {
+            expected: joint_count,
+            got: values.len(),
+        });
+    }
+    match values.iter().position(|v| !v.is_finite()) {
+        Some(joint) => Err(KinematicsError::MotionNotFinite {
+            joint,
+            quantity,
+            value: values[joint],
+        }),
+        None => Ok(()),
+    }
+}
+
 /// Checks a payload mass: finite and not negative, in kg.
 pub(crate) fn check_payload(payload_mass: f64) -> Result<(), KinematicsError> {
     if payload_mass.is_finite() && payload_mass >= 0.0 {

@@ -8,6 +8,7 @@
 #![warn(missing_docs)]
 
 mod arm; // the arm model: joints, servos, calibrations, masses, arm types
+mod dynamics; // recursive Newton–Euler inverse dynamics and the inertia each joint sees
 mod error; // the error shared by every pose-taking function
 mod fk; // joint positions → link frames and tool-point pose
 mod gravity; // holding torque against gravity, with payload
@@ -19,6 +20,7 @@ pub use crate::arm::{
     Gripper, Joint, JointKind, JointPlacement, JointSpec, MAX_JOINTS, MassProperties,
     PulseDirection, ScaraDims, ServoSpec,
 };
+pub use crate::dynamics::{inverse_dynamics, joint_inertia};
 pub use crate::error::KinematicsError;
 pub use crate::fk::{ChainPose, ToolAngles, forward, tool_pose};
 pub use crate::gravity::{STANDARD_GRAVITY, gravity_torques};
