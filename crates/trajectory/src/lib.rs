@@ -1,4 +1,5 @@
-//! Velocity profiles, multi-joint synchronisation and input shaping for small servo arms.
+//! Velocity profiles, multi-joint synchronisation, input shaping and second-order response
+//! estimates for small servo arms.
 //!
 //! # Conventions
 //!
@@ -10,10 +11,14 @@
 #![warn(missing_docs)]
 
 mod profile; // one joint's move: trapezoid and double-S profiles, evaluation, stretching
+mod second_order; // linear second-order response: overshoot, settling time, damped frequency
+mod shaping; // ZV and ZVD input shapers and shaped profiles
 mod sync; // several joints of one move: start and end together, slowest sets the duration
 
 pub use crate::profile::{
     Boundary, JointLimits, JointMove, JointState, LimitKind, Profile, ProfileError, ProfileShape,
     ProfileTimes,
 };
+pub use crate::second_order::{SecondOrder, VibrationError};
+pub use crate::shaping::{Impulse, ShapedProfile, Shaper, ShaperKind};
 pub use crate::sync::{MAX_JOINTS, SyncError, SyncedMove, synchronise};

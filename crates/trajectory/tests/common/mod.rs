@@ -129,3 +129,67 @@ pub fn check_sampled(profile: &Profile) -> Result<(), String> {
     }
     Ok(())
 }
+
+/// A linear second-order plant `x'' + 2ζωₙ x' + ωₙ² x = ωₙ² u`, integrated with the classical
+/// fourth-order Runge–Kutta method: an integration independent of the closed forms under test.
+#[derive(Debug, Clone, Copy)]
+pub struct Plant {
+    pub natural_frequency: f64,
+    pub damping_ratio: f64,
+    pub position: f64,
+    pub velocity: f64,
+}
+
+impl Plant {
+    /// At rest at zero.
+    pub fn at_rest(natural_frequency: f64, damping_ratio: f64) -> Self {
+        Self {
+            natural_frequency,
+            damping_ratio,
+            position: 0.0,
+            velocity: 0.0,
+        }
+    }
+
+    fn derivative(&self, x: f64, v: f64, u: f64) -> (f64, f64) {
+        let w = self.natural_frequency;
+        (v, w * w * (u - x) - 2.0 * self.damping_ratio * w * v)
+    }
+
+    /// One RK4 step of length `dt` (s) with input `input(t)` starting at time `t`.
+    pub fn step(&mut self, t: f64, dt: f64, input: &impl Fn(f64) -> f64) {
+        let (x, v) = (self.position, self.velocity);
+        let k1 = self.derivative(x, v, input(t));
+        let k2 = self.derivative(
+            x + 0.5 * dt * k1.0,
+            v + 0.5 * dt * k1.1,
+            input(t + 0.5 * dt),
+        );
+        let k3 = self.derivative(
+            x + 0.5 * dt * k2.0,
+            v + 0.5 * dt * k2.1,
+            input(t + 0.5 * dt),
+        );
+        let k4 = self.derivative(x + dt * k3.0, v + dt * k3.1, input(t + dt));
+        self.position += dt / 6.0 * (k1.0 + 2.0 * k2.0 + 2.0 * k3.0 + k4.0);
+        self.velocity += dt / 6.0 * (k1.1 + 2.0 * k2.1 + 2.0 * k3.1 + k4.1);
+    }
+
+    /// Runs from `t0` to `t1` (s) in `steps` equal steps with input `input(t)`.
+    pub fn run(&mut self, t0: f64, t1: f64, steps: usize, input: &impl Fn(f64) -> f64) {
+        let dt = (t1 - t0) / steps as f64;
+        for k in 0..steps {
+            self.step(t0 + k as f64 * dt, dt, input);
+        }
+    }
+
+    /// Amplitude of the free oscillation about the rest point `target` (same unit as
+    /// position), from the present state: for x − target = e, √(e² + ((e' + ζωₙe)/ω_d)²).
+    pub fn vibration_about(&self, target: f64) -> f64 {
+        let w = self.natural_frequency;
+        let zeta = self.damping_ratio;
+        let damped = w * (1.0 - zeta * zeta).sqrt();
+        let e = self.position - target;
+        e.hypot((self.velocity + zeta * w * e) / damped)
+    }
+}
