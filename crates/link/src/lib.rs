@@ -1,18 +1,32 @@
-//! Armwright's link to a servo-pulse device: our own line protocol (`PROTOCOL.md`), its
-//! encoder and parser.
+//! Armwright's link to a servo-pulse device: our own line protocol (`PROTOCOL.md`), a
+//! streaming thread with deadline timing and an emergency stop, serial-port discovery and
+//! a simulated device.
 //!
 //! Conventions: pulse widths on the wire are integers in the device's pulse unit (announced
 //! in its greeting, 1 µs by default); a number in µs or ns says so in its name
-//! (`pulse_us`, `pulse_unit_ns`). Sequence numbers are `u8` and wrap. Nothing in the
-//! protocol code allocates.
+//! (`pulse_us`, `pulse_unit_ns`); intervals are `Duration`s and deadlines `Instant`s.
+//! Sequence numbers are `u8` and wrap. The protocol code never allocates.
+//!
+//! A software stop is not a safety device: keep a hard power cut-off within reach of
+//! anyone near a powered arm.
 #![warn(missing_docs)]
 
+mod error; // LinkError and the reasons a link is lost
+mod estop; // emergency-stop request handle and the reset confirmation
+mod port; // transports (serial port, pty, simulated device) and port discovery
 mod protocol; // line protocol: encoder and parser for both directions, CRC, line assembly
 mod sim_device; // in-process simulated device with watchdog, clamping and stop latch
+mod stream; // streaming thread: schedule, flow control, stop path, link watch, statistics
 
+pub use crate::error::{LinkError, LinkLoss};
+pub use crate::estop::{EmergencyStop, ResetConfirmation};
+#[cfg(unix)]
+pub use crate::port::SimPty;
+pub use crate::port::{PortSummary, SerialTransport, SimTransport, Transport, UsbIds, list_ports};
 pub use crate::protocol::{
     Ack, AckOutcome, Assembled, ChannelValues, DeviceInfo, DeviceLine, DeviceMessage, DeviceMode,
     DeviceStatus, Faults, FirmwareVersion, HostLine, HostMessage, LineAssembler, LineBuf,
     LineErrorKind, MAX_CHANNELS, MAX_LINE_LEN, PROTOCOL_VERSION, ParseLineError, crc16_ccitt_false,
 };
 pub use crate::sim_device::{SimDevice, SimDeviceConfig};
+pub use crate::stream::{Link, LinkEvent, LinkState, StreamOptions, StreamStats};

@@ -150,6 +150,11 @@ impl SimDevice {
             .unwrap_or_default()
     }
 
+    /// The latest time the device has seen, since power-up.
+    pub fn clock(&self) -> Duration {
+        self.now
+    }
+
     /// Number of pulse frames started since power-up.
     pub fn frames_started(&self) -> u64 {
         self.frames

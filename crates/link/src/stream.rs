@@ -1,0 +1,852 @@
+//! The streaming thread: owns the transport, sends setpoints on an absolute-time schedule
+//! with flow control from the acknowledgements, runs the emergency stop ahead of
+//! everything, watches the link, and publishes statistics for the UI.
+
+use std::collections::VecDeque;
+use std::sync::mpsc::{self, Receiver, Sender, SyncSender, TryRecvError};
+use std::sync::{Arc, Mutex, PoisonError};
+use std::thread::JoinHandle;
+use std::time::{Duration, Instant};
+
+use crate::error::{LinkError, LinkLoss};
+use crate::estop::{EmergencyStop, ResetConfirmation};
+use crate::port::Transport;
+use crate::protocol::{
+    AckOutcome, Assembled, ChannelValues, DeviceInfo, DeviceLine, DeviceMessage, DeviceMode,
+    DeviceStatus, HostLine, HostMessage, LineAssembler, PROTOCOL_VERSION,
+};
+
+/// Timing of the link. Every interval is a `Duration`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct StreamOptions {
+    /// Interval between setpoints (10 ms = 100 Hz).
+    pub period: Duration,
+    /// Setpoints the queue between producer and thread holds; a full queue blocks the producer.
+    pub queue_capacity: usize,
+    /// A line not acknowledged within this time means the link is lost.
+    pub ack_timeout: Duration,
+    /// Send a heartbeat when nothing else was sent for this long (the device holds after 250 ms).
+    pub heartbeat_interval: Duration,
+    /// How long [`Link::connect`] waits for the device's greeting.
+    pub greeting_timeout: Duration,
+    /// Interval at which an unacknowledged emergency stop is sent again.
+    pub stop_repeat: Duration,
+    /// A setpoint sent later than its deadline by more than this counts as late.
+    pub late_after: Duration,
+}
+
+impl Default for StreamOptions {
+    /// 100 Hz, a 64-setpoint queue, 60 ms acknowledgement timeout, 100 ms heartbeat,
+    /// 2 s greeting timeout, stop repeated every 20 ms, late after 1 ms.
+    fn default() -> Self {
+        Self {
+            period: Duration::from_millis(10),
+            queue_capacity: 64,
+            ack_timeout: Duration::from_millis(60),
+            heartbeat_interval: Duration::from_millis(100),
+            greeting_timeout: Duration::from_secs(2),
+            stop_repeat: Duration::from_millis(20),
+            late_after: Duration::from_millis(1),
+        }
+    }
+}
+
+/// What the link is doing.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum LinkState {
+    /// Connected, not streaming.
+    #[default]
+    Idle,
+    /// Sending setpoints.
+    Streaming,
+    /// Emergency stop sent, not yet acknowledged; being repeated.
+    Stopping,
+    /// Emergency stop acknowledged; latched until a confirmed reset.
+    Stopped,
+    /// Reset sent after a person confirmed, waiting for its acknowledgement.
+    Resetting,
+    /// The link was lost; see [`StreamStats::loss`].
+    Lost,
+}
+
+/// Streaming state and statistics, as the UI reads them.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct StreamStats {
+    /// What the link is doing.
+    pub state: LinkState,
+    /// Setpoints written to the device.
+    pub frames_sent: u64,
+    /// Setpoints the device acknowledged.
+    pub frames_acked: u64,
+    /// Setpoints the device acknowledged as clamped.
+    pub frames_clamped: u64,
+    /// Setpoints written later than their deadline by more than `late_after`.
+    pub frames_late: u64,
+    /// Queued setpoints dropped by an emergency stop or a lost link.
+    pub frames_dropped: u64,
+    /// Deadlines that came with the queue empty (the producer fell behind).
+    pub underruns: u64,
+    /// Mean of |write time − deadline| over sent setpoints.
+    pub jitter_mean: Duration,
+    /// 99th percentile of |write time − deadline|, to 10 µs.
+    pub jitter_p99: Duration,
+    /// Largest |write time − deadline|.
+    pub jitter_max: Duration,
+    /// Lines from the device that failed to parse.
+    pub bad_device_lines: u64,
+    /// The device's newest status line.
+    pub last_status: Option<DeviceStatus>,
+    /// Why the link was lost, once it is.
+    pub loss: Option<LinkLoss>,
+    /// From the newest emergency-stop request to its first stop line written.
+    pub stop_write_latency: Option<Duration>,
+    /// From the newest emergency-stop request to the device's acknowledgement.
+    pub stop_ack_latency: Option<Duration>,
+}
+
+/// Something that happened on the link, in order.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum LinkEvent {
+    /// The stream ran to its end: every setpoint was sent.
+    StreamFinished {
+        /// Setpoints sent in this stream.
+        frames_sent: u64,
+    },
+    /// The device acknowledged the emergency stop.
+    StopConfirmed {
+        /// Time from the request to the acknowledgement.
+        after: Duration,
+    },
+    /// The device acknowledged the reset; streaming is allowed again.
+    ResetDone,
+    /// The link was lost; streaming stopped.
+    Lost(LinkLoss),
+}
+
+enum Command {
+    Start(Sender<Result<(), LinkError>>),
+    Finish,
+    Send(HostMessage),
+    Reset(Sender<Result<(), LinkError>>),
+}
+
+/// An open link to a device, served by its own streaming thread. Dropping it asks the
+/// device to hold and ends the thread.
+pub struct Link {
+    commands: Option<Sender<Command>>,
+    setpoints: Option<SyncSender<ChannelValues>>,
+    stats: Arc<Mutex<StreamStats>>,
+    events: Receiver<LinkEvent>,
+    stop: EmergencyStop,
+    device: DeviceInfo,
+    thread: Option<JoinHandle<()>>,
+}
+
+impl Link {
+    /// Starts the streaming thread on `transport`, greets the device and waits for its
+    /// description.
+    ///
+    /// # Errors
+    /// [`LinkError::NoGreeting`] when the device does not answer within
+    /// `options.greeting_timeout`, [`LinkError::ProtocolVersion`] when it speaks another
+    /// version, [`LinkError::Lost`] when the transport fails.
+    pub fn connect(
+        transport: Box<dyn Transport>,
+        options: StreamOptions,
+    ) -> Result<Self, LinkError> {
+        let (command_tx, command_rx) = mpsc::channel();
+        let (setpoint_tx, setpoint_rx) = mpsc::sync_channel(options.queue_capacity.max(1));
+        let (event_tx, event_rx) = mpsc::channel();
+        let (greeting_tx, greeting_rx) = mpsc::channel();
+        let stats = Arc::new(Mutex::new(StreamStats::default()));
+        let stop = EmergencyStop::default();
+        let mut worker = Worker {
+            transport,
+            options,
+            commands: command_rx,
+            setpoints: setpoint_rx,
+            shared: Arc::clone(&stats),
+            stop: stop.clone(),
+            events: event_tx,
+            assembler: LineAssembler::new(),
+            seq: 0,
+            in_flight: VecDeque::new(),
+            room: 1,
+            stats: StreamStats::default(),
+            schedule: None,
+            controls: VecDeque::new(),
+            last_sent: Instant::now(),
+            stop_requested_at: None,
+            stop_last_written: None,
+            reset_reply: None,
+            device: None,
+            greeting_requested: false,
+            watchdog_trips_at_start: 0,
+            jitter: Jitter::default(),
+        };
+        let thread = std::thread::Builder::new()
+            .name("armwright-link".to_owned())
+            .spawn(move || worker.run(greeting_tx))
+            .map_err(|_| LinkError::Closed)?;
+        let device = match greeting_rx.recv() {
+            Ok(Ok(device)) => device,
+            Ok(Err(error)) => {
+                let _ = thread.join();
+                return Err(error);
+            }
+            Err(_) => return Err(LinkError::Closed),
+        };
+        Ok(Self {
+            commands: Some(command_tx),
+            setpoints: Some(setpoint_tx),
+            stats,
+            events: event_rx,
+            stop,
+            device,
+            thread: Some(thread),
+        })
+    }
+
+    /// What the device said about itself.
+    pub fn device(&self) -> DeviceInfo {
+        self.device
+    }
+
+    /// A handle for the emergency stop, for key and Ctrl-C handlers.
+    pub fn emergency_stop(&self) -> EmergencyStop {
+        self.stop.clone()
+    }
+
+    /// Streaming state and statistics now.
+    pub fn stats(&self) -> StreamStats {
+        self.stats
+            .lock()
+            .unwrap_or_else(PoisonError::into_inner)
+            .clone()
+    }
+
+    /// The next event, waiting at most `timeout`.
+    pub fn next_event(&self, timeout: Duration) -> Option<LinkEvent> {
+        self.events.recv_timeout(timeout).ok()
+    }
+
+    fn command(&self, command: Command) -> Result<(), LinkError> {
+        self.commands
+            .as_ref()
+            .ok_or(LinkError::Closed)?
+            .send(command)
+            .map_err(|_| LinkError::Closed)
+    }
+
+    /// Starts a stream: the first setpoint pushed goes out at once, each later one a
+    /// period after the one before, on a fixed schedule.
+    ///
+    /// # Errors
+    /// [`LinkError::StopLatched`] after an emergency stop until a confirmed reset,
+    /// [`LinkError::Lost`] after a lost link, [`LinkError::AlreadyStreaming`].
+    pub fn start_stream(&self) -> Result<(), LinkError> {
+        let (reply_tx, reply_rx) = mpsc::channel();
+        self.command(Command::Start(reply_tx))?;
+        reply_rx.recv().map_err(|_| LinkError::Closed)?
+    }
+
+    /// Queues one setpoint (pulse widths in device units, channel 0 first), waiting while
+    /// the queue is full.
+    ///
+    /// # Errors
+    /// [`LinkError::WrongChannelCount`]; [`LinkError::StopLatched`] or [`LinkError::Lost`]
+    /// once the stream has been stopped.
+    pub fn push_setpoint(&self, values: ChannelValues) -> Result<(), LinkError> {
+        let expected = usize::from(self.device.channel_count);
+        if values.len() != expected {
+            return Err(LinkError::WrongChannelCount {
+                expected,
+                got: values.len(),
+            });
+        }
+        self.refuse_unless_streaming()?;
+        self.setpoints
+            .as_ref()
+            .ok_or(LinkError::Closed)?
+            .send(values)
+            .map_err(|_| LinkError::Closed)?;
+        self.refuse_unless_streaming()
+    }
+
+    fn refuse_unless_streaming(&self) -> Result<(), LinkError> {
+        let stats = self.stats();
+        match stats.state {
+            LinkState::Streaming | LinkState::Idle => Ok(()),
+            LinkState::Stopping | LinkState::Stopped | LinkState::Resetting => {
+                Err(LinkError::StopLatched)
+            }
+            LinkState::Lost => Err(LinkError::Lost(
+                stats.loss.unwrap_or(LinkLoss::DeviceRestarted),
+            )),
+        }
+    }
+
+    /// Says no more setpoints will come: the stream finishes when the queue is empty,
+    /// with [`LinkEvent::StreamFinished`].
+    ///
+    /// # Errors
+    /// [`LinkError::Closed`] if the thread has ended.
+    pub fn finish_stream(&self) -> Result<(), LinkError> {
+        self.command(Command::Finish)
+    }
+
+    /// Asks the device to keep its current pulses (the joints stay stiff).
+    ///
+    /// # Errors
+    /// [`LinkError::Closed`] if the thread has ended.
+    pub fn hold(&self) -> Result<(), LinkError> {
+        self.command(Command::Send(HostMessage::Hold))
+    }
+
+    /// Asks the device to stop all pulses. The servos go limp: an unbalanced arm falls.
+    ///
+    /// # Errors
+    /// [`LinkError::Closed`] if the thread has ended.
+    pub fn release(&self) -> Result<(), LinkError> {
+        self.command(Command::Send(HostMessage::Release))
+    }
+
+    /// Clears a latched emergency stop once a person has confirmed the arm is safe, and
+    /// waits for the device's acknowledgement. The device keeps holding; stream again to move.
+    ///
+    /// # Errors
+    /// [`LinkError::StopLatched`] if the stop is not yet acknowledged (or none was sent),
+    /// [`LinkError::Lost`] when the device does not acknowledge the reset.
+    pub fn reset_after_stop(&self, confirmation: ResetConfirmation) -> Result<(), LinkError> {
+        let _ = confirmation;
+        let (reply_tx, reply_rx) = mpsc::channel();
+        self.command(Command::Reset(reply_tx))?;
+        reply_rx.recv().map_err(|_| LinkError::Closed)?
+    }
+}
+
+impl Drop for Link {
+    fn drop(&mut self) {
+        // Closing both channels tells the thread to hold the device and end.
+        self.commands.take();
+        self.setpoints.take();
+        if let Some(thread) = self.thread.take() {
+            let _ = thread.join();
+        }
+    }
+}
+
+/// Histogram of |write time − deadline| in 10 µs bins up to 20 ms, for the percentile.
+struct Jitter {
+    bins: Box<[u32; 2000]>,
+    count: u64,
+    sum_ns: u128,
+    max: Duration,
+}
+
+impl Default for Jitter {
+    fn default() -> Self {
+        Self {
+            bins: Box::new([0; 2000]),
+            count: 0,
+            sum_ns: 0,
+            max: Duration::ZERO,
+        }
+    }
+}
+
+impl Jitter {
+    fn record(&mut self, offset: Duration) {
+        let bin = usize::try_from(offset.as_micros() / 10).unwrap_or(usize::MAX);
+        self.bins[bin.min(self.bins.len() - 1)] += 1;
+        self.count += 1;
+        self.sum_ns += offset.as_nanos();
+        self.max = self.max.max(offset);
+    }
+
+    fn publish(&self, stats: &mut StreamStats) {
+        if self.count == 0 {
+            return;
+        }
+        let mean_ns = self.sum_ns / u128::from(self.count);
+        stats.jitter_mean = Duration::from_nanos(u64::try_from(mean_ns).unwrap_or(u64::MAX));
+        stats.jitter_max = self.max;
+        let wanted = self.count.saturating_mul(99).div_ceil(100);
+        let mut seen = 0u64;
+        for (bin, &count) in self.bins.iter().enumerate() {
+            seen += u64::from(count);
+            if seen >= wanted {
+                stats.jitter_p99 = Duration::from_micros(10 * (bin as u64 + 1));
+                break;
+            }
+        }
+    }
+}
+
+/// A setpoint schedule: deadline k is `start + k × period`, so nothing drifts.
+struct Schedule {
+    start: Option<Instant>,
+    index: u32,
+    finishing: bool,
+    frames_sent: u64,
+}
+
+struct InFlight {
+    seq: u8,
+    sent_at: Instant,
+    message: HostMessage,
+}
+
+struct Worker {
+    transport: Box<dyn Transport>,
+    options: StreamOptions,
+    commands: Receiver<Command>,
+    setpoints: Receiver<ChannelValues>,
+    shared: Arc<Mutex<StreamStats>>,
+    stop: EmergencyStop,
+    events: Sender<LinkEvent>,
+    assembler: LineAssembler,
+    seq: u8,
+    in_flight: VecDeque<InFlight>,
+    room: usize,
+    stats: StreamStats,
+    schedule: Option<Schedule>,
+    controls: VecDeque<HostMessage>,
+    last_sent: Instant,
+    stop_requested_at: Option<Instant>,
+    stop_last_written: Option<Instant>,
+    reset_reply: Option<Sender<Result<(), LinkError>>>,
+    device: Option<DeviceInfo>,
+    greeting_requested: bool,
+    watchdog_trips_at_start: u16,
+    jitter: Jitter,
+}
+
+impl Worker {
+    fn run(&mut self, greeting_reply: Sender<Result<DeviceInfo, LinkError>>) {
+        match self.greet() {
+            Ok(device) => {
+                let _ = greeting_reply.send(Ok(device));
+            }
+            Err(error) => {
+                let _ = greeting_reply.send(Err(error));
+                return;
+            }
+        }
+        while self.step() {}
+        if matches!(self.stats.state, LinkState::Streaming | LinkState::Idle) {
+            // The host is going away: ask the device to keep still rather than wait for
+            // its watchdog.
+            let _ = self.write(HostMessage::Hold, Instant::now());
+        }
+    }
+
+    fn greet(&mut self) -> Result<DeviceInfo, LinkError> {
+        let started = Instant::now();
+        let mut last_greeting: Option<Instant> = None;
+        loop {
+            let now = Instant::now();
+            if now - started > self.options.greeting_timeout {
+                return Err(LinkError::NoGreeting {
+                    waited: self.options.greeting_timeout,
+                });
+            }
+            if last_greeting.is_none_or(|at| now - at >= Duration::from_millis(250)) {
+                self.in_flight.clear();
+                self.write(
+                    HostMessage::Greeting {
+                        protocol_version: PROTOCOL_VERSION,
+                    },
+                    now,
+                )
+                .map_err(LinkError::Lost)?;
+                last_greeting = Some(now);
+            }
+            self.read_lines(Duration::from_millis(5))
+                .map_err(LinkError::Lost)?;
+            if let Some(device) = self.device {
+                if device.protocol_version != PROTOCOL_VERSION {
+                    return Err(LinkError::ProtocolVersion {
+                        device: device.protocol_version,
+                        expected: PROTOCOL_VERSION,
+                    });
+                }
+                self.greeting_requested = false;
+                return Ok(device);
+            }
+        }
+    }
+
+    /// One turn of the loop; `false` when the handle has gone.
+    fn step(&mut self) -> bool {
+        if let Some(requested_at) = self.stop.take_request() {
+            self.emergency_stop(requested_at);
+        }
+        if !self.take_commands() {
+            return false;
+        }
+        let now = Instant::now();
+        self.repeat_stop(now);
+        self.check_acks(now);
+        self.serve_stream(now);
+        self.serve_controls(now);
+        self.publish();
+        let wait = self.wait_budget(Instant::now());
+        if let Err(loss) = self.read_lines(wait) {
+            self.lose(loss);
+        }
+        true
+    }
+
+    fn wait_budget(&self, now: Instant) -> Duration {
+        let tick = Duration::from_millis(1);
+        match self.next_deadline() {
+            Some(deadline) if deadline <= now => Duration::ZERO,
+            Some(deadline) if deadline - now < tick => {
+                // Sleep the last fraction of a millisecond precisely, then read without waiting.
+                std::thread::sleep(deadline - now);
+                Duration::ZERO
+            }
+            _ => tick,
+        }
+    }
+
+    fn next_deadline(&self) -> Option<Instant> {
+        let schedule = self.schedule.as_ref()?;
+        let start = schedule.start?;
+        Some(start + self.options.period * schedule.index)
+    }
+
+    fn take_commands(&mut self) -> bool {
+        loop {
+            match self.commands.try_recv() {
+                Ok(Command::Start(reply)) => {
+                    let _ = reply.send(self.start_stream());
+                }
+                Ok(Command::Finish) => {
+                    if let Some(schedule) = &mut self.schedule {
+                        schedule.finishing = true;
+                    }
+                }
+                Ok(Command::Send(message)) => {
+                    if self.stats.state != LinkState::Lost {
+                        self.controls.push_back(message);
+                    }
+                }
+                Ok(Command::Reset(reply)) => {
+                    if self.stats.state == LinkState::Stopped {
+                        self.stats.state = LinkState::Resetting;
+                        self.controls.push_front(HostMessage::Reset);
+                        self.reset_reply = Some(reply);
+                    } else {
+                        let _ = reply.send(Err(LinkError::StopLatched));
+                    }
+                }
+                Err(TryRecvError::Empty) => return true,
+                Err(TryRecvError::Disconnected) => return false,
+            }
+        }
+    }
+
+    fn start_stream(&mut self) -> Result<(), LinkError> {
+        match self.stats.state {
+            LinkState::Idle => {}
+            LinkState::Streaming => return Err(LinkError::AlreadyStreaming),
+            LinkState::Lost => {
+                return Err(LinkError::Lost(
+                    self.stats.loss.unwrap_or(LinkLoss::DeviceRestarted),
+                ));
+            }
+            LinkState::Stopping | LinkState::Stopped | LinkState::Resetting => {
+                return Err(LinkError::StopLatched);
+            }
+        }
+        self.stats.state = LinkState::Streaming;
+        self.watchdog_trips_at_start = self.stats.last_status.map_or(0, |s| s.watchdog_trips);
+        self.schedule = Some(Schedule {
+            start: None,
+            index: 0,
+            finishing: false,
+            frames_sent: 0,
+        });
+        self.publish();
+        Ok(())
+    }
+
+    /// The emergency stop: out before anything else, queued setpoints dropped.
+    fn emergency_stop(&mut self, requested_at: Instant) {
+        self.schedule = None;
+        self.controls.clear();
+        self.drop_queued();
+        self.stop_requested_at = Some(requested_at);
+        self.stats.stop_ack_latency = None;
+        if self.stats.state != LinkState::Lost {
+            self.stats.state = LinkState::Stopping;
+        }
+        self.write_stop();
+        self.stats.stop_write_latency = Some(requested_at.elapsed());
+        self.publish();
+    }
+
+    fn write_stop(&mut self) {
+        let now = Instant::now();
+        self.stop_last_written = Some(now);
+        if let Err(loss) = self.write(HostMessage::EmergencyStop, now) {
+            self.lose(loss);
+        }
+    }
+
+    fn repeat_stop(&mut self, now: Instant) {
+        let waiting = self.stats.state == LinkState::Stopping
+            || (self.stats.state == LinkState::Lost && self.stop_requested_at.is_some());
+        if waiting
+            && self.stats.stop_ack_latency.is_none()
+            && self
+                .stop_last_written
+                .is_some_and(|at| now - at >= self.options.stop_repeat)
+        {
+            self.write_stop();
+        }
+    }
+
+    fn drop_queued(&mut self) {
+        while self.setpoints.try_recv().is_ok() {
+            self.stats.frames_dropped += 1;
+        }
+    }
+
+    fn has_credit(&self) -> bool {
+        self.in_flight.len() < self.room
+    }
+
+    fn serve_stream(&mut self, now: Instant) {
+        let Some(schedule) = &mut self.schedule else {
+            self.drop_queued();
+            return;
+        };
+        if self.stats.state != LinkState::Streaming {
+            return;
+        }
+        let deadline = match schedule.start {
+            Some(start) => start + self.options.period * schedule.index,
+            None => now,
+        };
+        if now < deadline || self.in_flight.len() >= self.room {
+            return;
+        }
+        match self.setpoints.try_recv() {
+            Ok(values) => {
+                let schedule_start = *schedule.start.get_or_insert(now);
+                let deadline = schedule_start + self.options.period * schedule.index;
+                schedule.index += 1;
+                schedule.frames_sent += 1;
+                let written = Instant::now();
+                if let Err(loss) = self.write(HostMessage::Setpoint(values), written) {
+                    self.lose(loss);
+                    return;
+                }
+                let offset = written.saturating_duration_since(deadline);
+                self.jitter.record(offset);
+                self.stats.frames_sent += 1;
+                if offset > self.options.late_after {
+                    self.stats.frames_late += 1;
+                }
+                self.jitter.publish(&mut self.stats);
+            }
+            Err(_) if schedule.finishing => {
+                let frames_sent = schedule.frames_sent;
+                self.schedule = None;
+                self.stats.state = LinkState::Idle;
+                self.emit(LinkEvent::StreamFinished { frames_sent });
+            }
+            Err(_) => {
+                if schedule.start.is_some() {
+                    schedule.index += 1;
+                    self.stats.underruns += 1;
+                }
+            }
+        }
+    }
+
+    fn serve_controls(&mut self, now: Instant) {
+        if self.stats.state == LinkState::Lost {
+            return;
+        }
+        if self.controls.is_empty() && now - self.last_sent >= self.options.heartbeat_interval {
+            self.controls.push_back(HostMessage::Heartbeat);
+        }
+        while self.has_credit() {
+            let Some(message) = self.controls.pop_front() else {
+                break;
+            };
+            if let Err(loss) = self.write(message, now) {
+                self.lose(loss);
+                return;
+            }
+        }
+    }
+
+    fn check_acks(&mut self, now: Instant) {
+        if self.stats.state == LinkState::Lost {
+            return;
+        }
+        if let Some(oldest) = self.in_flight.front() {
+            let waited = now - oldest.sent_at;
+            if waited > self.options.ack_timeout {
+                let seq = oldest.seq;
+                self.lose(LinkLoss::NoAck { seq, waited });
+            }
+        }
+    }
+
+    fn write(&mut self, message: HostMessage, now: Instant) -> Result<(), LinkLoss> {
+        let seq = self.seq;
+        self.seq = self.seq.wrapping_add(1);
+        let line = HostLine { seq, message }.encode();
+        self.transport
+            .write_all(line.as_bytes())
+            .map_err(|error| LinkLoss::WriteFailed { kind: error.kind() })?;
+        if matches!(message, HostMessage::Greeting { .. }) {
+            self.greeting_requested = true;
+        }
+        self.in_flight.push_back(InFlight {
+            seq,
+            sent_at: now,
+            message,
+        });
+        self.last_sent = now;
+        Ok(())
+    }
+
+    fn lose(&mut self, loss: LinkLoss) {
+        if self.stats.state == LinkState::Lost {
+            return;
+        }
+        self.stats.state = LinkState::Lost;
+        self.stats.loss = Some(loss);
+        self.schedule = None;
+        self.controls.clear();
+        self.in_flight.clear();
+        self.drop_queued();
+        self.publish();
+        if let Some(reply) = self.reset_reply.take() {
+            let _ = reply.send(Err(LinkError::Lost(loss)));
+        }
+        self.emit(LinkEvent::Lost(loss));
+    }
+
+    fn read_lines(&mut self, wait: Duration) -> Result<(), LinkLoss> {
+        let mut buf = [0u8; 256];
+        let count = self
+            .transport
+            .read_timeout(&mut buf, wait)
+            .map_err(|error| LinkLoss::ReadFailed { kind: error.kind() })?;
+        for &byte in &buf[..count] {
+            let parsed = match self.assembler.push(byte) {
+                Assembled::Pending => continue,
+                Assembled::Overlong => {
+                    self.stats.bad_device_lines += 1;
+                    continue;
+                }
+                Assembled::Line(line) => DeviceLine::parse(line),
+            };
+            match parsed {
+                Ok(line) => self.on_line(line),
+                Err(_) => self.stats.bad_device_lines += 1,
+            }
+        }
+        Ok(())
+    }
+
+    fn on_line(&mut self, line: DeviceLine) {
+        match line.message {
+            DeviceMessage::Ack(ack) => {
+                let Some(position) = self.in_flight.iter().position(|f| f.seq == ack.acked_seq)
+                else {
+                    return;
+                };
+                let acked = self.in_flight.drain(..=position).next_back();
+                self.room = usize::from(ack.room);
+                let Some(acked) = acked else { return };
+                match acked.message {
+                    HostMessage::Setpoint(_) => {
+                        self.stats.frames_acked += 1;
+                        match ack.outcome {
+                            AckOutcome::Clamped => self.stats.frames_clamped += 1,
+                            AckOutcome::Refused if self.stats.state == LinkState::Streaming => {
+                                let status = self.stats.last_status.unwrap_or(DeviceStatus {
+                                    mode: DeviceMode::Stopped,
+                                    faults: crate::protocol::Faults::EMERGENCY_STOP,
+                                    bad_checksums: 0,
+                                    bad_lines: 0,
+                                    clamped_values: 0,
+                                    watchdog_trips: 0,
+                                });
+                                self.lose(LinkLoss::DeviceFault { status });
+                            }
+                            AckOutcome::Accepted | AckOutcome::Refused => {}
+                        }
+                    }
+                    HostMessage::EmergencyStop => self.on_stop_acknowledged(),
+                    HostMessage::Reset if self.stats.state == LinkState::Resetting => {
+                        self.stats.state = LinkState::Idle;
+                        self.stop_requested_at = None;
+                        self.publish();
+                        if let Some(reply) = self.reset_reply.take() {
+                            let _ = reply.send(Ok(()));
+                        }
+                        self.emit(LinkEvent::ResetDone);
+                    }
+                    _ => {}
+                }
+            }
+            DeviceMessage::Status(status) => {
+                self.stats.last_status = Some(status);
+                let tripped = status.watchdog_trips != self.watchdog_trips_at_start;
+                if self.stats.state == LinkState::Streaming
+                    && (status.mode == DeviceMode::Stopped || tripped)
+                {
+                    self.lose(LinkLoss::DeviceFault { status });
+                }
+            }
+            DeviceMessage::Greeting(info) => {
+                let unrequested = !self.greeting_requested;
+                self.greeting_requested = false;
+                self.device = Some(info);
+                if unrequested && self.stats.state == LinkState::Streaming {
+                    self.lose(LinkLoss::DeviceRestarted);
+                }
+            }
+            DeviceMessage::Analog(_) => {}
+        }
+    }
+
+    fn on_stop_acknowledged(&mut self) {
+        let Some(requested_at) = self.stop_requested_at else {
+            return;
+        };
+        if self.stats.stop_ack_latency.is_some() {
+            return;
+        }
+        let after = requested_at.elapsed();
+        self.stats.stop_ack_latency = Some(after);
+        if self.stats.state == LinkState::Stopping {
+            self.stats.state = LinkState::Stopped;
+        }
+        self.emit(LinkEvent::StopConfirmed { after });
+    }
+
+    /// Publishes the statistics, then the event, so a reader woken by the event sees the
+    /// state it describes.
+    fn emit(&self, event: LinkEvent) {
+        self.publish();
+        let _ = self.events.send(event);
+    }
+
+    fn publish(&self) {
+        let mut shared = self.shared.lock().unwrap_or_else(PoisonError::into_inner);
+        if *shared != self.stats {
+            shared.clone_from(&self.stats);
+        }
+    }
+}

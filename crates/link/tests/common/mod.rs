@@ -1,0 +1,90 @@
+//! A transport wrapper for the streaming tests: records every line the host writes, and can
+//! swallow lines or fail writes to imitate a bad link.
+
+#![allow(dead_code)]
+
+use std::io;
+use std::sync::{Arc, Mutex};
+use std::time::{Duration, Instant};
+
+use armwright_link::{ChannelValues, HostLine, HostMessage, SimTransport, Transport};
+
+/// How the wrapper misbehaves.
+#[derive(Debug, Clone, Copy, Default)]
+pub struct Faults {
+    /// Swallow this many emergency-stop lines before passing one on.
+    pub swallow_stops: usize,
+    /// After this many writes, every write fails.
+    pub fail_writes_after: Option<usize>,
+    /// After this many writes, writes vanish without error (a cut cable with a live adapter).
+    pub vanish_after: Option<usize>,
+}
+
+/// One line the host wrote, when, and whether it reached the device.
+#[derive(Debug, Clone, Copy)]
+pub struct Written {
+    pub at: Instant,
+    pub line: HostLine,
+    pub delivered: bool,
+}
+
+pub struct Recorder {
+    inner: SimTransport,
+    faults: Faults,
+    writes: usize,
+    pub log: Arc<Mutex<Vec<Written>>>,
+}
+
+impl Recorder {
+    pub fn new(inner: SimTransport, faults: Faults) -> (Self, Arc<Mutex<Vec<Written>>>) {
+        let log = Arc::new(Mutex::new(Vec::new()));
+        let recorder = Self {
+            inner,
+            faults,
+            writes: 0,
+            log: Arc::clone(&log),
+        };
+        (recorder, log)
+    }
+}
+
+impl Transport for Recorder {
+    fn write_all(&mut self, bytes: &[u8]) -> io::Result<()> {
+        self.writes += 1;
+        if self
+            .faults
+            .fail_writes_after
+            .is_some_and(|n| self.writes > n)
+        {
+            return Err(io::Error::new(io::ErrorKind::BrokenPipe, "cable pulled"));
+        }
+        let line = HostLine::parse(bytes).expect("the host writes good lines");
+        let mut delivered = self.faults.vanish_after.is_none_or(|n| self.writes <= n);
+        if line.message == HostMessage::EmergencyStop && self.faults.swallow_stops > 0 {
+            self.faults.swallow_stops -= 1;
+            delivered = false;
+        }
+        self.log.lock().expect("log").push(Written {
+            at: Instant::now(),
+            line,
+            delivered,
+        });
+        if delivered {
+            self.inner.write_all(bytes)?;
+        }
+        Ok(())
+    }
+
+    fn read_timeout(&mut self, buf: &mut [u8], timeout: Duration) -> io::Result<usize> {
+        self.inner.read_timeout(buf, timeout)
+    }
+}
+
+/// Seven pulse widths (µs, 1 µs units) sweeping smoothly with `step`.
+pub fn sweep(step: u32) -> ChannelValues {
+    let mut values = [0u16; 7];
+    for (channel, value) in values.iter_mut().enumerate() {
+        *value = 1000 + ((step * 7 + channel as u32 * 50) % 1000) as u16;
+    }
+    ChannelValues::from_slice(&values).expect("seven values")
+}
