@@ -7,6 +7,7 @@
 //! one per movable joint in chain order; the gripper is not a joint.
 #![warn(missing_docs)]
 
+mod accuracy; // tool-point accuracy budget from servo deadband and backlash
 mod arm; // the arm model: joints, servos, calibrations, masses, arm types
 mod dynamics; // recursive Newton–Euler inverse dynamics and the inertia each joint sees
 mod error; // the error shared by every pose-taking function
@@ -15,6 +16,7 @@ mod gravity; // holding torque against gravity, with payload
 mod jacobian; // tool-point and space Jacobians
 mod torque_use; // per-joint efforts and the share of each servo's rating they use
 
+pub use crate::accuracy::{AccuracyBudget, accuracy_budget, joint_uncertainty};
 pub use crate::arm::{
     Arm, ArmDescription, ArmError, ArmType, ArticulatedDims, Calibration, ChainDims, DhRow,
     Gripper, Joint, JointKind, JointPlacement, JointSpec, MAX_JOINTS, MassProperties,
