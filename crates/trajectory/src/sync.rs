@@ -4,7 +4,9 @@
 //! duration within its own limits ([`Profile::stretched`]). Up to [`MAX_JOINTS`] joints are
 //! held in a fixed array, so planning a move does not allocate.
 
-use crate::profile::{JointLimits, JointMove, JointState, Profile, ProfileError, ProfileShape};
+use crate::profile::{
+    JointLimits, JointMove, JointState, PLACEHOLDER, Profile, ProfileError, ProfileShape,
+};
 
 /// The most joints one synchronised move can hold.
 pub const MAX_JOINTS: usize = 8;
@@ -91,23 +93,24 @@ pub fn synchronise(
             limits: limits.len(),
         });
     }
-    let fastest = |joint: usize| {
-        Profile::fastest(shape, &moves[joint], &limits[joint])
-            .map_err(|source| SyncError::Joint { joint, source })
-    };
-    let first = fastest(0)?;
-    let mut profiles = [first; MAX_JOINTS];
-    let mut duration = first.duration();
-    for (joint, profile) in profiles.iter_mut().enumerate().take(moves.len()).skip(1) {
-        *profile = fastest(joint)?;
-        duration = duration.max(profile.duration());
-    }
-    let synced = SyncedMove {
+    let joint_count = moves.len();
+    let mut synced = SyncedMove {
         duration: 0.0,
-        joint_count: moves.len(),
-        profiles,
+        joint_count,
+        profiles: [PLACEHOLDER; MAX_JOINTS],
     };
-    synced.stretched(duration)
+    for (joint, profile) in synced.profiles.iter_mut().enumerate().take(joint_count) {
+        *profile = Profile::fastest(shape, &moves[joint], &limits[joint])
+            .map_err(|source| SyncError::Joint { joint, source })?;
+        synced.duration = synced.duration.max(profile.duration());
+    }
+    let duration = synced.duration;
+    for (joint, profile) in synced.profiles.iter_mut().enumerate().take(joint_count) {
+        *profile = profile
+            .stretched(duration)
+            .map_err(|source| SyncError::Joint { joint, source })?;
+    }
+    Ok(synced)
 }
 
 impl SyncedMove {

@@ -49,7 +49,7 @@ pub(super) fn fastest(
     let peak = if direct >= distance {
         lowest_peak
     } else {
-        solve_bracketed(lowest_peak, vmax, |peak| {
+        solve_bracketed(lowest_peak, vmax, 1e-14 * distance, |peak| {
             covered_and_slope(distance, start, peak, end, amax, jmax)
         })
     };
@@ -98,18 +98,30 @@ fn rest_to_rest(distance: f64, vmax: f64, amax: f64, jmax: f64) -> ThreePart {
         return at_rest;
     }
     let full = VelocityChange::fastest(vmax, amax, jmax);
-    let peak = if distance >= vmax * full.duration {
-        vmax
+    let (peak, change) = if distance >= vmax * full.duration {
+        (vmax, full)
     } else if distance * jmax * jmax >= 2.0 * amax * amax * amax {
         // Acceleration limit reached: peak²/amax + peak·amax/jmax = distance.
         let ramp = amax / jmax;
-        0.5 * amax * (-ramp + (ramp * ramp + 4.0 * distance / amax).sqrt())
+        let peak = 0.5 * amax * (-ramp + (ramp * ramp + 4.0 * distance / amax).sqrt());
+        let change = VelocityChange {
+            duration: ramp + peak / amax,
+            ramp,
+            peak_acceleration: amax,
+            jerk: jmax,
+        };
+        (peak, change)
     } else {
         // Neither limit reached: four jerk ramps of cbrt(distance / (2 jmax)).
         let ramp = (0.5 * distance / jmax).cbrt();
-        jmax * ramp * ramp
+        let change = VelocityChange {
+            duration: 2.0 * ramp,
+            ramp,
+            peak_acceleration: jmax * ramp,
+            jerk: jmax,
+        };
+        (jmax * ramp * ramp, change)
     };
-    let change = VelocityChange::fastest(peak, amax, jmax);
     let cruise = if peak >= vmax {
         (distance / vmax - change.duration).max(0.0)
     } else {

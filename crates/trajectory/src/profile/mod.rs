@@ -18,7 +18,11 @@ mod phases; // seven constant-jerk phases: the Profile value and its evaluation
 mod trapezoid; // velocity and acceleration limited trapezoid: closed forms
 
 pub use limits::{Boundary, JointLimits, JointMove, LimitKind, ProfileError};
+pub(crate) use phases::PLACEHOLDER;
 pub use phases::{JointState, Profile, ProfileShape, ProfileTimes};
+
+/// One sixth, as a product is faster than a division.
+const SIXTH: f64 = 1.0 / 6.0;
 
 /// A time-optimal change of velocity with zero acceleration at both ends.
 ///
@@ -73,6 +77,36 @@ impl VelocityChange {
             peak_acceleration: self.peak_acceleration / (factor * factor),
             jerk: self.jerk / (factor * factor * factor),
         }
+    }
+
+    /// Displacement, velocity, acceleration and jerk at `tau` s into this change from
+    /// velocity `from` to velocity `to` (either direction), with `0 ≤ tau ≤ duration`.
+    #[inline]
+    pub(crate) fn state_at(&self, from: f64, to: f64, tau: f64) -> (f64, f64, f64, f64) {
+        let direction = if to >= from { 1.0 } else { -1.0 };
+        let jerk = direction * self.jerk;
+        let peak = direction * self.peak_acceleration;
+        let ramp = self.ramp;
+        if tau < ramp {
+            let v = from + 0.5 * jerk * tau * tau;
+            let p = tau * (from + jerk * tau * tau * SIXTH);
+            return (p, v, jerk * tau, jerk);
+        }
+        let remaining = self.duration - tau;
+        if remaining > ramp {
+            // Constant acceleration after the rising ramp.
+            let since = tau - ramp;
+            let v_ramp = from + 0.5 * peak * ramp;
+            let p_ramp = ramp * (from + jerk * ramp * ramp * SIXTH);
+            let v = v_ramp + peak * since;
+            let p = p_ramp + since * (v_ramp + 0.5 * peak * since);
+            return (p, v, peak, 0.0);
+        }
+        // Falling ramp, measured back from the end of the change where a = 0, v = to.
+        let covered = 0.5 * (from + to) * self.duration;
+        let v = to - 0.5 * jerk * remaining * remaining;
+        let p = covered - remaining * (to - jerk * remaining * remaining * SIXTH);
+        (p, v, jerk * remaining, -jerk)
     }
 
     /// Derivative of the duration with respect to `dv` (s per rad/s), for Newton steps.
@@ -131,22 +165,33 @@ pub(crate) fn changes_through(
 }
 
 /// Solves `f(x) = 0` for `x` in `[lo, hi]`, where `f` returns the value and its slope and
-/// `f(lo)` and `f(hi)` have opposite signs (or one is zero). Newton steps, with bisection
-/// whenever a step leaves the bracket. Returns the best `x` found.
-pub(crate) fn solve_bracketed(mut lo: f64, mut hi: f64, f: impl Fn(f64) -> (f64, f64)) -> f64 {
+/// `f(lo)` and `f(hi)` have opposite signs (or one is zero). Starts from the secant of the
+/// bracket, takes Newton steps, and bisects whenever a step leaves the bracket. Stops when
+/// `|f(x)| ≤ tolerance` or the bracket cannot shrink further. Returns the best `x` found.
+pub(crate) fn solve_bracketed(
+    mut lo: f64,
+    mut hi: f64,
+    tolerance: f64,
+    f: impl Fn(f64) -> (f64, f64),
+) -> f64 {
     let (f_lo, _) = f(lo);
-    let (f_hi, _) = f(hi);
-    if f_lo == 0.0 {
+    if f_lo.abs() <= tolerance {
         return lo;
     }
-    if f_hi == 0.0 {
+    let (f_hi, _) = f(hi);
+    if f_hi.abs() <= tolerance {
         return hi;
     }
     let rising = f_hi > f_lo;
-    let mut x = 0.5 * (lo + hi);
+    let secant = lo + (hi - lo) * f_lo / (f_lo - f_hi);
+    let mut x = if secant > lo && secant < hi {
+        secant
+    } else {
+        0.5 * (lo + hi)
+    };
     for _ in 0..200 {
         let (value, slope) = f(x);
-        if value == 0.0 {
+        if value.abs() <= tolerance {
             return x;
         }
         if (value > 0.0) == rising {
@@ -157,7 +202,7 @@ pub(crate) fn solve_bracketed(mut lo: f64, mut hi: f64, f: impl Fn(f64) -> (f64,
         let newton = x - value / slope;
         let usable = slope.is_finite() && slope != 0.0 && newton > lo && newton < hi;
         let next = if usable { newton } else { 0.5 * (lo + hi) };
-        if (next - x).abs() <= 1e-15 * x.abs().max(1e-300) || hi - lo <= 1e-15 * hi.abs() {
+        if next == x || hi - lo <= 4.0 * f64::EPSILON * hi.abs().max(lo.abs()) {
             return next;
         }
         x = next;
@@ -227,29 +272,56 @@ pub(crate) fn stretch_peak(
     if low > 0.0 && low <= fastest_peak && timing(low).0 >= duration {
         bracket = Some((low, fastest_peak));
     } else if low > 0.0 {
-        // Peaks below a boundary velocity: scan down from `low` for a feasible bracket.
-        let mut previous = Some(low);
-        let candidates = (1..64)
-            .rev()
-            .map(|k| low * f64::from(k) / 64.0)
-            .chain((1..48).map(|m| low / 64.0 * 0.5_f64.powi(m)));
-        for peak in candidates {
+        // Peaks below a boundary velocity: halve the peak until the profile takes long
+        // enough, keeping the last feasible peak above as the other end of the bracket. Where
+        // the feasible set has a gap between the two, scan it finely.
+        let feasible = |peak: f64| {
             let (time, _, covered) = timing(peak);
-            if covered > distance + tolerance || !time.is_finite() {
-                previous = None;
-                continue;
-            }
-            if time >= duration {
-                if let Some(above) = previous {
-                    bracket = Some((peak, above));
+            (covered <= distance + tolerance && time.is_finite()).then_some(time)
+        };
+        let mut above = Some(low);
+        let mut peak = low;
+        for _ in 0..64 {
+            let upper = peak;
+            peak *= 0.5;
+            match feasible(peak) {
+                None => above = None,
+                Some(time) if time >= duration => {
+                    bracket = match above {
+                        Some(above) => Some((peak, above)),
+                        None => (1..16)
+                            .map(|k| upper - (upper - peak) * f64::from(k) / 16.0)
+                            .zip((0..15).map(|k| upper - (upper - peak) * f64::from(k) / 16.0))
+                            .find(|&(lower, higher)| {
+                                matches!(feasible(lower), Some(t) if t >= duration)
+                                    && matches!(feasible(higher), Some(t) if t < duration)
+                            }),
+                    };
+                    break;
                 }
-                break;
+                Some(_) => above = Some(peak),
             }
-            previous = Some(peak);
+        }
+        if bracket.is_none() {
+            // Last resort: an even scan from `low` down.
+            let mut above = Some(low);
+            for k in (1..64).rev() {
+                let peak = low * f64::from(k) / 64.0;
+                match feasible(peak) {
+                    None => above = None,
+                    Some(time) if time >= duration => {
+                        bracket = above.map(|above| (peak, above));
+                        if bracket.is_some() {
+                            break;
+                        }
+                    }
+                    Some(_) => above = Some(peak),
+                }
+            }
         }
     }
     let (low, high) = bracket.ok_or(unreachable)?;
-    let peak = solve_bracketed(low, high, |peak| {
+    let peak = solve_bracketed(low, high, 1e-14 * duration, |peak| {
         let (time, slope, _) = timing(peak);
         (time - duration, slope)
     });

@@ -1,8 +1,8 @@
-//! Seven phases of constant jerk: the [`Profile`] value both methods produce, and its
-//! evaluation at a time.
+//! The [`Profile`] value both methods produce — a velocity change, a cruise and a velocity
+//! change, each change up to three phases of constant jerk — and its evaluation at a time.
 
 use super::limits::{JointLimits, JointMove, ProfileError};
-use super::{ThreePart, VelocityChange, double_s, trapezoid};
+use super::{ThreePart, double_s, trapezoid};
 
 /// Which published method made a profile.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
@@ -45,29 +45,6 @@ pub struct ProfileTimes {
     pub end_ramp: f64,
 }
 
-#[derive(Debug, Clone, Copy, PartialEq, Default)]
-struct Phase {
-    start: f64,
-    position: f64,
-    velocity: f64,
-    acceleration: f64,
-    jerk: f64,
-}
-
-impl Phase {
-    #[inline]
-    fn state(&self, t: f64) -> JointState {
-        let tau = t - self.start;
-        JointState {
-            position: self.position
-                + tau * (self.velocity + tau * (0.5 * self.acceleration + tau * self.jerk / 6.0)),
-            velocity: self.velocity + tau * (self.acceleration + 0.5 * tau * self.jerk),
-            acceleration: self.acceleration + tau * self.jerk,
-            jerk: self.jerk,
-        }
-    }
-}
-
 /// A velocity profile for one joint: a value with a duration that can be evaluated at any time.
 ///
 /// Made by [`Profile::double_s`] or [`Profile::trapezoid`]; positions in rad, time in s.
@@ -84,7 +61,6 @@ pub struct Profile {
     distance: f64,
     parts: ThreePart,
     duration: f64,
-    phases: [Phase; 7],
 }
 
 impl Profile {
@@ -112,17 +88,7 @@ impl Profile {
     /// # Ok::<(), armwright_trajectory::ProfileError>(())
     /// ```
     pub fn double_s(joint_move: &JointMove, limits: &JointLimits) -> Result<Self, ProfileError> {
-        super::limits::validate(joint_move, limits, true)?;
-        let (sign, distance, v0, v1) = frame(joint_move);
-        let parts = double_s::fastest(distance, v0, v1, limits)?;
-        Ok(Self::build(
-            ProfileShape::DoubleS,
-            joint_move,
-            limits,
-            sign,
-            distance,
-            parts,
-        ))
+        Self::fastest(ProfileShape::DoubleS, joint_move, limits)
     }
 
     /// The time-optimal trapezoidal profile for `joint_move` within the velocity and
@@ -132,17 +98,7 @@ impl Profile {
     /// # Errors
     /// As [`Profile::double_s`], except that the jerk limit is not checked.
     pub fn trapezoid(joint_move: &JointMove, limits: &JointLimits) -> Result<Self, ProfileError> {
-        super::limits::validate(joint_move, limits, false)?;
-        let (sign, distance, v0, v1) = frame(joint_move);
-        let parts = trapezoid::fastest(distance, v0, v1, limits)?;
-        Ok(Self::build(
-            ProfileShape::Trapezoid,
-            joint_move,
-            limits,
-            sign,
-            distance,
-            parts,
-        ))
+        Self::fastest(ProfileShape::Trapezoid, joint_move, limits)
     }
 
     /// The time-optimal profile of the given shape; see [`Profile::double_s`] and
@@ -155,10 +111,26 @@ impl Profile {
         joint_move: &JointMove,
         limits: &JointLimits,
     ) -> Result<Self, ProfileError> {
-        match shape {
-            ProfileShape::Trapezoid => Self::trapezoid(joint_move, limits),
-            ProfileShape::DoubleS => Self::double_s(joint_move, limits),
-        }
+        let with_jerk = shape == ProfileShape::DoubleS;
+        super::limits::validate(joint_move, limits, with_jerk)?;
+        let displacement = joint_move.to - joint_move.from;
+        let sign = if displacement < 0.0 { -1.0 } else { 1.0 };
+        let distance = displacement.abs();
+        let v0 = sign * joint_move.from_velocity;
+        let v1 = sign * joint_move.to_velocity;
+        let parts = match shape {
+            ProfileShape::Trapezoid => trapezoid::fastest(distance, v0, v1, limits)?,
+            ProfileShape::DoubleS => double_s::fastest(distance, v0, v1, limits)?,
+        };
+        Ok(Self {
+            shape,
+            joint_move: *joint_move,
+            limits: *limits,
+            sign,
+            distance,
+            duration: parts.first.duration + parts.cruise + parts.last.duration,
+            parts,
+        })
     }
 
     /// The same move with the same shape and boundary velocities, slowed to take exactly
@@ -202,16 +174,11 @@ impl Profile {
                 }
             }?
         };
-        let mut stretched = Self::build(
-            self.shape,
-            &self.joint_move,
-            &self.limits,
-            self.sign,
-            self.distance,
+        Ok(Self {
             parts,
-        );
-        stretched.duration = duration;
-        Ok(stretched)
+            duration,
+            ..*self
+        })
     }
 
     /// Duration, s.
@@ -252,6 +219,9 @@ impl Profile {
 
     /// Position, velocity, acceleration and jerk at time `t` (s from the start of the move),
     /// clamped to `[0, duration]`. A NaN time gives the start state.
+    ///
+    /// The first velocity change and the cruise are evaluated forward from the start state,
+    /// the last velocity change backward from the end state, so both ends are exact.
     #[inline]
     pub fn state_at(&self, t: f64) -> JointState {
         if t <= 0.0 || t.is_nan() {
@@ -270,11 +240,37 @@ impl Profile {
                 jerk: 0.0,
             };
         }
-        let mut index = 6;
-        while index > 0 && self.phases[index].start > t {
-            index -= 1;
+        let parts = &self.parts;
+        let first_end = parts.first.duration;
+        let cruise_end = first_end + parts.cruise;
+        // State in the non-negative frame, position measured from the start.
+        let (position, velocity, acceleration, jerk) = if t < first_end {
+            parts
+                .first
+                .state_at(parts.start_velocity, parts.peak_velocity, t)
+        } else if t < cruise_end {
+            let covered = 0.5 * (parts.start_velocity + parts.peak_velocity) * first_end;
+            (
+                covered + parts.peak_velocity * (t - first_end),
+                parts.peak_velocity,
+                0.0,
+                0.0,
+            )
+        } else {
+            // The last change seen backward in time from the end: x(t) = h − y(T − t), so
+            // velocity and jerk keep their sign and acceleration flips.
+            let (p, v, a, j) =
+                parts
+                    .last
+                    .state_at(parts.end_velocity, parts.peak_velocity, self.duration - t);
+            (self.distance - p, v, -a, j)
+        };
+        JointState {
+            position: self.joint_move.from + self.sign * position,
+            velocity: self.sign * velocity,
+            acceleration: self.sign * acceleration,
+            jerk: self.sign * jerk,
         }
-        self.phases[index].state(t)
     }
 
     /// Position at time `t` (s), rad; see [`Profile::state_at`].
@@ -282,114 +278,42 @@ impl Profile {
     pub fn position_at(&self, t: f64) -> f64 {
         self.state_at(t).position
     }
+}
 
-    /// Builds the phases from the three parts in the non-negative frame. The first half is
-    /// integrated forward from the start state and the last half backward from the end state,
-    /// so that both ends are exact.
-    fn build(
-        shape: ProfileShape,
-        joint_move: &JointMove,
-        limits: &JointLimits,
-        sign: f64,
-        distance: f64,
-        parts: ThreePart,
-    ) -> Self {
-        let up_first = if parts.peak_velocity >= parts.start_velocity {
-            1.0
-        } else {
-            -1.0
-        };
-        let down_last = if parts.peak_velocity >= parts.end_velocity {
-            1.0
-        } else {
-            -1.0
-        };
-        let first = parts.first;
-        let last = parts.last;
-        let constant = |change: &VelocityChange| (change.duration - 2.0 * change.ramp).max(0.0);
-        // (duration, acceleration at the phase start, jerk), in the non-negative frame.
-        let specs: [(f64, f64, f64); 7] = [
-            (first.ramp, 0.0, up_first * first.jerk),
-            (constant(&first), up_first * first.peak_acceleration, 0.0),
-            (
-                first.ramp,
-                up_first * first.peak_acceleration,
-                -up_first * first.jerk,
-            ),
-            (parts.cruise, 0.0, 0.0),
-            (last.ramp, 0.0, -down_last * last.jerk),
-            (constant(&last), -down_last * last.peak_acceleration, 0.0),
-            (
-                last.ramp,
-                -down_last * last.peak_acceleration,
-                down_last * last.jerk,
-            ),
-        ];
-        let mut phases = [Phase::default(); 7];
-        let mut time = 0.0;
-        let mut position = 0.0;
-        let mut velocity = parts.start_velocity;
-        for (phase, &(d, acceleration, jerk)) in phases.iter_mut().zip(specs.iter()).take(4) {
-            let jerk = if d > 0.0 { jerk } else { 0.0 };
-            *phase = Phase {
-                start: time,
-                position,
-                velocity,
-                acceleration,
-                jerk,
-            };
-            position += d * (velocity + d * (0.5 * acceleration + d * jerk / 6.0));
-            velocity += d * (acceleration + 0.5 * d * jerk);
-            time += d;
-        }
-        for (phase, &(d, _, _)) in phases.iter_mut().zip(specs.iter()).skip(4) {
-            phase.start = time;
-            time += d;
-        }
-        let duration = time;
-        let mut position = distance;
-        let mut velocity = parts.end_velocity;
-        for index in (4..7).rev() {
-            let (d, acceleration, jerk) = specs[index];
-            let jerk = if d > 0.0 { jerk } else { 0.0 };
-            velocity -= d * (acceleration + 0.5 * d * jerk);
-            position -= d * (velocity + d * (0.5 * acceleration + d * jerk / 6.0));
-            let phase = &mut phases[index];
-            phase.position = position;
-            phase.velocity = velocity;
-            phase.acceleration = acceleration;
-            phase.jerk = jerk;
-        }
-        for phase in &mut phases {
-            phase.position = joint_move.from + sign * phase.position;
-            phase.velocity *= sign;
-            phase.acceleration *= sign;
-            phase.jerk *= sign;
-        }
-        Self {
-            shape,
-            joint_move: *joint_move,
-            limits: *limits,
-            sign,
-            distance,
-            parts,
-            duration,
-            phases,
-        }
+/// A profile at rest at zero: a placeholder that fills unused slots of fixed arrays.
+pub(crate) const PLACEHOLDER: Profile = {
+    let change = super::VelocityChange {
+        duration: 0.0,
+        ramp: 0.0,
+        peak_acceleration: 0.0,
+        jerk: 0.0,
+    };
+    Profile {
+        shape: ProfileShape::DoubleS,
+        joint_move: JointMove {
+            from: 0.0,
+            to: 0.0,
+            from_velocity: 0.0,
+            to_velocity: 0.0,
+        },
+        limits: JointLimits {
+            velocity: f64::INFINITY,
+            acceleration: f64::INFINITY,
+            jerk: f64::INFINITY,
+        },
+        sign: 1.0,
+        distance: 0.0,
+        parts: ThreePart {
+            start_velocity: 0.0,
+            peak_velocity: 0.0,
+            end_velocity: 0.0,
+            first: change,
+            cruise: 0.0,
+            last: change,
+        },
+        duration: 0.0,
     }
-}
-
-/// The frame where the displacement is not negative: (sign, distance, v0, v1).
-fn frame(joint_move: &JointMove) -> (f64, f64, f64, f64) {
-    let displacement = joint_move.to - joint_move.from;
-    let sign = if displacement < 0.0 { -1.0 } else { 1.0 };
-    (
-        sign,
-        displacement.abs(),
-        sign * joint_move.from_velocity,
-        sign * joint_move.to_velocity,
-    )
-}
+};
 
 /// A rest-to-rest profile slowed uniformly in time from `from_duration` to `to_duration`.
 fn rest_to_rest_scaled(parts: &ThreePart, from_duration: f64, to_duration: f64) -> ThreePart {

@@ -1,0 +1,70 @@
+//! Seeded random problems shared by the benchmarks: the same inputs every run.
+
+use armwright_trajectory::{JointLimits, JointMove, ProfileShape, synchronise};
+
+/// Small deterministic generator (xorshift64*).
+pub struct Seeded(u64);
+
+impl Seeded {
+    /// A generator from `seed`.
+    pub fn new(seed: u64) -> Self {
+        Self(seed | 1)
+    }
+
+    /// Uniform in `[low, high)`.
+    pub fn uniform(&mut self, low: f64, high: f64) -> f64 {
+        let mut x = self.0;
+        x ^= x >> 12;
+        x ^= x << 25;
+        x ^= x >> 27;
+        self.0 = x;
+        let unit = (x.wrapping_mul(0x2545_F491_4F6C_DD1D) >> 11) as f64 / (1u64 << 53) as f64;
+        low + unit * (high - low)
+    }
+}
+
+/// One multi-joint move: each joint's move and limits.
+pub struct Problem<const N: usize> {
+    /// Joint moves, rad and rad/s.
+    pub moves: [JointMove; N],
+    /// Joint limits, rad/s, rad/s², rad/s³.
+    pub limits: [JointLimits; N],
+}
+
+/// `count` random `N`-joint moves from `seed`: rest to rest, or passing both ends at up to half
+/// the velocity limit in the direction of motion. Pass-through moves that our double-S cannot
+/// synchronise are skipped, so that both generators get the same solvable problems.
+pub fn random_moves<const N: usize>(
+    count: usize,
+    seed: u64,
+    pass_through: bool,
+) -> Vec<Problem<N>> {
+    let mut rng = Seeded::new(seed);
+    let mut problems = Vec::with_capacity(count);
+    while problems.len() < count {
+        let mut moves = [JointMove::default(); N];
+        let mut limits = [JointLimits::new(1.0, 1.0, 1.0); N];
+        for (joint_move, joint_limits) in moves.iter_mut().zip(limits.iter_mut()) {
+            let from = rng.uniform(-2.5, 2.5);
+            let to = rng.uniform(-2.5, 2.5);
+            *joint_limits = JointLimits::new(
+                rng.uniform(0.5, 6.0),
+                rng.uniform(2.0, 30.0),
+                rng.uniform(20.0, 300.0),
+            );
+            let share = if pass_through { 0.5 } else { 0.0 };
+            let direction = (to - from).signum();
+            let vmax = joint_limits.velocity;
+            *joint_move = JointMove::passing(
+                from,
+                to,
+                direction * rng.uniform(0.0, share * vmax),
+                direction * rng.uniform(0.0, share * vmax),
+            );
+        }
+        if synchronise(ProfileShape::DoubleS, &moves, &limits).is_ok() {
+            problems.push(Problem { moves, limits });
+        }
+    }
+    problems
+}
