@@ -181,6 +181,8 @@ impl Link {
             reset_reply: None,
             device: None,
             greeting_requested: false,
+            greetings_seen: 0,
+            greeting_acked_at: None,
             watchdog_trips_at_start: 0,
             jitter: Jitter::default(),
         };
@@ -418,6 +420,9 @@ struct Worker {
     reset_reply: Option<Sender<Result<(), LinkError>>>,
     device: Option<DeviceInfo>,
     greeting_requested: bool,
+    /// Greetings heard so far, and how many had been heard when our greeting was acknowledged.
+    greetings_seen: u32,
+    greeting_acked_at: Option<u32>,
     watchdog_trips_at_start: u16,
     jitter: Jitter,
 }
@@ -441,6 +446,10 @@ impl Worker {
         }
     }
 
+    /// Greets the device until it acknowledges a greeting and then describes itself. A
+    /// description that arrives before the acknowledgement (the one a device sends at
+    /// power-up) is not taken as the answer, so the real answer is not mistaken later for
+    /// a restart.
     fn greet(&mut self) -> Result<DeviceInfo, LinkError> {
         let started = Instant::now();
         let mut last_greeting: Option<Instant> = None;
@@ -451,8 +460,10 @@ impl Worker {
                     waited: self.options.greeting_timeout,
                 });
             }
-            if last_greeting.is_none_or(|at| now - at >= Duration::from_millis(250)) {
+            let answered = self.greeting_acked_at.is_some();
+            if !answered && last_greeting.is_none_or(|at| now - at >= Duration::from_millis(250)) {
                 self.in_flight.clear();
+                self.room = 1;
                 self.write(
                     HostMessage::Greeting {
                         protocol_version: PROTOCOL_VERSION,
@@ -464,7 +475,10 @@ impl Worker {
             }
             self.read_lines(Duration::from_millis(5))
                 .map_err(LinkError::Lost)?;
-            if let Some(device) = self.device {
+            let answer_seen = self
+                .greeting_acked_at
+                .is_some_and(|acked_at| self.greetings_seen > acked_at);
+            if let (true, Some(device)) = (answer_seen, self.device) {
                 if device.protocol_version != PROTOCOL_VERSION {
                     return Err(LinkError::ProtocolVersion {
                         device: device.protocol_version,
@@ -788,6 +802,9 @@ impl Worker {
                         }
                     }
                     HostMessage::EmergencyStop => self.on_stop_acknowledged(),
+                    HostMessage::Greeting { .. } => {
+                        self.greeting_acked_at = Some(self.greetings_seen);
+                    }
                     HostMessage::Reset if self.stats.state == LinkState::Resetting => {
                         self.stats.state = LinkState::Idle;
                         self.stop_requested_at = None;
@@ -810,6 +827,7 @@ impl Worker {
                 }
             }
             DeviceMessage::Greeting(info) => {
+                self.greetings_seen += 1;
                 let unrequested = !self.greeting_requested;
                 self.greeting_requested = false;
                 self.device = Some(info);
