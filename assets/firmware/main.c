@@ -1,0 +1,306 @@
+/* Armwright reference servo firmware for an ATmega328P at 16 MHz.
+ *
+ * Speaks the line protocol of crates/link/PROTOCOL.md at 115 200 baud, drives six joint
+ * servos and a gripper servo with pulses timed from Timer1 (pulse_train.c), holds the arm
+ * when the host falls silent for 250 ms, clamps pulse widths to 500–2500 µs, latches the
+ * emergency stop until a reset, counts and reports bad input.
+ *
+ * A software stop is not a safety device. See README.md. */
+#include <avr/interrupt.h>
+#include <avr/io.h>
+
+#include "line_protocol.h"
+#include "pulse_train.h"
+#include "serial.h"
+
+#define FIRMWARE_VERSION "0.1.0"
+#define WATCHDOG_MS 250u
+#define STATUS_GAP_MS 20u /* at most one status line per frame */
+
+#define FAULT_WATCHDOG 0x01
+#define FAULT_STOP 0x02
+#define FAULT_CLAMPED 0x04
+#define FAULT_BAD_INPUT 0x08
+#define FAULT_OVERFLOW 0x10
+
+/* Modes, as the status line spells them. */
+#define MODE_LIMP 'L'
+#define MODE_DRIVING 'D'
+#define MODE_KEEPING 'K'
+#define MODE_STOPPED 'X'
+
+static volatile uint16_t clock_ms;
+
+static uint8_t mode = MODE_LIMP;
+static uint8_t faults;
+static uint16_t bad_checksums, bad_lines, clamped_values, watchdog_trips;
+static uint8_t status_pending;
+static uint8_t status_sent_once;
+static uint16_t last_status_ms;
+static uint16_t last_good_ms;
+static uint8_t tx_seq;
+
+/* Timer0 in clear-on-compare mode: 16 MHz / 64 / 250 = one interrupt a millisecond. */
+static void clock_init(void) {
+    TCCR0A = _BV(WGM01);
+    TCCR0B = _BV(CS01) | _BV(CS00);
+    OCR0A = 249;
+    TIMSK0 = _BV(OCIE0A);
+}
+
+ISR(TIMER0_COMPA_vect) {
+    clock_ms++;
+}
+
+static uint16_t now_ms(void) {
+    uint8_t sreg = SREG;
+    cli();
+    uint16_t now = clock_ms;
+    SREG = sreg;
+    return now;
+}
+
+static void saturating_add(uint16_t *counter, uint16_t amount) {
+    *counter = (uint16_t)(*counter > 65535u - amount ? 65535u : *counter + amount);
+}
+
+static void set_mode(uint8_t next) {
+    if (mode != next) {
+        mode = next;
+        status_pending = 1;
+    }
+}
+
+static void flag(uint8_t fault) {
+    faults |= fault;
+    status_pending = 1;
+}
+
+static void send(struct line_out *line) {
+    line_finish(line);
+    serial_write(line->bytes, line->len);
+}
+
+static void send_greeting(void) {
+    struct line_out line;
+    line_start(&line, 'H', tx_seq++);
+    line_put_text(&line, ":1," FIRMWARE_VERSION ",");
+    line_put_decimal(&line, PULSE_CHANNELS);
+    line_put(&line, ',');
+    line_put_decimal(&line, PULSE_UNIT_NS);
+    line_put(&line, ',');
+    line_put_decimal(&line, PULSE_MIN_TICKS);
+    line_put(&line, ',');
+    line_put_decimal(&line, PULSE_MAX_TICKS);
+    line_put(&line, ',');
+    line_put_decimal(&line, FRAME_PERIOD_US);
+    send(&line);
+}
+
+static void send_ack(uint8_t acked_seq, const char *outcome) {
+    struct line_out line;
+    uint8_t room = (uint8_t)(serial_free() / LINE_MAX);
+    line_start(&line, 'A', tx_seq++);
+    line_put(&line, ':');
+    line_put_hex(&line, acked_seq, 2);
+    line_put(&line, ',');
+    line_put_decimal(&line, room);
+    line_put(&line, ',');
+    line_put_text(&line, outcome);
+    send(&line);
+}
+
+static void send_status(void) {
+    struct line_out line;
+    if (mode == MODE_STOPPED) {
+        faults |= FAULT_STOP;
+    } else {
+        faults &= (uint8_t)~FAULT_STOP;
+    }
+    line_start(&line, 'S', tx_seq++);
+    line_put(&line, ':');
+    line_put(&line, mode);
+    line_put(&line, ',');
+    line_put_hex(&line, faults, 2);
+    line_put(&line, ',');
+    line_put_decimal(&line, bad_checksums);
+    line_put(&line, ',');
+    line_put_decimal(&line, bad_lines);
+    line_put(&line, ',');
+    line_put_decimal(&line, clamped_values);
+    line_put(&line, ',');
+    line_put_decimal(&line, watchdog_trips);
+    send(&line);
+}
+
+static void count_bad_line(void) {
+    saturating_add(&bad_lines, 1);
+    flag(FAULT_BAD_INPUT);
+}
+
+/* A setpoint body: exactly PULSE_CHANNELS values of 4 hex digits. */
+static void on_setpoint(const struct checked_line *line) {
+    uint16_t ticks[PULSE_CHANNELS];
+    if (line->body_len != 4 * PULSE_CHANNELS) {
+        count_bad_line();
+        return;
+    }
+    for (uint8_t i = 0; i < PULSE_CHANNELS; i++) {
+        int32_t value = parse_hex(line->body + 4 * i, 4);
+        if (value < 0) {
+            count_bad_line();
+            return;
+        }
+        ticks[i] = (uint16_t)value;
+    }
+    last_good_ms = now_ms();
+    if (mode == MODE_STOPPED) {
+        send_ack(line->seq, "refused");
+        return;
+    }
+    uint8_t clamped = 0;
+    for (uint8_t i = 0; i < PULSE_CHANNELS; i++) {
+        if (ticks[i] < PULSE_MIN_TICKS) {
+            ticks[i] = PULSE_MIN_TICKS;
+            clamped++;
+        } else if (ticks[i] > PULSE_MAX_TICKS) {
+            ticks[i] = PULSE_MAX_TICKS;
+            clamped++;
+        }
+    }
+    pulse_train_set(ticks);
+    set_mode(MODE_DRIVING);
+    if (clamped) {
+        saturating_add(&clamped_values, clamped);
+        flag(FAULT_CLAMPED);
+        send_ack(line->seq, "clamped");
+    } else {
+        send_ack(line->seq, "ok");
+    }
+}
+
+static void on_line(const uint8_t *bytes, uint8_t len) {
+    struct checked_line line;
+    switch (line_check(bytes, len, &line)) {
+    case LINE_BAD_CHECKSUM:
+        saturating_add(&bad_checksums, 1);
+        flag(FAULT_BAD_INPUT);
+        return;
+    case LINE_BAD_FORM:
+        count_bad_line();
+        return;
+    case LINE_GOOD:
+        break;
+    }
+    if (line.kind == 's') {
+        on_setpoint(&line);
+        return;
+    }
+    if (line.kind == 'h') {
+        int32_t version = parse_decimal(line.body, line.body_len);
+        if (version < 1 || version > 255) {
+            count_bad_line();
+            return;
+        }
+        last_good_ms = now_ms();
+        send_ack(line.seq, "ok");
+        send_greeting();
+        return;
+    }
+    if (line.body_len != 0 || (line.kind != 'k' && line.kind != 'l' && line.kind != 'x' &&
+                               line.kind != 'c' && line.kind != 'b')) {
+        count_bad_line();
+        return;
+    }
+    last_good_ms = now_ms();
+    switch (line.kind) {
+    case 'x':
+        pulse_train_hold();
+        set_mode(MODE_STOPPED);
+        flag(FAULT_STOP);
+        send_ack(line.seq, "ok");
+        return;
+    case 'k':
+        if (mode == MODE_STOPPED) {
+            send_ack(line.seq, "refused");
+            return;
+        }
+        pulse_train_hold();
+        if (mode != MODE_LIMP) {
+            set_mode(MODE_KEEPING);
+        }
+        send_ack(line.seq, "ok");
+        return;
+    case 'l':
+        if (mode == MODE_STOPPED) {
+            send_ack(line.seq, "refused");
+            return;
+        }
+        pulse_train_release();
+        set_mode(MODE_LIMP);
+        send_ack(line.seq, "ok");
+        return;
+    case 'c':
+        faults = 0;
+        status_pending = 1;
+        if (mode == MODE_STOPPED || mode == MODE_DRIVING) {
+            pulse_train_hold();
+            set_mode(pulse_train_active() ? MODE_KEEPING : MODE_LIMP);
+        }
+        send_ack(line.seq, "ok");
+        return;
+    default: /* 'b', heartbeat */
+        status_pending = 1;
+        send_ack(line.seq, "ok");
+        return;
+    }
+}
+
+int main(void) {
+    static uint8_t line[LINE_MAX];
+    uint8_t line_len = 0;
+    uint8_t overlong = 0;
+
+    clock_init();
+    pulse_train_init();
+    serial_init();
+    sei();
+    send_greeting();
+
+    for (;;) {
+        int16_t byte;
+        while ((byte = serial_read()) >= 0) {
+            if (byte == '\n') {
+                if (overlong) {
+                    count_bad_line();
+                } else {
+                    on_line(line, line_len);
+                }
+                line_len = 0;
+                overlong = 0;
+            } else if (line_len + 1 >= LINE_MAX) {
+                overlong = 1;
+            } else if (!overlong) {
+                line[line_len++] = (uint8_t)byte;
+            }
+        }
+        if (serial_take_overflow()) {
+            count_bad_line();
+            flag(FAULT_OVERFLOW);
+        }
+        uint16_t now = now_ms();
+        if (mode == MODE_DRIVING && (uint16_t)(now - last_good_ms) >= WATCHDOG_MS) {
+            pulse_train_hold();
+            set_mode(MODE_KEEPING);
+            saturating_add(&watchdog_trips, 1);
+            flag(FAULT_WATCHDOG);
+        }
+        if (status_pending &&
+            (!status_sent_once || (uint16_t)(now - last_status_ms) >= STATUS_GAP_MS)) {
+            status_pending = 0;
+            status_sent_once = 1;
+            last_status_ms = now;
+            send_status();
+        }
+    }
+}

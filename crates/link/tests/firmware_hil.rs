@@ -1,0 +1,860 @@
+//! The reference firmware (`assets/firmware/`) on a simulated ATmega328P (libsimavr), driven
+//! through a pseudo-terminal by the host code, checked pulse by pulse in simulated time.
+//!
+//! The test builds the firmware (avr-gcc, avr-libc, make) and the harness
+//! (`tests/hil/harness.c`, a C compiler and libsimavr). When a tool is missing it prints
+//! "skipped: …" and passes, unless `ARMWRIGHT_STRICT=1`, when it fails.
+//!
+//! Times come from the harness log in CPU cycles at 16 MHz (16 cycles a µs).
+
+use std::io::{BufRead, BufReader, Write};
+use std::path::{Path, PathBuf};
+use std::process::{Child, ChildStdin, Command, Stdio};
+use std::sync::atomic::{AtomicU64, Ordering};
+use std::sync::{Arc, Mutex, OnceLock};
+use std::time::{Duration, Instant};
+
+use armwright_link::{
+    AckOutcome, Assembled, ChannelValues, DeviceInfo, DeviceLine, DeviceMessage, DeviceMode,
+    Faults, HostLine, HostMessage, LineAssembler, Link, LinkError, LinkEvent, ResetConfirmation,
+    SerialTransport, StreamOptions, Transport,
+};
+
+const CYCLES_PER_US: f64 = 16.0;
+const FRAME_CYCLES: u64 = 320_000; // 20 ms
+const CHANNELS: usize = 7;
+
+struct Hil {
+    firmware: PathBuf,
+    harness: PathBuf,
+    scratch: PathBuf,
+}
+
+/// Builds firmware and harness once; `None` (after printing why) when a tool is missing.
+fn hil() -> Option<&'static Hil> {
+    static HIL: OnceLock<Result<Hil, String>> = OnceLock::new();
+    match HIL.get_or_init(build) {
+        Ok(hil) => Some(hil),
+        Err(why) => {
+            if std::env::var("ARMWRIGHT_STRICT").is_ok_and(|v| v == "1") {
+                panic!("ARMWRIGHT_STRICT=1 and the firmware test cannot run: {why}");
+            }
+            eprintln!("skipped: {why}");
+            None
+        }
+    }
+}
+
+fn tool_works(program: &str, args: &[&str]) -> bool {
+    Command::new(program)
+        .args(args)
+        .stdout(Stdio::null())
+        .stderr(Stdio::null())
+        .status()
+        .is_ok_and(|status| status.success())
+}
+
+fn build() -> Result<Hil, String> {
+    // ARMWRIGHT_AVR_GCC names another compiler (or a missing one, to see the skip).
+    let avr_gcc = std::env::var("ARMWRIGHT_AVR_GCC").unwrap_or_else(|_| "avr-gcc".to_owned());
+    if !tool_works(&avr_gcc, &["--version"]) {
+        return Err(format!(
+            "{avr_gcc} not found (Debian packages gcc-avr, avr-libc)"
+        ));
+    }
+    if !tool_works("make", &["--version"]) {
+        return Err("make not found".into());
+    }
+    if !tool_works("cc", &["--version"]) {
+        return Err("no C compiler (cc) for the simulator harness".into());
+    }
+    let simavr_flags = Command::new("pkg-config")
+        .args(["--cflags", "--libs", "simavr"])
+        .output()
+        .ok()
+        .filter(|out| out.status.success())
+        .map(|out| String::from_utf8_lossy(&out.stdout).into_owned());
+    let simavr_flags = match simavr_flags {
+        Some(flags) => flags,
+        None if Path::new("/usr/include/simavr/sim_avr.h").exists() => {
+            "-I/usr/include/simavr -lsimavr".to_owned()
+        }
+        None => {
+            return Err(
+                "libsimavr not found (Debian packages simavr, libsimavr-dev, libsimavrparts1, libelf-dev)"
+                    .into(),
+            );
+        }
+    };
+    let manifest = Path::new(env!("CARGO_MANIFEST_DIR"));
+    let scratch = Path::new(env!("CARGO_TARGET_TMPDIR")).join("firmware-hil");
+    std::fs::create_dir_all(&scratch).map_err(|e| format!("scratch dir: {e}"))?;
+    let out = scratch.join("firmware");
+    let make = Command::new("make")
+        .arg("-C")
+        .arg(manifest.join("../../assets/firmware"))
+        .arg(format!("OUT={}", out.display()))
+        .arg(format!("CC={avr_gcc}"))
+        .output()
+        .expect("make runs");
+    assert!(
+        make.status.success(),
+        "firmware build failed:\n{}{}",
+        String::from_utf8_lossy(&make.stdout),
+        String::from_utf8_lossy(&make.stderr)
+    );
+    let harness = scratch.join("harness");
+    let compile = Command::new("cc")
+        .args(["-O2", "-Wall", "-Wextra", "-o"])
+        .arg(&harness)
+        .arg(manifest.join("tests/hil/harness.c"))
+        .args(simavr_flags.split_whitespace())
+        .arg("-lelf")
+        .output()
+        .expect("cc runs");
+    if !compile.status.success() {
+        let message = String::from_utf8_lossy(&compile.stderr).into_owned();
+        if message.contains("sim_avr.h")
+            || message.contains("-lsimavr")
+            || message.contains("-lelf")
+        {
+            return Err(format!("libsimavr headers or library missing: {message}"));
+        }
+        panic!("harness build failed:\n{message}");
+    }
+    Ok(Hil {
+        firmware: out.join("armwright-servo.elf"),
+        harness,
+        scratch,
+    })
+}
+
+/// One simulator run; runs are taken one at a time so they do not starve each other.
+struct Run {
+    child: Child,
+    stdin: Option<ChildStdin>,
+    /// The newest simulated cycle count the harness has printed.
+    cycle: Arc<AtomicU64>,
+    log_path: PathBuf,
+    pty: String,
+    _turn: std::sync::MutexGuard<'static, ()>,
+}
+
+fn start(hil: &Hil, name: &str) -> Run {
+    static TURN: Mutex<()> = Mutex::new(());
+    let turn = TURN
+        .lock()
+        .unwrap_or_else(std::sync::PoisonError::into_inner);
+    let log_path = hil.scratch.join(format!("{name}.log"));
+    let mut child = Command::new(&hil.harness)
+        .arg(&hil.firmware)
+        .arg(&log_path)
+        .arg("120")
+        .stdin(Stdio::piped())
+        .stdout(Stdio::piped())
+        .stderr(Stdio::inherit())
+        .spawn()
+        .expect("harness starts");
+    let stdin = child.stdin.take();
+    let stdout = child.stdout.take().expect("piped stdout");
+    let mut lines = BufReader::new(stdout).lines();
+    let mut pty = None;
+    for line in lines.by_ref() {
+        let line = line.expect("harness output");
+        if let Some(path) = line.strip_prefix("pty ") {
+            pty = Some(path.to_owned());
+            break;
+        }
+    }
+    let cycle = Arc::new(AtomicU64::new(0));
+    {
+        let cycle = Arc::clone(&cycle);
+        std::thread::spawn(move || {
+            for line in lines.map_while(Result::ok) {
+                if let Some(Ok(now)) = line.strip_prefix("t ").map(str::parse::<u64>) {
+                    cycle.store(now, Ordering::SeqCst);
+                }
+            }
+        });
+    }
+    Run {
+        child,
+        stdin,
+        cycle,
+        log_path,
+        pty: pty.expect("harness prints its pty"),
+        _turn: turn,
+    }
+}
+
+impl Run {
+    /// Waits until `time` of simulated time has passed (the simulator may run slower or
+    /// faster than the wall clock).
+    fn wait_simulated(&self, time: Duration) {
+        let cycles = time.as_micros() as u64 * 16;
+        let target = self.cycle.load(Ordering::SeqCst) + cycles;
+        let give_up = Instant::now() + Duration::from_secs(60);
+        while self.cycle.load(Ordering::SeqCst) < target {
+            assert!(Instant::now() < give_up, "the simulator stopped advancing");
+            std::thread::sleep(Duration::from_millis(2));
+        }
+    }
+
+    fn open(&self) -> SerialTransport {
+        SerialTransport::open(&self.pty, 115_200).expect("opens the harness pty")
+    }
+
+    /// Ends the run and reads its log.
+    fn finish(mut self) -> SimLog {
+        if let Some(mut stdin) = self.stdin.take() {
+            let _ = stdin.flush();
+        }
+        let status = self.child.wait().expect("harness ends");
+        assert!(status.success(), "harness failed: {status}");
+        SimLog::read(&self.log_path)
+    }
+}
+
+/// The harness log: pin edges and UART lines, in cycles.
+#[derive(Default)]
+struct SimLog {
+    edges: Vec<(u64, usize, bool)>,
+    host_lines: Vec<(u64, HostLine)>,
+    host_raw: Vec<(u64, String)>,
+    device_lines: Vec<(u64, DeviceLine)>,
+    end: String,
+}
+
+/// One pulse frame: the cycle channel 0 rose, and each channel's width in µs.
+#[derive(Debug, Clone, Copy)]
+struct Frame {
+    start: u64,
+    widths_us: [f64; CHANNELS],
+}
+
+impl SimLog {
+    fn read(path: &Path) -> Self {
+        let text = std::fs::read_to_string(path).expect("harness log");
+        let mut log = Self::default();
+        for line in text.lines() {
+            let mut parts = line.splitn(3, ' ');
+            let (Some(tag), Some(cycle), rest) = (parts.next(), parts.next(), parts.next()) else {
+                continue;
+            };
+            let cycle: u64 = cycle.parse().expect("cycle");
+            let rest = rest.unwrap_or("");
+            match tag {
+                "E" => {
+                    let (channel, level) = rest.split_once(' ').expect("edge");
+                    log.edges
+                        .push((cycle, channel.parse().expect("ch"), level == "1"));
+                }
+                "R" => {
+                    log.host_raw.push((cycle, rest.to_owned()));
+                    if let Ok(parsed) = HostLine::parse(rest.as_bytes()) {
+                        log.host_lines.push((cycle, parsed));
+                    }
+                }
+                "T" => {
+                    if let Ok(parsed) = DeviceLine::parse(rest.as_bytes()) {
+                        log.device_lines.push((cycle, parsed));
+                    }
+                }
+                "Q" => log.end = rest.to_owned(),
+                _ => {}
+            }
+        }
+        log
+    }
+
+    fn frames(&self) -> Vec<Frame> {
+        let mut pulses: Vec<Vec<(u64, u64)>> = vec![Vec::new(); CHANNELS];
+        let mut rose: [Option<u64>; CHANNELS] = [None; CHANNELS];
+        for &(cycle, channel, level) in &self.edges {
+            if level {
+                rose[channel] = Some(cycle);
+            } else if let Some(start) = rose[channel].take() {
+                pulses[channel].push((start, cycle - start));
+            }
+        }
+        pulses[0]
+            .iter()
+            .map(|&(start, _)| {
+                let mut widths_us = [f64::NAN; CHANNELS];
+                for (channel, width) in widths_us.iter_mut().enumerate() {
+                    if let Some(&(_, cycles)) = pulses[channel]
+                        .iter()
+                        .find(|(rise, _)| *rise >= start && *rise < start + FRAME_CYCLES)
+                    {
+                        *width = cycles as f64 / CYCLES_PER_US;
+                    }
+                }
+                Frame { start, widths_us }
+            })
+            // A frame cut off by the end of the run is not a frame.
+            .filter(|frame| frame.widths_us.iter().all(|w| w.is_finite()))
+            .collect()
+    }
+
+    fn setpoints(&self) -> Vec<(u64, ChannelValues)> {
+        self.host_lines
+            .iter()
+            .filter_map(|&(cycle, line)| match line.message {
+                HostMessage::Setpoint(values) => Some((cycle, values)),
+                _ => None,
+            })
+            .collect()
+    }
+
+    fn first_host_line(&self, wanted: impl Fn(&HostMessage) -> bool) -> u64 {
+        self.host_lines
+            .iter()
+            .find(|(_, line)| wanted(&line.message))
+            .map(|&(cycle, _)| cycle)
+            .expect("the host line is in the log")
+    }
+
+    fn greetings_sent(&self) -> usize {
+        self.device_lines
+            .iter()
+            .filter(|(_, line)| matches!(line.message, DeviceMessage::Greeting(_)))
+            .count()
+    }
+}
+
+fn ms(cycles: u64) -> f64 {
+    cycles as f64 / 16_000.0
+}
+
+fn same_widths(a: &[f64; CHANNELS], b: &[f64; CHANNELS]) -> bool {
+    a.iter().zip(b).all(|(x, y)| (x - y).abs() <= 1.0)
+}
+
+fn units_to_us(values: &ChannelValues) -> [f64; CHANNELS] {
+    let mut us = [0.0; CHANNELS];
+    for (slot, &units) in us.iter_mut().zip(values.as_slice()) {
+        *slot = f64::from(units.clamp(1000, 5000)) * 0.5;
+    }
+    us
+}
+
+/// Each frame that started at least 1 ms after a setpoint arrived, with no other setpoint
+/// arriving in the 1 ms before it, must carry that setpoint within ±1 µs on every channel.
+/// Returns how many frames were compared.
+fn check_frames_follow_setpoints(log: &SimLog, until: u64) -> usize {
+    let setpoints = log.setpoints();
+    let mut compared = 0;
+    for frame in log.frames().iter().filter(|f| f.start < until) {
+        let before: Vec<_> = setpoints
+            .iter()
+            .filter(|(cycle, _)| *cycle < frame.start)
+            .collect();
+        let Some(&&(arrived, values)) = before.last() else {
+            continue;
+        };
+        if frame.start - arrived < 16_000 {
+            continue; // ambiguous: it may or may not have been taken for this frame
+        }
+        let expected = units_to_us(&values);
+        for (channel, (measured, commanded)) in frame.widths_us.iter().zip(expected).enumerate() {
+            assert!(
+                (measured - commanded).abs() <= 1.0,
+                "frame at {:.3} ms, channel {channel}: {measured} µs, commanded {commanded} µs",
+                ms(frame.start),
+            );
+        }
+        compared += 1;
+    }
+    compared
+}
+
+/// The frame period, 20 ms ± 0.1 %, between every pair of consecutive frames.
+fn check_frame_period(frames: &[Frame]) {
+    for pair in frames.windows(2) {
+        let period = pair[1].start - pair[0].start;
+        let error = period.abs_diff(FRAME_CYCLES) as f64 / FRAME_CYCLES as f64;
+        assert!(
+            error <= 0.001,
+            "frame period {:.4} ms at {:.3} ms",
+            ms(period),
+            ms(pair[0].start)
+        );
+    }
+}
+
+fn hil_options() -> StreamOptions {
+    // The simulator may run slower than the wall clock on a busy machine; the protocol's
+    // timing is checked in simulated time, so the host is patient in wall time.
+    StreamOptions {
+        period: Duration::from_millis(20),
+        ack_timeout: Duration::from_secs(2),
+        greeting_timeout: Duration::from_secs(10),
+        heartbeat_interval: Duration::from_millis(50),
+        ..StreamOptions::default()
+    }
+}
+
+fn wait_for(link: &Link, within: Duration, wanted: impl Fn(&LinkEvent) -> bool) -> LinkEvent {
+    let until = Instant::now() + within;
+    while let Some(left) = until.checked_duration_since(Instant::now()) {
+        if let Some(event) = link.next_event(left)
+            && wanted(&event)
+        {
+            return event;
+        }
+    }
+    panic!("no such event within {within:?}; stats {:?}", link.stats());
+}
+
+/// A sample sequence in µs: each joint swings on its own slow sine, the gripper closes.
+fn sample_pose_us(step: usize) -> [f64; CHANNELS] {
+    let mut pose = [0.0; CHANNELS];
+    for (joint, pulse_us) in pose.iter_mut().enumerate().take(6) {
+        let phase = step as f64 * 0.09 + joint as f64 * 0.7;
+        *pulse_us = 1500.0 + (300.0 + 60.0 * joint as f64) * phase.sin() + 0.3 * joint as f64;
+    }
+    pose[6] = 1100.0 + 8.25 * step as f64;
+    pose
+}
+
+fn to_units(info: &DeviceInfo, pose_us: &[f64; CHANNELS]) -> ChannelValues {
+    let units: Vec<u16> = pose_us.iter().map(|&us| info.units_from_us(us)).collect();
+    ChannelValues::from_slice(&units).expect("seven values")
+}
+
+#[test]
+fn streamed_sequence_gives_commanded_pulses_and_a_steady_frame() {
+    let Some(hil) = hil() else { return };
+    let run = start(hil, "stream");
+    let link = Link::connect(Box::new(run.open()), hil_options()).expect("greets the firmware");
+    let info = link.device();
+    assert_eq!(
+        (info.channel_count, info.pulse_unit_ns, info.frame_period_us),
+        (7, 500, 20_000)
+    );
+    link.start_stream().expect("streams");
+    for step in 0..60 {
+        link.push_setpoint(to_units(&info, &sample_pose_us(step)))
+            .expect("queued");
+    }
+    link.finish_stream().expect("alive");
+    wait_for(&link, Duration::from_secs(30), |e| {
+        matches!(e, LinkEvent::StreamFinished { frames_sent: 60 })
+    });
+    run.wait_simulated(Duration::from_millis(100));
+    let stats = link.stats();
+    drop(link);
+    let log = run.finish();
+
+    let frames = log.frames();
+    assert!(frames.len() > 20, "{} frames", frames.len());
+    check_frame_period(&frames);
+    let compared = check_frames_follow_setpoints(&log, u64::MAX);
+    assert!(compared >= 15, "only {compared} frames could be compared");
+    assert_eq!(log.setpoints().len(), 60);
+    assert_eq!(stats.frames_acked, 60, "{stats:?}");
+}
+
+#[test]
+fn emergency_stop_holds_within_one_frame_until_a_confirmed_reset() {
+    let Some(hil) = hil() else { return };
+    let run = start(hil, "estop");
+    let link = Link::connect(Box::new(run.open()), hil_options()).expect("greets the firmware");
+    let info = link.device();
+    link.start_stream().expect("streams");
+    for step in 0..25 {
+        link.push_setpoint(to_units(&info, &sample_pose_us(step)))
+            .expect("queued");
+    }
+    // Stop in the middle of a moving stream.
+    run.wait_simulated(Duration::from_millis(200));
+    link.emergency_stop().trigger();
+    wait_for(&link, Duration::from_secs(10), |e| {
+        matches!(e, LinkEvent::StopConfirmed { .. })
+    });
+    assert_eq!(link.start_stream(), Err(LinkError::StopLatched));
+    run.wait_simulated(Duration::from_millis(300));
+    link.reset_after_stop(ResetConfirmation::confirmed_by_person())
+        .expect("firmware acknowledges the reset");
+    link.start_stream().expect("streams after the reset");
+    for step in 40..50 {
+        link.push_setpoint(to_units(&info, &sample_pose_us(step)))
+            .expect("queued");
+    }
+    link.finish_stream().expect("alive");
+    wait_for(&link, Duration::from_secs(30), |e| {
+        matches!(e, LinkEvent::StreamFinished { .. })
+    });
+    run.wait_simulated(Duration::from_millis(100));
+    drop(link);
+    let log = run.finish();
+
+    let stop = log.first_host_line(|m| *m == HostMessage::EmergencyStop);
+    let reset = log.first_host_line(|m| *m == HostMessage::Reset);
+    let frames = log.frames();
+    check_frame_period(&frames);
+    // The stop takes effect before the next frame: the first frame starting after the stop
+    // line has arrived (plus 1 ms for the firmware to act on it) repeats the frame before
+    // it, and every frame up to the reset does too.
+    let acting = stop + 16_000;
+    let before = frames
+        .iter()
+        .rev()
+        .find(|f| f.start <= acting)
+        .expect("a frame before the stop");
+    let held: Vec<_> = frames
+        .iter()
+        .filter(|f| f.start > acting && f.start < reset)
+        .collect();
+    assert!(
+        held.len() >= 12,
+        "{} frames between stop and reset",
+        held.len()
+    );
+    for frame in &held {
+        assert!(
+            same_widths(&frame.widths_us, &before.widths_us),
+            "frame at {:.3} ms moved after the stop at {:.3} ms",
+            ms(frame.start),
+            ms(stop)
+        );
+    }
+    // After the reset the arm follows setpoints again.
+    let last = frames.last().expect("frames");
+    assert!(!same_widths(&last.widths_us, &before.widths_us));
+    let compared = check_frames_follow_setpoints(&log, stop);
+    assert!(compared >= 5, "{compared} frames compared before the stop");
+}
+
+/// A pty opened without the streaming thread, to send exactly the bytes a test wants.
+struct RawPort {
+    transport: SerialTransport,
+    assembler: LineAssembler,
+    seq: u8,
+    heard: Vec<DeviceLine>,
+    unread: std::collections::VecDeque<DeviceLine>,
+}
+
+impl RawPort {
+    fn new(run: &Run) -> Self {
+        let mut port = Self {
+            transport: run.open(),
+            assembler: LineAssembler::new(),
+            seq: 0x40,
+            heard: Vec::new(),
+            unread: std::collections::VecDeque::new(),
+        };
+        // Bytes sent while the firmware is still starting are lost, as on a board that
+        // resets when its port opens: greet until the greeting is acknowledged.
+        for _ in 0..20 {
+            let greeting = port.send(HostMessage::Greeting {
+                protocol_version: 1,
+            });
+            if port
+                .try_read_until(Duration::from_millis(300), |line| {
+                    matches!(line.message, DeviceMessage::Ack(ack) if ack.acked_seq == greeting)
+                })
+                .is_some()
+            {
+                return port;
+            }
+        }
+        panic!(
+            "the firmware never acknowledged a greeting; heard {:?}",
+            port.heard
+        );
+    }
+
+    fn send(&mut self, message: HostMessage) -> u8 {
+        let seq = self.seq;
+        self.seq = self.seq.wrapping_add(1);
+        self.raw(HostLine { seq, message }.encode().as_bytes());
+        seq
+    }
+
+    fn raw(&mut self, bytes: &[u8]) {
+        self.transport.write_all(bytes).expect("pty write");
+    }
+
+    /// Reads until a line satisfies `wanted`, for at most 15 s of wall time.
+    fn read_until(&mut self, wanted: impl Fn(&DeviceLine) -> bool) -> DeviceLine {
+        match self.try_read_until(Duration::from_secs(15), wanted) {
+            Some(line) => line,
+            None => panic!(
+                "the firmware did not answer in time; heard {:?}",
+                self.heard
+            ),
+        }
+    }
+
+    /// The next line satisfying `wanted`, skipping others, waiting at most `within`.
+    fn try_read_until(
+        &mut self,
+        within: Duration,
+        wanted: impl Fn(&DeviceLine) -> bool,
+    ) -> Option<DeviceLine> {
+        let until = Instant::now() + within;
+        let mut buf = [0u8; 256];
+        loop {
+            while let Some(line) = self.unread.pop_front() {
+                if wanted(&line) {
+                    return Some(line);
+                }
+            }
+            if Instant::now() >= until {
+                return None;
+            }
+            let count = self
+                .transport
+                .read_timeout(&mut buf, Duration::from_millis(5))
+                .expect("pty read");
+            for &byte in &buf[..count] {
+                if let Assembled::Line(line) = self.assembler.push(byte)
+                    && let Ok(parsed) = DeviceLine::parse(line)
+                {
+                    self.heard.push(parsed);
+                    self.unread.push_back(parsed);
+                }
+            }
+        }
+    }
+
+    fn expect_ack(&mut self, seq: u8, outcome: AckOutcome) {
+        let line = self.read_until(
+            |line| matches!(line.message, DeviceMessage::Ack(ack) if ack.acked_seq == seq),
+        );
+        let DeviceMessage::Ack(ack) = line.message else {
+            unreachable!()
+        };
+        assert_eq!(ack.outcome, outcome, "acknowledgement of line {seq:02X}");
+    }
+
+    fn acked(&self, seq: u8) -> bool {
+        self.heard
+            .iter()
+            .any(|line| matches!(line.message, DeviceMessage::Ack(ack) if ack.acked_seq == seq))
+    }
+
+    fn status_after_heartbeat(&mut self) -> armwright_link::DeviceStatus {
+        let beat = self.send(HostMessage::Heartbeat);
+        self.expect_ack(beat, AckOutcome::Accepted);
+        let line = self.read_until(|line| matches!(line.message, DeviceMessage::Status(_)));
+        let DeviceMessage::Status(status) = line.message else {
+            unreachable!()
+        };
+        status
+    }
+}
+
+fn setpoint(units: [u16; CHANNELS]) -> HostMessage {
+    HostMessage::Setpoint(ChannelValues::from_slice(&units).expect("seven values"))
+}
+
+fn with_check(text: &str) -> Vec<u8> {
+    let check = armwright_link::crc16_ccitt_false(text.as_bytes());
+    format!("{text}/{check:04X}\n").into_bytes()
+}
+
+#[test]
+fn watchdog_holds_after_250_ms_of_silence_and_reports_it() {
+    let Some(hil) = hil() else { return };
+    let run = start(hil, "watchdog");
+    let mut port = RawPort::new(&run);
+    let pose = [2000, 2400, 2800, 3200, 3600, 4000, 4400];
+    let seq = port.send(setpoint(pose));
+    port.expect_ack(seq, AckOutcome::Accepted);
+    let tripped = port.read_until(|line| {
+        matches!(line.message, DeviceMessage::Status(s) if s.faults.contains(Faults::WATCHDOG))
+    });
+    let DeviceMessage::Status(status) = tripped.message else {
+        unreachable!()
+    };
+    assert_eq!(status.mode, DeviceMode::Keeping);
+    assert_eq!(status.watchdog_trips, 1);
+    run.wait_simulated(Duration::from_millis(200));
+    drop(port);
+    let log = run.finish();
+
+    let last_host_line = log
+        .host_lines
+        .last()
+        .map(|&(cycle, _)| cycle)
+        .expect("lines");
+    let report = log
+        .device_lines
+        .iter()
+        .find(|(_, line)| line.seq == tripped.seq)
+        .map(|&(cycle, _)| cycle)
+        .expect("the status line is in the log");
+    let silence_ms = ms(report - last_host_line);
+    assert!(
+        (230.0..=270.0).contains(&silence_ms),
+        "watchdog reported after {silence_ms:.1} ms of silence"
+    );
+    // It holds: the pulses go on at the last setpoint, not limp.
+    let expected = units_to_us(&ChannelValues::from_slice(&pose).expect("seven"));
+    let after: Vec<_> = log
+        .frames()
+        .into_iter()
+        .filter(|f| f.start > report)
+        .collect();
+    assert!(after.len() >= 5, "{} frames after the trip", after.len());
+    assert!(after.iter().all(|f| same_widths(&f.widths_us, &expected)));
+    check_frame_period(&log.frames());
+}
+
+#[test]
+fn bad_lines_are_counted_not_acted_on_and_out_of_range_values_are_clamped() {
+    let Some(hil) = hil() else { return };
+    let run = start(hil, "bad-input");
+    let mut port = RawPort::new(&run);
+    let good = [3000; CHANNELS];
+    let seq = port.send(setpoint(good));
+    port.expect_ack(seq, AckOutcome::Accepted);
+    // Bytes lost while the firmware started may already be counted.
+    let before = port.status_after_heartbeat();
+
+    // Bad checksum: a correct line for other widths with its last check digit changed.
+    let mut bad_check = HostLine {
+        seq: 0x10,
+        message: setpoint([4000; CHANNELS]),
+    }
+    .encode()
+    .as_bytes()
+    .to_vec();
+    let last_digit = bad_check.len() - 2;
+    bad_check[last_digit] = if bad_check[last_digit] == b'0' {
+        b'1'
+    } else {
+        b'0'
+    };
+    port.raw(&bad_check);
+    // Unknown kind with a good check, and a truncated setpoint.
+    port.raw(&with_check("q11:0FA0"));
+    port.raw(b"s12:0FA00FA00FA00FA0\n");
+    run.wait_simulated(Duration::from_millis(100));
+    let status = port.status_after_heartbeat();
+    assert_eq!(
+        (
+            status.bad_checksums - before.bad_checksums,
+            status.bad_lines - before.bad_lines
+        ),
+        (1, 2),
+        "{before:?} → {status:?}"
+    );
+    assert!(status.faults.contains(Faults::BAD_INPUT));
+    assert!(!port.acked(0x10) && !port.acked(0x11) && !port.acked(0x12));
+
+    // Out of range: clamped to 500 µs and 2500 µs and flagged.
+    let clamped = [0x0100, 3000, 3000, 3000, 3000, 3000, 0xFFFF];
+    let seq = port.send(setpoint(clamped));
+    port.expect_ack(seq, AckOutcome::Clamped);
+    run.wait_simulated(Duration::from_millis(60));
+    let status = port.status_after_heartbeat();
+    assert_eq!(status.clamped_values, 2);
+    assert!(status.faults.contains(Faults::CLAMPED));
+
+    // While stopped, setpoints are refused.
+    let stop = port.send(HostMessage::EmergencyStop);
+    port.expect_ack(stop, AckOutcome::Accepted);
+    let refused = port.send(setpoint(good));
+    port.expect_ack(refused, AckOutcome::Refused);
+    let status = port.status_after_heartbeat();
+    assert_eq!(status.mode, DeviceMode::Stopped);
+    run.wait_simulated(Duration::from_millis(60));
+    drop(port);
+    let log = run.finish();
+
+    let bad_at = log
+        .host_raw
+        .iter()
+        .find(|(_, text)| text.starts_with("s10"))
+        .map(|&(cycle, _)| cycle)
+        .expect("bad line in the log");
+    let clamp_at = log
+        .setpoints()
+        .iter()
+        .find(|(_, values)| values.as_slice()[0] == 0x0100)
+        .map(|&(cycle, _)| cycle)
+        .expect("clamped setpoint in the log");
+    let frames = log.frames();
+    let good_us = [1500.0; CHANNELS];
+    let between: Vec<_> = frames
+        .iter()
+        .filter(|f| f.start > bad_at && f.start + 16_000 < clamp_at)
+        .collect();
+    assert!(
+        between.len() >= 3,
+        "{} frames after the bad lines",
+        between.len()
+    );
+    assert!(
+        between.iter().all(|f| same_widths(&f.widths_us, &good_us)),
+        "a bad line moved the pulses"
+    );
+    let last = frames.last().expect("frames");
+    let expected = [500.0, 1500.0, 1500.0, 1500.0, 1500.0, 1500.0, 2500.0];
+    assert!(
+        same_widths(&last.widths_us, &expected),
+        "{:?}",
+        last.widths_us
+    );
+    check_frame_period(&frames);
+}
+
+#[test]
+fn a_burst_of_random_bytes_never_hangs_or_resets_the_firmware() {
+    let Some(hil) = hil() else { return };
+    let run = start(hil, "noise");
+    let mut port = RawPort::new(&run);
+    let pose = [2100, 2500, 2900, 3300, 3700, 4100, 4500];
+    let seq = port.send(setpoint(pose));
+    port.expect_ack(seq, AckOutcome::Accepted);
+    // 2 000 bytes from a fixed linear congruential sequence, then a line feed.
+    let mut state = 0x2545_F491_u32;
+    let noise: Vec<u8> = (0..2000)
+        .map(|_| {
+            state = state.wrapping_mul(1_664_525).wrapping_add(1_013_904_223);
+            (state >> 24) as u8
+        })
+        .collect();
+    for chunk in noise.chunks(100) {
+        port.raw(chunk);
+    }
+    port.raw(b"\n");
+    // Still answering: a heartbeat is acknowledged.
+    let status = port.status_after_heartbeat();
+    assert!(status.bad_lines + status.bad_checksums > 0, "{status:?}");
+    assert_ne!(status.mode, DeviceMode::Stopped);
+    drop(port);
+    let log = run.finish();
+
+    // The power-up greeting and one for each greeting line that got through; a restart
+    // would add one more.
+    let greeting_seqs: Vec<u8> = log
+        .host_lines
+        .iter()
+        .filter(|(_, line)| matches!(line.message, HostMessage::Greeting { .. }))
+        .map(|(_, line)| line.seq)
+        .collect();
+    let greetings_answered = log
+        .device_lines
+        .iter()
+        .filter(|(_, line)| {
+            matches!(line.message, DeviceMessage::Ack(ack) if greeting_seqs.contains(&ack.acked_seq))
+        })
+        .count();
+    assert_eq!(log.greetings_sent(), 1 + greetings_answered);
+    assert_eq!(log.end, "host closed");
+    let frames = log.frames();
+    let expected = units_to_us(&ChannelValues::from_slice(&pose).expect("seven"));
+    let noise_start = log.setpoints()[0].0 + 16_000;
+    let during: Vec<_> = frames.iter().filter(|f| f.start > noise_start).collect();
+    assert!(
+        during.len() >= 10,
+        "{} frames during the noise",
+        during.len()
+    );
+    assert!(during.iter().all(|f| same_widths(&f.widths_us, &expected)));
+    check_frame_period(&frames);
+}
