@@ -1,5 +1,5 @@
-//! Velocity profiles, multi-joint synchronisation, input shaping and second-order response
-//! estimates for small servo arms.
+//! Velocity profiles, multi-joint synchronisation, sequence plans and sampling, input shaping
+//! and second-order response estimates for small servo arms.
 //!
 //! # Conventions
 //!
@@ -11,7 +11,9 @@
 #![warn(missing_docs)]
 
 mod profile; // one joint's move: trapezoid and double-S profiles, evaluation, stretching
+mod sample; // setpoints from a plan at a fixed rate (50–1000 Hz)
 mod second_order; // linear second-order response: overshoot, settling time, damped frequency
+mod sequence; // waypoints → timed moves and dwells, pass-through velocities, evaluation
 mod shaping; // ZV and ZVD input shapers and shaped profiles
 mod sync; // several joints of one move: start and end together, slowest sets the duration
 
@@ -19,6 +21,11 @@ pub use crate::profile::{
     Boundary, JointLimits, JointMove, JointState, LimitKind, Profile, ProfileError, ProfileShape,
     ProfileTimes,
 };
+pub use crate::sample::{MAX_SAMPLE_RATE_HZ, MIN_SAMPLE_RATE_HZ, Sample, Sampler};
 pub use crate::second_order::{SecondOrder, VibrationError};
+pub use crate::sequence::{
+    Segment, SegmentKind, SequenceError, SequencePlan, SequenceWaypoint, WaypointKind,
+    plan_sequence,
+};
 pub use crate::shaping::{Impulse, ShapedProfile, Shaper, ShaperKind};
 pub use crate::sync::{MAX_JOINTS, SyncError, SyncedMove, synchronise};

@@ -1,4 +1,6 @@
 //! Seeded random problems shared by the benchmarks: the same inputs every run.
+// Each bench file uses only part of this module.
+#![allow(dead_code)]
 
 use armwright_trajectory::{JointLimits, JointMove, ProfileShape, synchronise};
 
