@@ -13,6 +13,7 @@ mod dynamics; // recursive Newton–Euler inverse dynamics and the inertia each 
 mod error; // the error shared by every pose-taking function
 mod fk; // joint positions → link frames and tool-point pose
 mod gravity; // holding torque against gravity, with payload
+mod ik; // tool-point target → joint positions, closed form and damped least squares
 mod jacobian; // tool-point and space Jacobians
 mod torque_use; // per-joint efforts and the share of each servo's rating they use
 
@@ -26,5 +27,8 @@ pub use crate::dynamics::{inverse_dynamics, joint_inertia};
 pub use crate::error::KinematicsError;
 pub use crate::fk::{ChainPose, ToolAngles, forward, tool_pose};
 pub use crate::gravity::{STANDARD_GRAVITY, gravity_torques};
+pub use crate::ik::{
+    Branch, IkError, IkOptions, IkSolutions, IkTarget, IkTask, solve_ik, solve_ik_frame,
+};
 pub use crate::jacobian::{Jacobian, space_jacobian, tool_jacobian};
 pub use crate::torque_use::{JointEfforts, torque_use};

@@ -1,0 +1,298 @@
+//! Damped least squares for any serial chain (Levenberg–Marquardt steps on the tool Jacobian).
+//!
+//! Each step solves the 6×6 damped normal equations (J·Jᵀ + λ²·I)·y = e and moves the joints by
+//! Jᵀ·y, clamped into their limits (Buss, "Introduction to inverse kinematics with Jacobian
+//! transpose, pseudoinverse and damped least squares methods", 2004, §5). λ falls while steps
+//! lower the error and rises when they do not. Rows the task leaves out are zero. The first
+//! start is the near pose (clamped into the limits); further starts are seeded random in-limit
+//! poses, so the time is bounded by (1 + restarts) × max_iterations steps of fixed cost.
+
+use nalgebra::{Isometry3, Matrix6, SMatrix, SVector, UnitQuaternion, Vector3, Vector6};
+
+use super::{Branch, IkError, IkOptions, IkSolutions, IkTarget, IkTask, tool_rotation};
+use crate::arm::{Arm, MAX_JOINTS};
+use crate::fk::{ToolAngles, tool_pose};
+use crate::jacobian::tool_jacobian;
+
+/// The longest joint step (rad or m, Euclidean over the joints) one iteration may take.
+const MAX_STEP: f64 = 0.5;
+/// Above this damping (m) the start is taken as stuck.
+const STUCK_DAMPING: f64 = 1e3;
+/// Damping never falls below this (m), so the normal equations stay solvable.
+const MIN_DAMPING: f64 = 1e-9;
+
+type Pose = SVector<f64, MAX_JOINTS>;
+
+/// What the solver aims for: the tool point, and per task the pitch or the whole rotation.
+struct Goal {
+    position: Vector3<f64>,
+    task: IkTask,
+    pitch: f64,
+    rotation: UnitQuaternion<f64>,
+    angle_weight: f64,
+}
+
+/// The task error at one pose: the weighted error vector and the unweighted sizes.
+struct TaskError {
+    vector: Vector6<f64>,
+    position: f64,
+    angle: f64,
+}
+
+impl TaskError {
+    fn norm(&self) -> f64 {
+        self.vector.norm()
+    }
+}
+
+/// One branch found by damped least squares from the near pose and restarts; free target
+/// angles come from the near pose's tool angles.
+pub(crate) fn solve(
+    arm: &Arm,
+    target: &IkTarget,
+    near: &[f64],
+    options: &IkOptions,
+) -> Result<IkSolutions, IkError> {
+    let near_angles = ToolAngles::of(&tool_pose(arm, near)?);
+    let pitch = target.angle.unwrap_or(near_angles.pitch);
+    let roll = target.roll.unwrap_or(near_angles.roll);
+    let goal = Goal {
+        position: target.position,
+        task: options.task,
+        pitch,
+        rotation: tool_rotation(near_angles.yaw, pitch, roll),
+        angle_weight: angle_weight(options),
+    };
+    descend_with_restarts(arm, &goal, near, options)
+}
+
+/// One branch found by damped least squares towards a whole tool frame (m, base frame), as
+/// much of it as `options.task` asks for.
+pub(crate) fn solve_frame(
+    arm: &Arm,
+    frame: &Isometry3<f64>,
+    near: &[f64],
+    options: &IkOptions,
+) -> Result<IkSolutions, IkError> {
+    let goal = Goal {
+        position: frame.translation.vector,
+        task: options.task,
+        pitch: ToolAngles::of(frame).pitch,
+        rotation: frame.rotation,
+        angle_weight: angle_weight(options),
+    };
+    descend_with_restarts(arm, &goal, near, options)
+}
+
+fn angle_weight(options: &IkOptions) -> f64 {
+    if options.angle_weight.is_finite() {
+        options.angle_weight.max(0.0)
+    } else {
+        0.0
+    }
+}
+
+fn descend_with_restarts(
+    arm: &Arm,
+    goal: &Goal,
+    near: &[f64],
+    options: &IkOptions,
+) -> Result<IkSolutions, IkError> {
+    let count = arm.joint_count();
+    let mut start = Pose::zeros();
+    for (index, joint) in arm.joints().iter().enumerate() {
+        start[index] = near[index].clamp(joint.min, joint.max);
+    }
+    let mut restart_poses = SplitMix(options.seed);
+    let mut iterations = 0;
+    let mut best_residual = f64::INFINITY;
+    for attempt in 0..=options.restarts {
+        if attempt > 0 {
+            for (index, joint) in arm.joints().iter().enumerate() {
+                start[index] = joint.min + (joint.max - joint.min) * restart_poses.unit();
+            }
+        }
+        let (pose, error) = descend(arm, goal, start, options, &mut iterations)?;
+        let residual = error.norm();
+        if converged(goal, &error, options) {
+            let mut branch = Branch::new(&pose.as_slice()[..count], "damped least squares");
+            branch.residual = residual;
+            branch.iterations = iterations;
+            let mut solutions = IkSolutions::empty();
+            solutions.push_distinct(branch);
+            return Ok(solutions);
+        }
+        best_residual = best_residual.min(residual);
+    }
+    Err(IkError::NotConverged {
+        residual: best_residual,
+        iterations,
+    })
+}
+
+fn converged(goal: &Goal, error: &TaskError, options: &IkOptions) -> bool {
+    error.position <= options.position_tolerance
+        && (goal.task == IkTask::Position || error.angle <= options.angle_tolerance)
+}
+
+/// Descends from `start` until converged, stuck or out of iterations; returns the best pose.
+fn descend(
+    arm: &Arm,
+    goal: &Goal,
+    start: Pose,
+    options: &IkOptions,
+    iterations: &mut usize,
+) -> Result<(Pose, TaskError), IkError> {
+    let count = arm.joint_count();
+    let mut pose = start;
+    let mut tool = tool_pose(arm, &pose.as_slice()[..count])?;
+    let mut error = task_error(goal, &tool);
+    let mut jacobian = task_jacobian(arm, goal, &pose, &tool)?;
+    let mut damping = if options.damping.is_finite() && options.damping > 0.0 {
+        options.damping
+    } else {
+        MIN_DAMPING
+    };
+    for _ in 0..options.max_iterations {
+        if converged(goal, &error, options) || damping > STUCK_DAMPING {
+            break;
+        }
+        *iterations += 1;
+        let Some(candidate) = limited_step(arm, &jacobian, &error, &pose, damping) else {
+            damping *= 10.0;
+            continue;
+        };
+        let candidate_tool = tool_pose(arm, &candidate.as_slice()[..count])?;
+        let candidate_error = task_error(goal, &candidate_tool);
+        if candidate_error.norm() < error.norm() {
+            pose = candidate;
+            tool = candidate_tool;
+            error = candidate_error;
+            jacobian = task_jacobian(arm, goal, &pose, &tool)?;
+            damping = (damping * 0.3).max(MIN_DAMPING);
+        } else {
+            damping *= 10.0;
+        }
+    }
+    Ok((pose, error))
+}
+
+/// One damped step from `pose`, kept within the joint limits. A joint already at a limit that
+/// the step would push past it is held there and the step is solved again without it, so the
+/// other joints make up for it; a joint that would pass a limit from inside stops at it.
+/// `None` if the normal equations cannot be solved.
+fn limited_step(
+    arm: &Arm,
+    jacobian: &SMatrix<f64, 6, MAX_JOINTS>,
+    error: &TaskError,
+    pose: &Pose,
+    damping: f64,
+) -> Option<Pose> {
+    let mut active = *jacobian;
+    let mut candidate = *pose;
+    for _ in 0..3 {
+        let normal = active * active.transpose() + Matrix6::identity() * (damping * damping);
+        let mut step: Pose = active.transpose() * normal.cholesky()?.solve(&error.vector);
+        let length = step.norm();
+        if !length.is_finite() {
+            return None;
+        }
+        if length > MAX_STEP {
+            step *= MAX_STEP / length;
+        }
+        candidate = pose + step;
+        let mut held = false;
+        for (index, joint) in arm.joints().iter().enumerate() {
+            let pushed_low = pose[index] <= joint.min && step[index] < 0.0;
+            let pushed_high = pose[index] >= joint.max && step[index] > 0.0;
+            if (pushed_low || pushed_high) && active.column(index).norm() > 0.0 {
+                active.column_mut(index).fill(0.0);
+                held = true;
+            }
+            candidate[index] = candidate[index].clamp(joint.min, joint.max);
+        }
+        if !held {
+            break;
+        }
+    }
+    Some(candidate)
+}
+
+/// The weighted task error at a tool pose: position error (m), then per task the pitch error
+/// or the rotation error as a rotation vector in the base frame, times the angle weight.
+fn task_error(goal: &Goal, tool: &Isometry3<f64>) -> TaskError {
+    let position_error = goal.position - tool.translation.vector;
+    let mut vector = Vector6::zeros();
+    vector.fixed_rows_mut::<3>(0).copy_from(&position_error);
+    let angle = match goal.task {
+        IkTask::Position => 0.0,
+        IkTask::PositionPitch => {
+            let approach = tool.rotation * Vector3::x();
+            let pitch = approach.z.atan2(approach.x.hypot(approach.y));
+            let pitch_error = goal.pitch - pitch;
+            vector[3] = goal.angle_weight * pitch_error;
+            pitch_error.abs()
+        }
+        IkTask::FullPose => {
+            let turn = (goal.rotation * tool.rotation.inverse()).scaled_axis();
+            vector
+                .fixed_rows_mut::<3>(3)
+                .copy_from(&(turn * goal.angle_weight));
+            turn.norm()
+        }
+    };
+    TaskError {
+        vector,
+        position: position_error.norm(),
+        angle,
+    }
+}
+
+/// The tool Jacobian reduced to the task's rows, angle rows times the angle weight.
+fn task_jacobian(
+    arm: &Arm,
+    goal: &Goal,
+    pose: &Pose,
+    tool: &Isometry3<f64>,
+) -> Result<SMatrix<f64, 6, MAX_JOINTS>, IkError> {
+    let full = tool_jacobian(arm, &pose.as_slice()[..arm.joint_count()])?.matrix;
+    let mut task = SMatrix::<f64, 6, MAX_JOINTS>::zeros();
+    task.fixed_rows_mut::<3>(0)
+        .copy_from(&full.fixed_rows::<3>(0));
+    let angular = full.fixed_rows::<3>(3);
+    match goal.task {
+        IkTask::Position => {}
+        IkTask::PositionPitch => {
+            // Pitch rate = ω · unit(a × z) for approach axis a; when a is vertical any
+            // horizontal axis perpendicular to it serves, so take the tool's Y axis.
+            let approach = tool.rotation * Vector3::x();
+            let across = approach.cross(&Vector3::z());
+            let axis = if across.norm() > 1e-9 {
+                across.normalize()
+            } else {
+                tool.rotation * Vector3::y()
+            };
+            let row = axis.transpose() * angular * goal.angle_weight;
+            task.fixed_rows_mut::<1>(3).copy_from(&row);
+        }
+        IkTask::FullPose => {
+            task.fixed_rows_mut::<3>(3)
+                .copy_from(&(angular * goal.angle_weight));
+        }
+    }
+    Ok(task)
+}
+
+/// SplitMix64: a small seeded generator for the restart poses.
+struct SplitMix(u64);
+
+impl SplitMix {
+    /// Uniform in [0, 1).
+    fn unit(&mut self) -> f64 {
+        self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
+        let mut z = self.0;
+        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
+        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
+        ((z ^ (z >> 31)) >> 11) as f64 / (1u64 << 53) as f64
+    }
+}
