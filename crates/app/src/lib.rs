@@ -1,0 +1,10 @@
+//! Armwright's scene document and command line, shared by the `armwright` binary.
+//!
+//! The scene file is our own JSON format (`*.armwright.json`): every number carries its unit in
+//! its key (`_mm`, `_deg`, `_g`, `_ncm`, `_us`, `_ms`, `_pct`). [`scene`] reads, checks, migrates
+//! and saves it and turns its arm into an [`armwright_kinematics::Arm`]; [`cli`] is the command
+//! line on top.
+#![warn(missing_docs)]
+
+pub mod cli; // subcommands: check, pose, reach, envelope
+pub mod scene; // the scene document: types, load, validate, migrate, save, unit conversion

@@ -1,0 +1,455 @@
+//! The scene document as Rust types, in the file's own units (mm, degrees, g, N·cm, µs, ms, %).
+//!
+//! Joint positions are in degrees for a revolute joint and in mm for a prismatic one; the file's
+//! keys say which (`min_deg` or `min_mm`). [`super::units`] converts to the SI arm model.
+
+/// The whole scene: arm, sequence of waypoints, timing settings, workspace objects and link
+/// settings.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Scene {
+    /// A short, free description of the task (shown to people, not interpreted).
+    pub description: String,
+    /// The arm: type, dimensions, joints, masses, gripper.
+    pub arm: ArmDoc,
+    /// The sequence: ordered waypoints.
+    pub waypoints: Vec<Waypoint>,
+    /// Timing settings for planning and retiming.
+    pub timing: Timing,
+    /// Objects on and around the table.
+    pub workspace: Workspace,
+    /// How to reach the device that makes the pulses.
+    pub link: LinkSettings,
+}
+
+/// Revolute or prismatic: decides whether a joint's positions are in degrees or mm.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum JointKindDoc {
+    /// Turns; positions in degrees.
+    Revolute,
+    /// Slides; positions in mm.
+    Prismatic,
+}
+
+impl JointKindDoc {
+    /// The word in the file: `revolute` or `prismatic`.
+    pub fn word(self) -> &'static str {
+        match self {
+            JointKindDoc::Revolute => "revolute",
+            JointKindDoc::Prismatic => "prismatic",
+        }
+    }
+
+    /// The unit suffix of this kind's positions: `deg` or `mm`.
+    pub fn unit(self) -> &'static str {
+        match self {
+            JointKindDoc::Revolute => "deg",
+            JointKindDoc::Prismatic => "mm",
+        }
+    }
+}
+
+/// Sizes of a horizontal-jointed arm (SCARA type), in mm.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ScaraSize {
+    /// Height of the arm's plane above the base, in mm (0 or more).
+    pub base_height_mm: f64,
+    /// Shoulder axis to elbow axis, in mm.
+    pub upper_arm_mm: f64,
+    /// Elbow axis to wrist axis, in mm.
+    pub forearm_mm: f64,
+    /// Wrist (at lift zero) down to the tool point, in mm (0 or more).
+    pub tool_drop_mm: f64,
+}
+
+/// Sizes of a vertical articulated arm, in mm.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ArticulatedSize {
+    /// Base to the shoulder axis, in mm (0 or more).
+    pub base_height_mm: f64,
+    /// Shoulder axis to elbow axis, in mm.
+    pub upper_arm_mm: f64,
+    /// Elbow axis to wrist pitch axis, in mm.
+    pub forearm_mm: f64,
+    /// Wrist pitch axis to the tool point, in mm (0 or more).
+    pub wrist_to_tool_mm: f64,
+}
+
+/// A fixed placement: a shift in mm, then a turn given as angles about the fixed X, Y and Z
+/// axes in degrees, applied as Rz(z)·Ry(y)·Rx(x).
+#[derive(Debug, Clone, PartialEq)]
+pub struct PlacementDoc {
+    /// Shift, in mm.
+    pub position_mm: [f64; 3],
+    /// Turns about fixed X, Y, Z, in degrees.
+    pub rotation_xyz_deg: [f64; 3],
+}
+
+/// One row of standard (distal) Denavit–Hartenberg parameters: Rz(θ)·Tz(d)·Tx(a)·Rx(α).
+#[derive(Debug, Clone, PartialEq)]
+pub struct DhRowDoc {
+    /// Revolute (position adds to θ) or prismatic (position adds to d).
+    pub kind: JointKindDoc,
+    /// Link length a, in mm.
+    pub a_mm: f64,
+    /// Link twist α, in degrees.
+    pub alpha_deg: f64,
+    /// Link offset d, in mm.
+    pub d_mm: f64,
+    /// Joint angle offset θ, in degrees.
+    pub theta_deg: f64,
+}
+
+/// One joint of a chain given by its axis and a point on it, every joint at zero.
+#[derive(Debug, Clone, PartialEq)]
+pub struct AxisDoc {
+    /// Revolute or prismatic.
+    pub kind: JointKindDoc,
+    /// Axis direction in the base frame (any non-zero length).
+    pub axis: [f64; 3],
+    /// A point on the axis in the base frame, in mm.
+    pub origin_mm: [f64; 3],
+}
+
+/// The arm's type and dimensions.
+#[derive(Debug, Clone, PartialEq)]
+pub enum ArmShape {
+    /// `scara`: shoulder, elbow, lift, wrist roll.
+    Scara(ScaraSize),
+    /// `articulated4`: base yaw, shoulder, elbow, wrist pitch.
+    Articulated4(ArticulatedSize),
+    /// `articulated5`: as `articulated4` plus a wrist roll.
+    Articulated5(ArticulatedSize),
+    /// `chain` with `convention: standard_dh`.
+    ChainDh {
+        /// One row per joint, base first.
+        rows: Vec<DhRowDoc>,
+        /// Tool point in the frame after the last row.
+        tool: PlacementDoc,
+    },
+    /// `chain` with `convention: origin_axis`.
+    ChainOriginAxis {
+        /// One per joint, base first.
+        axes: Vec<AxisDoc>,
+        /// Tool frame in the base frame with every joint at zero.
+        tool_home: PlacementDoc,
+    },
+}
+
+impl ArmShape {
+    /// The word in the file's `arm.type`.
+    pub fn word(&self) -> &'static str {
+        match self {
+            ArmShape::Scara(_) => "scara",
+            ArmShape::Articulated4(_) => "articulated4",
+            ArmShape::Articulated5(_) => "articulated5",
+            ArmShape::ChainDh { .. } | ArmShape::ChainOriginAxis { .. } => "chain",
+        }
+    }
+
+    /// The joint kinds this shape implies, base first.
+    pub fn joint_kinds(&self) -> Vec<JointKindDoc> {
+        use JointKindDoc::{Prismatic, Revolute};
+        match self {
+            ArmShape::Scara(_) => vec![Revolute, Revolute, Prismatic, Revolute],
+            ArmShape::Articulated4(_) => vec![Revolute; 4],
+            ArmShape::Articulated5(_) => vec![Revolute; 5],
+            ArmShape::ChainDh { rows, .. } => rows.iter().map(|row| row.kind).collect(),
+            ArmShape::ChainOriginAxis { axes, .. } => axes.iter().map(|axis| axis.kind).collect(),
+        }
+    }
+}
+
+/// The servo's proportional band: the pulse-width error across which its drive goes from zero
+/// to full, given either in µs of pulse or in degrees of servo output.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum BandDoc {
+    /// `{ "us": 40 }`.
+    Us(f64),
+    /// `{ "deg": 4 }`, degrees of servo output; converted through the joint's calibration.
+    Deg(f64),
+}
+
+/// A hobby servo's ratings, in the units of a datasheet.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ServoDoc {
+    /// Stall torque, in N·cm (a "20 kg·cm" servo is about 196 N·cm).
+    pub stall_torque_ncm: f64,
+    /// No-load speed, in degrees per second (0.17 s per 60° is about 353 °/s).
+    pub no_load_speed_deg_per_s: f64,
+    /// Pulse-width change the servo ignores, in µs.
+    pub deadband_us: f64,
+    /// Proportional band, in µs or degrees.
+    pub proportional_band: BandDoc,
+    /// Gear play at the output, total, in degrees.
+    pub backlash_deg: f64,
+    /// Mass of the servo, in g.
+    pub mass_g: f64,
+    /// Where the servo's centre of mass sits from its joint's origin, in mm, in the frame of the
+    /// link before the joint.
+    pub mount_offset_mm: [f64; 3],
+    /// For a prismatic joint only: rack pinion (or lead) radius, mm of travel per radian of servo
+    /// output. Absent for a revolute joint.
+    pub pinion_radius_mm: Option<f64>,
+}
+
+/// One measured calibration point: a joint position and the pulse width that holds it.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct CalibrationPoint {
+    /// Joint position, in degrees (revolute) or mm (prismatic).
+    pub position: f64,
+    /// Pulse width, in µs.
+    pub pulse_us: u32,
+}
+
+/// The straight-line map from joint position to pulse width, through two measured points, and
+/// the pulse range the servo accepts.
+#[derive(Debug, Clone, PartialEq)]
+pub struct CalibrationDoc {
+    /// Two measured points.
+    pub points: [CalibrationPoint; 2],
+    /// Shortest accepted pulse, in µs.
+    pub pulse_min_us: u32,
+    /// Longest accepted pulse, in µs.
+    pub pulse_max_us: u32,
+}
+
+/// The mass of the link a joint moves, in that joint's frame.
+#[derive(Debug, Clone, PartialEq)]
+pub struct LinkMassDoc {
+    /// Mass, in g.
+    pub mass_g: f64,
+    /// Centre of mass in the joint's frame, in mm.
+    pub centre_mm: [f64; 3],
+    /// Inertia about the centre of mass, in g·mm²: [Ixx, Iyy, Izz, Ixy, Ixz, Iyz]. Absent means a
+    /// point mass.
+    pub inertia_g_mm2: Option<[f64; 6]>,
+}
+
+/// One movable joint.
+#[derive(Debug, Clone, PartialEq)]
+pub struct JointDoc {
+    /// Name for reports, such as "shoulder".
+    pub name: String,
+    /// Lowest position, degrees or mm.
+    pub min: f64,
+    /// Highest position, degrees or mm.
+    pub max: f64,
+    /// Home (parking) position, degrees or mm.
+    pub home: f64,
+    /// The servo that drives it.
+    pub servo: ServoDoc,
+    /// Its position ↔ pulse width map.
+    pub calibration: CalibrationDoc,
+    /// The link it moves.
+    pub link: LinkMassDoc,
+}
+
+/// The tool (gripper body and its servo) as one mass, in the tool frame.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ToolMassDoc {
+    /// Mass, in g.
+    pub mass_g: f64,
+    /// Centre of mass in the tool frame, in mm.
+    pub centre_mm: [f64; 3],
+}
+
+/// The gripper channel's two pulse widths. The gripper is not a joint.
+#[derive(Debug, Clone, PartialEq)]
+pub struct GripperDoc {
+    /// Pulse that opens the jaws, in µs.
+    pub open_pulse_us: u32,
+    /// Pulse that closes the jaws, in µs.
+    pub closed_pulse_us: u32,
+}
+
+/// The arm.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ArmDoc {
+    /// Type and dimensions.
+    pub shape: ArmShape,
+    /// Movable joints, base first.
+    pub joints: Vec<JointDoc>,
+    /// The tool's mass.
+    pub tool: ToolMassDoc,
+    /// Payload held at the tool point, in g.
+    pub payload_g: f64,
+    /// The gripper channel, if any.
+    pub gripper: Option<GripperDoc>,
+}
+
+/// How the arm gets to a waypoint from the one before.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum MoveKind {
+    /// `joint`: each joint interpolated on its own.
+    Joint,
+    /// `straight`: the tool point on a straight line.
+    Straight,
+}
+
+/// The velocity profile of a move.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum ProfileKind {
+    /// `trapezoid`: limited velocity and acceleration.
+    Trapezoid,
+    /// `double_s`: limited jerk as well.
+    DoubleS,
+}
+
+/// Whether the arm comes to rest at a waypoint or flows through it.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Arrival {
+    /// `stop`: come to rest (and dwell).
+    Stop,
+    /// `pass_through`: flow through without stopping.
+    PassThrough,
+}
+
+/// The gripper's state at a waypoint.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum GripperState {
+    /// `open`.
+    Open,
+    /// `closed`.
+    Closed,
+}
+
+/// A stored arm pose in the sequence.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Waypoint {
+    /// Name, such as "above feeder".
+    pub name: String,
+    /// One position per joint: degrees for a revolute joint, mm for a prismatic one.
+    pub joints_deg_or_mm: Vec<f64>,
+    /// Move kind from the previous waypoint.
+    pub move_kind: MoveKind,
+    /// Velocity profile.
+    pub profile: ProfileKind,
+    /// Share of each joint's limits the move may use, in % (above 0, at most 100).
+    pub speed_share_pct: f64,
+    /// Pause at a stop, in ms.
+    pub dwell_ms: f64,
+    /// Stop or pass-through.
+    pub arrival: Arrival,
+    /// Gripper state.
+    pub gripper: GripperState,
+}
+
+/// Timing settings used by planning and retiming.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Timing {
+    /// Share of each servo's stall torque counted as its rating, in % (above 0, at most 100).
+    pub torque_derating_pct: f64,
+    /// The tool point counts as settled inside this distance of its target, in mm.
+    pub settle_band_mm: f64,
+    /// Largest allowed overshoot of the tool point, in mm.
+    pub max_overshoot_mm: f64,
+    /// Damping ratio of the servo response model (no unit).
+    pub damping_ratio: f64,
+}
+
+/// A box (an obstacle or a feeder), axis-aligned in the base frame.
+#[derive(Debug, Clone, PartialEq)]
+pub struct BoxDoc {
+    /// Name, such as "peg feeder".
+    pub name: String,
+    /// Centre of its bottom face, in mm.
+    pub position_mm: [f64; 3],
+    /// Size along X, Y, Z, in mm.
+    pub size_mm: [f64; 3],
+}
+
+/// A tray with a grid of pockets, axis-aligned in the base frame.
+#[derive(Debug, Clone, PartialEq)]
+pub struct TrayDoc {
+    /// Name, such as "sorting tray".
+    pub name: String,
+    /// Centre of its bottom face, in mm.
+    pub position_mm: [f64; 3],
+    /// Size along X, Y, Z, in mm.
+    pub size_mm: [f64; 3],
+    /// Pockets along X and along Y.
+    pub pockets: [u32; 2],
+}
+
+/// Objects on and around the table.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Workspace {
+    /// Height of the table plane in the base frame, in mm; absent when there is no table.
+    pub table_height_mm: Option<f64>,
+    /// Boxes.
+    pub boxes: Vec<BoxDoc>,
+    /// Trays.
+    pub trays: Vec<TrayDoc>,
+}
+
+/// Which device makes the pulses.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub enum Device {
+    /// `"simulated"`: the built-in simulated device.
+    Simulated,
+    /// A serial port path such as `/dev/ttyUSB0`.
+    Port(String),
+}
+
+/// Link settings.
+#[derive(Debug, Clone, PartialEq)]
+pub struct LinkSettings {
+    /// The device.
+    pub device: Device,
+    /// Serial line speed, in baud.
+    pub baud: u32,
+    /// Setpoints sent per second, in Hz.
+    pub rate_hz: f64,
+}
+
+impl Default for Waypoint {
+    /// An unnamed waypoint with no joints: a joint move, trapezoid profile, 50 % speed share,
+    /// no dwell, a stop, gripper open. Decoding fills absent optional fields from here.
+    fn default() -> Waypoint {
+        Waypoint {
+            name: String::new(),
+            joints_deg_or_mm: Vec::new(),
+            move_kind: MoveKind::Joint,
+            profile: ProfileKind::Trapezoid,
+            speed_share_pct: 50.0,
+            dwell_ms: 0.0,
+            arrival: Arrival::Stop,
+            gripper: GripperState::Open,
+        }
+    }
+}
+
+impl Default for Timing {
+    /// 80 % torque derating, 0.5 mm settle band, 1 mm largest overshoot, damping ratio 0.6
+    /// (our defaults; a user changes them per scene).
+    fn default() -> Timing {
+        Timing {
+            torque_derating_pct: 80.0,
+            settle_band_mm: 0.5,
+            max_overshoot_mm: 1.0,
+            damping_ratio: 0.6,
+        }
+    }
+}
+
+impl Default for Workspace {
+    /// No table, no objects.
+    fn default() -> Workspace {
+        Workspace {
+            table_height_mm: None,
+            boxes: Vec::new(),
+            trays: Vec::new(),
+        }
+    }
+}
+
+impl Default for LinkSettings {
+    /// The simulated device at 115200 baud, 50 setpoints a second (one per 20 ms servo frame).
+    fn default() -> LinkSettings {
+        LinkSettings {
+            device: Device::Simulated,
+            baud: 115_200,
+            rate_hz: 50.0,
+        }
+    }
+}

@@ -1,0 +1,98 @@
+//! The scene document: our own versioned JSON format (`*.armwright.json`).
+//!
+//! Naming scheme: `document.rs` (the types, in the file's units), `decode.rs` (JSON → types,
+//! collecting every problem with its JSON path), `encode.rs` (types → JSON, keys in a fixed
+//! order), `migrate.rs` (one step per older version), `validate.rs` (rules across fields),
+//! `units.rs` (the one place that turns file units into the SI arm model), `load.rs` and
+//! `save.rs` (files: read without side effects, write atomically), `problem.rs` (a located
+//! problem and the nearest-name suggestion).
+
+mod decode;
+mod document;
+mod encode;
+mod load;
+mod migrate;
+mod problem;
+mod save;
+mod units;
+mod validate;
+
+pub use document::{
+    ArmDoc, ArmShape, Arrival, ArticulatedSize, AxisDoc, BandDoc, BoxDoc, CalibrationDoc,
+    CalibrationPoint, Device, DhRowDoc, GripperDoc, GripperState, JointDoc, JointKindDoc,
+    LinkMassDoc, LinkSettings, MoveKind, PlacementDoc, ProfileKind, ScaraSize, Scene, ServoDoc,
+    Timing, ToolMassDoc, TrayDoc, Waypoint, Workspace,
+};
+pub use load::{load, load_bytes};
+pub use migrate::{CURRENT_VERSION, FORMAT_NAME};
+pub use problem::Problem;
+pub use save::{save, to_json};
+pub use units::{
+    arm_description, build_arm, pose_from_file_units, pose_to_file_units, position_from_file_unit,
+    position_to_file_unit,
+};
+pub use validate::validate;
+
+use std::path::PathBuf;
+
+/// Why a scene could not be loaded or saved. Each variant carries what locates the problem.
+#[derive(Debug, thiserror::Error)]
+pub enum SceneError {
+    /// The file could not be read.
+    #[error("cannot read {}: {source}", .path.display())]
+    Read {
+        /// The file.
+        path: PathBuf,
+        /// What the system said.
+        source: std::io::Error,
+    },
+    /// The text is not JSON.
+    #[error("not valid JSON at line {line}, column {column}: {message}")]
+    Syntax {
+        /// 1-based line.
+        line: usize,
+        /// 1-based column.
+        column: usize,
+        /// What the parser expected.
+        message: String,
+    },
+    /// The JSON is not an armwright scene (no or another `format`).
+    #[error("not an armwright scene: {found}")]
+    NotAScene {
+        /// What was found instead, in words.
+        found: String,
+    },
+    /// The `version` field is missing.
+    #[error("the scene has no \"version\" field; add \"version\": {CURRENT_VERSION}")]
+    MissingVersion,
+    /// The `version` field is not a whole number from 1 up.
+    #[error("\"version\" must be a whole number from 1 up, got {found}")]
+    BadVersion {
+        /// The value found, as written.
+        found: String,
+    },
+    /// The file was written by a newer program.
+    #[error(
+        "this scene is format version {found}, newer than this program reads (up to version {supported}); use a newer armwright"
+    )]
+    NewerVersion {
+        /// The file's version.
+        found: u64,
+        /// The newest version this program reads.
+        supported: u64,
+    },
+    /// The file reads but has problems: every one, each with its JSON path.
+    #[error("{} problem(s) in the scene", .problems.len())]
+    Problems {
+        /// Every problem found.
+        problems: Vec<Problem>,
+    },
+    /// The file could not be written; the existing file (if any) is unchanged.
+    #[error("cannot save {}: {source}", .path.display())]
+    Write {
+        /// The file.
+        path: PathBuf,
+        /// What the system said.
+        source: std::io::Error,
+    },
+}

@@ -1,0 +1,81 @@
+//! Writing a scene file atomically: write a temporary file beside the target, flush it to disk,
+//! then rename it over the target. A failed save leaves the existing file as it was.
+
+use std::fs::{self, File};
+use std::io::Write;
+use std::path::{Path, PathBuf};
+
+use super::SceneError;
+use super::document::Scene;
+use super::encode::encode_scene;
+
+/// The scene as pretty-printed JSON text, ending with a newline.
+pub fn to_json(scene: &Scene) -> String {
+    let mut text = serde_json::to_string_pretty(&encode_scene(scene))
+        // Our encoder only produces strings, numbers, lists and objects with string keys, which
+        // serde_json always writes; this fallback is never taken.
+        .unwrap_or_default();
+    text.push('\n');
+    text
+}
+
+/// Saves the scene to `path` atomically.
+///
+/// # Errors
+/// [`SceneError::Write`] if the temporary file cannot be written or renamed; the existing file
+/// at `path`, if any, is unchanged and the temporary file is removed.
+pub fn save(scene: &Scene, path: &Path) -> Result<(), SceneError> {
+    let text = to_json(scene);
+    let temporary = temporary_beside(path);
+    let fail = |source: std::io::Error| SceneError::Write {
+        path: path.to_path_buf(),
+        source,
+    };
+    let written = write_synced(&temporary, text.as_bytes()).and_then(|()| {
+        if path.is_dir() {
+            // rename() would replace an empty directory on some systems; never do that.
+            return Err(std::io::Error::new(
+                std::io::ErrorKind::IsADirectory,
+                "the target is a directory",
+            ));
+        }
+        fs::rename(&temporary, path)
+    });
+    if let Err(error) = written {
+        let _ = fs::remove_file(&temporary);
+        return Err(fail(error));
+    }
+    // Make the rename itself durable where the system allows opening a directory.
+    if let Some(parent) = parent_dir(path)
+        && let Ok(dir) = File::open(parent)
+    {
+        let _ = dir.sync_all();
+    }
+    Ok(())
+}
+
+fn write_synced(path: &Path, bytes: &[u8]) -> std::io::Result<()> {
+    let mut file = File::create(path)?;
+    file.write_all(bytes)?;
+    file.sync_all()
+}
+
+fn parent_dir(path: &Path) -> Option<&Path> {
+    match path.parent() {
+        Some(parent) if parent.as_os_str().is_empty() => Some(Path::new(".")),
+        other => other,
+    }
+}
+
+/// `dir/.name.saving-PID` beside the target, so the rename stays on one file system.
+fn temporary_beside(path: &Path) -> PathBuf {
+    let name = path
+        .file_name()
+        .map(|name| name.to_string_lossy().into_owned())
+        .unwrap_or_else(|| "scene".into());
+    let file = format!(".{name}.saving-{}", std::process::id());
+    match parent_dir(path) {
+        Some(parent) => parent.join(file),
+        None => PathBuf::from(file),
+    }
+}

@@ -1,0 +1,167 @@
+//! Scenes shared by the app's tests: small, valid, invented documents to break one field at a
+//! time, and a writer for scratch directories.
+#![allow(dead_code)]
+
+use serde_json::{Value, json};
+use std::path::PathBuf;
+
+fn joint(name: &str, min: f64, max: f64, mass_g: f64) -> Value {
+    json!({
+        "name": name,
+        "min_deg": min,
+        "max_deg": max,
+        "home_deg": 0.0,
+        "servo": {
+            "stall_torque_ncm": 180.0,
+            "no_load_speed_deg_per_s": 350.0,
+            "deadband_us": 3.0,
+            "proportional_band": { "us": 40.0 },
+            "backlash_deg": 0.5,
+            "mass_g": 55.0,
+            "mount_offset_mm": [0.0, 0.0, 0.0]
+        },
+        "calibration": {
+            "points": [
+                { "angle_deg": min, "pulse_us": 1000 },
+                { "angle_deg": max, "pulse_us": 2000 }
+            ],
+            "pulse_min_us": 900,
+            "pulse_max_us": 2100
+        },
+        "link": { "mass_g": mass_g, "centre_mm": [50.0, 0.0, 0.0] }
+    })
+}
+
+/// A valid 5-joint articulated arm with two waypoints.
+pub fn articulated5() -> Value {
+    json!({
+        "format": "armwright-scene",
+        "version": 1,
+        "description": "test arm",
+        "arm": {
+            "type": "articulated5",
+            "dimensions": {
+                "base_height_mm": 90.0,
+                "upper_arm_mm": 120.0,
+                "forearm_mm": 110.0,
+                "wrist_to_tool_mm": 70.0
+            },
+            "joints": [
+                joint("base", -90.0, 90.0, 30.0),
+                joint("shoulder", -10.0, 170.0, 50.0),
+                joint("elbow", -140.0, 140.0, 40.0),
+                joint("wrist", -90.0, 90.0, 20.0),
+                joint("roll", -90.0, 90.0, 10.0)
+            ],
+            "tool": { "mass_g": 30.0, "centre_mm": [10.0, 0.0, 0.0] },
+            "payload_g": 20.0,
+            "gripper": { "open_pulse_us": 1200, "closed_pulse_us": 1800 }
+        },
+        "waypoints": [
+            { "name": "start", "joints_deg_or_mm": [0.0, 45.0, -45.0, 0.0, 0.0] },
+            {
+                "name": "reach",
+                "joints_deg_or_mm": [30.0, 30.0, -20.0, -10.0, 15.0],
+                "move": "straight",
+                "profile": "double_s",
+                "speed_share_pct": 40.0,
+                "dwell_ms": 250.0,
+                "arrival": "pass_through",
+                "gripper": "closed"
+            }
+        ]
+    })
+}
+
+/// A valid horizontal-jointed arm: its third joint is a prismatic lift in mm.
+pub fn scara() -> Value {
+    let mut lift = joint("lift", 0.0, 0.0, 20.0);
+    let map = lift.as_object_mut().unwrap();
+    map.remove("min_deg");
+    map.remove("max_deg");
+    map.remove("home_deg");
+    map.insert("min_mm".into(), json!(-40.0));
+    map.insert("max_mm".into(), json!(40.0));
+    map.insert("home_mm".into(), json!(0.0));
+    map["servo"]["pinion_radius_mm"] = json!(10.0);
+    map["calibration"] = json!({
+        "points": [
+            { "position_mm": -40.0, "pulse_us": 1100 },
+            { "position_mm": 40.0, "pulse_us": 1900 }
+        ],
+        "pulse_min_us": 1000,
+        "pulse_max_us": 2000
+    });
+    json!({
+        "format": "armwright-scene",
+        "version": 1,
+        "arm": {
+            "type": "scara",
+            "dimensions": {
+                "base_height_mm": 120.0,
+                "upper_arm_mm": 150.0,
+                "forearm_mm": 120.0,
+                "tool_drop_mm": 40.0
+            },
+            "joints": [
+                joint("shoulder", -135.0, 135.0, 80.0),
+                joint("elbow", -150.0, 150.0, 60.0),
+                lift,
+                joint("roll", -90.0, 90.0, 10.0)
+            ],
+            "tool": { "mass_g": 40.0, "centre_mm": [0.0, 0.0, 0.0] },
+            "payload_g": 10.0
+        },
+        "waypoints": [
+            { "name": "over pocket", "joints_deg_or_mm": [10.0, 20.0, -30.0, 5.0] }
+        ],
+        "timing": {
+            "torque_derating_pct": 75.0,
+            "settle_band_mm": 0.3,
+            "max_overshoot_mm": 0.8,
+            "damping_ratio": 0.5
+        },
+        "workspace": {
+            "table_height_mm": 0.0,
+            "boxes": [ { "name": "feeder", "position_mm": [150.0, 100.0, 0.0], "size_mm": [40.0, 40.0, 60.0] } ],
+            "trays": [ { "name": "tray", "position_mm": [200.0, -80.0, 0.0], "size_mm": [90.0, 60.0, 15.0], "pockets": [4, 3] } ]
+        },
+        "link": { "device": "/dev/ttyUSB0", "baud": 115200, "rate_hz": 50.0 }
+    })
+}
+
+/// Sets the value at a JSON pointer such as `/arm/joints/2/servo/mass_g`.
+pub fn set(document: &mut Value, pointer: &str, value: Value) {
+    *document
+        .pointer_mut(pointer)
+        .unwrap_or_else(|| panic!("no {pointer} in the test scene")) = value;
+}
+
+/// Removes the key at a JSON pointer.
+pub fn remove(document: &mut Value, pointer: &str) {
+    let (parent, key) = pointer.rsplit_once('/').unwrap();
+    document
+        .pointer_mut(parent)
+        .and_then(Value::as_object_mut)
+        .unwrap_or_else(|| panic!("no {parent} in the test scene"))
+        .remove(key);
+}
+
+pub fn bytes(document: &Value) -> Vec<u8> {
+    serde_json::to_vec_pretty(document).unwrap()
+}
+
+/// A fresh, empty directory under the system's temporary directory for one test.
+pub fn scratch_dir(test: &str) -> PathBuf {
+    let dir = std::env::temp_dir().join(format!("armwright-app-{test}-{}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&dir);
+    std::fs::create_dir_all(&dir).unwrap();
+    dir
+}
+
+/// Path of a sample scene in the repository.
+pub fn sample(name: &str) -> PathBuf {
+    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+        .join("../../sample-scenes")
+        .join(name)
+}
