@@ -106,8 +106,8 @@ pub fn synchronise(
     }
     let duration = synced.duration;
     for (joint, profile) in synced.profiles.iter_mut().enumerate().take(joint_count) {
-        *profile = profile
-            .stretched(duration)
+        profile
+            .stretch(duration)
             .map_err(|source| SyncError::Joint { joint, source })?;
     }
     Ok(synced)
@@ -120,17 +120,19 @@ impl SyncedMove {
     /// [`SyncError::Joint`] when a joint cannot take that long (shorter than its fastest
     /// profile, or a boundary velocity that cannot be kept at that duration).
     pub fn stretched(&self, duration: f64) -> Result<Self, SyncError> {
-        let mut profiles = self.profiles;
-        for (joint, profile) in profiles.iter_mut().enumerate().take(self.joint_count) {
-            *profile = profile
-                .stretched(duration)
+        let mut stretched = *self;
+        for (joint, profile) in stretched
+            .profiles
+            .iter_mut()
+            .enumerate()
+            .take(self.joint_count)
+        {
+            profile
+                .stretch(duration)
                 .map_err(|source| SyncError::Joint { joint, source })?;
         }
-        Ok(Self {
-            duration,
-            joint_count: self.joint_count,
-            profiles,
-        })
+        stretched.duration = duration;
+        Ok(stretched)
     }
 
     /// Duration shared by every joint, s.

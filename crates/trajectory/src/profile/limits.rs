@@ -177,6 +177,18 @@ pub(crate) fn validate(
     limits: &JointLimits,
     with_jerk: bool,
 ) -> Result<(), ProfileError> {
+    // Fast path for the usual, valid input; the checks below find what is wrong otherwise.
+    let positive = |x: f64| x.is_finite() && x > 0.0;
+    let vmax = limits.velocity;
+    if positive(vmax)
+        && positive(limits.acceleration)
+        && (!with_jerk || positive(limits.jerk))
+        && (joint_move.from - joint_move.to).is_finite()
+        && joint_move.from_velocity.abs() <= vmax
+        && joint_move.to_velocity.abs() <= vmax
+    {
+        return Ok(());
+    }
     check_limit(LimitKind::Velocity, limits.velocity)?;
     check_limit(LimitKind::Acceleration, limits.acceleration)?;
     if with_jerk {

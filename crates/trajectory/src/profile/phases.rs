@@ -147,6 +147,13 @@ impl Profile {
     /// than rounding; [`ProfileError::StretchUnreachable`] when no profile of this shape with
     /// these boundary velocities can take that long (only possible with a boundary velocity).
     pub fn stretched(&self, duration: f64) -> Result<Self, ProfileError> {
+        let mut stretched = *self;
+        stretched.stretch(duration)?;
+        Ok(stretched)
+    }
+
+    /// [`Profile::stretched`] in place; on error the profile is unchanged.
+    pub(crate) fn stretch(&mut self, duration: f64) -> Result<(), ProfileError> {
         let tolerance = 1e-12 * self.duration.max(1e-3);
         if duration.is_nan() || duration < self.duration - tolerance {
             return Err(ProfileError::StretchTooShort {
@@ -155,14 +162,14 @@ impl Profile {
             });
         }
         if duration <= self.duration {
-            return Ok(*self);
+            return Ok(());
         }
         if !duration.is_finite() {
             return Err(ProfileError::StretchUnreachable {
                 requested: duration,
             });
         }
-        let parts = if self.parts.start_velocity == 0.0 && self.parts.end_velocity == 0.0 {
+        self.parts = if self.parts.start_velocity == 0.0 && self.parts.end_velocity == 0.0 {
             rest_to_rest_scaled(&self.parts, self.duration, duration)
         } else {
             match self.shape {
@@ -174,11 +181,8 @@ impl Profile {
                 }
             }?
         };
-        Ok(Self {
-            parts,
-            duration,
-            ..*self
-        })
+        self.duration = duration;
+        Ok(())
     }
 
     /// Duration, s.
