@@ -15,6 +15,7 @@ mod error; // LinkError and the reasons a link is lost
 mod estop; // emergency-stop request handle and the reset confirmation
 mod port; // transports (serial port, pty, simulated device) and port discovery
 mod protocol; // line protocol: encoder and parser for both directions, CRC, line assembly
+mod pulse; // joint position → pulse width through the calibration, rounding and clamping
 mod sim_device; // in-process simulated device with watchdog, clamping and stop latch
 mod stream; // streaming thread: schedule, flow control, stop path, link watch, statistics
 
@@ -27,6 +28,9 @@ pub use crate::protocol::{
     Ack, AckOutcome, Assembled, ChannelValues, DeviceInfo, DeviceLine, DeviceMessage, DeviceMode,
     DeviceStatus, Faults, FirmwareVersion, HostLine, HostMessage, LineAssembler, LineBuf,
     LineErrorKind, MAX_CHANNELS, MAX_LINE_LEN, PROTOCOL_VERSION, ParseLineError, crc16_ccitt_false,
+};
+pub use crate::pulse::{
+    ArmSetpoint, JointPulse, PulseError, arm_setpoint, gripper_pulse, joint_pulse,
 };
 pub use crate::sim_device::{SimDevice, SimDeviceConfig};
 pub use crate::stream::{Link, LinkEvent, LinkState, StreamOptions, StreamStats};
