@@ -8,6 +8,32 @@
 //! frequencies in rad/s. Limits are symmetric per joint and given as plain numbers. A number in
 //! another unit carries the unit in its name. No function panics on any input; bad inputs give a
 //! typed error.
+//!
+//! # Example
+//!
+//! Plan a three-waypoint sequence for two joints and sample it at 100 Hz:
+//!
+//! ```
+//! use armwright_trajectory::{
+//!     JointLimits, ProfileShape, SequenceWaypoint, WaypointKind, plan_sequence,
+//! };
+//! let limits = [JointLimits::new(3.0, 12.0, 120.0), JointLimits::new(2.0, 8.0, 80.0)];
+//! let waypoint = |positions: Vec<f64>, kind, speed_share| SequenceWaypoint {
+//!     positions,
+//!     kind,
+//!     speed_share,
+//! };
+//! let waypoints = [
+//!     waypoint(vec![0.0, 0.0], WaypointKind::Stop { dwell: 0.0 }, 1.0),
+//!     waypoint(vec![0.6, 0.3], WaypointKind::PassThrough, 0.8),
+//!     waypoint(vec![1.2, 0.1], WaypointKind::Stop { dwell: 0.5 }, 1.0),
+//! ];
+//! let plan = plan_sequence(ProfileShape::DoubleS, &waypoints, &limits)?;
+//! let last = plan.sampler(100.0)?.last().expect("at least one sample");
+//! assert_eq!(last.time, plan.duration());
+//! assert_eq!(&last.positions[..2], &[1.2, 0.1]);
+//! # Ok::<(), armwright_trajectory::SequenceError>(())
+//! ```
 #![warn(missing_docs)]
 
 mod profile; // one joint's move: trapezoid and double-S profiles, evaluation, stretching
