@@ -131,12 +131,13 @@ enum Command {
 }
 
 /// An open link to a device, served by its own streaming thread. Dropping it asks the
-/// device to hold and ends the thread.
+/// device to hold and ends the thread. It can be shared between threads (a producer pushing
+/// setpoints, a UI reading statistics).
 pub struct Link {
     commands: Option<Sender<Command>>,
     setpoints: Option<SyncSender<ChannelValues>>,
     stats: Arc<Mutex<StreamStats>>,
-    events: Receiver<LinkEvent>,
+    events: Mutex<Receiver<LinkEvent>>,
     stop: EmergencyStop,
     device: DeviceInfo,
     thread: Option<JoinHandle<()>>,
@@ -202,7 +203,7 @@ impl Link {
             commands: Some(command_tx),
             setpoints: Some(setpoint_tx),
             stats,
-            events: event_rx,
+            events: Mutex::new(event_rx),
             stop,
             device,
             thread: Some(thread),
@@ -229,7 +230,11 @@ impl Link {
 
     /// The next event, waiting at most `timeout`.
     pub fn next_event(&self, timeout: Duration) -> Option<LinkEvent> {
-        self.events.recv_timeout(timeout).ok()
+        self.events
+            .lock()
+            .unwrap_or_else(PoisonError::into_inner)
+            .recv_timeout(timeout)
+            .ok()
     }
 
     fn command(&self, command: Command) -> Result<(), LinkError> {
