@@ -428,7 +428,10 @@ fn check_waypoints(scene: &Scene, kinds: &[JointKindDoc], problems: &mut Vec<Pro
                     .copied()
                     .unwrap_or(JointKindDoc::Revolute)
                     .unit();
-                if !(value >= joint.min - LIMIT_SLACK && value <= joint.max + LIMIT_SLACK) {
+                // Unordered limits are reported once, at the joint, not at every waypoint.
+                let ordered = joint.min < joint.max;
+                let inside = value >= joint.min - LIMIT_SLACK && value <= joint.max + LIMIT_SLACK;
+                if ordered && !inside {
                     problems.push(Problem::new(
                         item(&positions, j),
                         format!(
