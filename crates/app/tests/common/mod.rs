@@ -165,3 +165,36 @@ pub fn sample(name: &str) -> PathBuf {
         .join("../../sample-scenes")
         .join(name)
 }
+
+/// Runs the `armwright` binary; returns its exit code, standard output and standard error.
+pub fn armwright(args: &[&str]) -> (i32, String, String) {
+    let output = std::process::Command::new(env!("CARGO_BIN_EXE_armwright"))
+        .args(args)
+        .output()
+        .expect("the armwright binary runs");
+    (
+        output.status.code().unwrap_or(-1),
+        String::from_utf8_lossy(&output.stdout).into_owned(),
+        String::from_utf8_lossy(&output.stderr).into_owned(),
+    )
+}
+
+/// Runs the binary with `--json` among `args` and parses its standard output.
+pub fn armwright_json(args: &[&str]) -> (i32, Value) {
+    let (code, stdout, stderr) = armwright(args);
+    let value = serde_json::from_str(&stdout)
+        .unwrap_or_else(|e| panic!("not JSON ({e}): {stdout}\nstderr: {stderr}"));
+    (code, value)
+}
+
+/// Writes a test document into a scratch directory and returns its path as text.
+pub fn scene_file(test: &str, document: &Value) -> String {
+    let path = scratch_dir(test).join("scene.armwright.json");
+    std::fs::write(&path, bytes(document)).unwrap();
+    path.to_string_lossy().into_owned()
+}
+
+/// A sample's path as text.
+pub fn sample_path(name: &str) -> String {
+    sample(name).to_string_lossy().into_owned()
+}

@@ -1,0 +1,121 @@
+//! The command line's options, declared once with clap's derive. A doc comment's first paragraph
+//! is the `-h` line and the whole comment is `--help`; value names carry units.
+
+use std::path::PathBuf;
+
+use clap::{Parser, Subcommand};
+
+/// Describe, check and program small hobby-servo arms.
+///
+/// Each subcommand reads a scene file (`*.armwright.json`). Exit status: 0 on success, 1 when the
+/// scene has problems or a target cannot be reached, 2 when the input cannot be read.
+#[derive(Debug, Parser)]
+#[command(name = "armwright", version)]
+pub struct Cli {
+    /// What to do.
+    #[command(subcommand)]
+    pub command: Command,
+}
+
+/// The subcommands.
+#[derive(Debug, Subcommand)]
+pub enum Command {
+    /// Check a scene file and list every problem with its JSON path.
+    ///
+    /// With --json the arm is described too: each joint's kind, limits, axis (a unit vector) and
+    /// a point on it with every joint at zero, and the tool point there, all in the base frame in
+    /// mm: enough to recompute the forward kinematics by the product of exponentials.
+    Check {
+        /// The scene file.
+        #[arg(value_name = "FILE")]
+        file: PathBuf,
+        /// Print machine-readable JSON (keys carry units) instead of text.
+        #[arg(long)]
+        json: bool,
+    },
+    /// Where the tool point is for given joint positions, the torque gravity and the payload
+    /// need, and how accurately the tool point can be placed.
+    Pose {
+        /// The scene file.
+        #[arg(value_name = "FILE")]
+        file: PathBuf,
+        /// Joint positions, base first, comma-separated: degrees for a revolute joint, mm for a
+        /// prismatic one (negative values are fine: --joints=-10,20,...).
+        #[arg(
+            long,
+            value_name = "DEG_OR_MM,...",
+            value_delimiter = ',',
+            allow_hyphen_values = true,
+            required = true
+        )]
+        joints: Vec<f64>,
+        /// Print machine-readable JSON (keys carry units) instead of text.
+        #[arg(long)]
+        json: bool,
+    },
+    /// Every set of joint positions that puts the tool point on a target.
+    ///
+    /// ANGLE is the tool pitch for the articulated arms and the tool yaw for the horizontal
+    /// arm; ROLL is the wrist roll of the 5-joint arm. An angle not given is free and taken from
+    /// --near (or the home pose).
+    Reach {
+        /// The scene file.
+        #[arg(value_name = "FILE")]
+        file: PathBuf,
+        /// Target: X,Y,Z in mm in the base frame, then optionally ANGLE and ROLL in degrees.
+        #[arg(
+            long,
+            value_name = "X_MM,Y_MM,Z_MM[,ANGLE_DEG[,ROLL_DEG]]",
+            value_delimiter = ',',
+            allow_hyphen_values = true,
+            required = true,
+            num_args = 1
+        )]
+        to: Vec<f64>,
+        /// The pose to stay near (degrees or mm per joint); the home pose when not given.
+        #[arg(
+            long,
+            value_name = "DEG_OR_MM,...",
+            value_delimiter = ',',
+            allow_hyphen_values = true
+        )]
+        near: Option<Vec<f64>>,
+        /// Print machine-readable JSON (keys carry units) instead of text.
+        #[arg(long)]
+        json: bool,
+    },
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn negative_joint_positions_parse() {
+        let cli = Cli::try_parse_from(["armwright", "pose", "a.json", "--joints", "-10,20.5,-3"])
+            .unwrap();
+        match cli.command {
+            Command::Pose { joints, .. } => assert_eq!(joints, [-10.0, 20.5, -3.0]),
+            other => panic!("{other:?}"),
+        }
+    }
+
+    #[test]
+    fn a_target_takes_three_to_five_numbers_and_near_is_optional() {
+        let cli = Cli::try_parse_from(["armwright", "reach", "a.json", "--to", "150,-20,80,-30"])
+            .unwrap();
+        match cli.command {
+            Command::Reach { to, near, .. } => {
+                assert_eq!(to, [150.0, -20.0, 80.0, -30.0]);
+                assert!(near.is_none());
+            }
+            other => panic!("{other:?}"),
+        }
+    }
+
+    #[test]
+    fn the_declaration_is_consistent() {
+        use clap::CommandFactory;
+        Cli::command().debug_assert();
+    }
+}

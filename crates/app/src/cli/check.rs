@@ -1,0 +1,109 @@
+//! `armwright check`: every problem with its JSON path, and with `--json` a description of the
+//! arm that is enough to recompute its forward kinematics by the product of exponentials.
+
+use std::path::Path;
+
+use armwright_kinematics::{Arm, JointKind, forward};
+use nalgebra::Vector3;
+use serde_json::{Value, json};
+
+use super::Outcome;
+use super::report::{all_rounded, load_scene, print_json, problems_json, rounded};
+use crate::scene::{JointKindDoc, Scene, position_to_file_unit};
+
+/// Digits kept for mm and degrees in the description (1 nm, 1e-6 °): well below anything a
+/// hobby arm can show, so a product-of-exponentials check agrees to 1e-6 mm.
+const DECIMALS: i32 = 6;
+
+pub(crate) fn run(file: &Path, json: bool) -> Outcome {
+    let (scene, arm) = match load_scene(file, json) {
+        Ok(loaded) => loaded,
+        // The problems went to standard output (JSON) or standard error (text) with paths.
+        Err(outcome) => return outcome,
+    };
+    let description = describe(&scene, &arm);
+    if json {
+        print_json(&json!({
+            "ok": true,
+            "file": file.display().to_string(),
+            "problems": problems_json(&[]),
+            "arm": description,
+        }));
+    } else {
+        println!(
+            "{}: no problems; {} arm, {} joints, {} waypoints",
+            file.display(),
+            scene.arm.shape.word(),
+            arm.joint_count(),
+            scene.waypoints.len()
+        );
+        for (index, joint) in arm.joints().iter().enumerate() {
+            let kind = kind_doc(joint.kind);
+            let unit = kind.unit();
+            println!(
+                "  joint {index} {:<12} {:<9} {:>9.2} to {:>8.2} {unit}",
+                joint.name,
+                joint.kind.word(),
+                position_to_file_unit(kind, joint.min),
+                position_to_file_unit(kind, joint.max),
+            );
+        }
+    }
+    Outcome::Done
+}
+
+fn kind_doc(kind: JointKind) -> JointKindDoc {
+    match kind {
+        JointKind::Revolute => JointKindDoc::Revolute,
+        JointKind::Prismatic => JointKindDoc::Prismatic,
+    }
+}
+
+fn mm(vector: &Vector3<f64>) -> Vec<f64> {
+    all_rounded(&[vector.x * 1e3, vector.y * 1e3, vector.z * 1e3], DECIMALS)
+}
+
+/// The arm with every joint at zero: per joint its kind, limits, axis and a point on it; the
+/// tool point and tool frame axes.
+pub(crate) fn describe(scene: &Scene, arm: &Arm) -> Value {
+    let zeros = vec![0.0; arm.joint_count()];
+    let Ok(pose) = forward(arm, &zeros) else {
+        // forward() only fails on a wrong count or a non-finite position; zeros are neither.
+        return Value::Null;
+    };
+    let joints: Vec<Value> = arm
+        .joints()
+        .iter()
+        .enumerate()
+        .map(|(index, joint)| {
+            let kind = kind_doc(joint.kind);
+            let unit = kind.unit();
+            let (axis, point) = pose.joint_axis(arm, index);
+            let mut out = json!({
+                "name": joint.name,
+                "kind": joint.kind.word(),
+                "axis": all_rounded(&[axis.x, axis.y, axis.z], 12),
+                "origin_mm": mm(&point),
+            });
+            out[format!("min_{unit}")] =
+                json!(rounded(position_to_file_unit(kind, joint.min), DECIMALS));
+            out[format!("max_{unit}")] =
+                json!(rounded(position_to_file_unit(kind, joint.max), DECIMALS));
+            out[format!("home_{unit}")] =
+                json!(rounded(position_to_file_unit(kind, joint.home), DECIMALS));
+            out
+        })
+        .collect();
+    let tool = pose.tool();
+    let rotation = tool.rotation.to_rotation_matrix();
+    let rows: Vec<Vec<f64>> = (0..3)
+        .map(|r| all_rounded(&[rotation[(r, 0)], rotation[(r, 1)], rotation[(r, 2)]], 12))
+        .collect();
+    json!({
+        "type": scene.arm.shape.word(),
+        "joints": joints,
+        "tool_home_mm": mm(&tool.translation.vector),
+        "tool_home_rotation": rows,
+        "payload_g": scene.arm.payload_g,
+    })
+}

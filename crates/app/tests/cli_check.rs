@@ -1,0 +1,174 @@
+//! `armwright check`: exit codes, problems with paths, and an arm description from which the
+//! forward kinematics can be recomputed by the product of exponentials.
+
+mod common;
+
+use common::{armwright, armwright_json, articulated5, sample_path, scara, scene_file, set};
+use nalgebra::{Isometry3, Matrix3, Rotation3, Translation3, Unit, UnitQuaternion, Vector3};
+use serde_json::{Value, json};
+
+fn numbers(value: &Value) -> Vec<f64> {
+    value
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|v| v.as_f64().unwrap())
+        .collect()
+}
+
+fn vector(value: &Value) -> Vector3<f64> {
+    let v = numbers(value);
+    Vector3::new(v[0], v[1], v[2])
+}
+
+#[test]
+fn a_good_scene_passes_with_exit_0() {
+    let (code, stdout, _) = armwright(&["check", &sample_path("cube-stacker.armwright.json")]);
+    assert_eq!(code, 0);
+    assert!(stdout.contains("no problems"), "{stdout}");
+}
+
+#[test]
+fn a_scene_with_problems_exits_1_and_lists_every_path() {
+    let mut document = articulated5();
+    set(&mut document, "/arm/joints/1/max_deg", json!(-20.0));
+    set(
+        &mut document,
+        "/arm/joints/2/servo/stall_torque_ncm",
+        json!(-1.0),
+    );
+    let file = scene_file("check-problems", &document);
+    let (code, out) = armwright_json(&["check", &file, "--json"]);
+    assert_eq!(code, 1);
+    assert_eq!(out["ok"], json!(false));
+    let paths: Vec<&str> = out["problems"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|p| p["path"].as_str().unwrap())
+        .collect();
+    assert_eq!(
+        paths,
+        [
+            "arm.joints[1].max_deg",
+            "arm.joints[2].servo.stall_torque_ncm"
+        ]
+    );
+    let (code, _, stderr) = armwright(&["check", &file]);
+    assert_eq!(code, 1);
+    assert!(stderr.contains("arm.joints[1].max_deg:"), "{stderr}");
+}
+
+#[test]
+fn unreadable_input_exits_2() {
+    let dir = common::scratch_dir("check-unreadable");
+    let broken = dir.join("broken.armwright.json");
+    std::fs::write(&broken, "{\n  \"format\": \"armwright-scene\",\n  oops\n}").unwrap();
+    let (code, out) = armwright_json(&["check", broken.to_str().unwrap(), "--json"]);
+    assert_eq!(code, 2);
+    assert_eq!(out["line"], json!(3));
+    assert_eq!(out["column"], json!(3));
+    let (code, _, stderr) = armwright(&["check", dir.join("missing.json").to_str().unwrap()]);
+    assert_eq!(code, 2);
+    assert!(stderr.contains("cannot read"), "{stderr}");
+    let mut newer = articulated5();
+    set(&mut newer, "/version", json!(2));
+    let (code, out) = armwright_json(&["check", &scene_file("check-newer", &newer), "--json"]);
+    assert_eq!(code, 2);
+    assert!(out["error"].as_str().unwrap().contains("newer"), "{out}");
+    let (code, _, _) = armwright(&["check"]);
+    assert_eq!(code, 2, "a missing argument is unreadable input");
+}
+
+#[test]
+fn the_json_description_names_every_joint_with_units_in_its_keys() {
+    let (code, out) = armwright_json(&["check", &scene_file("check-scara", &scara()), "--json"]);
+    assert_eq!(code, 0);
+    let arm = &out["arm"];
+    assert_eq!(arm["type"], json!("scara"));
+    let joints = arm["joints"].as_array().unwrap();
+    assert_eq!(joints.len(), 4, "the gripper is not a joint");
+    assert_eq!(joints[2]["name"], json!("lift"));
+    assert_eq!(joints[2]["kind"], json!("prismatic"));
+    assert_eq!(joints[2]["min_mm"], json!(-40.0));
+    assert_eq!(joints[2]["max_mm"], json!(40.0));
+    assert_eq!(joints[0]["kind"], json!("revolute"));
+    assert_eq!(joints[0]["min_deg"], json!(-135.0));
+    // Horizontal-jointed arm at zero: every axis vertical; the elbow axis 150 mm out at the
+    // arm's plane (120 mm up); the tool point 40 mm below the wrist, 270 mm out.
+    for joint in joints {
+        assert_eq!(numbers(&joint["axis"]), [0.0, 0.0, 1.0]);
+    }
+    assert_eq!(numbers(&joints[1]["origin_mm"]), [150.0, 0.0, 120.0]);
+    assert_eq!(numbers(&arm["tool_home_mm"]), [270.0, 0.0, 80.0]);
+}
+
+/// Forward kinematics by the product of exponentials in the space frame, T(θ) =
+/// e^[S1]θ1 · … · e^[Sn]θn · M (Lynch & Park, *Modern Robotics*, 2017, ch. 4.1), from the
+/// screw axes that `check --json` prints: a revolute joint with unit axis ω through point q is
+/// a rotation about that line; a prismatic joint a translation along its axis.
+fn product_of_exponentials(arm: &Value, positions_deg_or_mm: &[f64]) -> Vector3<f64> {
+    let mut transform = Isometry3::identity();
+    for (joint, &value) in arm["joints"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .zip(positions_deg_or_mm)
+    {
+        let axis = Unit::new_normalize(vector(&joint["axis"]));
+        let point = vector(&joint["origin_mm"]);
+        let motion = if joint["kind"] == json!("revolute") {
+            let rotation = Rotation3::from_axis_angle(&axis, value.to_radians());
+            let shift = (Matrix3::identity() - rotation.matrix()) * point;
+            Isometry3::from_parts(Translation3::from(shift), UnitQuaternion::from(rotation))
+        } else {
+            Isometry3::translation(axis.x * value, axis.y * value, axis.z * value)
+        };
+        transform *= motion;
+    }
+    transform
+        .transform_point(&vector(&arm["tool_home_mm"]).into())
+        .coords
+}
+
+#[test]
+fn the_description_recomputes_forward_kinematics_by_product_of_exponentials() {
+    let poses: [(&str, &[&[f64]]); 3] = [
+        (
+            "cube-stacker.armwright.json",
+            &[
+                &[30.0, 60.0, -80.0, -40.0, 20.0],
+                &[-75.0, 120.0, -140.0, 90.0, -60.0],
+            ],
+        ),
+        (
+            "pen-plotter.armwright.json",
+            &[&[10.0, 40.0, -90.0, -30.0], &[-60.0, 150.0, 20.0, 80.0]],
+        ),
+        (
+            "peg-sorter.armwright.json",
+            &[&[45.0, -60.0, -12.5, 30.0], &[-110.0, 125.0, 25.0, -80.0]],
+        ),
+    ];
+    for (sample, sample_poses) in poses {
+        let file = sample_path(sample);
+        let (code, described) = armwright_json(&["check", &file, "--json"]);
+        assert_eq!(code, 0);
+        for pose in sample_poses {
+            let joints = pose
+                .iter()
+                .map(|v| v.to_string())
+                .collect::<Vec<_>>()
+                .join(",");
+            let (code, out) =
+                armwright_json(&["pose", &file, &format!("--joints={joints}"), "--json"]);
+            assert_eq!(code, 0, "{out}");
+            let expected = vector(&out["tool_mm"]);
+            let recomputed = product_of_exponentials(&described["arm"], pose);
+            assert!(
+                (recomputed - expected).norm() < 1e-3,
+                "{sample} {pose:?}: {recomputed} vs {expected}"
+            );
+        }
+    }
+}
