@@ -179,8 +179,56 @@ static void on_setpoint(const struct checked_line *line) {
     }
 }
 
+/* A stop line acted on early (see early_stop) that will also come through the ring. */
+static uint8_t early_stop_bytes[SERIAL_STOP_LINE_LEN];
+static uint8_t early_stop_skips;
+
+static void stop_now(uint8_t seq) {
+    pulse_train_hold();
+    set_mode(MODE_STOPPED);
+    flag(FAULT_STOP);
+    send_ack(seq, "ok");
+}
+
+/* Acts on an emergency-stop line the receive interrupt has just seen, before any line
+ * still waiting in the ring. A copy that fails its check is left for the normal path,
+ * which counts it. */
+static void early_stop(void) {
+    uint8_t bytes[SERIAL_STOP_LINE_LEN];
+    struct checked_line line;
+    if (!serial_take_stop_line(bytes)) {
+        return;
+    }
+    if (line_check(bytes, SERIAL_STOP_LINE_LEN, &line) != LINE_GOOD || line.kind != 'x') {
+        return;
+    }
+    last_good_ms = now_ms();
+    stop_now(line.seq);
+    for (uint8_t i = 0; i < SERIAL_STOP_LINE_LEN; i++) {
+        early_stop_bytes[i] = bytes[i];
+    }
+    early_stop_skips++;
+}
+
+static uint8_t is_early_stop_copy(const uint8_t *bytes, uint8_t len) {
+    if (early_stop_skips == 0 || len < SERIAL_STOP_LINE_LEN) {
+        return 0;
+    }
+    for (uint8_t i = 0; i < SERIAL_STOP_LINE_LEN; i++) {
+        if (bytes[i] != early_stop_bytes[i]) {
+            return 0;
+        }
+    }
+    return len == SERIAL_STOP_LINE_LEN || (len == SERIAL_STOP_LINE_LEN + 1 && bytes[len - 1] == '\r');
+}
+
 static void on_line(const uint8_t *bytes, uint8_t len) {
     struct checked_line line;
+    early_stop();
+    if (is_early_stop_copy(bytes, len)) {
+        early_stop_skips--;
+        return;
+    }
     switch (line_check(bytes, len, &line)) {
     case LINE_BAD_CHECKSUM:
         saturating_add(&bad_checksums, 1);
@@ -215,10 +263,7 @@ static void on_line(const uint8_t *bytes, uint8_t len) {
     last_good_ms = now_ms();
     switch (line.kind) {
     case 'x':
-        pulse_train_hold();
-        set_mode(MODE_STOPPED);
-        flag(FAULT_STOP);
-        send_ack(line.seq, "ok");
+        stop_now(line.seq);
         return;
     case 'k':
         if (mode == MODE_STOPPED) {
@@ -269,6 +314,7 @@ int main(void) {
 
     for (;;) {
         int16_t byte;
+        early_stop();
         while ((byte = serial_read()) >= 0) {
             if (byte == '\n') {
                 if (overlong) {

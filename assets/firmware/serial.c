@@ -32,8 +32,36 @@ void serial_init(void) {
     UCSR0B = _BV(RXEN0) | _BV(TXEN0) | _BV(RXCIE0);
 }
 
+/* The interrupt also watches for emergency-stop lines ("x", 2 sequence digits, "/", 4 check
+ * digits: 8 bytes before the line feed) and hands a copy to the main loop at once, so a stop
+ * is acted on ahead of any line still waiting in the ring. The main loop checks it. */
+static uint8_t isr_line_len;
+static uint8_t isr_line[SERIAL_STOP_LINE_LEN + 1];
+static volatile uint8_t stop_line[SERIAL_STOP_LINE_LEN];
+static volatile uint8_t stop_ready;
+
 ISR(USART_RX_vect) {
     uint8_t byte = UDR0;
+    if (byte == '\n') {
+        uint8_t len = isr_line_len;
+        if (len == SERIAL_STOP_LINE_LEN + 1 && isr_line[SERIAL_STOP_LINE_LEN] == '\r') {
+            len = SERIAL_STOP_LINE_LEN;
+        }
+        if (len == SERIAL_STOP_LINE_LEN && isr_line[0] == 'x') {
+            for (uint8_t i = 0; i < SERIAL_STOP_LINE_LEN; i++) {
+                stop_line[i] = isr_line[i];
+            }
+            stop_ready = 1;
+        }
+        isr_line_len = 0;
+    } else {
+        if (isr_line_len <= SERIAL_STOP_LINE_LEN) {
+            isr_line[isr_line_len] = byte;
+        }
+        if (isr_line_len < 255) {
+            isr_line_len++;
+        }
+    }
     uint8_t next = (uint8_t)(rx_head + 1);
     if (next == rx_tail) {
         rx_overflow = 1;
@@ -41,6 +69,20 @@ ISR(USART_RX_vect) {
     }
     rx_ring[rx_head] = byte;
     rx_head = next;
+}
+
+uint8_t serial_take_stop_line(uint8_t line[SERIAL_STOP_LINE_LEN]) {
+    uint8_t sreg = SREG;
+    cli();
+    uint8_t ready = stop_ready;
+    if (ready) {
+        for (uint8_t i = 0; i < SERIAL_STOP_LINE_LEN; i++) {
+            line[i] = stop_line[i];
+        }
+        stop_ready = 0;
+    }
+    SREG = sreg;
+    return ready;
 }
 
 int16_t serial_read(void) {

@@ -4,7 +4,13 @@
 
 #include <stdint.h>
 
+/* An emergency-stop line without its line end: "x", 2 hex digits, "/", 4 hex digits. */
+#define SERIAL_STOP_LINE_LEN 8
+
 void serial_init(void);
+/* Copies the newest stop-shaped line the receiver has seen (unchecked) into `line` and
+ * returns 1, or returns 0 when none arrived since the last call. */
+uint8_t serial_take_stop_line(uint8_t line[SERIAL_STOP_LINE_LEN]);
 /* Next received byte, or -1 when none is waiting. */
 int16_t serial_read(void);
 /* Bytes the receive ring can still take. */
