@@ -36,22 +36,36 @@
 //! ```
 #![warn(missing_docs)]
 
+mod arm_limits; // limits a plan takes from the arm's servos, masses and gravity
+mod arm_plan; // a task planned on a real arm: limits, gripper payload, waypoint timings
+mod dry_run; // a plan run through the servo model: overshoot, settling, following error
 mod profile; // one joint's move: trapezoid and double-S profiles, evaluation, stretching
+mod retime; // the fastest timing whose dry run meets an overshoot and torque target
 mod sample; // setpoints from a plan at a fixed rate (50–1000 Hz)
 mod second_order; // linear second-order response: overshoot, settling time, damped frequency
 mod sequence; // waypoints → timed moves and dwells, pass-through velocities, evaluation
+mod servo_sim; // the hobby-servo model: position loop, torque-speed line, friction, backlash
 mod shaping; // ZV and ZVD input shapers and shaped profiles
 mod sync; // several joints of one move: start and end together, slowest sets the duration
 
+pub use crate::arm_limits::{LimitError, LimitSettings, limits_from_arm};
+pub use crate::arm_plan::{PlanError, Task, TaskPlan, TaskPlanner, TaskWaypoint, plan_task};
+pub use crate::dry_run::{
+    CommandedMotion, DryRun, DryRunError, DryRunOptions, WaypointResult, WaypointTiming, dry_run,
+};
 pub use crate::profile::{
     Boundary, JointLimits, JointMove, JointState, LimitKind, Profile, ProfileError, ProfileShape,
     ProfileTimes,
 };
+pub use crate::retime::{Planner, RetimeError, RetimeTarget, Retimed, RunSummary, Timing, retime};
 pub use crate::sample::{MAX_SAMPLE_RATE_HZ, MIN_SAMPLE_RATE_HZ, Sample, Sampler};
 pub use crate::second_order::{SecondOrder, VibrationError};
 pub use crate::sequence::{
     Segment, SegmentKind, SequenceError, SequencePlan, SequenceWaypoint, WaypointKind,
     plan_sequence,
+};
+pub use crate::servo_sim::{
+    JointLoad, MAX_RUN_DURATION, ServoModel, ServoModelOptions, ServoSimError, ServoTrace, simulate,
 };
 pub use crate::shaping::{Impulse, ShapedProfile, Shaper, ShaperKind};
 pub use crate::sync::{MAX_JOINTS, SyncError, SyncedMove, synchronise};

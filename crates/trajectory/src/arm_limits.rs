@@ -1,0 +1,134 @@
+//! The limits a plan takes from the arm: how fast and how hard each servo can move its joint.
+
+use armwright_kinematics::{Arm, MAX_JOINTS, gravity_torques, joint_inertia};
+
+use crate::profile::JointLimits;
+use crate::servo_sim::{ServoModel, ServoModelOptions};
+
+/// How limits are taken from the arm, and the user's overrides.
+#[derive(Debug, Clone, PartialEq)]
+pub struct LimitSettings {
+    /// Share of each servo's stall torque a plan may use, (0, 1]. Default 0.8.
+    pub derating: f64,
+    /// Time over which acceleration builds up to its limit, in s; the jerk limit is the
+    /// acceleration limit over this. Default 0.05 s (a few servo frames; from memory).
+    pub jerk_time: f64,
+    /// Velocity per joint that replaces the one from the servo (rad/s or m/s).
+    pub velocity_override: [Option<f64>; MAX_JOINTS],
+    /// Acceleration per joint that replaces the one from the servo (rad/s² or m/s²).
+    pub acceleration_override: [Option<f64>; MAX_JOINTS],
+}
+
+impl Default for LimitSettings {
+    fn default() -> Self {
+        LimitSettings {
+            derating: 0.8,
+            jerk_time: 0.05,
+            velocity_override: [None; MAX_JOINTS],
+            acceleration_override: [None; MAX_JOINTS],
+        }
+    }
+}
+
+/// Why no limits could be taken from the arm.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+pub enum LimitError {
+    /// A servo cannot even hold its joint against gravity at some pose of the sequence.
+    #[error(
+        "joint {joint} cannot hold waypoint {waypoint}: gravity needs {:.1} N·cm, the derated servo gives {:.1} N·cm",
+        .needed * 100.0, .available * 100.0
+    )]
+    OverTorque {
+        /// Joint index.
+        joint: usize,
+        /// Waypoint index.
+        waypoint: usize,
+        /// Holding effort needed (N·m or N).
+        needed: f64,
+        /// Derated stall effort (N·m or N).
+        available: f64,
+    },
+    /// A pose the arm cannot take or a setting out of range.
+    #[error("{0}")]
+    Input(String),
+}
+
+/// Per-joint limits for a sequence through `poses` (rad or m, one pose per waypoint), holding
+/// `payload_mass` kg.
+///
+/// Velocity: the servo's no-load speed less what the worst gravity load costs on its
+/// torque–speed line. Acceleration: (stall torque × derating − worst gravity torque) over the
+/// largest inertia the joint sees (its motor and gears included), both taken at every waypoint
+/// and half-way between neighbours. Jerk: acceleration over `jerk_time`.
+///
+/// # Errors
+/// [`LimitError::OverTorque`] naming the joint and waypoint where gravity alone needs more than
+/// the derated servo gives.
+pub fn limits_from_arm(
+    arm: &Arm,
+    poses: &[Vec<f64>],
+    payload_mass: f64,
+    settings: &LimitSettings,
+    model: &ServoModelOptions,
+) -> Result<Vec<JointLimits>, LimitError> {
+    if !(settings.derating > 0.0 && settings.derating <= 1.0) {
+        return Err(LimitError::Input(format!(
+            "derating {} must lie in (0, 1]",
+            settings.derating
+        )));
+    }
+    if !(settings.jerk_time > 0.0 && settings.jerk_time.is_finite()) {
+        return Err(LimitError::Input(format!(
+            "jerk time {} s must be positive",
+            settings.jerk_time
+        )));
+    }
+    let n = arm.joint_count();
+    let mut worst_gravity = [0.0_f64; MAX_JOINTS];
+    let mut worst_inertia = [0.0_f64; MAX_JOINTS];
+    let mut look = |pose: &[f64], waypoint: usize| -> Result<(), LimitError> {
+        let gravity = gravity_torques(arm, pose, payload_mass)
+            .map_err(|e| LimitError::Input(e.to_string()))?;
+        for (j, joint) in arm.joints().iter().enumerate() {
+            let needed = gravity.as_slice()[j].abs();
+            let available = joint.rated_effort(settings.derating);
+            if needed >= available {
+                return Err(LimitError::OverTorque {
+                    joint: j,
+                    waypoint,
+                    needed,
+                    available,
+                });
+            }
+            worst_gravity[j] = worst_gravity[j].max(needed);
+            let inertia = joint_inertia(arm, pose, payload_mass, j)
+                .map_err(|e| LimitError::Input(e.to_string()))?;
+            worst_inertia[j] = worst_inertia[j].max(inertia);
+        }
+        Ok(())
+    };
+    for (index, pose) in poses.iter().enumerate() {
+        look(pose, index)?;
+        if let Some(next) = poses.get(index + 1) {
+            let middle: Vec<f64> = pose.iter().zip(next).map(|(a, b)| 0.5 * (a + b)).collect();
+            look(&middle, index + 1)?;
+        }
+    }
+    let mut limits = Vec::with_capacity(n);
+    for (j, joint) in arm.joints().iter().enumerate() {
+        let servo = ServoModel::of_joint(joint, model);
+        let stall = servo.stall_effort;
+        let velocity = settings.velocity_override[j]
+            .unwrap_or(servo.no_load_speed * (1.0 - worst_gravity[j] / stall));
+        let acceleration = settings.acceleration_override[j].unwrap_or(
+            (stall * settings.derating - worst_gravity[j])
+                / (servo.motor_inertia + worst_inertia[j]),
+        );
+        limits.push(JointLimits::new(
+            velocity,
+            acceleration,
+            acceleration / settings.jerk_time,
+        ));
+    }
+    Ok(limits)
+}

@@ -1,0 +1,242 @@
+//! A task planned on a real arm: limits from its servos, the payload the gripper carries, and
+//! where each waypoint falls in time — what the dry run, retiming and streaming follow.
+
+use armwright_kinematics::{Arm, MAX_JOINTS, inverse_dynamics, torque_use};
+
+use crate::arm_limits::{LimitError, LimitSettings, limits_from_arm};
+use crate::dry_run::{CommandedMotion, WaypointTiming};
+use crate::profile::{JointLimits, JointState, ProfileShape};
+use crate::retime::{Planner, Timing};
+use crate::sequence::{
+    SegmentKind, SequenceError, SequencePlan, SequenceWaypoint, WaypointKind, plan_sequence,
+};
+use crate::servo_sim::ServoModelOptions;
+
+/// One waypoint of a task, in joint space.
+#[derive(Debug, Clone, PartialEq)]
+pub struct TaskWaypoint {
+    /// Joint positions (rad or m), one per joint in chain order.
+    pub positions: Vec<f64>,
+    /// Whether the arm comes to rest here (a stop) or flows through.
+    pub stop: bool,
+    /// Pause at a stop, in s.
+    pub dwell: f64,
+    /// Share (0, 1] of each joint's limits the move into this waypoint may use.
+    pub speed_share: f64,
+    /// Whether the gripper is closed (holding the payload) from this waypoint on.
+    pub gripper_closed: bool,
+}
+
+/// A task: waypoints, the profile every move uses, and how limits come from the arm.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Task {
+    /// The waypoints in order; the first and last are stops.
+    pub waypoints: Vec<TaskWaypoint>,
+    /// Trapezoid or double-S.
+    pub shape: ProfileShape,
+    /// Derating, jerk time and overrides.
+    pub limits: LimitSettings,
+    /// The servo model's settings (its motor inertia counts in the acceleration limits).
+    pub model: ServoModelOptions,
+}
+
+/// Why a task could not be planned.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+pub enum PlanError {
+    /// Limits could not be taken from the arm.
+    #[error(transparent)]
+    Limits(#[from] LimitError),
+    /// The sequence could not be planned.
+    #[error(transparent)]
+    Sequence(#[from] SequenceError),
+}
+
+/// A planned task: the sequence plan with the payload schedule and waypoint timings.
+#[derive(Debug, Clone, PartialEq)]
+pub struct TaskPlan {
+    plan: SequencePlan,
+    timings: Vec<WaypointTiming>,
+    payload: Vec<f64>,
+    limits: Vec<JointLimits>,
+}
+
+/// Plans `task` on `arm`.
+///
+/// # Errors
+/// [`PlanError`] naming the joint and waypoint when a servo cannot hold its load, or the
+/// waypoint whose move cannot be planned.
+pub fn plan_task(arm: &Arm, task: &Task) -> Result<TaskPlan, PlanError> {
+    let poses: Vec<Vec<f64>> = task.waypoints.iter().map(|w| w.positions.clone()).collect();
+    let carried = if task.waypoints.iter().any(|w| w.gripper_closed) {
+        arm.payload_mass()
+    } else {
+        0.0
+    };
+    let limits = limits_from_arm(arm, &poses, carried, &task.limits, &task.model)?;
+    let last = task.waypoints.len().saturating_sub(1);
+    let waypoints: Vec<SequenceWaypoint> = task
+        .waypoints
+        .iter()
+        .enumerate()
+        .map(|(index, w)| SequenceWaypoint {
+            positions: w.positions.clone(),
+            kind: if w.stop || index == 0 || index == last {
+                WaypointKind::Stop { dwell: w.dwell }
+            } else {
+                WaypointKind::PassThrough
+            },
+            speed_share: w.speed_share,
+        })
+        .collect();
+    let plan = plan_sequence(task.shape, &waypoints, &limits)?;
+    let mut timings = vec![
+        WaypointTiming {
+            arrival: 0.0,
+            departure: 0.0,
+            stop: true
+        };
+        waypoints.len()
+    ];
+    for segment in plan.segments() {
+        let end = segment.start + segment.motion.duration();
+        match segment.kind {
+            SegmentKind::Move { to_waypoint, .. } => {
+                let stop = matches!(waypoints[to_waypoint].kind, WaypointKind::Stop { .. });
+                timings[to_waypoint] = WaypointTiming {
+                    arrival: end,
+                    departure: end,
+                    stop,
+                };
+            }
+            SegmentKind::Dwell { waypoint } => timings[waypoint].departure = end,
+        }
+    }
+    let payload = task
+        .waypoints
+        .iter()
+        .map(|w| {
+            if w.gripper_closed {
+                arm.payload_mass()
+            } else {
+                0.0
+            }
+        })
+        .collect();
+    Ok(TaskPlan {
+        plan,
+        timings,
+        payload,
+        limits,
+    })
+}
+
+impl TaskPlan {
+    /// The underlying sequence plan.
+    pub fn sequence(&self) -> &SequencePlan {
+        &self.plan
+    }
+
+    /// Where each waypoint falls in time.
+    pub fn timings(&self) -> &[WaypointTiming] {
+        &self.timings
+    }
+
+    /// The per-joint limits the plan was made with (rad/s, rad/s², rad/s³ or m-based).
+    pub fn limits(&self) -> &[JointLimits] {
+        &self.limits
+    }
+
+    /// Peak torque use of any joint on the move into each waypoint and its dwell, from inverse
+    /// dynamics of the commanded motion every `interval` s (share of stall torque × `derating`;
+    /// 1.0 = 100 %). Waypoint 0 gets the holding torque at the start.
+    pub fn peak_torque_use(&self, arm: &Arm, derating: f64, interval: f64) -> Vec<f64> {
+        let n = arm.joint_count();
+        let mut peaks = vec![0.0_f64; self.timings.len()];
+        let mut states = [JointState::default(); MAX_JOINTS];
+        let mut positions = [0.0; MAX_JOINTS];
+        let mut rates = [0.0; MAX_JOINTS];
+        let mut accelerations = [0.0; MAX_JOINTS];
+        let mut start = 0.0;
+        for (index, timing) in self.timings.iter().enumerate() {
+            let steps = (((timing.departure - start) / interval).ceil() as usize).max(1);
+            for k in 0..=steps {
+                let t = start + (timing.departure - start) * k as f64 / steps as f64;
+                self.plan.states_at(t, &mut states[..n]);
+                for j in 0..n {
+                    positions[j] = states[j].position;
+                    rates[j] = states[j].velocity;
+                    accelerations[j] = states[j].acceleration;
+                }
+                let payload = self.payload_at(t);
+                if let Ok(efforts) = inverse_dynamics(
+                    arm,
+                    &positions[..n],
+                    &rates[..n],
+                    &accelerations[..n],
+                    payload,
+                ) {
+                    peaks[index] = peaks[index].max(torque_use(arm, &efforts, derating).max_abs());
+                }
+            }
+            start = timing.departure;
+        }
+        peaks
+    }
+}
+
+impl CommandedMotion for TaskPlan {
+    fn duration(&self) -> f64 {
+        self.plan.duration()
+    }
+
+    fn positions_at(&self, t: f64, positions: &mut [f64]) {
+        self.plan.positions_at(t, positions);
+    }
+
+    fn payload_at(&self, t: f64) -> f64 {
+        // The gripper state of a waypoint holds from its arrival until the next arrival.
+        let index = self
+            .timings
+            .partition_point(|w| w.arrival <= t)
+            .saturating_sub(1);
+        self.payload.get(index).copied().unwrap_or(0.0)
+    }
+}
+
+/// Plans a task again with other speed shares and dwells: what retiming searches with.
+#[derive(Debug, Clone)]
+pub struct TaskPlanner<'a> {
+    /// The arm.
+    pub arm: &'a Arm,
+    /// The task whose shares and dwells are replaced.
+    pub task: &'a Task,
+}
+
+impl Planner for TaskPlanner<'_> {
+    type Motion = TaskPlan;
+
+    fn plan(&self, timing: &Timing) -> Result<(TaskPlan, Vec<WaypointTiming>), String> {
+        let mut task = self.task.clone();
+        for (index, waypoint) in task.waypoints.iter_mut().enumerate() {
+            if let Some(&share) = timing.speed_share.get(index) {
+                waypoint.speed_share = share;
+            }
+            if let Some(&dwell) = timing.dwell.get(index) {
+                waypoint.dwell = dwell;
+            }
+        }
+        let plan = plan_task(self.arm, &task).map_err(|e| e.to_string())?;
+        let timings = plan.timings().to_vec();
+        Ok((plan, timings))
+    }
+}
+
+impl Task {
+    /// The task's own speed shares and dwells, the starting point for retiming.
+    pub fn timing(&self) -> Timing {
+        Timing {
+            speed_share: self.waypoints.iter().map(|w| w.speed_share).collect(),
+            dwell: self.waypoints.iter().map(|w| w.dwell).collect(),
+        }
+    }
+}

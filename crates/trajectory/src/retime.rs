@@ -1,0 +1,327 @@
+//! Retiming: the fastest timing of a sequence whose dry run meets an overshoot and torque target.
+//!
+//! Each stop's overshoot depends mostly on the move into it, because the arm starts every move
+//! from rest when the dwell before it is long enough. So the search runs all moves at once: a
+//! bisection on each move's speed share, every round one dry run of the whole sequence with long
+//! dwells, then dwells set from the predicted settle times, then a checking run of the result.
+
+use armwright_kinematics::Arm;
+
+use crate::dry_run::{
+    CommandedMotion, DryRun, DryRunError, DryRunOptions, WaypointTiming, dry_run,
+};
+
+/// The timing choices retiming makes: per waypoint a speed share (0–1] and a dwell (s).
+#[derive(Debug, Clone, PartialEq)]
+pub struct Timing {
+    /// Share of each joint's limits the move into the waypoint may use, (0, 1].
+    pub speed_share: Vec<f64>,
+    /// Pause at each waypoint, in s (ignored at a pass-through).
+    pub dwell: Vec<f64>,
+}
+
+/// Something that turns timing choices into a timed motion: the sequence planner.
+pub trait Planner {
+    /// The motion it plans.
+    type Motion: CommandedMotion;
+    /// Plans the sequence with these choices, returning the motion and where each waypoint
+    /// sits in it.
+    ///
+    /// # Errors
+    /// A reason naming the waypoint, when no plan exists for these choices.
+    fn plan(&self, timing: &Timing) -> Result<(Self::Motion, Vec<WaypointTiming>), String>;
+}
+
+/// What retiming must meet.
+#[derive(Debug, Clone, PartialEq)]
+pub struct RetimeTarget {
+    /// Largest allowed tool-point overshoot at any stop, in m.
+    pub max_overshoot: f64,
+    /// Share of each servo's stall torque the dry run may use (0–1].
+    pub derating: f64,
+    /// Shortest dwell at a stop, in s.
+    pub min_dwell: f64,
+    /// Longest dwell retiming will give a stop while waiting for it to settle, in s.
+    pub max_dwell: f64,
+    /// Slowest speed share retiming will try before saying the target cannot be met.
+    pub min_speed_share: f64,
+    /// Bisection rounds on the speed shares; each halves the uncertainty.
+    pub rounds: usize,
+}
+
+impl Default for RetimeTarget {
+    fn default() -> Self {
+        RetimeTarget {
+            max_overshoot: 1.5e-3,
+            derating: 1.0,
+            min_dwell: 0.0,
+            max_dwell: 1.5,
+            min_speed_share: 0.05,
+            rounds: 8,
+        }
+    }
+}
+
+/// The headline figures of one dry run.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct RunSummary {
+    /// Length of the plan, in s.
+    pub cycle_time: f64,
+    /// Worst overshoot at any stop, in m.
+    pub worst_overshoot: f64,
+    /// Worst torque use of any joint (share of derated stall torque; 1.0 = 100 %).
+    pub worst_torque_use: f64,
+}
+
+impl RunSummary {
+    /// The figures of a dry run.
+    pub fn of(run: &DryRun) -> RunSummary {
+        RunSummary {
+            cycle_time: run.cycle_time,
+            worst_overshoot: run.worst_overshoot(),
+            worst_torque_use: run.worst_torque_use(),
+        }
+    }
+}
+
+/// The result of retiming: the new timing, the dry runs before and after, and whether the
+/// target was met.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Retimed {
+    /// The timing found.
+    pub timing: Timing,
+    /// The dry run of the timing given.
+    pub before: DryRun,
+    /// The dry run of the timing found.
+    pub after: DryRun,
+}
+
+/// Why retiming gave no result.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+pub enum RetimeError {
+    /// A waypoint misses the target even at the slowest speed share tried.
+    #[error(
+        "waypoint {waypoint} misses the target even at {:.0} % speed: overshoot {:.2} mm, torque use {:.0} %",
+        .speed_share * 100.0, .overshoot * 1e3, .torque_use * 100.0
+    )]
+    Unreachable {
+        /// Waypoint index.
+        waypoint: usize,
+        /// The slowest share tried, (0, 1].
+        speed_share: f64,
+        /// Its overshoot there, in m.
+        overshoot: f64,
+        /// Its torque use there (share).
+        torque_use: f64,
+    },
+    /// The planner refused a timing.
+    #[error("no plan: {0}")]
+    Plan(String),
+    /// The dry run failed.
+    #[error(transparent)]
+    DryRun(#[from] DryRunError),
+    /// The caller cancelled.
+    #[error("retiming was cancelled")]
+    Cancelled,
+    /// A target value is unusable.
+    #[error("{what} must be {expected}, got {value}")]
+    Target {
+        /// Which value.
+        what: &'static str,
+        /// What is allowed.
+        expected: &'static str,
+        /// The bad value.
+        value: f64,
+    },
+}
+
+/// Finds the fastest timing whose dry run meets `target`, starting from `initial`.
+///
+/// `progress(share_done)` is called after every dry run with the share of the work done
+/// (0–1); returning `false` cancels.
+///
+/// # Errors
+/// [`RetimeError::Unreachable`] naming the waypoint that cannot meet the target,
+/// [`RetimeError::Cancelled`], or a planning or dry-run failure.
+pub fn retime<P: Planner>(
+    arm: &Arm,
+    planner: &P,
+    initial: &Timing,
+    target: &RetimeTarget,
+    options: &DryRunOptions,
+    mut progress: impl FnMut(f64) -> bool,
+) -> Result<Retimed, RetimeError> {
+    check_target(target)?;
+    let options = DryRunOptions {
+        derating: target.derating,
+        ..options.clone()
+    };
+    let count = initial.speed_share.len();
+    let total_runs = (target.rounds + 4) as f64;
+    let mut runs = 0.0;
+    let mut run = |timing: &Timing| -> Result<(DryRun, Vec<WaypointTiming>), RetimeError> {
+        let (motion, timings) = planner.plan(timing).map_err(RetimeError::Plan)?;
+        let result = dry_run(arm, &motion, &timings, &options)?;
+        runs += 1.0;
+        if !progress((runs / total_runs).min(1.0)) {
+            return Err(RetimeError::Cancelled);
+        }
+        Ok((result, timings))
+    };
+    let (before, stops) = run(initial)?;
+    let is_stop: Vec<bool> = stops.iter().map(|w| w.stop).collect();
+    // Pass-through waypoints share the speed of the stop they flow into.
+    let group: Vec<usize> = {
+        let mut owner = vec![count.saturating_sub(1); count];
+        let mut next_stop = count.saturating_sub(1);
+        for i in (0..count).rev() {
+            if is_stop[i] {
+                next_stop = i;
+            }
+            owner[i] = next_stop;
+        }
+        owner
+    };
+    let meets = |run: &DryRun, i: usize| {
+        let w = &run.waypoints[i];
+        w.overshoot <= target.max_overshoot && w.peak_torque_use <= 1.0
+    };
+
+    // 1. Speed shares, with long dwells so that every move starts from rest.
+    let mut low = vec![target.min_speed_share; count];
+    let mut high = vec![1.0; count];
+    let long = Timing {
+        speed_share: vec![1.0; count],
+        dwell: vec![target.max_dwell; count],
+    };
+    let (fastest, _) = run(&long)?;
+    let (slowest, _) = run(&Timing {
+        speed_share: low.clone(),
+        ..long.clone()
+    })?;
+    for i in (0..count).filter(|&i| is_stop[i]) {
+        if meets(&fastest, i) {
+            low[i] = 1.0;
+        } else if !meets(&slowest, i) {
+            let w = &slowest.waypoints[i];
+            return Err(RetimeError::Unreachable {
+                waypoint: i,
+                speed_share: target.min_speed_share,
+                overshoot: w.overshoot,
+                torque_use: w.peak_torque_use,
+            });
+        }
+    }
+    for _ in 0..target.rounds {
+        let trial: Vec<f64> = (0..count)
+            .map(|i| 0.5 * (low[group[i]] + high[group[i]]))
+            .collect();
+        let (result, _) = run(&Timing {
+            speed_share: trial.clone(),
+            ..long.clone()
+        })?;
+        let open: Vec<usize> = (0..count).filter(|&i| is_stop[i] && low[i] < 1.0).collect();
+        for i in open {
+            if meets(&result, i) {
+                low[i] = trial[i];
+            } else {
+                high[i] = trial[i];
+            }
+        }
+    }
+    let shares: Vec<f64> = (0..count).map(|i| low[group[i]]).collect();
+
+    // 2. Dwells from the settle times predicted with those shares.
+    let (settling, _) = run(&Timing {
+        speed_share: shares.clone(),
+        ..long.clone()
+    })?;
+    let dwell: Vec<f64> = (0..count)
+        .map(|i| {
+            let settle = settling.waypoints[i]
+                .settle_time
+                .unwrap_or(target.max_dwell);
+            let rounded = (settle * 100.0).ceil() / 100.0; // to the next 10 ms
+            if is_stop[i] {
+                rounded.clamp(target.min_dwell, target.max_dwell)
+            } else {
+                0.0
+            }
+        })
+        .collect();
+    let mut timing = Timing {
+        speed_share: shares,
+        dwell,
+    };
+
+    // 3. Check; a stop that now misses (it left before it had settled) keeps its long dwell.
+    let (mut after, _) = run(&timing)?;
+    let missing: Vec<usize> = (0..count)
+        .filter(|&i| is_stop[i] && !meets(&after, i))
+        .collect();
+    if !missing.is_empty() {
+        for &i in &missing {
+            timing.dwell[i] = target.max_dwell;
+        }
+        after = run(&timing)?.0;
+    }
+    if let Some(i) = (0..count).find(|&i| is_stop[i] && !meets(&after, i)) {
+        let w = &after.waypoints[i];
+        return Err(RetimeError::Unreachable {
+            waypoint: i,
+            speed_share: timing.speed_share[i],
+            overshoot: w.overshoot,
+            torque_use: w.peak_torque_use,
+        });
+    }
+    Ok(Retimed {
+        timing,
+        before,
+        after,
+    })
+}
+
+fn check_target(target: &RetimeTarget) -> Result<(), RetimeError> {
+    let checks = [
+        (
+            "max_overshoot",
+            target.max_overshoot,
+            target.max_overshoot > 0.0,
+            "positive",
+        ),
+        (
+            "derating",
+            target.derating,
+            target.derating > 0.0 && target.derating <= 1.0,
+            "within (0, 1]",
+        ),
+        (
+            "min_dwell",
+            target.min_dwell,
+            target.min_dwell >= 0.0,
+            "0 or more",
+        ),
+        (
+            "max_dwell",
+            target.max_dwell,
+            target.max_dwell >= target.min_dwell,
+            "at least min_dwell",
+        ),
+        (
+            "min_speed_share",
+            target.min_speed_share,
+            target.min_speed_share > 0.0 && target.min_speed_share <= 1.0,
+            "within (0, 1]",
+        ),
+    ];
+    for (what, value, ok, expected) in checks {
+        if !(ok && value.is_finite()) {
+            return Err(RetimeError::Target {
+                what,
+                expected,
+                value,
+            });
+        }
+    }
+    Ok(())
+}

@@ -1,0 +1,575 @@
+//! The servo model for dry runs: how hobby servos and their joints follow commanded pulse widths.
+//!
+//! Each joint is simulated on its own (decoupled): the servo's position loop turns the pulse-width
+//! error into motor torque, the joint's inertia and gravity load (from the kinematics crate, at
+//! the actual pose, refreshed every pulse frame) resist it, and gear backlash sits between the
+//! servo output and the link. Integration is classical fourth-order Runge–Kutta at a fixed step
+//! that divides the pulse frame, so the held pulse never changes inside a step.
+
+use armwright_kinematics::{Calibration, Joint, MAX_JOINTS};
+
+/// Settings of the servo model that a scene does not carry, with defaults.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ServoModelOptions {
+    /// Damping ratio of the linearised position loop; viscous damping follows from it and the
+    /// current inertia. Default 0.3 (hobby servos with long, light links ring visibly; a value
+    /// from memory, to be tuned by the user against their arm).
+    pub damping_ratio: f64,
+    /// Mechanical time constant of the unloaded servo, in s: the motor and gear-train inertia seen
+    /// at the output is this × stall torque ÷ no-load speed. Default 0.01 s (small DC gear
+    /// motors have mechanical time constants of a few to tens of ms; from memory).
+    pub motor_time_constant: f64,
+    /// Coulomb (dry) friction in the gear train as a share of stall torque. Default 0.02.
+    pub friction_share: f64,
+    /// Speed below which dry friction is smoothed towards zero, in rad/s (m/s). Default 0.02.
+    pub friction_smoothing: f64,
+    /// Smallest pulse-width step the device makes, in µs. Default 1 µs.
+    pub pulse_resolution_us: f64,
+    /// Time between pulses: the servo sees a new command once per frame, in s. Default 0.02 s
+    /// (the usual 50 Hz servo frame; common practice).
+    pub frame_period: f64,
+    /// Integration step, in s; must divide `frame_period` into a whole number. Default 0.001 s.
+    pub step: f64,
+    /// How long the arm rests at the first command before the recorded run starts, so that it
+    /// begins settled under its gravity load, in s. Default 0.5 s.
+    pub settle_before: f64,
+}
+
+impl Default for ServoModelOptions {
+    fn default() -> Self {
+        ServoModelOptions {
+            damping_ratio: 0.3,
+            motor_time_constant: 0.01,
+            friction_share: 0.02,
+            friction_smoothing: 0.02,
+            pulse_resolution_us: 1.0,
+            frame_period: 0.02,
+            step: 0.001,
+            settle_before: 0.5,
+        }
+    }
+}
+
+/// One joint's servo as the dry run models it. Efforts at the joint: N·m and rad for a revolute
+/// joint, N and m for a prismatic one.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ServoModel {
+    /// Effort at stall, at the joint (N·m or N).
+    pub stall_effort: f64,
+    /// Joint speed with no load (rad/s or m/s).
+    pub no_load_speed: f64,
+    /// Pulse-width error the servo ignores, in µs (total width, half each side).
+    pub deadband_us: f64,
+    /// Pulse-width error beyond the deadband that gives full drive, in µs.
+    pub proportional_band_us: f64,
+    /// Joint position ↔ pulse width.
+    pub calibration: Calibration,
+    /// Total play between servo output and link (rad or m).
+    pub backlash: f64,
+    /// Motor and gear-train inertia seen at the joint (kg·m² or kg).
+    pub motor_inertia: f64,
+    /// Damping ratio of the linearised loop.
+    pub damping_ratio: f64,
+    /// Dry friction at the joint (N·m or N).
+    pub dry_friction: f64,
+    /// Speed below which dry friction is smoothed (rad/s or m/s).
+    pub friction_smoothing: f64,
+    /// Pulse resolution, in µs.
+    pub pulse_resolution_us: f64,
+}
+
+impl ServoModel {
+    /// The model of a joint's servo with the given options.
+    pub fn of_joint(joint: &Joint, options: &ServoModelOptions) -> ServoModel {
+        let servo = &joint.servo;
+        let stall_effort = servo.stall_torque / servo.drive_ratio;
+        let no_load_speed = servo.no_load_speed * servo.drive_ratio;
+        ServoModel {
+            stall_effort,
+            no_load_speed,
+            deadband_us: servo.deadband_us,
+            proportional_band_us: servo.proportional_band_us,
+            calibration: joint.calibration.clone(),
+            backlash: servo.backlash * servo.drive_ratio,
+            motor_inertia: options.motor_time_constant * stall_effort / no_load_speed,
+            damping_ratio: options.damping_ratio,
+            dry_friction: options.friction_share * stall_effort,
+            friction_smoothing: options.friction_smoothing,
+            pulse_resolution_us: options.pulse_resolution_us,
+        }
+    }
+
+    /// Stiffness of the position loop across its proportional band, in N·m/rad (N/m).
+    pub fn stiffness(&self) -> f64 {
+        self.stall_effort * self.calibration.slope_us().abs() / self.proportional_band_us
+    }
+
+    /// The pulse width the device sends for a commanded position: the calibration rounded to
+    /// the pulse resolution and clamped to the accepted range, in µs.
+    pub fn commanded_pulse_us(&self, position: f64) -> f64 {
+        let raw = self.calibration.pulse_us(position);
+        let steps = (raw / self.pulse_resolution_us).round() * self.pulse_resolution_us;
+        steps.clamp(self.calibration.pulse_min_us, self.calibration.pulse_max_us)
+    }
+
+    /// Undamped natural frequency of the linearised loop with `load_inertia` added, in rad/s.
+    pub fn natural_frequency(&self, load_inertia: f64) -> f64 {
+        (self.stiffness() / (self.motor_inertia + load_inertia)).sqrt()
+    }
+
+    /// The servo output's acceleration (rad/s² or m/s²) for a held pulse, a load and a state.
+    ///
+    /// `pulse_us` is the held command; `load_inertia` (kg·m² or kg) is what the joint moves
+    /// beyond the servo; `holding_effort` is the effort gravity asks of the servo (N·m or N);
+    /// `position` and `velocity` are the servo output's.
+    pub fn acceleration(
+        &self,
+        pulse_us: f64,
+        load_inertia: f64,
+        holding_effort: f64,
+        position: f64,
+        velocity: f64,
+    ) -> f64 {
+        let inertia = self.motor_inertia + load_inertia;
+        let motor = self.stall_effort * self.effort_share(pulse_us, position, velocity);
+        let viscous = 2.0 * self.damping_ratio * (self.stiffness() * inertia).sqrt();
+        let dry = self.dry_friction * velocity
+            / (velocity * velocity + self.friction_smoothing * self.friction_smoothing).sqrt();
+        (motor - viscous * velocity - dry - holding_effort) / inertia
+    }
+
+    /// Motor effort as a signed share of stall effort: the drive the position loop asks for,
+    /// less what the motor loses to its own speed (the linear torque–speed line).
+    pub fn effort_share(&self, pulse_us: f64, position: f64, velocity: f64) -> f64 {
+        let drive = self.drive_share(pulse_us, position);
+        drive - drive.abs() * velocity / self.no_load_speed
+    }
+
+    /// Share of full drive the position loop asks for (−1..1) at a held pulse and position.
+    pub fn drive_share(&self, pulse_us: f64, position: f64) -> f64 {
+        // Error in µs, signed in the direction of increasing position.
+        let error_us =
+            (pulse_us - self.calibration.pulse_us(position)) * self.calibration.slope_us().signum();
+        let beyond = (error_us.abs() - self.deadband_us / 2.0).max(0.0);
+        (beyond / self.proportional_band_us).min(1.0) * error_us.signum()
+    }
+}
+
+/// The load on one joint: inertia beyond the servo (kg·m² or kg) and the effort gravity asks
+/// of the servo to hold it (N·m or N).
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub struct JointLoad {
+    /// Inertia the joint moves, beyond the servo's own.
+    pub inertia: f64,
+    /// Effort the servo must give to hold against gravity.
+    pub holding_effort: f64,
+}
+
+/// What the dry run recorded, one sample per integration step, joints interleaved
+/// (`joint_count` values per sample).
+#[derive(Debug, Clone, PartialEq)]
+pub struct ServoTrace {
+    /// Time between samples, in s.
+    pub step: f64,
+    /// Joints per sample.
+    pub joint_count: usize,
+    /// Commanded position at each sample (rad or m).
+    pub commanded: Vec<f64>,
+    /// Link position at each sample, after backlash (rad or m).
+    pub actual: Vec<f64>,
+    /// Servo output speed at each sample (rad/s or m/s).
+    pub velocity: Vec<f64>,
+    /// Motor effort at each sample as a signed share of stall effort.
+    pub effort_share: Vec<f64>,
+}
+
+impl ServoTrace {
+    /// Number of samples.
+    pub fn len(&self) -> usize {
+        self.actual.len() / self.joint_count.max(1)
+    }
+
+    /// Whether nothing was recorded.
+    pub fn is_empty(&self) -> bool {
+        self.actual.is_empty()
+    }
+
+    /// Link positions at sample `index`.
+    pub fn actual_at(&self, index: usize) -> &[f64] {
+        &self.actual[index * self.joint_count..(index + 1) * self.joint_count]
+    }
+
+    /// Commanded positions at sample `index`.
+    pub fn commanded_at(&self, index: usize) -> &[f64] {
+        &self.commanded[index * self.joint_count..(index + 1) * self.joint_count]
+    }
+}
+
+/// Longest run the dry run accepts, in s.
+pub const MAX_RUN_DURATION: f64 = 3600.0;
+
+/// Why a dry run could not start.
+#[derive(Debug, Clone, PartialEq, thiserror::Error)]
+pub enum ServoSimError {
+    /// The step must be positive and divide the pulse frame into a whole number of steps.
+    #[error("integration step {step} s must be positive and divide the {frame} s pulse frame")]
+    Step {
+        /// The step, in s.
+        step: f64,
+        /// The frame period, in s.
+        frame: f64,
+    },
+    /// One model per joint, 1 to `MAX_JOINTS`.
+    #[error("expected 1 to {MAX_JOINTS} servo models, got {got}")]
+    JointCount {
+        /// Models given.
+        got: usize,
+    },
+    /// The run must last 0 to [`MAX_RUN_DURATION`] s.
+    #[error("run duration {duration} s must lie within 0..{MAX_RUN_DURATION} s")]
+    Duration {
+        /// The duration asked for, in s.
+        duration: f64,
+    },
+}
+
+/// Runs the servo models for `duration` s and records every step.
+///
+/// `commanded(t, positions)` fills the commanded joint positions (rad or m) at time `t` (s);
+/// the device turns them into pulse widths once per frame (rounded, clamped, then held).
+/// `loads(t, link_positions, loads)` gives each joint's load at time `t` (s) and the actual pose;
+/// it is asked once per frame. Before the recorded run the arm rests for `settle_before` s at the first command.
+///
+/// # Errors
+/// [`ServoSimError`] when the step, joint count or duration is unusable.
+pub fn simulate<C, L>(
+    models: &[ServoModel],
+    options: &ServoModelOptions,
+    duration: f64,
+    mut commanded: C,
+    mut loads: L,
+) -> Result<ServoTrace, ServoSimError>
+where
+    C: FnMut(f64, &mut [f64]),
+    L: FnMut(f64, &[f64], &mut [JointLoad]),
+{
+    let n = models.len();
+    if n == 0 || n > MAX_JOINTS {
+        return Err(ServoSimError::JointCount { got: n });
+    }
+    let steps_per_frame = (options.frame_period / options.step).round();
+    let step_ok = options.step > 0.0
+        && options.step.is_finite()
+        && steps_per_frame >= 1.0
+        && (steps_per_frame * options.step - options.frame_period).abs() < 1e-9;
+    if !step_ok {
+        return Err(ServoSimError::Step {
+            step: options.step,
+            frame: options.frame_period,
+        });
+    }
+    if !(duration.is_finite() && (0.0..=MAX_RUN_DURATION).contains(&duration)) {
+        return Err(ServoSimError::Duration { duration });
+    }
+    let steps_per_frame = steps_per_frame as usize;
+    let dt = options.step;
+    let samples = (duration / dt).ceil() as usize + 1;
+
+    let mut command = [0.0; MAX_JOINTS];
+    let mut pulse_us = [0.0; MAX_JOINTS];
+    let mut position = [0.0; MAX_JOINTS];
+    let mut velocity = [0.0; MAX_JOINTS];
+    let mut link = [0.0; MAX_JOINTS];
+    let mut load = [JointLoad::default(); MAX_JOINTS];
+    let mut effort = [0.0; MAX_JOINTS];
+
+    commanded(0.0, &mut command[..n]);
+    for j in 0..n {
+        pulse_us[j] = models[j].commanded_pulse_us(command[j]);
+        position[j] = models[j].calibration.position(pulse_us[j]);
+        link[j] = position[j];
+    }
+    let mut frames = [None; MAX_JOINTS];
+    let settle_steps = (options.settle_before.max(0.0) / dt).round() as usize;
+    for k in 0..settle_steps {
+        if k % steps_per_frame == 0 {
+            loads(0.0, &link[..n], &mut load[..n]);
+            for j in 0..n {
+                frames[j] = Some(FrameLoop::new(&models[j], pulse_us[j], &load[j]));
+            }
+        }
+        for j in 0..n {
+            if let Some(frame) = &frames[j] {
+                advance(
+                    frame,
+                    models[j].backlash,
+                    dt,
+                    &mut position[j],
+                    &mut velocity[j],
+                    &mut link[j],
+                );
+            }
+        }
+    }
+
+    let mut trace = ServoTrace {
+        step: dt,
+        joint_count: n,
+        commanded: Vec::with_capacity(samples * n),
+        actual: Vec::with_capacity(samples * n),
+        velocity: Vec::with_capacity(samples * n),
+        effort_share: Vec::with_capacity(samples * n),
+    };
+    for k in 0..samples {
+        let t = k as f64 * dt;
+        commanded(t, &mut command[..n]);
+        if k % steps_per_frame == 0 {
+            for j in 0..n {
+                pulse_us[j] = models[j].commanded_pulse_us(command[j]);
+            }
+            loads(t, &link[..n], &mut load[..n]);
+            for j in 0..n {
+                frames[j] = Some(FrameLoop::new(&models[j], pulse_us[j], &load[j]));
+            }
+        }
+        trace.commanded.extend_from_slice(&command[..n]);
+        trace.actual.extend_from_slice(&link[..n]);
+        trace.velocity.extend_from_slice(&velocity[..n]);
+        for j in 0..n {
+            effort[j] = models[j].effort_share(pulse_us[j], position[j], velocity[j]);
+        }
+        trace.effort_share.extend_from_slice(&effort[..n]);
+        if k + 1 < samples {
+            for j in 0..n {
+                if let Some(frame) = &frames[j] {
+                    advance(
+                        frame,
+                        models[j].backlash,
+                        dt,
+                        &mut position[j],
+                        &mut velocity[j],
+                        &mut link[j],
+                    );
+                }
+            }
+        }
+    }
+    Ok(trace)
+}
+
+/// [`ServoModel::acceleration`] with everything that is constant over one pulse frame worked out
+/// once: the same equations, fewer divisions and roots in the integration loop.
+#[derive(Debug, Clone, Copy)]
+struct FrameLoop {
+    /// Servo position at which the held pulse gives zero error (rad or m).
+    aim: f64,
+    /// |µs per unit position|.
+    gain_us: f64,
+    half_deadband_us: f64,
+    inverse_band_us: f64,
+    stall: f64,
+    inverse_no_load_speed: f64,
+    viscous: f64,
+    dry: f64,
+    smoothing_squared: f64,
+    holding: f64,
+    inverse_inertia: f64,
+}
+
+impl FrameLoop {
+    fn new(model: &ServoModel, pulse_us: f64, load: &JointLoad) -> FrameLoop {
+        let inertia = model.motor_inertia + load.inertia;
+        FrameLoop {
+            aim: model.calibration.position(pulse_us),
+            gain_us: model.calibration.slope_us().abs(),
+            half_deadband_us: model.deadband_us / 2.0,
+            inverse_band_us: 1.0 / model.proportional_band_us,
+            stall: model.stall_effort,
+            inverse_no_load_speed: 1.0 / model.no_load_speed,
+            viscous: 2.0 * model.damping_ratio * (model.stiffness() * inertia).sqrt(),
+            dry: model.dry_friction,
+            smoothing_squared: model.friction_smoothing * model.friction_smoothing,
+            holding: load.holding_effort,
+            inverse_inertia: 1.0 / inertia,
+        }
+    }
+
+    #[inline]
+    fn acceleration(&self, position: f64, velocity: f64) -> f64 {
+        let error_us = (self.aim - position) * self.gain_us;
+        let beyond = (error_us.abs() - self.half_deadband_us).max(0.0);
+        let drive = (beyond * self.inverse_band_us).min(1.0).copysign(error_us);
+        let drive = if beyond > 0.0 { drive } else { 0.0 };
+        let motor = self.stall * (drive - drive.abs() * velocity * self.inverse_no_load_speed);
+        let dry = self.dry * velocity / (velocity * velocity + self.smoothing_squared).sqrt();
+        (motor - self.viscous * velocity - dry - self.holding) * self.inverse_inertia
+    }
+}
+
+/// One Runge–Kutta step of one joint, then the backlash play between servo output and link.
+fn advance(
+    frame: &FrameLoop,
+    backlash: f64,
+    dt: f64,
+    position: &mut f64,
+    velocity: &mut f64,
+    link: &mut f64,
+) {
+    let accel = |p: f64, v: f64| frame.acceleration(p, v);
+    let (p0, v0) = (*position, *velocity);
+    let a1 = accel(p0, v0);
+    let (p2, v2) = (p0 + 0.5 * dt * v0, v0 + 0.5 * dt * a1);
+    let a2 = accel(p2, v2);
+    let (p3, v3) = (p0 + 0.5 * dt * v2, v0 + 0.5 * dt * a2);
+    let a3 = accel(p3, v3);
+    let (p4, v4) = (p0 + dt * v3, v0 + dt * a3);
+    let a4 = accel(p4, v4);
+    *position = p0 + dt / 6.0 * (v0 + 2.0 * v2 + 2.0 * v3 + v4);
+    *velocity = v0 + dt / 6.0 * (a1 + 2.0 * a2 + 2.0 * a3 + a4);
+    let half_play = backlash / 2.0;
+    *link = link.clamp(*position - half_play, *position + half_play);
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// A servo stripped to a linear second-order loop: no deadband, no saturation within the
+    /// step, no speed loss, no friction, no backlash, no gravity.
+    fn linear_servo(damping_ratio: f64) -> ServoModel {
+        ServoModel {
+            stall_effort: 2.0,
+            no_load_speed: 1e12,
+            deadband_us: 0.0,
+            proportional_band_us: 400.0,
+            calibration: Calibration {
+                position_a: 0.0,
+                pulse_a_us: 1500.0,
+                position_b: 1.0,
+                pulse_b_us: 1818.0,
+                pulse_min_us: 500.0,
+                pulse_max_us: 2500.0,
+            },
+            backlash: 0.0,
+            motor_inertia: 2e-3,
+            damping_ratio,
+            dry_friction: 0.0,
+            friction_smoothing: 0.02,
+            pulse_resolution_us: 1e-9,
+        }
+    }
+
+    fn step_response(model: &ServoModel, step_size: f64, duration: f64) -> (ServoTrace, f64) {
+        let options = ServoModelOptions {
+            step: 2e-4,
+            settle_before: 0.0,
+            ..ServoModelOptions::default()
+        };
+        let load = 1e-3;
+        let trace = simulate(
+            std::slice::from_ref(model),
+            &options,
+            duration,
+            |t, out| out[0] = if t > 0.0 { step_size } else { 0.0 },
+            |_, _, loads| {
+                loads[0] = JointLoad {
+                    inertia: load,
+                    holding_effort: 0.0,
+                }
+            },
+        )
+        .expect("valid run");
+        (trace, model.natural_frequency(load))
+    }
+
+    #[test]
+    fn linear_loop_overshoots_as_a_second_order_system() {
+        // Ogata, Modern Control Engineering, 5th ed., §5-3: maximum overshoot of a unit step on
+        // an underdamped second-order system is exp(−ζπ/√(1−ζ²)).
+        for zeta in [0.1, 0.3, 0.5] {
+            let model = linear_servo(zeta);
+            let step_size = 0.05;
+            let (trace, _) = step_response(&model, step_size, 2.0);
+            let peak = (0..trace.len())
+                .map(|k| trace.actual_at(k)[0])
+                .fold(f64::MIN, f64::max);
+            let measured = (peak - step_size) / step_size;
+            let expected = (-zeta * std::f64::consts::PI / (1.0 - zeta * zeta).sqrt()).exp();
+            // The step lands on the first frame boundary after t = 0 and the pulse is held, so
+            // the plant sees a clean step; tolerance covers the 0.2 ms sampling of the peak.
+            assert!(
+                (measured - expected).abs() < 2e-3,
+                "ζ = {zeta}: {measured} vs {expected}"
+            );
+        }
+    }
+
+    #[test]
+    fn linear_loop_settles_within_the_envelope_estimate() {
+        // Ogata, 5th ed., §5-3: the response stays inside exp(−ζωn·t)/√(1−ζ²) of the final
+        // value, so the 2 % settling time is at most about 4/(ζωn).
+        let zeta = 0.3;
+        let model = linear_servo(zeta);
+        let step_size = 0.05;
+        let (trace, omega) = step_response(&model, step_size, 2.0);
+        let start = trace.step * (0.02 / trace.step).round(); // the frame where the step lands
+        let mut settled_at = 0.0;
+        for k in 0..trace.len() {
+            let t = k as f64 * trace.step - start;
+            let error = (trace.actual_at(k)[0] - step_size).abs() / step_size;
+            if t > 0.0 {
+                let envelope = (-zeta * omega * t).exp() / (1.0 - zeta * zeta).sqrt();
+                assert!(error <= envelope + 1e-6, "outside the envelope at {t} s");
+            }
+            if error > 0.02 {
+                settled_at = t;
+            }
+        }
+        let estimate = 4.0 / (zeta * omega);
+        assert!(
+            settled_at <= estimate && settled_at > 0.7 * estimate,
+            "{settled_at} vs {estimate}"
+        );
+    }
+
+    #[test]
+    fn the_frame_form_is_the_documented_equation() {
+        let mut model = linear_servo(0.3);
+        model.deadband_us = 5.0;
+        model.no_load_speed = 6.0;
+        model.dry_friction = 0.05;
+        model.calibration.pulse_b_us = 1200.0; // falling
+        let load = JointLoad {
+            inertia: 3e-3,
+            holding_effort: 0.2,
+        };
+        for pulse_us in [1490.0, 1500.0, 1502.0, 1530.0, 1700.0] {
+            let frame = FrameLoop::new(&model, pulse_us, &load);
+            for (p, v) in [(0.0, 0.0), (0.01, -0.5), (-0.2, 2.0), (0.3, 7.0)] {
+                let direct = model.acceleration(pulse_us, load.inertia, load.holding_effort, p, v);
+                let fast = frame.acceleration(p, v);
+                assert!(
+                    (direct - fast).abs() <= 1e-9 * direct.abs().max(1.0),
+                    "{direct} vs {fast}"
+                );
+            }
+        }
+    }
+
+    #[test]
+    fn a_bad_step_is_refused() {
+        let model = linear_servo(0.3);
+        let options = ServoModelOptions {
+            step: 0.003,
+            ..ServoModelOptions::default()
+        };
+        let result = simulate(
+            std::slice::from_ref(&model),
+            &options,
+            1.0,
+            |_, _| {},
+            |_, _, _| {},
+        );
+        assert!(matches!(result, Err(ServoSimError::Step { .. })));
+    }
+}

@@ -1,0 +1,105 @@
+//! The dry run on a real arm model: faster moves overshoot more, the arm rests where its
+//! servos balance gravity, timings are checked.
+
+#[path = "../../kinematics/tests/common/mod.rs"]
+mod common;
+
+use armwright_trajectory::{
+    CommandedMotion, DryRunError, DryRunOptions, LimitSettings, ProfileShape, ServoModel,
+    ServoModelOptions, Task, TaskWaypoint, WaypointTiming, dry_run, plan_task,
+};
+
+fn waypoint(positions: &[f64], speed_share: f64, dwell: f64, gripper_closed: bool) -> TaskWaypoint {
+    TaskWaypoint {
+        positions: positions.to_vec(),
+        stop: true,
+        dwell,
+        speed_share,
+        gripper_closed,
+    }
+}
+
+fn reach_task(speed_share: f64, gripper_closed: bool) -> Task {
+    Task {
+        waypoints: vec![
+            waypoint(&[0.0, 0.3, -0.5, 0.0], 1.0, 0.3, gripper_closed),
+            waypoint(&[0.8, 1.2, -1.3, 0.3], speed_share, 0.8, gripper_closed),
+            waypoint(&[-0.4, 0.5, -0.3, -0.2], speed_share, 0.8, gripper_closed),
+        ],
+        shape: ProfileShape::DoubleS,
+        limits: LimitSettings::default(),
+        model: ServoModelOptions::default(),
+    }
+}
+
+#[test]
+fn faster_moves_overshoot_more() {
+    let arm = common::articulated(false);
+    let mut overshoots = Vec::new();
+    for share in [0.2, 0.5, 1.0] {
+        let plan = plan_task(&arm, &reach_task(share, false)).expect("plannable");
+        let run = dry_run(&arm, &plan, plan.timings(), &DryRunOptions::default()).expect("runs");
+        overshoots.push(run.worst_overshoot());
+    }
+    assert!(
+        overshoots[0] < overshoots[1] && overshoots[1] < overshoots[2],
+        "{overshoots:?}"
+    );
+    assert!(
+        overshoots[2] > 1e-4,
+        "a full-speed move of this arm rings: {overshoots:?}"
+    );
+}
+
+#[test]
+fn at_rest_each_servo_balances_gravity() {
+    // Statics: at rest the motor's effort equals the holding effort, give or take dry friction.
+    let arm = common::articulated(false);
+    let task = reach_task(0.5, true);
+    let plan = plan_task(&arm, &task).expect("plannable");
+    let options = DryRunOptions::default();
+    let run = dry_run(&arm, &plan, plan.timings(), &options).expect("runs");
+    let last = run.trace.len() - 1;
+    let rest = run.trace.actual_at(last);
+    let gravity = armwright_kinematics::gravity_torques(&arm, rest, arm.payload_mass()).unwrap();
+    for (j, joint) in arm.joints().iter().enumerate() {
+        let model = ServoModel::of_joint(joint, &options.servo);
+        let effort = run.trace.effort_share[last * arm.joint_count() + j] * model.stall_effort;
+        let slack = model.dry_friction + 1e-3 * model.stall_effort;
+        assert!(
+            (effort - gravity.as_slice()[j]).abs() <= slack,
+            "joint {j}: motor {effort} N·m vs gravity {} N·m",
+            gravity.as_slice()[j]
+        );
+    }
+}
+
+#[test]
+fn carrying_the_payload_sags_further() {
+    let arm = common::articulated(false);
+    let resting = |closed: bool| {
+        let plan = plan_task(&arm, &reach_task(0.5, closed)).expect("plannable");
+        let run = dry_run(&arm, &plan, plan.timings(), &DryRunOptions::default()).expect("runs");
+        run.waypoints[1].resting_error
+    };
+    assert!(resting(true) > resting(false));
+}
+
+#[test]
+fn timings_out_of_order_are_refused() {
+    let arm = common::articulated(false);
+    let plan = plan_task(&arm, &reach_task(1.0, false)).expect("plannable");
+    let mut timings = plan.timings().to_vec();
+    timings.swap(1, 2);
+    let result = dry_run(&arm, &plan, &timings, &DryRunOptions::default());
+    assert!(
+        matches!(result, Err(DryRunError::Timing { index: 2, .. })),
+        "{result:?}"
+    );
+    let beyond = [WaypointTiming {
+        arrival: 0.0,
+        departure: plan.duration() + 1.0,
+        stop: true,
+    }];
+    assert!(dry_run(&arm, &plan, &beyond, &DryRunOptions::default()).is_err());
+}

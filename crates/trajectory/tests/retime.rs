@@ -1,0 +1,123 @@
+//! Retiming: the shortest timing whose dry run keeps every stop's overshoot under the target.
+
+#[path = "../../kinematics/tests/common/mod.rs"]
+mod common;
+
+use armwright_trajectory::{
+    DryRunOptions, LimitSettings, Planner, ProfileShape, RetimeError, RetimeTarget,
+    ServoModelOptions, Task, TaskPlanner, TaskWaypoint, dry_run, retime,
+};
+
+fn task() -> Task {
+    let stop = |positions: &[f64]| TaskWaypoint {
+        positions: positions.to_vec(),
+        stop: true,
+        dwell: 0.2,
+        speed_share: 1.0,
+        gripper_closed: false,
+    };
+    Task {
+        waypoints: vec![
+            stop(&[0.0, 0.3, -0.5, 0.0]),
+            stop(&[0.8, 1.2, -1.3, 0.3]),
+            stop(&[-0.5, 0.6, -0.2, -0.3]),
+            stop(&[0.0, 0.3, -0.5, 0.0]),
+        ],
+        shape: ProfileShape::DoubleS,
+        limits: LimitSettings::default(),
+        model: ServoModelOptions::default(),
+    }
+}
+
+#[test]
+fn retimed_sequence_meets_the_target_and_no_faster_share_would() {
+    let arm = common::articulated(false);
+    let task = task();
+    let planner = TaskPlanner {
+        arm: &arm,
+        task: &task,
+    };
+    let target = RetimeTarget {
+        max_overshoot: 0.8e-3,
+        ..RetimeTarget::default()
+    };
+    let options = DryRunOptions::default();
+    let retimed = retime(&arm, &planner, &task.timing(), &target, &options, |_| true)
+        .expect("the target can be met");
+    assert!(
+        retimed.before.worst_overshoot() > target.max_overshoot,
+        "the start misses it"
+    );
+    assert!(retimed.after.worst_overshoot() <= target.max_overshoot);
+    // The after figures are those of the timing returned.
+    let (plan, timings) = planner.plan(&retimed.timing).expect("plannable");
+    let again = dry_run(&arm, &plan, &timings, &options).expect("runs");
+    assert_eq!(again.worst_overshoot(), retimed.after.worst_overshoot());
+    // No longer than needed: each slowed move, made 10 % faster with long dwells, misses.
+    for (index, &share) in retimed.timing.speed_share.iter().enumerate().skip(1) {
+        if share >= 1.0 {
+            continue;
+        }
+        let mut faster = retimed.timing.clone();
+        faster.speed_share[index] = (share * 1.1).min(1.0);
+        faster.dwell = vec![target.max_dwell; faster.dwell.len()];
+        let (plan, timings) = planner.plan(&faster).expect("plannable");
+        let run = dry_run(&arm, &plan, &timings, &options).expect("runs");
+        assert!(
+            run.waypoints[index].overshoot > target.max_overshoot,
+            "waypoint {index} could go 10 % faster"
+        );
+    }
+}
+
+#[test]
+fn an_impossible_target_names_the_waypoint() {
+    let arm = common::articulated(false);
+    let task = task();
+    let planner = TaskPlanner {
+        arm: &arm,
+        task: &task,
+    };
+    // 1 µm is below what a slow move of a deadband-limited servo can promise.
+    let target = RetimeTarget {
+        max_overshoot: 1e-6,
+        min_speed_share: 0.5,
+        ..RetimeTarget::default()
+    };
+    let result = retime(
+        &arm,
+        &planner,
+        &task.timing(),
+        &target,
+        &DryRunOptions::default(),
+        |_| true,
+    );
+    assert!(
+        matches!(result, Err(RetimeError::Unreachable { .. })),
+        "{result:?}"
+    );
+}
+
+#[test]
+fn cancelling_stops_the_search() {
+    let arm = common::articulated(false);
+    let task = task();
+    let planner = TaskPlanner {
+        arm: &arm,
+        task: &task,
+    };
+    let mut calls = 0;
+    let result = retime(
+        &arm,
+        &planner,
+        &task.timing(),
+        &RetimeTarget::default(),
+        &DryRunOptions::default(),
+        |_| {
+            calls += 1;
+            calls < 3
+        },
+    );
+    assert_eq!(result.unwrap_err(), RetimeError::Cancelled);
+    assert_eq!(calls, 3);
+}

@@ -1,0 +1,101 @@
+//! Shared by the Rust tests that check against fixtures written by the Python generators in
+//! this folder: where the fixtures are, which Python to run, and how to compare JSON.
+//! Included with `#[path = ".../tests/reference/support.rs"] mod reference;`.
+#![allow(dead_code)]
+
+use serde_json::Value;
+use std::path::PathBuf;
+use std::process::Command;
+
+/// This folder.
+pub fn reference_dir() -> PathBuf {
+    PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("../../tests/reference")
+}
+
+/// A committed fixture, parsed.
+pub fn fixture(name: &str) -> Value {
+    let path = reference_dir().join("fixtures").join(name);
+    let text = std::fs::read_to_string(&path)
+        .unwrap_or_else(|e| panic!("fixture {} is missing: {e}", path.display()));
+    serde_json::from_str(&text).expect("fixture is JSON")
+}
+
+/// Python with the reference libraries: `ARMWRIGHT_PYTHON`, else the repository's `.venv`,
+/// else `python3` on the path.
+pub fn python() -> PathBuf {
+    if let Some(path) = std::env::var_os("ARMWRIGHT_PYTHON") {
+        return PathBuf::from(path);
+    }
+    let venv = reference_dir().join("../../.venv/bin/python");
+    if venv.exists() {
+        return venv;
+    }
+    PathBuf::from("python3")
+}
+
+/// Whether `ARMWRIGHT_STRICT=1`: a missing reference tool then fails instead of skipping.
+pub fn strict() -> bool {
+    std::env::var("ARMWRIGHT_STRICT").is_ok_and(|v| v == "1")
+}
+
+/// Runs `generator` (a script in this folder) with `--out` into a fresh temporary folder and
+/// returns that folder, or `None` after printing why it skipped when `modules` cannot be
+/// imported (a failure instead under `ARMWRIGHT_STRICT=1`).
+pub fn regenerate(generator: &str, modules: &str) -> Option<PathBuf> {
+    let python = python();
+    let importable = Command::new(&python)
+        .args(["-c", &format!("import {modules}")])
+        .output()
+        .is_ok_and(|out| out.status.success());
+    if !importable {
+        let why = format!(
+            "{} cannot import {modules}; set up with `python3 -m venv .venv && \
+             .venv/bin/pip install -r tests/reference/requirements.txt`",
+            python.display()
+        );
+        assert!(!strict(), "ARMWRIGHT_STRICT=1 and {why}");
+        println!("skipped: {why}");
+        return None;
+    }
+    let out = std::env::temp_dir().join(format!(
+        "armwright-reference-{}-{}",
+        generator.trim_end_matches(".py"),
+        std::process::id()
+    ));
+    let status = Command::new(&python)
+        .arg(reference_dir().join(generator))
+        .arg("--out")
+        .arg(&out)
+        .status()
+        .expect("the generator runs");
+    assert!(status.success(), "{generator} failed: {status}");
+    Some(out)
+}
+
+/// Same structure and every number within 1e-12 relative (so a last-digit difference from
+/// another numeric build does not fail here; CI's byte-for-byte diff is the stricter check).
+pub fn assert_same_json(path: &str, a: &Value, b: &Value) {
+    match (a, b) {
+        (Value::Number(x), Value::Number(y)) => {
+            let (x, y) = (x.as_f64().unwrap(), y.as_f64().unwrap());
+            assert!(
+                (x - y).abs() <= 1e-12 * (1.0 + x.abs()),
+                "{path}: {x} vs {y}"
+            );
+        }
+        (Value::Array(x), Value::Array(y)) => {
+            assert_eq!(x.len(), y.len(), "{path}: lengths differ");
+            for (i, (p, q)) in x.iter().zip(y).enumerate() {
+                assert_same_json(&format!("{path}[{i}]"), p, q);
+            }
+        }
+        (Value::Object(x), Value::Object(y)) => {
+            let keys: Vec<_> = x.keys().collect();
+            assert_eq!(keys, y.keys().collect::<Vec<_>>(), "{path}: keys differ");
+            for key in x.keys() {
+                assert_same_json(&format!("{path}.{key}"), &x[key], &y[key]);
+            }
+        }
+        _ => assert_eq!(a, b, "{path}"),
+    }
+}
