@@ -1,0 +1,84 @@
+//! Inverse kinematics: closed form with every branch for each built-in arm type (budget 1 µs)
+//! and damped least squares on a 6-joint chain (budget: median 20 µs).
+
+#[path = "../tests/common/mod.rs"]
+mod common;
+
+use armwright_kinematics::{Arm, IkOptions, IkTarget, solve_ik, tool_pose};
+use criterion::{Criterion, criterion_group, criterion_main};
+use std::hint::black_box;
+
+/// 64 seeded targets made by forward kinematics of random in-limit poses, with those poses.
+fn targets(arm: &Arm, seed: u64) -> Vec<(IkTarget, Vec<f64>)> {
+    let mut rng = common::Seeded::new(seed);
+    (0..64)
+        .map(|_| {
+            let source = rng.pose(arm);
+            (
+                IkTarget::of_pose(arm, &source).expect("in-limit pose"),
+                source,
+            )
+        })
+        .collect()
+}
+
+fn bench_closed_form(c: &mut Criterion) {
+    let options = IkOptions::default();
+    for (name, arm) in [
+        ("closed_form_scara_all_branches", common::scara()),
+        (
+            "closed_form_articulated4_all_branches",
+            common::articulated(false),
+        ),
+        (
+            "closed_form_articulated5_all_branches",
+            common::articulated(true),
+        ),
+    ] {
+        let cases = targets(&arm, 21);
+        let near = arm.home_pose();
+        let mut next = 0;
+        c.bench_function(name, |b| {
+            b.iter(|| {
+                next = (next + 1) % cases.len();
+                solve_ik(black_box(&arm), black_box(&cases[next].0), &near, &options)
+            })
+        });
+    }
+}
+
+fn bench_damped_least_squares(c: &mut Criterion) {
+    let options = IkOptions::default();
+    let mut rng = common::Seeded::new(22);
+    let arm = common::random_chain(&mut rng, 6);
+    let cases: Vec<(IkTarget, Vec<f64>)> = (0..64)
+        .map(|_| {
+            let source = rng.pose(&arm);
+            let goal = tool_pose(&arm, &source).expect("in-limit pose");
+            let nearby: Vec<f64> = source
+                .iter()
+                .zip(arm.joints())
+                .map(|(q, joint)| (q + rng.uniform(-0.2, 0.2)).clamp(joint.min, joint.max))
+                .collect();
+            (IkTarget::at(goal.translation.vector), nearby)
+        })
+        .collect();
+    let home = arm.home_pose();
+    let mut next = 0;
+    c.bench_function("damped_least_squares_6_joints_from_home", |b| {
+        b.iter(|| {
+            next = (next + 1) % cases.len();
+            solve_ik(black_box(&arm), black_box(&cases[next].0), &home, &options)
+        })
+    });
+    c.bench_function("damped_least_squares_6_joints_from_nearby", |b| {
+        b.iter(|| {
+            next = (next + 1) % cases.len();
+            let (target, nearby) = &cases[next];
+            solve_ik(black_box(&arm), black_box(target), nearby, &options)
+        })
+    });
+}
+
+criterion_group!(benches, bench_closed_form, bench_damped_least_squares);
+criterion_main!(benches);
