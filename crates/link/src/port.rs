@@ -50,8 +50,9 @@ impl SerialTransport {
 
 impl Transport for SerialTransport {
     fn write_all(&mut self, bytes: &[u8]) -> io::Result<()> {
-        self.port.write_all(bytes)?;
-        self.port.flush()
+        // No flush: on a serial port it waits until every byte has left the wire (3 ms for
+        // a setpoint at 115 200 baud), which would hold up the streaming loop and the stop.
+        self.port.write_all(bytes)
     }
 
     fn read_timeout(&mut self, buf: &mut [u8], timeout: Duration) -> io::Result<usize> {

@@ -522,8 +522,15 @@ impl Worker {
         match self.next_deadline() {
             Some(deadline) if deadline <= now => Duration::ZERO,
             Some(deadline) if deadline - now < tick => {
-                // Sleep the last fraction of a millisecond precisely, then read without waiting.
-                std::thread::sleep(deadline - now);
+                // Sleep most of the last millisecond, then spin the final 200 µs: waking from
+                // a sleep can take longer than that, spinning cannot.
+                let spin = Duration::from_micros(200);
+                if deadline - now > spin {
+                    std::thread::sleep(deadline - now - spin);
+                }
+                while Instant::now() < deadline {
+                    std::hint::spin_loop();
+                }
                 Duration::ZERO
             }
             _ => tick,
