@@ -97,6 +97,14 @@ fn every_branch_reaches_the_target_on_each_arm_type() {
         "tool_pitch_deg",
         true,
     );
+    // Pointing straight down (pitch −90°), where yaw and roll read from the tool frame alone
+    // would be undetermined.
+    reach_back(
+        "cube-stacker.armwright.json",
+        &[28.07, 40.96, -84.77, -46.18, 20.0],
+        "tool_pitch_deg",
+        true,
+    );
 }
 
 #[test]

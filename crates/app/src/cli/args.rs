@@ -35,6 +35,12 @@ pub enum Command {
     },
     /// Where the tool point is for given joint positions, the torque gravity and the payload
     /// need, and how accurately the tool point can be placed.
+    ///
+    /// Tool angles are those `reach --to` takes back: for the articulated arms the pitch (and
+    /// roll) in the vertical plane through the base axis and the tool point, and the yaw of that
+    /// plane; for the horizontal arm the tool yaw. Torque is the holding torque against gravity
+    /// with the payload, at each servo's output, and its share of the servo's stall torque times
+    /// the scene's torque derating.
     Pose {
         /// The scene file.
         #[arg(value_name = "FILE")]

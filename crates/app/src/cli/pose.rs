@@ -5,8 +5,10 @@
 use std::path::Path;
 
 use armwright_kinematics::{
-    Arm, JointKind, ToolAngles, accuracy_budget, gravity_torques, tool_pose, torque_use,
+    Arm, ArmType, IkTarget, JointKind, ToolAngles, accuracy_budget, gravity_torques, tool_pose,
+    torque_use,
 };
+use nalgebra::Isometry3;
 use serde_json::{Value, json};
 
 use super::Outcome;
@@ -32,7 +34,7 @@ pub(crate) struct PoseReport {
 /// Computes the report for a pose in SI (rad or m per joint).
 pub(crate) fn evaluate(scene: &Scene, arm: &Arm, positions: &[f64]) -> Result<PoseReport, String> {
     let tool = tool_pose(arm, positions).map_err(|e| e.to_string())?;
-    let angles = ToolAngles::of(&tool);
+    let angles = tool_angles(arm, positions, &tool)?;
     let efforts = gravity_torques(arm, positions, arm.payload_mass()).map_err(|e| e.to_string())?;
     let derating = scene.timing.torque_derating_pct / 100.0;
     let shares = torque_use(arm, &efforts, derating);
@@ -64,6 +66,34 @@ pub(crate) fn evaluate(scene: &Scene, arm: &Arm, positions: &[f64]) -> Result<Po
             .map(|(joint, &q)| joint.calibration.pulse_us(q))
             .collect(),
     })
+}
+
+/// The tool's yaw, pitch and roll (rad) as `reach --to` takes them back.
+///
+/// Articulated arms: pitch (and roll) as the inverse kinematics measures them, in the vertical
+/// plane from the base axis through the tool point, and yaw the direction of that plane, so a
+/// tool pointing straight down keeps a meaningful yaw. Horizontal arm: yaw as the inverse
+/// kinematics takes it. Otherwise, and for the remaining angles, the tool frame read as
+/// Rz(yaw)·Ry(−pitch)·Rx(roll).
+fn tool_angles(arm: &Arm, positions: &[f64], tool: &Isometry3<f64>) -> Result<ToolAngles, String> {
+    let mut angles = ToolAngles::of(tool);
+    let target = IkTarget::of_pose(arm, positions).map_err(|e| e.to_string())?;
+    match arm.arm_type() {
+        ArmType::Scara(_) => angles.yaw = target.angle.unwrap_or(angles.yaw),
+        ArmType::Articulated4(_) | ArmType::Articulated5(_) => {
+            let p = tool.translation.vector;
+            // On the base axis the plane is the base joint's.
+            angles.yaw = if p.x.hypot(p.y) > 1e-9 {
+                p.y.atan2(p.x)
+            } else {
+                positions[0]
+            };
+            angles.pitch = target.angle.unwrap_or(angles.pitch);
+            angles.roll = target.roll.unwrap_or(0.0);
+        }
+        ArmType::Chain(_) => {}
+    }
+    Ok(angles)
 }
 
 /// A sentence for each joint whose position lies outside its limits.
