@@ -102,6 +102,9 @@ pub enum LinkError {
     /// The emergency stop is latched; streaming is refused until a confirmed reset.
     #[error("emergency stop is latched; reset it (after checking the arm) before streaming")]
     StopLatched,
+    /// Setpoints are only taken between [`crate::Link::start_stream`] and the stream's end.
+    #[error("no stream is running; start one before queueing setpoints")]
+    NotStreaming,
     /// A stream is already running.
     #[error("a stream is already running")]
     AlreadyStreaming,

@@ -261,8 +261,9 @@ impl Link {
     /// the queue is full.
     ///
     /// # Errors
-    /// [`LinkError::WrongChannelCount`]; [`LinkError::StopLatched`] or [`LinkError::Lost`]
-    /// once the stream has been stopped.
+    /// [`LinkError::WrongChannelCount`]; [`LinkError::NotStreaming`] before
+    /// [`Link::start_stream`] or after the stream ended; [`LinkError::StopLatched`] or
+    /// [`LinkError::Lost`] once the stream has been stopped.
     pub fn push_setpoint(&self, values: ChannelValues) -> Result<(), LinkError> {
         let expected = usize::from(self.device.channel_count);
         if values.len() != expected {
@@ -283,7 +284,8 @@ impl Link {
     fn refuse_unless_streaming(&self) -> Result<(), LinkError> {
         let stats = self.stats();
         match stats.state {
-            LinkState::Streaming | LinkState::Idle => Ok(()),
+            LinkState::Streaming => Ok(()),
+            LinkState::Idle => Err(LinkError::NotStreaming),
             LinkState::Stopping | LinkState::Stopped | LinkState::Resetting => {
                 Err(LinkError::StopLatched)
             }

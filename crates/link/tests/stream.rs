@@ -94,6 +94,19 @@ fn a_stream_runs_on_its_schedule_and_reaches_the_device() {
 }
 
 #[test]
+fn setpoints_outside_a_stream_are_refused() {
+    let (link, _, _) = connect(Faults::default());
+    assert_eq!(link.push_setpoint(sweep(0)), Err(LinkError::NotStreaming));
+    link.start_stream().expect("streams");
+    link.push_setpoint(sweep(1)).expect("queued");
+    link.finish_stream().expect("alive");
+    wait_for(&link, Duration::from_secs(1), |e| {
+        matches!(e, LinkEvent::StreamFinished { frames_sent: 1 })
+    });
+    assert_eq!(link.push_setpoint(sweep(2)), Err(LinkError::NotStreaming));
+}
+
+#[test]
 fn setpoints_with_the_wrong_channel_count_are_refused() {
     let (link, _, _) = connect(Faults::default());
     let six = ChannelValues::from_slice(&[1500; 6]).expect("six values");
