@@ -81,7 +81,7 @@ impl VelocityChange {
 
     /// Displacement, velocity, acceleration and jerk at `tau` s into this change from
     /// velocity `from` to velocity `to` (either direction), with `0 ≤ tau ≤ duration`.
-    #[inline]
+    #[inline(always)]
     pub(crate) fn state_at(&self, from: f64, to: f64, tau: f64) -> (f64, f64, f64, f64) {
         let direction = if to >= from { 1.0 } else { -1.0 };
         let jerk = direction * self.jerk;

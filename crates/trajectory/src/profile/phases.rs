@@ -226,7 +226,7 @@ impl Profile {
     ///
     /// The first velocity change and the cruise are evaluated forward from the start state,
     /// the last velocity change backward from the end state, so both ends are exact.
-    #[inline]
+    #[inline(always)]
     pub fn state_at(&self, t: f64) -> JointState {
         if t <= 0.0 || t.is_nan() {
             return JointState {
