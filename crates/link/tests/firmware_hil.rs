@@ -858,3 +858,144 @@ fn a_burst_of_random_bytes_never_hangs_or_resets_the_firmware() {
     assert!(during.iter().all(|f| same_widths(&f.widths_us, &expected)));
     check_frame_period(&frames);
 }
+
+/// The same script of lines, one at a time, to the firmware and to the simulated device:
+/// both must acknowledge the same lines with the same outcomes and end with the same mode
+/// and counters.
+#[test]
+fn firmware_and_simulated_device_answer_alike() {
+    use armwright_link::{SimDevice, SimDeviceConfig};
+
+    let Some(hil) = hil() else { return };
+    let mut bad_check = HostLine {
+        seq: 0x23,
+        message: setpoint([3200; CHANNELS]),
+    }
+    .encode()
+    .as_bytes()
+    .to_vec();
+    let last_digit = bad_check.len() - 2;
+    bad_check[last_digit] = if bad_check[last_digit] == b'0' {
+        b'1'
+    } else {
+        b'0'
+    };
+    let line =
+        |seq: u8, message: HostMessage| HostLine { seq, message }.encode().as_bytes().to_vec();
+    let script: Vec<Vec<u8>> = vec![
+        line(0x20, setpoint([3000; CHANNELS])),
+        line(
+            0x21,
+            setpoint([0x0010, 3000, 3000, 3000, 3000, 3000, 0xF000]),
+        ),
+        line(0x22, HostMessage::Hold),
+        bad_check,
+        with_check("q24:1"),
+        b"s25:0BB80BB8\n".to_vec(),
+        line(
+            0x26,
+            HostMessage::Setpoint(ChannelValues::from_slice(&[3000; 3]).expect("three")),
+        ),
+        line(0x27, HostMessage::Release),
+        line(0x28, setpoint([2800; CHANNELS])),
+        line(0x29, HostMessage::EmergencyStop),
+        line(0x2A, setpoint([2600; CHANNELS])),
+        line(0x2B, HostMessage::Hold),
+        line(0x2C, HostMessage::Release),
+        line(0x2D, HostMessage::Reset),
+        line(0x2E, setpoint([2400; CHANNELS])),
+        line(0x2F, HostMessage::Heartbeat),
+    ];
+    let answered = |heard: &[DeviceLine]| -> Vec<(u8, AckOutcome)> {
+        heard
+            .iter()
+            .filter_map(|line| match line.message {
+                DeviceMessage::Ack(ack) if (0x20..=0x2F).contains(&ack.acked_seq) => {
+                    Some((ack.acked_seq, ack.outcome))
+                }
+                _ => None,
+            })
+            .collect()
+    };
+
+    // The firmware, one line at a time, 40 ms of simulated time apart.
+    let run = start(hil, "parity");
+    let mut port = RawPort::new(&run);
+    let firmware_before = port.status_after_heartbeat();
+    for bytes in &script {
+        port.raw(bytes);
+        run.wait_simulated(Duration::from_millis(40));
+    }
+    let firmware_after = port.status_after_heartbeat();
+    let firmware_acks = answered(&port.heard);
+    drop(port);
+    run.finish();
+
+    // The simulated device, the same way; its queue is set to the firmware's room of 3.
+    let config = SimDeviceConfig {
+        pulse_unit_ns: 500,
+        min_pulse_units: 1000,
+        max_pulse_units: 5000,
+        queue_capacity: 3,
+        ..SimDeviceConfig::default()
+    };
+    let mut device = SimDevice::new(config);
+    let mut now = Duration::ZERO;
+    let mut bytes_out = Vec::new();
+    for bytes in &script {
+        device.receive(bytes, now);
+        now += Duration::from_millis(40);
+        device.advance(now);
+    }
+    device.take_output(&mut bytes_out);
+    let sim_heard: Vec<DeviceLine> = bytes_out
+        .split_inclusive(|&b| b == b'\n')
+        .filter_map(|line| DeviceLine::parse(line).ok())
+        .collect();
+    let sim_acks = answered(&sim_heard);
+    let sim_after = device.status();
+
+    assert_eq!(firmware_acks, sim_acks, "acknowledgements differ");
+    assert_eq!(firmware_after.mode, sim_after.mode);
+    assert_eq!(
+        (
+            firmware_after.bad_checksums - firmware_before.bad_checksums,
+            firmware_after.bad_lines - firmware_before.bad_lines,
+            firmware_after.clamped_values - firmware_before.clamped_values,
+        ),
+        (
+            sim_after.bad_checksums,
+            sim_after.bad_lines,
+            sim_after.clamped_values
+        )
+    );
+    // And the script did what it says: 12 lines acknowledged (the four bad ones not), the
+    // three motion lines after the stop refused, 3 bad lines and 1 bad check, 2 values clamped.
+    use AckOutcome::{Accepted, Clamped, Refused};
+    assert_eq!(
+        sim_acks,
+        [
+            (0x20, Accepted),
+            (0x21, Clamped),
+            (0x22, Accepted),
+            (0x27, Accepted),
+            (0x28, Accepted),
+            (0x29, Accepted),
+            (0x2A, Refused),
+            (0x2B, Refused),
+            (0x2C, Refused),
+            (0x2D, Accepted),
+            (0x2E, Accepted),
+            (0x2F, Accepted),
+        ]
+    );
+    assert_eq!(sim_after.mode, DeviceMode::Driving);
+    assert_eq!(
+        (
+            sim_after.bad_checksums,
+            sim_after.bad_lines,
+            sim_after.clamped_values
+        ),
+        (1, 3, 2)
+    );
+}
