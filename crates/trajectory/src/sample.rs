@@ -40,7 +40,7 @@ impl SequencePlan {
         let steps = (self.duration() / period).ceil();
         // A plan longer than u64 samples cannot exist in practice; saturate anyway.
         let count = if steps.is_finite() && steps >= 0.0 {
-            steps as u64 + 1
+            (steps as u64).saturating_add(1)
         } else {
             1
         };

@@ -29,7 +29,8 @@ pub(super) fn fastest(
     // velocity to the other must fit in the move.
     let lowest_peak = start.max(end);
     let (direct, _, _) = changes_through(start, lowest_peak, end, amax, jmax);
-    if direct > distance * (1.0 + 1e-12) + 1e-15 {
+    // A NaN (from overflowing squares) fails too.
+    if direct.is_nan() || direct > distance * (1.0 + 1e-12) + 1e-15 {
         return Err(ProfileError::TooShort {
             distance,
             needed: direct,

@@ -144,6 +144,10 @@ pub enum ProfileError {
         /// Shortest displacement that works, rad.
         needed: f64,
     },
+    /// The move or its limits are so large or small that a time, distance or velocity of the
+    /// profile would not be a finite number.
+    #[error("the move and its limits are too extreme to plan: a time or distance would overflow")]
+    OutOfRange,
     /// A stretch was asked for a duration shorter than the profile's own. Both in s.
     #[error("cannot stretch to {requested} s: the profile already needs {minimum} s")]
     StretchTooShort {

@@ -76,7 +76,8 @@ impl Profile {
     /// [`ProfileError::BadLimit`] for a limit that is zero, negative, NaN or infinite;
     /// [`ProfileError::NotFinite`] for a NaN or infinite position or velocity;
     /// [`ProfileError::BoundaryVelocityOverLimit`]; [`ProfileError::TooShort`] when the move is
-    /// shorter than the distance needed to change from the start to the end velocity.
+    /// shorter than the distance needed to change from the start to the end velocity;
+    /// [`ProfileError::OutOfRange`] when the numbers are too large or small to plan in `f64`.
     ///
     /// # Example
     /// ```
@@ -122,13 +123,15 @@ impl Profile {
             ProfileShape::Trapezoid => trapezoid::fastest(distance, v0, v1, limits)?,
             ProfileShape::DoubleS => double_s::fastest(distance, v0, v1, limits)?,
         };
+        let duration = parts.first.duration + parts.cruise + parts.last.duration;
+        check_representable(&parts, duration)?;
         Ok(Self {
             shape,
             joint_move: *joint_move,
             limits: *limits,
             sign,
             distance,
-            duration: parts.first.duration + parts.cruise + parts.last.duration,
+            duration,
             parts,
         })
     }
@@ -169,7 +172,7 @@ impl Profile {
                 requested: duration,
             });
         }
-        self.parts = if self.parts.start_velocity == 0.0 && self.parts.end_velocity == 0.0 {
+        let parts = if self.parts.start_velocity == 0.0 && self.parts.end_velocity == 0.0 {
             rest_to_rest_scaled(&self.parts, self.duration, duration)
         } else {
             match self.shape {
@@ -181,6 +184,8 @@ impl Profile {
                 }
             }?
         };
+        check_representable(&parts, duration)?;
+        self.parts = parts;
         self.duration = duration;
         Ok(())
     }
@@ -318,6 +323,21 @@ pub(crate) const PLACEHOLDER: Profile = {
         duration: 0.0,
     }
 };
+
+/// Checks that evaluating the profile stays within finite numbers: the duration and every
+/// velocity times the duration must be finite.
+fn check_representable(parts: &ThreePart, duration: f64) -> Result<(), ProfileError> {
+    let speed = parts
+        .start_velocity
+        .abs()
+        .max(parts.peak_velocity.abs())
+        .max(parts.end_velocity.abs());
+    if duration.is_finite() && (speed * duration).is_finite() && !speed.is_nan() {
+        Ok(())
+    } else {
+        Err(ProfileError::OutOfRange)
+    }
+}
 
 /// A rest-to-rest profile slowed uniformly in time from `from_duration` to `to_duration`.
 fn rest_to_rest_scaled(parts: &ThreePart, from_duration: f64, to_duration: f64) -> ThreePart {

@@ -18,7 +18,8 @@ pub(super) fn fastest(
     // velocity changes directly; here with signed velocities in the direction of motion.
     let lowest_peak = start.max(end);
     let direct = (2.0 * lowest_peak * lowest_peak - start * start - end * end) / (2.0 * amax);
-    if direct > distance * (1.0 + 1e-12) + 1e-15 {
+    // A NaN (from overflowing squares) fails too.
+    if direct.is_nan() || direct > distance * (1.0 + 1e-12) + 1e-15 {
         return Err(ProfileError::TooShort {
             distance,
             needed: direct,
