@@ -10,6 +10,7 @@
 mod accuracy; // tool-point accuracy budget from servo deadband and backlash
 mod arm; // the arm model: joints, servos, calibrations, masses, arm types
 mod dynamics; // recursive Newton–Euler inverse dynamics and the inertia each joint sees
+mod envelope; // reach envelope and torque-utilisation maps over a grid in a plane
 mod error; // the error shared by every pose-taking function
 mod fk; // joint positions → link frames and tool-point pose
 mod gravity; // holding torque against gravity, with payload
@@ -24,6 +25,7 @@ pub use crate::arm::{
     PulseDirection, ScaraDims, ServoSpec,
 };
 pub use crate::dynamics::{inverse_dynamics, joint_inertia};
+pub use crate::envelope::{MapExtent, MapOptions, MapView, ReachMap, reach_map};
 pub use crate::error::KinematicsError;
 pub use crate::fk::{ChainPose, ToolAngles, forward, tool_pose};
 pub use crate::gravity::{STANDARD_GRAVITY, gravity_torques};

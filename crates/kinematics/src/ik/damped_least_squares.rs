@@ -1,11 +1,12 @@
 //! Damped least squares for any serial chain (Levenberg–Marquardt steps on the tool Jacobian).
 //!
 //! Each step solves the 6×6 damped normal equations (J·Jᵀ + λ²·I)·y = e and moves the joints by
-//! Jᵀ·y, clamped into their limits (Buss, "Introduction to inverse kinematics with Jacobian
-//! transpose, pseudoinverse and damped least squares methods", 2004, §5). λ falls while steps
-//! lower the error and rises when they do not. Rows the task leaves out are zero. The first
-//! start is the near pose (clamped into the limits); further starts are seeded random in-limit
-//! poses, so the time is bounded by (1 + restarts) × max_iterations steps of fixed cost.
+//! Jᵀ·y, clamped into their limits (the damped least squares method as surveyed in Buss,
+//! "Introduction to inverse kinematics with Jacobian transpose, pseudoinverse and damped least
+//! squares methods", 2004; cited from memory). λ falls while steps lower the error and rises
+//! when they do not. Rows the task leaves out are zero. The first start is the near pose
+//! (clamped into the limits); further starts are seeded random in-limit poses, so the time is
+//! bounded by (1 + restarts) × max_iterations steps of fixed cost.
 
 use nalgebra::{Isometry3, Matrix6, SMatrix, SVector, UnitQuaternion, Vector3, Vector6};
 

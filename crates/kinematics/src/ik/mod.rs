@@ -6,26 +6,12 @@
 //! 5-joint vertical articulated arms), `damped_least_squares.rs` (any serial chain). This file
 //! holds the shared entry [`solve_ik`] and the types every solver speaks.
 //!
-//! What a target's angles mean:
-//! - Horizontal-jointed arm: `angle` is the tool yaw, the tool frame's turn about the base's
-//!   vertical (shoulder + elbow + roll), in rad.
-//! - Articulated arms: `angle` is the tool pitch, the elevation of the approach axis measured in
-//!   the vertical plane through the base axis and the target, from the horizontal pointing away
-//!   from the base axis, positive upwards, in rad. Values past ±90° lean the approach back
-//!   towards the base axis. `roll` (5 joints) is the turn about the approach axis, zero when the
-//!   tool's Y axis is horizontal and the base faces the target: the tool frame is
-//!   Rz(outward)·Ry(−pitch)·Rx(roll), where `outward` is the yaw of the horizontal direction from
-//!   the base axis to the target.
-//! - Chains: `angle` is [`ToolAngles::pitch`](crate::ToolAngles) and `roll` is
-//!   [`ToolAngles::roll`](crate::ToolAngles); with [`IkTask::FullPose`] the yaw is the near
-//!   pose's.
-//!
-//! An angle not given is free: it is taken from the `near` pose.
+//! [`IkTarget`] says what a target's angles mean for each arm type.
 
 mod closed_form_articulated;
 mod closed_form_scara;
 mod damped_least_squares;
-mod planar_two_link;
+pub(crate) mod planar_two_link;
 
 use std::f64::consts::{PI, TAU};
 
@@ -36,7 +22,23 @@ use crate::error::{KinematicsError, check_pose};
 use crate::fk::{ToolAngles, tool_pose};
 
 /// What the tool point should reach: a position in the base frame (m) and the tool angles the
-/// arm can honour (rad), see the [module notes](self) for their meaning per arm type.
+/// arm can honour (rad).
+///
+/// What a target's angles mean:
+/// - Horizontal-jointed arm: `angle` is the tool yaw, the tool frame's turn about the base's
+///   vertical (shoulder + elbow + roll), in rad.
+/// - Articulated arms: `angle` is the tool pitch, the elevation of the approach axis measured in
+///   the vertical plane through the base axis and the target, from the horizontal pointing away
+///   from the base axis, positive upwards, in rad. Values past ±90° lean the approach back
+///   towards the base axis. `roll` (5 joints) is the turn about the approach axis, zero when the
+///   tool's Y axis is horizontal and the base faces the target: the tool frame is
+///   Rz(outward)·Ry(−pitch)·Rx(roll), where `outward` is the yaw of the horizontal direction from
+///   the base axis to the target.
+/// - Chains: `angle` is [`ToolAngles::pitch`](crate::ToolAngles) and `roll` is
+///   [`ToolAngles::roll`](crate::ToolAngles); with [`IkTask::FullPose`] the yaw is the near
+///   pose's.
+///
+/// An angle not given is free: it is taken from the `near` pose.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct IkTarget {
     /// Tool-point position in the base frame, in m.
@@ -339,7 +341,7 @@ pub enum IkError {
 
 /// Every set of joint positions that puts the tool point on `target`, within the joint limits.
 ///
-/// `target` is in m and rad (see the [module notes](self) for what its angles mean per arm
+/// `target` is in m and rad (see [`IkTarget`] for what its angles mean per arm
 /// type); `near` is a pose (rad or m, one per joint) that settles free angles, picks among
 /// equivalent revolute positions (each is shifted by whole turns into its limits, nearest
 /// `near`) and starts damped least squares. The built-in arm types are solved in closed form
@@ -457,6 +459,13 @@ pub(crate) fn fit_into_limits(joint: &Joint, position: f64, near: f64) -> Result
             }
         }
         JointKind::Revolute => {
+            // Limits spanning less than a turn leave an in-limit angle no other choice.
+            if joint.max - joint.min < TAU - 2.0 * LIMIT_SLACK
+                && position >= low
+                && position <= high
+            {
+                return Ok(position);
+            }
             // Work from the turn nearest the middle of the limits, so huge inputs stay bounded.
             let middle = 0.5 * (joint.min + joint.max);
             let base = middle + (position - middle + PI).rem_euclid(TAU) - PI;

@@ -52,19 +52,18 @@ pub(crate) fn solve(
     let one_plus = ((distance - inner) * (distance + inner) / twice_product).clamp(0.0, 2.0);
     let cos_q2 = (one_plus - one_minus) / 2.0;
     let sin_q2 = (one_minus * one_plus).sqrt();
-    let towards = if distance <= ON_AXIS {
-        None
-    } else {
-        Some(y.atan2(x))
-    };
-    let first = |sin: f64| match towards {
-        Some(direction) => direction - (a2 * sin).atan2(a1 + a2 * cos_q2),
-        None => keep_first,
-    };
     let q2 = sin_q2.atan2(cos_q2);
+    // atan2(−y, x) = −atan2(y, x): the two branches' shoulder offsets differ only in sign.
+    let offset = (a2 * sin_q2).atan2(a1 + a2 * cos_q2);
+    let (first_positive, first_negative) = if distance <= ON_AXIS {
+        (keep_first, keep_first)
+    } else {
+        let direction = y.atan2(x);
+        (direction - offset, direction + offset)
+    };
     Ok(TwoLinkSolutions {
-        bent_positive: (first(sin_q2), q2),
-        bent_negative: (first(-sin_q2), -q2),
+        bent_positive: (first_positive, q2),
+        bent_negative: (first_negative, -q2),
     })
 }
 
