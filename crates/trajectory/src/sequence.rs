@@ -126,12 +126,17 @@ pub struct SequencePlan {
 /// Largest number of halvings of a pass-through velocity before the joint stops there.
 const HALVINGS: u32 = 12;
 
+/// Plans made while refining pass-through velocities; the quickest is kept.
+const REFINEMENTS: usize = 3;
+
 /// Plans a sequence through `waypoints` with profiles of `shape` and per-joint `limits`
 /// (rad/s, rad/s², rad/s³; scaled by each move's speed share).
 ///
 /// Pass-through velocities start from the slower of the two neighbouring moves' average
 /// velocities (as if each were planned rest to rest); where a move cannot be made with them
-/// the velocities at its ends are halved, and after repeated halving set to zero.
+/// the velocities at its ends are halved, and after repeated halving set to zero. The
+/// velocities are then refined twice from the durations of the plan before, and the quickest
+/// of the three plans is kept.
 ///
 /// # Errors
 /// [`SequenceError::TooFewWaypoints`], [`SequenceError::WrongJointCount`],
@@ -165,8 +170,75 @@ pub fn plan_sequence(
         })?;
         rest_durations.push(synced.duration());
     }
+    // A first plan from the rest-to-rest durations, then refinements from the durations of
+    // the previous plan (passing through makes moves quicker, so their mean velocities
+    // rise); the quickest plan is kept.
+    let mut best: Option<(f64, Vec<SyncedMove>)> = None;
+    let mut durations = rest_durations;
+    for _ in 0..REFINEMENTS {
+        let velocities = pass_through_velocities(waypoints, &move_limits, &durations);
+        let planned = plan_moves(shape, waypoints, &move_limits, velocities)?;
+        let total: f64 = planned.iter().map(SyncedMove::duration).sum();
+        durations = planned.iter().map(SyncedMove::duration).collect();
+        if best.as_ref().is_none_or(|(quickest, _)| total < *quickest) {
+            best = Some((total, planned));
+        }
+    }
+    let planned = best.map(|(_, planned)| planned).unwrap_or_default();
+    let mut segments = Vec::with_capacity(2 * waypoints.len());
+    let mut time = 0.0;
+    let dwell_at = |waypoint: usize, time: &mut f64, segments: &mut Vec<Segment>| {
+        if let WaypointKind::Stop { dwell } = waypoints[waypoint].kind
+            && dwell > 0.0
+        {
+            let hold: Vec<JointMove> = waypoints[waypoint]
+                .positions
+                .iter()
+                .map(|&p| JointMove::rest_to_rest(p, p))
+                .collect();
+            // A zero-length move stretched to the dwell holds still; it cannot fail.
+            if let Ok(motion) = synchronise(shape, &hold, limits).and_then(|m| m.stretched(dwell)) {
+                segments.push(Segment {
+                    start: *time,
+                    kind: SegmentKind::Dwell { waypoint },
+                    motion,
+                });
+                *time += dwell;
+            }
+        }
+    };
+    dwell_at(0, &mut time, &mut segments);
+    for (index, motion) in planned.into_iter().enumerate() {
+        segments.push(Segment {
+            start: time,
+            kind: SegmentKind::Move {
+                from_waypoint: index,
+                to_waypoint: index + 1,
+            },
+            motion,
+        });
+        time += motion.duration();
+        dwell_at(index + 1, &mut time, &mut segments);
+    }
+    Ok(SequencePlan {
+        joint_count: joints,
+        starts: segments.iter().map(|segment| segment.start).collect(),
+        segments,
+        duration: time,
+    })
+}
+
+/// Velocity of every joint at every waypoint: zero at stops, at the ends, and where a joint
+/// turns round or rests on one side; otherwise the slower of the two neighbouring moves' mean
+/// velocities (from `durations`, s), within both moves' velocity limits.
+fn pass_through_velocities(
+    waypoints: &[SequenceWaypoint],
+    move_limits: &[Vec<JointLimits>],
+    durations: &[f64],
+) -> Vec<Vec<f64>> {
+    let joints = waypoints[0].positions.len();
     let mut velocities = vec![vec![0.0; joints]; waypoints.len()];
-    for waypoint in 1..move_count {
+    for waypoint in 1..waypoints.len() - 1 {
         if waypoints[waypoint].kind != WaypointKind::PassThrough {
             continue;
         }
@@ -178,8 +250,8 @@ pub fn plan_sequence(
             if before * after <= 0.0 {
                 continue;
             }
-            let mean_in = before / rest_durations[waypoint - 1].max(f64::MIN_POSITIVE);
-            let mean_out = after / rest_durations[waypoint].max(f64::MIN_POSITIVE);
+            let mean_in = before / durations[waypoint - 1].max(f64::MIN_POSITIVE);
+            let mean_out = after / durations[waypoint].max(f64::MIN_POSITIVE);
             let cap = move_limits[waypoint - 1][joint]
                 .velocity
                 .min(move_limits[waypoint][joint].velocity);
@@ -187,6 +259,19 @@ pub fn plan_sequence(
             velocities[waypoint][joint] = before.signum() * speed;
         }
     }
+    velocities
+}
+
+/// Plans every move with the given waypoint velocities, halving the velocities at the ends of
+/// a move that cannot be made (and finally setting them to zero) and planning the moves
+/// touching a changed waypoint again.
+fn plan_moves(
+    shape: ProfileShape,
+    waypoints: &[SequenceWaypoint],
+    move_limits: &[Vec<JointLimits>],
+    mut velocities: Vec<Vec<f64>>,
+) -> Result<Vec<SyncedMove>, SequenceError> {
+    let move_count = move_limits.len();
     let mut halvings = vec![0_u32; waypoints.len()];
     let mut planned: Vec<Option<SyncedMove>> = vec![None; move_count];
     loop {
@@ -243,51 +328,8 @@ pub fn plan_sequence(
             break;
         }
     }
-    let mut segments = Vec::with_capacity(2 * waypoints.len());
-    let mut time = 0.0;
-    let dwell_at = |waypoint: usize, time: &mut f64, segments: &mut Vec<Segment>| {
-        if let WaypointKind::Stop { dwell } = waypoints[waypoint].kind
-            && dwell > 0.0
-        {
-            let hold: Vec<JointMove> = waypoints[waypoint]
-                .positions
-                .iter()
-                .map(|&p| JointMove::rest_to_rest(p, p))
-                .collect();
-            // A zero-length move stretched to the dwell holds still; it cannot fail.
-            if let Ok(motion) = synchronise(shape, &hold, limits).and_then(|m| m.stretched(dwell)) {
-                segments.push(Segment {
-                    start: *time,
-                    kind: SegmentKind::Dwell { waypoint },
-                    motion,
-                });
-                *time += dwell;
-            }
-        }
-    };
-    dwell_at(0, &mut time, &mut segments);
-    for (index, motion) in planned.into_iter().enumerate() {
-        let Some(motion) = motion else {
-            // Every move is planned when the loop ends.
-            continue;
-        };
-        segments.push(Segment {
-            start: time,
-            kind: SegmentKind::Move {
-                from_waypoint: index,
-                to_waypoint: index + 1,
-            },
-            motion,
-        });
-        time += motion.duration();
-        dwell_at(index + 1, &mut time, &mut segments);
-    }
-    Ok(SequencePlan {
-        joint_count: joints,
-        starts: segments.iter().map(|segment| segment.start).collect(),
-        segments,
-        duration: time,
-    })
+    // Every move is planned once nothing changes.
+    Ok(planned.into_iter().flatten().collect())
 }
 
 /// Checks counts, shares and dwells.
