@@ -1,4 +1,4 @@
-//! Sequence plans: continuity at segment boundaries, limits, exact waypoints, dwell, sampling.
+//! Sequence plans: continuity at segment boundaries, limits, exact waypoints, dwell.
 
 mod common;
 
@@ -188,34 +188,6 @@ fn evaluation_finds_the_segment_by_binary_search() {
     assert_eq!(plan.segment_at(-1.0), 0);
     assert_eq!(plan.segment_at(1e9), segments.len() - 1);
     check_plan(&plan, &waypoints, &limits, ProfileShape::DoubleS).expect("continuous");
-}
-
-#[test]
-fn the_sampler_covers_the_plan_at_the_asked_rate() {
-    let limits = arm_limits();
-    let waypoints = [
-        waypoint(&[0.0, 0.0, 0.0], STOP, 1.0),
-        waypoint(&[0.3, -0.2, 0.1], WaypointKind::PassThrough, 1.0),
-        waypoint(&[0.6, -0.5, 0.4], STOP, 1.0),
-    ];
-    let plan = plan_sequence(ProfileShape::DoubleS, &waypoints, &limits).expect("ok");
-    for rate_hz in [50.0, 333.0, 1000.0] {
-        let samples: Vec<_> = plan.sampler(rate_hz).expect("in range").collect();
-        let expected = (plan.duration() * rate_hz).ceil() as usize + 1;
-        assert_eq!(samples.len(), expected);
-        assert_eq!(samples[0].time, 0.0);
-        assert_eq!(samples[0].positions[..3], [0.0, 0.0, 0.0]);
-        let last = samples.last().expect("samples");
-        assert_eq!(last.time, plan.duration());
-        assert_eq!(last.positions[..3], [0.6, -0.5, 0.4]);
-        assert!(samples.windows(2).all(|w| w[1].time > w[0].time));
-    }
-    for bad in [49.9, 1000.1, f64::NAN, 0.0] {
-        assert!(matches!(
-            plan.sampler(bad),
-            Err(SequenceError::RateOutOfRange { .. })
-        ));
-    }
 }
 
 #[test]
