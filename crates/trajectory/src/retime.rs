@@ -43,6 +43,9 @@ pub struct RetimeTarget {
     pub min_dwell: f64,
     /// Longest dwell retiming will give a stop while waiting for it to settle, in s.
     pub max_dwell: f64,
+    /// Dwell every stop gets while the speed shares are searched: long enough for a stop to
+    /// come to rest before the next move (a few periods of the servo loop), in s.
+    pub search_dwell: f64,
     /// Slowest speed share retiming will try before saying the target cannot be met.
     pub min_speed_share: f64,
     /// Bisection rounds on the speed shares; each halves the uncertainty.
@@ -55,9 +58,10 @@ impl Default for RetimeTarget {
             max_overshoot: 1.5e-3,
             derating: 1.0,
             min_dwell: 0.0,
-            max_dwell: 1.5,
+            max_dwell: 1.0,
+            search_dwell: 0.4,
             min_speed_share: 0.05,
-            rounds: 8,
+            rounds: 7,
         }
     }
 }
@@ -192,7 +196,7 @@ pub fn retime<P: Planner>(
     let mut high = vec![1.0; count];
     let long = Timing {
         speed_share: vec![1.0; count],
-        dwell: vec![target.max_dwell; count],
+        dwell: vec![target.search_dwell; count],
     };
     let (fastest, _) = run(&long)?;
     let (slowest, _) = run(&Timing {
@@ -306,6 +310,12 @@ fn check_target(target: &RetimeTarget) -> Result<(), RetimeError> {
             target.max_dwell,
             target.max_dwell >= target.min_dwell,
             "at least min_dwell",
+        ),
+        (
+            "search_dwell",
+            target.search_dwell,
+            target.search_dwell > 0.0,
+            "positive",
         ),
         (
             "min_speed_share",

@@ -60,7 +60,7 @@ fn retimed_sequence_meets_the_target_and_no_faster_share_would() {
         }
         let mut faster = retimed.timing.clone();
         faster.speed_share[index] = (share * 1.1).min(1.0);
-        faster.dwell = vec![target.max_dwell; faster.dwell.len()];
+        faster.dwell = vec![target.search_dwell; faster.dwell.len()];
         let (plan, timings) = planner.plan(&faster).expect("plannable");
         let run = dry_run(&arm, &plan, &timings, &options).expect("runs");
         assert!(
