@@ -1,0 +1,77 @@
+//! One editor frame, CPU side: the egui pass (every panel, both views, 500 waypoints in the
+//! sequence) and tessellation, without the GPU. Target: at most 4 ms median.
+
+use armwright::editor::{ChannelStopLink, Editor, EditorOptions, EditorState, sample_scene};
+use armwright::scene::Waypoint;
+use criterion::{Criterion, criterion_group, criterion_main};
+use egui::{RawInput, Rect, pos2, vec2};
+
+/// The sample scene with 500 waypoints spread over the joints' ranges by a fixed sequence
+/// (seeded: the same inputs every run).
+fn long_sequence_editor() -> Editor {
+    let mut scene = sample_scene();
+    let template = scene.waypoints[0].clone();
+    let joints = scene.arm.joints.clone();
+    let mut seed: u64 = 0x00A2_4D5E_ED00_0500;
+    let mut next = move || {
+        // SplitMix64 (Steele, Lea & Flood, OOPSLA 2014), enough for spreading test poses.
+        seed = seed.wrapping_add(0x9E37_79B9_7F4A_7C15);
+        let mut z = seed;
+        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
+        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
+        ((z ^ (z >> 31)) >> 11) as f64 / (1u64 << 53) as f64
+    };
+    scene.waypoints = (0..500)
+        .map(|index| Waypoint {
+            name: format!("point {}", index + 1),
+            joints_deg_or_mm: joints
+                .iter()
+                .map(|joint| joint.min + (joint.max - joint.min) * next())
+                .collect(),
+            ..template.clone()
+        })
+        .collect();
+    let (link, _requests) = ChannelStopLink::new();
+    Editor::new(
+        EditorState::new(scene, None),
+        Box::new(link),
+        EditorOptions {
+            recovery: None,
+            ..EditorOptions::default()
+        },
+    )
+}
+
+fn input(time: f64) -> RawInput {
+    RawInput {
+        screen_rect: Some(Rect::from_min_size(pos2(0.0, 0.0), vec2(1560.0, 960.0))),
+        time: Some(time),
+        ..RawInput::default()
+    }
+}
+
+fn editor_frame(c: &mut Criterion) {
+    let ctx = egui::Context::default();
+    let mut editor = long_sequence_editor();
+    let mut time = 0.0;
+    for _ in 0..3 {
+        time += 1.0 / 60.0;
+        let _ = ctx.run_ui(input(time), |ui| {
+            editor.logic(ui.ctx());
+            editor.ui(ui);
+        });
+    }
+    c.bench_function("editor_frame_500_waypoints_both_views", |b| {
+        b.iter(|| {
+            time += 1.0 / 60.0;
+            let output = ctx.run_ui(input(time), |ui| {
+                editor.logic(ui.ctx());
+                editor.ui(ui);
+            });
+            ctx.tessellate(output.shapes, output.pixels_per_point)
+        })
+    });
+}
+
+criterion_group!(benches, editor_frame);
+criterion_main!(benches);

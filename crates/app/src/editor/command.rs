@@ -1,0 +1,583 @@
+//! What a panel asks for, and how it changes the state. Panels return a [`Command`]; the editor
+//! applies every command after the frame's drawing, in order.
+//!
+//! Commands that need the world outside the state (files, the system's file dialog, closing the
+//! window) come back from [`apply`] as [`Outside`] for the editor to carry out.
+
+use std::path::PathBuf;
+
+use armwright_kinematics::{IkError, IkOptions, IkTarget, JointKind, solve_ik};
+use nalgebra::Vector3;
+
+use super::estop::{StopLink, StopRequest};
+use super::history::{EditKey, Snapshot};
+use super::state::{BranchChoice, Dialog, EditorState, Level, ReachStatus, StopSource, StopState};
+use crate::scene::{
+    Arrival, GripperState, MoveKind, ProfileKind, Waypoint, pose_from_file_units,
+    position_to_file_unit,
+};
+
+/// A revolute joint turning more than this in one drag step counts as a jump to another branch,
+/// in rad (60°): the nearest solution near a singular pose can be far away.
+const BRANCH_JUMP: f64 = std::f64::consts::FRAC_PI_3;
+
+/// A prismatic joint sliding more than this in one drag step counts as a jump, in m.
+const SLIDE_JUMP: f64 = 0.05;
+
+/// One change of one waypoint's settings.
+#[derive(Debug, Clone, PartialEq)]
+pub enum WaypointField {
+    /// The waypoint's name.
+    Name(String),
+    /// How the arm gets there.
+    MoveKind(MoveKind),
+    /// The velocity profile.
+    Profile(ProfileKind),
+    /// Share of each joint's limits the move may use, in %.
+    SpeedSharePct(f64),
+    /// Pause at the waypoint, in ms.
+    DwellMs(f64),
+    /// Stop or pass through.
+    Arrival(Arrival),
+    /// Gripper open or closed.
+    Gripper(GripperState),
+}
+
+impl WaypointField {
+    fn key(&self) -> &'static str {
+        match self {
+            WaypointField::Name(_) => "name",
+            WaypointField::MoveKind(_) => "move kind",
+            WaypointField::Profile(_) => "profile",
+            WaypointField::SpeedSharePct(_) => "speed share",
+            WaypointField::DwellMs(_) => "dwell",
+            WaypointField::Arrival(_) => "arrival",
+            WaypointField::Gripper(_) => "gripper",
+        }
+    }
+}
+
+/// Something a panel asks the editor to do.
+#[must_use]
+#[derive(Debug, Clone, PartialEq)]
+pub enum Command {
+    /// Nothing.
+    None,
+    /// Several commands, applied in order.
+    Many(Vec<Command>),
+    /// Set one joint, in rad (revolute) or m (prismatic); clamped to its limits.
+    SetJoint {
+        /// Joint index, 0-based.
+        joint: usize,
+        /// New position, rad or m.
+        position: f64,
+    },
+    /// Open or close the gripper.
+    SetGripper(GripperState),
+    /// Set the tool angle held while dragging, in rad.
+    SetToolAngle(f64),
+    /// Move the tool point to this target (base frame, m), solving the inverse kinematics on
+    /// the current branch.
+    DragToolPoint {
+        /// The target, in m.
+        target: [f64; 3],
+    },
+    /// Switch to one of the other branches offered after the last drag.
+    ChooseBranch(usize),
+    /// Store the current pose as a new waypoint after the selected one (or at the end).
+    StoreWaypoint,
+    /// Store the current pose as a new waypoint before the selected one (or at the start).
+    InsertWaypoint,
+    /// Delete a waypoint.
+    DeleteWaypoint(usize),
+    /// Move a waypoint from one place in the sequence to another.
+    MoveWaypoint {
+        /// Its index now.
+        from: usize,
+        /// Its index afterwards.
+        to: usize,
+    },
+    /// Change one setting of one waypoint.
+    EditWaypoint {
+        /// The waypoint's index.
+        index: usize,
+        /// What changes.
+        field: WaypointField,
+    },
+    /// Replace a waypoint's pose with the current pose.
+    UpdateWaypointPose(usize),
+    /// Select a waypoint.
+    SelectWaypoint(usize),
+    /// Select a waypoint and move the arm to its pose.
+    JumpToWaypoint(usize),
+    /// Undo the last edit.
+    Undo,
+    /// Redo the last undone edit.
+    Redo,
+    /// Stop the arm now and latch the stop.
+    EmergencyStop(StopSource),
+    /// Ask before clearing the stop latch.
+    RequestStopReset,
+    /// Clear the stop latch (after the user confirmed).
+    ConfirmStopReset,
+    /// Show a dialog.
+    ShowDialog(Dialog),
+    /// Close the dialog.
+    CloseDialog,
+    /// Change the typed path of the open or save-as dialog.
+    SetDialogPath(String),
+    /// Open the scene at this path (on a worker thread).
+    OpenPath(PathBuf),
+    /// Save to the scene's file, or ask for one.
+    Save,
+    /// Save to this path (on a worker thread), closing the window afterwards if asked.
+    SaveToPath {
+        /// The file.
+        path: PathBuf,
+        /// Close the window once saved.
+        then_close: bool,
+    },
+    /// Pick a file with the system's dialog (on a worker thread) for the open dialog.
+    BrowseForOpen,
+    /// Pick a file with the system's dialog (on a worker thread) for the save-as dialog.
+    BrowseForSave,
+    /// Close the window, dropping unsaved changes.
+    CloseWithoutSaving,
+    /// Take the recovery copy as the scene.
+    Recover,
+    /// Throw the recovery copy away.
+    DiscardRecovery,
+}
+
+impl Command {
+    /// This command, then `next`.
+    pub fn then(self, next: Command) -> Command {
+        match (self, next) {
+            (Command::None, next) => next,
+            (this, Command::None) => this,
+            (Command::Many(mut list), next) => {
+                list.push(next);
+                Command::Many(list)
+            }
+            (this, next) => Command::Many(vec![this, next]),
+        }
+    }
+}
+
+/// What [`apply`] leaves for the editor to do outside the state.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Outside {
+    /// Read this scene file.
+    Open(PathBuf),
+    /// Write the scene to this file.
+    Save {
+        /// The file.
+        path: PathBuf,
+        /// Close the window once saved.
+        then_close: bool,
+    },
+    /// Run the system's file dialog to pick a file to open.
+    BrowseForOpen,
+    /// Run the system's file dialog to pick a file to save to.
+    BrowseForSave,
+    /// Close the window now.
+    Close,
+    /// Load the recovery copy.
+    Recover,
+    /// Delete the recovery copy.
+    DiscardRecovery,
+}
+
+/// Applies one command to the state. A stop request goes to `stop_link` at once, tagged with
+/// `frame`. Anything that needs files or the window comes back in `outside`.
+pub fn apply(
+    state: &mut EditorState,
+    command: Command,
+    stop_link: &mut dyn StopLink,
+    frame: u64,
+    outside: &mut Vec<Outside>,
+) {
+    match command {
+        Command::None => {}
+        Command::Many(list) => {
+            for command in list {
+                apply(state, command, stop_link, frame, outside);
+            }
+        }
+        Command::EmergencyStop(source) => {
+            stop_link.send_stop(StopRequest { source, frame });
+            state.stop = StopState::Latched { source, frame };
+            let how = match source {
+                StopSource::Button => "button",
+                StopSource::Key => "key",
+            };
+            state.say(
+                Level::Warning,
+                format!("emergency stop sent ({how}); latched until reset"),
+            );
+        }
+        Command::RequestStopReset => {
+            if matches!(state.stop, StopState::Latched { .. }) {
+                state.dialog = Some(Dialog::ConfirmStopReset);
+            }
+        }
+        Command::ConfirmStopReset => {
+            state.stop = StopState::Clear;
+            state.dialog = None;
+            state.say(Level::Info, "emergency stop reset");
+        }
+        Command::SetJoint { joint, position } => {
+            if joint < state.pose.len() && position.is_finite() {
+                state.pose[joint] = state.clamp_to_limits(joint, position);
+                state.branch = None;
+                state.branch_choices.clear();
+                state.reach = ReachStatus::Idle;
+                state.pose_changed();
+            }
+        }
+        Command::SetGripper(gripper) => state.gripper = gripper,
+        Command::SetToolAngle(angle) => {
+            if angle.is_finite() {
+                state.tool_angle = wrap_angle(angle);
+            }
+        }
+        Command::DragToolPoint { target } => drag_tool_point(state, target),
+        Command::ChooseBranch(index) => {
+            if let Some(choice) = state.branch_choices.get(index).cloned()
+                && choice.positions.len() == state.pose.len()
+            {
+                state.pose = choice.positions;
+                state.branch = Some(choice.label.clone());
+                state.branch_choices.clear();
+                state.reach = ReachStatus::Reached;
+                state.pose_changed();
+                state.say(
+                    Level::Info,
+                    format!("switched to branch \"{}\"", choice.label),
+                );
+            }
+        }
+        Command::StoreWaypoint => {
+            let at = state
+                .selected_waypoint
+                .map_or(state.scene.waypoints.len(), |index| index + 1);
+            add_waypoint(state, at);
+        }
+        Command::InsertWaypoint => {
+            let at = state.selected_waypoint.unwrap_or(0);
+            add_waypoint(state, at);
+        }
+        Command::DeleteWaypoint(index) => {
+            if index < state.scene.waypoints.len() {
+                edit(state, None, |state| {
+                    let removed = state.scene.waypoints.remove(index);
+                    state.selected_waypoint = if state.scene.waypoints.is_empty() {
+                        None
+                    } else {
+                        Some(index.min(state.scene.waypoints.len() - 1))
+                    };
+                    state.say(Level::Info, format!("deleted \"{}\"", removed.name));
+                });
+            }
+        }
+        Command::MoveWaypoint { from, to } => {
+            let count = state.scene.waypoints.len();
+            if from < count && to < count && from != to {
+                edit(state, None, |state| {
+                    let waypoint = state.scene.waypoints.remove(from);
+                    state.scene.waypoints.insert(to, waypoint);
+                    state.selected_waypoint = Some(to);
+                });
+            }
+        }
+        Command::EditWaypoint { index, field } => {
+            if index < state.scene.waypoints.len() && field_is_valid(&field) {
+                let key = EditKey {
+                    waypoint: index,
+                    field: field.key(),
+                };
+                edit(state, Some(key), |state| {
+                    let waypoint = &mut state.scene.waypoints[index];
+                    match field {
+                        WaypointField::Name(name) => waypoint.name = name,
+                        WaypointField::MoveKind(kind) => waypoint.move_kind = kind,
+                        WaypointField::Profile(profile) => waypoint.profile = profile,
+                        WaypointField::SpeedSharePct(pct) => waypoint.speed_share_pct = pct,
+                        WaypointField::DwellMs(ms) => waypoint.dwell_ms = ms,
+                        WaypointField::Arrival(arrival) => waypoint.arrival = arrival,
+                        WaypointField::Gripper(gripper) => waypoint.gripper = gripper,
+                    }
+                });
+            }
+        }
+        Command::UpdateWaypointPose(index) => {
+            if index < state.scene.waypoints.len() {
+                let values = state.pose_in_file_units();
+                let gripper = state.gripper;
+                edit(state, None, |state| {
+                    let waypoint = &mut state.scene.waypoints[index];
+                    waypoint.joints_deg_or_mm = values;
+                    waypoint.gripper = gripper;
+                });
+            }
+        }
+        Command::SelectWaypoint(index) => {
+            if index < state.scene.waypoints.len() {
+                state.selected_waypoint = Some(index);
+                state.history.break_merge();
+            }
+        }
+        Command::JumpToWaypoint(index) => jump_to_waypoint(state, index),
+        Command::Undo => {
+            let current = snapshot(state);
+            match state.history.undo(current) {
+                Some(previous) => restore(state, previous),
+                None => state.say(Level::Info, "nothing to undo"),
+            }
+        }
+        Command::Redo => {
+            let current = snapshot(state);
+            match state.history.redo(current) {
+                Some(next) => restore(state, next),
+                None => state.say(Level::Info, "nothing to redo"),
+            }
+        }
+        Command::ShowDialog(dialog) => state.dialog = Some(dialog),
+        Command::CloseDialog => state.dialog = None,
+        Command::SetDialogPath(text) => {
+            if let Some(Dialog::Open { path } | Dialog::SaveAs { path, .. }) = &mut state.dialog {
+                *path = text;
+            }
+        }
+        Command::OpenPath(path) => {
+            state.dialog = None;
+            outside.push(Outside::Open(path));
+        }
+        Command::Save => match state.file_path.clone() {
+            Some(path) => outside.push(Outside::Save {
+                path,
+                then_close: false,
+            }),
+            None => {
+                state.dialog = Some(Dialog::SaveAs {
+                    path: String::new(),
+                    then_close: false,
+                })
+            }
+        },
+        Command::SaveToPath { path, then_close } => {
+            state.dialog = None;
+            outside.push(Outside::Save { path, then_close });
+        }
+        Command::BrowseForOpen => outside.push(Outside::BrowseForOpen),
+        Command::BrowseForSave => outside.push(Outside::BrowseForSave),
+        Command::CloseWithoutSaving => {
+            state.dialog = None;
+            outside.push(Outside::Close);
+        }
+        Command::Recover => {
+            state.dialog = None;
+            outside.push(Outside::Recover);
+        }
+        Command::DiscardRecovery => {
+            state.dialog = None;
+            outside.push(Outside::DiscardRecovery);
+        }
+    }
+}
+
+/// Whether a number typed into a waypoint setting is one the scene file accepts.
+fn field_is_valid(field: &WaypointField) -> bool {
+    match field {
+        WaypointField::SpeedSharePct(pct) => pct.is_finite() && *pct > 0.0 && *pct <= 100.0,
+        WaypointField::DwellMs(ms) => ms.is_finite() && *ms >= 0.0,
+        _ => true,
+    }
+}
+
+/// An angle wrapped into (−π, π], in rad.
+fn wrap_angle(angle: f64) -> f64 {
+    let wrapped = angle.rem_euclid(std::f64::consts::TAU);
+    if wrapped > std::f64::consts::PI {
+        wrapped - std::f64::consts::TAU
+    } else {
+        wrapped
+    }
+}
+
+fn snapshot(state: &EditorState) -> Snapshot {
+    Snapshot {
+        scene: state.scene.clone(),
+        selected_waypoint: state.selected_waypoint,
+    }
+}
+
+fn restore(state: &mut EditorState, snapshot: Snapshot) {
+    let arm_changed = snapshot.scene.arm != state.scene.arm;
+    state.scene = snapshot.scene;
+    state.selected_waypoint = snapshot.selected_waypoint;
+    if arm_changed {
+        state.rebuild_arm();
+        state.pose_changed();
+    }
+    state.scene_changed();
+}
+
+/// Runs an edit of the scene as one undo step (merging with the previous step when `key` is the
+/// same as its key).
+fn edit(state: &mut EditorState, key: Option<EditKey>, change: impl FnOnce(&mut EditorState)) {
+    let before = snapshot(state);
+    change(state);
+    if state.scene != before.scene {
+        state.history.record(before, key);
+        state.scene_changed();
+    }
+}
+
+fn add_waypoint(state: &mut EditorState, at: usize) {
+    let at = at.min(state.scene.waypoints.len());
+    let name = fresh_name(state);
+    let waypoint = Waypoint {
+        name: name.clone(),
+        joints_deg_or_mm: state.pose_in_file_units(),
+        gripper: state.gripper,
+        ..Waypoint::default()
+    };
+    edit(state, None, |state| {
+        state.scene.waypoints.insert(at, waypoint);
+        state.selected_waypoint = Some(at);
+    });
+    state.say(Level::Info, format!("stored \"{name}\""));
+}
+
+/// "point N" with the smallest N not yet used.
+fn fresh_name(state: &EditorState) -> String {
+    (state.scene.waypoints.len() + 1..)
+        .map(|n| format!("point {n}"))
+        .find(|name| state.scene.waypoints.iter().all(|w| &w.name != name))
+        .unwrap_or_default()
+}
+
+fn jump_to_waypoint(state: &mut EditorState, index: usize) {
+    let Some(waypoint) = state.scene.waypoints.get(index) else {
+        return;
+    };
+    state.selected_waypoint = Some(index);
+    state.history.break_merge();
+    if waypoint.joints_deg_or_mm.len() != state.joint_count() {
+        let message = format!(
+            "\"{}\" has {} joint positions, the arm has {} joints",
+            waypoint.name,
+            waypoint.joints_deg_or_mm.len(),
+            state.joint_count()
+        );
+        state.say(Level::Error, message);
+        return;
+    }
+    let gripper = waypoint.gripper;
+    state.pose = pose_from_file_units(&state.scene.arm, &waypoint.joints_deg_or_mm);
+    state.gripper = gripper;
+    state.branch = None;
+    state.branch_choices.clear();
+    state.reach = ReachStatus::Idle;
+    state.pose_changed();
+}
+
+fn drag_tool_point(state: &mut EditorState, target: [f64; 3]) {
+    let Some(arm) = state.arm.as_ref() else {
+        return;
+    };
+    let ik_target =
+        IkTarget::at(Vector3::new(target[0], target[1], target[2])).with_angle(state.tool_angle);
+    match solve_ik(arm, &ik_target, &state.pose, &IkOptions::default()) {
+        Ok(solutions) => {
+            let branches = solutions.as_slice();
+            let chosen = match &state.branch {
+                Some(label) => branches.iter().find(|branch| branch.label() == label),
+                None => Some(solutions.nearest(&state.pose)),
+            };
+            let kinds: Vec<JointKind> = (0..state.pose.len())
+                .map(|joint| state.joint_kind(joint))
+                .collect();
+            let continuous =
+                chosen.filter(|branch| !jumps(&kinds, &state.pose, branch.positions()));
+            state.branch_choices = branches
+                .iter()
+                .filter(|branch| Some(branch.label()) != continuous.map(|c| c.label()))
+                .map(|branch| BranchChoice {
+                    label: branch.label().to_string(),
+                    positions: branch.positions().to_vec(),
+                })
+                .collect();
+            match continuous {
+                Some(branch) => {
+                    state.pose = branch.positions().to_vec();
+                    state.branch = Some(branch.label().to_string());
+                    state.reach = ReachStatus::Reached;
+                    let angle = state.tool_angle;
+                    state.pose_changed();
+                    // Keep the angle the user set, not the one read back (they agree up to
+                    // rounding, and reading back would let it creep).
+                    state.tool_angle = angle;
+                }
+                None => state.reach = ReachStatus::OtherBranchOnly,
+            }
+        }
+        Err(IkError::OutOfReach { short_by }) => {
+            state.reach = ReachStatus::OutOfReach {
+                short_by_mm: short_by * 1e3,
+            };
+        }
+        Err(IkError::BeyondLimit {
+            joint,
+            position,
+            by,
+        }) => {
+            let kind = state.scene.arm.shape.joint_kinds();
+            let kind = kind
+                .get(joint)
+                .copied()
+                .unwrap_or(crate::scene::JointKindDoc::Revolute);
+            state.reach = ReachStatus::AtJointLimit {
+                joint,
+                needed: position_to_file_unit(kind, position),
+                past_by: position_to_file_unit(kind, by),
+            };
+        }
+        Err(error) => {
+            state.reach = ReachStatus::NotSolved {
+                reason: error.to_string(),
+            };
+        }
+    }
+}
+
+/// Whether going from `from` to `to` moves a joint by more than one drag step can.
+fn jumps(kinds: &[JointKind], from: &[f64], to: &[f64]) -> bool {
+    kinds
+        .iter()
+        .zip(from.iter().zip(to))
+        .any(|(kind, (a, b))| match kind {
+            JointKind::Revolute => (a - b).abs() > BRANCH_JUMP,
+            JointKind::Prismatic => (a - b).abs() > SLIDE_JUMP,
+        })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn angles_wrap_into_half_open_turn() {
+        assert!((wrap_angle(3.0 * std::f64::consts::PI) - std::f64::consts::PI).abs() < 1e-12);
+        assert!((wrap_angle(-0.5) + 0.5).abs() < 1e-12);
+    }
+
+    #[test]
+    fn a_small_step_is_not_a_jump_but_a_flip_is() {
+        let kinds = [JointKind::Revolute, JointKind::Prismatic];
+        assert!(!jumps(&kinds, &[0.0, 0.0], &[0.1, 0.01]));
+        assert!(jumps(&kinds, &[0.0, 0.0], &[2.0, 0.0]));
+        assert!(jumps(&kinds, &[0.0, 0.0], &[0.0, 0.2]));
+    }
+}

@@ -1,0 +1,512 @@
+//! The desktop editor: the arm to scale from above and from the side, teaching by dragging the
+//! tool point, the sequence of waypoints, files with undo and autosave, and an emergency stop
+//! that is always on screen.
+//!
+//! Naming scheme: `state.rs` holds what is saved, undone and tested (no egui types);
+//! `command.rs` is what panels ask for and how it changes the state; `history.rs` undo and
+//! redo; `estop.rs` the path a stop request takes out of the editor; `files.rs` file work off
+//! the UI thread; `recovery.rs` the autosaved copy; `sample.rs` the built-in scene;
+//! `panels/` one file per panel; `views/` the two to-scale views. This file is the shell:
+//! [`Editor::logic`] handles what must run whatever is on screen (the emergency-stop key first),
+//! [`Editor::ui`] draws the panels and applies their commands after the frame.
+
+mod command;
+mod estop;
+mod files;
+mod history;
+mod panels;
+mod recovery;
+mod sample;
+mod state;
+mod views;
+
+pub use command::{Command, Outside, WaypointField, apply};
+pub use estop::{ChannelStopLink, STOP_KEY, STOP_KEY_NAME, StopLink, StopRequest};
+pub use panels::{CAUTION, EMERGENCY_STOP_LABEL};
+pub use recovery::Recovery;
+pub use sample::sample_scene;
+pub use state::{
+    BranchChoice, Dialog, EditorState, Level, Message, ReachStatus, StopSource, StopState,
+};
+pub use views::{Camera, Plane, Projection, SidePlane, TopPlane, ViewKind};
+
+use std::path::PathBuf;
+use std::process::ExitCode;
+use std::time::Duration;
+
+use egui::{CentralPanel, Event, Key, Modifiers, Panel, Rect, ScrollArea, UiBuilder, pos2, vec2};
+
+use files::{FileResult, FileWorker, pick_file, problem_lines};
+
+/// How the editor is set up.
+#[derive(Debug, Clone)]
+pub struct EditorOptions {
+    /// Where the recovery copy is kept; `None` turns autosave off.
+    pub recovery: Option<Recovery>,
+    /// Time between autosaves while there are unsaved changes.
+    pub autosave_interval: Duration,
+}
+
+impl Default for EditorOptions {
+    /// Recovery copy in the per-user state folder, autosave every 30 s.
+    fn default() -> EditorOptions {
+        EditorOptions {
+            recovery: Recovery::default_dir().map(Recovery::in_dir),
+            autosave_interval: Duration::from_secs(30),
+        }
+    }
+}
+
+/// The editor: its state plus what only the running window needs (views' zoom and pan, file
+/// workers, the stop link, autosave timing).
+pub struct Editor {
+    /// What is saved, undone and tested.
+    pub state: EditorState,
+    stop_link: Box<dyn StopLink>,
+    cameras: [Camera; 2],
+    files: FileWorker,
+    options: EditorOptions,
+    /// egui time (s) of the last autosave, or of the first frame.
+    last_autosave: Option<f64>,
+    recovered: Option<crate::scene::Scene>,
+    /// The user chose to close: let the window go.
+    closing: bool,
+    title: String,
+}
+
+impl std::fmt::Debug for Editor {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.debug_struct("Editor")
+            .field("state", &self.state)
+            .finish_non_exhaustive()
+    }
+}
+
+impl Editor {
+    /// An editor on `state`, sending stop requests to `stop_link`. Finds and offers a recovery
+    /// copy left by a session that did not end cleanly.
+    pub fn new(state: EditorState, stop_link: Box<dyn StopLink>, options: EditorOptions) -> Editor {
+        let mut editor = Editor {
+            state,
+            stop_link,
+            cameras: [Camera::default(), Camera::default()],
+            files: FileWorker::default(),
+            options,
+            last_autosave: None,
+            recovered: None,
+            closing: false,
+            title: String::new(),
+        };
+        if let Some(recovery) = editor.options.recovery.clone()
+            && recovery.exists()
+        {
+            match recovery.load() {
+                Ok(scene) => {
+                    editor.recovered = Some(scene);
+                    editor.state.dialog = Some(Dialog::Recovery {
+                        source: recovery.source(),
+                    });
+                }
+                Err(error) => {
+                    editor.state.say(
+                        Level::Warning,
+                        format!("a recovery copy was found but cannot be read: {error}"),
+                    );
+                }
+            }
+        }
+        editor
+    }
+
+    /// An editor on the scene at `path`, or on the built-in sample when there is none. A file
+    /// that cannot be loaded leaves the sample open and shows why, naming the field.
+    pub fn open(
+        path: Option<PathBuf>,
+        stop_link: Box<dyn StopLink>,
+        options: EditorOptions,
+    ) -> Editor {
+        let Some(path) = path else {
+            return Editor::new(EditorState::new(sample_scene(), None), stop_link, options);
+        };
+        match crate::scene::load(&path) {
+            Ok(scene) => Editor::new(EditorState::new(scene, Some(path)), stop_link, options),
+            Err(error) => {
+                let mut editor =
+                    Editor::new(EditorState::new(sample_scene(), None), stop_link, options);
+                editor
+                    .state
+                    .say(Level::Error, format!("cannot open {}", path.display()));
+                editor.state.dialog = Some(Dialog::LoadError {
+                    problems: problem_lines(&error),
+                    path,
+                });
+                editor
+            }
+        }
+    }
+
+    /// A view's camera (zoom, pan, where the tool point was drawn).
+    pub fn camera(&self, kind: ViewKind) -> &Camera {
+        match kind {
+            ViewKind::Top => &self.cameras[0],
+            ViewKind::Side => &self.cameras[1],
+        }
+    }
+
+    /// Whether file work is still running on a worker thread.
+    pub fn is_busy(&self) -> bool {
+        self.files.busy()
+    }
+
+    /// Whether the user chose to close the window.
+    pub fn is_closing(&self) -> bool {
+        self.closing
+    }
+
+    /// Work that runs every frame before any panel: the emergency-stop key (whatever has
+    /// keyboard focus, dialog open or not), undo and redo keys, finished file work, the close
+    /// question, autosave and the window title.
+    pub fn logic(&mut self, ctx: &egui::Context) {
+        let frame = ctx.cumulative_frame_nr();
+        let stop_key = ctx.input(|input| {
+            input.events.iter().any(|event| {
+                matches!(
+                    event,
+                    Event::Key {
+                        key: STOP_KEY,
+                        pressed: true,
+                        repeat: false,
+                        ..
+                    }
+                )
+            })
+        });
+        if stop_key {
+            self.apply(ctx, Command::EmergencyStop(StopSource::Key), frame);
+        }
+        if self.state.dialog.is_none() && !ctx.egui_wants_keyboard_input() {
+            let redo = ctx.input_mut(|input| {
+                input.consume_key(Modifiers::COMMAND | Modifiers::SHIFT, Key::Z)
+            });
+            let undo = ctx.input_mut(|input| input.consume_key(Modifiers::COMMAND, Key::Z));
+            if redo {
+                self.apply(ctx, Command::Redo, frame);
+            } else if undo {
+                self.apply(ctx, Command::Undo, frame);
+            }
+        }
+        for result in self.files.finished() {
+            self.file_finished(ctx, result);
+        }
+        if self.files.busy() {
+            ctx.request_repaint_after(Duration::from_millis(50));
+        }
+        if ctx.input(|input| input.viewport().close_requested()) && !self.closing {
+            if self.state.dirty {
+                ctx.send_viewport_cmd(egui::ViewportCommand::CancelClose);
+                self.state.dialog = Some(Dialog::UnsavedChanges);
+            } else if let Some(recovery) = &self.options.recovery {
+                recovery.discard();
+            }
+        }
+        self.autosave(ctx);
+        let title = self.window_title();
+        if title != self.title {
+            ctx.send_viewport_cmd(egui::ViewportCommand::Title(title.clone()));
+            self.title = title;
+        }
+    }
+
+    /// The window title: the file's name, a mark when there are unsaved changes, the stop.
+    pub fn window_title(&self) -> String {
+        let name = self
+            .state
+            .file_path
+            .as_ref()
+            .and_then(|path| path.file_name())
+            .map(|name| name.to_string_lossy().into_owned())
+            .unwrap_or_else(|| "sample scene".into());
+        let mark = if self.state.dirty { "* " } else { "" };
+        let stop = match self.state.stop {
+            StopState::Clear => "",
+            StopState::Latched { .. } => " — STOPPED",
+        };
+        format!("{mark}{name}{stop} — Armwright")
+    }
+
+    /// Draws every panel, then applies what they asked for, in order.
+    pub fn ui(&mut self, ui: &mut egui::Ui) {
+        let frame = ui.ctx().cumulative_frame_nr();
+        let mut commands = Vec::new();
+        let top = Panel::top("armwright top bar").show(ui, |ui| panels::top_bar(ui, &self.state));
+        commands.push(top.inner);
+        let below_top = Rect::from_min_max(
+            pos2(ui.ctx().content_rect().left(), top.response.rect.bottom()),
+            ui.ctx().content_rect().max,
+        );
+        Panel::bottom("armwright status bar").show(ui, |ui| panels::status_bar(ui, &self.state));
+        let sequence = Panel::bottom("armwright sequence")
+            .resizable(true)
+            .default_size(250.0)
+            .show(ui, |ui| panels::sequence(ui, &self.state));
+        commands.push(sequence.inner);
+        let left = Panel::left("armwright joints")
+            .default_size(330.0)
+            .show(ui, |ui| {
+                ScrollArea::vertical()
+                    .id_salt("armwright joints scroll")
+                    .show(ui, |ui| {
+                        let joints = panels::joint_controls(ui, &self.state);
+                        ui.separator();
+                        joints.then(panels::tool_point(ui, &self.state))
+                    })
+                    .inner
+            });
+        commands.push(left.inner);
+        let views = CentralPanel::default().show(ui, |ui| {
+            let rect = ui.available_rect_before_wrap();
+            let gap = 6.0;
+            let half = ((rect.width() - gap) / 2.0).max(10.0);
+            let top_rect = Rect::from_min_size(rect.min, vec2(half, rect.height()));
+            let side_rect =
+                Rect::from_min_size(pos2(rect.min.x + half + gap, rect.min.y), top_rect.size());
+            let [top_camera, side_camera] = &mut self.cameras;
+            let from_top = ui
+                .scope_builder(UiBuilder::new().max_rect(top_rect), |ui| {
+                    views::show_view(ui, &self.state, ViewKind::Top, top_camera)
+                })
+                .inner;
+            let from_side = ui
+                .scope_builder(UiBuilder::new().max_rect(side_rect), |ui| {
+                    views::show_view(ui, &self.state, ViewKind::Side, side_camera)
+                })
+                .inner;
+            from_top.then(from_side)
+        });
+        commands.push(views.inner);
+        commands.push(panels::dialogs(ui.ctx(), below_top, &self.state));
+        let ctx = ui.ctx().clone();
+        for command in commands {
+            self.apply(&ctx, command, frame);
+        }
+    }
+
+    /// Applies one command, carrying out file and window work it leaves.
+    pub fn apply(&mut self, ctx: &egui::Context, command: Command, frame: u64) {
+        let mut outside = Vec::new();
+        apply(
+            &mut self.state,
+            command,
+            self.stop_link.as_mut(),
+            frame,
+            &mut outside,
+        );
+        for work in outside {
+            self.carry_out(ctx, work);
+        }
+    }
+
+    fn carry_out(&mut self, ctx: &egui::Context, work: Outside) {
+        match work {
+            Outside::Open(path) => {
+                self.files.spawn(ctx, move || FileResult::Loaded {
+                    result: crate::scene::load(&path).map(Box::new),
+                    path,
+                });
+            }
+            Outside::Save { path, then_close } => {
+                let scene = self.state.scene.clone();
+                self.files.spawn(ctx, move || FileResult::Saved {
+                    result: crate::scene::save(&scene, &path),
+                    scene: Box::new(scene),
+                    path,
+                    then_close,
+                });
+            }
+            Outside::BrowseForOpen => self.files.spawn(ctx, || pick_file(false)),
+            Outside::BrowseForSave => self.files.spawn(ctx, || pick_file(true)),
+            Outside::Close => {
+                self.closing = true;
+                if let Some(recovery) = &self.options.recovery {
+                    recovery.discard();
+                }
+                ctx.send_viewport_cmd(egui::ViewportCommand::Close);
+            }
+            Outside::Recover => {
+                if let Some(scene) = self.recovered.take() {
+                    let source = match &self.options.recovery {
+                        Some(recovery) => recovery.source(),
+                        None => None,
+                    };
+                    self.state.replace_scene(scene.clone(), None);
+                    // The copy holds unsaved work: keep it marked so, against the file it
+                    // came from.
+                    self.state.file_path = source;
+                    self.state.mark_unsaved();
+                    self.state.say(Level::Info, "recovered the autosaved copy");
+                }
+            }
+            Outside::DiscardRecovery => {
+                self.recovered = None;
+                if let Some(recovery) = &self.options.recovery {
+                    recovery.discard();
+                }
+            }
+        }
+    }
+
+    fn file_finished(&mut self, ctx: &egui::Context, result: FileResult) {
+        match result {
+            FileResult::Loaded { path, result } => match result {
+                Ok(scene) => {
+                    self.state.replace_scene(*scene, Some(path.clone()));
+                    self.cameras = [Camera::default(), Camera::default()];
+                    self.state
+                        .say(Level::Info, format!("opened {}", path.display()));
+                }
+                Err(error) => {
+                    self.state
+                        .say(Level::Error, format!("cannot open {}", path.display()));
+                    self.state.dialog = Some(Dialog::LoadError {
+                        problems: problem_lines(&error),
+                        path,
+                    });
+                }
+            },
+            FileResult::Saved {
+                path,
+                scene,
+                result,
+                then_close,
+            } => match result {
+                Ok(()) => {
+                    self.state.mark_saved(path.clone(), *scene);
+                    self.state
+                        .say(Level::Info, format!("saved {}", path.display()));
+                    if !self.state.dirty
+                        && let Some(recovery) = &self.options.recovery
+                    {
+                        recovery.discard();
+                    }
+                    if then_close {
+                        self.carry_out(ctx, Outside::Close);
+                    }
+                }
+                Err(error) => self.state.say(Level::Error, error.to_string()),
+            },
+            FileResult::Picked { for_save, path } => match path {
+                Some(path) => {
+                    let text = path.display().to_string();
+                    match &mut self.state.dialog {
+                        Some(Dialog::Open { path }) if !for_save => *path = text,
+                        Some(Dialog::SaveAs { path, .. }) if for_save => *path = text,
+                        _ => {}
+                    }
+                }
+                None => self.state.say(
+                    Level::Info,
+                    "no file chosen (or no system file dialog answered): type the path instead",
+                ),
+            },
+            FileResult::Autosaved { result } => {
+                if let Err(error) = result {
+                    self.state
+                        .say(Level::Warning, format!("autosave failed: {error}"));
+                }
+            }
+        }
+    }
+
+    fn autosave(&mut self, ctx: &egui::Context) {
+        let now = ctx.input(|input| input.time);
+        let Some(recovery) = self.options.recovery.clone() else {
+            return;
+        };
+        let last = *self.last_autosave.get_or_insert(now);
+        let interval = self.options.autosave_interval.as_secs_f64();
+        if self.state.dirty && now - last >= interval {
+            self.last_autosave = Some(now);
+            let scene = self.state.scene.clone();
+            let source = self.state.file_path.clone();
+            self.files.spawn(ctx, move || FileResult::Autosaved {
+                result: recovery.write(&scene, source.as_deref()),
+            });
+        }
+        if self.state.dirty {
+            let due = (last + interval - now).max(0.1);
+            ctx.request_repaint_after(Duration::from_secs_f64(due));
+        }
+    }
+}
+
+impl eframe::App for Editor {
+    fn logic(&mut self, ctx: &egui::Context, _frame: &mut eframe::Frame) {
+        Editor::logic(self, ctx);
+    }
+
+    fn ui(&mut self, ui: &mut egui::Ui, _frame: &mut eframe::Frame) {
+        Editor::ui(self, ui);
+    }
+}
+
+/// Opens the editor window on `file` (or the built-in sample) and runs until it closes.
+///
+/// Until the link crate lands, stop requests go to a thread that reports them on standard
+/// error.
+pub fn run(file: Option<PathBuf>) -> ExitCode {
+    let (link, requests) = ChannelStopLink::new();
+    let _listener = std::thread::Builder::new()
+        .name("armwright stop listener".into())
+        .spawn(move || {
+            for request in requests {
+                eprintln!(
+                    "armwright: emergency stop requested ({:?}, frame {}); no device is connected",
+                    request.source, request.frame
+                );
+            }
+        });
+    let options = eframe::NativeOptions {
+        viewport: egui::ViewportBuilder::default()
+            .with_title("Armwright")
+            .with_inner_size([1560.0, 960.0])
+            .with_min_inner_size([900.0, 600.0]),
+        ..eframe::NativeOptions::default()
+    };
+    let result = eframe::run_native(
+        "armwright",
+        options,
+        Box::new(move |_creation| {
+            Ok(Box::new(Editor::open(
+                file,
+                Box::new(link),
+                EditorOptions::default(),
+            )))
+        }),
+    );
+    match result {
+        Ok(()) => ExitCode::SUCCESS,
+        Err(error) => {
+            eprintln!("armwright: cannot open the editor window: {error}");
+            ExitCode::FAILURE
+        }
+    }
+}
+
+/// Runs the editor when the command line asks for it: no arguments, or `edit [FILE]`. Returns
+/// `None` for any other command line, which the command-line module handles.
+pub fn run_from_args(args: &[std::ffi::OsString]) -> Option<ExitCode> {
+    match args {
+        [] => Some(run(None)),
+        [command, rest @ ..] if command == "edit" => match rest {
+            [] => Some(run(None)),
+            [file] if !file.to_string_lossy().starts_with('-') => {
+                Some(run(Some(PathBuf::from(file))))
+            }
+            _ => {
+                eprintln!("usage: armwright edit [FILE]");
+                Some(ExitCode::from(2))
+            }
+        },
+        _ => None,
+    }
+}

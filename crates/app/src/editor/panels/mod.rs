@@ -1,0 +1,21 @@
+//! The editor's panels, one per file. Each draws from `&EditorState` and returns a
+//! [`Command`](super::command::Command) applied after the frame.
+//!
+//! Naming scheme: the file is named for what the panel shows: `top_bar.rs` (emergency stop,
+//! files, undo), `joint_controls.rs`, `tool_point.rs` (drag feedback, tool angle, branches,
+//! torque use), `sequence.rs` (waypoints), `status_bar.rs` (messages and cautions),
+//! `dialogs.rs` (questions shown over the window, never over the emergency stop).
+
+mod dialogs;
+mod joint_controls;
+mod sequence;
+mod status_bar;
+mod tool_point;
+mod top_bar;
+
+pub use dialogs::dialogs;
+pub use joint_controls::joint_controls;
+pub use sequence::sequence;
+pub use status_bar::{CAUTION, status_bar};
+pub use tool_point::tool_point;
+pub use top_bar::{EMERGENCY_STOP_LABEL, top_bar};

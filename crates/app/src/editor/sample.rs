@@ -1,0 +1,133 @@
+//! The scene the editor opens when no file is given: a small four-joint articulated arm that
+//! draws with a pen on a table, with a pen holder and a paper tray. Our own invented scenario.
+
+use crate::scene::{
+    ArmDoc, ArmShape, ArticulatedSize, BandDoc, BoxDoc, CalibrationDoc, CalibrationPoint,
+    GripperDoc, GripperState, JointDoc, LinkMassDoc, LinkSettings, MoveKind, Scene, ServoDoc,
+    Timing, ToolMassDoc, TrayDoc, Waypoint, Workspace,
+};
+
+/// The built-in sample scene.
+pub fn sample_scene() -> Scene {
+    let joint = |name: &str, min: f64, max: f64, home: f64, stall_ncm: f64, mass_g: f64| {
+        JointDoc {
+            name: name.to_string(),
+            min,
+            max,
+            home,
+            servo: ServoDoc {
+                stall_torque_ncm: stall_ncm,
+                no_load_speed_deg_per_s: 300.0,
+                deadband_us: 4.0,
+                proportional_band: BandDoc::Us(40.0),
+                backlash_deg: 0.5,
+                mass_g: 55.0,
+                mount_offset_mm: [0.0, 0.0, 0.0],
+                pinion_radius_mm: None,
+            },
+            calibration: CalibrationDoc {
+                points: [
+                    // 10 µs per degree, centred on the joint's range.
+                    CalibrationPoint {
+                        position: (min + max) / 2.0 - 90.0,
+                        pulse_us: 600,
+                    },
+                    CalibrationPoint {
+                        position: (min + max) / 2.0 + 90.0,
+                        pulse_us: 2400,
+                    },
+                ],
+                pulse_min_us: 500,
+                pulse_max_us: 2500,
+            },
+            link: LinkMassDoc {
+                mass_g,
+                centre_mm: [40.0, 0.0, 0.0],
+                inertia_g_mm2: None,
+            },
+        }
+    };
+    let waypoint = |name: &str, joints: [f64; 4], gripper: GripperState| Waypoint {
+        name: name.to_string(),
+        joints_deg_or_mm: joints.to_vec(),
+        move_kind: MoveKind::Joint,
+        gripper,
+        ..Waypoint::default()
+    };
+    Scene {
+        description: "Pen plotter: draw a square on a sheet of paper (built-in sample)".into(),
+        arm: ArmDoc {
+            shape: ArmShape::Articulated4(ArticulatedSize {
+                base_height_mm: 70.0,
+                upper_arm_mm: 120.0,
+                forearm_mm: 110.0,
+                wrist_to_tool_mm: 45.0,
+            }),
+            joints: vec![
+                joint("base", -90.0, 90.0, 0.0, 120.0, 60.0),
+                joint("shoulder", -10.0, 150.0, 60.0, 200.0, 40.0),
+                joint("elbow", -150.0, 10.0, -100.0, 150.0, 30.0),
+                joint("wrist", -90.0, 90.0, -50.0, 60.0, 15.0),
+            ],
+            tool: ToolMassDoc {
+                mass_g: 25.0,
+                centre_mm: [15.0, 0.0, 0.0],
+            },
+            payload_g: 10.0,
+            gripper: Some(GripperDoc {
+                open_pulse_us: 1100,
+                closed_pulse_us: 1800,
+            }),
+        },
+        waypoints: vec![
+            waypoint(
+                "above holder",
+                [-40.0, 60.0, -100.0, -50.0],
+                GripperState::Open,
+            ),
+            waypoint(
+                "take pen",
+                [-40.0, 35.0, -90.0, -35.0],
+                GripperState::Closed,
+            ),
+            waypoint(
+                "corner A",
+                [-15.0, 40.0, -110.0, -20.0],
+                GripperState::Closed,
+            ),
+            waypoint(
+                "corner B",
+                [15.0, 40.0, -110.0, -20.0],
+                GripperState::Closed,
+            ),
+        ],
+        timing: Timing::default(),
+        workspace: Workspace {
+            table_height_mm: Some(0.0),
+            boxes: vec![BoxDoc {
+                name: "pen holder".into(),
+                position_mm: [120.0, -110.0, 0.0],
+                size_mm: [40.0, 40.0, 60.0],
+            }],
+            trays: vec![TrayDoc {
+                name: "paper tray".into(),
+                position_mm: [190.0, 40.0, 0.0],
+                size_mm: [120.0, 160.0, 8.0],
+                pockets: [1, 1],
+            }],
+        },
+        link: LinkSettings::default(),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn sample_scene_passes_the_scene_checks() {
+        let scene = sample_scene();
+        assert_eq!(crate::scene::validate(&scene), Vec::new());
+        assert!(crate::scene::build_arm(&scene.arm).is_ok());
+    }
+}

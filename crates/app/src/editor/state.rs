@@ -1,0 +1,422 @@
+//! What the editor holds between frames and what its tests look at: the scene, the arm built
+//! from it, the current pose, the selected waypoint, undo and redo, the dirty mark, the file, the
+//! messages and the emergency-stop latch. No egui types live here.
+
+use std::path::PathBuf;
+
+use armwright_kinematics::{
+    Arm, ArmType, IkTarget, JointKind, gravity_torques, tool_pose, torque_use,
+};
+
+use super::history::History;
+use crate::scene::{GripperState, JointKindDoc, Scene, build_arm, pose_from_file_units};
+
+/// How serious a message in the status bar is.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Level {
+    /// Something done, for information.
+    Info,
+    /// Something the user should look at.
+    Warning,
+    /// Something failed; nothing was changed by it.
+    Error,
+}
+
+/// One line in the status bar.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Message {
+    /// How serious it is.
+    pub level: Level,
+    /// What happened, in words.
+    pub text: String,
+}
+
+/// Where an emergency-stop request came from.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum StopSource {
+    /// The button in the top bar.
+    Button,
+    /// The emergency-stop key on the keyboard.
+    Key,
+}
+
+/// The emergency-stop latch. Once stopped, only a confirmed reset clears it.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum StopState {
+    /// No stop is latched.
+    Clear,
+    /// A stop was requested and is latched.
+    Latched {
+        /// What requested it.
+        source: StopSource,
+        /// egui frame number in which the request left the editor.
+        frame: u64,
+    },
+}
+
+/// Why the last drag of the tool point could or could not move the arm.
+#[derive(Debug, Clone, PartialEq)]
+pub enum ReachStatus {
+    /// No drag yet, or the arm was set some other way.
+    Idle,
+    /// The target was reached on the current branch.
+    Reached,
+    /// The target lies outside the reach envelope, by `short_by_mm`.
+    OutOfReach {
+        /// How far the tool point would have to move to be reachable, in mm.
+        short_by_mm: f64,
+    },
+    /// Every branch needs a joint past its limits.
+    AtJointLimit {
+        /// Joint index, 0-based.
+        joint: usize,
+        /// The position it would need, in degrees (revolute) or mm (prismatic).
+        needed: f64,
+        /// How far past its nearer limit, in degrees or mm.
+        past_by: f64,
+    },
+    /// The target is reachable only on another branch; the arm stays until the user picks one.
+    OtherBranchOnly,
+    /// The solver gave up or the target was not a number.
+    NotSolved {
+        /// What the solver said.
+        reason: String,
+    },
+}
+
+/// One inverse-kinematics branch the user may switch to.
+#[derive(Debug, Clone, PartialEq)]
+pub struct BranchChoice {
+    /// Which branch, such as "elbow up, facing".
+    pub label: String,
+    /// Its joint positions, rad or m.
+    pub positions: Vec<f64>,
+}
+
+/// A question or form shown over the window. The emergency stop stays usable while one is open.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Dialog {
+    /// Open a scene: a typed path, or one picked with the system's file dialog.
+    Open {
+        /// The path as typed so far.
+        path: String,
+    },
+    /// Save under a new name: a typed path, or one picked with the system's file dialog.
+    SaveAs {
+        /// The path as typed so far.
+        path: String,
+        /// Close the window once saved.
+        then_close: bool,
+    },
+    /// A scene could not be opened; the file was not changed and the current scene is kept.
+    LoadError {
+        /// The file that was read.
+        path: PathBuf,
+        /// What is wrong, one line per problem, each naming its field.
+        problems: Vec<String>,
+    },
+    /// The window is closing with unsaved changes.
+    UnsavedChanges,
+    /// Asks before the emergency-stop latch is cleared.
+    ConfirmStopReset,
+    /// A recovery copy from an earlier session that did not end cleanly was found.
+    Recovery {
+        /// The file that copy was made from, if it had one.
+        source: Option<PathBuf>,
+    },
+}
+
+/// Everything the editor keeps between frames that is saved, undone or tested.
+#[derive(Debug)]
+pub struct EditorState {
+    /// The scene being edited (in the file's units).
+    pub scene: Scene,
+    /// The arm model built from `scene.arm`; `None` when the scene's arm cannot be built.
+    pub(crate) arm: Option<Arm>,
+    /// The current pose: one position per joint, rad (revolute) or m (prismatic).
+    pub pose: Vec<f64>,
+    /// The gripper's current state.
+    pub gripper: GripperState,
+    /// The tool angle held while dragging, in rad: tool pitch for articulated arms and chains,
+    /// tool yaw for the horizontal-jointed arm.
+    pub tool_angle: f64,
+    /// The inverse-kinematics branch the arm is on, once known.
+    pub branch: Option<String>,
+    /// Other branches that reach the last drag target.
+    pub branch_choices: Vec<BranchChoice>,
+    /// The outcome of the last drag of the tool point.
+    pub reach: ReachStatus,
+    /// Torque use of each joint holding the current pose against gravity with the payload, as a
+    /// share of its derated rating (1.0 = 100 %).
+    pub torque_use: Vec<f64>,
+    /// The selected waypoint, if any.
+    pub selected_waypoint: Option<usize>,
+    /// Undo and redo steps.
+    pub(crate) history: History,
+    /// The scene as last loaded or saved, to tell whether there are unsaved changes; `None`
+    /// when the scene was never in a file as it is (a recovered copy).
+    saved_scene: Option<Scene>,
+    /// Whether the scene differs from the file.
+    pub dirty: bool,
+    /// The scene's file, once it has one.
+    pub file_path: Option<PathBuf>,
+    /// Status messages, oldest first (the last few are kept).
+    pub messages: Vec<Message>,
+    /// The emergency-stop latch.
+    pub stop: StopState,
+    /// The dialog shown over the window, if any.
+    pub dialog: Option<Dialog>,
+}
+
+/// Most messages kept.
+const MESSAGES_KEPT: usize = 40;
+
+impl EditorState {
+    /// A state editing `scene`, read from `file_path` (if any), at the arm's home pose, or at the
+    /// first waypoint when the scene has one.
+    pub fn new(scene: Scene, file_path: Option<PathBuf>) -> EditorState {
+        let mut state = EditorState {
+            saved_scene: Some(scene.clone()),
+            scene,
+            arm: None,
+            pose: Vec::new(),
+            gripper: GripperState::Open,
+            tool_angle: 0.0,
+            branch: None,
+            branch_choices: Vec::new(),
+            reach: ReachStatus::Idle,
+            torque_use: Vec::new(),
+            selected_waypoint: None,
+            history: History::default(),
+            dirty: false,
+            file_path,
+            messages: Vec::new(),
+            stop: StopState::Clear,
+            dialog: None,
+        };
+        state.rebuild_arm();
+        let start = state
+            .scene
+            .waypoints
+            .first()
+            .map(|waypoint| (waypoint.joints_deg_or_mm.clone(), waypoint.gripper));
+        match start {
+            Some((values, gripper)) if values.len() == state.joint_count() => {
+                state.pose = pose_from_file_units(&state.scene.arm, &values);
+                state.gripper = gripper;
+                state.selected_waypoint = Some(0);
+            }
+            _ => {
+                state.pose = state.arm.as_ref().map(Arm::home_pose).unwrap_or_default();
+            }
+        }
+        state.pose_changed();
+        state
+    }
+
+    /// Replaces the whole scene (open or recover), keeping the stop latch and the messages.
+    pub(crate) fn replace_scene(&mut self, scene: Scene, file_path: Option<PathBuf>) {
+        let messages = std::mem::take(&mut self.messages);
+        let stop = self.stop;
+        *self = EditorState::new(scene, file_path);
+        self.messages = messages;
+        self.stop = stop;
+    }
+
+    /// The arm model, when the scene's arm could be built.
+    pub fn arm(&self) -> Option<&Arm> {
+        self.arm.as_ref()
+    }
+
+    /// Number of movable joints in the scene's arm.
+    pub fn joint_count(&self) -> usize {
+        self.scene.arm.joints.len()
+    }
+
+    /// Whether the joint at `index` slides (mm) rather than turns (degrees).
+    pub fn is_prismatic(&self, index: usize) -> bool {
+        self.scene.arm.shape.joint_kinds().get(index) == Some(&JointKindDoc::Prismatic)
+    }
+
+    /// The current pose in the file's units: degrees (revolute) or mm (prismatic).
+    pub fn pose_in_file_units(&self) -> Vec<f64> {
+        crate::scene::pose_to_file_units(&self.scene.arm, &self.pose)
+    }
+
+    /// The tool point of the current pose in the base frame, in m.
+    pub fn tool_point(&self) -> Option<nalgebra::Vector3<f64>> {
+        let arm = self.arm.as_ref()?;
+        tool_pose(arm, &self.pose)
+            .ok()
+            .map(|pose| pose.translation.vector)
+    }
+
+    /// The yaw of the side view's vertical plane, in rad: the base joint for articulated arms,
+    /// otherwise the direction of the tool point from the base axis (0 on the axis).
+    pub fn side_view_yaw(&self) -> f64 {
+        match self.arm.as_ref().map(Arm::arm_type) {
+            Some(ArmType::Articulated4(_) | ArmType::Articulated5(_)) => {
+                self.pose.first().copied().unwrap_or(0.0)
+            }
+            _ => match self.tool_point() {
+                Some(point) if point.x.hypot(point.y) > 1e-9 => point.y.atan2(point.x),
+                _ => 0.0,
+            },
+        }
+    }
+
+    /// Whether there are unsaved changes.
+    pub fn is_dirty(&self) -> bool {
+        self.dirty
+    }
+
+    /// Adds a status message.
+    pub fn say(&mut self, level: Level, text: impl Into<String>) {
+        self.messages.push(Message {
+            level,
+            text: text.into(),
+        });
+        if self.messages.len() > MESSAGES_KEPT {
+            let extra = self.messages.len() - MESSAGES_KEPT;
+            self.messages.drain(..extra);
+        }
+    }
+
+    /// Whether an undo step is available.
+    pub fn can_undo(&self) -> bool {
+        self.history.can_undo()
+    }
+
+    /// Whether a redo step is available.
+    pub fn can_redo(&self) -> bool {
+        self.history.can_redo()
+    }
+
+    /// Records that `saved` (the scene as it was when the save started) is now in `path`.
+    pub(crate) fn mark_saved(&mut self, path: PathBuf, saved: crate::scene::Scene) {
+        self.dirty = self.scene != saved;
+        self.saved_scene = Some(saved);
+        self.file_path = Some(path);
+    }
+
+    /// Recomputes the dirty mark after an edit.
+    pub(crate) fn scene_changed(&mut self) {
+        self.dirty = self.saved_scene.as_ref() != Some(&self.scene);
+        if let Some(selected) = self.selected_waypoint
+            && selected >= self.scene.waypoints.len()
+        {
+            self.selected_waypoint = self.scene.waypoints.len().checked_sub(1);
+        }
+    }
+
+    /// Marks the scene as not in any file as it is (a recovered copy): unsaved until saved.
+    pub(crate) fn mark_unsaved(&mut self) {
+        self.saved_scene = None;
+        self.dirty = true;
+    }
+
+    /// Rebuilds the arm model from the scene's arm.
+    pub(crate) fn rebuild_arm(&mut self) {
+        match build_arm(&self.scene.arm) {
+            Ok(arm) => self.arm = Some(arm),
+            Err(problem) => {
+                self.arm = None;
+                self.say(Level::Error, format!("the arm cannot be built: {problem}"));
+            }
+        }
+    }
+
+    /// Recomputes what depends on the pose: torque use and the held tool angle.
+    pub(crate) fn pose_changed(&mut self) {
+        let Some(arm) = self.arm.as_ref() else {
+            self.torque_use.clear();
+            return;
+        };
+        let derating = self.scene.timing.torque_derating_pct / 100.0;
+        self.torque_use = gravity_torques(arm, &self.pose, arm.payload_mass())
+            .map(|efforts| torque_use(arm, &efforts, derating).as_slice().to_vec())
+            .unwrap_or_default();
+        if let Ok(target) = IkTarget::of_pose(arm, &self.pose)
+            && let Some(angle) = target.angle
+        {
+            self.tool_angle = angle;
+        }
+    }
+
+    /// Clamps a position (rad or m) into the joint's limits.
+    pub(crate) fn clamp_to_limits(&self, joint: usize, position: f64) -> f64 {
+        match self.arm.as_ref().and_then(|arm| arm.joints().get(joint)) {
+            Some(spec) if spec.min <= spec.max => position.clamp(spec.min, spec.max),
+            _ => position,
+        }
+    }
+
+    /// The joint's kind in the arm model (revolute when unknown).
+    pub(crate) fn joint_kind(&self, joint: usize) -> JointKind {
+        if self.is_prismatic(joint) {
+            JointKind::Prismatic
+        } else {
+            JointKind::Revolute
+        }
+    }
+
+    /// Index of the joint using the most of its rating, and that share, when any is above 1.0.
+    pub fn worst_torque_overload(&self) -> Option<(usize, f64)> {
+        self.torque_use
+            .iter()
+            .copied()
+            .enumerate()
+            .filter(|(_, share)| *share > 1.0)
+            .max_by(|a, b| a.1.total_cmp(&b.1))
+    }
+
+    /// A joint's name for messages: `joint 2 "elbow"`.
+    pub fn joint_label(&self, joint: usize) -> String {
+        match self.scene.arm.joints.get(joint) {
+            Some(doc) => format!("joint {} \"{}\"", joint + 1, doc.name),
+            None => format!("joint {}", joint + 1),
+        }
+    }
+
+    /// What keeps the tool point where the user wants it, in words, worst first: out of reach,
+    /// at a joint limit (which joint), another branch needed, over torque (which joint, how
+    /// much). Empty when all is well.
+    pub fn reach_problems(&self) -> Vec<String> {
+        let mut problems = Vec::new();
+        match &self.reach {
+            ReachStatus::Idle | ReachStatus::Reached => {}
+            ReachStatus::OutOfReach { short_by_mm } => {
+                problems.push(format!("OUT OF REACH by {short_by_mm:.1} mm"));
+            }
+            ReachStatus::AtJointLimit {
+                joint,
+                needed,
+                past_by,
+            } => {
+                let unit = if self.is_prismatic(*joint) {
+                    "mm"
+                } else {
+                    "°"
+                };
+                problems.push(format!(
+                    "AT JOINT LIMIT: {} would need {needed:.1}{unit}, {past_by:.1}{unit} past its limit",
+                    self.joint_label(*joint)
+                ));
+            }
+            ReachStatus::OtherBranchOnly => problems.push(
+                "only another branch reaches there: the arm stays; pick a branch to switch".into(),
+            ),
+            ReachStatus::NotSolved { reason } => problems.push(format!("NOT SOLVED: {reason}")),
+        }
+        for (joint, share) in self.torque_use.iter().enumerate() {
+            if *share > 1.0 {
+                problems.push(format!(
+                    "OVER TORQUE: {} at {:.0} % of rated",
+                    self.joint_label(joint),
+                    share * 100.0
+                ));
+            }
+        }
+        problems
+    }
+}

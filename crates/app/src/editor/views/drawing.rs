@@ -1,0 +1,384 @@
+//! Drawing to scale on any plane: grid, scale bar, workspace objects, the stored waypoints, the
+//! arm's links and joints and the tool point.
+//!
+//! Colours come from the Okabe–Ito palette, which stays distinguishable for the common kinds of
+//! colour blindness (common practice in scientific figures).
+
+use armwright_kinematics::{ToolAngles, forward};
+use egui::{Align2, Color32, FontId, Painter, Pos2, Rect, Shape, Stroke, StrokeKind, pos2, vec2};
+use nalgebra::Vector3;
+
+use super::Plane;
+use super::ViewKind;
+use super::projection::{Projection, nice_length_mm};
+use crate::editor::state::EditorState;
+use crate::scene::pose_from_file_units;
+
+/// View background.
+pub const BACKGROUND: Color32 = Color32::from_rgb(24, 27, 31);
+/// Minor grid lines.
+const GRID_MINOR: Color32 = Color32::from_rgb(36, 40, 46);
+/// Major grid lines.
+const GRID_MAJOR: Color32 = Color32::from_rgb(52, 58, 66);
+/// Base axes.
+const AXES: Color32 = Color32::from_rgb(90, 98, 110);
+/// Links (Okabe–Ito sky blue).
+const LINK: Color32 = Color32::from_rgb(86, 180, 233);
+/// Joints (Okabe–Ito orange).
+const JOINT: Color32 = Color32::from_rgb(230, 159, 0);
+/// Tool point (Okabe–Ito yellow).
+const TOOL: Color32 = Color32::from_rgb(240, 228, 66);
+/// Warnings (Okabe–Ito vermillion).
+pub const WARNING: Color32 = Color32::from_rgb(213, 94, 0);
+/// Boxes (Okabe–Ito bluish green).
+const BOX: Color32 = Color32::from_rgb(0, 158, 115);
+/// Trays (Okabe–Ito reddish purple).
+const TRAY: Color32 = Color32::from_rgb(204, 121, 167);
+/// The table plane.
+const TABLE: Color32 = Color32::from_rgb(58, 50, 40);
+/// Stored waypoints.
+const WAYPOINT: Color32 = Color32::from_rgb(170, 170, 180);
+/// Text on the view.
+const LABEL: Color32 = Color32::from_rgb(200, 204, 210);
+
+/// Screen points between minor grid lines, at least.
+const GRID_MIN_SPACING: f64 = 14.0;
+
+/// Background, minor and major grid, base axes.
+pub fn grid(painter: &Painter, projection: &Projection) {
+    painter.rect_filled(projection.rect, 0.0, BACKGROUND);
+    let step = nice_length_mm(GRID_MIN_SPACING / projection.points_per_mm);
+    let major = step * 5.0;
+    let (x_range, y_range) = projection.visible_mm();
+    let rect = projection.rect;
+    let mut shapes = Vec::new();
+    let mut value = (x_range[0] / step).floor() * step;
+    while value <= x_range[1] {
+        let x = projection.to_screen([value, 0.0]).x;
+        shapes.push(Shape::line_segment(
+            [pos2(x, rect.top()), pos2(x, rect.bottom())],
+            Stroke::new(1.0, grid_colour(value, major)),
+        ));
+        value += step;
+    }
+    let mut value = (y_range[0] / step).floor() * step;
+    while value <= y_range[1] {
+        let y = projection.to_screen([0.0, value]).y;
+        shapes.push(Shape::line_segment(
+            [pos2(rect.left(), y), pos2(rect.right(), y)],
+            Stroke::new(1.0, grid_colour(value, major)),
+        ));
+        value += step;
+    }
+    let origin = projection.to_screen([0.0, 0.0]);
+    shapes.push(Shape::line_segment(
+        [pos2(rect.left(), origin.y), pos2(rect.right(), origin.y)],
+        Stroke::new(1.0, AXES),
+    ));
+    shapes.push(Shape::line_segment(
+        [pos2(origin.x, rect.top()), pos2(origin.x, rect.bottom())],
+        Stroke::new(1.0, AXES),
+    ));
+    painter.extend(shapes);
+}
+
+fn grid_colour(value: f64, major: f64) -> Color32 {
+    let remainder = (value / major).round() * major - value;
+    if remainder.abs() < major * 1e-6 {
+        GRID_MAJOR
+    } else {
+        GRID_MINOR
+    }
+}
+
+/// A scale bar of a round length in the bottom-left corner, with the grid step beside it.
+pub fn scale_bar(painter: &Painter, projection: &Projection) {
+    let length_mm = nice_length_mm(90.0 / projection.points_per_mm);
+    let length = (length_mm * projection.points_per_mm) as f32;
+    let start = projection.rect.left_bottom() + vec2(16.0, -18.0);
+    let end = start + vec2(length, 0.0);
+    let stroke = Stroke::new(2.0, LABEL);
+    painter.rect_filled(
+        Rect::from_min_max(start + vec2(-8.0, -24.0), end + vec2(8.0, 10.0)),
+        3.0,
+        BACKGROUND.gamma_multiply(0.85),
+    );
+    painter.line_segment([start, end], stroke);
+    painter.line_segment([start + vec2(0.0, -5.0), start + vec2(0.0, 5.0)], stroke);
+    painter.line_segment([end + vec2(0.0, -5.0), end + vec2(0.0, 5.0)], stroke);
+    let grid_mm = nice_length_mm(GRID_MIN_SPACING / projection.points_per_mm);
+    painter.text(
+        start + vec2(length / 2.0, -6.0),
+        Align2::CENTER_BOTTOM,
+        format!(
+            "{} mm  (grid {} mm)",
+            format_mm(length_mm),
+            format_mm(grid_mm)
+        ),
+        FontId::proportional(12.0),
+        LABEL,
+    );
+}
+
+fn format_mm(value: f64) -> String {
+    if value >= 1.0 {
+        format!("{value:.0}")
+    } else {
+        format!("{value}")
+    }
+}
+
+/// The table plane, boxes and trays.
+pub fn workspace(
+    painter: &Painter,
+    projection: &Projection,
+    plane: &dyn Plane,
+    kind: ViewKind,
+    state: &EditorState,
+) {
+    let workspace = &state.scene.workspace;
+    let rect = projection.rect;
+    if let Some(height_mm) = workspace.table_height_mm {
+        match kind {
+            ViewKind::Top => {
+                painter.text(
+                    rect.right_bottom() + vec2(-10.0, -8.0),
+                    Align2::RIGHT_BOTTOM,
+                    format!("table at {height_mm:.0} mm"),
+                    FontId::proportional(12.0),
+                    TABLE.gamma_multiply(2.5),
+                );
+            }
+            ViewKind::Side => {
+                let y = projection.to_screen([0.0, height_mm]).y;
+                if y < rect.bottom() {
+                    let table = Rect::from_min_max(
+                        pos2(rect.left(), y.max(rect.top())),
+                        rect.right_bottom(),
+                    );
+                    painter.rect_filled(table, 0.0, TABLE.gamma_multiply(0.6));
+                    painter.line_segment(
+                        [pos2(rect.left(), y), pos2(rect.right(), y)],
+                        Stroke::new(2.0, TABLE.gamma_multiply(2.0)),
+                    );
+                }
+            }
+        }
+    }
+    for object in &workspace.boxes {
+        block(
+            painter,
+            projection,
+            plane,
+            kind,
+            object.position_mm,
+            object.size_mm,
+            &object.name,
+            BOX,
+        );
+    }
+    for tray in &workspace.trays {
+        let outline = block(
+            painter,
+            projection,
+            plane,
+            kind,
+            tray.position_mm,
+            tray.size_mm,
+            &tray.name,
+            TRAY,
+        );
+        if kind == ViewKind::Top {
+            let stroke = Stroke::new(1.0, TRAY.gamma_multiply(0.6));
+            for i in 1..tray.pockets[0] {
+                let x = outline.left() + outline.width() * i as f32 / tray.pockets[0] as f32;
+                painter.line_segment([pos2(x, outline.top()), pos2(x, outline.bottom())], stroke);
+            }
+            for j in 1..tray.pockets[1] {
+                let y = outline.top() + outline.height() * j as f32 / tray.pockets[1] as f32;
+                painter.line_segment([pos2(outline.left(), y), pos2(outline.right(), y)], stroke);
+            }
+        }
+    }
+}
+
+/// An axis-aligned block standing on `bottom_centre_mm`, drawn as its outline on the plane.
+#[expect(
+    clippy::too_many_arguments,
+    reason = "a drawing helper with its colour and label"
+)]
+fn block(
+    painter: &Painter,
+    projection: &Projection,
+    plane: &dyn Plane,
+    kind: ViewKind,
+    bottom_centre_mm: [f64; 3],
+    size_mm: [f64; 3],
+    name: &str,
+    colour: Color32,
+) -> Rect {
+    let [cx, cy, cz] = bottom_centre_mm;
+    let [sx, sy, sz] = size_mm;
+    let outline = match kind {
+        ViewKind::Top => projection.rect_of(
+            [cx - sx / 2.0, cx + sx / 2.0],
+            [cy - sy / 2.0, cy + sy / 2.0],
+        ),
+        ViewKind::Side => {
+            let mut low = f64::INFINITY;
+            let mut high = f64::NEG_INFINITY;
+            for dx in [-0.5, 0.5] {
+                for dy in [-0.5, 0.5] {
+                    let corner = Vector3::new(cx + dx * sx, cy + dy * sy, cz) * 1e-3;
+                    let along = plane.project(&corner)[0];
+                    low = low.min(along);
+                    high = high.max(along);
+                }
+            }
+            projection.rect_of([low, high], [cz, cz + sz])
+        }
+    };
+    painter.rect_filled(outline, 2.0, colour.gamma_multiply(0.18));
+    painter.rect_stroke(outline, 2.0, Stroke::new(1.5, colour), StrokeKind::Middle);
+    painter.text(
+        outline.center_top() + vec2(0.0, -3.0),
+        Align2::CENTER_BOTTOM,
+        name,
+        FontId::proportional(11.0),
+        colour,
+    );
+    outline
+}
+
+/// The tool points of the stored waypoints, joined in order, the selected one ringed.
+pub fn waypoints(
+    painter: &Painter,
+    projection: &Projection,
+    plane: &dyn Plane,
+    state: &EditorState,
+) {
+    let Some(arm) = state.arm() else {
+        return;
+    };
+    let count = state.joint_count();
+    let mut points = Vec::with_capacity(state.scene.waypoints.len());
+    for (index, waypoint) in state.scene.waypoints.iter().enumerate() {
+        if waypoint.joints_deg_or_mm.len() != count {
+            continue;
+        }
+        let pose = pose_from_file_units(&state.scene.arm, &waypoint.joints_deg_or_mm);
+        let Ok(chain) = forward(arm, &pose) else {
+            continue;
+        };
+        let screen = projection.to_screen(plane.project(&chain.tool().translation.vector));
+        points.push(screen);
+        if state.selected_waypoint == Some(index) {
+            painter.circle_stroke(screen, 7.0, Stroke::new(2.0, WAYPOINT));
+            painter.text(
+                screen + vec2(9.0, -9.0),
+                Align2::LEFT_BOTTOM,
+                &waypoint.name,
+                FontId::proportional(12.0),
+                WAYPOINT,
+            );
+        }
+    }
+    if points.len() > 1 {
+        painter.add(Shape::dashed_line(
+            &points,
+            Stroke::new(1.0, WAYPOINT.gamma_multiply(0.7)),
+            6.0,
+            4.0,
+        ));
+    }
+    for point in points {
+        painter.circle_filled(point, 3.0, WAYPOINT);
+    }
+}
+
+/// The arm's links and joints at the current pose and the tool point; returns the tool point's
+/// screen position.
+pub fn arm(
+    painter: &Painter,
+    projection: &Projection,
+    plane: &dyn Plane,
+    state: &EditorState,
+    grabbed: bool,
+) -> Option<Pos2> {
+    let arm = state.arm()?;
+    let chain = forward(arm, &state.pose).ok()?;
+    let mut points = vec![projection.to_screen(plane.project(&Vector3::zeros()))];
+    points.extend(
+        chain
+            .frames()
+            .iter()
+            .map(|frame| projection.to_screen(plane.project(&frame.translation.vector))),
+    );
+    let tool_point = chain.tool().translation.vector;
+    let tool = projection.to_screen(plane.project(&tool_point));
+    points.push(tool);
+    // The base as a small plinth.
+    painter.rect_filled(
+        Rect::from_center_size(points[0], vec2(22.0, 22.0)),
+        4.0,
+        AXES.gamma_multiply(0.8),
+    );
+    painter.add(Shape::line(
+        points.clone(),
+        Stroke::new(7.0, LINK.gamma_multiply(0.5)),
+    ));
+    painter.add(Shape::line(points.clone(), Stroke::new(3.0, LINK)));
+    for joint in &points[1..points.len() - 1] {
+        painter.circle(*joint, 5.5, BACKGROUND, Stroke::new(2.5, JOINT));
+    }
+    // The tool's approach direction.
+    let ahead = tool_point + ToolAngles::approach(chain.tool()).into_inner() * 0.03;
+    let ahead = projection.to_screen(plane.project(&ahead));
+    if ahead.distance(tool) > 3.0 {
+        painter.arrow(
+            tool,
+            (ahead - tool).normalized() * 26.0,
+            Stroke::new(1.5, TOOL),
+        );
+    }
+    let ring = if state_has_problem(state) {
+        WARNING
+    } else {
+        TOOL
+    };
+    painter.circle(
+        tool,
+        if grabbed { 9.0 } else { 7.5 },
+        TOOL.gamma_multiply(0.9),
+        Stroke::new(2.5, ring),
+    );
+    painter.circle_stroke(tool, 13.0, Stroke::new(1.0, ring.gamma_multiply(0.6)));
+    Some(tool)
+}
+
+fn state_has_problem(state: &EditorState) -> bool {
+    !matches!(
+        state.reach,
+        crate::editor::state::ReachStatus::Idle | crate::editor::state::ReachStatus::Reached
+    ) || state.worst_torque_overload().is_some()
+}
+
+/// The view's title in the top-left corner and its problems in the top-right.
+pub fn captions(painter: &Painter, rect: Rect, title: &str, problems: &[String]) {
+    painter.text(
+        rect.left_top() + vec2(10.0, 8.0),
+        Align2::LEFT_TOP,
+        title,
+        FontId::proportional(14.0),
+        LABEL,
+    );
+    for (line, text) in problems.iter().enumerate() {
+        painter.text(
+            rect.right_top() + vec2(-10.0, 8.0 + 18.0 * line as f32),
+            Align2::RIGHT_TOP,
+            text,
+            FontId::proportional(14.0),
+            WARNING,
+        );
+    }
+}

@@ -1,0 +1,159 @@
+//! One view on screen: pointer input (zoom, pan, dragging the tool point, tool angle by wheel)
+//! and the drawing, returning what the user asked for as a [`Command`].
+
+use egui::{PointerButton, Pos2, Sense, Ui, Vec2};
+
+use super::drawing;
+use super::projection::{Projection, fit};
+use super::{Plane, SidePlane, TopPlane, ViewKind};
+use crate::editor::command::Command;
+use crate::editor::state::EditorState;
+
+/// Screen distance within which a press grabs the tool point, in points.
+const GRAB_RADIUS: f32 = 16.0;
+
+/// Tool-angle change per point of wheel scroll over the tool point, in rad (0.1°).
+const ANGLE_PER_SCROLL: f64 = 0.1 * std::f64::consts::PI / 180.0;
+
+/// Zoom factor per point of wheel scroll: 120 points (one notch on many mice) zoom by about 27 %.
+const ZOOM_PER_SCROLL: f64 = 0.002;
+
+/// A view's zoom, pan and drag state, kept between frames.
+#[derive(Debug, Clone, Default)]
+pub struct Camera {
+    projection: Option<Projection>,
+    /// The tool point is being dragged; offset from the pointer to the tool point, in points.
+    grab: Option<Vec2>,
+    /// Where the tool point was drawn last frame.
+    tool_on_screen: Option<Pos2>,
+}
+
+impl Camera {
+    /// Where the tool point was drawn in the last frame, in screen points.
+    pub fn tool_on_screen(&self) -> Option<Pos2> {
+        self.tool_on_screen
+    }
+
+    /// The mapping used in the last frame.
+    pub fn projection(&self) -> Option<&Projection> {
+        self.projection.as_ref()
+    }
+}
+
+/// Shows one view filling the space `ui` has left.
+pub fn show_view(ui: &mut Ui, state: &EditorState, kind: ViewKind, camera: &mut Camera) -> Command {
+    let (response, painter) = ui.allocate_painter(ui.available_size(), Sense::click_and_drag());
+    let response = response.accessible_name(match kind {
+        ViewKind::Top => "top view",
+        ViewKind::Side => "side view",
+    });
+    let rect = response.rect;
+    let yaw = state.side_view_yaw();
+    let plane: &dyn Plane = match kind {
+        ViewKind::Top => &TopPlane,
+        ViewKind::Side => &SidePlane { yaw },
+    };
+    let mut projection = camera
+        .projection
+        .unwrap_or_else(|| fit(rect, default_extent(state, kind)));
+    if projection.rect.size() != rect.size() && camera.projection.is_some() {
+        // Keep the scale and centre when the window resizes.
+        projection.rect = rect;
+    }
+    projection.rect = rect;
+
+    let mut command = Command::None;
+    let tool_point = state.tool_point();
+    let near_tool = |pos: Pos2| {
+        camera
+            .tool_on_screen
+            .is_some_and(|tool| tool.distance(pos) <= GRAB_RADIUS)
+    };
+    if response.drag_started_by(PointerButton::Primary)
+        && let Some(origin) = ui.input(|input| input.pointer.press_origin())
+        && near_tool(origin)
+        && let Some(tool) = camera.tool_on_screen
+    {
+        camera.grab = Some(tool - origin);
+    }
+    if let Some(offset) = camera.grab {
+        if response.dragged_by(PointerButton::Primary)
+            && let (Some(pointer), Some(tool_point)) = (response.interact_pointer_pos(), tool_point)
+        {
+            let at = projection.to_plane(pointer + offset);
+            let target = plane.target(at, &tool_point);
+            command = Command::DragToolPoint {
+                target: [target.x, target.y, target.z],
+            };
+        }
+        if !response.dragged() {
+            camera.grab = None;
+        }
+    }
+    if response.dragged_by(PointerButton::Secondary) || response.dragged_by(PointerButton::Middle) {
+        projection.pan_by(response.drag_delta());
+    }
+    if let Some(pointer) = response.hover_pos() {
+        let (scroll, zoom) = ui.input(|input| (input.smooth_scroll_delta().y, input.zoom_delta()));
+        if scroll != 0.0 {
+            if camera.grab.is_some() || near_tool(pointer) {
+                command = command.then(Command::SetToolAngle(
+                    state.tool_angle + f64::from(scroll) * ANGLE_PER_SCROLL,
+                ));
+            } else {
+                projection.zoom_about(pointer, (f64::from(scroll) * ZOOM_PER_SCROLL).exp());
+            }
+        }
+        if zoom != 1.0 {
+            projection.zoom_about(pointer, f64::from(zoom));
+        }
+    }
+
+    let clipped = painter.with_clip_rect(rect);
+    drawing::grid(&clipped, &projection);
+    drawing::workspace(&clipped, &projection, plane, kind, state);
+    drawing::waypoints(&clipped, &projection, plane, state);
+    camera.tool_on_screen =
+        drawing::arm(&clipped, &projection, plane, state, camera.grab.is_some());
+    drawing::scale_bar(&clipped, &projection);
+    let title = match kind {
+        ViewKind::Top => "Top view (X right, Y up)".to_string(),
+        ViewKind::Side => format!("Side view at base yaw {:.1}°", yaw.to_degrees()),
+    };
+    drawing::captions(&clipped, rect, &title, &state.reach_problems());
+    camera.projection = Some(projection);
+    command
+}
+
+/// The plane extent (mm: left, right, bottom, top) a view first shows: the arm's reach around
+/// the base.
+fn default_extent(state: &EditorState, kind: ViewKind) -> [f64; 4] {
+    let reach = reach_estimate_mm(state).max(100.0);
+    match kind {
+        ViewKind::Top => [-reach * 1.05, reach * 1.05, -reach * 1.05, reach * 1.05],
+        ViewKind::Side => [-reach * 0.45, reach * 1.1, -reach * 0.25, reach * 1.1],
+    }
+}
+
+/// Sum of the straight distances base → joints → tool point at the home pose, in mm: a bound
+/// on how far the arm reaches, good enough to frame the views.
+fn reach_estimate_mm(state: &EditorState) -> f64 {
+    let Some(arm) = state.arm() else {
+        return 300.0;
+    };
+    let Ok(chain) = armwright_kinematics::forward(arm, &arm.home_pose()) else {
+        return 300.0;
+    };
+    let mut previous = nalgebra::Vector3::zeros();
+    let mut total = 0.0;
+    for point in chain
+        .frames()
+        .iter()
+        .map(|frame| frame.translation.vector)
+        .chain(std::iter::once(chain.tool().translation.vector))
+    {
+        total += (point - previous).norm();
+        previous = point;
+    }
+    total * 1e3
+}

@@ -1,0 +1,132 @@
+//! The emergency stop: by button and by key, with a text field focused and with a dialog open;
+//! the request leaves the editor in the frame of the press; the latch needs a confirmed reset.
+
+mod editor_common;
+
+use armwright::editor::{Dialog, EMERGENCY_STOP_LABEL, STOP_KEY, StopSource, StopState};
+use egui::{Event, Modifiers, PointerButton};
+use egui_kittest::Harness;
+use egui_kittest::kittest::Queryable;
+
+use editor_common::sample_editor;
+
+type EditorHarness = Harness<'static, armwright::editor::Editor>;
+
+/// Presses the stop key as one event and runs exactly one frame; returns that frame's number.
+fn press_stop_key(harness: &mut EditorHarness) -> u64 {
+    harness.event(Event::Key {
+        key: STOP_KEY,
+        physical_key: None,
+        pressed: true,
+        repeat: false,
+        modifiers: Modifiers::NONE,
+    });
+    let frame = harness.ctx.cumulative_frame_nr();
+    harness.step();
+    frame
+}
+
+/// Presses the stop button (pointer already over it) and runs exactly one frame; returns that
+/// frame's number.
+fn press_stop_button(harness: &mut EditorHarness) -> u64 {
+    let centre = harness
+        .get_by_label_contains(EMERGENCY_STOP_LABEL)
+        .rect()
+        .center();
+    harness.hover_at(centre);
+    harness.step();
+    harness.event(Event::PointerButton {
+        pos: centre,
+        button: PointerButton::Primary,
+        pressed: true,
+        modifiers: Modifiers::NONE,
+    });
+    let frame = harness.ctx.cumulative_frame_nr();
+    harness.step();
+    frame
+}
+
+#[test]
+fn button_press_sends_the_stop_in_the_same_frame() {
+    let (mut harness, requests, _dir) = sample_editor("estop-button");
+    assert!(requests.try_recv().is_err());
+    let frame = press_stop_button(&mut harness);
+    let request = requests
+        .try_recv()
+        .expect("stop sent in the frame of the press");
+    assert_eq!(request.frame, frame);
+    assert_eq!(request.source, StopSource::Button);
+    assert!(matches!(
+        harness.state().state.stop,
+        StopState::Latched { .. }
+    ));
+}
+
+#[test]
+fn key_sends_the_stop_with_a_text_field_focused() {
+    let (mut harness, requests, _dir) = sample_editor("estop-key-text");
+    harness.get_by_label("name of waypoint 4").focus();
+    harness.run_steps(2);
+    assert!(
+        harness.ctx.egui_wants_keyboard_input(),
+        "a text field has focus"
+    );
+    let frame = press_stop_key(&mut harness);
+    let request = requests
+        .try_recv()
+        .expect("stop sent in the frame of the key");
+    assert_eq!(request.frame, frame);
+    assert_eq!(request.source, StopSource::Key);
+    // The key typed nothing into the waypoint's name.
+    assert_eq!(harness.state().state.scene.waypoints[3].name, "corner B");
+}
+
+#[test]
+fn key_and_button_work_with_a_dialog_open() {
+    let (mut harness, requests, _dir) = sample_editor("estop-dialog");
+    harness.get_by_label("Open…").click();
+    harness.run_steps(3);
+    assert!(matches!(
+        harness.state().state.dialog,
+        Some(Dialog::Open { .. })
+    ));
+    // Type into the dialog's path field so it holds keyboard focus.
+    harness.get_by_label("scene path").focus();
+    harness.run_steps(2);
+    let frame = press_stop_key(&mut harness);
+    assert_eq!(requests.try_recv().map(|r| r.frame), Ok(frame));
+    let frame = press_stop_button(&mut harness);
+    assert_eq!(
+        requests.try_recv().map(|r| (r.frame, r.source)),
+        Ok((frame, StopSource::Button))
+    );
+    // The dialog is still there: the stop did not need it out of the way.
+    assert!(matches!(
+        harness.state().state.dialog,
+        Some(Dialog::Open { .. })
+    ));
+}
+
+#[test]
+fn the_latch_holds_until_a_confirmed_reset() {
+    let (mut harness, requests, _dir) = sample_editor("estop-reset");
+    press_stop_key(&mut harness);
+    assert!(requests.try_recv().is_ok());
+    harness.run_steps(2);
+    assert!(harness.state().window_title().contains("STOPPED"));
+    harness.get_by_label("Reset stop…").click();
+    harness.run_steps(3);
+    assert_eq!(harness.state().state.dialog, Some(Dialog::ConfirmStopReset));
+    // Declining keeps the latch.
+    harness.get_by_label("Keep stopped").click();
+    harness.run_steps(3);
+    assert!(matches!(
+        harness.state().state.stop,
+        StopState::Latched { .. }
+    ));
+    harness.get_by_label("Reset stop…").click();
+    harness.run_steps(3);
+    harness.get_by_label("Reset stop").click();
+    harness.run_steps(3);
+    assert_eq!(harness.state().state.stop, StopState::Clear);
+}
