@@ -6,7 +6,7 @@
 //! acceleration is zero there, so it is continuous too) and no limit is exceeded. A joint that
 //! turns around at a pass-through, or does not move on one side of it, passes it at rest.
 
-use crate::profile::{JointLimits, JointMove, JointState, ProfileError, ProfileShape};
+use crate::profile::{JointLimits, JointMove, JointState, Profile, ProfileError, ProfileShape};
 use crate::sync::{SyncError, SyncedMove, synchronise};
 
 /// What the arm does at a waypoint.
@@ -133,8 +133,9 @@ const REFINEMENTS: usize = 3;
 /// (rad/s, rad/s², rad/s³; scaled by each move's speed share).
 ///
 /// Pass-through velocities start from the slower of the two neighbouring moves' average
-/// velocities (as if each were planned rest to rest); where a move cannot be made with them
-/// the velocities at its ends are halved, and after repeated halving set to zero. The
+/// velocities (as if each were planned rest to rest); where a move cannot be made with them,
+/// or a joint would back up past a waypoint to make it, the velocities at its ends are
+/// halved, and after repeated halving set to zero. The
 /// velocities are then refined twice from the durations of the plan before, and the quickest
 /// of the three plans is kept.
 ///
@@ -281,42 +282,51 @@ fn plan_moves(
                 continue;
             }
             let moves = joint_moves(waypoints, index, &velocities[index], &velocities[index + 1]);
-            match synchronise(shape, &moves, &move_limits[index]) {
-                Ok(synced) => planned[index] = Some(synced),
+            let setback = match synchronise(shape, &moves, &move_limits[index]) {
+                // A joint backing up would overshoot its waypoint: slow the ends instead.
+                Ok(synced) if !synced.profiles().iter().any(Profile::reverses) => {
+                    planned[index] = Some(synced);
+                    continue;
+                }
+                Ok(synced) => Setback::BacksUp(Box::new(synced)),
                 Err(
                     error @ SyncError::Joint {
-                        source:
-                            ProfileError::TooShort { .. } | ProfileError::StretchUnreachable { .. },
+                        source: ProfileError::StretchUnreachable { .. },
                         ..
                     },
-                ) => {
-                    let mut modified = false;
-                    for end in [index, index + 1] {
-                        if velocities[end].iter().all(|v| *v == 0.0) {
-                            continue;
-                        }
-                        modified = true;
-                        halvings[end] += 1;
-                        let factor = if halvings[end] >= HALVINGS { 0.0 } else { 0.5 };
-                        velocities[end].iter_mut().for_each(|v| *v *= factor);
-                        // Both moves touching this waypoint must be planned again.
-                        if end > 0 {
-                            planned[end - 1] = None;
-                        }
-                        if end < move_count {
-                            planned[end] = None;
-                        }
-                    }
-                    if !modified {
-                        // Rest to rest always works; report rather than loop.
-                        return Err(SequenceError::Move {
-                            waypoint: index + 1,
-                            source: error,
-                        });
-                    }
-                    changed = true;
-                }
+                ) => Setback::Unreachable(error),
                 Err(source) => {
+                    return Err(SequenceError::Move {
+                        waypoint: index + 1,
+                        source,
+                    });
+                }
+            };
+            let mut modified = false;
+            for end in [index, index + 1] {
+                if velocities[end].iter().all(|v| *v == 0.0) {
+                    continue;
+                }
+                modified = true;
+                halvings[end] += 1;
+                let factor = if halvings[end] >= HALVINGS { 0.0 } else { 0.5 };
+                velocities[end].iter_mut().for_each(|v| *v *= factor);
+                // Both moves touching this waypoint must be planned again.
+                if end > 0 {
+                    planned[end - 1] = None;
+                }
+                if end < move_count {
+                    planned[end] = None;
+                }
+            }
+            if modified {
+                changed = true;
+                continue;
+            }
+            // Rest to rest never backs up and always stretches; keep or report rather than loop.
+            match setback {
+                Setback::BacksUp(synced) => planned[index] = Some(*synced),
+                Setback::Unreachable(source) => {
                     return Err(SequenceError::Move {
                         waypoint: index + 1,
                         source,
@@ -330,6 +340,14 @@ fn plan_moves(
     }
     // Every move is planned once nothing changes.
     Ok(planned.into_iter().flatten().collect())
+}
+
+/// Why a move has to be planned again with slower ends.
+enum Setback {
+    /// A joint would back up past its waypoint.
+    BacksUp(Box<SyncedMove>),
+    /// A joint cannot take as long as the slowest.
+    Unreachable(SyncError),
 }
 
 /// Checks counts, shares and dwells.

@@ -65,6 +65,9 @@ fn check_plan(
             }
             for profile in segment.motion.profiles() {
                 check_sampled(profile)?;
+                if profile.reverses() {
+                    return Err(format!("a joint backs up past waypoint {to_waypoint}"));
+                }
             }
         }
     }

@@ -11,7 +11,10 @@
 //! acceleration limit reached or not in either change — falls out of the same root.
 
 use super::limits::{JointLimits, ProfileError};
-use super::{ThreePart, VelocityChange, changes_through, solve_bracketed, stretch_peak};
+use super::{
+    ThreePart, VelocityChange, changes_through, covered_with_slope, reversing_peak,
+    solve_bracketed, stretch_peak,
+};
 
 /// The time-optimal parts for displacement `distance` (rad, ≥ 0) from velocity `start` to
 /// `end` (rad/s, in the direction of motion), limits already checked.
@@ -26,14 +29,24 @@ pub(super) fn fastest(
         return Ok(rest_to_rest(distance, vmax, amax, jmax));
     }
     // Feasibility (Biagiotti & Melchiorri 2008, ch. 3): the direct change from one boundary
-    // velocity to the other must fit in the move.
+    // velocity to the other must fit in the move. When it does not, the book has no profile;
+    // here the joint backs up instead (peak velocity below zero, no cruise), so that the
+    // velocity changes alone cover exactly the move.
     let lowest_peak = start.max(end);
     let (direct, _, _) = changes_through(start, lowest_peak, end, amax, jmax);
-    // A NaN (from overflowing squares) fails too.
-    if direct.is_nan() || direct > distance * (1.0 + 1e-12) + 1e-15 {
-        return Err(ProfileError::TooShort {
-            distance,
-            needed: direct,
+    if direct.is_nan() {
+        return Err(ProfileError::OutOfRange);
+    }
+    if direct > distance * (1.0 + 1e-12) + 1e-15 {
+        let peak = reversing_peak(distance, start, end, start.min(end), (vmax, amax, jmax));
+        let (_, first, last) = changes_through(start, peak, end, amax, jmax);
+        return Ok(ThreePart {
+            start_velocity: start,
+            peak_velocity: peak,
+            end_velocity: end,
+            first,
+            cruise: 0.0,
+            last,
         });
     }
     let (covered, first, last) = changes_through(start, vmax, end, amax, jmax);
@@ -51,7 +64,8 @@ pub(super) fn fastest(
         lowest_peak
     } else {
         solve_bracketed(lowest_peak, vmax, 1e-14 * distance, |peak| {
-            covered_and_slope(distance, start, peak, end, amax, jmax)
+            let (covered, slope) = covered_with_slope(start, peak, end, amax, jmax);
+            (covered - distance, slope)
         })
     };
     let (_, first, last) = changes_through(start, peak, end, amax, jmax);
@@ -63,24 +77,6 @@ pub(super) fn fastest(
         cruise: 0.0,
         last,
     })
-}
-
-/// Covered distance minus `distance`, and its slope with respect to the peak.
-fn covered_and_slope(
-    distance: f64,
-    start: f64,
-    peak: f64,
-    end: f64,
-    amax: f64,
-    jmax: f64,
-) -> (f64, f64) {
-    let (covered, first, last) = changes_through(start, peak, end, amax, jmax);
-    let first_slope = VelocityChange::duration_slope(peak - start, amax, jmax);
-    let last_slope = VelocityChange::duration_slope(peak - end, amax, jmax);
-    let slope = 0.5 * (first.duration + last.duration)
-        + 0.5 * (start + peak) * first_slope
-        + 0.5 * (peak + end) * last_slope;
-    (covered - distance, slope)
 }
 
 /// Closed-form time-optimal rest-to-rest double-S (Biagiotti & Melchiorri 2008, ch. 3, with
@@ -145,7 +141,12 @@ pub(super) fn stretch(
     duration: f64,
     limits: &JointLimits,
 ) -> Result<ThreePart, ProfileError> {
-    stretch_peak(distance, parts, duration, limits.acceleration, limits.jerk)
+    stretch_peak(
+        distance,
+        parts,
+        duration,
+        (limits.velocity, limits.acceleration, limits.jerk),
+    )
 }
 
 #[cfg(test)]

@@ -133,17 +133,6 @@ pub enum ProfileError {
         /// The velocity limit, rad/s.
         limit: f64,
     },
-    /// The move is too short to change from the start to the end velocity within the limits
-    /// (the feasibility condition of Biagiotti & Melchiorri 2008, ch. 3). Distances in rad.
-    #[error(
-        "the move of {distance} rad is too short for its boundary velocities: at least {needed} rad is needed"
-    )]
-    TooShort {
-        /// Displacement of the move, rad (in the direction of motion).
-        distance: f64,
-        /// Shortest displacement that works, rad.
-        needed: f64,
-    },
     /// The move or its limits are so large or small that a time, distance or velocity of the
     /// profile would not be a finite number.
     #[error("the move and its limits are too extreme to plan: a time or distance would overflow")]

@@ -235,19 +235,59 @@ fn duration_through(
     (duration, slope, covered)
 }
 
+/// Distance covered by the two velocity changes through `peak` with no cruise, and its slope
+/// with respect to `peak` (rad per rad/s).
+pub(crate) fn covered_with_slope(
+    start: f64,
+    peak: f64,
+    end: f64,
+    acceleration: f64,
+    jerk: f64,
+) -> (f64, f64) {
+    let (covered, first, last) = changes_through(start, peak, end, acceleration, jerk);
+    let first_slope = (peak - start).signum()
+        * VelocityChange::duration_slope((peak - start).abs(), acceleration, jerk);
+    let last_slope = (peak - end).signum()
+        * VelocityChange::duration_slope((peak - end).abs(), acceleration, jerk);
+    let slope = 0.5 * (first.duration + last.duration)
+        + 0.5 * (start + peak) * first_slope
+        + 0.5 * (peak + end) * last_slope;
+    (covered, slope)
+}
+
+/// The peak velocity below zero (the joint backs up) at which the two velocity changes alone
+/// cover `distance`: the root of covered(peak) = distance on [−vmax, highest], where the
+/// covered distance is below `distance` at −vmax and above it at `highest`.
+pub(crate) fn reversing_peak(
+    distance: f64,
+    start: f64,
+    end: f64,
+    highest: f64,
+    limits: (f64, f64, f64),
+) -> f64 {
+    let (vmax, acceleration, jerk) = limits;
+    solve_bracketed(-vmax, highest, 1e-14 * distance.max(1e-12), |peak| {
+        let (covered, slope) = covered_with_slope(start, peak, end, acceleration, jerk);
+        (covered - distance, slope)
+    })
+}
+
 /// Lowers the peak velocity of `parts` (time-optimal, non-negative frame) until the profile
-/// takes `duration` s, keeping acceleration and jerk limits and the boundary velocities.
+/// takes `duration` s, keeping velocity, acceleration and jerk limits (`limits`: rad/s, rad/s²,
+/// rad/s³) and the boundary velocities.
 ///
 /// First along the usual shape (peak at or above both boundary velocities), where the duration
-/// falls as the peak rises; if that cannot take long enough, along peaks below a boundary
-/// velocity, found by a scan and then refined.
+/// falls as the peak rises; then along positive peaks below a boundary velocity, found by
+/// halving the peak; finally, when the velocity changes alone cover more than the move, along
+/// negative peaks (the joint backs up while it cruises), where the duration grows without
+/// bound as the peak rises towards zero.
 pub(crate) fn stretch_peak(
     distance: f64,
     parts: &ThreePart,
     duration: f64,
-    acceleration: f64,
-    jerk: f64,
+    limits: (f64, f64, f64),
 ) -> Result<ThreePart, ProfileError> {
+    let (_, acceleration, jerk) = limits;
     let start = parts.start_velocity;
     let end = parts.end_velocity;
     let fastest_peak = parts.peak_velocity;
@@ -256,66 +296,27 @@ pub(crate) fn stretch_peak(
     let unreachable = ProfileError::StretchUnreachable {
         requested: duration,
     };
-    let mut low = start.max(end).max(0.0);
-    if low <= 0.0 {
-        // Both boundary velocities are zero or negative: the duration grows without bound as
-        // the peak falls towards zero.
-        low = fastest_peak;
-        for _ in 0..2000 {
-            if timing(low).0 >= duration {
-                break;
-            }
-            low *= 0.5;
-        }
-    }
     let mut bracket = None;
-    if low > 0.0 && low <= fastest_peak && timing(low).0 >= duration {
-        bracket = Some((low, fastest_peak));
-    } else if low > 0.0 {
-        // Peaks below a boundary velocity: halve the peak until the profile takes long
-        // enough, keeping the last feasible peak above as the other end of the bracket. Where
-        // the feasible set has a gap between the two, scan it finely.
-        let feasible = |peak: f64| {
-            let (time, _, covered) = timing(peak);
-            (covered <= distance + tolerance && time.is_finite()).then_some(time)
-        };
-        let mut above = Some(low);
-        let mut peak = low;
-        for _ in 0..64 {
-            let upper = peak;
-            peak *= 0.5;
-            match feasible(peak) {
-                None => above = None,
-                Some(time) if time >= duration => {
-                    bracket = match above {
-                        Some(above) => Some((peak, above)),
-                        None => (1..16)
-                            .map(|k| upper - (upper - peak) * f64::from(k) / 16.0)
-                            .zip((0..15).map(|k| upper - (upper - peak) * f64::from(k) / 16.0))
-                            .find(|&(lower, higher)| {
-                                matches!(feasible(lower), Some(t) if t >= duration)
-                                    && matches!(feasible(higher), Some(t) if t < duration)
-                            }),
-                    };
-                    break;
-                }
-                Some(_) => above = Some(peak),
-            }
-        }
-        if bracket.is_none() {
-            // Last resort: an even scan from `low` down.
-            let mut above = Some(low);
-            for k in (1..64).rev() {
-                let peak = low * f64::from(k) / 64.0;
-                match feasible(peak) {
-                    None => above = None,
-                    Some(time) if time >= duration => {
-                        bracket = above.map(|above| (peak, above));
-                        if bracket.is_some() {
-                            break;
-                        }
+    if fastest_peak > 0.0 {
+        bracket = forward_bracket(distance, start, end, fastest_peak, duration, &timing);
+    }
+    if bracket.is_none() {
+        // Backing up: only when the changes through a zero peak cover more than the move.
+        let (covered_at_rest, _, _) = changes_through(start, 0.0, end, acceleration, jerk);
+        if covered_at_rest > distance + tolerance {
+            let lowest = if fastest_peak < 0.0 {
+                fastest_peak
+            } else {
+                reversing_peak(distance, start, end, 0.0, limits)
+            };
+            if timing(lowest).0 <= duration {
+                let mut high = 0.5 * lowest;
+                for _ in 0..1100 {
+                    if timing(high).0 >= duration {
+                        bracket = Some((lowest, high));
+                        break;
                     }
-                    Some(_) => above = Some(peak),
+                    high *= 0.5;
                 }
             }
         }
@@ -339,4 +340,84 @@ pub(crate) fn stretch_peak(
         cruise,
         last,
     })
+}
+
+/// A bracket `(low, high)` of positive peak velocities whose durations straddle `duration`,
+/// along the usual shape or, failing that, below a boundary velocity.
+fn forward_bracket(
+    distance: f64,
+    start: f64,
+    end: f64,
+    fastest_peak: f64,
+    duration: f64,
+    timing: &impl Fn(f64) -> (f64, f64, f64),
+) -> Option<(f64, f64)> {
+    let tolerance = 1e-12 * distance.max(1e-12);
+    let mut low = start.max(end).max(0.0);
+    if low <= 0.0 {
+        // Both boundary velocities are zero or negative: the duration grows without bound as
+        // the peak falls towards zero.
+        low = fastest_peak;
+        for _ in 0..2000 {
+            if timing(low).0 >= duration {
+                break;
+            }
+            low *= 0.5;
+        }
+    }
+    if low > 0.0 && low <= fastest_peak && timing(low).0 >= duration {
+        return Some((low, fastest_peak));
+    }
+    if low <= 0.0 {
+        return None;
+    }
+    // Peaks below a boundary velocity: halve the peak until the profile takes long enough,
+    // keeping the last feasible peak above as the other end of the bracket. Where the
+    // feasible set has a gap between the two, scan it finely.
+    let feasible = |peak: f64| {
+        let (time, _, covered) = timing(peak);
+        (covered <= distance + tolerance && time.is_finite()).then_some(time)
+    };
+    let mut bracket = None;
+    let mut above = Some(low);
+    let mut peak = low;
+    for _ in 0..64 {
+        let upper = peak;
+        peak *= 0.5;
+        match feasible(peak) {
+            None => above = None,
+            Some(time) if time >= duration => {
+                bracket = match above {
+                    Some(above) => Some((peak, above)),
+                    None => (1..16)
+                        .map(|k| upper - (upper - peak) * f64::from(k) / 16.0)
+                        .zip((0..15).map(|k| upper - (upper - peak) * f64::from(k) / 16.0))
+                        .find(|&(lower, higher)| {
+                            matches!(feasible(lower), Some(t) if t >= duration)
+                                && matches!(feasible(higher), Some(t) if t < duration)
+                        }),
+                };
+                break;
+            }
+            Some(_) => above = Some(peak),
+        }
+    }
+    if bracket.is_none() {
+        // Last resort: an even scan from `low` down.
+        let mut above = Some(low);
+        for k in (1..64).rev() {
+            let peak = low * f64::from(k) / 64.0;
+            match feasible(peak) {
+                None => above = None,
+                Some(time) if time >= duration => {
+                    bracket = above.map(|above| (peak, above));
+                    if bracket.is_some() {
+                        break;
+                    }
+                }
+                Some(_) => above = Some(peak),
+            }
+        }
+    }
+    bracket
 }

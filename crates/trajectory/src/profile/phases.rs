@@ -72,11 +72,14 @@ impl Profile {
     /// the highest the move's length allows, up to `limits.velocity`. Rest-to-rest moves use
     /// closed forms; others find the peak by a bracketed Newton search to machine precision.
     ///
+    /// A move too short to change directly from its start to its end velocity (the book's
+    /// feasibility condition fails) backs up: the peak velocity is negative and the joint
+    /// overshoots its end position and comes back; see [`Profile::reverses`].
+    ///
     /// # Errors
     /// [`ProfileError::BadLimit`] for a limit that is zero, negative, NaN or infinite;
     /// [`ProfileError::NotFinite`] for a NaN or infinite position or velocity;
-    /// [`ProfileError::BoundaryVelocityOverLimit`]; [`ProfileError::TooShort`] when the move is
-    /// shorter than the distance needed to change from the start to the end velocity;
+    /// [`ProfileError::BoundaryVelocityOverLimit`];
     /// [`ProfileError::OutOfRange`] when the numbers are too large or small to plan in `f64`.
     ///
     /// # Example
@@ -213,6 +216,14 @@ impl Profile {
     /// Peak velocity (the cruise velocity), rad/s, signed in the direction of the joint's axis.
     pub fn peak_velocity(&self) -> f64 {
         self.sign * self.parts.peak_velocity
+    }
+
+    /// Whether the joint backs up during the move: its peak velocity is against the direction
+    /// from start to end. Only a move with boundary velocities that is too short to change
+    /// directly from one to the other does this (it overshoots its end position and comes
+    /// back), or one stretched far beyond its minimum duration.
+    pub fn reverses(&self) -> bool {
+        self.parts.peak_velocity < 0.0
     }
 
     /// Durations of the parts, in s, with the names of Biagiotti & Melchiorri 2008, ch. 3.

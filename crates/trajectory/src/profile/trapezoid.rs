@@ -15,14 +15,26 @@ pub(super) fn fastest(
 ) -> Result<ThreePart, ProfileError> {
     let (vmax, amax) = (limits.velocity, limits.acceleration);
     // Feasibility (Biagiotti & Melchiorri 2008, ch. 3): amax·h ≥ |v1² − v0²| / 2 when the
-    // velocity changes directly; here with signed velocities in the direction of motion.
+    // velocity changes directly; here with signed velocities in the direction of motion. When
+    // it fails the book has no profile; here the joint backs up instead: with the peak below
+    // both boundary velocities the changes cover (v0² + v1² − 2vp²)/(2a), which equals h at
+    // vp = −√((v0² + v1²)/2 − a·h).
     let lowest_peak = start.max(end);
     let direct = (2.0 * lowest_peak * lowest_peak - start * start - end * end) / (2.0 * amax);
-    // A NaN (from overflowing squares) fails too.
-    if direct.is_nan() || direct > distance * (1.0 + 1e-12) + 1e-15 {
-        return Err(ProfileError::TooShort {
-            distance,
-            needed: direct,
+    if direct.is_nan() {
+        return Err(ProfileError::OutOfRange);
+    }
+    if direct > distance * (1.0 + 1e-12) + 1e-15 {
+        let peak = -(0.5 * (start * start + end * end) - amax * distance)
+            .max(0.0)
+            .sqrt();
+        return Ok(ThreePart {
+            start_velocity: start,
+            peak_velocity: peak,
+            end_velocity: end,
+            first: change(start - peak, amax),
+            cruise: 0.0,
+            last: change(end - peak, amax),
         });
     }
     // Peak without cruise: (vp² − v0²)/(2a) + (vp² − v1²)/(2a) = h.
@@ -85,5 +97,10 @@ pub(super) fn stretch(
             });
         }
     }
-    stretch_peak(distance, parts, duration, amax, f64::INFINITY)
+    stretch_peak(
+        distance,
+        parts,
+        duration,
+        (limits.velocity, amax, f64::INFINITY),
+    )
 }
