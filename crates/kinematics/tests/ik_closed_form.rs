@@ -365,3 +365,36 @@ proptest! {
         }
     }
 }
+
+#[test]
+fn turned_over_base_flips_pitch_and_roll() {
+    // Worked by hand: with the base turned half a turn the arm reaches back over the base axis,
+    // so its in-plane pitch must be π − pitch for the approach axis to point the same way, and
+    // Rz(ψ+π)·Ry(p−π)·Rx(ρ+π) = Rz(ψ)·Ry(−p)·Rx(ρ) (Rz(π) = diag(−1, −1, 1), Rx(π) =
+    // diag(1, −1, −1)), so the wrist roll shifts by π.
+    let arm = wide_articulated(true);
+    let (pitch, roll) = (0.4, 0.3);
+    let position = Vector3::new(0.08, 0.06, 0.2);
+    let target = IkTarget::at(position).with_angle(pitch).with_roll(roll);
+    let solutions = solve_ik(&arm, &target, &arm.home_pose(), &IkOptions::default()).unwrap();
+    let outward = position.y.atan2(position.x);
+    let expected = nalgebra::UnitQuaternion::from_euler_angles(roll, -pitch, outward);
+    let mut turned = 0;
+    for branch in solutions.as_slice() {
+        let q = branch.positions();
+        let tool = tool_pose(&arm, q).unwrap();
+        assert!((tool.translation.vector - position).norm() < 1e-12);
+        assert!(
+            tool.rotation.angle_to(&expected) < 1e-12,
+            "{}",
+            branch.label()
+        );
+        if branch.label().ends_with("turned over") {
+            assert!(wrapped(q[0] - (outward + PI)).abs() < 1e-12);
+            assert!(wrapped(q[1] + q[2] + q[3] - (PI - pitch)).abs() < 1e-12);
+            assert!(wrapped(q[4] - (roll + PI)).abs() < 1e-12);
+            turned += 1;
+        }
+    }
+    assert_eq!(turned, 2, "{:?}", solutions.as_slice());
+}

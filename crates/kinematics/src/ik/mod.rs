@@ -154,7 +154,8 @@ pub struct IkOptions {
     pub seed: u64,
     /// What damped least squares aims for on a chain.
     pub task: IkTask,
-    /// Use damped least squares even for a built-in arm type (with `task` as the goal).
+    /// Use damped least squares even for a built-in arm type, with `task` as the goal; the
+    /// target's angles then mean what they mean for chains.
     pub use_damped_least_squares: bool,
 }
 
