@@ -380,3 +380,74 @@ fn random_bytes_do_not_disturb_the_device() {
         Some(1500)
     );
 }
+
+mod properties {
+    use super::*;
+    use proptest::prelude::*;
+
+    #[derive(Debug, Clone)]
+    enum Input {
+        Line(HostMessage),
+        Noise(Vec<u8>),
+    }
+
+    fn input() -> impl Strategy<Value = Input> {
+        let values = proptest::collection::vec(any::<u16>(), 7..=7)
+            .prop_map(|v| ChannelValues::from_slice(&v).expect("seven values"));
+        prop_oneof![
+            4 => values.prop_map(|v| Input::Line(HostMessage::Setpoint(v))),
+            1 => Just(Input::Line(HostMessage::Hold)),
+            1 => Just(Input::Line(HostMessage::Release)),
+            1 => Just(Input::Line(HostMessage::EmergencyStop)),
+            1 => Just(Input::Line(HostMessage::Reset)),
+            1 => Just(Input::Line(HostMessage::Heartbeat)),
+            1 => proptest::collection::vec(any::<u8>(), 0..80).prop_map(Input::Noise),
+        ]
+    }
+
+    proptest! {
+        /// Whatever arrives: pulses stay in the accepted range, a latched stop keeps the
+        /// pulses unchanged until a reset line, and frames keep their 20 ms beat.
+        #[test]
+        fn the_device_keeps_its_promises(
+            steps in proptest::collection::vec((input(), 0u64..60), 1..60)
+        ) {
+            let mut bench = Bench::new();
+            let info = bench.device.info();
+            // The last observation after the clock moved: was the device stopped, and with
+            // which pulses; and whether a reset line was sent since.
+            let mut before: Option<(bool, Option<ChannelValues>)> = None;
+            let mut reset_sent = false;
+            for (input, wait_ms) in steps {
+                match input {
+                    Input::Line(message) => {
+                        reset_sent |= message == HostMessage::Reset;
+                        bench.send(message);
+                    }
+                    Input::Noise(bytes) => bench.raw(&bytes),
+                }
+                if wait_ms == 0 {
+                    continue; // queued lines are acted on when the clock moves
+                }
+                bench.wait_ms(wait_ms);
+                let pulses = bench.device.pulse_units();
+                if let Some(values) = pulses {
+                    for &units in values.as_slice() {
+                        prop_assert!(units >= info.min_pulse_units && units <= info.max_pulse_units);
+                    }
+                }
+                let stopped = bench.device.mode() == DeviceMode::Stopped;
+                if let Some((was_stopped, held)) = before
+                    && was_stopped
+                    && stopped
+                    && !reset_sent
+                {
+                    prop_assert_eq!(held, pulses, "pulses moved while the stop was latched");
+                }
+                before = Some((stopped, pulses));
+                reset_sent = false;
+                prop_assert_eq!(bench.device.frames_started(), bench.now_ms / 20 + 1);
+            }
+        }
+    }
+}

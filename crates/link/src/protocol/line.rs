@@ -80,9 +80,15 @@ impl LineBuf {
 
     /// Appends `value` as `digits` upper-case hex digits (the low `4 * digits` bits).
     pub(crate) fn push_hex(&mut self, value: u16, digits: u32) {
-        for shift in (0..digits).rev() {
-            let nibble = (value >> (shift * 4)) & 0xF;
-            self.push(b"0123456789ABCDEF"[usize::from(nibble)]);
+        const HEX: &[u8; 16] = b"0123456789ABCDEF";
+        let start = usize::from(self.len);
+        let end = start + digits as usize;
+        // One range check for the whole field rather than one per digit.
+        if let Some(slots) = self.bytes.get_mut(start..end) {
+            for (slot, shift) in slots.iter_mut().zip((0..digits).rev()) {
+                *slot = HEX[usize::from((value >> (shift * 4)) & 0xF)];
+            }
+            self.len = end as u8;
         }
     }
 
