@@ -57,6 +57,10 @@ pub struct SyncedMove {
 /// Plans every joint's part of a move with the given profile shape, all starting and ending
 /// together, as fast as the slowest joint allows.
 ///
+/// A joint with boundary velocities may be unable to take some durations longer than its
+/// own (between slowing its peak velocity and backing up); the common duration then moves to
+/// the shortest one every joint can take, found by search to about 1e-15 relative.
+///
 /// `moves[i]` and `limits[i]` belong to joint `i`. Each joint's profile respects its own
 /// velocity, acceleration and (for the double-S) jerk limits.
 ///
@@ -104,13 +108,72 @@ pub fn synchronise(
             .map_err(|source| SyncError::Joint { joint, source })?;
         synced.duration = synced.duration.max(profile.duration());
     }
-    let duration = synced.duration;
-    for (joint, profile) in synced.profiles.iter_mut().enumerate().take(joint_count) {
-        profile
-            .stretch(duration)
-            .map_err(|source| SyncError::Joint { joint, source })?;
+    let fastest = synced.profiles;
+    let mut duration = synced.duration;
+    // A joint with boundary velocities may be unable to take some durations (a gap between
+    // slowing its peak and backing up); then the common duration moves past that joint's gap
+    // and every joint is tried again. Each round lengthens the duration.
+    let mut rounds = 0;
+    loop {
+        let mut blocked = None;
+        for (joint, profile) in synced.profiles.iter_mut().enumerate().take(joint_count) {
+            *profile = fastest[joint];
+            if let Err(source) = profile.stretch(duration) {
+                blocked = Some(SyncError::Joint { joint, source });
+                break;
+            }
+        }
+        let Some(error) = blocked else {
+            synced.duration = duration;
+            return Ok(synced);
+        };
+        rounds += 1;
+        let later = match error {
+            SyncError::Joint {
+                joint,
+                source: ProfileError::StretchUnreachable { .. },
+            } if rounds <= 4 * MAX_JOINTS => next_reachable(&fastest[joint], duration),
+            _ => None,
+        };
+        match later {
+            Some(later) => duration = later,
+            None => return Err(error),
+        }
     }
-    Ok(synced)
+}
+
+/// The shortest duration after `blocked` (s) that `profile` can be stretched to, found by
+/// doubling a step until a stretch succeeds and then bisecting; `None` if none is found.
+fn next_reachable(profile: &Profile, blocked: f64) -> Option<f64> {
+    let reachable = |duration: f64| profile.stretched(duration).is_ok();
+    let mut low = blocked;
+    let mut step = 1e-3 * blocked.max(1e-6);
+    let mut high = low + step;
+    let mut found = false;
+    for _ in 0..64 {
+        if reachable(high) {
+            found = true;
+            break;
+        }
+        low = high;
+        step *= 2.0;
+        high = low + step;
+    }
+    if !found {
+        return None;
+    }
+    for _ in 0..60 {
+        let middle = 0.5 * (low + high);
+        if middle <= low || middle >= high {
+            break;
+        }
+        if reachable(middle) {
+            high = middle;
+        } else {
+            low = middle;
+        }
+    }
+    Some(high)
 }
 
 impl SyncedMove {
