@@ -167,7 +167,7 @@ impl Default for IkOptions {
             angle_tolerance: 1e-6,
             angle_weight: 0.1,
             max_iterations: 60,
-            restarts: 12,
+            restarts: 20,
             seed: 0x5EED_A12A,
             task: IkTask::Position,
             use_damped_least_squares: false,
