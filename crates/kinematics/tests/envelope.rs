@@ -292,3 +292,41 @@ fn a_planar_chain_maps_close_to_its_ring() {
         "{measured} vs {expected}"
     );
 }
+
+proptest::proptest! {
+    #![proptest_config(proptest::prelude::ProptestConfig::with_cases(48))]
+    #[test]
+    fn any_view_and_options_give_a_map(
+        which in 0usize..3,
+        top in proptest::bool::ANY,
+        plane in proptest::num::f64::ANY,
+        cells in 0usize..24,
+        derating in proptest::num::f64::ANY,
+        payload in proptest::option::of(proptest::num::f64::ANY),
+        samples in 0usize..40,
+        angle in proptest::option::of(proptest::num::f64::ANY),
+    ) {
+        let arm = match which {
+            0 => scara(),
+            1 => articulated(false),
+            _ => articulated(true),
+        };
+        let view = if top { MapView::Top { height: plane } } else { MapView::Side { yaw: plane } };
+        let options = MapOptions {
+            cells,
+            derating,
+            payload_mass: payload,
+            angle_samples: samples,
+            tool_angle: angle,
+        };
+        let map = reach_map(&arm, &view, &options);
+        proptest::prop_assert_eq!(map.cells(), cells.clamp(2, 2000));
+        let share = map.reachable_share();
+        proptest::prop_assert!((0.0..=1.0).contains(&share));
+        for line in map.boundary() {
+            for point in line {
+                proptest::prop_assert!(point[0].is_finite() && point[1].is_finite());
+            }
+        }
+    }
+}
