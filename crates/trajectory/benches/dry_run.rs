@@ -25,6 +25,7 @@ fn hundred_waypoints() -> Task {
             dwell: 0.05,
             speed_share: 1.0,
             gripper_closed: rng.uniform(0.0, 1.0) < 0.5,
+            straight: false,
         })
         .collect();
     Task {

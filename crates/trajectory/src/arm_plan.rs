@@ -11,6 +11,7 @@ use crate::sequence::{
     SegmentKind, SequenceError, SequencePlan, SequenceWaypoint, WaypointKind, plan_sequence,
 };
 use crate::servo_sim::ServoModelOptions;
+use crate::straight_move::{StraightMoveError, straight_path};
 
 /// One waypoint of a task, in joint space.
 #[derive(Debug, Clone, PartialEq)]
@@ -25,6 +26,9 @@ pub struct TaskWaypoint {
     pub speed_share: f64,
     /// Whether the gripper is closed (holding the payload) from this waypoint on.
     pub gripper_closed: bool,
+    /// Whether the tool point moves on a straight line from the waypoint before (otherwise each
+    /// joint moves on its own).
+    pub straight: bool,
 }
 
 /// A task: waypoints, the profile every move uses, and how limits come from the arm.
@@ -49,14 +53,20 @@ pub enum PlanError {
     /// The sequence could not be planned.
     #[error(transparent)]
     Sequence(#[from] SequenceError),
+    /// A straight move leaves the reach envelope, hits a limit or changes branch.
+    #[error(transparent)]
+    Straight(#[from] StraightMoveError),
 }
 
 /// A planned task: the sequence plan with the payload schedule and waypoint timings.
 #[derive(Debug, Clone, PartialEq)]
 pub struct TaskPlan {
     plan: SequencePlan,
+    /// One per task waypoint.
     timings: Vec<WaypointTiming>,
+    /// Payload carried from each point of the expanded sequence on, in kg, and when (s).
     payload: Vec<f64>,
+    payload_from: Vec<f64>,
     limits: Vec<JointLimits>,
 }
 
@@ -66,66 +76,72 @@ pub struct TaskPlan {
 /// [`PlanError`] naming the joint and waypoint when a servo cannot hold its load, or the
 /// waypoint whose move cannot be planned.
 pub fn plan_task(arm: &Arm, task: &Task) -> Result<TaskPlan, PlanError> {
-    let poses: Vec<Vec<f64>> = task.waypoints.iter().map(|w| w.positions.clone()).collect();
-    let carried = if task.waypoints.iter().any(|w| w.gripper_closed) {
-        arm.payload_mass()
-    } else {
-        0.0
-    };
-    let limits = limits_from_arm(arm, &poses, carried, &task.limits, &task.model)?;
+    // Straight moves become runs of pass-through points along the line; `index_of` maps each
+    // task waypoint to its place in the expanded sequence.
     let last = task.waypoints.len().saturating_sub(1);
-    let waypoints: Vec<SequenceWaypoint> = task
-        .waypoints
-        .iter()
-        .enumerate()
-        .map(|(index, w)| SequenceWaypoint {
+    let mut expanded: Vec<SequenceWaypoint> = Vec::with_capacity(task.waypoints.len());
+    let mut payload = Vec::with_capacity(task.waypoints.len());
+    let mut index_of = Vec::with_capacity(task.waypoints.len());
+    let carrying = |closed: bool| if closed { arm.payload_mass() } else { 0.0 };
+    for (index, w) in task.waypoints.iter().enumerate() {
+        if w.straight && index > 0 {
+            let before = &task.waypoints[index - 1];
+            let path = straight_path(arm, &before.positions, &w.positions, index)?;
+            for positions in &path[..path.len() - 1] {
+                expanded.push(SequenceWaypoint {
+                    positions: positions.clone(),
+                    kind: WaypointKind::PassThrough,
+                    speed_share: w.speed_share,
+                });
+                payload.push(carrying(before.gripper_closed));
+            }
+        }
+        let stop = w.stop || index == 0 || index == last;
+        index_of.push(expanded.len());
+        expanded.push(SequenceWaypoint {
             positions: w.positions.clone(),
-            kind: if w.stop || index == 0 || index == last {
+            kind: if stop {
                 WaypointKind::Stop { dwell: w.dwell }
             } else {
                 WaypointKind::PassThrough
             },
             speed_share: w.speed_share,
-        })
-        .collect();
-    let plan = plan_sequence(task.shape, &waypoints, &limits)?;
-    let mut timings = vec![
+        });
+        payload.push(carrying(w.gripper_closed));
+    }
+    let poses: Vec<Vec<f64>> = expanded.iter().map(|w| w.positions.clone()).collect();
+    let heaviest = payload.iter().copied().fold(0.0, f64::max);
+    let limits = limits_from_arm(arm, &poses, heaviest, &task.limits, &task.model)?;
+    let plan = plan_sequence(task.shape, &expanded, &limits)?;
+    let mut arrivals = vec![
         WaypointTiming {
             arrival: 0.0,
             departure: 0.0,
-            stop: true
+            stop: true,
         };
-        waypoints.len()
+        expanded.len()
     ];
     for segment in plan.segments() {
         let end = segment.start + segment.motion.duration();
         match segment.kind {
             SegmentKind::Move { to_waypoint, .. } => {
-                let stop = matches!(waypoints[to_waypoint].kind, WaypointKind::Stop { .. });
-                timings[to_waypoint] = WaypointTiming {
+                let stop = matches!(expanded[to_waypoint].kind, WaypointKind::Stop { .. });
+                arrivals[to_waypoint] = WaypointTiming {
                     arrival: end,
                     departure: end,
                     stop,
                 };
             }
-            SegmentKind::Dwell { waypoint } => timings[waypoint].departure = end,
+            SegmentKind::Dwell { waypoint } => arrivals[waypoint].departure = end,
         }
     }
-    let payload = task
-        .waypoints
-        .iter()
-        .map(|w| {
-            if w.gripper_closed {
-                arm.payload_mass()
-            } else {
-                0.0
-            }
-        })
-        .collect();
+    let payload_from: Vec<f64> = arrivals.iter().map(|w| w.arrival).collect();
+    let timings = index_of.iter().map(|&i| arrivals[i]).collect();
     Ok(TaskPlan {
         plan,
         timings,
         payload,
+        payload_from,
         limits,
     })
 }
@@ -167,7 +183,7 @@ impl TaskPlan {
                     rates[j] = states[j].velocity;
                     accelerations[j] = states[j].acceleration;
                 }
-                let payload = self.payload_at(t);
+                let payload = CommandedMotion::payload_at(self, t);
                 if let Ok(efforts) = inverse_dynamics(
                     arm,
                     &positions[..n],

@@ -46,6 +46,7 @@ mod second_order; // linear second-order response: overshoot, settling time, dam
 mod sequence; // waypoints → timed moves and dwells, pass-through velocities, evaluation
 mod servo_sim; // the hobby-servo model: position loop, torque-speed line, friction, backlash
 mod shaping; // ZV and ZVD input shapers and shaped profiles
+mod straight_move; // the tool point on a straight line, through inverse kinematics along it
 mod sync; // several joints of one move: start and end together, slowest sets the duration
 
 pub use crate::arm_limits::{LimitError, LimitSettings, limits_from_arm};
@@ -68,4 +69,5 @@ pub use crate::servo_sim::{
     JointLoad, MAX_RUN_DURATION, ServoModel, ServoModelOptions, ServoSimError, ServoTrace, simulate,
 };
 pub use crate::shaping::{Impulse, ShapedProfile, Shaper, ShaperKind};
+pub use crate::straight_move::{LINE_TOLERANCE, StraightMoveError, straight_path};
 pub use crate::sync::{MAX_JOINTS, SyncError, SyncedMove, synchronise};

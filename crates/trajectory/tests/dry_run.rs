@@ -16,6 +16,7 @@ fn waypoint(positions: &[f64], speed_share: f64, dwell: f64, gripper_closed: boo
         dwell,
         speed_share,
         gripper_closed,
+        straight: false,
     }
 }
 

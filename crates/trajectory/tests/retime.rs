@@ -15,6 +15,7 @@ fn task() -> Task {
         dwell: 0.2,
         speed_share: 1.0,
         gripper_closed: false,
+        straight: false,
     };
     Task {
         waypoints: vec![
