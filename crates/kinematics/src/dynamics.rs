@@ -12,6 +12,7 @@ use nalgebra::{Isometry3, Matrix3, Point3, Vector3};
 
 use crate::arm::{Arm, JointKind, MAX_JOINTS};
 use crate::error::{KinematicsError, check_motion, check_payload, check_pose};
+use crate::fk::joint_frame;
 use crate::gravity::STANDARD_GRAVITY;
 use crate::torque_use::JointEfforts;
 
@@ -112,7 +113,7 @@ fn newton_euler(
     for index in 0..count {
         let joint = &arm.joints()[index];
         let (q, qd, qdd) = (positions[index], rates[index], accelerations[index]);
-        frame = frame * joint.origin * joint.motion(q);
+        frame = joint_frame(&frame, joint, q);
         let axis = frame.rotation * joint.axis.into_inner();
         let origin = frame.translation.vector;
         // The new origin is a point of the previous body (plus the slide, if prismatic).

@@ -4,6 +4,7 @@ use nalgebra::{Isometry3, Point3, Vector3};
 
 use crate::arm::{Arm, JointKind, MAX_JOINTS};
 use crate::error::{KinematicsError, check_payload, check_pose};
+use crate::fk::joint_frame;
 use crate::torque_use::JointEfforts;
 
 /// Standard acceleration of free fall, g_n = 9.80665 m/s², exact by definition (3rd CGPM,
@@ -39,7 +40,7 @@ pub fn gravity_torques(
     let mut moments = [Vector3::zeros(); MAX_JOINTS];
     let mut current = Isometry3::identity();
     for (index, (joint, &q)) in arm.joints().iter().zip(positions).enumerate() {
-        current = current * joint.origin * joint.motion(q);
+        current = joint_frame(&current, joint, q);
         axes[index] = current.rotation * joint.axis.into_inner();
         origins[index] = current.translation.vector;
         if let Some(body) = arm.body(index) {
