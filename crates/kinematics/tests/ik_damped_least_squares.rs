@@ -80,7 +80,7 @@ fn pitch_task_reaches_the_pitch() {
 fn full_pose_task_reaches_the_whole_frame() {
     // Whole tool frames made by forward kinematics, from random starts. Six constraints on
     // six joints leave few solutions, some beyond the short prismatic travels, so more starts
-    // miss than for the position task; with the default 20 restarts about 98 % converge.
+    // miss than for the position task; with the default 20 restarts about 97 % converge.
     let options = IkOptions {
         task: IkTask::FullPose,
         ..IkOptions::default()

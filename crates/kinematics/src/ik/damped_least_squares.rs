@@ -16,7 +16,7 @@ use crate::fk::{ToolAngles, tool_pose};
 use crate::jacobian::tool_jacobian;
 
 /// The longest joint step (rad or m, Euclidean over the joints) one iteration may take.
-const MAX_STEP: f64 = 0.5;
+const MAX_STEP: f64 = 1.0;
 /// Above this damping (m) the start is taken as stuck.
 const STUCK_DAMPING: f64 = 1e3;
 /// Damping never falls below this (m), so the normal equations stay solvable.
