@@ -117,7 +117,7 @@ fn compose(first: &Isometry3<f64>, second: &Isometry3<f64>) -> Isometry3<f64> {
 
 /// `v` turned by the unit quaternion: v + 2w(u × v) + 2u × (u × v), u its vector part.
 #[inline]
-fn rotate(rotation: &UnitQuaternion<f64>, v: &Vector3<f64>) -> Vector3<f64> {
+pub(crate) fn rotate(rotation: &UnitQuaternion<f64>, v: &Vector3<f64>) -> Vector3<f64> {
     let q = rotation.quaternion();
     let (w, x, y, z) = (q.w, q.i, q.j, q.k);
     let tx = 2.0 * (y * v.z - z * v.y);

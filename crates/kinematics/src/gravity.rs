@@ -1,10 +1,10 @@
 //! Statics: the effort each joint's servo must give to hold a pose against gravity.
 
-use nalgebra::{Isometry3, Point3, Vector3};
+use nalgebra::{Isometry3, Vector3};
 
 use crate::arm::{Arm, JointKind, MAX_JOINTS};
 use crate::error::{KinematicsError, check_payload, check_pose};
-use crate::fk::joint_frame;
+use crate::fk::{joint_frame, rotate};
 use crate::torque_use::JointEfforts;
 
 /// Standard acceleration of free fall, g_n = 9.80665 m/s², exact by definition (3rd CGPM,
@@ -41,14 +41,16 @@ pub fn gravity_torques(
     let mut current = Isometry3::identity();
     for (index, (joint, &q)) in arm.joints().iter().zip(positions).enumerate() {
         current = joint_frame(&current, joint, q);
-        axes[index] = current.rotation * joint.axis.into_inner();
+        axes[index] = rotate(&current.rotation, joint.axis.as_ref());
         origins[index] = current.translation.vector;
         if let Some(body) = arm.body(index) {
             masses[index] = body.mass;
-            moments[index] = (current * Point3::from(body.centre)).coords * body.mass;
+            moments[index] =
+                (current.translation.vector + rotate(&current.rotation, &body.centre)) * body.mass;
         }
     }
-    let tool_point = (current * arm.tool_offset()).translation.vector;
+    let tool_point = current.translation.vector
+        + rotate(&current.rotation, &arm.tool_offset().translation.vector);
 
     // Walking from the tool back to the base, the mass beyond joint i and its first moment.
     let mut mass_beyond = payload_mass;
