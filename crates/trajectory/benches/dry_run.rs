@@ -26,11 +26,11 @@ fn hundred_waypoints() -> Task {
             speed_share: 1.0,
             gripper_closed: rng.uniform(0.0, 1.0) < 0.5,
             straight: false,
+            shape: ProfileShape::DoubleS,
         })
         .collect();
     Task {
         waypoints,
-        shape: ProfileShape::DoubleS,
         limits: LimitSettings::default(),
         model: ServoModelOptions::default(),
     }

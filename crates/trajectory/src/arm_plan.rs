@@ -8,7 +8,7 @@ use crate::dry_run::{CommandedMotion, WaypointTiming};
 use crate::profile::{JointLimits, JointState, ProfileShape};
 use crate::retime::{Planner, Timing};
 use crate::sequence::{
-    SegmentKind, SequenceError, SequencePlan, SequenceWaypoint, WaypointKind, plan_sequence,
+    SegmentKind, SequenceError, SequencePlan, SequenceWaypoint, WaypointKind, plan_sequence_shaped,
 };
 use crate::servo_sim::ServoModelOptions;
 use crate::straight_move::{StraightMoveError, straight_path};
@@ -29,15 +29,15 @@ pub struct TaskWaypoint {
     /// Whether the tool point moves on a straight line from the waypoint before (otherwise each
     /// joint moves on its own).
     pub straight: bool,
+    /// The profile of the move into this waypoint.
+    pub shape: ProfileShape,
 }
 
-/// A task: waypoints, the profile every move uses, and how limits come from the arm.
+/// A task: waypoints, and how limits come from the arm and the servo model.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Task {
     /// The waypoints in order; the first and last are stops.
     pub waypoints: Vec<TaskWaypoint>,
-    /// Trapezoid or double-S.
-    pub shape: ProfileShape,
     /// Derating, jerk time and overrides.
     pub limits: LimitSettings,
     /// The servo model's settings (its motor inertia counts in the acceleration limits).
@@ -82,6 +82,7 @@ pub fn plan_task(arm: &Arm, task: &Task) -> Result<TaskPlan, PlanError> {
     let mut expanded: Vec<SequenceWaypoint> = Vec::with_capacity(task.waypoints.len());
     let mut payload = Vec::with_capacity(task.waypoints.len());
     let mut index_of = Vec::with_capacity(task.waypoints.len());
+    let mut shapes = Vec::with_capacity(task.waypoints.len());
     let carrying = |closed: bool| if closed { arm.payload_mass() } else { 0.0 };
     for (index, w) in task.waypoints.iter().enumerate() {
         if w.straight && index > 0 {
@@ -94,6 +95,7 @@ pub fn plan_task(arm: &Arm, task: &Task) -> Result<TaskPlan, PlanError> {
                     speed_share: w.speed_share,
                 });
                 payload.push(carrying(before.gripper_closed));
+                shapes.push(w.shape);
             }
         }
         let stop = w.stop || index == 0 || index == last;
@@ -108,11 +110,12 @@ pub fn plan_task(arm: &Arm, task: &Task) -> Result<TaskPlan, PlanError> {
             speed_share: w.speed_share,
         });
         payload.push(carrying(w.gripper_closed));
+        shapes.push(w.shape);
     }
     let poses: Vec<Vec<f64>> = expanded.iter().map(|w| w.positions.clone()).collect();
     let heaviest = payload.iter().copied().fold(0.0, f64::max);
     let limits = limits_from_arm(arm, &poses, heaviest, &task.limits, &task.model)?;
-    let plan = plan_sequence(task.shape, &expanded, &limits)?;
+    let plan = plan_sequence_shaped(&shapes, &expanded, &limits)?;
     let mut arrivals = vec![
         WaypointTiming {
             arrival: 0.0,

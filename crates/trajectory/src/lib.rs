@@ -63,7 +63,7 @@ pub use crate::sample::{MAX_SAMPLE_RATE_HZ, MIN_SAMPLE_RATE_HZ, Sample, Sampler}
 pub use crate::second_order::{SecondOrder, VibrationError};
 pub use crate::sequence::{
     Segment, SegmentKind, SequenceError, SequencePlan, SequenceWaypoint, WaypointKind,
-    plan_sequence,
+    plan_sequence, plan_sequence_shaped,
 };
 pub use crate::servo_sim::{
     JointLoad, MAX_RUN_DURATION, ServoModel, ServoModelOptions, ServoSimError, ServoTrace, simulate,

@@ -77,6 +77,14 @@ pub enum SequenceError {
         #[source]
         source: SyncError,
     },
+    /// One profile shape per waypoint is needed.
+    #[error("{found} profile shapes for {expected} waypoints")]
+    WrongShapeCount {
+        /// Waypoints given.
+        expected: usize,
+        /// Shapes given.
+        found: usize,
+    },
     /// A sample rate outside 50–1000 Hz.
     #[error("sample rate {rate_hz} Hz, expected 50 to 1000 Hz")]
     RateOutOfRange {
@@ -149,7 +157,27 @@ pub fn plan_sequence(
     waypoints: &[SequenceWaypoint],
     limits: &[JointLimits],
 ) -> Result<SequencePlan, SequenceError> {
+    plan_sequence_shaped(&vec![shape; waypoints.len()], waypoints, limits)
+}
+
+/// [`plan_sequence`] with a profile shape per waypoint: `shapes[i]` shapes the move arriving at
+/// waypoint `i` (and its dwell); `shapes[0]` only the dwell at the start.
+///
+/// # Errors
+/// As [`plan_sequence`]; [`SequenceError::WrongShapeCount`] when `shapes` and `waypoints`
+/// differ in length.
+pub fn plan_sequence_shaped(
+    shapes: &[ProfileShape],
+    waypoints: &[SequenceWaypoint],
+    limits: &[JointLimits],
+) -> Result<SequencePlan, SequenceError> {
     validate(waypoints, limits)?;
+    if shapes.len() != waypoints.len() {
+        return Err(SequenceError::WrongShapeCount {
+            expected: waypoints.len(),
+            found: shapes.len(),
+        });
+    }
     let joints = limits.len();
     let move_count = waypoints.len() - 1;
     let shared_limits = |arrival: usize| -> Vec<JointLimits> {
@@ -165,6 +193,7 @@ pub fn plan_sequence(
     let at_rest = vec![0.0; joints];
     for (index, limits) in move_limits.iter().enumerate() {
         let moves = joint_moves(waypoints, index, &at_rest, &at_rest);
+        let shape = shapes[index + 1];
         let synced = synchronise(shape, &moves, limits).map_err(|source| SequenceError::Move {
             waypoint: index + 1,
             source,
@@ -178,7 +207,7 @@ pub fn plan_sequence(
     let mut durations = rest_durations;
     for _ in 0..REFINEMENTS {
         let velocities = pass_through_velocities(waypoints, &move_limits, &durations);
-        let planned = plan_moves(shape, waypoints, &move_limits, velocities)?;
+        let planned = plan_moves(shapes, waypoints, &move_limits, velocities)?;
         let total: f64 = planned.iter().map(SyncedMove::duration).sum();
         durations = planned.iter().map(SyncedMove::duration).collect();
         if best.as_ref().is_none_or(|(quickest, _)| total < *quickest) {
@@ -198,6 +227,7 @@ pub fn plan_sequence(
                 .map(|&p| JointMove::rest_to_rest(p, p))
                 .collect();
             // A zero-length move stretched to the dwell holds still; it cannot fail.
+            let shape = shapes[waypoint];
             if let Ok(motion) = synchronise(shape, &hold, limits).and_then(|m| m.stretched(dwell)) {
                 segments.push(Segment {
                     start: *time,
@@ -267,7 +297,7 @@ fn pass_through_velocities(
 /// a move that cannot be made (and finally setting them to zero) and planning the moves
 /// touching a changed waypoint again.
 fn plan_moves(
-    shape: ProfileShape,
+    shapes: &[ProfileShape],
     waypoints: &[SequenceWaypoint],
     move_limits: &[Vec<JointLimits>],
     mut velocities: Vec<Vec<f64>>,
@@ -282,7 +312,7 @@ fn plan_moves(
                 continue;
             }
             let moves = joint_moves(waypoints, index, &velocities[index], &velocities[index + 1]);
-            let setback = match synchronise(shape, &moves, &move_limits[index]) {
+            let setback = match synchronise(shapes[index + 1], &moves, &move_limits[index]) {
                 // A joint backing up would overshoot its waypoint: slow the ends instead.
                 Ok(synced) if !synced.profiles().iter().any(Profile::reverses) => {
                     planned[index] = Some(synced);

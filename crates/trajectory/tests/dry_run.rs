@@ -17,6 +17,7 @@ fn waypoint(positions: &[f64], speed_share: f64, dwell: f64, gripper_closed: boo
         speed_share,
         gripper_closed,
         straight: false,
+        shape: ProfileShape::DoubleS,
     }
 }
 
@@ -27,7 +28,6 @@ fn reach_task(speed_share: f64, gripper_closed: bool) -> Task {
             waypoint(&[0.8, 1.2, -1.3, 0.3], speed_share, 0.8, gripper_closed),
             waypoint(&[-0.4, 0.5, -0.3, -0.2], speed_share, 0.8, gripper_closed),
         ],
-        shape: ProfileShape::DoubleS,
         limits: LimitSettings::default(),
         model: ServoModelOptions::default(),
     }

@@ -16,6 +16,7 @@ fn task() -> Task {
         speed_share: 1.0,
         gripper_closed: false,
         straight: false,
+        shape: ProfileShape::DoubleS,
     };
     Task {
         waypoints: vec![
@@ -24,7 +25,6 @@ fn task() -> Task {
             stop(&[-0.5, 0.6, -0.2, -0.3]),
             stop(&[0.0, 0.3, -0.5, 0.0]),
         ],
-        shape: ProfileShape::DoubleS,
         limits: LimitSettings::default(),
         model: ServoModelOptions::default(),
     }

@@ -26,10 +26,10 @@ fn task(from: Vec<f64>, to: Vec<f64>) -> Task {
         speed_share: 0.6,
         gripper_closed: false,
         straight,
+        shape: ProfileShape::DoubleS,
     };
     Task {
         waypoints: vec![stop(from, false), stop(to, true)],
-        shape: ProfileShape::DoubleS,
         limits: LimitSettings::default(),
         model: ServoModelOptions::default(),
     }
