@@ -3,7 +3,7 @@
 
 use std::path::PathBuf;
 
-use clap::{Parser, Subcommand};
+use clap::{Parser, Subcommand, ValueEnum};
 
 /// Describe, check and program small hobby-servo arms.
 ///
@@ -90,6 +90,40 @@ pub enum Command {
         #[arg(long)]
         json: bool,
     },
+    /// Map where the tool point can reach and how much torque holding it there takes.
+    ///
+    /// The top view is a horizontal plane at height --at (mm, default: the tool point's height
+    /// in the home pose); the side view is the vertical plane through the base axis at yaw --at
+    /// (degrees, default 0).
+    Envelope {
+        /// The scene file.
+        #[arg(value_name = "FILE")]
+        file: PathBuf,
+        /// Which plane to map.
+        #[arg(long, value_enum)]
+        view: View,
+        /// Height of the top view in mm, or yaw of the side view in degrees.
+        #[arg(long, value_name = "MM|DEG", allow_hyphen_values = true)]
+        at: Option<f64>,
+        /// Cells along each side of the square map.
+        #[arg(long, value_name = "N", default_value_t = 200)]
+        cells: usize,
+        /// Print machine-readable JSON (keys carry units) instead of text.
+        #[arg(long)]
+        json: bool,
+        /// Also write the map as an SVG picture to this file.
+        #[arg(long, value_name = "OUT.svg")]
+        svg: Option<PathBuf>,
+    },
+}
+
+/// The plane an envelope map covers.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub enum View {
+    /// A horizontal plane seen from above.
+    Top,
+    /// The vertical plane through the base axis.
+    Side,
 }
 
 #[cfg(test)]
@@ -114,6 +148,35 @@ mod tests {
             Command::Reach { to, near, .. } => {
                 assert_eq!(to, [150.0, -20.0, 80.0, -30.0]);
                 assert!(near.is_none());
+            }
+            other => panic!("{other:?}"),
+        }
+    }
+
+    #[test]
+    fn the_envelope_view_is_top_or_side() {
+        assert!(
+            Cli::try_parse_from(["armwright", "envelope", "a.json", "--view", "front"]).is_err()
+        );
+        let cli = Cli::try_parse_from([
+            "armwright",
+            "envelope",
+            "a.json",
+            "--view",
+            "side",
+            "--at",
+            "-45",
+            "--cells",
+            "50",
+        ])
+        .unwrap();
+        match cli.command {
+            Command::Envelope {
+                view, at, cells, ..
+            } => {
+                assert_eq!(view, View::Side);
+                assert_eq!(at, Some(-45.0));
+                assert_eq!(cells, 50);
             }
             other => panic!("{other:?}"),
         }

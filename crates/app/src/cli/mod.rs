@@ -1,8 +1,8 @@
-//! The command line: `check`, `pose`, `reach`.
+//! The command line: `check`, `pose`, `reach`, `envelope`.
 //!
 //! Naming scheme: `args.rs` declares every option (clap derive); one file per subcommand
-//! (`check.rs`, `pose.rs`, `reach.rs`); `report.rs` prints results as text or JSON and loads
-//! the scene for a subcommand.
+//! (`check.rs`, `pose.rs`, `reach.rs`, `envelope.rs`); `report.rs` prints results as text or
+//! JSON and loads the scene for a subcommand; `svg.rs` draws an envelope map.
 //!
 //! Exit status: 0 on success, 1 when the scene has problems or a target cannot be reached, 2
 //! when the input cannot be read (missing file, not JSON, not a scene, newer version, bad
@@ -10,11 +10,13 @@
 
 mod args;
 mod check;
+mod envelope;
 mod pose;
 mod reach;
 mod report;
+mod svg;
 
-pub use args::{Cli, Command};
+pub use args::{Cli, Command, View};
 
 use clap::Parser;
 use std::process::ExitCode;
@@ -59,5 +61,13 @@ pub fn execute(command: &Command) -> Outcome {
             near,
             json,
         } => reach::run(file, to, near.as_deref(), *json),
+        Command::Envelope {
+            file,
+            view,
+            at,
+            cells,
+            json,
+            svg,
+        } => envelope::run(file, *view, *at, *cells, *json, svg.as_deref()),
     }
 }
