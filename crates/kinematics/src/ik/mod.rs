@@ -570,3 +570,75 @@ impl BranchCollector {
 pub(crate) fn tool_rotation(yaw: f64, pitch: f64, roll: f64) -> UnitQuaternion<f64> {
     UnitQuaternion::from_euler_angles(roll, -pitch, yaw)
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::arm::{Calibration, MassProperties, ServoSpec};
+
+    fn revolute(min: f64, max: f64) -> Joint {
+        let spec = crate::arm::JointSpec {
+            name: "test".into(),
+            min,
+            max,
+            home: min,
+            servo: ServoSpec {
+                stall_torque: 1.0,
+                no_load_speed: 6.0,
+                deadband_us: 4.0,
+                proportional_band_us: 40.0,
+                backlash: 0.0,
+                mass: 0.05,
+                mount_offset: Vector3::zeros(),
+                drive_ratio: 1.0,
+            },
+            calibration: Calibration {
+                position_a: -1.0,
+                pulse_a_us: 1000.0,
+                position_b: 1.0,
+                pulse_b_us: 2000.0,
+                pulse_min_us: 900.0,
+                pulse_max_us: 2100.0,
+            },
+            link_mass: MassProperties::zero(),
+        };
+        Joint::new(
+            0,
+            spec,
+            JointKind::Revolute,
+            nalgebra::Isometry3::identity(),
+            Vector3::z_axis(),
+        )
+        .unwrap()
+    }
+
+    #[test]
+    fn whole_turns_bring_an_angle_into_its_limits() {
+        let joint = revolute(-1.0, 1.0);
+        assert_eq!(fit_into_limits(&joint, 0.5, 0.0), Ok(0.5));
+        let fitted = fit_into_limits(&joint, 0.5 + 3.0 * TAU, 0.0).unwrap();
+        assert!((fitted - 0.5).abs() < 1e-12);
+    }
+
+    #[test]
+    fn the_turn_nearest_the_near_pose_wins_on_wide_joints() {
+        let joint = revolute(-7.0, 7.0);
+        let fitted = fit_into_limits(&joint, 0.5, 6.0).unwrap();
+        assert!((fitted - (0.5 + TAU)).abs() < 1e-12);
+        let fitted = fit_into_limits(&joint, 0.5, -5.0).unwrap();
+        assert!((fitted - (0.5 - TAU)).abs() < 1e-12);
+    }
+
+    #[test]
+    fn an_angle_in_the_gap_reports_the_nearer_limit() {
+        // Limits −1..1 rad: 1.5 rad is 0.5 past the top; 3.0 rad is 3.0 − 2π = −3.28, 2.28
+        // below the bottom, or 2.0 past the top: the top is nearer.
+        let joint = revolute(-1.0, 1.0);
+        let (position, by) = fit_into_limits(&joint, 1.5, 0.0).unwrap_err();
+        assert!((position - 1.5).abs() < 1e-12 && (by - 0.5).abs() < 1e-12);
+        let (position, by) = fit_into_limits(&joint, 3.0, 0.0).unwrap_err();
+        assert!((position - 3.0).abs() < 1e-12 && (by - 2.0).abs() < 1e-12);
+        let (_, by) = fit_into_limits(&joint, -3.0, 0.0).unwrap_err();
+        assert!((by - 2.0).abs() < 1e-12);
+    }
+}
