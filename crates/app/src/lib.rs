@@ -7,4 +7,5 @@
 #![warn(missing_docs)]
 
 pub mod cli; // subcommands: check, pose, reach, envelope
+pub mod editor; // the desktop editor: views, joints, sequence, files, emergency stop
 pub mod scene; // the scene document: types, load, validate, migrate, save, unit conversion
