@@ -296,28 +296,40 @@ pub(crate) fn stretch_peak(
     let unreachable = ProfileError::StretchUnreachable {
         requested: duration,
     };
+    // Whether the two changes through a zero peak already cover more than the move: then small
+    // positive peaks do not fit, and long durations need the joint to back up.
+    let (covered_at_rest, rest_first, rest_last) =
+        changes_through(start, 0.0, end, acceleration, jerk);
+    let backs_up = covered_at_rest > distance + tolerance;
     let mut bracket = None;
     if fastest_peak > 0.0 {
-        bracket = forward_bracket(distance, start, end, fastest_peak, duration, &timing);
+        bracket = if backs_up {
+            bounded_forward_bracket(distance, start, end, fastest_peak, duration, limits)
+        } else {
+            forward_bracket(distance, start, end, fastest_peak, duration, &timing)
+        };
     }
-    if bracket.is_none() {
-        // Backing up: only when the changes through a zero peak cover more than the move.
-        let (covered_at_rest, _, _) = changes_through(start, 0.0, end, acceleration, jerk);
-        if covered_at_rest > distance + tolerance {
-            let lowest = if fastest_peak < 0.0 {
-                fastest_peak
+    if bracket.is_none() && backs_up {
+        let lowest = if fastest_peak < 0.0 {
+            fastest_peak
+        } else {
+            reversing_peak(distance, start, end, 0.0, limits)
+        };
+        if timing(lowest).0 <= duration {
+            // Near a zero peak the cruise dominates: T ≈ T(0 changes) + (h − D(0)) / peak.
+            let estimate = (distance - covered_at_rest)
+                / (duration - rest_first.duration - rest_last.duration);
+            let mut high = if estimate > lowest && estimate < 0.0 {
+                estimate
             } else {
-                reversing_peak(distance, start, end, 0.0, limits)
+                0.5 * lowest
             };
-            if timing(lowest).0 <= duration {
-                let mut high = 0.5 * lowest;
-                for _ in 0..1100 {
-                    if timing(high).0 >= duration {
-                        bracket = Some((lowest, high));
-                        break;
-                    }
-                    high *= 0.5;
+            for _ in 0..1100 {
+                if timing(high).0 >= duration {
+                    bracket = Some((lowest, high));
+                    break;
                 }
+                high *= 0.5;
             }
         }
     }
@@ -340,6 +352,33 @@ pub(crate) fn stretch_peak(
         cruise,
         last,
     })
+}
+
+/// Like [`forward_bracket`] when the changes through a zero peak cover more than the move:
+/// positive peaks then fit only down to the one whose changes alone cover the move, so the
+/// bracket is searched between that peak and the usual shape's lowest.
+fn bounded_forward_bracket(
+    distance: f64,
+    start: f64,
+    end: f64,
+    fastest_peak: f64,
+    duration: f64,
+    limits: (f64, f64, f64),
+) -> Option<(f64, f64)> {
+    let (_, acceleration, jerk) = limits;
+    let timing = |peak: f64| duration_through(distance, start, peak, end, acceleration, jerk).0;
+    let low = start.max(end);
+    if !(low > 0.0 && low <= fastest_peak) {
+        return None;
+    }
+    if timing(low) >= duration {
+        return Some((low, fastest_peak));
+    }
+    let fitting = solve_bracketed(0.0, low, 1e-14 * distance.max(1e-12), |peak| {
+        let (covered, slope) = covered_with_slope(start, peak, end, acceleration, jerk);
+        (covered - distance, slope)
+    });
+    (fitting > 0.0 && timing(fitting) >= duration).then_some((fitting, low))
 }
 
 /// A bracket `(low, high)` of positive peak velocities whose durations straddle `duration`,
