@@ -78,7 +78,7 @@ pub fn tool_pose(arm: &Arm, positions: &[f64]) -> Result<Isometry3<f64>, Kinemat
 /// rotation is usually the identity and is skipped; the turn is built from the unit axis and
 /// the half angle directly (no square root), and about a coordinate axis half of the
 /// quaternion product's terms vanish.
-#[inline]
+#[inline(always)]
 pub(crate) fn joint_frame(previous: &Isometry3<f64>, joint: &Joint, q: f64) -> Isometry3<f64> {
     let origin = &joint.origin;
     let rotation = if origin.rotation.w != 1.0 {
@@ -105,7 +105,7 @@ pub(crate) fn joint_frame(previous: &Isometry3<f64>, joint: &Joint, q: f64) -> I
 }
 
 /// `first · second`, the same as nalgebra's `Isometry3` product, in plain arithmetic.
-#[inline]
+#[inline(always)]
 fn compose(first: &Isometry3<f64>, second: &Isometry3<f64>) -> Isometry3<f64> {
     Isometry3::from_parts(
         Translation3::from(
@@ -116,7 +116,7 @@ fn compose(first: &Isometry3<f64>, second: &Isometry3<f64>) -> Isometry3<f64> {
 }
 
 /// `v` turned by the unit quaternion: v + 2w(u × v) + 2u × (u × v), u its vector part.
-#[inline]
+#[inline(always)]
 pub(crate) fn rotate(rotation: &UnitQuaternion<f64>, v: &Vector3<f64>) -> Vector3<f64> {
     let q = rotation.quaternion();
     let (w, x, y, z) = (q.w, q.i, q.j, q.k);
@@ -131,7 +131,7 @@ pub(crate) fn rotate(rotation: &UnitQuaternion<f64>, v: &Vector3<f64>) -> Vector
 }
 
 /// The Hamilton product of two unit quaternions.
-#[inline]
+#[inline(always)]
 fn product(a: &UnitQuaternion<f64>, b: &UnitQuaternion<f64>) -> UnitQuaternion<f64> {
     let (a, b) = (a.quaternion(), b.quaternion());
     UnitQuaternion::new_unchecked(Quaternion::new(
@@ -145,7 +145,7 @@ fn product(a: &UnitQuaternion<f64>, b: &UnitQuaternion<f64>) -> UnitQuaternion<f
 /// `rotation` followed by a turn about the unit `axis` whose half angle has the given sine and
 /// cosine: the product with (cos, sin·axis), shortened when the axis is a coordinate axis (as
 /// every built-in arm type's are).
-#[inline]
+#[inline(always)]
 fn turned(
     rotation: &UnitQuaternion<f64>,
     axis: &Vector3<f64>,
@@ -196,7 +196,7 @@ const HALF_PI_TAIL: f64 = 6.077100506506192e-11;
 /// sin r and cos r come from their Taylor series, sin r = Σ (−1)ⁿ r²ⁿ⁺¹/(2n+1)! to r¹⁷ and
 /// cos r = Σ (−1)ⁿ r²ⁿ/(2n)! to r¹⁸, whose next terms are below 1e-19 there. Angles beyond
 /// ±1e5 rad, and non-finite ones, go to the standard library.
-#[inline]
+#[inline(always)]
 pub(crate) fn sin_cos(x: f64) -> (f64, f64) {
     if x.is_nan() || x.abs() >= 1.0e5 {
         return x.sin_cos();
