@@ -230,6 +230,10 @@ pub fn reach_map(arm: &Arm, view: &MapView, options: &MapOptions) -> ReachMap {
     let payload = options.payload_mass.unwrap_or(arm.payload_mass());
     let context = Context {
         arm,
+        chain_reach: match arm.arm_type() {
+            ArmType::Chain(_) => chain_reach(arm),
+            _ => f64::INFINITY,
+        },
         derating: options.derating,
         payload,
         angles: angle_set(options),
@@ -381,6 +385,8 @@ fn fill_cells(map: &mut ReachMap, mut value: impl FnMut(Vector3<f64>) -> Option<
 
 struct Context<'a> {
     arm: &'a Arm,
+    /// Bound on a chain's reach from the base origin, in m (infinite for built-in types).
+    chain_reach: f64,
     derating: f64,
     payload: f64,
     angles: AngleSet,
@@ -582,6 +588,10 @@ impl Context<'_> {
         point: Vector3<f64>,
         near: &[f64; MAX_JOINTS],
     ) -> Option<[f64; MAX_JOINTS]> {
+        // Past the bound on the chain's reach no start can succeed.
+        if point.norm() > self.chain_reach {
+            return None;
+        }
         let options = IkOptions {
             max_iterations: 30,
             restarts: 1,
