@@ -169,16 +169,27 @@ pub(crate) fn changes_through(
 /// bracket, takes Newton steps, and bisects whenever a step leaves the bracket. Stops when
 /// `|f(x)| ≤ tolerance` or the bracket cannot shrink further. Returns the best `x` found.
 pub(crate) fn solve_bracketed(
-    mut lo: f64,
-    mut hi: f64,
+    lo: f64,
+    hi: f64,
     tolerance: f64,
     f: impl Fn(f64) -> (f64, f64),
 ) -> f64 {
     let (f_lo, _) = f(lo);
+    let (f_hi, _) = f(hi);
+    solve_bracketed_from(lo, hi, (f_lo, f_hi), tolerance, f)
+}
+
+/// [`solve_bracketed`] with the values at both ends already known.
+pub(crate) fn solve_bracketed_from(
+    mut lo: f64,
+    mut hi: f64,
+    (f_lo, f_hi): (f64, f64),
+    tolerance: f64,
+    f: impl Fn(f64) -> (f64, f64),
+) -> f64 {
     if f_lo.abs() <= tolerance {
         return lo;
     }
-    let (f_hi, _) = f(hi);
     if f_hi.abs() <= tolerance {
         return hi;
     }
@@ -296,6 +307,21 @@ pub(crate) fn stretch_peak(
     let unreachable = ProfileError::StretchUnreachable {
         requested: duration,
     };
+    // The usual case first: a peak between the boundary velocities and the fastest peak.
+    let usual_low = start.max(end);
+    if fastest_peak > 0.0 && usual_low > 0.0 && usual_low <= fastest_peak {
+        let at_low = timing(usual_low).0;
+        if at_low >= duration {
+            let fastest_duration = parts.first.duration + parts.cruise + parts.last.duration;
+            let ends = (at_low - duration, fastest_duration - duration);
+            let peak =
+                solve_bracketed_from(usual_low, fastest_peak, ends, 1e-14 * duration, |peak| {
+                    let (time, slope, _) = timing(peak);
+                    (time - duration, slope)
+                });
+            return finish_stretch(distance, start, peak, end, duration, (acceleration, jerk));
+        }
+    }
     // Whether the two changes through a zero peak already cover more than the move: then small
     // positive peaks do not fit, and long durations need the joint to back up.
     let (covered_at_rest, rest_first, rest_last) =
@@ -338,11 +364,25 @@ pub(crate) fn stretch_peak(
         let (time, slope, _) = timing(peak);
         (time - duration, slope)
     });
+    finish_stretch(distance, start, peak, end, duration, (acceleration, jerk))
+}
+
+/// The parts through `peak` that take `duration` s, checked to cover `distance`.
+fn finish_stretch(
+    distance: f64,
+    start: f64,
+    peak: f64,
+    end: f64,
+    duration: f64,
+    (acceleration, jerk): (f64, f64),
+) -> Result<ThreePart, ProfileError> {
     let (covered, first, last) = changes_through(start, peak, end, acceleration, jerk);
     let cruise = (duration - first.duration - last.duration).max(0.0);
     let miss = distance - covered - peak * cruise;
     if miss.is_nan() || miss.abs() > 1e-9 * distance.max(1e-6) {
-        return Err(unreachable);
+        return Err(ProfileError::StretchUnreachable {
+            requested: duration,
+        });
     }
     Ok(ThreePart {
         start_velocity: start,
