@@ -25,6 +25,46 @@ pub const STANDARD_GRAVITY: f64 = 9.80665;
 /// # Errors
 /// [`KinematicsError`] if the count is wrong, a position is not finite, or the payload is
 /// negative or not finite.
+///
+/// # Example
+/// One horizontal lever holding 90 g, 30 cm out: τ = m·g·r ≈ 0.265 N·m (26.5 N·cm).
+/// ```
+/// use armwright_kinematics::*;
+/// use nalgebra::{Isometry3, Vector3};
+/// # let servo = ServoSpec { stall_torque: 1.96, no_load_speed: 6.0, deadband_us: 4.0,
+/// #     proportional_band_us: 40.0, backlash: 0.01, mass: 0.05,
+/// #     mount_offset: Vector3::zeros(), drive_ratio: 1.0 };
+/// # let calibration = Calibration { position_a: -1.57, pulse_a_us: 1000.0, position_b: 1.57,
+/// #     pulse_b_us: 2000.0, pulse_min_us: 900.0, pulse_max_us: 2100.0 };
+/// let arm = Arm::new(ArmDescription {
+///     arm_type: ArmType::Chain(ChainDims::OriginAxis {
+///         joints: vec![JointPlacement {
+///             kind: JointKind::Revolute,
+///             axis: -Vector3::y(), // a positive angle lifts the lever
+///             point: Vector3::zeros(),
+///         }],
+///         tool_home: Isometry3::translation(0.3, 0.0, 0.0),
+///     }),
+///     joints: vec![JointSpec {
+///         name: "lever".into(),
+///         min: -1.5,
+///         max: 1.5,
+///         home: 0.0,
+///         servo,
+///         calibration,
+///         link_mass: MassProperties::zero(),
+///     }],
+///     tool_mass: MassProperties::zero(),
+///     payload_mass: 0.0,
+///     gripper: None,
+/// })?;
+/// let holding = gravity_torques(&arm, &[0.0], 0.090)?;
+/// assert!((holding.as_slice()[0] - 0.090 * STANDARD_GRAVITY * 0.3).abs() < 1e-12);
+/// // Against a 1.96 N·m servo derated to half its stall torque: about 27 % used.
+/// let share = torque_use(&arm, &holding, 0.5);
+/// assert!((share.as_slice()[0] - 0.2648 / 0.98).abs() < 1e-3);
+/// # Ok::<(), Box<dyn std::error::Error>>(())
+/// ```
 pub fn gravity_torques(
     arm: &Arm,
     positions: &[f64],

@@ -67,14 +67,7 @@ impl JointEfforts {
 /// A `derating` that is not a positive finite number leaves no usable rating: every joint with
 /// any effort reports infinity, and a joint with none reports 0.
 ///
-/// # Example
-/// ```
-/// # use armwright_kinematics::{JointEfforts, torque_use};
-/// # fn demo(arm: &armwright_kinematics::Arm) {
-/// let holding = JointEfforts::from_slice(&[0.2, 0.5, 0.1, 0.0]);
-/// let share = torque_use(arm, &holding, 0.5);
-/// # }
-/// ```
+/// See [`gravity_torques`](crate::gravity_torques) for an example.
 pub fn torque_use(arm: &Arm, efforts: &JointEfforts, derating: f64) -> JointEfforts {
     let mut shares = JointEfforts::zeros(efforts.len().min(arm.joint_count()));
     for (share, (joint, effort)) in shares
