@@ -3,18 +3,22 @@
 //! Naming scheme: one file per published method, named after the method —
 //! `trapezoid.rs` (velocity and acceleration limited) and `double_s.rs` (jerk limited, after
 //! Biagiotti & Melchiorri, *Trajectory Planning for Automatic Machines and Robots*, Springer
-//! 2008, ch. 3). `phases.rs` holds the representation both methods produce: seven phases of
-//! constant jerk. `limits.rs` holds the inputs (a joint's move and limits) and their checks.
+//! 2008, ch. 3). `phases.rs` holds the [`Profile`] value both methods produce and evaluates it
+//! phase by phase (up to seven phases of constant jerk). `limits.rs` holds the inputs (a
+//! joint's move and limits) and their checks. This file holds what the methods share: a
+//! time-optimal velocity change, the three-part shape, the root finder and stretching.
 //!
 //! Every profile has the same three-part shape: a velocity change from the start velocity to a
 //! peak velocity, a cruise at the peak velocity, and a velocity change to the end velocity.
 //! The methods differ in how a velocity change is made (constant acceleration, or an S-curve
 //! with limited jerk). Internally the maths works in a frame where the displacement is not
-//! negative; the sign is put back when the phases are built.
+//! negative; the sign is put back when the profile is evaluated. The peak velocity may lie
+//! below a boundary velocity, and below zero when a move is too short for its boundary
+//! velocities (the joint backs up).
 
 mod double_s; // jerk-limited double-S: minimum time, peak velocity search, stretching
 mod limits; // JointMove, JointLimits, ProfileError and their validation
-mod phases; // seven constant-jerk phases: the Profile value and its evaluation
+mod phases; // the Profile value and its evaluation, phase by phase
 mod trapezoid; // velocity and acceleration limited trapezoid: closed forms
 
 pub use limits::{Boundary, JointLimits, JointMove, LimitKind, ProfileError};
