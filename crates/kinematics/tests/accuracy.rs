@@ -9,6 +9,7 @@ use armwright_kinematics::{
 };
 use common::{Seeded, articulated, joint, random_chain, scara};
 use nalgebra::{Isometry3, Vector3};
+use proptest::prelude::*;
 use std::f64::consts::PI;
 
 /// One revolute joint about +Z with the tool point `reach` m out along +X; its servo has the
@@ -123,4 +124,15 @@ fn bad_poses_are_refused() {
         accuracy_budget(&arm, &[0.0, f64::NAN, 0.0, 0.0]),
         Err(KinematicsError::NotFinite { joint: 1, .. })
     ));
+}
+
+proptest! {
+    #[test]
+    fn no_pose_makes_the_budget_panic(q in prop::collection::vec(any::<f64>(), 0..10)) {
+        let arm = articulated(true);
+        match accuracy_budget(&arm, &q) {
+            Ok(budget) => prop_assert!(budget.worst.is_finite() && budget.rss <= budget.worst),
+            Err(_) => prop_assert!(q.len() != 5 || q.iter().any(|v| !v.is_finite())),
+        }
+    }
 }

@@ -292,3 +292,31 @@ proptest! {
         prop_assert!(eigenvalues.min() > 0.0, "eigenvalues {eigenvalues}");
     }
 }
+
+/// Any f64 at all, NaN, infinities and huge values included.
+fn any_value() -> impl Strategy<Value = f64> {
+    prop_oneof![
+        any::<f64>(),
+        Just(f64::NAN),
+        Just(f64::INFINITY),
+        Just(-1e300),
+        -10.0f64..10.0
+    ]
+}
+
+proptest! {
+    #[test]
+    fn no_input_makes_dynamics_panic(
+        q in prop::collection::vec(any_value(), 0..10),
+        qd in prop::collection::vec(any_value(), 0..10),
+        qdd in prop::collection::vec(any_value(), 0..10),
+        payload in any_value(),
+        joint in 0usize..12,
+    ) {
+        for arm in [scara(), articulated(true)] {
+            let _ = inverse_dynamics(&arm, &q, &qd, &qdd, payload);
+            let _ = joint_inertia(&arm, &q, payload, joint);
+            let _ = gravity_torques(&arm, &q, payload);
+        }
+    }
+}

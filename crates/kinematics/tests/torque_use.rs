@@ -4,6 +4,7 @@ mod common;
 
 use armwright_kinematics::{JointEfforts, gravity_torques, torque_use};
 use common::{articulated, scara};
+use proptest::prelude::*;
 
 #[test]
 fn half_the_stall_torque_at_half_derating_is_full_use() {
@@ -48,4 +49,19 @@ fn gravity_share_of_a_hanging_payload() {
         assert!((s - t.abs() / (1.96 * 0.8)).abs() < 1e-12, "joint {index}");
     }
     assert_eq!(share.len(), 5);
+}
+
+proptest! {
+    #[test]
+    fn any_efforts_and_derating_give_one_share_per_joint(
+        efforts in prop::collection::vec(any::<f64>(), 0..12),
+        derating in any::<f64>(),
+    ) {
+        let arm = articulated(false);
+        let share = torque_use(&arm, &JointEfforts::from_slice(&efforts), derating);
+        prop_assert_eq!(share.len(), efforts.len().min(4));
+        for (s, e) in share.as_slice().iter().zip(&efforts) {
+            prop_assert!(e.is_nan() || *s >= 0.0);
+        }
+    }
 }
