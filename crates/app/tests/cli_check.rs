@@ -172,3 +172,76 @@ fn the_description_recomputes_forward_kinematics_by_product_of_exponentials() {
         }
     }
 }
+
+/// The articulated test arm's joints on a general chain, in the given convention.
+fn as_chain(chain: Value) -> Value {
+    let mut document = articulated5();
+    document["arm"]["type"] = json!("chain");
+    document["arm"]
+        .as_object_mut()
+        .unwrap()
+        .remove("dimensions");
+    document["arm"]["chain"] = chain;
+    document["waypoints"] = json!([]);
+    let joints = document["arm"]["joints"].as_array_mut().unwrap();
+    joints.truncate(3);
+    document
+}
+
+#[test]
+fn chains_in_both_conventions_describe_themselves_consistently() {
+    // Standard Denavit–Hartenberg: a base yaw, then two pitch joints (α = 90° turns the second
+    // axis horizontal), 100 mm and 80 mm links.
+    let dh = as_chain(json!({
+        "convention": "standard_dh",
+        "rows": [
+            { "kind": "revolute", "a_mm": 0.0, "alpha_deg": 90.0, "d_mm": 60.0, "theta_deg": 0.0 },
+            { "kind": "revolute", "a_mm": 100.0, "alpha_deg": 0.0, "d_mm": 0.0, "theta_deg": 0.0 },
+            { "kind": "revolute", "a_mm": 80.0, "alpha_deg": 0.0, "d_mm": 0.0, "theta_deg": 0.0 }
+        ],
+        "tool": { "position_mm": [0.0, 0.0, 0.0], "rotation_xyz_deg": [0.0, 0.0, 0.0] }
+    }));
+    // The same arm by origin and axis: axes z, then −y twice (a positive angle lifts).
+    let origin_axis = as_chain(json!({
+        "convention": "origin_axis",
+        "axes": [
+            { "kind": "revolute", "axis": [0.0, 0.0, 1.0], "origin_mm": [0.0, 0.0, 0.0] },
+            { "kind": "revolute", "axis": [0.0, -1.0, 0.0], "origin_mm": [0.0, 0.0, 60.0] },
+            { "kind": "revolute", "axis": [0.0, -1.0, 0.0], "origin_mm": [100.0, 0.0, 60.0] }
+        ],
+        "tool_home": { "position_mm": [180.0, 0.0, 60.0], "rotation_xyz_deg": [0.0, 0.0, 0.0] }
+    }));
+    for (name, document) in [("dh", dh), ("origin-axis", origin_axis)] {
+        let file = common::scene_file(&format!("check-chain-{name}"), &document);
+        let (code, described) = armwright_json(&["check", &file, "--json"]);
+        assert_eq!(code, 0, "{described}");
+        assert_eq!(described["arm"]["type"], json!("chain"));
+        assert_eq!(
+            numbers(&described["arm"]["tool_home_mm"]),
+            [180.0, 0.0, 60.0],
+            "{name}"
+        );
+        for pose in [[30.0, 40.0, -70.0], [-80.0, 10.0, 60.0]] {
+            let joints = pose.map(|v| v.to_string()).join(",");
+            let (code, out) =
+                armwright_json(&["pose", &file, &format!("--joints={joints}"), "--json"]);
+            assert_eq!(code, 0, "{out}");
+            let recomputed = product_of_exponentials(&described["arm"], &pose);
+            assert!(
+                (recomputed - vector(&out["tool_mm"])).norm() < 1e-3,
+                "{name} {pose:?}"
+            );
+        }
+        // Damped least squares finds its way back to a reachable point.
+        let (code, out) = armwright_json(&["reach", &file, "--to=120,40,90", "--json"]);
+        assert_eq!(code, 0, "{name}: {out}");
+        let chosen = numbers(&out["chosen_deg"]);
+        let joints = chosen
+            .iter()
+            .map(|v| v.to_string())
+            .collect::<Vec<_>>()
+            .join(",");
+        let (_, back) = armwright_json(&["pose", &file, &format!("--joints={joints}"), "--json"]);
+        assert!((vector(&back["tool_mm"]) - Vector3::new(120.0, 40.0, 90.0)).norm() < 1e-2);
+    }
+}
