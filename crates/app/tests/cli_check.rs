@@ -54,9 +54,13 @@ fn a_scene_with_problems_exits_1_and_lists_every_path() {
             "arm.joints[2].servo.stall_torque_ncm"
         ]
     );
-    let (code, _, stderr) = armwright(&["check", &file]);
+    let (code, stdout, _) = armwright(&["check", &file]);
     assert_eq!(code, 1);
-    assert!(stderr.contains("arm.joints[1].max_deg:"), "{stderr}");
+    assert!(stdout.contains("2 problem(s)"), "{stdout}");
+    assert!(
+        stdout.contains("  arm.joints[1].max_deg: max_deg (-20) must be above min_deg (-10)"),
+        "{stdout}"
+    );
 }
 
 #[test]

@@ -9,16 +9,24 @@ use serde_json::{Value, json};
 
 use super::Outcome;
 use super::report::{all_rounded, load_scene, print_json, problems_json, rounded};
-use crate::scene::{JointKindDoc, Scene, position_to_file_unit};
+use crate::scene::{JointKindDoc, Scene, SceneError, load, position_to_file_unit};
 
 /// Digits kept for mm and degrees in the description (1 nm, 1e-6 °): well below anything a
 /// hobby arm can show, so a product-of-exponentials check agrees to 1e-6 mm.
 const DECIMALS: i32 = 6;
 
 pub(crate) fn run(file: &Path, json: bool) -> Outcome {
+    // The problems are what `check` is asked for: in text they go to standard output, one per
+    // line with its JSON path (other subcommands print them to standard error).
+    if !json && let Err(SceneError::Problems { problems }) = load(file) {
+        println!("{}: {} problem(s)", file.display(), problems.len());
+        for problem in &problems {
+            println!("  {problem}");
+        }
+        return Outcome::Refused;
+    }
     let (scene, arm) = match load_scene(file, json) {
         Ok(loaded) => loaded,
-        // The problems went to standard output (JSON) or standard error (text) with paths.
         Err(outcome) => return outcome,
     };
     let description = describe(&scene, &arm);
