@@ -55,8 +55,10 @@ pub fn inverse_dynamics(
 /// joint-space mass matrix, with a payload of `payload_mass` kg at the tool point.
 ///
 /// It is the effort needed per unit acceleration of that joint alone with the arm at rest and
-/// without gravity: kg·m² for a revolute joint, kg for a prismatic one. The rest of the arm
-/// is taken as held still, as by the other servos.
+/// without gravity: kg·m² for a revolute joint, kg for a prismatic one, taken at the joint.
+/// Through a drive of ratio r ([`ServoSpec::drive_ratio`](crate::ServoSpec::drive_ratio)) the
+/// servo's output sees r² times this (kg·m² for a pinion of radius r m). The rest of the arm is
+/// taken as held still, as by the other servos.
 ///
 /// # Errors
 /// [`KinematicsError`] if the count is wrong, a position is not finite, the payload is negative
