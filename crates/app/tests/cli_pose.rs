@@ -3,7 +3,7 @@
 
 mod common;
 
-use common::{armwright, armwright_json, articulated5, scene_file};
+use common::{armwright, armwright_json, articulated5, scene_file, set};
 use serde_json::{Value, json};
 
 fn numbers(value: &Value) -> Vec<f64> {
@@ -63,15 +63,40 @@ fn the_stretched_arm_holds_what_statics_says() {
 }
 
 #[test]
-fn the_accuracy_budget_follows_the_lever_arm() {
+fn an_angular_error_of_0_4_degrees_at_300_mm_is_about_2_1_mm() {
     // Common practice: an angular error of 0.4° at 300 mm moves the tool point about 2.1 mm
-    // (300 · 0.4 · π/180 = 2.09 mm). Here every joint's uncertainty is the same, so folding
-    // the arm shortens the levers and the worst case must fall.
-    let file = scene_file("pose-accuracy", &articulated5());
-    let (_, stretched) = armwright_json(&["pose", &file, "--joints", "0,0,0,0,0", "--json"]);
+    // (300 · 0.4 · π/180 = 2.094 mm). Only the base servo has play here: 0.8° of backlash in
+    // total, ± 0.4° about the command; no deadband anywhere. Stretched, the tool point is
+    // 300 mm from the base axis.
+    let mut document = articulated5();
+    for joint in 0..5 {
+        set(
+            &mut document,
+            &format!("/arm/joints/{joint}/servo/deadband_us"),
+            json!(0.0),
+        );
+        set(
+            &mut document,
+            &format!("/arm/joints/{joint}/servo/backlash_deg"),
+            json!(0.0),
+        );
+    }
+    set(
+        &mut document,
+        "/arm/joints/0/servo/backlash_deg",
+        json!(0.8),
+    );
+    let file = scene_file("pose-accuracy", &document);
+    let (code, out) = armwright_json(&["pose", &file, "--joints", "0,0,0,0,0", "--json"]);
+    assert_eq!(code, 0, "{out}");
+    let expected = 300.0 * 0.4_f64.to_radians();
+    for key in ["worst", "rss"] {
+        let value = out["accuracy_mm"][key].as_f64().unwrap();
+        assert!(close(value, expected, 1e-3), "{key}: {value} vs {expected}");
+    }
+    // Folded in, the same play moves the tool point less.
     let (_, folded) = armwright_json(&["pose", &file, "--joints", "0,90,-140,0,0", "--json"]);
-    let worst = |out: &Value| out["accuracy_mm"]["worst"].as_f64().unwrap();
-    assert!(worst(&folded) < worst(&stretched));
+    assert!(folded["accuracy_mm"]["worst"].as_f64().unwrap() < expected);
 }
 
 #[test]
