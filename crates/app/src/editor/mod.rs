@@ -28,7 +28,10 @@ pub use sample::sample_scene;
 pub use state::{
     BranchChoice, Dialog, EditorState, Level, Message, ReachStatus, StopSource, StopState,
 };
-pub use views::{Camera, Plane, Projection, SidePlane, TopPlane, ViewKind};
+pub use views::{
+    Camera, MapKey, MapLayer, Plane, Projection, RAMP_TOP, ReachLayers, SidePlane, TopPlane,
+    ViewKind, torque_colour,
+};
 
 use std::path::PathBuf;
 use std::process::ExitCode;
@@ -64,6 +67,7 @@ pub struct Editor {
     pub state: EditorState,
     stop_link: Box<dyn StopLink>,
     cameras: [Camera; 2],
+    reach: ReachLayers,
     files: FileWorker,
     options: EditorOptions,
     /// egui time (s) of the last autosave, or of the first frame.
@@ -90,6 +94,7 @@ impl Editor {
             state,
             stop_link,
             cameras: [Camera::default(), Camera::default()],
+            reach: ReachLayers::default(),
             files: FileWorker::default(),
             options,
             last_autosave: None,
@@ -153,6 +158,16 @@ impl Editor {
         }
     }
 
+    /// A view's newest reach envelope and torque-use map, once computed.
+    pub fn reach_layer(&self, kind: ViewKind) -> Option<&MapLayer> {
+        self.reach.layer(kind)
+    }
+
+    /// Whether a reach map is being computed.
+    pub fn is_mapping(&self) -> bool {
+        self.reach.busy()
+    }
+
     /// Whether file work is still running on a worker thread.
     pub fn is_busy(&self) -> bool {
         self.files.busy()
@@ -210,6 +225,7 @@ impl Editor {
             }
         }
         self.autosave(ctx);
+        self.reach.update(ctx, &self.state);
         let title = self.window_title();
         if title != self.title {
             ctx.send_viewport_cmd(egui::ViewportCommand::Title(title.clone()));
@@ -271,14 +287,18 @@ impl Editor {
             let side_rect =
                 Rect::from_min_size(pos2(rect.min.x + half + gap, rect.min.y), top_rect.size());
             let [top_camera, side_camera] = &mut self.cameras;
+            let (top_map, side_map) = (
+                self.reach.layer(ViewKind::Top),
+                self.reach.layer(ViewKind::Side),
+            );
             let from_top = ui
                 .scope_builder(UiBuilder::new().max_rect(top_rect), |ui| {
-                    views::show_view(ui, &self.state, ViewKind::Top, top_camera)
+                    views::show_view(ui, &self.state, ViewKind::Top, top_camera, top_map)
                 })
                 .inner;
             let from_side = ui
                 .scope_builder(UiBuilder::new().max_rect(side_rect), |ui| {
-                    views::show_view(ui, &self.state, ViewKind::Side, side_camera)
+                    views::show_view(ui, &self.state, ViewKind::Side, side_camera, side_map)
                 })
                 .inner;
             from_top.then(from_side)

@@ -1,5 +1,6 @@
-//! The scene the editor opens when no file is given: a small four-joint articulated arm that
-//! draws with a pen on a table, with a pen holder and a paper tray. Our own invented scenario.
+//! The scene the editor opens when no file is given: the bundled pen-plotter sample
+//! (`sample-scenes/pen-plotter.armwright.json`, built into the binary), or, should that ever fail
+//! to load, a small pen-plotting arm built here. Both are our own invented scenarios.
 
 use crate::scene::{
     ArmDoc, ArmShape, ArticulatedSize, BandDoc, BoxDoc, CalibrationDoc, CalibrationPoint,
@@ -7,8 +8,16 @@ use crate::scene::{
     Timing, ToolMassDoc, TrayDoc, Waypoint, Workspace,
 };
 
-/// The built-in sample scene.
+/// The bundled pen-plotter sample, as the file's bytes.
+const PEN_PLOTTER: &[u8] = include_bytes!("../../../../sample-scenes/pen-plotter.armwright.json");
+
+/// The sample scene the editor opens when no file is given.
 pub fn sample_scene() -> Scene {
+    crate::scene::load_bytes(PEN_PLOTTER).unwrap_or_else(|_| built_in_scene())
+}
+
+/// A pen-plotting arm built in code, used if the bundled sample cannot be read.
+fn built_in_scene() -> Scene {
     let joint = |name: &str, min: f64, max: f64, home: f64, stall_ncm: f64, mass_g: f64| {
         JointDoc {
             name: name.to_string(),
@@ -125,9 +134,11 @@ mod tests {
     use super::*;
 
     #[test]
-    fn sample_scene_passes_the_scene_checks() {
-        let scene = sample_scene();
-        assert_eq!(crate::scene::validate(&scene), Vec::new());
-        assert!(crate::scene::build_arm(&scene.arm).is_ok());
+    fn both_samples_pass_the_scene_checks() {
+        assert!(crate::scene::load_bytes(PEN_PLOTTER).is_ok());
+        for scene in [sample_scene(), built_in_scene()] {
+            assert_eq!(crate::scene::validate(&scene), Vec::new());
+            assert!(crate::scene::build_arm(&scene.arm).is_ok());
+        }
     }
 }

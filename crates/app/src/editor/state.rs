@@ -5,7 +5,8 @@
 use std::path::PathBuf;
 
 use armwright_kinematics::{
-    Arm, ArmType, IkTarget, JointKind, gravity_torques, tool_pose, torque_use,
+    AccuracyBudget, Arm, ArmType, IkTarget, JointKind, accuracy_budget, gravity_torques, tool_pose,
+    torque_use,
 };
 
 use super::history::History;
@@ -149,6 +150,8 @@ pub struct EditorState {
     /// Torque use of each joint holding the current pose against gravity with the payload, as a
     /// share of its derated rating (1.0 = 100 %).
     pub torque_use: Vec<f64>,
+    /// The tool point's accuracy budget at the current pose (from servo deadband and backlash).
+    pub accuracy: Option<AccuracyBudget>,
     /// The selected waypoint, if any.
     pub selected_waypoint: Option<usize>,
     /// Undo and redo steps.
@@ -186,6 +189,7 @@ impl EditorState {
             branch_choices: Vec::new(),
             reach: ReachStatus::Idle,
             torque_use: Vec::new(),
+            accuracy: None,
             selected_waypoint: None,
             history: History::default(),
             dirty: false,
@@ -330,8 +334,10 @@ impl EditorState {
     pub(crate) fn pose_changed(&mut self) {
         let Some(arm) = self.arm.as_ref() else {
             self.torque_use.clear();
+            self.accuracy = None;
             return;
         };
+        self.accuracy = accuracy_budget(arm, &self.pose).ok();
         let derating = self.scene.timing.torque_derating_pct / 100.0;
         self.torque_use = gravity_torques(arm, &self.pose, arm.payload_mass())
             .map(|efforts| torque_use(arm, &efforts, derating).as_slice().to_vec())

@@ -7,6 +7,7 @@ use std::sync::mpsc::Receiver;
 use std::time::{Duration, Instant};
 
 use armwright::editor::{ChannelStopLink, Editor, EditorOptions, StopRequest};
+use egui::{Event, Modifiers, PointerButton, Pos2};
 use egui_kittest::Harness;
 
 /// A fresh scratch folder under the system's temporary folder, named for the test.
@@ -55,4 +56,33 @@ pub fn settle(harness: &mut Harness<'static, Editor>) {
         harness.step();
     }
     harness.run_steps(2);
+}
+
+/// Presses on `from`, moves in small steps to `to` and releases, one frame per event.
+pub fn drag(
+    harness: &mut egui_kittest::Harness<'static, armwright::editor::Editor>,
+    from: Pos2,
+    to: Pos2,
+) {
+    harness.hover_at(from);
+    harness.step();
+    harness.event(Event::PointerButton {
+        pos: from,
+        button: PointerButton::Primary,
+        pressed: true,
+        modifiers: Modifiers::NONE,
+    });
+    harness.step();
+    for i in 1..=10 {
+        let at = from + (to - from) * (i as f32 / 10.0);
+        harness.hover_at(at);
+        harness.step();
+    }
+    harness.event(Event::PointerButton {
+        pos: to,
+        button: PointerButton::Primary,
+        pressed: false,
+        modifiers: Modifiers::NONE,
+    });
+    harness.step();
 }

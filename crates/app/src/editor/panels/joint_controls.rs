@@ -161,7 +161,7 @@ mod tests {
             },
             (EditorState::new(sample_scene(), None), Vec::new()),
         );
-        harness.get_by_label_contains("closed (").click();
+        harness.get_by_label_contains("closed").click();
         harness.run();
         assert!(
             harness

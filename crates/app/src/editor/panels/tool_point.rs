@@ -39,6 +39,14 @@ pub fn tool_point(ui: &mut Ui, state: &EditorState) -> Command {
             command = Command::SetToolAngle(degrees.to_radians());
         }
     });
+    if let Some(budget) = &state.accuracy {
+        ui.label(format!(
+            "accuracy budget: worst ±{:.2} mm, RSS ±{:.2} mm",
+            budget.worst * 1e3,
+            budget.rss * 1e3
+        ))
+        .on_hover_text("from each servo's deadband and backlash at this pose");
+    }
     match (&state.reach, &state.branch) {
         (ReachStatus::Reached, Some(branch)) => {
             ui.colored_label(

@@ -11,6 +11,7 @@ use nalgebra::Vector3;
 use super::Plane;
 use super::ViewKind;
 use super::projection::{Projection, nice_length_mm};
+use super::reach_layer::{MapLayer, RAMP_TOP, torque_colour};
 use crate::editor::state::EditorState;
 use crate::scene::pose_from_file_units;
 
@@ -142,8 +143,8 @@ pub fn workspace(
         match kind {
             ViewKind::Top => {
                 painter.text(
-                    rect.right_bottom() + vec2(-10.0, -8.0),
-                    Align2::RIGHT_BOTTOM,
+                    rect.left_top() + vec2(10.0, 28.0),
+                    Align2::LEFT_TOP,
                     format!("table at {height_mm:.0} mm"),
                     FontId::proportional(12.0),
                     TABLE.gamma_multiply(2.5),
@@ -381,4 +382,100 @@ pub fn captions(painter: &Painter, rect: Rect, title: &str, problems: &[String])
             WARNING,
         );
     }
+}
+
+/// Envelope boundary.
+const ENVELOPE: Color32 = Color32::from_rgb(235, 235, 240);
+
+/// The torque-use shading and the reach envelope's boundary.
+pub fn reach(painter: &Painter, projection: &Projection, layer: &MapLayer) {
+    let extent = layer.map.extent();
+    let rect = projection.rect_of(
+        [extent.u_min * 1e3, extent.u_max * 1e3],
+        [extent.v_min * 1e3, extent.v_max * 1e3],
+    );
+    painter.image(
+        layer.texture.id(),
+        rect,
+        Rect::from_min_max(pos2(0.0, 0.0), pos2(1.0, 1.0)),
+        Color32::WHITE,
+    );
+    let stroke = Stroke::new(1.5, ENVELOPE.gamma_multiply(0.8));
+    for line in layer.map.boundary() {
+        let points: Vec<Pos2> = line
+            .iter()
+            .map(|[u, v]| projection.to_screen([u * 1e3, v * 1e3]))
+            .collect();
+        if points.len() > 1 {
+            painter.add(Shape::line(points, stroke));
+        }
+    }
+}
+
+/// The legend of the shading (continuous ramp, % of rated torque) and of the boundary, in the
+/// bottom-right corner.
+pub fn reach_legend(painter: &Painter, rect: Rect) {
+    let width = 180.0;
+    let bar = Rect::from_min_size(
+        rect.right_bottom() + vec2(-width - 16.0, -58.0),
+        vec2(width, 10.0),
+    );
+    painter.rect_filled(
+        bar.expand2(vec2(8.0, 30.0)).translate(vec2(0.0, 4.0)),
+        3.0,
+        BACKGROUND.gamma_multiply(0.85),
+    );
+    let steps = 45;
+    for step in 0..steps {
+        let t0 = step as f32 / steps as f32;
+        let t1 = (step + 1) as f32 / steps as f32;
+        let cell = Rect::from_min_max(
+            pos2(bar.left() + bar.width() * t0, bar.top()),
+            pos2(bar.left() + bar.width() * t1 + 0.5, bar.bottom()),
+        );
+        painter.rect_filled(
+            cell,
+            0.0,
+            torque_colour(RAMP_TOP * f64::from(t0 + t1) / 2.0),
+        );
+    }
+    let font = FontId::proportional(11.0);
+    for pct in [0.0, 50.0, 100.0, 150.0] {
+        let x = bar.left() + bar.width() * (pct / (RAMP_TOP * 100.0)) as f32;
+        painter.line_segment(
+            [pos2(x, bar.bottom()), pos2(x, bar.bottom() + 4.0)],
+            Stroke::new(1.0, LABEL),
+        );
+        let text = if pct >= RAMP_TOP * 100.0 {
+            format!("{pct:.0}+")
+        } else {
+            format!("{pct:.0}")
+        };
+        painter.text(
+            pos2(x, bar.bottom() + 5.0),
+            Align2::CENTER_TOP,
+            text,
+            font.clone(),
+            LABEL,
+        );
+    }
+    painter.text(
+        bar.left_top() + vec2(0.0, -3.0),
+        Align2::LEFT_BOTTOM,
+        "torque use, % of rated (best tool angle)",
+        font.clone(),
+        LABEL,
+    );
+    let line_y = bar.top() - 22.0;
+    painter.line_segment(
+        [pos2(bar.left(), line_y), pos2(bar.left() + 22.0, line_y)],
+        Stroke::new(1.5, ENVELOPE),
+    );
+    painter.text(
+        pos2(bar.left() + 28.0, line_y),
+        Align2::LEFT_CENTER,
+        "reach envelope",
+        font,
+        LABEL,
+    );
 }

@@ -5,6 +5,7 @@ use egui::{PointerButton, Pos2, Sense, Ui, Vec2};
 
 use super::drawing;
 use super::projection::{Projection, fit};
+use super::reach_layer::MapLayer;
 use super::{Plane, SidePlane, TopPlane, ViewKind};
 use crate::editor::command::Command;
 use crate::editor::state::EditorState;
@@ -41,7 +42,13 @@ impl Camera {
 }
 
 /// Shows one view filling the space `ui` has left.
-pub fn show_view(ui: &mut Ui, state: &EditorState, kind: ViewKind, camera: &mut Camera) -> Command {
+pub fn show_view(
+    ui: &mut Ui,
+    state: &EditorState,
+    kind: ViewKind,
+    camera: &mut Camera,
+    reach: Option<&MapLayer>,
+) -> Command {
     let (response, painter) = ui.allocate_painter(ui.available_size(), Sense::click_and_drag());
     let response = response.accessible_name(match kind {
         ViewKind::Top => "top view",
@@ -111,11 +118,17 @@ pub fn show_view(ui: &mut Ui, state: &EditorState, kind: ViewKind, camera: &mut 
 
     let clipped = painter.with_clip_rect(rect);
     drawing::grid(&clipped, &projection);
+    if let Some(layer) = reach {
+        drawing::reach(&clipped, &projection, layer);
+    }
     drawing::workspace(&clipped, &projection, plane, kind, state);
     drawing::waypoints(&clipped, &projection, plane, state);
     camera.tool_on_screen =
         drawing::arm(&clipped, &projection, plane, state, camera.grab.is_some());
     drawing::scale_bar(&clipped, &projection);
+    if reach.is_some() {
+        drawing::reach_legend(&clipped, rect);
+    }
     let title = match kind {
         ViewKind::Top => "Top view (X right, Y up)".to_string(),
         ViewKind::Side => format!("Side view at base yaw {:.1}°", yaw.to_degrees()),

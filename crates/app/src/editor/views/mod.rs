@@ -4,16 +4,19 @@
 //! on it and how a point on it becomes a drag target); `projection.rs` maps mm on a plane to
 //! screen points with zoom and pan; `drawing.rs` draws grid, scale bar, workspace objects, the
 //! arm and the tool point for any plane; `interaction.rs` turns pointer input into zoom, pan and
-//! tool-point drags.
+//! tool-point drags; `reach_layer.rs` computes the reach envelope and torque-use map off the UI
+//! thread and holds their textures.
 
 mod drawing;
 mod interaction;
 mod projection;
+mod reach_layer;
 mod side_view;
 mod top_view;
 
 pub use interaction::{Camera, show_view};
 pub use projection::Projection;
+pub use reach_layer::{MapKey, MapLayer, RAMP_TOP, ReachLayers, torque_colour};
 pub use side_view::SidePlane;
 pub use top_view::TopPlane;
 
