@@ -309,6 +309,22 @@ fn pointers(value: &Value, at: String, out: &mut Vec<String>) {
     out.push(at);
 }
 
+/// `arm.joints[2].servo` → ["arm", "joints", "2", "servo"].
+fn path_steps(path: &str) -> Vec<String> {
+    path.split('.')
+        .filter(|part| !part.is_empty())
+        .flat_map(|part| {
+            let mut pieces = part.split('[');
+            let head = pieces.next().unwrap_or("").to_string();
+            std::iter::once(head).chain(pieces.map(|index| index.trim_end_matches(']').to_string()))
+        })
+        .collect()
+}
+
+fn to_pointer(steps: &[String]) -> String {
+    steps.iter().map(|step| format!("/{step}")).collect()
+}
+
 proptest! {
     #![proptest_config(ProptestConfig::with_cases(256))]
 
@@ -363,6 +379,16 @@ proptest! {
         if let Some(node) = document.pointer_mut(&pointer) {
             *node = replacement;
         }
-        let _ = load_bytes(document.to_string().as_bytes());
+        // Every problem names a place in the document: the field itself, or for a missing
+        // field, the object it is missing from.
+        if let Err(SceneError::Problems { problems }) = load_bytes(document.to_string().as_bytes()) {
+            prop_assert!(!problems.is_empty());
+            for problem in problems {
+                let steps = path_steps(&problem.path);
+                let found = document.pointer(&to_pointer(&steps)).is_some()
+                    || document.pointer(&to_pointer(&steps[..steps.len().saturating_sub(1)])).is_some();
+                prop_assert!(found, "{} names no place in {}", problem.path, document);
+            }
+        }
     }
 }
