@@ -1,7 +1,10 @@
-//! One editor frame, CPU side: the egui pass (every panel, both views, 500 waypoints in the
-//! sequence) and tessellation, without the GPU. Target: at most 4 ms median.
+//! One editor frame, CPU side: the egui pass (every panel, both views with their reach maps,
+//! 500 waypoints in the sequence) and tessellation, without the GPU. Target: at most 4 ms
+//! median.
 
-use armwright::editor::{ChannelStopLink, Editor, EditorOptions, EditorState, sample_scene};
+use armwright::editor::{
+    ChannelStopLink, Editor, EditorOptions, EditorState, ViewKind, sample_scene,
+};
 use armwright::scene::Waypoint;
 use criterion::{Criterion, criterion_group, criterion_main};
 use egui::{RawInput, Rect, pos2, vec2};
@@ -61,6 +64,23 @@ fn editor_frame(c: &mut Criterion) {
             editor.ui(ui);
         });
     }
+    // Wait for both views' reach maps (made on worker threads) so the frame draws them too.
+    let start = std::time::Instant::now();
+    while (editor.reach_layer(ViewKind::Top).is_none()
+        || editor.reach_layer(ViewKind::Side).is_none())
+        && start.elapsed() < std::time::Duration::from_secs(60)
+    {
+        std::thread::sleep(std::time::Duration::from_millis(20));
+        time += 1.0 / 60.0;
+        let _ = ctx.run_ui(input(time), |ui| {
+            editor.logic(ui.ctx());
+            editor.ui(ui);
+        });
+    }
+    assert!(
+        editor.reach_layer(ViewKind::Top).is_some(),
+        "no reach map after 60 s"
+    );
     c.bench_function("editor_frame_500_waypoints_both_views", |b| {
         b.iter(|| {
             time += 1.0 / 60.0;

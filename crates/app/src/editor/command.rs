@@ -566,6 +566,147 @@ fn jumps(kinds: &[JointKind], from: &[f64], to: &[f64]) -> bool {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::editor::estop::ChannelStopLink;
+    use crate::editor::sample::sample_scene;
+
+    fn run(state: &mut EditorState, command: Command) -> Vec<Outside> {
+        let (mut link, _requests) = ChannelStopLink::new();
+        let mut outside = Vec::new();
+        apply(state, command, &mut link, 7, &mut outside);
+        outside
+    }
+
+    #[test]
+    fn repeated_edits_of_one_field_are_one_undo_step() {
+        let mut state = EditorState::new(sample_scene(), None);
+        for dwell in [100.0, 200.0, 300.0] {
+            let _ = run(
+                &mut state,
+                Command::EditWaypoint {
+                    index: 1,
+                    field: WaypointField::DwellMs(dwell),
+                },
+            );
+        }
+        assert_eq!(state.scene.waypoints[1].dwell_ms, 300.0);
+        let _ = run(&mut state, Command::Undo);
+        assert_eq!(
+            state.scene.waypoints[1].dwell_ms,
+            sample_scene().waypoints[1].dwell_ms
+        );
+        assert!(!state.can_undo());
+        assert!(!state.is_dirty());
+    }
+
+    #[test]
+    fn a_speed_share_outside_the_file_rules_is_refused() {
+        let mut state = EditorState::new(sample_scene(), None);
+        let _ = run(
+            &mut state,
+            Command::EditWaypoint {
+                index: 0,
+                field: WaypointField::SpeedSharePct(0.0),
+            },
+        );
+        assert_eq!(state.scene, sample_scene());
+    }
+
+    #[test]
+    fn storing_puts_the_pose_after_the_selected_waypoint() {
+        let mut state = EditorState::new(sample_scene(), None);
+        let _ = run(&mut state, Command::SelectWaypoint(1));
+        let _ = run(
+            &mut state,
+            Command::SetJoint {
+                joint: 0,
+                position: 0.2,
+            },
+        );
+        let _ = run(&mut state, Command::StoreWaypoint);
+        assert_eq!(state.selected_waypoint, Some(2));
+        let stored = &state.scene.waypoints[2];
+        assert!((stored.joints_deg_or_mm[0] - 0.2f64.to_degrees()).abs() < 1e-9);
+        assert_eq!(
+            state.scene.waypoints.len(),
+            sample_scene().waypoints.len() + 1
+        );
+    }
+
+    #[test]
+    fn a_joint_is_held_inside_its_limits() {
+        let mut state = EditorState::new(sample_scene(), None);
+        let _ = run(
+            &mut state,
+            Command::SetJoint {
+                joint: 0,
+                position: 10.0,
+            },
+        );
+        let max = state.arm().map(|arm| arm.joints()[0].max);
+        assert_eq!(Some(state.pose[0]), max);
+    }
+
+    #[test]
+    fn the_other_branch_is_taken_only_when_chosen() {
+        // Wide limits so the elbow can bend either way.
+        let mut scene = sample_scene();
+        for joint in &mut scene.arm.joints[1..] {
+            joint.min = -175.0;
+            joint.max = 175.0;
+        }
+        let mut state = EditorState::new(scene, None);
+        assert!(state.arm().is_some());
+        let start = state.tool_point().expect("tool point");
+        let target = [start.x + 0.005, start.y, start.z];
+        let _ = run(&mut state, Command::DragToolPoint { target });
+        assert_eq!(state.reach, ReachStatus::Reached);
+        let branch = state.branch.clone().expect("a branch");
+        let Some(other) = state.branch_choices.first().cloned() else {
+            panic!("with wide limits the elbow can bend the other way");
+        };
+        assert_ne!(other.label, branch);
+        let _ = run(&mut state, Command::ChooseBranch(0));
+        assert_eq!(state.branch.as_deref(), Some(other.label.as_str()));
+        assert_eq!(state.pose, other.positions);
+    }
+
+    #[test]
+    fn a_stop_is_sent_with_its_frame_and_latched() {
+        let mut state = EditorState::new(sample_scene(), None);
+        let (mut link, requests) = ChannelStopLink::new();
+        let mut outside = Vec::new();
+        apply(
+            &mut state,
+            Command::EmergencyStop(StopSource::Key),
+            &mut link,
+            42,
+            &mut outside,
+        );
+        assert_eq!(
+            requests.try_recv().ok(),
+            Some(StopRequest {
+                source: StopSource::Key,
+                frame: 42
+            })
+        );
+        assert_eq!(
+            state.stop,
+            StopState::Latched {
+                source: StopSource::Key,
+                frame: 42
+            }
+        );
+        // A reset without the question is not possible from a panel: it opens the question.
+        apply(
+            &mut state,
+            Command::RequestStopReset,
+            &mut link,
+            43,
+            &mut outside,
+        );
+        assert_eq!(state.dialog, Some(Dialog::ConfirmStopReset));
+        assert!(matches!(state.stop, StopState::Latched { .. }));
+    }
 
     #[test]
     fn angles_wrap_into_half_open_turn() {

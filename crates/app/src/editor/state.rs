@@ -426,3 +426,38 @@ impl EditorState {
         problems
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::editor::sample::sample_scene;
+
+    #[test]
+    fn a_weak_servo_is_named_over_torque_with_its_share() {
+        let mut scene = sample_scene();
+        // A servo with a hundredth of its torque cannot hold the shoulder.
+        scene.arm.joints[1].servo.stall_torque_ncm /= 100.0;
+        let state = EditorState::new(scene, None);
+        let (joint, share) = state.worst_torque_overload().expect("over torque");
+        assert_eq!(joint, 1);
+        let problems = state.reach_problems();
+        let line = format!(
+            "OVER TORQUE: joint 2 \"{}\" at {:.0} % of rated",
+            state.scene.arm.joints[1].name,
+            share * 100.0
+        );
+        assert!(problems.contains(&line), "{problems:?}");
+    }
+
+    #[test]
+    fn a_new_state_starts_at_the_first_waypoint_and_clean() {
+        let scene = sample_scene();
+        let first = scene.waypoints[0].joints_deg_or_mm.clone();
+        let state = EditorState::new(scene, None);
+        assert_eq!(state.selected_waypoint, Some(0));
+        let back = state.pose_in_file_units();
+        assert!(first.iter().zip(&back).all(|(a, b)| (a - b).abs() < 1e-9));
+        assert!(!state.is_dirty());
+        assert_eq!(state.accuracy.map(|budget| budget.worst > 0.0), Some(true));
+    }
+}

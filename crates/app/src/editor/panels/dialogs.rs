@@ -203,3 +203,60 @@ fn path_form(
     });
     command
 }
+
+#[cfg(test)]
+mod tests {
+    use egui_kittest::Harness;
+    use egui_kittest::kittest::Queryable;
+
+    use super::*;
+    use crate::editor::sample::sample_scene;
+
+    type Setup = (EditorState, Vec<Command>);
+
+    fn harness(dialog: Dialog) -> Harness<'static, Setup> {
+        let mut state = EditorState::new(sample_scene(), None);
+        state.dialog = Some(dialog);
+        Harness::builder().with_size([900.0, 700.0]).build_ui_state(
+            |ui, (state, commands): &mut Setup| {
+                let below = ui.ctx().content_rect();
+                let command = dialogs(ui.ctx(), below, state);
+                if command != Command::None {
+                    commands.push(command);
+                }
+            },
+            (state, Vec::new()),
+        )
+    }
+
+    #[test]
+    fn a_load_error_lists_each_problem_with_its_field() {
+        let mut harness = harness(Dialog::LoadError {
+            path: "scene.armwright.json".into(),
+            problems: vec!["arm.joints[0].min_deg: must be a number".into()],
+        });
+        harness.run();
+        assert!(
+            harness
+                .query_by_label("• arm.joints[0].min_deg: must be a number")
+                .is_some()
+        );
+        harness.get_by_label("OK").click();
+        harness.run();
+        assert_eq!(harness.state().1, vec![Command::CloseDialog]);
+    }
+
+    #[test]
+    fn a_typed_path_opens_that_file() {
+        let mut harness = harness(Dialog::Open {
+            path: "here.armwright.json".into(),
+        });
+        harness.run();
+        harness.get_by_label("Open this file").click();
+        harness.run();
+        assert_eq!(
+            harness.state().1,
+            vec![Command::OpenPath("here.armwright.json".into())]
+        );
+    }
+}

@@ -28,3 +28,23 @@ pub fn status_bar(ui: &mut Ui, state: &EditorState) {
             .color(Color32::from_rgb(230, 159, 0)),
     );
 }
+
+#[cfg(test)]
+mod tests {
+    use egui_kittest::Harness;
+    use egui_kittest::kittest::Queryable;
+
+    use super::*;
+    use crate::editor::sample::sample_scene;
+
+    #[test]
+    fn the_cautions_and_the_latest_message_are_shown() {
+        let mut state = EditorState::new(sample_scene(), None);
+        state.say(Level::Error, "cannot save x: disk full");
+        let mut harness =
+            Harness::new_ui_state(|ui, state: &mut EditorState| status_bar(ui, state), state);
+        harness.run();
+        assert!(harness.query_by_label(CAUTION).is_some());
+        assert!(harness.query_by_label("cannot save x: disk full").is_some());
+    }
+}

@@ -170,3 +170,86 @@ fn reach_estimate_mm(state: &EditorState) -> f64 {
     }
     total * 1e3
 }
+
+#[cfg(test)]
+mod tests {
+    use egui::{Event, Modifiers, MouseWheelSource, MouseWheelUnit, TouchPhase, vec2};
+    use egui_kittest::Harness;
+
+    use super::*;
+    use crate::editor::sample::sample_scene;
+
+    type Setup = (EditorState, Camera, Vec<Command>);
+
+    fn harness() -> Harness<'static, Setup> {
+        Harness::builder().with_size([600.0, 500.0]).build_ui_state(
+            |ui, (state, camera, commands): &mut Setup| {
+                let command = show_view(ui, state, ViewKind::Side, camera, None);
+                if command != Command::None {
+                    commands.push(command);
+                }
+            },
+            (
+                EditorState::new(sample_scene(), None),
+                Camera::default(),
+                Vec::new(),
+            ),
+        )
+    }
+
+    fn wheel_at(harness: &mut Harness<'static, Setup>, at: Pos2) {
+        harness.hover_at(at);
+        harness.step();
+        harness.event(Event::MouseWheel {
+            unit: MouseWheelUnit::Point,
+            delta: vec2(0.0, 60.0),
+            phase: TouchPhase::Move,
+            source: MouseWheelSource::Wheel,
+            modifiers: Modifiers::NONE,
+        });
+        harness.run_steps(20);
+    }
+
+    #[test]
+    fn the_wheel_over_the_tool_point_turns_the_tool_angle() {
+        let mut harness = harness();
+        harness.run_steps(2);
+        let angle = harness.state().0.tool_angle;
+        let scale = harness.state().1.projection().map(|p| p.points_per_mm);
+        let Some(tool) = harness.state().1.tool_on_screen() else {
+            panic!("no tool point drawn");
+        };
+        wheel_at(&mut harness, tool);
+        let commands = &harness.state().2;
+        assert!(
+            commands
+                .iter()
+                .any(|command| matches!(command, Command::SetToolAngle(a) if *a > angle)),
+            "{commands:?}"
+        );
+        // The view did not zoom.
+        assert_eq!(
+            harness.state().1.projection().map(|p| p.points_per_mm),
+            scale
+        );
+    }
+
+    #[test]
+    fn the_wheel_elsewhere_zooms_and_asks_for_nothing() {
+        let mut harness = harness();
+        harness.run_steps(2);
+        let scale = harness
+            .state()
+            .1
+            .projection()
+            .map_or(0.0, |p| p.points_per_mm);
+        wheel_at(&mut harness, egui::pos2(40.0, 40.0));
+        let zoomed = harness
+            .state()
+            .1
+            .projection()
+            .map_or(0.0, |p| p.points_per_mm);
+        assert!(zoomed > scale * 1.05, "{scale} → {zoomed}");
+        assert!(harness.state().2.is_empty());
+    }
+}
