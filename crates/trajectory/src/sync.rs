@@ -98,48 +98,69 @@ pub fn synchronise(
         });
     }
     let joint_count = moves.len();
+    // Each joint's fastest profile, built in place in the fixed array.
+    let mut failure = None;
     let mut synced = SyncedMove {
         duration: 0.0,
         joint_count,
-        profiles: [PLACEHOLDER; MAX_JOINTS],
+        profiles: std::array::from_fn(|joint| {
+            if joint >= joint_count || failure.is_some() {
+                return PLACEHOLDER;
+            }
+            Profile::fastest(shape, &moves[joint], &limits[joint]).unwrap_or_else(|source| {
+                failure = Some(SyncError::Joint { joint, source });
+                PLACEHOLDER
+            })
+        }),
     };
-    for (joint, profile) in synced.profiles.iter_mut().enumerate().take(joint_count) {
-        *profile = Profile::fastest(shape, &moves[joint], &limits[joint])
-            .map_err(|source| SyncError::Joint { joint, source })?;
-        synced.duration = synced.duration.max(profile.duration());
+    if let Some(error) = failure {
+        return Err(error);
     }
-    let fastest = synced.profiles;
-    let mut duration = synced.duration;
+    let mut duration = synced.profiles[..joint_count]
+        .iter()
+        .map(Profile::duration)
+        .fold(0.0, f64::max);
+    // Usually every joint stretches to the slowest joint's duration, in place.
+    let mut blocked = None;
+    for (joint, profile) in synced.profiles.iter_mut().enumerate().take(joint_count) {
+        if let Err(source) = profile.stretch(duration) {
+            blocked = Some(SyncError::Joint { joint, source });
+            break;
+        }
+    }
     // A joint with boundary velocities may be unable to take some durations (a gap between
     // slowing its peak and backing up); then the common duration moves past that joint's gap
-    // and every joint is tried again. Each round lengthens the duration.
+    // and every joint is tried again from its fastest profile. Each round lengthens the
+    // duration.
     let mut rounds = 0;
-    loop {
-        let mut blocked = None;
-        for (joint, profile) in synced.profiles.iter_mut().enumerate().take(joint_count) {
-            *profile = fastest[joint];
-            if let Err(source) = profile.stretch(duration) {
-                blocked = Some(SyncError::Joint { joint, source });
-                break;
-            }
-        }
-        let Some(error) = blocked else {
-            synced.duration = duration;
-            return Ok(synced);
-        };
+    while let Some(error) = blocked.take() {
         rounds += 1;
         let later = match error {
             SyncError::Joint {
                 joint,
                 source: ProfileError::StretchUnreachable { .. },
-            } if rounds <= 4 * MAX_JOINTS => next_reachable(&fastest[joint], duration),
+            } if rounds <= 4 * MAX_JOINTS => {
+                let fastest = Profile::fastest(shape, &moves[joint], &limits[joint])
+                    .map_err(|source| SyncError::Joint { joint, source })?;
+                next_reachable(&fastest, duration)
+            }
             _ => None,
         };
-        match later {
-            Some(later) => duration = later,
-            None => return Err(error),
+        duration = later.ok_or(error)?;
+        for (joint, profile) in synced.profiles.iter_mut().enumerate().take(joint_count) {
+            let stretched = Profile::fastest(shape, &moves[joint], &limits[joint])
+                .and_then(|fastest| fastest.stretched(duration));
+            match stretched {
+                Ok(stretched) => *profile = stretched,
+                Err(source) => {
+                    blocked = Some(SyncError::Joint { joint, source });
+                    break;
+                }
+            }
         }
     }
+    synced.duration = duration;
+    Ok(synced)
 }
 
 /// The shortest duration after `blocked` (s) that `profile` can be stretched to, found by

@@ -165,6 +165,7 @@ fn check_limit(limit: LimitKind, value: f64) -> Result<(), ProfileError> {
 }
 
 /// Checks limits and move; `with_jerk` says whether the jerk limit is used.
+#[inline]
 pub(crate) fn validate(
     joint_move: &JointMove,
     limits: &JointLimits,
@@ -182,6 +183,16 @@ pub(crate) fn validate(
     {
         return Ok(());
     }
+    diagnose(joint_move, limits, with_jerk)
+}
+
+/// Finds what is wrong with an input that failed the fast check of [`validate`].
+#[cold]
+fn diagnose(
+    joint_move: &JointMove,
+    limits: &JointLimits,
+    with_jerk: bool,
+) -> Result<(), ProfileError> {
     check_limit(LimitKind::Velocity, limits.velocity)?;
     check_limit(LimitKind::Acceleration, limits.acceleration)?;
     if with_jerk {
