@@ -62,6 +62,8 @@ pub(super) fn fastest(
     }
     let peak = if direct >= distance {
         lowest_peak
+    } else if let Some(peak) = peak_with_both_limits_reached(distance, start, end, amax, jmax) {
+        peak
     } else {
         solve_bracketed(lowest_peak, vmax, 1e-14 * distance, |peak| {
             let (covered, slope) = covered_with_slope(start, peak, end, amax, jmax);
@@ -75,6 +77,59 @@ pub(super) fn fastest(
         end_velocity: end,
         first,
         cruise: 0.0,
+        last,
+    })
+}
+
+/// The peak without cruise when both velocity changes reach the acceleration limit, in closed
+/// form, or `None` when they do not. With r = amax/jmax each change lasts r + Δv/amax, so the
+/// covered distance (2vp² − v0² − v1²)/(2amax) + r·vp + r(v0 + v1)/2 = h is a quadratic:
+/// vp² + amax·r·vp + amax·r(v0 + v1)/2 − (v0² + v1²)/2 − amax·h = 0.
+fn peak_with_both_limits_reached(
+    distance: f64,
+    start: f64,
+    end: f64,
+    amax: f64,
+    jmax: f64,
+) -> Option<f64> {
+    let reach = amax * amax / jmax;
+    let constant =
+        0.5 * reach * (start + end) - 0.5 * (start * start + end * end) - amax * distance;
+    let discriminant = reach * reach - 4.0 * constant;
+    let peak = 0.5 * (-reach + discriminant.sqrt());
+    (peak - start.max(end) >= reach).then_some(peak)
+}
+
+/// The peak with cruise that makes the profile last `duration` s when both velocity changes
+/// reach the acceleration limit, in closed form, or `None` when they do not. As in the
+/// trapezoid's fixed-duration formula (Biagiotti & Melchiorri 2008, ch. 3), with the jerk
+/// ramps adding r = amax/jmax to each change: vp² + B·vp + C = 0 with
+/// B = amax·r − (v0 + v1) − amax·T and C = (v0² + v1²)/2 + amax·h − amax·r(v0 + v1)/2; the
+/// smaller root leaves a cruise.
+fn stretched_peak_with_both_limits_reached(
+    distance: f64,
+    parts: &ThreePart,
+    duration: f64,
+    amax: f64,
+    jmax: f64,
+) -> Option<ThreePart> {
+    let (start, end) = (parts.start_velocity, parts.end_velocity);
+    let reach = amax * amax / jmax;
+    let b = reach - (start + end) - amax * duration;
+    let c = 0.5 * (start * start + end * end) + amax * distance - 0.5 * reach * (start + end);
+    let discriminant = b * b - 4.0 * c;
+    let peak = 0.5 * (-b - discriminant.sqrt());
+    if !(peak - start.max(end) >= reach && peak <= parts.peak_velocity && peak > 0.0) {
+        return None;
+    }
+    let (_, first, last) = changes_through(start, peak, end, amax, jmax);
+    let cruise = duration - first.duration - last.duration;
+    (cruise >= 0.0).then_some(ThreePart {
+        start_velocity: start,
+        peak_velocity: peak,
+        end_velocity: end,
+        first,
+        cruise,
         last,
     })
 }
@@ -134,13 +189,19 @@ fn rest_to_rest(distance: f64, vmax: f64, amax: f64, jmax: f64) -> ThreePart {
 }
 
 /// A profile with boundary velocities slowed to `duration` (s): the peak velocity is lowered,
-/// the limits kept.
+/// the limits kept; in closed form when both changes reach the acceleration limit.
 pub(super) fn stretch(
     distance: f64,
     parts: &ThreePart,
     duration: f64,
     limits: &JointLimits,
 ) -> Result<ThreePart, ProfileError> {
+    let (amax, jmax) = (limits.acceleration, limits.jerk);
+    if let Some(parts) =
+        stretched_peak_with_both_limits_reached(distance, parts, duration, amax, jmax)
+    {
+        return Ok(parts);
+    }
     stretch_peak(
         distance,
         parts,
@@ -152,6 +213,30 @@ pub(super) fn stretch(
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn closed_forms_with_both_limits_reached_match_the_searches() {
+        let (amax, jmax) = (4.0, 40.0);
+        let limits = JointLimits::new(5.0, amax, jmax);
+        for &(distance, start, end) in &[(3.0, 0.2, 0.1), (6.0, 1.0, 0.0), (4.0, 0.0, 0.7)] {
+            let peak = peak_with_both_limits_reached(distance, start, end, amax, jmax)
+                .expect("both changes reach amax here");
+            let searched = solve_bracketed(start.max(end), 5.0, 1e-15 * distance, |peak| {
+                let (covered, slope) = covered_with_slope(start, peak, end, amax, jmax);
+                (covered - distance, slope)
+            });
+            assert!((peak - searched).abs() < 1e-12, "{peak} vs {searched}");
+            let fastest = fastest(distance, start, end, &limits).expect("feasible");
+            let wanted = 1.3 * (fastest.first.duration + fastest.cruise + fastest.last.duration);
+            let closed =
+                stretched_peak_with_both_limits_reached(distance, &fastest, wanted, amax, jmax)
+                    .expect("both changes still reach amax");
+            let general =
+                stretch_peak(distance, &fastest, wanted, (5.0, amax, jmax)).expect("reachable");
+            assert!((closed.peak_velocity - general.peak_velocity).abs() < 1e-12);
+            assert!((closed.duration() - wanted).abs() < 1e-12);
+        }
+    }
 
     #[test]
     fn rest_to_rest_closed_form_matches_the_general_search() {
