@@ -95,13 +95,13 @@ pub fn sequence(ui: &mut Ui, state: &EditorState) -> Command {
 /// Column titles and widths, in points.
 const COLUMNS: [(&str, f32); 9] = [
     ("#", 36.0),
-    ("name", 150.0),
-    ("move", 84.0),
-    ("profile", 92.0),
-    ("speed share", 80.0),
-    ("dwell", 76.0),
-    ("arrival", 100.0),
-    ("gripper", 80.0),
+    ("name", 170.0),
+    ("move", 104.0),
+    ("profile", 112.0),
+    ("speed share", 84.0),
+    ("dwell", 84.0),
+    ("arrival", 132.0),
+    ("gripper", 96.0),
     ("", 50.0),
 ];
 
