@@ -99,22 +99,15 @@ pub fn synchronise(
     }
     let joint_count = moves.len();
     // Each joint's fastest profile, built in place in the fixed array.
-    let mut failure = None;
     let mut synced = SyncedMove {
         duration: 0.0,
         joint_count,
-        profiles: std::array::from_fn(|joint| {
-            if joint >= joint_count || failure.is_some() {
-                return PLACEHOLDER;
-            }
-            Profile::fastest(shape, &moves[joint], &limits[joint]).unwrap_or_else(|source| {
-                failure = Some(SyncError::Joint { joint, source });
-                PLACEHOLDER
-            })
-        }),
+        profiles: [PLACEHOLDER; MAX_JOINTS],
     };
-    if let Some(error) = failure {
-        return Err(error);
+    for (joint, profile) in synced.profiles.iter_mut().enumerate().take(joint_count) {
+        profile
+            .become_fastest(shape, &moves[joint], &limits[joint])
+            .map_err(|source| SyncError::Joint { joint, source })?;
     }
     let mut duration = synced.profiles[..joint_count]
         .iter()

@@ -115,6 +115,19 @@ impl Profile {
         joint_move: &JointMove,
         limits: &JointLimits,
     ) -> Result<Self, ProfileError> {
+        let mut profile = PLACEHOLDER;
+        profile.become_fastest(shape, joint_move, limits)?;
+        Ok(profile)
+    }
+
+    /// [`Profile::fastest`] written into `self`, so that fixed arrays of profiles are filled
+    /// without copies; on error `self` is unchanged.
+    pub(crate) fn become_fastest(
+        &mut self,
+        shape: ProfileShape,
+        joint_move: &JointMove,
+        limits: &JointLimits,
+    ) -> Result<(), ProfileError> {
         let with_jerk = shape == ProfileShape::DoubleS;
         super::limits::validate(joint_move, limits, with_jerk)?;
         let displacement = joint_move.to - joint_move.from;
@@ -128,15 +141,14 @@ impl Profile {
         };
         let duration = parts.first.duration + parts.cruise + parts.last.duration;
         check_representable(&parts, duration)?;
-        Ok(Self {
-            shape,
-            joint_move: *joint_move,
-            limits: *limits,
-            sign,
-            distance,
-            duration,
-            parts,
-        })
+        self.shape = shape;
+        self.joint_move = *joint_move;
+        self.limits = *limits;
+        self.sign = sign;
+        self.distance = distance;
+        self.duration = duration;
+        self.parts = parts;
+        Ok(())
     }
 
     /// The same move with the same shape and boundary velocities, slowed to take exactly
