@@ -2,9 +2,9 @@
 
 The equations are those documented in crates/trajectory/src/servo_sim.rs: per joint, the
 position loop turns the pulse-width error (beyond half the deadband, across the proportional
-band, saturating at full drive) into motor effort that falls linearly with speed towards the
-no-load speed; viscous damping follows from the damping ratio, the loop stiffness and the
-inertia; dry friction is smoothed below a speed; gravity asks a holding effort. The pulse is
+band, saturating at full drive) into motor effort less the back-EMF braking of a DC motor
+(so full drive gives zero effort at the no-load speed); gear damping makes up the damping ratio
+where back-EMF damping gives less; dry friction is smoothed below a speed; gravity asks a holding effort. The pulse is
 held for a whole frame; the load is refreshed at each frame start from the link position; the
 link follows the servo output through a backlash play.
 
@@ -55,9 +55,10 @@ class Model:
     def accel(self, pulse, load_inertia, holding, position, velocity):
         inertia = self.motor_inertia + load_inertia
         d = self.drive(pulse, position)
-        motor = self.stall_effort * (d - abs(d) * velocity / self.no_load_speed)
+        motor = self.stall_effort * (d - velocity / self.no_load_speed)
         stiffness = self.stall_effort * abs(self.slope) / self.proportional_band_us
-        viscous = 2.0 * self.damping_ratio * math.sqrt(stiffness * inertia)
+        wanted = 2.0 * self.damping_ratio * math.sqrt(stiffness * inertia)
+        viscous = max(wanted - self.stall_effort / self.no_load_speed, 0.0)
         dry = self.dry_friction * velocity / math.sqrt(velocity * velocity + self.friction_smoothing ** 2)
         return (motor - viscous * velocity - dry - holding) / inertia
 

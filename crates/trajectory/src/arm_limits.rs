@@ -56,10 +56,13 @@ pub enum LimitError {
 /// Per-joint limits for a sequence through `poses` (rad or m, one pose per waypoint), holding
 /// `payload_mass` kg.
 ///
-/// Velocity: the servo's no-load speed less what the worst gravity load costs on its
-/// torque–speed line. Acceleration: (stall torque × derating − worst gravity torque) over the
-/// largest inertia the joint sees (its motor and gears included), both taken at every waypoint
-/// and half-way between neighbours. Jerk: acceleration over `jerk_time`.
+/// The drive a servo may use is its stall torque × derating; holding the worst gravity load
+/// (taken at every waypoint and half-way between neighbours) takes part of it, and the rest is
+/// split evenly between speed and acceleration. Velocity: that half-margin × the no-load speed
+/// (a DC motor's back-EMF costs drive in proportion to speed). Acceleration: that half-margin ×
+/// stall torque over the largest inertia the joint sees, its motor and gears included. Jerk:
+/// acceleration over `jerk_time`. So even at the end of a ramp, at full speed, the position
+/// loop asks for no more than the derated drive.
 ///
 /// # Errors
 /// [`LimitError::OverTorque`] naming the joint and waypoint where gravity alone needs more than
@@ -118,12 +121,14 @@ pub fn limits_from_arm(
     for (j, joint) in arm.joints().iter().enumerate() {
         let servo = ServoModel::of_joint(joint, model);
         let stall = servo.stall_effort;
-        let velocity = settings.velocity_override[j]
-            .unwrap_or(servo.no_load_speed * (1.0 - worst_gravity[j] / stall));
-        let acceleration = settings.acceleration_override[j].unwrap_or(
-            (stall * settings.derating - worst_gravity[j])
-                / (servo.motor_inertia + worst_inertia[j]),
-        );
+        // The derated drive left after holding against gravity is shared evenly between
+        // speed (back-EMF costs drive in proportion to speed) and acceleration, so that at the
+        // end of a ramp, at full speed, the position loop still asks for no more than the
+        // derated drive and keeps tracking.
+        let margin = (settings.derating - worst_gravity[j] / stall) / 2.0;
+        let velocity = settings.velocity_override[j].unwrap_or(servo.no_load_speed * margin);
+        let acceleration = settings.acceleration_override[j]
+            .unwrap_or(stall * margin / (servo.motor_inertia + worst_inertia[j]));
         limits.push(JointLimits::new(
             velocity,
             acceleration,

@@ -214,7 +214,7 @@ pub fn dry_run<M: CommandedMotion>(
             following_error = following_error.max((actual - commanded).norm());
         }
         for k in sample_of(move_start)..=window_end {
-            let efforts = &trace.effort_share[k * n..(k + 1) * n];
+            let efforts = &trace.drive_share[k * n..(k + 1) * n];
             peak_effort = efforts.iter().fold(peak_effort, |m, e| m.max(e.abs()));
         }
 

@@ -11,8 +11,9 @@ use armwright_kinematics::{Calibration, Joint, MAX_JOINTS};
 /// Settings of the servo model that a scene does not carry, with defaults.
 #[derive(Debug, Clone, PartialEq)]
 pub struct ServoModelOptions {
-    /// Damping ratio of the linearised position loop; viscous damping follows from it and the
-    /// current inertia. Default 0.3 (hobby servos with long, light links ring visibly; a value
+    /// Least damping ratio of the linearised position loop: where the motor's back-EMF damping
+    /// gives less at the current inertia, viscous damping in the gears makes up the rest.
+    /// Default 0.3 (hobby servos with long, light links ring visibly; a value
     /// from memory, to be tuned by the user against their arm).
     pub damping_ratio: f64,
     /// Mechanical time constant of the unloaded servo, in s: the motor and gear-train inertia seen
@@ -132,17 +133,25 @@ impl ServoModel {
     ) -> f64 {
         let inertia = self.motor_inertia + load_inertia;
         let motor = self.stall_effort * self.effort_share(pulse_us, position, velocity);
-        let viscous = 2.0 * self.damping_ratio * (self.stiffness() * inertia).sqrt();
+        let viscous = self.gear_damping(inertia);
         let dry = self.dry_friction * velocity
             / (velocity * velocity + self.friction_smoothing * self.friction_smoothing).sqrt();
         (motor - viscous * velocity - dry - holding_effort) / inertia
     }
 
     /// Motor effort as a signed share of stall effort: the drive the position loop asks for,
-    /// less what the motor loses to its own speed (the linear torque–speed line).
+    /// less the back-EMF braking of a DC motor turning at `velocity` (so at full drive the
+    /// effort falls linearly to zero at the no-load speed: the torque–speed line).
     pub fn effort_share(&self, pulse_us: f64, position: f64, velocity: f64) -> f64 {
-        let drive = self.drive_share(pulse_us, position);
-        drive - drive.abs() * velocity / self.no_load_speed
+        self.drive_share(pulse_us, position) - velocity / self.no_load_speed
+    }
+
+    /// Viscous damping in the gears (N·m·s/rad or N·s/m) that brings the linearised loop up to
+    /// the model's damping ratio where the motor's own back-EMF damping (stall effort over
+    /// no-load speed) gives less, for a total `inertia` (kg·m² or kg).
+    pub fn gear_damping(&self, inertia: f64) -> f64 {
+        let wanted = 2.0 * self.damping_ratio * (self.stiffness() * inertia).sqrt();
+        (wanted - self.stall_effort / self.no_load_speed).max(0.0)
     }
 
     /// Share of full drive the position loop asks for (−1..1) at a held pulse and position.
@@ -179,8 +188,8 @@ pub struct ServoTrace {
     pub actual: Vec<f64>,
     /// Servo output speed at each sample (rad/s or m/s).
     pub velocity: Vec<f64>,
-    /// Motor effort at each sample as a signed share of stall effort.
-    pub effort_share: Vec<f64>,
+    /// Drive the position loop asks for at each sample, a signed share of full drive (−1..1).
+    pub drive_share: Vec<f64>,
 }
 
 impl ServoTrace {
@@ -281,7 +290,7 @@ where
     let mut velocity = [0.0; MAX_JOINTS];
     let mut link = [0.0; MAX_JOINTS];
     let mut load = [JointLoad::default(); MAX_JOINTS];
-    let mut effort = [0.0; MAX_JOINTS];
+    let mut drive = [0.0; MAX_JOINTS];
 
     commanded(0.0, &mut command[..n]);
     for j in 0..n {
@@ -318,7 +327,7 @@ where
         commanded: Vec::with_capacity(samples * n),
         actual: Vec::with_capacity(samples * n),
         velocity: Vec::with_capacity(samples * n),
-        effort_share: Vec::with_capacity(samples * n),
+        drive_share: Vec::with_capacity(samples * n),
     };
     for k in 0..samples {
         let t = k as f64 * dt;
@@ -336,9 +345,9 @@ where
         trace.actual.extend_from_slice(&link[..n]);
         trace.velocity.extend_from_slice(&velocity[..n]);
         for j in 0..n {
-            effort[j] = models[j].effort_share(pulse_us[j], position[j], velocity[j]);
+            drive[j] = models[j].drive_share(pulse_us[j], position[j]);
         }
-        trace.effort_share.extend_from_slice(&effort[..n]);
+        trace.drive_share.extend_from_slice(&drive[..n]);
         if k + 1 < samples {
             for j in 0..n {
                 if let Some(frame) = &frames[j] {
@@ -386,7 +395,7 @@ impl FrameLoop {
             inverse_band_us: 1.0 / model.proportional_band_us,
             stall: model.stall_effort,
             inverse_no_load_speed: 1.0 / model.no_load_speed,
-            viscous: 2.0 * model.damping_ratio * (model.stiffness() * inertia).sqrt(),
+            viscous: model.gear_damping(inertia),
             dry: model.dry_friction,
             smoothing_squared: model.friction_smoothing * model.friction_smoothing,
             holding: load.holding_effort,
@@ -400,7 +409,7 @@ impl FrameLoop {
         let beyond = (error_us.abs() - self.half_deadband_us).max(0.0);
         let drive = (beyond * self.inverse_band_us).min(1.0).copysign(error_us);
         let drive = if beyond > 0.0 { drive } else { 0.0 };
-        let motor = self.stall * (drive - drive.abs() * velocity * self.inverse_no_load_speed);
+        let motor = self.stall * (drive - velocity * self.inverse_no_load_speed);
         let dry = self.dry * velocity / (velocity * velocity + self.smoothing_squared).sqrt();
         (motor - self.viscous * velocity - dry - self.holding) * self.inverse_inertia
     }

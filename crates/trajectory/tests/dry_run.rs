@@ -65,7 +65,8 @@ fn at_rest_each_servo_balances_gravity() {
     let gravity = armwright_kinematics::gravity_torques(&arm, rest, arm.payload_mass()).unwrap();
     for (j, joint) in arm.joints().iter().enumerate() {
         let model = ServoModel::of_joint(joint, &options.servo);
-        let effort = run.trace.effort_share[last * arm.joint_count() + j] * model.stall_effort;
+        // At rest the back-EMF term vanishes: the effort is the drive.
+        let effort = run.trace.drive_share[last * arm.joint_count() + j] * model.stall_effort;
         let slack = model.dry_friction + 1e-3 * model.stall_effort;
         assert!(
             (effort - gravity.as_slice()[j]).abs() <= slack,

@@ -54,7 +54,8 @@ fn retimed_sequence_meets_the_target_and_no_faster_share_would() {
     let (plan, timings) = planner.plan(&retimed.timing).expect("plannable");
     let again = dry_run(&arm, &plan, &timings, &options).expect("runs");
     assert_eq!(again.worst_overshoot(), retimed.after.worst_overshoot());
-    // No longer than needed: each slowed move, made 10 % faster with long dwells, misses.
+    // No longer than needed: each slowed move, made 10 % faster with long dwells, misses the
+    // overshoot or the torque target.
     for (index, &share) in retimed.timing.speed_share.iter().enumerate().skip(1) {
         if share >= 1.0 {
             continue;
@@ -64,9 +65,11 @@ fn retimed_sequence_meets_the_target_and_no_faster_share_would() {
         faster.dwell = vec![target.search_dwell; faster.dwell.len()];
         let (plan, timings) = planner.plan(&faster).expect("plannable");
         let run = dry_run(&arm, &plan, &timings, &options).expect("runs");
+        // The search keeps 5 % in hand on both overshoot and torque use.
+        let w = &run.waypoints[index];
         assert!(
-            run.waypoints[index].overshoot > target.max_overshoot,
-            "waypoint {index} could go 10 % faster"
+            w.overshoot > 0.95 * target.max_overshoot || w.peak_torque_use > 0.95,
+            "waypoint {index} could go 10 % faster: {w:?}"
         );
     }
 }
