@@ -115,6 +115,70 @@ pub enum Command {
         #[arg(long, value_name = "OUT.svg")]
         svg: Option<PathBuf>,
     },
+    /// The timed sequence: cycle time, every move and dwell, and each servo's peak torque use.
+    ///
+    /// Straight moves are planned through inverse kinematics along the line. With --csv the
+    /// setpoints are written as CSV: a header, then one row per sample with the time in s and
+    /// each joint in degrees (mm for a prismatic joint).
+    Plan {
+        /// The scene file.
+        #[arg(value_name = "FILE")]
+        file: PathBuf,
+        /// Setpoints per second in the CSV, 50 to 1000.
+        #[arg(long, value_name = "HZ", default_value_t = 100.0)]
+        rate: f64,
+        /// Write the setpoints to this CSV file.
+        #[arg(long, value_name = "OUT.csv")]
+        csv: Option<PathBuf>,
+        /// Print machine-readable JSON (keys carry units) instead of text.
+        #[arg(long)]
+        json: bool,
+    },
+    /// Dry run: how the servos will follow the plan, before anything is powered.
+    ///
+    /// Each joint's servo is modelled (deadband, proportional band, torque-speed line, damping,
+    /// friction, backlash, the inertia and gravity load of the arm beyond it, pulses held for
+    /// a 20 ms frame). Per waypoint: overshoot and settle time (against where the arm comes to
+    /// rest), the resting error from the target, the following error and the peak torque use.
+    Simulate {
+        /// The scene file.
+        #[arg(value_name = "FILE")]
+        file: PathBuf,
+        /// Print machine-readable JSON (keys carry units) instead of text.
+        #[arg(long)]
+        json: bool,
+    },
+    /// Find the fastest timing whose dry run keeps every stop's overshoot under a target.
+    ///
+    /// Speed shares are searched per move and dwells set from the predicted settle times; the
+    /// report compares cycle time, worst overshoot and worst torque use before and after. Exit
+    /// status 1 when the target cannot be met, naming the waypoint.
+    Retime {
+        /// The scene file.
+        #[arg(value_name = "FILE")]
+        file: PathBuf,
+        /// Largest allowed overshoot of the tool point at any stop, in millimetres.
+        #[arg(long = "max-overshoot", value_name = "MM", help_heading = "Limits")]
+        max_overshoot: f64,
+        /// Share of each servo's stall torque the run may use, above 0 and at most 1 (default:
+        /// the scene's torque derating).
+        #[arg(long = "torque-share", value_name = "SHARE", help_heading = "Limits")]
+        torque_share: Option<f64>,
+        /// Shortest dwell at a stop, in milliseconds.
+        #[arg(
+            long = "min-dwell",
+            value_name = "MS",
+            default_value_t = 0.0,
+            help_heading = "Limits"
+        )]
+        min_dwell: f64,
+        /// Save the retimed scene here (atomically; the input is replaced only if named).
+        #[arg(long, value_name = "OUT.armwright.json")]
+        write: Option<PathBuf>,
+        /// Print machine-readable JSON (keys carry units) instead of text.
+        #[arg(long)]
+        json: bool,
+    },
 }
 
 /// The plane an envelope map covers.
@@ -177,6 +241,36 @@ mod tests {
                 assert_eq!(view, View::Side);
                 assert_eq!(at, Some(-45.0));
                 assert_eq!(cells, 50);
+            }
+            other => panic!("{other:?}"),
+        }
+    }
+
+    #[test]
+    fn retime_needs_an_overshoot_and_takes_a_share() {
+        assert!(Cli::try_parse_from(["armwright", "retime", "a.json"]).is_err());
+        let cli = Cli::try_parse_from([
+            "armwright",
+            "retime",
+            "a.json",
+            "--max-overshoot",
+            "1.5",
+            "--torque-share",
+            "0.6",
+        ])
+        .unwrap();
+        match cli.command {
+            Command::Retime {
+                max_overshoot,
+                torque_share,
+                min_dwell,
+                write,
+                ..
+            } => {
+                assert_eq!(max_overshoot, 1.5);
+                assert_eq!(torque_share, Some(0.6));
+                assert_eq!(min_dwell, 0.0);
+                assert!(write.is_none());
             }
             other => panic!("{other:?}"),
         }

@@ -10,7 +10,7 @@ use serde_json::json;
 use super::report::{fail, load_scene, print_json, rounded};
 use super::svg::{MapPicture, render};
 use super::{Outcome, View};
-use crate::scene::Scene;
+use crate::scene::{Scene, save_text};
 
 /// Most cells along a side the map takes (the kinematics crate's bound).
 const MAX_CELLS: usize = 2000;
@@ -59,7 +59,7 @@ pub(crate) fn run(
     let map = reach_map(&arm, &map_view, &options);
     let time_ms = start.elapsed().as_secs_f64() * 1e3;
     if let Some(out) = svg
-        && let Err(error) = std::fs::write(out, picture(&scene, file, view, at, &map))
+        && let Err(error) = save_text(&picture(&scene, file, view, at, &map), out)
     {
         let message = format!("cannot write {}: {error}", out.display());
         return fail(json, &message, json!({}), Outcome::Unreadable);

@@ -1,7 +1,8 @@
-//! The command line: `check`, `pose`, `reach`, `envelope`.
+//! The command line: `check`, `pose`, `reach`, `envelope`, `plan`, `simulate`, `retime`.
 //!
 //! Naming scheme: `args.rs` declares every option (clap derive); one file per subcommand
-//! (`check.rs`, `pose.rs`, `reach.rs`, `envelope.rs`); `report.rs` prints results as text or
+//! (`check.rs`, `pose.rs`, `reach.rs`, `envelope.rs`, `plan.rs`, `simulate.rs`, `retime.rs`);
+//! `report.rs` prints results as text or
 //! JSON and loads the scene for a subcommand; `svg.rs` draws an envelope map.
 //!
 //! Exit status: 0 on success, 1 when the scene has problems or a target cannot be reached, 2
@@ -11,9 +12,12 @@
 mod args;
 mod check;
 mod envelope;
+mod plan;
 mod pose;
 mod reach;
 mod report;
+mod retime;
+mod simulate;
 mod svg;
 
 pub use args::{Cli, Command, View};
@@ -45,8 +49,28 @@ impl Outcome {
 
 /// Parses the process arguments and runs the subcommand; the exit code says how it went.
 pub fn run() -> ExitCode {
+    quiet_on_closed_output();
     let cli = Cli::parse();
     ExitCode::from(execute(&cli.command).code())
+}
+
+/// A reader that stops early (`armwright plan … | head`) closes standard output; printing then
+/// fails and the standard library panics. End quietly with status 0 instead, as other command
+/// line tools do; every other panic keeps the default report.
+fn quiet_on_closed_output() {
+    let default = std::panic::take_hook();
+    std::panic::set_hook(Box::new(move |info| {
+        let message = info
+            .payload()
+            .downcast_ref::<String>()
+            .map(String::as_str)
+            .or_else(|| info.payload().downcast_ref::<&str>().copied())
+            .unwrap_or("");
+        if message.starts_with("failed printing to stdout") {
+            std::process::exit(0);
+        }
+        default(info);
+    }));
 }
 
 /// Runs one subcommand, printing to standard output (results) and standard error (failures
@@ -69,5 +93,28 @@ pub fn execute(command: &Command) -> Outcome {
             json,
             svg,
         } => envelope::run(file, *view, *at, *cells, *json, svg.as_deref()),
+        Command::Plan {
+            file,
+            rate,
+            csv,
+            json,
+        } => plan::run(file, *rate, csv.as_deref(), *json),
+        Command::Simulate { file, json } => simulate::run(file, *json),
+        Command::Retime {
+            file,
+            max_overshoot,
+            torque_share,
+            min_dwell,
+            write,
+            json,
+        } => {
+            let request = retime::RetimeRequest {
+                max_overshoot_mm: *max_overshoot,
+                torque_share: *torque_share,
+                min_dwell_ms: *min_dwell,
+                write: write.as_deref(),
+            };
+            retime::run(file, &request, *json)
+        }
     }
 }

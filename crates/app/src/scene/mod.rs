@@ -14,6 +14,7 @@ mod load;
 mod migrate;
 mod problem;
 mod save;
+mod task;
 mod units;
 mod validate;
 
@@ -26,7 +27,8 @@ pub use document::{
 pub use load::{load, load_bytes};
 pub use migrate::{CURRENT_VERSION, FORMAT_NAME};
 pub use problem::Problem;
-pub use save::{save, to_json};
+pub use save::{save, save_text, to_json};
+pub use task::{dry_run_options_of, retime_target, servo_model_of, task_of, with_timing};
 pub use units::{
     arm_description, build_arm, pose_from_file_units, pose_to_file_units, position_from_file_unit,
     position_to_file_unit,

@@ -25,12 +25,20 @@ pub fn to_json(scene: &Scene) -> String {
 /// [`SceneError::Write`] if the temporary file cannot be written or renamed; the existing file
 /// at `path`, if any, is unchanged and the temporary file is removed.
 pub fn save(scene: &Scene, path: &Path) -> Result<(), SceneError> {
-    let text = to_json(scene);
-    let temporary = temporary_beside(path);
-    let fail = |source: std::io::Error| SceneError::Write {
+    save_text(&to_json(scene), path).map_err(|source| SceneError::Write {
         path: path.to_path_buf(),
         source,
-    };
+    })
+}
+
+/// Writes `text` to `path` atomically (temporary file beside it, flushed, renamed over it): the
+/// scene files and every other file the program writes (setpoint CSV, pictures).
+///
+/// # Errors
+/// The I/O error if the temporary file cannot be written or renamed; the existing file at
+/// `path`, if any, is unchanged and the temporary file is removed.
+pub fn save_text(text: &str, path: &Path) -> std::io::Result<()> {
+    let temporary = temporary_beside(path);
     let written = write_synced(&temporary, text.as_bytes()).and_then(|()| {
         if path.is_dir() {
             // rename() would replace an empty directory on some systems; never do that.
@@ -43,7 +51,7 @@ pub fn save(scene: &Scene, path: &Path) -> Result<(), SceneError> {
     });
     if let Err(error) = written {
         let _ = fs::remove_file(&temporary);
-        return Err(fail(error));
+        return Err(error);
     }
     // Make the rename itself durable where the system allows opening a directory.
     if let Some(parent) = parent_dir(path)

@@ -1,0 +1,152 @@
+//! `armwright plan`: the timed sequence — cycle time, every move and dwell, the torque use of
+//! each servo along the way — and optionally its setpoints as CSV.
+
+use std::fmt::Write as _;
+use std::path::Path;
+
+use armwright_kinematics::Arm;
+use armwright_trajectory::{SegmentKind, TaskPlan, plan_task};
+use serde_json::json;
+
+use super::Outcome;
+use super::report::{fail, load_scene, print_json, rounded};
+use crate::scene::{Scene, position_to_file_unit, save_text, task_of};
+
+/// Interval at which torque use is looked at along the plan, in s.
+pub(crate) const TORQUE_INTERVAL: f64 = 0.01;
+
+/// Plans the scene's sequence, or says why not (exit 1 with the reason naming the waypoint).
+pub(crate) fn plan_scene(scene: &Scene, arm: &Arm, json: bool) -> Result<TaskPlan, Outcome> {
+    plan_task(arm, &task_of(scene, arm)).map_err(|error| {
+        fail(
+            json,
+            &format!("cannot plan: {error}"),
+            json!({}),
+            Outcome::Refused,
+        )
+    })
+}
+
+pub(crate) fn run(file: &Path, rate_hz: f64, csv: Option<&Path>, json: bool) -> Outcome {
+    let (scene, arm) = match load_scene(file, json) {
+        Ok(loaded) => loaded,
+        Err(outcome) => return outcome,
+    };
+    let plan = match plan_scene(&scene, &arm, json) {
+        Ok(plan) => plan,
+        Err(outcome) => return outcome,
+    };
+    let derating = scene.timing.torque_derating_pct / 100.0;
+    let torque = plan.peak_torque_use(&arm, derating, TORQUE_INTERVAL);
+    if let Some(path) = csv {
+        let text = match setpoints_csv(&scene, &plan, rate_hz) {
+            Ok(text) => text,
+            Err(message) => return fail(json, &message, json!({}), Outcome::Unreadable),
+        };
+        if let Err(error) = save_text(&text, path) {
+            let message = format!("cannot write {}: {error}", path.display());
+            return fail(json, &message, json!({}), Outcome::Unreadable);
+        }
+    }
+    let sequence = plan.sequence();
+    let segments: Vec<_> = sequence
+        .segments()
+        .iter()
+        .map(|segment| {
+            let (kind, from, to) = match segment.kind {
+                SegmentKind::Move {
+                    from_waypoint,
+                    to_waypoint,
+                } => ("move", from_waypoint, to_waypoint),
+                SegmentKind::Dwell { waypoint } => ("dwell", waypoint, waypoint),
+            };
+            json!({
+                "kind": kind,
+                "start_s": rounded(segment.start, 4),
+                "duration_s": rounded(segment.motion.duration(), 4),
+                "from_point": from,
+                "to_point": to,
+            })
+        })
+        .collect();
+    let peak = torque.iter().copied().fold(0.0, f64::max);
+    if json {
+        let waypoints: Vec<_> = scene
+            .waypoints
+            .iter()
+            .zip(plan.timings())
+            .zip(&torque)
+            .map(|((waypoint, timing), torque)| {
+                json!({
+                    "name": waypoint.name,
+                    "arrival_s": rounded(timing.arrival, 4),
+                    "departure_s": rounded(timing.departure, 4),
+                    "peak_torque_use": rounded(*torque, 4),
+                })
+            })
+            .collect();
+        print_json(&json!({
+            "ok": true,
+            "cycle_time_s": rounded(sequence.duration(), 4),
+            "peak_torque_use": rounded(peak, 4),
+            "segments": segments,
+            "waypoints": waypoints,
+        }));
+    } else {
+        println!(
+            "cycle time {:.3} s, peak torque use {:.0} %",
+            sequence.duration(),
+            peak * 100.0
+        );
+        println!(
+            "{:<24} {:>9} {:>9} {:>8}",
+            "waypoint", "arrive s", "leave s", "torque"
+        );
+        for ((waypoint, timing), torque) in scene.waypoints.iter().zip(plan.timings()).zip(&torque)
+        {
+            println!(
+                "{:<24} {:>9.3} {:>9.3} {:>7.0}%",
+                waypoint.name,
+                timing.arrival,
+                timing.departure,
+                torque * 100.0
+            );
+        }
+        println!(
+            "{} segments (straight moves are cut into pass-through points)",
+            segments.len()
+        );
+        if let Some(path) = csv {
+            println!("setpoints written to {}", path.display());
+        }
+    }
+    Outcome::Done
+}
+
+/// The plan sampled at `rate_hz`: a header, then one row per sample with the time in s and
+/// each joint in degrees (mm for a prismatic joint).
+fn setpoints_csv(scene: &Scene, plan: &TaskPlan, rate_hz: f64) -> Result<String, String> {
+    let sampler = plan
+        .sequence()
+        .sampler(rate_hz)
+        .map_err(|e| format!("--rate: {e}"))?;
+    let kinds = scene.arm.shape.joint_kinds();
+    let mut text = String::from("time_s");
+    for (joint, kind) in scene.arm.joints.iter().zip(&kinds) {
+        let _ = write!(
+            text,
+            ",{}_{}",
+            joint.name.replace([',', '"', '\n'], " "),
+            kind.unit()
+        );
+    }
+    text.push('\n');
+    for sample in sampler {
+        let _ = write!(text, "{:.6}", sample.time);
+        for (value, kind) in sample.positions.iter().zip(&kinds) {
+            let _ = write!(text, ",{:.6}", position_to_file_unit(*kind, *value));
+        }
+        text.push('\n');
+    }
+    Ok(text)
+}

@@ -1,0 +1,191 @@
+//! `armwright retime`: the fastest timing whose dry run keeps every stop's overshoot and the
+//! servos' torque use within a target, with a before/after report; optionally the retimed scene
+//! written to a new file.
+
+use std::path::Path;
+
+use armwright_trajectory::{RetimeError, TaskPlanner, retime};
+use serde_json::{Value, json};
+
+use super::Outcome;
+use super::report::{fail, load_scene, print_json, rounded};
+use super::simulate::summary_json;
+use crate::scene::{dry_run_options_of, retime_target, save, task_of, with_timing};
+
+/// What `retime` is asked for, in the command line's units.
+pub(crate) struct RetimeRequest<'a> {
+    pub(crate) max_overshoot_mm: f64,
+    pub(crate) torque_share: Option<f64>,
+    pub(crate) min_dwell_ms: f64,
+    pub(crate) write: Option<&'a Path>,
+}
+
+pub(crate) fn run(file: &Path, request: &RetimeRequest<'_>, json: bool) -> Outcome {
+    let (scene, arm) = match load_scene(file, json) {
+        Ok(loaded) => loaded,
+        Err(outcome) => return outcome,
+    };
+    let torque_share = request
+        .torque_share
+        .unwrap_or(scene.timing.torque_derating_pct / 100.0);
+    let checks = [
+        (
+            "--max-overshoot",
+            request.max_overshoot_mm,
+            request.max_overshoot_mm > 0.0,
+        ),
+        (
+            "--torque-share",
+            torque_share,
+            torque_share > 0.0 && torque_share <= 1.0,
+        ),
+        (
+            "--min-dwell",
+            request.min_dwell_ms,
+            request.min_dwell_ms >= 0.0,
+        ),
+    ];
+    for (option, value, ok) in checks {
+        if !(ok && value.is_finite()) {
+            let message = format!("{option}: {value} is out of range");
+            return fail(json, &message, json!({}), Outcome::Unreadable);
+        }
+    }
+    if let Some(out) = request.write
+        && same_file(out, file)
+    {
+        // Writing over the input is allowed only when asked by name; say so plainly.
+        eprintln!("note: --write names the input file; it is replaced only if retiming succeeds");
+    }
+    // The torque share bounds the plan's limits as well as the dry run.
+    let mut task = task_of(&scene, &arm);
+    task.limits.derating = torque_share;
+    let planner = TaskPlanner {
+        arm: &arm,
+        task: &task,
+    };
+    let target = retime_target(request.max_overshoot_mm, torque_share, request.min_dwell_ms);
+    let options = dry_run_options_of(&scene);
+    let result = retime(&arm, &planner, &task.timing(), &target, &options, |_| true);
+    let retimed = match result {
+        Ok(retimed) => retimed,
+        Err(error) => {
+            let extra = match &error {
+                RetimeError::Unreachable { waypoint, .. } => json!({
+                    "met": false,
+                    "waypoint": waypoint,
+                    "waypoint_name": scene.waypoints.get(*waypoint).map(|w| w.name.clone()),
+                }),
+                _ => json!({ "met": false }),
+            };
+            let message = match &error {
+                RetimeError::Unreachable { waypoint, .. } => format!(
+                    "cannot meet the target: {error} (\"{}\")",
+                    scene
+                        .waypoints
+                        .get(*waypoint)
+                        .map_or("", |w| w.name.as_str())
+                ),
+                _ => format!("cannot retime: {error}"),
+            };
+            return fail(json, &message, extra, Outcome::Refused);
+        }
+    };
+    if let Some(out) = request.write
+        && let Err(error) = save(
+            &retimed_scene(&scene, &retimed.timing, request, torque_share),
+            out,
+        )
+    {
+        return fail(
+            json,
+            &error.to_string(),
+            json!({ "met": true }),
+            Outcome::Unreadable,
+        );
+    }
+    let before_timing = task.timing();
+    if json {
+        let waypoints: Vec<Value> = scene
+            .waypoints
+            .iter()
+            .enumerate()
+            .map(|(i, waypoint)| {
+                json!({
+                    "name": waypoint.name,
+                    "speed_share_pct_before": rounded(before_timing.speed_share[i] * 100.0, 2),
+                    "speed_share_pct_after": rounded(retimed.timing.speed_share[i] * 100.0, 2),
+                    "dwell_ms_before": rounded(before_timing.dwell[i] * 1e3, 1),
+                    "dwell_ms_after": rounded(retimed.timing.dwell[i] * 1e3, 1),
+                    "overshoot_mm_before": rounded(retimed.before.waypoints[i].overshoot * 1e3, 4),
+                    "overshoot_mm_after": rounded(retimed.after.waypoints[i].overshoot * 1e3, 4),
+                })
+            })
+            .collect();
+        print_json(&json!({
+            "ok": true,
+            "met": true,
+            "max_overshoot_mm": request.max_overshoot_mm,
+            "torque_share": torque_share,
+            "before": summary_json(&retimed.before),
+            "after": summary_json(&retimed.after),
+            "waypoints": waypoints,
+            "written": request.write.map(|p| p.display().to_string()),
+        }));
+    } else {
+        println!(
+            "target: overshoot ≤ {} mm, torque use ≤ {:.0} % of stall",
+            request.max_overshoot_mm,
+            torque_share * 100.0
+        );
+        let line = |label: &str, run: &armwright_trajectory::DryRun| {
+            println!(
+                "{label:<7} cycle {:.3} s, worst overshoot {:.2} mm, worst torque use {:.0} %",
+                run.cycle_time,
+                run.worst_overshoot() * 1e3,
+                run.worst_torque_use() * 100.0
+            );
+        };
+        line("before", &retimed.before);
+        line("after", &retimed.after);
+        println!(
+            "{:<24} {:>14} {:>16}",
+            "waypoint", "speed share %", "dwell ms"
+        );
+        for (i, waypoint) in scene.waypoints.iter().enumerate() {
+            println!(
+                "{:<24} {:>6.1} → {:>5.1} {:>7.0} → {:>6.0}",
+                waypoint.name,
+                before_timing.speed_share[i] * 100.0,
+                retimed.timing.speed_share[i] * 100.0,
+                before_timing.dwell[i] * 1e3,
+                retimed.timing.dwell[i] * 1e3
+            );
+        }
+        if let Some(out) = request.write {
+            println!("retimed scene written to {}", out.display());
+        }
+    }
+    Outcome::Done
+}
+
+/// The scene with the new timing and the target it was retimed for, so that simulating it gives
+/// the "after" figures.
+fn retimed_scene(
+    scene: &crate::scene::Scene,
+    timing: &armwright_trajectory::Timing,
+    request: &RetimeRequest<'_>,
+    torque_share: f64,
+) -> crate::scene::Scene {
+    let mut out = with_timing(scene, timing);
+    out.timing.torque_derating_pct = torque_share * 100.0;
+    out.timing.max_overshoot_mm = request.max_overshoot_mm;
+    out
+}
+
+fn same_file(a: &Path, b: &Path) -> bool {
+    match (a.canonicalize(), b.canonicalize()) {
+        (Ok(a), Ok(b)) => a == b,
+        _ => false,
+    }
+}

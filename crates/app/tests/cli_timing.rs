@@ -1,0 +1,200 @@
+//! `armwright plan`, `simulate` and `retime` on the sample scenes: JSON keys, CSV setpoints,
+//! exit codes, and a retimed scene that reproduces its own "after" figures.
+
+mod common;
+
+use serde_json::Value;
+use std::path::{Path, PathBuf};
+use std::process::{Command, Output};
+
+const SAMPLES: [&str; 3] = ["pen-plotter", "peg-sorter", "cube-stacker"];
+
+fn sample(name: &str) -> PathBuf {
+    Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("../../sample-scenes")
+        .join(format!("{name}.armwright.json"))
+}
+
+fn armwright(args: &[&str]) -> Output {
+    Command::new(env!("CARGO_BIN_EXE_armwright"))
+        .args(args)
+        .output()
+        .expect("the binary runs")
+}
+
+fn json_of(output: &Output) -> Value {
+    serde_json::from_slice(&output.stdout).expect("JSON on standard output")
+}
+
+fn scratch(name: &str) -> PathBuf {
+    let dir = std::env::temp_dir().join(format!("armwright-cli-timing-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).expect("scratch dir");
+    dir.join(name)
+}
+
+#[test]
+fn plan_reports_the_cycle_and_writes_setpoints() {
+    for name in SAMPLES {
+        let csv = scratch(&format!("{name}.csv"));
+        let file = sample(name);
+        let out = armwright(&[
+            "plan",
+            file.to_str().unwrap(),
+            "--json",
+            "--rate",
+            "200",
+            "--csv",
+            csv.to_str().unwrap(),
+        ]);
+        assert!(
+            out.status.success(),
+            "{name}: {}",
+            String::from_utf8_lossy(&out.stderr)
+        );
+        let report = json_of(&out);
+        let cycle = report["cycle_time_s"].as_f64().expect("cycle_time_s");
+        assert!(cycle > 0.0);
+        let segments = report["segments"].as_array().expect("segments");
+        let last = segments.last().expect("at least one segment");
+        let end = last["start_s"].as_f64().unwrap() + last["duration_s"].as_f64().unwrap();
+        assert!(
+            (end - cycle).abs() < 1e-3,
+            "{name}: segments end at {end}, cycle {cycle}"
+        );
+        assert!(report["peak_torque_use"].as_f64().unwrap() > 0.0);
+        // CSV: a header naming each joint with its unit, then rows at 200 Hz to the end.
+        let text = std::fs::read_to_string(&csv).expect("CSV written");
+        let mut lines = text.lines();
+        let header = lines.next().expect("header");
+        assert!(
+            header.starts_with("time_s,") && header.contains("_deg"),
+            "{header}"
+        );
+        let rows: Vec<Vec<f64>> = lines
+            .map(|l| l.split(',').map(|v| v.parse().expect("a number")).collect())
+            .collect();
+        assert_eq!(rows[1][0] - rows[0][0], 0.005);
+        assert!((rows.last().unwrap()[0] - cycle).abs() < 1e-3);
+        assert_eq!(rows[0].len(), header.split(',').count());
+    }
+}
+
+#[test]
+fn simulate_reports_every_waypoint() {
+    for name in SAMPLES {
+        let file = sample(name);
+        let out = armwright(&["simulate", file.to_str().unwrap(), "--json"]);
+        assert!(
+            out.status.success(),
+            "{name}: {}",
+            String::from_utf8_lossy(&out.stderr)
+        );
+        let report = json_of(&out);
+        for key in ["cycle_time_s", "worst_overshoot_mm", "worst_torque_use"] {
+            assert!(report[key].as_f64().is_some(), "{name} lacks {key}");
+        }
+        let scene: Value = serde_json::from_str(&std::fs::read_to_string(&file).unwrap()).unwrap();
+        let waypoints = report["waypoints"].as_array().expect("waypoints");
+        assert_eq!(
+            waypoints.len(),
+            scene["waypoints"].as_array().unwrap().len()
+        );
+        for waypoint in waypoints {
+            assert!(waypoint["overshoot_mm"].as_f64().unwrap() >= 0.0);
+            assert!(waypoint["peak_torque_use"].as_f64().is_some());
+            assert!(waypoint.get("settle_ms").is_some());
+        }
+    }
+}
+
+#[test]
+fn retimed_scenes_meet_the_target_and_simulate_to_the_after_figures() {
+    for name in SAMPLES {
+        let file = sample(name);
+        let out_file = scratch(&format!("{name}.retimed.armwright.json"));
+        let before_bytes = std::fs::read(&file).unwrap();
+        let out = armwright(&[
+            "retime",
+            file.to_str().unwrap(),
+            "--max-overshoot",
+            "1.5",
+            "--write",
+            out_file.to_str().unwrap(),
+            "--json",
+        ]);
+        assert!(
+            out.status.success(),
+            "{name}: {}",
+            String::from_utf8_lossy(&out.stdout)
+        );
+        let report = json_of(&out);
+        assert_eq!(report["met"], Value::Bool(true));
+        let after = &report["after"];
+        assert!(after["worst_overshoot_mm"].as_f64().unwrap() <= 1.5);
+        assert!(after["worst_torque_use"].as_f64().unwrap() <= 1.0);
+        assert!(report["before"]["cycle_time_s"].as_f64().is_some());
+        assert_eq!(
+            std::fs::read(&file).unwrap(),
+            before_bytes,
+            "the input is untouched"
+        );
+        let again = json_of(&armwright(&[
+            "simulate",
+            out_file.to_str().unwrap(),
+            "--json",
+        ]));
+        for key in ["cycle_time_s", "worst_overshoot_mm", "worst_torque_use"] {
+            let (a, b) = (again[key].as_f64().unwrap(), after[key].as_f64().unwrap());
+            assert!(
+                (a - b).abs() <= 1e-3 * (1.0 + b.abs()),
+                "{name} {key}: {a} vs {b}"
+            );
+        }
+    }
+}
+
+#[test]
+fn a_target_the_servos_cannot_hold_exits_one_and_names_the_waypoint() {
+    // 2 % of stall torque cannot hold the arm up against gravity, however slowly it moves.
+    let file = sample("cube-stacker");
+    let out = armwright(&[
+        "retime",
+        file.to_str().unwrap(),
+        "--max-overshoot",
+        "1.5",
+        "--torque-share",
+        "0.02",
+        "--json",
+    ]);
+    assert_eq!(out.status.code(), Some(1));
+    let report = json_of(&out);
+    assert_eq!(report["met"], Value::Bool(false));
+    let error = report["error"].as_str().expect("error");
+    assert!(
+        error.contains("waypoint 0") && error.contains("joint"),
+        "{error}"
+    );
+}
+
+#[test]
+fn bad_retime_options_exit_two() {
+    let file = sample("pen-plotter");
+    let out = armwright(&[
+        "retime",
+        file.to_str().unwrap(),
+        "--max-overshoot",
+        "1",
+        "--torque-share",
+        "1.5",
+    ]);
+    assert_eq!(out.status.code(), Some(2));
+    let out = armwright(&[
+        "plan",
+        file.to_str().unwrap(),
+        "--csv",
+        "/nonexistent-dir/x.csv",
+        "--rate",
+        "10",
+    ]);
+    assert_eq!(out.status.code(), Some(2));
+}
