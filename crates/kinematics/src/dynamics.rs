@@ -89,6 +89,45 @@ pub fn joint_inertia(
     Ok(efforts.as_slice()[joint])
 }
 
+/// The inertia every joint sees at once, with the others held still: the diagonal of the
+/// joint-space mass matrix, as [`joint_inertia`] gives one entry of it, with a payload of
+/// `payload_mass` kg at the tool point. kg·m² for a revolute joint, kg for a prismatic one.
+///
+/// One pass from the tool back to the base gathers the composite body beyond each joint (mass,
+/// centre and inertia in the base frame); a revolute joint then sees that body's inertia about
+/// its axis, a prismatic one its mass. Cheaper than one [`joint_inertia`] call per joint.
+///
+/// # Errors
+/// [`KinematicsError`] if the count is wrong, a position is not finite, or the payload is
+/// negative or not finite.
+pub fn joint_inertias(
+    arm: &Arm,
+    positions: &[f64],
+    payload_mass: f64,
+) -> Result<JointEfforts, KinematicsError> {
+    let count = arm.joint_count();
+    check_pose(count, positions)?;
+    check_payload(payload_mass)?;
+    let pose = crate::fk::forward(arm, positions)?;
+    let tool_point = pose.tool().translation.vector;
+    let mut beyond = crate::arm::MassProperties::point(payload_mass, tool_point);
+    let mut out = JointEfforts::zeros(count);
+    for index in (0..count).rev() {
+        if let Some(body) = arm.body(index) {
+            beyond = beyond.combined(&body.transformed(&pose.frames()[index]));
+        }
+        let (axis, point) = pose.joint_axis(arm, index);
+        out.as_mut_slice()[index] = match arm.joints()[index].kind {
+            JointKind::Revolute => {
+                let lever = axis.cross(&(beyond.centre - point));
+                axis.dot(&(beyond.inertia * axis)) + beyond.mass * lever.norm_squared()
+            }
+            JointKind::Prismatic => beyond.mass,
+        };
+    }
+    Ok(out)
+}
+
 /// Recursive Newton–Euler with the base accelerating upward at `gravity` m/s². Inputs are
 /// already checked.
 fn newton_euler(

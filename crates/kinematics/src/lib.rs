@@ -24,7 +24,7 @@ pub use crate::arm::{
     Gripper, Joint, JointKind, JointPlacement, JointSpec, MAX_JOINTS, MassProperties,
     PulseDirection, ScaraDims, ServoSpec,
 };
-pub use crate::dynamics::{inverse_dynamics, joint_inertia};
+pub use crate::dynamics::{inverse_dynamics, joint_inertia, joint_inertias};
 pub use crate::envelope::{MapExtent, MapOptions, MapView, ReachMap, reach_map};
 pub use crate::error::KinematicsError;
 pub use crate::fk::{ChainPose, ToolAngles, forward, tool_pose};

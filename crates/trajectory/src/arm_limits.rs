@@ -1,6 +1,6 @@
 //! The limits a plan takes from the arm: how fast and how hard each servo can move its joint.
 
-use armwright_kinematics::{Arm, MAX_JOINTS, gravity_torques, joint_inertia};
+use armwright_kinematics::{Arm, MAX_JOINTS, gravity_torques, joint_inertias};
 
 use crate::profile::JointLimits;
 use crate::servo_sim::{ServoModel, ServoModelOptions};
@@ -92,6 +92,8 @@ pub fn limits_from_arm(
     let mut look = |pose: &[f64], waypoint: usize| -> Result<(), LimitError> {
         let gravity = gravity_torques(arm, pose, payload_mass)
             .map_err(|e| LimitError::Input(e.to_string()))?;
+        let inertias = joint_inertias(arm, pose, payload_mass)
+            .map_err(|e| LimitError::Input(e.to_string()))?;
         for (j, joint) in arm.joints().iter().enumerate() {
             let needed = gravity.as_slice()[j].abs();
             let available = joint.rated_effort(settings.derating);
@@ -104,9 +106,7 @@ pub fn limits_from_arm(
                 });
             }
             worst_gravity[j] = worst_gravity[j].max(needed);
-            let inertia = joint_inertia(arm, pose, payload_mass, j)
-                .map_err(|e| LimitError::Input(e.to_string()))?;
-            worst_inertia[j] = worst_inertia[j].max(inertia);
+            worst_inertia[j] = worst_inertia[j].max(inertias.as_slice()[j]);
         }
         Ok(())
     };

@@ -2,7 +2,7 @@
 //! before powering anything — overshoot and settling at each stop, following error, torque use.
 
 use armwright_kinematics::{
-    Arm, KinematicsError, MAX_JOINTS, gravity_torques, joint_inertia, tool_pose,
+    Arm, KinematicsError, MAX_JOINTS, gravity_torques, joint_inertias, tool_pose,
 };
 use nalgebra::Vector3;
 
@@ -325,9 +325,9 @@ fn fill_loads(arm: &Arm, link: &[f64], payload: f64, loads: &mut [JointLoad]) {
             load.holding_effort = *effort;
         }
     }
-    for (joint, load) in loads.iter_mut().enumerate() {
-        if let Ok(inertia) = joint_inertia(arm, link, payload, joint) {
-            load.inertia = inertia;
+    if let Ok(inertias) = joint_inertias(arm, link, payload) {
+        for (load, inertia) in loads.iter_mut().zip(inertias.as_slice()) {
+            load.inertia = *inertia;
         }
     }
 }
