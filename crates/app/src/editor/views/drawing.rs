@@ -284,17 +284,20 @@ pub fn waypoints(
             );
         }
     }
+    // One thin path and square markers: a dashed path or round markers cost ten times as much
+    // to tessellate with hundreds of waypoints.
     if points.len() > 1 {
-        painter.add(Shape::dashed_line(
-            &points,
-            Stroke::new(1.0, WAYPOINT.gamma_multiply(0.7)),
-            6.0,
-            4.0,
+        painter.add(Shape::line(
+            points.clone(),
+            Stroke::new(1.0, WAYPOINT.gamma_multiply(0.45)),
         ));
     }
-    for point in points {
-        painter.circle_filled(point, 3.0, WAYPOINT);
-    }
+    let marker = vec2(5.0, 5.0);
+    painter.extend(
+        points
+            .into_iter()
+            .map(|point| Shape::rect_filled(Rect::from_center_size(point, marker), 0.0, WAYPOINT)),
+    );
 }
 
 /// The arm's links and joints at the current pose and the tool point; returns the tool point's
