@@ -179,6 +179,49 @@ pub enum Command {
         #[arg(long)]
         json: bool,
     },
+    /// List the serial ports of this computer, with USB vendor and product ids.
+    Ports {
+        /// Print machine-readable JSON instead of text.
+        #[arg(long)]
+        json: bool,
+    },
+    /// Stream the scene's sequence to a device as pulse widths, in real time.
+    ///
+    /// The sequence is planned and sampled at --rate; each sample becomes one pulse width per
+    /// channel through the joints' calibration (the gripper from its waypoint's state). The
+    /// device is --port, --simulated, or else the scene's link device. The safety caution is
+    /// shown and a typed "yes" is needed unless --yes. Ctrl-C sends the emergency stop. Exit
+    /// status 0 when the sequence ran to its end, 1 on an emergency stop, a lost link or a
+    /// refusal, 2 when the input cannot be read.
+    Stream {
+        /// The scene file.
+        #[arg(value_name = "FILE")]
+        file: PathBuf,
+        /// Serial port of the device, for example /dev/ttyUSB0.
+        #[arg(long, value_name = "PATH", conflicts_with = "simulated")]
+        port: Option<String>,
+        /// Stream to the built-in simulated device.
+        #[arg(long)]
+        simulated: bool,
+        /// Setpoints per second, 50 to 1000 (default: the scene's link rate).
+        #[arg(long, value_name = "HZ")]
+        rate: Option<f64>,
+        /// Start without asking for confirmation (the caution is still shown).
+        #[arg(long)]
+        yes: bool,
+        /// Print the result as machine-readable JSON (progress stays on standard error).
+        #[arg(long)]
+        json: bool,
+    },
+    /// Run the simulated device behind a pseudo-terminal and print its path, until Ctrl-C.
+    ///
+    /// Open the printed path with `stream --port` to use the real serial code path with no
+    /// hardware.
+    DeviceSim {
+        /// Pulse channels the device announces, 1 to 8.
+        #[arg(long, value_name = "N", default_value_t = 7)]
+        channels: u8,
+    },
 }
 
 /// The plane an envelope map covers.
@@ -274,6 +317,41 @@ mod tests {
             }
             other => panic!("{other:?}"),
         }
+    }
+
+    #[test]
+    fn stream_takes_a_port_or_the_simulated_device_but_not_both() {
+        assert!(
+            Cli::try_parse_from([
+                "armwright",
+                "stream",
+                "a.json",
+                "--port",
+                "/dev/x",
+                "--simulated"
+            ])
+            .is_err()
+        );
+        let cli = Cli::try_parse_from(["armwright", "stream", "a.json", "--rate", "100", "--yes"])
+            .unwrap();
+        match cli.command {
+            Command::Stream {
+                port,
+                simulated,
+                rate,
+                yes,
+                json,
+                ..
+            } => {
+                assert_eq!(
+                    (port, simulated, rate, yes, json),
+                    (None, false, Some(100.0), true, false)
+                );
+            }
+            other => panic!("{other:?}"),
+        }
+        let cli = Cli::try_parse_from(["armwright", "device-sim", "--channels", "4"]).unwrap();
+        assert!(matches!(cli.command, Command::DeviceSim { channels: 4 }));
     }
 
     #[test]

@@ -1,23 +1,27 @@
-//! The command line: `check`, `pose`, `reach`, `envelope`, `plan`, `simulate`, `retime`.
+//! The command line: `check`, `pose`, `reach`, `envelope`, `plan`, `simulate`, `retime`,
+//! `ports`, `stream`, `device-sim`.
 //!
 //! Naming scheme: `args.rs` declares every option (clap derive); one file per subcommand
-//! (`check.rs`, `pose.rs`, `reach.rs`, `envelope.rs`, `plan.rs`, `simulate.rs`, `retime.rs`);
-//! `report.rs` prints results as text or
+//! (`check.rs`, `pose.rs`, `reach.rs`, `envelope.rs`, `plan.rs`, `simulate.rs`, `retime.rs`,
+//! `ports.rs`, `stream.rs`, `device_sim.rs`); `report.rs` prints results as text or
 //! JSON and loads the scene for a subcommand; `svg.rs` draws an envelope map.
 //!
-//! Exit status: 0 on success, 1 when the scene has problems or a target cannot be reached, 2
-//! when the input cannot be read (missing file, not JSON, not a scene, newer version, bad
-//! arguments).
+//! Exit status: 0 on success, 1 when the scene has problems or a target cannot be reached (for
+//! `stream`: an emergency stop, a lost link or a refusal), 2 when the input cannot be read
+//! (missing file, not JSON, not a scene, newer version, bad arguments).
 
 mod args;
 mod check;
+mod device_sim;
 mod envelope;
 mod plan;
+mod ports;
 mod pose;
 mod reach;
 mod report;
 mod retime;
 mod simulate;
+mod stream;
 mod svg;
 
 pub use args::{Cli, Command, View};
@@ -30,7 +34,8 @@ use std::process::ExitCode;
 pub enum Outcome {
     /// 0: done.
     Done,
-    /// 1: the scene has problems, or a target cannot be reached.
+    /// 1: the scene has problems, a target cannot be reached, or a stream was stopped, lost
+    /// or refused.
     Refused,
     /// 2: the input cannot be read.
     Unreadable,
@@ -116,5 +121,24 @@ pub fn execute(command: &Command) -> Outcome {
             };
             retime::run(file, &request, *json)
         }
+        Command::Ports { json } => ports::run(*json),
+        Command::Stream {
+            file,
+            port,
+            simulated,
+            rate,
+            yes,
+            json,
+        } => {
+            let request = stream::StreamRequest {
+                port: port.as_deref(),
+                simulated: *simulated,
+                rate_hz: *rate,
+                yes: *yes,
+                json: *json,
+            };
+            stream::run(file, &request)
+        }
+        Command::DeviceSim { channels } => device_sim::run(*channels),
     }
 }

@@ -1,0 +1,56 @@
+//! `armwright device-sim`: the simulated device behind a pseudo-terminal, so `stream --port`
+//! can use the real serial code path with no hardware. Prints the path on standard output and
+//! runs until Ctrl-C.
+
+use serde_json::json;
+
+use super::Outcome;
+use super::report::fail;
+
+#[cfg(unix)]
+pub(crate) fn run(channels: u8) -> Outcome {
+    use armwright_link::{MAX_CHANNELS, SimDeviceConfig, SimPty};
+
+    if channels == 0 || usize::from(channels) > MAX_CHANNELS {
+        let message = format!("--channels: {channels} is not between 1 and {MAX_CHANNELS}");
+        return fail(false, &message, json!({}), Outcome::Unreadable);
+    }
+    let (ended_tx, ended_rx) = std::sync::mpsc::channel();
+    if let Err(error) = ctrlc::set_handler(move || {
+        let _ = ended_tx.send(());
+    }) {
+        let message = format!("cannot catch Ctrl-C: {error}");
+        return fail(false, &message, json!({}), Outcome::Refused);
+    }
+    let config = SimDeviceConfig {
+        channel_count: channels,
+        ..SimDeviceConfig::default()
+    };
+    let pty = match SimPty::spawn(config) {
+        Ok(pty) => pty,
+        Err(error) => return fail(false, &error.to_string(), json!({}), Outcome::Refused),
+    };
+    println!("{}", pty.path());
+    eprintln!(
+        "simulated device with {channels} channels at {}; open it with `armwright stream FILE \
+         --port {}`; Ctrl-C ends it",
+        pty.path(),
+        pty.path()
+    );
+    let _ = ended_rx.recv();
+    drop(pty);
+    eprintln!("simulated device stopped");
+    Outcome::Done
+}
+
+#[cfg(not(unix))]
+pub(crate) fn run(channels: u8) -> Outcome {
+    let _ = channels;
+    fail(
+        false,
+        "the simulated device behind a pseudo-terminal needs a Unix-like system; use \
+         `stream --simulated` instead",
+        json!({}),
+        Outcome::Refused,
+    )
+}

@@ -1,0 +1,493 @@
+//! `armwright stream`: plans the scene's sequence, turns every sample into pulse widths
+//! through the joints' calibration, and streams them to a device in real time, with the
+//! safety caution, a typed confirmation, progress on standard error, and Ctrl-C wired to the
+//! link's emergency stop.
+
+use std::io::BufRead;
+use std::path::Path;
+use std::time::{Duration, Instant};
+
+use armwright_kinematics::Arm;
+use armwright_link::{
+    ChannelValues, DeviceInfo, Link, LinkEvent, LinkLoss, SerialTransport, SimDeviceConfig,
+    SimTransport, StreamOptions, StreamStats, Transport, arm_setpoint,
+};
+use armwright_trajectory::TaskPlan;
+use serde_json::{Value, json};
+
+use super::Outcome;
+use super::plan::plan_scene;
+use super::report::{fail, load_scene, print_json, rounded};
+use crate::scene::{Device, GripperState, Scene};
+
+/// Shown before anything is sent, whether or not confirmation is asked for.
+pub(crate) const CAUTION: &str = "\
+CAUTION: a powered servo arm can pinch and strike, and it moves as soon as streaming starts.
+A software stop is not a safety device: keep a hard power cut-off within reach, keep clear
+of the arm's reach while it is powered, and defer to local codes and licensed practice.
+Ctrl-C sends the emergency stop; the device then holds its pulses until reset.";
+
+/// How often progress is printed on standard error while streaming.
+const PROGRESS_INTERVAL: Duration = Duration::from_secs(1);
+
+/// How long to wait for the last acknowledgements after the last setpoint went out.
+const LAST_ACK_WAIT: Duration = Duration::from_millis(250);
+
+/// The options of one `stream` run.
+pub(crate) struct StreamRequest<'a> {
+    /// `--port PATH`.
+    pub port: Option<&'a str>,
+    /// `--simulated`.
+    pub simulated: bool,
+    /// `--rate HZ`, or the scene's link rate.
+    pub rate_hz: Option<f64>,
+    /// `--yes`: no confirmation asked.
+    pub yes: bool,
+    /// `--json`: the result as JSON on standard output.
+    pub json: bool,
+}
+
+/// Where the pulses go.
+#[derive(Debug, Clone, PartialEq, Eq)]
+enum Target {
+    Simulated,
+    Port(String),
+}
+
+impl Target {
+    fn name(&self) -> &str {
+        match self {
+            Target::Simulated => "simulated",
+            Target::Port(path) => path,
+        }
+    }
+}
+
+/// One planned sample in the arm's units: joint positions (rad or m) and the gripper's share
+/// closed (0 open, 1 closed).
+#[derive(Debug, Clone, PartialEq)]
+struct Pose {
+    positions: Vec<f64>,
+    gripper_closed: f64,
+}
+
+/// How a stream ended.
+#[derive(Debug, Clone, Copy, PartialEq)]
+enum Ending {
+    /// Every setpoint was sent.
+    Finished,
+    /// The emergency stop was sent and acknowledged after this long.
+    Stopped { after: Duration },
+    /// The link was lost.
+    Lost(LinkLoss),
+}
+
+pub(crate) fn run(file: &Path, request: &StreamRequest) -> Outcome {
+    let json = request.json;
+    let (scene, arm) = match load_scene(file, json) {
+        Ok(loaded) => loaded,
+        Err(outcome) => return outcome,
+    };
+    let plan = match plan_scene(&scene, &arm, json) {
+        Ok(plan) => plan,
+        Err(outcome) => return outcome,
+    };
+    let rate_hz = request.rate_hz.unwrap_or(scene.link.rate_hz);
+    let poses = match poses_of(&scene, &arm, &plan, rate_hz) {
+        Ok(poses) => poses,
+        Err(message) => return fail(json, &message, json!({}), Outcome::Unreadable),
+    };
+    let target = target_of(request, &scene);
+    eprintln!("{CAUTION}");
+    if !request.yes {
+        eprint!("Type yes to stream to {}: ", target.name());
+        if let Err(reason) = confirm(&mut std::io::stdin().lock()) {
+            let message = format!("{reason}; nothing was sent");
+            return fail(
+                json,
+                &message,
+                json!({ "frames_sent": 0 }),
+                Outcome::Refused,
+            );
+        }
+    }
+    let period = Duration::from_secs_f64(1.0 / rate_hz);
+    let options = StreamOptions {
+        period,
+        ..StreamOptions::default()
+    };
+    let link = match connect(&target, scene.link.baud, options) {
+        Ok(link) => link,
+        Err(message) => {
+            return fail(
+                json,
+                &message,
+                json!({ "frames_sent": 0 }),
+                Outcome::Refused,
+            );
+        }
+    };
+    let converted = match setpoints_of(&arm, &poses, &link.device()) {
+        Ok(converted) => converted,
+        Err(message) => {
+            return fail(
+                json,
+                &message,
+                json!({ "frames_sent": 0 }),
+                Outcome::Refused,
+            );
+        }
+    };
+    let stop = link.emergency_stop();
+    if let Err(error) = ctrlc::set_handler(move || stop.trigger()) {
+        let message = format!("cannot catch Ctrl-C, so it could not stop the arm: {error}");
+        return fail(
+            json,
+            &message,
+            json!({ "frames_sent": 0 }),
+            Outcome::Refused,
+        );
+    }
+    if let Err(error) = link.start_stream() {
+        let message = format!("cannot start streaming: {error}");
+        return fail(
+            json,
+            &message,
+            json!({ "frames_sent": 0 }),
+            Outcome::Refused,
+        );
+    }
+    let duration = plan.sequence().duration();
+    eprintln!(
+        "streaming to {}: {} setpoints at {rate_hz} Hz over {duration:.2} s; Ctrl-C sends the \
+         emergency stop",
+        target.name(),
+        converted.values.len()
+    );
+    let started = Instant::now();
+    let ending = std::thread::scope(|scope| {
+        scope.spawn(|| {
+            for values in &converted.values {
+                // An error here means the stream was stopped or lost; the watcher reports it.
+                if link.push_setpoint(*values).is_err() {
+                    return;
+                }
+            }
+            let _ = link.finish_stream();
+        });
+        watch(&link, converted.values.len(), duration, started)
+    });
+    let elapsed = started.elapsed();
+    if ending == Ending::Finished {
+        wait_for_last_acks(&link);
+    }
+    let stats = link.stats();
+    report(
+        json,
+        &Summary {
+            target: &target,
+            rate_hz,
+            planned: converted.values.len(),
+            clamped_by_host: converted.clamped,
+            worst_rounding_deg: converted.worst_rounding_deg,
+            elapsed,
+            ending,
+            stats: &stats,
+        },
+    )
+}
+
+/// `--port`, `--simulated`, or the scene's link device.
+fn target_of(request: &StreamRequest, scene: &Scene) -> Target {
+    match (request.port, request.simulated) {
+        (Some(path), _) => Target::Port(path.to_owned()),
+        (None, true) => Target::Simulated,
+        (None, false) => match &scene.link.device {
+            Device::Simulated => Target::Simulated,
+            Device::Port(path) => Target::Port(path.clone()),
+        },
+    }
+}
+
+/// Reads one answer; only "yes" (or "y"), in any case, confirms.
+fn confirm(input: &mut impl BufRead) -> Result<(), String> {
+    let mut answer = String::new();
+    match input.read_line(&mut answer) {
+        Ok(0) => Err("no confirmation: standard input is closed".to_owned()),
+        Ok(_) => match answer.trim().to_ascii_lowercase().as_str() {
+            "yes" | "y" => Ok(()),
+            _ => Err("not confirmed".to_owned()),
+        },
+        Err(error) => Err(format!(
+            "no confirmation: cannot read standard input: {error}"
+        )),
+    }
+}
+
+/// The plan sampled at `rate_hz`; the gripper takes the state of the last waypoint reached.
+fn poses_of(scene: &Scene, arm: &Arm, plan: &TaskPlan, rate_hz: f64) -> Result<Vec<Pose>, String> {
+    let sampler = plan
+        .sequence()
+        .sampler(rate_hz)
+        .map_err(|error| format!("--rate: {error}"))?;
+    let arrivals: Vec<f64> = plan.timings().iter().map(|t| t.arrival).collect();
+    let joints = arm.joint_count();
+    Ok(sampler
+        .map(|sample| {
+            let reached = arrivals
+                .partition_point(|&arrival| arrival <= sample.time)
+                .saturating_sub(1);
+            let closed = scene
+                .waypoints
+                .get(reached)
+                .is_some_and(|w| w.gripper == GripperState::Closed);
+            Pose {
+                positions: sample.positions[..joints].to_vec(),
+                gripper_closed: if closed { 1.0 } else { 0.0 },
+            }
+        })
+        .collect())
+}
+
+/// Every pose as device setpoints, with how many were clamped and the worst rounding error.
+struct Converted {
+    values: Vec<ChannelValues>,
+    clamped: usize,
+    worst_rounding_deg: f64,
+}
+
+fn setpoints_of(arm: &Arm, poses: &[Pose], device: &DeviceInfo) -> Result<Converted, String> {
+    let mut converted = Converted {
+        values: Vec::with_capacity(poses.len()),
+        clamped: 0,
+        worst_rounding_deg: 0.0,
+    };
+    for (index, pose) in poses.iter().enumerate() {
+        let setpoint = arm_setpoint(arm, &pose.positions, Some(pose.gripper_closed), device)
+            .map_err(|error| format!("setpoint {index}: {error}"))?;
+        converted.clamped += usize::from(setpoint.any_clamped());
+        converted.worst_rounding_deg = converted
+            .worst_rounding_deg
+            .max(setpoint.worst_error_deg(arm));
+        converted.values.push(setpoint.values);
+    }
+    Ok(converted)
+}
+
+fn connect(target: &Target, baud: u32, options: StreamOptions) -> Result<Link, String> {
+    let transport: Box<dyn Transport> = match target {
+        Target::Simulated => Box::new(SimTransport::new(SimDeviceConfig::default())),
+        Target::Port(path) => {
+            Box::new(SerialTransport::open(path, baud).map_err(|error| error.to_string())?)
+        }
+    };
+    Link::connect(transport, options)
+        .map_err(|error| format!("cannot connect to {}: {error}", target.name()))
+}
+
+/// Waits for the stream's end, printing progress on standard error.
+fn watch(link: &Link, planned: usize, duration: f64, started: Instant) -> Ending {
+    let mut last_progress = Instant::now();
+    loop {
+        match link.next_event(Duration::from_millis(50)) {
+            Some(LinkEvent::StreamFinished { .. }) => return Ending::Finished,
+            Some(LinkEvent::StopConfirmed { after }) => return Ending::Stopped { after },
+            Some(LinkEvent::Lost(loss)) => return Ending::Lost(loss),
+            Some(LinkEvent::ResetDone) | None => {}
+        }
+        if last_progress.elapsed() >= PROGRESS_INTERVAL {
+            last_progress = Instant::now();
+            let stats = link.stats();
+            eprintln!(
+                "  {:>6}/{planned} sent, {} acknowledged, {} late; {:.1} s of {duration:.1} s",
+                stats.frames_sent,
+                stats.frames_acked,
+                stats.frames_late,
+                started.elapsed().as_secs_f64()
+            );
+        }
+    }
+}
+
+/// After the last setpoint went out, gives the device a moment to acknowledge it.
+fn wait_for_last_acks(link: &Link) {
+    let until = Instant::now() + LAST_ACK_WAIT;
+    while Instant::now() < until {
+        let stats = link.stats();
+        if stats.frames_acked >= stats.frames_sent || stats.loss.is_some() {
+            return;
+        }
+        std::thread::sleep(Duration::from_millis(2));
+    }
+}
+
+struct Summary<'a> {
+    target: &'a Target,
+    rate_hz: f64,
+    planned: usize,
+    clamped_by_host: usize,
+    worst_rounding_deg: f64,
+    elapsed: Duration,
+    ending: Ending,
+    stats: &'a StreamStats,
+}
+
+fn ms(duration: Duration) -> f64 {
+    rounded(duration.as_secs_f64() * 1e3, 3)
+}
+
+/// Prints how the stream went and says how to exit: 0 when it ran to its end, 1 otherwise.
+fn report(json: bool, summary: &Summary) -> Outcome {
+    let stats = summary.stats;
+    let (ending, reason) = match summary.ending {
+        Ending::Finished => ("finished", None),
+        Ending::Stopped { after } => (
+            "emergency_stop",
+            Some(format!(
+                "emergency stop sent and acknowledged by the device after {:.1} ms; it holds its \
+                 pulses until reset — check the arm before streaming again",
+                after.as_secs_f64() * 1e3
+            )),
+        ),
+        Ending::Lost(loss) if stats.stop_write_latency.is_some() => (
+            "emergency_stop",
+            Some(format!(
+                "emergency stop sent but not acknowledged: link lost: {loss}; cut the arm's power"
+            )),
+        ),
+        Ending::Lost(loss) => ("link_lost", Some(format!("link lost: {loss}"))),
+    };
+    let finished = summary.ending == Ending::Finished;
+    if json {
+        print_json(&json!({
+            "ok": finished,
+            "ending": ending,
+            "error": reason,
+            "device": summary.target.name(),
+            "rate_hz": summary.rate_hz,
+            "frames_planned": summary.planned,
+            "frames_sent": stats.frames_sent,
+            "frames_acked": stats.frames_acked,
+            "frames_late": stats.frames_late,
+            "frames_clamped_by_device": stats.frames_clamped,
+            "frames_clamped_by_host": summary.clamped_by_host,
+            "frames_dropped": stats.frames_dropped,
+            "underruns": stats.underruns,
+            "worst_rounding_error_deg": rounded(summary.worst_rounding_deg, 4),
+            "jitter_mean_ms": ms(stats.jitter_mean),
+            "jitter_p99_ms": ms(stats.jitter_p99),
+            "jitter_max_ms": ms(stats.jitter_max),
+            "elapsed_s": rounded(summary.elapsed.as_secs_f64(), 3),
+            "stop_write_latency_ms": stats.stop_write_latency.map(ms).map_or(Value::Null, |v| json!(v)),
+            "stop_ack_latency_ms": stats.stop_ack_latency.map(ms).map_or(Value::Null, |v| json!(v)),
+        }));
+    } else {
+        println!(
+            "{} of {} setpoints sent to {}, {} acknowledged, {} late, {} dropped in {:.2} s; \
+             jitter p99 {:.2} ms, worst rounding {:.3}°",
+            stats.frames_sent,
+            summary.planned,
+            summary.target.name(),
+            stats.frames_acked,
+            stats.frames_late,
+            stats.frames_dropped,
+            summary.elapsed.as_secs_f64(),
+            stats.jitter_p99.as_secs_f64() * 1e3,
+            summary.worst_rounding_deg
+        );
+        if summary.clamped_by_host > 0 {
+            println!(
+                "{} setpoints had a pulse width limited to its servo's range",
+                summary.clamped_by_host
+            );
+        }
+        match &reason {
+            None => println!("the sequence ran to its end"),
+            Some(reason) => eprintln!("error: {reason}"),
+        }
+    }
+    if finished {
+        Outcome::Done
+    } else {
+        Outcome::Refused
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn only_a_yes_confirms() {
+        assert!(confirm(&mut "yes\n".as_bytes()).is_ok());
+        assert!(confirm(&mut " Y \n".as_bytes()).is_ok());
+        assert_eq!(
+            confirm(&mut "no\n".as_bytes()),
+            Err("not confirmed".to_owned())
+        );
+        assert_eq!(
+            confirm(&mut "".as_bytes()),
+            Err("no confirmation: standard input is closed".to_owned())
+        );
+    }
+
+    #[test]
+    fn the_gripper_channel_follows_the_state_of_the_last_waypoint_reached() {
+        use crate::scene::{build_arm, load, task_of};
+        use armwright_link::SimDevice;
+        use armwright_trajectory::plan_task;
+
+        let path = Path::new(env!("CARGO_MANIFEST_DIR"))
+            .join("../../sample-scenes/peg-sorter.armwright.json");
+        let scene = load(&path).unwrap();
+        let arm = build_arm(&scene.arm).unwrap();
+        let plan = plan_task(&arm, &task_of(&scene, &arm)).unwrap();
+        let rate_hz = 50.0;
+        let poses = poses_of(&scene, &arm, &plan, rate_hz).unwrap();
+        let device = SimDevice::new(SimDeviceConfig::default()).info();
+        let converted = setpoints_of(&arm, &poses, &device).unwrap();
+        assert_eq!(converted.values.len(), poses.len());
+        let gripper = scene.arm.gripper.as_ref().unwrap();
+        let last = usize::from(device.channel_count) - 1;
+        let timings = plan.timings();
+        let mut changes = 0;
+        for (index, (waypoint, timing)) in scene.waypoints.iter().zip(timings).enumerate() {
+            // A sample just after the arrival (clear of rounding at the instant itself), if it
+            // comes before the next arrival.
+            let sample = (timing.arrival * rate_hz).ceil() as usize + 1;
+            let next = timings.get(index + 1).map_or(f64::INFINITY, |t| t.arrival);
+            if sample >= poses.len() || sample as f64 / rate_hz >= next {
+                continue;
+            }
+            let expected_us = match waypoint.gripper {
+                GripperState::Open => gripper.open_pulse_us,
+                GripperState::Closed => gripper.closed_pulse_us,
+            };
+            assert_eq!(
+                u32::from(converted.values[sample].as_slice()[last]),
+                expected_us,
+                "{}",
+                waypoint.name
+            );
+            changes += 1;
+        }
+        assert!(
+            changes >= scene.waypoints.len() / 2,
+            "{changes} waypoints checked"
+        );
+    }
+
+    #[test]
+    fn the_caution_says_what_the_sample_scenes_say() {
+        let caution = CAUTION.replace('\n', " ").to_lowercase();
+        for phrase in [
+            "pinch and strike",
+            "a software stop is not a safety device",
+            "hard power cut-off within reach",
+            "keep clear of the arm's reach while it is powered",
+            "local codes and licensed practice",
+        ] {
+            assert!(caution.contains(phrase), "{phrase}");
+        }
+    }
+}
