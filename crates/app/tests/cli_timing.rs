@@ -198,3 +198,42 @@ fn bad_retime_options_exit_two() {
     ]);
     assert_eq!(out.status.code(), Some(2));
 }
+
+#[test]
+fn a_shaped_scene_retimes_with_its_runs_shaped() {
+    let mut scene: Value =
+        serde_json::from_str(&std::fs::read_to_string(sample("pen-plotter")).unwrap()).unwrap();
+    scene["timing"]["shaping"] = Value::from("zvd");
+    let input = scratch("shaped.armwright.json");
+    std::fs::write(&input, serde_json::to_string_pretty(&scene).unwrap()).unwrap();
+    let output = scratch("shaped.retimed.armwright.json");
+    let out = armwright(&[
+        "retime",
+        input.to_str().unwrap(),
+        "--max-overshoot",
+        "1.5",
+        "--write",
+        output.to_str().unwrap(),
+        "--json",
+    ]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stdout)
+    );
+    let report = json_of(&out);
+    assert_eq!(report["shaping"], Value::from("zvd"));
+    assert!(report["shaped_runs"].as_u64().unwrap() > 0, "{report}");
+    let plan = json_of(&armwright(&["plan", output.to_str().unwrap(), "--json"]));
+    assert_eq!(plan["shaped_runs"], report["shaped_runs"]);
+    let again = json_of(&armwright(&[
+        "simulate",
+        output.to_str().unwrap(),
+        "--json",
+    ]));
+    let (a, b) = (
+        again["cycle_time_s"].as_f64().unwrap(),
+        report["after"]["cycle_time_s"].as_f64().unwrap(),
+    );
+    assert!((a - b).abs() < 1e-3, "{a} vs {b}");
+}

@@ -230,6 +230,7 @@ fn scene(values: &[f64], description: String, port: String) -> Scene {
             settle_band_mm: draw.range(0.05, 5.0),
             max_overshoot_mm: draw.range(0.05, 5.0),
             damping_ratio: draw.range(0.1, 1.5),
+            shaping: [Shaping::None, Shaping::Zv, Shaping::Zvd][draw.count(0, 2)],
         },
         workspace: Workspace {
             table_height_mm: draw.flip().then(|| draw.range(-50.0, 50.0)),

@@ -33,6 +33,7 @@ fn hundred_waypoints() -> Task {
         waypoints,
         limits: LimitSettings::default(),
         model: ServoModelOptions::default(),
+        shaping: None,
     }
 }
 

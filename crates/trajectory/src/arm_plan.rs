@@ -1,16 +1,19 @@
 //! A task planned on a real arm: limits from its servos, the payload the gripper carries, and
 //! where each waypoint falls in time — what the dry run, retiming and streaming follow.
 
-use armwright_kinematics::{Arm, MAX_JOINTS, inverse_dynamics, torque_use};
+use armwright_kinematics::{Arm, MAX_JOINTS, inverse_dynamics, joint_inertias, torque_use};
 
 use crate::arm_limits::{LimitError, LimitSettings, limits_from_arm};
 use crate::dry_run::{CommandedMotion, WaypointTiming};
 use crate::profile::{JointLimits, JointState, ProfileShape};
 use crate::retime::{Planner, Timing};
+use crate::sample::{MAX_SAMPLE_RATE_HZ, MIN_SAMPLE_RATE_HZ};
+use crate::second_order::SecondOrder;
 use crate::sequence::{
     SegmentKind, SequenceError, SequencePlan, SequenceWaypoint, WaypointKind, plan_sequence_shaped,
 };
-use crate::servo_sim::ServoModelOptions;
+use crate::servo_sim::{ServoModel, ServoModelOptions};
+use crate::shaping::{Shaper, ShaperKind};
 use crate::straight_move::{StraightMoveError, straight_path};
 
 /// One waypoint of a task, in joint space.
@@ -42,6 +45,8 @@ pub struct Task {
     pub limits: LimitSettings,
     /// The servo model's settings (its motor inertia counts in the acceleration limits).
     pub model: ServoModelOptions,
+    /// Input shaping of every run from one stop to the next, or none.
+    pub shaping: Option<ShaperKind>,
 }
 
 /// Why a task could not be planned.
@@ -62,6 +67,8 @@ pub enum PlanError {
 #[derive(Debug, Clone, PartialEq)]
 pub struct TaskPlan {
     plan: SequencePlan,
+    /// Shaped runs from stop to stop, in order; empty when the task is not shaped.
+    runs: Vec<ShapedRun>,
     /// One per task waypoint.
     timings: Vec<WaypointTiming>,
     /// Payload carried from each point of the expanded sequence on, in kg, and when (s).
@@ -138,10 +145,24 @@ pub fn plan_task(arm: &Arm, task: &Task) -> Result<TaskPlan, PlanError> {
             SegmentKind::Dwell { waypoint } => arrivals[waypoint].departure = end,
         }
     }
+    let runs = match task.shaping {
+        Some(kind) => shaped_runs(arm, task, kind, &expanded, &arrivals, &payload),
+        None => Vec::new(),
+    };
+    let shifted = |t: f64| shaped_time(&runs, t);
+    let arrivals: Vec<WaypointTiming> = arrivals
+        .iter()
+        .map(|w| WaypointTiming {
+            arrival: shifted(w.arrival),
+            departure: shifted(w.departure),
+            stop: w.stop,
+        })
+        .collect();
     let payload_from: Vec<f64> = arrivals.iter().map(|w| w.arrival).collect();
     let timings = index_of.iter().map(|&i| arrivals[i]).collect();
     Ok(TaskPlan {
         plan,
+        runs,
         timings,
         payload,
         payload_from,
@@ -149,10 +170,137 @@ pub fn plan_task(arm: &Arm, task: &Task) -> Result<TaskPlan, PlanError> {
     })
 }
 
+/// A run from one stop to the next, shaped: each joint's motion over the run is convolved with
+/// that joint's ZV or ZVD shaper (Singer & Seering, 1990), designed for the natural frequency
+/// and damping the servo model predicts for it at the stop the run ends in. The run then lasts
+/// longer by its slowest shaper's length, and everything after it moves later by as much.
+#[derive(Debug, Clone, PartialEq)]
+struct ShapedRun {
+    /// Start (departure from the stop before) and end (arrival) in the unshaped plan, s.
+    start: f64,
+    end: f64,
+    /// How much later than in the unshaped plan the run starts, s.
+    shift: f64,
+    /// How much longer the run lasts, s.
+    growth: f64,
+    /// Each joint's shaper; `None` where the joint would not ring (ζ ≥ 1).
+    shapers: [Option<Shaper>; MAX_JOINTS],
+}
+
+impl ShapedRun {
+    fn shaped_start(&self) -> f64 {
+        self.start + self.shift
+    }
+
+    fn shaped_end(&self) -> f64 {
+        self.end + self.shift + self.growth
+    }
+}
+
+/// The runs between stops of the expanded sequence, each with its joints' shapers.
+fn shaped_runs(
+    arm: &Arm,
+    task: &Task,
+    kind: ShaperKind,
+    expanded: &[SequenceWaypoint],
+    arrivals: &[WaypointTiming],
+    payload: &[f64],
+) -> Vec<ShapedRun> {
+    let stops: Vec<usize> = (0..expanded.len())
+        .filter(|&i| matches!(expanded[i].kind, WaypointKind::Stop { .. }))
+        .collect();
+    let models: Vec<ServoModel> = arm
+        .joints()
+        .iter()
+        .map(|joint| ServoModel::of_joint(joint, &task.model))
+        .collect();
+    let mut runs = Vec::with_capacity(stops.len());
+    let mut shift = 0.0;
+    for pair in stops.windows(2) {
+        let (from, to) = (pair[0], pair[1]);
+        let mut shapers = [None; MAX_JOINTS];
+        // The run ends at rest at `to`; that pose and load set each joint's vibration.
+        let carried = payload.get(from).copied().unwrap_or(0.0);
+        if let Ok(inertias) = joint_inertias(arm, &expanded[to].positions, carried) {
+            for (j, model) in models.iter().enumerate() {
+                let inertia = model.motor_inertia + inertias.as_slice()[j];
+                let damping =
+                    model.stall_effort / model.no_load_speed + model.gear_damping(inertia);
+                let stiffness = model.stiffness();
+                let zeta = damping / (2.0 * (stiffness * inertia).sqrt());
+                shapers[j] = SecondOrder::new((stiffness / inertia).sqrt(), zeta)
+                    .and_then(|plant| Shaper::new(kind, &plant))
+                    .ok();
+            }
+        }
+        let growth = shapers
+            .iter()
+            .flatten()
+            .map(Shaper::duration)
+            .fold(0.0, f64::max);
+        runs.push(ShapedRun {
+            start: arrivals[from].departure,
+            end: arrivals[to].arrival,
+            shift,
+            growth,
+            shapers,
+        });
+        shift += growth;
+    }
+    runs
+}
+
+/// Where a time of the unshaped plan (s) lands in the shaped one: shifted by the growth of
+/// every run that ended before it; a run's end moves to the shaped run's end.
+fn shaped_time(runs: &[ShapedRun], t: f64) -> f64 {
+    let done = runs.partition_point(|run| run.end < t);
+    match runs.get(done) {
+        Some(run) if t >= run.start => {
+            if t >= run.end {
+                run.shaped_end()
+            } else {
+                t + run.shift
+            }
+        }
+        _ => {
+            let before = done.checked_sub(1).and_then(|i| runs.get(i));
+            t + before.map_or(0.0, |run| run.shift + run.growth)
+        }
+    }
+}
+
 impl TaskPlan {
-    /// The underlying sequence plan.
+    /// The underlying sequence plan, before any shaping.
     pub fn sequence(&self) -> &SequencePlan {
         &self.plan
+    }
+
+    /// How many runs from stop to stop were shaped (a run none of whose joints would ring is
+    /// not counted).
+    pub fn shaped_runs(&self) -> usize {
+        self.runs.iter().filter(|run| run.growth > 0.0).count()
+    }
+
+    /// Setpoints at `rate_hz` (50–1000 Hz) from the start to the end, the end included: time
+    /// (s) and every joint's position (rad or m). Follows the shaping, where the task has it.
+    ///
+    /// # Errors
+    /// [`SequenceError::RateOutOfRange`] for a rate outside 50–1000 Hz.
+    pub fn setpoints(&self, rate_hz: f64) -> Result<Vec<(f64, Vec<f64>)>, SequenceError> {
+        if !(MIN_SAMPLE_RATE_HZ..=MAX_SAMPLE_RATE_HZ).contains(&rate_hz) {
+            return Err(SequenceError::RateOutOfRange { rate_hz });
+        }
+        let duration = CommandedMotion::duration(self);
+        let steps = (duration * rate_hz).ceil() as usize;
+        let joints = self.plan.joint_count();
+        Ok((0..=steps)
+            .map(|k| {
+                let t = (k as f64 / rate_hz).min(duration);
+                let mut positions = vec![0.0; joints];
+                self.positions_at(t, &mut positions);
+                (t, positions)
+            })
+            .collect())
     }
 
     /// Where each waypoint falls in time.
@@ -180,7 +328,7 @@ impl TaskPlan {
             let steps = (((timing.departure - start) / interval).ceil() as usize).max(1);
             for k in 0..=steps {
                 let t = start + (timing.departure - start) * k as f64 / steps as f64;
-                self.plan.states_at(t, &mut states[..n]);
+                self.states_at(t, &mut states[..n]);
                 for j in 0..n {
                     positions[j] = states[j].position;
                     rates[j] = states[j].velocity;
@@ -203,13 +351,70 @@ impl TaskPlan {
     }
 }
 
+impl TaskPlan {
+    /// Every joint's position, velocity and acceleration at shaped time `t` (s): the shaping is
+    /// a weighted sum of delayed copies, so rates and accelerations are the same sums.
+    fn states_at(&self, t: f64, states: &mut [JointState]) {
+        if self.runs.is_empty() {
+            self.plan.states_at(t, states);
+            return;
+        }
+        // Central differences of the shaped positions, 1 ms apart.
+        let h = 1e-3;
+        let n = states.len().min(MAX_JOINTS);
+        let mut before = [0.0; MAX_JOINTS];
+        let mut here = [0.0; MAX_JOINTS];
+        let mut after = [0.0; MAX_JOINTS];
+        self.positions_at(t - h, &mut before[..n]);
+        self.positions_at(t, &mut here[..n]);
+        self.positions_at(t + h, &mut after[..n]);
+        for j in 0..n {
+            states[j] = JointState {
+                position: here[j],
+                velocity: (after[j] - before[j]) / (2.0 * h),
+                acceleration: (after[j] - 2.0 * here[j] + before[j]) / (h * h),
+                jerk: 0.0,
+            };
+        }
+    }
+}
+
 impl CommandedMotion for TaskPlan {
     fn duration(&self) -> f64 {
-        self.plan.duration()
+        self.plan.duration() + self.runs.last().map_or(0.0, |run| run.shift + run.growth)
     }
 
     fn positions_at(&self, t: f64, positions: &mut [f64]) {
-        self.plan.positions_at(t, positions);
+        // The run that started last at or before t, in shaped time.
+        let index = self
+            .runs
+            .partition_point(|run| run.shaped_start() <= t)
+            .checked_sub(1);
+        let Some(run) = index.and_then(|i| self.runs.get(i)) else {
+            self.plan.positions_at(t, positions);
+            return;
+        };
+        if t > run.shaped_end() {
+            // In the dwell after the run: the unshaped plan, later by everything added so far.
+            self.plan
+                .positions_at(t - run.shift - run.growth, positions);
+            return;
+        }
+        let into = t - run.shaped_start();
+        let span = run.end - run.start;
+        for (joint, position) in positions.iter_mut().enumerate() {
+            let at = |delay: f64| run.start + (into - delay).clamp(0.0, span);
+            *position = match run.shapers.get(joint).copied().flatten() {
+                Some(shaper) => shaper
+                    .impulses()
+                    .iter()
+                    .map(|impulse| {
+                        impulse.amplitude * self.plan.joint_position_at(at(impulse.time), joint)
+                    })
+                    .sum(),
+                None => self.plan.joint_position_at(at(0.0), joint),
+            };
+        }
     }
 
     fn payload_at(&self, t: f64) -> f64 {

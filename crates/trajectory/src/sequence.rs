@@ -480,6 +480,21 @@ impl SequencePlan {
         }
     }
 
+    /// One joint's position at time `t` (s, clamped to the sequence), rad or m; 0 for a joint
+    /// the plan does not have. O(log n) in the segment count.
+    pub fn joint_position_at(&self, t: f64, joint: usize) -> f64 {
+        self.segments
+            .get(self.segment_at(t))
+            .map_or(0.0, |segment| {
+                let local = self.local_time(segment, t);
+                segment
+                    .motion
+                    .profiles()
+                    .get(joint)
+                    .map_or(0.0, |profile| profile.position_at(local))
+            })
+    }
+
     /// Time within `segment`; at or after the end of the plan, the segment's own end, so that
     /// the last waypoint is reached exactly despite rounding in the start times.
     fn local_time(&self, segment: &Segment, t: f64) -> f64 {

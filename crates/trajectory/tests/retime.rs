@@ -27,6 +27,7 @@ fn task() -> Task {
         ],
         limits: LimitSettings::default(),
         model: ServoModelOptions::default(),
+        shaping: None,
     }
 }
 

@@ -32,6 +32,7 @@ fn task(from: Vec<f64>, to: Vec<f64>) -> Task {
         waypoints: vec![stop(from, false), stop(to, true)],
         limits: LimitSettings::default(),
         model: ServoModelOptions::default(),
+        shaping: None,
     }
 }
 

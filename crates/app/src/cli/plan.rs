@@ -5,7 +5,7 @@ use std::fmt::Write as _;
 use std::path::Path;
 
 use armwright_kinematics::Arm;
-use armwright_trajectory::{SegmentKind, TaskPlan, plan_task};
+use armwright_trajectory::{CommandedMotion, SegmentKind, TaskPlan, plan_task};
 use serde_json::json;
 
 use super::Outcome;
@@ -49,6 +49,7 @@ pub(crate) fn run(file: &Path, rate_hz: f64, csv: Option<&Path>, json: bool) -> 
         }
     }
     let sequence = plan.sequence();
+    let cycle_time = CommandedMotion::duration(&plan);
     let segments: Vec<_> = sequence
         .segments()
         .iter()
@@ -87,7 +88,8 @@ pub(crate) fn run(file: &Path, rate_hz: f64, csv: Option<&Path>, json: bool) -> 
             .collect();
         print_json(&json!({
             "ok": true,
-            "cycle_time_s": rounded(sequence.duration(), 4),
+            "cycle_time_s": rounded(cycle_time, 4),
+            "shaped_runs": plan.shaped_runs(),
             "peak_torque_use": rounded(peak, 4),
             "segments": segments,
             "waypoints": waypoints,
@@ -95,7 +97,7 @@ pub(crate) fn run(file: &Path, rate_hz: f64, csv: Option<&Path>, json: bool) -> 
     } else {
         println!(
             "cycle time {:.3} s, peak torque use {:.0} %",
-            sequence.duration(),
+            cycle_time,
             peak * 100.0
         );
         println!(
@@ -123,12 +125,11 @@ pub(crate) fn run(file: &Path, rate_hz: f64, csv: Option<&Path>, json: bool) -> 
     Outcome::Done
 }
 
-/// The plan sampled at `rate_hz`: a header, then one row per sample with the time in s and
+/// The plan (shaped, where the scene asks) sampled at `rate_hz`: a header, then one row per sample with the time in s and
 /// each joint in degrees (mm for a prismatic joint).
 fn setpoints_csv(scene: &Scene, plan: &TaskPlan, rate_hz: f64) -> Result<String, String> {
-    let sampler = plan
-        .sequence()
-        .sampler(rate_hz)
+    let setpoints = plan
+        .setpoints(rate_hz)
         .map_err(|e| format!("--rate: {e}"))?;
     let kinds = scene.arm.shape.joint_kinds();
     let mut text = String::from("time_s");
@@ -141,9 +142,9 @@ fn setpoints_csv(scene: &Scene, plan: &TaskPlan, rate_hz: f64) -> Result<String,
         );
     }
     text.push('\n');
-    for sample in sampler {
-        let _ = write!(text, "{:.6}", sample.time);
-        for (value, kind) in sample.positions.iter().zip(&kinds) {
+    for (time, positions) in setpoints {
+        let _ = write!(text, "{time:.6}");
+        for (value, kind) in positions.iter().zip(&kinds) {
             let _ = write!(text, ",{:.6}", position_to_file_unit(*kind, *value));
         }
         text.push('\n');

@@ -4,13 +4,13 @@
 
 use std::path::Path;
 
-use armwright_trajectory::{RetimeError, TaskPlanner, retime};
+use armwright_trajectory::{Planner, RetimeError, TaskPlanner, retime};
 use serde_json::{Value, json};
 
 use super::Outcome;
 use super::report::{fail, load_scene, print_json, rounded};
 use super::simulate::summary_json;
-use crate::scene::{dry_run_options_of, retime_target, save, task_of, with_timing};
+use crate::scene::{Shaping, dry_run_options_of, retime_target, save, task_of, with_timing};
 
 /// What `retime` is asked for, in the command line's units.
 pub(crate) struct RetimeRequest<'a> {
@@ -105,6 +105,10 @@ pub(crate) fn run(file: &Path, request: &RetimeRequest<'_>, json: bool) -> Outco
         );
     }
     let before_timing = task.timing();
+    // Which runs from stop to stop the retimed plan shapes (the scene's timing.shaping).
+    let shaped_runs = planner
+        .plan(&retimed.timing)
+        .map_or(0, |(plan, _)| plan.shaped_runs());
     if json {
         let waypoints: Vec<Value> = scene
             .waypoints
@@ -125,6 +129,8 @@ pub(crate) fn run(file: &Path, request: &RetimeRequest<'_>, json: bool) -> Outco
         print_json(&json!({
             "ok": true,
             "met": true,
+            "shaping": shaping_word(scene.timing.shaping),
+            "shaped_runs": shaped_runs,
             "max_overshoot_mm": request.max_overshoot_mm,
             "torque_share": torque_share,
             "before": summary_json(&retimed.before),
@@ -148,6 +154,10 @@ pub(crate) fn run(file: &Path, request: &RetimeRequest<'_>, json: bool) -> Outco
         };
         line("before", &retimed.before);
         line("after", &retimed.after);
+        println!(
+            "shaping: {} ({shaped_runs} runs from stop to stop shaped)",
+            shaping_word(scene.timing.shaping)
+        );
         println!(
             "{:<24} {:>14} {:>16}",
             "waypoint", "speed share %", "dwell ms"
@@ -181,6 +191,14 @@ fn retimed_scene(
     out.timing.torque_derating_pct = torque_share * 100.0;
     out.timing.max_overshoot_mm = request.max_overshoot_mm;
     out
+}
+
+fn shaping_word(shaping: Shaping) -> &'static str {
+    match shaping {
+        Shaping::None => "none",
+        Shaping::Zv => "zv",
+        Shaping::Zvd => "zvd",
+    }
 }
 
 fn same_file(a: &Path, b: &Path) -> bool {

@@ -782,6 +782,18 @@ fn read_timing(value: &Value, path: &str, problems: &mut Vec<Problem>) -> Option
         settle_band_mm: fields.number_or("settle_band_mm", defaults.settle_band_mm, problems),
         max_overshoot_mm: fields.number_or("max_overshoot_mm", defaults.max_overshoot_mm, problems),
         damping_ratio: fields.number_or("damping_ratio", defaults.damping_ratio, problems),
+        shaping: fields
+            .word(
+                "shaping",
+                &[
+                    ("none", Shaping::None),
+                    ("zv", Shaping::Zv),
+                    ("zvd", Shaping::Zvd),
+                ],
+                Some(defaults.shaping),
+                problems,
+            )
+            .unwrap_or(defaults.shaping),
     };
     fields.finish(problems);
     Some(timing)

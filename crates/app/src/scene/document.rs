@@ -345,6 +345,20 @@ pub struct Timing {
     pub max_overshoot_mm: f64,
     /// Damping ratio of the servo response model (no unit).
     pub damping_ratio: f64,
+    /// Input shaping of each run from one stop to the next.
+    pub shaping: Shaping,
+}
+
+/// Input shaping of the moves (Singer & Seering, 1990), designed per joint for the natural
+/// frequency and damping the servo model predicts.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Shaping {
+    /// `none`: moves as planned.
+    None,
+    /// `zv`: zero vibration, two impulses.
+    Zv,
+    /// `zvd`: zero vibration and derivative, three impulses; more robust, a little slower.
+    Zvd,
 }
 
 /// A box (an obstacle or a feeder), axis-aligned in the base frame.
@@ -420,14 +434,15 @@ impl Default for Waypoint {
 }
 
 impl Default for Timing {
-    /// 80 % torque derating, 0.5 mm settle band, 1 mm largest overshoot, damping ratio 0.6
-    /// (our defaults; a user changes them per scene).
+    /// 80 % torque derating, 0.5 mm settle band, 1 mm largest overshoot, damping ratio 0.6, no
+    /// shaping (our defaults; a user changes them per scene).
     fn default() -> Timing {
         Timing {
             torque_derating_pct: 80.0,
             settle_band_mm: 0.5,
             max_overshoot_mm: 1.0,
             damping_ratio: 0.6,
+            shaping: Shaping::None,
         }
     }
 }

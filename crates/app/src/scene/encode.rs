@@ -294,6 +294,14 @@ fn timing(timing: &Timing) -> Out {
         .num("settle_band_mm", timing.settle_band_mm)
         .num("max_overshoot_mm", timing.max_overshoot_mm)
         .num("damping_ratio", timing.damping_ratio)
+        .text(
+            "shaping",
+            match timing.shaping {
+                Shaping::None => "none",
+                Shaping::Zv => "zv",
+                Shaping::Zvd => "zvd",
+            },
+        )
         .done()
 }
 

@@ -22,7 +22,7 @@ pub use document::{
     ArmDoc, ArmShape, Arrival, ArticulatedSize, AxisDoc, BandDoc, BoxDoc, CalibrationDoc,
     CalibrationPoint, Device, DhRowDoc, GripperDoc, GripperState, JointDoc, JointKindDoc,
     LinkMassDoc, LinkSettings, MoveKind, PlacementDoc, ProfileKind, ScaraSize, Scene, ServoDoc,
-    Timing, ToolMassDoc, TrayDoc, Waypoint, Workspace,
+    Shaping, Timing, ToolMassDoc, TrayDoc, Waypoint, Workspace,
 };
 pub use load::{load, load_bytes};
 pub use migrate::{CURRENT_VERSION, FORMAT_NAME};

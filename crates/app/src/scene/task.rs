@@ -4,11 +4,11 @@
 
 use armwright_kinematics::Arm;
 use armwright_trajectory::{
-    DryRunOptions, LimitSettings, ProfileShape, RetimeTarget, ServoModelOptions, Task,
+    DryRunOptions, LimitSettings, ProfileShape, RetimeTarget, ServoModelOptions, ShaperKind, Task,
     TaskWaypoint, Timing as TaskTiming,
 };
 
-use super::document::{Arrival, GripperState, MoveKind, ProfileKind, Scene};
+use super::document::{Arrival, GripperState, MoveKind, ProfileKind, Scene, Shaping};
 use super::units::pose_from_file_units;
 
 /// The scene's waypoints as a task for `plan_task` (positions in rad or m, dwells in s, shares
@@ -38,6 +38,11 @@ pub fn task_of(scene: &Scene, arm: &Arm) -> Task {
             ..LimitSettings::default()
         },
         model,
+        shaping: match scene.timing.shaping {
+            Shaping::None => None,
+            Shaping::Zv => Some(ShaperKind::Zv),
+            Shaping::Zvd => Some(ShaperKind::Zvd),
+        },
     }
 }
 
