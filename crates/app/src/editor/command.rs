@@ -671,6 +671,31 @@ mod tests {
     }
 
     #[test]
+    fn a_target_behind_the_base_names_the_joint_at_its_limit() {
+        // The sample's base turns ±90°: straight behind it needs 180° (or a shoulder bent over
+        // backwards, past its own limit).
+        let mut state = EditorState::new(sample_scene(), None);
+        let pose = state.pose.clone();
+        let height = state.tool_point().expect("tool point").z;
+        let _ = run(
+            &mut state,
+            Command::DragToolPoint {
+                target: [-0.15, 0.0, height],
+            },
+        );
+        let ReachStatus::AtJointLimit { joint, past_by, .. } = state.reach.clone() else {
+            panic!("{:?}", state.reach);
+        };
+        assert!(past_by > 0.0);
+        assert_eq!(state.pose, pose, "the arm stays where it was");
+        let problems = state.reach_problems();
+        assert!(
+            problems[0].starts_with(&format!("AT JOINT LIMIT: {}", state.joint_label(joint))),
+            "{problems:?}"
+        );
+    }
+
+    #[test]
     fn a_stop_is_sent_with_its_frame_and_latched() {
         let mut state = EditorState::new(sample_scene(), None);
         let (mut link, requests) = ChannelStopLink::new();
