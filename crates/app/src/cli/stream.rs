@@ -224,25 +224,26 @@ fn confirm(input: &mut impl BufRead) -> Result<(), String> {
     }
 }
 
-/// The plan sampled at `rate_hz`; the gripper takes the state of the last waypoint reached.
+/// The plan (shaped, where the scene asks) sampled at `rate_hz`; the gripper takes the state
+/// of the last waypoint reached.
 fn poses_of(scene: &Scene, arm: &Arm, plan: &TaskPlan, rate_hz: f64) -> Result<Vec<Pose>, String> {
-    let sampler = plan
-        .sequence()
-        .sampler(rate_hz)
+    let setpoints = plan
+        .setpoints(rate_hz)
         .map_err(|error| format!("--rate: {error}"))?;
     let arrivals: Vec<f64> = plan.timings().iter().map(|t| t.arrival).collect();
     let joints = arm.joint_count();
-    Ok(sampler
-        .map(|sample| {
+    Ok(setpoints
+        .into_iter()
+        .map(|(time, positions)| {
             let reached = arrivals
-                .partition_point(|&arrival| arrival <= sample.time)
+                .partition_point(|&arrival| arrival <= time)
                 .saturating_sub(1);
             let closed = scene
                 .waypoints
                 .get(reached)
                 .is_some_and(|w| w.gripper == GripperState::Closed);
             Pose {
-                positions: sample.positions[..joints].to_vec(),
+                positions: positions[..joints].to_vec(),
                 gripper_closed: if closed { 1.0 } else { 0.0 },
             }
         })
