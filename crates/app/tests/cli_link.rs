@@ -39,9 +39,10 @@ fn json_of(stdout: &str, stderr: &str) -> Value {
         .unwrap_or_else(|e| panic!("not JSON ({e}): {stdout}\nstderr: {stderr}"))
 }
 
-/// Rows of the plan's setpoint CSV at `rate_hz`: the number of samples the plan has.
-fn planned_samples(rate_hz: &str) -> u64 {
-    let dir = common::scratch_dir(&format!("cli-link-plan-{rate_hz}"));
+/// Rows of the plan's setpoint CSV at `rate_hz`: the number of samples the plan has. `test`
+/// names the scratch directory, so tests running at once do not share it.
+fn planned_samples(test: &str, rate_hz: &str) -> u64 {
+    let dir = common::scratch_dir(&format!("cli-link-{test}"));
     let csv = dir.join("setpoints.csv");
     let csv_text = csv.to_string_lossy().into_owned();
     let (code, _, stderr) = run(&[
@@ -140,7 +141,7 @@ fn ports_json_lists_ports_with_stable_keys() {
 
 #[test]
 fn a_sample_streams_to_its_end_on_the_simulated_device() {
-    let planned = planned_samples("50");
+    let planned = planned_samples("in-process", "50");
     assert!(planned > 100, "the sample plans {planned} samples");
     let (code, stdout, stderr) = run(&[
         "stream",
@@ -268,7 +269,7 @@ fn ctrl_c_sends_the_emergency_stop_and_exits_1() {
 #[cfg(unix)]
 #[test]
 fn a_sample_streams_through_the_device_sim_pty_and_ctrl_c_ends_the_device() {
-    let planned = planned_samples("50");
+    let planned = planned_samples("pty", "50");
     let mut device = binary()
         .args(["device-sim"])
         .stdin(Stdio::null())
@@ -305,4 +306,37 @@ fn device_sim_refuses_a_channel_count_out_of_range() {
     let (code, _, stderr) = run(&["device-sim", "--channels", "9"]);
     assert_eq!(code, 2, "{stderr}");
     assert!(stderr.contains("between 1 and 8"), "{stderr}");
+}
+
+#[test]
+fn the_link_subcommands_answer_help_with_units_in_their_value_names() {
+    let (code, stdout, _) = run(&["--help"]);
+    assert_eq!(code, 0);
+    for word in ["ports", "stream", "device-sim"] {
+        assert!(stdout.contains(word), "{word} missing from:\n{stdout}");
+    }
+    let expectations: [(&str, &[&str]); 3] = [
+        ("ports", &["--json"]),
+        (
+            "stream",
+            &[
+                "--port <PATH>",
+                "--simulated",
+                "--rate <HZ>",
+                "--yes",
+                "Ctrl-C",
+            ],
+        ),
+        ("device-sim", &["--channels <N>"]),
+    ];
+    for (subcommand, needles) in expectations {
+        let (code, stdout, _) = run(&[subcommand, "--help"]);
+        assert_eq!(code, 0, "{subcommand}");
+        for needle in needles {
+            assert!(
+                stdout.contains(needle),
+                "{subcommand}: {needle} missing from:\n{stdout}"
+            );
+        }
+    }
 }
