@@ -9,6 +9,9 @@ use clap::{Parser, Subcommand, ValueEnum};
 ///
 /// Each subcommand reads a scene file (`*.armwright.json`). Exit status: 0 on success, 1 when the
 /// scene has problems or a target cannot be reached, 2 when the input cannot be read.
+///
+/// With no arguments, or `armwright edit [FILE]`, the desktop editor opens instead (on the
+/// bundled pen-plotter sample when no file is given).
 #[derive(Debug, Parser)]
 #[command(name = "armwright", version)]
 pub struct Cli {

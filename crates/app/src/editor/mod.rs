@@ -512,6 +512,15 @@ pub fn run(file: Option<PathBuf>) -> ExitCode {
     }
 }
 
+/// `armwright edit --help`.
+const EDIT_HELP: &str = "Open the desktop editor on FILE, or on the bundled pen-plotter sample.
+
+Usage: armwright edit [FILE]
+
+The emergency stop is the red button in the top bar and the Esc key, whatever has focus.
+A software stop is not a safety device: keep a hard power cut-off within reach, keep clear of
+the arm's reach while powered, and defer to local codes and licensed practice.";
+
 /// Runs the editor when the command line asks for it: no arguments, or `edit [FILE]`. Returns
 /// `None` for any other command line, which the command-line module handles.
 pub fn run_from_args(args: &[std::ffi::OsString]) -> Option<ExitCode> {
@@ -519,6 +528,10 @@ pub fn run_from_args(args: &[std::ffi::OsString]) -> Option<ExitCode> {
         [] => Some(run(None)),
         [command, rest @ ..] if command == "edit" => match rest {
             [] => Some(run(None)),
+            [flag] if flag == "-h" || flag == "--help" => {
+                println!("{EDIT_HELP}");
+                Some(ExitCode::SUCCESS)
+            }
             [file] if !file.to_string_lossy().starts_with('-') => {
                 Some(run(Some(PathBuf::from(file))))
             }
@@ -528,5 +541,32 @@ pub fn run_from_args(args: &[std::ffi::OsString]) -> Option<ExitCode> {
             }
         },
         _ => None,
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn args(words: &[&str]) -> Vec<std::ffi::OsString> {
+        words.iter().map(Into::into).collect()
+    }
+
+    #[test]
+    fn other_command_lines_are_left_to_the_command_line_module() {
+        assert_eq!(run_from_args(&args(&["check", "scene.json"])), None);
+        assert_eq!(run_from_args(&args(&["--help"])), None);
+    }
+
+    #[test]
+    fn edit_help_and_bad_edit_arguments_do_not_open_a_window() {
+        assert_eq!(
+            run_from_args(&args(&["edit", "--help"])),
+            Some(ExitCode::SUCCESS)
+        );
+        assert_eq!(
+            run_from_args(&args(&["edit", "a.json", "b.json"])),
+            Some(ExitCode::from(2))
+        );
     }
 }
