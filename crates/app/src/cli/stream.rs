@@ -3,7 +3,7 @@
 //! safety caution, a typed confirmation, progress on standard error, and Ctrl-C wired to the
 //! link's emergency stop.
 
-use std::io::BufRead;
+use std::io::{BufRead, IsTerminal};
 use std::path::Path;
 use std::time::{Duration, Instant};
 
@@ -101,7 +101,12 @@ pub(crate) fn run(file: &Path, request: &StreamRequest) -> Outcome {
     eprintln!("{CAUTION}");
     if !request.yes {
         eprint!("Type yes to stream to {}: ", target.name());
-        if let Err(reason) = confirm(&mut std::io::stdin().lock()) {
+        let answer = confirm(&mut std::io::stdin().lock());
+        if !std::io::stdin().is_terminal() {
+            // A typed answer ends the prompt's line; a piped one does not.
+            eprintln!();
+        }
+        if let Err(reason) = answer {
             let message = format!("{reason}; nothing was sent");
             return fail(
                 json,
