@@ -16,6 +16,17 @@ use serde_json::Value;
 /// The sample with the shortest sequence.
 const SAMPLE: &str = "pen-plotter.armwright.json";
 
+/// Streams run in real time against a deadline and an acknowledgement timeout; on a 2-core
+/// machine several at once could starve each other into a spurious "link lost". Each streaming
+/// test holds this lock so they take turns.
+static REAL_TIME: std::sync::Mutex<()> = std::sync::Mutex::new(());
+
+fn one_stream_at_a_time() -> std::sync::MutexGuard<'static, ()> {
+    REAL_TIME
+        .lock()
+        .unwrap_or_else(std::sync::PoisonError::into_inner)
+}
+
 fn binary() -> Command {
     Command::new(env!("CARGO_BIN_EXE_armwright"))
 }
@@ -141,6 +152,7 @@ fn ports_json_lists_ports_with_stable_keys() {
 
 #[test]
 fn a_sample_streams_to_its_end_on_the_simulated_device() {
+    let _turn = one_stream_at_a_time();
     let planned = planned_samples("in-process", "50");
     assert!(planned > 100, "the sample plans {planned} samples");
     let (code, stdout, stderr) = run(&[
@@ -223,6 +235,7 @@ fn an_unreadable_scene_or_rate_exits_2() {
 
 #[test]
 fn ctrl_c_sends_the_emergency_stop_and_exits_1() {
+    let _turn = one_stream_at_a_time();
     let mut child = binary()
         .args([
             "stream",
@@ -269,6 +282,7 @@ fn ctrl_c_sends_the_emergency_stop_and_exits_1() {
 #[cfg(unix)]
 #[test]
 fn a_sample_streams_through_the_device_sim_pty_and_ctrl_c_ends_the_device() {
+    let _turn = one_stream_at_a_time();
     let planned = planned_samples("pty", "50");
     let mut device = binary()
         .args(["device-sim"])
