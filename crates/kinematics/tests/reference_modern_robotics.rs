@@ -7,6 +7,8 @@
 //! the library is missing, unless `ARMWRIGHT_STRICT=1`.
 
 mod common;
+#[path = "../../../tests/reference/support.rs"]
+mod reference;
 
 use armwright_kinematics::{
     Arm, ArmDescription, ArmType, ChainDims, JointKind, JointPlacement, MassProperties, forward,
@@ -14,22 +16,9 @@ use armwright_kinematics::{
 };
 use nalgebra::{Isometry3, Matrix3, Matrix4, Rotation3, Translation3, UnitQuaternion, Vector3};
 use serde_json::Value;
-use std::path::{Path, PathBuf};
-use std::process::Command;
 
 /// Agreement asked of every compared number, in m, rad or N·m.
 const TOLERANCE: f64 = 1e-9;
-
-fn reference_dir() -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR")).join("../../tests/reference")
-}
-
-fn load(file: &str) -> Value {
-    let path = reference_dir().join("fixtures").join(file);
-    let text = std::fs::read_to_string(&path)
-        .unwrap_or_else(|e| panic!("fixture {} is missing: {e}", path.display()));
-    serde_json::from_str(&text).unwrap_or_else(|e| panic!("{} is not JSON: {e}", path.display()))
-}
 
 fn number(value: &Value) -> f64 {
     value.as_f64().expect("a number")
@@ -232,7 +221,7 @@ fn assert_same_arm(name: &str, arm: &Arm, record: &Value) {
 
 #[test]
 fn built_in_arm_types_match_the_reference() {
-    let fixture = load("builtin_arms.json");
+    let fixture = reference::fixture("builtin_arms.json");
     assert_eq!(
         number(&fixture["gravity"]),
         armwright_kinematics::STANDARD_GRAVITY
@@ -251,7 +240,7 @@ fn built_in_arm_types_match_the_reference() {
 
 #[test]
 fn random_chains_match_the_reference() {
-    let fixture = load("random_chains.json");
+    let fixture = reference::fixture("random_chains.json");
     let arms = fixture["arms"].as_array().unwrap();
     assert!(arms.len() >= 20, "only {} random chains", arms.len());
     let mut kinds = [0usize; 2];
@@ -269,77 +258,16 @@ fn random_chains_match_the_reference() {
     );
 }
 
-/// Python with `modern_robotics`: `ARMWRIGHT_PYTHON`, else the repository's `.venv`, else
-/// `python3` on the path.
-fn python() -> PathBuf {
-    if let Some(path) = std::env::var_os("ARMWRIGHT_PYTHON") {
-        return PathBuf::from(path);
-    }
-    let venv = reference_dir().join("../../.venv/bin/python");
-    if venv.exists() {
-        return venv;
-    }
-    PathBuf::from("python3")
-}
-
-/// Same structure and every number within 1e-12 (so a last-digit difference from another numpy
-/// build does not fail here; CI's byte-for-byte diff is the stricter check).
-fn assert_same_json(path: &str, a: &Value, b: &Value) {
-    match (a, b) {
-        (Value::Number(x), Value::Number(y)) => {
-            let (x, y) = (x.as_f64().unwrap(), y.as_f64().unwrap());
-            assert!(
-                (x - y).abs() <= 1e-12 * (1.0 + x.abs()),
-                "{path}: {x} vs {y}"
-            );
-        }
-        (Value::Array(x), Value::Array(y)) => {
-            assert_eq!(x.len(), y.len(), "{path}: lengths differ");
-            for (i, (p, q)) in x.iter().zip(y).enumerate() {
-                assert_same_json(&format!("{path}[{i}]"), p, q);
-            }
-        }
-        (Value::Object(x), Value::Object(y)) => {
-            let keys: Vec<_> = x.keys().collect();
-            assert_eq!(keys, y.keys().collect::<Vec<_>>(), "{path}: keys differ");
-            for key in x.keys() {
-                assert_same_json(&format!("{path}.{key}"), &x[key], &y[key]);
-            }
-        }
-        _ => assert_eq!(a, b, "{path}"),
-    }
-}
-
 #[test]
 fn fixtures_regenerate_from_the_python_reference() {
-    let strict = std::env::var("ARMWRIGHT_STRICT").is_ok_and(|v| v == "1");
-    let python = python();
-    let importable = Command::new(&python)
-        .args(["-c", "import modern_robotics, numpy"])
-        .output()
-        .is_ok_and(|out| out.status.success());
-    if !importable {
-        let why = format!(
-            "{} cannot import modern_robotics and numpy; set up with `python3 -m venv .venv && \
-             .venv/bin/pip install -r tests/reference/requirements.txt`",
-            python.display()
-        );
-        assert!(!strict, "ARMWRIGHT_STRICT=1 and {why}");
-        println!("skipped: {why}");
+    let Some(out) = reference::regenerate("generate_kinematics.py", "modern_robotics, numpy")
+    else {
         return;
-    }
-    let out = std::env::temp_dir().join(format!("armwright-reference-{}", std::process::id()));
-    let status = Command::new(&python)
-        .arg(reference_dir().join("generate_kinematics.py"))
-        .arg("--out")
-        .arg(&out)
-        .status()
-        .expect("the generator runs");
-    assert!(status.success(), "generate_kinematics.py failed: {status}");
+    };
     for file in ["builtin_arms.json", "random_chains.json"] {
         let text = std::fs::read_to_string(out.join(file)).expect("the generator wrote it");
         let fresh: Value = serde_json::from_str(&text).expect("fresh fixture is JSON");
-        assert_same_json(file, &fresh, &load(file));
+        reference::assert_same_json(file, &fresh, &reference::fixture(file));
     }
     let _ = std::fs::remove_dir_all(&out);
 }
