@@ -7,8 +7,9 @@ use clap::{Parser, Subcommand, ValueEnum};
 
 /// Describe, check and program small hobby-servo arms.
 ///
-/// Each subcommand reads a scene file (`*.armwright.json`). Exit status: 0 on success, 1 when the
-/// scene has problems or a target cannot be reached, 2 when the input cannot be read.
+/// Most subcommands read a scene file (`*.armwright.json`); `ports` and `device-sim` need none.
+/// Exit status: 0 on success, 1 when the scene has problems, a target cannot be reached or met,
+/// or a stream ends early; 2 when the input cannot be read.
 ///
 /// With no arguments, or `armwright edit [FILE]`, the desktop editor opens instead (on the
 /// bundled pen-plotter sample when no file is given).
