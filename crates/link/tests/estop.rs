@@ -10,19 +10,7 @@ use armwright_link::{
     DeviceMode, HostMessage, Link, LinkError, LinkEvent, LinkState, ResetConfirmation,
     SimDeviceConfig, SimTransport, StreamOptions,
 };
-use common::{Faults, Recorder, sweep};
-
-fn wait_for(link: &Link, within: Duration, wanted: impl Fn(&LinkEvent) -> bool) -> LinkEvent {
-    let until = Instant::now() + within;
-    while let Some(left) = until.checked_duration_since(Instant::now()) {
-        if let Some(event) = link.next_event(left)
-            && wanted(&event)
-        {
-            return event;
-        }
-    }
-    panic!("no such event within {within:?}; stats {:?}", link.stats());
-}
+use common::{Faults, Recorder, sweep, wait_for};
 
 #[test]
 fn idle_stop_goes_out_within_2_ms() {

@@ -3,24 +3,15 @@
 
 #![cfg(unix)]
 
-use std::time::{Duration, Instant};
+mod common;
+
+use std::time::Duration;
 
 use armwright_link::{
     ChannelValues, DeviceMode, Link, LinkEvent, SerialTransport, SimDeviceConfig, SimPty,
     StreamOptions,
 };
-
-fn wait_for(link: &Link, within: Duration, wanted: impl Fn(&LinkEvent) -> bool) -> LinkEvent {
-    let until = Instant::now() + within;
-    while let Some(left) = until.checked_duration_since(Instant::now()) {
-        if let Some(event) = link.next_event(left)
-            && wanted(&event)
-        {
-            return event;
-        }
-    }
-    panic!("no such event within {within:?}; stats {:?}", link.stats());
-}
+use common::wait_for;
 
 #[test]
 fn stream_and_stop_through_a_pseudo_terminal() {

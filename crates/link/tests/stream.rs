@@ -10,7 +10,7 @@ use armwright_link::{
     ChannelValues, HostMessage, Link, LinkError, LinkEvent, LinkLoss, LinkState, SimDevice,
     SimDeviceConfig, SimTransport, StreamOptions,
 };
-use common::{Faults, Recorder, Written, sweep};
+use common::{Faults, Recorder, Written, sweep, wait_for};
 
 type Log = Arc<Mutex<Vec<Written>>>;
 
@@ -20,18 +20,6 @@ fn connect(faults: Faults) -> (Link, Arc<Mutex<SimDevice>>, Log) {
     let (recorder, log) = Recorder::new(sim, faults);
     let link = Link::connect(Box::new(recorder), StreamOptions::default()).expect("connects");
     (link, device, log)
-}
-
-fn wait_for(link: &Link, within: Duration, wanted: impl Fn(&LinkEvent) -> bool) -> LinkEvent {
-    let until = Instant::now() + within;
-    while let Some(left) = until.checked_duration_since(Instant::now()) {
-        if let Some(event) = link.next_event(left)
-            && wanted(&event)
-        {
-            return event;
-        }
-    }
-    panic!("no such event within {within:?}; stats {:?}", link.stats());
 }
 
 #[test]

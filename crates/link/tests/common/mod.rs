@@ -7,7 +7,9 @@ use std::io;
 use std::sync::{Arc, Mutex};
 use std::time::{Duration, Instant};
 
-use armwright_link::{ChannelValues, HostLine, HostMessage, SimTransport, Transport};
+use armwright_link::{
+    ChannelValues, HostLine, HostMessage, Link, LinkEvent, SimTransport, Transport,
+};
 
 /// How the wrapper misbehaves.
 #[derive(Debug, Clone, Copy, Default)]
@@ -87,4 +89,18 @@ pub fn sweep(step: u32) -> ChannelValues {
         *value = 1000 + ((step * 7 + channel as u32 * 50) % 1000) as u16;
     }
     ChannelValues::from_slice(&values).expect("seven values")
+}
+
+/// Waits up to `within` for the first event `wanted` accepts; panics naming the link's
+/// statistics when none comes.
+pub fn wait_for(link: &Link, within: Duration, wanted: impl Fn(&LinkEvent) -> bool) -> LinkEvent {
+    let until = Instant::now() + within;
+    while let Some(left) = until.checked_duration_since(Instant::now()) {
+        if let Some(event) = link.next_event(left)
+            && wanted(&event)
+        {
+            return event;
+        }
+    }
+    panic!("no such event within {within:?}; stats {:?}", link.stats());
 }
