@@ -303,22 +303,9 @@ where
     for k in 0..settle_steps {
         if k % steps_per_frame == 0 {
             loads(0.0, &link[..n], &mut load[..n]);
-            for j in 0..n {
-                frames[j] = Some(FrameLoop::new(&models[j], pulse_us[j], &load[j]));
-            }
+            frames = frame_loops(models, &pulse_us, &load);
         }
-        for j in 0..n {
-            if let Some(frame) = &frames[j] {
-                advance(
-                    frame,
-                    models[j].backlash,
-                    dt,
-                    &mut position[j],
-                    &mut velocity[j],
-                    &mut link[j],
-                );
-            }
-        }
+        advance_all(models, &frames, dt, &mut position, &mut velocity, &mut link);
     }
 
     let mut trace = ServoTrace {
@@ -337,9 +324,7 @@ where
                 pulse_us[j] = models[j].commanded_pulse_us(command[j]);
             }
             loads(t, &link[..n], &mut load[..n]);
-            for j in 0..n {
-                frames[j] = Some(FrameLoop::new(&models[j], pulse_us[j], &load[j]));
-            }
+            frames = frame_loops(models, &pulse_us, &load);
         }
         trace.commanded.extend_from_slice(&command[..n]);
         trace.actual.extend_from_slice(&link[..n]);
@@ -349,21 +334,46 @@ where
         }
         trace.drive_share.extend_from_slice(&drive[..n]);
         if k + 1 < samples {
-            for j in 0..n {
-                if let Some(frame) = &frames[j] {
-                    advance(
-                        frame,
-                        models[j].backlash,
-                        dt,
-                        &mut position[j],
-                        &mut velocity[j],
-                        &mut link[j],
-                    );
-                }
-            }
+            advance_all(models, &frames, dt, &mut position, &mut velocity, &mut link);
         }
     }
     Ok(trace)
+}
+
+/// Each joint's loop for the frame now starting: held pulse and load fixed.
+fn frame_loops(
+    models: &[ServoModel],
+    pulse_us: &[f64; MAX_JOINTS],
+    load: &[JointLoad; MAX_JOINTS],
+) -> [Option<FrameLoop>; MAX_JOINTS] {
+    let mut frames = [None; MAX_JOINTS];
+    for (j, model) in models.iter().enumerate() {
+        frames[j] = Some(FrameLoop::new(model, pulse_us[j], &load[j]));
+    }
+    frames
+}
+
+/// One integration step of every joint whose frame loop is set.
+fn advance_all(
+    models: &[ServoModel],
+    frames: &[Option<FrameLoop>; MAX_JOINTS],
+    dt: f64,
+    position: &mut [f64; MAX_JOINTS],
+    velocity: &mut [f64; MAX_JOINTS],
+    link: &mut [f64; MAX_JOINTS],
+) {
+    for (j, model) in models.iter().enumerate() {
+        if let Some(frame) = &frames[j] {
+            advance(
+                frame,
+                model.backlash,
+                dt,
+                &mut position[j],
+                &mut velocity[j],
+                &mut link[j],
+            );
+        }
+    }
 }
 
 /// [`ServoModel::acceleration`] with everything that is constant over one pulse frame worked out
