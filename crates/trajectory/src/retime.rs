@@ -2,13 +2,16 @@
 //!
 //! Each stop's overshoot depends mostly on the move into it, because the arm starts every move
 //! from rest when the dwell before it is long enough. So the search runs all moves at once: a
-//! bisection on each move's speed share, every round one dry run of the whole sequence with long
-//! dwells, then dwells set from the predicted settle times, then a checking run of the result.
+//! bisection on each move's speed share with long dwells — one dry run of the whole sequence at
+//! full speed, then every round only the stops still searched, each simulated from the rest
+//! state the full run left at the stop before it — then dwells set from the predicted settle
+//! times, then a checking run of the whole result.
 
 use armwright_kinematics::Arm;
 
 use crate::dry_run::{
-    CommandedMotion, DryRun, DryRunError, DryRunOptions, WaypointTiming, dry_run,
+    CommandedMotion, DryRun, DryRunError, DryRunOptions, WaypointResult, WaypointTiming, dry_run,
+    dry_run_keeping_rests, rerun_stops,
 };
 
 /// Share of the target the speed search aims for, so that the checking run passes.
@@ -169,16 +172,18 @@ pub fn retime<P: Planner>(
     let count = initial.speed_share.len();
     let total_runs = (target.rounds + 4 + REPAIRS) as f64;
     let mut runs = 0.0;
-    let mut run = |timing: &Timing| -> Result<(DryRun, Vec<WaypointTiming>), RetimeError> {
-        let (motion, timings) = planner.plan(timing).map_err(RetimeError::Plan)?;
-        let result = dry_run(arm, &motion, &timings, &options)?;
+    let mut tick = || -> Result<(), RetimeError> {
         runs += 1.0;
-        if !progress((runs / total_runs).min(1.0)) {
-            return Err(RetimeError::Cancelled);
+        if progress((runs / total_runs).min(1.0)) {
+            Ok(())
+        } else {
+            Err(RetimeError::Cancelled)
         }
-        Ok((result, timings))
     };
-    let (before, stops) = run(initial)?;
+    let plan = |timing: &Timing| planner.plan(timing).map_err(RetimeError::Plan);
+    let (motion, stops) = plan(initial)?;
+    let before = dry_run(arm, &motion, &stops, &options)?;
+    tick()?;
     let is_stop: Vec<bool> = stops.iter().map(|w| w.stop).collect();
     // Pass-through waypoints share the speed of the stop they flow into.
     let group: Vec<usize> = {
@@ -195,50 +200,66 @@ pub fn retime<P: Planner>(
     // A stop meets the target when its overshoot and the torque use of every move flowing into
     // it (its pass-through waypoints too) are within bounds. The search keeps a little margin
     // (`SEARCH_MARGIN`) so that the checking run, with shorter dwells, still passes.
-    let meets_within = |run: &DryRun, stop: usize, margin: f64| {
-        let overshoot_ok = run.waypoints[stop].overshoot <= target.max_overshoot * margin;
+    let meets_within = |run: &[Option<&WaypointResult>], stop: usize, margin: f64| {
+        let overshoot_ok = run[stop].is_some_and(|w| w.overshoot <= target.max_overshoot * margin);
         let torque_ok = (0..count)
             .filter(|&i| group[i] == stop)
-            .all(|i| run.waypoints[i].peak_torque_use <= margin);
+            .all(|i| run[i].is_some_and(|w| w.peak_torque_use <= margin));
         overshoot_ok && torque_ok
     };
-    let meets = |run: &DryRun, stop: usize| meets_within(run, stop, SEARCH_MARGIN);
+    let meets =
+        |run: &[Option<&WaypointResult>], stop: usize| meets_within(run, stop, SEARCH_MARGIN);
+    fn whole(run: &DryRun) -> Vec<Option<&WaypointResult>> {
+        run.waypoints.iter().map(Some).collect()
+    }
 
-    // 1. Speed shares, with long dwells so that every move starts from rest.
+    // 1. Speed shares, with long dwells so that every move starts from rest: one dry run of the
+    // whole sequence at full speed, which also keeps the rest state at every stop; after it,
+    // each round of the bisection reruns only the stops still searched, each from the stop
+    // before it.
     let mut low = vec![target.min_speed_share; count];
     let mut high = vec![1.0; count];
-    let long = Timing {
-        speed_share: vec![1.0; count],
+    let long = |speed_share: Vec<f64>| Timing {
+        speed_share,
         dwell: vec![target.search_dwell; count],
     };
-    let (fastest, _) = run(&long)?;
-    let (slowest, _) = run(&Timing {
-        speed_share: low.clone(),
-        ..long.clone()
-    })?;
+    let (motion, timings) = plan(&long(vec![1.0; count]))?;
+    let (fastest, rests) = dry_run_keeping_rests(arm, &motion, &timings, &options, true)?;
+    tick()?;
+    let mut open = vec![false; count];
     for i in (0..count).filter(|&i| is_stop[i]) {
-        if meets(&fastest, i) {
+        if meets(&whole(&fastest), i) {
             low[i] = 1.0;
-        } else if !meets(&slowest, i) {
-            let w = &slowest.waypoints[i];
+        } else if i == 0 {
+            // No move leads into the start: no speed share changes it.
+            let w = &fastest.waypoints[0];
             return Err(RetimeError::Unreachable {
-                waypoint: i,
-                speed_share: target.min_speed_share,
+                waypoint: 0,
+                speed_share: 1.0,
                 overshoot: w.overshoot,
                 torque_use: w.peak_torque_use,
             });
+        } else {
+            open[i] = true;
         }
     }
+    let rerun = |speed_share: Vec<f64>, wanted: &[bool]| {
+        let (motion, timings) = plan(&long(speed_share))?;
+        Ok::<_, RetimeError>(rerun_stops(
+            arm, &motion, &timings, &options, &rests, wanted,
+        )?)
+    };
     for _ in 0..target.rounds {
+        if !open.contains(&true) {
+            break;
+        }
         let trial: Vec<f64> = (0..count)
             .map(|i| 0.5 * (low[group[i]] + high[group[i]]))
             .collect();
-        let (result, _) = run(&Timing {
-            speed_share: trial.clone(),
-            ..long.clone()
-        })?;
-        let open: Vec<usize> = (0..count).filter(|&i| is_stop[i] && low[i] < 1.0).collect();
-        for i in open {
+        let result = rerun(trial.clone(), &open)?;
+        tick()?;
+        let result: Vec<Option<&WaypointResult>> = result.iter().map(Option::as_ref).collect();
+        for i in (0..count).filter(|&i| open[i]) {
             if meets(&result, i) {
                 low[i] = trial[i];
             } else {
@@ -246,18 +267,36 @@ pub fn retime<P: Planner>(
             }
         }
     }
+    // A stop that met no trial must meet the target at the slowest share, or it cannot be met.
+    let never_met: Vec<bool> = (0..count)
+        .map(|i| open[i] && low[i] <= target.min_speed_share)
+        .collect();
+    if never_met.contains(&true) {
+        let slowest = (0..count).map(|i| low[group[i]]).collect();
+        let result = rerun(slowest, &never_met)?;
+        let result: Vec<Option<&WaypointResult>> = result.iter().map(Option::as_ref).collect();
+        if let Some(i) = (0..count).find(|&i| never_met[i] && !meets(&result, i)) {
+            let (overshoot, torque_use) =
+                result[i].map_or((f64::NAN, f64::NAN), |w| (w.overshoot, w.peak_torque_use));
+            return Err(RetimeError::Unreachable {
+                waypoint: i,
+                speed_share: target.min_speed_share,
+                overshoot,
+                torque_use,
+            });
+        }
+    }
+    tick()?;
     let shares: Vec<f64> = (0..count).map(|i| low[group[i]]).collect();
 
-    // 2. Dwells from the settle times predicted with those shares.
-    let (settling, _) = run(&Timing {
-        speed_share: shares.clone(),
-        ..long.clone()
-    })?;
+    // 2. Dwells from the settle times predicted with those shares: a stop kept at full speed
+    // settles as in the run at full speed; the others are run again.
+    let settling = rerun(shares.clone(), &open)?;
+    tick()?;
     let dwell: Vec<f64> = (0..count)
         .map(|i| {
-            let settle = settling.waypoints[i]
-                .settle_time
-                .unwrap_or(target.max_dwell);
+            let measured = settling[i].as_ref().unwrap_or(&fastest.waypoints[i]);
+            let settle = measured.settle_time.unwrap_or(target.max_dwell);
             let rounded = (settle * 100.0).ceil() / 100.0; // to the next 10 ms
             if is_stop[i] {
                 rounded.clamp(target.min_dwell, target.max_dwell)
@@ -271,12 +310,19 @@ pub fn retime<P: Planner>(
         dwell,
     };
 
-    // 3. Check with the strict target. A stop that misses first gets the longest dwell before
-    // it (the arm left the stop before without having settled), then slower moves.
-    let mut after = run(&timing)?.0;
+    // 3. Check with the strict target, on the whole sequence. A stop that misses first gets the
+    // longest dwell before it (the arm left the stop before without having settled), then
+    // slower moves.
+    let mut check = |timing: &Timing| -> Result<DryRun, RetimeError> {
+        let (motion, timings) = plan(timing)?;
+        let run = dry_run(arm, &motion, &timings, &options)?;
+        tick()?;
+        Ok(run)
+    };
+    let mut after = check(&timing)?;
     for _ in 0..REPAIRS {
         let missing: Vec<usize> = (0..count)
-            .filter(|&i| is_stop[i] && !meets_within(&after, i, 1.0))
+            .filter(|&i| is_stop[i] && !meets_within(&whole(&after), i, 1.0))
             .collect();
         if missing.is_empty() {
             break;
@@ -295,9 +341,9 @@ pub fn retime<P: Planner>(
                 }
             }
         }
-        after = run(&timing)?.0;
+        after = check(&timing)?;
     }
-    if let Some(i) = (0..count).find(|&i| is_stop[i] && !meets_within(&after, i, 1.0)) {
+    if let Some(i) = (0..count).find(|&i| is_stop[i] && !meets_within(&whole(&after), i, 1.0)) {
         let w = &after.waypoints[i];
         return Err(RetimeError::Unreachable {
             waypoint: i,

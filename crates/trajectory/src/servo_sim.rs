@@ -262,51 +262,133 @@ where
     C: FnMut(f64, &mut [f64]),
     L: FnMut(f64, &[f64], &mut [JointLoad]),
 {
-    let n = models.len();
-    if n == 0 || n > MAX_JOINTS {
-        return Err(ServoSimError::JointCount { got: n });
-    }
-    let steps_per_frame = (options.frame_period / options.step).round();
-    let step_ok = options.step > 0.0
-        && options.step.is_finite()
-        && steps_per_frame >= 1.0
-        && (steps_per_frame * options.step - options.frame_period).abs() < 1e-9;
-    if !step_ok {
-        return Err(ServoSimError::Step {
-            step: options.step,
-            frame: options.frame_period,
-        });
-    }
+    let clock = Clock::new(models, options)?;
     if !(duration.is_finite() && (0.0..=MAX_RUN_DURATION).contains(&duration)) {
         return Err(ServoSimError::Duration { duration });
     }
-    let steps_per_frame = steps_per_frame as usize;
-    let dt = options.step;
-    let samples = (duration / dt).ceil() as usize + 1;
+    let samples = clock.samples(duration);
+    let start = settled_start(models, options, &clock, &mut commanded, &mut loads);
+    Ok(record(models, &clock, 0..samples, start, &[], commanded, loads).0)
+}
 
+/// The integration step and how many of them make a pulse frame, checked.
+#[derive(Debug, Clone, Copy)]
+pub(crate) struct Clock {
+    /// Integration step, in s.
+    pub step: f64,
+    /// Steps per pulse frame.
+    pub steps_per_frame: usize,
+}
+
+impl Clock {
+    /// The clock of `options`, for `models` (1 to `MAX_JOINTS` of them).
+    pub fn new(models: &[ServoModel], options: &ServoModelOptions) -> Result<Clock, ServoSimError> {
+        let n = models.len();
+        if n == 0 || n > MAX_JOINTS {
+            return Err(ServoSimError::JointCount { got: n });
+        }
+        let steps_per_frame = (options.frame_period / options.step).round();
+        let step_ok = options.step > 0.0
+            && options.step.is_finite()
+            && steps_per_frame >= 1.0
+            && (steps_per_frame * options.step - options.frame_period).abs() < 1e-9;
+        if !step_ok {
+            return Err(ServoSimError::Step {
+                step: options.step,
+                frame: options.frame_period,
+            });
+        }
+        Ok(Clock {
+            step: options.step,
+            steps_per_frame: steps_per_frame as usize,
+        })
+    }
+
+    /// Samples a run of `duration` s records, both ends included.
+    pub fn samples(&self, duration: f64) -> usize {
+        (duration / self.step).ceil() as usize + 1
+    }
+
+    /// The first sample of the pulse frame that sample `k` falls in.
+    pub fn frame_start(&self, k: usize) -> usize {
+        k / self.steps_per_frame * self.steps_per_frame
+    }
+}
+
+/// Every joint's servo output position and speed and link position at one sample, before that
+/// sample's step (rad, rad/s or m, m/s).
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub(crate) struct SimState {
+    position: [f64; MAX_JOINTS],
+    velocity: [f64; MAX_JOINTS],
+    link: [f64; MAX_JOINTS],
+}
+
+/// The state after resting `settle_before` s at the command for time 0, under the load there.
+pub(crate) fn settled_start<C, L>(
+    models: &[ServoModel],
+    options: &ServoModelOptions,
+    clock: &Clock,
+    commanded: &mut C,
+    loads: &mut L,
+) -> SimState
+where
+    C: FnMut(f64, &mut [f64]),
+    L: FnMut(f64, &[f64], &mut [JointLoad]),
+{
+    let n = models.len();
     let mut command = [0.0; MAX_JOINTS];
     let mut pulse_us = [0.0; MAX_JOINTS];
-    let mut position = [0.0; MAX_JOINTS];
-    let mut velocity = [0.0; MAX_JOINTS];
-    let mut link = [0.0; MAX_JOINTS];
     let mut load = [JointLoad::default(); MAX_JOINTS];
-    let mut drive = [0.0; MAX_JOINTS];
-
+    let mut state = SimState::default();
     commanded(0.0, &mut command[..n]);
     for j in 0..n {
         pulse_us[j] = models[j].commanded_pulse_us(command[j]);
-        position[j] = models[j].calibration.position(pulse_us[j]);
-        link[j] = position[j];
+        state.position[j] = models[j].calibration.position(pulse_us[j]);
+        state.link[j] = state.position[j];
     }
     let mut frames = [None; MAX_JOINTS];
-    let settle_steps = (options.settle_before.max(0.0) / dt).round() as usize;
+    let settle_steps = (options.settle_before.max(0.0) / clock.step).round() as usize;
     for k in 0..settle_steps {
-        if k % steps_per_frame == 0 {
-            loads(0.0, &link[..n], &mut load[..n]);
+        if k % clock.steps_per_frame == 0 {
+            loads(0.0, &state.link[..n], &mut load[..n]);
             frames = frame_loops(models, &pulse_us, &load);
         }
-        advance_all(models, &frames, dt, &mut position, &mut velocity, &mut link);
+        advance_all(models, &frames, clock.step, &mut state);
     }
+    state
+}
+
+/// Records the samples in `range` (sample `k` at `k × step` s), starting from `start`, the state
+/// at the range's first sample; also returns the state at each of `snapshots` (ascending sample
+/// indices; those outside the range are left out).
+///
+/// A new pulse and load are taken at every frame start; a range that begins inside a frame takes
+/// them at its first sample from the command at that frame's start.
+pub(crate) fn record<C, L>(
+    models: &[ServoModel],
+    clock: &Clock,
+    range: std::ops::Range<usize>,
+    start: SimState,
+    snapshots: &[usize],
+    mut commanded: C,
+    mut loads: L,
+) -> (ServoTrace, Vec<SimState>)
+where
+    C: FnMut(f64, &mut [f64]),
+    L: FnMut(f64, &[f64], &mut [JointLoad]),
+{
+    let n = models.len();
+    let dt = clock.step;
+    let samples = range.len();
+    let mut command = [0.0; MAX_JOINTS];
+    let mut pulse_us = [0.0; MAX_JOINTS];
+    let mut load = [JointLoad::default(); MAX_JOINTS];
+    let mut drive = [0.0; MAX_JOINTS];
+    let mut frames = [None; MAX_JOINTS];
+    let mut state = start;
+    let mut taken = Vec::with_capacity(snapshots.len());
+    let mut next_snapshot = snapshots.partition_point(|&k| k < range.start);
 
     let mut trace = ServoTrace {
         step: dt,
@@ -316,28 +398,36 @@ where
         velocity: Vec::with_capacity(samples * n),
         drive_share: Vec::with_capacity(samples * n),
     };
-    for k in 0..samples {
+    for k in range.clone() {
+        while snapshots.get(next_snapshot) == Some(&k) {
+            taken.push(state);
+            next_snapshot += 1;
+        }
         let t = k as f64 * dt;
-        commanded(t, &mut command[..n]);
-        if k % steps_per_frame == 0 {
+        let frame_start = clock.frame_start(k);
+        if k == frame_start || k == range.start {
+            commanded(frame_start as f64 * dt, &mut command[..n]);
             for j in 0..n {
                 pulse_us[j] = models[j].commanded_pulse_us(command[j]);
             }
-            loads(t, &link[..n], &mut load[..n]);
+            loads(t, &state.link[..n], &mut load[..n]);
             frames = frame_loops(models, &pulse_us, &load);
         }
+        if k != frame_start || k == range.start {
+            commanded(t, &mut command[..n]);
+        }
         trace.commanded.extend_from_slice(&command[..n]);
-        trace.actual.extend_from_slice(&link[..n]);
-        trace.velocity.extend_from_slice(&velocity[..n]);
+        trace.actual.extend_from_slice(&state.link[..n]);
+        trace.velocity.extend_from_slice(&state.velocity[..n]);
         for j in 0..n {
-            drive[j] = models[j].drive_share(pulse_us[j], position[j]);
+            drive[j] = models[j].drive_share(pulse_us[j], state.position[j]);
         }
         trace.drive_share.extend_from_slice(&drive[..n]);
-        if k + 1 < samples {
-            advance_all(models, &frames, dt, &mut position, &mut velocity, &mut link);
+        if k + 1 < range.end {
+            advance_all(models, &frames, dt, &mut state);
         }
     }
-    Ok(trace)
+    (trace, taken)
 }
 
 /// Each joint's loop for the frame now starting: held pulse and load fixed.
@@ -358,9 +448,7 @@ fn advance_all(
     models: &[ServoModel],
     frames: &[Option<FrameLoop>; MAX_JOINTS],
     dt: f64,
-    position: &mut [f64; MAX_JOINTS],
-    velocity: &mut [f64; MAX_JOINTS],
-    link: &mut [f64; MAX_JOINTS],
+    state: &mut SimState,
 ) {
     for (j, model) in models.iter().enumerate() {
         if let Some(frame) = &frames[j] {
@@ -368,9 +456,9 @@ fn advance_all(
                 frame,
                 model.backlash,
                 dt,
-                &mut position[j],
-                &mut velocity[j],
-                &mut link[j],
+                &mut state.position[j],
+                &mut state.velocity[j],
+                &mut state.link[j],
             );
         }
     }
