@@ -8,7 +8,7 @@ use nalgebra::Vector3;
 
 use crate::servo_sim::{
     Clock, JointLoad, MAX_RUN_DURATION, ServoModel, ServoModelOptions, ServoSimError, ServoTrace,
-    SimState, record, settled_start,
+    SimState, Span, record, settled_start,
 };
 
 /// How often the following error is looked at along a move, in s.
@@ -158,8 +158,9 @@ pub fn dry_run<M: CommandedMotion>(
 }
 
 /// [`dry_run`]; `for_search` keeps the simulation state at the start of the pulse frame in which
-/// each waypoint is left (where [`rerun_stops`] starts its windows) and skips the following
-/// error, which a search does not look at (it stays 0).
+/// each waypoint is left (where [`rerun_stops`] starts its windows) and skips what a search
+/// does not look at: the following error (it stays 0) and the commanded and speed traces (they
+/// stay empty).
 pub(crate) fn dry_run_keeping_rests<M: CommandedMotion>(
     arm: &Arm,
     motion: &M,
@@ -187,15 +188,13 @@ pub(crate) fn dry_run_keeping_rests<M: CommandedMotion>(
     } else {
         Vec::new()
     };
-    let (trace, rests) = record(
-        &setup.models,
-        &setup.clock,
-        0..setup.last_sample + 1,
+    let span = Span {
+        range: 0..setup.last_sample + 1,
         start,
-        &rest_samples,
-        commanded,
-        loads,
-    );
+        snapshots: &rest_samples,
+        complete: !for_search,
+    };
+    let (trace, rests) = record(&setup.models, &setup.clock, span, commanded, loads);
     let measure = Measure {
         arm,
         trace: &trace,
@@ -269,12 +268,16 @@ pub(crate) fn rerun_stops<M: CommandedMotion>(
         } else {
             setup.sample_of(waypoints[last].departure)
         };
+        let span = Span {
+            range: first_sample..end_sample + 1,
+            start: rests[previous_stop],
+            snapshots: &[],
+            complete: false,
+        };
         let (trace, _) = record(
             &setup.models,
             &setup.clock,
-            first_sample..end_sample + 1,
-            rests[previous_stop],
-            &[],
+            span,
             |t: f64, out: &mut [f64]| motion.positions_at(t.min(setup.cycle_time), out),
             |t: f64, link: &[f64], loads: &mut [JointLoad]| {
                 fill_loads(arm, link, motion.payload_at(t.min(setup.cycle_time)), loads)

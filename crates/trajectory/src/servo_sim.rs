@@ -268,7 +268,13 @@ where
     }
     let samples = clock.samples(duration);
     let start = settled_start(models, options, &clock, &mut commanded, &mut loads);
-    Ok(record(models, &clock, 0..samples, start, &[], commanded, loads).0)
+    let span = Span {
+        range: 0..samples,
+        start,
+        snapshots: &[],
+        complete: true,
+    };
+    Ok(record(models, &clock, span, commanded, loads).0)
 }
 
 /// The integration step and how many of them make a pulse frame, checked.
@@ -359,18 +365,27 @@ where
     state
 }
 
-/// Records the samples in `range` (sample `k` at `k × step` s), starting from `start`, the state
-/// at the range's first sample; also returns the state at each of `snapshots` (ascending sample
-/// indices; those outside the range are left out).
+/// Which samples [`record`] runs and what it keeps.
+pub(crate) struct Span<'a> {
+    /// The samples, sample `k` at `k × step` s.
+    pub range: std::ops::Range<usize>,
+    /// The state at the range's first sample.
+    pub start: SimState,
+    /// Samples (ascending) whose state to return; those outside the range are left out.
+    pub snapshots: &'a [usize],
+    /// Whether to record the commanded positions and servo speeds too; without them the
+    /// command is asked for only at frame starts, and those two traces stay empty.
+    pub complete: bool,
+}
+
+/// Records the samples of `span`, and returns the states it asks to keep.
 ///
 /// A new pulse and load are taken at every frame start; a range that begins inside a frame takes
 /// them at its first sample from the command at that frame's start.
 pub(crate) fn record<C, L>(
     models: &[ServoModel],
     clock: &Clock,
-    range: std::ops::Range<usize>,
-    start: SimState,
-    snapshots: &[usize],
+    span: Span<'_>,
     mut commanded: C,
     mut loads: L,
 ) -> (ServoTrace, Vec<SimState>)
@@ -378,9 +393,16 @@ where
     C: FnMut(f64, &mut [f64]),
     L: FnMut(f64, &[f64], &mut [JointLoad]),
 {
+    let Span {
+        range,
+        start,
+        snapshots,
+        complete,
+    } = span;
     let n = models.len();
     let dt = clock.step;
     let samples = range.len();
+    let kept = if complete { samples * n } else { 0 };
     let mut command = [0.0; MAX_JOINTS];
     let mut pulse_us = [0.0; MAX_JOINTS];
     let mut load = [JointLoad::default(); MAX_JOINTS];
@@ -393,9 +415,9 @@ where
     let mut trace = ServoTrace {
         step: dt,
         joint_count: n,
-        commanded: Vec::with_capacity(samples * n),
+        commanded: Vec::with_capacity(kept),
         actual: Vec::with_capacity(samples * n),
-        velocity: Vec::with_capacity(samples * n),
+        velocity: Vec::with_capacity(kept),
         drive_share: Vec::with_capacity(samples * n),
     };
     for k in range.clone() {
@@ -413,12 +435,14 @@ where
             loads(t, &state.link[..n], &mut load[..n]);
             frames = frame_loops(models, &pulse_us, &load);
         }
-        if k != frame_start || k == range.start {
-            commanded(t, &mut command[..n]);
+        if complete {
+            if k != frame_start || k == range.start {
+                commanded(t, &mut command[..n]);
+            }
+            trace.commanded.extend_from_slice(&command[..n]);
+            trace.velocity.extend_from_slice(&state.velocity[..n]);
         }
-        trace.commanded.extend_from_slice(&command[..n]);
         trace.actual.extend_from_slice(&state.link[..n]);
-        trace.velocity.extend_from_slice(&state.velocity[..n]);
         for j in 0..n {
             drive[j] = models[j].drive_share(pulse_us[j], state.position[j]);
         }
