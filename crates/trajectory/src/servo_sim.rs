@@ -353,7 +353,7 @@ where
         state.position[j] = models[j].calibration.position(pulse_us[j]);
         state.link[j] = state.position[j];
     }
-    let mut frames = [None; MAX_JOINTS];
+    let mut frames = FrameLoops::idle();
     let settle_steps = (options.settle_before.max(0.0) / clock.step).round() as usize;
     for k in 0..settle_steps {
         if k % clock.steps_per_frame == 0 {
@@ -407,7 +407,7 @@ where
     let mut pulse_us = [0.0; MAX_JOINTS];
     let mut load = [JointLoad::default(); MAX_JOINTS];
     let mut drive = [0.0; MAX_JOINTS];
-    let mut frames = [None; MAX_JOINTS];
+    let mut frames = FrameLoops::idle();
     let mut state = start;
     let mut taken = Vec::with_capacity(snapshots.len());
     let mut next_snapshot = snapshots.partition_point(|&k| k < range.start);
@@ -459,106 +459,152 @@ fn frame_loops(
     models: &[ServoModel],
     pulse_us: &[f64; MAX_JOINTS],
     load: &[JointLoad; MAX_JOINTS],
-) -> [Option<FrameLoop>; MAX_JOINTS] {
-    let mut frames = [None; MAX_JOINTS];
+) -> FrameLoops {
+    let mut frames = FrameLoops::idle();
     for (j, model) in models.iter().enumerate() {
-        frames[j] = Some(FrameLoop::new(model, pulse_us[j], &load[j]));
+        frames.set(j, model, pulse_us[j], &load[j]);
     }
     frames
 }
 
-/// One integration step of every joint whose frame loop is set.
-fn advance_all(
-    models: &[ServoModel],
-    frames: &[Option<FrameLoop>; MAX_JOINTS],
-    dt: f64,
-    state: &mut SimState,
-) {
-    for (j, model) in models.iter().enumerate() {
-        if let Some(frame) = &frames[j] {
-            advance(
-                frame,
-                model.backlash,
-                dt,
-                &mut state.position[j],
-                &mut state.velocity[j],
-                &mut state.link[j],
-            );
-        }
+/// One integration step of every joint, in lanes of two joints side by side.
+fn advance_all(models: &[ServoModel], frames: &FrameLoops, dt: f64, state: &mut SimState) {
+    match models.len() {
+        0..=2 => frames.advance::<2>(dt, state),
+        3..=4 => frames.advance::<4>(dt, state),
+        5..=6 => frames.advance::<6>(dt, state),
+        _ => frames.advance::<MAX_JOINTS>(dt, state),
     }
 }
 
-/// [`ServoModel::acceleration`] with everything that is constant over one pulse frame worked out
-/// once: the same equations, fewer divisions and roots in the integration loop.
+/// Every joint's position loop for one pulse frame, held pulse and load fixed:
+/// [`ServoModel::acceleration`] with everything that is constant over the frame worked out once
+/// (the same equations, fewer divisions and roots in the integration loop). One array per
+/// quantity, so that the joints step side by side; joints the arm does not have are idle.
 #[derive(Debug, Clone, Copy)]
-struct FrameLoop {
+struct FrameLoops {
     /// Servo position at which the held pulse gives zero error (rad or m).
-    aim: f64,
+    aim: [f64; MAX_JOINTS],
     /// |µs per unit position|.
-    gain_us: f64,
-    half_deadband_us: f64,
-    inverse_band_us: f64,
-    stall: f64,
-    inverse_no_load_speed: f64,
-    viscous: f64,
-    dry: f64,
-    smoothing_squared: f64,
-    holding: f64,
-    inverse_inertia: f64,
+    gain_us: [f64; MAX_JOINTS],
+    half_deadband_us: [f64; MAX_JOINTS],
+    inverse_band_us: [f64; MAX_JOINTS],
+    stall: [f64; MAX_JOINTS],
+    inverse_no_load_speed: [f64; MAX_JOINTS],
+    viscous: [f64; MAX_JOINTS],
+    dry: [f64; MAX_JOINTS],
+    smoothing_squared: [f64; MAX_JOINTS],
+    holding: [f64; MAX_JOINTS],
+    inverse_inertia: [f64; MAX_JOINTS],
+    half_play: [f64; MAX_JOINTS],
 }
 
-impl FrameLoop {
-    fn new(model: &ServoModel, pulse_us: f64, load: &JointLoad) -> FrameLoop {
-        let inertia = model.motor_inertia + load.inertia;
-        FrameLoop {
-            aim: model.calibration.position(pulse_us),
-            gain_us: model.calibration.slope_us().abs(),
-            half_deadband_us: model.deadband_us / 2.0,
-            inverse_band_us: 1.0 / model.proportional_band_us,
-            stall: model.stall_effort,
-            inverse_no_load_speed: 1.0 / model.no_load_speed,
-            viscous: model.gear_damping(inertia),
-            dry: model.dry_friction,
-            smoothing_squared: model.friction_smoothing * model.friction_smoothing,
-            holding: load.holding_effort,
-            inverse_inertia: 1.0 / inertia,
+impl FrameLoops {
+    fn idle() -> FrameLoops {
+        FrameLoops {
+            aim: [0.0; MAX_JOINTS],
+            gain_us: [0.0; MAX_JOINTS],
+            half_deadband_us: [0.0; MAX_JOINTS],
+            inverse_band_us: [0.0; MAX_JOINTS],
+            stall: [0.0; MAX_JOINTS],
+            inverse_no_load_speed: [0.0; MAX_JOINTS],
+            viscous: [0.0; MAX_JOINTS],
+            dry: [0.0; MAX_JOINTS],
+            smoothing_squared: [1.0; MAX_JOINTS],
+            holding: [0.0; MAX_JOINTS],
+            inverse_inertia: [0.0; MAX_JOINTS],
+            half_play: [0.0; MAX_JOINTS],
         }
     }
 
-    #[inline]
-    fn acceleration(&self, position: f64, velocity: f64) -> f64 {
-        let error_us = (self.aim - position) * self.gain_us;
-        let beyond = (error_us.abs() - self.half_deadband_us).max(0.0);
-        let drive = (beyond * self.inverse_band_us).min(1.0).copysign(error_us);
-        let drive = if beyond > 0.0 { drive } else { 0.0 };
-        let motor = self.stall * (drive - velocity * self.inverse_no_load_speed);
-        let dry = self.dry * velocity / (velocity * velocity + self.smoothing_squared).sqrt();
-        (motor - self.viscous * velocity - dry - self.holding) * self.inverse_inertia
+    /// Joint `j`'s loop for a held pulse (µs) and a load.
+    fn set(&mut self, j: usize, model: &ServoModel, pulse_us: f64, load: &JointLoad) {
+        let inertia = model.motor_inertia + load.inertia;
+        self.aim[j] = model.calibration.position(pulse_us);
+        self.gain_us[j] = model.calibration.slope_us().abs();
+        self.half_deadband_us[j] = model.deadband_us / 2.0;
+        self.inverse_band_us[j] = 1.0 / model.proportional_band_us;
+        self.stall[j] = model.stall_effort;
+        self.inverse_no_load_speed[j] = 1.0 / model.no_load_speed;
+        self.viscous[j] = model.gear_damping(inertia);
+        self.dry[j] = model.dry_friction;
+        self.smoothing_squared[j] = model.friction_smoothing * model.friction_smoothing;
+        self.holding[j] = load.holding_effort;
+        self.inverse_inertia[j] = 1.0 / inertia;
+        self.half_play[j] = model.backlash / 2.0;
     }
-}
 
-/// One Runge–Kutta step of one joint, then the backlash play between servo output and link.
-fn advance(
-    frame: &FrameLoop,
-    backlash: f64,
-    dt: f64,
-    position: &mut f64,
-    velocity: &mut f64,
-    link: &mut f64,
-) {
-    let accel = |p: f64, v: f64| frame.acceleration(p, v);
-    let (p0, v0) = (*position, *velocity);
-    let a1 = accel(p0, v0);
-    let (p2, v2) = (p0 + 0.5 * dt * v0, v0 + 0.5 * dt * a1);
-    let a2 = accel(p2, v2);
-    let (p3, v3) = (p0 + 0.5 * dt * v2, v0 + 0.5 * dt * a2);
-    let a3 = accel(p3, v3);
-    let (p4, v4) = (p0 + dt * v3, v0 + dt * a3);
-    let a4 = accel(p4, v4);
-    *position = p0 + dt / 6.0 * (v0 + 2.0 * v2 + 2.0 * v3 + v4);
-    *velocity = v0 + dt / 6.0 * (a1 + 2.0 * a2 + 2.0 * a3 + a4);
-    let half_play = backlash / 2.0;
-    *link = link.clamp(*position - half_play, *position + half_play);
+    /// The servo output's acceleration of the first `L` joints, written without branches.
+    #[inline(always)]
+    fn accelerations<const L: usize>(
+        &self,
+        position: &[f64; MAX_JOINTS],
+        velocity: &[f64; MAX_JOINTS],
+        out: &mut [f64; MAX_JOINTS],
+    ) {
+        for j in 0..L {
+            let (p, v) = (position[j], velocity[j]);
+            let error_us = (self.aim[j] - p) * self.gain_us[j];
+            let excess = error_us.abs() - self.half_deadband_us[j];
+            // `max(0)` and `min(1)`: the excess is never −0 (a difference of equal numbers
+            // is +0) and the share is never NaN, so the comparisons give the same numbers.
+            let beyond = if excess > 0.0 { excess } else { 0.0 };
+            let share = beyond * self.inverse_band_us[j];
+            let share = if share < 1.0 { share } else { 1.0 };
+            let drive = if beyond > 0.0 {
+                share.copysign(error_us)
+            } else {
+                0.0
+            };
+            let motor = self.stall[j] * (drive - v * self.inverse_no_load_speed[j]);
+            let dry = self.dry[j] * v / (v * v + self.smoothing_squared[j]).sqrt();
+            out[j] =
+                (motor - self.viscous[j] * v - dry - self.holding[j]) * self.inverse_inertia[j];
+        }
+    }
+
+    /// One Runge–Kutta step of the first `L` joints, then the backlash play between servo and
+    /// link.
+    fn advance<const L: usize>(&self, dt: f64, state: &mut SimState) {
+        let (p0, v0) = (state.position, state.velocity);
+        let half = 0.5 * dt;
+        let mut a1 = [0.0; MAX_JOINTS];
+        let mut a2 = [0.0; MAX_JOINTS];
+        let mut a3 = [0.0; MAX_JOINTS];
+        let mut a4 = [0.0; MAX_JOINTS];
+        let (mut p, mut v2, mut v3, mut v4) = (
+            [0.0; MAX_JOINTS],
+            [0.0; MAX_JOINTS],
+            [0.0; MAX_JOINTS],
+            [0.0; MAX_JOINTS],
+        );
+        self.accelerations::<L>(&p0, &v0, &mut a1);
+        for j in 0..L {
+            p[j] = p0[j] + half * v0[j];
+            v2[j] = v0[j] + half * a1[j];
+        }
+        self.accelerations::<L>(&p, &v2, &mut a2);
+        for j in 0..L {
+            p[j] = p0[j] + half * v2[j];
+            v3[j] = v0[j] + half * a2[j];
+        }
+        self.accelerations::<L>(&p, &v3, &mut a3);
+        for j in 0..L {
+            p[j] = p0[j] + dt * v3[j];
+            v4[j] = v0[j] + dt * a3[j];
+        }
+        self.accelerations::<L>(&p, &v4, &mut a4);
+        let sixth = dt / 6.0;
+        for j in 0..L {
+            let position = p0[j] + sixth * (v0[j] + 2.0 * v2[j] + 2.0 * v3[j] + v4[j]);
+            state.position[j] = position;
+            state.velocity[j] = v0[j] + sixth * (a1[j] + 2.0 * a2[j] + 2.0 * a3[j] + a4[j]);
+            let (low, high) = (position - self.half_play[j], position + self.half_play[j]);
+            let link = state.link[j];
+            let link = if link < low { low } else { link };
+            state.link[j] = if link > high { high } else { link };
+        }
+    }
 }
 
 #[cfg(test)]
@@ -675,13 +721,16 @@ mod tests {
             holding_effort: 0.2,
         };
         for pulse_us in [1490.0, 1500.0, 1502.0, 1530.0, 1700.0] {
-            let frame = FrameLoop::new(&model, pulse_us, &load);
+            let mut frames = FrameLoops::idle();
+            frames.set(0, &model, pulse_us, &load);
             for (p, v) in [(0.0, 0.0), (0.01, -0.5), (-0.2, 2.0), (0.3, 7.0)] {
                 let direct = model.acceleration(pulse_us, load.inertia, load.holding_effort, p, v);
-                let fast = frame.acceleration(p, v);
+                let mut fast = [0.0; MAX_JOINTS];
+                frames.accelerations::<2>(&[p; MAX_JOINTS], &[v; MAX_JOINTS], &mut fast);
                 assert!(
-                    (direct - fast).abs() <= 1e-9 * direct.abs().max(1.0),
-                    "{direct} vs {fast}"
+                    (direct - fast[0]).abs() <= 1e-9 * direct.abs().max(1.0),
+                    "{direct} vs {}",
+                    fast[0]
                 );
             }
         }
