@@ -392,9 +392,10 @@ impl Measure<'_> {
         self.trace.actual_at(k - self.first)
     }
 
-    fn drive_at(&self, k: usize) -> &[f64] {
+    /// Every joint's drive share at samples `from..=to`.
+    fn drives(&self, from: usize, to: usize) -> &[f64] {
         let n = self.trace.joint_count;
-        &self.trace.drive_share[(k - self.first) * n..(k - self.first + 1) * n]
+        &self.trace.drive_share[(from - self.first) * n..(to - self.first + 1) * n]
     }
 
     /// Waypoints `from..to`, the move into `from` starting at `move_start` s from `start_pose`.
@@ -438,13 +439,10 @@ impl Measure<'_> {
                     following_error = following_error.max((actual - commanded).norm());
                 }
             }
-            let mut peak_effort: f64 = 0.0;
-            for k in self.sample_of(move_start)..=window_end {
-                peak_effort = self
-                    .drive_at(k)
-                    .iter()
-                    .fold(peak_effort, |m, e| m.max(e.abs()));
-            }
+            let peak_effort = self
+                .drives(self.sample_of(move_start), window_end)
+                .iter()
+                .fold(0.0_f64, |m, e| m.max(e.abs()));
 
             let mut result = WaypointResult {
                 overshoot: 0.0,
