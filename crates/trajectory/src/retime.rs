@@ -289,9 +289,11 @@ pub fn retime<P: Planner>(
     tick()?;
     let shares: Vec<f64> = (0..count).map(|i| low[group[i]]).collect();
 
-    // 2. Dwells from the settle times predicted with those shares: a stop kept at full speed
-    // settles as in the run at full speed; the others are run again.
-    let settling = rerun(shares.clone(), &open)?;
+    // 2. Dwells from the settle times predicted with those shares, over the whole sequence:
+    // where a stop's rest lies inside the deadband depends on every move before it, and with
+    // it whether the tool point starts inside the settle band.
+    let every_stop: Vec<bool> = (0..count).map(|i| i > 0 && is_stop[i]).collect();
+    let settling = rerun(shares.clone(), &every_stop)?;
     tick()?;
     let dwell: Vec<f64> = (0..count)
         .map(|i| {
