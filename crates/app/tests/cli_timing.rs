@@ -237,3 +237,109 @@ fn a_shaped_scene_retimes_with_its_runs_shaped() {
     );
     assert!((a - b).abs() < 1e-3, "{a} vs {b}");
 }
+
+/// The scene's joint limits from `timing.joint_limits`, as `plan --json` reports them.
+fn planned_limit(report: &Value, joint: &str, key: &str) -> f64 {
+    report["joint_limits"]
+        .as_array()
+        .expect("joint_limits")
+        .iter()
+        .find(|entry| entry["joint"] == joint)
+        .unwrap_or_else(|| panic!("no {joint} in {report}"))[key]
+        .as_f64()
+        .unwrap_or_else(|| panic!("no {key} for {joint} in {report}"))
+}
+
+#[test]
+fn joint_limits_in_the_scene_bound_plan_simulate_and_retime() {
+    // The peg sorter's shoulder turns and its lift slides: one limit in deg/s, one in mm/s².
+    let original = sample("peg-sorter");
+    let mut scene: Value =
+        serde_json::from_str(&std::fs::read_to_string(&original).unwrap()).unwrap();
+    scene["timing"]["joint_limits"] = serde_json::json!([
+        { "joint": "shoulder", "max_velocity_deg_per_s": 25.0 },
+        { "joint": "lift", "max_acceleration_mm_per_s2": 80.0 }
+    ]);
+    let input = scratch("limited.armwright.json");
+    std::fs::write(&input, serde_json::to_string_pretty(&scene).unwrap()).unwrap();
+
+    let free = json_of(&armwright(&["plan", original.to_str().unwrap(), "--json"]));
+    let limited = json_of(&armwright(&["plan", input.to_str().unwrap(), "--json"]));
+    assert_eq!(
+        planned_limit(&limited, "shoulder", "max_velocity_deg_per_s"),
+        25.0
+    );
+    assert_eq!(
+        planned_limit(&limited, "lift", "max_acceleration_mm_per_s2"),
+        80.0
+    );
+    // The joints left alone keep the limits from their servos.
+    assert_eq!(
+        planned_limit(&limited, "elbow", "max_velocity_deg_per_s"),
+        planned_limit(&free, "elbow", "max_velocity_deg_per_s")
+    );
+    assert!(planned_limit(&free, "shoulder", "max_velocity_deg_per_s") > 25.0);
+    let cycle = limited["cycle_time_s"].as_f64().unwrap();
+    assert!(
+        cycle > free["cycle_time_s"].as_f64().unwrap(),
+        "slower limits, longer cycle"
+    );
+
+    // simulate and retime follow the same limited plan.
+    let simulated = json_of(&armwright(&["simulate", input.to_str().unwrap(), "--json"]));
+    assert_eq!(simulated["cycle_time_s"].as_f64().unwrap(), cycle);
+    let output = scratch("limited.retimed.armwright.json");
+    let out = armwright(&[
+        "retime",
+        input.to_str().unwrap(),
+        "--max-overshoot",
+        "1.5",
+        "--write",
+        output.to_str().unwrap(),
+        "--json",
+    ]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stdout)
+    );
+    let report = json_of(&out);
+    assert_eq!(report["before"]["cycle_time_s"].as_f64().unwrap(), cycle);
+    // The retimed scene keeps the limits, and plans with them.
+    let written: Value = serde_json::from_str(&std::fs::read_to_string(&output).unwrap()).unwrap();
+    assert_eq!(
+        written["timing"]["joint_limits"],
+        scene["timing"]["joint_limits"]
+    );
+    let replanned = json_of(&armwright(&["plan", output.to_str().unwrap(), "--json"]));
+    assert_eq!(
+        planned_limit(&replanned, "shoulder", "max_velocity_deg_per_s"),
+        25.0
+    );
+}
+
+#[test]
+fn a_joint_limit_for_no_joint_is_refused_with_its_place() {
+    let mut scene: Value =
+        serde_json::from_str(&std::fs::read_to_string(sample("pen-plotter")).unwrap()).unwrap();
+    scene["timing"]["joint_limits"] =
+        serde_json::json!([{ "joint": "knee", "max_velocity_deg_per_s": 30.0 }]);
+    let input = scratch("no-such-joint.armwright.json");
+    std::fs::write(&input, serde_json::to_string_pretty(&scene).unwrap()).unwrap();
+    let file = input.to_str().unwrap();
+    for args in [
+        vec!["plan", file],
+        vec!["simulate", file],
+        vec!["retime", file, "--max-overshoot", "1.5"],
+    ] {
+        let command = args[0];
+        let out = armwright(&args);
+        // A problem in the scene: exit 1, the problem named at its place.
+        assert_eq!(out.status.code(), Some(1), "{command}");
+        let text = String::from_utf8_lossy(&out.stderr);
+        assert!(
+            text.contains("timing.joint_limits[0].joint") && text.contains("\"knee\""),
+            "{command}: {text}"
+        );
+    }
+}

@@ -212,6 +212,23 @@ fn scene(values: &[f64], description: String, port: String) -> Scene {
         open_pulse_us: open,
         closed_pulse_us: open + 1 + draw.pulse(0, 900),
     });
+    // Some joints with their own limits: velocity, acceleration or both.
+    let joint_limits = joints
+        .iter()
+        .filter_map(|joint| {
+            let (velocity, acceleration) = match draw.count(0, 3) {
+                0 => return None,
+                1 => (Some(draw.range(1.0, 600.0)), None),
+                2 => (None, Some(draw.range(1.0, 5000.0))),
+                _ => (Some(draw.range(1.0, 600.0)), Some(draw.range(1.0, 5000.0))),
+            };
+            Some(JointLimitDoc {
+                joint: joint.name.clone(),
+                max_velocity_deg_or_mm_per_s: velocity,
+                max_acceleration_deg_or_mm_per_s2: acceleration,
+            })
+        })
+        .collect();
     Scene {
         description,
         arm: ArmDoc {
@@ -231,6 +248,7 @@ fn scene(values: &[f64], description: String, port: String) -> Scene {
             max_overshoot_mm: draw.range(0.05, 5.0),
             damping_ratio: draw.range(0.1, 1.5),
             shaping: [Shaping::None, Shaping::Zv, Shaping::Zvd][draw.count(0, 2)],
+            joint_limits,
         },
         workspace: Workspace {
             table_height_mm: draw.flip().then(|| draw.range(-50.0, 50.0)),

@@ -338,3 +338,125 @@ fn every_broken_rule_is_listed_not_only_the_first() {
         );
     }
 }
+
+/// Every problem of a document: path and message.
+fn problems(document: &Value) -> Vec<(String, String)> {
+    match load_bytes(&bytes(document)) {
+        Err(SceneError::Problems { problems }) => {
+            problems.into_iter().map(|p| (p.path, p.message)).collect()
+        }
+        Ok(_) => Vec::new(),
+        Err(other) => panic!("expected problems, got {other:?}"),
+    }
+}
+
+/// The horizontal test arm (shoulder, elbow, lift in mm, roll) with `timing.joint_limits` set.
+fn with_joint_limits(limits: Value) -> Value {
+    let mut document = scara();
+    document["timing"]["joint_limits"] = limits;
+    document
+}
+
+#[test]
+fn joint_limits_load_in_the_unit_of_their_joint() {
+    let document = with_joint_limits(json!([
+        { "joint": "elbow", "max_velocity_deg_per_s": 90.0 },
+        { "joint": "lift", "max_velocity_mm_per_s": 40.0, "max_acceleration_mm_per_s2": 300.0 },
+        { "joint": "roll", "max_acceleration_deg_per_s2": 500.0 }
+    ]));
+    let scene = load_bytes(&bytes(&document)).expect("valid limits load");
+    let limits = &scene.timing.joint_limits;
+    assert_eq!(limits.len(), 3);
+    assert_eq!(limits[0].joint, "elbow");
+    assert_eq!(limits[0].max_velocity_deg_or_mm_per_s, Some(90.0));
+    assert_eq!(limits[0].max_acceleration_deg_or_mm_per_s2, None);
+    assert_eq!(limits[1].max_velocity_deg_or_mm_per_s, Some(40.0));
+    assert_eq!(limits[1].max_acceleration_deg_or_mm_per_s2, Some(300.0));
+    assert_eq!(limits[2].max_velocity_deg_or_mm_per_s, None);
+    // A scene without them has none, and saving it writes no `joint_limits` key.
+    let plain = load_bytes(&bytes(&articulated5())).expect("test scene loads");
+    assert!(plain.timing.joint_limits.is_empty());
+    assert!(!armwright::scene::to_json(&plain).contains("joint_limits"));
+}
+
+#[test]
+fn joint_limits_must_name_one_joint_once() {
+    let found = problems(&with_joint_limits(json!([
+        { "joint": "wrist", "max_velocity_deg_per_s": 90.0 }
+    ])));
+    let (path, message) = &found[0];
+    assert_eq!(path, "timing.joint_limits[0].joint");
+    assert!(
+        message.contains("\"wrist\"") && message.contains("\"elbow\""),
+        "{message}"
+    );
+    let twice = with_joint_limits(json!([
+        { "joint": "elbow", "max_velocity_deg_per_s": 90.0 },
+        { "joint": "elbow", "max_acceleration_deg_per_s2": 400.0 }
+    ]));
+    assert!(
+        paths(&twice).contains(&"timing.joint_limits[1].joint".to_string()),
+        "{:?}",
+        paths(&twice)
+    );
+    let mut same_names = with_joint_limits(json!([
+        { "joint": "elbow", "max_velocity_deg_per_s": 90.0 }
+    ]));
+    same_names["arm"]["joints"][0]["name"] = json!("elbow");
+    let found = problems(&same_names);
+    assert!(
+        found
+            .iter()
+            .any(|(path, message)| path == "timing.joint_limits[0].joint"
+                && message.contains("2 joints")),
+        "{found:?}"
+    );
+}
+
+#[test]
+fn joint_limit_keys_carry_the_joint_unit() {
+    // The lift slides: its limits are in mm; a revolute joint's in degrees.
+    let found = problems(&with_joint_limits(json!([
+        { "joint": "lift", "max_velocity_deg_per_s": 40.0 },
+        { "joint": "elbow", "max_acceleration_mm_per_s2": 400.0 }
+    ])));
+    let at = |wanted: &str| {
+        found
+            .iter()
+            .find(|(path, _)| path == wanted)
+            .unwrap_or_else(|| panic!("no problem at {wanted} among {found:?}"))
+            .1
+            .clone()
+    };
+    assert!(at("timing.joint_limits[0].max_velocity_deg_per_s").contains("max_velocity_mm_per_s"));
+    assert!(
+        at("timing.joint_limits[1].max_acceleration_mm_per_s2")
+            .contains("max_acceleration_deg_per_s2")
+    );
+}
+
+#[test]
+fn joint_limits_must_be_above_zero_and_give_at_least_one() {
+    let document = with_joint_limits(json!([
+        { "joint": "shoulder", "max_velocity_deg_per_s": 0.0 },
+        { "joint": "lift", "max_acceleration_mm_per_s2": -5.0 },
+        { "joint": "roll" }
+    ]));
+    let found = paths(&document);
+    for path in [
+        "timing.joint_limits[0].max_velocity_deg_per_s",
+        "timing.joint_limits[1].max_acceleration_mm_per_s2",
+        "timing.joint_limits[2]",
+    ] {
+        assert!(
+            found.iter().any(|p| p == path),
+            "{path} missing from {found:?}"
+        );
+    }
+    let not_a_number = with_joint_limits(json!([
+        { "joint": "shoulder", "max_velocity_deg_per_s": "fast" }
+    ]));
+    assert!(
+        paths(&not_a_number).contains(&"timing.joint_limits[0].max_velocity_deg_per_s".to_string())
+    );
+}

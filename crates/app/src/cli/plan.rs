@@ -10,10 +10,35 @@ use serde_json::json;
 
 use super::Outcome;
 use super::report::{fail, load_scene, print_json, rounded};
-use crate::scene::{Scene, position_to_file_unit, save_text, task_of};
+use crate::scene::{
+    JointLimitDoc, Scene, position_to_file_unit, rate_to_file_unit, save_text, task_of,
+};
 
 /// Interval at which torque use is looked at along the plan, in s.
 pub(crate) const TORQUE_INTERVAL: f64 = 0.01;
+
+/// The velocity and acceleration limits the plan used for each joint, in the scene's units and
+/// under the keys of its `timing.joint_limits` (deg/s and deg/s², or mm/s and mm/s²).
+fn joint_limits(scene: &Scene, plan: &TaskPlan) -> Vec<serde_json::Value> {
+    let kinds = scene.arm.shape.joint_kinds();
+    scene
+        .arm
+        .joints
+        .iter()
+        .zip(&kinds)
+        .zip(plan.limits())
+        .map(|((joint, &kind), limits)| {
+            let (velocity_key, acceleration_key) = JointLimitDoc::keys(kind);
+            let mut entry = serde_json::Map::new();
+            entry.insert("joint".into(), json!(joint.name));
+            let velocity = rate_to_file_unit(kind, limits.velocity);
+            let acceleration = rate_to_file_unit(kind, limits.acceleration);
+            entry.insert(velocity_key.into(), json!(rounded(velocity, 4)));
+            entry.insert(acceleration_key.into(), json!(rounded(acceleration, 4)));
+            serde_json::Value::Object(entry)
+        })
+        .collect()
+}
 
 /// Plans the scene's sequence, or says why not (exit 1 with the reason naming the waypoint).
 pub(crate) fn plan_scene(scene: &Scene, arm: &Arm, json: bool) -> Result<TaskPlan, Outcome> {
@@ -91,6 +116,7 @@ pub(crate) fn run(file: &Path, rate_hz: f64, csv: Option<&Path>, json: bool) -> 
             "cycle_time_s": rounded(cycle_time, 4),
             "shaped_runs": plan.shaped_runs(),
             "peak_torque_use": rounded(peak, 4),
+            "joint_limits": joint_limits(&scene, &plan),
             "segments": segments,
             "waypoints": waypoints,
         }));

@@ -313,7 +313,7 @@ fn read_scene(root: &Value, problems: &mut Vec<Problem>) -> Option<Scene> {
         .filter_map(|(index, value)| read_waypoint(value, &item("waypoints", index), problems))
         .collect();
     let timing = match fields.optional("timing") {
-        Some(value) => read_timing(value, "timing", problems),
+        Some(value) => read_timing(value, "timing", arm.as_ref(), problems),
         None => Some(Timing::default()),
     };
     let workspace = match fields.optional("workspace") {
@@ -770,9 +770,23 @@ fn read_waypoint(value: &Value, path: &str, problems: &mut Vec<Problem>) -> Opti
     })
 }
 
-fn read_timing(value: &Value, path: &str, problems: &mut Vec<Problem>) -> Option<Timing> {
+fn read_timing(
+    value: &Value,
+    path: &str,
+    arm: Option<&ArmDoc>,
+    problems: &mut Vec<Problem>,
+) -> Option<Timing> {
     let mut fields = Fields::of(value, path, problems)?;
     let defaults = Timing::default();
+    let limits_path = fields.at("joint_limits");
+    let joint_limits = fields
+        .optional_list("joint_limits", problems)
+        .iter()
+        .enumerate()
+        .filter_map(|(index, value)| {
+            read_joint_limit(value, &item(&limits_path, index), arm, problems)
+        })
+        .collect();
     let timing = Timing {
         torque_derating_pct: fields.number_or(
             "torque_derating_pct",
@@ -794,9 +808,53 @@ fn read_timing(value: &Value, path: &str, problems: &mut Vec<Problem>) -> Option
                 problems,
             )
             .unwrap_or(defaults.shaping),
+        joint_limits,
     };
     fields.finish(problems);
     Some(timing)
+}
+
+/// One entry of `timing.joint_limits`. Its keys carry the unit of the joint it names (deg or
+/// mm); for a name that is not exactly one joint of the arm (validation reports it), either
+/// unit is read.
+fn read_joint_limit(
+    value: &Value,
+    path: &str,
+    arm: Option<&ArmDoc>,
+    problems: &mut Vec<Problem>,
+) -> Option<JointLimitDoc> {
+    let mut fields = Fields::of(value, path, problems)?;
+    let joint = fields.text("joint", problems);
+    let kind = arm.and_then(|arm| {
+        let kinds = arm.shape.joint_kinds();
+        let mut named = arm
+            .joints
+            .iter()
+            .enumerate()
+            .filter(|(_, j)| j.name == joint);
+        match (named.next(), named.next()) {
+            (Some((index, _)), None) => kinds.get(index).copied(),
+            _ => None,
+        }
+    });
+    let mut read = |pick: fn((&'static str, &'static str)) -> &'static str| match kind {
+        Some(kind) => fields.optional_number(pick(JointLimitDoc::keys(kind)), problems),
+        None => {
+            let revolute =
+                fields.optional_number(pick(JointLimitDoc::keys(JointKindDoc::Revolute)), problems);
+            let prismatic = fields
+                .optional_number(pick(JointLimitDoc::keys(JointKindDoc::Prismatic)), problems);
+            revolute.or(prismatic)
+        }
+    };
+    let max_velocity_deg_or_mm_per_s = read(|(velocity, _)| velocity);
+    let max_acceleration_deg_or_mm_per_s2 = read(|(_, acceleration)| acceleration);
+    fields.finish(problems);
+    Some(JointLimitDoc {
+        joint,
+        max_velocity_deg_or_mm_per_s,
+        max_acceleration_deg_or_mm_per_s2,
+    })
 }
 
 fn read_workspace(value: &Value, path: &str, problems: &mut Vec<Problem>) -> Option<Workspace> {

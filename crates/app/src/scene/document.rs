@@ -347,6 +347,32 @@ pub struct Timing {
     pub damping_ratio: f64,
     /// Input shaping of each run from one stop to the next.
     pub shaping: Shaping,
+    /// Limits the user sets for some joints, replacing those taken from their servos; at most
+    /// one entry per joint.
+    pub joint_limits: Vec<JointLimitDoc>,
+}
+
+/// A user's limits for one joint, replacing those the planner takes from its servo: in deg/s
+/// and deg/s² for a revolute joint, mm/s and mm/s² for a prismatic one (the file's keys say
+/// which: `max_velocity_deg_per_s` or `max_velocity_mm_per_s`, and so on).
+#[derive(Debug, Clone, PartialEq)]
+pub struct JointLimitDoc {
+    /// The joint's name, as in `arm.joints`.
+    pub joint: String,
+    /// Largest speed, in deg/s or mm/s; `None` keeps the one from the servo.
+    pub max_velocity_deg_or_mm_per_s: Option<f64>,
+    /// Largest acceleration, in deg/s² or mm/s²; `None` keeps the one from the servo.
+    pub max_acceleration_deg_or_mm_per_s2: Option<f64>,
+}
+
+impl JointLimitDoc {
+    /// The file's keys for a joint of `kind`: velocity, then acceleration.
+    pub fn keys(kind: JointKindDoc) -> (&'static str, &'static str) {
+        match kind {
+            JointKindDoc::Revolute => ("max_velocity_deg_per_s", "max_acceleration_deg_per_s2"),
+            JointKindDoc::Prismatic => ("max_velocity_mm_per_s", "max_acceleration_mm_per_s2"),
+        }
+    }
 }
 
 /// Input shaping of the moves (Singer & Seering, 1990), designed per joint for the natural
@@ -435,7 +461,8 @@ impl Default for Waypoint {
 
 impl Default for Timing {
     /// 80 % torque derating, 0.5 mm settle band, 1 mm largest overshoot, damping ratio 0.6, no
-    /// shaping (our defaults; a user changes them per scene).
+    /// shaping, every joint's limits from its servo (our defaults; a user changes them per
+    /// scene).
     fn default() -> Timing {
         Timing {
             torque_derating_pct: 80.0,
@@ -443,6 +470,7 @@ impl Default for Timing {
             max_overshoot_mm: 1.0,
             damping_ratio: 0.6,
             shaping: Shaping::None,
+            joint_limits: Vec::new(),
         }
     }
 }

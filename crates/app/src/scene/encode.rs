@@ -82,7 +82,7 @@ pub(crate) fn encode_scene(scene: &Scene) -> Out {
             "waypoints",
             Out::List(scene.waypoints.iter().map(waypoint).collect()),
         )
-        .put("timing", timing(&scene.timing))
+        .put("timing", timing(&scene.timing, &scene.arm))
         .put("workspace", workspace(&scene.workspace))
         .put("link", link(&scene.link))
         .done()
@@ -288,8 +288,8 @@ fn waypoint(waypoint: &Waypoint) -> Out {
         .done()
 }
 
-fn timing(timing: &Timing) -> Out {
-    Obj::new()
+fn timing(timing: &Timing, arm: &ArmDoc) -> Out {
+    let out = Obj::new()
         .num("torque_derating_pct", timing.torque_derating_pct)
         .num("settle_band_mm", timing.settle_band_mm)
         .num("max_overshoot_mm", timing.max_overshoot_mm)
@@ -301,8 +301,34 @@ fn timing(timing: &Timing) -> Out {
                 Shaping::Zv => "zv",
                 Shaping::Zvd => "zvd",
             },
-        )
-        .done()
+        );
+    if timing.joint_limits.is_empty() {
+        // Left out when unused, so that scenes without them read as before.
+        return out.done();
+    }
+    let kinds = arm.shape.joint_kinds();
+    let limits = timing
+        .joint_limits
+        .iter()
+        .map(|limit| {
+            let kind = arm
+                .joints
+                .iter()
+                .position(|joint| joint.name == limit.joint)
+                .and_then(|index| kinds.get(index).copied())
+                .unwrap_or(JointKindDoc::Revolute);
+            let (velocity_key, acceleration_key) = JointLimitDoc::keys(kind);
+            let mut entry = Obj::new().text("joint", &limit.joint);
+            if let Some(velocity) = limit.max_velocity_deg_or_mm_per_s {
+                entry = entry.num(velocity_key, velocity);
+            }
+            if let Some(acceleration) = limit.max_acceleration_deg_or_mm_per_s2 {
+                entry = entry.num(acceleration_key, acceleration);
+            }
+            entry.done()
+        })
+        .collect();
+    out.put("joint_limits", Out::List(limits)).done()
 }
 
 fn workspace(workspace: &Workspace) -> Out {

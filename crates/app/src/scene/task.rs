@@ -2,14 +2,14 @@
 //! and servo model the planner and the dry run use. The one place that turns the timing part of
 //! the file's units (%, ms, mm) into SI.
 
-use armwright_kinematics::Arm;
+use armwright_kinematics::{Arm, MAX_JOINTS};
 use armwright_trajectory::{
     DryRunOptions, LimitSettings, ProfileShape, RetimeTarget, ServoModelOptions, ShaperKind, Task,
     TaskWaypoint, Timing as TaskTiming,
 };
 
-use super::document::{Arrival, GripperState, MoveKind, ProfileKind, Scene, Shaping};
-use super::units::pose_from_file_units;
+use super::document::{Arrival, GripperState, JointKindDoc, MoveKind, ProfileKind, Scene, Shaping};
+use super::units::{pose_from_file_units, rate_from_file_unit};
 
 /// The scene's waypoints as a task for `plan_task` (positions in rad or m, dwells in s, shares
 /// 0–1), with the scene's torque derating and damping ratio.
@@ -33,10 +33,7 @@ pub fn task_of(scene: &Scene, arm: &Arm) -> Task {
                 },
             })
             .collect(),
-        limits: LimitSettings {
-            derating: scene.timing.torque_derating_pct / 100.0,
-            ..LimitSettings::default()
-        },
+        limits: limit_settings_of(scene),
         model,
         shaping: match scene.timing.shaping {
             Shaping::None => None,
@@ -44,6 +41,32 @@ pub fn task_of(scene: &Scene, arm: &Arm) -> Task {
             Shaping::Zvd => Some(ShaperKind::Zvd),
         },
     }
+}
+
+/// How the planner takes limits from the arm: the scene's torque derating (% → share) and the
+/// joints' own limits from `timing.joint_limits` (deg/s, deg/s² or mm/s, mm/s² → SI). An entry
+/// naming no joint, or several, is left out (validation reports it).
+pub fn limit_settings_of(scene: &Scene) -> LimitSettings {
+    let mut settings = LimitSettings {
+        derating: scene.timing.torque_derating_pct / 100.0,
+        ..LimitSettings::default()
+    };
+    let kinds = scene.arm.shape.joint_kinds();
+    for limit in &scene.timing.joint_limits {
+        let mut named =
+            (0..scene.arm.joints.len()).filter(|&j| scene.arm.joints[j].name == limit.joint);
+        let (Some(joint), None) = (named.next(), named.next()) else {
+            continue;
+        };
+        if joint >= MAX_JOINTS {
+            continue;
+        }
+        let kind = kinds.get(joint).copied().unwrap_or(JointKindDoc::Revolute);
+        let si = |value: Option<f64>| value.map(|v| rate_from_file_unit(kind, v));
+        settings.velocity_override[joint] = si(limit.max_velocity_deg_or_mm_per_s);
+        settings.acceleration_override[joint] = si(limit.max_acceleration_deg_or_mm_per_s2);
+    }
+    settings
 }
 
 /// The servo model's settings from the scene: its damping ratio; the rest default.
@@ -91,7 +114,7 @@ pub fn with_timing(scene: &Scene, timing: &TaskTiming) -> Scene {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::scene::{build_arm, load};
+    use crate::scene::{JointLimitDoc, build_arm, load};
 
     fn sample(name: &str) -> Scene {
         let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
@@ -111,6 +134,31 @@ mod tests {
         assert_eq!(converted.speed_share, first.speed_share_pct / 100.0);
         assert!((converted.positions[1] - first.joints_deg_or_mm[1].to_radians()).abs() < 1e-15);
         assert_eq!(converted.straight, first.move_kind == MoveKind::Straight);
+    }
+
+    #[test]
+    fn joint_limits_become_si_overrides_the_plan_uses() {
+        let mut scene = sample("peg-sorter.armwright.json");
+        let limit = |joint: &str, velocity, acceleration| JointLimitDoc {
+            joint: joint.into(),
+            max_velocity_deg_or_mm_per_s: velocity,
+            max_acceleration_deg_or_mm_per_s2: acceleration,
+        };
+        scene.timing.joint_limits = vec![
+            limit("elbow", Some(45.0), None),
+            limit("lift", Some(20.0), Some(150.0)),
+        ];
+        let settings = limit_settings_of(&scene);
+        assert_eq!(settings.velocity_override[1], Some(45f64.to_radians()));
+        assert_eq!(settings.acceleration_override[1], None);
+        assert_eq!(settings.velocity_override[2], Some(0.02));
+        assert_eq!(settings.acceleration_override[2], Some(0.15));
+        assert_eq!(settings.velocity_override[0], None);
+        let arm = build_arm(&scene.arm).expect("sample arm");
+        let plan = armwright_trajectory::plan_task(&arm, &task_of(&scene, &arm)).expect("plans");
+        assert_eq!(plan.limits()[1].velocity, 45f64.to_radians());
+        assert_eq!(plan.limits()[2].velocity, 0.02);
+        assert_eq!(plan.limits()[2].acceleration, 0.15);
     }
 
     #[test]

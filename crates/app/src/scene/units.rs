@@ -33,6 +33,17 @@ pub fn position_to_file_unit(kind: JointKindDoc, value: f64) -> f64 {
     }
 }
 
+/// A joint rate in the file's unit → SI: deg/s → rad/s and mm/s → m/s, and the same for
+/// accelerations (deg/s² → rad/s², mm/s² → m/s²): the factor of the position's unit.
+pub fn rate_from_file_unit(kind: JointKindDoc, value: f64) -> f64 {
+    position_from_file_unit(kind, value)
+}
+
+/// A joint rate in SI (rad/s or m/s, or per s²) → the file's unit (deg or mm per s or s²).
+pub fn rate_to_file_unit(kind: JointKindDoc, value: f64) -> f64 {
+    position_to_file_unit(kind, value)
+}
+
 /// A whole pose in file units → SI, joint kinds from the arm's shape (revolute where the shape
 /// does not say).
 pub fn pose_from_file_units(arm: &ArmDoc, values: &[f64]) -> Vec<f64> {

@@ -26,6 +26,7 @@ pub fn validate(scene: &Scene) -> Vec<Problem> {
     check_arm_masses(&scene.arm, &mut problems);
     check_waypoints(scene, &kinds, &mut problems);
     check_timing(&scene.timing, &mut problems);
+    check_joint_limits(scene, &kinds, &mut problems);
     check_workspace(&scene.workspace, &mut problems);
     check_link(&scene.link, &mut problems);
     problems
@@ -485,6 +486,81 @@ fn check_timing(timing: &Timing, problems: &mut Vec<Problem>) {
         timing.damping_ratio,
         "",
     );
+}
+
+/// Each entry of `timing.joint_limits` names exactly one joint, no joint twice, and gives at
+/// least one limit, each above zero.
+fn check_joint_limits(scene: &Scene, kinds: &[JointKindDoc], problems: &mut Vec<Problem>) {
+    let joints = &scene.arm.joints;
+    for (index, limit) in scene.timing.joint_limits.iter().enumerate() {
+        let path = item("timing.joint_limits", index);
+        let named: Vec<usize> = (0..joints.len())
+            .filter(|&j| joints[j].name == limit.joint)
+            .collect();
+        let kind = match named.as_slice() {
+            [joint] => kinds.get(*joint).copied().unwrap_or(JointKindDoc::Revolute),
+            [] => {
+                let names: Vec<String> = joints.iter().map(|j| format!("\"{}\"", j.name)).collect();
+                problems.push(Problem::new(
+                    child(&path, "joint"),
+                    format!(
+                        "no joint is named \"{}\"; the arm's joints are {}",
+                        limit.joint,
+                        names.join(", ")
+                    ),
+                ));
+                continue;
+            }
+            several => {
+                problems.push(Problem::new(
+                    child(&path, "joint"),
+                    format!(
+                        "{} joints are named \"{}\"; give them different names to set their limits",
+                        several.len(),
+                        limit.joint
+                    ),
+                ));
+                continue;
+            }
+        };
+        if let Some(earlier) = scene.timing.joint_limits[..index]
+            .iter()
+            .position(|other| other.joint == limit.joint)
+        {
+            problems.push(Problem::new(
+                child(&path, "joint"),
+                format!(
+                    "\"{}\" already has limits in timing.joint_limits[{earlier}]",
+                    limit.joint
+                ),
+            ));
+        }
+        let (velocity_key, acceleration_key) = JointLimitDoc::keys(kind);
+        let unit = kind.unit();
+        let values = [
+            (
+                velocity_key,
+                limit.max_velocity_deg_or_mm_per_s,
+                format!("{unit}/s"),
+            ),
+            (
+                acceleration_key,
+                limit.max_acceleration_deg_or_mm_per_s2,
+                format!("{unit}/s²"),
+            ),
+        ];
+        for (key, value, unit) in &values {
+            if let Some(value) = value {
+                positive(problems, child(&path, key), *value, unit);
+            }
+        }
+        if values.iter().all(|(_, value, _)| value.is_none()) {
+            problems.push(Problem::new(
+                path,
+                format!("give {velocity_key}, {acceleration_key} or both"),
+            ));
+        }
+    }
 }
 
 fn check_workspace(workspace: &Workspace, problems: &mut Vec<Problem>) {

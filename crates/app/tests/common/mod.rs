@@ -119,7 +119,8 @@ pub fn scara() -> Value {
             "torque_derating_pct": 75.0,
             "settle_band_mm": 0.3,
             "max_overshoot_mm": 0.8,
-            "damping_ratio": 0.5
+            "damping_ratio": 0.5,
+            "joint_limits": [ { "joint": "lift", "max_velocity_mm_per_s": 60.0 } ]
         },
         "workspace": {
             "table_height_mm": 0.0,
