@@ -433,10 +433,24 @@ impl Measure<'_> {
             if self.following {
                 // Following error changes smoothly along a move: look at it every few ms.
                 let stride = ((FOLLOWING_ERROR_INTERVAL / step).round() as usize).max(1);
+                // The last poses worked out and their error: a sample whose poses lie too close
+                // to them to beat the largest error so far needs no forward kinematics.
+                let mut known: Option<(&[f64], &[f64], f64)> = None;
                 for k in (self.sample_of(move_start)..=self.sample_of(w.arrival)).step_by(stride) {
-                    let actual = tool_point(arm, self.actual_at(k))?;
-                    let commanded = tool_point(arm, self.trace.commanded_at(k - self.first))?;
-                    following_error = following_error.max((actual - commanded).norm());
+                    let actual = self.actual_at(k);
+                    let commanded = self.trace.commanded_at(k - self.first);
+                    if let Some((was_actual, was_commanded, error)) = known {
+                        let reachable = error
+                            + self.reach.bound(was_actual, actual)
+                            + self.reach.bound(was_commanded, commanded)
+                            + BOUND_SLACK;
+                        if reachable < following_error {
+                            continue;
+                        }
+                    }
+                    let error = (tool_point(arm, actual)? - tool_point(arm, commanded)?).norm();
+                    following_error = following_error.max(error);
+                    known = Some((actual, commanded, error));
                 }
             }
             let peak_effort = self
