@@ -205,3 +205,56 @@ fn a_stop_latched_before_connecting_stops_the_device_connected_after() {
         device_mode(editor) == Some(DeviceMode::Stopped)
     });
 }
+
+#[test]
+fn pause_holds_the_device_and_resume_carries_on() {
+    let (mut harness, _requests) = linked_editor("link-pause");
+    harness.get_by_label("Connect").click();
+    step_until(&mut harness, "the connection", |editor| {
+        link_state(editor) == Some(LinkState::Idle)
+    });
+    harness.get_by_label(ACKNOWLEDGE_LABEL).click();
+    harness.run_steps(2);
+    harness.get_by_label("Stream sequence").click();
+    step_until(&mut harness, "setpoints on the way", |editor| {
+        frames_sent(editor) > 10
+    });
+    harness.get_by_label("Pause stream").click();
+    step_until(&mut harness, "the pause", |editor| {
+        editor.device().view().phase == StreamPhase::Paused
+            && device_mode(editor) == Some(DeviceMode::Keeping)
+    });
+    let (pushed, total) = harness.state().device().view().progress;
+    assert!(pushed < total, "paused part way: {pushed} of {total}");
+    let sent = frames_sent(harness.state());
+    std::thread::sleep(Duration::from_millis(100));
+    harness.run_steps(2);
+    assert_eq!(
+        frames_sent(harness.state()),
+        sent,
+        "nothing sent while paused"
+    );
+    harness.get_by_label("Resume stream").click();
+    step_until(&mut harness, "streaming again", |editor| {
+        frames_sent(editor) > sent + 5 && device_mode(editor) == Some(DeviceMode::Driving)
+    });
+    assert!(harness.state().device().view().progress.0 > pushed);
+}
+
+#[test]
+fn serial_ports_are_listed_off_the_ui_thread() {
+    let (mut harness, _requests) = linked_editor("link-ports");
+    harness.get_by_label("List serial ports").click();
+    step_until(&mut harness, "the port listing", |editor| {
+        editor
+            .state
+            .messages
+            .iter()
+            .any(|message| message.text.ends_with("serial port(s) found"))
+    });
+    // Every port found is offered with its description.
+    let ports = harness.state().device().view().ports.clone();
+    for port in ports {
+        harness.get_by_label_contains(&port.path);
+    }
+}

@@ -180,13 +180,13 @@ fn stream_controls(ui: &mut Ui, state: &EditorState, view: &LinkView) -> Command
     let may_move = state.caution_acknowledged && link_idle;
     ui.horizontal(|ui| match view.phase {
         StreamPhase::Streaming => {
-            if ui.button("Pause").clicked() {
+            if ui.button("Pause stream").clicked() {
                 command = Command::Link(LinkAction::Pause);
             }
         }
         StreamPhase::Paused => {
             if ui
-                .add_enabled(may_move, egui::Button::new("Resume"))
+                .add_enabled(may_move, egui::Button::new("Resume stream"))
                 .clicked()
             {
                 command = Command::Link(LinkAction::Resume);
@@ -291,4 +291,73 @@ fn device_pose(ui: &mut Ui, state: &EditorState, pose: &[f64]) {
             ui.end_row();
         }
     });
+}
+
+#[cfg(test)]
+mod tests {
+    use armwright_link::{SimDevice, SimDeviceConfig, StreamStats};
+    use egui_kittest::Harness;
+    use egui_kittest::kittest::{NodeT, Queryable};
+
+    use super::*;
+    use crate::editor::device::Connection;
+    use crate::editor::sample::sample_scene;
+
+    type PanelState = (EditorState, LinkView, Vec<Command>);
+
+    fn connected() -> Harness<'static, PanelState> {
+        let view = LinkView {
+            connection: Some(Connection {
+                name: "simulated device".into(),
+                info: SimDevice::new(SimDeviceConfig::default()).info(),
+            }),
+            stats: Some(StreamStats::default()),
+            ..LinkView::default()
+        };
+        Harness::new_ui_state(
+            |ui, (state, view, commands): &mut PanelState| {
+                let command = link(ui, state, view);
+                if command != Command::None {
+                    commands.push(command);
+                }
+            },
+            (EditorState::new(sample_scene(), None), view, Vec::new()),
+        )
+    }
+
+    #[test]
+    fn the_caution_comes_before_the_first_stream() {
+        let mut harness = connected();
+        harness.run();
+        harness.get_by_label_contains("A software stop is not a safety device");
+        assert!(
+            harness
+                .get_by_label("Stream sequence")
+                .accesskit_node()
+                .is_disabled()
+        );
+        harness.get_by_label(ACKNOWLEDGE_LABEL).click();
+        harness.run();
+        assert_eq!(harness.state().2, vec![Command::AcknowledgeCaution]);
+
+        harness.state_mut().0.caution_acknowledged = true;
+        harness.run();
+        assert!(harness.query_by_label(ACKNOWLEDGE_LABEL).is_none());
+        harness.get_by_label("Stream sequence").click();
+        harness.run();
+        assert_eq!(
+            harness.state().2.last(),
+            Some(&Command::Link(LinkAction::Stream))
+        );
+    }
+
+    #[test]
+    fn the_device_pose_is_shown_in_the_scene_units() {
+        let mut harness = connected();
+        let pose = harness.state().0.pose.clone();
+        harness.state_mut().0.device_pose = Some(pose.clone());
+        harness.run();
+        let first = pose[0].to_degrees();
+        harness.get_by_label(&format!("{first:.2} °"));
+    }
 }
