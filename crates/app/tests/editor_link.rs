@@ -258,3 +258,27 @@ fn serial_ports_are_listed_off_the_ui_thread() {
         harness.get_by_label_contains(&port.path);
     }
 }
+
+#[test]
+fn the_device_pose_is_withdrawn_when_the_scene_has_another_arm() {
+    let (mut harness, _requests) = linked_editor("link-arm-changed");
+    harness.get_by_label("Connect").click();
+    let joints = harness.state().state.joint_count();
+    step_until(&mut harness, "the device's arm pose", |editor| {
+        editor.state.device_pose.as_ref().map(Vec::len) == Some(joints)
+    });
+    let other = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("../../sample-scenes/cube-stacker.armwright.json");
+    let ctx = harness.ctx.clone();
+    let frame = ctx.cumulative_frame_nr();
+    harness
+        .state_mut()
+        .apply(&ctx, armwright::editor::Command::OpenPath(other), frame);
+    step_until(&mut harness, "the other scene", |editor| {
+        editor.state.file_path.is_some()
+    });
+    harness.run_steps(2);
+    assert_eq!(harness.state().state.device_pose, None);
+    assert!(harness.state().device().view().arm_changed);
+    harness.get_by_label_contains("Disconnect and connect again");
+}

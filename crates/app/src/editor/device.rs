@@ -94,6 +94,9 @@ pub struct LinkView {
     pub clamped: usize,
     /// Largest rounding error of the planned setpoints, in degrees.
     pub worst_rounding_deg: f64,
+    /// The scene's arm changed since the simulated device was connected: it still moves the
+    /// arm it was connected with.
+    pub arm_changed: bool,
 }
 
 /// Something the worker reports; the editor turns messages into status lines.
@@ -152,6 +155,8 @@ pub struct DeviceLink {
     stop: Arc<StopShared>,
     view: LinkView,
     simulated: Option<Arc<Mutex<SimDevice>>>,
+    /// The arm handed over with the newest connect request.
+    connected_arm: Option<Arm>,
     worker: Option<JoinHandle<()>>,
 }
 
@@ -193,6 +198,7 @@ impl DeviceLink {
             stop,
             view: LinkView::default(),
             simulated: None,
+            connected_arm: None,
             worker: handle,
         }
     }
@@ -225,20 +231,26 @@ impl DeviceLink {
             .unwrap_or_else(PoisonError::into_inner)
     }
 
-    /// Takes what the worker has published since the last frame; returns its reports. Quick:
-    /// two short locks, no waiting on the worker.
-    pub(crate) fn poll(&mut self) -> Vec<Report> {
+    /// Takes what the worker has published since the last frame; returns its reports. `arm`
+    /// is the scene's arm now, to tell whether the simulated device still moves the same one.
+    /// Quick: one short lock, no waiting on the worker.
+    pub(crate) fn poll(&mut self, arm: Option<&Arm>) -> Vec<Report> {
         let mut published = self
             .published
             .lock()
             .unwrap_or_else(PoisonError::into_inner);
         self.view.clone_from(&published.view);
         self.simulated.clone_from(&published.simulated);
+        self.view.arm_changed = self.simulated.is_some() && self.connected_arm.as_ref() != arm;
         std::mem::take(&mut published.reports)
     }
 
-    /// The simulated device's arm pose (rad or m per joint), if connected to one with an arm.
+    /// The simulated device's arm pose (rad or m per joint), if connected to one that moves
+    /// the scene's arm as of the last [`DeviceLink::poll`].
     pub fn simulated_arm_pose(&self) -> Option<Vec<f64>> {
+        if self.view.arm_changed {
+            return None;
+        }
         let device = self.simulated.as_ref()?;
         let device = device.lock().unwrap_or_else(PoisonError::into_inner);
         device.arm_positions().map(<[f64]>::to_vec)
@@ -247,7 +259,7 @@ impl DeviceLink {
     /// Hands `action` to the worker with what it needs from the scene: the scene and its arm,
     /// the current pose (where a simulated arm starts).
     pub(crate) fn request(
-        &self,
+        &mut self,
         action: LinkAction,
         scene: &Scene,
         arm: Option<&Arm>,
@@ -255,14 +267,17 @@ impl DeviceLink {
     ) {
         let request = match action {
             LinkAction::ListPorts => Request::ListPorts,
-            LinkAction::Connect(device) => Request::Connect {
-                device,
-                baud: scene.link.baud,
-                rate_hz: scene.link.rate_hz,
-                arm: arm.cloned().map(Box::new),
-                start: pose.to_vec(),
-                servo: crate::scene::servo_model_of(scene),
-            },
+            LinkAction::Connect(device) => {
+                self.connected_arm = arm.cloned();
+                Request::Connect {
+                    device,
+                    baud: scene.link.baud,
+                    rate_hz: scene.link.rate_hz,
+                    arm: arm.cloned().map(Box::new),
+                    start: pose.to_vec(),
+                    servo: crate::scene::servo_model_of(scene),
+                }
+            }
             LinkAction::Disconnect => Request::Disconnect,
             LinkAction::Stream => match arm {
                 Some(arm) => Request::Stream {

@@ -25,7 +25,7 @@ mod views;
 pub use command::{Command, Outside, WaypointField, apply};
 pub use device::{Connection, DeviceLink, LinkAction, LinkStopLink, LinkView, StreamPhase};
 pub use estop::{ChannelStopLink, STOP_KEY, STOP_KEY_NAME, StopLink, StopRequest};
-pub use panels::{ACKNOWLEDGE_LABEL, CAUTION, EMERGENCY_STOP_LABEL, STREAM_CAUTION};
+pub use panels::{ACKNOWLEDGE_LABEL, CAUTION, EMERGENCY_STOP_LABEL};
 pub use recovery::Recovery;
 pub use sample::sample_scene;
 pub use state::{
@@ -152,7 +152,7 @@ impl Editor {
         &self.device
     }
 
-    fn request_link(&self, action: LinkAction) {
+    fn request_link(&mut self, action: LinkAction) {
         self.device.request(
             action,
             &self.state.scene,
@@ -275,7 +275,7 @@ impl Editor {
     /// Takes what the device link published: its messages, and the arm's pose as a simulated
     /// device moves it. Keeps the window redrawing while a device is connected.
     fn follow_device(&mut self, ctx: &egui::Context) {
-        for report in self.device.poll() {
+        for report in self.device.poll(self.state.arm.as_ref()) {
             match report {
                 device::Report::Info(text) => self.state.say(Level::Info, text),
                 device::Report::Problem(text) => self.state.say(Level::Error, text),

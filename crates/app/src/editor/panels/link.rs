@@ -11,10 +11,7 @@ use crate::editor::device::{LinkAction, LinkView, StreamPhase};
 use crate::editor::state::EditorState;
 use crate::scene::{Device, pose_to_file_units};
 
-/// The caution shown before the first stream of a session.
-pub const STREAM_CAUTION: &str = "A software stop is not a safety device. Keep a hard power \
-cut-off within reach. Keep clear of the arm's reach while it is powered. Defer to local codes \
-and licensed practice.";
+use super::status_bar::CAUTION;
 
 /// The button that acknowledges the caution.
 pub const ACKNOWLEDGE_LABEL: &str = "I have read the caution";
@@ -83,6 +80,9 @@ pub fn link(ui: &mut Ui, state: &EditorState, view: &LinkView) -> Command {
     if let Some(pose) = &state.device_pose {
         ui.separator();
         device_pose(ui, state, pose);
+    } else if view.arm_changed {
+        ui.separator();
+        ui.label("The arm changed since connecting: the simulated device still moves the old one. Disconnect and connect again to move this one.");
     }
     command
 }
@@ -167,7 +167,7 @@ fn stream_controls(ui: &mut Ui, state: &EditorState, view: &LinkView) -> Command
                         .strong()
                         .color(Color32::from_rgb(255, 200, 0)),
                 );
-                ui.label(STREAM_CAUTION);
+                ui.label(CAUTION);
                 if ui.button(ACKNOWLEDGE_LABEL).clicked() {
                     command = Command::AcknowledgeCaution;
                 }

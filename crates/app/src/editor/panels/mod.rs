@@ -17,7 +17,7 @@ mod top_bar;
 
 pub use dialogs::dialogs;
 pub use joint_controls::joint_controls;
-pub use link::{ACKNOWLEDGE_LABEL, STREAM_CAUTION, link};
+pub use link::{ACKNOWLEDGE_LABEL, link};
 pub use sequence::sequence;
 pub use status_bar::{CAUTION, status_bar};
 pub use tool_point::tool_point;
