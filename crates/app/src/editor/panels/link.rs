@@ -4,7 +4,7 @@
 
 use egui::{Color32, Grid, RichText, Ui};
 
-use armwright_link::{Faults, LinkState};
+use armwright_link::{DeviceMode, Faults, LinkState};
 
 use crate::editor::command::Command;
 use crate::editor::device::{LinkAction, LinkView, StreamPhase};
@@ -80,6 +80,14 @@ pub fn link(ui: &mut Ui, state: &EditorState, view: &LinkView) -> Command {
     if let Some(pose) = &state.device_pose {
         ui.separator();
         device_pose(ui, state, pose);
+        let limp = view
+            .stats
+            .as_ref()
+            .and_then(|stats| stats.last_status)
+            .is_some_and(|status| status.mode == DeviceMode::Limp);
+        if limp {
+            ui.label("No pulses: the servos are limp and the arm sags or falls under gravity.");
+        }
     } else if view.arm_changed {
         ui.separator();
         ui.label("The arm changed since connecting: the simulated device still moves the old one. Disconnect and connect again to move this one.");
@@ -101,10 +109,10 @@ fn device_info(ui: &mut Ui, view: &LinkView, connection: &crate::editor::device:
         ui.end_row();
         ui.label("pulse range");
         ui.label(format!(
-            "{:.1}–{:.1} µs in {} ns steps",
+            "{:.1}–{:.1} µs in {} µs steps",
             info.us_from_units(info.min_pulse_units),
             info.us_from_units(info.max_pulse_units),
-            info.pulse_unit_ns
+            info.us_from_units(1)
         ));
         ui.end_row();
         ui.label("frame period");
