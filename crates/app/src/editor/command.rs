@@ -792,4 +792,72 @@ mod tests {
         assert!(jumps(&kinds, &[0.0, 0.0], &[2.0, 0.0]));
         assert!(jumps(&kinds, &[0.0, 0.0], &[0.0, 0.2]));
     }
+
+    #[test]
+    fn streaming_waits_for_the_caution_and_for_a_cleared_stop() {
+        let mut state = EditorState::new(sample_scene(), None);
+        assert!(run(&mut state, Command::Link(LinkAction::Stream)).is_empty());
+        assert!(
+            state
+                .messages
+                .last()
+                .is_some_and(|m| m.text.contains("caution"))
+        );
+        let _ = run(&mut state, Command::AcknowledgeCaution);
+        assert_eq!(
+            run(&mut state, Command::Link(LinkAction::Stream)),
+            vec![Outside::Link(LinkAction::Stream)]
+        );
+        let _ = run(&mut state, Command::EmergencyStop(StopSource::Button));
+        assert!(run(&mut state, Command::Link(LinkAction::Resume)).is_empty());
+        assert!(
+            state
+                .messages
+                .last()
+                .is_some_and(|m| m.text.contains("latched"))
+        );
+        // Connecting and pausing do not move the arm, so they go through.
+        assert_eq!(
+            run(&mut state, Command::Link(LinkAction::Pause)),
+            vec![Outside::Link(LinkAction::Pause)]
+        );
+    }
+
+    #[test]
+    fn the_confirmed_reset_reaches_the_stop_link() {
+        struct Resets(usize);
+        impl StopLink for Resets {
+            fn send_stop(&mut self, _request: StopRequest) {}
+            fn confirm_reset(&mut self, _confirmation: ResetConfirmation) {
+                self.0 += 1;
+            }
+        }
+        let mut state = EditorState::new(sample_scene(), None);
+        let mut link = Resets(0);
+        let mut outside = Vec::new();
+        apply(
+            &mut state,
+            Command::EmergencyStop(StopSource::Key),
+            &mut link,
+            1,
+            &mut outside,
+        );
+        apply(
+            &mut state,
+            Command::RequestStopReset,
+            &mut link,
+            2,
+            &mut outside,
+        );
+        assert_eq!(link.0, 0, "asking is not resetting");
+        apply(
+            &mut state,
+            Command::ConfirmStopReset,
+            &mut link,
+            3,
+            &mut outside,
+        );
+        assert_eq!(link.0, 1);
+        assert_eq!(state.stop, StopState::Clear);
+    }
 }
