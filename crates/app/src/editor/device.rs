@@ -344,12 +344,14 @@ impl std::fmt::Debug for Request {
 
 impl StopLink for LinkStopLink {
     fn send_stop(&mut self, request: StopRequest) {
-        self.stop.latched.store(true, Ordering::SeqCst);
+        // Latched under the handle's lock, so a link being connected either gets its handle
+        // raised here or sees the latch as it stores the handle.
         let handle = self
             .stop
             .handle
             .lock()
             .unwrap_or_else(PoisonError::into_inner);
+        self.stop.latched.store(true, Ordering::SeqCst);
         if let Some(stop) = handle.as_ref() {
             stop.trigger();
             *self
@@ -527,15 +529,17 @@ impl Worker {
         match connected {
             Ok(link) => {
                 let stop = link.emergency_stop();
+                let mut handle = self
+                    .stop
+                    .handle
+                    .lock()
+                    .unwrap_or_else(PoisonError::into_inner);
                 if self.stop.latched.load(Ordering::SeqCst) {
                     // The editor is stopped: so is a device connected now.
                     stop.trigger();
                 }
-                *self
-                    .stop
-                    .handle
-                    .lock()
-                    .unwrap_or_else(PoisonError::into_inner) = Some(stop);
+                *handle = Some(stop);
+                drop(handle);
                 let info = link.device();
                 self.link = Some(link);
                 let mut published = self.lock();
