@@ -73,7 +73,7 @@ pub struct Connection {
     pub info: DeviceInfo,
 }
 
-/// Everything the link panel shows; plain data, refreshed once a frame by [`DeviceLink::poll`].
+/// Everything the link panel shows; plain data, refreshed once a frame by the editor.
 #[derive(Debug, Clone, Default)]
 pub struct LinkView {
     /// The serial ports found by the last listing.
@@ -211,7 +211,7 @@ impl DeviceLink {
         }
     }
 
-    /// What the link panel shows, as of the last [`DeviceLink::poll`].
+    /// What the link panel shows, as of the editor's last look at the link (once a frame).
     pub fn view(&self) -> &LinkView {
         &self.view
     }
@@ -246,7 +246,7 @@ impl DeviceLink {
     }
 
     /// The simulated device's arm pose (rad or m per joint), if connected to one that moves
-    /// the scene's arm as of the last [`DeviceLink::poll`].
+    /// the scene's arm as of the editor's last look at the link (once a frame).
     pub fn simulated_arm_pose(&self) -> Option<Vec<f64>> {
         if self.view.arm_changed {
             return None;
