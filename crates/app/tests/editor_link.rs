@@ -20,6 +20,9 @@ use editor_common::{harness, options, scratch};
 type EditorHarness = Harness<'static, Editor>;
 
 /// An editor on the sample scene, not yet connected, with the receiving end of its stop log.
+///
+/// The link panel's buttons are pressed through accessibility actions: the panel grows as the
+/// device's status arrives, so a pointer aimed in one frame may miss in the next.
 fn linked_editor(name: &str) -> (EditorHarness, Receiver<StopRequest>) {
     let dir = scratch(name);
     let (log, requests) = ChannelStopLink::new();
@@ -71,7 +74,7 @@ fn connect_acknowledge_stream_stop_by_key_reset_and_stream_again() {
     let (mut harness, requests) = linked_editor("link-flow");
 
     // Connect to the simulated device (the default choice).
-    harness.get_by_label("Connect").click();
+    harness.get_by_label("Connect").click_accesskit();
     step_until(&mut harness, "the connection", |editor| {
         link_state(editor) == Some(LinkState::Idle)
     });
@@ -83,16 +86,16 @@ fn connect_acknowledge_stream_stop_by_key_reset_and_stream_again() {
     // Streaming waits for the caution: the button is disabled, and clicking it sends nothing.
     let stream = harness.get_by_label("Stream sequence");
     assert!(stream.accesskit_node().is_disabled());
-    stream.click();
+    stream.click_accesskit();
     harness.run_steps(5);
     assert_eq!(harness.state().device().view().phase, StreamPhase::Idle);
     assert_eq!(frames_sent(harness.state()), 0);
-    harness.get_by_label(ACKNOWLEDGE_LABEL).click();
+    harness.get_by_label(ACKNOWLEDGE_LABEL).click_accesskit();
     harness.run_steps(2);
     assert!(harness.state().state.caution_acknowledged);
 
     // Stream.
-    harness.get_by_label("Stream sequence").click();
+    harness.get_by_label("Stream sequence").click_accesskit();
     step_until(&mut harness, "setpoints on the way", |editor| {
         frames_sent(editor) > 10
     });
@@ -173,7 +176,7 @@ fn connect_acknowledge_stream_stop_by_key_reset_and_stream_again() {
     assert_eq!(device_mode(harness.state()), Some(DeviceMode::Keeping));
 
     // Streaming works again.
-    harness.get_by_label("Stream sequence").click();
+    harness.get_by_label("Stream sequence").click_accesskit();
     step_until(&mut harness, "streaming again", |editor| {
         frames_sent(editor) > sent + 10
     });
@@ -200,7 +203,7 @@ fn a_stop_latched_before_connecting_stops_the_device_connected_after() {
     });
     harness.step();
     assert!(harness.state().device().last_stop_handed().is_none());
-    harness.get_by_label("Connect").click();
+    harness.get_by_label("Connect").click_accesskit();
     step_until(&mut harness, "the device latched", |editor| {
         device_mode(editor) == Some(DeviceMode::Stopped)
     });
@@ -209,17 +212,17 @@ fn a_stop_latched_before_connecting_stops_the_device_connected_after() {
 #[test]
 fn pause_holds_the_device_and_resume_carries_on() {
     let (mut harness, _requests) = linked_editor("link-pause");
-    harness.get_by_label("Connect").click();
+    harness.get_by_label("Connect").click_accesskit();
     step_until(&mut harness, "the connection", |editor| {
         link_state(editor) == Some(LinkState::Idle)
     });
-    harness.get_by_label(ACKNOWLEDGE_LABEL).click();
+    harness.get_by_label(ACKNOWLEDGE_LABEL).click_accesskit();
     harness.run_steps(2);
-    harness.get_by_label("Stream sequence").click();
+    harness.get_by_label("Stream sequence").click_accesskit();
     step_until(&mut harness, "setpoints on the way", |editor| {
         frames_sent(editor) > 10
     });
-    harness.get_by_label("Pause stream").click();
+    harness.get_by_label("Pause stream").click_accesskit();
     step_until(&mut harness, "the pause", |editor| {
         editor.device().view().phase == StreamPhase::Paused
             && device_mode(editor) == Some(DeviceMode::Keeping)
@@ -234,7 +237,7 @@ fn pause_holds_the_device_and_resume_carries_on() {
         sent,
         "nothing sent while paused"
     );
-    harness.get_by_label("Resume stream").click();
+    harness.get_by_label("Resume stream").click_accesskit();
     step_until(&mut harness, "streaming again", |editor| {
         frames_sent(editor) > sent + 5 && device_mode(editor) == Some(DeviceMode::Driving)
     });
@@ -244,7 +247,7 @@ fn pause_holds_the_device_and_resume_carries_on() {
 #[test]
 fn serial_ports_are_listed_off_the_ui_thread() {
     let (mut harness, _requests) = linked_editor("link-ports");
-    harness.get_by_label("List serial ports").click();
+    harness.get_by_label("List serial ports").click_accesskit();
     step_until(&mut harness, "the port listing", |editor| {
         editor
             .state
@@ -262,7 +265,7 @@ fn serial_ports_are_listed_off_the_ui_thread() {
 #[test]
 fn the_device_pose_is_withdrawn_when_the_scene_has_another_arm() {
     let (mut harness, _requests) = linked_editor("link-arm-changed");
-    harness.get_by_label("Connect").click();
+    harness.get_by_label("Connect").click_accesskit();
     let joints = harness.state().state.joint_count();
     step_until(&mut harness, "the device's arm pose", |editor| {
         editor.state.device_pose.as_ref().map(Vec::len) == Some(joints)
