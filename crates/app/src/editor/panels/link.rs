@@ -298,6 +298,15 @@ fn device_pose(ui: &mut Ui, state: &EditorState, pose: &[f64]) {
             ui.label(format!("{value:.2} {unit}"));
             ui.end_row();
         }
+        let tool = state
+            .arm()
+            .and_then(|arm| armwright_kinematics::tool_pose(arm, pose).ok());
+        if let Some(tool) = tool {
+            let mm = tool.translation.vector * 1e3;
+            ui.label("tool point");
+            ui.label(format!("x {:.1}  y {:.1}  z {:.1} mm", mm.x, mm.y, mm.z));
+            ui.end_row();
+        }
     });
 }
 
@@ -367,5 +376,10 @@ mod tests {
         harness.run();
         let first = pose[0].to_degrees();
         harness.get_by_label(&format!("{first:.2} °"));
+        let tool = harness.state().0.tool_point().expect("tool point") * 1e3;
+        harness.get_by_label(&format!(
+            "x {:.1}  y {:.1}  z {:.1} mm",
+            tool.x, tool.y, tool.z
+        ));
     }
 }
