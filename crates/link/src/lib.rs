@@ -1,6 +1,8 @@
 //! Armwright's link to a servo-pulse device: our own line protocol (`PROTOCOL.md`), a
 //! streaming thread with deadline timing and an emergency stop, serial-port discovery and
-//! a simulated device.
+//! a simulated device, which can move an arm's servo model (from `armwright-trajectory`)
+//! with the pulses it sends, so a user sees the arm as the device moves it
+//! ([`SimDevice::with_arm`], [`SimDevice::arm_positions`]).
 //!
 //! Conventions: pulse widths on the wire are integers in the device's pulse unit (announced
 //! in its greeting, 1 µs by default); a number in µs or ns says so in its name
@@ -16,6 +18,7 @@ mod estop; // emergency-stop request handle and the reset confirmation
 mod port; // transports (serial port, pty, simulated device) and port discovery
 mod protocol; // line protocol: encoder and parser for both directions, CRC, line assembly
 mod pulse; // joint position → pulse width through the calibration, rounding and clamping
+mod sim_arm; // the arm as the simulated device moves it: pulses → servo model, frame by frame
 mod sim_device; // in-process simulated device with watchdog, clamping and stop latch
 mod stream; // streaming thread: schedule, flow control, stop path, link watch, statistics
 
@@ -32,5 +35,6 @@ pub use crate::protocol::{
 pub use crate::pulse::{
     ArmSetpoint, JointPulse, PulseError, arm_setpoint, gripper_pulse, joint_pulse,
 };
+pub use crate::sim_arm::SimArmError;
 pub use crate::sim_device::{SimDevice, SimDeviceConfig};
 pub use crate::stream::{Link, LinkEvent, LinkState, StreamOptions, StreamStats};

@@ -89,8 +89,14 @@ pub struct SimTransport {
 impl SimTransport {
     /// A simulated device powered up now.
     pub fn new(config: SimDeviceConfig) -> Self {
+        Self::with_device(SimDevice::new(config))
+    }
+
+    /// `device` (for example one built with [`SimDevice::with_arm`]) on the wall clock from
+    /// now: its clock reads the time since this call.
+    pub fn with_device(device: SimDevice) -> Self {
         Self {
-            device: Arc::new(Mutex::new(SimDevice::new(config))),
+            device: Arc::new(Mutex::new(device)),
             start: Instant::now(),
         }
     }
@@ -150,6 +156,15 @@ impl SimPty {
     /// # Errors
     /// [`LinkError::Pty`] when the operating system cannot make one.
     pub fn spawn(config: SimDeviceConfig) -> Result<Self, LinkError> {
+        Self::spawn_device(SimDevice::new(config))
+    }
+
+    /// Puts `device` (for example one built with [`SimDevice::with_arm`]) behind a new
+    /// pseudo-terminal, on the wall clock from now.
+    ///
+    /// # Errors
+    /// [`LinkError::Pty`] when the operating system cannot make one.
+    pub fn spawn_device(device: SimDevice) -> Result<Self, LinkError> {
         use std::sync::atomic::{AtomicBool, Ordering};
         let pty_error = |error: serialport::Error| LinkError::Pty {
             reason: error.to_string(),
@@ -160,7 +175,7 @@ impl SimPty {
         })?;
         serialport::SerialPort::set_timeout(&mut master, Duration::from_millis(1))
             .map_err(pty_error)?;
-        let device = Arc::new(Mutex::new(SimDevice::new(config)));
+        let device = Arc::new(Mutex::new(device));
         let running = Arc::new(AtomicBool::new(true));
         let thread = {
             let device = Arc::clone(&device);

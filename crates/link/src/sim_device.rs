@@ -1,14 +1,19 @@
 //! The simulated device: the protocol of `PROTOCOL.md` as the reference firmware speaks it,
-//! in process, driven by a clock the caller passes in, so tests are deterministic.
+//! in process, driven by a clock the caller passes in, so tests are deterministic. Given an
+//! arm, it also moves that arm's servo model with the pulses it sends.
 
 use std::collections::VecDeque;
 use std::time::Duration;
+
+use armwright_kinematics::Arm;
+use armwright_trajectory::ServoModelOptions;
 
 use crate::protocol::{
     Ack, AckOutcome, Assembled, ChannelValues, DeviceInfo, DeviceLine, DeviceMessage, DeviceMode,
     DeviceStatus, Faults, FirmwareVersion, HostLine, HostMessage, LineAssembler, LineBuf,
     PROTOCOL_VERSION,
 };
+use crate::sim_arm::{SimArm, SimArmError};
 
 /// How a simulated device is built: what it announces and its timing.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -71,6 +76,7 @@ pub struct SimDevice {
     status_pending: bool,
     last_status: Option<Duration>,
     now: Duration,
+    arm: Option<Box<SimArm>>,
 }
 
 impl SimDevice {
@@ -109,9 +115,49 @@ impl SimDevice {
             status_pending: false,
             last_status: None,
             now: Duration::ZERO,
+            arm: None,
         };
         device.send(DeviceMessage::Greeting(info));
         device
+    }
+
+    /// This device driving `arm`'s servo model (see [`armwright_trajectory::ServoStepper`]):
+    /// from then on every pulse frame turns the widths it sends (joint `i` on channel `i`,
+    /// the gripper on the last channel) back into commanded joint positions through each
+    /// joint's calibration and runs the model for that frame under gravity, with the payload
+    /// while the gripper channel is nearer its closed width. The arm starts at rest at
+    /// `start` (rad or m, one per joint). `options` sets the model; its pulse frame and
+    /// resolution are the device's.
+    ///
+    /// While the device holds (emergency stop, watchdog, hold) the model keeps the last
+    /// pulses and stays where they put it; while it is limp (power-up, release) the motors
+    /// do nothing, so an unbalanced arm falls until it hangs at rest or a joint reaches its
+    /// limit, which the model takes as a hard end stop (it knows no table or other obstacle).
+    ///
+    /// # Errors
+    /// [`SimArmError::TooFewChannels`] when the device has fewer channels than the arm's
+    /// joints and gripper; [`SimArmError::Model`] when `start` does not have one position
+    /// per joint or the model's step does not divide the device's frame.
+    pub fn with_arm(
+        mut self,
+        arm: Arm,
+        options: &ServoModelOptions,
+        start: &[f64],
+    ) -> Result<Self, SimArmError> {
+        self.arm = Some(Box::new(SimArm::new(arm, options, start, &self.info)?));
+        Ok(self)
+    }
+
+    /// The arm's joint positions as the device has moved them, rad (revolute) or m
+    /// (prismatic), at the start of the newest pulse frame; `None` without an arm.
+    pub fn arm_positions(&self) -> Option<&[f64]> {
+        self.arm.as_deref().map(SimArm::positions)
+    }
+
+    /// The arm's tool point as the device has moved it, in the base frame, in m; `None`
+    /// without an arm.
+    pub fn arm_tool_point(&self) -> Option<[f64; 3]> {
+        self.arm.as_deref().and_then(SimArm::tool_point)
     }
 
     /// What the device announces in its greeting.
@@ -208,6 +254,12 @@ impl SimDevice {
         while self.next_frame <= self.now {
             let frame_start = self.next_frame;
             self.check_watchdog(frame_start.max(watchdog_due).min(self.now));
+            if self.frames > 0
+                && let Some(arm) = &mut self.arm
+            {
+                // The frame that ends here ran with the pulses sent during it.
+                arm.run_frame(self.pulses.as_ref(), &self.info);
+            }
             if self.mode == DeviceMode::Driving
                 && let Some(next) = self.next_pulses.take()
             {

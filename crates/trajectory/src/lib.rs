@@ -66,7 +66,8 @@ pub use crate::sequence::{
     plan_sequence, plan_sequence_shaped,
 };
 pub use crate::servo_sim::{
-    JointLoad, MAX_RUN_DURATION, ServoModel, ServoModelOptions, ServoSimError, ServoTrace, simulate,
+    JointLoad, MAX_RUN_DURATION, ServoModel, ServoModelOptions, ServoSimError, ServoStepper,
+    ServoTrace, simulate,
 };
 pub use crate::shaping::{Impulse, ShapedProfile, Shaper, ShaperKind};
 pub use crate::straight_move::{LINE_TOLERANCE, StraightMoveError, straight_path};

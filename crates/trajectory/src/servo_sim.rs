@@ -454,6 +454,96 @@ where
     (trace, taken)
 }
 
+/// The servo models of an arm's joints run one pulse frame at a time, for a caller that keeps
+/// its own clock (a simulated device turning received pulses into motion) rather than handing
+/// [`simulate`] a whole run.
+///
+/// The equations are [`simulate`]'s. A frame is either driven (every joint's pulse held for the
+/// frame) or limp (no pulses: the motors neither drive nor brake, so only gear damping, dry
+/// friction and gravity act; an unbalanced arm falls). Joint limits act as hard end stops:
+/// a joint that reaches one stops there (the model knows no table or other obstacle).
+#[derive(Debug, Clone)]
+pub struct ServoStepper {
+    models: Vec<ServoModel>,
+    end_stops: Vec<(f64, f64)>,
+    clock: Clock,
+    state: SimState,
+}
+
+impl ServoStepper {
+    /// Joints at rest at `start` (rad or m, one per model), with end stops at
+    /// `end_stops` (lowest, highest; rad or m; one pair per model, or none at all).
+    ///
+    /// # Errors
+    /// [`ServoSimError::JointCount`] when there are no models, too many, or `start` or
+    /// `end_stops` does not have one entry per model; [`ServoSimError::Step`] when the step
+    /// does not divide the pulse frame.
+    pub fn new(
+        models: Vec<ServoModel>,
+        options: &ServoModelOptions,
+        start: &[f64],
+        end_stops: &[(f64, f64)],
+    ) -> Result<ServoStepper, ServoSimError> {
+        let clock = Clock::new(&models, options)?;
+        let n = models.len();
+        if start.len() != n || !(end_stops.is_empty() || end_stops.len() == n) {
+            return Err(ServoSimError::JointCount {
+                got: start.len().max(end_stops.len()),
+            });
+        }
+        let mut state = SimState::default();
+        state.position[..n].copy_from_slice(start);
+        state.link[..n].copy_from_slice(start);
+        Ok(ServoStepper {
+            models,
+            end_stops: end_stops.to_vec(),
+            clock,
+            state,
+        })
+    }
+
+    /// Runs one pulse frame: driven with `pulse_us` (one held width per joint, in µs) or limp
+    /// with `None`, under `loads` (one per joint, taken as constant over the frame).
+    pub fn run_frame(&mut self, pulse_us: Option<&[f64]>, loads: &[JointLoad]) {
+        let mut frames = FrameLoops::idle();
+        for (j, model) in self.models.iter().enumerate() {
+            let load = loads.get(j).copied().unwrap_or_default();
+            match pulse_us.and_then(|pulses| pulses.get(j)) {
+                Some(&pulse) => frames.set(j, model, pulse, &load),
+                None => frames.set_limp(j, model, &load),
+            }
+        }
+        for _ in 0..self.clock.steps_per_frame {
+            advance_all(&self.models, &frames, self.clock.step, &mut self.state);
+            let state = &mut self.state;
+            for (j, &(low, high)) in self.end_stops.iter().enumerate() {
+                let stopped = (state.position[j] <= low && state.velocity[j] < 0.0)
+                    || (state.position[j] >= high && state.velocity[j] > 0.0);
+                if stopped {
+                    state.velocity[j] = 0.0;
+                }
+                state.position[j] = state.position[j].clamp(low, high);
+                state.link[j] = state.link[j].clamp(low, high);
+            }
+        }
+    }
+
+    /// Link positions after backlash, one per joint (rad or m).
+    pub fn positions(&self) -> &[f64] {
+        &self.state.link[..self.models.len()]
+    }
+
+    /// Servo output speeds, one per joint (rad/s or m/s).
+    pub fn velocities(&self) -> &[f64] {
+        &self.state.velocity[..self.models.len()]
+    }
+
+    /// Length of one frame, in s.
+    pub fn frame_period(&self) -> f64 {
+        self.clock.step * self.clock.steps_per_frame as f64
+    }
+}
+
 /// Each joint's loop for the frame now starting: held pulse and load fixed.
 fn frame_loops(
     models: &[ServoModel],
@@ -532,6 +622,13 @@ impl FrameLoops {
         self.holding[j] = load.holding_effort;
         self.inverse_inertia[j] = 1.0 / inertia;
         self.half_play[j] = model.backlash / 2.0;
+    }
+
+    /// Joint `j` receiving no pulses: no drive and no back-EMF braking (the motor coasts), the
+    /// gears' damping and dry friction still there.
+    fn set_limp(&mut self, j: usize, model: &ServoModel, load: &JointLoad) {
+        self.set(j, model, model.calibration.pulse_us(0.0), load);
+        self.stall[j] = 0.0;
     }
 
     /// The servo output's acceleration of the first `L` joints, written without branches.
@@ -734,6 +831,85 @@ mod tests {
                 );
             }
         }
+    }
+
+    #[test]
+    fn the_stepper_is_simulate_one_frame_at_a_time() {
+        let mut model = linear_servo(0.3);
+        model.deadband_us = 4.0;
+        model.no_load_speed = 6.0;
+        model.dry_friction = 0.03;
+        model.backlash = 0.004;
+        let options = ServoModelOptions {
+            settle_before: 0.0,
+            ..ServoModelOptions::default()
+        };
+        let load = JointLoad {
+            inertia: 2e-3,
+            holding_effort: 0.1,
+        };
+        let command = |t: f64| if t < 0.1 { 0.0 } else { 0.2 };
+        let trace = simulate(
+            std::slice::from_ref(&model),
+            &options,
+            0.4,
+            |t, out| out[0] = command(t),
+            |_, _, loads| loads[0] = load,
+        )
+        .expect("valid run");
+        let mut stepper =
+            ServoStepper::new(vec![model.clone()], &options, &[0.0], &[]).expect("valid stepper");
+        let frames = (0.4 / options.frame_period).round() as usize;
+        let per_frame = (options.frame_period / options.step).round() as usize;
+        for frame in 0..frames {
+            let pulse = model.commanded_pulse_us(command(frame as f64 * options.frame_period));
+            stepper.run_frame(Some(&[pulse]), &[load]);
+            let sample = (frame + 1) * per_frame;
+            assert_eq!(
+                stepper.positions()[0],
+                trace.actual_at(sample)[0],
+                "frame {frame}"
+            );
+        }
+    }
+
+    #[test]
+    fn a_limp_joint_under_gravity_falls_to_its_end_stop_and_stays() {
+        let model = linear_servo(0.3);
+        let options = ServoModelOptions::default();
+        let mut stepper = ServoStepper::new(vec![model], &options, &[0.3], &[(-0.5, 0.5)])
+            .expect("valid stepper");
+        // Gravity asks the servo for a positive effort to hold, so unheld the joint turns the
+        // other way.
+        let load = JointLoad {
+            inertia: 1e-3,
+            holding_effort: 0.5,
+        };
+        let mut previous = 0.3;
+        for _ in 0..10 {
+            stepper.run_frame(None, &[load]);
+            assert!(stepper.positions()[0] <= previous, "falls, never rises");
+            previous = stepper.positions()[0];
+        }
+        for _ in 0..100 {
+            stepper.run_frame(None, &[load]);
+        }
+        assert_eq!(stepper.positions()[0], -0.5);
+        assert_eq!(stepper.velocities()[0], 0.0);
+    }
+
+    #[test]
+    fn a_stepper_needs_one_start_position_per_joint() {
+        let options = ServoModelOptions::default();
+        let models = vec![linear_servo(0.3), linear_servo(0.3)];
+        assert!(matches!(
+            ServoStepper::new(models.clone(), &options, &[0.0], &[]),
+            Err(ServoSimError::JointCount { .. })
+        ));
+        assert!(matches!(
+            ServoStepper::new(models, &options, &[0.0, 0.0], &[(0.0, 1.0)]),
+            Err(ServoSimError::JointCount { .. })
+        ));
     }
 
     #[test]

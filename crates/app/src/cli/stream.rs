@@ -7,18 +7,16 @@ use std::io::{BufRead, IsTerminal};
 use std::path::Path;
 use std::time::{Duration, Instant};
 
-use armwright_kinematics::Arm;
 use armwright_link::{
-    ChannelValues, DeviceInfo, Link, LinkEvent, LinkLoss, SerialTransport, SimDeviceConfig,
-    SimTransport, StreamOptions, StreamStats, Transport, arm_setpoint,
+    Link, LinkEvent, LinkLoss, SerialTransport, SimDeviceConfig, SimTransport, StreamOptions,
+    StreamStats, Transport,
 };
-use armwright_trajectory::TaskPlan;
 use serde_json::{Value, json};
 
 use super::Outcome;
 use super::plan::plan_scene;
 use super::report::{fail, load_scene, print_json, rounded};
-use crate::scene::{Device, GripperState, Scene};
+use crate::scene::{Device, Scene, device_setpoints, sampled_poses};
 
 /// Shown before anything is sent, whether or not confirmation is asked for.
 pub(crate) const CAUTION: &str = "\
@@ -63,14 +61,6 @@ impl Target {
     }
 }
 
-/// One planned sample in the arm's units: joint positions (rad or m) and the gripper's share
-/// closed (0 open, 1 closed).
-#[derive(Debug, Clone, PartialEq)]
-struct Pose {
-    positions: Vec<f64>,
-    gripper_closed: f64,
-}
-
 /// How a stream ended.
 #[derive(Debug, Clone, Copy, PartialEq)]
 enum Ending {
@@ -93,7 +83,7 @@ pub(crate) fn run(file: &Path, request: &StreamRequest) -> Outcome {
         Err(outcome) => return outcome,
     };
     let rate_hz = request.rate_hz.unwrap_or(scene.link.rate_hz);
-    let poses = match poses_of(&scene, &arm, &plan, rate_hz) {
+    let poses = match sampled_poses(&scene, &arm, &plan, rate_hz) {
         Ok(poses) => poses,
         Err(message) => return fail(json, &message, json!({}), Outcome::Unreadable),
     };
@@ -132,7 +122,7 @@ pub(crate) fn run(file: &Path, request: &StreamRequest) -> Outcome {
             );
         }
     };
-    let converted = match setpoints_of(&arm, &poses, &link.device()) {
+    let converted = match device_setpoints(&arm, &poses, &link.device()) {
         Ok(converted) => converted,
         Err(message) => {
             return fail(
@@ -227,57 +217,6 @@ fn confirm(input: &mut impl BufRead) -> Result<(), String> {
             "no confirmation: cannot read standard input: {error}"
         )),
     }
-}
-
-/// The plan (shaped, where the scene asks) sampled at `rate_hz`; the gripper takes the state
-/// of the last waypoint reached.
-fn poses_of(scene: &Scene, arm: &Arm, plan: &TaskPlan, rate_hz: f64) -> Result<Vec<Pose>, String> {
-    let setpoints = plan
-        .setpoints(rate_hz)
-        .map_err(|error| format!("--rate: {error}"))?;
-    let arrivals: Vec<f64> = plan.timings().iter().map(|t| t.arrival).collect();
-    let joints = arm.joint_count();
-    Ok(setpoints
-        .into_iter()
-        .map(|(time, positions)| {
-            let reached = arrivals
-                .partition_point(|&arrival| arrival <= time)
-                .saturating_sub(1);
-            let closed = scene
-                .waypoints
-                .get(reached)
-                .is_some_and(|w| w.gripper == GripperState::Closed);
-            Pose {
-                positions: positions[..joints].to_vec(),
-                gripper_closed: if closed { 1.0 } else { 0.0 },
-            }
-        })
-        .collect())
-}
-
-/// Every pose as device setpoints, with how many were clamped and the worst rounding error.
-struct Converted {
-    values: Vec<ChannelValues>,
-    clamped: usize,
-    worst_rounding_deg: f64,
-}
-
-fn setpoints_of(arm: &Arm, poses: &[Pose], device: &DeviceInfo) -> Result<Converted, String> {
-    let mut converted = Converted {
-        values: Vec::with_capacity(poses.len()),
-        clamped: 0,
-        worst_rounding_deg: 0.0,
-    };
-    for (index, pose) in poses.iter().enumerate() {
-        let setpoint = arm_setpoint(arm, &pose.positions, Some(pose.gripper_closed), device)
-            .map_err(|error| format!("setpoint {index}: {error}"))?;
-        converted.clamped += usize::from(setpoint.any_clamped());
-        converted.worst_rounding_deg = converted
-            .worst_rounding_deg
-            .max(setpoint.worst_error_deg(arm));
-        converted.values.push(setpoint.values);
-    }
-    Ok(converted)
 }
 
 fn connect(target: &Target, baud: u32, options: StreamOptions) -> Result<Link, String> {
@@ -434,52 +373,6 @@ mod tests {
         assert_eq!(
             confirm(&mut "".as_bytes()),
             Err("no confirmation: standard input is closed".to_owned())
-        );
-    }
-
-    #[test]
-    fn the_gripper_channel_follows_the_state_of_the_last_waypoint_reached() {
-        use crate::scene::{build_arm, load, task_of};
-        use armwright_link::SimDevice;
-        use armwright_trajectory::plan_task;
-
-        let path = Path::new(env!("CARGO_MANIFEST_DIR"))
-            .join("../../sample-scenes/peg-sorter.armwright.json");
-        let scene = load(&path).unwrap();
-        let arm = build_arm(&scene.arm).unwrap();
-        let plan = plan_task(&arm, &task_of(&scene, &arm)).unwrap();
-        let rate_hz = 50.0;
-        let poses = poses_of(&scene, &arm, &plan, rate_hz).unwrap();
-        let device = SimDevice::new(SimDeviceConfig::default()).info();
-        let converted = setpoints_of(&arm, &poses, &device).unwrap();
-        assert_eq!(converted.values.len(), poses.len());
-        let gripper = scene.arm.gripper.as_ref().unwrap();
-        let last = usize::from(device.channel_count) - 1;
-        let timings = plan.timings();
-        let mut changes = 0;
-        for (index, (waypoint, timing)) in scene.waypoints.iter().zip(timings).enumerate() {
-            // A sample just after the arrival (clear of rounding at the instant itself), if it
-            // comes before the next arrival.
-            let sample = (timing.arrival * rate_hz).ceil() as usize + 1;
-            let next = timings.get(index + 1).map_or(f64::INFINITY, |t| t.arrival);
-            if sample >= poses.len() || sample as f64 / rate_hz >= next {
-                continue;
-            }
-            let expected_us = match waypoint.gripper {
-                GripperState::Open => gripper.open_pulse_us,
-                GripperState::Closed => gripper.closed_pulse_us,
-            };
-            assert_eq!(
-                u32::from(converted.values[sample].as_slice()[last]),
-                expected_us,
-                "{}",
-                waypoint.name
-            );
-            changes += 1;
-        }
-        assert!(
-            changes >= scene.waypoints.len() / 2,
-            "{changes} waypoints checked"
         );
     }
 

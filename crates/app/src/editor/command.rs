@@ -9,11 +9,16 @@ use std::path::PathBuf;
 use armwright_kinematics::{IkError, IkOptions, IkTarget, JointKind, solve_ik};
 use nalgebra::Vector3;
 
+use armwright_link::ResetConfirmation;
+
+use super::device::LinkAction;
 use super::estop::{StopLink, StopRequest};
 use super::history::{EditKey, Snapshot};
-use super::state::{BranchChoice, Dialog, EditorState, Level, ReachStatus, StopSource, StopState};
+use super::state::{
+    BranchChoice, Dialog, EditorState, Level, ReachStatus, StopSource, StopState, ToolsTab,
+};
 use crate::scene::{
-    Arrival, GripperState, MoveKind, ProfileKind, Waypoint, pose_from_file_units,
+    Arrival, Device, GripperState, MoveKind, ProfileKind, Waypoint, pose_from_file_units,
     position_to_file_unit,
 };
 
@@ -120,6 +125,14 @@ pub enum Command {
     RequestStopReset,
     /// Clear the stop latch (after the user confirmed).
     ConfirmStopReset,
+    /// Show this tab of the tools panel.
+    ShowToolsTab(ToolsTab),
+    /// Pick the device the link panel connects to.
+    ChooseDevice(Device),
+    /// The user read and acknowledged the streaming caution.
+    AcknowledgeCaution,
+    /// Ask the device link to do something (on its worker thread).
+    Link(LinkAction),
     /// Show a dialog.
     ShowDialog(Dialog),
     /// Close the dialog.
@@ -186,6 +199,8 @@ pub enum Outside {
     Recover,
     /// Delete the recovery copy.
     DiscardRecovery,
+    /// Hand this to the device link.
+    Link(LinkAction),
 }
 
 /// Applies one command to the state. A stop request goes to `stop_link` at once, tagged with
@@ -222,10 +237,22 @@ pub fn apply(
             }
         }
         Command::ConfirmStopReset => {
+            // Built only here, in answer to the confirmation question.
+            stop_link.confirm_reset(ResetConfirmation::confirmed_by_person());
             state.stop = StopState::Clear;
             state.dialog = None;
             state.say(Level::Info, "emergency stop reset");
         }
+        Command::ShowToolsTab(tab) => state.tools_tab = tab,
+        Command::ChooseDevice(device) => state.link_device = device,
+        Command::AcknowledgeCaution => {
+            state.caution_acknowledged = true;
+            state.say(
+                Level::Info,
+                "streaming caution acknowledged for this session",
+            );
+        }
+        Command::Link(action) => link_action(state, action, outside),
         Command::SetJoint { joint, position } => {
             if joint < state.pose.len() && position.is_finite() {
                 state.pose[joint] = state.clamp_to_limits(joint, position);
@@ -383,6 +410,25 @@ pub fn apply(
             state.dialog = None;
             outside.push(Outside::DiscardRecovery);
         }
+    }
+}
+
+/// Passes a link action on, unless it would move the arm while that is not allowed: streaming
+/// needs the caution acknowledged and no stop latched.
+fn link_action(state: &mut EditorState, action: LinkAction, outside: &mut Vec<Outside>) {
+    let moves = matches!(action, LinkAction::Stream | LinkAction::Resume);
+    if moves && !state.caution_acknowledged {
+        state.say(
+            Level::Warning,
+            "read and acknowledge the caution in the link panel before streaming",
+        );
+    } else if moves && matches!(state.stop, StopState::Latched { .. }) {
+        state.say(
+            Level::Warning,
+            "the emergency stop is latched: check the arm and reset the stop before streaming",
+        );
+    } else {
+        outside.push(Outside::Link(action));
     }
 }
 
@@ -745,5 +791,73 @@ mod tests {
         assert!(!jumps(&kinds, &[0.0, 0.0], &[0.1, 0.01]));
         assert!(jumps(&kinds, &[0.0, 0.0], &[2.0, 0.0]));
         assert!(jumps(&kinds, &[0.0, 0.0], &[0.0, 0.2]));
+    }
+
+    #[test]
+    fn streaming_waits_for_the_caution_and_for_a_cleared_stop() {
+        let mut state = EditorState::new(sample_scene(), None);
+        assert!(run(&mut state, Command::Link(LinkAction::Stream)).is_empty());
+        assert!(
+            state
+                .messages
+                .last()
+                .is_some_and(|m| m.text.contains("caution"))
+        );
+        let _ = run(&mut state, Command::AcknowledgeCaution);
+        assert_eq!(
+            run(&mut state, Command::Link(LinkAction::Stream)),
+            vec![Outside::Link(LinkAction::Stream)]
+        );
+        let _ = run(&mut state, Command::EmergencyStop(StopSource::Button));
+        assert!(run(&mut state, Command::Link(LinkAction::Resume)).is_empty());
+        assert!(
+            state
+                .messages
+                .last()
+                .is_some_and(|m| m.text.contains("latched"))
+        );
+        // Connecting and pausing do not move the arm, so they go through.
+        assert_eq!(
+            run(&mut state, Command::Link(LinkAction::Pause)),
+            vec![Outside::Link(LinkAction::Pause)]
+        );
+    }
+
+    #[test]
+    fn the_confirmed_reset_reaches_the_stop_link() {
+        struct Resets(usize);
+        impl StopLink for Resets {
+            fn send_stop(&mut self, _request: StopRequest) {}
+            fn confirm_reset(&mut self, _confirmation: ResetConfirmation) {
+                self.0 += 1;
+            }
+        }
+        let mut state = EditorState::new(sample_scene(), None);
+        let mut link = Resets(0);
+        let mut outside = Vec::new();
+        apply(
+            &mut state,
+            Command::EmergencyStop(StopSource::Key),
+            &mut link,
+            1,
+            &mut outside,
+        );
+        apply(
+            &mut state,
+            Command::RequestStopReset,
+            &mut link,
+            2,
+            &mut outside,
+        );
+        assert_eq!(link.0, 0, "asking is not resetting");
+        apply(
+            &mut state,
+            Command::ConfirmStopReset,
+            &mut link,
+            3,
+            &mut outside,
+        );
+        assert_eq!(link.0, 1);
+        assert_eq!(state.stop, StopState::Clear);
     }
 }

@@ -1,11 +1,14 @@
-//! The emergency-stop path out of the editor: a small trait the link plugs into, and a channel
-//! implementation.
+//! The emergency-stop path out of the editor: a small trait the link plugs into, a channel
+//! implementation, and the pair the editor sends every stop through (its device link first,
+//! then whoever else listens).
 //!
 //! The editor calls [`StopLink::send_stop`] in the same frame as the click or key press, before
 //! anything else in that frame's command list is applied. A software stop is not a safety device:
 //! keep a hard power cut-off within reach.
 
 use std::sync::mpsc::{Receiver, Sender, channel};
+
+use armwright_link::ResetConfirmation;
 
 use super::state::StopSource;
 
@@ -29,11 +32,39 @@ pub struct StopRequest {
     pub frame: u64,
 }
 
-/// Where the editor sends a stop request. The link crate implements this to reach the device;
-/// until it does, [`ChannelStopLink`] carries requests to whoever listens.
+/// Where the editor sends a stop request: the device link
+/// ([`LinkStopLink`](super::LinkStopLink)), or [`ChannelStopLink`] to whoever listens.
 pub trait StopLink: Send {
     /// Sends the request at once. Must not block: it runs on the UI thread.
     fn send_stop(&mut self, request: StopRequest);
+
+    /// Clears the latch at the far end, once a person has confirmed the reset. Must not
+    /// block. A listener that keeps no latch of its own has nothing to clear, so by default
+    /// this does nothing.
+    fn confirm_reset(&mut self, confirmation: ResetConfirmation) {
+        let _ = confirmation;
+    }
+}
+
+/// Two stop links told in turn: the editor's device link first, so the stop line leaves
+/// before anything else is done, then the listener the editor was opened with.
+pub(crate) struct StopPair<'a> {
+    /// Told first.
+    pub first: &'a mut dyn StopLink,
+    /// Told second.
+    pub then: &'a mut dyn StopLink,
+}
+
+impl StopLink for StopPair<'_> {
+    fn send_stop(&mut self, request: StopRequest) {
+        self.first.send_stop(request);
+        self.then.send_stop(request);
+    }
+
+    fn confirm_reset(&mut self, confirmation: ResetConfirmation) {
+        self.first.confirm_reset(confirmation);
+        self.then.confirm_reset(confirmation);
+    }
 }
 
 /// A [`StopLink`] that puts each request on a channel.

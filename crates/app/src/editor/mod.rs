@@ -4,13 +4,15 @@
 //!
 //! Naming scheme: `state.rs` holds what is saved, undone and tested (no egui types);
 //! `command.rs` is what panels ask for and how it changes the state; `history.rs` undo and
-//! redo; `estop.rs` the path a stop request takes out of the editor; `files.rs` file work off
+//! redo; `estop.rs` the path a stop request takes out of the editor; `device.rs` the link to
+//! a device and its worker thread (connect, stream, pause, reset); `files.rs` file work off
 //! the UI thread; `recovery.rs` the autosaved copy; `sample.rs` the built-in scene;
 //! `panels/` one file per panel; `views/` the two to-scale views. This file is the shell:
 //! [`Editor::logic`] handles what must run whatever is on screen (the emergency-stop key first),
 //! [`Editor::ui`] draws the panels and applies their commands after the frame.
 
 mod command;
+mod device;
 mod estop;
 mod files;
 mod history;
@@ -21,12 +23,13 @@ mod state;
 mod views;
 
 pub use command::{Command, Outside, WaypointField, apply};
+pub use device::{Connection, DeviceLink, LinkAction, LinkStopLink, LinkView, StreamPhase};
 pub use estop::{ChannelStopLink, STOP_KEY, STOP_KEY_NAME, StopLink, StopRequest};
-pub use panels::{CAUTION, EMERGENCY_STOP_LABEL};
+pub use panels::{ACKNOWLEDGE_LABEL, CAUTION, EMERGENCY_STOP_LABEL};
 pub use recovery::Recovery;
 pub use sample::sample_scene;
 pub use state::{
-    BranchChoice, Dialog, EditorState, Level, Message, ReachStatus, StopSource, StopState,
+    BranchChoice, Dialog, EditorState, Level, Message, ReachStatus, StopSource, StopState, ToolsTab,
 };
 pub use views::{
     Camera, MapKey, MapLayer, Plane, Projection, RAMP_TOP, ReachLayers, SidePlane, TopPlane,
@@ -39,7 +42,12 @@ use std::time::Duration;
 
 use egui::{CentralPanel, Event, Key, Modifiers, Panel, Rect, ScrollArea, UiBuilder, pos2, vec2};
 
+use estop::StopPair;
 use files::{FileResult, FileWorker, pick_file, problem_lines};
+
+/// How often the window is redrawn while a device is connected, to follow its arm and
+/// statistics.
+const LINK_REFRESH: Duration = Duration::from_millis(50);
 
 /// How the editor is set up.
 #[derive(Debug, Clone)]
@@ -48,14 +56,18 @@ pub struct EditorOptions {
     pub recovery: Option<Recovery>,
     /// Time between autosaves while there are unsaved changes.
     pub autosave_interval: Duration,
+    /// The device to connect to as the editor opens, if any.
+    pub connect_on_start: Option<crate::scene::Device>,
 }
 
 impl Default for EditorOptions {
-    /// Recovery copy in the per-user state folder, autosave every 30 s.
+    /// Recovery copy in the per-user state folder, autosave every 30 s, connected to the
+    /// in-process simulated device.
     fn default() -> EditorOptions {
         EditorOptions {
             recovery: Recovery::default_dir().map(Recovery::in_dir),
             autosave_interval: Duration::from_secs(30),
+            connect_on_start: Some(crate::scene::Device::Simulated),
         }
     }
 }
@@ -65,7 +77,10 @@ impl Default for EditorOptions {
 pub struct Editor {
     /// What is saved, undone and tested.
     pub state: EditorState,
+    /// Told of every stop after the device link.
     stop_link: Box<dyn StopLink>,
+    device: DeviceLink,
+    device_stop: LinkStopLink,
     cameras: [Camera; 2],
     reach: ReachLayers,
     files: FileWorker,
@@ -87,12 +102,17 @@ impl std::fmt::Debug for Editor {
 }
 
 impl Editor {
-    /// An editor on `state`, sending stop requests to `stop_link`. Finds and offers a recovery
-    /// copy left by a session that did not end cleanly.
+    /// An editor on `state` with its own device link (connected as `options` says). Every stop
+    /// request goes to the device link first, then to `stop_link` (a log, a test's channel).
+    /// Finds and offers a recovery copy left by a session that did not end cleanly.
     pub fn new(state: EditorState, stop_link: Box<dyn StopLink>, options: EditorOptions) -> Editor {
+        let device = DeviceLink::start();
+        let device_stop = device.stop_link();
         let mut editor = Editor {
             state,
             stop_link,
+            device,
+            device_stop,
             cameras: [Camera::default(), Camera::default()],
             reach: ReachLayers::default(),
             files: FileWorker::default(),
@@ -120,7 +140,25 @@ impl Editor {
                 }
             }
         }
+        if let Some(device) = editor.options.connect_on_start.clone() {
+            editor.state.link_device = device.clone();
+            editor.request_link(LinkAction::Connect(device));
+        }
         editor
+    }
+
+    /// The device link: what the link panel shows, the simulated device when connected.
+    pub fn device(&self) -> &DeviceLink {
+        &self.device
+    }
+
+    fn request_link(&mut self, action: LinkAction) {
+        self.device.request(
+            action,
+            &self.state.scene,
+            self.state.arm(),
+            &self.state.pose,
+        );
     }
 
     /// An editor on the scene at `path`, or on the built-in sample when there is none. A file
@@ -225,11 +263,28 @@ impl Editor {
             }
         }
         self.autosave(ctx);
+        self.follow_device(ctx);
         self.reach.update(ctx, &self.state);
         let title = self.window_title();
         if title != self.title {
             ctx.send_viewport_cmd(egui::ViewportCommand::Title(title.clone()));
             self.title = title;
+        }
+    }
+
+    /// Takes what the device link published: its messages, and the arm's pose as a simulated
+    /// device moves it. Keeps the window redrawing while a device is connected.
+    fn follow_device(&mut self, ctx: &egui::Context) {
+        for report in self.device.poll(self.state.arm.as_ref()) {
+            match report {
+                device::Report::Info(text) => self.state.say(Level::Info, text),
+                device::Report::Problem(text) => self.state.say(Level::Error, text),
+            }
+        }
+        self.state.device_pose = self.device.simulated_arm_pose();
+        let view = self.device.view();
+        if view.connection.is_some() || view.connecting || view.listing {
+            ctx.request_repaint_after(LINK_REFRESH);
         }
     }
 
@@ -279,6 +334,28 @@ impl Editor {
                     .inner
             });
         commands.push(left.inner);
+        let tools = Panel::right("armwright tools")
+            .default_size(340.0)
+            .show(ui, |ui| {
+                let mut command = Command::None;
+                ui.horizontal(|ui| {
+                    if ui
+                        .selectable_label(self.state.tools_tab == ToolsTab::Link, "Link")
+                        .clicked()
+                    {
+                        command = Command::ShowToolsTab(ToolsTab::Link);
+                    }
+                });
+                ui.separator();
+                let shown = ScrollArea::vertical()
+                    .id_salt("armwright tools scroll")
+                    .show(ui, |ui| match self.state.tools_tab {
+                        ToolsTab::Link => panels::link(ui, &self.state, self.device.view()),
+                    })
+                    .inner;
+                command.then(shown)
+            });
+        commands.push(tools.inner);
         let views = CentralPanel::default().show(ui, |ui| {
             let rect = ui.available_rect_before_wrap();
             let gap = 6.0;
@@ -314,13 +391,11 @@ impl Editor {
     /// Applies one command, carrying out file and window work it leaves.
     pub fn apply(&mut self, ctx: &egui::Context, command: Command, frame: u64) {
         let mut outside = Vec::new();
-        apply(
-            &mut self.state,
-            command,
-            self.stop_link.as_mut(),
-            frame,
-            &mut outside,
-        );
+        let mut stops = StopPair {
+            first: &mut self.device_stop,
+            then: self.stop_link.as_mut(),
+        };
+        apply(&mut self.state, command, &mut stops, frame, &mut outside);
         for work in outside {
             self.carry_out(ctx, work);
         }
@@ -372,6 +447,7 @@ impl Editor {
                     recovery.discard();
                 }
             }
+            Outside::Link(action) => self.request_link(action),
         }
     }
 
@@ -469,18 +545,17 @@ impl eframe::App for Editor {
     }
 }
 
-/// Opens the editor window on `file` (or the built-in sample) and runs until it closes.
-///
-/// Until the link crate lands, stop requests go to a thread that reports them on standard
-/// error.
+/// Opens the editor window on `file` (or the built-in sample), connected to the in-process
+/// simulated device, and runs until it closes. Stops go to the device link; each is also
+/// recorded on standard error.
 pub fn run(file: Option<PathBuf>) -> ExitCode {
-    let (link, requests) = ChannelStopLink::new();
-    let _listener = std::thread::Builder::new()
-        .name("armwright stop listener".into())
+    let (log, requests) = ChannelStopLink::new();
+    let _log = std::thread::Builder::new()
+        .name("armwright stop log".into())
         .spawn(move || {
             for request in requests {
                 eprintln!(
-                    "armwright: emergency stop requested ({:?}, frame {}); no device is connected",
+                    "armwright: emergency stop ({:?}, frame {}) handed to the device link",
                     request.source, request.frame
                 );
             }
@@ -498,7 +573,7 @@ pub fn run(file: Option<PathBuf>) -> ExitCode {
         Box::new(move |_creation| {
             Ok(Box::new(Editor::open(
                 file,
-                Box::new(link),
+                Box::new(log),
                 EditorOptions::default(),
             )))
         }),

@@ -10,7 +10,7 @@ use armwright_kinematics::{
 };
 
 use super::history::History;
-use crate::scene::{GripperState, JointKindDoc, Scene, build_arm, pose_from_file_units};
+use crate::scene::{Device, GripperState, JointKindDoc, Scene, build_arm, pose_from_file_units};
 
 /// How serious a message in the status bar is.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -53,6 +53,14 @@ pub enum StopState {
         /// egui frame number in which the request left the editor.
         frame: u64,
     },
+}
+
+/// The tabs of the tools panel on the right.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum ToolsTab {
+    /// The device: connect, stream, statistics.
+    #[default]
+    Link,
 }
 
 /// Why the last drag of the tool point could or could not move the arm.
@@ -169,6 +177,15 @@ pub struct EditorState {
     pub stop: StopState,
     /// The dialog shown over the window, if any.
     pub dialog: Option<Dialog>,
+    /// The tab shown in the tools panel.
+    pub tools_tab: ToolsTab,
+    /// The device the link panel connects to.
+    pub link_device: Device,
+    /// Whether the streaming caution was acknowledged in this session.
+    pub caution_acknowledged: bool,
+    /// The joint positions of the arm as the connected simulated device moves it (from its
+    /// servo model), rad (revolute) or m (prismatic); `None` when no such device is connected.
+    pub device_pose: Option<Vec<f64>>,
 }
 
 /// Most messages kept.
@@ -197,6 +214,10 @@ impl EditorState {
             messages: Vec::new(),
             stop: StopState::Clear,
             dialog: None,
+            tools_tab: ToolsTab::default(),
+            link_device: Device::Simulated,
+            caution_acknowledged: false,
+            device_pose: None,
         };
         state.rebuild_arm();
         let start = state
@@ -218,13 +239,21 @@ impl EditorState {
         state
     }
 
-    /// Replaces the whole scene (open or recover), keeping the stop latch and the messages.
+    /// Replaces the whole scene (open or recover), keeping the stop latch, the messages and
+    /// the session's link state (tab, device, caution, device pose).
     pub(crate) fn replace_scene(&mut self, scene: Scene, file_path: Option<PathBuf>) {
         let messages = std::mem::take(&mut self.messages);
-        let stop = self.stop;
+        let link_device = std::mem::replace(&mut self.link_device, Device::Simulated);
+        let device_pose = self.device_pose.take();
+        let (stop, tools_tab, caution_acknowledged) =
+            (self.stop, self.tools_tab, self.caution_acknowledged);
         *self = EditorState::new(scene, file_path);
         self.messages = messages;
         self.stop = stop;
+        self.tools_tab = tools_tab;
+        self.link_device = link_device;
+        self.caution_acknowledged = caution_acknowledged;
+        self.device_pose = device_pose;
     }
 
     /// The arm model, when the scene's arm could be built.

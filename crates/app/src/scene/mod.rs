@@ -5,7 +5,8 @@
 //! order), `migrate.rs` (one step per older version), `validate.rs` (rules across fields),
 //! `units.rs` (the one place that turns file units into the SI arm model), `load.rs` and
 //! `save.rs` (files: read without side effects, write atomically), `problem.rs` (a located
-//! problem and the nearest-name suggestion).
+//! problem and the nearest-name suggestion), `task.rs` (the sequence as a trajectory task),
+//! `setpoints.rs` (the planned sequence as device setpoints).
 
 mod decode;
 mod document;
@@ -14,6 +15,7 @@ mod load;
 mod migrate;
 mod problem;
 mod save;
+mod setpoints;
 mod task;
 mod units;
 mod validate;
@@ -28,6 +30,7 @@ pub use load::{load, load_bytes};
 pub use migrate::{CURRENT_VERSION, FORMAT_NAME};
 pub use problem::Problem;
 pub use save::{save, save_text, to_json};
+pub use setpoints::{DeviceSetpoints, SampledPose, device_setpoints, sampled_poses};
 pub use task::{
     dry_run_options_of, limit_settings_of, retime_target, servo_model_of, task_of, with_timing,
 };

@@ -21,11 +21,13 @@ pub fn scratch(name: &str) -> PathBuf {
     dir
 }
 
-/// Options with the recovery copy in `dir` and autosave after `seconds`.
+/// Options with the recovery copy in `dir`, autosave after `seconds`, and no device connected
+/// as the editor opens.
 pub fn options(dir: &std::path::Path, seconds: u64) -> EditorOptions {
     EditorOptions {
         recovery: Some(armwright::editor::Recovery::in_dir(dir.join("recovery"))),
         autosave_interval: Duration::from_secs(seconds),
+        connect_on_start: None,
     }
 }
 

@@ -4,10 +4,12 @@
 //! Naming scheme: the file is named for what the panel shows: `top_bar.rs` (emergency stop,
 //! files, undo), `joint_controls.rs`, `tool_point.rs` (drag feedback, tool angle, branches,
 //! torque use), `sequence.rs` (waypoints), `status_bar.rs` (messages and cautions),
-//! `dialogs.rs` (questions shown over the window, never over the emergency stop).
+//! `dialogs.rs` (questions shown over the window, never over the emergency stop), `link.rs`
+//! (the device: connect, caution, stream, statistics; a tab of the tools panel).
 
 mod dialogs;
 mod joint_controls;
+mod link;
 mod sequence;
 mod status_bar;
 mod tool_point;
@@ -15,6 +17,7 @@ mod top_bar;
 
 pub use dialogs::dialogs;
 pub use joint_controls::joint_controls;
+pub use link::{ACKNOWLEDGE_LABEL, link};
 pub use sequence::sequence;
 pub use status_bar::{CAUTION, status_bar};
 pub use tool_point::tool_point;

@@ -1,0 +1,741 @@
+//! The editor's link to a device, apart from drawing: a worker thread owns the
+//! [`armwright_link::Link`] and does everything that waits on a port or takes time (listing
+//! ports, connecting, planning the scene, pushing setpoints, pause, reset after a stop); the UI
+//! thread sends it requests, reads what it publishes once a frame, and raises the emergency
+//! stop through the link's lock-free handle, never through the worker.
+
+use std::sync::atomic::{AtomicBool, Ordering};
+use std::sync::mpsc::{Receiver, RecvTimeoutError, Sender, TryRecvError, channel};
+use std::sync::{Arc, Mutex, PoisonError};
+use std::thread::JoinHandle;
+use std::time::{Duration, Instant};
+
+use armwright_kinematics::Arm;
+use armwright_link::{
+    ChannelValues, DeviceInfo, EmergencyStop, Link, LinkError, LinkEvent, PortSummary,
+    ResetConfirmation, SerialTransport, SimDevice, SimDeviceConfig, SimTransport, StreamOptions,
+    StreamStats, Transport, list_ports,
+};
+use armwright_trajectory::{ServoModelOptions, plan_task};
+
+use super::estop::{StopLink, StopRequest};
+use crate::scene::{Device, Scene, device_setpoints, sampled_poses, task_of};
+
+/// Setpoints queued ahead of the device: a pause takes effect within this many periods.
+const QUEUE_AHEAD: usize = 8;
+
+/// How long the worker waits for a request when it has nothing else to do.
+const IDLE_WAIT: Duration = Duration::from_millis(20);
+
+/// What the user asks of the link, from the link panel.
+#[derive(Debug, Clone, PartialEq)]
+pub enum LinkAction {
+    /// List the serial ports (on the worker).
+    ListPorts,
+    /// Connect to this device, dropping any link open now.
+    Connect(Device),
+    /// Close the link; the device is asked to hold.
+    Disconnect,
+    /// Plan the scene's sequence and stream it from its start.
+    Stream,
+    /// Let the queued setpoints run out, then hold.
+    Pause,
+    /// Go on streaming from where the pause left off.
+    Resume,
+}
+
+/// Where a stream stands, as the link panel shows it.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum StreamPhase {
+    /// No stream.
+    #[default]
+    Idle,
+    /// The scene's sequence is being planned and turned into setpoints.
+    Planning,
+    /// Setpoints are going out.
+    Streaming,
+    /// Stopped pushing; the queue is running out.
+    Pausing,
+    /// Paused: the device holds; resume carries on.
+    Paused,
+    /// Every setpoint went out.
+    Finished,
+    /// Ended early: emergency stop, lost link or an error (see the messages).
+    Ended,
+}
+
+/// A connected device, as the panel shows it.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Connection {
+    /// What was connected: "simulated device" or the port's path.
+    pub name: String,
+    /// What the device announced.
+    pub info: DeviceInfo,
+}
+
+/// Everything the link panel shows; plain data, refreshed once a frame by the editor.
+#[derive(Debug, Clone, Default)]
+pub struct LinkView {
+    /// The serial ports found by the last listing.
+    pub ports: Vec<PortSummary>,
+    /// Whether a port listing is running.
+    pub listing: bool,
+    /// Whether a connection is being made.
+    pub connecting: bool,
+    /// The device connected, if any.
+    pub connection: Option<Connection>,
+    /// Streaming state and statistics, while connected.
+    pub stats: Option<StreamStats>,
+    /// Where the stream stands.
+    pub phase: StreamPhase,
+    /// Setpoints pushed to the link in this stream, and how many there are.
+    pub progress: (usize, usize),
+    /// Planned setpoints whose pulse was limited to its servo's or the device's range.
+    pub clamped: usize,
+    /// Largest rounding error of the planned setpoints, in degrees.
+    pub worst_rounding_deg: f64,
+    /// The scene's arm changed since the simulated device was connected: it still moves the
+    /// arm it was connected with.
+    pub arm_changed: bool,
+}
+
+/// Something the worker reports; the editor turns messages into status lines.
+#[derive(Debug)]
+pub(crate) enum Report {
+    /// Information for the status bar.
+    Info(String),
+    /// A problem for the status bar.
+    Problem(String),
+}
+
+/// The stop handle of the link open now, shared by the UI's stop path and the worker.
+#[derive(Debug, Default)]
+struct StopShared {
+    handle: Mutex<Option<EmergencyStop>>,
+    /// A stop is latched in the editor: a device connected from now on is stopped at once.
+    latched: AtomicBool,
+    /// The newest stop request handed to a link's handle, and when.
+    handed: Mutex<Option<(StopRequest, Instant)>>,
+}
+
+/// What the worker publishes for the UI.
+#[derive(Debug, Default)]
+struct Published {
+    view: LinkView,
+    simulated: Option<Arc<Mutex<SimDevice>>>,
+    reports: Vec<Report>,
+}
+
+enum Request {
+    ListPorts,
+    Connect {
+        device: Device,
+        baud: u32,
+        rate_hz: f64,
+        arm: Option<Box<Arm>>,
+        start: Vec<f64>,
+        servo: ServoModelOptions,
+    },
+    Disconnect,
+    Stream {
+        scene: Box<Scene>,
+        arm: Box<Arm>,
+    },
+    Pause,
+    Resume,
+    Reset(ResetConfirmation),
+    /// The editor is going: drop the link (the device is asked to hold) and end.
+    Quit,
+}
+
+/// The editor's device link: a handle to the worker thread.
+pub struct DeviceLink {
+    requests: Sender<Request>,
+    published: Arc<Mutex<Published>>,
+    stop: Arc<StopShared>,
+    view: LinkView,
+    simulated: Option<Arc<Mutex<SimDevice>>>,
+    /// The arm handed over with the newest connect request.
+    connected_arm: Option<Arm>,
+    worker: Option<JoinHandle<()>>,
+}
+
+impl std::fmt::Debug for DeviceLink {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.debug_struct("DeviceLink")
+            .field("view", &self.view)
+            .finish_non_exhaustive()
+    }
+}
+
+impl Default for DeviceLink {
+    fn default() -> DeviceLink {
+        DeviceLink::start()
+    }
+}
+
+impl DeviceLink {
+    /// Starts the worker thread, not connected.
+    pub fn start() -> DeviceLink {
+        let (requests, inbox) = channel();
+        let published = Arc::new(Mutex::new(Published::default()));
+        let stop = Arc::new(StopShared::default());
+        let mut worker = Worker {
+            inbox,
+            published: Arc::clone(&published),
+            stop: Arc::clone(&stop),
+            link: None,
+            rate_hz: 50.0,
+            stream: None,
+        };
+        let handle = std::thread::Builder::new()
+            .name("armwright device link".into())
+            .spawn(move || worker.run())
+            .ok();
+        DeviceLink {
+            requests,
+            published,
+            stop,
+            view: LinkView::default(),
+            simulated: None,
+            connected_arm: None,
+            worker: handle,
+        }
+    }
+
+    /// The emergency-stop path onto this link, for the editor's stop commands.
+    pub fn stop_link(&self) -> LinkStopLink {
+        LinkStopLink {
+            stop: Arc::clone(&self.stop),
+            requests: self.requests.clone(),
+        }
+    }
+
+    /// What the link panel shows, as of the editor's last look at the link (once a frame).
+    pub fn view(&self) -> &LinkView {
+        &self.view
+    }
+
+    /// The simulated device while connected to one (to watch its mode and its arm).
+    pub fn simulated_device(&self) -> Option<&Arc<Mutex<SimDevice>>> {
+        self.simulated.as_ref()
+    }
+
+    /// The newest stop request that was handed to a connected link's emergency-stop handle,
+    /// with the moment it was.
+    pub fn last_stop_handed(&self) -> Option<(StopRequest, Instant)> {
+        *self
+            .stop
+            .handed
+            .lock()
+            .unwrap_or_else(PoisonError::into_inner)
+    }
+
+    /// Takes what the worker has published since the last frame; returns its reports. `arm`
+    /// is the scene's arm now, to tell whether the simulated device still moves the same one.
+    /// Quick: one short lock, no waiting on the worker.
+    pub(crate) fn poll(&mut self, arm: Option<&Arm>) -> Vec<Report> {
+        let mut published = self
+            .published
+            .lock()
+            .unwrap_or_else(PoisonError::into_inner);
+        self.view.clone_from(&published.view);
+        self.simulated.clone_from(&published.simulated);
+        self.view.arm_changed = self.simulated.is_some() && self.connected_arm.as_ref() != arm;
+        std::mem::take(&mut published.reports)
+    }
+
+    /// The simulated device's arm pose (rad or m per joint), if connected to one that moves
+    /// the scene's arm as of the editor's last look at the link (once a frame).
+    pub fn simulated_arm_pose(&self) -> Option<Vec<f64>> {
+        if self.view.arm_changed {
+            return None;
+        }
+        let device = self.simulated.as_ref()?;
+        let device = device.lock().unwrap_or_else(PoisonError::into_inner);
+        device.arm_positions().map(<[f64]>::to_vec)
+    }
+
+    /// Hands `action` to the worker with what it needs from the scene: the scene and its arm,
+    /// the current pose (where a simulated arm starts).
+    pub(crate) fn request(
+        &mut self,
+        action: LinkAction,
+        scene: &Scene,
+        arm: Option<&Arm>,
+        pose: &[f64],
+    ) {
+        let request = match action {
+            LinkAction::ListPorts => Request::ListPorts,
+            LinkAction::Connect(device) => {
+                self.connected_arm = arm.cloned();
+                Request::Connect {
+                    device,
+                    baud: scene.link.baud,
+                    rate_hz: scene.link.rate_hz,
+                    arm: arm.cloned().map(Box::new),
+                    start: pose.to_vec(),
+                    servo: crate::scene::servo_model_of(scene),
+                }
+            }
+            LinkAction::Disconnect => Request::Disconnect,
+            LinkAction::Stream => match arm {
+                Some(arm) => Request::Stream {
+                    scene: Box::new(scene.clone()),
+                    arm: Box::new(arm.clone()),
+                },
+                None => {
+                    self.report(Report::Problem(
+                        "cannot stream: the scene's arm cannot be built".into(),
+                    ));
+                    return;
+                }
+            },
+            LinkAction::Pause => Request::Pause,
+            LinkAction::Resume => Request::Resume,
+        };
+        // The worker only ends when this handle is dropped.
+        let _ = self.requests.send(request);
+    }
+
+    fn report(&self, report: Report) {
+        self.published
+            .lock()
+            .unwrap_or_else(PoisonError::into_inner)
+            .reports
+            .push(report);
+    }
+}
+
+impl Drop for DeviceLink {
+    fn drop(&mut self) {
+        // The worker drops the link as it ends: the device is asked to hold. (Stop links
+        // handed out keep the channel open, so it is told rather than left to notice.)
+        let _ = self.requests.send(Request::Quit);
+        if let Some(worker) = self.worker.take() {
+            let _ = worker.join();
+        }
+    }
+}
+
+/// The editor's stop path onto a [`DeviceLink`]: raises the connected link's emergency-stop
+/// flag (a lock-free store the link's thread acts on within a millisecond, ahead of every
+/// queued setpoint, which it drops). It never waits on the link or the worker.
+#[derive(Debug, Clone)]
+pub struct LinkStopLink {
+    stop: Arc<StopShared>,
+    requests: Sender<Request>,
+}
+
+impl std::fmt::Debug for Request {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(match self {
+            Request::ListPorts => "ListPorts",
+            Request::Connect { .. } => "Connect",
+            Request::Disconnect => "Disconnect",
+            Request::Stream { .. } => "Stream",
+            Request::Pause => "Pause",
+            Request::Resume => "Resume",
+            Request::Reset(_) => "Reset",
+            Request::Quit => "Quit",
+        })
+    }
+}
+
+impl StopLink for LinkStopLink {
+    fn send_stop(&mut self, request: StopRequest) {
+        // Latched under the handle's lock, so a link being connected either gets its handle
+        // raised here or sees the latch as it stores the handle.
+        let handle = self
+            .stop
+            .handle
+            .lock()
+            .unwrap_or_else(PoisonError::into_inner);
+        self.stop.latched.store(true, Ordering::SeqCst);
+        if let Some(stop) = handle.as_ref() {
+            stop.trigger();
+            *self
+                .stop
+                .handed
+                .lock()
+                .unwrap_or_else(PoisonError::into_inner) = Some((request, Instant::now()));
+        }
+    }
+
+    fn confirm_reset(&mut self, confirmation: ResetConfirmation) {
+        self.stop.latched.store(false, Ordering::SeqCst);
+        let _ = self.requests.send(Request::Reset(confirmation));
+    }
+}
+
+/// Adds a report for the UI to take.
+fn say(published: &Mutex<Published>, report: Report) {
+    published
+        .lock()
+        .unwrap_or_else(PoisonError::into_inner)
+        .reports
+        .push(report);
+}
+
+/// A stream being pushed by the worker.
+struct Stream {
+    values: Vec<ChannelValues>,
+    next: usize,
+    phase: StreamPhase,
+}
+
+struct Worker {
+    inbox: Receiver<Request>,
+    published: Arc<Mutex<Published>>,
+    stop: Arc<StopShared>,
+    link: Option<Link>,
+    rate_hz: f64,
+    stream: Option<Stream>,
+}
+
+impl Worker {
+    fn run(&mut self) {
+        loop {
+            let pushing = self
+                .stream
+                .as_ref()
+                .is_some_and(|stream| stream.phase == StreamPhase::Streaming);
+            let request = if pushing {
+                match self.inbox.try_recv() {
+                    Ok(request) => Some(request),
+                    Err(TryRecvError::Empty) => None,
+                    Err(TryRecvError::Disconnected) => return,
+                }
+            } else {
+                match self.inbox.recv_timeout(IDLE_WAIT) {
+                    Ok(request) => Some(request),
+                    Err(RecvTimeoutError::Timeout) => None,
+                    Err(RecvTimeoutError::Disconnected) => return,
+                }
+            };
+            match request {
+                Some(Request::Quit) => return,
+                Some(request) => self.handle(request),
+                None => {}
+            }
+            self.push_one();
+            self.take_events();
+            self.publish();
+        }
+    }
+
+    fn handle(&mut self, request: Request) {
+        match request {
+            Request::ListPorts => {
+                self.with_view(|view| view.listing = true);
+                let listed = list_ports();
+                let mut published = self.lock();
+                published.view.listing = false;
+                match listed {
+                    Ok(ports) => {
+                        let count = ports.len();
+                        published.view.ports = ports;
+                        published
+                            .reports
+                            .push(Report::Info(format!("{count} serial port(s) found")));
+                    }
+                    Err(error) => published.reports.push(Report::Problem(error.to_string())),
+                }
+            }
+            Request::Connect {
+                device,
+                baud,
+                rate_hz,
+                arm,
+                start,
+                servo,
+            } => self.connect(&device, baud, rate_hz, arm.map(|arm| *arm), &start, &servo),
+            Request::Disconnect => {
+                self.disconnect();
+                self.say(Report::Info(
+                    "disconnected; the device was asked to hold".into(),
+                ));
+            }
+            Request::Stream { scene, arm } => self.start_stream(&scene, &arm),
+            Request::Pause => {
+                if let (Some(stream), Some(link)) = (&mut self.stream, &self.link)
+                    && stream.phase == StreamPhase::Streaming
+                {
+                    stream.phase = StreamPhase::Pausing;
+                    let _ = link.finish_stream();
+                }
+            }
+            Request::Resume => self.resume(),
+            Request::Quit => {}
+            Request::Reset(confirmation) => {
+                if let Some(link) = &self.link {
+                    match link.reset_after_stop(confirmation) {
+                        Ok(()) => self.say(Report::Info(
+                            "the device confirmed the reset; it holds until you stream".into(),
+                        )),
+                        Err(error) => self.say(Report::Problem(format!(
+                            "the device did not take the reset: {error}"
+                        ))),
+                    }
+                }
+            }
+        }
+    }
+
+    fn connect(
+        &mut self,
+        device: &Device,
+        baud: u32,
+        rate_hz: f64,
+        arm: Option<Arm>,
+        start: &[f64],
+        servo: &ServoModelOptions,
+    ) {
+        self.disconnect();
+        self.with_view(|view| view.connecting = true);
+        self.rate_hz = rate_hz;
+        let mut simulated = None;
+        let (name, transport): (String, Result<Box<dyn Transport>, String>) = match device {
+            Device::Simulated => {
+                let mut device = SimDevice::new(SimDeviceConfig::default());
+                if let Some(arm) = arm {
+                    match device.clone().with_arm(arm, servo, start) {
+                        Ok(with_arm) => device = with_arm,
+                        Err(error) => self.say(Report::Problem(format!(
+                            "the simulated device runs without the arm's servo model: {error}"
+                        ))),
+                    }
+                }
+                let transport = SimTransport::with_device(device);
+                simulated = Some(transport.device());
+                ("simulated device".into(), Ok(Box::new(transport)))
+            }
+            Device::Port(path) => (
+                path.clone(),
+                SerialTransport::open(path, baud)
+                    .map(|port| Box::new(port) as Box<dyn Transport>)
+                    .map_err(|error| error.to_string()),
+            ),
+        };
+        let options = StreamOptions {
+            period: Duration::from_secs_f64(1.0 / rate_hz.clamp(1.0, 1000.0)),
+            queue_capacity: QUEUE_AHEAD,
+            ..StreamOptions::default()
+        };
+        let connected = transport.and_then(|transport| {
+            Link::connect(transport, options).map_err(|error| error.to_string())
+        });
+        self.with_view(|view| view.connecting = false);
+        match connected {
+            Ok(link) => {
+                let stop = link.emergency_stop();
+                let mut handle = self
+                    .stop
+                    .handle
+                    .lock()
+                    .unwrap_or_else(PoisonError::into_inner);
+                if self.stop.latched.load(Ordering::SeqCst) {
+                    // The editor is stopped: so is a device connected now.
+                    stop.trigger();
+                }
+                *handle = Some(stop);
+                drop(handle);
+                let info = link.device();
+                self.link = Some(link);
+                let mut published = self.lock();
+                published.simulated = simulated;
+                published.view.connection = Some(Connection {
+                    name: name.clone(),
+                    info,
+                });
+                published.reports.push(Report::Info(format!(
+                    "connected to {name}: firmware {}, {} channels",
+                    info.firmware, info.channel_count
+                )));
+            }
+            Err(error) => self.say(Report::Problem(format!(
+                "cannot connect to {name}: {error}"
+            ))),
+        }
+    }
+
+    fn disconnect(&mut self) {
+        *self
+            .stop
+            .handle
+            .lock()
+            .unwrap_or_else(PoisonError::into_inner) = None;
+        self.stream = None;
+        self.link = None;
+        let mut published = self.lock();
+        published.simulated = None;
+        published.view.connection = None;
+        published.view.stats = None;
+        published.view.phase = StreamPhase::Idle;
+        published.view.progress = (0, 0);
+    }
+
+    fn start_stream(&mut self, scene: &Scene, arm: &Arm) {
+        let Some(link) = &self.link else {
+            self.say(Report::Problem(
+                "cannot stream: no device is connected".into(),
+            ));
+            return;
+        };
+        self.with_view(|view| view.phase = StreamPhase::Planning);
+        let planned = plan_task(arm, &task_of(scene, arm))
+            .map_err(|error| format!("cannot plan: {error}"))
+            .and_then(|plan| sampled_poses(scene, arm, &plan, self.rate_hz))
+            .and_then(|poses| device_setpoints(arm, &poses, &link.device()));
+        let setpoints = match planned {
+            Ok(setpoints) => setpoints,
+            Err(message) => {
+                self.with_view(|view| view.phase = StreamPhase::Ended);
+                self.say(Report::Problem(format!("cannot stream: {message}")));
+                return;
+            }
+        };
+        if let Err(error) = link.start_stream() {
+            self.with_view(|view| view.phase = StreamPhase::Ended);
+            self.say(Report::Problem(format!("cannot stream: {error}")));
+            return;
+        }
+        let total = setpoints.values.len();
+        self.with_view(|view| {
+            view.progress = (0, total);
+            view.clamped = setpoints.clamped;
+            view.worst_rounding_deg = setpoints.worst_rounding_deg;
+        });
+        self.stream = Some(Stream {
+            values: setpoints.values,
+            next: 0,
+            phase: StreamPhase::Streaming,
+        });
+        self.say(Report::Info(format!(
+            "streaming {total} setpoints at {} Hz",
+            self.rate_hz
+        )));
+    }
+
+    fn resume(&mut self) {
+        let (Some(stream), Some(link)) = (&mut self.stream, &self.link) else {
+            return;
+        };
+        if stream.phase != StreamPhase::Paused {
+            return;
+        }
+        match link.start_stream() {
+            Ok(()) => stream.phase = StreamPhase::Streaming,
+            Err(error) => {
+                stream.phase = StreamPhase::Ended;
+                say(
+                    &self.published,
+                    Report::Problem(format!("cannot resume: {error}")),
+                );
+            }
+        }
+    }
+
+    /// Pushes the next setpoint while streaming; waits at most one period while the link's
+    /// queue is full.
+    fn push_one(&mut self) {
+        let (Some(stream), Some(link)) = (&mut self.stream, &self.link) else {
+            return;
+        };
+        if stream.phase != StreamPhase::Streaming {
+            return;
+        }
+        let Some(values) = stream.values.get(stream.next) else {
+            stream.phase = StreamPhase::Pausing;
+            let _ = link.finish_stream();
+            return;
+        };
+        match link.push_setpoint(*values) {
+            Ok(()) => stream.next += 1,
+            Err(error) => {
+                stream.phase = StreamPhase::Ended;
+                let message = match error {
+                    LinkError::StopLatched => "stream ended by the emergency stop".to_owned(),
+                    other => format!("stream ended: {other}"),
+                };
+                say(&self.published, Report::Problem(message));
+            }
+        }
+    }
+
+    fn take_events(&mut self) {
+        let Some(link) = &self.link else { return };
+        while let Some(event) = link.next_event(Duration::ZERO) {
+            let report = match event {
+                LinkEvent::StreamFinished { .. } => match &mut self.stream {
+                    Some(stream) if stream.next >= stream.values.len() => {
+                        stream.phase = StreamPhase::Finished;
+                        Some(Report::Info("the sequence ran to its end".into()))
+                    }
+                    Some(stream) => {
+                        stream.phase = StreamPhase::Paused;
+                        // Keep the pulses as they are while paused.
+                        let _ = link.hold();
+                        Some(Report::Info(format!(
+                            "paused after {} setpoints; the device holds",
+                            stream.next
+                        )))
+                    }
+                    None => None,
+                },
+                LinkEvent::StopConfirmed { after } => {
+                    if let Some(stream) = &mut self.stream {
+                        stream.phase = StreamPhase::Ended;
+                    }
+                    Some(Report::Info(format!(
+                        "the device confirmed the emergency stop after {:.1} ms; it holds until \
+                         reset",
+                        after.as_secs_f64() * 1e3
+                    )))
+                }
+                LinkEvent::ResetDone => None,
+                LinkEvent::Lost(loss) => {
+                    if let Some(stream) = &mut self.stream {
+                        stream.phase = StreamPhase::Ended;
+                    }
+                    Some(Report::Problem(format!("link lost: {loss}")))
+                }
+            };
+            if let Some(report) = report {
+                say(&self.published, report);
+            }
+        }
+    }
+
+    fn publish(&mut self) {
+        let stats = self.link.as_ref().map(Link::stats);
+        let (phase, pushed) = self
+            .stream
+            .as_ref()
+            .map_or((None, None), |s| (Some(s.phase), Some(s.next)));
+        let mut published = self.lock();
+        if published.view.stats != stats {
+            published.view.stats = stats;
+        }
+        if let Some(phase) = phase {
+            published.view.phase = phase;
+        }
+        if let Some(pushed) = pushed {
+            published.view.progress.0 = pushed;
+        }
+    }
+
+    fn say(&self, report: Report) {
+        say(&self.published, report);
+    }
+
+    fn with_view(&self, change: impl FnOnce(&mut LinkView)) {
+        change(&mut self.lock().view);
+    }
+
+    fn lock(&self) -> std::sync::MutexGuard<'_, Published> {
+        self.published
+            .lock()
+            .unwrap_or_else(PoisonError::into_inner)
+    }
+}

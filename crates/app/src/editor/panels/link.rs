@@ -1,0 +1,385 @@
+//! The link panel: which device (the in-process simulated device or a serial port), connect
+//! and disconnect, what the device is and its faults, the streaming caution, stream and
+//! pause, statistics, and the arm's joints as the device moves them.
+
+use egui::{Color32, Grid, RichText, Ui};
+
+use armwright_link::{DeviceMode, Faults, LinkState};
+
+use crate::editor::command::Command;
+use crate::editor::device::{LinkAction, LinkView, StreamPhase};
+use crate::editor::state::EditorState;
+use crate::scene::{Device, pose_to_file_units};
+
+use super::status_bar::CAUTION;
+
+/// The button that acknowledges the caution.
+pub const ACKNOWLEDGE_LABEL: &str = "I have read the caution";
+
+/// Draws the link panel from the state and the link's view.
+pub fn link(ui: &mut Ui, state: &EditorState, view: &LinkView) -> Command {
+    let mut command = Command::None;
+    ui.heading("Device");
+    let connected = view.connection.is_some();
+    ui.add_enabled_ui(!connected && !view.connecting, |ui| {
+        if ui
+            .radio(
+                state.link_device == Device::Simulated,
+                "simulated device (in this program)",
+            )
+            .clicked()
+        {
+            command = Command::ChooseDevice(Device::Simulated);
+        }
+        for port in &view.ports {
+            let chosen = state.link_device == Device::Port(port.path.clone());
+            if ui
+                .radio(chosen, format!("{} — {}", port.path, port.description))
+                .clicked()
+            {
+                command = Command::ChooseDevice(Device::Port(port.path.clone()));
+            }
+        }
+        let label = if view.listing {
+            "Listing ports…"
+        } else {
+            "List serial ports"
+        };
+        if ui
+            .add_enabled(!view.listing, egui::Button::new(label))
+            .clicked()
+        {
+            command = Command::Link(LinkAction::ListPorts);
+        }
+    });
+    ui.horizontal(|ui| {
+        if connected {
+            if ui.button("Disconnect").clicked() {
+                command = Command::Link(LinkAction::Disconnect);
+            }
+        } else if ui
+            .add_enabled(!view.connecting, egui::Button::new("Connect"))
+            .clicked()
+        {
+            command = Command::Link(LinkAction::Connect(state.link_device.clone()));
+        }
+        if view.connecting {
+            ui.spinner();
+            ui.label("connecting…");
+        }
+    });
+    if let Some(connection) = &view.connection {
+        device_info(ui, view, connection);
+        ui.separator();
+        command = command.then(stream_controls(ui, state, view));
+        ui.separator();
+        statistics(ui, view);
+    } else {
+        ui.label("not connected");
+    }
+    if let Some(pose) = &state.device_pose {
+        ui.separator();
+        device_pose(ui, state, pose);
+        let limp = view
+            .stats
+            .as_ref()
+            .and_then(|stats| stats.last_status)
+            .is_some_and(|status| status.mode == DeviceMode::Limp);
+        if limp {
+            ui.label("No pulses: the servos are limp and the arm sags or falls under gravity.");
+        }
+    } else if view.arm_changed {
+        ui.separator();
+        ui.label("The arm changed since connecting: the simulated device still moves the old one. Disconnect and connect again to move this one.");
+    }
+    command
+}
+
+fn device_info(ui: &mut Ui, view: &LinkView, connection: &crate::editor::device::Connection) {
+    let info = &connection.info;
+    Grid::new("link device info").num_columns(2).show(ui, |ui| {
+        ui.label("connected to");
+        ui.label(&connection.name);
+        ui.end_row();
+        ui.label("firmware");
+        ui.label(info.firmware.as_str());
+        ui.end_row();
+        ui.label("channels");
+        ui.label(info.channel_count.to_string());
+        ui.end_row();
+        ui.label("pulse range");
+        ui.label(format!(
+            "{:.1}–{:.1} µs in {} µs steps",
+            info.us_from_units(info.min_pulse_units),
+            info.us_from_units(info.max_pulse_units),
+            info.us_from_units(1)
+        ));
+        ui.end_row();
+        ui.label("frame period");
+        ui.label(format!("{:.1} ms", f64::from(info.frame_period_us) / 1e3));
+        ui.end_row();
+        if let Some(status) = view.stats.as_ref().and_then(|stats| stats.last_status) {
+            ui.label("device mode");
+            ui.label(format!("{:?}", status.mode));
+            ui.end_row();
+            ui.label("faults");
+            let faults = fault_words(status.faults);
+            if faults.is_empty() {
+                ui.label("none");
+            } else {
+                ui.label(RichText::new(faults.join(", ")).color(Color32::from_rgb(255, 120, 80)));
+            }
+            ui.end_row();
+            ui.label("bad lines / checksums");
+            ui.label(format!("{} / {}", status.bad_lines, status.bad_checksums));
+            ui.end_row();
+            ui.label("clamped values / watchdog trips");
+            ui.label(format!(
+                "{} / {}",
+                status.clamped_values, status.watchdog_trips
+            ));
+            ui.end_row();
+        }
+    });
+    if let Some(loss) = view.stats.as_ref().and_then(|stats| stats.loss) {
+        ui.colored_label(
+            Color32::from_rgb(255, 120, 80),
+            format!("link lost: {loss}"),
+        );
+    }
+}
+
+/// The faults a status line reports, in words.
+fn fault_words(faults: Faults) -> Vec<&'static str> {
+    [
+        (Faults::WATCHDOG, "watchdog fired"),
+        (Faults::EMERGENCY_STOP, "emergency stop latched"),
+        (Faults::CLAMPED, "values clamped"),
+        (Faults::BAD_INPUT, "bad input"),
+        (Faults::OVERFLOW, "queue overflow"),
+    ]
+    .into_iter()
+    .filter(|(fault, _)| faults.contains(*fault))
+    .map(|(_, words)| words)
+    .collect()
+}
+
+fn stream_controls(ui: &mut Ui, state: &EditorState, view: &LinkView) -> Command {
+    let mut command = Command::None;
+    if !state.caution_acknowledged {
+        egui::Frame::group(ui.style())
+            .stroke(egui::Stroke::new(2.0, Color32::from_rgb(255, 200, 0)))
+            .show(ui, |ui| {
+                ui.label(
+                    RichText::new("CAUTION")
+                        .strong()
+                        .color(Color32::from_rgb(255, 200, 0)),
+                );
+                ui.label(CAUTION);
+                if ui.button(ACKNOWLEDGE_LABEL).clicked() {
+                    command = Command::AcknowledgeCaution;
+                }
+            });
+    }
+    let link_idle = view
+        .stats
+        .as_ref()
+        .is_some_and(|stats| stats.state == LinkState::Idle);
+    let may_move = state.caution_acknowledged && link_idle;
+    ui.horizontal(|ui| match view.phase {
+        StreamPhase::Streaming => {
+            if ui.button("Pause stream").clicked() {
+                command = Command::Link(LinkAction::Pause);
+            }
+        }
+        StreamPhase::Paused => {
+            if ui
+                .add_enabled(may_move, egui::Button::new("Resume stream"))
+                .clicked()
+            {
+                command = Command::Link(LinkAction::Resume);
+            }
+            if ui
+                .add_enabled(may_move, egui::Button::new("Stream from the start"))
+                .clicked()
+            {
+                command = Command::Link(LinkAction::Stream);
+            }
+        }
+        StreamPhase::Planning | StreamPhase::Pausing => {
+            ui.spinner();
+        }
+        StreamPhase::Idle | StreamPhase::Finished | StreamPhase::Ended => {
+            if ui
+                .add_enabled(may_move, egui::Button::new("Stream sequence"))
+                .on_disabled_hover_text(
+                    "needs the caution acknowledged, no stop latched and the link idle",
+                )
+                .clicked()
+            {
+                command = Command::Link(LinkAction::Stream);
+            }
+        }
+    });
+    let (pushed, total) = view.progress;
+    ui.label(format!(
+        "stream: {} ({pushed} of {total} setpoints queued)",
+        phase_words(view.phase)
+    ));
+    if total > 0 {
+        ui.add(egui::ProgressBar::new(pushed as f32 / total as f32));
+    }
+    if view.clamped > 0 {
+        ui.label(format!(
+            "{} setpoints limited to their servo's range",
+            view.clamped
+        ));
+    }
+    command
+}
+
+fn phase_words(phase: StreamPhase) -> &'static str {
+    match phase {
+        StreamPhase::Idle => "none",
+        StreamPhase::Planning => "planning",
+        StreamPhase::Streaming => "streaming",
+        StreamPhase::Pausing => "pausing",
+        StreamPhase::Paused => "paused, device holding",
+        StreamPhase::Finished => "ran to its end",
+        StreamPhase::Ended => "ended early",
+    }
+}
+
+fn statistics(ui: &mut Ui, view: &LinkView) {
+    let Some(stats) = &view.stats else { return };
+    let ms = |d: std::time::Duration| format!("{:.2} ms", d.as_secs_f64() * 1e3);
+    Grid::new("link statistics").num_columns(2).show(ui, |ui| {
+        ui.label("link");
+        ui.label(format!("{:?}", stats.state));
+        ui.end_row();
+        ui.label("frames sent / acknowledged");
+        ui.label(format!("{} / {}", stats.frames_sent, stats.frames_acked));
+        ui.end_row();
+        ui.label("late / dropped / underruns");
+        ui.label(format!(
+            "{} / {} / {}",
+            stats.frames_late, stats.frames_dropped, stats.underruns
+        ));
+        ui.end_row();
+        ui.label("jitter mean / p99 / max");
+        ui.label(format!(
+            "{} / {} / {}",
+            ms(stats.jitter_mean),
+            ms(stats.jitter_p99),
+            ms(stats.jitter_max)
+        ));
+        ui.end_row();
+        if let Some(latency) = stats.stop_write_latency {
+            ui.label("last stop written after");
+            ui.label(ms(latency));
+            ui.end_row();
+        }
+    });
+}
+
+fn device_pose(ui: &mut Ui, state: &EditorState, pose: &[f64]) {
+    ui.label(RichText::new("Arm as the device moves it").strong());
+    Grid::new("link device pose").num_columns(2).show(ui, |ui| {
+        for (index, value) in pose_to_file_units(&state.scene.arm, pose)
+            .into_iter()
+            .enumerate()
+        {
+            let unit = if state.is_prismatic(index) {
+                "mm"
+            } else {
+                "°"
+            };
+            ui.label(state.joint_label(index));
+            ui.label(format!("{value:.2} {unit}"));
+            ui.end_row();
+        }
+        let tool = state
+            .arm()
+            .and_then(|arm| armwright_kinematics::tool_pose(arm, pose).ok());
+        if let Some(tool) = tool {
+            let mm = tool.translation.vector * 1e3;
+            ui.label("tool point");
+            ui.label(format!("x {:.1}  y {:.1}  z {:.1} mm", mm.x, mm.y, mm.z));
+            ui.end_row();
+        }
+    });
+}
+
+#[cfg(test)]
+mod tests {
+    use armwright_link::{SimDevice, SimDeviceConfig, StreamStats};
+    use egui_kittest::Harness;
+    use egui_kittest::kittest::{NodeT, Queryable};
+
+    use super::*;
+    use crate::editor::device::Connection;
+    use crate::editor::sample::sample_scene;
+
+    type PanelState = (EditorState, LinkView, Vec<Command>);
+
+    fn connected() -> Harness<'static, PanelState> {
+        let view = LinkView {
+            connection: Some(Connection {
+                name: "simulated device".into(),
+                info: SimDevice::new(SimDeviceConfig::default()).info(),
+            }),
+            stats: Some(StreamStats::default()),
+            ..LinkView::default()
+        };
+        Harness::new_ui_state(
+            |ui, (state, view, commands): &mut PanelState| {
+                let command = link(ui, state, view);
+                if command != Command::None {
+                    commands.push(command);
+                }
+            },
+            (EditorState::new(sample_scene(), None), view, Vec::new()),
+        )
+    }
+
+    #[test]
+    fn the_caution_comes_before_the_first_stream() {
+        let mut harness = connected();
+        harness.run();
+        harness.get_by_label_contains("A software stop is not a safety device");
+        assert!(
+            harness
+                .get_by_label("Stream sequence")
+                .accesskit_node()
+                .is_disabled()
+        );
+        harness.get_by_label(ACKNOWLEDGE_LABEL).click();
+        harness.run();
+        assert_eq!(harness.state().2, vec![Command::AcknowledgeCaution]);
+
+        harness.state_mut().0.caution_acknowledged = true;
+        harness.run();
+        assert!(harness.query_by_label(ACKNOWLEDGE_LABEL).is_none());
+        harness.get_by_label("Stream sequence").click();
+        harness.run();
+        assert_eq!(
+            harness.state().2.last(),
+            Some(&Command::Link(LinkAction::Stream))
+        );
+    }
+
+    #[test]
+    fn the_device_pose_is_shown_in_the_scene_units() {
+        let mut harness = connected();
+        let pose = harness.state().0.pose.clone();
+        harness.state_mut().0.device_pose = Some(pose.clone());
+        harness.run();
+        let first = pose[0].to_degrees();
+        harness.get_by_label(&format!("{first:.2} °"));
+        let tool = harness.state().0.tool_point().expect("tool point") * 1e3;
+        harness.get_by_label(&format!(
+            "x {:.1}  y {:.1}  z {:.1} mm",
+            tool.x, tool.y, tool.z
+        ));
+    }
+}

@@ -1,0 +1,287 @@
+//! The link panel against the in-process simulated device: connect, the caution before the
+//! first stream, stream, the emergency stop by key with a text field focused (it reaches the
+//! link in the frame of the key and the device latches), a confirmed reset, and streaming again.
+
+mod editor_common;
+
+use std::sync::mpsc::Receiver;
+use std::time::{Duration, Instant};
+
+use armwright::editor::{
+    ACKNOWLEDGE_LABEL, ChannelStopLink, Editor, STOP_KEY, StopRequest, StopSource, StreamPhase,
+};
+use armwright_link::{DeviceMode, LinkState};
+use egui::{Event, Modifiers};
+use egui_kittest::Harness;
+use egui_kittest::kittest::{NodeT, Queryable};
+
+use editor_common::{harness, options, scratch};
+
+type EditorHarness = Harness<'static, Editor>;
+
+/// An editor on the sample scene, not yet connected, with the receiving end of its stop log.
+///
+/// The link panel's buttons are pressed through accessibility actions: the panel grows as the
+/// device's status arrives, so a pointer aimed in one frame may miss in the next.
+fn linked_editor(name: &str) -> (EditorHarness, Receiver<StopRequest>) {
+    let dir = scratch(name);
+    let (log, requests) = ChannelStopLink::new();
+    let editor = Editor::open(None, Box::new(log), options(&dir, 3600));
+    let mut harness = harness(editor);
+    harness.run_steps(3);
+    (harness, requests)
+}
+
+/// Steps (a frame every 10 ms) until `done` holds; panics after 10 s naming `what`.
+fn step_until(harness: &mut EditorHarness, what: &str, done: impl Fn(&Editor) -> bool) {
+    let start = Instant::now();
+    while !done(harness.state()) {
+        assert!(
+            start.elapsed() < Duration::from_secs(10),
+            "timed out waiting for {what}: {:?}",
+            harness.state().device().view()
+        );
+        std::thread::sleep(Duration::from_millis(10));
+        harness.step();
+    }
+}
+
+fn device_mode(editor: &Editor) -> Option<DeviceMode> {
+    let device = editor.device().simulated_device()?;
+    Some(device.lock().expect("device").mode())
+}
+
+fn frames_sent(editor: &Editor) -> u64 {
+    editor
+        .device()
+        .view()
+        .stats
+        .as_ref()
+        .map_or(0, |stats| stats.frames_sent)
+}
+
+fn link_state(editor: &Editor) -> Option<LinkState> {
+    editor
+        .device()
+        .view()
+        .stats
+        .as_ref()
+        .map(|stats| stats.state)
+}
+
+#[test]
+fn connect_acknowledge_stream_stop_by_key_reset_and_stream_again() {
+    let (mut harness, requests) = linked_editor("link-flow");
+
+    // Connect to the simulated device (the default choice).
+    harness.get_by_label("Connect").click_accesskit();
+    step_until(&mut harness, "the connection", |editor| {
+        link_state(editor) == Some(LinkState::Idle)
+    });
+    let joints = harness.state().state.joint_count();
+    step_until(&mut harness, "the device's arm pose", |editor| {
+        editor.state.device_pose.as_ref().map(Vec::len) == Some(joints)
+    });
+
+    // Streaming waits for the caution: the button is disabled, and clicking it sends nothing.
+    let stream = harness.get_by_label("Stream sequence");
+    assert!(stream.accesskit_node().is_disabled());
+    stream.click_accesskit();
+    harness.run_steps(5);
+    assert_eq!(harness.state().device().view().phase, StreamPhase::Idle);
+    assert_eq!(frames_sent(harness.state()), 0);
+    harness.get_by_label(ACKNOWLEDGE_LABEL).click_accesskit();
+    harness.run_steps(2);
+    assert!(harness.state().state.caution_acknowledged);
+
+    // Stream.
+    harness.get_by_label("Stream sequence").click_accesskit();
+    step_until(&mut harness, "setpoints on the way", |editor| {
+        frames_sent(editor) > 10
+    });
+    assert_eq!(device_mode(harness.state()), Some(DeviceMode::Driving));
+
+    // The stop key, with a text field holding the keyboard.
+    harness.get_by_label("name of waypoint 4").focus();
+    harness.run_steps(2);
+    assert!(harness.ctx.egui_wants_keyboard_input());
+    harness.event(Event::Key {
+        key: STOP_KEY,
+        physical_key: None,
+        pressed: true,
+        repeat: false,
+        modifiers: Modifiers::NONE,
+    });
+    let frame = harness.ctx.cumulative_frame_nr();
+    let frame_start = Instant::now();
+    harness.step();
+    let frame_end = Instant::now();
+    // In that frame the request was handed to the link's emergency-stop handle …
+    let (handed, at) = harness
+        .state()
+        .device()
+        .last_stop_handed()
+        .expect("the stop reached the link");
+    assert_eq!((handed.frame, handed.source), (frame, StopSource::Key));
+    assert!(frame_start <= at && at <= frame_end);
+    assert_eq!(requests.try_recv().map(|r| r.frame), Ok(frame));
+    // … and the link's thread wrote the stop line before that frame was over (it acts on
+    // the handle within a millisecond, ahead of the queued setpoints it drops); the device
+    // latched it.
+    step_until(&mut harness, "the device latched", |editor| {
+        device_mode(editor) == Some(DeviceMode::Stopped)
+            && link_state(editor) == Some(LinkState::Stopped)
+    });
+    let stats = harness
+        .state()
+        .device()
+        .view()
+        .stats
+        .clone()
+        .expect("stats");
+    let written_after = stats.stop_write_latency.expect("the stop line was written");
+    assert!(
+        at + written_after <= frame_end,
+        "stop line written {written_after:?} after the key, after its frame ended ({:?})",
+        frame_end - frame_start
+    );
+    let held = device_pulses(harness.state());
+    let sent = stats.frames_sent;
+    harness.run_steps(10);
+    std::thread::sleep(Duration::from_millis(100));
+    harness.run_steps(2);
+    assert_eq!(
+        frames_sent(harness.state()),
+        sent,
+        "no setpoint after the stop"
+    );
+    assert_eq!(device_pulses(harness.state()), held, "the device holds");
+    assert_eq!(harness.state().device().view().phase, StreamPhase::Ended);
+
+    // Streaming is refused while the stop is latched.
+    assert!(
+        harness
+            .get_by_label("Stream sequence")
+            .accesskit_node()
+            .is_disabled()
+    );
+
+    // A confirmed reset clears the editor's latch and the link's.
+    harness.get_by_label("Reset stop…").click();
+    harness.run_steps(3);
+    harness.get_by_label("Reset stop").click();
+    step_until(&mut harness, "the link reset", |editor| {
+        link_state(editor) == Some(LinkState::Idle)
+    });
+    assert_eq!(device_mode(harness.state()), Some(DeviceMode::Keeping));
+
+    // Streaming works again.
+    harness.get_by_label("Stream sequence").click_accesskit();
+    step_until(&mut harness, "streaming again", |editor| {
+        frames_sent(editor) > sent + 10
+    });
+    assert_eq!(device_mode(harness.state()), Some(DeviceMode::Driving));
+}
+
+fn device_pulses(editor: &Editor) -> Option<Vec<u16>> {
+    let device = editor.device().simulated_device()?;
+    let device = device.lock().expect("device");
+    device
+        .pulse_units()
+        .map(|values| values.as_slice().to_vec())
+}
+
+#[test]
+fn a_stop_latched_before_connecting_stops_the_device_connected_after() {
+    let (mut harness, _requests) = linked_editor("link-stop-first");
+    harness.event(Event::Key {
+        key: STOP_KEY,
+        physical_key: None,
+        pressed: true,
+        repeat: false,
+        modifiers: Modifiers::NONE,
+    });
+    harness.step();
+    assert!(harness.state().device().last_stop_handed().is_none());
+    harness.get_by_label("Connect").click_accesskit();
+    step_until(&mut harness, "the device latched", |editor| {
+        device_mode(editor) == Some(DeviceMode::Stopped)
+    });
+}
+
+#[test]
+fn pause_holds_the_device_and_resume_carries_on() {
+    let (mut harness, _requests) = linked_editor("link-pause");
+    harness.get_by_label("Connect").click_accesskit();
+    step_until(&mut harness, "the connection", |editor| {
+        link_state(editor) == Some(LinkState::Idle)
+    });
+    harness.get_by_label(ACKNOWLEDGE_LABEL).click_accesskit();
+    harness.run_steps(2);
+    harness.get_by_label("Stream sequence").click_accesskit();
+    step_until(&mut harness, "setpoints on the way", |editor| {
+        frames_sent(editor) > 10
+    });
+    harness.get_by_label("Pause stream").click_accesskit();
+    step_until(&mut harness, "the pause", |editor| {
+        editor.device().view().phase == StreamPhase::Paused
+            && device_mode(editor) == Some(DeviceMode::Keeping)
+    });
+    let (pushed, total) = harness.state().device().view().progress;
+    assert!(pushed < total, "paused part way: {pushed} of {total}");
+    let sent = frames_sent(harness.state());
+    std::thread::sleep(Duration::from_millis(100));
+    harness.run_steps(2);
+    assert_eq!(
+        frames_sent(harness.state()),
+        sent,
+        "nothing sent while paused"
+    );
+    harness.get_by_label("Resume stream").click_accesskit();
+    step_until(&mut harness, "streaming again", |editor| {
+        frames_sent(editor) > sent + 5 && device_mode(editor) == Some(DeviceMode::Driving)
+    });
+    assert!(harness.state().device().view().progress.0 > pushed);
+}
+
+#[test]
+fn serial_ports_are_listed_off_the_ui_thread() {
+    let (mut harness, _requests) = linked_editor("link-ports");
+    harness.get_by_label("List serial ports").click_accesskit();
+    step_until(&mut harness, "the port listing", |editor| {
+        editor
+            .state
+            .messages
+            .iter()
+            .any(|message| message.text.ends_with("serial port(s) found"))
+    });
+    // Every port found is offered with its description.
+    let ports = harness.state().device().view().ports.clone();
+    for port in ports {
+        harness.get_by_label_contains(&port.path);
+    }
+}
+
+#[test]
+fn the_device_pose_is_withdrawn_when_the_scene_has_another_arm() {
+    let (mut harness, _requests) = linked_editor("link-arm-changed");
+    harness.get_by_label("Connect").click_accesskit();
+    let joints = harness.state().state.joint_count();
+    step_until(&mut harness, "the device's arm pose", |editor| {
+        editor.state.device_pose.as_ref().map(Vec::len) == Some(joints)
+    });
+    let other = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("../../sample-scenes/cube-stacker.armwright.json");
+    let ctx = harness.ctx.clone();
+    let frame = ctx.cumulative_frame_nr();
+    harness
+        .state_mut()
+        .apply(&ctx, armwright::editor::Command::OpenPath(other), frame);
+    step_until(&mut harness, "the other scene", |editor| {
+        editor.state.file_path.is_some()
+    });
+    harness.run_steps(2);
+    assert_eq!(harness.state().state.device_pose, None);
+    assert!(harness.state().device().view().arm_changed);
+    harness.get_by_label_contains("Disconnect and connect again");
+}
