@@ -6,27 +6,32 @@
 //! `command.rs` is what panels ask for and how it changes the state; `history.rs` undo and
 //! redo; `estop.rs` the path a stop request takes out of the editor; `files.rs` file work off
 //! the UI thread; `recovery.rs` the autosaved copy; `sample.rs` the built-in scene;
-//! `panels/` one file per panel; `views/` the two to-scale views. This file is the shell:
+//! `retime_job.rs` retiming on a worker thread; `arm_form.rs` the arm settings form's fields and
+//! typed text; `panels/` one file per panel; `views/` the two to-scale views. This file is the shell:
 //! [`Editor::logic`] handles what must run whatever is on screen (the emergency-stop key first),
 //! [`Editor::ui`] draws the panels and applies their commands after the frame.
 
+mod arm_form;
 mod command;
 mod estop;
 mod files;
 mod history;
 mod panels;
 mod recovery;
+mod retime_job;
 mod sample;
 mod state;
 mod views;
 
+pub use arm_form::{ArmField, ArmForm, ArmTypeChoice, JointField};
 pub use command::{Command, Outside, WaypointField, apply};
 pub use estop::{ChannelStopLink, STOP_KEY, STOP_KEY_NAME, StopLink, StopRequest};
 pub use panels::{CAUTION, EMERGENCY_STOP_LABEL};
 pub use recovery::Recovery;
+pub use retime_job::{RetimeReport, RetimeRun, RetimeState, RunFigures, WaypointFigures};
 pub use sample::sample_scene;
 pub use state::{
-    BranchChoice, Dialog, EditorState, Level, Message, ReachStatus, StopSource, StopState,
+    BranchChoice, Dialog, EditorState, Level, Message, ReachStatus, StopSource, StopState, ToolsTab,
 };
 pub use views::{
     Camera, MapKey, MapLayer, Plane, Projection, RAMP_TOP, ReachLayers, SidePlane, TopPlane,
@@ -40,6 +45,7 @@ use std::time::Duration;
 use egui::{CentralPanel, Event, Key, Modifiers, Panel, Rect, ScrollArea, UiBuilder, pos2, vec2};
 
 use files::{FileResult, FileWorker, pick_file, problem_lines};
+use retime_job::RetimeWorker;
 
 /// How the editor is set up.
 #[derive(Debug, Clone)]
@@ -68,7 +74,11 @@ pub struct Editor {
     stop_link: Box<dyn StopLink>,
     cameras: [Camera; 2],
     reach: ReachLayers,
+    /// The arm the reach maps were started for: their key does not hold the arm, so a changed
+    /// arm starts them afresh.
+    mapped_arm: Option<crate::scene::ArmDoc>,
     files: FileWorker,
+    retime: RetimeWorker,
     options: EditorOptions,
     /// egui time (s) of the last autosave, or of the first frame.
     last_autosave: Option<f64>,
@@ -95,7 +105,9 @@ impl Editor {
             stop_link,
             cameras: [Camera::default(), Camera::default()],
             reach: ReachLayers::default(),
+            mapped_arm: None,
             files: FileWorker::default(),
+            retime: RetimeWorker::default(),
             options,
             last_autosave: None,
             recovered: None,
@@ -173,14 +185,19 @@ impl Editor {
         self.files.busy()
     }
 
+    /// Whether a retime is running on its worker thread.
+    pub fn is_retiming(&self) -> bool {
+        self.retime.busy()
+    }
+
     /// Whether the user chose to close the window.
     pub fn is_closing(&self) -> bool {
         self.closing
     }
 
     /// Work that runs every frame before any panel: the emergency-stop key (whatever has
-    /// keyboard focus, dialog open or not), undo and redo keys, finished file work, the close
-    /// question, autosave and the window title.
+    /// keyboard focus, dialog open or not), undo and redo keys, finished file work, retime
+    /// progress, the close question, autosave, the reach maps and the window title.
     pub fn logic(&mut self, ctx: &egui::Context) {
         let frame = ctx.cumulative_frame_nr();
         let stop_key = ctx.input(|input| {
@@ -216,6 +233,10 @@ impl Editor {
         if self.files.busy() {
             ctx.request_repaint_after(Duration::from_millis(50));
         }
+        self.retime.poll(&mut self.state);
+        if self.retime.busy() {
+            ctx.request_repaint_after(Duration::from_millis(50));
+        }
         if ctx.input(|input| input.viewport().close_requested()) && !self.closing {
             if self.state.dirty {
                 ctx.send_viewport_cmd(egui::ViewportCommand::CancelClose);
@@ -225,6 +246,14 @@ impl Editor {
             }
         }
         self.autosave(ctx);
+        if self.mapped_arm.as_ref() != Some(&self.state.scene.arm) {
+            if self.mapped_arm.is_some() {
+                // Maps of the old arm are wrong: drop them (a job still running for it reports
+                // to the dropped channel) so that both views start maps of the new one now.
+                self.reach = ReachLayers::default();
+            }
+            self.mapped_arm = Some(self.state.scene.arm.clone());
+        }
         self.reach.update(ctx, &self.state);
         let title = self.window_title();
         if title != self.title {
@@ -279,6 +308,32 @@ impl Editor {
                     .inner
             });
         commands.push(left.inner);
+        let tools = Panel::right("armwright tools")
+            .resizable(true)
+            .default_size(430.0)
+            .show(ui, |ui| {
+                let mut command = Command::None;
+                ui.horizontal(|ui| {
+                    for (tab, label) in [(ToolsTab::Retime, "Retime"), (ToolsTab::Arm, "Arm")] {
+                        if ui
+                            .selectable_label(self.state.tools_tab == tab, label)
+                            .clicked()
+                        {
+                            command = Command::ShowToolsTab(tab);
+                        }
+                    }
+                });
+                ui.separator();
+                let tab = ScrollArea::vertical()
+                    .id_salt("armwright tools scroll")
+                    .show(ui, |ui| match self.state.tools_tab {
+                        ToolsTab::Retime => panels::retime(ui, &self.state),
+                        ToolsTab::Arm => panels::arm_settings(ui, &self.state),
+                    })
+                    .inner;
+                command.then(tab)
+            });
+        commands.push(tools.inner);
         let views = CentralPanel::default().show(ui, |ui| {
             let rect = ui.available_rect_before_wrap();
             let gap = 6.0;
@@ -354,6 +409,7 @@ impl Editor {
             }
             Outside::Recover => {
                 if let Some(scene) = self.recovered.take() {
+                    self.retime.cancel();
                     let source = match &self.options.recovery {
                         Some(recovery) => recovery.source(),
                         None => None,
@@ -372,6 +428,15 @@ impl Editor {
                     recovery.discard();
                 }
             }
+            Outside::StartRetime { scene, settings } => match self.state.arm().cloned() {
+                Some(arm) => self.retime.start(ctx, *scene, arm, settings),
+                None => {
+                    self.state.retime.run = RetimeRun::Failed {
+                        reason: "cannot retime: the arm cannot be built".into(),
+                    };
+                }
+            },
+            Outside::CancelRetime => self.retime.cancel(),
         }
     }
 
@@ -379,6 +444,7 @@ impl Editor {
         match result {
             FileResult::Loaded { path, result } => match result {
                 Ok(scene) => {
+                    self.retime.cancel();
                     self.state.replace_scene(*scene, Some(path.clone()));
                     self.cameras = [Camera::default(), Camera::default()];
                     self.state

@@ -9,7 +9,9 @@ use armwright_kinematics::{
     torque_use,
 };
 
+use super::arm_form::ArmForm;
 use super::history::History;
+use super::retime_job::RetimeState;
 use crate::scene::{GripperState, JointKindDoc, Scene, build_arm, pose_from_file_units};
 
 /// How serious a message in the status bar is.
@@ -30,6 +32,15 @@ pub struct Message {
     pub level: Level,
     /// What happened, in words.
     pub text: String,
+}
+
+/// The tabs of the tools panel on the right.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum ToolsTab {
+    /// Retiming for a target overshoot and torque share.
+    Retime,
+    /// The arm's settings.
+    Arm,
 }
 
 /// Where an emergency-stop request came from.
@@ -169,6 +180,12 @@ pub struct EditorState {
     pub stop: StopState,
     /// The dialog shown over the window, if any.
     pub dialog: Option<Dialog>,
+    /// The tab shown in the tools panel.
+    pub tools_tab: ToolsTab,
+    /// The retime tab: target, run, result.
+    pub retime: RetimeState,
+    /// The arm settings form: typed text and its problems.
+    pub arm_form: ArmForm,
 }
 
 /// Most messages kept.
@@ -180,6 +197,7 @@ impl EditorState {
     pub fn new(scene: Scene, file_path: Option<PathBuf>) -> EditorState {
         let mut state = EditorState {
             saved_scene: Some(scene.clone()),
+            retime: RetimeState::for_scene(&scene),
             scene,
             arm: None,
             pose: Vec::new(),
@@ -197,6 +215,8 @@ impl EditorState {
             messages: Vec::new(),
             stop: StopState::Clear,
             dialog: None,
+            tools_tab: ToolsTab::Retime,
+            arm_form: ArmForm::default(),
         };
         state.rebuild_arm();
         let start = state
@@ -222,9 +242,11 @@ impl EditorState {
     pub(crate) fn replace_scene(&mut self, scene: Scene, file_path: Option<PathBuf>) {
         let messages = std::mem::take(&mut self.messages);
         let stop = self.stop;
+        let tab = self.tools_tab;
         *self = EditorState::new(scene, file_path);
         self.messages = messages;
         self.stop = stop;
+        self.tools_tab = tab;
     }
 
     /// The arm model, when the scene's arm could be built.
@@ -328,6 +350,26 @@ impl EditorState {
                 self.say(Level::Error, format!("the arm cannot be built: {problem}"));
             }
         }
+    }
+
+    /// After the scene's arm changed: rebuilds the arm model, keeps the pose (one position per
+    /// joint, new joints at home, each inside its limits) and recomputes what depends on it.
+    pub(crate) fn arm_changed(&mut self) {
+        self.rebuild_arm();
+        let count = self.joint_count();
+        let home = self.arm.as_ref().map(Arm::home_pose).unwrap_or_default();
+        self.pose.truncate(count);
+        while self.pose.len() < count {
+            self.pose
+                .push(home.get(self.pose.len()).copied().unwrap_or(0.0));
+        }
+        for joint in 0..count {
+            self.pose[joint] = self.clamp_to_limits(joint, self.pose[joint]);
+        }
+        self.branch = None;
+        self.branch_choices.clear();
+        self.reach = ReachStatus::Idle;
+        self.pose_changed();
     }
 
     /// Recomputes what depends on the pose: torque use and the held tool angle.
