@@ -11,11 +11,14 @@ use std::sync::Arc;
 use std::sync::atomic::{AtomicBool, AtomicU64, Ordering};
 use std::sync::mpsc::{Receiver, TryRecvError, channel};
 
-use armwright_kinematics::Arm;
+use armwright_kinematics::{Arm, gravity_torques, torque_use};
 use armwright_trajectory::{DryRun, RetimeError};
 
 use super::state::{EditorState, Level};
-use crate::scene::{Arrival, RetimeSettings, Scene, SceneRetime, Shaping, retime_scene};
+use crate::scene::{
+    Arrival, GripperState, RetimeSettings, Scene, SceneRetime, Shaping, pose_from_file_units,
+    retime_scene,
+};
 
 /// The retime tab's data: the target and the run.
 #[derive(Debug, Clone, PartialEq)]
@@ -207,8 +210,14 @@ impl RetimeReport {
 }
 
 /// Why a retime gave no timing, in words, naming the waypoint (1-based, as the sequence shows
-/// it) where one is at fault.
-fn failure(scene: &Scene, error: &RetimeError) -> String {
+/// it) where one is at fault. A plan refused for the torque share is traced to the first
+/// waypoint where a servo cannot hold the arm against gravity within that share.
+fn failure(scene: &Scene, arm: &Arm, torque_share: f64, error: &RetimeError) -> String {
+    if let RetimeError::Plan(reason) = error
+        && let Some(holding) = cannot_hold(scene, arm, torque_share)
+    {
+        return format!("target not met: {holding} ({reason})");
+    }
     match error {
         RetimeError::Unreachable {
             waypoint,
@@ -228,6 +237,36 @@ fn failure(scene: &Scene, error: &RetimeError) -> String {
         ),
         other => format!("cannot retime: {other}"),
     }
+}
+
+/// The first waypoint where a servo needs more than `torque_share` of its stall torque to hold
+/// the arm (and the payload, with the gripper closed) against gravity, in words.
+fn cannot_hold(scene: &Scene, arm: &Arm, torque_share: f64) -> Option<String> {
+    scene.waypoints.iter().enumerate().find_map(|(index, waypoint)| {
+        let pose = pose_from_file_units(&scene.arm, &waypoint.joints_deg_or_mm);
+        let payload = match waypoint.gripper {
+            GripperState::Closed => arm.payload_mass(),
+            GripperState::Open => 0.0,
+        };
+        let efforts = gravity_torques(arm, &pose, payload).ok()?;
+        let shares = torque_use(arm, &efforts, torque_share);
+        let (joint, share) = shares
+            .as_slice()
+            .iter()
+            .copied()
+            .enumerate()
+            .filter(|(_, share)| *share > 1.0)
+            .max_by(|a, b| a.1.total_cmp(&b.1))?;
+        Some(format!(
+            "at waypoint {} \"{}\", joint {} \"{}\" needs {:.0} % of its {:.0} % torque share just to hold against gravity",
+            index + 1,
+            waypoint.name,
+            joint + 1,
+            scene.arm.joints.get(joint).map_or("", |j| j.name.as_str()),
+            share * 100.0,
+            torque_share * 100.0
+        ))
+    })
 }
 
 /// How a worker's retime ended.
@@ -271,7 +310,9 @@ impl RetimeWorker {
                         JobEnd::Finished(Box::new(RetimeReport::of(scene, &settings, result)))
                     }
                     Err(RetimeError::Cancelled) => JobEnd::Cancelled,
-                    Err(error) => JobEnd::Failed(failure(&scene, &error)),
+                    Err(error) => {
+                        JobEnd::Failed(failure(&scene, &arm, settings.torque_share, &error))
+                    }
                 };
                 let _ = sender.send(end);
                 ctx.request_repaint();
@@ -357,7 +398,8 @@ mod tests {
             overshoot: 2.5e-3,
             torque_use: 0.4,
         };
-        let text = failure(&scene, &error);
+        let arm = crate::scene::build_arm(&scene.arm).expect("sample arm");
+        let text = failure(&scene, &arm, 0.5, &error);
         assert!(
             text.starts_with(&format!(
                 "target not met: waypoint 2 \"{}\"",
@@ -367,6 +409,28 @@ mod tests {
         );
         assert!(text.contains("5 % speed"), "{text}");
         assert!(text.contains("overshoot 2.50 mm"), "{text}");
+    }
+
+    #[test]
+    fn a_torque_share_too_small_to_hold_names_the_waypoint_and_joint() {
+        let scene = sample_scene();
+        let arm = crate::scene::build_arm(&scene.arm).expect("sample arm");
+        let settings = RetimeSettings {
+            max_overshoot_mm: 0.5,
+            torque_share: 0.05,
+            min_dwell_ms: 0.0,
+        };
+        let error = retime_scene(&scene, &arm, &settings, |_| true).expect_err("cannot hold");
+        assert!(matches!(error, RetimeError::Plan(_)), "{error:?}");
+        let text = failure(&scene, &arm, settings.torque_share, &error);
+        // The shoulder carries the most at the first waypoint (the command line says the same,
+        // 0-based: "joint 1 cannot hold waypoint 0").
+        let expected = format!(
+            "target not met: at waypoint 1 \"{}\", joint 2 \"{}\" needs ",
+            scene.waypoints[0].name, scene.arm.joints[1].name
+        );
+        assert!(text.starts_with(&expected), "{text}");
+        assert!(text.contains("of its 5 % torque share"), "{text}");
     }
 
     #[test]

@@ -196,7 +196,7 @@ fn report_view(ui: &mut Ui, report: &RetimeReport, stale: bool) -> Command {
             command = Command::DiscardRetime;
         }
     });
-    egui::CollapsingHeader::new("per waypoint")
+    egui::CollapsingHeader::new("per waypoint (before / after)")
         .default_open(true)
         .show(ui, |ui| {
             egui::ScrollArea::horizontal()
@@ -206,44 +206,55 @@ fn report_view(ui: &mut Ui, report: &RetimeReport, stale: bool) -> Command {
     command
 }
 
-/// Before and after per waypoint: speed share, dwell, overshoot (stops only), torque use.
+/// Column titles and widths of the per-waypoint table, in points.
+const COLUMNS: [(&str, f32); 6] = [
+    ("#", 28.0),
+    ("waypoint", 110.0),
+    ("speed share %", 88.0),
+    ("dwell ms", 76.0),
+    ("overshoot mm", 92.0),
+    ("torque use %", 84.0),
+];
+
+/// Height of one row of the per-waypoint table, in points.
+const ROW_HEIGHT: f32 = 18.0;
+
+/// Before and after per waypoint: speed share, dwell, overshoot (stops only), torque use. Only
+/// the rows in view are laid out, so a long sequence stays cheap to draw.
 fn waypoint_table(ui: &mut Ui, report: &RetimeReport) {
-    Grid::new("retime waypoints grid")
-        .num_columns(6)
-        .striped(true)
-        .spacing([10.0, 2.0])
-        .show(ui, |ui| {
-            for title in [
-                "#",
-                "waypoint",
-                "speed share %",
-                "dwell ms",
-                "overshoot mm",
-                "torque use %",
-            ] {
-                ui.label(RichText::new(title).strong());
-            }
-            ui.end_row();
-            for title in ["", "", "before / after", "", "", ""] {
-                ui.label(title);
-            }
-            ui.end_row();
-            for (index, waypoint) in report.waypoints.iter().enumerate() {
-                let change = |[before, after]: [f64; 2], decimals: usize| {
-                    format!("{before:.decimals$} / {after:.decimals$}")
+    let cell = |ui: &mut Ui, width: f32, text: RichText| {
+        ui.add_sized([width, ROW_HEIGHT - 2.0], egui::Label::new(text).truncate());
+    };
+    ui.horizontal(|ui| {
+        for (title, width) in COLUMNS {
+            cell(ui, width, RichText::new(title).strong());
+        }
+    });
+    egui::ScrollArea::vertical()
+        .id_salt("retime waypoint rows")
+        .max_height(320.0)
+        .auto_shrink([true, true])
+        .show_rows(ui, ROW_HEIGHT, report.waypoints.len(), |ui, rows| {
+            for index in rows {
+                let Some(waypoint) = report.waypoints.get(index) else {
+                    continue;
                 };
-                ui.label(format!("{}", index + 1));
-                ui.label(&waypoint.name);
-                ui.label(change(waypoint.speed_share_pct, 0));
-                if waypoint.stop {
-                    ui.label(change(waypoint.dwell_ms, 0));
-                    ui.label(change(waypoint.overshoot_mm, 2));
-                } else {
-                    ui.label("pass");
-                    ui.label("—");
-                }
-                ui.label(change(waypoint.torque_use_pct, 0));
-                ui.end_row();
+                let change = |[before, after]: [f64; 2], decimals: usize| {
+                    RichText::new(format!("{before:.decimals$} / {after:.decimals$}"))
+                };
+                ui.horizontal(|ui| {
+                    cell(ui, COLUMNS[0].1, RichText::new(format!("{}", index + 1)));
+                    cell(ui, COLUMNS[1].1, RichText::new(&waypoint.name));
+                    cell(ui, COLUMNS[2].1, change(waypoint.speed_share_pct, 0));
+                    if waypoint.stop {
+                        cell(ui, COLUMNS[3].1, change(waypoint.dwell_ms, 0));
+                        cell(ui, COLUMNS[4].1, change(waypoint.overshoot_mm, 2));
+                    } else {
+                        cell(ui, COLUMNS[3].1, RichText::new("pass"));
+                        cell(ui, COLUMNS[4].1, RichText::new("—"));
+                    }
+                    cell(ui, COLUMNS[5].1, change(waypoint.torque_use_pct, 0));
+                });
             }
         });
 }
