@@ -310,7 +310,7 @@ impl Editor {
         commands.push(left.inner);
         let tools = Panel::right("armwright tools")
             .resizable(true)
-            .default_size(430.0)
+            .default_size(450.0)
             .show(ui, |ui| {
                 let mut command = Command::None;
                 ui.horizontal(|ui| {

@@ -10,6 +10,9 @@ use crate::editor::command::Command;
 use crate::editor::state::EditorState;
 use crate::scene::ArmShape;
 
+/// Width of a number field, in points.
+const FIELD_WIDTH: f32 = 90.0;
+
 /// Colour of a problem.
 const PROBLEM: Color32 = Color32::from_rgb(255, 90, 70);
 
@@ -95,8 +98,10 @@ pub fn arm_settings(ui: &mut Ui, state: &EditorState) -> Command {
         if troubled {
             title = title.color(PROBLEM);
         }
+        // A joint with a problem stays open, so the field at fault is in view.
         CollapsingHeader::new(title)
             .id_salt(("arm joint", index))
+            .open(troubled.then_some(true))
             .show(ui, |ui| {
                 Grid::new(("joint fields", index))
                     .num_columns(3)
@@ -121,14 +126,12 @@ fn field_row(ui: &mut Ui, state: &EditorState, field: ArmField, prefix: &str) ->
     let problem = state.arm_form.problem_at(field, arm);
     let mut text = state.arm_form.text(field, arm);
     ui.label(label);
-    let mut edit = TextEdit::singleline(&mut text)
-        .desired_width(90.0)
-        .id_salt(("arm field", field));
+    let mut edit = TextEdit::singleline(&mut text).id_salt(("arm field", field));
     if problem.is_some() {
         edit = edit.text_color(PROBLEM);
     }
     let response = ui
-        .add(edit)
+        .add_sized([FIELD_WIDTH, 20.0], edit)
         .accessible_name(format!("{prefix}{label} ({unit})"));
     let response = match problem {
         Some(problem) => response.on_hover_text(problem.to_string()),

@@ -208,13 +208,16 @@ fn report_view(ui: &mut Ui, report: &RetimeReport, stale: bool) -> Command {
 
 /// Column titles and widths of the per-waypoint table, in points.
 const COLUMNS: [(&str, f32); 6] = [
-    ("#", 28.0),
-    ("waypoint", 110.0),
-    ("speed share %", 88.0),
-    ("dwell ms", 76.0),
-    ("overshoot mm", 92.0),
-    ("torque use %", 84.0),
+    ("#", 20.0),
+    ("waypoint", 84.0),
+    ("speed %", 58.0),
+    ("dwell ms", 62.0),
+    ("overshoot mm", 88.0),
+    ("torque %", 58.0),
 ];
+
+/// Space between the table's columns, in points.
+const COLUMN_GAP: f32 = 4.0;
 
 /// Height of one row of the per-waypoint table, in points.
 const ROW_HEIGHT: f32 = 18.0;
@@ -225,6 +228,7 @@ fn waypoint_table(ui: &mut Ui, report: &RetimeReport) {
     let cell = |ui: &mut Ui, width: f32, text: RichText| {
         ui.add_sized([width, ROW_HEIGHT - 2.0], egui::Label::new(text).truncate());
     };
+    ui.spacing_mut().item_spacing.x = COLUMN_GAP;
     ui.horizontal(|ui| {
         for (title, width) in COLUMNS {
             cell(ui, width, RichText::new(title).strong());
