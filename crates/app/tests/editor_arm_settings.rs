@@ -194,3 +194,52 @@ fn a_fifth_joint_is_added_and_removed_with_the_waypoints() {
     assert_eq!(harness.state().state.scene, original);
     assert_eq!(harness.state().state.pose.len(), 4);
 }
+
+#[test]
+fn every_sample_shows_its_arm_in_the_file_units() {
+    for (name, sliding) in [
+        ("pen-plotter", None),
+        ("cube-stacker", None),
+        ("peg-sorter", Some(2)),
+    ] {
+        let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
+            .join("../../sample-scenes")
+            .join(format!("{name}.armwright.json"));
+        let dir = editor_common::scratch(&format!("arm-{name}"));
+        let (link, _requests) = armwright::editor::ChannelStopLink::new();
+        let editor = Editor::open(
+            Some(path),
+            Box::new(link),
+            editor_common::options(&dir, 3600),
+        );
+        let mut harness = editor_common::harness(editor);
+        harness.run_steps(3);
+        harness.get_by_role_and_label(Role::Button, "Arm").click();
+        harness.run_steps(2);
+        let arm = harness.state().state.scene.arm.clone();
+        assert_eq!(
+            harness.get_by_label(UPPER_ARM).value(),
+            ArmField::UpperArm.value(&arm).map(|v| v.to_string()),
+            "{name}"
+        );
+        // Every joint opens to its limits, in mm for a sliding joint and degrees otherwise.
+        for (index, joint) in arm.joints.iter().enumerate() {
+            let header = format!("Joint {} {}", index + 1, joint.name);
+            harness.get_by_label(&header).click();
+            harness.run_steps(2);
+            let unit = if sliding == Some(index) { "mm" } else { "°" };
+            let label = format!("joint {} lowest position ({unit})", index + 1);
+            assert_eq!(
+                harness.get_by_label(&label).value(),
+                Some(joint.min.to_string()),
+                "{name}: {label}"
+            );
+            harness.get_by_label(&header).click();
+            harness.run_steps(2);
+        }
+        assert!(
+            harness.state().state.arm_form.problems().is_empty(),
+            "{name}"
+        );
+    }
+}

@@ -215,3 +215,36 @@ fn a_result_for_a_changed_scene_cannot_be_applied() {
     harness.run_steps(2);
     assert_ne!(harness.state().state.scene.waypoints, changed.waypoints);
 }
+
+#[test]
+fn every_sample_retimes_for_its_own_target() {
+    for name in [
+        "pen-plotter.armwright.json",
+        "cube-stacker.armwright.json",
+        "peg-sorter.armwright.json",
+    ] {
+        let path = common::sample(name);
+        let original: Scene = load(&path).unwrap();
+        let mut harness = editor_on(&format!("retime-{name}"), path);
+        harness.get_by_label("Run retime").click();
+        harness.run_steps(2);
+        wait_for_retime(&mut harness);
+        let RetimeRun::Finished(report) = &harness.state().state.retime.run else {
+            panic!("{name}: {:?}", harness.state().state.retime.run);
+        };
+        assert!(
+            report.after.worst_overshoot_mm <= original.timing.max_overshoot_mm,
+            "{name}"
+        );
+        assert!(report.after.worst_torque_use_pct <= 100.0, "{name}");
+        assert!(
+            report.after.cycle_time_s <= report.before.cycle_time_s,
+            "{name}"
+        );
+        let retimed = report.retimed.clone();
+        harness.get_by_label("Apply").click();
+        harness.run_steps(2);
+        assert_eq!(harness.state().state.scene, retimed, "{name}");
+        assert_eq!(harness.state().state.retime.run, RetimeRun::Idle);
+    }
+}
