@@ -4,13 +4,13 @@
 
 use std::path::Path;
 
-use armwright_trajectory::{Planner, RetimeError, TaskPlanner, retime};
+use armwright_trajectory::RetimeError;
 use serde_json::{Value, json};
 
 use super::Outcome;
 use super::report::{fail, load_scene, print_json, rounded};
 use super::simulate::summary_json;
-use crate::scene::{Shaping, dry_run_options_of, retime_target, save, task_of, with_timing};
+use crate::scene::{RetimeSettings, Shaping, retime_scene, save};
 
 /// What `retime` is asked for, in the command line's units.
 pub(crate) struct RetimeRequest<'a> {
@@ -57,16 +57,12 @@ pub(crate) fn run(file: &Path, request: &RetimeRequest<'_>, json: bool) -> Outco
         // Writing over the input is allowed only when asked by name; say so plainly.
         eprintln!("note: --write names the input file; it is replaced only if retiming succeeds");
     }
-    // The torque share bounds the plan's limits as well as the dry run.
-    let mut task = task_of(&scene, &arm);
-    task.limits.derating = torque_share;
-    let planner = TaskPlanner {
-        arm: &arm,
-        task: &task,
+    let settings = RetimeSettings {
+        max_overshoot_mm: request.max_overshoot_mm,
+        torque_share,
+        min_dwell_ms: request.min_dwell_ms,
     };
-    let target = retime_target(request.max_overshoot_mm, torque_share, request.min_dwell_ms);
-    let options = dry_run_options_of(&scene);
-    let result = retime(&arm, &planner, &task.timing(), &target, &options, |_| true);
+    let result = retime_scene(&scene, &arm, &settings, |_| true);
     let retimed = match result {
         Ok(retimed) => retimed,
         Err(error) => {
@@ -92,10 +88,7 @@ pub(crate) fn run(file: &Path, request: &RetimeRequest<'_>, json: bool) -> Outco
         }
     };
     if let Some(out) = request.write
-        && let Err(error) = save(
-            &retimed_scene(&scene, &retimed.timing, request, torque_share),
-            out,
-        )
+        && let Err(error) = save(&retimed.scene, out)
     {
         return fail(
             json,
@@ -104,11 +97,9 @@ pub(crate) fn run(file: &Path, request: &RetimeRequest<'_>, json: bool) -> Outco
             Outcome::Unreadable,
         );
     }
-    let before_timing = task.timing();
-    // Which runs from stop to stop the retimed plan shapes (the scene's timing.shaping).
-    let shaped_runs = planner
-        .plan(&retimed.timing)
-        .map_or(0, |(plan, _)| plan.shaped_runs());
+    let before_timing = &retimed.before;
+    let shaped_runs = retimed.shaped_runs;
+    let retimed = &retimed.retimed;
     if json {
         let waypoints: Vec<Value> = scene
             .waypoints
@@ -177,20 +168,6 @@ pub(crate) fn run(file: &Path, request: &RetimeRequest<'_>, json: bool) -> Outco
         }
     }
     Outcome::Done
-}
-
-/// The scene with the new timing and the target it was retimed for, so that simulating it gives
-/// the "after" figures.
-fn retimed_scene(
-    scene: &crate::scene::Scene,
-    timing: &armwright_trajectory::Timing,
-    request: &RetimeRequest<'_>,
-    torque_share: f64,
-) -> crate::scene::Scene {
-    let mut out = with_timing(scene, timing);
-    out.timing.torque_derating_pct = torque_share * 100.0;
-    out.timing.max_overshoot_mm = request.max_overshoot_mm;
-    out
 }
 
 fn shaping_word(shaping: Shaping) -> &'static str {

@@ -11,15 +11,17 @@ use nalgebra::Vector3;
 
 use armwright_link::ResetConfirmation;
 
+use super::arm_form::{ArmField, ArmTypeChoice, with_arm_type};
 use super::device::LinkAction;
 use super::estop::{StopLink, StopRequest};
 use super::history::{EditKey, Snapshot};
+use super::retime_job::RetimeRun;
 use super::state::{
     BranchChoice, Dialog, EditorState, Level, ReachStatus, StopSource, StopState, ToolsTab,
 };
 use crate::scene::{
-    Arrival, Device, GripperState, MoveKind, ProfileKind, Waypoint, pose_from_file_units,
-    position_to_file_unit,
+    Arrival, Device, GripperState, MoveKind, ProfileKind, RetimeSettings, Scene, Waypoint,
+    pose_from_file_units, position_to_file_unit, validate,
 };
 
 /// A revolute joint turning more than this in one drag step counts as a jump to another branch,
@@ -160,6 +162,30 @@ pub enum Command {
     Recover,
     /// Throw the recovery copy away.
     DiscardRecovery,
+    /// Set the retime target's largest overshoot, in mm (above 0).
+    SetRetimeOvershoot(f64),
+    /// Set the retime target's torque share, in % of stall torque (above 0, at most 100).
+    SetRetimeTorqueShare(f64),
+    /// Retime the sequence for the target (on a worker thread).
+    StartRetime,
+    /// Stop the running retime after its current dry run.
+    CancelRetime,
+    /// Put the finished retime's timing into the scene, as one undo step.
+    ApplyRetime,
+    /// Drop the finished retime's result.
+    DiscardRetime,
+    /// Text typed into one field of the arm settings: kept as typed, applied to the arm when the
+    /// scene with it is valid.
+    EditArmField {
+        /// The field.
+        field: ArmField,
+        /// The whole text now in it.
+        text: String,
+    },
+    /// The user left an arm settings field: the next edit starts a new undo step.
+    FinishArmField,
+    /// Switch the arm between the vertical articulated types (one undo step).
+    ChangeArmType(ArmTypeChoice),
 }
 
 impl Command {
@@ -201,6 +227,15 @@ pub enum Outside {
     DiscardRecovery,
     /// Hand this to the device link.
     Link(LinkAction),
+    /// Retime this scene on a worker thread.
+    StartRetime {
+        /// The scene as it was when asked.
+        scene: Box<Scene>,
+        /// The target.
+        settings: RetimeSettings,
+    },
+    /// Ask the running retime to stop.
+    CancelRetime,
 }
 
 /// Applies one command to the state. A stop request goes to `stop_link` at once, tagged with
@@ -319,7 +354,7 @@ pub fn apply(
         }
         Command::EditWaypoint { index, field } => {
             if index < state.scene.waypoints.len() && field_is_valid(&field) {
-                let key = EditKey {
+                let key = EditKey::Waypoint {
                     waypoint: index,
                     field: field.key(),
                 };
@@ -410,6 +445,47 @@ pub fn apply(
             state.dialog = None;
             outside.push(Outside::DiscardRecovery);
         }
+        Command::SetRetimeOvershoot(mm) => {
+            if mm.is_finite() && mm > 0.0 {
+                state.retime.max_overshoot_mm = mm;
+            }
+        }
+        Command::SetRetimeTorqueShare(pct) => {
+            if pct.is_finite() && pct > 0.0 && pct <= 100.0 {
+                state.retime.torque_share_pct = pct;
+            }
+        }
+        Command::StartRetime => start_retime(state, outside),
+        Command::CancelRetime => {
+            if let RetimeRun::Running { cancelling, .. } = &mut state.retime.run {
+                *cancelling = true;
+                outside.push(Outside::CancelRetime);
+            }
+        }
+        Command::ApplyRetime => apply_retime(state),
+        Command::DiscardRetime => {
+            if matches!(state.retime.run, RetimeRun::Finished(_)) {
+                state.retime.run = RetimeRun::Idle;
+                state.say(Level::Info, "discarded the retimed timing");
+            }
+        }
+        Command::EditArmField { field, text } => {
+            if let Some(arm) = state.arm_form.type_text(field, text, &state.scene) {
+                edit(state, Some(EditKey::Arm(field)), |state| {
+                    state.scene.arm = arm
+                });
+                state.arm_changed();
+            }
+        }
+        Command::FinishArmField => state.history.break_merge(),
+        Command::ChangeArmType(choice) => {
+            if let Some((scene, message)) = with_arm_type(&state.scene, choice) {
+                edit(state, None, |state| state.scene = scene);
+                state.arm_changed();
+                state.arm_form.arm_replaced(&state.scene);
+                state.say(Level::Info, message);
+            }
+        }
     }
 }
 
@@ -430,6 +506,64 @@ fn link_action(state: &mut EditorState, action: LinkAction, outside: &mut Vec<Ou
     } else {
         outside.push(Outside::Link(action));
     }
+}
+
+/// Starts a retime of the scene as it is, when it is valid and nothing is running.
+fn start_retime(state: &mut EditorState, outside: &mut Vec<Outside>) {
+    if state.retime.run.is_running() {
+        return;
+    }
+    let refusal = if state.arm.is_none() {
+        Some("cannot retime: the arm cannot be built".to_string())
+    } else if state.scene.waypoints.len() < 2 {
+        Some("cannot retime: the sequence needs at least two waypoints".to_string())
+    } else {
+        let problems = validate(&state.scene);
+        problems.first().map(|first| {
+            format!(
+                "cannot retime: the scene has {} problem(s), the first at {first}",
+                problems.len()
+            )
+        })
+    };
+    if let Some(reason) = refusal {
+        state.retime.run = RetimeRun::Failed { reason };
+        return;
+    }
+    state.retime.run = RetimeRun::Running {
+        progress: 0.0,
+        base: Box::new(state.scene.clone()),
+        cancelling: false,
+    };
+    outside.push(Outside::StartRetime {
+        scene: Box::new(state.scene.clone()),
+        settings: state.retime.settings(),
+    });
+}
+
+/// Writes a finished retime's timing into the scene as one undo step, unless the scene changed
+/// since the retime started.
+fn apply_retime(state: &mut EditorState) {
+    let RetimeRun::Finished(report) = &state.retime.run else {
+        return;
+    };
+    if report.base != state.scene {
+        state.say(
+            Level::Warning,
+            "the scene changed since this retime started: its result is stale; retime again",
+        );
+        return;
+    }
+    let retimed = report.retimed.clone();
+    let message = format!(
+        "applied the retimed timing: cycle {:.2} s, was {:.2} s (one undo step)",
+        report.after.cycle_time_s, report.before.cycle_time_s
+    );
+    edit(state, None, |state| state.scene = retimed);
+    // The torque share became the scene's derating: torque use at the pose follows it.
+    state.pose_changed();
+    state.retime.run = RetimeRun::Idle;
+    state.say(Level::Info, message);
 }
 
 /// Whether a number typed into a waypoint setting is one the scene file accepts.
@@ -460,10 +594,13 @@ fn snapshot(state: &EditorState) -> Snapshot {
 
 fn restore(state: &mut EditorState, snapshot: Snapshot) {
     let arm_changed = snapshot.scene.arm != state.scene.arm;
+    let timing_changed = snapshot.scene.timing != state.scene.timing;
     state.scene = snapshot.scene;
     state.selected_waypoint = snapshot.selected_waypoint;
     if arm_changed {
-        state.rebuild_arm();
+        state.arm_changed();
+        state.arm_form.arm_replaced(&state.scene);
+    } else if timing_changed {
         state.pose_changed();
     }
     state.scene_changed();

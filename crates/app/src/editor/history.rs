@@ -2,9 +2,10 @@
 //!
 //! A scene is a few kilobytes (tens of kilobytes with hundreds of waypoints), so a snapshot per
 //! edit is cheap and can never get out of step with the edit, as an inverse operation could.
-//! Repeated edits of the same field of the same waypoint (a drag on a number, typing a name)
-//! merge into one step.
+//! Repeated edits of the same field of the same waypoint (a drag on a number, typing a name), or
+//! of the same arm setting, merge into one step.
 
+use super::arm_form::ArmField;
 use crate::scene::Scene;
 
 /// Most undo steps kept.
@@ -26,11 +27,16 @@ pub(crate) struct History {
     last_key: Option<EditKey>,
 }
 
-/// Which field of which waypoint an edit changed; consecutive edits with the same key merge.
+/// Which field an edit changed; consecutive edits with the same key merge.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub(crate) struct EditKey {
-    pub waypoint: usize,
-    pub field: &'static str,
+pub(crate) enum EditKey {
+    /// One setting of one waypoint.
+    Waypoint {
+        waypoint: usize,
+        field: &'static str,
+    },
+    /// One field of the arm settings.
+    Arm(ArmField),
 }
 
 impl History {

@@ -7,10 +7,12 @@
 //! redo; `estop.rs` the path a stop request takes out of the editor; `device.rs` the link to
 //! a device and its worker thread (connect, stream, pause, reset); `files.rs` file work off
 //! the UI thread; `recovery.rs` the autosaved copy; `sample.rs` the built-in scene;
-//! `panels/` one file per panel; `views/` the two to-scale views. This file is the shell:
+//! `retime_job.rs` retiming on a worker thread; `arm_form.rs` the arm settings form's fields and
+//! typed text; `panels/` one file per panel; `views/` the two to-scale views. This file is the shell:
 //! [`Editor::logic`] handles what must run whatever is on screen (the emergency-stop key first),
 //! [`Editor::ui`] draws the panels and applies their commands after the frame.
 
+mod arm_form;
 mod command;
 mod device;
 mod estop;
@@ -18,15 +20,18 @@ mod files;
 mod history;
 mod panels;
 mod recovery;
+mod retime_job;
 mod sample;
 mod state;
 mod views;
 
+pub use arm_form::{ArmField, ArmForm, ArmTypeChoice, JointField};
 pub use command::{Command, Outside, WaypointField, apply};
 pub use device::{Connection, DeviceLink, LinkAction, LinkStopLink, LinkView, StreamPhase};
 pub use estop::{ChannelStopLink, STOP_KEY, STOP_KEY_NAME, StopLink, StopRequest};
 pub use panels::{ACKNOWLEDGE_LABEL, CAUTION, EMERGENCY_STOP_LABEL};
 pub use recovery::Recovery;
+pub use retime_job::{RetimeReport, RetimeRun, RetimeState, RunFigures, WaypointFigures};
 pub use sample::sample_scene;
 pub use state::{
     BranchChoice, Dialog, EditorState, Level, Message, ReachStatus, StopSource, StopState, ToolsTab,
@@ -44,6 +49,7 @@ use egui::{CentralPanel, Event, Key, Modifiers, Panel, Rect, ScrollArea, UiBuild
 
 use estop::StopPair;
 use files::{FileResult, FileWorker, pick_file, problem_lines};
+use retime_job::RetimeWorker;
 
 /// How often the window is redrawn while a device is connected, to follow its arm and
 /// statistics.
@@ -83,7 +89,11 @@ pub struct Editor {
     device_stop: LinkStopLink,
     cameras: [Camera; 2],
     reach: ReachLayers,
+    /// The arm the reach maps were started for: their key does not hold the arm, so a changed
+    /// arm starts them afresh.
+    mapped_arm: Option<crate::scene::ArmDoc>,
     files: FileWorker,
+    retime: RetimeWorker,
     options: EditorOptions,
     /// egui time (s) of the last autosave, or of the first frame.
     last_autosave: Option<f64>,
@@ -115,7 +125,9 @@ impl Editor {
             device_stop,
             cameras: [Camera::default(), Camera::default()],
             reach: ReachLayers::default(),
+            mapped_arm: None,
             files: FileWorker::default(),
+            retime: RetimeWorker::default(),
             options,
             last_autosave: None,
             recovered: None,
@@ -211,14 +223,19 @@ impl Editor {
         self.files.busy()
     }
 
+    /// Whether a retime is running on its worker thread.
+    pub fn is_retiming(&self) -> bool {
+        self.retime.busy()
+    }
+
     /// Whether the user chose to close the window.
     pub fn is_closing(&self) -> bool {
         self.closing
     }
 
     /// Work that runs every frame before any panel: the emergency-stop key (whatever has
-    /// keyboard focus, dialog open or not), undo and redo keys, finished file work, the close
-    /// question, autosave and the window title.
+    /// keyboard focus, dialog open or not), undo and redo keys, finished file work, retime
+    /// progress, the close question, autosave, the reach maps and the window title.
     pub fn logic(&mut self, ctx: &egui::Context) {
         let frame = ctx.cumulative_frame_nr();
         let stop_key = ctx.input(|input| {
@@ -254,6 +271,10 @@ impl Editor {
         if self.files.busy() {
             ctx.request_repaint_after(Duration::from_millis(50));
         }
+        self.retime.poll(&mut self.state);
+        if self.retime.busy() {
+            ctx.request_repaint_after(Duration::from_millis(50));
+        }
         if ctx.input(|input| input.viewport().close_requested()) && !self.closing {
             if self.state.dirty {
                 ctx.send_viewport_cmd(egui::ViewportCommand::CancelClose);
@@ -264,6 +285,14 @@ impl Editor {
         }
         self.autosave(ctx);
         self.follow_device(ctx);
+        if self.mapped_arm.as_ref() != Some(&self.state.scene.arm) {
+            if self.mapped_arm.is_some() {
+                // Maps of the old arm are wrong: drop them (a job still running for it reports
+                // to the dropped channel) so that both views start maps of the new one now.
+                self.reach = ReachLayers::default();
+            }
+            self.mapped_arm = Some(self.state.scene.arm.clone());
+        }
         self.reach.update(ctx, &self.state);
         let title = self.window_title();
         if title != self.title {
@@ -335,15 +364,22 @@ impl Editor {
             });
         commands.push(left.inner);
         let tools = Panel::right("armwright tools")
-            .default_size(340.0)
+            .resizable(true)
+            .default_size(450.0)
             .show(ui, |ui| {
                 let mut command = Command::None;
                 ui.horizontal(|ui| {
-                    if ui
-                        .selectable_label(self.state.tools_tab == ToolsTab::Link, "Link")
-                        .clicked()
-                    {
-                        command = Command::ShowToolsTab(ToolsTab::Link);
+                    for (tab, label) in [
+                        (ToolsTab::Link, "Link"),
+                        (ToolsTab::Retime, "Retime"),
+                        (ToolsTab::Arm, "Arm"),
+                    ] {
+                        if ui
+                            .selectable_label(self.state.tools_tab == tab, label)
+                            .clicked()
+                        {
+                            command = Command::ShowToolsTab(tab);
+                        }
                     }
                 });
                 ui.separator();
@@ -351,6 +387,8 @@ impl Editor {
                     .id_salt("armwright tools scroll")
                     .show(ui, |ui| match self.state.tools_tab {
                         ToolsTab::Link => panels::link(ui, &self.state, self.device.view()),
+                        ToolsTab::Retime => panels::retime(ui, &self.state),
+                        ToolsTab::Arm => panels::arm_settings(ui, &self.state),
                     })
                     .inner;
                 command.then(shown)
@@ -429,6 +467,7 @@ impl Editor {
             }
             Outside::Recover => {
                 if let Some(scene) = self.recovered.take() {
+                    self.retime.cancel();
                     let source = match &self.options.recovery {
                         Some(recovery) => recovery.source(),
                         None => None,
@@ -448,6 +487,15 @@ impl Editor {
                 }
             }
             Outside::Link(action) => self.request_link(action),
+            Outside::StartRetime { scene, settings } => match self.state.arm().cloned() {
+                Some(arm) => self.retime.start(ctx, *scene, arm, settings),
+                None => {
+                    self.state.retime.run = RetimeRun::Failed {
+                        reason: "cannot retime: the arm cannot be built".into(),
+                    };
+                }
+            },
+            Outside::CancelRetime => self.retime.cancel(),
         }
     }
 
@@ -455,6 +503,7 @@ impl Editor {
         match result {
             FileResult::Loaded { path, result } => match result {
                 Ok(scene) => {
+                    self.retime.cancel();
                     self.state.replace_scene(*scene, Some(path.clone()));
                     self.cameras = [Camera::default(), Camera::default()];
                     self.state

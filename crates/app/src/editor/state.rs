@@ -9,7 +9,9 @@ use armwright_kinematics::{
     torque_use,
 };
 
+use super::arm_form::ArmForm;
 use super::history::History;
+use super::retime_job::RetimeState;
 use crate::scene::{Device, GripperState, JointKindDoc, Scene, build_arm, pose_from_file_units};
 
 /// How serious a message in the status bar is.
@@ -61,6 +63,10 @@ pub enum ToolsTab {
     /// The device: connect, stream, statistics.
     #[default]
     Link,
+    /// Retiming for a target overshoot and torque share.
+    Retime,
+    /// The arm's settings.
+    Arm,
 }
 
 /// Why the last drag of the tool point could or could not move the arm.
@@ -186,6 +192,10 @@ pub struct EditorState {
     /// The joint positions of the arm as the connected simulated device moves it (from its
     /// servo model), rad (revolute) or m (prismatic); `None` when no such device is connected.
     pub device_pose: Option<Vec<f64>>,
+    /// The retime tab: target, run, result.
+    pub retime: RetimeState,
+    /// The arm settings form: typed text and its problems.
+    pub arm_form: ArmForm,
 }
 
 /// Most messages kept.
@@ -197,6 +207,7 @@ impl EditorState {
     pub fn new(scene: Scene, file_path: Option<PathBuf>) -> EditorState {
         let mut state = EditorState {
             saved_scene: Some(scene.clone()),
+            retime: RetimeState::for_scene(&scene),
             scene,
             arm: None,
             pose: Vec::new(),
@@ -218,6 +229,7 @@ impl EditorState {
             link_device: Device::Simulated,
             caution_acknowledged: false,
             device_pose: None,
+            arm_form: ArmForm::default(),
         };
         state.rebuild_arm();
         let start = state
@@ -357,6 +369,26 @@ impl EditorState {
                 self.say(Level::Error, format!("the arm cannot be built: {problem}"));
             }
         }
+    }
+
+    /// After the scene's arm changed: rebuilds the arm model, keeps the pose (one position per
+    /// joint, new joints at home, each inside its limits) and recomputes what depends on it.
+    pub(crate) fn arm_changed(&mut self) {
+        self.rebuild_arm();
+        let count = self.joint_count();
+        let home = self.arm.as_ref().map(Arm::home_pose).unwrap_or_default();
+        self.pose.truncate(count);
+        while self.pose.len() < count {
+            self.pose
+                .push(home.get(self.pose.len()).copied().unwrap_or(0.0));
+        }
+        for joint in 0..count {
+            self.pose[joint] = self.clamp_to_limits(joint, self.pose[joint]);
+        }
+        self.branch = None;
+        self.branch_choices.clear();
+        self.reach = ReachStatus::Idle;
+        self.pose_changed();
     }
 
     /// Recomputes what depends on the pose: torque use and the held tool angle.

@@ -4,8 +4,8 @@
 
 use armwright_kinematics::{Arm, MAX_JOINTS};
 use armwright_trajectory::{
-    DryRunOptions, LimitSettings, ProfileShape, RetimeTarget, ServoModelOptions, ShaperKind, Task,
-    TaskWaypoint, Timing as TaskTiming,
+    DryRunOptions, LimitSettings, Planner, ProfileShape, RetimeError, RetimeTarget, Retimed,
+    ServoModelOptions, ShaperKind, Task, TaskPlanner, TaskWaypoint, Timing as TaskTiming, retime,
 };
 
 use super::document::{Arrival, GripperState, JointKindDoc, MoveKind, ProfileKind, Scene, Shaping};
@@ -111,6 +111,73 @@ pub fn with_timing(scene: &Scene, timing: &TaskTiming) -> Scene {
     out
 }
 
+/// What a retiming of a scene's sequence must meet, in the scene's units.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct RetimeSettings {
+    /// Largest allowed tool-point overshoot at any stop, in mm (above 0).
+    pub max_overshoot_mm: f64,
+    /// Share of each servo's stall torque the plan and the dry run may use, (0, 1].
+    pub torque_share: f64,
+    /// Shortest dwell at a stop, in ms (0 or more).
+    pub min_dwell_ms: f64,
+}
+
+/// What retiming a scene gave.
+#[derive(Debug, Clone)]
+pub struct SceneRetime {
+    /// The timing found and the dry runs before and after.
+    pub retimed: Retimed,
+    /// The timing the scene had (speed shares 0–1, dwells in s), one entry per waypoint.
+    pub before: TaskTiming,
+    /// The scene with the timing found and the target it was retimed for written into it.
+    pub scene: Scene,
+    /// How many runs from stop to stop the retimed plan shapes (the scene's `timing.shaping`).
+    pub shaped_runs: usize,
+}
+
+/// Retimes a scene's sequence on `arm` (built from `scene.arm`): the fastest speed shares and
+/// dwells whose dry run keeps every stop's overshoot and every servo's torque use within
+/// `settings`. The command line and the editor both retime through here.
+///
+/// `progress(share_done)` is called after every dry run with the share of the work done (0–1);
+/// returning `false` cancels.
+///
+/// # Errors
+/// [`RetimeError::Unreachable`] naming the waypoint (0-based) that cannot meet the target,
+/// [`RetimeError::Cancelled`], [`RetimeError::Target`] for unusable settings, or a planning or
+/// dry-run failure.
+pub fn retime_scene(
+    scene: &Scene,
+    arm: &Arm,
+    settings: &RetimeSettings,
+    progress: impl FnMut(f64) -> bool,
+) -> Result<SceneRetime, RetimeError> {
+    // The torque share bounds the plan's limits as well as the dry run.
+    let mut task = task_of(scene, arm);
+    task.limits.derating = settings.torque_share;
+    let planner = TaskPlanner { arm, task: &task };
+    let target = retime_target(
+        settings.max_overshoot_mm,
+        settings.torque_share,
+        settings.min_dwell_ms,
+    );
+    let options = dry_run_options_of(scene);
+    let before = task.timing();
+    let retimed = retime(arm, &planner, &before, &target, &options, progress)?;
+    let shaped_runs = planner
+        .plan(&retimed.timing)
+        .map_or(0, |(plan, _)| plan.shaped_runs());
+    let mut out = with_timing(scene, &retimed.timing);
+    out.timing.torque_derating_pct = settings.torque_share * 100.0;
+    out.timing.max_overshoot_mm = settings.max_overshoot_mm;
+    Ok(SceneRetime {
+        retimed,
+        before,
+        scene: out,
+        shaped_runs,
+    })
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -173,5 +240,47 @@ mod tests {
         let again = task_of(&written, &arm).timing();
         assert!((again.speed_share[2] - 0.375).abs() < 1e-15);
         assert!((again.dwell[2] - 0.12).abs() < 1e-15);
+    }
+
+    #[test]
+    fn a_retimed_scene_carries_the_timing_and_the_target() {
+        let scene = sample("pen-plotter.armwright.json");
+        let arm = build_arm(&scene.arm).expect("sample arm");
+        let settings = RetimeSettings {
+            max_overshoot_mm: 0.4,
+            torque_share: 0.45,
+            min_dwell_ms: 0.0,
+        };
+        let result = retime_scene(&scene, &arm, &settings, |_| true).expect("retimes");
+        let again = task_of(&result.scene, &arm).timing();
+        for (a, b) in again
+            .speed_share
+            .iter()
+            .zip(&result.retimed.timing.speed_share)
+        {
+            assert!((a - b).abs() < 1e-12);
+        }
+        assert_eq!(result.before, task_of(&scene, &arm).timing());
+        assert_eq!(result.scene.timing.max_overshoot_mm, 0.4);
+        assert!((result.scene.timing.torque_derating_pct - 45.0).abs() < 1e-12);
+        assert!(result.retimed.after.worst_overshoot() <= 0.4e-3);
+    }
+
+    #[test]
+    fn a_refused_progress_cancels_the_retime() {
+        let scene = sample("pen-plotter.armwright.json");
+        let arm = build_arm(&scene.arm).expect("sample arm");
+        let settings = RetimeSettings {
+            max_overshoot_mm: 0.5,
+            torque_share: 0.5,
+            min_dwell_ms: 0.0,
+        };
+        let mut calls = 0;
+        let result = retime_scene(&scene, &arm, &settings, |_| {
+            calls += 1;
+            calls < 3
+        });
+        assert!(matches!(result, Err(RetimeError::Cancelled)), "{result:?}");
+        assert_eq!(calls, 3);
     }
 }

@@ -4,20 +4,25 @@
 //! Naming scheme: the file is named for what the panel shows: `top_bar.rs` (emergency stop,
 //! files, undo), `joint_controls.rs`, `tool_point.rs` (drag feedback, tool angle, branches,
 //! torque use), `sequence.rs` (waypoints), `status_bar.rs` (messages and cautions),
-//! `dialogs.rs` (questions shown over the window, never over the emergency stop), `link.rs`
-//! (the device: connect, caution, stream, statistics; a tab of the tools panel).
+//! `dialogs.rs` (questions shown over the window, never over the emergency stop); the tools
+//! panel's tabs `link.rs` (the device: connect, caution, stream, statistics), `retime.rs` and
+//! `arm_settings.rs`.
 
+mod arm_settings;
 mod dialogs;
 mod joint_controls;
 mod link;
+mod retime;
 mod sequence;
 mod status_bar;
 mod tool_point;
 mod top_bar;
 
+pub use arm_settings::arm_settings;
 pub use dialogs::dialogs;
 pub use joint_controls::joint_controls;
 pub use link::{ACKNOWLEDGE_LABEL, link};
+pub use retime::retime;
 pub use sequence::sequence;
 pub use status_bar::{CAUTION, status_bar};
 pub use tool_point::tool_point;

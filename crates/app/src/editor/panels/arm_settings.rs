@@ -1,0 +1,149 @@
+//! The arm tab: the arm type, link lengths, masses and payload, gripper pulses, and per joint its
+//! limits, servo ratings and calibration, in the scene file's units. Every problem with what was
+//! typed is listed with its field path; a field with a problem shows in red and keeps its text,
+//! and the arm keeps its last valid settings until the form is valid again.
+
+use egui::{CollapsingHeader, Color32, Grid, RichText, TextEdit, Ui};
+
+use crate::editor::arm_form::{ArmField, ArmTypeChoice};
+use crate::editor::command::Command;
+use crate::editor::state::EditorState;
+use crate::scene::ArmShape;
+
+/// Width of a number field, in points.
+const FIELD_WIDTH: f32 = 90.0;
+
+/// Colour of a problem.
+const PROBLEM: Color32 = Color32::from_rgb(255, 90, 70);
+
+/// Draws the arm tab.
+pub fn arm_settings(ui: &mut Ui, state: &EditorState) -> Command {
+    let mut command = Command::None;
+    let arm = &state.scene.arm;
+    ui.heading("Arm settings");
+    ui.label(
+        "Values in the scene file's units. A value that makes the scene invalid stays here and is \
+         listed; the arm keeps its last valid settings until every problem is fixed.",
+    );
+    let problems = state.arm_form.problems();
+    if !problems.is_empty() {
+        ui.add_space(4.0);
+        ui.label(
+            RichText::new(format!(
+                "{} problem(s), not applied to the arm:",
+                problems.len()
+            ))
+            .color(PROBLEM)
+            .strong(),
+        );
+        for problem in problems {
+            ui.colored_label(PROBLEM, problem.to_string());
+        }
+    }
+    ui.add_space(6.0);
+    ui.horizontal(|ui| {
+        ui.label("type");
+        match &arm.shape {
+            ArmShape::Articulated4(_) | ArmShape::Articulated5(_) => {
+                let five = matches!(arm.shape, ArmShape::Articulated5(_));
+                if ui
+                    .selectable_label(!five, "articulated, 4 joints")
+                    .clicked()
+                    && five
+                {
+                    command = Command::ChangeArmType(ArmTypeChoice::Articulated4);
+                }
+                if ui
+                    .selectable_label(five, "articulated, 5 joints")
+                    .on_hover_text("adds a wrist roll with a copy of the wrist's servo")
+                    .clicked()
+                    && !five
+                {
+                    command = Command::ChangeArmType(ArmTypeChoice::Articulated5);
+                }
+            }
+            ArmShape::Scara(_) => {
+                ui.label("horizontal-jointed (SCARA type), 4 joints")
+                    .on_hover_text(
+                        "its lift slides, so its joints carry over to no other built-in type",
+                    );
+            }
+            ArmShape::ChainDh { .. } | ArmShape::ChainOriginAxis { .. } => {
+                ui.label(format!(
+                    "chain of {} joints (its geometry is set in the scene file)",
+                    arm.joints.len()
+                ));
+            }
+        }
+    });
+    CollapsingHeader::new("Lengths, masses, gripper")
+        .default_open(true)
+        .show(ui, |ui| {
+            Grid::new("arm fields")
+                .num_columns(3)
+                .spacing([8.0, 4.0])
+                .show(ui, |ui| {
+                    for field in ArmField::arm_fields(arm) {
+                        let row = field_row(ui, state, field, "");
+                        command = std::mem::replace(&mut command, Command::None).then(row);
+                    }
+                });
+        });
+    for (index, joint) in arm.joints.iter().enumerate() {
+        let fields = ArmField::joint_fields(arm, index);
+        let troubled = fields
+            .iter()
+            .any(|field| state.arm_form.problem_at(*field, arm).is_some());
+        let mut title = RichText::new(format!("Joint {} {}", index + 1, joint.name));
+        if troubled {
+            title = title.color(PROBLEM);
+        }
+        // A joint with a problem stays open, so the field at fault is in view.
+        CollapsingHeader::new(title)
+            .id_salt(("arm joint", index))
+            .open(troubled.then_some(true))
+            .show(ui, |ui| {
+                Grid::new(("joint fields", index))
+                    .num_columns(3)
+                    .spacing([8.0, 4.0])
+                    .show(ui, |ui| {
+                        let prefix = format!("joint {} ", index + 1);
+                        for field in fields {
+                            let row = field_row(ui, state, field, &prefix);
+                            command = std::mem::replace(&mut command, Command::None).then(row);
+                        }
+                    });
+            });
+    }
+    command
+}
+
+/// One field: its name, its text (red with the problem on hover when it has one), its unit.
+fn field_row(ui: &mut Ui, state: &EditorState, field: ArmField, prefix: &str) -> Command {
+    let arm = &state.scene.arm;
+    let label = field.label(arm);
+    let unit = field.unit(arm);
+    let problem = state.arm_form.problem_at(field, arm);
+    let mut text = state.arm_form.text(field, arm);
+    ui.label(label);
+    let mut edit = TextEdit::singleline(&mut text).id_salt(("arm field", field));
+    if problem.is_some() {
+        edit = edit.text_color(PROBLEM);
+    }
+    let response = ui
+        .add_sized([FIELD_WIDTH, 20.0], edit)
+        .accessible_name(format!("{prefix}{label} ({unit})"));
+    let response = match problem {
+        Some(problem) => response.on_hover_text(problem.to_string()),
+        None => response.on_hover_text(field.path(arm)),
+    };
+    ui.label(unit);
+    ui.end_row();
+    if response.changed() {
+        Command::EditArmField { field, text }
+    } else if response.lost_focus() {
+        Command::FinishArmField
+    } else {
+        Command::None
+    }
+}
