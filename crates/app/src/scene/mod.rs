@@ -28,7 +28,9 @@ pub use load::{load, load_bytes};
 pub use migrate::{CURRENT_VERSION, FORMAT_NAME};
 pub use problem::Problem;
 pub use save::{save, save_text, to_json};
-pub use task::{dry_run_options_of, retime_target, servo_model_of, task_of, with_timing};
+pub use task::{
+    dry_run_of, dry_run_options_of, plan_of, retime_target, servo_model_of, task_of, with_timing,
+};
 pub use units::{
     arm_description, build_arm, pose_from_file_units, pose_to_file_units, position_from_file_unit,
     position_to_file_unit,
