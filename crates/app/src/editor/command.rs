@@ -11,6 +11,7 @@ use nalgebra::Vector3;
 
 use super::estop::{StopLink, StopRequest};
 use super::history::{EditKey, Snapshot};
+use super::playback::{self, PlaybackCommand};
 use super::state::{BranchChoice, Dialog, EditorState, Level, ReachStatus, StopSource, StopState};
 use crate::scene::{
     Arrival, GripperState, MoveKind, ProfileKind, Waypoint, pose_from_file_units,
@@ -147,6 +148,9 @@ pub enum Command {
     Recover,
     /// Throw the recovery copy away.
     DiscardRecovery,
+    /// Move the timeline's cursor, play, pause, change speed or what the plot shows: a preview
+    /// that changes no scene and records no undo step.
+    Playback(PlaybackCommand),
 }
 
 impl Command {
@@ -383,6 +387,7 @@ pub fn apply(
             state.dialog = None;
             outside.push(Outside::DiscardRecovery);
         }
+        Command::Playback(command) => playback::apply(state, command),
     }
 }
 

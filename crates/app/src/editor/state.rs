@@ -1,6 +1,6 @@
 //! What the editor holds between frames and what its tests look at: the scene, the arm built
 //! from it, the current pose, the selected waypoint, undo and redo, the dirty mark, the file, the
-//! messages and the emergency-stop latch. No egui types live here.
+//! messages, the emergency-stop latch and the timeline's playback. No egui types live here.
 
 use std::path::PathBuf;
 
@@ -10,6 +10,7 @@ use armwright_kinematics::{
 };
 
 use super::history::History;
+use super::playback::Playback;
 use crate::scene::{GripperState, JointKindDoc, Scene, build_arm, pose_from_file_units};
 
 /// How serious a message in the status bar is.
@@ -169,6 +170,8 @@ pub struct EditorState {
     pub stop: StopState,
     /// The dialog shown over the window, if any.
     pub dialog: Option<Dialog>,
+    /// The timeline: the newest plan and dry run, the time cursor and playback.
+    pub playback: Playback,
 }
 
 /// Most messages kept.
@@ -197,6 +200,7 @@ impl EditorState {
             messages: Vec::new(),
             stop: StopState::Clear,
             dialog: None,
+            playback: Playback::default(),
         };
         state.rebuild_arm();
         let start = state

@@ -3,13 +3,14 @@
 //!
 //! Naming scheme: the file is named for what the panel shows: `top_bar.rs` (emergency stop,
 //! files, undo), `joint_controls.rs`, `tool_point.rs` (drag feedback, tool angle, branches,
-//! torque use), `sequence.rs` (waypoints), `status_bar.rs` (messages and cautions),
+//! torque use), `sequence.rs` (waypoints), `timeline.rs` (plots against time, time cursor, playback), `status_bar.rs` (messages and cautions),
 //! `dialogs.rs` (questions shown over the window, never over the emergency stop).
 
 mod dialogs;
 mod joint_controls;
 mod sequence;
 mod status_bar;
+mod timeline;
 mod tool_point;
 mod top_bar;
 
@@ -17,5 +18,6 @@ pub use dialogs::dialogs;
 pub use joint_controls::joint_controls;
 pub use sequence::sequence;
 pub use status_bar::{CAUTION, status_bar};
+pub use timeline::{TimelinePlot, timeline};
 pub use tool_point::tool_point;
 pub use top_bar::{EMERGENCY_STOP_LABEL, top_bar};
