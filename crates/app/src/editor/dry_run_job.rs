@@ -14,7 +14,7 @@ use armwright_kinematics::Arm;
 use super::playback::{self, DryRunStatus, Timeline};
 use super::state::EditorState;
 use super::traces::Traces;
-use crate::scene::{ArmDoc, Scene, Timing, Waypoint, dry_run_of, plan_of};
+use crate::scene::{ArmDoc, Scene, Timing, Waypoint, dry_run_of, dry_run_options_of, plan_of};
 
 /// What a plan depends on; a new job is needed when this changes.
 #[derive(Debug, Clone, PartialEq)]
@@ -160,7 +160,14 @@ impl DryRunJob {
 fn plan_and_run(scene: &Scene, arm: &Arm, generation: u64) -> Result<Timeline, String> {
     let plan = plan_of(scene, arm).map_err(|error| format!("cannot plan: {error}"))?;
     let run = dry_run_of(scene, arm, &plan).map_err(|error| format!("cannot simulate: {error}"))?;
-    let traces = Traces::of(arm, &plan, &run, scene.timing.torque_derating_pct / 100.0);
+    let options = dry_run_options_of(scene);
+    let traces = Traces::of(
+        arm,
+        &plan,
+        &run,
+        options.derating,
+        options.servo.frame_period,
+    );
     let marks = scene
         .waypoints
         .iter()

@@ -288,3 +288,76 @@ fn move_cursor(state: &mut EditorState, t: f64) {
     state.pose_changed();
     state.playback.cursor_pose = Some(pose);
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::editor::sample::sample_scene;
+    use crate::editor::traces::Traces;
+    use crate::scene::{dry_run_of, plan_of};
+
+    fn state_with_timeline() -> EditorState {
+        let mut state = EditorState::new(sample_scene(), None);
+        let arm = state.arm().cloned().expect("sample arm");
+        let plan = plan_of(&state.scene, &arm).expect("sample plans");
+        let run = dry_run_of(&state.scene, &arm, &plan).expect("sample runs");
+        let traces = Traces::of(&arm, &plan, &run, 1.0, 0.02);
+        let timeline = Timeline {
+            generation: 1,
+            marks: state
+                .scene
+                .waypoints
+                .iter()
+                .zip(plan.timings())
+                .map(|(waypoint, timing)| (waypoint.name.clone(), timing.arrival))
+                .collect(),
+            grippers: state.scene.waypoints.iter().map(|w| w.gripper).collect(),
+            plan,
+            run,
+            traces,
+        };
+        accept(&mut state, Arc::new(timeline));
+        state
+    }
+
+    #[test]
+    fn playing_past_the_end_loops_to_the_start() {
+        let mut state = state_with_timeline();
+        let span = state.playback.timeline.as_ref().map_or(0.0, |t| t.span());
+        apply(&mut state, PlaybackCommand::SetCursor(span - 0.03));
+        apply(&mut state, PlaybackCommand::Play);
+        assert!(advance(&mut state, 10.0));
+        assert!(advance(&mut state, 10.05));
+        assert!(
+            (state.playback.cursor - 0.02).abs() < 1e-9,
+            "{}",
+            state.playback.cursor
+        );
+        assert!(state.playback.arm_at_cursor(&state.pose));
+    }
+
+    #[test]
+    fn a_long_stall_advances_by_one_tenth_of_a_second_at_most() {
+        let mut state = state_with_timeline();
+        apply(&mut state, PlaybackCommand::SetSpeed(0.5));
+        apply(&mut state, PlaybackCommand::Play);
+        advance(&mut state, 1.0);
+        advance(&mut state, 6.0);
+        assert!((state.playback.cursor - MAX_FRAME_STEP * 0.5).abs() < 1e-12);
+        // Speeds outside the offered steps are refused.
+        apply(&mut state, PlaybackCommand::SetSpeed(3.0));
+        assert_eq!(state.playback.speed, 0.5);
+    }
+
+    #[test]
+    fn the_gripper_follows_the_waypoint_last_reached() {
+        let state = state_with_timeline();
+        let timeline = state.playback.timeline.clone().expect("timeline");
+        for (index, (_, arrival)) in timeline.marks.iter().enumerate() {
+            assert_eq!(
+                timeline.gripper_at(*arrival + 1e-6),
+                timeline.grippers[index]
+            );
+        }
+    }
+}

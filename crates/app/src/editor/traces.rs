@@ -5,6 +5,10 @@
 //! [`MAX_BUCKETS`] buckets, each keeping its smallest and largest value, so a plot of the whole
 //! run never misses a peak and a long sequence costs the same to draw as a short one. Built on a
 //! worker thread (`dry_run_job.rs`); the UI thread only reads it.
+//!
+//! The simulated acceleration and torque use are averaged over one pulse frame around each
+//! instant: a servo sees a new command once per frame, and its drive swings hard within every
+//! frame as the step in the command is taken up, which would otherwise paint the plot solid.
 
 use armwright_kinematics::{Arm, JointKind, MAX_JOINTS, inverse_dynamics, tool_pose, torque_use};
 use armwright_trajectory::{CommandedMotion, DryRun, JointState, TaskPlan};
@@ -118,6 +122,8 @@ pub struct Traces {
     pub span: f64,
     /// Movable joints.
     pub joints: usize,
+    /// The window the simulated acceleration and torque use are averaged over, in s.
+    pub frame_period: f64,
     /// Commanded series: `[quantity][joint]` for the four per-joint quantities.
     commanded: Vec<Series>,
     /// Simulated series, laid out like `commanded`, then the deviation.
@@ -145,14 +151,23 @@ fn slot(quantity: Quantity) -> Option<usize> {
 
 impl Traces {
     /// The traces of `plan` and its dry run `run` on `arm`, with torque use against the rating
-    /// times `derating` (share, 0–1]. Takes tens of ms for a sample scene: run it on a worker.
-    pub fn of(arm: &Arm, plan: &TaskPlan, run: &DryRun, derating: f64) -> Traces {
+    /// times `derating` (share, 0–1], the simulated acceleration and torque use averaged over
+    /// `frame_period` (s, the servo's pulse frame). Takes tens of ms for a sample scene: run it
+    /// on a worker.
+    pub fn of(
+        arm: &Arm,
+        plan: &TaskPlan,
+        run: &DryRun,
+        derating: f64,
+        frame_period: f64,
+    ) -> Traces {
         let n = arm.joint_count().min(MAX_JOINTS);
         let kinds: Vec<JointKind> = arm.joints().iter().map(|joint| joint.kind).collect();
         let trace = &run.trace;
         let samples = trace.len();
         let step = trace.step.max(1e-6);
         let stride = ((GRID / step).round() as usize).max(1);
+        let half_frame = ((frame_period / 2.0 / step).round() as usize).max(1);
         let span = samples.saturating_sub(1) as f64 * step;
         let grid_points = samples.div_ceil(stride).max(1);
         let per_bucket = grid_points.div_ceil(MAX_BUCKETS).max(1);
@@ -183,12 +198,11 @@ impl Traces {
                 payload,
             )
             .map(|efforts| torque_use(arm, &efforts, derating));
-            // The servo's speed over the next grid interval (the last sample looks back).
-            let (from, to) = if k + stride < samples {
-                (k, k + stride)
-            } else {
-                (k.saturating_sub(stride), k)
-            };
+            // The pulse frame around this instant, cut short at the ends of the run.
+            let (from, to) = (
+                k.saturating_sub(half_frame),
+                (k + half_frame).min(samples - 1),
+            );
             let interval = (to - from).max(1) as f64 * step;
             let actual = trace.actual_at(k);
             for j in 0..n {
@@ -204,10 +218,13 @@ impl Traces {
                 simulated[j].push(bucket, display(kind, actual[j]));
                 simulated[n + j].push(bucket, display(kind, speed));
                 simulated[2 * n + j].push(bucket, display(kind, speed_change / interval));
-                // The dry run's own measure: the drive the position loop asks for, against the
-                // derated rating.
-                let drive = trace.drive_share[k * n + j].abs() / derating;
-                simulated[3 * n + j].push(bucket, drive * 100.0);
+                // The dry run's own measure, the drive the position loop asks for against the
+                // derated rating, as its mean over the frame.
+                let drive: f64 = (from..=to)
+                    .map(|sample| trace.drive_share[sample * n + j].abs())
+                    .sum::<f64>()
+                    / (to - from + 1) as f64;
+                simulated[3 * n + j].push(bucket, drive / derating * 100.0);
             }
             let deviation = match (
                 tool_pose(arm, trace.commanded_at(k)),
@@ -224,6 +241,7 @@ impl Traces {
             bucket: per_bucket as f64 * stride as f64 * step,
             span,
             joints: n,
+            frame_period: 2.0 * half_frame as f64 * step,
             commanded,
             simulated,
         }
@@ -309,6 +327,36 @@ pub fn decimate(series: &Series, bucket: f64, x_range: [f64; 2], columns: usize)
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::editor::sample::sample_scene;
+    use crate::scene::{build_arm, dry_run_of, plan_of};
+
+    #[test]
+    fn a_short_run_keeps_every_grid_point_of_the_plan_and_the_dry_run() {
+        let scene = sample_scene();
+        let arm = build_arm(&scene.arm).expect("sample arm");
+        let plan = plan_of(&scene, &arm).expect("sample plans");
+        let run = dry_run_of(&scene, &arm, &plan).expect("sample runs");
+        let traces = Traces::of(&arm, &plan, &run, 1.0, 0.02);
+        // A few seconds fit in far fewer than MAX_BUCKETS: one grid point per bucket.
+        assert!((traces.bucket - GRID).abs() < 1e-12, "{}", traces.bucket);
+        let angle = traces.commanded(Quantity::Angle, 1).expect("shoulder");
+        let simulated = traces.simulated(Quantity::Angle, 1).expect("shoulder");
+        let stride = (GRID / run.trace.step).round() as usize;
+        let mut positions = vec![0.0; arm.joint_count()];
+        for index in [0, angle.len() / 3, angle.len() - 1] {
+            assert_eq!(angle.min[index], angle.max[index]);
+            let t = (index as f64 * GRID).min(CommandedMotion::duration(&plan));
+            plan.positions_at(t, &mut positions);
+            assert!((f64::from(angle.min[index]) - positions[1].to_degrees()).abs() < 1e-3);
+            let actual = run.trace.actual_at(index * stride)[1].to_degrees();
+            assert!((f64::from(simulated.min[index]) - actual).abs() < 1e-3);
+        }
+        // The tool point's deviation is there for the whole run, never negative.
+        let deviation = traces.simulated(Quantity::Deviation, 0).expect("deviation");
+        assert_eq!(deviation.len(), angle.len());
+        assert!(deviation.min.iter().all(|d| *d >= 0.0));
+        assert!(traces.commanded(Quantity::Deviation, 0).is_none());
+    }
 
     fn series(values: &[f32]) -> Series {
         Series {

@@ -233,14 +233,15 @@ pub fn timeline(ui: &mut Ui, state: &EditorState, plot: &mut TimelinePlot) -> Co
         plot.transform = None;
         return wanted.map_or(Command::None, Command::Playback);
     };
-    ui.label(
-        RichText::new(if playback.quantity.per_joint() {
-            "thin line: commanded (plan) · wide pale band: simulated (dry run) · drag or click to move the time cursor"
-        } else {
-            "distance between the commanded and the simulated tool point · drag or click to move the time cursor"
-        })
-        .small(),
-    );
+    let caption = if playback.quantity.per_joint() {
+        format!(
+            "thin: commanded · pale band: dry run (acceleration, torque: {:.0} ms frame means) · click or drag to move the cursor",
+            timeline.traces.frame_period * 1e3
+        )
+    } else {
+        "distance between the commanded and the simulated tool point · click or drag to move the cursor".to_string()
+    };
+    ui.label(RichText::new(caption).small());
     if let Some(set) = plot_lines(ui, state, timeline, plot) {
         wanted = Some(PlaybackCommand::SetCursor(set));
     }
@@ -324,11 +325,17 @@ fn plot_lines(
                     ),
                     None => ("tool point", JOINT_COLOURS[1]),
                 };
+                // The deviation has no commanded side: its one line is drawn as a line.
+                let (simulated_colour, simulated_width) = if line.commanded.is_empty() {
+                    (colour, COMMANDED_WIDTH)
+                } else {
+                    (colour.gamma_multiply(0.35), SIMULATED_WIDTH)
+                };
                 plot_ui.add(Band::new(
                     name,
                     &line.simulated,
-                    colour.gamma_multiply(0.35),
-                    SIMULATED_WIDTH,
+                    simulated_colour,
+                    simulated_width,
                 ));
                 plot_ui.add(Band::new(name, &line.commanded, colour, COMMANDED_WIDTH));
             }
