@@ -1,12 +1,14 @@
 //! The timeline on the built-in sample: the dry run arrives off the UI thread, the plot shows,
 //! the time cursor moves the arm to the plan, play / pause / speed, and an edit starts a new dry
-//! run whose older result is dropped.
+//! run whose older result is dropped; every bundled sample gets its plot.
 
 mod editor_common;
 
 use std::time::{Duration, Instant};
 
-use armwright::editor::{Command, DryRunStatus, Editor, PlaybackCommand, Quantity, WaypointField};
+use armwright::editor::{
+    ChannelStopLink, Command, DryRunStatus, Editor, PlaybackCommand, Quantity, WaypointField,
+};
 use armwright::scene::{Arrival, build_arm, plan_of};
 use armwright_trajectory::CommandedMotion;
 use egui::{Pos2, pos2};
@@ -14,7 +16,7 @@ use egui_kittest::Harness;
 use egui_kittest::kittest::Queryable;
 use egui_plot::PlotPoint;
 
-use editor_common::{drag, sample_editor};
+use editor_common::{drag, harness, options, sample_editor, scratch};
 
 /// Steps (sleeping a little between frames) until the newest change's dry run is shown or has
 /// failed, at most 60 s.
@@ -269,4 +271,28 @@ fn a_sequence_that_cannot_be_planned_says_why_in_the_timeline() {
     assert!(reason.starts_with("cannot plan:"), "{reason}");
     assert!(playback.timeline.is_none());
     assert!(harness.query_by_label(&reason).is_some());
+}
+
+#[test]
+fn every_bundled_sample_gets_a_dry_run_and_a_plot() {
+    for name in ["pen-plotter", "cube-stacker", "peg-sorter"] {
+        let dir = scratch(&format!("timeline-sample-{name}"));
+        let (link, _requests) = ChannelStopLink::new();
+        let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
+            .join("../../sample-scenes")
+            .join(format!("{name}.armwright.json"));
+        let editor = Editor::open(Some(path), Box::new(link), options(&dir, 3600));
+        let mut harness = harness(editor);
+        wait_for_dry_run(&mut harness);
+        let editor = harness.state();
+        assert!(
+            matches!(editor.state.playback.status, DryRunStatus::Ready),
+            "{name}: {:?}",
+            editor.state.playback.status
+        );
+        assert!(
+            editor.timeline_column_count() > 0,
+            "{name}: nothing plotted"
+        );
+    }
 }
