@@ -15,7 +15,7 @@ use egui::{
 };
 use egui_plot::{
     AxisHints, Corner, Legend, Plot, PlotBounds, PlotGeometry, PlotItem, PlotItemBase,
-    PlotTransform,
+    PlotTransform, uniform_grid_spacer,
 };
 
 use crate::editor::command::Command;
@@ -248,6 +248,23 @@ pub fn timeline(ui: &mut Ui, state: &EditorState, plot: &mut TimelinePlot) -> Co
     wanted.map_or(Command::None, Command::Playback)
 }
 
+/// Grid steps for the value axis: the smallest 1-2-5 step at least `least` apart, and 5 and
+/// 10 times it, so labels come every few grid lines instead of only at powers of ten (a plot
+/// spanning −99…99 would otherwise label nothing but 0).
+fn steps_1_2_5(least: f64) -> [f64; 3] {
+    let least = least.abs();
+    if !least.is_finite() || least <= 0.0 {
+        return [1.0, 5.0, 10.0];
+    }
+    let decade = 10f64.powf(least.log10().floor());
+    let step = [1.0, 2.0, 5.0, 10.0]
+        .into_iter()
+        .map(|factor| factor * decade)
+        .find(|step| *step >= least * (1.0 - 1e-9))
+        .unwrap_or(10.0 * decade);
+    [step, 5.0 * step, 10.0 * step]
+}
+
 fn speed_label(speed: f64) -> String {
     format!("{speed}×")
 }
@@ -304,6 +321,9 @@ fn plot_lines(
                 .label_spacing(34.0..=48.0)
                 .formatter(|mark, _| format!("{} s", mark.value)),
         ])
+        .y_grid_spacer(uniform_grid_spacer(|input| {
+            steps_1_2_5(input.base_step_size)
+        }))
         .custom_y_axes(vec![
             AxisHints::new_y()
                 .label(quantity.unit())
@@ -477,5 +497,19 @@ impl PlotItem for Band<'_> {
 
     fn base_mut(&mut self) -> &mut PlotItemBase {
         &mut self.base
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn value_steps_follow_1_2_5() {
+        assert_eq!(steps_1_2_5(8.0), [10.0, 50.0, 100.0]);
+        assert_eq!(steps_1_2_5(1.5), [2.0, 10.0, 20.0]);
+        assert_eq!(steps_1_2_5(-0.3), [0.5, 2.5, 5.0]);
+        assert_eq!(steps_1_2_5(20.0), [20.0, 100.0, 200.0]);
+        assert_eq!(steps_1_2_5(0.0), [1.0, 5.0, 10.0]);
     }
 }
