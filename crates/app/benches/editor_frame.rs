@@ -1,9 +1,11 @@
-//! One editor frame, CPU side: the egui pass (every panel, both views with their reach maps,
-//! 500 waypoints in the sequence) and tessellation, without the GPU. Target: at most 4 ms
-//! median.
+//! One editor frame, CPU side: the egui pass (every panel, both views with their reach maps and
+//! the dry run's arm over the commanded one, 500 waypoints in the sequence, the timeline's plot
+//! of every joint, commanded and simulated) and tessellation, without the GPU. Target: at most
+//! 4 ms median.
 
 use armwright::editor::{
-    ChannelStopLink, Editor, EditorOptions, EditorState, ViewKind, sample_scene,
+    ChannelStopLink, Command, Editor, EditorOptions, EditorState, PlaybackCommand, ViewKind,
+    sample_scene,
 };
 use armwright::scene::Waypoint;
 use criterion::{Criterion, criterion_group, criterion_main};
@@ -64,22 +66,44 @@ fn editor_frame(c: &mut Criterion) {
             editor.ui(ui);
         });
     }
-    // Wait for both views' reach maps (made on worker threads) so the frame draws them too.
-    let start = std::time::Instant::now();
-    while (editor.reach_layer(ViewKind::Top).is_none()
-        || editor.reach_layer(ViewKind::Side).is_none())
-        && start.elapsed() < std::time::Duration::from_secs(60)
-    {
-        std::thread::sleep(std::time::Duration::from_millis(20));
-        time += 1.0 / 60.0;
-        let _ = ctx.run_ui(input(time), |ui| {
-            editor.logic(ui.ctx());
-            editor.ui(ui);
-        });
-    }
+    let mut frame_until = |editor: &mut Editor, done: &dyn Fn(&Editor) -> bool| {
+        let start = std::time::Instant::now();
+        while !done(editor) && start.elapsed() < std::time::Duration::from_secs(120) {
+            std::thread::sleep(std::time::Duration::from_millis(20));
+            time += 1.0 / 60.0;
+            let _ = ctx.run_ui(input(time), |ui| {
+                editor.logic(ui.ctx());
+                editor.ui(ui);
+            });
+        }
+    };
+    // The plan and dry run (a worker thread) first, not inside the measured frame.
+    frame_until(&mut editor, &|editor| {
+        !editor.is_dry_running() && editor.state.playback.timeline.is_some()
+    });
+    let Some(timeline) = editor.state.playback.timeline.clone() else {
+        panic!("no dry run after 120 s: {:?}", editor.state.playback.status);
+    };
+    // The cursor a third of the way in: the arm at the plan's pose, the dry run's arm over it.
+    editor.apply(
+        &ctx,
+        Command::Playback(PlaybackCommand::SetCursor(timeline.span() / 3.0)),
+        0,
+    );
+    // Then both views' reach maps (made on worker threads) at that pose, so the frame draws
+    // them too.
+    frame_until(&mut editor, &|editor| {
+        !editor.is_mapping()
+            && editor.reach_layer(ViewKind::Top).is_some()
+            && editor.reach_layer(ViewKind::Side).is_some()
+    });
     assert!(
         editor.reach_layer(ViewKind::Top).is_some(),
-        "no reach map after 60 s"
+        "no reach map after 120 s"
+    );
+    assert!(
+        editor.timeline_column_count() > 0,
+        "the timeline drew nothing"
     );
     c.bench_function("editor_frame_500_waypoints_both_views", |b| {
         b.iter(|| {

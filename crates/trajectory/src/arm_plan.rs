@@ -352,9 +352,11 @@ impl TaskPlan {
 }
 
 impl TaskPlan {
-    /// Every joint's position, velocity and acceleration at shaped time `t` (s): the shaping is
-    /// a weighted sum of delayed copies, so rates and accelerations are the same sums.
-    fn states_at(&self, t: f64, states: &mut [JointState]) {
+    /// Every joint's position (rad or m), velocity (rad/s or m/s) and acceleration (rad/s² or
+    /// m/s²) at time `t` (s, clamped to the plan) into `states`, as many as both hold. Follows
+    /// the shaping where the task has it: a shaped run is a weighted sum of delayed copies, so
+    /// its rates and accelerations come from central differences 1 ms apart; the jerk is then 0.
+    pub fn states_at(&self, t: f64, states: &mut [JointState]) {
         if self.runs.is_empty() {
             self.plan.states_at(t, states);
             return;

@@ -5,13 +5,13 @@ use std::fmt::Write as _;
 use std::path::Path;
 
 use armwright_kinematics::Arm;
-use armwright_trajectory::{CommandedMotion, SegmentKind, TaskPlan, plan_task};
+use armwright_trajectory::{CommandedMotion, SegmentKind, TaskPlan};
 use serde_json::json;
 
 use super::Outcome;
 use super::report::{fail, load_scene, print_json, rounded};
 use crate::scene::{
-    JointLimitDoc, Scene, position_to_file_unit, rate_to_file_unit, save_text, task_of,
+    JointLimitDoc, Scene, plan_of, position_to_file_unit, rate_to_file_unit, save_text,
 };
 
 /// Interval at which torque use is looked at along the plan, in s.
@@ -42,7 +42,7 @@ fn joint_limits(scene: &Scene, plan: &TaskPlan) -> Vec<serde_json::Value> {
 
 /// Plans the scene's sequence, or says why not (exit 1 with the reason naming the waypoint).
 pub(crate) fn plan_scene(scene: &Scene, arm: &Arm, json: bool) -> Result<TaskPlan, Outcome> {
-    plan_task(arm, &task_of(scene, arm)).map_err(|error| {
+    plan_of(scene, arm).map_err(|error| {
         fail(
             json,
             &format!("cannot plan: {error}"),

@@ -3,13 +3,13 @@
 
 use std::path::Path;
 
-use armwright_trajectory::{DryRun, dry_run};
+use armwright_trajectory::DryRun;
 use serde_json::{Value, json};
 
 use super::Outcome;
 use super::plan::plan_scene;
 use super::report::{all_rounded, fail, load_scene, print_json, rounded};
-use crate::scene::{Arrival, Scene, dry_run_options_of, position_to_file_unit};
+use crate::scene::{Arrival, Scene, dry_run_of, position_to_file_unit};
 
 pub(crate) fn run(file: &Path, json: bool) -> Outcome {
     let (scene, arm) = match load_scene(file, json) {
@@ -20,7 +20,7 @@ pub(crate) fn run(file: &Path, json: bool) -> Outcome {
         Ok(plan) => plan,
         Err(outcome) => return outcome,
     };
-    let run = match dry_run(&arm, &plan, plan.timings(), &dry_run_options_of(&scene)) {
+    let run = match dry_run_of(&scene, &arm, &plan) {
         Ok(run) => run,
         Err(error) => {
             let message = format!("cannot simulate: {error}");

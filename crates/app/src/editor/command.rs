@@ -15,6 +15,7 @@ use super::arm_form::{ArmField, ArmTypeChoice, with_arm_type};
 use super::device::LinkAction;
 use super::estop::{StopLink, StopRequest};
 use super::history::{EditKey, Snapshot};
+use super::playback::{self, PlaybackCommand};
 use super::retime_job::RetimeRun;
 use super::state::{
     BranchChoice, Dialog, EditorState, Level, ReachStatus, StopSource, StopState, ToolsTab,
@@ -186,6 +187,9 @@ pub enum Command {
     FinishArmField,
     /// Switch the arm between the vertical articulated types (one undo step).
     ChangeArmType(ArmTypeChoice),
+    /// Move the timeline's cursor, play, pause, change speed or what the plot shows: a preview
+    /// that changes no scene and records no undo step.
+    Playback(PlaybackCommand),
 }
 
 impl Command {
@@ -486,6 +490,7 @@ pub fn apply(
                 state.say(Level::Info, message);
             }
         }
+        Command::Playback(command) => playback::apply(state, command),
     }
 }
 

@@ -8,21 +8,26 @@
 //! a device and its worker thread (connect, stream, pause, reset); `files.rs` file work off
 //! the UI thread; `recovery.rs` the autosaved copy; `sample.rs` the built-in scene;
 //! `retime_job.rs` retiming on a worker thread; `arm_form.rs` the arm settings form's fields and
-//! typed text; `panels/` one file per panel; `views/` the two to-scale views. This file is the shell:
+//! typed text; `dry_run_job.rs` plans the sequence and runs the dry run off the UI thread;
+//! `traces.rs` what the timeline plots; `playback.rs` the timeline's cursor and playback;
+//! `panels/` one file per panel; `views/` the two to-scale views. This file is the shell:
 //! [`Editor::logic`] handles what must run whatever is on screen (the emergency-stop key first),
 //! [`Editor::ui`] draws the panels and applies their commands after the frame.
 
 mod arm_form;
 mod command;
 mod device;
+mod dry_run_job;
 mod estop;
 mod files;
 mod history;
 mod panels;
+mod playback;
 mod recovery;
 mod retime_job;
 mod sample;
 mod state;
+mod traces;
 mod views;
 
 pub use arm_form::{ArmField, ArmForm, ArmTypeChoice, JointField};
@@ -30,15 +35,17 @@ pub use command::{Command, Outside, WaypointField, apply};
 pub use device::{Connection, DeviceLink, LinkAction, LinkStopLink, LinkView, StreamPhase};
 pub use estop::{ChannelStopLink, STOP_KEY, STOP_KEY_NAME, StopLink, StopRequest};
 pub use panels::{ACKNOWLEDGE_LABEL, CAUTION, EMERGENCY_STOP_LABEL};
+pub use playback::{AtEnd, DryRunStatus, Playback, PlaybackCommand, SPEEDS, Timeline};
 pub use recovery::Recovery;
 pub use retime_job::{RetimeReport, RetimeRun, RetimeState, RunFigures, WaypointFigures};
 pub use sample::sample_scene;
 pub use state::{
     BranchChoice, Dialog, EditorState, Level, Message, ReachStatus, StopSource, StopState, ToolsTab,
 };
+pub use traces::{GRID, MAX_BUCKETS, Quantity, Series, Traces, decimate};
 pub use views::{
-    Camera, MapKey, MapLayer, Plane, Projection, RAMP_TOP, ReachLayers, SidePlane, TopPlane,
-    ViewKind, torque_colour,
+    ArmOverlay, Camera, DEVICE, MapKey, MapLayer, Plane, Projection, RAMP_TOP, ReachLayers,
+    SIMULATED, SidePlane, TopPlane, ViewKind, torque_colour,
 };
 
 use std::path::PathBuf;
@@ -47,13 +54,23 @@ use std::time::Duration;
 
 use egui::{CentralPanel, Event, Key, Modifiers, Panel, Rect, ScrollArea, UiBuilder, pos2, vec2};
 
+use dry_run_job::DryRunJob;
 use estop::StopPair;
 use files::{FileResult, FileWorker, pick_file, problem_lines};
+use panels::TimelinePlot;
 use retime_job::RetimeWorker;
 
 /// How often the window is redrawn while a device is connected, to follow its arm and
 /// statistics.
 const LINK_REFRESH: Duration = Duration::from_millis(50);
+
+/// Default height of the sequence and timeline at the bottom, in points: room for eight
+/// waypoint rows and a readable plot, leaving the views most of a 960-point window.
+const BOTTOM_HEIGHT: f32 = 290.0;
+
+/// Default width of the timeline beside the sequence, in points: the sequence's columns keep
+/// about 880 points of a 1560-point window.
+const TIMELINE_WIDTH: f32 = 640.0;
 
 /// How the editor is set up.
 #[derive(Debug, Clone)]
@@ -92,6 +109,8 @@ pub struct Editor {
     /// The arm the reach maps were started for: their key does not hold the arm, so a changed
     /// arm starts them afresh.
     mapped_arm: Option<crate::scene::ArmDoc>,
+    dry_run: DryRunJob,
+    timeline_plot: TimelinePlot,
     files: FileWorker,
     retime: RetimeWorker,
     options: EditorOptions,
@@ -126,6 +145,8 @@ impl Editor {
             cameras: [Camera::default(), Camera::default()],
             reach: ReachLayers::default(),
             mapped_arm: None,
+            dry_run: DryRunJob::default(),
+            timeline_plot: TimelinePlot::default(),
             files: FileWorker::default(),
             retime: RetimeWorker::default(),
             options,
@@ -218,6 +239,34 @@ impl Editor {
         self.reach.busy()
     }
 
+    /// Whether the plan and dry run of the newest scene change are still running.
+    pub fn is_dry_running(&self) -> bool {
+        self.dry_run.busy()
+    }
+
+    /// How many times the arm, sequence or timing changed since the editor opened (each change
+    /// starts a new plan and dry run; 1 for the first).
+    pub fn dry_run_generation(&self) -> u64 {
+        self.dry_run.generation()
+    }
+
+    /// How many dry-run results arrived after a newer change and were dropped unseen.
+    pub fn dropped_dry_runs(&self) -> u64 {
+        self.dry_run.dropped()
+    }
+
+    /// The timeline plot's mapping between time (s) and the screen in the last frame, once it
+    /// was drawn.
+    pub fn timeline_transform(&self) -> Option<&egui_plot::PlotTransform> {
+        self.timeline_plot.transform()
+    }
+
+    /// Columns (a time with the smallest and largest value under it) the timeline plot drew in
+    /// the last frame, over all its lines.
+    pub fn timeline_column_count(&self) -> usize {
+        self.timeline_plot.column_count()
+    }
+
     /// Whether file work is still running on a worker thread.
     pub fn is_busy(&self) -> bool {
         self.files.busy()
@@ -293,6 +342,11 @@ impl Editor {
             }
             self.mapped_arm = Some(self.state.scene.arm.clone());
         }
+        self.dry_run.update(ctx, &mut self.state);
+        let now = ctx.input(|input| input.time);
+        if playback::advance(&mut self.state, now) {
+            ctx.request_repaint();
+        }
         self.reach.update(ctx, &self.state);
         let title = self.window_title();
         if title != self.title {
@@ -345,11 +399,19 @@ impl Editor {
             ui.ctx().content_rect().max,
         );
         Panel::bottom("armwright status bar").show(ui, |ui| panels::status_bar(ui, &self.state));
-        let sequence = Panel::bottom("armwright sequence")
+        let bottom = Panel::bottom("armwright sequence")
             .resizable(true)
-            .default_size(250.0)
-            .show(ui, |ui| panels::sequence(ui, &self.state));
-        commands.push(sequence.inner);
+            .default_size(BOTTOM_HEIGHT)
+            .show(ui, |ui| {
+                let timeline = Panel::right("armwright timeline")
+                    .resizable(true)
+                    .default_size(TIMELINE_WIDTH)
+                    .show(ui, |ui| {
+                        panels::timeline(ui, &self.state, &mut self.timeline_plot)
+                    });
+                timeline.inner.then(panels::sequence(ui, &self.state))
+            });
+        commands.push(bottom.inner);
         let left = Panel::left("armwright joints")
             .default_size(330.0)
             .show(ui, |ui| {
@@ -401,6 +463,21 @@ impl Editor {
             let top_rect = Rect::from_min_size(rect.min, vec2(half, rect.height()));
             let side_rect =
                 Rect::from_min_size(pos2(rect.min.x + half + gap, rect.min.y), top_rect.size());
+            let simulated = self
+                .state
+                .playback
+                .simulated_pose(&self.state.pose)
+                .map(|pose| ArmOverlay {
+                    pose,
+                    label: "simulated (dry run)".into(),
+                    colour: SIMULATED,
+                });
+            let device = self.state.device_pose.clone().map(|pose| ArmOverlay {
+                pose,
+                label: "device (simulated servos)".into(),
+                colour: DEVICE,
+            });
+            let overlays: Vec<ArmOverlay> = simulated.into_iter().chain(device).collect();
             let [top_camera, side_camera] = &mut self.cameras;
             let (top_map, side_map) = (
                 self.reach.layer(ViewKind::Top),
@@ -408,12 +485,26 @@ impl Editor {
             );
             let from_top = ui
                 .scope_builder(UiBuilder::new().max_rect(top_rect), |ui| {
-                    views::show_view(ui, &self.state, ViewKind::Top, top_camera, top_map)
+                    views::show_view(
+                        ui,
+                        &self.state,
+                        ViewKind::Top,
+                        top_camera,
+                        top_map,
+                        &overlays,
+                    )
                 })
                 .inner;
             let from_side = ui
                 .scope_builder(UiBuilder::new().max_rect(side_rect), |ui| {
-                    views::show_view(ui, &self.state, ViewKind::Side, side_camera, side_map)
+                    views::show_view(
+                        ui,
+                        &self.state,
+                        ViewKind::Side,
+                        side_camera,
+                        side_map,
+                        &overlays,
+                    )
                 })
                 .inner;
             from_top.then(from_side)

@@ -1,6 +1,6 @@
 //! What the editor holds between frames and what its tests look at: the scene, the arm built
 //! from it, the current pose, the selected waypoint, undo and redo, the dirty mark, the file, the
-//! messages and the emergency-stop latch. No egui types live here.
+//! messages, the emergency-stop latch and the timeline's playback. No egui types live here.
 
 use std::path::PathBuf;
 
@@ -11,6 +11,7 @@ use armwright_kinematics::{
 
 use super::arm_form::ArmForm;
 use super::history::History;
+use super::playback::Playback;
 use super::retime_job::RetimeState;
 use crate::scene::{Device, GripperState, JointKindDoc, Scene, build_arm, pose_from_file_units};
 
@@ -196,6 +197,8 @@ pub struct EditorState {
     pub retime: RetimeState,
     /// The arm settings form: typed text and its problems.
     pub arm_form: ArmForm,
+    /// The timeline: the newest plan and dry run, the time cursor and playback.
+    pub playback: Playback,
 }
 
 /// Most messages kept.
@@ -230,6 +233,7 @@ impl EditorState {
             caution_acknowledged: false,
             device_pose: None,
             arm_form: ArmForm::default(),
+            playback: Playback::default(),
         };
         state.rebuild_arm();
         let start = state

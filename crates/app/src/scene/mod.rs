@@ -32,8 +32,8 @@ pub use problem::Problem;
 pub use save::{save, save_text, to_json};
 pub use setpoints::{DeviceSetpoints, SampledPose, device_setpoints, sampled_poses};
 pub use task::{
-    RetimeSettings, SceneRetime, dry_run_options_of, limit_settings_of, retime_scene,
-    retime_target, servo_model_of, task_of, with_timing,
+    RetimeSettings, SceneRetime, dry_run_of, dry_run_options_of, limit_settings_of, plan_of,
+    retime_scene, retime_target, servo_model_of, task_of, with_timing,
 };
 pub use units::{
     arm_description, build_arm, pose_from_file_units, pose_to_file_units, position_from_file_unit,

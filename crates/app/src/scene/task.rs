@@ -4,8 +4,9 @@
 
 use armwright_kinematics::{Arm, MAX_JOINTS};
 use armwright_trajectory::{
-    DryRunOptions, LimitSettings, Planner, ProfileShape, RetimeError, RetimeTarget, Retimed,
-    ServoModelOptions, ShaperKind, Task, TaskPlanner, TaskWaypoint, Timing as TaskTiming, retime,
+    DryRun, DryRunError, DryRunOptions, LimitSettings, PlanError, Planner, ProfileShape,
+    RetimeError, RetimeTarget, Retimed, ServoModelOptions, ShaperKind, Task, TaskPlan, TaskPlanner,
+    TaskWaypoint, Timing as TaskTiming, dry_run, plan_task, retime,
 };
 
 use super::document::{Arrival, GripperState, JointKindDoc, MoveKind, ProfileKind, Scene, Shaping};
@@ -85,6 +86,24 @@ pub fn dry_run_options_of(scene: &Scene) -> DryRunOptions {
         derating: scene.timing.torque_derating_pct / 100.0,
         ..DryRunOptions::default()
     }
+}
+
+/// The scene's sequence planned on `arm`: what `plan`, `simulate`, `stream` and the editor's
+/// timeline all start from.
+///
+/// # Errors
+/// [`PlanError`] naming the waypoint (and joint) that cannot be planned.
+pub fn plan_of(scene: &Scene, arm: &Arm) -> Result<TaskPlan, PlanError> {
+    plan_task(arm, &task_of(scene, arm))
+}
+
+/// The dry run of `plan` (made from `scene` on `arm` by [`plan_of`]) with the scene's settle
+/// band, derating and servo model.
+///
+/// # Errors
+/// [`DryRunError`] when the servo simulation cannot start.
+pub fn dry_run_of(scene: &Scene, arm: &Arm, plan: &TaskPlan) -> Result<DryRun, DryRunError> {
+    dry_run(arm, plan, plan.timings(), &dry_run_options_of(scene))
 }
 
 /// A retiming target: overshoot in mm, torque share (0–1], shortest dwell in ms.

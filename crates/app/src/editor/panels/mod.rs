@@ -3,10 +3,10 @@
 //!
 //! Naming scheme: the file is named for what the panel shows: `top_bar.rs` (emergency stop,
 //! files, undo), `joint_controls.rs`, `tool_point.rs` (drag feedback, tool angle, branches,
-//! torque use), `sequence.rs` (waypoints), `status_bar.rs` (messages and cautions),
-//! `dialogs.rs` (questions shown over the window, never over the emergency stop); the tools
-//! panel's tabs `link.rs` (the device: connect, caution, stream, statistics), `retime.rs` and
-//! `arm_settings.rs`.
+//! torque use), `sequence.rs` (waypoints), `timeline.rs` (plots against time, time cursor,
+//! playback), `status_bar.rs` (messages and cautions), `dialogs.rs` (questions shown over the
+//! window, never over the emergency stop); the tools panel's tabs `link.rs` (the device:
+//! connect, caution, stream, statistics), `retime.rs` and `arm_settings.rs`.
 
 mod arm_settings;
 mod dialogs;
@@ -15,6 +15,7 @@ mod link;
 mod retime;
 mod sequence;
 mod status_bar;
+mod timeline;
 mod tool_point;
 mod top_bar;
 
@@ -25,5 +26,6 @@ pub use link::{ACKNOWLEDGE_LABEL, link};
 pub use retime::retime;
 pub use sequence::sequence;
 pub use status_bar::{CAUTION, status_bar};
+pub use timeline::{TimelinePlot, timeline};
 pub use tool_point::tool_point;
 pub use top_bar::{EMERGENCY_STOP_LABEL, top_bar};

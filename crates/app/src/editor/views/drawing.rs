@@ -24,7 +24,7 @@ const GRID_MAJOR: Color32 = Color32::from_rgb(52, 58, 66);
 /// Base axes.
 const AXES: Color32 = Color32::from_rgb(90, 98, 110);
 /// Links (Okabe–Ito sky blue).
-const LINK: Color32 = Color32::from_rgb(86, 180, 233);
+pub(super) const LINK: Color32 = Color32::from_rgb(86, 180, 233);
 /// Joints (Okabe–Ito orange).
 const JOINT: Color32 = Color32::from_rgb(230, 159, 0);
 /// Tool point (Okabe–Ito yellow).
@@ -40,7 +40,7 @@ const TABLE: Color32 = Color32::from_rgb(58, 50, 40);
 /// Stored waypoints.
 const WAYPOINT: Color32 = Color32::from_rgb(170, 170, 180);
 /// Text on the view.
-const LABEL: Color32 = Color32::from_rgb(200, 204, 210);
+pub(super) const LABEL: Color32 = Color32::from_rgb(200, 204, 210);
 
 /// Screen points between minor grid lines, at least.
 const GRID_MIN_SPACING: f64 = 14.0;

@@ -4,6 +4,7 @@
 use egui::{PointerButton, Pos2, Sense, Ui, Vec2};
 
 use super::drawing;
+use super::overlay::{ArmOverlay, overlay_arm, overlay_legend};
 use super::projection::{Projection, fit};
 use super::reach_layer::MapLayer;
 use super::{Plane, SidePlane, TopPlane, ViewKind};
@@ -41,13 +42,14 @@ impl Camera {
     }
 }
 
-/// Shows one view filling the space `ui` has left.
+/// Shows one view filling the space `ui` has left, with `overlays` drawn over the edited arm.
 pub fn show_view(
     ui: &mut Ui,
     state: &EditorState,
     kind: ViewKind,
     camera: &mut Camera,
     reach: Option<&MapLayer>,
+    overlays: &[ArmOverlay],
 ) -> Command {
     let (response, painter) = ui.allocate_painter(ui.available_size(), Sense::click_and_drag());
     let response = response.accessible_name(match kind {
@@ -125,6 +127,11 @@ pub fn show_view(
     drawing::waypoints(&clipped, &projection, plane, state);
     camera.tool_on_screen =
         drawing::arm(&clipped, &projection, plane, state, camera.grab.is_some());
+    if let Some(arm) = state.arm() {
+        for overlay in overlays {
+            overlay_arm(&clipped, &projection, plane, arm, overlay);
+        }
+    }
     drawing::scale_bar(&clipped, &projection);
     if reach.is_some() {
         drawing::reach_legend(&clipped, rect);
@@ -134,6 +141,7 @@ pub fn show_view(
         ViewKind::Side => format!("Side view at base yaw {:.1}°", yaw.to_degrees()),
     };
     drawing::captions(&clipped, rect, &title, &state.reach_problems());
+    overlay_legend(&clipped, rect, overlays);
     camera.projection = Some(projection);
     command
 }
@@ -184,7 +192,7 @@ mod tests {
     fn harness() -> Harness<'static, Setup> {
         Harness::builder().with_size([600.0, 500.0]).build_ui_state(
             |ui, (state, camera, commands): &mut Setup| {
-                let command = show_view(ui, state, ViewKind::Side, camera, None);
+                let command = show_view(ui, state, ViewKind::Side, camera, None, &[]);
                 if command != Command::None {
                     commands.push(command);
                 }

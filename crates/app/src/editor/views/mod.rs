@@ -5,16 +5,19 @@
 //! screen points with zoom and pan; `drawing.rs` draws grid, scale bar, workspace objects, the
 //! arm and the tool point for any plane; `interaction.rs` turns pointer input into zoom, pan and
 //! tool-point drags; `reach_layer.rs` computes the reach envelope and torque-use map off the UI
-//! thread and holds their textures.
+//! thread and holds their textures; `overlay.rs` draws extra arms (the dry run's, say) over the
+//! edited one.
 
 mod drawing;
 mod interaction;
+mod overlay;
 mod projection;
 mod reach_layer;
 mod side_view;
 mod top_view;
 
 pub use interaction::{Camera, show_view};
+pub use overlay::{ArmOverlay, DEVICE, SIMULATED};
 pub use projection::Projection;
 pub use reach_layer::{MapKey, MapLayer, RAMP_TOP, ReachLayers, torque_colour};
 pub use side_view::SidePlane;

@@ -1,0 +1,515 @@
+//! The timeline: one plot at a time of joint angle, velocity, acceleration, torque use or the
+//! tool point's deviation against time, commanded and simulated overlaid, waypoints marked; a
+//! time cursor to drag or click; play, pause, speed and what happens at the end.
+//!
+//! Each series is decimated to one column per two pixels (the smallest and largest value under
+//! it), kept until the view, the quantity or the data change, and drawn as one band of triangles
+//! from column to column rather than as a stroked line, so a sequence of hundreds of waypoints
+//! costs no more to draw than a short one.
+
+use std::ops::RangeInclusive;
+
+use egui::{
+    Align2, Button, Color32, ComboBox, DragValue, FontId, Mesh, Rect, RichText, Shape, Ui, pos2,
+    vec2,
+};
+use egui_plot::{
+    AxisHints, Corner, Legend, Plot, PlotBounds, PlotGeometry, PlotItem, PlotItemBase,
+    PlotTransform, uniform_grid_spacer,
+};
+
+use crate::editor::command::Command;
+use crate::editor::playback::{AtEnd, DryRunStatus, PlaybackCommand, SPEEDS, Timeline};
+use crate::editor::state::EditorState;
+use crate::editor::traces::{Column, Quantity, decimate};
+
+/// Joint colours, from the Okabe–Ito palette (distinguishable for the common kinds of colour
+/// blindness; common practice in scientific figures), blue last as it is darkest on the plot.
+const JOINT_COLOURS: [Color32; 7] = [
+    Color32::from_rgb(230, 159, 0),
+    Color32::from_rgb(86, 180, 233),
+    Color32::from_rgb(0, 158, 115),
+    Color32::from_rgb(240, 228, 66),
+    Color32::from_rgb(204, 121, 167),
+    Color32::from_rgb(213, 94, 0),
+    Color32::from_rgb(0, 114, 178),
+];
+
+/// The time cursor.
+const CURSOR: Color32 = Color32::from_rgb(255, 255, 255);
+/// Waypoint marks.
+const MARK: Color32 = Color32::from_rgb(150, 150, 160);
+/// Error text.
+const ERROR: Color32 = Color32::from_rgb(255, 90, 60);
+
+/// Pixels per decimated column: two keeps lines smooth and halves the triangles to draw.
+const COLUMN_WIDTH: f32 = 2.0;
+
+/// Thickness of a commanded line and of a simulated band's edges, in points.
+const COMMANDED_WIDTH: f32 = 1.5;
+const SIMULATED_WIDTH: f32 = 5.0;
+
+/// Least distance between two drawn waypoint marks, in points.
+const MARK_SPACING: f32 = 3.0;
+
+/// Least distance between two waypoint names on the plot, in points; names that would crowd
+/// are left out (their marks stay).
+const NAME_SPACING: f32 = 70.0;
+
+/// The plot's decimated lines and where it was drawn, kept between frames.
+#[derive(Default)]
+pub struct TimelinePlot {
+    key: Option<LinesKey>,
+    /// Commanded and simulated columns per line, with the line's joint (`None` for the tool
+    /// point).
+    lines: Vec<PlotLine>,
+    transform: Option<PlotTransform>,
+}
+
+struct PlotLine {
+    joint: Option<usize>,
+    commanded: Vec<Column>,
+    simulated: Vec<Column>,
+}
+
+#[derive(Clone, Copy, PartialEq)]
+struct LinesKey {
+    generation: u64,
+    quantity: Quantity,
+    joint: Option<usize>,
+    x_range: [f64; 2],
+    columns: usize,
+}
+
+impl TimelinePlot {
+    /// The mapping between time and screen used in the last frame, once the plot was drawn.
+    pub fn transform(&self) -> Option<&PlotTransform> {
+        self.transform.as_ref()
+    }
+
+    /// Columns drawn in the last frame, over all lines.
+    pub fn column_count(&self) -> usize {
+        self.lines
+            .iter()
+            .map(|line| line.commanded.len() + line.simulated.len())
+            .sum()
+    }
+
+    fn refresh(&mut self, key: LinesKey, timeline: &Timeline) {
+        if self.key == Some(key) {
+            return;
+        }
+        self.key = Some(key);
+        let traces = &timeline.traces;
+        let points = |series| decimate(series, traces.bucket, key.x_range, key.columns);
+        self.lines.clear();
+        if !key.quantity.per_joint() {
+            if let Some(series) = traces.simulated(key.quantity, 0) {
+                self.lines.push(PlotLine {
+                    joint: None,
+                    commanded: Vec::new(),
+                    simulated: points(series),
+                });
+            }
+            return;
+        }
+        for joint in 0..traces.joints {
+            if key.joint.is_some_and(|only| only != joint) {
+                continue;
+            }
+            let commanded = traces.commanded(key.quantity, joint).map(points);
+            let simulated = traces.simulated(key.quantity, joint).map(points);
+            self.lines.push(PlotLine {
+                joint: Some(joint),
+                commanded: commanded.unwrap_or_default(),
+                simulated: simulated.unwrap_or_default(),
+            });
+        }
+    }
+}
+
+/// Draws the timeline panel.
+pub fn timeline(ui: &mut Ui, state: &EditorState, plot: &mut TimelinePlot) -> Command {
+    let playback = &state.playback;
+    let mut wanted: Option<PlaybackCommand> = None;
+    let timeline = playback.timeline.as_deref();
+    ui.horizontal(|ui| {
+        ui.heading("Timeline");
+        ui.separator();
+        let ready = timeline.is_some();
+        if playback.playing {
+            if ui.button("Pause").clicked() {
+                wanted = Some(PlaybackCommand::Pause);
+            }
+        } else if ui.add_enabled(ready, Button::new("Play")).clicked() {
+            wanted = Some(PlaybackCommand::Play);
+        }
+        ComboBox::from_id_salt("timeline speed")
+            .width(64.0)
+            .selected_text(speed_label(playback.speed))
+            .show_ui(ui, |ui| {
+                for speed in SPEEDS {
+                    if ui
+                        .selectable_label(playback.speed == speed, speed_label(speed))
+                        .clicked()
+                    {
+                        wanted = Some(PlaybackCommand::SetSpeed(speed));
+                    }
+                }
+            })
+            .response
+            .on_hover_text("playback speed, × real time");
+        let looping = playback.at_end == AtEnd::Loop;
+        if ui
+            .selectable_label(looping, "loop")
+            .on_hover_text("start again at the end (off: stop at the end)")
+            .clicked()
+        {
+            wanted = Some(PlaybackCommand::SetAtEnd(if looping {
+                AtEnd::Stop
+            } else {
+                AtEnd::Loop
+            }));
+        }
+        ui.separator();
+        let span = timeline.map_or(0.0, Timeline::span);
+        let mut cursor = playback.cursor;
+        let field = ui.add_enabled(
+            ready,
+            DragValue::new(&mut cursor)
+                .range(0.0..=span)
+                .speed(0.01)
+                .max_decimals(3)
+                .suffix(" s"),
+        );
+        if field.changed() {
+            wanted = Some(PlaybackCommand::SetCursor(cursor));
+        }
+        ui.label(format!("of {span:.2} s"));
+        if matches!(playback.status, DryRunStatus::Running) {
+            ui.spinner();
+            ui.label("dry run…");
+        }
+    });
+    ui.horizontal(|ui| {
+        for quantity in Quantity::ALL {
+            if ui
+                .selectable_label(playback.quantity == quantity, quantity.label())
+                .clicked()
+            {
+                wanted = Some(PlaybackCommand::Show(quantity));
+            }
+        }
+        if playback.quantity.per_joint() {
+            ui.separator();
+            let label = |joint: Option<usize>| match joint {
+                None => "every joint".to_string(),
+                Some(joint) => state.joint_label(joint),
+            };
+            ComboBox::from_id_salt("timeline joint")
+                .selected_text(label(playback.joint))
+                .show_ui(ui, |ui| {
+                    for joint in std::iter::once(None).chain((0..state.joint_count()).map(Some)) {
+                        if ui
+                            .selectable_label(playback.joint == joint, label(joint))
+                            .clicked()
+                        {
+                            wanted = Some(PlaybackCommand::ShowJoint(joint));
+                        }
+                    }
+                })
+                .response
+                .on_hover_text("which joint the plot shows");
+        }
+    });
+    if let DryRunStatus::Failed(reason) = &playback.status {
+        ui.colored_label(ERROR, RichText::new(reason).strong());
+        ui.label("Fix the sequence or the arm; the dry run starts again after each change.");
+        plot.transform = None;
+        return wanted.map_or(Command::None, Command::Playback);
+    }
+    let Some(timeline) = timeline else {
+        ui.label("Planning the sequence and running the dry run…");
+        plot.transform = None;
+        return wanted.map_or(Command::None, Command::Playback);
+    };
+    let caption = if playback.quantity.per_joint() {
+        format!(
+            "thin: commanded · pale band: dry run (acceleration, torque: {:.0} ms frame means) · click or drag to move the cursor",
+            timeline.traces.frame_period * 1e3
+        )
+    } else {
+        "distance between the commanded and the simulated tool point · click or drag to move the cursor".to_string()
+    };
+    ui.label(RichText::new(caption).small());
+    if let Some(set) = plot_lines(ui, state, timeline, plot) {
+        wanted = Some(PlaybackCommand::SetCursor(set));
+    }
+    wanted.map_or(Command::None, Command::Playback)
+}
+
+/// Grid steps for the value axis: the smallest 1-2-5 step at least `least` apart, and 5 and
+/// 10 times it, so labels come every few grid lines instead of only at powers of ten (a plot
+/// spanning −99…99 would otherwise label nothing but 0).
+fn steps_1_2_5(least: f64) -> [f64; 3] {
+    let least = least.abs();
+    if !least.is_finite() || least <= 0.0 {
+        return [1.0, 5.0, 10.0];
+    }
+    let decade = 10f64.powf(least.log10().floor());
+    let step = [1.0, 2.0, 5.0, 10.0]
+        .into_iter()
+        .map(|factor| factor * decade)
+        .find(|step| *step >= least * (1.0 - 1e-9))
+        .unwrap_or(10.0 * decade);
+    [step, 5.0 * step, 10.0 * step]
+}
+
+fn speed_label(speed: f64) -> String {
+    format!("{speed}×")
+}
+
+/// The plot itself; returns the time the user put the cursor at, if any.
+fn plot_lines(
+    ui: &mut Ui,
+    state: &EditorState,
+    timeline: &Timeline,
+    plot: &mut TimelinePlot,
+) -> Option<f64> {
+    let playback = &state.playback;
+    let quantity = playback.quantity;
+    let span = timeline.span();
+    let lines_key = |bounds_x: [f64; 2], width: f32| {
+        let x_range = if bounds_x[1] > bounds_x[0] && bounds_x[0] < span && bounds_x[1] > 0.0 {
+            [bounds_x[0].max(0.0), bounds_x[1].min(span)]
+        } else {
+            [0.0, span]
+        };
+        LinesKey {
+            generation: timeline.generation,
+            quantity,
+            joint: playback.joint,
+            x_range,
+            columns: (width / COLUMN_WIDTH).max(1.0) as usize,
+        }
+    };
+    let names: Vec<String> = (0..timeline.traces.joints)
+        .map(|joint| {
+            format!(
+                "{} {}",
+                joint + 1,
+                state
+                    .scene
+                    .arm
+                    .joints
+                    .get(joint)
+                    .map_or("", |doc| doc.name.as_str())
+            )
+        })
+        .collect();
+    let lines = &mut *plot;
+    let response = Plot::new("armwright timeline plot")
+        .allow_drag(false)
+        .allow_boxed_zoom(false)
+        .allow_zoom([true, false])
+        .allow_scroll([true, false])
+        .include_x(0.0)
+        .include_x(span)
+        .show_crosshair(false)
+        .custom_x_axes(vec![
+            AxisHints::new_x()
+                .label_spacing(34.0..=48.0)
+                .formatter(|mark, _| format!("{} s", mark.value)),
+        ])
+        .y_grid_spacer(uniform_grid_spacer(|input| {
+            steps_1_2_5(input.base_step_size)
+        }))
+        .custom_y_axes(vec![
+            AxisHints::new_y()
+                .label(quantity.unit())
+                .label_spacing(16.0..=24.0)
+                .min_thickness(40.0),
+        ])
+        .legend(Legend::default().position(Corner::RightTop))
+        .show(ui, |plot_ui| {
+            let bounds = plot_ui.plot_bounds();
+            let width = plot_ui.response().rect.width();
+            let key = lines_key([bounds.min()[0], bounds.max()[0]], width);
+            lines.refresh(key, timeline);
+            let lines: &TimelinePlot = lines;
+            for line in &lines.lines {
+                let (name, colour) = match line.joint {
+                    Some(joint) => (
+                        names[joint].as_str(),
+                        JOINT_COLOURS[joint % JOINT_COLOURS.len()],
+                    ),
+                    None => ("tool point", JOINT_COLOURS[1]),
+                };
+                // The deviation has no commanded side: its one line is drawn as a line.
+                let (simulated_colour, simulated_width) = if line.commanded.is_empty() {
+                    (colour, COMMANDED_WIDTH)
+                } else {
+                    (colour.gamma_multiply(0.35), SIMULATED_WIDTH)
+                };
+                plot_ui.add(Band::new(
+                    name,
+                    &line.simulated,
+                    simulated_colour,
+                    simulated_width,
+                ));
+                plot_ui.add(Band::new(name, &line.commanded, colour, COMMANDED_WIDTH));
+            }
+        });
+    let transform = response.transform;
+    let frame = *transform.frame();
+    let painter = ui.painter_at(frame);
+    let bounds = transform.bounds();
+    // Marks closer than a few pixels merge; all of them are one mesh.
+    let mut marks = Mesh::default();
+    let mut last_mark_x = f32::NEG_INFINITY;
+    let mut last_name_x = f32::NEG_INFINITY;
+    for (name, arrival) in &timeline.marks {
+        if *arrival < bounds.min()[0] || *arrival > bounds.max()[0] {
+            continue;
+        }
+        let x = transform.position_from_point_x(*arrival);
+        if x - last_mark_x >= MARK_SPACING {
+            marks.add_colored_rect(
+                Rect::from_x_y_ranges(x - 0.5..=x + 0.5, frame.y_range()),
+                MARK.gamma_multiply(0.5),
+            );
+            last_mark_x = x;
+        }
+        if x - last_name_x >= NAME_SPACING {
+            painter.text(
+                pos2(x + 3.0, frame.top() + 2.0),
+                Align2::LEFT_TOP,
+                name,
+                FontId::proportional(11.0),
+                MARK,
+            );
+            last_name_x = x;
+        }
+    }
+    painter.add(Shape::mesh(marks));
+    let x = transform.position_from_point_x(playback.cursor);
+    painter.add(Shape::rect_filled(
+        Rect::from_x_y_ranges(x - 1.0..=x + 1.0, frame.y_range()),
+        0.0,
+        CURSOR,
+    ));
+    painter.text(
+        pos2(x, frame.bottom() - 2.0) + vec2(4.0, 0.0),
+        Align2::LEFT_BOTTOM,
+        format!("{:.2} s", playback.cursor),
+        FontId::proportional(11.0),
+        CURSOR,
+    );
+    plot.transform = Some(transform);
+    let scrub = &response.response;
+    if (scrub.dragged() || scrub.clicked() || scrub.drag_started())
+        && let Some(pointer) = scrub.interact_pointer_pos()
+    {
+        let t = transform.value_from_position(pointer).x;
+        return Some(t.clamp(0.0, span));
+    }
+    None
+}
+
+/// A decimated series drawn as one strip of triangles through its columns, `thickness` points
+/// thick where it is flat and covering every column's smallest to largest value: a line that
+/// shows every peak, for a fraction of a stroked line's cost.
+struct Band<'a> {
+    base: PlotItemBase,
+    columns: &'a [Column],
+    colour: Color32,
+    thickness: f32,
+    bounds: PlotBounds,
+}
+
+impl<'a> Band<'a> {
+    fn new(name: &str, columns: &'a [Column], colour: Color32, thickness: f32) -> Band<'a> {
+        let mut bounds = PlotBounds::NOTHING;
+        for column in columns {
+            bounds.extend_with_x(column.x);
+            bounds.extend_with_y(column.min);
+            bounds.extend_with_y(column.max);
+        }
+        Band {
+            base: PlotItemBase::new(name.to_string()),
+            columns,
+            colour,
+            thickness,
+            bounds,
+        }
+    }
+}
+
+impl PlotItem for Band<'_> {
+    fn shapes(&self, _ui: &Ui, transform: &PlotTransform, shapes: &mut Vec<Shape>) {
+        if self.columns.is_empty() {
+            return;
+        }
+        let half = self.thickness / 2.0;
+        let mut mesh = Mesh::default();
+        mesh.reserve_vertices(2 * self.columns.len());
+        mesh.reserve_triangles(2 * self.columns.len());
+        for (index, column) in self.columns.iter().enumerate() {
+            let x = transform.position_from_point_x(column.x);
+            // Screen y grows downwards: the largest value is the top edge.
+            let top = transform.position_from_point_y(column.max) - half;
+            let bottom = transform.position_from_point_y(column.min) + half;
+            mesh.colored_vertex(pos2(x, top), self.colour);
+            mesh.colored_vertex(pos2(x, bottom), self.colour);
+            if index > 0 {
+                let at = 2 * index as u32;
+                mesh.add_triangle(at - 2, at - 1, at);
+                mesh.add_triangle(at - 1, at + 1, at);
+            }
+        }
+        if self.columns.len() == 1 {
+            // A single column: a short bar so it still shows.
+            let bar = Rect::from_min_max(mesh.vertices[0].pos, mesh.vertices[1].pos)
+                .expand2(vec2(half, 0.0));
+            shapes.push(Shape::rect_filled(bar, 0.0, self.colour));
+            return;
+        }
+        shapes.push(Shape::mesh(mesh));
+    }
+
+    fn initialize(&mut self, _x_range: RangeInclusive<f64>) {}
+
+    fn color(&self) -> Color32 {
+        self.colour
+    }
+
+    fn geometry(&self) -> PlotGeometry<'_> {
+        PlotGeometry::None
+    }
+
+    fn bounds(&self) -> PlotBounds {
+        self.bounds
+    }
+
+    fn base(&self) -> &PlotItemBase {
+        &self.base
+    }
+
+    fn base_mut(&mut self) -> &mut PlotItemBase {
+        &mut self.base
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn value_steps_follow_1_2_5() {
+        assert_eq!(steps_1_2_5(8.0), [10.0, 50.0, 100.0]);
+        assert_eq!(steps_1_2_5(1.5), [2.0, 10.0, 20.0]);
+        assert_eq!(steps_1_2_5(-0.3), [0.5, 2.5, 5.0]);
+        assert_eq!(steps_1_2_5(20.0), [20.0, 100.0, 200.0]);
+        assert_eq!(steps_1_2_5(0.0), [1.0, 5.0, 10.0]);
+    }
+}
