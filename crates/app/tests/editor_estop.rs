@@ -3,48 +3,10 @@
 
 mod editor_common;
 
-use armwright::editor::{Dialog, EMERGENCY_STOP_LABEL, STOP_KEY, StopSource, StopState};
-use egui::{Event, Modifiers, PointerButton};
-use egui_kittest::Harness;
+use armwright::editor::{Dialog, StopSource, StopState};
 use egui_kittest::kittest::Queryable;
 
-use editor_common::sample_editor;
-
-type EditorHarness = Harness<'static, armwright::editor::Editor>;
-
-/// Presses the stop key as one event and runs exactly one frame; returns that frame's number.
-fn press_stop_key(harness: &mut EditorHarness) -> u64 {
-    harness.event(Event::Key {
-        key: STOP_KEY,
-        physical_key: None,
-        pressed: true,
-        repeat: false,
-        modifiers: Modifiers::NONE,
-    });
-    let frame = harness.ctx.cumulative_frame_nr();
-    harness.step();
-    frame
-}
-
-/// Presses the stop button (pointer already over it) and runs exactly one frame; returns that
-/// frame's number.
-fn press_stop_button(harness: &mut EditorHarness) -> u64 {
-    let centre = harness
-        .get_by_label_contains(EMERGENCY_STOP_LABEL)
-        .rect()
-        .center();
-    harness.hover_at(centre);
-    harness.step();
-    harness.event(Event::PointerButton {
-        pos: centre,
-        button: PointerButton::Primary,
-        pressed: true,
-        modifiers: Modifiers::NONE,
-    });
-    let frame = harness.ctx.cumulative_frame_nr();
-    harness.step();
-    frame
-}
+use editor_common::{press_stop_button, press_stop_key, sample_editor};
 
 #[test]
 fn button_press_sends_the_stop_in_the_same_frame() {

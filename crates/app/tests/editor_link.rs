@@ -12,12 +12,12 @@ use armwright::editor::{
 };
 use armwright_link::{DeviceMode, LinkState};
 use egui::{Event, Modifiers};
-use egui_kittest::Harness;
 use egui_kittest::kittest::{NodeT, Queryable};
 
-use editor_common::{harness, options, scratch};
-
-type EditorHarness = Harness<'static, Editor>;
+use editor_common::{
+    EditorHarness, device_mode, device_pulses, frames_sent, harness, link_state, options, scratch,
+    step_until,
+};
 
 /// An editor on the sample scene, not yet connected, with the receiving end of its stop log.
 ///
@@ -30,43 +30,6 @@ fn linked_editor(name: &str) -> (EditorHarness, Receiver<StopRequest>) {
     let mut harness = harness(editor);
     harness.run_steps(3);
     (harness, requests)
-}
-
-/// Steps (a frame every 10 ms) until `done` holds; panics after 10 s naming `what`.
-fn step_until(harness: &mut EditorHarness, what: &str, done: impl Fn(&Editor) -> bool) {
-    let start = Instant::now();
-    while !done(harness.state()) {
-        assert!(
-            start.elapsed() < Duration::from_secs(10),
-            "timed out waiting for {what}: {:?}",
-            harness.state().device().view()
-        );
-        std::thread::sleep(Duration::from_millis(10));
-        harness.step();
-    }
-}
-
-fn device_mode(editor: &Editor) -> Option<DeviceMode> {
-    let device = editor.device().simulated_device()?;
-    Some(device.lock().expect("device").mode())
-}
-
-fn frames_sent(editor: &Editor) -> u64 {
-    editor
-        .device()
-        .view()
-        .stats
-        .as_ref()
-        .map_or(0, |stats| stats.frames_sent)
-}
-
-fn link_state(editor: &Editor) -> Option<LinkState> {
-    editor
-        .device()
-        .view()
-        .stats
-        .as_ref()
-        .map(|stats| stats.state)
 }
 
 #[test]
@@ -181,14 +144,6 @@ fn connect_acknowledge_stream_stop_by_key_reset_and_stream_again() {
         frames_sent(editor) > sent + 10
     });
     assert_eq!(device_mode(harness.state()), Some(DeviceMode::Driving));
-}
-
-fn device_pulses(editor: &Editor) -> Option<Vec<u16>> {
-    let device = editor.device().simulated_device()?;
-    let device = device.lock().expect("device");
-    device
-        .pulse_units()
-        .map(|values| values.as_slice().to_vec())
 }
 
 #[test]

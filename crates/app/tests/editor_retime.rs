@@ -5,15 +5,12 @@
 mod common;
 mod editor_common;
 
-use std::time::{Duration, Instant};
-
 use armwright::editor::{ChannelStopLink, Command, Editor, RetimeRun};
 use armwright::scene::{Scene, load};
-use egui::accesskit::Role;
 use egui_kittest::Harness;
 use egui_kittest::kittest::Queryable;
 
-use editor_common::{harness, options, scratch};
+use editor_common::{click_tab, harness, options, scratch, wait_for_retime};
 
 /// The pen-plotter sample with its sequence repeated `times` times (names made unique), written
 /// to a scratch folder: a longer sequence makes a retime take long enough to watch and cancel.
@@ -46,22 +43,6 @@ fn editor_on(test: &str, path: std::path::PathBuf) -> Harness<'static, Editor> {
     harness.run_steps(3);
     click_tab(&mut harness, "Retime");
     harness
-}
-
-/// Steps until the retime worker is done (at most 120 s), then two more frames.
-fn wait_for_retime(harness: &mut Harness<'static, Editor>) {
-    let start = Instant::now();
-    while harness.state().is_retiming() && start.elapsed() < Duration::from_secs(120) {
-        std::thread::sleep(Duration::from_millis(10));
-        harness.step();
-    }
-    assert!(!harness.state().is_retiming(), "the retime never ended");
-    harness.run_steps(2);
-}
-
-fn click_tab(harness: &mut Harness<'static, Editor>, label: &str) {
-    harness.get_by_role_and_label(Role::Button, label).click();
-    harness.run_steps(2);
 }
 
 #[test]

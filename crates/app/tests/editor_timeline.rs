@@ -4,8 +4,6 @@
 
 mod editor_common;
 
-use std::time::{Duration, Instant};
-
 use armwright::editor::{
     ChannelStopLink, Command, DryRunStatus, Editor, PlaybackCommand, Quantity, WaypointField,
 };
@@ -16,23 +14,7 @@ use egui_kittest::Harness;
 use egui_kittest::kittest::Queryable;
 use egui_plot::PlotPoint;
 
-use editor_common::{drag, harness, options, sample_editor, scratch};
-
-/// Steps (sleeping a little between frames) until the newest change's dry run is shown or has
-/// failed, at most 60 s.
-fn wait_for_dry_run(harness: &mut Harness<'static, Editor>) {
-    let start = Instant::now();
-    harness.step();
-    while harness.state().is_dry_running() && start.elapsed() < Duration::from_secs(60) {
-        std::thread::sleep(Duration::from_millis(10));
-        harness.step();
-    }
-    harness.run_steps(2);
-    assert!(
-        !harness.state().is_dry_running(),
-        "no dry run result after 60 s"
-    );
-}
+use editor_common::{drag, harness, options, sample_editor, scratch, wait_for_dry_run};
 
 /// The screen point of time `t` (s) on the timeline plot, halfway up.
 fn plot_point(harness: &Harness<'static, Editor>, t: f64) -> Pos2 {

@@ -1,14 +1,24 @@
 //! Shared set-up for the editor's flow tests: an editor on the sample scene in a kittest
-//! harness the size of a real window, a stop channel, a scratch folder.
+//! harness the size of a real window, a stop channel, a scratch folder; bounded waits for the
+//! editor's workers (file work, dry run, retime, device link); the stop key and button; what
+//! the simulated device is doing.
 #![allow(dead_code)]
 
 use std::path::PathBuf;
 use std::sync::mpsc::Receiver;
 use std::time::{Duration, Instant};
 
-use armwright::editor::{ChannelStopLink, Editor, EditorOptions, StopRequest};
+use armwright::editor::{
+    ChannelStopLink, EMERGENCY_STOP_LABEL, Editor, EditorOptions, STOP_KEY, StopRequest,
+};
+use armwright_link::{DeviceMode, LinkState};
+use egui::accesskit::Role;
 use egui::{Event, Modifiers, PointerButton, Pos2};
 use egui_kittest::Harness;
+use egui_kittest::kittest::Queryable;
+
+/// The editor in a kittest harness.
+pub type EditorHarness = Harness<'static, Editor>;
 
 /// A fresh scratch folder under the system's temporary folder, named for the test.
 pub fn scratch(name: &str) -> PathBuf {
@@ -87,4 +97,120 @@ pub fn drag(
         modifiers: Modifiers::NONE,
     });
     harness.step();
+}
+
+/// Steps (a frame every 10 ms) until `done` holds; panics after 10 s naming `what`.
+pub fn step_until(harness: &mut EditorHarness, what: &str, done: impl Fn(&Editor) -> bool) {
+    let start = Instant::now();
+    while !done(harness.state()) {
+        assert!(
+            start.elapsed() < Duration::from_secs(10),
+            "timed out waiting for {what}: {:?}",
+            harness.state().device().view()
+        );
+        std::thread::sleep(Duration::from_millis(10));
+        harness.step();
+    }
+}
+
+/// Steps (sleeping a little between frames) until the newest change's dry run is shown or has
+/// failed, at most 60 s.
+pub fn wait_for_dry_run(harness: &mut EditorHarness) {
+    let start = Instant::now();
+    harness.step();
+    while harness.state().is_dry_running() && start.elapsed() < Duration::from_secs(60) {
+        std::thread::sleep(Duration::from_millis(10));
+        harness.step();
+    }
+    harness.run_steps(2);
+    assert!(
+        !harness.state().is_dry_running(),
+        "no dry run result after 60 s"
+    );
+}
+
+/// Steps until the retime worker is done (at most 120 s), then two more frames.
+pub fn wait_for_retime(harness: &mut EditorHarness) {
+    let start = Instant::now();
+    while harness.state().is_retiming() && start.elapsed() < Duration::from_secs(120) {
+        std::thread::sleep(Duration::from_millis(10));
+        harness.step();
+    }
+    assert!(!harness.state().is_retiming(), "the retime never ended");
+    harness.run_steps(2);
+}
+
+/// Clicks a tab of the tools panel (Link, Retime, Arm) and runs two frames.
+pub fn click_tab(harness: &mut EditorHarness, label: &str) {
+    harness.get_by_role_and_label(Role::Button, label).click();
+    harness.run_steps(2);
+}
+
+/// Presses the stop key as one event and runs exactly one frame; returns that frame's number.
+pub fn press_stop_key(harness: &mut EditorHarness) -> u64 {
+    harness.event(Event::Key {
+        key: STOP_KEY,
+        physical_key: None,
+        pressed: true,
+        repeat: false,
+        modifiers: Modifiers::NONE,
+    });
+    let frame = harness.ctx.cumulative_frame_nr();
+    harness.step();
+    frame
+}
+
+/// Presses the stop button (pointer already over it) and runs exactly one frame; returns that
+/// frame's number.
+pub fn press_stop_button(harness: &mut EditorHarness) -> u64 {
+    let centre = harness
+        .get_by_label_contains(EMERGENCY_STOP_LABEL)
+        .rect()
+        .center();
+    harness.hover_at(centre);
+    harness.step();
+    harness.event(Event::PointerButton {
+        pos: centre,
+        button: PointerButton::Primary,
+        pressed: true,
+        modifiers: Modifiers::NONE,
+    });
+    let frame = harness.ctx.cumulative_frame_nr();
+    harness.step();
+    frame
+}
+
+/// The simulated device's mode, while connected to it.
+pub fn device_mode(editor: &Editor) -> Option<DeviceMode> {
+    let device = editor.device().simulated_device()?;
+    Some(device.lock().expect("device").mode())
+}
+
+/// Frames the link has sent in this connection.
+pub fn frames_sent(editor: &Editor) -> u64 {
+    editor
+        .device()
+        .view()
+        .stats
+        .as_ref()
+        .map_or(0, |stats| stats.frames_sent)
+}
+
+/// The link's state, while connected.
+pub fn link_state(editor: &Editor) -> Option<LinkState> {
+    editor
+        .device()
+        .view()
+        .stats
+        .as_ref()
+        .map(|stats| stats.state)
+}
+
+/// The pulses the simulated device is putting out, in its units.
+pub fn device_pulses(editor: &Editor) -> Option<Vec<u16>> {
+    let device = editor.device().simulated_device()?;
+    let device = device.lock().expect("device");
+    device
+        .pulse_units()
+        .map(|values| values.as_slice().to_vec())
 }
