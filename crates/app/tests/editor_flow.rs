@@ -1,13 +1,25 @@
 //! The teaching flow on the built-in sample: drag the tool point in the top view and in the
-//! side view, store a waypoint, undo and redo it with the keys.
+//! side view, store a waypoint, undo and redo it with the keys; and the whole flow on a bundled
+//! sample, from opening it to a confirmed reset after an emergency stop while streaming.
 
 mod editor_common;
 
-use armwright::editor::{ReachStatus, ViewKind};
-use egui::{Key, Modifiers, vec2};
-use egui_kittest::kittest::Queryable;
+use std::time::Instant;
 
-use editor_common::{drag, sample_editor};
+use armwright::editor::{
+    ACKNOWLEDGE_LABEL, DryRunStatus, ReachStatus, RetimeRun, StopSource, StopState, StreamPhase,
+    ToolsTab, ViewKind,
+};
+use armwright::scene::{build_arm, load, plan_of, sampled_poses};
+use armwright_link::{DeviceMode, LinkState};
+use armwright_trajectory::CommandedMotion;
+use egui::{Key, Modifiers, vec2};
+use egui_kittest::kittest::{NodeT, Queryable};
+
+use editor_common::{
+    click_tab, device_mode, device_pulses, drag, frames_sent, link_state, press_stop_button,
+    sample_editor, settle, step_until, wait_for_dry_run, wait_for_retime,
+};
 
 #[test]
 fn drag_in_the_top_view_moves_the_tool_point_in_its_horizontal_plane() {
@@ -143,4 +155,266 @@ fn renaming_by_typing_is_one_undo_step() {
     harness.get_by_label("Undo").click();
     harness.run_steps(3);
     assert_eq!(harness.state().state.scene.waypoints[2].name, original);
+}
+
+/// The flow in one session, through the window's own controls: open a bundled sample →
+/// drag the tool point → store a waypoint → undo and redo → retime and apply → play → stream to
+/// the simulated device → emergency stop (it reaches the link in the frame of the click) →
+/// confirmed reset.
+#[test]
+fn open_teach_retime_play_stream_stop_and_reset() {
+    let (mut harness, requests, _dir) = sample_editor("whole-flow");
+
+    // Open a bundled sample through the Open dialog's typed path.
+    let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("../../sample-scenes/cube-stacker.armwright.json");
+    let on_disk = load(&path).expect("the sample loads");
+    harness.get_by_label("Open…").click();
+    harness.run_steps(3);
+    harness
+        .get_by_label("scene path")
+        .type_text(&path.display().to_string());
+    harness.run_steps(2);
+    harness.get_by_label("Open this file").click();
+    settle(&mut harness);
+    {
+        let state = &harness.state().state;
+        assert_eq!(state.dialog, None, "{:?}", state.messages.last());
+        assert_eq!(state.file_path.as_deref(), Some(path.as_path()));
+        assert_eq!(state.scene, on_disk);
+        assert!(!state.is_dirty());
+    }
+
+    // Drag the tool point in the top view: it follows the pointer in its horizontal plane.
+    let Some(from) = harness.state().camera(ViewKind::Top).tool_on_screen() else {
+        panic!("the top view drew no tool point");
+    };
+    let to = from + vec2(12.0, -10.0);
+    let expected = harness
+        .state()
+        .camera(ViewKind::Top)
+        .projection()
+        .expect("projection")
+        .to_plane(to);
+    let height = harness.state().state.tool_point().expect("tool point").z;
+    drag(&mut harness, from, to);
+    {
+        let state = &harness.state().state;
+        assert_eq!(
+            state.reach,
+            ReachStatus::Reached,
+            "{:?}",
+            state.reach_problems()
+        );
+        let after = state.tool_point().expect("tool point");
+        assert!((after.x * 1e3 - expected[0]).abs() < 0.5, "x {}", after.x);
+        assert!((after.y * 1e3 - expected[1]).abs() < 0.5, "y {}", after.y);
+        assert!((after.z - height).abs() < 1e-6);
+    }
+
+    // Store it as a waypoint.
+    let count = on_disk.waypoints.len();
+    let taught = harness.state().state.pose_in_file_units();
+    harness.get_by_label("Store pose").click();
+    harness.run_steps(3);
+    {
+        let state = &harness.state().state;
+        assert_eq!(state.scene.waypoints.len(), count + 1);
+        let index = state
+            .selected_waypoint
+            .expect("the new waypoint is selected");
+        assert_eq!(state.scene.waypoints[index].joints_deg_or_mm, taught);
+        assert!(state.is_dirty());
+    }
+    let with_waypoint = harness.state().state.scene.clone();
+
+    // Undo and redo with the keys.
+    harness.key_press_modifiers(Modifiers::COMMAND, Key::Z);
+    harness.run_steps(3);
+    assert_eq!(harness.state().state.scene, on_disk);
+    assert!(!harness.state().state.is_dirty());
+    harness.key_press_modifiers(Modifiers::COMMAND | Modifiers::SHIFT, Key::Z);
+    harness.run_steps(3);
+    assert_eq!(harness.state().state.scene, with_waypoint);
+    assert!(harness.state().state.is_dirty());
+
+    // Retime for the scene's own target on the worker, then apply.
+    click_tab(&mut harness, "Retime");
+    assert_eq!(harness.state().state.tools_tab, ToolsTab::Retime);
+    harness.get_by_label("Run retime").click();
+    harness.run_steps(2);
+    wait_for_retime(&mut harness);
+    let report = match &harness.state().state.retime.run {
+        RetimeRun::Finished(report) => report.clone(),
+        other => panic!("no retime result: {other:?}"),
+    };
+    assert_eq!(report.base, with_waypoint);
+    assert_eq!(report.waypoints.len(), count + 1);
+    assert!(report.after.worst_overshoot_mm <= with_waypoint.timing.max_overshoot_mm);
+    assert!(report.after.cycle_time_s <= report.before.cycle_time_s);
+    assert_eq!(
+        harness.state().state.scene,
+        with_waypoint,
+        "untouched until Apply"
+    );
+    harness.get_by_label("Apply").click();
+    harness.run_steps(3);
+    let retimed = harness.state().state.scene.clone();
+    assert_eq!(retimed, report.retimed);
+    assert_ne!(retimed, with_waypoint, "the retime changed the timing");
+    assert!(harness.state().state.can_undo());
+
+    // Play the retimed sequence's dry run: the cursor runs on the harness's clock and the arm
+    // follows the plan, the dry run's arm drawn over it.
+    wait_for_dry_run(&mut harness);
+    let arm = build_arm(&retimed.arm).expect("the sample's arm");
+    let plan = plan_of(&retimed, &arm).expect("the retimed sample plans");
+    let unretimed = plan_of(&with_waypoint, &arm).expect("the taught sample plans");
+    assert!(
+        CommandedMotion::duration(&plan) < CommandedMotion::duration(&unretimed),
+        "the retimed plan is the shorter one"
+    );
+    {
+        let editor = harness.state();
+        assert!(
+            matches!(editor.state.playback.status, DryRunStatus::Ready),
+            "{:?}",
+            editor.state.playback.status
+        );
+        let timeline = editor.state.playback.timeline.as_ref().expect("a timeline");
+        assert_eq!(timeline.generation, editor.dry_run_generation());
+        assert_eq!(
+            CommandedMotion::duration(&timeline.plan),
+            CommandedMotion::duration(&plan),
+            "the timeline shows the retimed plan"
+        );
+        assert_eq!(timeline.marks.len(), count + 1);
+    }
+    // The harness's frame interval, kept as an f32 by egui.
+    let frame_s = f64::from(1.0_f32 / 60.0);
+    harness.get_by_label("Play").click();
+    // The frame that takes the click starts playback; the next one starts its clock.
+    harness.run_steps(2);
+    let start = harness.state().state.playback.cursor;
+    harness.run_steps(30);
+    {
+        let state = &harness.state().state;
+        assert!(state.playback.playing);
+        let played = state.playback.cursor - start;
+        assert!((played - 30.0 * frame_s).abs() < 1e-6, "played {played} s");
+        let mut at_cursor = vec![0.0; state.pose.len()];
+        plan.positions_at(state.playback.cursor, &mut at_cursor);
+        for (joint, (got, want)) in state.pose.iter().zip(&at_cursor).enumerate() {
+            assert!((got - want).abs() < 1e-12, "joint {joint}: {got} vs {want}");
+        }
+        assert!(state.playback.simulated_pose(&state.pose).is_some());
+    }
+    harness.get_by_label("Pause").click();
+    harness.run_steps(2);
+    assert!(!harness.state().state.playback.playing);
+
+    // Stream the retimed sequence to the simulated device, after the caution.
+    click_tab(&mut harness, "Link");
+    harness.get_by_label("Connect").click_accesskit();
+    step_until(&mut harness, "the connection", |editor| {
+        link_state(editor) == Some(LinkState::Idle)
+    });
+    assert!(
+        harness
+            .get_by_label("Stream sequence")
+            .accesskit_node()
+            .is_disabled(),
+        "streaming waits for the caution"
+    );
+    harness.get_by_label(ACKNOWLEDGE_LABEL).click_accesskit();
+    harness.run_steps(2);
+    assert!(harness.state().state.caution_acknowledged);
+    harness.get_by_label("Stream sequence").click_accesskit();
+    step_until(&mut harness, "setpoints on the way", |editor| {
+        frames_sent(editor) > 10
+    });
+    assert_eq!(device_mode(harness.state()), Some(DeviceMode::Driving));
+    assert_eq!(
+        harness.state().device().view().phase,
+        StreamPhase::Streaming
+    );
+    // What goes out is the retimed sequence: one setpoint per period of its plan, sampled at
+    // the scene's rate as `armwright stream` does.
+    let poses = sampled_poses(&retimed, &arm, &plan, retimed.link.rate_hz).expect("setpoints");
+    assert_eq!(harness.state().device().view().progress.1, poses.len());
+
+    // Emergency stop with one click on the stop button: the request reaches the link's
+    // emergency-stop handle in the frame of the press.
+    let frame_start = Instant::now();
+    let frame = press_stop_button(&mut harness);
+    let frame_end = Instant::now();
+    let (handed, at) = harness
+        .state()
+        .device()
+        .last_stop_handed()
+        .expect("the stop reached the link");
+    assert_eq!((handed.frame, handed.source), (frame, StopSource::Button));
+    assert!(frame_start <= at && at <= frame_end);
+    assert_eq!(requests.try_recv().map(|r| r.frame), Ok(frame));
+    assert!(matches!(
+        harness.state().state.stop,
+        StopState::Latched { .. }
+    ));
+    // The link's thread wrote the stop line within that frame's span, and the device latched.
+    step_until(&mut harness, "the device latched", |editor| {
+        device_mode(editor) == Some(DeviceMode::Stopped)
+            && link_state(editor) == Some(LinkState::Stopped)
+    });
+    let stats = harness
+        .state()
+        .device()
+        .view()
+        .stats
+        .clone()
+        .expect("stats");
+    let written_after = stats.stop_write_latency.expect("the stop line was written");
+    assert!(
+        at + written_after <= frame_end,
+        "stop line written {written_after:?} after the click, after its frame ended ({:?})",
+        frame_end - frame_start
+    );
+    // The device holds: no setpoint after the stop; the window shows the latch.
+    let held = device_pulses(harness.state());
+    let sent = stats.frames_sent;
+    std::thread::sleep(std::time::Duration::from_millis(100));
+    harness.run_steps(5);
+    assert_eq!(
+        frames_sent(harness.state()),
+        sent,
+        "no setpoint after the stop"
+    );
+    assert_eq!(device_pulses(harness.state()), held, "the device holds");
+    assert_eq!(harness.state().device().view().phase, StreamPhase::Ended);
+    assert!(harness.state().window_title().contains("STOPPED"));
+    assert!(
+        harness
+            .get_by_label("Stream sequence")
+            .accesskit_node()
+            .is_disabled(),
+        "streaming is refused while the stop is latched"
+    );
+
+    // A confirmed reset clears the editor's latch and the link's; streaming may start again.
+    harness.get_by_label("Reset stop…").click();
+    harness.run_steps(3);
+    harness.get_by_label("Reset stop").click();
+    step_until(&mut harness, "the link reset", |editor| {
+        link_state(editor) == Some(LinkState::Idle)
+    });
+    assert_eq!(harness.state().state.stop, StopState::Clear);
+    assert_eq!(device_mode(harness.state()), Some(DeviceMode::Keeping));
+    assert!(!harness.state().window_title().contains("STOPPED"));
+    assert!(
+        !harness
+            .get_by_label("Stream sequence")
+            .accesskit_node()
+            .is_disabled()
+    );
+    // Nothing was lost on the way: the scene is the retimed one with the taught waypoint.
+    assert_eq!(harness.state().state.scene, retimed);
 }
