@@ -25,6 +25,23 @@ fn button_press_sends_the_stop_in_the_same_frame() {
 }
 
 #[test]
+fn the_button_stop_goes_out_before_the_rest_of_the_window_is_drawn() {
+    let (mut harness, requests, _dir) = sample_editor("estop-button-early");
+    press_stop_button(&mut harness);
+    assert!(requests.try_recv().is_ok());
+    // The status bar, drawn right after the top bar, already tells of the stop in the frame
+    // of the press: the stop was applied before the views, the sequence and the timeline were
+    // drawn, so the link's thread writes the stop line while that frame is still being drawn
+    // (as it does for the key, which is read before any panel).
+    assert!(
+        harness
+            .query_by_label("emergency stop sent (button); latched until reset")
+            .is_some(),
+        "the stop was applied only after the whole window was drawn"
+    );
+}
+
+#[test]
 fn key_sends_the_stop_with_a_text_field_focused() {
     let (mut harness, requests, _dir) = sample_editor("estop-key-text");
     let name = harness.state().state.scene.waypoints[3].name.clone();

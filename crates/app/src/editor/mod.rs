@@ -388,12 +388,21 @@ impl Editor {
         format!("{mark}{name}{stop} — Armwright")
     }
 
-    /// Draws every panel, then applies what they asked for, in order.
+    /// Draws every panel, then applies what they asked for, in order; the stop button's press
+    /// is applied as soon as the top bar reports it.
     pub fn ui(&mut self, ui: &mut egui::Ui) {
         let frame = ui.ctx().cumulative_frame_nr();
         let mut commands = Vec::new();
         let top = Panel::top("armwright top bar").show(ui, |ui| panels::top_bar(ui, &self.state));
-        commands.push(top.inner);
+        if matches!(top.inner, Command::EmergencyStop(_)) {
+            // The stop button's press goes out now, as the key's does in `logic`, not after the
+            // views, the sequence and the timeline are drawn: the link's thread writes the stop
+            // line while the rest of this frame is drawn.
+            let ctx = ui.ctx().clone();
+            self.apply(&ctx, top.inner, frame);
+        } else {
+            commands.push(top.inner);
+        }
         let below_top = Rect::from_min_max(
             pos2(ui.ctx().content_rect().left(), top.response.rect.bottom()),
             ui.ctx().content_rect().max,
