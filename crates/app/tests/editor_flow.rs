@@ -17,8 +17,8 @@ use egui::{Key, Modifiers, vec2};
 use egui_kittest::kittest::{NodeT, Queryable};
 
 use editor_common::{
-    click_tab, device_mode, device_pulses, drag, frames_sent, link_state, press_stop_button,
-    sample_editor, settle, step_until, wait_for_dry_run, wait_for_retime,
+    click_tab, device_mode, device_pulses, drag, frames_sent, hover_stop_button, link_state,
+    press_stop_button_at, sample_editor, settle, step_until, wait_for_dry_run, wait_for_retime,
 };
 
 #[test]
@@ -345,8 +345,9 @@ fn open_teach_retime_play_stream_stop_and_reset() {
 
     // Emergency stop with one click on the stop button: the request reaches the link's
     // emergency-stop handle in the frame of the press.
+    let centre = hover_stop_button(&mut harness);
     let frame_start = Instant::now();
-    let frame = press_stop_button(&mut harness);
+    let frame = press_stop_button_at(&mut harness, centre);
     let frame_end = Instant::now();
     let (handed, at) = harness
         .state()

@@ -160,15 +160,20 @@ pub fn press_stop_key(harness: &mut EditorHarness) -> u64 {
     frame
 }
 
-/// Presses the stop button (pointer already over it) and runs exactly one frame; returns that
-/// frame's number.
-pub fn press_stop_button(harness: &mut EditorHarness) -> u64 {
+/// Puts the pointer over the stop button and runs one frame; returns the button's centre.
+pub fn hover_stop_button(harness: &mut EditorHarness) -> Pos2 {
     let centre = harness
         .get_by_label_contains(EMERGENCY_STOP_LABEL)
         .rect()
         .center();
     harness.hover_at(centre);
     harness.step();
+    centre
+}
+
+/// Presses the primary button at `centre` (the stop button, pointer already over it) and runs
+/// exactly one frame; returns that frame's number.
+pub fn press_stop_button_at(harness: &mut EditorHarness, centre: Pos2) -> u64 {
     harness.event(Event::PointerButton {
         pos: centre,
         button: PointerButton::Primary,
@@ -178,6 +183,13 @@ pub fn press_stop_button(harness: &mut EditorHarness) -> u64 {
     let frame = harness.ctx.cumulative_frame_nr();
     harness.step();
     frame
+}
+
+/// Moves the pointer over the stop button, presses it and runs exactly one frame for the press;
+/// returns that frame's number.
+pub fn press_stop_button(harness: &mut EditorHarness) -> u64 {
+    let centre = hover_stop_button(harness);
+    press_stop_button_at(harness, centre)
 }
 
 /// The simulated device's mode, while connected to it.
