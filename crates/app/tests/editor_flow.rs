@@ -17,8 +17,9 @@ use egui::{Key, Modifiers, vec2};
 use egui_kittest::kittest::{NodeT, Queryable};
 
 use editor_common::{
-    click_tab, device_mode, device_pulses, drag, frames_sent, hover_stop_button, link_state,
-    press_stop_button_at, sample_editor, settle, step_until, wait_for_dry_run, wait_for_retime,
+    STOP_LINE_WITHIN, click_tab, device_mode, device_pulses, drag, frames_sent, hover_stop_button,
+    link_state, press_stop_button_at, sample_editor, settle, step_until, wait_for_dry_run,
+    wait_for_retime,
 };
 
 #[test]
@@ -374,9 +375,12 @@ fn open_teach_retime_play_stream_stop_and_reset() {
         .clone()
         .expect("stats");
     let written_after = stats.stop_write_latency.expect("the stop line was written");
+    // The link crate's own tests measure the 2 ms figure; here, with the whole window running
+    // in a debug build beside other tests, the line must still be out within one 20 ms pulse
+    // frame of the click (a wall-clock bound kept loose so a busy machine does not fail it).
     assert!(
-        at + written_after <= frame_end,
-        "stop line written {written_after:?} after the click, after its frame ended ({:?})",
+        written_after <= STOP_LINE_WITHIN,
+        "stop line written {written_after:?} after the click (its frame took {:?})",
         frame_end - frame_start
     );
     // The device holds: no setpoint after the stop; the window shows the latch.

@@ -17,6 +17,10 @@ use egui::{Event, Modifiers, PointerButton, Pos2};
 use egui_kittest::Harness;
 use egui_kittest::kittest::Queryable;
 
+/// How soon after a stop press the link must have written its stop line, measured by the link:
+/// one 20 ms pulse frame.
+pub const STOP_LINE_WITHIN: Duration = Duration::from_millis(20);
+
 /// The editor in a kittest harness.
 pub type EditorHarness = Harness<'static, Editor>;
 
