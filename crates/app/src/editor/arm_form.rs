@@ -6,7 +6,9 @@
 
 use std::collections::BTreeMap;
 
-use crate::scene::{ArmDoc, ArmShape, BandDoc, JointKindDoc, Problem, Scene, build_arm, validate};
+use crate::scene::{
+    ArmDoc, ArmShape, BandDoc, JointKindDoc, PlacementDoc, Problem, Scene, build_arm, validate,
+};
 
 /// One setting of one joint.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash)]
@@ -43,6 +45,231 @@ pub enum JointField {
     PulseMax,
 }
 
+/// One parameter of a standard (distal) Denavit–Hartenberg row.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash)]
+pub enum DhParam {
+    /// Link length a, mm.
+    A,
+    /// Link twist α, degrees.
+    Alpha,
+    /// Link offset d, mm.
+    D,
+    /// Joint angle offset θ, degrees.
+    Theta,
+}
+
+/// One number of a chain arm's geometry, as the scene file gives it.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash)]
+pub enum ChainField {
+    /// A parameter of Denavit–Hartenberg row `row` (0-based).
+    Dh {
+        /// Row index, 0-based, base first.
+        row: usize,
+        /// Which parameter.
+        param: DhParam,
+    },
+    /// Component `component` (0 = x, 1 = y, 2 = z) of joint `joint`'s axis direction, unitless.
+    Axis {
+        /// Joint index, 0-based.
+        joint: usize,
+        /// 0 = x, 1 = y, 2 = z.
+        component: usize,
+    },
+    /// Component `component` of a point on joint `joint`'s axis in the base frame, mm.
+    Origin {
+        /// Joint index, 0-based.
+        joint: usize,
+        /// 0 = x, 1 = y, 2 = z.
+        component: usize,
+    },
+    /// Component (0 = x, 1 = y, 2 = z) of the tool point's shift, mm: after the last row for
+    /// Denavit–Hartenberg rows, in the base frame with every joint at zero for joint axes.
+    ToolPosition(usize),
+    /// Turn of the tool frame about fixed axis 0 = x, 1 = y, 2 = z, degrees.
+    ToolRotation(usize),
+}
+
+impl ChainField {
+    /// The chain fields `arm` has, in the order the form shows them: each row's or joint's
+    /// numbers, then the tool's. Empty for an arm that is no chain.
+    fn all(arm: &ArmDoc) -> Vec<ChainField> {
+        let mut fields = Vec::new();
+        match &arm.shape {
+            ArmShape::ChainDh { rows, .. } => {
+                for row in 0..rows.len() {
+                    for param in [DhParam::A, DhParam::Alpha, DhParam::D, DhParam::Theta] {
+                        fields.push(ChainField::Dh { row, param });
+                    }
+                }
+            }
+            ArmShape::ChainOriginAxis { axes, .. } => {
+                for joint in 0..axes.len() {
+                    for component in 0..3 {
+                        fields.push(ChainField::Axis { joint, component });
+                    }
+                    for component in 0..3 {
+                        fields.push(ChainField::Origin { joint, component });
+                    }
+                }
+            }
+            _ => return fields,
+        }
+        fields.extend((0..3).map(ChainField::ToolPosition));
+        fields.extend((0..3).map(ChainField::ToolRotation));
+        fields
+    }
+
+    fn path(self, arm: &ArmDoc) -> String {
+        let tool = match arm.shape {
+            ArmShape::ChainOriginAxis { .. } => "arm.chain.tool_home",
+            _ => "arm.chain.tool",
+        };
+        match self {
+            ChainField::Dh { row, param } => {
+                let key = match param {
+                    DhParam::A => "a_mm",
+                    DhParam::Alpha => "alpha_deg",
+                    DhParam::D => "d_mm",
+                    DhParam::Theta => "theta_deg",
+                };
+                format!("arm.chain.rows[{row}].{key}")
+            }
+            ChainField::Axis { joint, component } => {
+                format!("arm.chain.axes[{joint}].axis[{component}]")
+            }
+            ChainField::Origin { joint, component } => {
+                format!("arm.chain.axes[{joint}].origin_mm[{component}]")
+            }
+            ChainField::ToolPosition(component) => format!("{tool}.position_mm[{component}]"),
+            ChainField::ToolRotation(component) => {
+                format!("{tool}.rotation_xyz_deg[{component}]")
+            }
+        }
+    }
+
+    fn label(self) -> &'static str {
+        let xyz = |component: usize, labels: [&'static str; 3]| labels[component.min(2)];
+        match self {
+            ChainField::Dh { param, .. } => match param {
+                DhParam::A => "link length a",
+                DhParam::Alpha => "link twist α",
+                DhParam::D => "link offset d",
+                DhParam::Theta => "angle offset θ",
+            },
+            ChainField::Axis { component, .. } => xyz(component, ["axis x", "axis y", "axis z"]),
+            ChainField::Origin { component, .. } => xyz(
+                component,
+                ["point on axis x", "point on axis y", "point on axis z"],
+            ),
+            ChainField::ToolPosition(component) => {
+                xyz(component, ["tool shift x", "tool shift y", "tool shift z"])
+            }
+            ChainField::ToolRotation(component) => xyz(
+                component,
+                [
+                    "tool turn about x",
+                    "tool turn about y",
+                    "tool turn about z",
+                ],
+            ),
+        }
+    }
+
+    fn unit(self) -> &'static str {
+        match self {
+            ChainField::Dh {
+                param: DhParam::A | DhParam::D,
+                ..
+            }
+            | ChainField::Origin { .. }
+            | ChainField::ToolPosition(_) => "mm",
+            ChainField::Dh { .. } | ChainField::ToolRotation(_) => "°",
+            ChainField::Axis { .. } => "",
+        }
+    }
+
+    fn value(self, arm: &ArmDoc) -> Option<f64> {
+        let tool = chain_tool(arm)?;
+        match (self, &arm.shape) {
+            (ChainField::Dh { row, param }, ArmShape::ChainDh { rows, .. }) => {
+                let row = rows.get(row)?;
+                Some(match param {
+                    DhParam::A => row.a_mm,
+                    DhParam::Alpha => row.alpha_deg,
+                    DhParam::D => row.d_mm,
+                    DhParam::Theta => row.theta_deg,
+                })
+            }
+            (ChainField::Axis { joint, component }, ArmShape::ChainOriginAxis { axes, .. }) => {
+                axes.get(joint)?.axis.get(component).copied()
+            }
+            (ChainField::Origin { joint, component }, ArmShape::ChainOriginAxis { axes, .. }) => {
+                axes.get(joint)?.origin_mm.get(component).copied()
+            }
+            (ChainField::ToolPosition(component), _) => tool.position_mm.get(component).copied(),
+            (ChainField::ToolRotation(component), _) => {
+                tool.rotation_xyz_deg.get(component).copied()
+            }
+            _ => None,
+        }
+    }
+
+    fn slot(self, arm: &mut ArmDoc) -> Option<&mut f64> {
+        match (self, &mut arm.shape) {
+            (ChainField::Dh { row, param }, ArmShape::ChainDh { rows, .. }) => {
+                let row = rows.get_mut(row)?;
+                Some(match param {
+                    DhParam::A => &mut row.a_mm,
+                    DhParam::Alpha => &mut row.alpha_deg,
+                    DhParam::D => &mut row.d_mm,
+                    DhParam::Theta => &mut row.theta_deg,
+                })
+            }
+            (ChainField::Axis { joint, component }, ArmShape::ChainOriginAxis { axes, .. }) => {
+                axes.get_mut(joint)?.axis.get_mut(component)
+            }
+            (ChainField::Origin { joint, component }, ArmShape::ChainOriginAxis { axes, .. }) => {
+                axes.get_mut(joint)?.origin_mm.get_mut(component)
+            }
+            (
+                ChainField::ToolPosition(component),
+                ArmShape::ChainDh { tool, .. }
+                | ArmShape::ChainOriginAxis {
+                    tool_home: tool, ..
+                },
+            ) => tool.position_mm.get_mut(component),
+            (
+                ChainField::ToolRotation(component),
+                ArmShape::ChainDh { tool, .. }
+                | ArmShape::ChainOriginAxis {
+                    tool_home: tool, ..
+                },
+            ) => tool.rotation_xyz_deg.get_mut(component),
+            _ => None,
+        }
+    }
+}
+
+/// The placement of a chain arm's tool, `None` for an arm that is no chain.
+fn chain_tool(arm: &ArmDoc) -> Option<&PlacementDoc> {
+    match &arm.shape {
+        ArmShape::ChainDh { tool, .. } => Some(tool),
+        ArmShape::ChainOriginAxis { tool_home, .. } => Some(tool_home),
+        _ => None,
+    }
+}
+
+/// Whether a problem found at `problem_path` concerns the field at `field_path`: the same path,
+/// or, within a chain's geometry, a list or group that holds the field (the validator names a
+/// zero axis at `arm.chain.axes[1].axis`, the field is one of its components).
+fn concerns(problem_path: &str, field_path: &str) -> bool {
+    problem_path == field_path
+        || (problem_path.starts_with("arm.chain")
+            && field_path
+                .strip_prefix(problem_path)
+                .is_some_and(|rest| rest.starts_with('[') || rest.starts_with('.')))
+}
+
 /// One field of the arm settings.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash)]
 pub enum ArmField {
@@ -69,6 +296,8 @@ pub enum ArmField {
         /// Which setting.
         field: JointField,
     },
+    /// A number of a chain arm's geometry.
+    Chain(ChainField),
 }
 
 impl ArmField {
@@ -88,6 +317,18 @@ impl ArmField {
         .into_iter()
         .filter(|field| field.value(arm).is_some())
         .collect()
+    }
+
+    /// The numbers of a chain arm's geometry, in the order the form shows them: per
+    /// Denavit–Hartenberg row a, α, d, θ (or per joint its axis then a point on it), then the
+    /// tool's shift and turn. Empty for the built-in types, whose dimensions are
+    /// [`ArmField::arm_fields`].
+    pub fn chain_fields(arm: &ArmDoc) -> Vec<ArmField> {
+        ChainField::all(arm)
+            .into_iter()
+            .map(ArmField::Chain)
+            .filter(|field| field.value(arm).is_some())
+            .collect()
     }
 
     /// The fields joint `joint` of `arm` has, in the order the form shows them.
@@ -171,6 +412,7 @@ impl ArmField {
                 };
                 format!("arm.joints[{joint}].{tail}")
             }
+            ArmField::Chain(field) => field.path(arm),
         }
     }
 
@@ -207,6 +449,7 @@ impl ArmField {
                 JointField::PulseMin => "shortest pulse",
                 JointField::PulseMax => "longest pulse",
             },
+            ArmField::Chain(field) => field.label(),
         }
     }
 
@@ -246,6 +489,7 @@ impl ArmField {
                     JointField::PinionRadius => "mm",
                 }
             }
+            ArmField::Chain(field) => field.unit(),
         }
     }
 
@@ -287,6 +531,7 @@ impl ArmField {
                     JointField::PulseMax => Some(f64::from(calibration.pulse_max_us)),
                 }
             }
+            ArmField::Chain(field) => field.value(arm),
         }
     }
 
@@ -349,6 +594,7 @@ impl ArmField {
                     JointField::PulseMax => calibration.pulse_max_us = whole_us(value)?,
                 }
             }
+            ArmField::Chain(field) => *field.slot(arm).ok_or_else(missing)? = value,
         }
         Ok(())
     }
@@ -452,10 +698,13 @@ impl ArmForm {
         &self.problems
     }
 
-    /// The problem at this field, if any.
+    /// The problem at this field, if any: at its own path, or for a number of a chain's
+    /// geometry at the list or group that holds it.
     pub fn problem_at(&self, field: ArmField, arm: &ArmDoc) -> Option<&Problem> {
         let path = field.path(arm);
-        self.problems.iter().find(|problem| problem.path == path)
+        self.problems
+            .iter()
+            .find(|problem| concerns(&problem.path, &path))
     }
 
     /// Records `text` typed into `field` and checks the arm the form now describes against the
@@ -477,7 +726,8 @@ impl ArmForm {
         let problem_paths: Vec<String> = self.problems.iter().map(|p| p.path.clone()).collect();
         let arm = &scene.arm;
         self.texts.retain(|field, _| {
-            field.value(arm).is_some() && problem_paths.contains(&field.path(arm))
+            let path = field.path(arm);
+            field.value(arm).is_some() && problem_paths.iter().any(|p| concerns(p, &path))
         });
         // Whatever this finds is only listed: an arm changes through the form only by typing.
         let _ = self.check(scene);
@@ -674,5 +924,21 @@ mod tests {
         let (four, _) = with_arm_type(&five, ArmTypeChoice::Articulated4).expect("switches back");
         assert_eq!(four, scene);
         assert!(with_arm_type(&scene, ArmTypeChoice::Articulated4).is_none());
+    }
+
+    #[test]
+    fn a_problem_with_a_chain_group_concerns_only_its_own_fields() {
+        assert!(concerns(
+            "arm.chain.axes[1].axis",
+            "arm.chain.axes[1].axis[2]"
+        ));
+        assert!(concerns("arm.chain.rows[1]", "arm.chain.rows[1].a_mm"));
+        assert!(!concerns("arm.chain.rows[1]", "arm.chain.rows[10].a_mm"));
+        assert!(!concerns(
+            "arm.chain.axes[1].axis",
+            "arm.chain.axes[1].origin_mm[0]"
+        ));
+        // Outside the chain a problem concerns the field at its exact path only.
+        assert!(!concerns("arm.joints", "arm.joints[0].min_deg"));
     }
 }

@@ -1,5 +1,6 @@
-//! The arm tab: the arm type, link lengths, masses and payload, gripper pulses, and per joint its
-//! limits, servo ratings and calibration, in the scene file's units. Every problem with what was
+//! The arm tab: the arm type, link lengths (or a chain arm's Denavit–Hartenberg rows or joint
+//! axes, and its tool placement), masses and payload, gripper pulses, and per joint its limits,
+//! servo ratings and calibration, in the scene file's units. Every problem with what was
 //! typed is listed with its field path; a field with a problem shows in red and keeps its text,
 //! and the arm keeps its last valid settings until the form is valid again.
 
@@ -68,14 +69,22 @@ pub fn arm_settings(ui: &mut Ui, state: &EditorState) -> Command {
                         "its lift slides, so its joints carry over to no other built-in type",
                     );
             }
-            ArmShape::ChainDh { .. } | ArmShape::ChainOriginAxis { .. } => {
+            ArmShape::ChainDh { .. } => {
                 ui.label(format!(
-                    "chain of {} joints (its geometry is set in the scene file)",
+                    "chain of {} joints, standard Denavit–Hartenberg rows",
+                    arm.joints.len()
+                ));
+            }
+            ArmShape::ChainOriginAxis { .. } => {
+                ui.label(format!(
+                    "chain of {} joints, each given by its axis and a point on it",
                     arm.joints.len()
                 ));
             }
         }
     });
+    let chain = chain_geometry(ui, state);
+    command = command.then(chain);
     CollapsingHeader::new("Lengths, masses, gripper")
         .default_open(true)
         .show(ui, |ui| {
@@ -118,27 +127,125 @@ pub fn arm_settings(ui: &mut Ui, state: &EditorState) -> Command {
     command
 }
 
+/// A chain arm's geometry as a table: a row per Denavit–Hartenberg row (a, α, d, θ offset) or
+/// per joint (axis, point on it), then the tool's shift and turn. Nothing for the built-in types.
+fn chain_geometry(ui: &mut Ui, state: &EditorState) -> Command {
+    let mut command = Command::None;
+    let arm = &state.scene.arm;
+    let fields = ArmField::chain_fields(arm);
+    if fields.is_empty() {
+        return command;
+    }
+    let troubled = fields
+        .iter()
+        .any(|field| state.arm_form.problem_at(*field, arm).is_some());
+    let mut title = RichText::new("Chain geometry");
+    if troubled {
+        title = title.color(PROBLEM);
+    }
+    let (columns, per_joint, word): (&[&str], usize, &str) = match arm.shape {
+        ArmShape::ChainDh { .. } => (
+            &["row", "kind", "a (mm)", "α (°)", "d (mm)", "θ offset (°)"],
+            4,
+            "row",
+        ),
+        _ => (
+            &[
+                "joint",
+                "kind",
+                "axis x",
+                "axis y",
+                "axis z",
+                "point x (mm)",
+                "point y (mm)",
+                "point z (mm)",
+            ],
+            6,
+            "joint",
+        ),
+    };
+    let kinds = arm.shape.joint_kinds();
+    CollapsingHeader::new(title)
+        .id_salt("chain geometry")
+        .default_open(true)
+        .open(troubled.then_some(true))
+        .show(ui, |ui| {
+            Grid::new("chain rows")
+                .num_columns(columns.len())
+                .spacing([6.0, 4.0])
+                .show(ui, |ui| {
+                    for column in columns {
+                        ui.strong(*column);
+                    }
+                    ui.end_row();
+                    for (index, kind) in kinds.iter().enumerate() {
+                        ui.label(format!("{}", index + 1));
+                        ui.label(kind.word());
+                        let prefix = format!("{word} {} ", index + 1);
+                        for field in fields.iter().skip(index * per_joint).take(per_joint) {
+                            let cell = number_edit(ui, state, *field, &prefix);
+                            command = std::mem::replace(&mut command, Command::None).then(cell);
+                        }
+                        ui.end_row();
+                    }
+                });
+            let tool = match arm.shape {
+                ArmShape::ChainDh { .. } => "Tool point in the frame after the last row",
+                _ => "Tool frame in the base frame, every joint at zero",
+            };
+            ui.label(format!(
+                "{tool}: shift x, y, z (mm), then turns about fixed x, y, z (°)"
+            ));
+            Grid::new("chain tool")
+                .num_columns(3)
+                .spacing([6.0, 4.0])
+                .show(ui, |ui| {
+                    for (index, field) in fields.iter().skip(kinds.len() * per_joint).enumerate() {
+                        let cell = number_edit(ui, state, *field, "");
+                        command = std::mem::replace(&mut command, Command::None).then(cell);
+                        if index % 3 == 2 {
+                            ui.end_row();
+                        }
+                    }
+                });
+        });
+    command
+}
+
 /// One field: its name, its text (red with the problem on hover when it has one), its unit.
 fn field_row(ui: &mut Ui, state: &EditorState, field: ArmField, prefix: &str) -> Command {
+    let arm = &state.scene.arm;
+    ui.label(field.label(arm));
+    let command = number_edit(ui, state, field, prefix);
+    ui.label(field.unit(arm));
+    ui.end_row();
+    command
+}
+
+/// A field's text box alone, named `{prefix}{label} ({unit})` for screen readers and tests,
+/// red with the problem on hover when it has one, its JSON path on hover otherwise.
+fn number_edit(ui: &mut Ui, state: &EditorState, field: ArmField, prefix: &str) -> Command {
     let arm = &state.scene.arm;
     let label = field.label(arm);
     let unit = field.unit(arm);
     let problem = state.arm_form.problem_at(field, arm);
     let mut text = state.arm_form.text(field, arm);
-    ui.label(label);
     let mut edit = TextEdit::singleline(&mut text).id_salt(("arm field", field));
     if problem.is_some() {
         edit = edit.text_color(PROBLEM);
     }
+    let name = if unit.is_empty() {
+        format!("{prefix}{label}")
+    } else {
+        format!("{prefix}{label} ({unit})")
+    };
     let response = ui
         .add_sized([FIELD_WIDTH, 20.0], edit)
-        .accessible_name(format!("{prefix}{label} ({unit})"));
+        .accessible_name(name);
     let response = match problem {
         Some(problem) => response.on_hover_text(problem.to_string()),
         None => response.on_hover_text(field.path(arm)),
     };
-    ui.label(unit);
-    ui.end_row();
     if response.changed() {
         Command::EditArmField { field, text }
     } else if response.lost_focus() {
