@@ -281,13 +281,11 @@ fn editor_on(test: &str, document: &Value) -> Harness<'static, Editor> {
     );
     let mut harness = editor_common::harness(editor);
     harness.run_steps(3);
-    assert!(
-        matches!(
-            harness.state().state.scene.arm.shape,
-            ArmShape::ChainDh { .. } | ArmShape::ChainOriginAxis { .. }
-        ),
-        "the chain scene did not load: {:?}",
-        harness.state().state.scene.arm.shape
+    assert_eq!(
+        Some(harness.state().state.scene.arm.shape.word()),
+        document["arm"]["type"].as_str(),
+        "the test scene did not load: {:?}",
+        harness.state().state.messages
     );
     harness.get_by_role_and_label(Role::Button, "Arm").click();
     harness.run_steps(2);
@@ -430,4 +428,60 @@ fn a_chain_axis_of_zero_length_is_refused_at_its_joint() {
         ArmShape::ChainOriginAxis { axes, .. } => assert_eq!(axes[2].origin_mm[0], 150.0),
         other => panic!("{other:?}"),
     }
+}
+
+#[test]
+fn switching_to_the_horizontal_type_keeps_lengths_and_undo_takes_it_back() {
+    let mut document = common::articulated5();
+    document["waypoints"] = json!([]);
+    let mut harness = editor_on("arm-to-scara", &document);
+    let original = harness.state().state.scene.clone();
+    harness
+        .get_by_label("horizontal-jointed (SCARA type)")
+        .click();
+    harness.run_steps(3);
+    let state = &harness.state().state;
+    let ArmShape::Scara(size) = &state.scene.arm.shape else {
+        panic!("not switched: {:?}", state.messages.last());
+    };
+    assert_eq!(size.upper_arm_mm, 120.0);
+    assert_eq!(size.tool_drop_mm, 70.0);
+    assert!(state.arm().is_some(), "the new arm builds");
+    // The lift slides: its home is 0 mm, the top of its travel.
+    assert_eq!(state.pose.len(), 4);
+    assert_eq!(state.pose[2], 0.0);
+    assert!(
+        state
+            .messages
+            .last()
+            .is_some_and(|m| m.text.contains("joint 3 \"lift\" is new")),
+        "{:?}",
+        state.messages.last()
+    );
+    assert!(harness.query_by_label_contains("Joint 3 lift").is_some());
+
+    harness.get_by_label("Undo").click();
+    harness.run_steps(3);
+    assert_eq!(harness.state().state.scene, original);
+    assert_eq!(harness.state().state.pose.len(), 5);
+}
+
+#[test]
+fn a_switch_that_would_lose_waypoints_is_refused_with_the_reason() {
+    let mut harness = editor_on("arm-from-scara", &common::scara());
+    let original = harness.state().state.scene.clone();
+    harness.get_by_label("articulated, 4 joints").click();
+    harness.run_steps(3);
+    let state = &harness.state().state;
+    assert_eq!(state.scene, original, "nothing changed");
+    assert!(!state.can_undo());
+    let said = state
+        .messages
+        .last()
+        .map(|m| m.text.clone())
+        .unwrap_or_default();
+    assert!(
+        said.contains("not switched") && said.contains("1 taught waypoint(s)"),
+        "{said}"
+    );
 }

@@ -7,7 +7,8 @@
 use std::collections::BTreeMap;
 
 use crate::scene::{
-    ArmDoc, ArmShape, BandDoc, JointKindDoc, PlacementDoc, Problem, Scene, build_arm, validate,
+    ArmDoc, ArmShape, ArticulatedSize, BandDoc, JointDoc, JointKindDoc, PlacementDoc, Problem,
+    ScaraSize, Scene, build_arm, validate,
 };
 
 /// One setting of one joint.
@@ -762,21 +763,43 @@ impl ArmForm {
     }
 }
 
-/// The arm types the form can switch between: the vertical articulated arms differ by the wrist
-/// roll only, so their joints and waypoints carry over.
+/// The arm types the form can switch between. The vertical articulated arms differ by the wrist
+/// roll only, so their joints and waypoints carry over; the horizontal-jointed type has a sliding
+/// lift, so a switch to or from it keeps the lengths and servos but no taught positions.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum ArmTypeChoice {
     /// `articulated4`: base yaw, shoulder, elbow, wrist pitch.
     Articulated4,
     /// `articulated5`: the same plus a wrist roll.
     Articulated5,
+    /// `scara`: shoulder, elbow, lift, wrist roll.
+    Scara,
 }
 
+/// Travel of a new lift, in mm: 0 at the top, 60 mm down.
+const LIFT_TRAVEL_MM: f64 = 60.0;
+
+/// Pinion radius of a new lift's servo, in mm.
+const LIFT_PINION_MM: f64 = 10.0;
+
 /// The scene with its arm switched to `choice`, and what changed in words; `None` when the arm
-/// already is of that type or is not a vertical articulated arm. Going to 5 joints adds a wrist
-/// roll with a copy of the wrist's servo and calibration, and adds its home position to every
-/// waypoint; going to 4 drops the roll and its positions.
-pub(crate) fn with_arm_type(scene: &Scene, choice: ArmTypeChoice) -> Option<(Scene, String)> {
+/// already is of that type or is a chain.
+///
+/// Going to 5 joints adds a wrist roll with a copy of the wrist's servo and calibration, and adds
+/// its home position to every waypoint; going to 4 drops the roll and its positions. Between the
+/// articulated and horizontal-jointed types the lengths carry over (base height, upper arm,
+/// forearm, and the wrist-to-tool length as the tool drop or back), each joint takes the servo
+/// and calibration of the joint doing the nearest job, and a new lift gets 60 mm of travel on a
+/// 10 mm pinion.
+///
+/// # Errors
+/// A message saying what would be lost when a switch between articulated and horizontal-jointed
+/// arms meets taught waypoints (their joint positions mean nothing on the other type) or timing
+/// limits naming a joint the new type does not have; the scene is left as it is.
+pub(crate) fn with_arm_type(
+    scene: &Scene,
+    choice: ArmTypeChoice,
+) -> Option<Result<(Scene, String), String>> {
     let mut out = scene.clone();
     let message = match (&scene.arm.shape, choice) {
         (ArmShape::Articulated4(size), ArmTypeChoice::Articulated5) => {
@@ -808,9 +831,109 @@ pub(crate) fn with_arm_type(scene: &Scene, choice: ArmTypeChoice) -> Option<(Sce
                 removed.name
             )
         }
+        (ArmShape::Articulated4(size) | ArmShape::Articulated5(size), ArmTypeChoice::Scara) => {
+            let [_, shoulder, elbow, wrist] = scene.arm.joints.get(..4)? else {
+                return None;
+            };
+            let joints = vec![
+                named(shoulder, "shoulder"),
+                named(elbow, "elbow"),
+                lift(shoulder),
+                named(wrist, "wrist roll"),
+            ];
+            if let Err(refusal) = keeps_taught_data(scene, &joints, "horizontal-jointed") {
+                return Some(Err(refusal));
+            }
+            out.arm.shape = ArmShape::Scara(ScaraSize {
+                base_height_mm: size.base_height_mm,
+                upper_arm_mm: size.upper_arm_mm,
+                forearm_mm: size.forearm_mm,
+                tool_drop_mm: size.wrist_to_tool_mm,
+            });
+            out.arm.joints = joints;
+            "the arm is now horizontal-jointed (SCARA type) with its lengths kept: shoulder and \
+             elbow keep their servos, joint 3 \"lift\" is new (60 mm travel, 10 mm pinion, a copy \
+             of the shoulder's servo) and joint 4 \"wrist roll\" has the wrist's; check their \
+             settings"
+                .to_string()
+        }
+        (ArmShape::Scara(size), ArmTypeChoice::Articulated4) => {
+            let [shoulder, elbow, _, roll] = scene.arm.joints.get(..4)? else {
+                return None;
+            };
+            let joints = vec![
+                named(shoulder, "base yaw"),
+                named(shoulder, "shoulder"),
+                named(elbow, "elbow"),
+                named(roll, "wrist pitch"),
+            ];
+            if let Err(refusal) = keeps_taught_data(scene, &joints, "articulated") {
+                return Some(Err(refusal));
+            }
+            out.arm.shape = ArmShape::Articulated4(ArticulatedSize {
+                base_height_mm: size.base_height_mm,
+                upper_arm_mm: size.upper_arm_mm,
+                forearm_mm: size.forearm_mm,
+                wrist_to_tool_mm: size.tool_drop_mm,
+            });
+            out.arm.joints = joints;
+            "the arm is now articulated with 4 joints and its lengths kept: the lift was removed, \
+             \"base yaw\" and \"shoulder\" have the old shoulder's servo, \"wrist pitch\" the \
+             roll's; check their settings"
+                .to_string()
+        }
         _ => return None,
     };
-    Some((out, message))
+    Some(Ok((out, message)))
+}
+
+fn named(joint: &JointDoc, name: &str) -> JointDoc {
+    JointDoc {
+        name: name.into(),
+        ..joint.clone()
+    }
+}
+
+/// A new lift driven through a pinion by a copy of `servo_of`'s servo: 0 mm (top, home) to
+/// 60 mm down, the calibration's pulses spread over that travel.
+fn lift(servo_of: &JointDoc) -> JointDoc {
+    let mut lift = named(servo_of, "lift");
+    lift.min = -LIFT_TRAVEL_MM;
+    lift.max = 0.0;
+    lift.home = 0.0;
+    lift.servo.pinion_radius_mm = Some(LIFT_PINION_MM);
+    lift.calibration.points[0].position = -LIFT_TRAVEL_MM;
+    lift.calibration.points[1].position = 0.0;
+    lift.link.centre_mm = [0.0; 3];
+    lift.link.inertia_g_mm2 = None;
+    lift
+}
+
+/// Refuses a switch that would drop taught waypoints or timing limits of joints that go away.
+fn keeps_taught_data(scene: &Scene, joints: &[JointDoc], kind: &str) -> Result<(), String> {
+    if !scene.waypoints.is_empty() {
+        return Err(format!(
+            "not switched: the {} taught waypoint(s) hold joint positions that mean nothing on a \
+             {kind} arm and would be lost; save the scene under another name, delete the \
+             waypoints and switch, then teach them again",
+            scene.waypoints.len()
+        ));
+    }
+    let orphans: Vec<&str> = scene
+        .timing
+        .joint_limits
+        .iter()
+        .map(|limit| limit.joint.as_str())
+        .filter(|name| !joints.iter().any(|joint| joint.name == *name))
+        .collect();
+    if !orphans.is_empty() {
+        return Err(format!(
+            "not switched: the timing limits for {} name joint(s) a {kind} arm does not have and \
+             would be lost; remove them from the scene's timing first",
+            orphans.join(", ")
+        ));
+    }
+    Ok(())
 }
 
 #[cfg(test)]
@@ -916,12 +1039,16 @@ mod tests {
     fn four_to_five_joints_and_back_keeps_the_scene_valid() {
         let scene = sample_scene();
         assert!(matches!(scene.arm.shape, ArmShape::Articulated4(_)));
-        let (five, _) = with_arm_type(&scene, ArmTypeChoice::Articulated5).expect("switches");
+        let (five, _) = with_arm_type(&scene, ArmTypeChoice::Articulated5)
+            .expect("switches")
+            .expect("allowed");
         assert_eq!(five.arm.joints.len(), 5);
         assert!(waypoints_fit(&five.arm, &five.waypoints));
         assert_eq!(validate(&five), Vec::new());
         assert!(build_arm(&five.arm).is_ok());
-        let (four, _) = with_arm_type(&five, ArmTypeChoice::Articulated4).expect("switches back");
+        let (four, _) = with_arm_type(&five, ArmTypeChoice::Articulated4)
+            .expect("switches back")
+            .expect("allowed");
         assert_eq!(four, scene);
         assert!(with_arm_type(&scene, ArmTypeChoice::Articulated4).is_none());
     }
@@ -940,5 +1067,36 @@ mod tests {
         ));
         // Outside the chain a problem concerns the field at its exact path only.
         assert!(!concerns("arm.joints", "arm.joints[0].min_deg"));
+    }
+
+    #[test]
+    fn to_scara_and_back_keeps_the_lengths_and_a_valid_scene() {
+        let mut scene = sample_scene();
+        let refusal = with_arm_type(&scene, ArmTypeChoice::Scara)
+            .expect("a switch")
+            .expect_err("the sample has taught waypoints");
+        assert!(refusal.contains("would be lost"), "{refusal}");
+        scene.waypoints.clear();
+        scene.timing.joint_limits.clear();
+        let (scara, _) = with_arm_type(&scene, ArmTypeChoice::Scara)
+            .expect("a switch")
+            .expect("allowed");
+        assert_eq!(validate(&scara), Vec::new());
+        assert!(build_arm(&scara.arm).is_ok());
+        assert_eq!(
+            scara.arm.shape.joint_kinds()[2],
+            JointKindDoc::Prismatic,
+            "joint 3 slides"
+        );
+        assert_eq!(
+            ArmField::UpperArm.value(&scara.arm),
+            ArmField::UpperArm.value(&scene.arm)
+        );
+        let (back, _) = with_arm_type(&scara, ArmTypeChoice::Articulated4)
+            .expect("a switch")
+            .expect("allowed");
+        assert_eq!(validate(&back), Vec::new());
+        assert!(build_arm(&back.arm).is_ok());
+        assert_eq!(back.arm.shape, scene.arm.shape);
     }
 }

@@ -45,29 +45,45 @@ pub fn arm_settings(ui: &mut Ui, state: &EditorState) -> Command {
     ui.horizontal(|ui| {
         ui.label("type");
         match &arm.shape {
-            ArmShape::Articulated4(_) | ArmShape::Articulated5(_) => {
-                let five = matches!(arm.shape, ArmShape::Articulated5(_));
-                if ui
-                    .selectable_label(!five, "articulated, 4 joints")
-                    .clicked()
-                    && five
-                {
-                    command = Command::ChangeArmType(ArmTypeChoice::Articulated4);
-                }
-                if ui
-                    .selectable_label(five, "articulated, 5 joints")
-                    .on_hover_text("adds a wrist roll with a copy of the wrist's servo")
-                    .clicked()
-                    && !five
-                {
-                    command = Command::ChangeArmType(ArmTypeChoice::Articulated5);
-                }
-            }
-            ArmShape::Scara(_) => {
-                ui.label("horizontal-jointed (SCARA type), 4 joints")
-                    .on_hover_text(
-                        "its lift slides, so its joints carry over to no other built-in type",
+            ArmShape::Articulated4(_) | ArmShape::Articulated5(_) | ArmShape::Scara(_) => {
+                let choices = [
+                    (
+                        ArmTypeChoice::Articulated4,
+                        "articulated, 4 joints",
+                        "base yaw, shoulder, elbow, wrist pitch",
+                    ),
+                    (
+                        ArmTypeChoice::Articulated5,
+                        "articulated, 5 joints",
+                        "adds a wrist roll with a copy of the wrist's servo",
+                    ),
+                    (
+                        ArmTypeChoice::Scara,
+                        "horizontal-jointed (SCARA type)",
+                        "shoulder, elbow, a sliding lift, wrist roll; lengths carry over, \
+                         taught waypoints do not",
+                    ),
+                ];
+                for (choice, label, hint) in choices {
+                    let current = matches!(
+                        (choice, &arm.shape),
+                        (ArmTypeChoice::Articulated4, ArmShape::Articulated4(_))
+                            | (ArmTypeChoice::Articulated5, ArmShape::Articulated5(_))
+                            | (ArmTypeChoice::Scara, ArmShape::Scara(_))
                     );
+                    // From the horizontal-jointed type the 4-joint arm is the one way back.
+                    let offered = !(matches!(arm.shape, ArmShape::Scara(_))
+                        && choice == ArmTypeChoice::Articulated5);
+                    if offered
+                        && ui
+                            .selectable_label(current, label)
+                            .on_hover_text(hint)
+                            .clicked()
+                        && !current
+                    {
+                        command = Command::ChangeArmType(choice);
+                    }
+                }
             }
             ArmShape::ChainDh { .. } => {
                 ui.label(format!(
