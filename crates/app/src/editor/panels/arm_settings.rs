@@ -14,6 +14,10 @@ use crate::scene::ArmShape;
 /// Width of a number field, in points.
 const FIELD_WIDTH: f32 = 90.0;
 
+/// Width of a number in the chain geometry's table, in points: narrower, so that a joint's six
+/// axis and point numbers fit the tools panel side by side.
+const CELL_WIDTH: f32 = 50.0;
+
 /// Colour of a problem.
 const PROBLEM: Color32 = Color32::from_rgb(255, 90, 70);
 
@@ -199,25 +203,34 @@ fn chain_geometry(ui: &mut Ui, state: &EditorState) -> Command {
                         ui.label(kind.word());
                         let prefix = format!("{word} {} ", index + 1);
                         for field in fields.iter().skip(index * per_joint).take(per_joint) {
-                            let cell = number_edit(ui, state, *field, &prefix);
+                            let cell = number_edit(ui, state, *field, &prefix, CELL_WIDTH);
                             command = std::mem::replace(&mut command, Command::None).then(cell);
                         }
                         ui.end_row();
                     }
                 });
+            if matches!(arm.shape, ArmShape::ChainOriginAxis { .. }) {
+                ui.label("Axes are directions of any length; points on them are in mm.");
+            }
             let tool = match arm.shape {
                 ArmShape::ChainDh { .. } => "Tool point in the frame after the last row",
                 _ => "Tool frame in the base frame, every joint at zero",
             };
-            ui.label(format!(
-                "{tool}: shift x, y, z (mm), then turns about fixed x, y, z (°)"
-            ));
+            ui.label(format!("{tool}, turns about fixed axes:"));
             Grid::new("chain tool")
-                .num_columns(3)
+                .num_columns(4)
                 .spacing([6.0, 4.0])
                 .show(ui, |ui| {
-                    for (index, field) in fields.iter().skip(kinds.len() * per_joint).enumerate() {
-                        let cell = number_edit(ui, state, *field, "");
+                    let tool_fields = fields.iter().skip(kinds.len() * per_joint);
+                    for (index, field) in tool_fields.enumerate() {
+                        if index % 3 == 0 {
+                            ui.label(if index == 0 {
+                                "shift x, y, z (mm)"
+                            } else {
+                                "turn x, y, z (°)"
+                            });
+                        }
+                        let cell = number_edit(ui, state, *field, "", CELL_WIDTH);
                         command = std::mem::replace(&mut command, Command::None).then(cell);
                         if index % 3 == 2 {
                             ui.end_row();
@@ -232,15 +245,22 @@ fn chain_geometry(ui: &mut Ui, state: &EditorState) -> Command {
 fn field_row(ui: &mut Ui, state: &EditorState, field: ArmField, prefix: &str) -> Command {
     let arm = &state.scene.arm;
     ui.label(field.label(arm));
-    let command = number_edit(ui, state, field, prefix);
+    let command = number_edit(ui, state, field, prefix, FIELD_WIDTH);
     ui.label(field.unit(arm));
     ui.end_row();
     command
 }
 
-/// A field's text box alone, named `{prefix}{label} ({unit})` for screen readers and tests,
-/// red with the problem on hover when it has one, its JSON path on hover otherwise.
-fn number_edit(ui: &mut Ui, state: &EditorState, field: ArmField, prefix: &str) -> Command {
+/// A field's text box alone, `width` points wide, named `{prefix}{label} ({unit})` for screen
+/// readers and tests, red with the problem on hover when it has one, its JSON path on hover
+/// otherwise.
+fn number_edit(
+    ui: &mut Ui,
+    state: &EditorState,
+    field: ArmField,
+    prefix: &str,
+    width: f32,
+) -> Command {
     let arm = &state.scene.arm;
     let label = field.label(arm);
     let unit = field.unit(arm);
@@ -255,9 +275,7 @@ fn number_edit(ui: &mut Ui, state: &EditorState, field: ArmField, prefix: &str) 
     } else {
         format!("{prefix}{label} ({unit})")
     };
-    let response = ui
-        .add_sized([FIELD_WIDTH, 20.0], edit)
-        .accessible_name(name);
+    let response = ui.add_sized([width, 20.0], edit).accessible_name(name);
     let response = match problem {
         Some(problem) => response.on_hover_text(problem.to_string()),
         None => response.on_hover_text(field.path(arm)),
