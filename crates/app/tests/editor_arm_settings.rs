@@ -454,7 +454,9 @@ fn switching_to_the_horizontal_type_keeps_lengths_and_undo_takes_it_back() {
         state
             .messages
             .last()
-            .is_some_and(|m| m.text.contains("joint 3 \"lift\" is new")),
+            .is_some_and(|m| m.text.contains("joint 3 \"lift\" is new")
+                && m.text
+                    .contains("joint 5 \"roll\" and its settings were removed")),
         "{:?}",
         state.messages.last()
     );

@@ -851,11 +851,16 @@ pub(crate) fn with_arm_type(
                 tool_drop_mm: size.wrist_to_tool_mm,
             });
             out.arm.joints = joints;
-            "the arm is now horizontal-jointed (SCARA type) with its lengths kept: shoulder and \
-             elbow keep their servos, joint 3 \"lift\" is new (60 mm travel, 10 mm pinion, a copy \
-             of the shoulder's servo) and joint 4 \"wrist roll\" has the wrist's; check their \
-             settings"
-                .to_string()
+            let dropped = match scene.arm.joints.get(4) {
+                Some(roll) => format!("; joint 5 \"{}\" and its settings were removed", roll.name),
+                None => String::new(),
+            };
+            format!(
+                "the arm is now horizontal-jointed (SCARA type) with its lengths kept: shoulder \
+                 and elbow keep their servos, joint 3 \"lift\" is new (60 mm travel, 10 mm \
+                 pinion, a copy of the shoulder's servo) and joint 4 \"wrist roll\" has the \
+                 wrist's; check their settings{dropped}"
+            )
         }
         (ArmShape::Scara(size), ArmTypeChoice::Articulated4) => {
             let [shoulder, elbow, _, roll] = scene.arm.joints.get(..4)? else {
