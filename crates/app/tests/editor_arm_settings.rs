@@ -1,16 +1,19 @@
 //! The arm tab: a changed link length reaches the arm and its reach map; a value that makes the
 //! scene invalid is listed with its field, kept as typed and not applied; undo restores the arm.
+//! The same for a chain arm's geometry, given as Denavit–Hartenberg rows or as joint axes.
 
+mod common;
 mod editor_common;
 
 use std::time::{Duration, Instant};
 
-use armwright::editor::{ArmField, Editor, ViewKind};
+use armwright::editor::{ArmField, ChainField, Editor, ViewKind};
 use armwright::scene::ArmShape;
 use egui::accesskit::Role;
 use egui::{Key, Modifiers};
 use egui_kittest::Harness;
 use egui_kittest::kittest::Queryable;
+use serde_json::{Value, json};
 
 use editor_common::sample_editor;
 
@@ -242,4 +245,245 @@ fn every_sample_shows_its_arm_in_the_file_units() {
             "{name}"
         );
     }
+}
+
+/// The test arm of `common::articulated5` as a chain of five revolute joints: standard
+/// Denavit–Hartenberg rows (a, α, d, θ in mm and degrees) for base yaw, shoulder, elbow, wrist
+/// pitch and wrist roll, the 70 mm wrist-to-tool length as the last row's offset d.
+fn dh_chain() -> Value {
+    let mut document = common::articulated5();
+    document["arm"]["type"] = json!("chain");
+    common::remove(&mut document, "/arm/dimensions");
+    let row = |a: f64, alpha: f64, d: f64| json!({ "kind": "revolute", "a_mm": a, "alpha_deg": alpha, "d_mm": d, "theta_deg": 0.0 });
+    document["arm"]["chain"] = json!({
+        "convention": "standard_dh",
+        "rows": [
+            row(0.0, 90.0, 90.0),
+            row(120.0, 0.0, 0.0),
+            row(110.0, 0.0, 0.0),
+            row(0.0, 90.0, 0.0),
+            row(0.0, 0.0, 70.0)
+        ],
+        "tool": { "position_mm": [0.0, 0.0, 0.0], "rotation_xyz_deg": [0.0, 0.0, 0.0] }
+    });
+    document
+}
+
+/// An editor harness on `document`, written to a scratch file, on the arm tab.
+fn editor_on(test: &str, document: &Value) -> Harness<'static, Editor> {
+    let path = common::scene_file(test, document);
+    let dir = editor_common::scratch(test);
+    let (link, _requests) = armwright::editor::ChannelStopLink::new();
+    let editor = Editor::open(
+        Some(path.into()),
+        Box::new(link),
+        editor_common::options(&dir, 3600),
+    );
+    let mut harness = editor_common::harness(editor);
+    harness.run_steps(3);
+    assert_eq!(
+        Some(harness.state().state.scene.arm.shape.word()),
+        document["arm"]["type"].as_str(),
+        "the test scene did not load: {:?}",
+        harness.state().state.messages
+    );
+    harness.get_by_role_and_label(Role::Button, "Arm").click();
+    harness.run_steps(2);
+    harness
+}
+
+/// Link length a of Denavit–Hartenberg row `row` (0-based), in mm.
+fn dh_a_mm(harness: &Harness<'static, Editor>, row: usize) -> f64 {
+    match &harness.state().state.scene.arm.shape {
+        ArmShape::ChainDh { rows, .. } => rows[row].a_mm,
+        other => panic!("a Denavit–Hartenberg chain, not {other:?}"),
+    }
+}
+
+#[test]
+fn a_longer_chain_row_reaches_farther_and_undo_takes_it_back() {
+    let mut harness = editor_on("arm-chain-length", &dh_chain());
+    let original = harness.state().state.scene.clone();
+    let reach_before = side_reach_after(&mut harness, None);
+    let tool_before = harness.state().state.tool_point().expect("tool point");
+    let label = "row 2 link length a (mm)";
+    assert_eq!(harness.get_by_label(label).value().as_deref(), Some("120"));
+
+    // 150 typed a key at a time: "1" and "15" are valid lengths too and applied at once.
+    retype(&mut harness, label, &["1", "5", "0"]);
+    assert_eq!(dh_a_mm(&harness, 1), 150.0);
+    assert!(harness.state().state.arm_form.problems().is_empty());
+    let tool_after = harness.state().state.tool_point().expect("tool point");
+    // Forward kinematics of a planar link (common practice): lengthening the upper arm by 30 mm
+    // moves the tool point by 30 mm along that link, whatever the pose.
+    assert!(
+        ((tool_after - tool_before).norm() - 0.030).abs() < 1e-9,
+        "the tool point moved {} m",
+        (tool_after - tool_before).norm()
+    );
+    let reach_after = side_reach_after(&mut harness, Some(reach_before));
+    assert!(
+        reach_after > reach_before + 0.02,
+        "{reach_before} m → {reach_after} m"
+    );
+
+    // Three keystrokes in one field are one undo step.
+    harness.get_by_label("Undo").click();
+    harness.run_steps(3);
+    assert_eq!(harness.state().state.scene, original);
+    assert!(!harness.state().state.can_undo());
+    assert_eq!(harness.get_by_label(label).value().as_deref(), Some("120"));
+    let reach_undone = side_reach_after(&mut harness, Some(reach_after));
+    assert!((reach_undone - reach_before).abs() < 1e-9);
+}
+
+#[test]
+fn a_chain_value_that_is_no_number_is_listed_kept_and_not_applied() {
+    let mut harness = editor_on("arm-chain-invalid", &dh_chain());
+    let original = harness.state().state.scene.clone();
+
+    // A valid twist first, so there is something to undo.
+    retype(&mut harness, "row 4 link twist α (°)", &["80"]);
+    let with_twist = harness.state().state.scene.clone();
+    assert_ne!(with_twist, original);
+
+    let label = "row 3 link length a (mm)";
+    retype(&mut harness, label, &["11o"]);
+    let state = &harness.state().state;
+    assert_eq!(state.scene, with_twist, "the bad length is not applied");
+    let path = "arm.chain.rows[2].a_mm";
+    assert!(
+        harness
+            .query_by_label(&format!("{path}: \"11o\" is not a number"))
+            .is_some(),
+        "{:?}",
+        state.arm_form.problems()
+    );
+    assert_eq!(harness.get_by_label(label).value().as_deref(), Some("11o"));
+
+    // Undo takes back the twist; the typed length stays, listed and unapplied.
+    harness.get_by_label("Undo").click();
+    harness.run_steps(3);
+    assert_eq!(harness.state().state.scene, original);
+    assert_eq!(harness.get_by_label(label).value().as_deref(), Some("11o"));
+    assert_eq!(
+        harness
+            .get_by_label("row 4 link twist α (°)")
+            .value()
+            .as_deref(),
+        Some("90")
+    );
+    assert!(harness.query_by_label_contains("1 problem(s)").is_some());
+
+    retype(&mut harness, label, &["115"]);
+    assert_eq!(dh_a_mm(&harness, 2), 115.0);
+    assert!(harness.state().state.arm_form.problems().is_empty());
+}
+
+#[test]
+fn a_chain_axis_of_zero_length_is_refused_at_its_joint() {
+    // The same arm given by each joint's axis and a point on it, every joint at zero.
+    let mut document = common::articulated5();
+    document["arm"]["type"] = json!("chain");
+    common::remove(&mut document, "/arm/dimensions");
+    let axis = |axis: [f64; 3], origin: [f64; 3]| json!({ "kind": "revolute", "axis": axis, "origin_mm": origin });
+    document["arm"]["chain"] = json!({
+        "convention": "origin_axis",
+        "axes": [
+            axis([0.0, 0.0, 1.0], [0.0, 0.0, 0.0]),
+            axis([0.0, -1.0, 0.0], [0.0, 0.0, 90.0]),
+            axis([0.0, -1.0, 0.0], [120.0, 0.0, 90.0]),
+            axis([0.0, -1.0, 0.0], [230.0, 0.0, 90.0]),
+            axis([1.0, 0.0, 0.0], [230.0, 0.0, 90.0])
+        ],
+        "tool_home": { "position_mm": [300.0, 0.0, 90.0], "rotation_xyz_deg": [0.0, 0.0, 0.0] }
+    });
+    let mut harness = editor_on("arm-chain-axis", &document);
+    let original = harness.state().state.scene.clone();
+
+    retype(&mut harness, "joint 2 axis y", &["0"]);
+    let state = &harness.state().state;
+    assert_eq!(state.scene, original, "a zero axis is not applied");
+    let field = ArmField::Chain(ChainField::Axis {
+        joint: 1,
+        component: 1,
+    });
+    assert_eq!(field.path(&state.scene.arm), "arm.chain.axes[1].axis[1]");
+    // The validator names the axis as a whole; the component typed into is the one at fault.
+    let problem = state
+        .arm_form
+        .problem_at(field, &state.scene.arm)
+        .expect("the axis field has the problem");
+    assert_eq!(problem.path, "arm.chain.axes[1].axis");
+    assert_eq!(
+        harness.get_by_label("joint 2 axis y").value().as_deref(),
+        Some("0")
+    );
+
+    // A point on the axis moves the joints after it: a longer upper arm, applied at once.
+    retype(&mut harness, "joint 2 axis y", &["1"]);
+    assert!(harness.state().state.arm_form.problems().is_empty());
+    retype(&mut harness, "joint 3 point on axis x (mm)", &["150"]);
+    match &harness.state().state.scene.arm.shape {
+        ArmShape::ChainOriginAxis { axes, .. } => assert_eq!(axes[2].origin_mm[0], 150.0),
+        other => panic!("{other:?}"),
+    }
+}
+
+#[test]
+fn switching_to_the_horizontal_type_keeps_lengths_and_undo_takes_it_back() {
+    let mut document = common::articulated5();
+    document["waypoints"] = json!([]);
+    let mut harness = editor_on("arm-to-scara", &document);
+    let original = harness.state().state.scene.clone();
+    harness
+        .get_by_label("horizontal-jointed (SCARA type)")
+        .click();
+    harness.run_steps(3);
+    let state = &harness.state().state;
+    let ArmShape::Scara(size) = &state.scene.arm.shape else {
+        panic!("not switched: {:?}", state.messages.last());
+    };
+    assert_eq!(size.upper_arm_mm, 120.0);
+    assert_eq!(size.tool_drop_mm, 70.0);
+    assert!(state.arm().is_some(), "the new arm builds");
+    // The lift slides: its home is 0 mm, the top of its travel.
+    assert_eq!(state.pose.len(), 4);
+    assert_eq!(state.pose[2], 0.0);
+    assert!(
+        state
+            .messages
+            .last()
+            .is_some_and(|m| m.text.contains("joint 3 \"lift\" is new")
+                && m.text
+                    .contains("joint 5 \"roll\" and its settings were removed")),
+        "{:?}",
+        state.messages.last()
+    );
+    assert!(harness.query_by_label_contains("Joint 3 lift").is_some());
+
+    harness.get_by_label("Undo").click();
+    harness.run_steps(3);
+    assert_eq!(harness.state().state.scene, original);
+    assert_eq!(harness.state().state.pose.len(), 5);
+}
+
+#[test]
+fn a_switch_that_would_lose_waypoints_is_refused_with_the_reason() {
+    let mut harness = editor_on("arm-from-scara", &common::scara());
+    let original = harness.state().state.scene.clone();
+    harness.get_by_label("articulated, 4 joints").click();
+    harness.run_steps(3);
+    let state = &harness.state().state;
+    assert_eq!(state.scene, original, "nothing changed");
+    assert!(!state.can_undo());
+    let said = state
+        .messages
+        .last()
+        .map(|m| m.text.clone())
+        .unwrap_or_default();
+    assert!(
+        said.contains("not switched") && said.contains("1 taught waypoint(s)"),
+        "{said}"
+    );
 }

@@ -6,7 +6,10 @@
 
 use std::collections::BTreeMap;
 
-use crate::scene::{ArmDoc, ArmShape, BandDoc, JointKindDoc, Problem, Scene, build_arm, validate};
+use crate::scene::{
+    ArmDoc, ArmShape, ArticulatedSize, BandDoc, JointDoc, JointKindDoc, PlacementDoc, Problem,
+    ScaraSize, Scene, build_arm, validate,
+};
 
 /// One setting of one joint.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash)]
@@ -43,6 +46,231 @@ pub enum JointField {
     PulseMax,
 }
 
+/// One parameter of a standard (distal) Denavit–Hartenberg row.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash)]
+pub enum DhParam {
+    /// Link length a, mm.
+    A,
+    /// Link twist α, degrees.
+    Alpha,
+    /// Link offset d, mm.
+    D,
+    /// Joint angle offset θ, degrees.
+    Theta,
+}
+
+/// One number of a chain arm's geometry, as the scene file gives it.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash)]
+pub enum ChainField {
+    /// A parameter of Denavit–Hartenberg row `row` (0-based).
+    Dh {
+        /// Row index, 0-based, base first.
+        row: usize,
+        /// Which parameter.
+        param: DhParam,
+    },
+    /// Component `component` (0 = x, 1 = y, 2 = z) of joint `joint`'s axis direction, unitless.
+    Axis {
+        /// Joint index, 0-based.
+        joint: usize,
+        /// 0 = x, 1 = y, 2 = z.
+        component: usize,
+    },
+    /// Component `component` of a point on joint `joint`'s axis in the base frame, mm.
+    Origin {
+        /// Joint index, 0-based.
+        joint: usize,
+        /// 0 = x, 1 = y, 2 = z.
+        component: usize,
+    },
+    /// Component (0 = x, 1 = y, 2 = z) of the tool point's shift, mm: after the last row for
+    /// Denavit–Hartenberg rows, in the base frame with every joint at zero for joint axes.
+    ToolPosition(usize),
+    /// Turn of the tool frame about fixed axis 0 = x, 1 = y, 2 = z, degrees.
+    ToolRotation(usize),
+}
+
+impl ChainField {
+    /// The chain fields `arm` has, in the order the form shows them: each row's or joint's
+    /// numbers, then the tool's. Empty for an arm that is no chain.
+    fn all(arm: &ArmDoc) -> Vec<ChainField> {
+        let mut fields = Vec::new();
+        match &arm.shape {
+            ArmShape::ChainDh { rows, .. } => {
+                for row in 0..rows.len() {
+                    for param in [DhParam::A, DhParam::Alpha, DhParam::D, DhParam::Theta] {
+                        fields.push(ChainField::Dh { row, param });
+                    }
+                }
+            }
+            ArmShape::ChainOriginAxis { axes, .. } => {
+                for joint in 0..axes.len() {
+                    for component in 0..3 {
+                        fields.push(ChainField::Axis { joint, component });
+                    }
+                    for component in 0..3 {
+                        fields.push(ChainField::Origin { joint, component });
+                    }
+                }
+            }
+            _ => return fields,
+        }
+        fields.extend((0..3).map(ChainField::ToolPosition));
+        fields.extend((0..3).map(ChainField::ToolRotation));
+        fields
+    }
+
+    fn path(self, arm: &ArmDoc) -> String {
+        let tool = match arm.shape {
+            ArmShape::ChainOriginAxis { .. } => "arm.chain.tool_home",
+            _ => "arm.chain.tool",
+        };
+        match self {
+            ChainField::Dh { row, param } => {
+                let key = match param {
+                    DhParam::A => "a_mm",
+                    DhParam::Alpha => "alpha_deg",
+                    DhParam::D => "d_mm",
+                    DhParam::Theta => "theta_deg",
+                };
+                format!("arm.chain.rows[{row}].{key}")
+            }
+            ChainField::Axis { joint, component } => {
+                format!("arm.chain.axes[{joint}].axis[{component}]")
+            }
+            ChainField::Origin { joint, component } => {
+                format!("arm.chain.axes[{joint}].origin_mm[{component}]")
+            }
+            ChainField::ToolPosition(component) => format!("{tool}.position_mm[{component}]"),
+            ChainField::ToolRotation(component) => {
+                format!("{tool}.rotation_xyz_deg[{component}]")
+            }
+        }
+    }
+
+    fn label(self) -> &'static str {
+        let xyz = |component: usize, labels: [&'static str; 3]| labels[component.min(2)];
+        match self {
+            ChainField::Dh { param, .. } => match param {
+                DhParam::A => "link length a",
+                DhParam::Alpha => "link twist α",
+                DhParam::D => "link offset d",
+                DhParam::Theta => "angle offset θ",
+            },
+            ChainField::Axis { component, .. } => xyz(component, ["axis x", "axis y", "axis z"]),
+            ChainField::Origin { component, .. } => xyz(
+                component,
+                ["point on axis x", "point on axis y", "point on axis z"],
+            ),
+            ChainField::ToolPosition(component) => {
+                xyz(component, ["tool shift x", "tool shift y", "tool shift z"])
+            }
+            ChainField::ToolRotation(component) => xyz(
+                component,
+                [
+                    "tool turn about x",
+                    "tool turn about y",
+                    "tool turn about z",
+                ],
+            ),
+        }
+    }
+
+    fn unit(self) -> &'static str {
+        match self {
+            ChainField::Dh {
+                param: DhParam::A | DhParam::D,
+                ..
+            }
+            | ChainField::Origin { .. }
+            | ChainField::ToolPosition(_) => "mm",
+            ChainField::Dh { .. } | ChainField::ToolRotation(_) => "°",
+            ChainField::Axis { .. } => "",
+        }
+    }
+
+    fn value(self, arm: &ArmDoc) -> Option<f64> {
+        let tool = chain_tool(arm)?;
+        match (self, &arm.shape) {
+            (ChainField::Dh { row, param }, ArmShape::ChainDh { rows, .. }) => {
+                let row = rows.get(row)?;
+                Some(match param {
+                    DhParam::A => row.a_mm,
+                    DhParam::Alpha => row.alpha_deg,
+                    DhParam::D => row.d_mm,
+                    DhParam::Theta => row.theta_deg,
+                })
+            }
+            (ChainField::Axis { joint, component }, ArmShape::ChainOriginAxis { axes, .. }) => {
+                axes.get(joint)?.axis.get(component).copied()
+            }
+            (ChainField::Origin { joint, component }, ArmShape::ChainOriginAxis { axes, .. }) => {
+                axes.get(joint)?.origin_mm.get(component).copied()
+            }
+            (ChainField::ToolPosition(component), _) => tool.position_mm.get(component).copied(),
+            (ChainField::ToolRotation(component), _) => {
+                tool.rotation_xyz_deg.get(component).copied()
+            }
+            _ => None,
+        }
+    }
+
+    fn slot(self, arm: &mut ArmDoc) -> Option<&mut f64> {
+        match (self, &mut arm.shape) {
+            (ChainField::Dh { row, param }, ArmShape::ChainDh { rows, .. }) => {
+                let row = rows.get_mut(row)?;
+                Some(match param {
+                    DhParam::A => &mut row.a_mm,
+                    DhParam::Alpha => &mut row.alpha_deg,
+                    DhParam::D => &mut row.d_mm,
+                    DhParam::Theta => &mut row.theta_deg,
+                })
+            }
+            (ChainField::Axis { joint, component }, ArmShape::ChainOriginAxis { axes, .. }) => {
+                axes.get_mut(joint)?.axis.get_mut(component)
+            }
+            (ChainField::Origin { joint, component }, ArmShape::ChainOriginAxis { axes, .. }) => {
+                axes.get_mut(joint)?.origin_mm.get_mut(component)
+            }
+            (
+                ChainField::ToolPosition(component),
+                ArmShape::ChainDh { tool, .. }
+                | ArmShape::ChainOriginAxis {
+                    tool_home: tool, ..
+                },
+            ) => tool.position_mm.get_mut(component),
+            (
+                ChainField::ToolRotation(component),
+                ArmShape::ChainDh { tool, .. }
+                | ArmShape::ChainOriginAxis {
+                    tool_home: tool, ..
+                },
+            ) => tool.rotation_xyz_deg.get_mut(component),
+            _ => None,
+        }
+    }
+}
+
+/// The placement of a chain arm's tool, `None` for an arm that is no chain.
+fn chain_tool(arm: &ArmDoc) -> Option<&PlacementDoc> {
+    match &arm.shape {
+        ArmShape::ChainDh { tool, .. } => Some(tool),
+        ArmShape::ChainOriginAxis { tool_home, .. } => Some(tool_home),
+        _ => None,
+    }
+}
+
+/// Whether a problem found at `problem_path` concerns the field at `field_path`: the same path,
+/// or, within a chain's geometry, a list or group that holds the field (the validator names a
+/// zero axis at `arm.chain.axes[1].axis`, the field is one of its components).
+fn concerns(problem_path: &str, field_path: &str) -> bool {
+    problem_path == field_path
+        || (problem_path.starts_with("arm.chain")
+            && field_path
+                .strip_prefix(problem_path)
+                .is_some_and(|rest| rest.starts_with('[') || rest.starts_with('.')))
+}
+
 /// One field of the arm settings.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash)]
 pub enum ArmField {
@@ -69,6 +297,8 @@ pub enum ArmField {
         /// Which setting.
         field: JointField,
     },
+    /// A number of a chain arm's geometry.
+    Chain(ChainField),
 }
 
 impl ArmField {
@@ -88,6 +318,18 @@ impl ArmField {
         .into_iter()
         .filter(|field| field.value(arm).is_some())
         .collect()
+    }
+
+    /// The numbers of a chain arm's geometry, in the order the form shows them: per
+    /// Denavit–Hartenberg row a, α, d, θ (or per joint its axis then a point on it), then the
+    /// tool's shift and turn. Empty for the built-in types, whose dimensions are
+    /// [`ArmField::arm_fields`].
+    pub fn chain_fields(arm: &ArmDoc) -> Vec<ArmField> {
+        ChainField::all(arm)
+            .into_iter()
+            .map(ArmField::Chain)
+            .filter(|field| field.value(arm).is_some())
+            .collect()
     }
 
     /// The fields joint `joint` of `arm` has, in the order the form shows them.
@@ -171,6 +413,7 @@ impl ArmField {
                 };
                 format!("arm.joints[{joint}].{tail}")
             }
+            ArmField::Chain(field) => field.path(arm),
         }
     }
 
@@ -207,6 +450,7 @@ impl ArmField {
                 JointField::PulseMin => "shortest pulse",
                 JointField::PulseMax => "longest pulse",
             },
+            ArmField::Chain(field) => field.label(),
         }
     }
 
@@ -246,6 +490,7 @@ impl ArmField {
                     JointField::PinionRadius => "mm",
                 }
             }
+            ArmField::Chain(field) => field.unit(),
         }
     }
 
@@ -287,6 +532,7 @@ impl ArmField {
                     JointField::PulseMax => Some(f64::from(calibration.pulse_max_us)),
                 }
             }
+            ArmField::Chain(field) => field.value(arm),
         }
     }
 
@@ -349,6 +595,7 @@ impl ArmField {
                     JointField::PulseMax => calibration.pulse_max_us = whole_us(value)?,
                 }
             }
+            ArmField::Chain(field) => *field.slot(arm).ok_or_else(missing)? = value,
         }
         Ok(())
     }
@@ -452,10 +699,13 @@ impl ArmForm {
         &self.problems
     }
 
-    /// The problem at this field, if any.
+    /// The problem at this field, if any: at its own path, or for a number of a chain's
+    /// geometry at the list or group that holds it.
     pub fn problem_at(&self, field: ArmField, arm: &ArmDoc) -> Option<&Problem> {
         let path = field.path(arm);
-        self.problems.iter().find(|problem| problem.path == path)
+        self.problems
+            .iter()
+            .find(|problem| concerns(&problem.path, &path))
     }
 
     /// Records `text` typed into `field` and checks the arm the form now describes against the
@@ -477,7 +727,8 @@ impl ArmForm {
         let problem_paths: Vec<String> = self.problems.iter().map(|p| p.path.clone()).collect();
         let arm = &scene.arm;
         self.texts.retain(|field, _| {
-            field.value(arm).is_some() && problem_paths.contains(&field.path(arm))
+            let path = field.path(arm);
+            field.value(arm).is_some() && problem_paths.iter().any(|p| concerns(p, &path))
         });
         // Whatever this finds is only listed: an arm changes through the form only by typing.
         let _ = self.check(scene);
@@ -512,21 +763,43 @@ impl ArmForm {
     }
 }
 
-/// The arm types the form can switch between: the vertical articulated arms differ by the wrist
-/// roll only, so their joints and waypoints carry over.
+/// The arm types the form can switch between. The vertical articulated arms differ by the wrist
+/// roll only, so their joints and waypoints carry over; the horizontal-jointed type has a sliding
+/// lift, so a switch to or from it keeps the lengths and servos but no taught positions.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum ArmTypeChoice {
     /// `articulated4`: base yaw, shoulder, elbow, wrist pitch.
     Articulated4,
     /// `articulated5`: the same plus a wrist roll.
     Articulated5,
+    /// `scara`: shoulder, elbow, lift, wrist roll.
+    Scara,
 }
 
+/// Travel of a new lift, in mm: 0 at the top, 60 mm down.
+const LIFT_TRAVEL_MM: f64 = 60.0;
+
+/// Pinion radius of a new lift's servo, in mm.
+const LIFT_PINION_MM: f64 = 10.0;
+
 /// The scene with its arm switched to `choice`, and what changed in words; `None` when the arm
-/// already is of that type or is not a vertical articulated arm. Going to 5 joints adds a wrist
-/// roll with a copy of the wrist's servo and calibration, and adds its home position to every
-/// waypoint; going to 4 drops the roll and its positions.
-pub(crate) fn with_arm_type(scene: &Scene, choice: ArmTypeChoice) -> Option<(Scene, String)> {
+/// already is of that type or is a chain.
+///
+/// Going to 5 joints adds a wrist roll with a copy of the wrist's servo and calibration, and adds
+/// its home position to every waypoint; going to 4 drops the roll and its positions. Between the
+/// articulated and horizontal-jointed types the lengths carry over (base height, upper arm,
+/// forearm, and the wrist-to-tool length as the tool drop or back), each joint takes the servo
+/// and calibration of the joint doing the nearest job, and a new lift gets 60 mm of travel on a
+/// 10 mm pinion.
+///
+/// # Errors
+/// A message saying what would be lost when a switch between articulated and horizontal-jointed
+/// arms meets taught waypoints (their joint positions mean nothing on the other type) or timing
+/// limits naming a joint the new type does not have; the scene is left as it is.
+pub(crate) fn with_arm_type(
+    scene: &Scene,
+    choice: ArmTypeChoice,
+) -> Option<Result<(Scene, String), String>> {
     let mut out = scene.clone();
     let message = match (&scene.arm.shape, choice) {
         (ArmShape::Articulated4(size), ArmTypeChoice::Articulated5) => {
@@ -558,9 +831,114 @@ pub(crate) fn with_arm_type(scene: &Scene, choice: ArmTypeChoice) -> Option<(Sce
                 removed.name
             )
         }
+        (ArmShape::Articulated4(size) | ArmShape::Articulated5(size), ArmTypeChoice::Scara) => {
+            let [_, shoulder, elbow, wrist] = scene.arm.joints.get(..4)? else {
+                return None;
+            };
+            let joints = vec![
+                named(shoulder, "shoulder"),
+                named(elbow, "elbow"),
+                lift(shoulder),
+                named(wrist, "wrist roll"),
+            ];
+            if let Err(refusal) = keeps_taught_data(scene, &joints, "horizontal-jointed") {
+                return Some(Err(refusal));
+            }
+            out.arm.shape = ArmShape::Scara(ScaraSize {
+                base_height_mm: size.base_height_mm,
+                upper_arm_mm: size.upper_arm_mm,
+                forearm_mm: size.forearm_mm,
+                tool_drop_mm: size.wrist_to_tool_mm,
+            });
+            out.arm.joints = joints;
+            let dropped = match scene.arm.joints.get(4) {
+                Some(roll) => format!("; joint 5 \"{}\" and its settings were removed", roll.name),
+                None => String::new(),
+            };
+            format!(
+                "the arm is now horizontal-jointed (SCARA type) with its lengths kept: shoulder \
+                 and elbow keep their servos, joint 3 \"lift\" is new (60 mm travel, 10 mm \
+                 pinion, a copy of the shoulder's servo) and joint 4 \"wrist roll\" has the \
+                 wrist's; check their settings{dropped}"
+            )
+        }
+        (ArmShape::Scara(size), ArmTypeChoice::Articulated4) => {
+            let [shoulder, elbow, _, roll] = scene.arm.joints.get(..4)? else {
+                return None;
+            };
+            let joints = vec![
+                named(shoulder, "base yaw"),
+                named(shoulder, "shoulder"),
+                named(elbow, "elbow"),
+                named(roll, "wrist pitch"),
+            ];
+            if let Err(refusal) = keeps_taught_data(scene, &joints, "articulated") {
+                return Some(Err(refusal));
+            }
+            out.arm.shape = ArmShape::Articulated4(ArticulatedSize {
+                base_height_mm: size.base_height_mm,
+                upper_arm_mm: size.upper_arm_mm,
+                forearm_mm: size.forearm_mm,
+                wrist_to_tool_mm: size.tool_drop_mm,
+            });
+            out.arm.joints = joints;
+            "the arm is now articulated with 4 joints and its lengths kept: the lift was removed, \
+             \"base yaw\" and \"shoulder\" have the old shoulder's servo, \"wrist pitch\" the \
+             roll's; check their settings"
+                .to_string()
+        }
         _ => return None,
     };
-    Some((out, message))
+    Some(Ok((out, message)))
+}
+
+fn named(joint: &JointDoc, name: &str) -> JointDoc {
+    JointDoc {
+        name: name.into(),
+        ..joint.clone()
+    }
+}
+
+/// A new lift driven through a pinion by a copy of `servo_of`'s servo: 0 mm (top, home) to
+/// 60 mm down, the calibration's pulses spread over that travel.
+fn lift(servo_of: &JointDoc) -> JointDoc {
+    let mut lift = named(servo_of, "lift");
+    lift.min = -LIFT_TRAVEL_MM;
+    lift.max = 0.0;
+    lift.home = 0.0;
+    lift.servo.pinion_radius_mm = Some(LIFT_PINION_MM);
+    lift.calibration.points[0].position = -LIFT_TRAVEL_MM;
+    lift.calibration.points[1].position = 0.0;
+    lift.link.centre_mm = [0.0; 3];
+    lift.link.inertia_g_mm2 = None;
+    lift
+}
+
+/// Refuses a switch that would drop taught waypoints or timing limits of joints that go away.
+fn keeps_taught_data(scene: &Scene, joints: &[JointDoc], kind: &str) -> Result<(), String> {
+    if !scene.waypoints.is_empty() {
+        return Err(format!(
+            "not switched: the {} taught waypoint(s) hold joint positions that mean nothing on a \
+             {kind} arm and would be lost; save the scene under another name, delete the \
+             waypoints and switch, then teach them again",
+            scene.waypoints.len()
+        ));
+    }
+    let orphans: Vec<&str> = scene
+        .timing
+        .joint_limits
+        .iter()
+        .map(|limit| limit.joint.as_str())
+        .filter(|name| !joints.iter().any(|joint| joint.name == *name))
+        .collect();
+    if !orphans.is_empty() {
+        return Err(format!(
+            "not switched: the timing limits for {} name joint(s) a {kind} arm does not have and \
+             would be lost; remove them from the scene's timing first",
+            orphans.join(", ")
+        ));
+    }
+    Ok(())
 }
 
 #[cfg(test)]
@@ -666,13 +1044,64 @@ mod tests {
     fn four_to_five_joints_and_back_keeps_the_scene_valid() {
         let scene = sample_scene();
         assert!(matches!(scene.arm.shape, ArmShape::Articulated4(_)));
-        let (five, _) = with_arm_type(&scene, ArmTypeChoice::Articulated5).expect("switches");
+        let (five, _) = with_arm_type(&scene, ArmTypeChoice::Articulated5)
+            .expect("switches")
+            .expect("allowed");
         assert_eq!(five.arm.joints.len(), 5);
         assert!(waypoints_fit(&five.arm, &five.waypoints));
         assert_eq!(validate(&five), Vec::new());
         assert!(build_arm(&five.arm).is_ok());
-        let (four, _) = with_arm_type(&five, ArmTypeChoice::Articulated4).expect("switches back");
+        let (four, _) = with_arm_type(&five, ArmTypeChoice::Articulated4)
+            .expect("switches back")
+            .expect("allowed");
         assert_eq!(four, scene);
         assert!(with_arm_type(&scene, ArmTypeChoice::Articulated4).is_none());
+    }
+
+    #[test]
+    fn a_problem_with_a_chain_group_concerns_only_its_own_fields() {
+        assert!(concerns(
+            "arm.chain.axes[1].axis",
+            "arm.chain.axes[1].axis[2]"
+        ));
+        assert!(concerns("arm.chain.rows[1]", "arm.chain.rows[1].a_mm"));
+        assert!(!concerns("arm.chain.rows[1]", "arm.chain.rows[10].a_mm"));
+        assert!(!concerns(
+            "arm.chain.axes[1].axis",
+            "arm.chain.axes[1].origin_mm[0]"
+        ));
+        // Outside the chain a problem concerns the field at its exact path only.
+        assert!(!concerns("arm.joints", "arm.joints[0].min_deg"));
+    }
+
+    #[test]
+    fn to_scara_and_back_keeps_the_lengths_and_a_valid_scene() {
+        let mut scene = sample_scene();
+        let refusal = with_arm_type(&scene, ArmTypeChoice::Scara)
+            .expect("a switch")
+            .expect_err("the sample has taught waypoints");
+        assert!(refusal.contains("would be lost"), "{refusal}");
+        scene.waypoints.clear();
+        scene.timing.joint_limits.clear();
+        let (scara, _) = with_arm_type(&scene, ArmTypeChoice::Scara)
+            .expect("a switch")
+            .expect("allowed");
+        assert_eq!(validate(&scara), Vec::new());
+        assert!(build_arm(&scara.arm).is_ok());
+        assert_eq!(
+            scara.arm.shape.joint_kinds()[2],
+            JointKindDoc::Prismatic,
+            "joint 3 slides"
+        );
+        assert_eq!(
+            ArmField::UpperArm.value(&scara.arm),
+            ArmField::UpperArm.value(&scene.arm)
+        );
+        let (back, _) = with_arm_type(&scara, ArmTypeChoice::Articulated4)
+            .expect("a switch")
+            .expect("allowed");
+        assert_eq!(validate(&back), Vec::new());
+        assert!(build_arm(&back.arm).is_ok());
+        assert_eq!(back.arm.shape, scene.arm.shape);
     }
 }

@@ -185,7 +185,7 @@ pub enum Command {
     },
     /// The user left an arm settings field: the next edit starts a new undo step.
     FinishArmField,
-    /// Switch the arm between the vertical articulated types (one undo step).
+    /// Switch the arm's type (one undo step), or say why not when taught data would be lost.
     ChangeArmType(ArmTypeChoice),
     /// Move the timeline's cursor, play, pause, change speed or what the plot shows: a preview
     /// that changes no scene and records no undo step.
@@ -483,11 +483,21 @@ pub fn apply(
         }
         Command::FinishArmField => state.history.break_merge(),
         Command::ChangeArmType(choice) => {
-            if let Some((scene, message)) = with_arm_type(&state.scene, choice) {
-                edit(state, None, |state| state.scene = scene);
-                state.arm_changed();
-                state.arm_form.arm_replaced(&state.scene);
-                state.say(Level::Info, message);
+            match with_arm_type(&state.scene, choice) {
+                Some(Ok((scene, message))) => {
+                    let same_kinds = scene.arm.shape.joint_kinds().get(..4)
+                        == state.scene.arm.shape.joint_kinds().get(..4);
+                    edit(state, None, |state| state.scene = scene);
+                    if !same_kinds {
+                        // Positions of the old joints mean nothing on the new ones: start at home.
+                        state.pose.clear();
+                    }
+                    state.arm_changed();
+                    state.arm_form.arm_replaced(&state.scene);
+                    state.say(Level::Info, message);
+                }
+                Some(Err(refusal)) => state.say(Level::Warning, refusal),
+                None => {}
             }
         }
         Command::Playback(command) => playback::apply(state, command),

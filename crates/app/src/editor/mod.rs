@@ -30,7 +30,7 @@ mod state;
 mod traces;
 mod views;
 
-pub use arm_form::{ArmField, ArmForm, ArmTypeChoice, JointField};
+pub use arm_form::{ArmField, ArmForm, ArmTypeChoice, ChainField, DhParam, JointField};
 pub use command::{Command, Outside, WaypointField, apply};
 pub use device::{Connection, DeviceLink, LinkAction, LinkStopLink, LinkView, StreamPhase};
 pub use estop::{ChannelStopLink, STOP_KEY, STOP_KEY_NAME, StopLink, StopRequest};
