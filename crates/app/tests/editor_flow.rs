@@ -17,7 +17,7 @@ use egui::{Key, Modifiers, vec2};
 use egui_kittest::kittest::{NodeT, Queryable};
 
 use editor_common::{
-    STOP_LINE_WITHIN, click_tab, device_mode, device_pulses, drag, frames_sent, hover_stop_button,
+    assert_stop_reached_link, click_tab, device_mode, drag, frames_sent, hover_stop_button,
     link_state, press_stop_button_at, sample_editor, settle, step_until, wait_for_dry_run,
     wait_for_retime,
 };
@@ -350,51 +350,16 @@ fn open_teach_retime_play_stream_stop_and_reset() {
     let frame_start = Instant::now();
     let frame = press_stop_button_at(&mut harness, centre);
     let frame_end = Instant::now();
-    let (handed, at) = harness
-        .state()
-        .device()
-        .last_stop_handed()
-        .expect("the stop reached the link");
-    assert_eq!((handed.frame, handed.source), (frame, StopSource::Button));
-    assert!(frame_start <= at && at <= frame_end);
-    assert_eq!(requests.try_recv().map(|r| r.frame), Ok(frame));
+    assert_stop_reached_link(
+        &mut harness,
+        &requests,
+        (frame, StopSource::Button),
+        (frame_start, frame_end),
+    );
     assert!(matches!(
         harness.state().state.stop,
         StopState::Latched { .. }
     ));
-    // The link's thread wrote the stop line within that frame's span, and the device latched.
-    step_until(&mut harness, "the device latched", |editor| {
-        device_mode(editor) == Some(DeviceMode::Stopped)
-            && link_state(editor) == Some(LinkState::Stopped)
-    });
-    let stats = harness
-        .state()
-        .device()
-        .view()
-        .stats
-        .clone()
-        .expect("stats");
-    let written_after = stats.stop_write_latency.expect("the stop line was written");
-    // The link crate's own tests measure the 2 ms figure; here, with the whole window running
-    // in a debug build beside other tests, the line must still be out within one 20 ms pulse
-    // frame of the click (a wall-clock bound kept loose so a busy machine does not fail it).
-    assert!(
-        written_after <= STOP_LINE_WITHIN,
-        "stop line written {written_after:?} after the click (its frame took {:?})",
-        frame_end - frame_start
-    );
-    // The device holds: no setpoint after the stop; the window shows the latch.
-    let held = device_pulses(harness.state());
-    let sent = stats.frames_sent;
-    std::thread::sleep(std::time::Duration::from_millis(100));
-    harness.run_steps(5);
-    assert_eq!(
-        frames_sent(harness.state()),
-        sent,
-        "no setpoint after the stop"
-    );
-    assert_eq!(device_pulses(harness.state()), held, "the device holds");
-    assert_eq!(harness.state().device().view().phase, StreamPhase::Ended);
     assert!(harness.state().window_title().contains("STOPPED"));
     assert!(
         harness

@@ -15,7 +15,7 @@ use egui::{Event, Modifiers};
 use egui_kittest::kittest::{NodeT, Queryable};
 
 use editor_common::{
-    EditorHarness, STOP_LINE_WITHIN, device_mode, device_pulses, frames_sent, harness, link_state,
+    EditorHarness, assert_stop_reached_link, device_mode, frames_sent, harness, link_state,
     options, scratch, step_until,
 };
 
@@ -79,50 +79,14 @@ fn connect_acknowledge_stream_stop_by_key_reset_and_stream_again() {
     let frame_start = Instant::now();
     harness.step();
     let frame_end = Instant::now();
-    // In that frame the request was handed to the link's emergency-stop handle …
-    let (handed, at) = harness
-        .state()
-        .device()
-        .last_stop_handed()
-        .expect("the stop reached the link");
-    assert_eq!((handed.frame, handed.source), (frame, StopSource::Key));
-    assert!(frame_start <= at && at <= frame_end);
-    assert_eq!(requests.try_recv().map(|r| r.frame), Ok(frame));
-    // … and the link's thread wrote the stop line before that frame was over (it acts on
-    // the handle within a millisecond, ahead of the queued setpoints it drops); the device
-    // latched it.
-    step_until(&mut harness, "the device latched", |editor| {
-        device_mode(editor) == Some(DeviceMode::Stopped)
-            && link_state(editor) == Some(LinkState::Stopped)
-    });
-    let stats = harness
-        .state()
-        .device()
-        .view()
-        .stats
-        .clone()
-        .expect("stats");
-    let written_after = stats.stop_write_latency.expect("the stop line was written");
-    // The link crate's own tests measure the 2 ms figure; here, with the whole window running
-    // in a debug build beside other tests, the line must still be out within one 20 ms pulse
-    // frame of the key (a wall-clock bound kept loose so a busy machine does not fail it).
-    assert!(
-        written_after <= STOP_LINE_WITHIN,
-        "stop line written {written_after:?} after the key (its frame took {:?})",
-        frame_end - frame_start
+    // In that frame the request was handed to the link's emergency-stop handle, the link's
+    // thread wrote the stop line and the device latched it and holds.
+    assert_stop_reached_link(
+        &mut harness,
+        &requests,
+        (frame, StopSource::Key),
+        (frame_start, frame_end),
     );
-    let held = device_pulses(harness.state());
-    let sent = stats.frames_sent;
-    harness.run_steps(10);
-    std::thread::sleep(Duration::from_millis(100));
-    harness.run_steps(2);
-    assert_eq!(
-        frames_sent(harness.state()),
-        sent,
-        "no setpoint after the stop"
-    );
-    assert_eq!(device_pulses(harness.state()), held, "the device holds");
-    assert_eq!(harness.state().device().view().phase, StreamPhase::Ended);
 
     // Streaming is refused while the stop is latched.
     assert!(
@@ -142,6 +106,7 @@ fn connect_acknowledge_stream_stop_by_key_reset_and_stream_again() {
     assert_eq!(device_mode(harness.state()), Some(DeviceMode::Keeping));
 
     // Streaming works again.
+    let sent = frames_sent(harness.state());
     harness.get_by_label("Stream sequence").click_accesskit();
     step_until(&mut harness, "streaming again", |editor| {
         frames_sent(editor) > sent + 10
