@@ -5,27 +5,15 @@
 //! pulse = pulse_a + (position − position_a) × slope; the 1000–2000 µs over −90°..+90°
 //! calibration is common practice for hobby servos (0.18° per µs).
 
-use std::f64::consts::FRAC_PI_2;
+mod common;
 
-use armwright_kinematics::{
-    Arm, ArmDescription, ArmType, ArticulatedDims, Calibration, Gripper, JointSpec, MassProperties,
-    ServoSpec,
-};
+use armwright_kinematics::{Arm, Gripper, MassProperties};
 use armwright_link::{
     DeviceInfo, FirmwareVersion, PulseError, arm_setpoint, gripper_pulse, joint_pulse,
 };
 use proptest::prelude::*;
 
-fn calibration() -> Calibration {
-    Calibration {
-        position_a: -FRAC_PI_2,
-        pulse_a_us: 1000.0,
-        position_b: FRAC_PI_2,
-        pulse_b_us: 2000.0,
-        pulse_min_us: 900.0,
-        pulse_max_us: 2100.0,
-    }
-}
+use common::invented_arm::{InventedArm, calibration};
 
 fn device(unit_ns: u16, min_us: f64, max_us: f64, channels: u8) -> DeviceInfo {
     let per_us = 1000.0 / f64::from(unit_ns);
@@ -161,46 +149,13 @@ proptest! {
 }
 
 fn arm(gripper: bool) -> Arm {
-    let servo = ServoSpec {
-        stall_torque: 1.96,
-        no_load_speed: 6.16,
-        deadband_us: 4.0,
-        proportional_band_us: 40.0,
-        backlash: 0.5_f64.to_radians(),
-        mass: 0.055,
-        mount_offset: nalgebra::Vector3::zeros(),
-        drive_ratio: 1.0,
-    };
-    let joint = |name: &str| JointSpec {
-        name: name.to_owned(),
-        min: -FRAC_PI_2,
-        max: FRAC_PI_2,
-        home: 0.0,
-        servo: servo.clone(),
-        calibration: calibration(),
-        link_mass: MassProperties::rod_along_x(0.05, 0.1),
-    };
-    Arm::new(ArmDescription {
-        arm_type: ArmType::Articulated4(ArticulatedDims {
-            base_height: 0.08,
-            upper_arm: 0.12,
-            forearm: 0.12,
-            wrist_to_tool: 0.06,
-        }),
-        joints: vec![
-            joint("base"),
-            joint("shoulder"),
-            joint("elbow"),
-            joint("wrist"),
-        ],
+    InventedArm {
+        joints: &["base", "shoulder", "elbow", "wrist"],
         tool_mass: MassProperties::zero(),
         payload_mass: 0.0,
-        gripper: gripper.then_some(Gripper {
-            open_pulse_us: 1200.0,
-            closed_pulse_us: 1800.0,
-        }),
-    })
-    .expect("a valid invented arm")
+        gripper,
+    }
+    .build()
 }
 
 #[test]

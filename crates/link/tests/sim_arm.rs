@@ -2,68 +2,28 @@
 //! servo's deadband and gravity load predict, an emergency stop keeps the arm where the last
 //! pulses put it, and a release lets it go limp and fall.
 
-use std::f64::consts::FRAC_PI_2;
 use std::time::Duration;
 
-use armwright_kinematics::{
-    Arm, ArmDescription, ArmType, ArticulatedDims, Calibration, Gripper, JointSpec, MassProperties,
-    ServoSpec, gravity_torques, tool_pose,
-};
+mod common;
+
+use armwright_kinematics::{Arm, MassProperties, gravity_torques, tool_pose};
 use armwright_link::{
     AckOutcome, DeviceLine, DeviceMessage, DeviceMode, HostLine, HostMessage, SimArmError,
     SimDevice, SimDeviceConfig, arm_setpoint,
 };
 use armwright_trajectory::ServoModelOptions;
 
-/// An invented four-joint articulated arm with a gripper: ±90° per joint on 1000–2000 µs.
+use common::invented_arm::InventedArm;
+
+/// The invented four-joint arm with a gripper, a tool and a payload.
 fn arm() -> Arm {
-    let servo = ServoSpec {
-        stall_torque: 1.96,
-        no_load_speed: 6.16,
-        deadband_us: 4.0,
-        proportional_band_us: 40.0,
-        backlash: 0.5_f64.to_radians(),
-        mass: 0.055,
-        mount_offset: nalgebra::Vector3::zeros(),
-        drive_ratio: 1.0,
-    };
-    let joint = |name: &str| JointSpec {
-        name: name.to_owned(),
-        min: -FRAC_PI_2,
-        max: FRAC_PI_2,
-        home: 0.0,
-        servo: servo.clone(),
-        calibration: Calibration {
-            position_a: -FRAC_PI_2,
-            pulse_a_us: 1000.0,
-            position_b: FRAC_PI_2,
-            pulse_b_us: 2000.0,
-            pulse_min_us: 900.0,
-            pulse_max_us: 2100.0,
-        },
-        link_mass: MassProperties::rod_along_x(0.05, 0.1),
-    };
-    Arm::new(ArmDescription {
-        arm_type: ArmType::Articulated4(ArticulatedDims {
-            base_height: 0.08,
-            upper_arm: 0.12,
-            forearm: 0.12,
-            wrist_to_tool: 0.06,
-        }),
-        joints: vec![
-            joint("base"),
-            joint("shoulder"),
-            joint("elbow"),
-            joint("wrist"),
-        ],
+    InventedArm {
+        joints: &["base", "shoulder", "elbow", "wrist"],
         tool_mass: MassProperties::point(0.03, nalgebra::Vector3::new(0.01, 0.0, 0.0)),
         payload_mass: 0.02,
-        gripper: Some(Gripper {
-            open_pulse_us: 1200.0,
-            closed_pulse_us: 1800.0,
-        }),
-    })
-    .expect("a valid invented arm")
+        gripper: true,
+    }
+    .build()
 }
 
 /// A device driving `arm()` from rest at `start`, with a ms clock.

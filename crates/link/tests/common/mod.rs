@@ -3,6 +3,8 @@
 
 #![allow(dead_code)]
 
+pub mod invented_arm;
+
 use std::io;
 use std::sync::{Arc, Mutex};
 use std::time::{Duration, Instant};
