@@ -64,6 +64,30 @@ pub fn sample_editor(name: &str) -> (Harness<'static, Editor>, Receiver<StopRequ
     (harness, requests, dir)
 }
 
+/// An editor harness on the scene file at `path` after three frames, its scratch folder named
+/// `name`.
+pub fn file_editor(name: &str, path: PathBuf) -> EditorHarness {
+    let dir = scratch(name);
+    let (link, _requests) = ChannelStopLink::new();
+    let editor = Editor::open(Some(path), Box::new(link), options(&dir, 3600));
+    let mut harness = harness(editor);
+    harness.run_steps(3);
+    harness
+}
+
+/// The path of a bundled sample scene, `name` without its `.armwright.json` ending.
+pub fn sample_scene(name: &str) -> PathBuf {
+    std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("../../sample-scenes")
+        .join(format!("{name}.armwright.json"))
+}
+
+/// Clicks Undo and runs three frames.
+pub fn undo(harness: &mut EditorHarness) {
+    harness.get_by_label("Undo").click();
+    harness.run_steps(3);
+}
+
 /// Steps until file work has finished (at most 10 s).
 pub fn settle(harness: &mut Harness<'static, Editor>) {
     let start = Instant::now();
