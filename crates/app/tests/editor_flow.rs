@@ -7,8 +7,8 @@ mod editor_common;
 use std::time::Instant;
 
 use armwright::editor::{
-    ACKNOWLEDGE_LABEL, DryRunStatus, ReachStatus, RetimeRun, StopSource, StopState, StreamPhase,
-    ToolsTab, ViewKind,
+    ACKNOWLEDGE_LABEL, ReachStatus, RetimeRun, StopSource, StopState, StreamPhase, ToolsTab,
+    ViewKind,
 };
 use armwright::scene::{build_arm, load, plan_of, sampled_poses};
 use armwright_link::{DeviceMode, LinkState};
@@ -17,9 +17,9 @@ use egui::{Key, Modifiers, vec2};
 use egui_kittest::kittest::{NodeT, Queryable};
 
 use editor_common::{
-    assert_stop_reached_link, click_tab, device_mode, drag, frames_sent, hover_stop_button,
-    link_state, press_stop_button_at, sample_editor, settle, step_until, wait_for_dry_run,
-    wait_for_retime,
+    assert_dry_run_ready, assert_stop_reached_link, click_tab, device_mode, drag, frames_sent,
+    hover_stop_button, link_state, press_stop_button_at, sample_editor, settle, step_until,
+    wait_for_dry_run, wait_for_retime,
 };
 
 #[test]
@@ -277,11 +277,7 @@ fn open_teach_retime_play_stream_stop_and_reset() {
     );
     {
         let editor = harness.state();
-        assert!(
-            matches!(editor.state.playback.status, DryRunStatus::Ready),
-            "{:?}",
-            editor.state.playback.status
-        );
+        assert_dry_run_ready(editor, "the retimed sample");
         let timeline = editor.state.playback.timeline.as_ref().expect("a timeline");
         assert_eq!(timeline.generation, editor.dry_run_generation());
         assert_eq!(

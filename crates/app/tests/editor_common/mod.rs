@@ -9,8 +9,8 @@ use std::sync::mpsc::Receiver;
 use std::time::{Duration, Instant};
 
 use armwright::editor::{
-    ChannelStopLink, EMERGENCY_STOP_LABEL, Editor, EditorOptions, STOP_KEY, StopRequest,
-    StopSource, StreamPhase,
+    ChannelStopLink, DryRunStatus, EMERGENCY_STOP_LABEL, Editor, EditorOptions, STOP_KEY,
+    StopRequest, StopSource, StreamPhase,
 };
 use armwright_link::{DeviceMode, LinkState};
 use egui::accesskit::Role;
@@ -80,6 +80,15 @@ pub fn sample_scene(name: &str) -> PathBuf {
     std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
         .join("../../sample-scenes")
         .join(format!("{name}.armwright.json"))
+}
+
+/// Checks that the editor's dry run has a result; `what` names the case in the failure message.
+pub fn assert_dry_run_ready(editor: &Editor, what: &str) {
+    assert!(
+        matches!(editor.state.playback.status, DryRunStatus::Ready),
+        "{what}: {:?}",
+        editor.state.playback.status
+    );
 }
 
 /// Clicks Undo and runs three frames.
