@@ -7,8 +7,8 @@ mod editor_common;
 use std::time::Instant;
 
 use armwright::editor::{
-    ACKNOWLEDGE_LABEL, ReachStatus, RetimeRun, StopSource, StopState, StreamPhase, ToolsTab,
-    ViewKind,
+    ACKNOWLEDGE_LABEL, EditorState, ReachStatus, RetimeRun, StopSource, StopState, StreamPhase,
+    ToolsTab, ViewKind,
 };
 use armwright::scene::{build_arm, load, plan_of, sampled_poses};
 use armwright_link::{DeviceMode, LinkState};
@@ -18,8 +18,8 @@ use egui_kittest::kittest::{NodeT, Queryable};
 
 use editor_common::{
     assert_dry_run_ready, assert_stop_reached_link, click_tab, device_mode, drag, frames_sent,
-    hover_stop_button, link_state, press_stop_button_at, sample_editor, settle, step_until,
-    wait_for_dry_run, wait_for_retime,
+    hover_stop_button, link_state, open_through_dialog, press_stop_button_at, sample_editor,
+    step_until, wait_for_dry_run, wait_for_retime,
 };
 
 #[test]
@@ -105,6 +105,17 @@ fn dragging_far_out_says_out_of_reach_and_leaves_the_arm() {
     assert_eq!(state.pose.len(), pose_before.len());
 }
 
+/// Checks that the pose `taught` (file units) was stored as a new waypoint after the `count`
+/// there were, that it is selected, and that the scene is marked changed.
+fn assert_stored(state: &EditorState, count: usize, taught: &[f64]) {
+    assert_eq!(state.scene.waypoints.len(), count + 1);
+    let index = state
+        .selected_waypoint
+        .expect("the new waypoint is selected");
+    assert_eq!(state.scene.waypoints[index].joints_deg_or_mm, taught);
+    assert!(state.is_dirty());
+}
+
 #[test]
 fn store_a_waypoint_then_undo_and_redo_with_the_keys() {
     let (mut harness, _requests, _dir) = sample_editor("store-undo");
@@ -116,16 +127,8 @@ fn store_a_waypoint_then_undo_and_redo_with_the_keys() {
     let pose = harness.state().state.pose_in_file_units();
     harness.get_by_label("Store pose").click();
     harness.run_steps(4);
-    {
-        let state = &harness.state().state;
-        assert_eq!(state.scene.waypoints.len(), count + 1);
-        let index = state
-            .selected_waypoint
-            .expect("the new waypoint is selected");
-        assert_eq!(state.scene.waypoints[index].joints_deg_or_mm, pose);
-        assert!(state.is_dirty());
-        assert!(harness.state().window_title().starts_with("* "));
-    }
+    assert_stored(&harness.state().state, count, &pose);
+    assert!(harness.state().window_title().starts_with("* "));
     // Nothing has keyboard focus after a button click, so the keys reach the editor.
     harness.key_press_modifiers(Modifiers::COMMAND, Key::Z);
     harness.run_steps(3);
@@ -170,14 +173,7 @@ fn open_teach_retime_play_stream_stop_and_reset() {
     let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
         .join("../../sample-scenes/cube-stacker.armwright.json");
     let on_disk = load(&path).expect("the sample loads");
-    harness.get_by_label("Open…").click();
-    harness.run_steps(3);
-    harness
-        .get_by_label("scene path")
-        .type_text(&path.display().to_string());
-    harness.run_steps(2);
-    harness.get_by_label("Open this file").click();
-    settle(&mut harness);
+    open_through_dialog(&mut harness, &path);
     {
         let state = &harness.state().state;
         assert_eq!(state.dialog, None, "{:?}", state.messages.last());
@@ -218,15 +214,7 @@ fn open_teach_retime_play_stream_stop_and_reset() {
     let taught = harness.state().state.pose_in_file_units();
     harness.get_by_label("Store pose").click();
     harness.run_steps(3);
-    {
-        let state = &harness.state().state;
-        assert_eq!(state.scene.waypoints.len(), count + 1);
-        let index = state
-            .selected_waypoint
-            .expect("the new waypoint is selected");
-        assert_eq!(state.scene.waypoints[index].joints_deg_or_mm, taught);
-        assert!(state.is_dirty());
-    }
+    assert_stored(&harness.state().state, count, &taught);
     let with_waypoint = harness.state().state.scene.clone();
 
     // Undo and redo with the keys.

@@ -82,6 +82,18 @@ pub fn sample_scene(name: &str) -> PathBuf {
         .join(format!("{name}.armwright.json"))
 }
 
+/// Opens the scene at `path` through the Open dialog's typed path and waits for the file work.
+pub fn open_through_dialog(harness: &mut EditorHarness, path: &std::path::Path) {
+    harness.get_by_label("Open…").click();
+    harness.run_steps(3);
+    harness
+        .get_by_label("scene path")
+        .type_text(&path.display().to_string());
+    harness.run_steps(2);
+    harness.get_by_label("Open this file").click();
+    settle(harness);
+}
+
 /// Checks that the editor's dry run has a result; `what` names the case in the failure message.
 pub fn assert_dry_run_ready(editor: &Editor, what: &str) {
     assert!(
