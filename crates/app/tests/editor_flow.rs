@@ -7,8 +7,7 @@ mod editor_common;
 use std::time::Instant;
 
 use armwright::editor::{
-    ACKNOWLEDGE_LABEL, EditorState, ReachStatus, RetimeRun, StopSource, StopState, StreamPhase,
-    ToolsTab, ViewKind,
+    EditorState, ReachStatus, RetimeRun, StopSource, StopState, StreamPhase, ToolsTab, ViewKind,
 };
 use armwright::scene::{build_arm, load, plan_of, sampled_poses};
 use armwright_link::{DeviceMode, LinkState};
@@ -17,9 +16,9 @@ use egui::{Key, Modifiers, vec2};
 use egui_kittest::kittest::{NodeT, Queryable};
 
 use editor_common::{
-    assert_dry_run_ready, assert_stop_reached_link, click_tab, device_mode, drag, frames_sent,
-    hover_stop_button, link_state, open_through_dialog, press_stop_button_at, sample_editor,
-    step_until, wait_for_dry_run, wait_for_retime,
+    acknowledge_caution, assert_dry_run_ready, assert_stop_reached_link, click_tab, connect,
+    device_mode, drag, hover_stop_button, link_state, open_through_dialog, press_stop_button_at,
+    sample_editor, step_until, stream_until_sending, wait_for_dry_run, wait_for_retime,
 };
 
 #[test]
@@ -300,10 +299,7 @@ fn open_teach_retime_play_stream_stop_and_reset() {
 
     // Stream the retimed sequence to the simulated device, after the caution.
     click_tab(&mut harness, "Link");
-    harness.get_by_label("Connect").click_accesskit();
-    step_until(&mut harness, "the connection", |editor| {
-        link_state(editor) == Some(LinkState::Idle)
-    });
+    connect(&mut harness);
     assert!(
         harness
             .get_by_label("Stream sequence")
@@ -311,13 +307,9 @@ fn open_teach_retime_play_stream_stop_and_reset() {
             .is_disabled(),
         "streaming waits for the caution"
     );
-    harness.get_by_label(ACKNOWLEDGE_LABEL).click_accesskit();
-    harness.run_steps(2);
+    acknowledge_caution(&mut harness);
     assert!(harness.state().state.caution_acknowledged);
-    harness.get_by_label("Stream sequence").click_accesskit();
-    step_until(&mut harness, "setpoints on the way", |editor| {
-        frames_sent(editor) > 10
-    });
+    stream_until_sending(&mut harness);
     assert_eq!(device_mode(harness.state()), Some(DeviceMode::Driving));
     assert_eq!(
         harness.state().device().view().phase,

@@ -9,8 +9,8 @@ use std::sync::mpsc::Receiver;
 use std::time::{Duration, Instant};
 
 use armwright::editor::{
-    ChannelStopLink, DryRunStatus, EMERGENCY_STOP_LABEL, Editor, EditorOptions, STOP_KEY,
-    StopRequest, StopSource, StreamPhase,
+    ACKNOWLEDGE_LABEL, ChannelStopLink, DryRunStatus, EMERGENCY_STOP_LABEL, Editor, EditorOptions,
+    STOP_KEY, StopRequest, StopSource, StreamPhase,
 };
 use armwright_link::{DeviceMode, LinkState};
 use egui::accesskit::Role;
@@ -240,6 +240,29 @@ pub fn press_stop_button_at(harness: &mut EditorHarness, centre: Pos2) -> u64 {
 pub fn press_stop_button(harness: &mut EditorHarness) -> u64 {
     let centre = hover_stop_button(harness);
     press_stop_button_at(harness, centre)
+}
+
+/// Connects to the simulated device (the link panel's default choice) and steps until the link
+/// is idle.
+pub fn connect(harness: &mut EditorHarness) {
+    harness.get_by_label("Connect").click_accesskit();
+    step_until(harness, "the connection", |editor| {
+        link_state(editor) == Some(LinkState::Idle)
+    });
+}
+
+/// Acknowledges the caution asked before the first stream and runs two frames.
+pub fn acknowledge_caution(harness: &mut EditorHarness) {
+    harness.get_by_label(ACKNOWLEDGE_LABEL).click_accesskit();
+    harness.run_steps(2);
+}
+
+/// Starts streaming the sequence and steps until more than 10 setpoints went out.
+pub fn stream_until_sending(harness: &mut EditorHarness) {
+    harness.get_by_label("Stream sequence").click_accesskit();
+    step_until(harness, "setpoints on the way", |editor| {
+        frames_sent(editor) > 10
+    });
 }
 
 /// The simulated device's mode, while connected to it.
