@@ -37,12 +37,7 @@ fn drag_in_the_top_view_moves_the_tool_point_in_its_horizontal_plane() {
     let expected = projection.to_plane(to);
     drag(&mut harness, from, to);
     let editor = harness.state();
-    assert_eq!(
-        editor.state.reach,
-        ReachStatus::Reached,
-        "{:?}",
-        editor.state.reach_problems()
-    );
+    assert_reached(&editor.state);
     let after = editor.state.tool_point().expect("tool point");
     // The tool point follows the pointer in X and Y and keeps its height.
     assert!(
@@ -69,12 +64,7 @@ fn drag_in_the_side_view_keeps_the_base_yaw() {
     };
     drag(&mut harness, from, from + vec2(-20.0, -25.0));
     let state = &harness.state().state;
-    assert_eq!(
-        state.reach,
-        ReachStatus::Reached,
-        "{:?}",
-        state.reach_problems()
-    );
+    assert_reached(state);
     assert!((state.side_view_yaw() - yaw_before).abs() < 1e-9);
 }
 
@@ -102,6 +92,16 @@ fn dragging_far_out_says_out_of_reach_and_leaves_the_arm() {
     assert!(harness.query_by_label_contains("OUT OF REACH by").is_some());
     // The last reachable step is kept: the arm moved, but did not jump.
     assert_eq!(state.pose.len(), pose_before.len());
+}
+
+/// Checks that the arm reached the tool point asked for, listing the problems when not.
+fn assert_reached(state: &EditorState) {
+    assert_eq!(
+        state.reach,
+        ReachStatus::Reached,
+        "{:?}",
+        state.reach_problems()
+    );
 }
 
 /// Checks that the pose `taught` (file units) was stored as a new waypoint after the `count`
@@ -196,12 +196,7 @@ fn open_teach_retime_play_stream_stop_and_reset() {
     drag(&mut harness, from, to);
     {
         let state = &harness.state().state;
-        assert_eq!(
-            state.reach,
-            ReachStatus::Reached,
-            "{:?}",
-            state.reach_problems()
-        );
+        assert_reached(state);
         let after = state.tool_point().expect("tool point");
         assert!((after.x * 1e3 - expected[0]).abs() < 0.5, "x {}", after.x);
         assert!((after.y * 1e3 - expected[1]).abs() < 0.5, "y {}", after.y);
