@@ -32,6 +32,44 @@ fn scratch(name: &str) -> PathBuf {
     dir.join(name)
 }
 
+/// A scene file read as JSON.
+fn read_json(path: &Path) -> Value {
+    serde_json::from_str(&std::fs::read_to_string(path).unwrap()).unwrap()
+}
+
+/// Writes `scene` to the scratch file `name`; returns its path.
+fn write_scene(name: &str, scene: &Value) -> PathBuf {
+    let path = scratch(name);
+    std::fs::write(&path, serde_json::to_string_pretty(scene).unwrap()).unwrap();
+    path
+}
+
+/// The JSON report of `armwright <command> <file> --json`.
+fn report_of(command: &str, file: &Path) -> Value {
+    json_of(&armwright(&[command, file.to_str().unwrap(), "--json"]))
+}
+
+/// Retimes `input` for at most 1.5 mm overshoot into `output`, checks that it succeeded, and
+/// returns its JSON report.
+fn retime_to(input: &Path, output: &Path) -> Value {
+    let out = armwright(&[
+        "retime",
+        input.to_str().unwrap(),
+        "--max-overshoot",
+        "1.5",
+        "--write",
+        output.to_str().unwrap(),
+        "--json",
+    ]);
+    assert!(
+        out.status.success(),
+        "{}: {}",
+        input.display(),
+        String::from_utf8_lossy(&out.stdout)
+    );
+    json_of(&out)
+}
+
 #[test]
 fn plan_reports_the_cycle_and_writes_setpoints() {
     for name in SAMPLES {
@@ -93,7 +131,7 @@ fn simulate_reports_every_waypoint() {
         for key in ["cycle_time_s", "worst_overshoot_mm", "worst_torque_use"] {
             assert!(report[key].as_f64().is_some(), "{name} lacks {key}");
         }
-        let scene: Value = serde_json::from_str(&std::fs::read_to_string(&file).unwrap()).unwrap();
+        let scene = read_json(&file);
         let waypoints = report["waypoints"].as_array().expect("waypoints");
         assert_eq!(
             waypoints.len(),
@@ -113,21 +151,7 @@ fn retimed_scenes_meet_the_target_and_simulate_to_the_after_figures() {
         let file = sample(name);
         let out_file = scratch(&format!("{name}.retimed.armwright.json"));
         let before_bytes = std::fs::read(&file).unwrap();
-        let out = armwright(&[
-            "retime",
-            file.to_str().unwrap(),
-            "--max-overshoot",
-            "1.5",
-            "--write",
-            out_file.to_str().unwrap(),
-            "--json",
-        ]);
-        assert!(
-            out.status.success(),
-            "{name}: {}",
-            String::from_utf8_lossy(&out.stdout)
-        );
-        let report = json_of(&out);
+        let report = retime_to(&file, &out_file);
         assert_eq!(report["met"], Value::Bool(true));
         let after = &report["after"];
         assert!(after["worst_overshoot_mm"].as_f64().unwrap() <= 1.5);
@@ -138,11 +162,7 @@ fn retimed_scenes_meet_the_target_and_simulate_to_the_after_figures() {
             before_bytes,
             "the input is untouched"
         );
-        let again = json_of(&armwright(&[
-            "simulate",
-            out_file.to_str().unwrap(),
-            "--json",
-        ]));
+        let again = report_of("simulate", &out_file);
         for key in ["cycle_time_s", "worst_overshoot_mm", "worst_torque_use"] {
             let (a, b) = (again[key].as_f64().unwrap(), after[key].as_f64().unwrap());
             assert!(
@@ -201,36 +221,16 @@ fn bad_retime_options_exit_two() {
 
 #[test]
 fn a_shaped_scene_retimes_with_its_runs_shaped() {
-    let mut scene: Value =
-        serde_json::from_str(&std::fs::read_to_string(sample("pen-plotter")).unwrap()).unwrap();
+    let mut scene = read_json(&sample("pen-plotter"));
     scene["timing"]["shaping"] = Value::from("zvd");
-    let input = scratch("shaped.armwright.json");
-    std::fs::write(&input, serde_json::to_string_pretty(&scene).unwrap()).unwrap();
+    let input = write_scene("shaped.armwright.json", &scene);
     let output = scratch("shaped.retimed.armwright.json");
-    let out = armwright(&[
-        "retime",
-        input.to_str().unwrap(),
-        "--max-overshoot",
-        "1.5",
-        "--write",
-        output.to_str().unwrap(),
-        "--json",
-    ]);
-    assert!(
-        out.status.success(),
-        "{}",
-        String::from_utf8_lossy(&out.stdout)
-    );
-    let report = json_of(&out);
+    let report = retime_to(&input, &output);
     assert_eq!(report["shaping"], Value::from("zvd"));
     assert!(report["shaped_runs"].as_u64().unwrap() > 0, "{report}");
-    let plan = json_of(&armwright(&["plan", output.to_str().unwrap(), "--json"]));
+    let plan = report_of("plan", &output);
     assert_eq!(plan["shaped_runs"], report["shaped_runs"]);
-    let again = json_of(&armwright(&[
-        "simulate",
-        output.to_str().unwrap(),
-        "--json",
-    ]));
+    let again = report_of("simulate", &output);
     let (a, b) = (
         again["cycle_time_s"].as_f64().unwrap(),
         report["after"]["cycle_time_s"].as_f64().unwrap(),
@@ -254,17 +254,15 @@ fn planned_limit(report: &Value, joint: &str, key: &str) -> f64 {
 fn joint_limits_in_the_scene_bound_plan_simulate_and_retime() {
     // The peg sorter's shoulder turns and its lift slides: one limit in deg/s, one in mm/s².
     let original = sample("peg-sorter");
-    let mut scene: Value =
-        serde_json::from_str(&std::fs::read_to_string(&original).unwrap()).unwrap();
+    let mut scene = read_json(&original);
     scene["timing"]["joint_limits"] = serde_json::json!([
         { "joint": "shoulder", "max_velocity_deg_per_s": 25.0 },
         { "joint": "lift", "max_acceleration_mm_per_s2": 80.0 }
     ]);
-    let input = scratch("limited.armwright.json");
-    std::fs::write(&input, serde_json::to_string_pretty(&scene).unwrap()).unwrap();
+    let input = write_scene("limited.armwright.json", &scene);
 
-    let free = json_of(&armwright(&["plan", original.to_str().unwrap(), "--json"]));
-    let limited = json_of(&armwright(&["plan", input.to_str().unwrap(), "--json"]));
+    let free = report_of("plan", &original);
+    let limited = report_of("plan", &input);
     assert_eq!(
         planned_limit(&limited, "shoulder", "max_velocity_deg_per_s"),
         25.0
@@ -286,32 +284,18 @@ fn joint_limits_in_the_scene_bound_plan_simulate_and_retime() {
     );
 
     // simulate and retime follow the same limited plan.
-    let simulated = json_of(&armwright(&["simulate", input.to_str().unwrap(), "--json"]));
+    let simulated = report_of("simulate", &input);
     assert_eq!(simulated["cycle_time_s"].as_f64().unwrap(), cycle);
     let output = scratch("limited.retimed.armwright.json");
-    let out = armwright(&[
-        "retime",
-        input.to_str().unwrap(),
-        "--max-overshoot",
-        "1.5",
-        "--write",
-        output.to_str().unwrap(),
-        "--json",
-    ]);
-    assert!(
-        out.status.success(),
-        "{}",
-        String::from_utf8_lossy(&out.stdout)
-    );
-    let report = json_of(&out);
+    let report = retime_to(&input, &output);
     assert_eq!(report["before"]["cycle_time_s"].as_f64().unwrap(), cycle);
     // The retimed scene keeps the limits, and plans with them.
-    let written: Value = serde_json::from_str(&std::fs::read_to_string(&output).unwrap()).unwrap();
+    let written = read_json(&output);
     assert_eq!(
         written["timing"]["joint_limits"],
         scene["timing"]["joint_limits"]
     );
-    let replanned = json_of(&armwright(&["plan", output.to_str().unwrap(), "--json"]));
+    let replanned = report_of("plan", &output);
     assert_eq!(
         planned_limit(&replanned, "shoulder", "max_velocity_deg_per_s"),
         25.0
@@ -320,12 +304,10 @@ fn joint_limits_in_the_scene_bound_plan_simulate_and_retime() {
 
 #[test]
 fn a_joint_limit_for_no_joint_is_refused_with_its_place() {
-    let mut scene: Value =
-        serde_json::from_str(&std::fs::read_to_string(sample("pen-plotter")).unwrap()).unwrap();
+    let mut scene = read_json(&sample("pen-plotter"));
     scene["timing"]["joint_limits"] =
         serde_json::json!([{ "joint": "knee", "max_velocity_deg_per_s": 30.0 }]);
-    let input = scratch("no-such-joint.armwright.json");
-    std::fs::write(&input, serde_json::to_string_pretty(&scene).unwrap()).unwrap();
+    let input = write_scene("no-such-joint.armwright.json", &scene);
     let file = input.to_str().unwrap();
     for args in [
         vec!["plan", file],

@@ -9,13 +9,12 @@ use std::time::{Duration, Instant};
 
 use armwright::editor::{ArmField, ChainField, Editor, ViewKind};
 use armwright::scene::ArmShape;
-use egui::accesskit::Role;
 use egui::{Key, Modifiers};
 use egui_kittest::Harness;
 use egui_kittest::kittest::Queryable;
 use serde_json::{Value, json};
 
-use editor_common::sample_editor;
+use editor_common::{click_tab, file_editor, sample_editor, sample_scene, undo};
 
 const UPPER_ARM: &str = "upper arm (mm)";
 
@@ -49,6 +48,21 @@ fn side_reach_after(harness: &mut Harness<'static, Editor>, other_than: Option<f
     }
 }
 
+/// Waits for the side map of the lengthened arm and checks that it reaches more than 20 mm
+/// farther than `before` (m); returns its reach, m.
+fn reaches_farther(harness: &mut Harness<'static, Editor>, before: f64) -> f64 {
+    let after = side_reach_after(harness, Some(before));
+    assert!(after > before + 0.02, "{before} m → {after} m");
+    after
+}
+
+/// Waits for the side map after an undo and checks that it reaches `before` (m) again, not the
+/// `after` (m) of the undone change.
+fn reach_is_back(harness: &mut Harness<'static, Editor>, before: f64, after: f64) {
+    let undone = side_reach_after(harness, Some(after));
+    assert!((undone - before).abs() < 1e-9);
+}
+
 /// Focuses a field, selects its text and types `pieces` one after another, a frame each.
 fn retype(harness: &mut Harness<'static, Editor>, label: &str, pieces: &[&str]) {
     harness.get_by_label(label).focus();
@@ -65,8 +79,7 @@ fn retype(harness: &mut Harness<'static, Editor>, label: &str, pieces: &[&str]) 
 #[test]
 fn a_longer_upper_arm_reaches_farther_and_undo_takes_it_back() {
     let (mut harness, _requests, _dir) = sample_editor("arm-length");
-    harness.get_by_role_and_label(Role::Button, "Arm").click();
-    harness.run_steps(2);
+    click_tab(&mut harness, "Arm");
     let original = harness.state().state.scene.clone();
     let reach_before = side_reach_after(&mut harness, None);
     let tool_before = harness.state().state.tool_point().expect("tool point");
@@ -86,15 +99,10 @@ fn a_longer_upper_arm_reaches_farther_and_undo_takes_it_back() {
         "the arm as drawn did not change"
     );
     // The map is made again for the new arm: 30 mm more upper arm reaches farther.
-    let reach_after = side_reach_after(&mut harness, Some(reach_before));
-    assert!(
-        reach_after > reach_before + 0.02,
-        "{reach_before} m → {reach_after} m"
-    );
+    let reach_after = reaches_farther(&mut harness, reach_before);
 
     // The typing was one edit of one field: one undo step restores the arm.
-    harness.get_by_label("Undo").click();
-    harness.run_steps(3);
+    undo(&mut harness);
     assert_eq!(harness.state().state.scene, original);
     assert!(!harness.state().state.can_undo());
     assert!(
@@ -105,15 +113,13 @@ fn a_longer_upper_arm_reaches_farther_and_undo_takes_it_back() {
         "{:?}",
         harness.get_by_label(UPPER_ARM).value()
     );
-    let reach_undone = side_reach_after(&mut harness, Some(reach_after));
-    assert!((reach_undone - reach_before).abs() < 1e-9);
+    reach_is_back(&mut harness, reach_before, reach_after);
 }
 
 #[test]
 fn an_invalid_value_is_listed_kept_and_not_applied() {
     let (mut harness, _requests, _dir) = sample_editor("arm-invalid");
-    harness.get_by_role_and_label(Role::Button, "Arm").click();
-    harness.run_steps(2);
+    click_tab(&mut harness, "Arm");
     let original = harness.state().state.scene.clone();
     let arm_before = harness.state().state.arm().cloned();
 
@@ -148,8 +154,7 @@ fn an_invalid_value_is_listed_kept_and_not_applied() {
     assert!(harness.query_by_label_contains("1 problem(s)").is_some());
 
     // Undo takes back the payload; the typed length stays listed and unapplied.
-    harness.get_by_label("Undo").click();
-    harness.run_steps(3);
+    undo(&mut harness);
     let state = &harness.state().state;
     assert_eq!(state.scene, original);
     assert_eq!(state.arm().cloned(), arm_before);
@@ -171,8 +176,7 @@ fn an_invalid_value_is_listed_kept_and_not_applied() {
 #[test]
 fn a_fifth_joint_is_added_and_removed_with_the_waypoints() {
     let (mut harness, _requests, _dir) = sample_editor("arm-type");
-    harness.get_by_role_and_label(Role::Button, "Arm").click();
-    harness.run_steps(2);
+    click_tab(&mut harness, "Arm");
     let original = harness.state().state.scene.clone();
     harness.get_by_label("articulated, 5 joints").click();
     harness.run_steps(3);
@@ -192,8 +196,7 @@ fn a_fifth_joint_is_added_and_removed_with_the_waypoints() {
             .query_by_label_contains("Joint 5 wrist roll")
             .is_some()
     );
-    harness.get_by_label("Undo").click();
-    harness.run_steps(3);
+    undo(&mut harness);
     assert_eq!(harness.state().state.scene, original);
     assert_eq!(harness.state().state.pose.len(), 4);
 }
@@ -205,20 +208,8 @@ fn every_sample_shows_its_arm_in_the_file_units() {
         ("cube-stacker", None),
         ("peg-sorter", Some(2)),
     ] {
-        let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
-            .join("../../sample-scenes")
-            .join(format!("{name}.armwright.json"));
-        let dir = editor_common::scratch(&format!("arm-{name}"));
-        let (link, _requests) = armwright::editor::ChannelStopLink::new();
-        let editor = Editor::open(
-            Some(path),
-            Box::new(link),
-            editor_common::options(&dir, 3600),
-        );
-        let mut harness = editor_common::harness(editor);
-        harness.run_steps(3);
-        harness.get_by_role_and_label(Role::Button, "Arm").click();
-        harness.run_steps(2);
+        let mut harness = file_editor(&format!("arm-{name}"), sample_scene(name));
+        click_tab(&mut harness, "Arm");
         let arm = harness.state().state.scene.arm.clone();
         assert_eq!(
             harness.get_by_label(UPPER_ARM).value(),
@@ -271,24 +262,14 @@ fn dh_chain() -> Value {
 
 /// An editor harness on `document`, written to a scratch file, on the arm tab.
 fn editor_on(test: &str, document: &Value) -> Harness<'static, Editor> {
-    let path = common::scene_file(test, document);
-    let dir = editor_common::scratch(test);
-    let (link, _requests) = armwright::editor::ChannelStopLink::new();
-    let editor = Editor::open(
-        Some(path.into()),
-        Box::new(link),
-        editor_common::options(&dir, 3600),
-    );
-    let mut harness = editor_common::harness(editor);
-    harness.run_steps(3);
+    let mut harness = file_editor(test, common::scene_file(test, document).into());
     assert_eq!(
         Some(harness.state().state.scene.arm.shape.word()),
         document["arm"]["type"].as_str(),
         "the test scene did not load: {:?}",
         harness.state().state.messages
     );
-    harness.get_by_role_and_label(Role::Button, "Arm").click();
-    harness.run_steps(2);
+    click_tab(&mut harness, "Arm");
     harness
 }
 
@@ -321,20 +302,14 @@ fn a_longer_chain_row_reaches_farther_and_undo_takes_it_back() {
         "the tool point moved {} m",
         (tool_after - tool_before).norm()
     );
-    let reach_after = side_reach_after(&mut harness, Some(reach_before));
-    assert!(
-        reach_after > reach_before + 0.02,
-        "{reach_before} m → {reach_after} m"
-    );
+    let reach_after = reaches_farther(&mut harness, reach_before);
 
     // Three keystrokes in one field are one undo step.
-    harness.get_by_label("Undo").click();
-    harness.run_steps(3);
+    undo(&mut harness);
     assert_eq!(harness.state().state.scene, original);
     assert!(!harness.state().state.can_undo());
     assert_eq!(harness.get_by_label(label).value().as_deref(), Some("120"));
-    let reach_undone = side_reach_after(&mut harness, Some(reach_after));
-    assert!((reach_undone - reach_before).abs() < 1e-9);
+    reach_is_back(&mut harness, reach_before, reach_after);
 }
 
 #[test]
@@ -362,8 +337,7 @@ fn a_chain_value_that_is_no_number_is_listed_kept_and_not_applied() {
     assert_eq!(harness.get_by_label(label).value().as_deref(), Some("11o"));
 
     // Undo takes back the twist; the typed length stays, listed and unapplied.
-    harness.get_by_label("Undo").click();
-    harness.run_steps(3);
+    undo(&mut harness);
     assert_eq!(harness.state().state.scene, original);
     assert_eq!(harness.get_by_label(label).value().as_deref(), Some("11o"));
     assert_eq!(
@@ -462,8 +436,7 @@ fn switching_to_the_horizontal_type_keeps_lengths_and_undo_takes_it_back() {
     );
     assert!(harness.query_by_label_contains("Joint 3 lift").is_some());
 
-    harness.get_by_label("Undo").click();
-    harness.run_steps(3);
+    undo(&mut harness);
     assert_eq!(harness.state().state.scene, original);
     assert_eq!(harness.state().state.pose.len(), 5);
 }

@@ -8,7 +8,7 @@ use armwright::editor::{ChannelStopLink, Command, Dialog, Editor, sample_scene};
 use egui::{ViewportEvent, ViewportId};
 use egui_kittest::kittest::Queryable;
 
-use editor_common::{harness, options, sample_editor, scratch, settle};
+use editor_common::{harness, open_through_dialog, options, sample_editor, scratch, settle};
 
 /// The sample scene as JSON with one joint's stall torque made negative.
 fn bad_scene_text() -> String {
@@ -26,14 +26,7 @@ fn a_bad_scene_shows_its_error_and_the_file_is_unchanged() {
     let bytes_before = std::fs::read(&path).expect("read");
     let scene_before = harness.state().state.scene.clone();
 
-    harness.get_by_label("Open…").click();
-    harness.run_steps(3);
-    harness
-        .get_by_label("scene path")
-        .type_text(&path.display().to_string());
-    harness.run_steps(2);
-    harness.get_by_label("Open this file").click();
-    settle(&mut harness);
+    open_through_dialog(&mut harness, &path);
 
     let state = &harness.state().state;
     let Some(Dialog::LoadError { problems, .. }) = &state.dialog else {

@@ -7,8 +7,7 @@ mod editor_common;
 use std::time::Instant;
 
 use armwright::editor::{
-    ACKNOWLEDGE_LABEL, DryRunStatus, ReachStatus, RetimeRun, StopSource, StopState, StreamPhase,
-    ToolsTab, ViewKind,
+    EditorState, ReachStatus, RetimeRun, StopSource, StopState, StreamPhase, ToolsTab, ViewKind,
 };
 use armwright::scene::{build_arm, load, plan_of, sampled_poses};
 use armwright_link::{DeviceMode, LinkState};
@@ -17,9 +16,9 @@ use egui::{Key, Modifiers, vec2};
 use egui_kittest::kittest::{NodeT, Queryable};
 
 use editor_common::{
-    assert_stop_reached_link, click_tab, device_mode, drag, frames_sent, hover_stop_button,
-    link_state, press_stop_button_at, sample_editor, settle, step_until, wait_for_dry_run,
-    wait_for_retime,
+    acknowledge_caution, assert_dry_run_ready, assert_stop_reached_link, click_tab, connect,
+    device_mode, drag, hover_stop_button, link_state, open_through_dialog, press_stop_button_at,
+    sample_editor, step_until, stream_until_sending, wait_for_dry_run, wait_for_retime,
 };
 
 #[test]
@@ -38,12 +37,7 @@ fn drag_in_the_top_view_moves_the_tool_point_in_its_horizontal_plane() {
     let expected = projection.to_plane(to);
     drag(&mut harness, from, to);
     let editor = harness.state();
-    assert_eq!(
-        editor.state.reach,
-        ReachStatus::Reached,
-        "{:?}",
-        editor.state.reach_problems()
-    );
+    assert_reached(&editor.state);
     let after = editor.state.tool_point().expect("tool point");
     // The tool point follows the pointer in X and Y and keeps its height.
     assert!(
@@ -70,12 +64,7 @@ fn drag_in_the_side_view_keeps_the_base_yaw() {
     };
     drag(&mut harness, from, from + vec2(-20.0, -25.0));
     let state = &harness.state().state;
-    assert_eq!(
-        state.reach,
-        ReachStatus::Reached,
-        "{:?}",
-        state.reach_problems()
-    );
+    assert_reached(state);
     assert!((state.side_view_yaw() - yaw_before).abs() < 1e-9);
 }
 
@@ -105,6 +94,27 @@ fn dragging_far_out_says_out_of_reach_and_leaves_the_arm() {
     assert_eq!(state.pose.len(), pose_before.len());
 }
 
+/// Checks that the arm reached the tool point asked for, listing the problems when not.
+fn assert_reached(state: &EditorState) {
+    assert_eq!(
+        state.reach,
+        ReachStatus::Reached,
+        "{:?}",
+        state.reach_problems()
+    );
+}
+
+/// Checks that the pose `taught` (file units) was stored as a new waypoint after the `count`
+/// there were, that it is selected, and that the scene is marked changed.
+fn assert_stored(state: &EditorState, count: usize, taught: &[f64]) {
+    assert_eq!(state.scene.waypoints.len(), count + 1);
+    let index = state
+        .selected_waypoint
+        .expect("the new waypoint is selected");
+    assert_eq!(state.scene.waypoints[index].joints_deg_or_mm, taught);
+    assert!(state.is_dirty());
+}
+
 #[test]
 fn store_a_waypoint_then_undo_and_redo_with_the_keys() {
     let (mut harness, _requests, _dir) = sample_editor("store-undo");
@@ -116,16 +126,8 @@ fn store_a_waypoint_then_undo_and_redo_with_the_keys() {
     let pose = harness.state().state.pose_in_file_units();
     harness.get_by_label("Store pose").click();
     harness.run_steps(4);
-    {
-        let state = &harness.state().state;
-        assert_eq!(state.scene.waypoints.len(), count + 1);
-        let index = state
-            .selected_waypoint
-            .expect("the new waypoint is selected");
-        assert_eq!(state.scene.waypoints[index].joints_deg_or_mm, pose);
-        assert!(state.is_dirty());
-        assert!(harness.state().window_title().starts_with("* "));
-    }
+    assert_stored(&harness.state().state, count, &pose);
+    assert!(harness.state().window_title().starts_with("* "));
     // Nothing has keyboard focus after a button click, so the keys reach the editor.
     harness.key_press_modifiers(Modifiers::COMMAND, Key::Z);
     harness.run_steps(3);
@@ -170,14 +172,7 @@ fn open_teach_retime_play_stream_stop_and_reset() {
     let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
         .join("../../sample-scenes/cube-stacker.armwright.json");
     let on_disk = load(&path).expect("the sample loads");
-    harness.get_by_label("Open…").click();
-    harness.run_steps(3);
-    harness
-        .get_by_label("scene path")
-        .type_text(&path.display().to_string());
-    harness.run_steps(2);
-    harness.get_by_label("Open this file").click();
-    settle(&mut harness);
+    open_through_dialog(&mut harness, &path);
     {
         let state = &harness.state().state;
         assert_eq!(state.dialog, None, "{:?}", state.messages.last());
@@ -201,12 +196,7 @@ fn open_teach_retime_play_stream_stop_and_reset() {
     drag(&mut harness, from, to);
     {
         let state = &harness.state().state;
-        assert_eq!(
-            state.reach,
-            ReachStatus::Reached,
-            "{:?}",
-            state.reach_problems()
-        );
+        assert_reached(state);
         let after = state.tool_point().expect("tool point");
         assert!((after.x * 1e3 - expected[0]).abs() < 0.5, "x {}", after.x);
         assert!((after.y * 1e3 - expected[1]).abs() < 0.5, "y {}", after.y);
@@ -218,15 +208,7 @@ fn open_teach_retime_play_stream_stop_and_reset() {
     let taught = harness.state().state.pose_in_file_units();
     harness.get_by_label("Store pose").click();
     harness.run_steps(3);
-    {
-        let state = &harness.state().state;
-        assert_eq!(state.scene.waypoints.len(), count + 1);
-        let index = state
-            .selected_waypoint
-            .expect("the new waypoint is selected");
-        assert_eq!(state.scene.waypoints[index].joints_deg_or_mm, taught);
-        assert!(state.is_dirty());
-    }
+    assert_stored(&harness.state().state, count, &taught);
     let with_waypoint = harness.state().state.scene.clone();
 
     // Undo and redo with the keys.
@@ -277,11 +259,7 @@ fn open_teach_retime_play_stream_stop_and_reset() {
     );
     {
         let editor = harness.state();
-        assert!(
-            matches!(editor.state.playback.status, DryRunStatus::Ready),
-            "{:?}",
-            editor.state.playback.status
-        );
+        assert_dry_run_ready(editor, "the retimed sample");
         let timeline = editor.state.playback.timeline.as_ref().expect("a timeline");
         assert_eq!(timeline.generation, editor.dry_run_generation());
         assert_eq!(
@@ -316,10 +294,7 @@ fn open_teach_retime_play_stream_stop_and_reset() {
 
     // Stream the retimed sequence to the simulated device, after the caution.
     click_tab(&mut harness, "Link");
-    harness.get_by_label("Connect").click_accesskit();
-    step_until(&mut harness, "the connection", |editor| {
-        link_state(editor) == Some(LinkState::Idle)
-    });
+    connect(&mut harness);
     assert!(
         harness
             .get_by_label("Stream sequence")
@@ -327,13 +302,9 @@ fn open_teach_retime_play_stream_stop_and_reset() {
             .is_disabled(),
         "streaming waits for the caution"
     );
-    harness.get_by_label(ACKNOWLEDGE_LABEL).click_accesskit();
-    harness.run_steps(2);
+    acknowledge_caution(&mut harness);
     assert!(harness.state().state.caution_acknowledged);
-    harness.get_by_label("Stream sequence").click_accesskit();
-    step_until(&mut harness, "setpoints on the way", |editor| {
-        frames_sent(editor) > 10
-    });
+    stream_until_sending(&mut harness);
     assert_eq!(device_mode(harness.state()), Some(DeviceMode::Driving));
     assert_eq!(
         harness.state().device().view().phase,

@@ -4,43 +4,26 @@
 
 mod editor_common;
 
-use std::sync::mpsc::Receiver;
 use std::time::{Duration, Instant};
 
-use armwright::editor::{
-    ACKNOWLEDGE_LABEL, ChannelStopLink, Editor, STOP_KEY, StopRequest, StopSource, StreamPhase,
-};
+use armwright::editor::{StopSource, StreamPhase};
 use armwright_link::{DeviceMode, LinkState};
-use egui::{Event, Modifiers};
 use egui_kittest::kittest::{NodeT, Queryable};
 
 use editor_common::{
-    EditorHarness, assert_stop_reached_link, device_mode, frames_sent, harness, link_state,
-    options, scratch, step_until,
+    acknowledge_caution, assert_stop_reached_link, connect, device_mode, frames_sent, link_state,
+    press_stop_key, sample_editor, step_until, stream_until_sending,
 };
 
-/// An editor on the sample scene, not yet connected, with the receiving end of its stop log.
-///
-/// The link panel's buttons are pressed through accessibility actions: the panel grows as the
-/// device's status arrives, so a pointer aimed in one frame may miss in the next.
-fn linked_editor(name: &str) -> (EditorHarness, Receiver<StopRequest>) {
-    let dir = scratch(name);
-    let (log, requests) = ChannelStopLink::new();
-    let editor = Editor::open(None, Box::new(log), options(&dir, 3600));
-    let mut harness = harness(editor);
-    harness.run_steps(3);
-    (harness, requests)
-}
+// The link panel's buttons are pressed through accessibility actions: the panel grows as the
+// device's status arrives, so a pointer aimed in one frame may miss in the next.
 
 #[test]
 fn connect_acknowledge_stream_stop_by_key_reset_and_stream_again() {
-    let (mut harness, requests) = linked_editor("link-flow");
+    let (mut harness, requests, _dir) = sample_editor("link-flow");
 
     // Connect to the simulated device (the default choice).
-    harness.get_by_label("Connect").click_accesskit();
-    step_until(&mut harness, "the connection", |editor| {
-        link_state(editor) == Some(LinkState::Idle)
-    });
+    connect(&mut harness);
     let joints = harness.state().state.joint_count();
     step_until(&mut harness, "the device's arm pose", |editor| {
         editor.state.device_pose.as_ref().map(Vec::len) == Some(joints)
@@ -53,31 +36,19 @@ fn connect_acknowledge_stream_stop_by_key_reset_and_stream_again() {
     harness.run_steps(5);
     assert_eq!(harness.state().device().view().phase, StreamPhase::Idle);
     assert_eq!(frames_sent(harness.state()), 0);
-    harness.get_by_label(ACKNOWLEDGE_LABEL).click_accesskit();
-    harness.run_steps(2);
+    acknowledge_caution(&mut harness);
     assert!(harness.state().state.caution_acknowledged);
 
     // Stream.
-    harness.get_by_label("Stream sequence").click_accesskit();
-    step_until(&mut harness, "setpoints on the way", |editor| {
-        frames_sent(editor) > 10
-    });
+    stream_until_sending(&mut harness);
     assert_eq!(device_mode(harness.state()), Some(DeviceMode::Driving));
 
     // The stop key, with a text field holding the keyboard.
     harness.get_by_label("name of waypoint 4").focus();
     harness.run_steps(2);
     assert!(harness.ctx.egui_wants_keyboard_input());
-    harness.event(Event::Key {
-        key: STOP_KEY,
-        physical_key: None,
-        pressed: true,
-        repeat: false,
-        modifiers: Modifiers::NONE,
-    });
-    let frame = harness.ctx.cumulative_frame_nr();
     let frame_start = Instant::now();
-    harness.step();
+    let frame = press_stop_key(&mut harness);
     let frame_end = Instant::now();
     // In that frame the request was handed to the link's emergency-stop handle, the link's
     // thread wrote the stop line and the device latched it and holds.
@@ -116,15 +87,8 @@ fn connect_acknowledge_stream_stop_by_key_reset_and_stream_again() {
 
 #[test]
 fn a_stop_latched_before_connecting_stops_the_device_connected_after() {
-    let (mut harness, _requests) = linked_editor("link-stop-first");
-    harness.event(Event::Key {
-        key: STOP_KEY,
-        physical_key: None,
-        pressed: true,
-        repeat: false,
-        modifiers: Modifiers::NONE,
-    });
-    harness.step();
+    let (mut harness, _requests, _dir) = sample_editor("link-stop-first");
+    press_stop_key(&mut harness);
     assert!(harness.state().device().last_stop_handed().is_none());
     harness.get_by_label("Connect").click_accesskit();
     step_until(&mut harness, "the device latched", |editor| {
@@ -134,17 +98,10 @@ fn a_stop_latched_before_connecting_stops_the_device_connected_after() {
 
 #[test]
 fn pause_holds_the_device_and_resume_carries_on() {
-    let (mut harness, _requests) = linked_editor("link-pause");
-    harness.get_by_label("Connect").click_accesskit();
-    step_until(&mut harness, "the connection", |editor| {
-        link_state(editor) == Some(LinkState::Idle)
-    });
-    harness.get_by_label(ACKNOWLEDGE_LABEL).click_accesskit();
-    harness.run_steps(2);
-    harness.get_by_label("Stream sequence").click_accesskit();
-    step_until(&mut harness, "setpoints on the way", |editor| {
-        frames_sent(editor) > 10
-    });
+    let (mut harness, _requests, _dir) = sample_editor("link-pause");
+    connect(&mut harness);
+    acknowledge_caution(&mut harness);
+    stream_until_sending(&mut harness);
     harness.get_by_label("Pause stream").click_accesskit();
     step_until(&mut harness, "the pause", |editor| {
         editor.device().view().phase == StreamPhase::Paused
@@ -169,7 +126,7 @@ fn pause_holds_the_device_and_resume_carries_on() {
 
 #[test]
 fn serial_ports_are_listed_off_the_ui_thread() {
-    let (mut harness, _requests) = linked_editor("link-ports");
+    let (mut harness, _requests, _dir) = sample_editor("link-ports");
     harness.get_by_label("List serial ports").click_accesskit();
     step_until(&mut harness, "the port listing", |editor| {
         editor
@@ -187,7 +144,7 @@ fn serial_ports_are_listed_off_the_ui_thread() {
 
 #[test]
 fn the_device_pose_is_withdrawn_when_the_scene_has_another_arm() {
-    let (mut harness, _requests) = linked_editor("link-arm-changed");
+    let (mut harness, _requests, _dir) = sample_editor("link-arm-changed");
     harness.get_by_label("Connect").click_accesskit();
     let joints = harness.state().state.joint_count();
     step_until(&mut harness, "the device's arm pose", |editor| {

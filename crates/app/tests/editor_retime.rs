@@ -5,12 +5,12 @@
 mod common;
 mod editor_common;
 
-use armwright::editor::{ChannelStopLink, Command, Editor, RetimeRun};
+use armwright::editor::{Command, Editor, RetimeRun};
 use armwright::scene::{Scene, load};
 use egui_kittest::Harness;
 use egui_kittest::kittest::Queryable;
 
-use editor_common::{click_tab, harness, options, scratch, wait_for_retime};
+use editor_common::{click_tab, file_editor, scratch, wait_for_retime};
 
 /// The pen-plotter sample with its sequence repeated `times` times (names made unique), written
 /// to a scratch folder: a longer sequence makes a retime take long enough to watch and cancel.
@@ -36,11 +36,7 @@ fn long_sample(test: &str, times: usize) -> std::path::PathBuf {
 
 /// An editor harness on the scene at `path`, showing the Retime tab.
 fn editor_on(test: &str, path: std::path::PathBuf) -> Harness<'static, Editor> {
-    let dir = scratch(&format!("{test}-editor"));
-    let (link, _requests) = ChannelStopLink::new();
-    let editor = Editor::open(Some(path), Box::new(link), options(&dir, 3600));
-    let mut harness = harness(editor);
-    harness.run_steps(3);
+    let mut harness = file_editor(&format!("{test}-editor"), path);
     click_tab(&mut harness, "Retime");
     harness
 }

@@ -3,27 +3,16 @@
 
 mod editor_common;
 
-use std::path::{Path, PathBuf};
 use std::time::{Duration, Instant};
 
-use armwright::editor::{ChannelStopLink, Editor, ReachStatus, ViewKind};
+use armwright::editor::{ReachStatus, ViewKind};
 use egui::vec2;
 use egui_kittest::kittest::Queryable;
 
-use editor_common::{drag, harness, options, scratch};
-
-fn sample(name: &str) -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR"))
-        .join("../../sample-scenes")
-        .join(format!("{name}.armwright.json"))
-}
+use editor_common::{drag, file_editor, sample_scene};
 
 fn teach_on(name: &str) {
-    let dir = scratch(&format!("sample-{name}"));
-    let (link, _requests) = ChannelStopLink::new();
-    let editor = Editor::open(Some(sample(name)), Box::new(link), options(&dir, 3600));
-    let mut harness = harness(editor);
-    harness.run_steps(3);
+    let mut harness = file_editor(&format!("sample-{name}"), sample_scene(name));
     assert_eq!(
         harness.state().state.dialog,
         None,

@@ -4,9 +4,7 @@
 
 mod editor_common;
 
-use armwright::editor::{
-    ChannelStopLink, Command, DryRunStatus, Editor, PlaybackCommand, Quantity, WaypointField,
-};
+use armwright::editor::{Command, DryRunStatus, Editor, PlaybackCommand, Quantity, WaypointField};
 use armwright::scene::{Arrival, build_arm, plan_of};
 use armwright_trajectory::CommandedMotion;
 use egui::{Pos2, pos2};
@@ -14,7 +12,9 @@ use egui_kittest::Harness;
 use egui_kittest::kittest::Queryable;
 use egui_plot::PlotPoint;
 
-use editor_common::{drag, harness, options, sample_editor, scratch, wait_for_dry_run};
+use editor_common::{
+    assert_dry_run_ready, drag, file_editor, sample_editor, sample_scene, wait_for_dry_run,
+};
 
 /// The screen point of time `t` (s) on the timeline plot, halfway up.
 fn plot_point(harness: &Harness<'static, Editor>, t: f64) -> Pos2 {
@@ -24,6 +24,17 @@ fn plot_point(harness: &Harness<'static, Editor>, t: f64) -> Pos2 {
         .expect("the timeline plot was drawn");
     let x = transform.position_from_point(&PlotPoint::new(t, 0.0)).x;
     pos2(x, transform.frame().center().y)
+}
+
+/// The length of the timeline's run, s; 0 without a timeline.
+fn timeline_span(harness: &Harness<'static, Editor>) -> f64 {
+    harness
+        .state()
+        .state
+        .playback
+        .timeline
+        .as_ref()
+        .map_or(0.0, |timeline| timeline.span())
 }
 
 fn apply(harness: &mut Harness<'static, Editor>, command: Command) {
@@ -37,11 +48,7 @@ fn the_dry_run_arrives_and_the_plot_shows_it() {
     let (mut harness, _requests, _dir) = sample_editor("timeline-arrives");
     wait_for_dry_run(&mut harness);
     let editor = harness.state();
-    assert!(
-        matches!(editor.state.playback.status, DryRunStatus::Ready),
-        "{:?}",
-        editor.state.playback.status
-    );
+    assert_dry_run_ready(editor, "the sample");
     let timeline = editor.state.playback.timeline.clone().expect("a timeline");
     assert_eq!(timeline.generation, editor.dry_run_generation());
     assert_eq!(timeline.marks.len(), editor.state.scene.waypoints.len());
@@ -77,13 +84,7 @@ fn the_dry_run_arrives_and_the_plot_shows_it() {
 fn dragging_the_cursor_puts_the_arm_at_the_plan_without_an_edit() {
     let (mut harness, _requests, _dir) = sample_editor("timeline-cursor");
     wait_for_dry_run(&mut harness);
-    let span = harness
-        .state()
-        .state
-        .playback
-        .timeline
-        .as_ref()
-        .map_or(0.0, |timeline| timeline.span());
+    let span = timeline_span(&harness);
     assert!(span > 0.5, "span {span}");
     let from = plot_point(&harness, span * 0.2);
     let to = plot_point(&harness, span * 0.45);
@@ -176,13 +177,7 @@ fn play_advances_pause_stops_and_speed_changes_the_rate() {
 fn playback_stops_at_the_end_when_not_looping() {
     let (mut harness, _requests, _dir) = sample_editor("timeline-end");
     wait_for_dry_run(&mut harness);
-    let span = harness
-        .state()
-        .state
-        .playback
-        .timeline
-        .as_ref()
-        .map_or(0.0, |timeline| timeline.span());
+    let span = timeline_span(&harness);
     harness.get_by_label("loop").click();
     harness.step();
     apply(
@@ -258,20 +253,10 @@ fn a_sequence_that_cannot_be_planned_says_why_in_the_timeline() {
 #[test]
 fn every_bundled_sample_gets_a_dry_run_and_a_plot() {
     for name in ["pen-plotter", "cube-stacker", "peg-sorter"] {
-        let dir = scratch(&format!("timeline-sample-{name}"));
-        let (link, _requests) = ChannelStopLink::new();
-        let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
-            .join("../../sample-scenes")
-            .join(format!("{name}.armwright.json"));
-        let editor = Editor::open(Some(path), Box::new(link), options(&dir, 3600));
-        let mut harness = harness(editor);
+        let mut harness = file_editor(&format!("timeline-sample-{name}"), sample_scene(name));
         wait_for_dry_run(&mut harness);
         let editor = harness.state();
-        assert!(
-            matches!(editor.state.playback.status, DryRunStatus::Ready),
-            "{name}: {:?}",
-            editor.state.playback.status
-        );
+        assert_dry_run_ready(editor, name);
         assert!(
             editor.timeline_column_count() > 0,
             "{name}: nothing plotted"

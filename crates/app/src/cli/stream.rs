@@ -98,12 +98,7 @@ pub(crate) fn run(file: &Path, request: &StreamRequest) -> Outcome {
         }
         if let Err(reason) = answer {
             let message = format!("{reason}; nothing was sent");
-            return fail(
-                json,
-                &message,
-                json!({ "frames_sent": 0 }),
-                Outcome::Refused,
-            );
+            return refused(json, &message);
         }
     }
     let period = Duration::from_secs_f64(1.0 / rate_hz);
@@ -113,44 +108,20 @@ pub(crate) fn run(file: &Path, request: &StreamRequest) -> Outcome {
     };
     let link = match connect(&target, scene.link.baud, options) {
         Ok(link) => link,
-        Err(message) => {
-            return fail(
-                json,
-                &message,
-                json!({ "frames_sent": 0 }),
-                Outcome::Refused,
-            );
-        }
+        Err(message) => return refused(json, &message),
     };
     let converted = match device_setpoints(&arm, &poses, &link.device()) {
         Ok(converted) => converted,
-        Err(message) => {
-            return fail(
-                json,
-                &message,
-                json!({ "frames_sent": 0 }),
-                Outcome::Refused,
-            );
-        }
+        Err(message) => return refused(json, &message),
     };
     let stop = link.emergency_stop();
     if let Err(error) = ctrlc::set_handler(move || stop.trigger()) {
         let message = format!("cannot catch Ctrl-C, so it could not stop the arm: {error}");
-        return fail(
-            json,
-            &message,
-            json!({ "frames_sent": 0 }),
-            Outcome::Refused,
-        );
+        return refused(json, &message);
     }
     if let Err(error) = link.start_stream() {
         let message = format!("cannot start streaming: {error}");
-        return fail(
-            json,
-            &message,
-            json!({ "frames_sent": 0 }),
-            Outcome::Refused,
-        );
+        return refused(json, &message);
     }
     let duration = plan.sequence().duration();
     eprintln!(
@@ -190,6 +161,11 @@ pub(crate) fn run(file: &Path, request: &StreamRequest) -> Outcome {
             stats: &stats,
         },
     )
+}
+
+/// Reports a stream refused before any setpoint was sent.
+fn refused(json: bool, message: &str) -> Outcome {
+    fail(json, message, json!({ "frames_sent": 0 }), Outcome::Refused)
 }
 
 /// `--port`, `--simulated`, or the scene's link device.

@@ -216,6 +216,15 @@ impl ChainField {
     }
 
     fn slot(self, arm: &mut ArmDoc) -> Option<&mut f64> {
+        match self {
+            ChainField::ToolPosition(component) => {
+                return chain_tool_mut(arm)?.position_mm.get_mut(component);
+            }
+            ChainField::ToolRotation(component) => {
+                return chain_tool_mut(arm)?.rotation_xyz_deg.get_mut(component);
+            }
+            _ => {}
+        }
         match (self, &mut arm.shape) {
             (ChainField::Dh { row, param }, ArmShape::ChainDh { rows, .. }) => {
                 let row = rows.get_mut(row)?;
@@ -232,20 +241,6 @@ impl ChainField {
             (ChainField::Origin { joint, component }, ArmShape::ChainOriginAxis { axes, .. }) => {
                 axes.get_mut(joint)?.origin_mm.get_mut(component)
             }
-            (
-                ChainField::ToolPosition(component),
-                ArmShape::ChainDh { tool, .. }
-                | ArmShape::ChainOriginAxis {
-                    tool_home: tool, ..
-                },
-            ) => tool.position_mm.get_mut(component),
-            (
-                ChainField::ToolRotation(component),
-                ArmShape::ChainDh { tool, .. }
-                | ArmShape::ChainOriginAxis {
-                    tool_home: tool, ..
-                },
-            ) => tool.rotation_xyz_deg.get_mut(component),
             _ => None,
         }
     }
@@ -254,6 +249,15 @@ impl ChainField {
 /// The placement of a chain arm's tool, `None` for an arm that is no chain.
 fn chain_tool(arm: &ArmDoc) -> Option<&PlacementDoc> {
     match &arm.shape {
+        ArmShape::ChainDh { tool, .. } => Some(tool),
+        ArmShape::ChainOriginAxis { tool_home, .. } => Some(tool_home),
+        _ => None,
+    }
+}
+
+/// The placement of a chain arm's tool to write into, `None` for an arm that is no chain.
+fn chain_tool_mut(arm: &mut ArmDoc) -> Option<&mut PlacementDoc> {
+    match &mut arm.shape {
         ArmShape::ChainDh { tool, .. } => Some(tool),
         ArmShape::ChainOriginAxis { tool_home, .. } => Some(tool_home),
         _ => None,

@@ -9,8 +9,8 @@ use std::sync::mpsc::Receiver;
 use std::time::{Duration, Instant};
 
 use armwright::editor::{
-    ChannelStopLink, EMERGENCY_STOP_LABEL, Editor, EditorOptions, STOP_KEY, StopRequest,
-    StopSource, StreamPhase,
+    ACKNOWLEDGE_LABEL, ChannelStopLink, DryRunStatus, EMERGENCY_STOP_LABEL, Editor, EditorOptions,
+    STOP_KEY, StopRequest, StopSource, StreamPhase,
 };
 use armwright_link::{DeviceMode, LinkState};
 use egui::accesskit::Role;
@@ -62,6 +62,51 @@ pub fn sample_editor(name: &str) -> (Harness<'static, Editor>, Receiver<StopRequ
     let mut harness = harness(editor);
     harness.run_steps(3);
     (harness, requests, dir)
+}
+
+/// An editor harness on the scene file at `path` after three frames, its scratch folder named
+/// `name`.
+pub fn file_editor(name: &str, path: PathBuf) -> EditorHarness {
+    let dir = scratch(name);
+    let (link, _requests) = ChannelStopLink::new();
+    let editor = Editor::open(Some(path), Box::new(link), options(&dir, 3600));
+    let mut harness = harness(editor);
+    harness.run_steps(3);
+    harness
+}
+
+/// The path of a bundled sample scene, `name` without its `.armwright.json` ending.
+pub fn sample_scene(name: &str) -> PathBuf {
+    std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("../../sample-scenes")
+        .join(format!("{name}.armwright.json"))
+}
+
+/// Opens the scene at `path` through the Open dialog's typed path and waits for the file work.
+pub fn open_through_dialog(harness: &mut EditorHarness, path: &std::path::Path) {
+    harness.get_by_label("Open…").click();
+    harness.run_steps(3);
+    harness
+        .get_by_label("scene path")
+        .type_text(&path.display().to_string());
+    harness.run_steps(2);
+    harness.get_by_label("Open this file").click();
+    settle(harness);
+}
+
+/// Checks that the editor's dry run has a result; `what` names the case in the failure message.
+pub fn assert_dry_run_ready(editor: &Editor, what: &str) {
+    assert!(
+        matches!(editor.state.playback.status, DryRunStatus::Ready),
+        "{what}: {:?}",
+        editor.state.playback.status
+    );
+}
+
+/// Clicks Undo and runs three frames.
+pub fn undo(harness: &mut EditorHarness) {
+    harness.get_by_label("Undo").click();
+    harness.run_steps(3);
 }
 
 /// Steps until file work has finished (at most 10 s).
@@ -195,6 +240,29 @@ pub fn press_stop_button_at(harness: &mut EditorHarness, centre: Pos2) -> u64 {
 pub fn press_stop_button(harness: &mut EditorHarness) -> u64 {
     let centre = hover_stop_button(harness);
     press_stop_button_at(harness, centre)
+}
+
+/// Connects to the simulated device (the link panel's default choice) and steps until the link
+/// is idle.
+pub fn connect(harness: &mut EditorHarness) {
+    harness.get_by_label("Connect").click_accesskit();
+    step_until(harness, "the connection", |editor| {
+        link_state(editor) == Some(LinkState::Idle)
+    });
+}
+
+/// Acknowledges the caution asked before the first stream and runs two frames.
+pub fn acknowledge_caution(harness: &mut EditorHarness) {
+    harness.get_by_label(ACKNOWLEDGE_LABEL).click_accesskit();
+    harness.run_steps(2);
+}
+
+/// Starts streaming the sequence and steps until more than 10 setpoints went out.
+pub fn stream_until_sending(harness: &mut EditorHarness) {
+    harness.get_by_label("Stream sequence").click_accesskit();
+    step_until(harness, "setpoints on the way", |editor| {
+        frames_sent(editor) > 10
+    });
 }
 
 /// The simulated device's mode, while connected to it.
