@@ -4,7 +4,7 @@
 //! Colours come from the Okabe–Ito palette, which stays distinguishable for the common kinds of
 //! colour blindness (common practice in scientific figures).
 
-use armwright_kinematics::{ToolAngles, forward};
+use armwright_kinematics::{ChainPose, ToolAngles, forward};
 use egui::{Align2, Color32, FontId, Painter, Pos2, Rect, Shape, Stroke, StrokeKind, pos2, vec2};
 use nalgebra::Vector3;
 
@@ -300,6 +300,23 @@ pub fn waypoints(
     );
 }
 
+/// Where a posed chain lies on screen: the base, every joint frame, then the tool point.
+pub(super) fn chain_on_screen(
+    projection: &Projection,
+    plane: &dyn Plane,
+    chain: &ChainPose,
+) -> Vec<Pos2> {
+    let mut points = vec![projection.to_screen(plane.project(&Vector3::zeros()))];
+    points.extend(
+        chain
+            .frames()
+            .iter()
+            .map(|frame| projection.to_screen(plane.project(&frame.translation.vector))),
+    );
+    points.push(projection.to_screen(plane.project(&chain.tool().translation.vector)));
+    points
+}
+
 /// The arm's links and joints at the current pose and the tool point; returns the tool point's
 /// screen position.
 pub fn arm(
@@ -309,18 +326,10 @@ pub fn arm(
     state: &EditorState,
     grabbed: bool,
 ) -> Option<Pos2> {
-    let arm = state.arm()?;
-    let chain = forward(arm, &state.pose).ok()?;
-    let mut points = vec![projection.to_screen(plane.project(&Vector3::zeros()))];
-    points.extend(
-        chain
-            .frames()
-            .iter()
-            .map(|frame| projection.to_screen(plane.project(&frame.translation.vector))),
-    );
+    let chain = forward(state.arm()?, &state.pose).ok()?;
+    let points = chain_on_screen(projection, plane, &chain);
     let tool_point = chain.tool().translation.vector;
-    let tool = projection.to_screen(plane.project(&tool_point));
-    points.push(tool);
+    let tool = points[points.len() - 1];
     // The base as a small plinth.
     painter.rect_filled(
         Rect::from_center_size(points[0], vec2(22.0, 22.0)),

@@ -4,10 +4,9 @@
 
 use armwright_kinematics::{Arm, forward};
 use egui::{Align2, Color32, FontId, Painter, Pos2, Rect, Shape, Stroke, pos2, vec2};
-use nalgebra::Vector3;
 
 use super::Plane;
-use super::drawing::{BACKGROUND, LABEL, LINK};
+use super::drawing::{BACKGROUND, LABEL, LINK, chain_on_screen};
 use super::projection::Projection;
 
 /// The dry run's arm (light grey: it sits over the sky-blue commanded arm and the viridis map
@@ -45,15 +44,8 @@ pub fn overlay_arm(
     let Ok(chain) = forward(arm, &overlay.pose) else {
         return;
     };
-    let mut points = vec![projection.to_screen(plane.project(&Vector3::zeros()))];
-    points.extend(
-        chain
-            .frames()
-            .iter()
-            .map(|frame| projection.to_screen(plane.project(&frame.translation.vector))),
-    );
-    let tool = projection.to_screen(plane.project(&chain.tool().translation.vector));
-    points.push(tool);
+    let points = chain_on_screen(projection, plane, &chain);
+    let tool = points[points.len() - 1];
     let stroke = Stroke::new(2.0, overlay.colour);
     painter.extend(Shape::dashed_line(&points, stroke, DASH, GAP));
     for joint in &points[1..points.len() - 1] {
