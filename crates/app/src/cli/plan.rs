@@ -52,13 +52,16 @@ pub(crate) fn plan_scene(scene: &Scene, arm: &Arm, json: bool) -> Result<TaskPla
     })
 }
 
+/// Loads the scene at `file` and plans its sequence, or says why not (the outcome to exit with).
+pub(crate) fn load_and_plan(file: &Path, json: bool) -> Result<(Scene, Arm, TaskPlan), Outcome> {
+    let (scene, arm) = load_scene(file, json)?;
+    let plan = plan_scene(&scene, &arm, json)?;
+    Ok((scene, arm, plan))
+}
+
 pub(crate) fn run(file: &Path, rate_hz: f64, csv: Option<&Path>, json: bool) -> Outcome {
-    let (scene, arm) = match load_scene(file, json) {
-        Ok(loaded) => loaded,
-        Err(outcome) => return outcome,
-    };
-    let plan = match plan_scene(&scene, &arm, json) {
-        Ok(plan) => plan,
+    let (scene, arm, plan) = match load_and_plan(file, json) {
+        Ok(planned) => planned,
         Err(outcome) => return outcome,
     };
     let derating = scene.timing.torque_derating_pct / 100.0;

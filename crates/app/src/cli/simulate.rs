@@ -7,17 +7,13 @@ use armwright_trajectory::DryRun;
 use serde_json::{Value, json};
 
 use super::Outcome;
-use super::plan::plan_scene;
-use super::report::{all_rounded, fail, load_scene, print_json, rounded};
+use super::plan::load_and_plan;
+use super::report::{all_rounded, fail, print_json, rounded};
 use crate::scene::{Arrival, Scene, dry_run_of, position_to_file_unit};
 
 pub(crate) fn run(file: &Path, json: bool) -> Outcome {
-    let (scene, arm) = match load_scene(file, json) {
-        Ok(loaded) => loaded,
-        Err(outcome) => return outcome,
-    };
-    let plan = match plan_scene(&scene, &arm, json) {
-        Ok(plan) => plan,
+    let (scene, arm, plan) = match load_and_plan(file, json) {
+        Ok(planned) => planned,
         Err(outcome) => return outcome,
     };
     let run = match dry_run_of(&scene, &arm, &plan) {

@@ -14,8 +14,8 @@ use armwright_link::{
 use serde_json::{Value, json};
 
 use super::Outcome;
-use super::plan::plan_scene;
-use super::report::{fail, load_scene, print_json, rounded};
+use super::plan::load_and_plan;
+use super::report::{fail, print_json, rounded};
 use crate::scene::{Device, Scene, device_setpoints, sampled_poses};
 
 /// Shown before anything is sent, whether or not confirmation is asked for.
@@ -74,12 +74,8 @@ enum Ending {
 
 pub(crate) fn run(file: &Path, request: &StreamRequest) -> Outcome {
     let json = request.json;
-    let (scene, arm) = match load_scene(file, json) {
-        Ok(loaded) => loaded,
-        Err(outcome) => return outcome,
-    };
-    let plan = match plan_scene(&scene, &arm, json) {
-        Ok(plan) => plan,
+    let (scene, arm, plan) = match load_and_plan(file, json) {
+        Ok(planned) => planned,
         Err(outcome) => return outcome,
     };
     let rate_hz = request.rate_hz.unwrap_or(scene.link.rate_hz);
