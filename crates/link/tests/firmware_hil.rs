@@ -7,6 +7,8 @@
 //!
 //! Times come from the harness log in CPU cycles at 16 MHz (16 cycles a µs).
 
+mod common;
+
 use std::io::{BufRead, BufReader, Write};
 use std::path::{Path, PathBuf};
 use std::process::{Child, ChildStdin, Command, Stdio};
@@ -19,6 +21,8 @@ use armwright_link::{
     Faults, HostLine, HostMessage, LineAssembler, Link, LinkError, LinkEvent, ResetConfirmation,
     SerialTransport, StreamOptions, Transport,
 };
+
+use common::wait_for;
 
 const CYCLES_PER_US: f64 = 16.0;
 const FRAME_CYCLES: u64 = 320_000; // 20 ms
@@ -392,18 +396,6 @@ fn hil_options() -> StreamOptions {
         heartbeat_interval: Duration::from_millis(50),
         ..StreamOptions::default()
     }
-}
-
-fn wait_for(link: &Link, within: Duration, wanted: impl Fn(&LinkEvent) -> bool) -> LinkEvent {
-    let until = Instant::now() + within;
-    while let Some(left) = until.checked_duration_since(Instant::now()) {
-        if let Some(event) = link.next_event(left)
-            && wanted(&event)
-        {
-            return event;
-        }
-    }
-    panic!("no such event within {within:?}; stats {:?}", link.stats());
 }
 
 /// A sample sequence in µs: each joint swings on its own slow sine, the gripper closes.
