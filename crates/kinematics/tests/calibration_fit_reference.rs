@@ -57,7 +57,11 @@ fn fits_match_numpy_polyfit() {
         let fit = fit_calibration(&readings, &CalibrationFitOptions::default()).expect(name);
 
         let line = lowest_first(&set["linear"]["coefficients_high_first"]);
-        assert_close(&format!("{name}: offset"), fit.line[0].to_degrees(), line[0]);
+        assert_close(
+            &format!("{name}: offset"),
+            fit.line[0].to_degrees(),
+            line[0],
+        );
         assert_close(&format!("{name}: slope"), fit.line[1].to_degrees(), line[1]);
 
         let expected = match fit.shape {
@@ -85,7 +89,10 @@ fn fits_match_numpy_polyfit() {
         }
     }
     // The bowed sets must be recognised as bowed, the straight ones as straight.
-    assert_eq!(quadratics, 2, "the two bowed sets, and only they, fit as quadratics");
+    assert_eq!(
+        quadratics, 2,
+        "the two bowed sets, and only they, fit as quadratics"
+    );
 }
 
 #[test]
