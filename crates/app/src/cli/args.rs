@@ -216,6 +216,17 @@ pub enum Command {
         #[arg(long)]
         json: bool,
     },
+    /// Write a printable protractor (an SVG page in mm) for reading calibration angles.
+    ///
+    /// Print it at 100 % (actual size) and check its 100 mm bar with a rule before trusting a
+    /// reading. 0° is to the right and angles grow counter-clockwise, as a joint turns for a
+    /// positive angle when its axis points at you. Without --out the SVG goes to standard
+    /// output.
+    Protractor {
+        /// Write the SVG to this file (atomically) instead of standard output.
+        #[arg(long, value_name = "OUT.svg")]
+        out: Option<PathBuf>,
+    },
     /// List the serial ports of this computer, with USB vendor and product ids.
     Ports {
         /// Print machine-readable JSON instead of text.

@@ -1,9 +1,9 @@
 //! The command line: `check`, `pose`, `reach`, `envelope`, `plan`, `simulate`, `retime`,
-//! `calibrate`, `ports`, `stream`, `device-sim`.
+//! `calibrate`, `protractor`, `ports`, `stream`, `device-sim`.
 //!
 //! Naming scheme: `args.rs` declares every option (clap derive); one file per subcommand
 //! (`check.rs`, `pose.rs`, `reach.rs`, `envelope.rs`, `plan.rs`, `simulate.rs`, `retime.rs`,
-//! `calibrate.rs`, `ports.rs`, `stream.rs`, `device_sim.rs`); `report.rs` prints results as text or
+//! `calibrate.rs`, `protractor.rs`, `ports.rs`, `stream.rs`, `device_sim.rs`); `report.rs` prints results as text or
 //! JSON and loads the scene for a subcommand; `svg.rs` draws an envelope map.
 //!
 //! Exit status: 0 on success, 1 when the scene has problems or a target cannot be reached (for
@@ -18,6 +18,7 @@ mod envelope;
 mod plan;
 mod ports;
 mod pose;
+mod protractor;
 mod reach;
 mod report;
 mod retime;
@@ -136,6 +137,7 @@ pub fn execute(command: &Command) -> Outcome {
             };
             calibrate::run(file, &request, *json)
         }
+        Command::Protractor { out } => protractor::run(out.as_deref()),
         Command::Ports { json } => ports::run(*json),
         Command::Stream {
             file,
