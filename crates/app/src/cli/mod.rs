@@ -16,7 +16,7 @@ mod device_sim;
 mod envelope;
 mod plan;
 mod ports;
-mod pose;
+pub(crate) mod pose; // shared with the editor's joint-controls test: one pulse rule
 mod reach;
 mod report;
 mod retime;

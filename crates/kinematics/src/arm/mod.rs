@@ -12,7 +12,7 @@ mod mass;
 mod servo;
 
 pub use arm_type::{ArmType, ArticulatedDims, ChainDims, DhRow, JointPlacement, ScaraDims};
-pub use calibration::{Calibration, PulseDirection};
+pub use calibration::{Calibration, DEFAULT_PULSE_UNIT_US, PulseDirection, SentPulse, sent_pulse};
 pub use joint::{Joint, JointKind, JointSpec};
 pub use mass::MassProperties;
 pub use servo::ServoSpec;
