@@ -17,7 +17,7 @@ mod device_sim;
 mod envelope;
 mod plan;
 mod ports;
-mod pose;
+pub(crate) mod pose; // shared with the editor's joint-controls test: one pulse rule
 mod protractor;
 mod reach;
 mod report;

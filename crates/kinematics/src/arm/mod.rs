@@ -14,7 +14,7 @@ mod mass;
 mod servo;
 
 pub use arm_type::{ArmType, ArticulatedDims, ChainDims, DhRow, JointPlacement, ScaraDims};
-pub use calibration::{Calibration, PulseDirection};
+pub use calibration::{Calibration, DEFAULT_PULSE_UNIT_US, PulseDirection, SentPulse, sent_pulse};
 pub use calibration_fit::{
     CalibrationFit, CalibrationFitError, CalibrationFitOptions, CalibrationReading, FitShape,
     fit_calibration,
