@@ -6,17 +6,39 @@ use std::io::Write;
 use std::path::{Path, PathBuf};
 
 use super::SceneError;
+use super::decode::decode_scene;
 use super::document::Scene;
-use super::encode::encode_scene;
+use super::encode::{Out, encode_scene};
 
-/// The scene as pretty-printed JSON text, ending with a newline.
+/// The scene as pretty-printed JSON text, ending with a newline; each number is written with
+/// the decimals its field keeps (`49.53`, not `49.53125000000001`).
 pub fn to_json(scene: &Scene) -> String {
-    let mut text = serde_json::to_string_pretty(&encode_scene(scene))
+    text_of(&encode_scene(scene))
+}
+
+/// The scene as [`to_json`] writes it but with every number in full, so that loading it gives
+/// back exactly this scene: for a recovery copy of unsaved work, not for the user's files.
+pub fn to_json_unrounded(scene: &Scene) -> String {
+    text_of(&encode_scene(scene).unrounded())
+}
+
+fn text_of(out: &Out) -> String {
+    let mut text = serde_json::to_string_pretty(out)
         // Our encoder only produces strings, numbers, lists and objects with string keys, which
         // serde_json always writes; this fallback is never taken.
         .unwrap_or_default();
     text.push('\n');
     text
+}
+
+/// The scene as a save writes it and a load reads it back: every number rounded to the
+/// decimals its field keeps. The editor keeps this as its scene once saved, so that the file and
+/// the window agree.
+pub fn as_saved(scene: &Scene) -> Scene {
+    serde_json::to_value(encode_scene(scene))
+        .ok()
+        .and_then(|value| decode_scene(&value).ok())
+        .unwrap_or_else(|| scene.clone())
 }
 
 /// Saves the scene to `path` atomically.
@@ -26,6 +48,18 @@ pub fn to_json(scene: &Scene) -> String {
 /// at `path`, if any, is unchanged and the temporary file is removed.
 pub fn save(scene: &Scene, path: &Path) -> Result<(), SceneError> {
     save_text(&to_json(scene), path).map_err(|source| SceneError::Write {
+        path: path.to_path_buf(),
+        source,
+    })
+}
+
+/// Saves the scene to `path` atomically with every number in full ([`to_json_unrounded`]): a
+/// recovery copy that loads back to exactly the scene it was written from.
+///
+/// # Errors
+/// As [`save`].
+pub fn save_unrounded(scene: &Scene, path: &Path) -> Result<(), SceneError> {
+    save_text(&to_json_unrounded(scene), path).map_err(|source| SceneError::Write {
         path: path.to_path_buf(),
         source,
     })
