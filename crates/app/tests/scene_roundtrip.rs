@@ -293,7 +293,7 @@ fn scene(values: &[f64], description: String, port: String, rounded: bool) -> Sc
                 Device::Port(port)
             },
             baud: draw.pulse(1200, 1_000_000),
-            rate_hz: draw.range(1.0, 500.0),
+            rate_hz: draw.range(50.0, 500.0),
         },
     }
 }

@@ -7,6 +7,8 @@
 //!
 //! Each group's `ROWS` lists its rows in the order they are written and shown.
 
+use armwright_trajectory::{MAX_SAMPLE_RATE_HZ, MIN_SAMPLE_RATE_HZ};
+
 use super::document::*;
 use super::field::{Access, Field, Presence, Range, Unit};
 
@@ -945,8 +947,8 @@ pub mod link {
     pub const RATE: Field<LinkSettings> = Field::<LinkSettings>::new(
         "rate_hz",
         Unit::Hz,
-        Range::above(0.0, 1000.0),
-        "the streaming thread's range",
+        Range::within(MIN_SAMPLE_RATE_HZ, MAX_SAMPLE_RATE_HZ),
+        "the rates the planner samples and the link streams at",
         3,
         "setpoint rate",
         "setpoints sent per second",

@@ -5,13 +5,14 @@
 //! the file: key, unit, range, decimals, meaning, label, accessor), `decode.rs` (JSON → types,
 //! collecting every problem with its JSON path), `encode.rs` (types → JSON, keys in a fixed
 //! order), `migrate.rs` (one step per older version), `validate.rs` (rules across fields),
-//! `units.rs` (the one place that turns file units into the SI arm model), `load.rs` and
+//! `duplicate_keys.rs` (a key given twice in one object), `units.rs` (the one place that turns file units into the SI arm model), `load.rs` and
 //! `save.rs` (files: read without side effects, write atomically), `problem.rs` (a located
 //! problem and the nearest-name suggestion), `task.rs` (the sequence as a trajectory task),
 //! `setpoints.rs` (the planned sequence as device setpoints).
 
 mod decode;
 mod document;
+mod duplicate_keys;
 mod encode;
 pub mod field;
 pub mod field_table;
@@ -44,7 +45,7 @@ pub use units::{
     arm_description, build_arm, pose_from_file_units, pose_to_file_units, position_from_file_unit,
     position_to_file_unit, rate_from_file_unit, rate_to_file_unit,
 };
-pub use validate::validate;
+pub use validate::{sequence_problems, validate};
 
 use std::path::PathBuf;
 

@@ -1,5 +1,7 @@
 //! Writing a scene file atomically: write a temporary file beside the target, flush it to disk,
-//! then rename it over the target. A failed save leaves the existing file as it was.
+//! then rename it over the target. A failed save leaves the existing file as it was. An existing
+//! file keeps its permissions, and a symbolic link stays a link: the file it points to is the
+//! one written.
 
 use std::fs::{self, File};
 use std::io::Write;
@@ -66,14 +68,23 @@ pub fn save_unrounded(scene: &Scene, path: &Path) -> Result<(), SceneError> {
 }
 
 /// Writes `text` to `path` atomically (temporary file beside it, flushed, renamed over it): the
-/// scene files and every other file the program writes (setpoint CSV, pictures).
+/// scene files and every other file the program writes (setpoint CSV, pictures). When `path` is
+/// a symbolic link, the file it leads to is written and the link stays; an existing file keeps
+/// its permissions.
 ///
 /// # Errors
 /// The I/O error if the temporary file cannot be written or renamed; the existing file at
 /// `path`, if any, is unchanged and the temporary file is removed.
 pub fn save_text(text: &str, path: &Path) -> std::io::Result<()> {
+    let target = through_links(path)?;
+    let path = target.as_path();
     let temporary = temporary_beside(path);
     let written = write_synced(&temporary, text.as_bytes()).and_then(|()| {
+        if let Ok(existing) = fs::metadata(path)
+            && existing.is_file()
+        {
+            fs::set_permissions(&temporary, existing.permissions())?;
+        }
         if path.is_dir() {
             // rename() would replace an empty directory on some systems; never do that.
             return Err(std::io::Error::new(
@@ -94,6 +105,29 @@ pub fn save_text(text: &str, path: &Path) -> std::io::Result<()> {
         let _ = dir.sync_all();
     }
     Ok(())
+}
+
+/// The file a path leads to: `path` itself unless it is a symbolic link, else the link's target
+/// (relative targets from the link's folder), followed through up to 40 links as the system
+/// does.
+fn through_links(path: &Path) -> std::io::Result<PathBuf> {
+    let mut current = path.to_path_buf();
+    for _ in 0..40 {
+        match fs::symlink_metadata(&current) {
+            Ok(metadata) if metadata.file_type().is_symlink() => {
+                let target = fs::read_link(&current)?;
+                current = match parent_dir(&current) {
+                    Some(parent) if target.is_relative() => parent.join(target),
+                    _ => target,
+                };
+            }
+            _ => return Ok(current),
+        }
+    }
+    Err(std::io::Error::other(format!(
+        "{} leads through more than 40 symbolic links",
+        path.display()
+    )))
 }
 
 fn write_synced(path: &Path, bytes: &[u8]) -> std::io::Result<()> {

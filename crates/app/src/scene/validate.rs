@@ -31,6 +31,28 @@ pub fn validate(scene: &Scene) -> Vec<Problem> {
     problems
 }
 
+/// What stops a valid scene from being planned: a sequence of fewer than two waypoints has no
+/// move. Not part of [`validate`]: such a scene is a valid arm for pose, reach and the envelope,
+/// and the editor checks scenes while their sequence is still being taught; `armwright check`
+/// notes it.
+pub fn sequence_problems(scene: &Scene) -> Vec<Problem> {
+    let count = scene.waypoints.len();
+    if count >= 2 {
+        return Vec::new();
+    }
+    let has = match count {
+        0 => "has none".to_string(),
+        _ => "has 1".to_string(),
+    };
+    vec![Problem::new(
+        "waypoints",
+        format!(
+            "the sequence needs at least two waypoints to make a move; it {has}, so plan, \
+             simulate, retime and stream have nothing to do"
+        ),
+    )]
+}
+
 /// Every value of `rows` in `doc` inside its range, each field at `path`.`key`.
 fn ranges<T>(
     rows: &[Field<T>],
