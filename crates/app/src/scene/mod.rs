@@ -35,6 +35,7 @@ pub use document::{
 pub use load::{load, load_bytes};
 pub use migrate::{CURRENT_VERSION, FORMAT_NAME};
 pub use problem::Problem;
+pub(crate) use problem::child;
 pub use save::{as_saved, save, save_text, save_unrounded, to_json, to_json_unrounded};
 pub use setpoints::{DeviceSetpoints, SampledPose, device_setpoints, sampled_poses};
 pub use task::{
