@@ -1,9 +1,9 @@
 //! The command line: `check`, `pose`, `reach`, `envelope`, `plan`, `simulate`, `retime`,
-//! `ports`, `stream`, `device-sim`.
+//! `ports`, `stream`, `device-sim`, `format`.
 //!
 //! Naming scheme: `args.rs` declares every option (clap derive); one file per subcommand
 //! (`check.rs`, `pose.rs`, `reach.rs`, `envelope.rs`, `plan.rs`, `simulate.rs`, `retime.rs`,
-//! `ports.rs`, `stream.rs`, `device_sim.rs`); `report.rs` prints results as text or
+//! `ports.rs`, `stream.rs`, `device_sim.rs`, `format.rs`); `report.rs` prints results as text or
 //! JSON and loads the scene for a subcommand; `svg.rs` draws an envelope map.
 //!
 //! Exit status: 0 on success, 1 when the scene has problems or a target cannot be reached (for
@@ -14,6 +14,7 @@ mod args;
 mod check;
 mod device_sim;
 mod envelope;
+mod format;
 mod plan;
 mod ports;
 mod pose;
@@ -140,5 +141,6 @@ pub fn execute(command: &Command) -> Outcome {
             stream::run(file, &request)
         }
         Command::DeviceSim { channels } => device_sim::run(*channels),
+        Command::Format { reference, .. } => format::run(*reference),
     }
 }

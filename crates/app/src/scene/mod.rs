@@ -5,7 +5,9 @@
 //! the file: key, unit, range, decimals, meaning, label, accessor), `decode.rs` (JSON → types,
 //! collecting every problem with its JSON path), `encode.rs` (types → JSON, keys in a fixed
 //! order), `migrate.rs` (one step per older version), `validate.rs` (rules across fields),
-//! `duplicate_keys.rs` (a key given twice in one object), `units.rs` (the one place that turns file units into the SI arm model), `load.rs` and
+//! `duplicate_keys.rs` (a key given twice in one object), `outline.rs` (every object of the file with its rows and other keys), `reference.rs` and
+//! `schema.rs` (the Markdown reference and the JSON Schema printed from the outline, committed
+//! under `docs/`), `units.rs` (the one place that turns file units into the SI arm model), `load.rs` and
 //! `save.rs` (files: read without side effects, write atomically), `problem.rs` (a located
 //! problem and the nearest-name suggestion), `task.rs` (the sequence as a trajectory task),
 //! `setpoints.rs` (the planned sequence as device setpoints).
@@ -18,8 +20,11 @@ pub mod field;
 pub mod field_table;
 mod load;
 mod migrate;
+mod outline;
 mod problem;
+mod reference;
 mod save;
+mod schema;
 mod setpoints;
 mod task;
 mod units;
@@ -36,7 +41,9 @@ pub use load::{load, load_bytes};
 pub use migrate::{CURRENT_VERSION, FORMAT_NAME};
 pub use problem::Problem;
 pub(crate) use problem::child;
+pub use reference::reference_markdown;
 pub use save::{as_saved, save, save_text, save_unrounded, to_json, to_json_unrounded};
+pub use schema::schema_json;
 pub use setpoints::{DeviceSetpoints, SampledPose, device_setpoints, sampled_poses};
 pub use task::{
     RetimeSettings, SceneRetime, dry_run_of, dry_run_options_of, limit_settings_of, plan_of,
