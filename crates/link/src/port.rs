@@ -110,6 +110,16 @@ impl SimTransport {
     pub fn elapsed(&self) -> Duration {
         self.start.elapsed()
     }
+
+    /// Another transport to the same device on the same clock, as when a second host takes
+    /// over the cable (for example after the first one was killed). Bytes the device sends
+    /// go to whichever transport reads them first.
+    pub fn share(&self) -> Self {
+        Self {
+            device: Arc::clone(&self.device),
+            start: self.start,
+        }
+    }
 }
 
 impl Transport for SimTransport {

@@ -391,7 +391,7 @@ fn hil_options() -> StreamOptions {
     // timing is checked in simulated time, so the host is patient in wall time.
     StreamOptions {
         period: Duration::from_millis(20),
-        ack_timeout: Duration::from_secs(2),
+        silence_limit: Duration::from_secs(2),
         greeting_timeout: Duration::from_secs(10),
         heartbeat_interval: Duration::from_millis(50),
         ..StreamOptions::default()
