@@ -1,9 +1,9 @@
 //! The command line: `check`, `pose`, `reach`, `envelope`, `plan`, `simulate`, `retime`,
-//! `ports`, `stream`, `device-sim`.
+//! `ports`, `stream`, `reset`, `device-sim`.
 //!
 //! Naming scheme: `args.rs` declares every option (clap derive); one file per subcommand
 //! (`check.rs`, `pose.rs`, `reach.rs`, `envelope.rs`, `plan.rs`, `simulate.rs`, `retime.rs`,
-//! `ports.rs`, `stream.rs`, `device_sim.rs`); `report.rs` prints results as text or
+//! `ports.rs`, `stream.rs`, `reset.rs`, `device_sim.rs`); `report.rs` prints results as text or
 //! JSON and loads the scene for a subcommand; `svg.rs` draws an envelope map.
 //!
 //! Exit status: 0 on success, 1 when the scene has problems or a target cannot be reached (for
@@ -19,6 +19,7 @@ mod ports;
 mod pose;
 mod reach;
 mod report;
+mod reset;
 mod retime;
 mod simulate;
 mod stream;
@@ -139,6 +140,19 @@ pub fn execute(command: &Command) -> Outcome {
             };
             stream::run(file, &request)
         }
+        Command::Reset {
+            port,
+            simulated,
+            baud,
+            yes,
+            json,
+        } => reset::run(&reset::ResetRequest {
+            port: port.as_deref(),
+            simulated: *simulated,
+            baud: *baud,
+            yes: *yes,
+            json: *json,
+        }),
         Command::DeviceSim { channels } => device_sim::run(*channels),
     }
 }

@@ -8,8 +8,8 @@ use std::path::Path;
 use std::time::{Duration, Instant};
 
 use armwright_link::{
-    Link, LinkEvent, LinkLoss, SerialTransport, SimDeviceConfig, SimTransport, StreamOptions,
-    StreamStats, Transport,
+    Link, LinkError, LinkEvent, LinkLoss, SerialTransport, SimDeviceConfig, SimTransport,
+    StreamOptions, StreamStats, Transport,
 };
 use serde_json::{Value, json};
 
@@ -57,6 +57,14 @@ impl Target {
         match self {
             Target::Simulated => "simulated",
             Target::Port(path) => path,
+        }
+    }
+
+    /// The options that point `reset` at this device.
+    fn reset_args(&self) -> String {
+        match self {
+            Target::Simulated => "--simulated".to_owned(),
+            Target::Port(path) => format!("--port {path}"),
         }
     }
 }
@@ -116,7 +124,13 @@ pub(crate) fn run(file: &Path, request: &StreamRequest) -> Outcome {
         return refused(json, &message);
     }
     if let Err(error) = link.start_stream() {
-        let message = format!("cannot start streaming: {error}");
+        let mut message = format!("cannot start streaming: {error}");
+        if error == LinkError::StopLatched {
+            message.push_str(&format!(
+                "; the device reports it: check the arm, then `armwright reset {}`",
+                target.reset_args()
+            ));
+        }
         return refused(json, &message);
     }
     let duration = plan.sequence().duration();
@@ -177,7 +191,7 @@ fn target_of(request: &StreamRequest, scene: &Scene) -> Target {
 }
 
 /// Reads one answer; only "yes" (or "y"), in any case, confirms.
-fn confirm(input: &mut impl BufRead) -> Result<(), String> {
+pub(super) fn confirm(input: &mut impl BufRead) -> Result<(), String> {
     let mut answer = String::new();
     match input.read_line(&mut answer) {
         Ok(0) => Err("no confirmation: standard input is closed".to_owned()),
@@ -289,6 +303,12 @@ fn report(json: bool, summary: &Summary) -> Outcome {
             "frames_clamped_by_device": stats.frames_clamped,
             "frames_clamped_by_host": summary.clamped_by_host,
             "frames_dropped": stats.frames_dropped,
+            "acks_late": stats.acks_late,
+            "ack_wait_max_ms": ms(stats.ack_wait_max),
+            "device_silent_ms": match stats.loss {
+                Some(LinkLoss::NoAck { silent, .. }) => json!(ms(silent)),
+                _ => Value::Null,
+            },
             "underruns": stats.underruns,
             "worst_rounding_error_deg": rounded(summary.worst_rounding_deg, 4),
             "jitter_mean_ms": ms(stats.jitter_mean),
@@ -300,12 +320,13 @@ fn report(json: bool, summary: &Summary) -> Outcome {
         }));
     } else {
         println!(
-            "{} of {} setpoints sent to {}, {} acknowledged, {} late, {} dropped in {:.2} s; \
-             jitter p99 {:.2} ms, worst rounding {:.3}°",
+            "{} of {} setpoints sent to {}, {} acknowledged ({} late), {} late, {} dropped in \
+             {:.2} s; jitter p99 {:.2} ms, worst rounding {:.3}°",
             stats.frames_sent,
             summary.planned,
             summary.target.name(),
             stats.frames_acked,
+            stats.acks_late,
             stats.frames_late,
             stats.frames_dropped,
             summary.elapsed.as_secs_f64(),
