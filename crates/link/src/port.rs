@@ -200,6 +200,11 @@ impl SimPty {
                     let mut buf = [0u8; 256];
                     let mut out = Vec::new();
                     while running.load(Ordering::Relaxed) {
+                        // The time is taken before the read: if this thread is held up
+                        // between the two, the bytes that arrived meanwhile are still read
+                        // before the device judges its watchdog, as a microcontroller,
+                        // which is never held up, would have seen them.
+                        let now = start.elapsed();
                         let count = match master.read(&mut buf) {
                             Ok(count) => count,
                             Err(_) => {
@@ -209,7 +214,6 @@ impl SimPty {
                         };
                         {
                             let mut device = device.lock().unwrap_or_else(PoisonError::into_inner);
-                            let now = start.elapsed();
                             device.receive(&buf[..count], now);
                             device.advance(now);
                             device.take_output(&mut out);
