@@ -766,8 +766,8 @@ fn the_output_query_reports_limp_then_the_pulses_on_the_pins() {
     let frame = log
         .frames()
         .into_iter()
-        .filter(|f| f.start < reported_at)
-        .last()
+        .rev()
+        .find(|f| f.start < reported_at)
         .expect("a frame before the report");
     assert!(
         same_widths(&frame.widths_us, &units_to_us(&reported)),
