@@ -230,6 +230,13 @@ fn after_ctrl_c_a_confirmed_reset_lets_the_next_stream_complete() {
         (1, Some("emergency_stop")),
         "{out}"
     );
+    // A fresh device was limp when the stream began: every channel null.
+    let start = out["start_pulses_us"]
+        .as_array()
+        .expect("seven channels")
+        .clone();
+    assert_eq!(start.len(), 7, "{out}");
+    assert!(start.iter().all(Value::is_null), "{out}");
 
     // The stop is latched in the device: a new stream finds it and says how to reset.
     let (stream, _lines) = spawn_stream(&device);
@@ -267,6 +274,17 @@ fn after_ctrl_c_a_confirmed_reset_lets_the_next_stream_complete() {
     let (stream, _lines) = spawn_stream(&device);
     let (code, out) = finish(stream);
     assert_finished(code, &out);
+    // It began from the pulses the device held since the stop, in the servos' range.
+    let start = out["start_pulses_us"]
+        .as_array()
+        .expect("seven channels")
+        .clone();
+    assert!(
+        start.iter().all(|pulse| pulse
+            .as_f64()
+            .is_some_and(|us| (500.0..=2500.0).contains(&us))),
+        "{out}"
+    );
 }
 
 #[test]

@@ -161,7 +161,8 @@ fn describe(status: &DeviceStatus) -> String {
     )
 }
 
-fn describe_output(output: Option<&ChannelOutput>, info: &DeviceInfo) -> String {
+/// What a device sends, for a person: each channel's pulse in µs or "limp".
+pub(super) fn describe_output(output: Option<&ChannelOutput>, info: &DeviceInfo) -> String {
     let Some(output) = output else {
         return "unknown (the device speaks protocol 1)".to_owned();
     };
@@ -177,7 +178,9 @@ fn describe_output(output: Option<&ChannelOutput>, info: &DeviceInfo) -> String 
         .join(", ")
 }
 
-fn output_json(output: Option<&ChannelOutput>, info: &DeviceInfo) -> Value {
+/// What a device sends, as JSON: one pulse in µs or null (limp) per channel; null when the
+/// device cannot say.
+pub(super) fn output_json(output: Option<&ChannelOutput>, info: &DeviceInfo) -> Value {
     output.map_or(Value::Null, |output| {
         output
             .as_slice()

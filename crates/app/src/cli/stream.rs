@@ -16,6 +16,7 @@ use serde_json::{Value, json};
 use super::Outcome;
 use super::plan::load_and_plan;
 use super::report::{fail, print_json, rounded};
+use super::reset::{describe_output, output_json};
 use crate::scene::{Device, Scene, device_setpoints, sampled_poses};
 
 /// Shown before anything is sent, whether or not confirmation is asked for.
@@ -118,6 +119,19 @@ pub(crate) fn run(file: &Path, request: &StreamRequest) -> Outcome {
         Ok(converted) => converted,
         Err(message) => return refused(json, &message),
     };
+    // What the device sends before the first setpoint: where the arm is held, or which
+    // servos are limp (and will jump to their first pulse at their own top speed).
+    let start_output = link.device_output();
+    eprintln!(
+        "the device is sending: {}",
+        describe_output(start_output.as_ref(), &link.device())
+    );
+    if start_output.is_some_and(|output| output.any_limp()) {
+        eprintln!(
+            "a limp servo's position is unknown: it jumps to its first pulse at its own top speed"
+        );
+    }
+    let start_pulses_us = output_json(start_output.as_ref(), &link.device());
     let stop = link.emergency_stop();
     if let Err(error) = ctrlc::set_handler(move || stop.trigger()) {
         let message = format!("cannot catch Ctrl-C, so it could not stop the arm: {error}");
@@ -169,6 +183,7 @@ pub(crate) fn run(file: &Path, request: &StreamRequest) -> Outcome {
             elapsed,
             ending,
             stats: &stats,
+            start_pulses_us,
         },
     )
 }
@@ -261,6 +276,9 @@ struct Summary<'a> {
     elapsed: Duration,
     ending: Ending,
     stats: &'a StreamStats,
+    /// Each channel's pulse (µs) or null (limp) when the stream began; null when the
+    /// device cannot say (protocol 1).
+    start_pulses_us: Value,
 }
 
 fn ms(duration: Duration) -> f64 {
@@ -317,6 +335,7 @@ fn report(json: bool, summary: &Summary) -> Outcome {
             "elapsed_s": rounded(summary.elapsed.as_secs_f64(), 3),
             "stop_write_latency_ms": stats.stop_write_latency.map(ms).map_or(Value::Null, |v| json!(v)),
             "stop_ack_latency_ms": stats.stop_ack_latency.map(ms).map_or(Value::Null, |v| json!(v)),
+            "start_pulses_us": summary.start_pulses_us,
         }));
     } else {
         println!(
