@@ -13,7 +13,8 @@
 #include "pulse_train.h"
 #include "serial.h"
 
-#define FIRMWARE_VERSION "0.1.0"
+#define FIRMWARE_VERSION "0.2.0"
+#define PROTOCOL_NEWEST 2u /* 2 adds the output query */
 #define WATCHDOG_MS 250u
 #define STATUS_GAP_MS 20u /* at most one status line per frame */
 
@@ -81,10 +82,13 @@ static void send(struct line_out *line) {
     serial_write(line->bytes, line->len);
 }
 
-static void send_greeting(void) {
+/* `version`: the protocol version the link speaks (the lower of the host's and ours). */
+static void send_greeting(uint8_t version) {
     struct line_out line;
     line_start(&line, 'H', tx_seq++);
-    line_put_text(&line, ":1," FIRMWARE_VERSION ",");
+    line_put(&line, ':');
+    line_put_decimal(&line, version);
+    line_put_text(&line, "," FIRMWARE_VERSION ",");
     line_put_decimal(&line, PULSE_CHANNELS);
     line_put(&line, ',');
     line_put_decimal(&line, PULSE_UNIT_NS);
@@ -107,6 +111,23 @@ static void send_ack(uint8_t acked_seq, const char *outcome) {
     line_put_decimal(&line, room);
     line_put(&line, ',');
     line_put_text(&line, outcome);
+    send(&line);
+}
+
+/* What the current frame sends, channel by channel: 4 hex digits or "----" for limp. */
+static void send_output(void) {
+    struct line_out line;
+    uint16_t ticks[PULSE_CHANNELS];
+    uint8_t on = pulse_train_output(ticks);
+    line_start(&line, 'P', tx_seq++);
+    line_put(&line, ':');
+    for (uint8_t i = 0; i < PULSE_CHANNELS; i++) {
+        if (on) {
+            line_put_hex(&line, ticks[i], 4);
+        } else {
+            line_put_text(&line, "----");
+        }
+    }
     send(&line);
 }
 
@@ -252,11 +273,11 @@ static void on_line(const uint8_t *bytes, uint8_t len) {
         }
         last_good_ms = now_ms();
         send_ack(line.seq, "ok");
-        send_greeting();
+        send_greeting((uint8_t)(version < (int32_t)PROTOCOL_NEWEST ? version : PROTOCOL_NEWEST));
         return;
     }
     if (line.body_len != 0 || (line.kind != 'k' && line.kind != 'l' && line.kind != 'x' &&
-                               line.kind != 'c' && line.kind != 'b')) {
+                               line.kind != 'c' && line.kind != 'b' && line.kind != 'q')) {
         count_bad_line();
         return;
     }
@@ -294,6 +315,10 @@ static void on_line(const uint8_t *bytes, uint8_t len) {
         }
         send_ack(line.seq, "ok");
         return;
+    case 'q':
+        send_ack(line.seq, "ok");
+        send_output();
+        return;
     default: /* 'b', heartbeat */
         status_pending = 1;
         send_ack(line.seq, "ok");
@@ -310,7 +335,7 @@ int main(void) {
     pulse_train_init();
     serial_init();
     sei();
-    send_greeting();
+    send_greeting(PROTOCOL_NEWEST);
 
     for (;;) {
         int16_t byte;

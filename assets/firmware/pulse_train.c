@@ -77,6 +77,17 @@ uint8_t pulse_train_active(void) {
     return active;
 }
 
+uint8_t pulse_train_output(uint16_t ticks[PULSE_CHANNELS]) {
+    uint8_t sreg = SREG;
+    cli();
+    uint8_t on = output_on;
+    for (uint8_t i = 0; i < PULSE_CHANNELS; i++) {
+        ticks[i] = active_ticks[i];
+    }
+    SREG = sreg;
+    return on;
+}
+
 /* Port D bit of channel `ch` (0 for the gripper, which is on port B). */
 static inline uint8_t port_d_bit(uint8_t ch) {
     return ch < 6 ? (uint8_t)(1u << (ch + 2)) : 0;

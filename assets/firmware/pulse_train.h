@@ -21,5 +21,8 @@ void pulse_train_hold(void);
 void pulse_train_release(void);
 /* 1 while pulses are being sent (or are about to start at the next frame). */
 uint8_t pulse_train_active(void);
+/* What the current frame sends: copies the widths into `ticks` and returns 1, or returns 0
+ * while no pulses are sent (limp). A setpoint waiting for the next frame is not included. */
+uint8_t pulse_train_output(uint16_t ticks[PULSE_CHANNELS]);
 
 #endif

@@ -17,12 +17,15 @@ pub enum LinkLoss {
         /// What the operating system reported.
         kind: std::io::ErrorKind,
     },
-    /// A line went unacknowledged for longer than the acknowledgement timeout.
+    /// A line went unacknowledged while the device said nothing for longer than the
+    /// silence limit (or it went unanswered for twice that long).
     NoAck {
         /// Host sequence number of the oldest unacknowledged line.
         seq: u8,
-        /// How long the host waited.
+        /// How long that line waited.
         waited: Duration,
+        /// How long the device had said nothing when the host gave up.
+        silent: Duration,
     },
     /// The device reported a fault while the host was streaming (watchdog or a stop the
     /// host did not send).
@@ -39,10 +42,15 @@ impl std::fmt::Display for LinkLoss {
         match self {
             Self::WriteFailed { kind } => write!(f, "writing to the device failed ({kind})"),
             Self::ReadFailed { kind } => write!(f, "reading from the device failed ({kind})"),
-            Self::NoAck { seq, waited } => write!(
+            Self::NoAck {
+                seq,
+                waited,
+                silent,
+            } => write!(
                 f,
-                "line {seq:02X} not acknowledged within {} ms",
-                waited.as_millis()
+                "line {seq:02X} not acknowledged within {} ms; the device said nothing for {} ms",
+                waited.as_millis(),
+                silent.as_millis()
             ),
             Self::DeviceFault { status } => write!(
                 f,
@@ -83,12 +91,18 @@ pub enum LinkError {
         /// How long the host waited.
         waited: Duration,
     },
-    /// The device speaks another protocol version.
-    #[error("device speaks protocol version {device}, expected {expected}")]
+    /// The device did not report its state (status, output) after its greeting in time.
+    #[error("the device greeted but did not report its state within {} ms", .waited.as_millis())]
+    NoStatus {
+        /// How long the host waited.
+        waited: Duration,
+    },
+    /// The device speaks a protocol version this host does not.
+    #[error("device speaks protocol version {device}, expected 1 to {expected}")]
     ProtocolVersion {
         /// The device's version.
         device: u8,
-        /// Ours.
+        /// The newest we speak.
         expected: u8,
     },
     /// A setpoint had the wrong number of channels for this device.

@@ -29,9 +29,10 @@ pub use crate::estop::{EmergencyStop, ResetConfirmation};
 pub use crate::port::SimPty;
 pub use crate::port::{PortSummary, SerialTransport, SimTransport, Transport, UsbIds, list_ports};
 pub use crate::protocol::{
-    Ack, AckOutcome, Assembled, ChannelValues, DeviceInfo, DeviceLine, DeviceMessage, DeviceMode,
-    DeviceStatus, Faults, FirmwareVersion, HostLine, HostMessage, LineAssembler, LineBuf,
-    LineErrorKind, MAX_CHANNELS, MAX_LINE_LEN, PROTOCOL_VERSION, ParseLineError, crc16_ccitt_false,
+    Ack, AckOutcome, Assembled, ChannelOutput, ChannelValues, DeviceInfo, DeviceLine,
+    DeviceMessage, DeviceMode, DeviceStatus, Faults, FirmwareVersion, HostLine, HostMessage,
+    LineAssembler, LineBuf, LineErrorKind, MAX_CHANNELS, MAX_LINE_LEN, OLDEST_PROTOCOL_VERSION,
+    PROTOCOL_VERSION, ParseLineError, crc16_ccitt_false,
 };
 pub use crate::pulse::{
     ArmSetpoint, JointPulse, PulseError, arm_setpoint, gripper_pulse, joint_pulse,
@@ -39,4 +40,4 @@ pub use crate::pulse::{
 pub use crate::setpoints::{DeviceSetpoints, SetpointError, device_setpoints};
 pub use crate::sim_arm::SimArmError;
 pub use crate::sim_device::{SimDevice, SimDeviceConfig};
-pub use crate::stream::{Link, LinkEvent, LinkState, StreamOptions, StreamStats};
+pub use crate::stream::{DeviceState, Link, LinkEvent, LinkState, StreamOptions, StreamStats};

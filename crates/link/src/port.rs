@@ -127,6 +127,16 @@ impl SimTransport {
     pub fn elapsed(&self) -> Duration {
         self.start.elapsed()
     }
+
+    /// Another transport to the same device on the same clock, as when a second host takes
+    /// over the cable (for example after the first one was killed). Bytes the device sends
+    /// go to whichever transport reads them first.
+    pub fn share(&self) -> Self {
+        Self {
+            device: Arc::clone(&self.device),
+            start: self.start,
+        }
+    }
 }
 
 impl Transport for SimTransport {
@@ -207,6 +217,11 @@ impl SimPty {
                     let mut buf = [0u8; 256];
                     let mut out = Vec::new();
                     while running.load(Ordering::Relaxed) {
+                        // The time is taken before the read: if this thread is held up
+                        // between the two, the bytes that arrived meanwhile are still read
+                        // before the device judges its watchdog, as a microcontroller,
+                        // which is never held up, would have seen them.
+                        let now = start.elapsed();
                         let count = match master.read(&mut buf) {
                             Ok(count) => count,
                             Err(_) => {
@@ -216,7 +231,6 @@ impl SimPty {
                         };
                         {
                             let mut device = device.lock().unwrap_or_else(PoisonError::into_inner);
-                            let now = start.elapsed();
                             device.receive(&buf[..count], now);
                             device.advance(now);
                             device.take_output(&mut out);

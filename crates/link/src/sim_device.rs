@@ -9,9 +9,9 @@ use armwright_kinematics::Arm;
 use armwright_trajectory::ServoModelOptions;
 
 use crate::protocol::{
-    Ack, AckOutcome, Assembled, ChannelValues, DeviceInfo, DeviceLine, DeviceMessage, DeviceMode,
-    DeviceStatus, Faults, FirmwareVersion, HostLine, HostMessage, LineAssembler, LineBuf,
-    PROTOCOL_VERSION,
+    Ack, AckOutcome, Assembled, ChannelOutput, ChannelValues, DeviceInfo, DeviceLine,
+    DeviceMessage, DeviceMode, DeviceStatus, Faults, FirmwareVersion, HostLine, HostMessage,
+    LineAssembler, LineBuf, PROTOCOL_VERSION,
 };
 use crate::sim_arm::{SimArm, SimArmError};
 
@@ -32,11 +32,14 @@ pub struct SimDeviceConfig {
     pub watchdog: Duration,
     /// Lines the input queue holds.
     pub queue_capacity: u8,
+    /// Newest protocol version the device speaks: 2, or 1 to play a device that knows no
+    /// output query (it counts one as a bad line).
+    pub protocol_version: u8,
 }
 
 impl Default for SimDeviceConfig {
     /// Seven channels (six joints and the gripper), 1 µs units, 500–2500 µs, a 20 ms
-    /// frame, a 250 ms watchdog and a 4-line input queue.
+    /// frame, a 250 ms watchdog, a 4-line input queue and protocol version 2.
     fn default() -> Self {
         Self {
             channel_count: 7,
@@ -46,6 +49,7 @@ impl Default for SimDeviceConfig {
             frame_period: Duration::from_millis(20),
             watchdog: Duration::from_millis(250),
             queue_capacity: 4,
+            protocol_version: PROTOCOL_VERSION,
         }
     }
 }
@@ -83,7 +87,7 @@ impl SimDevice {
     /// A device at power-up (time zero): limp, with its greeting waiting in the output.
     pub fn new(config: SimDeviceConfig) -> Self {
         let info = DeviceInfo {
-            protocol_version: PROTOCOL_VERSION,
+            protocol_version: config.protocol_version.clamp(1, PROTOCOL_VERSION),
             firmware: FirmwareVersion::new("sim-0.1.0").unwrap_or_default(),
             channel_count: config.channel_count.clamp(1, 8),
             pulse_unit_ns: config.pulse_unit_ns.max(1),
@@ -181,6 +185,14 @@ impl SimDevice {
     /// The pulse widths being sent, in pulse units, channel 0 first; `None` while limp.
     pub fn pulse_units(&self) -> Option<ChannelValues> {
         self.pulses
+    }
+
+    /// What the device is sending now, as an output line reports it.
+    pub fn output(&self) -> ChannelOutput {
+        self.pulses.as_ref().map_or_else(
+            || ChannelOutput::limp(self.info.channel_count),
+            ChannelOutput::driven,
+        )
     }
 
     /// The pulse widths being sent, in µs, channel 0 first; empty while limp.
@@ -298,9 +310,23 @@ impl SimDevice {
     fn act_on(&mut self, line: HostLine) {
         let stopped = self.mode == DeviceMode::Stopped;
         let outcome = match line.message {
-            HostMessage::Greeting { .. } => {
+            HostMessage::Greeting { protocol_version } => {
+                // Answer in the lower of the two versions, so an older host is not refused.
+                let answer = DeviceInfo {
+                    protocol_version: protocol_version.min(self.info.protocol_version),
+                    ..self.info
+                };
                 self.acknowledge(line.seq, AckOutcome::Accepted);
-                self.send(DeviceMessage::Greeting(self.info));
+                self.send(DeviceMessage::Greeting(answer));
+                return;
+            }
+            HostMessage::OutputQuery if self.info.protocol_version < 2 => {
+                self.count_bad_line();
+                return;
+            }
+            HostMessage::OutputQuery => {
+                self.acknowledge(line.seq, AckOutcome::Accepted);
+                self.send(DeviceMessage::Output(self.output()));
                 return;
             }
             HostMessage::Heartbeat => {

@@ -12,8 +12,9 @@ use crate::error::{LinkError, LinkLoss};
 use crate::estop::{EmergencyStop, ResetConfirmation};
 use crate::port::Transport;
 use crate::protocol::{
-    AckOutcome, Assembled, ChannelValues, DeviceInfo, DeviceLine, DeviceMessage, DeviceMode,
-    DeviceStatus, HostLine, HostMessage, LineAssembler, PROTOCOL_VERSION,
+    AckOutcome, Assembled, ChannelOutput, ChannelValues, DeviceInfo, DeviceLine, DeviceMessage,
+    DeviceMode, DeviceStatus, HostLine, HostMessage, LineAssembler, OLDEST_PROTOCOL_VERSION,
+    PROTOCOL_VERSION,
 };
 
 /// Timing of the link. Every interval is a `Duration`.
@@ -23,8 +24,13 @@ pub struct StreamOptions {
     pub period: Duration,
     /// Setpoints the queue between producer and thread holds; a full queue blocks the producer.
     pub queue_capacity: usize,
-    /// A line not acknowledged within this time means the link is lost.
-    pub ack_timeout: Duration,
+    /// An acknowledgement later than this is counted as late ([`StreamStats::acks_late`]);
+    /// the stream goes on.
+    pub ack_late_after: Duration,
+    /// The link is lost when a line has waited this long for its acknowledgement and the
+    /// device has sent nothing for as long: by then its watchdog (250 ms) has tripped or is
+    /// about to.
+    pub silence_limit: Duration,
     /// Send a heartbeat when nothing else was sent for this long (the device holds after 250 ms).
     pub heartbeat_interval: Duration,
     /// How long [`Link::connect`] waits for the device's greeting.
@@ -36,13 +42,15 @@ pub struct StreamOptions {
 }
 
 impl Default for StreamOptions {
-    /// 100 Hz, a 64-setpoint queue, 60 ms acknowledgement timeout, 100 ms heartbeat,
-    /// 2 s greeting timeout, stop repeated every 20 ms, late after 1 ms.
+    /// 100 Hz, a 64-setpoint queue, acknowledgements late after 60 ms, the link lost after
+    /// 250 ms of silence, 100 ms heartbeat, 2 s greeting timeout, stop repeated every 20 ms,
+    /// setpoints late after 1 ms.
     fn default() -> Self {
         Self {
             period: Duration::from_millis(10),
             queue_capacity: 64,
-            ack_timeout: Duration::from_millis(60),
+            ack_late_after: Duration::from_millis(60),
+            silence_limit: Duration::from_millis(250),
             heartbeat_interval: Duration::from_millis(100),
             greeting_timeout: Duration::from_secs(2),
             stop_repeat: Duration::from_millis(20),
@@ -94,8 +102,15 @@ pub struct StreamStats {
     pub jitter_max: Duration,
     /// Lines from the device that failed to parse.
     pub bad_device_lines: u64,
-    /// The device's newest status line.
+    /// Acknowledgements that came later than `ack_late_after` (the stream went on).
+    pub acks_late: u64,
+    /// Longest wait for an acknowledgement so far.
+    pub ack_wait_max: Duration,
+    /// The device's newest status line (one is read at connect).
     pub last_status: Option<DeviceStatus>,
+    /// What the device said it was sending, newest first read at connect; `None` for a
+    /// device speaking protocol 1, which cannot say.
+    pub device_output: Option<ChannelOutput>,
     /// Why the link was lost, once it is.
     pub loss: Option<LinkLoss>,
     /// From the newest emergency-stop request to its first stop line written.
@@ -123,11 +138,22 @@ pub enum LinkEvent {
     Lost(LinkLoss),
 }
 
+/// The device's state as it reported it: its status and, for a device speaking protocol 2,
+/// what it is sending.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct DeviceState {
+    /// Mode, faults and counters.
+    pub status: DeviceStatus,
+    /// Each channel's pulse (pulse units) or limp; `None` when the device cannot say.
+    pub output: Option<ChannelOutput>,
+}
+
 enum Command {
     Start(Sender<Result<(), LinkError>>),
     Finish,
     Send(HostMessage),
     Reset(Sender<Result<(), LinkError>>),
+    Refresh(Sender<Result<DeviceState, LinkError>>),
 }
 
 /// An open link to a device, served by its own streaming thread. Dropping it asks the
@@ -140,17 +166,21 @@ pub struct Link {
     events: Mutex<Receiver<LinkEvent>>,
     stop: EmergencyStop,
     device: DeviceInfo,
+    greeting_timeout: Duration,
     thread: Option<JoinHandle<()>>,
 }
 
 impl Link {
-    /// Starts the streaming thread on `transport`, greets the device and waits for its
-    /// description.
+    /// Starts the streaming thread on `transport`, greets the device, waits for its
+    /// description, then asks for its status and (protocol 2) what it is sending, so the
+    /// link starts from the device's real state: a device whose emergency stop is latched
+    /// gives a link in [`LinkState::Stopped`] that needs a confirmed reset.
     ///
     /// # Errors
     /// [`LinkError::NoGreeting`] when the device does not answer within
-    /// `options.greeting_timeout`, [`LinkError::ProtocolVersion`] when it speaks another
-    /// version, [`LinkError::Lost`] when the transport fails.
+    /// `options.greeting_timeout`, [`LinkError::NoStatus`] when it then does not report its
+    /// state within the same time, [`LinkError::ProtocolVersion`] when it speaks a version
+    /// this host does not, [`LinkError::Lost`] when the transport fails.
     pub fn connect(
         transport: Box<dyn Transport>,
         options: StreamOptions,
@@ -173,6 +203,10 @@ impl Link {
             seq: 0,
             in_flight: VecDeque::new(),
             room: 1,
+            last_heard: Instant::now(),
+            statuses_seen: 0,
+            outputs_seen: 0,
+            refresh: None,
             stats: StreamStats::default(),
             schedule: None,
             controls: VecDeque::new(),
@@ -206,6 +240,7 @@ impl Link {
             events: Mutex::new(event_rx),
             stop,
             device,
+            greeting_timeout: options.greeting_timeout,
             thread: Some(thread),
         })
     }
@@ -213,6 +248,34 @@ impl Link {
     /// What the device said about itself.
     pub fn device(&self) -> DeviceInfo {
         self.device
+    }
+
+    /// What the device said it was sending, newest report (the first is read at connect):
+    /// each channel's pulse in pulse units, or `None` for a limp channel. `None` altogether
+    /// for a device speaking protocol 1.
+    pub fn device_output(&self) -> Option<ChannelOutput> {
+        self.stats().device_output
+    }
+
+    /// The device's newest status (the first is read at connect).
+    pub fn device_status(&self) -> Option<DeviceStatus> {
+        self.stats().last_status
+    }
+
+    /// Asks the device for its status and (protocol 2) its output now, and waits for both.
+    ///
+    /// # Errors
+    /// [`LinkError::Lost`] when the link is or becomes lost, [`LinkError::NoStatus`] when
+    /// the answer does not come within the greeting timeout.
+    pub fn refresh_state(&self) -> Result<DeviceState, LinkError> {
+        let (reply_tx, reply_rx) = mpsc::channel();
+        self.command(Command::Refresh(reply_tx))?;
+        let waited = self.greeting_timeout;
+        match reply_rx.recv_timeout(waited) {
+            Ok(answer) => answer,
+            Err(mpsc::RecvTimeoutError::Timeout) => Err(LinkError::NoStatus { waited }),
+            Err(mpsc::RecvTimeoutError::Disconnected) => Err(LinkError::Closed),
+        }
     }
 
     /// A handle for the emergency stop, for key and Ctrl-C handlers.
@@ -320,12 +383,15 @@ impl Link {
         self.command(Command::Send(HostMessage::Release))
     }
 
-    /// Clears a latched emergency stop once a person has confirmed the arm is safe, and
-    /// waits for the device's acknowledgement. The device keeps holding; stream again to move.
+    /// Clears a latched emergency stop (this host's, or one the device reported at connect)
+    /// and the device's sticky faults once a person has confirmed the arm is safe, and
+    /// waits for the device's acknowledgement. The device keeps holding; stream again to
+    /// move. On an idle link it only clears the sticky faults.
     ///
     /// # Errors
-    /// [`LinkError::StopLatched`] if the stop is not yet acknowledged (or none was sent),
-    /// [`LinkError::Lost`] when the device does not acknowledge the reset.
+    /// [`LinkError::StopLatched`] while a stop is being sent and not yet acknowledged,
+    /// [`LinkError::AlreadyStreaming`] while streaming, [`LinkError::Lost`] when the link
+    /// is lost or the device does not acknowledge the reset.
     pub fn reset_after_stop(&self, confirmation: ResetConfirmation) -> Result<(), LinkError> {
         let _ = confirmation;
         let (reply_tx, reply_rx) = mpsc::channel();
@@ -406,6 +472,14 @@ struct InFlight {
     message: HostMessage,
 }
 
+/// A request for the device's state, answered once a status (and, for protocol 2, an
+/// output line) newer than the request has come.
+struct Refresh {
+    reply: Sender<Result<DeviceState, LinkError>>,
+    statuses_at: u64,
+    outputs_at: u64,
+}
+
 struct Worker {
     transport: Box<dyn Transport>,
     options: StreamOptions,
@@ -431,12 +505,21 @@ struct Worker {
     greetings_seen: u32,
     greeting_acked_at: Option<u32>,
     watchdog_trips_at_start: u16,
+    /// When the device last sent anything.
+    last_heard: Instant,
+    /// Status and output lines heard so far, to tell a fresh answer from an older one.
+    statuses_seen: u64,
+    outputs_seen: u64,
+    refresh: Option<Refresh>,
     jitter: Jitter,
 }
 
 impl Worker {
     fn run(&mut self, greeting_reply: Sender<Result<DeviceInfo, LinkError>>) {
-        match self.greet() {
+        match self
+            .greet()
+            .and_then(|device| self.learn_state().map(|()| device))
+        {
             Ok(device) => {
                 let _ = greeting_reply.send(Ok(device));
             }
@@ -486,7 +569,8 @@ impl Worker {
                 .greeting_acked_at
                 .is_some_and(|acked_at| self.greetings_seen > acked_at);
             if let (true, Some(device)) = (answer_seen, self.device) {
-                if device.protocol_version != PROTOCOL_VERSION {
+                if !(OLDEST_PROTOCOL_VERSION..=PROTOCOL_VERSION).contains(&device.protocol_version)
+                {
                     return Err(LinkError::ProtocolVersion {
                         device: device.protocol_version,
                         expected: PROTOCOL_VERSION,
@@ -498,6 +582,95 @@ impl Worker {
         }
     }
 
+    /// After the greeting: asks for the device's status and (protocol 2) its output, and
+    /// waits for both, so the link starts from the device's real state.
+    fn learn_state(&mut self) -> Result<(), LinkError> {
+        let started = Instant::now();
+        let (reply_tx, reply_rx) = mpsc::channel();
+        self.ask_state(reply_tx);
+        loop {
+            if let Some(requested_at) = self.stop.take_request() {
+                self.emergency_stop(requested_at);
+            }
+            let now = Instant::now();
+            self.serve_controls(now);
+            self.read_lines(Duration::from_millis(5))
+                .map_err(LinkError::Lost)?;
+            match reply_rx.try_recv() {
+                Ok(Ok(state)) => {
+                    if state.status.mode == DeviceMode::Stopped
+                        && self.stats.state == LinkState::Idle
+                    {
+                        // A stop latched before this host connected: it needs a reset too.
+                        self.stats.state = LinkState::Stopped;
+                    }
+                    self.publish();
+                    return Ok(());
+                }
+                Ok(Err(error)) => return Err(error),
+                Err(_) => {}
+            }
+            if now - started > self.options.greeting_timeout {
+                return Err(LinkError::NoStatus {
+                    waited: self.options.greeting_timeout,
+                });
+            }
+        }
+    }
+
+    /// Queues a heartbeat (answered by a status line) and, for protocol 2, an output query.
+    fn ask_state(&mut self, reply: Sender<Result<DeviceState, LinkError>>) {
+        if self.stats.state == LinkState::Lost {
+            let loss = self.stats.loss.unwrap_or(LinkLoss::DeviceRestarted);
+            let _ = reply.send(Err(LinkError::Lost(loss)));
+            return;
+        }
+        if let Some(previous) = self.refresh.take() {
+            let _ = previous.reply.send(Err(LinkError::Closed));
+        }
+        self.controls.push_back(HostMessage::Heartbeat);
+        if self.speaks_output() {
+            self.controls.push_back(HostMessage::OutputQuery);
+        }
+        self.refresh = Some(Refresh {
+            reply,
+            statuses_at: self.statuses_seen,
+            outputs_at: self.outputs_seen,
+        });
+    }
+
+    fn speaks_output(&self) -> bool {
+        self.device
+            .is_some_and(|device| device.protocol_version >= 2)
+    }
+
+    /// Answers a waiting state request once its status (and output) have come.
+    fn answer_refresh(&mut self) {
+        let Some(refresh) = &self.refresh else { return };
+        let output_due = self.speaks_output() && self.outputs_seen <= refresh.outputs_at;
+        if self.statuses_seen <= refresh.statuses_at || output_due {
+            return;
+        }
+        let Some(status) = self.stats.last_status else {
+            return;
+        };
+        let output = self.stats.device_output;
+        if let Some(refresh) = self.refresh.take() {
+            let _ = refresh.reply.send(Ok(DeviceState { status, output }));
+        }
+    }
+
+    /// Reads everything that has already arrived, without waiting.
+    fn drain_input(&mut self) -> Result<(), LinkLoss> {
+        // Bounded: a device cannot keep the loop here forever.
+        for _ in 0..64 {
+            if self.read_lines(Duration::ZERO)? == 0 {
+                break;
+            }
+        }
+        Ok(())
+    }
+
     /// One turn of the loop; `false` when the handle has gone.
     fn step(&mut self) -> bool {
         if let Some(requested_at) = self.stop.take_request() {
@@ -505,6 +678,11 @@ impl Worker {
         }
         if !self.take_commands() {
             return false;
+        }
+        // Everything already received is read before any wait is judged: after this thread
+        // was held up, an acknowledgement that is waiting in the input is not a lost link.
+        if let Err(loss) = self.drain_input() {
+            self.lose(loss);
         }
         let now = Instant::now();
         self.repeat_stop(now);
@@ -561,15 +739,24 @@ impl Worker {
                         self.controls.push_back(message);
                     }
                 }
-                Ok(Command::Reset(reply)) => {
-                    if self.stats.state == LinkState::Stopped {
+                Ok(Command::Reset(reply)) => match self.stats.state {
+                    LinkState::Stopped | LinkState::Idle => {
                         self.stats.state = LinkState::Resetting;
                         self.controls.push_front(HostMessage::Reset);
                         self.reset_reply = Some(reply);
-                    } else {
+                    }
+                    LinkState::Streaming => {
+                        let _ = reply.send(Err(LinkError::AlreadyStreaming));
+                    }
+                    LinkState::Lost => {
+                        let loss = self.stats.loss.unwrap_or(LinkLoss::DeviceRestarted);
+                        let _ = reply.send(Err(LinkError::Lost(loss)));
+                    }
+                    LinkState::Stopping | LinkState::Resetting => {
                         let _ = reply.send(Err(LinkError::StopLatched));
                     }
-                }
+                },
+                Ok(Command::Refresh(reply)) => self.ask_state(reply),
                 Err(TryRecvError::Empty) => return true,
                 Err(TryRecvError::Disconnected) => return false,
             }
@@ -590,6 +777,8 @@ impl Worker {
             }
         }
         self.stats.state = LinkState::Streaming;
+        // The device's own count, read at connect and with every heartbeat since: a trip
+        // before this stream (even one before this host connected) is not this stream's.
         self.watchdog_trips_at_start = self.stats.last_status.map_or(0, |s| s.watchdog_trips);
         self.schedule = Some(Schedule {
             start: None,
@@ -714,15 +903,24 @@ impl Worker {
         }
     }
 
+    /// The link is lost when the oldest line has waited the silence limit and the device
+    /// has said nothing for as long, or when it has waited twice the limit while the device
+    /// talks but does not answer it.
     fn check_acks(&mut self, now: Instant) {
         if self.stats.state == LinkState::Lost {
             return;
         }
         if let Some(oldest) = self.in_flight.front() {
-            let waited = now - oldest.sent_at;
-            if waited > self.options.ack_timeout {
+            let waited = now.saturating_duration_since(oldest.sent_at);
+            let silent = now.saturating_duration_since(self.last_heard);
+            let limit = self.options.silence_limit;
+            if (waited > limit && silent > limit) || waited > limit * 2 {
                 let seq = oldest.seq;
-                self.lose(LinkLoss::NoAck { seq, waited });
+                self.lose(LinkLoss::NoAck {
+                    seq,
+                    waited,
+                    silent,
+                });
             }
         }
     }
@@ -750,6 +948,16 @@ impl Worker {
         if self.stats.state == LinkState::Lost {
             return;
         }
+        let stopping = self.stop_requested_at.is_some()
+            || matches!(
+                self.stats.state,
+                LinkState::Stopping | LinkState::Stopped | LinkState::Resetting
+            );
+        if !stopping && !matches!(loss, LinkLoss::WriteFailed { .. }) {
+            // The line may still work: ask the device to keep its pulses rather than leave
+            // it to its watchdog.
+            let _ = self.write(HostMessage::Hold, Instant::now());
+        }
         self.stats.state = LinkState::Lost;
         self.stats.loss = Some(loss);
         self.schedule = None;
@@ -760,15 +968,22 @@ impl Worker {
         if let Some(reply) = self.reset_reply.take() {
             let _ = reply.send(Err(LinkError::Lost(loss)));
         }
+        if let Some(refresh) = self.refresh.take() {
+            let _ = refresh.reply.send(Err(LinkError::Lost(loss)));
+        }
         self.emit(LinkEvent::Lost(loss));
     }
 
-    fn read_lines(&mut self, wait: Duration) -> Result<(), LinkLoss> {
+    /// Reads what arrives within `wait` and acts on each whole line; returns the bytes read.
+    fn read_lines(&mut self, wait: Duration) -> Result<usize, LinkLoss> {
         let mut buf = [0u8; 256];
         let count = self
             .transport
             .read_timeout(&mut buf, wait)
             .map_err(|error| LinkLoss::ReadFailed { kind: error.kind() })?;
+        if count > 0 {
+            self.last_heard = Instant::now();
+        }
         for &byte in &buf[..count] {
             let parsed = match self.assembler.push(byte) {
                 Assembled::Pending => continue,
@@ -783,7 +998,7 @@ impl Worker {
                 Err(_) => self.stats.bad_device_lines += 1,
             }
         }
-        Ok(())
+        Ok(count)
     }
 
     fn on_line(&mut self, line: DeviceLine) {
@@ -796,6 +1011,11 @@ impl Worker {
                 let acked = self.in_flight.drain(..=position).next_back();
                 self.room = usize::from(ack.room);
                 let Some(acked) = acked else { return };
+                let waited = self.last_heard.saturating_duration_since(acked.sent_at);
+                self.stats.ack_wait_max = self.stats.ack_wait_max.max(waited);
+                if waited > self.options.ack_late_after {
+                    self.stats.acks_late += 1;
+                }
                 match acked.message {
                     HostMessage::Setpoint(_) => {
                         self.stats.frames_acked += 1;
@@ -833,12 +1053,23 @@ impl Worker {
             }
             DeviceMessage::Status(status) => {
                 self.stats.last_status = Some(status);
+                self.statuses_seen += 1;
                 let tripped = status.watchdog_trips != self.watchdog_trips_at_start;
                 if self.stats.state == LinkState::Streaming
                     && (status.mode == DeviceMode::Stopped || tripped)
                 {
                     self.lose(LinkLoss::DeviceFault { status });
+                } else if self.stats.state == LinkState::Idle && status.mode == DeviceMode::Stopped
+                {
+                    // Stopped from elsewhere (another host, a button on the device).
+                    self.stats.state = LinkState::Stopped;
                 }
+                self.answer_refresh();
+            }
+            DeviceMessage::Output(output) => {
+                self.stats.device_output = Some(output);
+                self.outputs_seen += 1;
+                self.answer_refresh();
             }
             DeviceMessage::Greeting(info) => {
                 self.greetings_seen += 1;

@@ -147,11 +147,28 @@ fn an_unacknowledged_stop_is_repeated_until_the_device_answers() {
 }
 
 #[test]
-fn reset_without_a_stop_is_refused() {
+fn reset_while_streaming_is_refused_and_on_an_idle_link_clears_sticky_faults() {
     let sim = SimTransport::new(SimDeviceConfig::default());
+    let device = sim.device();
     let link = Link::connect(Box::new(sim), StreamOptions::default()).expect("connects");
+    link.start_stream().expect("streams");
     assert_eq!(
         link.reset_after_stop(ResetConfirmation::confirmed_by_person()),
-        Err(LinkError::StopLatched)
+        Err(LinkError::AlreadyStreaming)
     );
+    // A clamped value sets a sticky fault bit.
+    link.push_setpoint(armwright_link::ChannelValues::from_slice(&[9000; 7]).expect("seven"))
+        .expect("queued");
+    link.finish_stream().expect("alive");
+    wait_for(&link, Duration::from_secs(1), |e| {
+        matches!(e, LinkEvent::StreamFinished { .. })
+    });
+    let before = link.refresh_state().expect("state").status;
+    assert!(before.faults.contains(armwright_link::Faults::CLAMPED));
+    link.reset_after_stop(ResetConfirmation::confirmed_by_person())
+        .expect("an idle link may clear the sticky faults");
+    let after = link.refresh_state().expect("state").status;
+    assert_eq!(after.faults.0, 0);
+    assert_eq!(after.mode, DeviceMode::Keeping);
+    assert_eq!(device.lock().expect("device").mode(), DeviceMode::Keeping);
 }

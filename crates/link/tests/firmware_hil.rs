@@ -391,7 +391,7 @@ fn hil_options() -> StreamOptions {
     // timing is checked in simulated time, so the host is patient in wall time.
     StreamOptions {
         period: Duration::from_millis(20),
-        ack_timeout: Duration::from_secs(2),
+        silence_limit: Duration::from_secs(2),
         greeting_timeout: Duration::from_secs(10),
         heartbeat_interval: Duration::from_millis(50),
         ..StreamOptions::default()
@@ -693,6 +693,102 @@ fn watchdog_holds_after_250_ms_of_silence_and_reports_it() {
     assert!(after.len() >= 5, "{} frames after the trip", after.len());
     assert!(after.iter().all(|f| same_widths(&f.widths_us, &expected)));
     check_frame_period(&log.frames());
+}
+
+fn output_of(line: &DeviceLine) -> Option<armwright_link::ChannelOutput> {
+    match line.message {
+        DeviceMessage::Output(output) => Some(output),
+        _ => None,
+    }
+}
+
+#[test]
+fn the_output_query_reports_limp_then_the_pulses_on_the_pins() {
+    let Some(hil) = hil() else { return };
+    let run = start(hil, "output");
+    let mut port = RawPort::new(&run);
+    // RawPort greeted with version 1 and the firmware answered 1; greeted with 2 it says 2.
+    let first = port.read_until(|line| matches!(line.message, DeviceMessage::Greeting(_)));
+    assert!(matches!(
+        first.message,
+        DeviceMessage::Greeting(info) if info.protocol_version == 1
+    ));
+    let greeting = port.send(HostMessage::Greeting {
+        protocol_version: 2,
+    });
+    port.expect_ack(greeting, AckOutcome::Accepted);
+    let answer = port.read_until(|line| matches!(line.message, DeviceMessage::Greeting(_)));
+    assert!(matches!(
+        answer.message,
+        DeviceMessage::Greeting(info) if info.protocol_version == 2
+    ));
+
+    let query = port.send(HostMessage::OutputQuery);
+    port.expect_ack(query, AckOutcome::Accepted);
+    let limp = port.read_until(|line| output_of(line).is_some());
+    assert_eq!(
+        output_of(&limp).map(|o| o.as_slice().to_vec()),
+        Some(vec![None; CHANNELS])
+    );
+
+    let pose = [2000, 2400, 2800, 3200, 3600, 4000, 4400];
+    let seq = port.send(setpoint(pose));
+    port.expect_ack(seq, AckOutcome::Accepted);
+    run.wait_simulated(Duration::from_millis(60));
+    let query = port.send(HostMessage::OutputQuery);
+    port.expect_ack(query, AckOutcome::Accepted);
+    let driven = port.read_until(|line| output_of(line).is_some());
+    let reported = output_of(&driven)
+        .and_then(|o| o.pulses())
+        .expect("every channel driven");
+    assert_eq!(reported.as_slice(), pose);
+
+    let release = port.send(HostMessage::Release);
+    port.expect_ack(release, AckOutcome::Accepted);
+    run.wait_simulated(Duration::from_millis(60));
+    let query = port.send(HostMessage::OutputQuery);
+    port.expect_ack(query, AckOutcome::Accepted);
+    let released = port.read_until(|line| output_of(line).is_some());
+    assert!(output_of(&released).is_some_and(|o| o.as_slice().iter().all(Option::is_none)));
+    let bad_lines = port.status_after_heartbeat().bad_lines;
+    assert_eq!(bad_lines, 0, "the firmware knows the query");
+    drop(port);
+    let log = run.finish();
+
+    // What it reported is what its pins did: the last frame before the report had those
+    // widths, measured in the simulator.
+    let reported_at = log
+        .device_lines
+        .iter()
+        .find(|(_, line)| line.seq == driven.seq)
+        .map(|&(cycle, _)| cycle)
+        .expect("the output line is in the log");
+    let frame = log
+        .frames()
+        .into_iter()
+        .rev()
+        .find(|f| f.start < reported_at)
+        .expect("a frame before the report");
+    assert!(
+        same_widths(&frame.widths_us, &units_to_us(&reported)),
+        "pins {:?}, reported {reported:?}",
+        frame.widths_us
+    );
+}
+
+#[test]
+fn a_link_to_the_firmware_reads_its_state_at_connect() {
+    let Some(hil) = hil() else { return };
+    let run = start(hil, "connect-state");
+    let link = Link::connect(Box::new(run.open()), hil_options()).expect("greets the firmware");
+    assert_eq!(link.device().protocol_version, 2);
+    let output = link
+        .device_output()
+        .expect("protocol 2 firmware reports its output");
+    assert_eq!(output.as_slice(), [None; CHANNELS]);
+    assert_eq!(link.device_status().map(|s| s.mode), Some(DeviceMode::Limp));
+    drop(link);
+    run.finish();
 }
 
 #[test]

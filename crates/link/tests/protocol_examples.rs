@@ -2,8 +2,9 @@
 //! parses to the message the spec describes, and encoding that message gives it back.
 
 use armwright_link::{
-    Ack, AckOutcome, ChannelValues, DeviceInfo, DeviceLine, DeviceMessage, DeviceMode,
-    DeviceStatus, Faults, FirmwareVersion, HostLine, HostMessage, LineErrorKind, crc16_ccitt_false,
+    Ack, AckOutcome, ChannelOutput, ChannelValues, DeviceInfo, DeviceLine, DeviceMessage,
+    DeviceMode, DeviceStatus, Faults, FirmwareVersion, HostLine, HostMessage, LineErrorKind,
+    crc16_ccitt_false,
 };
 
 const SPEC: &str = include_str!("../PROTOCOL.md");
@@ -37,15 +38,29 @@ fn host_examples() -> Vec<(&'static str, HostLine)> {
         ("x05/DE56", line(0x05, HostMessage::EmergencyStop)),
         ("c06/5DA7", line(0x06, HostMessage::Reset)),
         ("b07/7AB6", line(0x07, HostMessage::Heartbeat)),
+        ("q08/916A", line(0x08, HostMessage::OutputQuery)),
+        (
+            "h00:2/1FFE",
+            line(
+                0x00,
+                HostMessage::Greeting {
+                    protocol_version: 2,
+                },
+            ),
+        ),
     ]
 }
 
 fn greeting(seq: u8) -> DeviceLine {
+    greeting_v(seq, 1, "0.1.0")
+}
+
+fn greeting_v(seq: u8, protocol_version: u8, firmware: &str) -> DeviceLine {
     DeviceLine {
         seq,
         message: DeviceMessage::Greeting(DeviceInfo {
-            protocol_version: 1,
-            firmware: FirmwareVersion::new("0.1.0").expect("valid version"),
+            protocol_version,
+            firmware: FirmwareVersion::new(firmware).expect("valid version"),
             channel_count: 7,
             pulse_unit_ns: 500,
             min_pulse_units: 1000,
@@ -114,7 +129,40 @@ fn device_examples() -> Vec<(&'static str, DeviceLine)> {
                 message: DeviceMessage::Analog(values(&[0x1FF, 0x3A0, 0x000, 0xFFF])),
             },
         ),
+        (
+            "H01:2,0.2.0,7,500,1000,5000,20000/C283",
+            greeting_v(0x01, 2, "0.2.0"),
+        ),
+        (
+            "P09:0BB80BB80BB80BB80BB80BB80BB8/783E",
+            output(0x09, &[Some(3000); 7]),
+        ),
+        (
+            "P0A:----------------------------/F220",
+            output(0x0A, &[None; 7]),
+        ),
+        (
+            "P0B:05DC05DC05DC05DC05DC----/6351",
+            output(
+                0x0B,
+                &[
+                    Some(1500),
+                    Some(1500),
+                    Some(1500),
+                    Some(1500),
+                    Some(1500),
+                    None,
+                ],
+            ),
+        ),
     ]
+}
+
+fn output(seq: u8, values: &[Option<u16>]) -> DeviceLine {
+    DeviceLine {
+        seq,
+        message: DeviceMessage::Output(ChannelOutput::from_slice(values).expect("1 to 8 channels")),
+    }
 }
 
 #[test]
@@ -194,4 +242,21 @@ fn an_overlong_line_is_refused() {
     let long = [b'b'; 70];
     let error = HostLine::parse(&long).expect_err("overlong");
     assert_eq!(error.kind, LineErrorKind::TooLong { len: 71 });
+}
+
+#[test]
+fn an_output_field_is_four_hex_digits_or_four_dashes() {
+    for bad in [
+        "P00:05DC---",
+        "P00:05DC--5D",
+        "P00:05dc",
+        "P00:",
+        "P00:----05DC-",
+    ] {
+        let line = format!("{bad}/{:04X}\n", crc16_ccitt_false(bad.as_bytes()));
+        assert!(
+            DeviceLine::parse(line.as_bytes()).is_err(),
+            "{bad} must not parse"
+        );
+    }
 }

@@ -2,8 +2,9 @@
 //! sequence panics the parsers or yields a message whose check did not match.
 
 use armwright_link::{
-    Ack, AckOutcome, ChannelValues, DeviceInfo, DeviceLine, DeviceMessage, DeviceMode,
-    DeviceStatus, Faults, FirmwareVersion, HostLine, HostMessage, LineAssembler, crc16_ccitt_false,
+    Ack, AckOutcome, ChannelOutput, ChannelValues, DeviceInfo, DeviceLine, DeviceMessage,
+    DeviceMode, DeviceStatus, Faults, FirmwareVersion, HostLine, HostMessage, LineAssembler,
+    crc16_ccitt_false,
 };
 use proptest::prelude::*;
 
@@ -21,6 +22,7 @@ fn host_message() -> impl Strategy<Value = HostMessage> {
         Just(HostMessage::EmergencyStop),
         Just(HostMessage::Reset),
         Just(HostMessage::Heartbeat),
+        Just(HostMessage::OutputQuery),
     ]
 }
 
@@ -79,6 +81,9 @@ fn device_message() -> impl Strategy<Value = DeviceMessage> {
             })
         }),
         channel_values(0xFFF).prop_map(DeviceMessage::Analog),
+        proptest::collection::vec(proptest::option::of(any::<u16>()), 1..=8).prop_map(|values| {
+            DeviceMessage::Output(ChannelOutput::from_slice(&values).expect("1 to 8 channels"))
+        }),
     ]
 }
 
@@ -152,6 +157,29 @@ proptest! {
                 prop_assert!(line.len() < 64);
                 let _ = HostLine::parse(line);
                 let _ = DeviceLine::parse(line);
+            }
+        }
+    }
+}
+
+proptest! {
+    #[test]
+    fn altered_output_lines_never_parse_with_a_wrong_check(
+        seq in any::<u8>(),
+        values in proptest::collection::vec(proptest::option::of(any::<u16>()), 1..=8),
+        position in any::<prop::sample::Index>(),
+        byte in prop_oneof![Just(b'-'), 0x20u8..=0x7E],
+    ) {
+        let output = ChannelOutput::from_slice(&values).expect("1 to 8 channels");
+        let line = DeviceLine { seq, message: DeviceMessage::Output(output) };
+        let encoded = line.encode();
+        let mut bytes = encoded.as_bytes().to_vec();
+        let at = position.index(bytes.len() - 1);
+        bytes[at] = byte;
+        if let Ok(parsed) = DeviceLine::parse(&bytes) {
+            prop_assert!(check_matches(&bytes));
+            if bytes == encoded.as_bytes() {
+                prop_assert_eq!(parsed, line);
             }
         }
     }

@@ -303,7 +303,7 @@ fn bad_lines_are_not_acted_on_but_counted_and_reported() {
 #[test]
 fn unknown_kind_with_a_good_check_is_a_bad_line() {
     let mut bench = Bench::new();
-    let mut line = b"q09".to_vec();
+    let mut line = b"j09".to_vec();
     let check = armwright_link::crc16_ccitt_false(&line);
     line.extend(format!("/{check:04X}\n").bytes());
     bench.raw(&line);
@@ -450,4 +450,79 @@ mod properties {
             }
         }
     }
+}
+
+fn outputs(bench: &Bench) -> Vec<armwright_link::ChannelOutput> {
+    bench
+        .heard
+        .iter()
+        .filter_map(|line| match line.message {
+            DeviceMessage::Output(output) => Some(output),
+            _ => None,
+        })
+        .collect()
+}
+
+#[test]
+fn the_output_query_reports_limp_then_the_pulses_being_sent() {
+    let mut bench = Bench::new();
+    let seq = bench.send(HostMessage::OutputQuery);
+    bench.wait_ms(1);
+    assert_eq!(bench.acks().last().map(|a| a.acked_seq), Some(seq));
+    let limp = outputs(&bench);
+    assert_eq!(limp.len(), 1);
+    assert_eq!(limp[0].as_slice(), [None; 7]);
+    assert!(limp[0].any_limp());
+    bench.send(setpoint(&POSE));
+    // Accepted but not yet started: the device still sends nothing.
+    bench.send(HostMessage::OutputQuery);
+    bench.wait_ms(1);
+    assert_eq!(outputs(&bench)[1].as_slice(), [None; 7]);
+    bench.wait_ms(20);
+    bench.send(HostMessage::OutputQuery);
+    bench.wait_ms(1);
+    let driven = outputs(&bench)[2];
+    assert_eq!(
+        driven.pulses().map(|p| p.as_slice().to_vec()),
+        Some(POSE.to_vec())
+    );
+    // Held after a stop: the same pulses.
+    bench.send(HostMessage::EmergencyStop);
+    bench.send(HostMessage::OutputQuery);
+    bench.wait_ms(1);
+    assert_eq!(outputs(&bench)[3], driven);
+}
+
+#[test]
+fn the_greeting_answer_speaks_the_lower_version() {
+    for (asked, answered) in [(1u8, 1u8), (2, 2), (9, 2)] {
+        let mut bench = Bench::new();
+        bench.send(HostMessage::Greeting {
+            protocol_version: asked,
+        });
+        bench.wait_ms(1);
+        let info = bench.heard.iter().find_map(|line| match line.message {
+            DeviceMessage::Greeting(info) => Some(info),
+            _ => None,
+        });
+        assert_eq!(
+            info.map(|i| i.protocol_version),
+            Some(answered),
+            "asked {asked}"
+        );
+    }
+}
+
+#[test]
+fn a_protocol_1_device_counts_the_output_query_as_a_bad_line() {
+    let mut bench = Bench::new();
+    bench.device = SimDevice::new(SimDeviceConfig {
+        protocol_version: 1,
+        ..SimDeviceConfig::default()
+    });
+    bench.send(HostMessage::OutputQuery);
+    bench.wait_ms(20);
+    assert!(bench.acks().is_empty());
+    assert!(outputs(&bench).is_empty());
+    assert_eq!(bench.last_status().map(|s| s.bad_lines), Some(1));
 }

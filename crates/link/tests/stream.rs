@@ -1,14 +1,16 @@
 //! The streaming thread against the in-process simulated device: greeting, a stream on a
-//! fixed schedule with flow control, statistics, and loss of link reported within 100 ms.
+//! fixed schedule with flow control, statistics, the device's state read at connect, late
+//! acknowledgements tolerated, and a silent device noticed within 300 ms.
 
 mod common;
 
+use std::sync::atomic::Ordering;
 use std::sync::{Arc, Mutex};
 use std::time::{Duration, Instant};
 
 use armwright_link::{
-    ChannelValues, HostMessage, Link, LinkError, LinkEvent, LinkLoss, LinkState, SimDevice,
-    SimDeviceConfig, SimTransport, StreamOptions,
+    ChannelValues, DeviceMode, HostMessage, Link, LinkError, LinkEvent, LinkLoss, LinkState,
+    ResetConfirmation, SimDevice, SimDeviceConfig, SimTransport, StreamOptions,
 };
 use common::{Faults, Recorder, Written, sweep, wait_for};
 
@@ -122,7 +124,8 @@ fn an_idle_link_sends_heartbeats() {
         .iter()
         .filter(|w| w.line.message == HostMessage::Heartbeat)
         .count();
-    assert!((3..=4).contains(&beats), "{beats} heartbeats in 350 ms");
+    // One asks for the device's state at connect; then one every 100 ms.
+    assert!((4..=5).contains(&beats), "{beats} heartbeats in 350 ms");
     assert!(
         link.stats().last_status.is_some(),
         "heartbeats bring status lines"
@@ -167,33 +170,190 @@ fn a_failed_write_stops_the_stream_within_100_ms() {
 }
 
 #[test]
-fn missing_acknowledgements_are_reported_within_100_ms() {
-    let (link, _, log) = connect(Faults {
-        vanish_after: Some(10),
-        ..Faults::default()
-    });
+fn a_silent_device_is_noticed_within_300_ms_and_asked_to_hold() {
+    let sim = SimTransport::new(SimDeviceConfig::default());
+    let (recorder, log) = Recorder::new(sim, Faults::default());
+    let control = Arc::clone(&recorder.control);
+    let link = Link::connect(Box::new(recorder), StreamOptions::default()).expect("connects");
     link.start_stream().expect("streams");
-    for step in 0..30 {
+    for step in 0..60 {
+        if step == 10 {
+            // The device stops for good (as a process stopped by SIGSTOP).
+            control.paused.store(true, Ordering::SeqCst);
+        }
         if link.push_setpoint(sweep(step)).is_err() {
             break;
         }
     }
-    let event = wait_for(&link, Duration::from_secs(1), |e| {
+    let event = wait_for(&link, Duration::from_secs(2), |e| {
         matches!(e, LinkEvent::Lost(_))
     });
-    let reported = Instant::now();
-    let LinkEvent::Lost(LinkLoss::NoAck { waited, .. }) = event else {
+    let LinkEvent::Lost(LinkLoss::NoAck { waited, silent, .. }) = event else {
         panic!("expected a missing acknowledgement, got {event:?}");
     };
-    assert!(waited < Duration::from_millis(100));
-    let first_vanished = log
-        .lock()
-        .expect("log")
-        .iter()
-        .find(|w| !w.delivered)
-        .map(|w| w.at)
-        .expect("a vanished line");
-    assert!(reported - first_vanished < Duration::from_millis(100));
+    // The device's watchdog time, measured by the link thread at the moment it gave up:
+    // not before the device could have tripped, and within 300 ms of its last answer.
+    assert!(silent > Duration::from_millis(250), "{silent:?}");
+    assert!(silent <= Duration::from_millis(300), "{silent:?}");
+    assert!(waited > Duration::from_millis(250), "{waited:?}");
+    let log = log.lock().expect("log");
+    let last = log.last().expect("writes");
+    assert_eq!(
+        last.line.message,
+        HostMessage::Hold,
+        "a hold after the loss"
+    );
+}
+
+#[test]
+fn device_pauses_of_100_ms_do_not_end_a_stream_and_count_as_late() {
+    let sim = SimTransport::new(SimDeviceConfig::default());
+    let (recorder, _log) = Recorder::new(sim, Faults::default());
+    let control = Arc::clone(&recorder.control);
+    let link = Link::connect(Box::new(recorder), StreamOptions::default()).expect("connects");
+    link.start_stream().expect("streams");
+    let frames = 200u32; // 2 s at 100 Hz
+    let link = std::thread::scope(|scope| {
+        scope.spawn(|| {
+            for _ in 0..5 {
+                std::thread::sleep(Duration::from_millis(150));
+                control.paused.store(true, Ordering::SeqCst);
+                std::thread::sleep(Duration::from_millis(100));
+                control.paused.store(false, Ordering::SeqCst);
+            }
+        });
+        for step in 0..frames {
+            link.push_setpoint(sweep(step))
+                .expect("the pauses do not end the stream");
+        }
+        link.finish_stream().expect("alive");
+        link
+    });
+    let event = wait_for(&link, Duration::from_secs(10), |e| {
+        matches!(e, LinkEvent::StreamFinished { .. } | LinkEvent::Lost(_))
+    });
+    assert_eq!(event, LinkEvent::StreamFinished { frames_sent: 200 });
+    let stats = link.stats();
+    assert!(stats.acks_late >= 5, "{stats:?}");
+    assert!(stats.ack_wait_max >= Duration::from_millis(80), "{stats:?}");
+    assert!(stats.loss.is_none());
+}
+
+#[test]
+fn connect_reads_what_the_device_sends_and_a_refresh_reads_it_again() {
+    let (link, _, _) = connect(Faults::default());
+    let output = link.device_output().expect("a protocol 2 device says");
+    assert_eq!(output.as_slice(), [None; 7], "limp at power-up");
+    assert_eq!(link.device_status().map(|s| s.mode), Some(DeviceMode::Limp));
+    link.start_stream().expect("streams");
+    for step in 0..5 {
+        link.push_setpoint(sweep(step)).expect("queued");
+    }
+    link.finish_stream().expect("alive");
+    wait_for(&link, Duration::from_secs(2), |e| {
+        matches!(e, LinkEvent::StreamFinished { .. })
+    });
+    // The last setpoint starts at the device's next frame (at most 20 ms on).
+    let until = Instant::now() + Duration::from_secs(2);
+    loop {
+        let state = link.refresh_state().expect("answers");
+        if state.output.and_then(|o| o.pulses()) == Some(sweep(4)) {
+            assert_eq!(state.status.mode, DeviceMode::Driving);
+            break;
+        }
+        assert!(Instant::now() < until, "output stays {:?}", state.output);
+    }
+}
+
+#[test]
+fn a_protocol_1_device_is_still_served_without_output() {
+    let sim = SimTransport::new(SimDeviceConfig {
+        protocol_version: 1,
+        ..SimDeviceConfig::default()
+    });
+    let device = sim.device();
+    let link = Link::connect(Box::new(sim), StreamOptions::default()).expect("connects");
+    assert_eq!(link.device().protocol_version, 1);
+    assert_eq!(link.device_output(), None);
+    assert!(link.device_status().is_some());
+    link.start_stream().expect("streams");
+    link.push_setpoint(sweep(1)).expect("queued");
+    link.finish_stream().expect("alive");
+    wait_for(&link, Duration::from_secs(2), |e| {
+        matches!(e, LinkEvent::StreamFinished { frames_sent: 1 })
+    });
+    assert_eq!(device.lock().expect("device").status().bad_lines, 0);
+}
+
+#[test]
+fn a_stop_latched_before_connect_is_found_and_needs_a_reset() {
+    let sim = SimTransport::new(SimDeviceConfig::default());
+    {
+        let device = sim.device();
+        let mut device = device.lock().expect("device");
+        device.receive(b"x05/DE56\n", Duration::ZERO);
+        device.advance(Duration::ZERO);
+    }
+    let link = Link::connect(Box::new(sim), StreamOptions::default()).expect("connects");
+    assert_eq!(link.stats().state, LinkState::Stopped);
+    assert_eq!(link.start_stream(), Err(LinkError::StopLatched));
+    link.reset_after_stop(ResetConfirmation::confirmed_by_person())
+        .expect("reset taken");
+    let state = link.refresh_state().expect("answers");
+    assert_eq!(
+        state.status.mode,
+        DeviceMode::Limp,
+        "it was limp when stopped"
+    );
+    link.start_stream().expect("streams after the reset");
+    link.push_setpoint(sweep(2)).expect("queued");
+    link.finish_stream().expect("alive");
+    wait_for(&link, Duration::from_secs(2), |e| {
+        matches!(e, LinkEvent::StreamFinished { frames_sent: 1 })
+    });
+}
+
+#[test]
+fn a_watchdog_trip_before_connect_does_not_end_the_next_stream() {
+    let sim = SimTransport::new(SimDeviceConfig::default());
+    let second = sim.share();
+    let device = sim.device();
+    let (recorder, _) = Recorder::new(sim, Faults::default());
+    let control = Arc::clone(&recorder.control);
+    let first = Link::connect(Box::new(recorder), StreamOptions::default()).expect("connects");
+    first.start_stream().expect("streams");
+    for step in 0..10 {
+        first.push_setpoint(sweep(step)).expect("queued");
+    }
+    let until = Instant::now() + Duration::from_secs(2);
+    while device.lock().expect("device").mode() != DeviceMode::Driving {
+        assert!(Instant::now() < until, "the device never drove");
+        std::thread::sleep(Duration::from_millis(2));
+    }
+    // The cable goes dead mid-stream: the device trips its watchdog.
+    control.muted.store(true, Ordering::SeqCst);
+    wait_for(&first, Duration::from_secs(2), |e| {
+        matches!(e, LinkEvent::Lost(_))
+    });
+    let until = Instant::now() + Duration::from_secs(2);
+    while device.lock().expect("device").status().watchdog_trips == 0 {
+        assert!(Instant::now() < until, "the device never tripped");
+        std::thread::sleep(Duration::from_millis(5));
+    }
+    drop(first);
+    let link = Link::connect(Box::new(second), StreamOptions::default()).expect("connects");
+    let status = link.device_status().expect("read at connect");
+    assert_eq!(status.watchdog_trips, 1);
+    assert_eq!(status.mode, DeviceMode::Keeping);
+    link.start_stream().expect("a trip is not a latched stop");
+    for step in 0..20 {
+        link.push_setpoint(sweep(step)).expect("queued");
+    }
+    link.finish_stream().expect("alive");
+    let event = wait_for(&link, Duration::from_secs(3), |e| {
+        matches!(e, LinkEvent::StreamFinished { .. } | LinkEvent::Lost(_))
+    });
+    assert_eq!(event, LinkEvent::StreamFinished { frames_sent: 20 });
 }
 
 #[test]

@@ -274,6 +274,35 @@ pub enum Command {
         #[arg(long)]
         schema: bool,
     },
+    /// Release a device's emergency stop after a person has checked the arm.
+    ///
+    /// Shows the device's state (mode, faults, the pulses it sends), asks for a typed "yes"
+    /// that the arm is safe unless --yes, sends the reset, and prints the mode the device
+    /// reports afterwards. The device keeps its pulses (or stays limp) until something
+    /// streams. Exit status 0 when the device reports no latched stop afterwards, 1 when it
+    /// still does, was not confirmed or cannot be reached, 2 on bad arguments.
+    Reset {
+        /// Serial port of the device, for example /dev/ttyUSB0.
+        #[arg(
+            long,
+            value_name = "PATH",
+            conflicts_with = "simulated",
+            required_unless_present = "simulated"
+        )]
+        port: Option<String>,
+        /// Reset the built-in simulated device (a fresh one: nothing is latched).
+        #[arg(long)]
+        simulated: bool,
+        /// Serial speed in baud (the reference firmware uses 115200).
+        #[arg(long, value_name = "BAUD", default_value_t = 115_200)]
+        baud: u32,
+        /// Reset without asking for confirmation (the caution is still shown).
+        #[arg(long)]
+        yes: bool,
+        /// Print the result as machine-readable JSON.
+        #[arg(long)]
+        json: bool,
+    },
     /// Run the simulated device behind a pseudo-terminal and print its path, until Ctrl-C.
     ///
     /// Open the printed path with `stream --port` to use the real serial code path with no
@@ -425,6 +454,19 @@ mod tests {
             }
             other => panic!("{other:?}"),
         }
+        let cli =
+            Cli::try_parse_from(["armwright", "reset", "--port", "/dev/ttyACM0", "--yes"]).unwrap();
+        assert!(matches!(
+            cli.command,
+            Command::Reset {
+                port: Some(_),
+                simulated: false,
+                baud: 115_200,
+                yes: true,
+                json: false
+            }
+        ));
+        assert!(Cli::try_parse_from(["armwright", "reset"]).is_err());
         let cli = Cli::try_parse_from(["armwright", "device-sim", "--channels", "4"]).unwrap();
         assert!(matches!(cli.command, Command::DeviceSim { channels: 4 }));
     }

@@ -1,6 +1,7 @@
 //! `armwright device-sim`: the simulated device behind a pseudo-terminal, so `stream --port`
-//! can use the real serial code path with no hardware. Prints the path on standard output and
-//! runs until Ctrl-C.
+//! can use the real serial code path with no hardware. Prints the path on standard output,
+//! each change of the device's mode, faults or watchdog trips on standard error, and runs
+//! until Ctrl-C.
 
 use serde_json::json;
 
@@ -37,7 +38,26 @@ pub(crate) fn run(channels: u8) -> Outcome {
         pty.path(),
         pty.path()
     );
-    let _ = ended_rx.recv();
+    let device = pty.device();
+    let mut shown = None;
+    loop {
+        let status = device
+            .lock()
+            .unwrap_or_else(std::sync::PoisonError::into_inner)
+            .status();
+        let seen = (status.mode, status.faults, status.watchdog_trips);
+        if shown != Some(seen) {
+            shown = Some(seen);
+            eprintln!(
+                "device: mode {:?}, faults {:02X}, watchdog trips {}",
+                status.mode, status.faults.0, status.watchdog_trips
+            );
+        }
+        match ended_rx.recv_timeout(std::time::Duration::from_millis(10)) {
+            Err(std::sync::mpsc::RecvTimeoutError::Timeout) => {}
+            Ok(()) | Err(std::sync::mpsc::RecvTimeoutError::Disconnected) => break,
+        }
+    }
     drop(pty);
     eprintln!("simulated device stopped");
     Outcome::Done

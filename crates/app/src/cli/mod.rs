@@ -1,10 +1,10 @@
 //! The command line: `check`, `pose`, `reach`, `envelope`, `plan`, `simulate`, `retime`,
-//! `calibrate`, `protractor`, `ports`, `stream`, `device-sim`, `format`.
+//! `calibrate`, `protractor`, `ports`, `stream`, `reset`, `device-sim`, `format`.
 //!
 //! Naming scheme: `args.rs` declares every option (clap derive); one file per subcommand
 //! (`check.rs`, `pose.rs`, `reach.rs`, `envelope.rs`, `plan.rs`, `simulate.rs`, `retime.rs`,
-//! `calibrate.rs`, `protractor.rs`, `ports.rs`, `stream.rs`, `device_sim.rs`, `format.rs`);
-//! `report.rs` prints results as text or
+//! `calibrate.rs`, `protractor.rs`, `ports.rs`, `stream.rs`, `reset.rs`, `device_sim.rs`,
+//! `format.rs`); `report.rs` prints results as text or
 //! JSON and loads the scene for a subcommand; `svg.rs` draws an envelope map.
 //!
 //! Exit status: 0 on success, 1 when the scene has problems or a target cannot be reached (for
@@ -23,6 +23,7 @@ pub(crate) mod pose; // shared with the editor's joint-controls test: one pulse 
 mod protractor;
 mod reach;
 mod report;
+mod reset;
 mod retime;
 mod simulate;
 mod stream;
@@ -158,6 +159,19 @@ pub fn execute(command: &Command) -> Outcome {
             };
             stream::run(file, &request)
         }
+        Command::Reset {
+            port,
+            simulated,
+            baud,
+            yes,
+            json,
+        } => reset::run(&reset::ResetRequest {
+            port: port.as_deref(),
+            simulated: *simulated,
+            baud: *baud,
+            yes: *yes,
+            json: *json,
+        }),
         Command::DeviceSim { channels } => device_sim::run(*channels),
         Command::Format { reference, .. } => format::run(*reference),
     }

@@ -8,14 +8,15 @@ use std::path::Path;
 use std::time::{Duration, Instant};
 
 use armwright_link::{
-    Link, LinkEvent, LinkLoss, SerialTransport, SimDeviceConfig, SimTransport, StreamOptions,
-    StreamStats, Transport, device_setpoints,
+    Link, LinkError, LinkEvent, LinkLoss, SerialTransport, SimDeviceConfig, SimTransport,
+    StreamOptions, StreamStats, Transport, device_setpoints,
 };
 use serde_json::{Value, json};
 
 use super::Outcome;
 use super::plan::load_and_plan;
 use super::report::{fail, print_json, rounded};
+use super::reset::{describe_output, output_json};
 use crate::scene::{Device, Scene};
 
 /// Shown before anything is sent, whether or not confirmation is asked for.
@@ -57,6 +58,14 @@ impl Target {
         match self {
             Target::Simulated => "simulated",
             Target::Port(path) => path,
+        }
+    }
+
+    /// The options that point `reset` at this device.
+    fn reset_args(&self) -> String {
+        match self {
+            Target::Simulated => "--simulated".to_owned(),
+            Target::Port(path) => format!("--port {path}"),
         }
     }
 }
@@ -117,13 +126,32 @@ pub(crate) fn run(file: &Path, request: &StreamRequest) -> Outcome {
         Ok(converted) => converted,
         Err(error) => return refused(json, &error.to_string()),
     };
+    // What the device sends before the first setpoint: where the arm is held, or which
+    // servos are limp (and will jump to their first pulse at their own top speed).
+    let start_output = link.device_output();
+    eprintln!(
+        "the device is sending: {}",
+        describe_output(start_output.as_ref(), &link.device())
+    );
+    if start_output.is_some_and(|output| output.any_limp()) {
+        eprintln!(
+            "a limp servo's position is unknown: it jumps to its first pulse at its own top speed"
+        );
+    }
+    let start_pulses_us = output_json(start_output.as_ref(), &link.device());
     let stop = link.emergency_stop();
     if let Err(error) = ctrlc::set_handler(move || stop.trigger()) {
         let message = format!("cannot catch Ctrl-C, so it could not stop the arm: {error}");
         return refused(json, &message);
     }
     if let Err(error) = link.start_stream() {
-        let message = format!("cannot start streaming: {error}");
+        let mut message = format!("cannot start streaming: {error}");
+        if error == LinkError::StopLatched {
+            message.push_str(&format!(
+                "; the device reports it: check the arm, then `armwright reset {}`",
+                target.reset_args()
+            ));
+        }
         return refused(json, &message);
     }
     let duration = armwright_trajectory::CommandedMotion::duration(&plan);
@@ -162,6 +190,7 @@ pub(crate) fn run(file: &Path, request: &StreamRequest) -> Outcome {
             elapsed,
             ending,
             stats: &stats,
+            start_pulses_us,
         },
     )
 }
@@ -184,7 +213,7 @@ fn target_of(request: &StreamRequest, scene: &Scene) -> Target {
 }
 
 /// Reads one answer; only "yes" (or "y"), in any case, confirms.
-fn confirm(input: &mut impl BufRead) -> Result<(), String> {
+pub(super) fn confirm(input: &mut impl BufRead) -> Result<(), String> {
     let mut answer = String::new();
     match input.read_line(&mut answer) {
         Ok(0) => Err("no confirmation: standard input is closed".to_owned()),
@@ -254,6 +283,9 @@ struct Summary<'a> {
     elapsed: Duration,
     ending: Ending,
     stats: &'a StreamStats,
+    /// Each channel's pulse (µs) or null (limp) when the stream began; null when the
+    /// device cannot say (protocol 1).
+    start_pulses_us: Value,
 }
 
 fn ms(duration: Duration) -> f64 {
@@ -296,6 +328,12 @@ fn report(json: bool, summary: &Summary) -> Outcome {
             "frames_clamped_by_device": stats.frames_clamped,
             "frames_clamped_by_host": summary.clamped_by_host,
             "frames_dropped": stats.frames_dropped,
+            "acks_late": stats.acks_late,
+            "ack_wait_max_ms": ms(stats.ack_wait_max),
+            "device_silent_ms": match stats.loss {
+                Some(LinkLoss::NoAck { silent, .. }) => json!(ms(silent)),
+                _ => Value::Null,
+            },
             "underruns": stats.underruns,
             "worst_rounding_error_deg": rounded(summary.worst_rounding_deg, 4),
             "jitter_mean_ms": ms(stats.jitter_mean),
@@ -304,15 +342,17 @@ fn report(json: bool, summary: &Summary) -> Outcome {
             "elapsed_s": rounded(summary.elapsed.as_secs_f64(), 3),
             "stop_write_latency_ms": stats.stop_write_latency.map(ms).map_or(Value::Null, |v| json!(v)),
             "stop_ack_latency_ms": stats.stop_ack_latency.map(ms).map_or(Value::Null, |v| json!(v)),
+            "start_pulses_us": summary.start_pulses_us,
         }));
     } else {
         println!(
-            "{} of {} setpoints sent to {}, {} acknowledged, {} late, {} dropped in {:.2} s; \
-             jitter p99 {:.2} ms, worst rounding {:.3}°",
+            "{} of {} setpoints sent to {}, {} acknowledged ({} late), {} late, {} dropped in \
+             {:.2} s; jitter p99 {:.2} ms, worst rounding {:.3}°",
             stats.frames_sent,
             summary.planned,
             summary.target.name(),
             stats.frames_acked,
+            stats.acks_late,
             stats.frames_late,
             stats.frames_dropped,
             summary.elapsed.as_secs_f64(),

@@ -2,7 +2,9 @@
 
 use std::fmt;
 
-use super::line::{ChannelValues, Cursor, LineBuf, LineErrorKind, ParseLineError, check_line};
+use super::line::{
+    ChannelValues, Cursor, LineBuf, LineErrorKind, MAX_CHANNELS, ParseLineError, check_line,
+};
 
 /// A firmware version: 1 to 12 bytes of `0-9 A-Z a-z . + -`.
 #[derive(Clone, Copy, PartialEq, Eq, Hash)]
@@ -60,7 +62,8 @@ impl fmt::Display for FirmwareVersion {
 /// What a device says about itself in its greeting (`H`).
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub struct DeviceInfo {
-    /// Protocol version the device speaks.
+    /// Protocol version the device speaks: in answer to a host greeting, the lower of the
+    /// host's and the device's newest.
     pub protocol_version: u8,
     /// Firmware version text.
     pub firmware: FirmwareVersion,
@@ -202,6 +205,85 @@ pub struct DeviceStatus {
     pub watchdog_trips: u16,
 }
 
+/// What a device is sending now, channel by channel (`P`, protocol 2): the pulse width in
+/// pulse units, or `None` for a channel that sends no pulse (its servo is limp).
+#[derive(Clone, Copy, PartialEq, Eq, Hash)]
+pub struct ChannelOutput {
+    values: [Option<u16>; MAX_CHANNELS],
+    len: u8,
+}
+
+impl ChannelOutput {
+    /// The output `values` (pulse units, `None` for limp), or `None` when it is empty or
+    /// longer than [`MAX_CHANNELS`].
+    pub fn from_slice(values: &[Option<u16>]) -> Option<Self> {
+        if values.is_empty() || values.len() > MAX_CHANNELS {
+            return None;
+        }
+        let mut all = [None; MAX_CHANNELS];
+        all[..values.len()].copy_from_slice(values);
+        Some(Self {
+            values: all,
+            len: values.len() as u8,
+        })
+    }
+
+    /// Every channel of `pulses` driven at its width (pulse units).
+    pub fn driven(pulses: &ChannelValues) -> Self {
+        let mut values = [None; MAX_CHANNELS];
+        for (slot, &units) in values.iter_mut().zip(pulses.as_slice()) {
+            *slot = Some(units);
+        }
+        Self {
+            values,
+            len: pulses.len() as u8,
+        }
+    }
+
+    /// `channel_count` channels (1 to 8), all limp.
+    pub fn limp(channel_count: u8) -> Self {
+        Self {
+            values: [None; MAX_CHANNELS],
+            len: channel_count.clamp(1, MAX_CHANNELS as u8),
+        }
+    }
+
+    /// Each channel's pulse width in pulse units, `None` while limp; channel 0 first.
+    pub fn as_slice(&self) -> &[Option<u16>] {
+        &self.values[..usize::from(self.len)]
+    }
+
+    /// Number of channels (1 to 8).
+    pub fn len(&self) -> usize {
+        usize::from(self.len)
+    }
+
+    /// Always false: there is at least one channel. Present for API symmetry with `len`.
+    pub fn is_empty(&self) -> bool {
+        self.len == 0
+    }
+
+    /// Whether any channel is limp (its servo's position is then unknown).
+    pub fn any_limp(&self) -> bool {
+        self.as_slice().iter().any(Option::is_none)
+    }
+
+    /// The pulse widths (pulse units) when every channel is driven, else `None`.
+    pub fn pulses(&self) -> Option<ChannelValues> {
+        let mut units = [0u16; MAX_CHANNELS];
+        for (slot, value) in units.iter_mut().zip(self.as_slice()) {
+            *slot = (*value)?;
+        }
+        ChannelValues::from_slice(&units[..self.len()])
+    }
+}
+
+impl fmt::Debug for ChannelOutput {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.debug_list().entries(self.as_slice()).finish()
+    }
+}
+
 /// What the device tells the host.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum DeviceMessage {
@@ -213,6 +295,8 @@ pub enum DeviceMessage {
     Status(DeviceStatus),
     /// `V`: raw analog readings, 0–4095 each (reserved).
     Analog(ChannelValues),
+    /// `P` (protocol 2): what the device is sending now, in answer to an output query.
+    Output(ChannelOutput),
 }
 
 /// One device → host line: a sequence number and a message.
@@ -234,6 +318,7 @@ impl DeviceLine {
             DeviceMessage::Ack(_) => b'A',
             DeviceMessage::Status(_) => b'S',
             DeviceMessage::Analog(_) => b'V',
+            DeviceMessage::Output(_) => b'P',
         };
         line.push(kind);
         line.push_hex(u16::from(self.seq), 2);
@@ -280,6 +365,14 @@ impl DeviceLine {
                     line.push_hex(value.min(0xFFF), 3);
                 }
             }
+            DeviceMessage::Output(output) => {
+                for value in output.as_slice() {
+                    match value {
+                        Some(units) => line.push_hex(*units, 4),
+                        None => line.push_str(LIMP_FIELD),
+                    }
+                }
+            }
         }
         line.finish()
     }
@@ -297,6 +390,7 @@ impl DeviceLine {
             b'A' => DeviceMessage::Ack(parse_ack(&mut body)?),
             b'S' => DeviceMessage::Status(parse_status(&mut body)?),
             b'V' => DeviceMessage::Analog(body.hex_values(3)?),
+            b'P' => DeviceMessage::Output(parse_output(&mut body)?),
             kind => {
                 return Err(ParseLineError::new(
                     LineErrorKind::UnknownKind { kind },
@@ -311,6 +405,38 @@ impl DeviceLine {
             message,
         })
     }
+}
+
+/// How an output line spells a channel that sends no pulse.
+const LIMP_FIELD: &[u8; 4] = b"----";
+
+fn parse_output(body: &mut Cursor<'_>) -> Result<ChannelOutput, ParseLineError> {
+    let rest = body.remaining().len();
+    let count = rest / 4;
+    if !rest.is_multiple_of(4) || count == 0 || count > MAX_CHANNELS {
+        return Err(body.error(LineErrorKind::BadValueCount {
+            len: rest,
+            width: 4,
+        }));
+    }
+    let mut values = [None; MAX_CHANNELS];
+    for value in values.iter_mut().take(count) {
+        if body.remaining().starts_with(LIMP_FIELD) {
+            body.skip(LIMP_FIELD.len());
+        } else {
+            *value = Some(body.hex(4).map_err(|_| {
+                body.error(LineErrorKind::ExpectedWord {
+                    expected: "4 hex digits or ----",
+                })
+            })?);
+        }
+    }
+    ChannelOutput::from_slice(&values[..count]).ok_or_else(|| {
+        body.error(LineErrorKind::BadValueCount {
+            len: rest,
+            width: 4,
+        })
+    })
 }
 
 fn parse_greeting(body: &mut Cursor<'_>) -> Result<DeviceInfo, ParseLineError> {

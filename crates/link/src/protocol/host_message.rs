@@ -22,6 +22,8 @@ pub enum HostMessage {
     Reset,
     /// `b`: keeps the link alive and asks for a status line.
     Heartbeat,
+    /// `q` (protocol 2): asks what the device is sending now; answered by an output line.
+    OutputQuery,
 }
 
 impl HostMessage {
@@ -35,6 +37,7 @@ impl HostMessage {
             Self::EmergencyStop => b'x',
             Self::Reset => b'c',
             Self::Heartbeat => b'b',
+            Self::OutputQuery => b'q',
         }
     }
 }
@@ -76,7 +79,8 @@ impl HostLine {
             | HostMessage::Release
             | HostMessage::EmergencyStop
             | HostMessage::Reset
-            | HostMessage::Heartbeat => {}
+            | HostMessage::Heartbeat
+            | HostMessage::OutputQuery => {}
         }
         line.finish()
     }
@@ -102,6 +106,7 @@ impl HostLine {
             b'x' => HostMessage::EmergencyStop,
             b'c' => HostMessage::Reset,
             b'b' => HostMessage::Heartbeat,
+            b'q' => HostMessage::OutputQuery,
             kind => {
                 return Err(ParseLineError::new(
                     LineErrorKind::UnknownKind { kind },

@@ -11,8 +11,11 @@ pub const MAX_LINE_LEN: usize = 64;
 /// Most pulse channels (or analog inputs) one line can carry.
 pub const MAX_CHANNELS: usize = 8;
 
-/// The protocol version this crate speaks.
-pub const PROTOCOL_VERSION: u8 = 1;
+/// The newest protocol version this crate speaks (2 adds the output query, `PROTOCOL.md` §3).
+pub const PROTOCOL_VERSION: u8 = 2;
+
+/// The oldest protocol version this crate still speaks to a device.
+pub const OLDEST_PROTOCOL_VERSION: u8 = 1;
 
 /// One protocol line in a fixed 64-byte buffer; encoders produce it with its line feed.
 #[derive(Clone, Copy, PartialEq, Eq)]
@@ -551,6 +554,11 @@ impl<'a> Cursor<'a> {
             self.pos += 1;
         }
         &self.bytes[start..self.pos]
+    }
+
+    /// Moves past `count` bytes already checked by the caller.
+    pub fn skip(&mut self, count: usize) {
+        self.pos = (self.pos + count).min(self.bytes.len());
     }
 
     /// Moves back to `pos` (used to point an error at the start of a word).

@@ -6,6 +6,7 @@
 pub mod invented_arm;
 
 use std::io;
+use std::sync::atomic::{AtomicBool, Ordering};
 use std::sync::{Arc, Mutex};
 use std::time::{Duration, Instant};
 
@@ -32,10 +33,22 @@ pub struct Written {
     pub delivered: bool,
 }
 
+/// Switches a test flips while the link runs.
+#[derive(Debug, Default)]
+pub struct Control {
+    /// The device is paused (as by SIGSTOP): it neither reads nor answers nor runs its
+    /// clock; what the host writes meanwhile waits in the cable and arrives on resume.
+    pub paused: AtomicBool,
+    /// Writes vanish without error from now on (a cut cable with a live adapter).
+    pub muted: AtomicBool,
+}
+
 pub struct Recorder {
     inner: SimTransport,
     faults: Faults,
     writes: usize,
+    waiting: Vec<u8>,
+    pub control: Arc<Control>,
     pub log: Arc<Mutex<Vec<Written>>>,
 }
 
@@ -46,9 +59,15 @@ impl Recorder {
             inner,
             faults,
             writes: 0,
+            waiting: Vec::new(),
+            control: Arc::default(),
             log: Arc::clone(&log),
         };
         (recorder, log)
+    }
+
+    fn paused(&self) -> bool {
+        self.control.paused.load(Ordering::SeqCst)
     }
 }
 
@@ -63,7 +82,8 @@ impl Transport for Recorder {
             return Err(io::Error::new(io::ErrorKind::BrokenPipe, "cable pulled"));
         }
         let line = HostLine::parse(bytes).expect("the host writes good lines");
-        let mut delivered = self.faults.vanish_after.is_none_or(|n| self.writes <= n);
+        let mut delivered = self.faults.vanish_after.is_none_or(|n| self.writes <= n)
+            && !self.control.muted.load(Ordering::SeqCst);
         if line.message == HostMessage::EmergencyStop && self.faults.swallow_stops > 0 {
             self.faults.swallow_stops -= 1;
             delivered = false;
@@ -74,12 +94,24 @@ impl Transport for Recorder {
             delivered,
         });
         if delivered {
-            self.inner.write_all(bytes)?;
+            self.waiting.extend_from_slice(bytes);
+            if !self.paused() {
+                let waiting = std::mem::take(&mut self.waiting);
+                self.inner.write_all(&waiting)?;
+            }
         }
         Ok(())
     }
 
     fn read_timeout(&mut self, buf: &mut [u8], timeout: Duration) -> io::Result<usize> {
+        if self.paused() {
+            std::thread::sleep(timeout);
+            return Ok(0);
+        }
+        if !self.waiting.is_empty() {
+            let waiting = std::mem::take(&mut self.waiting);
+            self.inner.write_all(&waiting)?;
+        }
         self.inner.read_timeout(buf, timeout)
     }
 }

@@ -1,0 +1,312 @@
+//! `armwright device-sim`, `stream` and `reset` as processes, through the pseudo-terminal's
+//! real serial path: a device paused five times for 100 ms does not end a stream; a device
+//! that stops for good is noticed within 300 ms of its last answer; after Ctrl-C, `reset`
+//! then `stream` completes; after a watchdog trip, `stream` completes with no reset.
+//!
+//! Times are measured from events (the stream's own report of how long the device had been
+//! silent, the device's report of its trip), never by racing the wall clock; the waits are
+//! generous.
+
+#![cfg(unix)]
+
+mod common;
+
+use std::io::{BufRead, BufReader, Read};
+use std::process::{Child, Command, Stdio};
+use std::sync::mpsc;
+use std::time::{Duration, Instant};
+
+use serde_json::Value;
+
+/// The shortest sample sequence (about 7.8 s).
+const SAMPLE: &str = "pen-plotter.armwright.json";
+
+/// Real-time streams take turns, so they do not starve each other on a 2-core machine.
+static REAL_TIME: std::sync::Mutex<()> = std::sync::Mutex::new(());
+
+fn one_stream_at_a_time() -> std::sync::MutexGuard<'static, ()> {
+    REAL_TIME
+        .lock()
+        .unwrap_or_else(std::sync::PoisonError::into_inner)
+}
+
+fn binary() -> Command {
+    Command::new(env!("CARGO_BIN_EXE_armwright"))
+}
+
+/// Sends `signal` (STOP, CONT, INT, KILL) to a child, as a shell's `kill -SIGNAL` does.
+fn signal(child: &Child, signal: &str) {
+    let status = Command::new("kill")
+        .args([&format!("-{signal}"), &child.id().to_string()])
+        .status()
+        .expect("the kill command runs");
+    assert!(status.success(), "kill -{signal}");
+}
+
+/// Forwards a child's output line by line, so a test can wait for a line.
+fn lines_of(stream: impl Read + Send + 'static) -> mpsc::Receiver<String> {
+    let (tx, rx) = mpsc::channel();
+    std::thread::spawn(move || {
+        for line in BufReader::new(stream).lines() {
+            let Ok(line) = line else { break };
+            if tx.send(line).is_err() {
+                break;
+            }
+        }
+    });
+    rx
+}
+
+/// Waits (up to a minute) for a line containing `needle`; returns every line seen up to it.
+fn wait_for_line(lines: &mpsc::Receiver<String>, needle: &str) -> Vec<String> {
+    let mut seen = Vec::new();
+    loop {
+        match lines.recv_timeout(Duration::from_secs(60)) {
+            Ok(line) => {
+                let found = line.contains(needle);
+                seen.push(line);
+                if found {
+                    return seen;
+                }
+            }
+            Err(_) => panic!("no line with {needle:?}; saw:\n{}", seen.join("\n")),
+        }
+    }
+}
+
+/// A simulated device behind a pseudo-terminal, in its own process; ended with Ctrl-C.
+struct DeviceSim {
+    child: Child,
+    path: String,
+    /// Its standard error: one line per change of mode, faults or watchdog trips.
+    changes: mpsc::Receiver<String>,
+}
+
+impl DeviceSim {
+    fn start() -> Self {
+        let mut child = binary()
+            .args(["device-sim"])
+            .stdin(Stdio::null())
+            .stdout(Stdio::piped())
+            .stderr(Stdio::piped())
+            .spawn()
+            .expect("the armwright binary runs");
+        let mut path = String::new();
+        BufReader::new(child.stdout.take().expect("piped"))
+            .read_line(&mut path)
+            .expect("the device prints its path");
+        let path = path.trim().to_owned();
+        assert!(path.starts_with("/dev/"), "{path}");
+        let changes = lines_of(child.stderr.take().expect("piped"));
+        Self {
+            child,
+            path,
+            changes,
+        }
+    }
+}
+
+impl Drop for DeviceSim {
+    fn drop(&mut self) {
+        // Resume it first in case a test left it stopped, then end it as Ctrl-C would.
+        signal(&self.child, "CONT");
+        signal(&self.child, "INT");
+        let _ = self.child.wait();
+    }
+}
+
+/// A stream of the sample to `device` at 50 Hz, with --yes and --json, as a child process.
+fn spawn_stream(device: &DeviceSim) -> (Child, mpsc::Receiver<String>) {
+    let mut child = binary()
+        .args([
+            "stream",
+            &common::sample_path(SAMPLE),
+            "--port",
+            &device.path,
+            "--rate",
+            "50",
+            "--yes",
+            "--json",
+        ])
+        .stdin(Stdio::null())
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .expect("the armwright binary runs");
+    let lines = lines_of(child.stderr.take().expect("piped"));
+    (child, lines)
+}
+
+/// Waits for a stream to end; returns its exit code and its JSON report.
+fn finish(mut child: Child) -> (i32, Value) {
+    let mut stdout = String::new();
+    child
+        .stdout
+        .take()
+        .expect("piped")
+        .read_to_string(&mut stdout)
+        .expect("stdout readable");
+    let code = child.wait().expect("the stream ends").code().unwrap_or(-1);
+    let json = serde_json::from_str(&stdout)
+        .unwrap_or_else(|error| panic!("not JSON ({error}): {stdout}"));
+    (code, json)
+}
+
+fn assert_finished(code: i32, out: &Value) {
+    assert_eq!(code, 0, "{out}");
+    assert_eq!(out["ending"], "finished", "{out}");
+    assert_eq!(out["frames_sent"], out["frames_planned"], "{out}");
+    assert_eq!(out["frames_acked"], out["frames_sent"], "{out}");
+}
+
+/// Runs `armwright reset --port PATH …` with standard input closed.
+fn reset(device: &DeviceSim, extra: &[&str]) -> (i32, String, String) {
+    let output = binary()
+        .args(["reset", "--port", &device.path])
+        .args(extra)
+        .stdin(Stdio::null())
+        .output()
+        .expect("the armwright binary runs");
+    (
+        output.status.code().unwrap_or(-1),
+        String::from_utf8_lossy(&output.stdout).into_owned(),
+        String::from_utf8_lossy(&output.stderr).into_owned(),
+    )
+}
+
+#[test]
+fn five_device_pauses_of_100_ms_do_not_end_a_stream() {
+    let _turn = one_stream_at_a_time();
+    let device = DeviceSim::start();
+    let (mut stream, lines) = spawn_stream(&device);
+    wait_for_line(&lines, "streaming to");
+    for pause in 0..5 {
+        // Progress lines come once a second; between them the stream is known to be running.
+        wait_for_line(&lines, "sent,");
+        assert!(
+            stream.try_wait().expect("pollable").is_none(),
+            "the stream ended before pause {pause}"
+        );
+        signal(&device.child, "STOP");
+        std::thread::sleep(Duration::from_millis(100)); // the pause itself, not a wait
+        signal(&device.child, "CONT");
+    }
+    let (code, out) = finish(stream);
+    assert_finished(code, &out);
+    // Each pause held at least one acknowledgement back by most of its 100 ms.
+    assert!(out["acks_late"].as_u64().unwrap_or(0) >= 5, "{out}");
+    assert!(
+        out["ack_wait_max_ms"].as_f64().unwrap_or(0.0) >= 80.0,
+        "{out}"
+    );
+}
+
+#[test]
+fn a_device_that_stops_for_good_is_noticed_within_300_ms() {
+    let _turn = one_stream_at_a_time();
+    let device = DeviceSim::start();
+    let (stream, lines) = spawn_stream(&device);
+    wait_for_line(&lines, "sent,");
+    signal(&device.child, "STOP");
+    let (code, out) = finish(stream);
+    assert_eq!(code, 1, "{out}");
+    assert_eq!(out["ending"], "link_lost", "{out}");
+    // The stream measured how long the device had said nothing when it gave up: at least
+    // the device's watchdog time, and within 300 ms of the last answer it gave.
+    let silent_ms = out["device_silent_ms"].as_f64().expect("a silence figure");
+    assert!((250.0..=300.0).contains(&silent_ms), "{out}");
+}
+
+#[test]
+fn after_ctrl_c_a_confirmed_reset_lets_the_next_stream_complete() {
+    let _turn = one_stream_at_a_time();
+    let device = DeviceSim::start();
+    let (stream, lines) = spawn_stream(&device);
+    wait_for_line(&lines, "sent,");
+    signal(&stream, "INT");
+    let (code, out) = finish(stream);
+    assert_eq!(
+        (code, out["ending"].as_str()),
+        (1, Some("emergency_stop")),
+        "{out}"
+    );
+    // A fresh device was limp when the stream began: every channel null.
+    let start = out["start_pulses_us"]
+        .as_array()
+        .expect("seven channels")
+        .clone();
+    assert_eq!(start.len(), 7, "{out}");
+    assert!(start.iter().all(Value::is_null), "{out}");
+
+    // The stop is latched in the device: a new stream finds it and says how to reset.
+    let (stream, _lines) = spawn_stream(&device);
+    let (code, out) = finish(stream);
+    assert_eq!(code, 1, "{out}");
+    assert_eq!(out["frames_sent"], 0, "{out}");
+    let error = out["error"].as_str().unwrap_or("");
+    assert!(error.contains("emergency stop is latched"), "{error}");
+    assert!(
+        error.contains(&format!("armwright reset --port {}", device.path)),
+        "{error}"
+    );
+
+    // Without a typed confirmation nothing is reset.
+    let (code, _, stderr) = reset(&device, &[]);
+    assert_eq!(code, 1, "{stderr}");
+    assert!(stderr.contains("emergency stop latched"), "{stderr}");
+    assert!(stderr.contains("not reset"), "{stderr}");
+    let caution = stderr.replace('\n', " ").to_lowercase();
+    for phrase in [
+        "a software stop is not a safety device",
+        "hard power cut-off within reach",
+        "local codes",
+    ] {
+        assert!(caution.contains(phrase), "{phrase}: {stderr}");
+    }
+
+    let (code, stdout, stderr) = reset(&device, &["--yes", "--json"]);
+    assert_eq!(code, 0, "{stdout}\n{stderr}");
+    let out: Value = serde_json::from_str(&stdout).expect("JSON");
+    assert_eq!(out["before"]["mode"], "stopped", "{out}");
+    assert_eq!(out["after"]["mode"], "holding", "{out}");
+    assert_eq!(out["after"]["faults"], "00", "{out}");
+
+    let (stream, _lines) = spawn_stream(&device);
+    let (code, out) = finish(stream);
+    assert_finished(code, &out);
+    // It began from the pulses the device held since the stop, in the servos' range.
+    let start = out["start_pulses_us"]
+        .as_array()
+        .expect("seven channels")
+        .clone();
+    assert!(
+        start.iter().all(|pulse| pulse
+            .as_f64()
+            .is_some_and(|us| (500.0..=2500.0).contains(&us))),
+        "{out}"
+    );
+}
+
+#[test]
+fn after_a_watchdog_trip_the_next_stream_completes_without_a_reset() {
+    let _turn = one_stream_at_a_time();
+    let device = DeviceSim::start();
+    let (mut stream, lines) = spawn_stream(&device);
+    wait_for_line(&lines, "sent,");
+    // A host that dies sends no hold: the device trips its watchdog and holds.
+    stream.kill().expect("killable");
+    let _ = stream.wait();
+    let seen = wait_for_line(&device.changes, "watchdog trips 1");
+    assert!(
+        seen.last().is_some_and(|line| line.contains("Keeping")),
+        "{seen:?}"
+    );
+    let started = Instant::now();
+    let (stream, _lines) = spawn_stream(&device);
+    let (code, out) = finish(stream);
+    assert_finished(code, &out);
+    assert!(
+        started.elapsed() > Duration::from_secs(5),
+        "the whole sample ran"
+    );
+}
