@@ -105,6 +105,9 @@ pub enum Command {
         /// Its index afterwards.
         to: usize,
     },
+    /// Replace the scene's description (free text for people); typing merges into one undo
+    /// step.
+    SetDescription(String),
     /// Change one setting of one waypoint.
     EditWaypoint {
         /// The waypoint's index.
@@ -376,6 +379,11 @@ pub fn apply(
                 });
             }
         }
+        Command::SetDescription(text) => {
+            edit(state, Some(EditKey::Description), |state| {
+                state.scene.description = text;
+            });
+        }
         Command::UpdateWaypointPose(index) => {
             if index < state.scene.waypoints.len() {
                 let values = state.pose_in_file_units();
@@ -534,11 +542,9 @@ fn start_retime(state: &mut EditorState, outside: &mut Vec<Outside>) {
         Some("cannot retime: the sequence needs at least two waypoints".to_string())
     } else {
         let problems = validate(&state.scene);
-        problems.first().map(|first| {
-            format!(
-                "cannot retime: the scene has {} problem(s), the first at {first}",
-                problems.len()
-            )
+        problems.first().map(|first| match problems.len() {
+            1 => format!("cannot retime: the scene has a problem at {first}"),
+            count => format!("cannot retime: the scene has {count} problems, the first at {first}"),
         })
     };
     if let Some(reason) = refusal {

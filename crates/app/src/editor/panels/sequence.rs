@@ -16,7 +16,10 @@ pub fn sequence(ui: &mut Ui, state: &EditorState) -> Command {
     let count = state.scene.waypoints.len();
     let selected = state.selected_waypoint.filter(|index| *index < count);
     ui.horizontal(|ui| {
-        ui.heading(format!("Sequence ({count} waypoints)"));
+        ui.heading(format!(
+            "Sequence ({})",
+            super::counted(count, "waypoint", "waypoints")
+        ));
         ui.separator();
         if ui
             .button("Store pose")
