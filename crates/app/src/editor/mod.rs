@@ -36,7 +36,7 @@ pub use device::{
     Connection, DeviceLink, LinkAction, LinkStopLink, LinkView, StreamEnd, StreamPhase,
 };
 pub use estop::{ChannelStopLink, STOP_KEY, STOP_KEY_NAME, StopLink, StopRequest};
-pub use panels::{ACKNOWLEDGE_LABEL, CAUTION, EMERGENCY_STOP_LABEL};
+pub use panels::{ACKNOWLEDGE_LABEL, CAUTION, EMERGENCY_STOP_LABEL, NUDGE_KEYS};
 pub use playback::{AtEnd, DryRunStatus, Playback, PlaybackCommand, SPEEDS, Timeline};
 pub use recovery::{Recovery, RecoveryCopy};
 pub use retime_job::{RetimeReport, RetimeRun, RetimeState, RunFigures, WaypointFigures};
@@ -69,6 +69,18 @@ const BOTTOM_HEIGHT: f32 = 290.0;
 /// Default width of the timeline beside the sequence, in points: the sequence's columns keep
 /// about 880 points of a 1560-point window.
 const TIMELINE_WIDTH: f32 = 640.0;
+
+/// The keys that nudge the tool point: key, axis (0 x, 1 y, 2 z) and direction. A press moves
+/// it 1 mm, 10 mm with Shift, by the same inverse kinematics as a drag ([`NUDGE_KEYS`] lists
+/// them in the window).
+pub const NUDGES: [(Key, usize, f64); 6] = [
+    (Key::ArrowLeft, 0, -1.0),
+    (Key::ArrowRight, 0, 1.0),
+    (Key::ArrowDown, 1, -1.0),
+    (Key::ArrowUp, 1, 1.0),
+    (Key::PageDown, 2, -1.0),
+    (Key::PageUp, 2, 1.0),
+];
 
 /// How the editor is set up.
 #[derive(Debug, Clone)]
@@ -337,6 +349,7 @@ impl Editor {
                 self.apply(ctx, Command::Undo, frame);
             }
         }
+        self.nudge(ctx, frame);
         for result in self.files.finished() {
             self.file_finished(ctx, result);
         }
@@ -375,6 +388,35 @@ impl Editor {
         if title != self.title {
             ctx.send_viewport_cmd(egui::ViewportCommand::Title(title.clone()));
             self.title = title;
+        }
+    }
+
+    /// Moves the tool point by the nudge keys pressed this frame, unless a dialog is open or a
+    /// widget has the keyboard (a focused slider or field keeps its own arrow keys).
+    fn nudge(&mut self, ctx: &egui::Context, frame: u64) {
+        let free = ctx.memory(|memory| memory.focused().is_none());
+        if self.state.dialog.is_some() || ctx.egui_wants_keyboard_input() || !free {
+            return;
+        }
+        let mut step_mm = [0.0; 3];
+        ctx.input_mut(|input| {
+            for (key, axis, direction) in NUDGES {
+                // Shift first: a pattern without Shift matches a key pressed with it too.
+                for (modifiers, mm) in [(Modifiers::SHIFT, 10.0), (Modifiers::NONE, 1.0)] {
+                    let presses = input.count_and_consume_key(modifiers, key) as f64;
+                    step_mm[axis] += direction * mm * presses;
+                }
+            }
+        });
+        if step_mm != [0.0; 3]
+            && let Some(point) = self.state.tool_point()
+        {
+            let target = [
+                point.x + step_mm[0] * 1e-3,
+                point.y + step_mm[1] * 1e-3,
+                point.z + step_mm[2] * 1e-3,
+            ];
+            self.apply(ctx, Command::DragToolPoint { target }, frame);
         }
     }
 
