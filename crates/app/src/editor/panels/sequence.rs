@@ -41,6 +41,14 @@ pub fn sequence(ui: &mut Ui, state: &EditorState) -> Command {
         {
             command = Command::UpdateWaypointPose(index);
         }
+        if ui
+            .add_enabled(has, Button::new("Duplicate"))
+            .on_hover_text("store a copy of the selected waypoint right after it")
+            .clicked()
+            && let Some(index) = selected
+        {
+            command = Command::DuplicateWaypoint(index);
+        }
         if ui.add_enabled(has, Button::new("Delete")).clicked()
             && let Some(index) = selected
         {
@@ -68,6 +76,14 @@ pub fn sequence(ui: &mut Ui, state: &EditorState) -> Command {
                 from: index,
                 to: index + 1,
             };
+        }
+        ui.separator();
+        if ui
+            .add_enabled(count > 0, Button::new("New sequence"))
+            .on_hover_text("remove every waypoint to teach a new task; the arm stays (undo)")
+            .clicked()
+        {
+            command = Command::NewSequence;
         }
     });
     ui.separator();
