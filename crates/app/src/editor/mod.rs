@@ -47,7 +47,7 @@ pub use state::{
 pub use traces::{GRID, MAX_BUCKETS, Quantity, Series, Traces, decimate};
 pub use views::{
     ArmOverlay, Camera, DEVICE, MapKey, MapLayer, Plane, Projection, RAMP_TOP, ReachLayers,
-    SIMULATED, SidePlane, TopPlane, ViewKind, torque_colour,
+    SIMULATED, SidePlane, TopPlane, VIEW_HINT, ViewKind, torque_colour,
 };
 
 use std::path::PathBuf;
