@@ -155,15 +155,13 @@ pub fn show_view(
             overlay_arm(&clipped, &projection, plane, arm, overlay);
         }
     }
-    drawing::scale_bar(&clipped, &projection);
-    if reach.is_some() {
-        drawing::reach_legend(&clipped, rect);
-    }
+    let legend = reach.map(|_| drawing::reach_legend(&clipped, rect));
+    let _ = drawing::scale_bar(&clipped, &projection, legend);
     let title = match kind {
         ViewKind::Top => "Top view (X right, Y up)".to_string(),
         ViewKind::Side => format!("Side view at base yaw {:.1}°", yaw.to_degrees()),
     };
-    drawing::captions(&clipped, rect, &title, &state.reach_problems());
+    let _ = drawing::captions(&clipped, rect, &title, &state.reach_problems());
     overlay_legend(&clipped, rect, overlays);
     camera.projection = Some(projection);
     response.on_hover_text(VIEW_HINT);
