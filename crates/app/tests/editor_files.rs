@@ -132,8 +132,21 @@ fn autosave_writes_a_copy_that_a_new_session_offers_to_recover() {
     // 1/60 s per frame: 90 frames pass the 1 s autosave interval.
     harness.run_steps(90);
     settle(&mut harness);
-    let copy = dir.join("recovery").join("recovery.armwright.json");
+    let copy = harness
+        .state()
+        .recovery_copy()
+        .expect("autosave is on")
+        .scene_path();
+    assert!(copy.starts_with(dir.join("recovery")));
     assert!(copy.is_file(), "no recovery copy at {}", copy.display());
+
+    // A second window open at the same time is not offered the first one's copy.
+    let (link, _requests) = ChannelStopLink::new();
+    let beside = Editor::open(None, Box::new(link), options(&dir, 3600));
+    let mut beside = editor_common::harness(beside);
+    beside.run_steps(3);
+    assert_eq!(beside.state().state.dialog, None);
+    drop(beside);
     drop(harness);
 
     let (link, _requests) = ChannelStopLink::new();
@@ -160,4 +173,68 @@ fn commands_for_the_file_dialogs_leave_their_work_outside_the_state() {
     // No file yet: Save asks for one instead of writing anywhere.
     assert!(outside.is_empty());
     assert!(matches!(state.dialog, Some(Dialog::SaveAs { .. })));
+}
+
+#[test]
+fn a_scene_files_copy_is_offered_only_when_that_file_is_opened() {
+    let dir = scratch("per-file-recovery");
+    let first = dir.join("first.armwright.json");
+    let second = dir.join("second.armwright.json");
+    for path in [&first, &second] {
+        armwright::scene::save(&sample_scene(), path).expect("scratch scene");
+    }
+    // Edit the first file and let autosave write its copy; the window then goes without
+    // closing cleanly.
+    let (link, _requests) = ChannelStopLink::new();
+    let editor = Editor::open(Some(first.clone()), Box::new(link), options(&dir, 1));
+    let mut harness = harness(editor);
+    harness.run_steps(3);
+    harness.get_by_label("Store pose").click();
+    harness.run_steps(90);
+    settle(&mut harness);
+    let edited = harness.state().state.scene.clone();
+    drop(harness);
+
+    let open = |path: &std::path::Path| {
+        let (link, _requests) = ChannelStopLink::new();
+        let editor = Editor::open(
+            Some(path.to_path_buf()),
+            Box::new(link),
+            options(&dir, 3600),
+        );
+        let mut harness = editor_common::harness(editor);
+        harness.run_steps(3);
+        harness
+    };
+    let other = open(&second);
+    assert_eq!(
+        other.state().state.dialog,
+        None,
+        "not the first file's copy"
+    );
+    drop(other);
+    let untitled = sample_editor_in(&dir);
+    assert_eq!(untitled.state().state.dialog, None, "not offered untitled");
+    drop(untitled);
+    let mut same = open(&first);
+    assert!(matches!(
+        same.state().state.dialog,
+        Some(Dialog::Recovery { .. })
+    ));
+    same.get_by_label("Recover").click();
+    same.run_steps(3);
+    assert_eq!(same.state().state.scene, edited);
+    assert_eq!(
+        same.state().state.file_path.as_deref(),
+        Some(first.as_path())
+    );
+}
+
+/// An untitled editor with its recovery folder in `dir`.
+fn sample_editor_in(dir: &std::path::Path) -> editor_common::EditorHarness {
+    let (link, _requests) = ChannelStopLink::new();
+    let editor = Editor::open(None, Box::new(link), options(dir, 3600));
+    let mut harness = editor_common::harness(editor);
+    harness.run_steps(3);
+    harness
 }

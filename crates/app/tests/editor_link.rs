@@ -129,11 +129,10 @@ fn serial_ports_are_listed_off_the_ui_thread() {
     let (mut harness, _requests, _dir) = sample_editor("link-ports");
     harness.get_by_label("List serial ports").click_accesskit();
     step_until(&mut harness, "the port listing", |editor| {
-        editor
-            .state
-            .messages
-            .iter()
-            .any(|message| message.text.ends_with("serial port(s) found"))
+        editor.state.messages.iter().any(|message| {
+            message.text.ends_with(" serial port found")
+                || message.text.ends_with(" serial ports found")
+        })
     });
     // Every port found is offered with its description.
     let ports = harness.state().device().view().ports.clone();
@@ -143,25 +142,48 @@ fn serial_ports_are_listed_off_the_ui_thread() {
 }
 
 #[test]
-fn the_device_pose_is_withdrawn_when_the_scene_has_another_arm() {
+fn the_device_pose_is_withdrawn_when_the_arm_is_edited() {
     let (mut harness, _requests, _dir) = sample_editor("link-arm-changed");
     harness.get_by_label("Connect").click_accesskit();
     let joints = harness.state().state.joint_count();
     step_until(&mut harness, "the device's arm pose", |editor| {
         editor.state.device_pose.as_ref().map(Vec::len) == Some(joints)
     });
-    let other = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
-        .join("../../sample-scenes/cube-stacker.armwright.json");
+    // A wrist roll added in the arm settings: the simulated device still moves the old arm.
     let ctx = harness.ctx.clone();
     let frame = ctx.cumulative_frame_nr();
-    harness
-        .state_mut()
-        .apply(&ctx, armwright::editor::Command::OpenPath(other), frame);
-    step_until(&mut harness, "the other scene", |editor| {
-        editor.state.file_path.is_some()
-    });
+    harness.state_mut().apply(
+        &ctx,
+        armwright::editor::Command::ChangeArmType(armwright::editor::ArmTypeChoice::Articulated5),
+        frame,
+    );
     harness.run_steps(2);
+    assert_eq!(harness.state().state.joint_count(), joints + 1);
     assert_eq!(harness.state().state.device_pose, None);
     assert!(harness.state().device().view().arm_changed);
     harness.get_by_label_contains("Disconnect and connect again");
+}
+
+#[test]
+fn opening_another_scene_moves_the_simulated_device_onto_its_arm() {
+    let (mut harness, _requests, _dir) = sample_editor("link-reattach");
+    connect(&mut harness);
+    let path = editor_common::sample_scene("peg-sorter");
+    let joints = armwright::scene::load(&path)
+        .expect("the sample loads")
+        .arm
+        .joints
+        .len();
+    editor_common::open_through_dialog(&mut harness, &path);
+    assert_eq!(harness.state().state.joint_count(), joints);
+    step_until(&mut harness, "the device moving the new arm", |editor| {
+        !editor.device().view().arm_changed
+            && link_state(editor) == Some(LinkState::Idle)
+            && editor.state.device_pose.as_ref().map(Vec::len) == Some(joints)
+    });
+    assert!(harness.state().state.messages.iter().any(|message| {
+        message
+            .text
+            .contains("simulated device was connected again")
+    }));
 }

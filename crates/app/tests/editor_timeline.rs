@@ -54,6 +54,15 @@ fn the_dry_run_arrives_and_the_plot_shows_it() {
     assert_eq!(timeline.marks.len(), editor.state.scene.waypoints.len());
     assert!(editor.timeline_transform().is_some());
     assert!(editor.timeline_column_count() > 0);
+    // One cycle time: the plan's length, as `armwright plan` reports it.
+    let cycle = CommandedMotion::duration(&timeline.plan);
+    assert!(
+        harness
+            .query_by_label(&format!("cycle {cycle:.2} s"))
+            .is_some(),
+        "no \"cycle {cycle:.2} s\""
+    );
+    let editor = harness.state();
     // The plot is bounded by its pixel columns whatever the run's length: at most one column
     // per two pixels (and one beyond each edge), for the commanded and the simulated line of
     // each joint.

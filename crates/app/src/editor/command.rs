@@ -98,6 +98,10 @@ pub enum Command {
     InsertWaypoint,
     /// Delete a waypoint.
     DeleteWaypoint(usize),
+    /// Store a copy of a waypoint right after it.
+    DuplicateWaypoint(usize),
+    /// Empty the sequence to teach a new one, keeping the arm and the timing (one undo step).
+    NewSequence,
     /// Move a waypoint from one place in the sequence to another.
     MoveWaypoint {
         /// Its index now.
@@ -105,6 +109,9 @@ pub enum Command {
         /// Its index afterwards.
         to: usize,
     },
+    /// Replace the scene's description (free text for people); typing merges into one undo
+    /// step.
+    SetDescription(String),
     /// Change one setting of one waypoint.
     EditWaypoint {
         /// The waypoint's index.
@@ -346,6 +353,39 @@ pub fn apply(
                 });
             }
         }
+        Command::DuplicateWaypoint(index) => {
+            if let Some(original) = state.scene.waypoints.get(index).cloned() {
+                let name = unique_name(state, &format!("{} (copy)", original.name));
+                let copy = Waypoint {
+                    name: name.clone(),
+                    ..original
+                };
+                edit(state, None, |state| {
+                    state.scene.waypoints.insert(index + 1, copy);
+                    state.selected_waypoint = Some(index + 1);
+                });
+                state.say(Level::Info, format!("stored \"{name}\""));
+            }
+        }
+        Command::NewSequence => {
+            if !state.scene.waypoints.is_empty() {
+                let count = state.scene.waypoints.len();
+                edit(state, None, |state| {
+                    state.scene.waypoints.clear();
+                    state.selected_waypoint = None;
+                });
+                state.say(
+                    Level::Info,
+                    format!(
+                        "new sequence: {} removed (undo brings them back); the arm is kept",
+                        match count {
+                            1 => "1 waypoint".to_string(),
+                            count => format!("{count} waypoints"),
+                        }
+                    ),
+                );
+            }
+        }
         Command::MoveWaypoint { from, to } => {
             let count = state.scene.waypoints.len();
             if from < count && to < count && from != to {
@@ -375,6 +415,11 @@ pub fn apply(
                     }
                 });
             }
+        }
+        Command::SetDescription(text) => {
+            edit(state, Some(EditKey::Description), |state| {
+                state.scene.description = text;
+            });
         }
         Command::UpdateWaypointPose(index) => {
             if index < state.scene.waypoints.len() {
@@ -534,11 +579,9 @@ fn start_retime(state: &mut EditorState, outside: &mut Vec<Outside>) {
         Some("cannot retime: the sequence needs at least two waypoints".to_string())
     } else {
         let problems = validate(&state.scene);
-        problems.first().map(|first| {
-            format!(
-                "cannot retime: the scene has {} problem(s), the first at {first}",
-                problems.len()
-            )
+        problems.first().map(|first| match problems.len() {
+            1 => format!("cannot retime: the scene has a problem at {first}"),
+            count => format!("cannot retime: the scene has {count} problems, the first at {first}"),
         })
     };
     if let Some(reason) = refusal {
@@ -632,20 +675,106 @@ fn edit(state: &mut EditorState, key: Option<EditKey>, change: impl FnOnce(&mut 
     }
 }
 
+/// How close two tool points must be across (x and y), in m, for a move between them to count
+/// as straight up or down (0.5 mm).
+const VERTICAL_ACROSS: f64 = 0.5e-3;
+
+/// Stores the current pose at `at`. The new waypoint takes the settings of the one before it
+/// (move, profile, speed share, dwell, arrival); one stored straight above or below the one
+/// before it is a straight move, named for it ("20 mm below grip cube 1"), and one that leaves
+/// such a vertical approach sideways is a joint move; one that only changes the gripper is
+/// named for that ("grip cube 1, gripper closed").
 fn add_waypoint(state: &mut EditorState, at: usize) {
     let at = at.min(state.scene.waypoints.len());
-    let name = fresh_name(state);
-    let waypoint = Waypoint {
-        name: name.clone(),
-        joints_deg_or_mm: state.pose_in_file_units(),
-        gripper: state.gripper,
-        ..Waypoint::default()
+    let pose = state.pose_in_file_units();
+    let previous = at
+        .checked_sub(1)
+        .and_then(|index| state.scene.waypoints.get(index));
+    let mut waypoint = match previous {
+        Some(previous) => Waypoint {
+            gripper: state.gripper,
+            ..previous.clone()
+        },
+        None => Waypoint {
+            gripper: state.gripper,
+            ..Waypoint::default()
+        },
     };
+    waypoint.joints_deg_or_mm = pose.clone();
+    let mut name = None;
+    let here = state.tool_point();
+    let there = previous.and_then(|previous| waypoint_tool_point(state, previous));
+    if let (Some(previous), Some(here), Some(there)) = (previous, here, there) {
+        match vertical_rise_mm(here, there) {
+            Some(rise_mm) if rise_mm.abs() >= 0.5 => {
+                waypoint.move_kind = MoveKind::Straight;
+                let side = if rise_mm > 0.0 { "above" } else { "below" };
+                name = Some(format!("{:.0} mm {side} {}", rise_mm.abs(), previous.name));
+            }
+            Some(_) if previous.gripper != state.gripper => {
+                let gripper = match state.gripper {
+                    GripperState::Open => "open",
+                    GripperState::Closed => "closed",
+                };
+                name = Some(format!("{}, gripper {gripper}", previous.name));
+            }
+            Some(_) => {}
+            None => {
+                // Leaving a vertical approach or retreat sideways: a joint move.
+                let before = at
+                    .checked_sub(2)
+                    .and_then(|index| state.scene.waypoints.get(index))
+                    .and_then(|before| waypoint_tool_point(state, before));
+                if before
+                    .and_then(|before| vertical_rise_mm(there, before))
+                    .is_some_and(|rise_mm| rise_mm.abs() >= 0.5)
+                {
+                    waypoint.move_kind = MoveKind::Joint;
+                }
+            }
+        }
+    }
+    let name = match name {
+        Some(name) => unique_name(state, &name),
+        None => fresh_name(state),
+    };
+    waypoint.name = name.clone();
     edit(state, None, |state| {
         state.scene.waypoints.insert(at, waypoint);
         state.selected_waypoint = Some(at);
     });
     state.say(Level::Info, format!("stored \"{name}\""));
+}
+
+/// The tool point of a waypoint's pose, in m, when the arm and its joint count allow.
+fn waypoint_tool_point(state: &EditorState, waypoint: &Waypoint) -> Option<Vector3<f64>> {
+    let arm = state.arm()?;
+    if waypoint.joints_deg_or_mm.len() != state.joint_count() {
+        return None;
+    }
+    let pose = pose_from_file_units(&state.scene.arm, &waypoint.joints_deg_or_mm);
+    armwright_kinematics::tool_pose(arm, &pose)
+        .ok()
+        .map(|pose| pose.translation.vector)
+}
+
+/// How far `here` is above `there` (negative: below), in mm, when it is straight above or below
+/// it (within [`VERTICAL_ACROSS`] across); `None` otherwise.
+fn vertical_rise_mm(here: Vector3<f64>, there: Vector3<f64>) -> Option<f64> {
+    let across = (here.x - there.x).hypot(here.y - there.y);
+    (across <= VERTICAL_ACROSS).then(|| (here.z - there.z) * 1e3)
+}
+
+/// `name`, or `name (2)`, `name (3)`… when a waypoint already has it.
+fn unique_name(state: &EditorState, name: &str) -> String {
+    let taken = |candidate: &str| state.scene.waypoints.iter().any(|w| w.name == candidate);
+    if !taken(name) {
+        return name.to_string();
+    }
+    (2..)
+        .map(|n| format!("{name} ({n})"))
+        .find(|candidate| !taken(candidate))
+        .unwrap_or_default()
 }
 
 /// "point N" with the smallest N not yet used.
@@ -828,6 +957,93 @@ mod tests {
             state.scene.waypoints.len(),
             sample_scene().waypoints.len() + 1
         );
+    }
+
+    #[test]
+    fn a_new_waypoint_follows_the_one_before_it() {
+        let mut state = EditorState::new(sample_scene(), None);
+        let _ = run(&mut state, Command::NewSequence);
+        assert!(state.scene.waypoints.is_empty());
+        assert_eq!(state.scene.arm, sample_scene().arm, "the arm is kept");
+        let _ = run(&mut state, Command::StoreWaypoint);
+        let _ = run(
+            &mut state,
+            Command::EditWaypoint {
+                index: 0,
+                field: WaypointField::SpeedSharePct(35.0),
+            },
+        );
+        let _ = run(
+            &mut state,
+            Command::EditWaypoint {
+                index: 0,
+                field: WaypointField::DwellMs(120.0),
+            },
+        );
+        let first = state.scene.waypoints[0].clone();
+        // 20 mm straight down from it.
+        let at = state.tool_point().expect("tool point");
+        let _ = run(
+            &mut state,
+            Command::DragToolPoint {
+                target: [at.x, at.y, at.z - 0.02],
+            },
+        );
+        assert_eq!(state.reach, ReachStatus::Reached);
+        let _ = run(&mut state, Command::StoreWaypoint);
+        let second = state.scene.waypoints[1].clone();
+        assert_eq!(second.move_kind, MoveKind::Straight);
+        assert_eq!(second.name, format!("20 mm below {}", first.name));
+        assert_eq!(
+            (
+                second.speed_share_pct,
+                second.dwell_ms,
+                second.profile,
+                second.arrival
+            ),
+            (
+                first.speed_share_pct,
+                first.dwell_ms,
+                first.profile,
+                first.arrival
+            )
+        );
+        // Only the gripper changes: named for it.
+        let _ = run(&mut state, Command::SetGripper(GripperState::Closed));
+        let _ = run(&mut state, Command::StoreWaypoint);
+        assert_eq!(
+            state.scene.waypoints[2].name,
+            format!("{}, gripper closed", second.name)
+        );
+        // Sideways: a joint move, a plain name.
+        let at = state.tool_point().expect("tool point");
+        let _ = run(
+            &mut state,
+            Command::DragToolPoint {
+                target: [at.x + 0.02, at.y, at.z],
+            },
+        );
+        let _ = run(&mut state, Command::StoreWaypoint);
+        assert!(state.scene.waypoints[3].name.starts_with("point "));
+        // Duplicate: a copy right after, with a name of its own.
+        let _ = run(&mut state, Command::DuplicateWaypoint(1));
+        assert_eq!(state.scene.waypoints.len(), 5);
+        assert_eq!(
+            state.scene.waypoints[2].name,
+            format!("{} (copy)", second.name)
+        );
+        assert_eq!(
+            state.scene.waypoints[2].joints_deg_or_mm,
+            second.joints_deg_or_mm
+        );
+        assert_eq!(state.selected_waypoint, Some(2));
+        // One undo step each (new sequence, five stores and a duplicate, two settings): the
+        // sample comes back whole.
+        for _ in 0..9 {
+            let _ = run(&mut state, Command::Undo);
+        }
+        assert!(!state.can_undo());
+        assert_eq!(state.scene, sample_scene());
     }
 
     #[test]

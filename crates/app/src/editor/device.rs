@@ -10,7 +10,7 @@ use std::sync::{Arc, Mutex, PoisonError};
 use std::thread::JoinHandle;
 use std::time::{Duration, Instant};
 
-use armwright_kinematics::Arm;
+use armwright_kinematics::{Arm, JointKind};
 use armwright_link::{
     ChannelValues, DeviceInfo, EmergencyStop, Link, LinkError, LinkEvent, PortSummary,
     ResetConfirmation, SerialTransport, SimDevice, SimDeviceConfig, SimTransport, StreamOptions,
@@ -26,6 +26,20 @@ const QUEUE_AHEAD: usize = 8;
 
 /// How long the worker waits for a request when it has nothing else to do.
 const IDLE_WAIT: Duration = Duration::from_millis(20);
+
+/// The shortest time between two redraws the worker asks of the window: 30 a second, enough
+/// for the eye to follow the device's arm and counters, and nothing while nothing changes.
+const WAKE_INTERVAL: Duration = Duration::from_millis(33);
+
+/// How far a revolute joint of the simulated device's arm must move from where the window
+/// last drew it before that alone is worth a redraw, rad (2°: a few pixels at the tip of a
+/// 200 mm link at the views' default scale, a step the eye sees). A limp arm creeping under
+/// gravity redraws once per step, not 30 times a second; while a stream runs, its counters
+/// redraw the window 30 times a second anyway and the arm follows smoothly.
+const TURN_STEP: f64 = 2.0 * std::f64::consts::PI / 180.0;
+
+/// The same for a prismatic joint, m (2 mm).
+const SLIDE_STEP: f64 = 2e-3;
 
 /// What the user asks of the link, from the link panel.
 #[derive(Debug, Clone, PartialEq)]
@@ -64,6 +78,17 @@ pub enum StreamPhase {
     Ended,
 }
 
+/// Why a stream ended before its last setpoint went out.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum StreamEnd {
+    /// The emergency stop.
+    EmergencyStop,
+    /// The link to the device was lost.
+    LinkLost,
+    /// The link refused a setpoint or could not resume (see the messages).
+    Error,
+}
+
 /// A connected device, as the panel shows it.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Connection {
@@ -90,6 +115,10 @@ pub struct LinkView {
     pub phase: StreamPhase,
     /// Setpoints pushed to the link in this stream, and how many there are.
     pub progress: (usize, usize),
+    /// Setpoints of this stream the link wrote to the device.
+    pub sent: usize,
+    /// Why the stream ended early, once it did.
+    pub ended: Option<StreamEnd>,
     /// Planned setpoints whose pulse was limited to its servo's or the device's range.
     pub clamped: usize,
     /// Largest rounding error of the planned setpoints, in degrees.
@@ -124,6 +153,121 @@ struct Published {
     view: LinkView,
     simulated: Option<Arc<Mutex<SimDevice>>>,
     reports: Vec<Report>,
+    /// The window to wake when something it shows changed.
+    waker: Option<egui::Context>,
+}
+
+/// What the window shows of the link, compared from one worker turn to the next to decide
+/// whether the window needs a redraw.
+#[derive(Debug, Clone, PartialEq, Default)]
+struct Shown {
+    stats: Option<StreamStats>,
+    phase: StreamPhase,
+    progress: (usize, usize),
+    listing: bool,
+    connecting: bool,
+    connected: bool,
+    ports: usize,
+    /// Reports waiting for the window.
+    reports: usize,
+}
+
+impl Shown {
+    fn of(published: &Published) -> Shown {
+        let view = &published.view;
+        Shown {
+            stats: view.stats.clone(),
+            phase: view.phase,
+            progress: view.progress,
+            listing: view.listing,
+            connecting: view.connecting,
+            connected: view.connection.is_some(),
+            ports: view.ports.len(),
+            reports: published.reports.len(),
+        }
+    }
+}
+
+/// Wakes the window when what it shows of the link changed, at most once every
+/// [`WAKE_INTERVAL`]; a change inside the interval is woken for when it ends.
+#[derive(Debug, Default)]
+struct Waking {
+    shown: Shown,
+    /// The simulated device's arm as of the last redraw asked for it (rad or m per joint).
+    pose: Option<Vec<f64>>,
+    /// The step per joint that is worth a redraw: [`TURN_STEP`] or [`SLIDE_STEP`].
+    steps: Vec<f64>,
+    pending: bool,
+    last: Option<Instant>,
+}
+
+impl Waking {
+    /// Notes the arm the simulated device moves, for the step each joint must move.
+    fn arm(&mut self, arm: Option<&Arm>) {
+        self.steps = arm.map_or_else(Vec::new, |arm| {
+            arm.joints()
+                .iter()
+                .map(|joint| match joint.kind {
+                    JointKind::Revolute => TURN_STEP,
+                    JointKind::Prismatic => SLIDE_STEP,
+                })
+                .collect()
+        });
+        self.pose = None;
+    }
+
+    fn check(&mut self, published: &Published) {
+        let shown = Shown::of(published);
+        if shown != self.shown {
+            self.shown = shown;
+            self.pending = true;
+        }
+        let pose = published.simulated.as_ref().and_then(|device| {
+            let device = device.lock().unwrap_or_else(PoisonError::into_inner);
+            device.arm_positions().map(<[f64]>::to_vec)
+        });
+        if self.pose_moved(pose.as_deref()) {
+            self.pose = pose;
+            self.pending = true;
+        }
+        let now = Instant::now();
+        let due = self
+            .last
+            .is_none_or(|last| now.duration_since(last) >= WAKE_INTERVAL);
+        if self.pending
+            && due
+            && let Some(waker) = &published.waker
+        {
+            // A delay, however short, asks egui for one frame; no delay asks for two.
+            waker.request_repaint_after(Duration::from_millis(1));
+            self.pending = false;
+            self.last = Some(now);
+        }
+    }
+
+    /// Whether `pose` differs from the one last drawn by a step worth a redraw.
+    fn pose_moved(&self, pose: Option<&[f64]>) -> bool {
+        match (pose, self.pose.as_deref()) {
+            (None, None) => false,
+            (Some(now), Some(drawn)) if now.len() == drawn.len() => now
+                .iter()
+                .zip(drawn)
+                .enumerate()
+                .any(|(joint, (now, drawn))| {
+                    (now - drawn).abs() >= self.steps.get(joint).copied().unwrap_or(SLIDE_STEP)
+                }),
+            _ => true,
+        }
+    }
+
+    /// How long the worker may wait for a request before it must look again.
+    fn wait(&self) -> Duration {
+        if self.pending {
+            WAKE_INTERVAL.min(IDLE_WAIT)
+        } else {
+            IDLE_WAIT
+        }
+    }
 }
 
 enum Request {
@@ -158,6 +302,8 @@ pub struct DeviceLink {
     /// The arm handed over with the newest connect request.
     connected_arm: Option<Arm>,
     worker: Option<JoinHandle<()>>,
+    /// Whether the worker was given the window to wake.
+    waker_set: bool,
 }
 
 impl std::fmt::Debug for DeviceLink {
@@ -187,6 +333,7 @@ impl DeviceLink {
             link: None,
             rate_hz: 50.0,
             stream: None,
+            waking: Waking::default(),
         };
         let handle = std::thread::Builder::new()
             .name("armwright device link".into())
@@ -200,6 +347,20 @@ impl DeviceLink {
             simulated: None,
             connected_arm: None,
             worker: handle,
+            waker_set: false,
+        }
+    }
+
+    /// Lets the worker wake the window (`ctx`) when something the window shows of the link
+    /// changed: its state, statistics, messages, the simulated device's arm. Only the first
+    /// call per link does anything, so it may be called every frame.
+    pub(crate) fn wake(&mut self, ctx: &egui::Context) {
+        if !self.waker_set {
+            self.published
+                .lock()
+                .unwrap_or_else(PoisonError::into_inner)
+                .waker = Some(ctx.clone());
+            self.waker_set = true;
         }
     }
 
@@ -382,6 +543,16 @@ struct Stream {
     values: Vec<ChannelValues>,
     next: usize,
     phase: StreamPhase,
+    /// The link's count of setpoints written when this stream started.
+    sent_before: u64,
+    ended: Option<StreamEnd>,
+}
+
+impl Stream {
+    fn end(&mut self, why: StreamEnd) {
+        self.phase = StreamPhase::Ended;
+        self.ended.get_or_insert(why);
+    }
 }
 
 struct Worker {
@@ -391,6 +562,7 @@ struct Worker {
     link: Option<Link>,
     rate_hz: f64,
     stream: Option<Stream>,
+    waking: Waking,
 }
 
 impl Worker {
@@ -407,7 +579,7 @@ impl Worker {
                     Err(TryRecvError::Disconnected) => return,
                 }
             } else {
-                match self.inbox.recv_timeout(IDLE_WAIT) {
+                match self.inbox.recv_timeout(self.waking.wait()) {
                     Ok(request) => Some(request),
                     Err(RecvTimeoutError::Timeout) => None,
                     Err(RecvTimeoutError::Disconnected) => return,
@@ -435,9 +607,10 @@ impl Worker {
                     Ok(ports) => {
                         let count = ports.len();
                         published.view.ports = ports;
-                        published
-                            .reports
-                            .push(Report::Info(format!("{count} serial port(s) found")));
+                        published.reports.push(Report::Info(match count {
+                            1 => "1 serial port found".to_owned(),
+                            count => format!("{count} serial ports found"),
+                        }));
                     }
                     Err(error) => published.reports.push(Report::Problem(error.to_string())),
                 }
@@ -494,6 +667,7 @@ impl Worker {
         self.disconnect();
         self.with_view(|view| view.connecting = true);
         self.rate_hz = rate_hz;
+        self.waking.arm(arm.as_ref());
         let mut simulated = None;
         let (name, transport): (String, Result<Box<dyn Transport>, String>) = match device {
             Device::Simulated => {
@@ -605,8 +779,11 @@ impl Worker {
             return;
         }
         let total = setpoints.values.len();
+        let sent_before = link.stats().frames_sent;
         self.with_view(|view| {
             view.progress = (0, total);
+            view.sent = 0;
+            view.ended = None;
             view.clamped = setpoints.clamped;
             view.worst_rounding_deg = setpoints.worst_rounding_deg;
         });
@@ -614,6 +791,8 @@ impl Worker {
             values: setpoints.values,
             next: 0,
             phase: StreamPhase::Streaming,
+            sent_before,
+            ended: None,
         });
         self.say(Report::Info(format!(
             "streaming {total} setpoints at {} Hz",
@@ -631,7 +810,10 @@ impl Worker {
         match link.start_stream() {
             Ok(()) => stream.phase = StreamPhase::Streaming,
             Err(error) => {
-                stream.phase = StreamPhase::Ended;
+                stream.end(match error {
+                    LinkError::StopLatched => StreamEnd::EmergencyStop,
+                    _ => StreamEnd::Error,
+                });
                 say(
                     &self.published,
                     Report::Problem(format!("cannot resume: {error}")),
@@ -657,7 +839,10 @@ impl Worker {
         match link.push_setpoint(*values) {
             Ok(()) => stream.next += 1,
             Err(error) => {
-                stream.phase = StreamPhase::Ended;
+                stream.end(match error {
+                    LinkError::StopLatched => StreamEnd::EmergencyStop,
+                    _ => StreamEnd::Error,
+                });
                 let message = match error {
                     LinkError::StopLatched => "stream ended by the emergency stop".to_owned(),
                     other => format!("stream ended: {other}"),
@@ -688,8 +873,10 @@ impl Worker {
                     None => None,
                 },
                 LinkEvent::StopConfirmed { after } => {
-                    if let Some(stream) = &mut self.stream {
-                        stream.phase = StreamPhase::Ended;
+                    if let Some(stream) = &mut self.stream
+                        && stream.phase != StreamPhase::Finished
+                    {
+                        stream.end(StreamEnd::EmergencyStop);
                     }
                     Some(Report::Info(format!(
                         "the device confirmed the emergency stop after {:.1} ms; it holds until \
@@ -699,8 +886,10 @@ impl Worker {
                 }
                 LinkEvent::ResetDone => None,
                 LinkEvent::Lost(loss) => {
-                    if let Some(stream) = &mut self.stream {
-                        stream.phase = StreamPhase::Ended;
+                    if let Some(stream) = &mut self.stream
+                        && stream.phase != StreamPhase::Finished
+                    {
+                        stream.end(StreamEnd::LinkLost);
                     }
                     Some(Report::Problem(format!("link lost: {loss}")))
                 }
@@ -717,7 +906,17 @@ impl Worker {
             .stream
             .as_ref()
             .map_or((None, None), |s| (Some(s.phase), Some(s.next)));
-        let mut published = self.lock();
+        let sent = match (&self.stream, &stats) {
+            (Some(stream), Some(stats)) => {
+                Some(stats.frames_sent.saturating_sub(stream.sent_before) as usize)
+            }
+            _ => None,
+        };
+        let ended = self.stream.as_ref().and_then(|stream| stream.ended);
+        let mut published = self
+            .published
+            .lock()
+            .unwrap_or_else(PoisonError::into_inner);
         if published.view.stats != stats {
             published.view.stats = stats;
         }
@@ -727,6 +926,11 @@ impl Worker {
         if let Some(pushed) = pushed {
             published.view.progress.0 = pushed;
         }
+        if let Some(sent) = sent {
+            published.view.sent = sent;
+            published.view.ended = ended;
+        }
+        self.waking.check(&published);
     }
 
     fn say(&self, report: Report) {

@@ -76,21 +76,13 @@ impl Default for DryRunJob {
 }
 
 impl DryRunJob {
-    /// Takes a finished result (dropping it when a newer change came since), and starts a job
-    /// when the newest change has no outcome yet and none runs. Cheap: no planning happens here.
+    /// Notes a change of the scene (a new generation), takes a finished result (dropping it
+    /// when it is for an older generation), and starts a job when the newest change has no
+    /// outcome yet and none runs. Cheap: no planning happens here.
     pub fn update(&mut self, ctx: &egui::Context, state: &mut EditorState) {
-        for finished in self.receiver.try_iter().collect::<Vec<_>>() {
-            self.running = None;
-            if finished.generation != self.generation {
-                self.dropped += 1;
-                continue;
-            }
-            self.done = Some(finished.generation);
-            match finished.result {
-                Ok(timeline) => playback::accept(state, Arc::new(timeline)),
-                Err(reason) => playback::fail(state, reason),
-            }
-        }
+        // The scene is compared first, so that a result that arrives in the frame after a change
+        // is judged against that change: whether the worker finished before or after the
+        // change was made, an older result is dropped, never shown for a frame.
         // A fresh state (a scene just opened) has no outcome yet, even for an equal scene.
         let fresh = matches!(state.playback.status, DryRunStatus::None);
         if fresh
@@ -102,6 +94,18 @@ impl DryRunJob {
             self.wanted = Some(JobKey::of(&state.scene));
             self.generation += 1;
             state.playback.status = DryRunStatus::Running;
+        }
+        for finished in self.receiver.try_iter().collect::<Vec<_>>() {
+            self.running = None;
+            if finished.generation != self.generation {
+                self.dropped += 1;
+                continue;
+            }
+            self.done = Some(finished.generation);
+            match finished.result {
+                Ok(timeline) => playback::accept(state, Arc::new(timeline)),
+                Err(reason) => playback::fail(state, reason),
+            }
         }
         if self.running.is_none() && self.done != Some(self.generation) {
             self.start(ctx, state);

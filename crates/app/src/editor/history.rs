@@ -37,6 +37,8 @@ pub(crate) enum EditKey {
     },
     /// One field of the arm settings.
     Arm(ArmField),
+    /// The scene's description.
+    Description,
 }
 
 impl History {

@@ -32,11 +32,13 @@ mod views;
 
 pub use arm_form::{ArmField, ArmForm, ArmTypeChoice, ChainField, DhParam, JointField};
 pub use command::{Command, Outside, WaypointField, apply};
-pub use device::{Connection, DeviceLink, LinkAction, LinkStopLink, LinkView, StreamPhase};
+pub use device::{
+    Connection, DeviceLink, LinkAction, LinkStopLink, LinkView, StreamEnd, StreamPhase,
+};
 pub use estop::{ChannelStopLink, STOP_KEY, STOP_KEY_NAME, StopLink, StopRequest};
-pub use panels::{ACKNOWLEDGE_LABEL, CAUTION, EMERGENCY_STOP_LABEL};
+pub use panels::{ACKNOWLEDGE_LABEL, CAUTION, EMERGENCY_STOP_LABEL, NUDGE_KEYS};
 pub use playback::{AtEnd, DryRunStatus, Playback, PlaybackCommand, SPEEDS, Timeline};
-pub use recovery::Recovery;
+pub use recovery::{Recovery, RecoveryCopy};
 pub use retime_job::{RetimeReport, RetimeRun, RetimeState, RunFigures, WaypointFigures};
 pub use sample::sample_scene;
 pub use state::{
@@ -45,7 +47,7 @@ pub use state::{
 pub use traces::{GRID, MAX_BUCKETS, Quantity, Series, Traces, decimate};
 pub use views::{
     ArmOverlay, Camera, DEVICE, MapKey, MapLayer, Plane, Projection, RAMP_TOP, ReachLayers,
-    SIMULATED, SidePlane, TopPlane, ViewKind, torque_colour,
+    SIMULATED, SidePlane, TopPlane, VIEW_HINT, ViewKind, torque_colour,
 };
 
 use std::path::PathBuf;
@@ -60,10 +62,6 @@ use files::{FileResult, FileWorker, pick_file, problem_lines};
 use panels::TimelinePlot;
 use retime_job::RetimeWorker;
 
-/// How often the window is redrawn while a device is connected, to follow its arm and
-/// statistics.
-const LINK_REFRESH: Duration = Duration::from_millis(50);
-
 /// Default height of the sequence and timeline at the bottom, in points: room for eight
 /// waypoint rows and a readable plot, leaving the views most of a 960-point window.
 const BOTTOM_HEIGHT: f32 = 290.0;
@@ -72,10 +70,23 @@ const BOTTOM_HEIGHT: f32 = 290.0;
 /// about 880 points of a 1560-point window.
 const TIMELINE_WIDTH: f32 = 640.0;
 
+/// The keys that nudge the tool point: key, axis (0 x, 1 y, 2 z) and direction. A press moves
+/// it 1 mm, 10 mm with Shift, by the same inverse kinematics as a drag ([`NUDGE_KEYS`] lists
+/// them in the window).
+pub const NUDGES: [(Key, usize, f64); 6] = [
+    (Key::ArrowLeft, 0, -1.0),
+    (Key::ArrowRight, 0, 1.0),
+    (Key::ArrowDown, 1, -1.0),
+    (Key::ArrowUp, 1, 1.0),
+    (Key::PageDown, 2, -1.0),
+    (Key::PageUp, 2, 1.0),
+];
+
 /// How the editor is set up.
 #[derive(Debug, Clone)]
 pub struct EditorOptions {
-    /// Where the recovery copy is kept; `None` turns autosave off.
+    /// The folder the recovery copies are kept in (one per scene file and one per untitled
+    /// window); `None` turns autosave off.
     pub recovery: Option<Recovery>,
     /// Time between autosaves while there are unsaved changes.
     pub autosave_interval: Duration,
@@ -114,6 +125,8 @@ pub struct Editor {
     files: FileWorker,
     retime: RetimeWorker,
     options: EditorOptions,
+    /// This window's recovery copy, locked while the window runs, for the scene's file now.
+    recovery: Option<RecoveryCopy>,
     /// egui time (s) of the last autosave, or of the first frame.
     last_autosave: Option<f64>,
     recovered: Option<crate::scene::Scene>,
@@ -150,34 +163,56 @@ impl Editor {
             files: FileWorker::default(),
             retime: RetimeWorker::default(),
             options,
+            recovery: None,
             last_autosave: None,
             recovered: None,
             closing: false,
             title: String::new(),
         };
-        if let Some(recovery) = editor.options.recovery.clone()
-            && recovery.exists()
+        editor.claim_recovery();
+        if let Some(device) = editor.options.connect_on_start.clone() {
+            editor.state.link_device = device.clone();
+            editor.request_link(LinkAction::Connect(device));
+        }
+        editor
+    }
+
+    /// Takes the recovery copy for the scene's file now (dropping the one held before, which
+    /// stays on disk when it holds unsaved work, for that scene's next opening) and offers what
+    /// it holds, if anything.
+    fn claim_recovery(&mut self) {
+        let Some(folder) = &self.options.recovery else {
+            return;
+        };
+        if let Some(held) = &self.recovery
+            && held.scene_file() == self.state.file_path.as_deref()
         {
-            match recovery.load() {
+            return;
+        }
+        let wanted = folder.claim(self.state.file_path.as_deref());
+        self.recovery = None;
+        if wanted.exists() {
+            match wanted.load() {
                 Ok(scene) => {
-                    editor.recovered = Some(scene);
-                    editor.state.dialog = Some(Dialog::Recovery {
-                        source: recovery.source(),
+                    self.recovered = Some(scene);
+                    self.state.dialog = Some(Dialog::Recovery {
+                        source: wanted.source(),
                     });
                 }
                 Err(error) => {
-                    editor.state.say(
+                    self.state.say(
                         Level::Warning,
                         format!("a recovery copy was found but cannot be read: {error}"),
                     );
                 }
             }
         }
-        if let Some(device) = editor.options.connect_on_start.clone() {
-            editor.state.link_device = device.clone();
-            editor.request_link(LinkAction::Connect(device));
-        }
-        editor
+        self.recovery = Some(wanted);
+    }
+
+    /// This window's recovery copy, while autosave is on.
+    pub fn recovery_copy(&self) -> Option<&RecoveryCopy> {
+        self.recovery.as_ref()
     }
 
     /// The device link: what the link panel shows, the simulated device when connected.
@@ -314,6 +349,7 @@ impl Editor {
                 self.apply(ctx, Command::Undo, frame);
             }
         }
+        self.nudge(ctx, frame);
         for result in self.files.finished() {
             self.file_finished(ctx, result);
         }
@@ -328,7 +364,7 @@ impl Editor {
             if self.state.dirty {
                 ctx.send_viewport_cmd(egui::ViewportCommand::CancelClose);
                 self.state.dialog = Some(Dialog::UnsavedChanges);
-            } else if let Some(recovery) = &self.options.recovery {
+            } else if let Some(recovery) = &self.recovery {
                 recovery.discard();
             }
         }
@@ -355,9 +391,40 @@ impl Editor {
         }
     }
 
+    /// Moves the tool point by the nudge keys pressed this frame, unless a dialog is open or a
+    /// widget has the keyboard (a focused slider or field keeps its own arrow keys).
+    fn nudge(&mut self, ctx: &egui::Context, frame: u64) {
+        let free = ctx.memory(|memory| memory.focused().is_none());
+        if self.state.dialog.is_some() || ctx.egui_wants_keyboard_input() || !free {
+            return;
+        }
+        let mut step_mm = [0.0; 3];
+        ctx.input_mut(|input| {
+            for (key, axis, direction) in NUDGES {
+                // Shift first: a pattern without Shift matches a key pressed with it too.
+                for (modifiers, mm) in [(Modifiers::SHIFT, 10.0), (Modifiers::NONE, 1.0)] {
+                    let presses = input.count_and_consume_key(modifiers, key) as f64;
+                    step_mm[axis] += direction * mm * presses;
+                }
+            }
+        });
+        if step_mm != [0.0; 3]
+            && let Some(point) = self.state.tool_point()
+        {
+            let target = [
+                point.x + step_mm[0] * 1e-3,
+                point.y + step_mm[1] * 1e-3,
+                point.z + step_mm[2] * 1e-3,
+            ];
+            self.apply(ctx, Command::DragToolPoint { target }, frame);
+        }
+    }
+
     /// Takes what the device link published: its messages, and the arm's pose as a simulated
-    /// device moves it. Keeps the window redrawing while a device is connected.
+    /// device moves it. The link's worker wakes the window when any of that changes (at most
+    /// 30 times a second), so an idle connection costs no redraws.
     fn follow_device(&mut self, ctx: &egui::Context) {
+        self.device.wake(ctx);
         for report in self.device.poll(self.state.arm.as_ref()) {
             match report {
                 device::Report::Info(text) => self.state.say(Level::Info, text),
@@ -365,10 +432,6 @@ impl Editor {
             }
         }
         self.state.device_pose = self.device.simulated_arm_pose();
-        let view = self.device.view();
-        if view.connection.is_some() || view.connecting || view.listing {
-            ctx.request_repaint_after(LINK_REFRESH);
-        }
     }
 
     /// The window title: the file's name, a mark when there are unsaved changes, the stop.
@@ -566,7 +629,7 @@ impl Editor {
             Outside::BrowseForSave => self.files.spawn(ctx, || pick_file(true)),
             Outside::Close => {
                 self.closing = true;
-                if let Some(recovery) = &self.options.recovery {
+                if let Some(recovery) = &self.recovery {
                     recovery.discard();
                 }
                 ctx.send_viewport_cmd(egui::ViewportCommand::Close);
@@ -574,21 +637,19 @@ impl Editor {
             Outside::Recover => {
                 if let Some(scene) = self.recovered.take() {
                     self.retime.cancel();
-                    let source = match &self.options.recovery {
-                        Some(recovery) => recovery.source(),
-                        None => None,
-                    };
+                    let source = self.recovery.as_ref().and_then(RecoveryCopy::source);
                     self.state.replace_scene(scene.clone(), None);
                     // The copy holds unsaved work: keep it marked so, against the file it
                     // came from.
                     self.state.file_path = source;
                     self.state.mark_unsaved();
                     self.state.say(Level::Info, "recovered the autosaved copy");
+                    self.reattach_simulated_device();
                 }
             }
             Outside::DiscardRecovery => {
                 self.recovered = None;
-                if let Some(recovery) = &self.options.recovery {
+                if let Some(recovery) = &self.recovery {
                     recovery.discard();
                 }
             }
@@ -605,6 +666,20 @@ impl Editor {
         }
     }
 
+    /// After another scene came in: a connected simulated device is connected afresh so that it
+    /// moves the new scene's arm (a serial device is left as it is: the real arm did not
+    /// change).
+    fn reattach_simulated_device(&mut self) {
+        if self.device.simulated_device().is_some() {
+            self.state.link_device = crate::scene::Device::Simulated;
+            self.request_link(LinkAction::Connect(crate::scene::Device::Simulated));
+            self.state.say(
+                Level::Info,
+                "the simulated device was connected again to move this scene's arm",
+            );
+        }
+    }
+
     fn file_finished(&mut self, ctx: &egui::Context, result: FileResult) {
         match result {
             FileResult::Loaded { path, result } => match result {
@@ -614,6 +689,8 @@ impl Editor {
                     self.cameras = [Camera::default(), Camera::default()];
                     self.state
                         .say(Level::Info, format!("opened {}", path.display()));
+                    self.reattach_simulated_device();
+                    self.claim_recovery();
                 }
                 Err(error) => {
                     self.state
@@ -635,10 +712,12 @@ impl Editor {
                     self.state
                         .say(Level::Info, format!("saved {}", path.display()));
                     if !self.state.dirty
-                        && let Some(recovery) = &self.options.recovery
+                        && let Some(recovery) = &self.recovery
                     {
                         recovery.discard();
                     }
+                    // Saved under another name: the copy follows the file.
+                    self.claim_recovery();
                     if then_close {
                         self.carry_out(ctx, Outside::Close);
                     }
@@ -670,7 +749,7 @@ impl Editor {
 
     fn autosave(&mut self, ctx: &egui::Context) {
         let now = ctx.input(|input| input.time);
-        let Some(recovery) = self.options.recovery.clone() else {
+        let Some(recovery) = self.recovery.as_ref().map(RecoveryCopy::writer) else {
             return;
         };
         let last = *self.last_autosave.get_or_insert(now);
@@ -746,16 +825,19 @@ pub fn run(file: Option<PathBuf>) -> ExitCode {
 const EDIT_HELP: &str = "Open the desktop editor on FILE, or on the bundled pen-plotter sample.
 
 Usage: armwright edit [FILE]
+       armwright FILE          (a path ending in .json, or any existing file)
 
 The emergency stop is the red button in the top bar and the Esc key, whatever has focus.
 A software stop is not a safety device: keep a hard power cut-off within reach, keep clear of
 the arm's reach while powered, and defer to local codes and licensed practice.";
 
-/// Runs the editor when the command line asks for it: no arguments, or `edit [FILE]`. Returns
-/// `None` for any other command line, which the command-line module handles.
+/// Runs the editor when the command line asks for it: no arguments, `edit [FILE]`, or a scene
+/// file alone (`armwright FILE`). Returns `None` for any other command line, which the
+/// command-line module handles.
 pub fn run_from_args(args: &[std::ffi::OsString]) -> Option<ExitCode> {
     match args {
         [] => Some(run(None)),
+        [file] if looks_like_scene_file(file) => Some(run(Some(PathBuf::from(file)))),
         [command, rest @ ..] if command == "edit" => match rest {
             [] => Some(run(None)),
             [flag] if flag == "-h" || flag == "--help" => {
@@ -774,6 +856,19 @@ pub fn run_from_args(args: &[std::ffi::OsString]) -> Option<ExitCode> {
     }
 }
 
+/// Whether a lone command-line word names a scene file rather than a command: it ends in
+/// `.json`, or it is an existing file (command words are bare words that name no file).
+fn looks_like_scene_file(word: &std::ffi::OsStr) -> bool {
+    let path = std::path::Path::new(word);
+    if word.to_string_lossy().starts_with('-') {
+        return false;
+    }
+    let json = path
+        .extension()
+        .is_some_and(|extension| extension.eq_ignore_ascii_case("json"));
+    json || path.is_file()
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -786,6 +881,19 @@ mod tests {
     fn other_command_lines_are_left_to_the_command_line_module() {
         assert_eq!(run_from_args(&args(&["check", "scene.json"])), None);
         assert_eq!(run_from_args(&args(&["--help"])), None);
+    }
+
+    #[test]
+    fn a_lone_scene_file_is_for_the_editor_and_a_command_word_is_not() {
+        assert!(looks_like_scene_file("pen.armwright.json".as_ref()));
+        assert!(looks_like_scene_file("dir/scene.JSON".as_ref()));
+        let file = std::env::temp_dir().join(format!("armwright-lone-{}", std::process::id()));
+        std::fs::write(&file, "{}").expect("scratch file");
+        assert!(looks_like_scene_file(file.as_os_str()));
+        let _ = std::fs::remove_file(&file);
+        for word in ["check", "ports", "--help", "-h", "--version"] {
+            assert!(!looks_like_scene_file(word.as_ref()), "{word}");
+        }
     }
 
     #[test]

@@ -56,14 +56,21 @@ impl Quantity {
         }
     }
 
-    /// The unit of its axis.
-    pub fn unit(self) -> &'static str {
-        match self {
-            Quantity::Angle => "° (mm)",
-            Quantity::Velocity => "°/s (mm/s)",
-            Quantity::Acceleration => "°/s² (mm/s²)",
-            Quantity::TorqueUse => "% of rated",
-            Quantity::Deviation => "mm",
+    /// The value axis's label for the series shown: `turning` when a revolute joint is among
+    /// them, `sliding` when a prismatic one is ("°" for turning joints only, "mm" for sliding
+    /// ones only, both named when mixed).
+    pub fn axis_label(self, turning: bool, sliding: bool) -> String {
+        let (turn, slide) = match self {
+            Quantity::Angle => ("°", "mm"),
+            Quantity::Velocity => ("°/s", "mm/s"),
+            Quantity::Acceleration => ("°/s²", "mm/s²"),
+            Quantity::TorqueUse => return "% of rated".into(),
+            Quantity::Deviation => return "mm".into(),
+        };
+        match (turning, sliding) {
+            (true, true) => format!("{turn} (turning), {slide} (sliding)"),
+            (false, true) => slide.into(),
+            _ => turn.into(),
         }
     }
 

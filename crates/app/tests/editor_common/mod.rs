@@ -10,7 +10,7 @@ use std::time::{Duration, Instant};
 
 use armwright::editor::{
     ACKNOWLEDGE_LABEL, ChannelStopLink, DryRunStatus, EMERGENCY_STOP_LABEL, Editor, EditorOptions,
-    STOP_KEY, StopRequest, StopSource, StreamPhase,
+    STOP_KEY, StopRequest, StopSource, StreamEnd, StreamPhase,
 };
 use armwright_link::{DeviceMode, LinkState};
 use egui::accesskit::Role;
@@ -350,4 +350,22 @@ pub fn assert_stop_reached_link(
     );
     assert_eq!(device_pulses(harness.state()), held, "the device holds");
     assert_eq!(harness.state().device().view().phase, StreamPhase::Ended);
+    // The stream line says what happened and where: the setpoints that reached the device, out
+    // of all of them.
+    let view = harness.state().device().view().clone();
+    assert_eq!(view.ended, Some(StreamEnd::EmergencyStop));
+    assert!(
+        view.sent < view.progress.1,
+        "{} of {}",
+        view.sent,
+        view.progress.1
+    );
+    let line = format!(
+        "stream: stopped by the emergency stop at {} of {} setpoints",
+        view.sent, view.progress.1
+    );
+    assert!(
+        harness.query_by_label(&line).is_some(),
+        "no line \"{line}\""
+    );
 }

@@ -164,8 +164,9 @@ fn path_form(
     path: &str,
     action: &str,
     browse: Command,
-    done: impl FnOnce(&str) -> Command,
+    done: impl Fn(&str) -> Command,
 ) -> Command {
+    let done_now = &done;
     let mut command = Command::None;
     ui.label("Type a path, or pick a file with the system's dialog:");
     let mut text = path.to_string();
@@ -184,6 +185,12 @@ fn path_form(
         }
         if field.changed() {
             command = Command::SetDialogPath(text.clone());
+        }
+        // Enter in the path acts as the action button does.
+        let entered = (field.has_focus() || field.lost_focus())
+            && ui.input(|input| input.key_pressed(egui::Key::Enter));
+        if entered && !text.trim().is_empty() {
+            command = done_now(text.trim());
         }
         if ui.button("Browse…").clicked() {
             command = browse;
@@ -244,6 +251,28 @@ mod tests {
         harness.get_by_label("OK").click();
         harness.run();
         assert_eq!(harness.state().1, vec![Command::CloseDialog]);
+    }
+
+    #[test]
+    fn enter_in_the_path_saves_as_the_button_does() {
+        // The path as typed (the editor keeps it in the dialog between frames).
+        let mut harness = harness(Dialog::SaveAs {
+            path: "there.armwright.json".into(),
+            then_close: false,
+        });
+        harness.run();
+        harness.get_by_label("scene path").focus();
+        harness.run();
+        assert!(harness.state().1.is_empty());
+        harness.key_press(egui::Key::Enter);
+        harness.run();
+        assert_eq!(
+            harness.state().1.last(),
+            Some(&Command::SaveToPath {
+                path: "there.armwright.json".into(),
+                then_close: false
+            })
+        );
     }
 
     #[test]

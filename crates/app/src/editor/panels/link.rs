@@ -7,7 +7,7 @@ use egui::{Color32, Grid, RichText, Ui};
 use armwright_link::{DeviceMode, Faults, LinkState};
 
 use crate::editor::command::Command;
-use crate::editor::device::{LinkAction, LinkView, StreamPhase};
+use crate::editor::device::{LinkAction, LinkView, StreamEnd, StreamPhase};
 use crate::editor::state::EditorState;
 use crate::scene::{Device, pose_to_file_units};
 
@@ -19,6 +19,15 @@ pub const ACKNOWLEDGE_LABEL: &str = "I have read the caution";
 /// Draws the link panel from the state and the link's view.
 pub fn link(ui: &mut Ui, state: &EditorState, view: &LinkView) -> Command {
     let mut command = Command::None;
+    if view.arm_changed {
+        // At the top, where it is seen: the device arm has gone from the views.
+        ui.colored_label(
+            Color32::from_rgb(255, 200, 0),
+            "The arm changed since connecting: the simulated device still moves the old one. \
+             Disconnect and connect again to move this one.",
+        );
+        ui.separator();
+    }
     ui.heading("Device");
     let connected = view.connection.is_some();
     ui.add_enabled_ui(!connected && !view.connecting, |ui| {
@@ -88,9 +97,6 @@ pub fn link(ui: &mut Ui, state: &EditorState, view: &LinkView) -> Command {
         if limp {
             ui.label("No pulses: the servos are limp and the arm sags or falls under gravity.");
         }
-    } else if view.arm_changed {
-        ui.separator();
-        ui.label("The arm changed since connecting: the simulated device still moves the old one. Disconnect and connect again to move this one.");
     }
     command
 }
@@ -221,13 +227,12 @@ fn stream_controls(ui: &mut Ui, state: &EditorState, view: &LinkView) -> Command
             }
         }
     });
-    let (pushed, total) = view.progress;
-    ui.label(format!(
-        "stream: {} ({pushed} of {total} setpoints queued)",
-        phase_words(view.phase)
-    ));
+    let total = view.progress.1;
+    ui.label(stream_words(view));
     if total > 0 {
-        ui.add(egui::ProgressBar::new(pushed as f32 / total as f32));
+        ui.add(egui::ProgressBar::new(
+            view.sent.min(total) as f32 / total as f32,
+        ));
     }
     if view.clamped > 0 {
         ui.label(format!(
@@ -238,15 +243,32 @@ fn stream_controls(ui: &mut Ui, state: &EditorState, view: &LinkView) -> Command
     command
 }
 
-fn phase_words(phase: StreamPhase) -> &'static str {
-    match phase {
-        StreamPhase::Idle => "none",
-        StreamPhase::Planning => "planning",
-        StreamPhase::Streaming => "streaming",
-        StreamPhase::Pausing => "pausing",
-        StreamPhase::Paused => "paused, device holding",
-        StreamPhase::Finished => "ran to its end",
-        StreamPhase::Ended => "ended early",
+/// Where the stream stands, in words, counting the setpoints the link wrote to the device.
+pub(crate) fn stream_words(view: &LinkView) -> String {
+    let (queued, total) = view.progress;
+    let sent = view.sent.min(total);
+    match view.phase {
+        StreamPhase::Idle => "stream: none".into(),
+        StreamPhase::Planning => "stream: planning".into(),
+        StreamPhase::Streaming => {
+            format!("stream: streaming, {sent} of {total} setpoints sent ({queued} queued)")
+        }
+        StreamPhase::Pausing => format!("stream: pausing at {sent} of {total} setpoints"),
+        StreamPhase::Paused => {
+            format!("stream: paused at {sent} of {total} setpoints, the device holding")
+        }
+        StreamPhase::Finished => format!("stream: ran to its end, {total} setpoints sent"),
+        StreamPhase::Ended => match view.ended {
+            Some(StreamEnd::EmergencyStop) => {
+                format!("stream: stopped by the emergency stop at {sent} of {total} setpoints")
+            }
+            Some(StreamEnd::LinkLost) => {
+                format!("stream: link lost at {sent} of {total} setpoints")
+            }
+            Some(StreamEnd::Error) | None => {
+                format!("stream: ended early at {sent} of {total} setpoints (see the messages)")
+            }
+        },
     }
 }
 
@@ -365,6 +387,31 @@ mod tests {
         assert_eq!(
             harness.state().2.last(),
             Some(&Command::Link(LinkAction::Stream))
+        );
+    }
+
+    #[test]
+    fn the_stream_line_says_where_a_stop_left_it() {
+        let view = LinkView {
+            phase: StreamPhase::Ended,
+            progress: (69, 250),
+            sent: 61,
+            ended: Some(StreamEnd::EmergencyStop),
+            ..LinkView::default()
+        };
+        assert_eq!(
+            stream_words(&view),
+            "stream: stopped by the emergency stop at 61 of 250 setpoints"
+        );
+        let finished = LinkView {
+            phase: StreamPhase::Finished,
+            progress: (250, 250),
+            sent: 250,
+            ..LinkView::default()
+        };
+        assert_eq!(
+            stream_words(&finished),
+            "stream: ran to its end, 250 setpoints sent"
         );
     }
 

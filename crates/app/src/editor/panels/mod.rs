@@ -27,5 +27,14 @@ pub use retime::retime;
 pub use sequence::sequence;
 pub use status_bar::{CAUTION, status_bar};
 pub use timeline::{TimelinePlot, timeline};
-pub use tool_point::tool_point;
+pub use tool_point::{NUDGE_KEYS, tool_point};
 pub use top_bar::{EMERGENCY_STOP_LABEL, top_bar};
+
+/// `count` and its noun, singular for one: "1 waypoint", "8 waypoints".
+pub(crate) fn counted(count: usize, one: &str, many: &str) -> String {
+    if count == 1 {
+        format!("1 {one}")
+    } else {
+        format!("{count} {many}")
+    }
+}

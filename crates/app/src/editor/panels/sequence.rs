@@ -16,7 +16,10 @@ pub fn sequence(ui: &mut Ui, state: &EditorState) -> Command {
     let count = state.scene.waypoints.len();
     let selected = state.selected_waypoint.filter(|index| *index < count);
     ui.horizontal(|ui| {
-        ui.heading(format!("Sequence ({count} waypoints)"));
+        ui.heading(format!(
+            "Sequence ({})",
+            super::counted(count, "waypoint", "waypoints")
+        ));
         ui.separator();
         if ui
             .button("Store pose")
@@ -37,6 +40,14 @@ pub fn sequence(ui: &mut Ui, state: &EditorState) -> Command {
             && let Some(index) = selected
         {
             command = Command::UpdateWaypointPose(index);
+        }
+        if ui
+            .add_enabled(has, Button::new("Duplicate"))
+            .on_hover_text("store a copy of the selected waypoint right after it")
+            .clicked()
+            && let Some(index) = selected
+        {
+            command = Command::DuplicateWaypoint(index);
         }
         if ui.add_enabled(has, Button::new("Delete")).clicked()
             && let Some(index) = selected
@@ -65,6 +76,14 @@ pub fn sequence(ui: &mut Ui, state: &EditorState) -> Command {
                 from: index,
                 to: index + 1,
             };
+        }
+        ui.separator();
+        if ui
+            .add_enabled(count > 0, Button::new("New sequence"))
+            .on_hover_text("remove every waypoint to teach a new task; the arm stays (undo)")
+            .clicked()
+        {
+            command = Command::NewSequence;
         }
     });
     ui.separator();

@@ -9,13 +9,14 @@
 
 use std::ops::RangeInclusive;
 
+use armwright_trajectory::CommandedMotion;
 use egui::{
     Align2, Button, Color32, ComboBox, DragValue, FontId, Mesh, Rect, RichText, Shape, Ui, pos2,
     vec2,
 };
 use egui_plot::{
-    AxisHints, Corner, Legend, Plot, PlotBounds, PlotGeometry, PlotItem, PlotItemBase,
-    PlotTransform, uniform_grid_spacer,
+    AxisHints, ColorConflictHandling, Corner, Legend, Plot, PlotBounds, PlotGeometry, PlotItem,
+    PlotItemBase, PlotTransform, uniform_grid_spacer,
 };
 
 use crate::editor::command::Command;
@@ -173,6 +174,7 @@ pub fn timeline(ui: &mut Ui, state: &EditorState, plot: &mut TimelinePlot) -> Co
         }
         ui.separator();
         let span = timeline.map_or(0.0, Timeline::span);
+        let cycle = timeline.map_or(0.0, |timeline| CommandedMotion::duration(&timeline.plan));
         let mut cursor = playback.cursor;
         let field = ui.add_enabled(
             ready,
@@ -185,7 +187,14 @@ pub fn timeline(ui: &mut Ui, state: &EditorState, plot: &mut TimelinePlot) -> Co
         if field.changed() {
             wanted = Some(PlaybackCommand::SetCursor(cursor));
         }
-        ui.label(format!("of {span:.2} s"));
+        // The cycle is the plan's length, as the retime tab and `armwright plan` give it; the
+        // dry run may run on while the servos settle.
+        let cycle_label = ui.label(format!("cycle {cycle:.2} s"));
+        if span > cycle + 5e-4 {
+            cycle_label.on_hover_text(format!(
+                "the dry run goes on to {span:.2} s while the servos settle"
+            ));
+        }
         if matches!(playback.status, DryRunStatus::Running) {
             ui.spinner();
             ui.label("dry run…");
@@ -307,6 +316,13 @@ fn plot_lines(
             )
         })
         .collect();
+    let shown = |joint: usize| playback.joint.is_none_or(|only| only == joint);
+    let shown_joints = (0..timeline.traces.joints).filter(|joint| shown(*joint));
+    let (turning, sliding) = shown_joints.fold((false, false), |(turning, sliding), joint| {
+        let slides = state.is_prismatic(joint);
+        (turning || !slides, sliding || slides)
+    });
+    let axis_label = quantity.axis_label(turning, sliding);
     let lines = &mut *plot;
     let response = Plot::new("armwright timeline plot")
         .allow_drag(false)
@@ -326,11 +342,17 @@ fn plot_lines(
         }))
         .custom_y_axes(vec![
             AxisHints::new_y()
-                .label(quantity.unit())
+                .label(axis_label)
                 .label_spacing(16.0..=24.0)
                 .min_thickness(40.0),
         ])
-        .legend(Legend::default().position(Corner::RightTop))
+        // A joint's pale dry-run band and its commanded line share a legend entry: the swatch
+        // takes the commanded line's colour (added last) rather than turning grey.
+        .legend(
+            Legend::default()
+                .position(Corner::RightTop)
+                .color_conflict_handling(ColorConflictHandling::PickLast),
+        )
         .show(ui, |plot_ui| {
             let bounds = plot_ui.plot_bounds();
             let width = plot_ui.response().rect.width();
@@ -503,6 +525,17 @@ impl PlotItem for Band<'_> {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn the_value_axis_names_the_units_of_the_joints_shown() {
+        assert_eq!(Quantity::Angle.axis_label(true, false), "°");
+        assert_eq!(Quantity::Velocity.axis_label(false, true), "mm/s");
+        assert_eq!(
+            Quantity::Angle.axis_label(true, true),
+            "° (turning), mm (sliding)"
+        );
+        assert_eq!(Quantity::TorqueUse.axis_label(true, true), "% of rated");
+    }
 
     #[test]
     fn value_steps_follow_1_2_5() {

@@ -98,12 +98,27 @@ pub fn top_bar(ui: &mut Ui, state: &EditorState) -> Command {
             .map(|name| name.to_string_lossy().into_owned())
             .unwrap_or_else(|| "built-in sample (not saved)".into());
         let mark = if state.dirty { "* " } else { "" };
-        ui.label(format!("{mark}{name}"))
-            .on_hover_text(if state.dirty {
-                "unsaved changes"
-            } else {
-                "saved"
-            });
+        ui.vertical(|ui| {
+            ui.label(format!("{mark}{name}"))
+                .on_hover_text(if state.dirty {
+                    "unsaved changes"
+                } else {
+                    "saved"
+                });
+            let mut text = state.scene.description.clone();
+            let field = ui
+                .add_enabled(
+                    free,
+                    egui::TextEdit::singleline(&mut text)
+                        .id_salt("scene description")
+                        .hint_text("what this scene is for")
+                        .desired_width(ui.available_width().clamp(120.0, 420.0)),
+                )
+                .accessible_name("scene description");
+            if field.changed() {
+                command = Command::SetDescription(text);
+            }
+        });
     });
     command
 }
@@ -142,6 +157,20 @@ mod tests {
         assert_eq!(
             harness.state().1,
             vec![Command::EmergencyStop(StopSource::Button)]
+        );
+    }
+
+    #[test]
+    fn typing_a_description_asks_to_set_it() {
+        let mut harness = harness();
+        harness.get_by_label("scene description").focus();
+        harness.run();
+        harness.get_by_label("scene description").type_text("!");
+        harness.run();
+        let description = format!("{}!", sample_scene().description);
+        assert_eq!(
+            harness.state().1.last(),
+            Some(&Command::SetDescription(description))
         );
     }
 

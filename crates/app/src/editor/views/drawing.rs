@@ -93,32 +93,52 @@ fn grid_colour(value: f64, major: f64) -> Color32 {
 }
 
 /// A scale bar of a round length in the bottom-left corner, with the grid step beside it.
-pub fn scale_bar(painter: &Painter, projection: &Projection) {
+///
+/// `avoid` is a box already drawn in the bottom corner (the colour legend): when the scale bar
+/// and its label would reach into it, the bar goes above it instead. Returns the box it covers.
+pub fn scale_bar(painter: &Painter, projection: &Projection, avoid: Option<Rect>) -> Rect {
     let length_mm = nice_length_mm(90.0 / projection.points_per_mm);
     let length = (length_mm * projection.points_per_mm) as f32;
-    let start = projection.rect.left_bottom() + vec2(16.0, -18.0);
+    let grid_mm = nice_length_mm(GRID_MIN_SPACING / projection.points_per_mm);
+    let text = format!(
+        "{} mm  (grid {} mm)",
+        format_mm(length_mm),
+        format_mm(grid_mm)
+    );
+    let font = FontId::proportional(12.0);
+    let text_width = painter
+        .layout_no_wrap(text.clone(), font.clone(), LABEL)
+        .size()
+        .x;
+    let mut start = projection.rect.left_bottom() + vec2(16.0, -18.0);
+    let backdrop = |start: Pos2| {
+        let end = start + vec2(length, 0.0);
+        let half_text = (text_width - length).max(0.0) / 2.0;
+        Rect::from_min_max(
+            start + vec2(-8.0 - half_text, -24.0),
+            end + vec2(8.0 + half_text, 10.0),
+        )
+    };
+    if let Some(avoid) = avoid
+        && backdrop(start).intersects(avoid)
+    {
+        start.y = avoid.top() - 14.0;
+    }
     let end = start + vec2(length, 0.0);
     let stroke = Stroke::new(2.0, LABEL);
-    painter.rect_filled(
-        Rect::from_min_max(start + vec2(-8.0, -24.0), end + vec2(8.0, 10.0)),
-        3.0,
-        BACKGROUND.gamma_multiply(0.85),
-    );
+    let covered = backdrop(start);
+    painter.rect_filled(covered, 3.0, BACKGROUND.gamma_multiply(0.85));
     painter.line_segment([start, end], stroke);
     painter.line_segment([start + vec2(0.0, -5.0), start + vec2(0.0, 5.0)], stroke);
     painter.line_segment([end + vec2(0.0, -5.0), end + vec2(0.0, 5.0)], stroke);
-    let grid_mm = nice_length_mm(GRID_MIN_SPACING / projection.points_per_mm);
     painter.text(
         start + vec2(length / 2.0, -6.0),
         Align2::CENTER_BOTTOM,
-        format!(
-            "{} mm  (grid {} mm)",
-            format_mm(length_mm),
-            format_mm(grid_mm)
-        ),
-        FontId::proportional(12.0),
+        text,
+        font,
         LABEL,
     );
+    covered
 }
 
 fn format_mm(value: f64) -> String {
@@ -377,23 +397,46 @@ fn state_has_problem(state: &EditorState) -> bool {
 }
 
 /// The view's title in the top-left corner and its problems in the top-right.
-pub fn captions(painter: &Painter, rect: Rect, title: &str, problems: &[String]) {
-    painter.text(
+///
+/// The problem lines sit at the top right; when the first would run into the title (a narrow
+/// view, a long message), they all go below the title instead. Returns the box the captions
+/// cover, in screen points.
+pub fn captions(painter: &Painter, rect: Rect, title: &str, problems: &[String]) -> Rect {
+    let font = FontId::proportional(14.0);
+    let title_rect = painter.text(
         rect.left_top() + vec2(10.0, 8.0),
         Align2::LEFT_TOP,
         title,
-        FontId::proportional(14.0),
+        font.clone(),
         LABEL,
     );
+    let mut covered = title_rect;
+    let widest = problems
+        .iter()
+        .map(|text| {
+            painter
+                .layout_no_wrap(text.clone(), font.clone(), WARNING)
+                .size()
+                .x
+        })
+        .fold(0.0_f32, f32::max);
+    let clear_of_title = rect.right() - 10.0 - widest > title_rect.right() + 12.0;
+    let top = if clear_of_title {
+        rect.top() + 8.0
+    } else {
+        title_rect.bottom() + 4.0
+    };
     for (line, text) in problems.iter().enumerate() {
-        painter.text(
-            rect.right_top() + vec2(-10.0, 8.0 + 18.0 * line as f32),
+        let drawn = painter.text(
+            pos2(rect.right() - 10.0, top + 18.0 * line as f32),
             Align2::RIGHT_TOP,
             text,
-            FontId::proportional(14.0),
+            font.clone(),
             WARNING,
         );
+        covered = covered.union(drawn);
     }
+    covered
 }
 
 /// Envelope boundary.
@@ -426,17 +469,16 @@ pub fn reach(painter: &Painter, projection: &Projection, layer: &MapLayer) {
 
 /// The legend of the shading (continuous ramp, % of rated torque) and of the boundary, in the
 /// bottom-right corner.
-pub fn reach_legend(painter: &Painter, rect: Rect) {
+///
+/// Returns the box it covers, in screen points.
+pub fn reach_legend(painter: &Painter, rect: Rect) -> Rect {
     let width = 180.0;
     let bar = Rect::from_min_size(
         rect.right_bottom() + vec2(-width - 16.0, -58.0),
         vec2(width, 10.0),
     );
-    painter.rect_filled(
-        bar.expand2(vec2(8.0, 30.0)).translate(vec2(0.0, 4.0)),
-        3.0,
-        BACKGROUND.gamma_multiply(0.85),
-    );
+    let backdrop = bar.expand2(vec2(8.0, 30.0)).translate(vec2(0.0, 4.0));
+    painter.rect_filled(backdrop, 3.0, BACKGROUND.gamma_multiply(0.85));
     let steps = 45;
     for step in 0..steps {
         let t0 = step as f32 / steps as f32;
@@ -490,4 +532,54 @@ pub fn reach_legend(painter: &Painter, rect: Rect) {
         font,
         LABEL,
     );
+    backdrop
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Runs `draw` with a painter on a fresh context and returns what it returned.
+    fn with_painter<T>(draw: impl Fn(&Painter) -> T) -> T {
+        let ctx = egui::Context::default();
+        let mut out = None;
+        let mut output = ctx.run_ui(egui::RawInput::default(), |ui| {
+            out = Some(draw(ui.painter()));
+        });
+        // No renderer here: the font atlas's upload is not needed.
+        output.textures_delta.clear();
+        out.expect("the context ran one pass")
+    }
+
+    #[test]
+    fn problem_lines_go_below_the_title_in_a_narrow_view() {
+        let title = "Side view at base yaw -7.6°";
+        let problems = vec!["OUT OF REACH by 92.7 mm".to_string()];
+        let [(narrow_title, narrow_all), (wide_title, wide_all)] = [320.0, 900.0].map(|width| {
+            with_painter(|painter| {
+                let rect = Rect::from_min_size(pos2(0.0, 0.0), vec2(width, 400.0));
+                let title_only = captions(painter, rect, title, &[]);
+                (title_only, captions(painter, rect, title, &problems))
+            })
+        });
+        // Narrow: the problem line is under the title, not over it.
+        assert!(narrow_all.bottom() > narrow_title.bottom() + 10.0);
+        // Wide: it sits beside the title, on the same line.
+        assert!((wide_all.bottom() - wide_title.bottom()).abs() < 4.0);
+    }
+
+    #[test]
+    fn the_scale_bar_steps_over_the_colour_legend() {
+        // A narrow view zoomed out: the bar and its label would reach under the legend.
+        let (legend, bar, alone) = with_painter(|painter| {
+            let rect = Rect::from_min_size(pos2(0.0, 0.0), vec2(300.0, 400.0));
+            let projection = super::super::projection::fit(rect, [-300.0, 300.0, -300.0, 300.0]);
+            let legend = reach_legend(painter, rect);
+            let bar = scale_bar(painter, &projection, Some(legend));
+            let alone = scale_bar(painter, &projection, None);
+            (legend, bar, alone)
+        });
+        assert!(alone.intersects(legend), "the case this guards against");
+        assert!(!bar.intersects(legend), "{bar:?} under {legend:?}");
+    }
 }

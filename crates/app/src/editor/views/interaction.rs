@@ -28,6 +28,9 @@ pub struct Camera {
     grab: Option<Vec2>,
     /// Where the tool point was drawn last frame.
     tool_on_screen: Option<Pos2>,
+    /// The side view's yaw (rad), held while the primary pointer button is down so that a drag
+    /// in either view does not turn the side view under the pointer; it turns when released.
+    held_yaw: Option<f64>,
 }
 
 impl Camera {
@@ -40,7 +43,17 @@ impl Camera {
     pub fn projection(&self) -> Option<&Projection> {
         self.projection.as_ref()
     }
+
+    /// The side view's yaw held during a drag (rad), if one is held.
+    pub fn held_yaw(&self) -> Option<f64> {
+        self.held_yaw
+    }
 }
+
+/// What a view does with the pointer, shown when the pointer rests on it.
+pub const VIEW_HINT: &str = "drag the tool point to move the arm · wheel: zoom (over the tool \
+                             point: tool angle) · right or middle drag: pan · double-click: fit \
+                             the arm";
 
 /// Shows one view filling the space `ui` has left, with `overlays` drawn over the edited arm.
 pub fn show_view(
@@ -57,11 +70,21 @@ pub fn show_view(
         ViewKind::Side => "side view",
     });
     let rect = response.rect;
-    let yaw = state.side_view_yaw();
+    let live_yaw = state.side_view_yaw();
+    let yaw = if kind == ViewKind::Side && ui.input(|input| input.pointer.primary_down()) {
+        *camera.held_yaw.get_or_insert(live_yaw)
+    } else {
+        camera.held_yaw = None;
+        live_yaw
+    };
     let plane: &dyn Plane = match kind {
         ViewKind::Top => &TopPlane,
         ViewKind::Side => &SidePlane { yaw },
     };
+    if response.double_clicked() {
+        // Fit the arm again after zooming and panning.
+        camera.projection = None;
+    }
     let mut projection = camera
         .projection
         .unwrap_or_else(|| fit(rect, default_extent(state, kind)));
@@ -132,17 +155,16 @@ pub fn show_view(
             overlay_arm(&clipped, &projection, plane, arm, overlay);
         }
     }
-    drawing::scale_bar(&clipped, &projection);
-    if reach.is_some() {
-        drawing::reach_legend(&clipped, rect);
-    }
+    let legend = reach.map(|_| drawing::reach_legend(&clipped, rect));
+    let _ = drawing::scale_bar(&clipped, &projection, legend);
     let title = match kind {
         ViewKind::Top => "Top view (X right, Y up)".to_string(),
         ViewKind::Side => format!("Side view at base yaw {:.1}°", yaw.to_degrees()),
     };
-    drawing::captions(&clipped, rect, &title, &state.reach_problems());
+    let _ = drawing::captions(&clipped, rect, &title, &state.reach_problems());
     overlay_legend(&clipped, rect, overlays);
     camera.projection = Some(projection);
+    response.on_hover_text(VIEW_HINT);
     command
 }
 

@@ -16,7 +16,7 @@ mod reach_layer;
 mod side_view;
 mod top_view;
 
-pub use interaction::{Camera, show_view};
+pub use interaction::{Camera, VIEW_HINT, show_view};
 pub use overlay::{ArmOverlay, DEVICE, SIMULATED};
 pub use projection::Projection;
 pub use reach_layer::{MapKey, MapLayer, RAMP_TOP, ReachLayers, torque_colour};

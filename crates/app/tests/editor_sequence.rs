@@ -1,0 +1,125 @@
+//! Teaching a new task in the whole window: a new sequence keeps the arm, typed positions are
+//! stored as waypoints that follow the one before (a descent is a straight move named for what
+//! changed, a gripper change is named for it), a waypoint is duplicated, the scene is saved
+//! through the path box with Enter, and the saved file passes `armwright check` and
+//! `armwright simulate`.
+
+mod editor_common;
+
+use std::process::Command as Process;
+
+use armwright::scene::MoveKind;
+use egui::Key;
+use egui_kittest::kittest::Queryable;
+
+use editor_common::{EditorHarness, sample_editor, settle};
+
+/// Types `mm` into the tool point's `axis` field ("x", "y" or "z") and runs two frames.
+fn type_position(harness: &mut EditorHarness, axis: &str, mm: f64) {
+    harness
+        .get_by_label(&format!("tool point {axis} (mm)"))
+        .set_value_accesskit(mm);
+    harness.run_steps(2);
+}
+
+fn store(harness: &mut EditorHarness) {
+    harness.get_by_label("Store pose").click();
+    harness.run_steps(2);
+}
+
+#[test]
+fn a_new_pick_and_place_is_taught_by_typed_positions_saved_and_checked() {
+    let (mut harness, _requests, dir) = sample_editor("sequence-teach");
+    let arm = harness.state().state.scene.arm.clone();
+    harness.get_by_label("New sequence").click();
+    harness.run_steps(2);
+    assert!(harness.state().state.scene.waypoints.is_empty());
+    assert_eq!(harness.state().state.scene.arm, arm);
+
+    // Above the pick, down to it, grip, up again, over to the place, down, release, up.
+    let (pick, place) = ([170.0, -30.0], [150.0, 40.0]);
+    let (high, low) = (40.0, 15.0);
+    for (at, down_and_up) in [(pick, "closed"), (place, "open")] {
+        type_position(&mut harness, "x", at[0]);
+        type_position(&mut harness, "y", at[1]);
+        type_position(&mut harness, "z", high);
+        store(&mut harness);
+        type_position(&mut harness, "z", low);
+        store(&mut harness);
+        harness.get_by_label_contains(down_and_up).click();
+        harness.run_steps(2);
+        store(&mut harness);
+        type_position(&mut harness, "z", high);
+        store(&mut harness);
+    }
+    let waypoints = harness.state().state.scene.waypoints.clone();
+    assert_eq!(waypoints.len(), 8, "{:?}", names(&harness));
+    assert_eq!(waypoints[1].move_kind, MoveKind::Straight);
+    assert_eq!(
+        waypoints[1].name,
+        format!("25 mm below {}", waypoints[0].name)
+    );
+    assert_eq!(
+        waypoints[2].name,
+        format!("{}, gripper closed", waypoints[1].name)
+    );
+    assert_eq!(waypoints[3].move_kind, MoveKind::Straight);
+    assert!(
+        waypoints[3].name.starts_with("25 mm above "),
+        "{}",
+        waypoints[3].name
+    );
+    assert_eq!(
+        waypoints[4].move_kind,
+        MoveKind::Joint,
+        "sideways is a joint move"
+    );
+
+    // Duplicate the last: a copy right after it, selected.
+    harness.get_by_label("Duplicate").click();
+    harness.run_steps(2);
+    assert_eq!(harness.state().state.scene.waypoints.len(), 9);
+    assert!(harness.query_by_label("Sequence (9 waypoints)").is_some());
+
+    // Save through the path box, with Enter.
+    let path = dir.join("taught.armwright.json");
+    harness.get_by_label("Save as…").click();
+    harness.run_steps(3);
+    harness
+        .get_by_label("scene path")
+        .type_text(&path.display().to_string());
+    harness.run_steps(2);
+    harness.key_press(Key::Enter);
+    harness.run_steps(1);
+    settle(&mut harness);
+    assert_eq!(
+        harness.state().state.file_path.as_deref(),
+        Some(path.as_path())
+    );
+    assert!(!harness.state().state.is_dirty());
+
+    for command in ["check", "simulate"] {
+        let output = Process::new(env!("CARGO_BIN_EXE_armwright"))
+            .arg(command)
+            .arg(&path)
+            .output()
+            .expect("armwright runs");
+        assert!(
+            output.status.success(),
+            "armwright {command}: {}{}",
+            String::from_utf8_lossy(&output.stdout),
+            String::from_utf8_lossy(&output.stderr)
+        );
+    }
+}
+
+fn names(harness: &EditorHarness) -> Vec<String> {
+    harness
+        .state()
+        .state
+        .scene
+        .waypoints
+        .iter()
+        .map(|waypoint| waypoint.name.clone())
+        .collect()
+}
