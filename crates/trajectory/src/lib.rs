@@ -52,13 +52,16 @@ mod sync; // several joints of one move: start and end together, slowest sets th
 pub use crate::arm_limits::{LimitError, LimitSettings, limits_from_arm};
 pub use crate::arm_plan::{PlanError, Task, TaskPlan, TaskPlanner, TaskWaypoint, plan_task};
 pub use crate::dry_run::{
-    CommandedMotion, DryRun, DryRunError, DryRunOptions, WaypointResult, WaypointTiming, dry_run,
+    CommandedMotion, DryRun, DryRunError, DryRunOptions, GRIPPER_TIME, WaypointResult,
+    WaypointTiming, dry_run, gripper_moment,
 };
 pub use crate::profile::{
     Boundary, JointLimits, JointMove, JointState, LimitKind, Profile, ProfileError, ProfileShape,
     ProfileTimes,
 };
-pub use crate::retime::{Planner, RetimeError, RetimeTarget, Retimed, RunSummary, Timing, retime};
+pub use crate::retime::{
+    Binding, Planner, RetimeError, RetimeTarget, Retimed, RunSummary, Timing, retime,
+};
 pub use crate::sample::{MAX_SAMPLE_RATE_HZ, MIN_SAMPLE_RATE_HZ, Sample, Sampler};
 pub use crate::second_order::{SecondOrder, VibrationError};
 pub use crate::sequence::{

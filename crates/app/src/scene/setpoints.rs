@@ -19,7 +19,8 @@ pub struct SampledPose {
     pub gripper_closed: f64,
 }
 
-/// The plan sampled at `rate_hz`; the gripper takes the state of the last waypoint reached.
+/// The plan sampled at `rate_hz`; the gripper takes the state of the last waypoint reached, a
+/// change of state coming when the plan says the gripper acts (`WaypointTiming::gripper_acts`).
 ///
 /// # Errors
 /// A message naming `--rate` when the plan cannot be sampled at that rate.
@@ -32,7 +33,13 @@ pub fn sampled_poses(
     let setpoints = plan
         .setpoints(rate_hz)
         .map_err(|error| format!("--rate: {error}"))?;
-    let arrivals: Vec<f64> = plan.timings().iter().map(|t| t.arrival).collect();
+    // A waypoint's gripper state holds from its arrival or, where the gripper changes state,
+    // from when it acts (late in the dwell, as the dry run has it).
+    let arrivals: Vec<f64> = plan
+        .timings()
+        .iter()
+        .map(|t| t.gripper_acts.unwrap_or(t.arrival))
+        .collect();
     let joints = arm.joint_count();
     Ok(setpoints
         .into_iter()
@@ -97,7 +104,7 @@ mod tests {
     use armwright_trajectory::plan_task;
 
     #[test]
-    fn the_gripper_channel_follows_the_state_of_the_last_waypoint_reached() {
+    fn the_gripper_channel_follows_the_state_of_the_last_waypoint_reached_once_it_acts() {
         let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
             .join("../../sample-scenes/peg-sorter.armwright.json");
         let scene = load(&path).unwrap();
@@ -112,10 +119,12 @@ mod tests {
         let last = usize::from(device.channel_count) - 1;
         let timings = plan.timings();
         let mut changes = 0;
+        let mut acted_late = 0;
         for (index, (waypoint, timing)) in scene.waypoints.iter().zip(timings).enumerate() {
-            // A sample just after the arrival (clear of rounding at the instant itself), if it
-            // comes before the next arrival.
-            let sample = (timing.arrival * rate_hz).ceil() as usize + 1;
+            // A sample just after the arrival, or after the gripper acts where it changes state
+            // (clear of rounding at the instant itself), if it comes before the next arrival.
+            let from = timing.gripper_acts.unwrap_or(timing.arrival);
+            let sample = (from * rate_hz).ceil() as usize + 1;
             let next = timings.get(index + 1).map_or(f64::INFINITY, |t| t.arrival);
             if sample >= poses.len() || sample as f64 / rate_hz >= next {
                 continue;
@@ -131,7 +140,26 @@ mod tests {
                 waypoint.name
             );
             changes += 1;
+            // Until the gripper acts it keeps the state it had.
+            if let Some(moment) = timing.gripper_acts
+                && index > 0
+                && (moment - timing.arrival) * rate_hz > 2.0
+            {
+                let before = (moment * rate_hz).floor() as usize - 1;
+                let kept_us = match scene.waypoints[index - 1].gripper {
+                    GripperState::Open => gripper.open_pulse_us,
+                    GripperState::Closed => gripper.closed_pulse_us,
+                };
+                assert_eq!(
+                    u32::from(converted.values[before].as_slice()[last]),
+                    kept_us,
+                    "before the gripper acts at {}",
+                    waypoint.name
+                );
+                acted_late += 1;
+            }
         }
+        assert!(acted_late > 0, "no gripper acts late in a dwell");
         assert!(
             changes >= scene.waypoints.len() / 2,
             "{changes} waypoints checked"
