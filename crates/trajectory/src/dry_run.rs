@@ -105,8 +105,9 @@ pub struct WaypointResult {
     /// waypoint, looked at every 4 ms, in m.
     pub following_error: f64,
     /// Largest simulated torque use of any joint on the move into the waypoint and its dwell: the
-    /// drive the servo model's position loop asks for, as its mean over the pulse frame around
-    /// each instant, over the derated stall torque (share; 1.0 = 100 % of stall × derating).
+    /// servo model's motor effort (the drive its position loop asks for less the back-EMF
+    /// braking at its speed), as its mean over each pulse frame, over the derated stall torque
+    /// (share; 1.0 = 100 % of stall × derating).
     pub peak_torque_use: f64,
     /// The joint (index, base first) with that largest torque use.
     pub peak_torque_joint: usize,
@@ -440,16 +441,16 @@ impl Measure<'_> {
         self.trace.actual_at(k - self.first)
     }
 
-    /// The largest mean |drive share| over a pulse frame among the frames that samples
+    /// The largest mean |motor effort share| over a pulse frame among the frames that samples
     /// `from..=to` fall in (a frame cut short at `to`), and the joint it belongs to.
     ///
     /// Within every frame the servo's drive swings hard as it takes up the step in its command;
     /// the mean over the frame is the effort the servo keeps up, the figure a rating is for.
     /// Frames start where the run's frames start, so a window of the run measures what the
     /// whole run measured.
-    fn peak_frame_drive(&self, from: usize, to: usize) -> (f64, usize) {
+    fn peak_frame_effort(&self, from: usize, to: usize) -> (f64, usize) {
         let n = self.trace.joint_count;
-        let drive = &self.trace.drive_share;
+        let drive = &self.trace.effort_share;
         let first = self.first;
         let per_frame = self.frame_steps.max(1);
         let mut peak = (0.0, 0);
@@ -525,8 +526,8 @@ impl Measure<'_> {
                     known = Some((actual, commanded, error));
                 }
             }
-            let (peak_drive, peak_torque_joint) =
-                self.peak_frame_drive(self.sample_of(move_start), window_end);
+            let (peak_effort, peak_torque_joint) =
+                self.peak_frame_effort(self.sample_of(move_start), window_end);
 
             let mut result = WaypointResult {
                 overshoot: 0.0,
@@ -537,7 +538,7 @@ impl Measure<'_> {
                 resting_error: 0.0,
                 resting_offset: [0.0; 3],
                 following_error,
-                peak_torque_use: peak_drive / self.options.derating,
+                peak_torque_use: peak_effort / self.options.derating,
                 peak_torque_joint,
             };
             if w.stop {

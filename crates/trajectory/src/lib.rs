@@ -39,6 +39,7 @@
 mod arm_limits; // limits a plan takes from the arm's servos, masses and gravity
 mod arm_plan; // a task planned on a real arm: limits, gripper payload, waypoint timings
 mod dry_run; // a plan run through the servo model: overshoot, settling, following error
+mod placement; // share of picks and places within tolerance: Monte Carlo and closed form
 mod profile; // one joint's move: trapezoid and double-S profiles, evaluation, stretching
 mod retime; // the fastest timing whose dry run meets an overshoot and torque target
 mod sample; // setpoints from a plan at a fixed rate (50–1000 Hz)
@@ -54,6 +55,9 @@ pub use crate::arm_plan::{PlanError, Task, TaskPlan, TaskPlanner, TaskWaypoint, 
 pub use crate::dry_run::{
     CommandedMotion, DryRun, DryRunError, DryRunOptions, GRIPPER_TIME, WaypointResult,
     WaypointTiming, dry_run, gripper_moment,
+};
+pub use crate::placement::{
+    MAX_PLACEMENT_DRAWS, PlacementEstimate, PlacementOptions, disc_probability, placement_estimate,
 };
 pub use crate::profile::{
     Boundary, JointLimits, JointMove, JointState, LimitKind, Profile, ProfileError, ProfileShape,

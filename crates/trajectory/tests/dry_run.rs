@@ -203,7 +203,7 @@ fn a_gripper_acting_on_arrival_finds_the_arm_unsettled_and_a_long_dwell_settles_
 
 #[test]
 fn at_rest_the_simulated_torque_use_is_the_commanded_holding_torque_use() {
-    // One basis: the dry run's torque use (the loop's drive, mean over a pulse frame, over the
+    // One basis: the dry run's torque use (the motor effort, mean over a pulse frame, over the
     // derated stall torque) and the plan's (inverse dynamics over the derated stall torque)
     // meet at rest, where both are the holding torque, give or take dry friction.
     let arm = common::articulated(false);
@@ -226,7 +226,7 @@ fn at_rest_the_simulated_torque_use_is_the_commanded_holding_torque_use() {
     for j in 0..n {
         let model = ServoModel::of_joint(&arm.joints()[j], &options.servo);
         let frame: f64 = (last - 19..=last)
-            .map(|k| run.trace.drive_share[k * n + j].abs())
+            .map(|k| run.trace.effort_share[k * n + j].abs())
             .sum::<f64>()
             / 20.0;
         let simulated = frame / derating;

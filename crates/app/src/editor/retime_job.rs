@@ -224,8 +224,9 @@ fn failure(scene: &Scene, arm: &Arm, torque_share: f64, error: &RetimeError) -> 
             speed_share,
             overshoot,
             torque_use,
+            unsettled,
         } => format!(
-            "target not met: waypoint {} \"{}\" misses it even at {:.0} % speed (overshoot {:.2} mm, torque use {:.0} %)",
+            "target not met: waypoint {} \"{}\" misses it even at {:.0} % speed (overshoot {:.2} mm, simulated torque use {:.0} % of the derated stall torque{})",
             waypoint + 1,
             scene
                 .waypoints
@@ -233,7 +234,12 @@ fn failure(scene: &Scene, arm: &Arm, torque_share: f64, error: &RetimeError) -> 
                 .map_or("", |w| w.name.as_str()),
             speed_share * 100.0,
             overshoot * 1e3,
-            torque_use * 100.0
+            torque_use * 100.0,
+            if *unsettled {
+                ", not settled before the gripper acts"
+            } else {
+                ""
+            }
         ),
         other => format!("cannot retime: {other}"),
     }
