@@ -64,7 +64,7 @@ fn limit(arm: &Arm, unloaded: &JointEfforts, per_kg: &JointEfforts, derating: f6
         let rated = joint.rated_effort(derating);
         let base = unloaded.as_slice()[j];
         let slope = per_kg.as_slice()[j] - base;
-        let mass = if !(rated > 0.0) || base.abs() > rated {
+        let mass = if rated.is_nan() || rated <= 0.0 || base.abs() > rated {
             0.0
         } else if slope > 0.0 {
             (rated - base) / slope

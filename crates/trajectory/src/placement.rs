@@ -47,7 +47,7 @@ impl Default for PlacementOptions {
             calibration_sd: 0.5_f64.to_radians(),
             calibration_sd_sliding: 0.5e-3,
             draws: 4000,
-            seed: 0x5EED_0F_A1_ACE,
+            seed: 0x05EE_D0FA_1ACE,
         }
     }
 }
@@ -153,7 +153,7 @@ pub fn placement_estimate(
 /// inside the circle for t in [t₁, t₂]; the directions are averaged over 720 equal steps (the
 /// trapezoid rule, very accurate for a periodic integrand).
 pub fn disc_probability(mean: [f64; 2], covariance: [[f64; 2]; 2], radius: f64) -> f64 {
-    if !(radius > 0.0) {
+    if radius.is_nan() || radius <= 0.0 {
         return 0.0;
     }
     // Cholesky of the (symmetric) covariance, kept positive where it is degenerate.

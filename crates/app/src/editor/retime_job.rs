@@ -469,9 +469,15 @@ mod tests {
             speed_share: 0.05,
             overshoot: 2.5e-3,
             torque_use: 0.4,
+            unsettled: true,
         };
         let arm = crate::scene::build_arm(&scene.arm).expect("sample arm");
         let text = failure(&scene, &arm, 0.5, &error);
+        assert!(
+            text.contains("not settled before the gripper acts"),
+            "{text}"
+        );
+        assert!(text.contains("40 % of the derated stall torque"), "{text}");
         assert!(
             text.starts_with(&format!(
                 "target not met: waypoint 2 \"{}\"",

@@ -181,8 +181,8 @@ fn report_view(ui: &mut Ui, report: &RetimeReport, stale: bool) -> Command {
         ))
     } else if report.already_met {
         Some(format!(
-            "already meets the target; a faster timing does too: {:.3} s → {:.3} s",
-            report.before.cycle_time_s, report.after.cycle_time_s
+            "already meets the target; a faster timing does too: {:.3} s, was {:.3} s",
+            report.after.cycle_time_s, report.before.cycle_time_s
         ))
     } else {
         Some(format!(
