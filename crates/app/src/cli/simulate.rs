@@ -296,3 +296,36 @@ fn print_dry_run(scene: &Scene, run: &DryRun, report: &SimulateReport) {
         eprintln!("problem: {problem}");
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::scene::{build_arm, load, plan_of};
+
+    #[test]
+    fn a_simulated_torque_use_over_100_pct_is_a_problem_naming_joint_and_waypoint() {
+        let path = Path::new(env!("CARGO_MANIFEST_DIR"))
+            .join("../../sample-scenes/peg-sorter.armwright.json");
+        let scene = load(&path).expect("sample loads");
+        let arm = build_arm(&scene.arm).expect("sample arm");
+        let plan = plan_of(&scene, &arm).expect("plans");
+        let mut run = dry_run_of(&scene, &arm, &plan).expect("runs");
+        let clean = SimulateReport::of(&scene, &arm, &plan, &run).expect("reports");
+        assert!(clean.problems.is_empty(), "{:?}", clean.problems);
+        // The dry run's figure for the move into waypoint 3, pushed past the share.
+        run.waypoints[3].peak_torque_use = 1.25;
+        run.waypoints[3].peak_torque_joint = 1;
+        let report = SimulateReport::of(&scene, &arm, &plan, &run).expect("reports");
+        assert_eq!(report.problems.len(), 1);
+        let (waypoint, message) = &report.problems[0];
+        assert_eq!(*waypoint, 3);
+        assert!(message.contains(&scene.waypoints[3].name), "{message}");
+        assert!(message.contains(&format!("joint 1 \"{}\"", scene.arm.joints[1].name)));
+        assert!(
+            message.contains("125 % of its derated stall torque"),
+            "{message}"
+        );
+        let json = dry_run_json(&scene, &run, &report);
+        assert_eq!(json["ok"], json!(false));
+    }
+}
