@@ -429,7 +429,12 @@ impl Editor {
                 ScrollArea::vertical()
                     .id_salt("armwright joints scroll")
                     .show(ui, |ui| {
-                        let joints = panels::joint_controls(ui, &self.state);
+                        let pulse_unit_us =
+                            self.device.view().connection.as_ref().map_or(
+                                armwright_kinematics::DEFAULT_PULSE_UNIT_US,
+                                |connection| connection.info.us_from_units(1),
+                            );
+                        let joints = panels::joint_controls(ui, &self.state, pulse_unit_us);
                         ui.separator();
                         joints.then(panels::tool_point(ui, &self.state))
                     })

@@ -5,8 +5,9 @@
 //! order), `migrate.rs` (one step per older version), `validate.rs` (rules across fields),
 //! `units.rs` (the one place that turns file units into the SI arm model), `load.rs` and
 //! `save.rs` (files: read without side effects, write atomically), `problem.rs` (a located
-//! problem and the nearest-name suggestion), `task.rs` (the sequence as a trajectory task),
-//! `setpoints.rs` (the planned sequence as device setpoints).
+//! problem and the nearest-name suggestion), `task.rs` (the sequence as a trajectory task).
+//! Sampling the plan is the trajectory crate's (`TaskPlan::sampler`), turning samples into
+//! device setpoints the link crate's (`device_setpoints`).
 
 mod decode;
 mod document;
@@ -15,7 +16,6 @@ mod load;
 mod migrate;
 mod problem;
 mod save;
-mod setpoints;
 mod task;
 mod units;
 mod validate;
@@ -30,7 +30,6 @@ pub use load::{load, load_bytes};
 pub use migrate::{CURRENT_VERSION, FORMAT_NAME};
 pub use problem::Problem;
 pub use save::{save, save_text, to_json};
-pub use setpoints::{DeviceSetpoints, SampledPose, device_setpoints, sampled_poses};
 pub use task::{
     RetimeSettings, SceneRetime, dry_run_of, dry_run_options_of, limit_settings_of, plan_of,
     retime_scene, retime_target, servo_model_of, task_of, with_timing,
