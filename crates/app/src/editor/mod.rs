@@ -555,7 +555,8 @@ impl Editor {
                 });
             }
             Outside::Save { path, then_close } => {
-                let scene = self.state.scene.clone();
+                // As the file will hold it: each number at the decimals its field keeps.
+                let scene = crate::scene::as_saved(&self.state.scene);
                 self.files.spawn(ctx, move || FileResult::Saved {
                     result: crate::scene::save(&scene, &path),
                     scene: Box::new(scene),
