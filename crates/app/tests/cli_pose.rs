@@ -46,12 +46,31 @@ fn the_stretched_arm_holds_what_statics_says() {
     // The base turns about the vertical: gravity needs nothing from it.
     assert!(torque[0].abs() < 1e-9);
     // Torque use = |τ| / (stall × derating): 180 N·cm stall, 80 % default derating.
-    let share = numbers(&out["torque_use"]);
+    let share = numbers(&out["holding_torque_use_pct"]);
     assert!(
-        close(share[1], torque[1].abs() / (180.0 * 0.8), 1e-5),
+        close(share[1], 100.0 * torque[1].abs() / (180.0 * 0.8), 1e-3),
         "{share:?}"
     );
     assert_eq!(out["torque_derating_pct"], json!(80.0));
+    assert!(
+        out["torque_use_basis"]
+            .as_str()
+            .unwrap()
+            .contains("derated stall torque")
+    );
+    // Heaviest payload (τ = m·g·r, common practice): the shoulder has 144 N·cm to give; without
+    // the payload it holds 58 900 g·mm; the payload sits 300 mm out. So at most
+    // (1.44 − 0.0589·g) / (g·0.3) kg from the shoulder, less where another joint runs out first.
+    let g = 9.80665;
+    let shoulder_g = (1.44 - 0.0589 * g) / (g * 0.3) * 1e3;
+    let payload = out["max_payload_g"].as_f64().unwrap();
+    assert!(
+        payload > 0.0 && payload <= shoulder_g + 0.1,
+        "{payload} vs {shoulder_g}"
+    );
+    if out["max_payload_joint"] == json!(1) {
+        assert!(close(payload, shoulder_g, 0.1), "{payload} vs {shoulder_g}");
+    }
     // Calibration: shoulder 1000 µs at −10°, 2000 µs at 170°, so 0° is 1055.6 → 1056 µs.
     assert_eq!(
         numbers(&out["pulse_us"]),

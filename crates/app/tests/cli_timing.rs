@@ -3,7 +3,7 @@
 
 mod common;
 
-use serde_json::Value;
+use serde_json::{Value, json};
 use std::path::{Path, PathBuf};
 use std::process::{Command, Output};
 
@@ -99,7 +99,12 @@ fn plan_reports_the_cycle_and_writes_setpoints() {
             (end - cycle).abs() < 1e-3,
             "{name}: segments end at {end}, cycle {cycle}"
         );
-        assert!(report["peak_torque_use"].as_f64().unwrap() > 0.0);
+        assert!(report["peak_commanded_torque_use_pct"].as_f64().unwrap() > 0.0);
+        for waypoint in report["waypoints"].as_array().unwrap() {
+            assert!(waypoint["commanded_torque_use_pct"].as_f64().is_some());
+            // The heaviest payload each move could carry, in grams.
+            assert!(waypoint["max_payload_g"].as_f64().unwrap() > 0.0, "{name}");
+        }
         // CSV: a header naming each joint with its unit and the gripper, then rows at 200 Hz to
         // the end.
         let text = std::fs::read_to_string(&csv).expect("CSV written");
@@ -136,9 +141,16 @@ fn simulate_reports_every_waypoint() {
             String::from_utf8_lossy(&out.stderr)
         );
         let report = json_of(&out);
-        for key in ["cycle_time_s", "worst_overshoot_mm", "worst_torque_use"] {
+        for key in [
+            "cycle_time_s",
+            "worst_overshoot_mm",
+            "worst_simulated_torque_use_pct",
+            "peak_commanded_torque_use_pct",
+        ] {
             assert!(report[key].as_f64().is_some(), "{name} lacks {key}");
         }
+        assert_eq!(report["ok"], Value::Bool(true), "{name}");
+        assert_eq!(report["unsettled_gripper_stops"], json!(0), "{name}");
         let scene = read_json(&file);
         let waypoints = report["waypoints"].as_array().expect("waypoints");
         assert_eq!(
@@ -147,8 +159,21 @@ fn simulate_reports_every_waypoint() {
         );
         for waypoint in waypoints {
             assert!(waypoint["overshoot_mm"].as_f64().unwrap() >= 0.0);
-            assert!(waypoint["peak_torque_use"].as_f64().is_some());
+            assert!(waypoint["simulated_torque_use_pct"].as_f64().unwrap() <= 100.0);
             assert!(waypoint.get("settle_ms").is_some());
+            if waypoint["gripper_acts_s"].is_number() {
+                // A pick or place: settled first, and its placement success.
+                assert_eq!(waypoint["settled"], Value::Bool(true), "{name}");
+                let success = waypoint["placement_success"].as_f64().unwrap();
+                let closed = waypoint["placement_success_closed_form"].as_f64().unwrap();
+                assert!((0.0..=1.0).contains(&success));
+                assert!(
+                    (success - closed).abs() < 0.1,
+                    "{name}: {success} vs {closed}"
+                );
+                let error = &waypoint["placement_error_mm"];
+                assert!(error["p95"].as_f64().unwrap() >= error["mean"].as_f64().unwrap());
+            }
         }
     }
 }
@@ -163,7 +188,15 @@ fn retimed_scenes_meet_the_target_and_simulate_to_the_after_figures() {
         assert_eq!(report["met"], Value::Bool(true));
         let after = &report["after"];
         assert!(after["worst_overshoot_mm"].as_f64().unwrap() <= 1.5);
-        assert!(after["worst_torque_use"].as_f64().unwrap() <= 1.0);
+        assert!(after["worst_simulated_torque_use_pct"].as_f64().unwrap() <= 100.0);
+        assert_eq!(after["unsettled_gripper_stops"], json!(0));
+        // The samples already meet 1.5 mm: never slower than they were.
+        assert_eq!(report["already_met"], Value::Bool(true), "{name}");
+        assert!(
+            after["cycle_time_s"].as_f64().unwrap()
+                <= report["before"]["cycle_time_s"].as_f64().unwrap()
+        );
+        assert!(report["binding"].is_string(), "{name}");
         assert!(report["before"]["cycle_time_s"].as_f64().is_some());
         assert_eq!(
             std::fs::read(&file).unwrap(),
@@ -171,7 +204,11 @@ fn retimed_scenes_meet_the_target_and_simulate_to_the_after_figures() {
             "the input is untouched"
         );
         let again = report_of("simulate", &out_file);
-        for key in ["cycle_time_s", "worst_overshoot_mm", "worst_torque_use"] {
+        for key in [
+            "cycle_time_s",
+            "worst_overshoot_mm",
+            "worst_simulated_torque_use_pct",
+        ] {
             let (a, b) = (again[key].as_f64().unwrap(), after[key].as_f64().unwrap());
             assert!(
                 (a - b).abs() <= 1e-3 * (1.0 + b.abs()),
@@ -332,4 +369,37 @@ fn a_joint_limit_for_no_joint_is_refused_with_its_place() {
             "{command}: {text}"
         );
     }
+}
+
+#[test]
+fn a_gripper_acting_before_the_arm_settles_exits_one_naming_the_waypoint() {
+    // The cube stacker's first pick with no dwell: the gripper closes on arrival.
+    let mut document = read_json(&sample("cube-stacker"));
+    document["waypoints"][1]["dwell_ms"] = json!(0.0);
+    let file = scratch("unsettled-pick.armwright.json");
+    std::fs::write(&file, serde_json::to_string_pretty(&document).unwrap()).unwrap();
+    let out = armwright(&["simulate", file.to_str().unwrap(), "--json"]);
+    assert_eq!(out.status.code(), Some(1));
+    let report = json_of(&out);
+    assert_eq!(report["ok"], Value::Bool(false));
+    assert_eq!(report["waypoints"][1]["settled"], Value::Bool(false));
+    let problem = &report["problems"][0];
+    assert_eq!(problem["waypoint"], json!(1));
+    assert!(
+        problem["message"].as_str().unwrap().contains("grip cube 1"),
+        "{problem}"
+    );
+    // Retiming gives that stop a dwell to settle in, and then the gripper's own time.
+    let retimed = scratch("unsettled-pick.retimed.armwright.json");
+    let report = retime_to(&file, &retimed);
+    assert_eq!(report["met"], Value::Bool(true));
+    assert_eq!(report["already_met"], Value::Bool(false));
+    assert_eq!(report["after"]["unsettled_gripper_stops"], json!(0));
+    assert!(report["waypoints"][1]["dwell_ms_after"].as_f64().unwrap() >= 200.0);
+    let out = armwright(&["simulate", retimed.to_str().unwrap()]);
+    assert!(
+        out.status.success(),
+        "{}",
+        String::from_utf8_lossy(&out.stderr)
+    );
 }

@@ -16,6 +16,7 @@ mod fk; // joint positions → link frames and tool-point pose
 mod gravity; // holding torque against gravity, with payload
 mod ik; // tool-point target → joint positions, closed form and damped least squares
 mod jacobian; // tool-point and space Jacobians
+mod payload; // the heaviest tool-point payload within the derated torque, held or moving
 mod torque_use; // per-joint efforts and the share of each servo's rating they use
 
 pub use crate::accuracy::{AccuracyBudget, accuracy_budget, joint_uncertainty};
@@ -35,4 +36,5 @@ pub use crate::ik::{
     Branch, IkError, IkOptions, IkSolutions, IkTarget, IkTask, solve_ik, solve_ik_frame,
 };
 pub use crate::jacobian::{Jacobian, space_jacobian, tool_jacobian};
+pub use crate::payload::{PayloadLimit, max_payload, max_payload_in_motion};
 pub use crate::torque_use::{JointEfforts, torque_use};

@@ -4,7 +4,7 @@
 use armwright_kinematics::{Arm, MAX_JOINTS, inverse_dynamics, joint_inertias, torque_use};
 
 use crate::arm_limits::{LimitError, LimitSettings, limits_from_arm};
-use crate::dry_run::{CommandedMotion, WaypointTiming};
+use crate::dry_run::{CommandedMotion, WaypointTiming, gripper_moment};
 use crate::profile::{JointLimits, JointState, ProfileShape};
 use crate::retime::{Planner, Timing};
 use crate::second_order::SecondOrder;
@@ -129,6 +129,7 @@ pub fn plan_task(arm: &Arm, task: &Task) -> Result<TaskPlan, PlanError> {
             arrival: 0.0,
             departure: 0.0,
             stop: true,
+            gripper_acts: None,
         };
         expanded.len()
     ];
@@ -141,6 +142,7 @@ pub fn plan_task(arm: &Arm, task: &Task) -> Result<TaskPlan, PlanError> {
                     arrival: end,
                     departure: end,
                     stop,
+                    gripper_acts: None,
                 };
             }
             SegmentKind::Dwell { waypoint } => arrivals[waypoint].departure = end,
@@ -157,10 +159,27 @@ pub fn plan_task(arm: &Arm, task: &Task) -> Result<TaskPlan, PlanError> {
             arrival: shifted(w.arrival),
             departure: shifted(w.departure),
             stop: w.stop,
+            gripper_acts: None,
         })
         .collect();
-    let payload_from: Vec<f64> = arrivals.iter().map(|w| w.arrival).collect();
-    let timings = index_of.iter().map(|&i| arrivals[i]).collect();
+    let mut payload_from: Vec<f64> = arrivals.iter().map(|w| w.arrival).collect();
+    // Where the gripper changes state it acts late in the dwell (`gripper_moment`), and the
+    // payload it takes or leaves counts from then.
+    let timings = index_of
+        .iter()
+        .enumerate()
+        .map(|(index, &i)| {
+            let mut timing = arrivals[i];
+            let changes = index > 0
+                && task.waypoints[index].gripper_closed != task.waypoints[index - 1].gripper_closed;
+            if changes {
+                let moment = gripper_moment(timing.arrival, timing.departure);
+                timing.gripper_acts = Some(moment);
+                payload_from[i] = moment;
+            }
+            timing
+        })
+        .collect();
     let gripper_closed = task.waypoints.iter().map(|w| w.gripper_closed).collect();
     Ok(TaskPlan {
         plan,
@@ -284,12 +303,14 @@ impl TaskPlan {
         self.runs.iter().filter(|run| run.growth > 0.0).count()
     }
 
-    /// Whether the gripper is closed at time `t` (s): the state of the last waypoint whose
-    /// arrival is at or before `t` (the first waypoint's before it).
+    /// Whether the gripper is closed at time `t` (s): the state of the last waypoint reached at
+    /// or before `t` (the first waypoint's before it), a change of state counting from when the
+    /// gripper acts there ([`WaypointTiming::gripper_acts`], late in the dwell) rather than
+    /// from the arrival.
     pub fn gripper_closed_at(&self, t: f64) -> bool {
         let reached = self
             .timings
-            .partition_point(|w| w.arrival <= t)
+            .partition_point(|w| w.gripper_acts.unwrap_or(w.arrival) <= t)
             .saturating_sub(1);
         self.gripper_closed.get(reached).copied().unwrap_or(false)
     }
@@ -411,10 +432,11 @@ impl CommandedMotion for TaskPlan {
     }
 
     fn payload_at(&self, t: f64) -> f64 {
-        // The gripper state of a waypoint holds from its arrival until the next arrival.
+        // The gripper state of a point of the expanded sequence holds from its arrival (or, where
+        // the gripper changes state, from when it acts) until the next point's.
         let index = self
-            .timings
-            .partition_point(|w| w.arrival <= t)
+            .payload_from
+            .partition_point(|&from| from <= t)
             .saturating_sub(1);
         self.payload.get(index).copied().unwrap_or(0.0)
     }

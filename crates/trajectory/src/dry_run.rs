@@ -14,6 +14,18 @@ use crate::servo_sim::{
 /// How often the following error is looked at along a move, in s.
 const FOLLOWING_ERROR_INTERVAL: f64 = 0.004;
 
+/// Time a hobby-servo gripper takes to open or close, in s: at a stop where the gripper changes
+/// state it acts this long before the arm leaves (and not before the arm arrives), so that it
+/// has closed on the object or let go of it before the next move. 0.2 s: a small servo turning
+/// its horn about 60° at 0.1–0.2 s per 60° (from memory).
+pub const GRIPPER_TIME: f64 = 0.2;
+
+/// When the gripper acts at a waypoint reached at `arrival` s and left at `departure` s:
+/// [`GRIPPER_TIME`] before the departure, but not before the arrival, in s.
+pub fn gripper_moment(arrival: f64, departure: f64) -> f64 {
+    (departure - GRIPPER_TIME).max(arrival)
+}
+
 /// A timed motion the dry run can follow.
 pub trait CommandedMotion {
     /// Length of the motion, in s.
@@ -35,6 +47,9 @@ pub struct WaypointTiming {
     pub departure: f64,
     /// Whether the arm comes to rest there.
     pub stop: bool,
+    /// When the gripper changes state here, in s from the start (see [`gripper_moment`]);
+    /// `None` where it keeps the state it had.
+    pub gripper_acts: Option<f64>,
 }
 
 /// Settings of a dry run.
@@ -71,17 +86,39 @@ pub struct WaypointResult {
     /// Furthest each joint went past where it came to rest, in the direction it moved (rad or m).
     pub joint_overshoot: [f64; MAX_JOINTS],
     /// Time from arrival until the tool point stays within the settle band around where it comes
-    /// to rest, in s; `None` when it is still moving when the arm leaves (or for a pass-through).
+    /// to rest, in s; `None` when it is still moving when the arm leaves — or, where the gripper
+    /// changes state, when the gripper acts — and for a pass-through.
     pub settle_time: Option<f64>,
-    /// Tool-point distance from the target when the arm leaves the waypoint (or at the end), in
-    /// m: what deadband and gravity sag leave behind.
+    /// Whether the tool point has settled within the band (a settle time exists) before the arm
+    /// leaves or, where the gripper changes state, before the gripper acts. Always `false` at a
+    /// pass-through.
+    pub settled: bool,
+    /// When the gripper changes state here, in s from the start; `None` where it does not.
+    pub gripper_acts: Option<f64>,
+    /// Tool-point distance from the target when the arm leaves the waypoint (or at the end, or
+    /// when the gripper acts where it changes state), in m: what deadband and gravity sag leave
+    /// behind.
     pub resting_error: f64,
+    /// The same as a vector in the base frame: rest − target, in m.
+    pub resting_offset: [f64; 3],
     /// Largest tool-point distance between commanded and simulated on the move into the
     /// waypoint, looked at every 4 ms, in m.
     pub following_error: f64,
-    /// Largest torque use of any joint on the move into the waypoint and its dwell (share of
-    /// derated stall torque; 1.0 = 100 %).
+    /// Largest simulated torque use of any joint on the move into the waypoint and its dwell: the
+    /// servo model's motor effort (the drive its position loop asks for less the back-EMF
+    /// braking at its speed), as its mean over each pulse frame, over the derated stall torque
+    /// (share; 1.0 = 100 % of stall × derating).
     pub peak_torque_use: f64,
+    /// The joint (index, base first) with that largest torque use.
+    pub peak_torque_joint: usize,
+}
+
+impl WaypointResult {
+    /// Whether the gripper changes state here while the tool point has not settled within the
+    /// settle band.
+    pub fn gripper_unsettled(&self) -> bool {
+        self.gripper_acts.is_some() && !self.settled
+    }
 }
 
 /// A finished dry run.
@@ -104,12 +141,20 @@ impl DryRun {
             .fold(0.0, f64::max)
     }
 
-    /// Worst torque use of any waypoint (share; 1.0 = 100 %).
+    /// Worst simulated torque use of any waypoint (share of the derated stall torque; 1.0 =
+    /// 100 %).
     pub fn worst_torque_use(&self) -> f64 {
         self.waypoints
             .iter()
             .map(|w| w.peak_torque_use)
             .fold(0.0, f64::max)
+    }
+
+    /// Waypoints (indices) where the gripper changes state before the tool point has settled.
+    pub fn unsettled_gripper_stops(&self) -> Vec<usize> {
+        (0..self.waypoints.len())
+            .filter(|&i| self.waypoints[i].gripper_unsettled())
+            .collect()
     }
 
     /// Worst following error, in m.
@@ -203,6 +248,7 @@ pub(crate) fn dry_run_keeping_rests<M: CommandedMotion>(
         options,
         following: !for_search,
         reach: Reach::of(arm),
+        frame_steps: setup.clock.steps_per_frame,
     };
     let mut start_pose = [0.0; MAX_JOINTS];
     motion.positions_at(0.0, &mut start_pose[..arm.joint_count()]);
@@ -291,6 +337,7 @@ pub(crate) fn rerun_stops<M: CommandedMotion>(
             options,
             following: false,
             reach: Reach::of(arm),
+            frame_steps: setup.clock.steps_per_frame,
         };
         let mut start_pose = [0.0; MAX_JOINTS];
         motion.positions_at(from.arrival, &mut start_pose[..n]);
@@ -381,6 +428,8 @@ struct Measure<'a> {
     /// Whether to look at the following error.
     following: bool,
     reach: Reach,
+    /// Samples in a pulse frame.
+    frame_steps: usize,
 }
 
 impl Measure<'_> {
@@ -392,10 +441,34 @@ impl Measure<'_> {
         self.trace.actual_at(k - self.first)
     }
 
-    /// Every joint's drive share at samples `from..=to`.
-    fn drives(&self, from: usize, to: usize) -> &[f64] {
+    /// The largest mean |motor effort share| over a pulse frame among the frames that samples
+    /// `from..=to` fall in (a frame cut short at `to`), and the joint it belongs to.
+    ///
+    /// Within every frame the servo's drive swings hard as it takes up the step in its command;
+    /// the mean over the frame is the effort the servo keeps up, the figure a rating is for.
+    /// Frames start where the run's frames start, so a window of the run measures what the
+    /// whole run measured.
+    fn peak_frame_effort(&self, from: usize, to: usize) -> (f64, usize) {
         let n = self.trace.joint_count;
-        &self.trace.drive_share[(from - self.first) * n..(to - self.first + 1) * n]
+        let drive = &self.trace.effort_share;
+        let first = self.first;
+        let per_frame = self.frame_steps.max(1);
+        let mut peak = (0.0, 0);
+        let mut frame = (from / per_frame * per_frame).max(first);
+        while frame <= to {
+            let end = (frame + per_frame - 1).min(to);
+            for j in 0..n {
+                let sum: f64 = (frame..=end)
+                    .map(|k| drive[(k - first) * n + j].abs())
+                    .sum();
+                let mean = sum / (end - frame + 1) as f64;
+                if mean > peak.0 {
+                    peak = (mean, j);
+                }
+            }
+            frame += per_frame;
+        }
+        peak
     }
 
     /// Waypoints `from..to`, the move into `from` starting at `move_start` s from `start_pose`.
@@ -453,24 +526,34 @@ impl Measure<'_> {
                     known = Some((actual, commanded, error));
                 }
             }
-            let peak_effort = self
-                .drives(self.sample_of(move_start), window_end)
-                .iter()
-                .fold(0.0_f64, |m, e| m.max(e.abs()));
+            let (peak_effort, peak_torque_joint) =
+                self.peak_frame_effort(self.sample_of(move_start), window_end);
 
             let mut result = WaypointResult {
                 overshoot: 0.0,
                 joint_overshoot: [0.0; MAX_JOINTS],
                 settle_time: None,
+                settled: false,
+                gripper_acts: w.gripper_acts,
                 resting_error: 0.0,
+                resting_offset: [0.0; 3],
                 following_error,
                 peak_torque_use: peak_effort / self.options.derating,
+                peak_torque_joint,
             };
             if w.stop {
+                // Where the gripper acts, the stop is judged up to that moment: it must have
+                // settled before the gripper closes on or lets go of the object.
+                let stop_end = match w.gripper_acts {
+                    Some(moment) => self
+                        .sample_of(moment)
+                        .clamp(self.sample_of(w.arrival), window_end),
+                    None => window_end,
+                };
                 self.stop(
                     w,
                     self.sample_of(w.arrival),
-                    window_end,
+                    stop_end,
                     direction,
                     &target,
                     &start_pose,
@@ -509,10 +592,13 @@ impl Measure<'_> {
         let step = self.trace.step;
         let rest = self.actual_at(last);
         let rest_point = tool_point(arm, rest)?;
-        result.resting_error = (rest_point - target_point).norm();
+        let offset = rest_point - target_point;
+        result.resting_error = offset.norm();
+        result.resting_offset = [offset.x, offset.y, offset.z];
         // Still moving when the arm leaves: no settle time. "Moving" is the tool point covering
         // more than the settle band in 0.1 s, judged over the last 10 ms.
-        let look_back = ((0.01 / step).round() as usize).min(last - first);
+        // The look back may reach before the arrival (a gripper acting at once leaves no time).
+        let look_back = ((0.01 / step).round() as usize).min(last - self.first);
         let earlier = tool_point(arm, self.actual_at(last - look_back))?;
         let speed = if look_back > 0 {
             (rest_point - earlier).norm() / (look_back as f64 * step)
@@ -563,6 +649,7 @@ impl Measure<'_> {
         if still {
             result.settle_time = settled_from.map(|k| (k as f64 * step - timing.arrival).max(0.0));
         }
+        result.settled = result.settle_time.is_some();
         Ok(())
     }
 }

@@ -40,6 +40,7 @@
 mod arm_limits; // limits a plan takes from the arm's servos, masses and gravity
 mod arm_plan; // a task planned on a real arm: limits, gripper payload, waypoint timings
 mod dry_run; // a plan run through the servo model: overshoot, settling, following error
+mod placement; // share of picks and places within tolerance: Monte Carlo and closed form
 mod profile; // one joint's move: trapezoid and double-S profiles, evaluation, stretching
 mod retime; // the fastest timing whose dry run meets an overshoot and torque target
 mod sample; // the one sampler: a task plan at a fixed rate (50–1000 Hz) as named samples
@@ -53,13 +54,19 @@ mod sync; // several joints of one move: start and end together, slowest sets th
 pub use crate::arm_limits::{LimitError, LimitSettings, limits_from_arm};
 pub use crate::arm_plan::{PlanError, Task, TaskPlan, TaskPlanner, TaskWaypoint, plan_task};
 pub use crate::dry_run::{
-    CommandedMotion, DryRun, DryRunError, DryRunOptions, WaypointResult, WaypointTiming, dry_run,
+    CommandedMotion, DryRun, DryRunError, DryRunOptions, GRIPPER_TIME, WaypointResult,
+    WaypointTiming, dry_run, gripper_moment,
+};
+pub use crate::placement::{
+    MAX_PLACEMENT_DRAWS, PlacementEstimate, PlacementOptions, disc_probability, placement_estimate,
 };
 pub use crate::profile::{
     Boundary, JointLimits, JointMove, JointState, LimitKind, Profile, ProfileError, ProfileShape,
     ProfileTimes,
 };
-pub use crate::retime::{Planner, RetimeError, RetimeTarget, Retimed, RunSummary, Timing, retime};
+pub use crate::retime::{
+    Binding, Planner, RetimeError, RetimeTarget, Retimed, RunSummary, Timing, retime,
+};
 pub use crate::sample::{MAX_SAMPLE_RATE_HZ, MIN_SAMPLE_RATE_HZ, Sample, Sampler};
 pub use crate::second_order::{SecondOrder, VibrationError};
 pub use crate::sequence::{

@@ -192,6 +192,9 @@ pub struct ServoTrace {
     pub velocity: Vec<f64>,
     /// Drive the position loop asks for at each sample, a signed share of full drive (−1..1).
     pub drive_share: Vec<f64>,
+    /// Motor effort at each sample, a signed share of stall effort: the drive less the
+    /// back-EMF braking at the servo's speed ([`ServoModel::effort_share`]).
+    pub effort_share: Vec<f64>,
 }
 
 impl ServoTrace {
@@ -421,6 +424,7 @@ where
         actual: Vec::with_capacity(samples * n),
         velocity: Vec::with_capacity(kept),
         drive_share: Vec::with_capacity(samples * n),
+        effort_share: Vec::with_capacity(samples * n),
     };
     for k in range.clone() {
         while snapshots.get(next_snapshot) == Some(&k) {
@@ -449,6 +453,10 @@ where
             drive[j] = models[j].drive_share(pulse_us[j], state.position[j]);
         }
         trace.drive_share.extend_from_slice(&drive[..n]);
+        for j in 0..n {
+            let braking = state.velocity[j] / models[j].no_load_speed;
+            trace.effort_share.push(drive[j] - braking);
+        }
         if k + 1 < range.end {
             advance_all(models, &frames, dt, &mut state);
         }

@@ -103,6 +103,7 @@ fn timings_out_of_order_are_refused() {
         arrival: 0.0,
         departure: plan.duration() + 1.0,
         stop: true,
+        gripper_acts: None,
     }];
     assert!(dry_run(&arm, &plan, &beyond, &DryRunOptions::default()).is_err());
 }
@@ -138,5 +139,110 @@ fn shaping_a_lightly_damped_arm_cuts_its_overshoot() {
     assert!(
         end.iter().zip(last).all(|(a, b)| (a - b).abs() < 1e-9),
         "{end:?}"
+    );
+}
+
+/// Open at the first stop, closed at the second (the gripper acts there), dwelling `dwell` s.
+fn pick_task(dwell: f64) -> Task {
+    let mut task = reach_task(0.6, false);
+    task.waypoints[1].gripper_closed = true;
+    task.waypoints[1].dwell = dwell;
+    task.waypoints[2].gripper_closed = true;
+    task
+}
+
+#[test]
+fn the_gripper_acts_late_in_the_dwell_and_only_where_it_changes_state() {
+    let arm = common::articulated(false);
+    let plan = plan_task(&arm, &pick_task(0.5)).expect("plannable");
+    let timings = plan.timings();
+    assert_eq!(timings[0].gripper_acts, None);
+    assert_eq!(timings[2].gripper_acts, None);
+    let moment = timings[1]
+        .gripper_acts
+        .expect("the gripper closes at the pick");
+    let expected = timings[1].departure - armwright_trajectory::GRIPPER_TIME;
+    assert!((moment - expected).abs() < 1e-12);
+    // The payload counts from then.
+    assert_eq!(plan.payload_at(moment - 1e-3), 0.0);
+    assert_eq!(plan.payload_at(moment + 1e-3), arm.payload_mass());
+    // A dwell shorter than the gripper's time: it acts on arrival.
+    let plan = plan_task(&arm, &pick_task(0.05)).expect("plannable");
+    assert_eq!(
+        plan.timings()[1].gripper_acts,
+        Some(plan.timings()[1].arrival)
+    );
+}
+
+#[test]
+fn a_gripper_acting_on_arrival_finds_the_arm_unsettled_and_a_long_dwell_settles_it() {
+    let arm = common::articulated(false);
+    let options = DryRunOptions::default();
+    let run_with = |dwell: f64| {
+        let plan = plan_task(&arm, &pick_task(dwell)).expect("plannable");
+        dry_run(&arm, &plan, plan.timings(), &options).expect("runs")
+    };
+    let hasty = run_with(0.0);
+    assert!(
+        hasty.waypoints[1].gripper_unsettled(),
+        "{:?}",
+        hasty.waypoints[1]
+    );
+    assert_eq!(hasty.unsettled_gripper_stops(), vec![1]);
+    let patient = run_with(1.5);
+    let pick = &patient.waypoints[1];
+    assert!(pick.settled && !pick.gripper_unsettled(), "{pick:?}");
+    // Settled before the gripper acted: within the 1.3 s between arrival and the gripper.
+    let settle = pick.settle_time.expect("a settle time");
+    assert!(
+        settle <= 1.5 - armwright_trajectory::GRIPPER_TIME,
+        "{settle}"
+    );
+    assert!(patient.unsettled_gripper_stops().is_empty());
+}
+
+#[test]
+fn at_rest_the_simulated_torque_use_is_the_commanded_holding_torque_use() {
+    // One basis: the dry run's torque use (the motor effort, mean over a pulse frame, over the
+    // derated stall torque) and the plan's (inverse dynamics over the derated stall torque)
+    // meet at rest, where both are the holding torque, give or take dry friction.
+    let arm = common::articulated(false);
+    let mut task = reach_task(0.3, true);
+    for w in &mut task.waypoints {
+        w.dwell = 2.0;
+    }
+    let plan = plan_task(&arm, &task).expect("plannable");
+    let derating = 0.5;
+    let options = DryRunOptions {
+        derating,
+        ..DryRunOptions::default()
+    };
+    let run = dry_run(&arm, &plan, plan.timings(), &options).expect("runs");
+    let last = run.trace.len() - 1;
+    let n = arm.joint_count();
+    let rest = run.trace.actual_at(last);
+    let gravity = armwright_kinematics::gravity_torques(&arm, rest, arm.payload_mass()).unwrap();
+    let commanded = armwright_kinematics::torque_use(&arm, &gravity, derating);
+    for j in 0..n {
+        let model = ServoModel::of_joint(&arm.joints()[j], &options.servo);
+        let frame: f64 = (last - 19..=last)
+            .map(|k| run.trace.effort_share[k * n + j].abs())
+            .sum::<f64>()
+            / 20.0;
+        let simulated = frame / derating;
+        let slack = (model.dry_friction / model.stall_effort + 2e-3) / derating;
+        assert!(
+            (simulated - commanded.as_slice()[j]).abs() <= slack,
+            "joint {j}: simulated {simulated} vs commanded {}",
+            commanded.as_slice()[j]
+        );
+    }
+    // The last stop's figure covers its dwell, so it is at least the holding share.
+    let held = commanded.max_abs();
+    let last_stop = run.waypoints.last().unwrap();
+    assert!(
+        last_stop.peak_torque_use >= held - 0.05,
+        "{} < {held}",
+        last_stop.peak_torque_use
     );
 }

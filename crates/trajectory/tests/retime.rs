@@ -126,3 +126,95 @@ fn cancelling_stops_the_search() {
     assert_eq!(result.unwrap_err(), RetimeError::Cancelled);
     assert_eq!(calls, 3);
 }
+
+#[test]
+fn a_start_that_already_meets_the_target_is_never_made_slower() {
+    let arm = common::articulated(false);
+    let mut task = task();
+    // Slow and patient: far inside a generous target.
+    for w in &mut task.waypoints {
+        w.speed_share = 0.3;
+        w.dwell = 0.6;
+    }
+    let planner = TaskPlanner {
+        arm: &arm,
+        task: &task,
+    };
+    let target = RetimeTarget {
+        max_overshoot: 5e-3,
+        ..RetimeTarget::default()
+    };
+    let options = DryRunOptions::default();
+    let retimed = retime(&arm, &planner, &task.timing(), &target, &options, |_| true)
+        .expect("the target is met");
+    assert!(retimed.already_met);
+    assert!(retimed.after.cycle_time <= retimed.before.cycle_time);
+    // Here the search finds a faster timing, and says what binds each stop.
+    assert!(retimed.after.cycle_time < retimed.before.cycle_time);
+    assert!(retimed.binding[0].is_none());
+    assert!(
+        retimed.binding[1..].iter().all(Option::is_some),
+        "{:?}",
+        retimed.binding
+    );
+    assert!(retimed.main_binding().is_some());
+
+    // A target the search cannot beat the start on (the fastest timing is the start itself):
+    // the start comes back unchanged.
+    let fast = retimed.timing.clone();
+    let mut fast_task = task.clone();
+    for (w, (&share, &dwell)) in fast_task
+        .waypoints
+        .iter_mut()
+        .zip(fast.speed_share.iter().zip(&fast.dwell))
+    {
+        w.speed_share = share;
+        w.dwell = dwell;
+    }
+    let planner = TaskPlanner {
+        arm: &arm,
+        task: &fast_task,
+    };
+    let again = retime(
+        &arm,
+        &planner,
+        &fast_task.timing(),
+        &target,
+        &options,
+        |_| true,
+    )
+    .expect("the target is met");
+    assert!(again.already_met);
+    assert!(again.after.cycle_time <= again.before.cycle_time + 1e-12);
+}
+
+#[test]
+fn retiming_settles_every_stop_before_its_gripper_acts() {
+    let arm = common::articulated(false);
+    let mut task = task();
+    // The gripper closes at the second stop and opens at the third, with no dwell at all.
+    task.waypoints[1].gripper_closed = true;
+    task.waypoints[1].dwell = 0.0;
+    task.waypoints[2].dwell = 0.0;
+    let planner = TaskPlanner {
+        arm: &arm,
+        task: &task,
+    };
+    let target = RetimeTarget {
+        max_overshoot: 1.5e-3,
+        ..RetimeTarget::default()
+    };
+    let options = DryRunOptions::default();
+    let retimed = retime(&arm, &planner, &task.timing(), &target, &options, |_| true)
+        .expect("the target can be met");
+    assert_eq!(retimed.before.unsettled_gripper_stops(), vec![1, 2]);
+    assert!(!retimed.already_met);
+    assert!(retimed.after.unsettled_gripper_stops().is_empty());
+    for stop in [1, 2] {
+        assert!(
+            retimed.timing.dwell[stop] >= armwright_trajectory::GRIPPER_TIME,
+            "the gripper's own time is in the dwell at {stop}: {:?}",
+            retimed.timing.dwell
+        );
+    }
+}

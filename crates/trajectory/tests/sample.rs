@@ -76,10 +76,16 @@ fn the_sampler_covers_the_plan_at_the_asked_rate() {
 
 #[test]
 fn every_sample_carries_the_gripper_state_of_the_last_waypoint_reached() {
+    // A change of state counts from when the gripper acts there (late in the dwell), not from
+    // the arrival.
     let arm = common::articulated(false);
     let task = pick_and_place(None);
     let plan = plan_task(&arm, &task).expect("plannable");
-    let arrivals: Vec<f64> = plan.timings().iter().map(|t| t.arrival).collect();
+    let arrivals: Vec<f64> = plan
+        .timings()
+        .iter()
+        .map(|t| t.gripper_acts.unwrap_or(t.arrival))
+        .collect();
     let mut seen = [false; 2];
     for sample in plan.sampler(200.0).expect("in range") {
         let reached = arrivals

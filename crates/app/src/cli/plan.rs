@@ -1,15 +1,16 @@
-//! `armwright plan`: the timed sequence — cycle time, every move and dwell, the torque use of
-//! each servo along the way — and optionally its setpoints as CSV.
+//! `armwright plan`: the timed sequence — cycle time, every move and dwell, the commanded torque
+//! use of each servo along the way (inverse dynamics of the plan, in % of the derated stall
+//! torque), the heaviest payload each move could carry — and optionally its setpoints as CSV.
 
 use std::fmt::Write as _;
 use std::path::Path;
 
-use armwright_kinematics::Arm;
-use armwright_trajectory::{CommandedMotion, SegmentKind, TaskPlan};
+use armwright_kinematics::{Arm, MAX_JOINTS, max_payload_in_motion};
+use armwright_trajectory::{CommandedMotion, JointState, SegmentKind, TaskPlan};
 use serde_json::json;
 
 use super::Outcome;
-use super::report::{fail, load_scene, print_json, rounded};
+use super::report::{TORQUE_BASIS, fail, load_scene, print_json, rounded};
 use crate::scene::{
     JointLimitDoc, Scene, plan_of, position_to_file_unit, rate_to_file_unit, save_text,
 };
@@ -40,6 +41,54 @@ fn joint_limits(scene: &Scene, plan: &TaskPlan) -> Vec<serde_json::Value> {
         .collect()
 }
 
+/// The heaviest payload (kg) each waypoint's move and dwell could carry with every joint within
+/// `derating` of its stall torque, by inverse dynamics of the plan every `interval` s; waypoint
+/// 0 gets the pose it starts in, held.
+pub(crate) fn max_payload_per_move(
+    arm: &Arm,
+    plan: &TaskPlan,
+    derating: f64,
+    interval: f64,
+) -> Vec<f64> {
+    let n = arm.joint_count();
+    let mut states = [JointState::default(); MAX_JOINTS];
+    let (mut positions, mut rates, mut accelerations) =
+        ([0.0; MAX_JOINTS], [0.0; MAX_JOINTS], [0.0; MAX_JOINTS]);
+    let mut start = 0.0;
+    plan.timings()
+        .iter()
+        .map(|timing| {
+            let steps = (((timing.departure - start) / interval).ceil() as usize).max(1);
+            let mut lightest = f64::INFINITY;
+            for k in 0..=steps {
+                let t = start + (timing.departure - start) * k as f64 / steps as f64;
+                plan.states_at(t, &mut states[..n]);
+                for j in 0..n {
+                    positions[j] = states[j].position;
+                    rates[j] = states[j].velocity;
+                    accelerations[j] = states[j].acceleration;
+                }
+                if let Ok(limit) = max_payload_in_motion(
+                    arm,
+                    &positions[..n],
+                    &rates[..n],
+                    &accelerations[..n],
+                    derating,
+                ) {
+                    lightest = lightest.min(limit.mass);
+                }
+            }
+            start = timing.departure;
+            lightest
+        })
+        .collect()
+}
+
+/// A payload in kg as grams for a report, `None` when unlimited.
+pub(crate) fn payload_g(mass: f64) -> Option<f64> {
+    mass.is_finite().then(|| rounded(mass * 1e3, 1))
+}
+
 /// Plans the scene's sequence, or says why not (exit 1 with the reason naming the waypoint).
 pub(crate) fn plan_scene(scene: &Scene, arm: &Arm, json: bool) -> Result<TaskPlan, Outcome> {
     plan_of(scene, arm).map_err(|error| {
@@ -66,6 +115,7 @@ pub(crate) fn run(file: &Path, rate_hz: f64, csv: Option<&Path>, json: bool) -> 
     };
     let derating = scene.timing.torque_derating_pct / 100.0;
     let torque = plan.peak_torque_use(&arm, derating, TORQUE_INTERVAL);
+    let payload = max_payload_per_move(&arm, &plan, derating, TORQUE_INTERVAL);
     if let Some(path) = csv {
         let text = match setpoints_csv(&scene, &plan, rate_hz) {
             Ok(text) => text,
@@ -104,13 +154,14 @@ pub(crate) fn run(file: &Path, rate_hz: f64, csv: Option<&Path>, json: bool) -> 
             .waypoints
             .iter()
             .zip(plan.timings())
-            .zip(&torque)
-            .map(|((waypoint, timing), torque)| {
+            .zip(torque.iter().zip(&payload))
+            .map(|((waypoint, timing), (torque, payload))| {
                 json!({
                     "name": waypoint.name,
                     "arrival_s": rounded(timing.arrival, 4),
                     "departure_s": rounded(timing.departure, 4),
-                    "peak_torque_use": rounded(*torque, 4),
+                    "commanded_torque_use_pct": rounded(*torque * 100.0, 2),
+                    "max_payload_g": payload_g(*payload),
                 })
             })
             .collect();
@@ -118,29 +169,42 @@ pub(crate) fn run(file: &Path, rate_hz: f64, csv: Option<&Path>, json: bool) -> 
             "ok": true,
             "cycle_time_s": rounded(cycle_time, 4),
             "shaped_runs": plan.shaped_runs(),
-            "peak_torque_use": rounded(peak, 4),
+            "torque_use_basis": TORQUE_BASIS,
+            "torque_derating_pct": scene.timing.torque_derating_pct,
+            "peak_commanded_torque_use_pct": rounded(peak * 100.0, 2),
+            "payload_g": rounded(arm.payload_mass() * 1e3, 1),
             "joint_limits": joint_limits(&scene, &plan),
             "segments": segments,
             "waypoints": waypoints,
         }));
     } else {
         println!(
-            "cycle time {:.3} s, peak torque use {:.0} %",
+            "cycle time {:.3} s, peak commanded torque use {:.0} % (inverse dynamics of the plan)",
             cycle_time,
             peak * 100.0
         );
         println!(
-            "{:<24} {:>9} {:>9} {:>8}",
-            "waypoint", "arrive s", "leave s", "torque"
+            "torque use is in {TORQUE_BASIS}; max payload is the heaviest the move could carry within it"
         );
-        for ((waypoint, timing), torque) in scene.waypoints.iter().zip(plan.timings()).zip(&torque)
+        println!(
+            "{:<24} {:>9} {:>9} {:>9} {:>14}",
+            "waypoint", "arrive s", "leave s", "torque %", "max payload g"
+        );
+        for (((waypoint, timing), torque), payload) in scene
+            .waypoints
+            .iter()
+            .zip(plan.timings())
+            .zip(&torque)
+            .zip(&payload)
         {
+            let payload = payload_g(*payload).map_or("no limit".to_string(), |g| format!("{g:.0}"));
             println!(
-                "{:<24} {:>9.3} {:>9.3} {:>7.0}%",
+                "{:<24} {:>9.3} {:>9.3} {:>9.0} {:>14}",
                 waypoint.name,
                 timing.arrival,
                 timing.departure,
-                torque * 100.0
+                torque * 100.0,
+                payload
             );
         }
         println!(

@@ -1,18 +1,19 @@
 //! `armwright pose`: the tool point for given joint positions, the torque gravity and the
-//! payload need at each joint and its share of the servo's rating, the accuracy budget, and
-//! the pulse widths.
+//! payload need at each joint and its share of the servo's rating (in % of the derated stall
+//! torque), the heaviest payload the pose can hold, the accuracy budget, and the pulse widths.
 
 use std::path::Path;
 
 use armwright_kinematics::{
     Arm, ArmType, DEFAULT_PULSE_UNIT_US, IkTarget, JointKind, SentPulse, ToolAngles,
-    accuracy_budget, gravity_torques, tool_pose, torque_use,
+    accuracy_budget, gravity_torques, max_payload, tool_pose, torque_use,
 };
 use nalgebra::Isometry3;
 use serde_json::{Value, json};
 
 use super::Outcome;
-use super::report::{all_rounded, fail, listed, load_scene, print_json, rounded};
+use super::plan::payload_g;
+use super::report::{TORQUE_BASIS, all_rounded, fail, listed, load_scene, print_json, rounded};
 use crate::scene::{JointKindDoc, Scene, pose_from_file_units, position_to_file_unit};
 
 /// Everything `pose` reports, in report units (mm, degrees, N·cm, µs).
@@ -26,6 +27,10 @@ pub(crate) struct PoseReport {
     pub(crate) torque_ncm: Vec<f64>,
     /// |torque| / (stall torque × derating), per joint; 1.0 is 100 %.
     pub(crate) torque_use: Vec<f64>,
+    /// Heaviest payload the pose can hold within the derated stall torque, in kg (infinite when
+    /// no joint's torque depends on it), and the joint that sets it.
+    pub(crate) max_payload_kg: f64,
+    pub(crate) payload_joint: Option<usize>,
     pub(crate) accuracy_worst_mm: f64,
     pub(crate) accuracy_rss_mm: f64,
     /// The pulse width each joint's servo is sent, by the pulse rule with a 1 µs unit.
@@ -40,6 +45,7 @@ pub(crate) fn evaluate(scene: &Scene, arm: &Arm, positions: &[f64]) -> Result<Po
     let derating = scene.timing.torque_derating_pct / 100.0;
     let shares = torque_use(arm, &efforts, derating);
     let budget = accuracy_budget(arm, positions).map_err(|e| e.to_string())?;
+    let payload = max_payload(arm, positions, derating).map_err(|e| e.to_string())?;
     let torque_ncm = arm
         .joints()
         .iter()
@@ -58,6 +64,8 @@ pub(crate) fn evaluate(scene: &Scene, arm: &Arm, positions: &[f64]) -> Result<Po
         roll_deg: angles.roll.to_degrees(),
         torque_ncm,
         torque_use: shares.as_slice().to_vec(),
+        max_payload_kg: payload.mass,
+        payload_joint: payload.joint,
         accuracy_worst_mm: budget.worst * 1e3,
         accuracy_rss_mm: budget.rss * 1e3,
         pulse: arm
@@ -167,8 +175,14 @@ fn pose_json(scene: &Scene, arm: &Arm, report: &PoseReport) -> Value {
         "tool_yaw_deg": rounded(report.yaw_deg, 4),
         "tool_roll_deg": rounded(report.roll_deg, 4),
         "joint_torque_ncm": all_rounded(&report.torque_ncm, 4),
-        "torque_use": all_rounded(&report.torque_use, 6),
+        "holding_torque_use_pct": all_rounded(
+            &report.torque_use.iter().map(|s| s * 100.0).collect::<Vec<_>>(),
+            4
+        ),
+        "torque_use_basis": TORQUE_BASIS,
         "torque_derating_pct": scene.timing.torque_derating_pct,
+        "max_payload_g": payload_g(report.max_payload_kg),
+        "max_payload_joint": report.payload_joint,
         "accuracy_mm": {
             "worst": rounded(report.accuracy_worst_mm, 4),
             "rss": rounded(report.accuracy_rss_mm, 4),
@@ -188,6 +202,14 @@ fn print_text(arm: &Arm, report: &PoseReport) {
         "accuracy     {:.3} mm worst case, {:.3} mm root-sum-square",
         report.accuracy_worst_mm, report.accuracy_rss_mm
     );
+    match (payload_g(report.max_payload_kg), report.payload_joint) {
+        (Some(grams), Some(joint)) => println!(
+            "max payload  {grams:.0} g at the tool point (set by {})",
+            arm.joints()[joint].name
+        ),
+        _ => println!("max payload  no joint's torque depends on it"),
+    }
+    println!("torque use is in {TORQUE_BASIS}, holding this pose");
     println!("joint         torque N·cm   torque use   pulse µs");
     for (index, joint) in arm.joints().iter().enumerate() {
         println!(

@@ -9,6 +9,11 @@ use serde_json::{Value, json};
 use super::Outcome;
 use crate::scene::{Problem, Scene, SceneError, build_arm, load};
 
+/// The one basis every torque use is given in, named in reports: the effort needed over the
+/// servo's stall torque times the scene's torque derating. 100 % is all the share allowed.
+pub(crate) const TORQUE_BASIS: &str =
+    "% of the derated stall torque (stall torque × timing.torque_derating_pct)";
+
 /// Loads and checks the scene and builds its arm, or prints why not and says how to exit.
 pub(crate) fn load_scene(file: &Path, json: bool) -> Result<(Scene, Arm), Outcome> {
     let scene = load(file).map_err(|error| report_load_error(file, &error, json))?;

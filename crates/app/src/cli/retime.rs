@@ -1,14 +1,15 @@
 //! `armwright retime`: the fastest timing whose dry run keeps every stop's overshoot and the
-//! servos' torque use within a target, with a before/after report; optionally the retimed scene
-//! written to a new file.
+//! servos' simulated torque use within a target and settles every stop where the gripper acts
+//! before it acts, with a before/after report and what binds; a start that already meets the
+//! target is never made slower. Optionally the retimed scene written to a new file.
 
 use std::path::Path;
 
-use armwright_trajectory::RetimeError;
+use armwright_trajectory::{Binding, RetimeError};
 use serde_json::{Value, json};
 
 use super::Outcome;
-use super::report::{fail, load_scene, print_json, rounded};
+use super::report::{TORQUE_BASIS, fail, load_scene, print_json, rounded};
 use super::simulate::summary_json;
 use crate::scene::{RetimeSettings, Shaping, retime_scene, save};
 
@@ -114,6 +115,8 @@ pub(crate) fn run(file: &Path, request: &RetimeRequest<'_>, json: bool) -> Outco
                     "dwell_ms_after": rounded(retimed.timing.dwell[i] * 1e3, 1),
                     "overshoot_mm_before": rounded(retimed.before.waypoints[i].overshoot * 1e3, 4),
                     "overshoot_mm_after": rounded(retimed.after.waypoints[i].overshoot * 1e3, 4),
+                    "settled_after": retimed.after.waypoints[i].settled,
+                    "binding": retimed.binding.get(i).copied().flatten().map(binding_key),
                 })
             })
             .collect();
@@ -122,8 +125,11 @@ pub(crate) fn run(file: &Path, request: &RetimeRequest<'_>, json: bool) -> Outco
             "met": true,
             "shaping": shaping_word(scene.timing.shaping),
             "shaped_runs": shaped_runs,
+            "already_met": retimed.already_met,
+            "binding": retimed.main_binding().map(|(b, _)| binding_key(b)),
             "max_overshoot_mm": request.max_overshoot_mm,
-            "torque_share": torque_share,
+            "torque_derating_pct": rounded(torque_share * 100.0, 4),
+            "torque_use_basis": TORQUE_BASIS,
             "before": summary_json(&retimed.before),
             "after": summary_json(&retimed.after),
             "waypoints": waypoints,
@@ -131,20 +137,36 @@ pub(crate) fn run(file: &Path, request: &RetimeRequest<'_>, json: bool) -> Outco
         }));
     } else {
         println!(
-            "target: overshoot ≤ {} mm, torque use ≤ {:.0} % of stall",
+            "target: overshoot ≤ {} mm, simulated torque use ≤ 100 % of the derated stall torque ({:.0} % of stall), every gripper stop settled before the gripper acts",
             request.max_overshoot_mm,
             torque_share * 100.0
         );
         let line = |label: &str, run: &armwright_trajectory::DryRun| {
             println!(
-                "{label:<7} cycle {:.3} s, worst overshoot {:.2} mm, worst torque use {:.0} %",
+                "{label:<7} cycle {:.3} s, worst overshoot {:.2} mm, worst torque use {:.0} % of the derated stall torque, {} gripper stops unsettled",
                 run.cycle_time,
                 run.worst_overshoot() * 1e3,
-                run.worst_torque_use() * 100.0
+                run.worst_torque_use() * 100.0,
+                run.unsettled_gripper_stops().len()
             );
         };
         line("before", &retimed.before);
         line("after", &retimed.after);
+        if retimed.already_met {
+            if retimed.after.cycle_time < retimed.before.cycle_time {
+                println!("the current timing already meets the target; a faster one does too");
+            } else {
+                println!("the current timing already meets the target; kept unchanged");
+            }
+        }
+        match retimed.main_binding() {
+            Some((binding, stops)) => println!(
+                "binding: {} ({stops} of {} stops)",
+                binding.words(),
+                retimed.binding.iter().flatten().count()
+            ),
+            None => println!("binding: no constraint is near its limit"),
+        }
         println!(
             "shaping: {} ({shaped_runs} runs from stop to stop shaped)",
             shaping_word(scene.timing.shaping)
@@ -168,6 +190,16 @@ pub(crate) fn run(file: &Path, request: &RetimeRequest<'_>, json: bool) -> Outco
         }
     }
     Outcome::Done
+}
+
+/// A binding constraint as a JSON word.
+pub(crate) fn binding_key(binding: Binding) -> &'static str {
+    match binding {
+        Binding::SpeedLimit => "speed_limit",
+        Binding::Overshoot => "overshoot",
+        Binding::TorqueUse => "torque_use",
+        Binding::GripperSettling => "gripper_settling",
+    }
 }
 
 fn shaping_word(shaping: Shaping) -> &'static str {

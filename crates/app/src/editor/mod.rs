@@ -39,7 +39,9 @@ pub use estop::{ChannelStopLink, STOP_KEY, STOP_KEY_NAME, StopLink, StopRequest}
 pub use panels::{ACKNOWLEDGE_LABEL, CAUTION, EMERGENCY_STOP_LABEL, NUDGE_KEYS};
 pub use playback::{AtEnd, DryRunStatus, Playback, PlaybackCommand, SPEEDS, Timeline};
 pub use recovery::{Recovery, RecoveryCopy};
-pub use retime_job::{RetimeReport, RetimeRun, RetimeState, RunFigures, WaypointFigures};
+pub use retime_job::{
+    PLACEMENT_TOLERANCE_MM, RetimeReport, RetimeRun, RetimeState, RunFigures, WaypointFigures,
+};
 pub use sample::sample_scene;
 pub use state::{
     BranchChoice, Dialog, EditorState, Level, Message, ReachStatus, StopSource, StopState, ToolsTab,

@@ -12,7 +12,7 @@ use std::sync::atomic::{AtomicBool, AtomicU64, Ordering};
 use std::sync::mpsc::{Receiver, TryRecvError, channel};
 
 use armwright_kinematics::{Arm, gravity_torques, torque_use};
-use armwright_trajectory::{DryRun, RetimeError};
+use armwright_trajectory::{Binding, DryRun, PlacementOptions, RetimeError, placement_estimate};
 
 use super::state::{EditorState, Level};
 use crate::scene::{
@@ -93,6 +93,10 @@ impl RetimeRun {
     }
 }
 
+/// Placement tolerance the editor estimates placement success for, in mm (the command line's
+/// default).
+pub const PLACEMENT_TOLERANCE_MM: f64 = 2.0;
+
 /// The headline figures of one dry run.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct RunFigures {
@@ -100,18 +104,54 @@ pub struct RunFigures {
     pub cycle_time_s: f64,
     /// Worst tool-point overshoot at any stop, in mm.
     pub worst_overshoot_mm: f64,
-    /// Worst torque use of any joint, in % of the allowed share of stall torque.
+    /// Worst simulated torque use of any joint, in % of the derated stall torque (stall torque ×
+    /// the torque share the run was made with).
     pub worst_torque_use_pct: f64,
+    /// Stops where the gripper acts before the tool point has settled.
+    pub unsettled_gripper_stops: usize,
 }
 
 impl RunFigures {
-    fn of(run: &DryRun) -> RunFigures {
+    /// The figures of a dry run made with the torque share it is reported against.
+    pub fn of(run: &DryRun) -> RunFigures {
         RunFigures {
             cycle_time_s: run.cycle_time,
             worst_overshoot_mm: run.worst_overshoot() * 1e3,
             worst_torque_use_pct: run.worst_torque_use() * 100.0,
+            unsettled_gripper_stops: run.unsettled_gripper_stops().len(),
         }
     }
+
+    /// Whether these figures meet a target of `max_overshoot_mm`, 100 % torque use and every
+    /// gripper stop settled.
+    pub fn meets(&self, max_overshoot_mm: f64) -> bool {
+        self.worst_overshoot_mm <= max_overshoot_mm
+            && self.worst_torque_use_pct <= 100.0
+            && self.unsettled_gripper_stops == 0
+    }
+}
+
+/// The worst placement success (0–1) over the waypoints of `scene` where the gripper acts in
+/// `run`, with its waypoint index, at [`PLACEMENT_TOLERANCE_MM`]; `None` when the gripper acts
+/// nowhere.
+pub fn worst_placement(scene: &Scene, arm: &Arm, run: &DryRun) -> Option<(usize, f64)> {
+    let options = PlacementOptions {
+        tolerance: PLACEMENT_TOLERANCE_MM / 1e3,
+        ..PlacementOptions::default()
+    };
+    scene
+        .waypoints
+        .iter()
+        .zip(&run.waypoints)
+        .enumerate()
+        .filter(|(_, (_, result))| result.gripper_acts.is_some())
+        .filter_map(|(index, (waypoint, result))| {
+            let pose = pose_from_file_units(&scene.arm, &waypoint.joints_deg_or_mm);
+            placement_estimate(arm, &pose, result.resting_offset, &options)
+                .ok()
+                .map(|estimate| (index, estimate.success))
+        })
+        .min_by(|a, b| a.1.total_cmp(&b.1))
 }
 
 /// One waypoint before and after retiming; each pair is `[before, after]`.
@@ -127,8 +167,16 @@ pub struct WaypointFigures {
     pub dwell_ms: [f64; 2],
     /// Tool-point overshoot, in mm.
     pub overshoot_mm: [f64; 2],
-    /// Peak torque use on the move into it, in % of the allowed share.
+    /// Peak simulated torque use on the move into it, in % of the derated stall torque.
     pub torque_use_pct: [f64; 2],
+    /// Whether the tool point settled before the arm left or, where the gripper acts, before it
+    /// acts (stops only).
+    pub settled: [bool; 2],
+    /// Whether the gripper acts here.
+    pub gripper_acts: bool,
+    /// What keeps this stop from coming sooner after retiming; `None` at a pass-through or
+    /// where nothing is near its limit.
+    pub binding: Option<Binding>,
 }
 
 /// A retime that met its target.
@@ -152,10 +200,18 @@ pub struct RetimeReport {
     pub shaping: Shaping,
     /// How many runs from stop to stop the retimed plan shapes.
     pub shaped_runs: usize,
+    /// Whether the scene's own timing already met the target (the result is then never
+    /// slower than it).
+    pub already_met: bool,
+    /// The constraint that binds the most stops, with how many it binds.
+    pub binding: Option<(Binding, usize)>,
+    /// Worst placement success (0–1) after retiming and its waypoint, at
+    /// [`PLACEMENT_TOLERANCE_MM`]; `None` when the gripper acts nowhere.
+    pub worst_placement: Option<(usize, f64)>,
 }
 
 impl RetimeReport {
-    fn of(base: Scene, settings: &RetimeSettings, result: SceneRetime) -> RetimeReport {
+    fn of(base: Scene, arm: &Arm, settings: &RetimeSettings, result: SceneRetime) -> RetimeReport {
         let SceneRetime {
             retimed,
             before,
@@ -192,15 +248,25 @@ impl RetimeReport {
                         now.map(|w| &w.peak_torque_use),
                         100.0,
                     ),
+                    settled: [
+                        was.is_some_and(|w| w.settled),
+                        now.is_some_and(|w| w.settled),
+                    ],
+                    gripper_acts: now.is_some_and(|w| w.gripper_acts.is_some()),
+                    binding: retimed.binding.get(i).copied().flatten(),
                 }
             })
             .collect();
+        let worst_placement = worst_placement(&scene, arm, &retimed.after);
         RetimeReport {
             shaping: base.timing.shaping,
             base,
             retimed: scene,
             max_overshoot_mm: settings.max_overshoot_mm,
             torque_share_pct: settings.torque_share * 100.0,
+            worst_placement,
+            already_met: retimed.already_met,
+            binding: retimed.main_binding(),
             before: RunFigures::of(&retimed.before),
             after: RunFigures::of(&retimed.after),
             waypoints,
@@ -224,8 +290,9 @@ fn failure(scene: &Scene, arm: &Arm, torque_share: f64, error: &RetimeError) -> 
             speed_share,
             overshoot,
             torque_use,
+            unsettled,
         } => format!(
-            "target not met: waypoint {} \"{}\" misses it even at {:.0} % speed (overshoot {:.2} mm, torque use {:.0} %)",
+            "target not met: waypoint {} \"{}\" misses it even at {:.0} % speed (overshoot {:.2} mm, simulated torque use {:.0} % of the derated stall torque{})",
             waypoint + 1,
             scene
                 .waypoints
@@ -233,7 +300,12 @@ fn failure(scene: &Scene, arm: &Arm, torque_share: f64, error: &RetimeError) -> 
                 .map_or("", |w| w.name.as_str()),
             speed_share * 100.0,
             overshoot * 1e3,
-            torque_use * 100.0
+            torque_use * 100.0,
+            if *unsettled {
+                ", not settled before the gripper acts"
+            } else {
+                ""
+            }
         ),
         other => format!("cannot retime: {other}"),
     }
@@ -307,7 +379,7 @@ impl RetimeWorker {
                 });
                 let end = match result {
                     Ok(result) => {
-                        JobEnd::Finished(Box::new(RetimeReport::of(scene, &settings, result)))
+                        JobEnd::Finished(Box::new(RetimeReport::of(scene, &arm, &settings, result)))
                     }
                     Err(RetimeError::Cancelled) => JobEnd::Cancelled,
                     Err(error) => {
@@ -397,9 +469,15 @@ mod tests {
             speed_share: 0.05,
             overshoot: 2.5e-3,
             torque_use: 0.4,
+            unsettled: true,
         };
         let arm = crate::scene::build_arm(&scene.arm).expect("sample arm");
         let text = failure(&scene, &arm, 0.5, &error);
+        assert!(
+            text.contains("not settled before the gripper acts"),
+            "{text}"
+        );
+        assert!(text.contains("40 % of the derated stall torque"), "{text}");
         assert!(
             text.starts_with(&format!(
                 "target not met: waypoint 2 \"{}\"",

@@ -225,10 +225,10 @@ impl Traces {
                 simulated[j].push(bucket, display(kind, actual[j]));
                 simulated[n + j].push(bucket, display(kind, speed));
                 simulated[2 * n + j].push(bucket, display(kind, speed_change / interval));
-                // The dry run's own measure, the drive the position loop asks for against the
-                // derated rating, as its mean over the frame.
+                // The dry run's own measure, the motor effort (drive less back-EMF braking)
+                // against the derated rating, as its mean over the frame.
                 let drive: f64 = (from..=to)
-                    .map(|sample| trace.drive_share[sample * n + j].abs())
+                    .map(|sample| trace.effort_share[sample * n + j].abs())
                     .sum::<f64>()
                     / (to - from + 1) as f64;
                 simulated[3 * n + j].push(bucket, drive / derating * 100.0);

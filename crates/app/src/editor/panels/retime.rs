@@ -1,11 +1,15 @@
-//! The retime tab: the target (largest overshoot in mm, torque share in %), a run on a worker
-//! thread with its progress and a cancel button, and the result: before and after cycle time,
-//! worst overshoot and worst torque use, per waypoint, shaping; apply (one undo step) or discard.
+//! The retime tab: the target (largest overshoot in mm, torque share in % of stall), the current
+//! timing's figures against it (from the timeline's dry run), a run on a worker thread with its
+//! progress and a cancel button, and the result: before and after cycle time, worst overshoot,
+//! worst torque use (% of the derated stall torque), gripper stops unsettled, what binds, the
+//! worst placement success, per waypoint, shaping; apply (one undo step) or discard.
 
 use egui::{Button, Color32, DragValue, Grid, ProgressBar, RichText, Ui};
 
+use armwright_trajectory::Binding;
+
 use crate::editor::command::Command;
-use crate::editor::retime_job::{RetimeReport, RetimeRun};
+use crate::editor::retime_job::{PLACEMENT_TOLERANCE_MM, RetimeReport, RetimeRun, RunFigures};
 use crate::editor::state::EditorState;
 use crate::scene::Shaping;
 
@@ -23,7 +27,8 @@ pub fn retime(ui: &mut Ui, state: &EditorState) -> Command {
     ui.heading("Retiming");
     ui.label(
         "The fastest speed shares and dwells whose dry run keeps every stop's overshoot and every \
-         servo's torque use within the target.",
+         servo's simulated torque use within the target, and settles every stop where the \
+         gripper acts before it acts. A timing that already meets the target is never made slower.",
     );
     ui.add_space(4.0);
     Grid::new("retime target")
@@ -61,6 +66,8 @@ pub fn retime(ui: &mut Ui, state: &EditorState) -> Command {
             }
             ui.end_row();
         });
+    ui.add_space(4.0);
+    current_view(ui, state);
     ui.add_space(4.0);
     match &form.run {
         RetimeRun::Running {
@@ -114,19 +121,100 @@ pub fn retime(ui: &mut Ui, state: &EditorState) -> Command {
     command
 }
 
+/// The scene's current timing against the target, from the timeline's newest dry run (made
+/// with the scene's own torque derating, rescaled to the target's share).
+fn current_view(ui: &mut Ui, state: &EditorState) {
+    let form = &state.retime;
+    let Some(timeline) = state.playback.timeline.as_ref() else {
+        ui.label("current timing: waiting for the dry run");
+        return;
+    };
+    let mut figures = RunFigures::of(&timeline.run);
+    if form.torque_share_pct > 0.0 {
+        figures.worst_torque_use_pct *=
+            state.scene.timing.torque_derating_pct / form.torque_share_pct;
+    }
+    let verdict = if figures.meets(form.max_overshoot_mm) {
+        "meets the target".to_string()
+    } else {
+        let mut misses = Vec::new();
+        if figures.worst_overshoot_mm > form.max_overshoot_mm {
+            misses.push("overshoot");
+        }
+        if figures.worst_torque_use_pct > 100.0 {
+            misses.push("torque use");
+        }
+        if figures.unsettled_gripper_stops > 0 {
+            misses.push("settling before the gripper acts");
+        }
+        format!("misses the target: {}", misses.join(", "))
+    };
+    ui.label(format!(
+        "current timing: cycle {:.3} s, worst overshoot {:.2} mm, worst torque use {:.0} % of the derated stall torque, {} gripper stop(s) unsettled — {verdict}",
+        figures.cycle_time_s,
+        figures.worst_overshoot_mm,
+        figures.worst_torque_use_pct,
+        figures.unsettled_gripper_stops
+    ));
+}
+
+/// A binding constraint in a word or two.
+fn binding_word(binding: Binding) -> &'static str {
+    match binding {
+        Binding::SpeedLimit => "speed",
+        Binding::Overshoot => "overshoot",
+        Binding::TorqueUse => "torque",
+        Binding::GripperSettling => "settling",
+    }
+}
+
 /// The result of a retime that met its target, with Apply (unless stale) and Discard.
 fn report_view(ui: &mut Ui, report: &RetimeReport, stale: bool) -> Command {
     let mut command = Command::None;
-    ui.colored_label(
-        MET,
-        format!(
-            "target met: worst overshoot {:.2} mm (at most {:.2} mm), worst torque use {:.0} % of the {:.0} % share",
+    let kept = report.already_met && report.after.cycle_time_s >= report.before.cycle_time_s;
+    let headline = if report.after.unsettled_gripper_stops > 0 {
+        None
+    } else if kept {
+        Some(format!(
+            "already meets the target: the current timing is kept ({:.3} s); nothing faster meets it",
+            report.before.cycle_time_s
+        ))
+    } else if report.already_met {
+        Some(format!(
+            "already meets the target; a faster timing does too: {:.3} s, was {:.3} s",
+            report.after.cycle_time_s, report.before.cycle_time_s
+        ))
+    } else {
+        Some(format!(
+            "target met: worst overshoot {:.2} mm (at most {:.2} mm), worst torque use {:.0} % of the derated stall torque ({:.0} % of stall), every gripper stop settled",
             report.after.worst_overshoot_mm,
             report.max_overshoot_mm,
             report.after.worst_torque_use_pct,
             report.torque_share_pct
+        ))
+    };
+    match headline {
+        Some(text) => ui.colored_label(MET, text),
+        None => ui.colored_label(
+            WARNING,
+            format!(
+                "target not met: {} gripper stop(s) unsettled",
+                report.after.unsettled_gripper_stops
+            ),
         ),
-    );
+    };
+    ui.label(match report.binding {
+        Some((binding, stops)) => format!("binding: {} at {stops} stop(s)", binding.words()),
+        None => "binding: no constraint is near its limit".to_string(),
+    });
+    if let Some((index, success)) = report.worst_placement {
+        let name = report.waypoints.get(index).map_or("", |w| w.name.as_str());
+        ui.label(format!(
+            "worst placement success: {:.0} % within {PLACEMENT_TOLERANCE_MM} mm, at waypoint {} \"{name}\"",
+            success * 100.0,
+            index + 1
+        ));
+    }
     Grid::new("retime before after")
         .num_columns(3)
         .striped(true)
@@ -155,7 +243,14 @@ fn report_view(ui: &mut Ui, report: &RetimeReport, stale: bool) -> Command {
                     "worst torque use",
                     report.before.worst_torque_use_pct,
                     report.after.worst_torque_use_pct,
-                    "%",
+                    "% of derated stall",
+                    0,
+                ),
+                (
+                    "gripper stops unsettled",
+                    report.before.unsettled_gripper_stops as f64,
+                    report.after.unsettled_gripper_stops as f64,
+                    "",
                     0,
                 ),
             ];
@@ -207,13 +302,14 @@ fn report_view(ui: &mut Ui, report: &RetimeReport, stale: bool) -> Command {
 }
 
 /// Column titles and widths of the per-waypoint table, in points.
-const COLUMNS: [(&str, f32); 6] = [
+const COLUMNS: [(&str, f32); 7] = [
     ("#", 20.0),
     ("waypoint", 84.0),
     ("speed %", 58.0),
     ("dwell ms", 62.0),
     ("overshoot mm", 88.0),
     ("torque %", 58.0),
+    ("binds", 70.0),
 ];
 
 /// Space between the table's columns, in points.
@@ -222,7 +318,8 @@ const COLUMN_GAP: f32 = 4.0;
 /// Height of one row of the per-waypoint table, in points.
 const ROW_HEIGHT: f32 = 18.0;
 
-/// Before and after per waypoint: speed share, dwell, overshoot (stops only), torque use. Only
+/// Before and after per waypoint: speed share, dwell, overshoot (stops only), torque use (% of
+/// the derated stall torque), and what binds the stop after retiming. Only
 /// the rows in view are laid out, so a long sequence stays cheap to draw.
 fn waypoint_table(ui: &mut Ui, report: &RetimeReport) {
     let cell = |ui: &mut Ui, width: f32, text: RichText| {
@@ -258,6 +355,13 @@ fn waypoint_table(ui: &mut Ui, report: &RetimeReport) {
                         cell(ui, COLUMNS[4].1, RichText::new("—"));
                     }
                     cell(ui, COLUMNS[5].1, change(waypoint.torque_use_pct, 0));
+                    let binds = match (waypoint.gripper_acts, waypoint.settled[1], waypoint.binding)
+                    {
+                        (true, false, _) => RichText::new("UNSETTLED").color(WARNING),
+                        (_, _, Some(binding)) => RichText::new(binding_word(binding)),
+                        _ => RichText::new(""),
+                    };
+                    cell(ui, COLUMNS[6].1, binds);
                 });
             }
         });
