@@ -11,7 +11,10 @@
 mod closed_form_articulated;
 mod closed_form_scara;
 mod damped_least_squares;
+mod free_angle_search;
 pub(crate) mod planar_two_link;
+
+pub use self::free_angle_search::solve_ik_free_angles;
 
 use std::f64::consts::{PI, TAU};
 
@@ -38,7 +41,8 @@ use crate::fk::{ToolAngles, tool_pose};
 ///   [`ToolAngles::roll`](crate::ToolAngles); with [`IkTask::FullPose`] the yaw is the near
 ///   pose's.
 ///
-/// An angle not given is free: it is taken from the `near` pose.
+/// An angle not given is taken from the `near` pose by [`solve_ik`] (a dragged tool keeps its
+/// angle) and searched over a whole turn by [`solve_ik_free_angles`].
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct IkTarget {
     /// Tool-point position in the base frame, in m.
@@ -532,16 +536,23 @@ impl BranchCollector {
         label: &'static str,
     ) {
         let mut fitted = [0.0; MAX_JOINTS];
+        // The joint that misses most limits this branch; the branch missing least is reported.
+        let mut worst: Option<(usize, f64, f64)> = None;
         for (index, joint) in arm.joints().iter().enumerate() {
             match fit_into_limits(joint, candidate[index], near[index]) {
                 Ok(value) => fitted[index] = value,
                 Err((position, by)) => {
-                    if self.nearest_miss.is_none_or(|(_, _, known)| by < known) {
-                        self.nearest_miss = Some((index, position, by));
+                    if worst.is_none_or(|(_, _, known)| by > known) {
+                        worst = Some((index, position, by));
                     }
-                    return;
                 }
             }
+        }
+        if let Some((index, position, by)) = worst {
+            if self.nearest_miss.is_none_or(|(_, _, known)| by < known) {
+                self.nearest_miss = Some((index, position, by));
+            }
+            return;
         }
         self.solutions
             .push_distinct(Branch::new(&fitted[..arm.joint_count()], label));
