@@ -154,6 +154,9 @@ pub struct IkOptions {
     pub max_iterations: usize,
     /// Further starts, from seeded random in-limit poses, after the start from the near pose.
     pub restarts: usize,
+    /// Most iterations over every start together: the starts stop once it is spent, which
+    /// bounds the time a target that cannot be reached costs.
+    pub iteration_budget: usize,
     /// Seed of the restart poses; the same seed gives the same answer.
     pub seed: u64,
     /// What damped least squares aims for on a chain.
@@ -171,7 +174,8 @@ impl Default for IkOptions {
             angle_tolerance: 1e-6,
             angle_weight: 0.1,
             max_iterations: 60,
-            restarts: 20,
+            restarts: 400,
+            iteration_budget: 5_000,
             seed: 0x5EED_A12A,
             task: IkTask::Position,
             use_damped_least_squares: false,
