@@ -104,7 +104,7 @@ fn the_json_description_names_every_joint_with_units_in_its_keys() {
         assert_eq!(numbers(&joint["axis"]), [0.0, 0.0, 1.0]);
     }
     assert_eq!(numbers(&joints[1]["origin_mm"]), [150.0, 0.0, 120.0]);
-    assert_eq!(numbers(&arm["tool_home_mm"]), [270.0, 0.0, 80.0]);
+    assert_eq!(numbers(&arm["tool_at_zero_mm"]), [270.0, 0.0, 80.0]);
 }
 
 /// Forward kinematics by the product of exponentials in the space frame, T(θ) =
@@ -131,7 +131,7 @@ fn product_of_exponentials(arm: &Value, positions_deg_or_mm: &[f64]) -> Vector3<
         transform *= motion;
     }
     transform
-        .transform_point(&vector(&arm["tool_home_mm"]).into())
+        .transform_point(&vector(&arm["tool_at_zero_mm"]).into())
         .coords
 }
 
@@ -172,6 +172,55 @@ fn the_description_recomputes_forward_kinematics_by_product_of_exponentials() {
             assert!(
                 (recomputed - expected).norm() < 1e-3,
                 "{sample} {pose:?}: {recomputed} vs {expected}"
+            );
+        }
+    }
+}
+
+#[test]
+fn the_description_gives_the_tool_point_at_the_home_pose_as_well_as_at_zero() {
+    for sample in [
+        "cube-stacker.armwright.json",
+        "pen-plotter.armwright.json",
+        "peg-sorter.armwright.json",
+    ] {
+        let file = sample_path(sample);
+        let (code, described) = armwright_json(&["check", &file, "--json"]);
+        assert_eq!(code, 0, "{described}");
+        let arm = &described["arm"];
+        let home: Vec<f64> = arm["joints"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|joint| {
+                joint
+                    .get("home_deg")
+                    .or_else(|| joint.get("home_mm"))
+                    .and_then(Value::as_f64)
+                    .unwrap()
+            })
+            .collect();
+        let joints = home
+            .iter()
+            .map(|v| v.to_string())
+            .collect::<Vec<_>>()
+            .join(",");
+        let (code, out) = armwright_json(&["pose", &file, &format!("--joints={joints}"), "--json"]);
+        assert_eq!(code, 0, "{out}");
+        let at_home = vector(&arm["tool_at_home_mm"]);
+        assert!(
+            (at_home - vector(&out["tool_mm"])).norm() < 1e-3,
+            "{sample}: {at_home} is not the home pose's tool point"
+        );
+        assert!(
+            (at_home - product_of_exponentials(arm, &home)).norm() < 1e-3,
+            "{sample}: the zero-pose description does not carry to the home pose"
+        );
+        assert_eq!(arm["tool_at_home_rotation"].as_array().unwrap().len(), 3);
+        if home.iter().any(|&v| v != 0.0) {
+            assert!(
+                (at_home - vector(&arm["tool_at_zero_mm"])).norm() > 1.0,
+                "{sample}: a home pose away from zero must not report the zero pose's tool point"
             );
         }
     }
@@ -221,7 +270,7 @@ fn chains_in_both_conventions_describe_themselves_consistently() {
         assert_eq!(code, 0, "{described}");
         assert_eq!(described["arm"]["type"], json!("chain"));
         assert_eq!(
-            numbers(&described["arm"]["tool_home_mm"]),
+            numbers(&described["arm"]["tool_at_zero_mm"]),
             [180.0, 0.0, 60.0],
             "{name}"
         );

@@ -160,3 +160,22 @@ fn malformed_targets_are_unreadable_input() {
     let (code, _, _) = armwright(&["reach", &file]);
     assert_eq!(code, 2, "--to is required");
 }
+
+#[test]
+fn an_angle_left_out_is_searched_not_taken_from_the_start() {
+    // Straight above the 5-joint sample's base: the home pose's tool pitch cannot get there, a
+    // pitch near straight up can; leaving the angle out must find it.
+    let file = sample_path("cube-stacker.armwright.json");
+    let (code, out) = armwright_json(&["reach", &file, "--to=0,0,335", "--json"]);
+    assert_eq!(code, 0, "{out}");
+    for solution in out["solutions_deg"].as_array().unwrap() {
+        let back = numbers(&tool_of(&file, &numbers(solution))["tool_mm"]);
+        for (axis, want) in [0.0, 0.0, 335.0].into_iter().enumerate() {
+            assert!((back[axis] - want).abs() < 1e-3, "{back:?}");
+        }
+    }
+    // A target out of reach at every pitch still says by how much.
+    let (code, out) = armwright_json(&["reach", &file, "--to=0,0,600", "--json"]);
+    assert_eq!(code, 1, "{out}");
+    assert_eq!(out["reason"], json!("out_of_reach"), "{out}");
+}

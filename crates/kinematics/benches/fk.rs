@@ -1,7 +1,10 @@
-//! Forward kinematics: the tool pose of the 5-joint articulated arm (budget: 100 ns).
+//! Forward kinematics: the tool pose of the 5-joint articulated arm (budget: 100 ns), and of a
+//! random 6-joint chain beside the `k` crate's (crates.io `k` 0.32) on the same chain.
 
 #[path = "../tests/common/mod.rs"]
 mod common;
+#[path = "common/k_chain.rs"]
+mod k_chain;
 
 use armwright_kinematics::{forward, space_jacobian, tool_pose};
 use criterion::{Criterion, criterion_group, criterion_main};
@@ -37,5 +40,36 @@ fn bench_fk(c: &mut Criterion) {
     });
 }
 
-criterion_group!(benches, bench_fk);
+fn bench_fk_beside_k(c: &mut Criterion) {
+    let mut rng = common::Seeded::new(8);
+    let arm = common::random_chain(&mut rng, 6);
+    let poses: Vec<Vec<f64>> = (0..64).map(|_| rng.pose(&arm)).collect();
+    let theirs = k_chain::k_chain(&arm);
+    // Both compute the same pose, or the comparison means nothing.
+    for pose in &poses {
+        theirs.set_joint_positions_unchecked(pose);
+        let ours = tool_pose(&arm, pose).expect("in-limit pose");
+        let other = k_chain::from_k(&theirs.end_transform());
+        assert!((ours.translation.vector - other.translation.vector).norm() < 1e-12);
+        assert!(ours.rotation.angle_to(&other.rotation) < 1e-12);
+    }
+    let mut group = c.benchmark_group("fk_6_joints");
+    let mut next = 0;
+    group.bench_function("armwright_tool_pose", |b| {
+        b.iter(|| {
+            next = (next + 1) % poses.len();
+            tool_pose(black_box(&arm), black_box(&poses[next]))
+        })
+    });
+    group.bench_function("k_end_transform", |b| {
+        b.iter(|| {
+            next = (next + 1) % poses.len();
+            theirs.set_joint_positions_unchecked(black_box(&poses[next]));
+            theirs.end_transform()
+        })
+    });
+    group.finish();
+}
+
+criterion_group!(benches, bench_fk, bench_fk_beside_k);
 criterion_main!(benches);

@@ -3,9 +3,12 @@
 
 #[path = "../tests/common/mod.rs"]
 mod common;
+#[path = "common/k_chain.rs"]
+mod k_chain;
 
-use armwright_kinematics::{Arm, IkOptions, IkTarget, solve_ik, tool_pose};
+use armwright_kinematics::{Arm, IkOptions, IkTarget, IkTask, solve_ik, solve_ik_frame, tool_pose};
 use criterion::{Criterion, criterion_group, criterion_main};
+use k::InverseKinematicsSolver;
 use std::hint::black_box;
 
 /// 64 seeded targets made by forward kinematics of random in-limit poses, with those poses.
@@ -80,5 +83,52 @@ fn bench_damped_least_squares(c: &mut Criterion) {
     });
 }
 
-criterion_group!(benches, bench_closed_form, bench_damped_least_squares);
+/// Full-pose targets (tool point and orientation) of a random 6-joint chain, each from a random
+/// in-limit start, ours beside `k`'s Jacobian solver (crates.io `k` 0.32) on the same chain.
+fn bench_full_pose_beside_k(c: &mut Criterion) {
+    let mut rng = common::Seeded::new(23);
+    let arm = common::random_chain(&mut rng, 6);
+    let cases: Vec<(nalgebra::Isometry3<f64>, Vec<f64>)> = (0..64)
+        .map(|_| {
+            let goal = tool_pose(&arm, &rng.pose(&arm)).expect("in-limit pose");
+            (goal, rng.pose(&arm))
+        })
+        .collect();
+    let options = IkOptions {
+        task: IkTask::FullPose,
+        ..IkOptions::default()
+    };
+    let theirs = k_chain::k_chain(&arm);
+    let solver = k::JacobianIkSolver::new(1e-6, 1e-6, 0.5, 100);
+    let mut group = c.benchmark_group("damped_least_squares_6_joints_full_pose_random_start");
+    let mut next = 0;
+    group.bench_function("armwright", |b| {
+        b.iter(|| {
+            next = (next + 1) % cases.len();
+            let (goal, start) = &cases[next];
+            solve_ik_frame(black_box(&arm), black_box(goal), start, &options)
+        })
+    });
+    group.bench_function("k_jacobian", |b| {
+        b.iter(|| {
+            next = (next + 1) % cases.len();
+            let (goal, start) = &cases[next];
+            theirs.set_joint_positions_unchecked(start);
+            solver.solve(&theirs, black_box(&k_chain::to_k(goal)))
+        })
+    });
+    // A frame out of reach spends the whole iteration budget: the cost of a failed solve.
+    let far = nalgebra::Isometry3::translation(5.0, 0.0, 0.0);
+    group.bench_function("armwright_failed_solve", |b| {
+        b.iter(|| solve_ik_frame(black_box(&arm), black_box(&far), &cases[0].1, &options))
+    });
+    group.finish();
+}
+
+criterion_group!(
+    benches,
+    bench_closed_form,
+    bench_damped_least_squares,
+    bench_full_pose_beside_k
+);
 criterion_main!(benches);

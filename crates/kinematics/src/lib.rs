@@ -34,6 +34,7 @@ pub use crate::fk::{ChainPose, ToolAngles, forward, tool_pose};
 pub use crate::gravity::{STANDARD_GRAVITY, gravity_torques};
 pub use crate::ik::{
     Branch, IkError, IkOptions, IkSolutions, IkTarget, IkTask, solve_ik, solve_ik_frame,
+    solve_ik_free_angles,
 };
 pub use crate::jacobian::{Jacobian, space_jacobian, tool_jacobian};
 pub use crate::payload::{PayloadLimit, max_payload, max_payload_in_motion};

@@ -48,6 +48,37 @@ fn six_joint_chains_solve_ten_thousand_reachable_targets() {
 }
 
 #[test]
+fn six_joint_chains_reach_ten_thousand_full_poses_from_random_starts() {
+    // 10 random 6-joint chains × 1000 whole tool frames made by forward kinematics of random
+    // in-limit poses, each solved from another random in-limit pose; the issue asks ≥ 99.9 %.
+    let options = IkOptions {
+        task: IkTask::FullPose,
+        ..IkOptions::default()
+    };
+    let mut rng = Seeded::new(12);
+    let (mut solved, mut total) = (0, 0);
+    for _ in 0..10 {
+        let arm = random_chain(&mut rng, 6);
+        for _ in 0..1000 {
+            let goal = tool_pose(&arm, &rng.pose(&arm)).unwrap();
+            let start = rng.pose(&arm);
+            total += 1;
+            if let Ok(solutions) = solve_ik_frame(&arm, &goal, &start, &options) {
+                let branch = solutions.nearest(&start);
+                let reached = tool_pose(&arm, branch.positions()).unwrap();
+                assert!(arm.within_limits(branch.positions()));
+                assert!((reached.translation.vector - goal.translation.vector).norm() <= 1e-6);
+                assert!(reached.rotation.angle_to(&goal.rotation) <= 1e-5);
+                solved += 1;
+            }
+        }
+    }
+    let share = solved as f64 / total as f64;
+    println!("solved {solved} of {total} full poses");
+    assert!(share >= 0.999, "solved only {:.3} %", share * 100.0);
+}
+
+#[test]
 fn pitch_task_reaches_the_pitch() {
     // Position and pitch of tool frames made by forward kinematics, from random starts.
     let options = IkOptions {
@@ -141,6 +172,7 @@ fn unreachable_target_reports_the_residual_within_bounded_iterations() {
             // The chain spans well under a metre, so at least 4 m remain.
             assert!(residual > 4.0 && residual.is_finite());
             assert!(iterations <= (options.restarts + 1) * options.max_iterations);
+            assert!(iterations <= options.iteration_budget);
         }
         other => panic!("expected not converged, got {other:?}"),
     }

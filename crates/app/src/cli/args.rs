@@ -66,8 +66,9 @@ pub enum Command {
     /// Every set of joint positions that puts the tool point on a target.
     ///
     /// ANGLE is the tool pitch for the articulated arms and the tool yaw for the horizontal
-    /// arm; ROLL is the wrist roll of the 5-joint arm. An angle not given is free and taken from
-    /// --near (or the home pose).
+    /// arm; ROLL is the wrist roll of the 5-joint arm. An angle not given is free: it is searched
+    /// over a whole turn for solutions within the limits, each branch keeping the one nearest
+    /// --near (or the home pose); a free roll keeps the roll joint where --near has it.
     Reach {
         /// The scene file.
         #[arg(value_name = "FILE")]

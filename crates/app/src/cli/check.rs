@@ -4,7 +4,7 @@
 use std::path::Path;
 
 use armwright_kinematics::{Arm, JointKind, forward};
-use nalgebra::Vector3;
+use nalgebra::{Isometry3, Vector3};
 use serde_json::{Value, json};
 
 use super::Outcome;
@@ -81,11 +81,13 @@ fn mm(vector: &Vector3<f64>) -> Vec<f64> {
 }
 
 /// The arm with every joint at zero: per joint its kind, limits, axis and a point on it; the
-/// tool point and tool frame axes.
+/// tool point and tool frame axes at zero (`tool_at_zero_*`, the product of exponentials' home
+/// configuration M), and at the scene's home pose (`tool_at_home_*`, every joint at its
+/// `home_*`).
 pub(crate) fn describe(scene: &Scene, arm: &Arm) -> Value {
     let zeros = vec![0.0; arm.joint_count()];
-    let Ok(pose) = forward(arm, &zeros) else {
-        // forward() only fails on a wrong count or a non-finite position; zeros are neither.
+    // forward() only fails on a wrong count or a non-finite position; neither pose has one.
+    let (Ok(pose), Ok(home)) = (forward(arm, &zeros), forward(arm, &arm.home_pose())) else {
         return Value::Null;
     };
     let joints: Vec<Value> = arm
@@ -111,16 +113,21 @@ pub(crate) fn describe(scene: &Scene, arm: &Arm) -> Value {
             out
         })
         .collect();
-    let tool = pose.tool();
-    let rotation = tool.rotation.to_rotation_matrix();
-    let rows: Vec<Vec<f64>> = (0..3)
-        .map(|r| all_rounded(&[rotation[(r, 0)], rotation[(r, 1)], rotation[(r, 2)]], 12))
-        .collect();
     json!({
         "type": scene.arm.shape.word(),
         "joints": joints,
-        "tool_home_mm": mm(&tool.translation.vector),
-        "tool_home_rotation": rows,
+        "tool_at_zero_mm": mm(&pose.tool().translation.vector),
+        "tool_at_zero_rotation": rotation_rows(pose.tool()),
+        "tool_at_home_mm": mm(&home.tool().translation.vector),
+        "tool_at_home_rotation": rotation_rows(home.tool()),
         "payload_g": scene.arm.payload_g,
     })
+}
+
+/// The tool frame's axes as the rows of its rotation matrix in the base frame.
+fn rotation_rows(tool: &Isometry3<f64>) -> Vec<Vec<f64>> {
+    let rotation = tool.rotation.to_rotation_matrix();
+    (0..3)
+        .map(|r| all_rounded(&[rotation[(r, 0)], rotation[(r, 1)], rotation[(r, 2)]], 12))
+        .collect()
 }

@@ -4,7 +4,7 @@
 use std::path::Path;
 
 use armwright_kinematics::{
-    Arm, ArmType, IkError, IkOptions, IkSolutions, IkTarget, IkTask, solve_ik,
+    Arm, ArmType, IkError, IkOptions, IkSolutions, IkTarget, IkTask, solve_ik_free_angles,
 };
 use nalgebra::Vector3;
 use serde_json::{Value, json};
@@ -134,7 +134,7 @@ pub(crate) fn run(file: &Path, to: &[f64], near: Option<&[f64]>, json: bool) -> 
             return fail(json, &message, json!({}), Outcome::Unreadable);
         }
     };
-    let solutions = match solve_ik(&arm, &target, &near, &options_for(&target)) {
+    let solutions = match solve_ik_free_angles(&arm, &target, &near, &options_for(&target)) {
         Ok(solutions) if !solutions.is_empty() => solutions,
         Ok(_) => {
             let message = "no branch reaches the target";

@@ -5,8 +5,10 @@
 //! "Introduction to inverse kinematics with Jacobian transpose, pseudoinverse and damped least
 //! squares methods", 2004; cited from memory). λ falls while steps lower the error and rises
 //! when they do not. Rows the task leaves out are zero. The first start is the near pose
-//! (clamped into the limits); further starts are seeded random in-limit poses, so the time is
-//! bounded by (1 + restarts) × max_iterations steps of fixed cost.
+//! (clamped into the limits); further starts are seeded random in-limit poses. A start whose
+//! accepted steps stop lowering the error (a local minimum, usually against a limit) is given up
+//! early, so many cheap restarts replace a few long ones; the time is bounded by
+//! min(iteration_budget, (1 + restarts) × max_iterations) steps of fixed cost.
 
 use nalgebra::{Isometry3, Matrix6, SMatrix, SVector, UnitQuaternion, Vector3, Vector6};
 
@@ -19,6 +21,10 @@ use crate::jacobian::tool_jacobian;
 const MAX_STEP: f64 = 1.0;
 /// Above this damping (m) the start is taken as stuck.
 const STUCK_DAMPING: f64 = 1e3;
+/// An accepted step that leaves more than this share of the error counts as stalled.
+const STALL_RATIO: f64 = 0.98;
+/// After this many stalled steps in a row the start is given up for the next one.
+const STALL_STEPS: usize = 4;
 /// Damping never falls below this (m), so the normal equations stay solvable.
 const MIN_DAMPING: f64 = 1e-9;
 
@@ -108,6 +114,9 @@ fn descend_with_restarts(
     let mut iterations = 0;
     let mut best_residual = f64::INFINITY;
     for attempt in 0..=options.restarts {
+        if iterations >= options.iteration_budget {
+            break;
+        }
         if attempt > 0 {
             for (index, joint) in arm.joints().iter().enumerate() {
                 start[index] = joint.min + (joint.max - joint.min) * restart_poses.unit();
@@ -154,8 +163,12 @@ fn descend(
     } else {
         MIN_DAMPING
     };
+    let mut stalled = 0;
     for _ in 0..options.max_iterations {
-        if converged(goal, &error, options) || damping > STUCK_DAMPING {
+        if converged(goal, &error, options)
+            || damping > STUCK_DAMPING
+            || *iterations >= options.iteration_budget
+        {
             break;
         }
         *iterations += 1;
@@ -166,6 +179,19 @@ fn descend(
         let candidate_tool = tool_pose(arm, &candidate.as_slice()[..count])?;
         let candidate_error = task_error(goal, &candidate_tool);
         if candidate_error.norm() < error.norm() {
+            // Steps that barely lower the error mean a local minimum (usually against a limit):
+            // a fresh start does better than more of them. Near a solution the error falls
+            // fast, so this never stops a start that is converging.
+            if candidate_error.norm() > STALL_RATIO * error.norm() {
+                stalled += 1;
+                if stalled >= STALL_STEPS {
+                    pose = candidate;
+                    error = candidate_error;
+                    break;
+                }
+            } else {
+                stalled = 0;
+            }
             pose = candidate;
             tool = candidate_tool;
             error = candidate_error;

@@ -11,7 +11,10 @@
 mod closed_form_articulated;
 mod closed_form_scara;
 mod damped_least_squares;
+mod free_angle_search;
 pub(crate) mod planar_two_link;
+
+pub use self::free_angle_search::solve_ik_free_angles;
 
 use std::f64::consts::{PI, TAU};
 
@@ -38,7 +41,8 @@ use crate::fk::{ToolAngles, tool_pose};
 ///   [`ToolAngles::roll`](crate::ToolAngles); with [`IkTask::FullPose`] the yaw is the near
 ///   pose's.
 ///
-/// An angle not given is free: it is taken from the `near` pose.
+/// An angle not given is taken from the `near` pose by [`solve_ik`] (a dragged tool keeps its
+/// angle) and searched over a whole turn by [`solve_ik_free_angles`].
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct IkTarget {
     /// Tool-point position in the base frame, in m.
@@ -150,6 +154,9 @@ pub struct IkOptions {
     pub max_iterations: usize,
     /// Further starts, from seeded random in-limit poses, after the start from the near pose.
     pub restarts: usize,
+    /// Most iterations over every start together: the starts stop once it is spent, which
+    /// bounds the time a target that cannot be reached costs.
+    pub iteration_budget: usize,
     /// Seed of the restart poses; the same seed gives the same answer.
     pub seed: u64,
     /// What damped least squares aims for on a chain.
@@ -167,7 +174,8 @@ impl Default for IkOptions {
             angle_tolerance: 1e-6,
             angle_weight: 0.1,
             max_iterations: 60,
-            restarts: 20,
+            restarts: 400,
+            iteration_budget: 5_000,
             seed: 0x5EED_A12A,
             task: IkTask::Position,
             use_damped_least_squares: false,
@@ -532,16 +540,23 @@ impl BranchCollector {
         label: &'static str,
     ) {
         let mut fitted = [0.0; MAX_JOINTS];
+        // The joint that misses most limits this branch; the branch missing least is reported.
+        let mut worst: Option<(usize, f64, f64)> = None;
         for (index, joint) in arm.joints().iter().enumerate() {
             match fit_into_limits(joint, candidate[index], near[index]) {
                 Ok(value) => fitted[index] = value,
                 Err((position, by)) => {
-                    if self.nearest_miss.is_none_or(|(_, _, known)| by < known) {
-                        self.nearest_miss = Some((index, position, by));
+                    if worst.is_none_or(|(_, _, known)| by > known) {
+                        worst = Some((index, position, by));
                     }
-                    return;
                 }
             }
+        }
+        if let Some((index, position, by)) = worst {
+            if self.nearest_miss.is_none_or(|(_, _, known)| by < known) {
+                self.nearest_miss = Some((index, position, by));
+            }
+            return;
         }
         self.solutions
             .push_distinct(Branch::new(&fitted[..arm.joint_count()], label));

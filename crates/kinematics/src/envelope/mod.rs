@@ -14,6 +14,9 @@ use std::f64::consts::{FRAC_PI_2, PI, TAU};
 
 use nalgebra::Vector3;
 
+mod planar_region; // cells a planar three-joint chain reaches, with none missed
+
+use self::planar_region::{GridView, PlanarChain, SlicePiece, mark_cells, slice};
 use crate::arm::{Arm, ArmType, ArticulatedDims, JointKind, MAX_JOINTS, ScaraDims};
 use crate::gravity::gravity_torques;
 use crate::ik::{IkOptions, IkTarget, fit_into_limits, planar_two_link, solve_ik};
@@ -208,8 +211,17 @@ fn plane_point(view: MapView, u: f64, v: f64) -> Vector3<f64> {
 /// neighbouring cell's answer; only the branch found counts, so a chain's map can miss cells
 /// and is slower than the 50 ms of the built-in types.
 ///
+/// Which cells are reachable (built-in types): a cell counts when any point of it is reachable
+/// (or lies within an eighth of a cell of a reachable point), with either base side, either
+/// elbow branch and any in-limit tool angle when it is free (the fixed one otherwise; the
+/// 5-joint roll and the horizontal arm's free roll do not move the tool point). The envelope's
+/// edge is drawn from the curves it can lie on (links in line, joints at limits) and the cells
+/// between those curves are decided a connected run at a time (`planar_region.rs`), so no
+/// reachable point lies in a cell marked out of reach.
+///
 /// The torque use of one pose is its worst joint's [`torque_use`]; a cell keeps the lowest over
-/// the branches and sampled angles that reach it. The boundary is traced by marching squares
+/// the branches and sampled angles that reach its centre, or, where they miss it, the torque
+/// use of a pose found reaching the cell. The boundary is traced by marching squares
 /// over the cell centres, each crossing placed by bisection along the cell edge with the same
 /// reach test, so boundary points lie on the envelope to a few µm rather than half a cell.
 ///
@@ -264,6 +276,22 @@ pub fn reach_map(arm: &Arm, view: &MapView, options: &MapOptions) -> ReachMap {
         },
         ArmType::Chain(_) => context.chain(&mut map),
     }
+    let centre_reached: Vec<bool> = map.values.iter().map(Option::is_some).collect();
+    match (arm.arm_type(), view) {
+        (ArmType::Scara(dims), MapView::Top { height }) => {
+            context.scara_top_cells(dims, *height, &mut map)
+        }
+        (ArmType::Scara(dims), MapView::Side { yaw }) => {
+            context.scara_side_cells(dims, *yaw, &mut map)
+        }
+        (ArmType::Articulated4(dims) | ArmType::Articulated5(dims), MapView::Top { height }) => {
+            context.articulated_top_cells(dims, *height, &mut map)
+        }
+        (ArmType::Articulated4(dims) | ArmType::Articulated5(dims), MapView::Side { yaw }) => {
+            context.articulated_side_cells(dims, *yaw, &mut map)
+        }
+        (ArmType::Chain(_), _) => {}
+    }
     let reach_test = |point: Vector3<f64>| match arm.arm_type() {
         ArmType::Scara(dims) => context.scara(dims, point, false).is_some(),
         ArmType::Articulated4(dims) | ArmType::Articulated5(dims) => {
@@ -271,8 +299,26 @@ pub fn reach_map(arm: &Arm, view: &MapView, options: &MapOptions) -> ReachMap {
         }
         ArmType::Chain(_) => context.chain_point(point, &context.home).is_some(),
     };
-    map.boundary = trace_boundary(&map, reach_test);
+    let traced = traced_cells(&map, &centre_reached);
+    map.boundary = trace_boundary(&map, &traced, reach_test);
     map
+}
+
+/// The cells the boundary is traced around: those whose centre the sampled angles reach, and
+/// the reachable cells all of whose neighbours are reachable (inside the envelope, where the
+/// sampled angles may have missed a centre). Cells reachable only at their edge are left out,
+/// so the bisection along each crossed edge finds the envelope itself.
+fn traced_cells(map: &ReachMap, centre_reached: &[bool]) -> Vec<bool> {
+    let n = map.cells;
+    (0..n * n)
+        .map(|index| {
+            let (column, row) = (index % n, index / n);
+            let surrounded = (column.saturating_sub(1)..=(column + 1).min(n - 1)).all(|c| {
+                (row.saturating_sub(1)..=(row + 1).min(n - 1)).all(|r| map.reachable(c, r))
+            });
+            centre_reached[index] || surrounded
+        })
+        .collect()
 }
 
 /// Sampled tool angles (rad) for a free angle, or the one fixed angle; at most 360.
@@ -561,6 +607,247 @@ impl Context<'_> {
         }
     }
 
+    /// The shoulder, elbow and wrist pitch of an articulated arm as a planar chain in its own
+    /// plane (x = signed distance from the base axis, y = height above the shoulder), with the
+    /// tool angle for points on the `side` (+1 ahead of the base axis, −1 behind) of it.
+    fn articulated_chain(&self, dims: &ArticulatedDims, side: f64) -> PlanarChain {
+        let joints = self.arm.joints();
+        let angle = self.angles.fixed.then(|| {
+            // A fixed pitch is measured outwards from the base axis, as in `in_plane`.
+            let pitch = self.angles.values[0];
+            if side < 0.0 { PI - pitch } else { pitch }
+        });
+        PlanarChain {
+            lengths: [dims.upper_arm, dims.forearm, dims.wrist_to_tool],
+            limits: [1, 2, 3].map(|i| (joints[i].min, joints[i].max)),
+            angle,
+            idle_w: self.home[3],
+        }
+    }
+
+    /// The chains serving each half of an articulated arm's plane: one for both halves when the
+    /// pitch is free, one per half when it is fixed.
+    fn articulated_pieces(&self, dims: &ArticulatedDims) -> Vec<(PlanarChain, Option<f64>)> {
+        if self.angles.fixed {
+            vec![
+                (self.articulated_chain(dims, 1.0), Some(1.0)),
+                (self.articulated_chain(dims, -1.0), Some(-1.0)),
+            ]
+        } else {
+            vec![(self.articulated_chain(dims, 1.0), None)]
+        }
+    }
+
+    /// Torque use of an articulated pose given by its shoulder, elbow and wrist (rad).
+    fn articulated_use(&self, q: [f64; 3]) -> Option<f64> {
+        let mut pose = self.home;
+        pose[1..4].copy_from_slice(&q);
+        self.pose_use(&pose[..self.arm.joint_count()])
+    }
+
+    /// Fills the cells that hold a reachable point but whose centre the sampled angles missed,
+    /// with the torque use of the pose found for them.
+    fn fill_found(
+        &self,
+        map: &mut ReachMap,
+        found: &[Option<[f64; 3]>],
+        use_of: impl Fn([f64; 3]) -> Option<f64>,
+    ) {
+        for (value, pose) in map.values.iter_mut().zip(found) {
+            if value.is_none()
+                && let Some(pose) = pose
+            {
+                *value = use_of(*pose);
+            }
+        }
+    }
+
+    /// Side view of an articulated arm: every cell holding a point the arm reaches with the
+    /// base facing the plane's direction or turned over it, any in-limit pitch (or the fixed
+    /// one).
+    fn articulated_side_cells(&self, dims: &ArticulatedDims, yaw: f64, map: &mut ReachMap) {
+        let base = &self.arm.joints()[0];
+        let n = map.cells;
+        let mut found = vec![None; n * n];
+        for (sign, base_yaw) in [(1.0, yaw), (-1.0, yaw + PI)] {
+            if fit_into_limits(base, base_yaw, self.home[0]).is_err() {
+                continue;
+            }
+            for (chain, half) in self.articulated_pieces(dims) {
+                let grid = GridView {
+                    cells: n,
+                    u_min: map.extent.u_min,
+                    v_min: map.extent.v_min,
+                    size: map.cell_size(),
+                    sign,
+                    v_offset: dims.base_height,
+                    half,
+                };
+                mark_cells(
+                    &chain,
+                    &grid,
+                    map.cell_size() * BOUNDARY_SPACING,
+                    DENSE_ANGLE_SAMPLES,
+                    &mut found,
+                );
+            }
+        }
+        self.fill_found(map, &found, |q| self.articulated_use(q));
+    }
+
+    /// Top view of an articulated arm: where the plane at `height` cuts the arm's own plane,
+    /// swept round by the base within its limits.
+    fn articulated_top_cells(&self, dims: &ArticulatedDims, height: f64, map: &mut ReachMap) {
+        let spacing = map.cell_size() * BOUNDARY_SPACING;
+        let farthest = map.extent.u_max.hypot(map.extent.v_max) + map.cell_size();
+        let level = height - dims.base_height;
+        let mut pieces: Vec<SlicePiece> = Vec::new();
+        for (chain, half) in self.articulated_pieces(dims) {
+            let range = match half {
+                Some(side) if side > 0.0 => (0.0, farthest),
+                Some(_) => (-farthest, 0.0),
+                None => (-farthest, farthest),
+            };
+            pieces.extend(slice(
+                &chain,
+                [0.0, level],
+                [1.0, 0.0],
+                range,
+                spacing,
+                DENSE_ANGLE_SAMPLES,
+            ));
+        }
+        let uses: Vec<Option<f64>> = pieces
+            .iter()
+            .map(|piece| self.articulated_use(piece.pose))
+            .collect();
+        let base = &self.arm.joints()[0];
+        let whole_turn = base.max - base.min >= TAU;
+        let yaw_allowed = |(from, to): (f64, f64)| {
+            whole_turn
+                || (-2..=2).any(|turn| {
+                    let shift = TAU * f64::from(turn);
+                    from <= base.max + shift && to >= base.min + shift
+                })
+        };
+        for row in 0..map.cells {
+            for column in 0..map.cells {
+                let index = row * map.cells + column;
+                if map.values[index].is_some() {
+                    continue;
+                }
+                let (radii, yaws) = polar_extent(map, column, row);
+                let mut best: Option<f64> = None;
+                for (piece, value) in pieces.iter().zip(&uses) {
+                    // Ahead of the base axis the base faces the cell; behind it, turned over.
+                    let ahead = piece.high >= 0.0
+                        && piece.high >= radii.0
+                        && piece.low.max(0.0) <= radii.1
+                        && yaw_allowed(yaws);
+                    let behind = piece.low <= 0.0
+                        && -piece.low >= radii.0
+                        && (-piece.high).max(0.0) <= radii.1
+                        && yaw_allowed((yaws.0 + PI, yaws.1 + PI));
+                    if (ahead || behind)
+                        && let Some(value) = value
+                    {
+                        best = Some(best.map_or(*value, |known: f64| known.min(*value)));
+                    }
+                }
+                map.values[index] = best;
+            }
+        }
+    }
+
+    /// The shoulder, elbow and roll of the horizontal arm as a planar chain seen from above
+    /// (the tool point on the roll axis), with the fixed tool yaw if any.
+    fn scara_chain(&self, dims: &ScaraDims) -> PlanarChain {
+        let joints = self.arm.joints();
+        PlanarChain {
+            lengths: [dims.upper_arm, dims.forearm, 0.0],
+            limits: [0, 1, 3].map(|i| (joints[i].min, joints[i].max)),
+            angle: self.angles.fixed.then(|| self.angles.values[0]),
+            idle_w: self.home[3],
+        }
+    }
+
+    /// Torque use of a horizontal-arm pose given by shoulder, elbow and roll (rad) and the lift.
+    fn scara_use(&self, q: [f64; 3], lift: f64) -> Option<f64> {
+        self.pose_use(&[q[0], q[1], lift, q[2]])
+    }
+
+    /// Top view of the horizontal arm: the lift sets the height, the two links the rest.
+    fn scara_top_cells(&self, dims: &ScaraDims, height: f64, map: &mut ReachMap) {
+        let lift = &self.arm.joints()[2];
+        let Ok(lift) = fit_into_limits(lift, height - dims.base_height + dims.tool_drop, 0.0)
+        else {
+            return;
+        };
+        let n = map.cells;
+        let grid = GridView {
+            cells: n,
+            u_min: map.extent.u_min,
+            v_min: map.extent.v_min,
+            size: map.cell_size(),
+            sign: 1.0,
+            v_offset: 0.0,
+            half: None,
+        };
+        let mut found = vec![None; n * n];
+        mark_cells(
+            &self.scara_chain(dims),
+            &grid,
+            map.cell_size() * BOUNDARY_SPACING,
+            DENSE_ANGLE_SAMPLES,
+            &mut found,
+        );
+        self.fill_found(map, &found, |q| self.scara_use(q, lift));
+    }
+
+    /// Side view of the horizontal arm: where the vertical plane cuts the links' reach, times
+    /// the lift's travel.
+    fn scara_side_cells(&self, dims: &ScaraDims, yaw: f64, map: &mut ReachMap) {
+        let lift = &self.arm.joints()[2];
+        let lowest = dims.base_height - dims.tool_drop + lift.min;
+        let highest = dims.base_height - dims.tool_drop + lift.max;
+        let farthest = map.extent.u_max.hypot(map.extent.v_max) + map.cell_size();
+        let pieces = slice(
+            &self.scara_chain(dims),
+            [0.0, 0.0],
+            [yaw.cos(), yaw.sin()],
+            (-farthest, farthest),
+            map.cell_size() * BOUNDARY_SPACING,
+            DENSE_ANGLE_SAMPLES,
+        );
+        let size = map.cell_size();
+        for row in 0..map.cells {
+            let v = (
+                map.extent.v_min + row as f64 * size,
+                map.extent.v_min + (row + 1) as f64 * size,
+            );
+            if v.1 < lowest || v.0 > highest {
+                continue;
+            }
+            let lift_here =
+                (0.5 * (v.0 + v.1) - dims.base_height + dims.tool_drop).clamp(lift.min, lift.max);
+            for column in 0..map.cells {
+                let index = row * map.cells + column;
+                if map.values[index].is_some() {
+                    continue;
+                }
+                let u = (
+                    map.extent.u_min + column as f64 * size,
+                    map.extent.u_min + (column + 1) as f64 * size,
+                );
+                map.values[index] = pieces
+                    .iter()
+                    .filter(|piece| piece.high >= u.0 && piece.low <= u.1)
+                    .filter_map(|piece| self.scara_use(piece.pose, lift_here))
+                    .reduce(f64::min);
+            }
+        }
+    }
+
     /// A chain: damped least squares per cell in a back-and-forth raster, each start from the
     /// last cell's answer.
     fn chain(&self, map: &mut ReachMap) {
@@ -606,11 +893,56 @@ impl Context<'_> {
     }
 }
 
+/// Spacing of the points walked along the boundary curves, as a share of a cell: a cell within
+/// half of this of a reachable point is marked reachable.
+const BOUNDARY_SPACING: f64 = 0.25;
+
+/// Tool angles tried (evenly spaced over a turn) when deciding whether a point can be reached
+/// with a free pitch: a quarter degree apart.
+const DENSE_ANGLE_SAMPLES: usize = 1440;
+
+/// The range of distances from the base axis (m) and of directions (rad, from +X towards +Y)
+/// covering cell (`column`, `row`) of a top view; every direction when the cell holds the axis.
+fn polar_extent(map: &ReachMap, column: usize, row: usize) -> ((f64, f64), (f64, f64)) {
+    let size = map.cell_size();
+    let x = (
+        map.extent.u_min + column as f64 * size,
+        map.extent.u_min + (column + 1) as f64 * size,
+    );
+    let y = (
+        map.extent.v_min + row as f64 * size,
+        map.extent.v_min + (row + 1) as f64 * size,
+    );
+    let nearest_x = 0.0_f64.clamp(x.0, x.1);
+    let nearest_y = 0.0_f64.clamp(y.0, y.1);
+    let corners = [(x.0, y.0), (x.1, y.0), (x.0, y.1), (x.1, y.1)];
+    let farthest = corners
+        .iter()
+        .map(|(cx, cy)| cx.hypot(*cy))
+        .fold(0.0, f64::max);
+    let nearest = nearest_x.hypot(nearest_y);
+    if nearest == 0.0 {
+        return ((0.0, farthest), (-PI, PI));
+    }
+    let middle = (0.5 * (y.0 + y.1)).atan2(0.5 * (x.0 + x.1));
+    let (mut from, mut to) = (0.0_f64, 0.0_f64);
+    for (cx, cy) in corners {
+        let off = (cy.atan2(cx) - middle + PI).rem_euclid(TAU) - PI;
+        from = from.min(off);
+        to = to.max(off);
+    }
+    ((nearest, farthest), (middle + from, middle + to))
+}
+
 /// Marching squares over the cell centres; each crossing is placed by bisection along its edge
 /// with `reachable`, then the segments are joined into polylines.
-fn trace_boundary(map: &ReachMap, reachable: impl Fn(Vector3<f64>) -> bool) -> Vec<Vec<[f64; 2]>> {
+fn trace_boundary(
+    map: &ReachMap,
+    traced: &[bool],
+    reachable: impl Fn(Vector3<f64>) -> bool,
+) -> Vec<Vec<[f64; 2]>> {
     let n = map.cells;
-    let inside = |column: usize, row: usize| map.reachable(column, row);
+    let inside = |column: usize, row: usize| traced[row * n + column];
     // Edge keys: horizontal edge between (c, r) and (c + 1, r) → 2·(r·n + c); vertical edge
     // between (c, r) and (c, r + 1) → 2·(r·n + c) + 1.
     let horizontal = |column: usize, row: usize| 2 * (row * n + column);
@@ -661,7 +993,7 @@ fn trace_boundary(map: &ReachMap, reachable: impl Fn(Vector3<f64>) -> bool) -> V
     let mut point_of = |edge: usize| -> [f64; 2] {
         *crossing_points
             .entry(edge)
-            .or_insert_with(|| edge_crossing(map, edge, &reachable))
+            .or_insert_with(|| edge_crossing(map, traced, edge, &reachable))
     };
     let mut ends: HashMap<usize, Vec<usize>> = HashMap::new();
     for (index, (a, b)) in segments.iter().enumerate() {
@@ -716,6 +1048,7 @@ fn trace_boundary(map: &ReachMap, reachable: impl Fn(Vector3<f64>) -> bool) -> V
 /// Where the envelope crosses the edge between two cell centres, by bisection (12 halvings).
 fn edge_crossing(
     map: &ReachMap,
+    traced: &[bool],
     edge: usize,
     reachable: &impl Fn(Vector3<f64>) -> bool,
 ) -> [f64; 2] {
@@ -729,7 +1062,7 @@ fn edge_crossing(
     };
     let a = map.cell_centre(column, row);
     let b = map.cell_centre(next_column.min(n - 1), next_row.min(n - 1));
-    let a_inside = map.reachable(column, row);
+    let a_inside = traced[row * n + column];
     let (mut low, mut high) = (0.0, 1.0);
     let at = |t: f64| [a[0] + (b[0] - a[0]) * t, a[1] + (b[1] - a[1]) * t];
     for _ in 0..12 {
