@@ -91,10 +91,13 @@ fn the_guides_denavit_hartenberg_form_is_the_same_arm() {
             out
         })
         .collect();
-    assert_eq!(
-        numbers(&described[0]["arm"]["tool_home_mm"]),
-        numbers(&described[1]["arm"]["tool_home_mm"])
-    );
+    for key in ["tool_at_zero_mm", "tool_at_home_mm"] {
+        assert_eq!(
+            numbers(&described[0]["arm"][key]),
+            numbers(&described[1]["arm"][key]),
+            "{key}"
+        );
+    }
     for joints in [
         "--joints=0,90,-90",
         "--joints=30,25,-65",
