@@ -157,8 +157,10 @@ impl Profile {
     /// A rest-to-rest move is scaled uniformly in time (the fixed-duration approach of
     /// Biagiotti & Melchiorri 2008, ch. 3, with the phase proportions of the time-optimal
     /// profile): velocity falls by the factor, acceleration by its square, jerk by its cube. A
-    /// move with boundary velocities keeps its limits and lowers its peak velocity until the
-    /// duration fits. A duration no longer than this profile's returns it unchanged.
+    /// move with boundary velocities keeps its limits and changes the velocity it cruises at
+    /// until the duration fits: a lower peak, a slower change between its boundary
+    /// velocities, or a dip below both (through zero if need be). A duration no longer than
+    /// this profile's returns it unchanged.
     ///
     /// # Errors
     /// [`ProfileError::StretchTooShort`] when `duration` is shorter than this profile's by more
@@ -203,6 +205,23 @@ impl Profile {
         self.parts = parts;
         self.duration = duration;
         Ok(())
+    }
+
+    /// The shortest duration after `blocked` (s) that this move can be stretched to, when
+    /// `blocked` is refused because every profile that long covers more than the move (a joint
+    /// passing its ends too fast to slow down in time, but able to dip further, or back up, in
+    /// a longer time); `None` otherwise. Found in closed form or by one bracketed root.
+    pub(crate) fn end_of_refused(&self, blocked: f64) -> Option<f64> {
+        let (start, end) = (self.parts.start_velocity, self.parts.end_velocity);
+        if start == 0.0 && end == 0.0 {
+            return None;
+        }
+        let jerk = match self.shape {
+            ProfileShape::Trapezoid => f64::INFINITY,
+            ProfileShape::DoubleS => self.limits.jerk,
+        };
+        let limits = (self.limits.velocity, self.limits.acceleration, jerk);
+        super::stretch::end_of_refused(self.distance, start, end, blocked, limits)
     }
 
     /// Duration, s.
