@@ -400,3 +400,99 @@ fn rest_to_rest_scaled(parts: &ThreePart, from_duration: f64, to_duration: f64) 
         last: parts.last.time_scaled(factor),
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Small deterministic generator (xorshift64*), uniform in `[low, high)`.
+    struct Seeded(u64);
+
+    impl Seeded {
+        fn uniform(&mut self, low: f64, high: f64) -> f64 {
+            let mut x = self.0;
+            x ^= x >> 12;
+            x ^= x << 25;
+            x ^= x >> 27;
+            self.0 = x;
+            let unit = (x.wrapping_mul(0x2545_F491_4F6C_DD1D) >> 11) as f64 / (1u64 << 53) as f64;
+            low + unit * (high - low)
+        }
+    }
+
+    /// Samples `profile` at 2 001 points: within its limits, continuous, exact at both ends.
+    fn assert_sound(profile: &Profile) {
+        let limits = profile.limits;
+        let slack = |limit: f64| limit * (1.0 + 1e-9) + 1e-12;
+        let steps = 2_000;
+        let dt = profile.duration / f64::from(steps);
+        let mut previous = profile.state_at(0.0);
+        for k in 1..=steps {
+            let state = profile.state_at(f64::from(k) * dt);
+            assert!(
+                state.velocity.abs() <= slack(limits.velocity),
+                "{profile:?}"
+            );
+            assert!(
+                state.acceleration.abs() <= slack(limits.acceleration),
+                "{profile:?}"
+            );
+            if profile.shape == ProfileShape::DoubleS {
+                assert!(state.jerk.abs() <= slack(limits.jerk), "{profile:?}");
+            }
+            let moved = (state.position - previous.position).abs();
+            assert!(moved <= slack(limits.velocity) * dt + 1e-9, "{profile:?}");
+            previous = state;
+        }
+        let end = profile.state_at(profile.duration * (1.0 - 1e-13));
+        assert!(
+            (end.position - profile.joint_move.to).abs() < 1e-9,
+            "{profile:?}"
+        );
+        assert!(
+            (end.velocity - profile.joint_move.to_velocity).abs() < 1e-6,
+            "{profile:?}"
+        );
+    }
+
+    #[test]
+    fn a_refused_duration_lies_in_one_interval_whose_end_can_be_taken() {
+        let mut rng = Seeded(0x5EED_0013);
+        let mut refused = 0;
+        for index in 0..4_000 {
+            let shape = if index % 2 == 0 {
+                ProfileShape::DoubleS
+            } else {
+                ProfileShape::Trapezoid
+            };
+            let limits = JointLimits::new(
+                rng.uniform(0.3, 5.0),
+                rng.uniform(0.5, 30.0),
+                rng.uniform(2.0, 300.0),
+            );
+            let joint_move = JointMove::passing(
+                rng.uniform(-2.0, 2.0),
+                rng.uniform(-2.0, 2.0),
+                rng.uniform(-1.0, 1.0) * limits.velocity,
+                rng.uniform(-1.0, 1.0) * limits.velocity,
+            );
+            let fastest = Profile::fastest(shape, &joint_move, &limits).expect("plans");
+            let wanted = fastest.duration() * rng.uniform(1.0, 2.0);
+            match fastest.stretched(wanted) {
+                Ok(stretched) => assert_sound(&stretched),
+                Err(ProfileError::StretchUnreachable { .. }) => {
+                    refused += 1;
+                    let end = fastest
+                        .end_of_refused(wanted)
+                        .expect("refused in an interval");
+                    assert!(end > wanted);
+                    assert_sound(&fastest.stretched(end).expect("the end can be taken"));
+                    let inside = 0.5 * (wanted + end);
+                    assert!(inside == end || fastest.stretched(inside).is_err());
+                }
+                Err(other) => panic!("{other}"),
+            }
+        }
+        assert!(refused > 20, "only {refused} refused");
+    }
+}
