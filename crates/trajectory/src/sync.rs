@@ -120,7 +120,8 @@ pub fn synchronise(
     // dip further or back up in a longer one); the common duration then moves to the end of
     // that interval and every joint is stretched again. A joint's interval is passed at most
     // once, so there is at most one more round than there are joints.
-    for _ in 0..=joint_count {
+    let mut rounds = 0;
+    loop {
         let mut blocked = None;
         for (joint, profile) in synced.profiles.iter_mut().enumerate().take(joint_count) {
             if let Err(source) = profile.stretch(duration) {
@@ -132,20 +133,15 @@ pub fn synchronise(
             synced.duration = duration;
             return Ok(synced);
         };
+        rounds += 1;
         let later = match source {
-            ProfileError::StretchUnreachable { .. } => {
+            ProfileError::StretchUnreachable { .. } if rounds <= joint_count => {
                 synced.profiles[joint].end_of_refused(duration)
             }
             _ => None,
         };
         duration = later.ok_or(SyncError::Joint { joint, source })?;
     }
-    Err(SyncError::Joint {
-        joint: 0,
-        source: ProfileError::StretchUnreachable {
-            requested: duration,
-        },
-    })
 }
 
 impl SyncedMove {
