@@ -12,7 +12,7 @@ use std::hint::black_box;
 use std::time::Instant;
 
 use armwright_trajectory::{JointMove, Profile, ProfileShape, synchronise};
-use common::{Problem, random_moves};
+use common::{Boundaries, Problem, random_moves};
 use criterion::{Criterion, criterion_group, criterion_main};
 use rsruckig::prelude::*;
 
@@ -112,11 +112,11 @@ fn print_spread(name: &str, problems: &[Problem<JOINTS>]) -> Vec<usize> {
     order
 }
 
-fn bench_six_joints(c: &mut Criterion, name: &str, pass_through: bool, seed: u64) {
-    let problems = random_moves::<JOINTS>(PROBLEMS, seed, pass_through);
+fn bench_six_joints(c: &mut Criterion, name: &str, boundaries: Boundaries, seed: u64) {
+    let problems = random_moves::<JOINTS>(PROBLEMS, seed, boundaries);
     bench_problems(c, name, &problems);
-    if pass_through {
-        let many = random_moves::<JOINTS>(SPREAD_PROBLEMS, seed + 1, pass_through);
+    if boundaries != Boundaries::Rest {
+        let many = random_moves::<JOINTS>(SPREAD_PROBLEMS, seed + 1, boundaries);
         let slowest = print_spread(name, &many);
         let worst: Vec<Problem<JOINTS>> = slowest.iter().map(|&index| many[index]).collect();
         bench_problems(c, &format!("{name}_slowest_tenth"), &worst);
@@ -152,12 +152,28 @@ fn bench_problems(c: &mut Criterion, name: &str, problems: &[Problem<JOINTS>]) {
 }
 
 fn bench_synchronise(c: &mut Criterion) {
-    bench_six_joints(c, "double_s_6_joints_rest_to_rest", false, 0xBE_0001);
-    bench_six_joints(c, "double_s_6_joints_pass_through", true, 0xBE_0002);
+    bench_six_joints(
+        c,
+        "double_s_6_joints_rest_to_rest",
+        Boundaries::Rest,
+        0xBE_0001,
+    );
+    bench_six_joints(
+        c,
+        "double_s_6_joints_pass_through",
+        Boundaries::Along,
+        0xBE_0002,
+    );
+    bench_six_joints(
+        c,
+        "double_s_6_joints_pass_through_either_sign",
+        Boundaries::EitherSign,
+        0xBE_0004,
+    );
 }
 
 fn bench_evaluation(c: &mut Criterion) {
-    let problems = random_moves::<JOINTS>(1, 0xBE_0003, true);
+    let problems = random_moves::<JOINTS>(1, 0xBE_0003, Boundaries::Along);
     let synced = synchronise(
         ProfileShape::DoubleS,
         &problems[0].moves,

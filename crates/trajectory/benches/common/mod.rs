@@ -34,13 +34,23 @@ pub struct Problem<const N: usize> {
     pub limits: [JointLimits; N],
 }
 
-/// `count` random `N`-joint moves from `seed`: rest to rest, or passing both ends at up to half
-/// the velocity limit in the direction of motion. Every one can be synchronised (checked
-/// against the reference in `tests/sync.rs`).
+/// Boundary velocities of the random moves.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum Boundaries {
+    /// At rest at both ends.
+    Rest,
+    /// Passing both ends at up to half the velocity limit in the direction of motion.
+    Along,
+    /// Passing both ends at up to the velocity limit, in either direction.
+    EitherSign,
+}
+
+/// `count` random `N`-joint moves from `seed` with the given boundary velocities. Every one
+/// can be synchronised (checked against the reference in `tests/sync.rs`).
 pub fn random_moves<const N: usize>(
     count: usize,
     seed: u64,
-    pass_through: bool,
+    boundaries: Boundaries,
 ) -> Vec<Problem<N>> {
     let mut rng = Seeded::new(seed);
     let mut problems = Vec::with_capacity(count);
@@ -55,14 +65,18 @@ pub fn random_moves<const N: usize>(
                 rng.uniform(2.0, 30.0),
                 rng.uniform(20.0, 300.0),
             );
-            let share = if pass_through { 0.5 } else { 0.0 };
-            let direction = (to - from).signum();
             let vmax = joint_limits.velocity;
+            let (low, high) = match boundaries {
+                Boundaries::Rest => (0.0, 0.0),
+                Boundaries::Along => (0.0, 0.5 * vmax),
+                Boundaries::EitherSign => (-vmax, vmax),
+            };
+            let direction = (to - from).signum();
             *joint_move = JointMove::passing(
                 from,
                 to,
-                direction * rng.uniform(0.0, share * vmax),
-                direction * rng.uniform(0.0, share * vmax),
+                direction * rng.uniform(low, high),
+                direction * rng.uniform(low, high),
             );
         }
         problems.push(Problem { moves, limits });
