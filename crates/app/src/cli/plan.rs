@@ -11,8 +11,7 @@ use serde_json::json;
 use super::Outcome;
 use super::report::{fail, load_scene, print_json, rounded};
 use crate::scene::{
-    JointKindDoc, JointLimitDoc, Scene, plan_of, position_to_file_unit, rate_to_file_unit,
-    save_text,
+    JointLimitDoc, Scene, field_table, plan_of, position_to_file_unit, rate_to_file_unit, save_text,
 };
 
 /// Interval at which torque use is looked at along the plan, in s.
@@ -37,10 +36,7 @@ fn joint_limits(scene: &Scene, plan: &TaskPlan) -> Vec<serde_json::Value> {
             let acceleration = rate_to_file_unit(kind, limits.acceleration);
             entry.insert(velocity_key.into(), json!(rounded(velocity, 4)));
             entry.insert(acceleration_key.into(), json!(rounded(acceleration, 4)));
-            let jerk_key = match kind {
-                JointKindDoc::Revolute => "max_jerk_deg_per_s3",
-                JointKindDoc::Prismatic => "max_jerk_mm_per_s3",
-            };
+            let jerk_key = field_table::joint_limit::JERK.key(kind);
             let jerk = rate_to_file_unit(kind, limits.jerk);
             entry.insert(jerk_key.into(), json!(rounded(jerk, 4)));
             serde_json::Value::Object(entry)
