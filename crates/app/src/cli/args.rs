@@ -261,6 +261,19 @@ pub enum Command {
         #[arg(long)]
         json: bool,
     },
+    /// Print the scene file's reference (Markdown) or its JSON Schema.
+    ///
+    /// Both are generated from the field table that reads, writes and checks scene files, so they
+    /// list every key with its unit, allowed range, default and meaning. docs/scene-format.md and
+    /// docs/scene.schema.json in the repository are this output.
+    Format {
+        /// Print the Markdown reference of every key.
+        #[arg(long, conflicts_with = "schema", required_unless_present = "schema")]
+        reference: bool,
+        /// Print the JSON Schema (draft 2020-12) of a scene file.
+        #[arg(long)]
+        schema: bool,
+    },
     /// Run the simulated device behind a pseudo-terminal and print its path, until Ctrl-C.
     ///
     /// Open the printed path with `stream --port` to use the real serial code path with no
@@ -284,6 +297,20 @@ pub enum View {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn format_takes_exactly_one_of_reference_and_schema() {
+        assert!(Cli::try_parse_from(["armwright", "format"]).is_err());
+        assert!(Cli::try_parse_from(["armwright", "format", "--reference", "--schema"]).is_err());
+        let cli = Cli::try_parse_from(["armwright", "format", "--schema"]).unwrap();
+        assert!(matches!(
+            cli.command,
+            Command::Format {
+                reference: false,
+                schema: true
+            }
+        ));
+    }
 
     #[test]
     fn negative_joint_positions_parse() {

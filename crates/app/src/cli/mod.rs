@@ -1,9 +1,10 @@
 //! The command line: `check`, `pose`, `reach`, `envelope`, `plan`, `simulate`, `retime`,
-//! `calibrate`, `protractor`, `ports`, `stream`, `device-sim`.
+//! `calibrate`, `protractor`, `ports`, `stream`, `device-sim`, `format`.
 //!
 //! Naming scheme: `args.rs` declares every option (clap derive); one file per subcommand
 //! (`check.rs`, `pose.rs`, `reach.rs`, `envelope.rs`, `plan.rs`, `simulate.rs`, `retime.rs`,
-//! `calibrate.rs`, `protractor.rs`, `ports.rs`, `stream.rs`, `device_sim.rs`); `report.rs` prints results as text or
+//! `calibrate.rs`, `protractor.rs`, `ports.rs`, `stream.rs`, `device_sim.rs`, `format.rs`);
+//! `report.rs` prints results as text or
 //! JSON and loads the scene for a subcommand; `svg.rs` draws an envelope map.
 //!
 //! Exit status: 0 on success, 1 when the scene has problems or a target cannot be reached (for
@@ -15,6 +16,7 @@ mod calibrate;
 mod check;
 mod device_sim;
 mod envelope;
+mod format;
 mod plan;
 mod ports;
 pub(crate) mod pose; // shared with the editor's joint-controls test: one pulse rule
@@ -157,5 +159,6 @@ pub fn execute(command: &Command) -> Outcome {
             stream::run(file, &request)
         }
         Command::DeviceSim { channels } => device_sim::run(*channels),
+        Command::Format { reference, .. } => format::run(*reference),
     }
 }

@@ -6,9 +6,11 @@
 
 use std::collections::BTreeMap;
 
+use crate::scene::field::Field;
+use crate::scene::field_table as table;
 use crate::scene::{
-    ArmDoc, ArmShape, ArticulatedSize, BandDoc, JointDoc, JointKindDoc, PlacementDoc, Problem,
-    ScaraSize, Scene, build_arm, validate,
+    ArmDoc, ArmShape, BandDoc, JointDoc, JointKindDoc, PlacementDoc, Problem, Scene, build_arm,
+    child, validate,
 };
 
 /// One setting of one joint.
@@ -120,128 +122,71 @@ impl ChainField {
         fields
     }
 
-    fn path(self, arm: &ArmDoc) -> String {
-        let tool = match arm.shape {
-            ArmShape::ChainOriginAxis { .. } => "arm.chain.tool_home",
-            _ => "arm.chain.tool",
-        };
+    /// The field's row, the path of the object that holds it, the component of a list and
+    /// where the object sits in the arm.
+    fn binding(self, arm: &ArmDoc) -> Binding {
+        let revolute = JointKindDoc::Revolute;
         match self {
             ChainField::Dh { row, param } => {
-                let key = match param {
-                    DhParam::A => "a_mm",
-                    DhParam::Alpha => "alpha_deg",
-                    DhParam::D => "d_mm",
-                    DhParam::Theta => "theta_deg",
+                let index = match param {
+                    DhParam::A => 0,
+                    DhParam::Alpha => 1,
+                    DhParam::D => 2,
+                    DhParam::Theta => 3,
                 };
-                format!("arm.chain.rows[{row}].{key}")
+                bind(
+                    table::dh_row::ROWS[index],
+                    revolute,
+                    format!("arm.chain.rows[{row}]"),
+                    None,
+                    move |arm| match &arm.shape {
+                        ArmShape::ChainDh { rows, .. } => rows.get(row),
+                        _ => None,
+                    },
+                    move |arm| match &mut arm.shape {
+                        ArmShape::ChainDh { rows, .. } => rows.get_mut(row),
+                        _ => None,
+                    },
+                )
             }
-            ChainField::Axis { joint, component } => {
-                format!("arm.chain.axes[{joint}].axis[{component}]")
+            ChainField::Axis { joint, component } | ChainField::Origin { joint, component } => {
+                let row = match self {
+                    ChainField::Axis { .. } => table::axis::AXIS,
+                    _ => table::axis::ORIGIN,
+                };
+                bind(
+                    row,
+                    revolute,
+                    format!("arm.chain.axes[{joint}]"),
+                    Some(component),
+                    move |arm| match &arm.shape {
+                        ArmShape::ChainOriginAxis { axes, .. } => axes.get(joint),
+                        _ => None,
+                    },
+                    move |arm| match &mut arm.shape {
+                        ArmShape::ChainOriginAxis { axes, .. } => axes.get_mut(joint),
+                        _ => None,
+                    },
+                )
             }
-            ChainField::Origin { joint, component } => {
-                format!("arm.chain.axes[{joint}].origin_mm[{component}]")
+            ChainField::ToolPosition(component) | ChainField::ToolRotation(component) => {
+                let row = match self {
+                    ChainField::ToolPosition(_) => table::placement::POSITION,
+                    _ => table::placement::ROTATION,
+                };
+                let tool = match arm.shape {
+                    ArmShape::ChainOriginAxis { .. } => "arm.chain.tool_home",
+                    _ => "arm.chain.tool",
+                };
+                bind(
+                    row,
+                    revolute,
+                    tool.to_string(),
+                    Some(component),
+                    chain_tool,
+                    chain_tool_mut,
+                )
             }
-            ChainField::ToolPosition(component) => format!("{tool}.position_mm[{component}]"),
-            ChainField::ToolRotation(component) => {
-                format!("{tool}.rotation_xyz_deg[{component}]")
-            }
-        }
-    }
-
-    fn label(self) -> &'static str {
-        let xyz = |component: usize, labels: [&'static str; 3]| labels[component.min(2)];
-        match self {
-            ChainField::Dh { param, .. } => match param {
-                DhParam::A => "link length a",
-                DhParam::Alpha => "link twist α",
-                DhParam::D => "link offset d",
-                DhParam::Theta => "angle offset θ",
-            },
-            ChainField::Axis { component, .. } => xyz(component, ["axis x", "axis y", "axis z"]),
-            ChainField::Origin { component, .. } => xyz(
-                component,
-                ["point on axis x", "point on axis y", "point on axis z"],
-            ),
-            ChainField::ToolPosition(component) => {
-                xyz(component, ["tool shift x", "tool shift y", "tool shift z"])
-            }
-            ChainField::ToolRotation(component) => xyz(
-                component,
-                [
-                    "tool turn about x",
-                    "tool turn about y",
-                    "tool turn about z",
-                ],
-            ),
-        }
-    }
-
-    fn unit(self) -> &'static str {
-        match self {
-            ChainField::Dh {
-                param: DhParam::A | DhParam::D,
-                ..
-            }
-            | ChainField::Origin { .. }
-            | ChainField::ToolPosition(_) => "mm",
-            ChainField::Dh { .. } | ChainField::ToolRotation(_) => "°",
-            ChainField::Axis { .. } => "",
-        }
-    }
-
-    fn value(self, arm: &ArmDoc) -> Option<f64> {
-        let tool = chain_tool(arm)?;
-        match (self, &arm.shape) {
-            (ChainField::Dh { row, param }, ArmShape::ChainDh { rows, .. }) => {
-                let row = rows.get(row)?;
-                Some(match param {
-                    DhParam::A => row.a_mm,
-                    DhParam::Alpha => row.alpha_deg,
-                    DhParam::D => row.d_mm,
-                    DhParam::Theta => row.theta_deg,
-                })
-            }
-            (ChainField::Axis { joint, component }, ArmShape::ChainOriginAxis { axes, .. }) => {
-                axes.get(joint)?.axis.get(component).copied()
-            }
-            (ChainField::Origin { joint, component }, ArmShape::ChainOriginAxis { axes, .. }) => {
-                axes.get(joint)?.origin_mm.get(component).copied()
-            }
-            (ChainField::ToolPosition(component), _) => tool.position_mm.get(component).copied(),
-            (ChainField::ToolRotation(component), _) => {
-                tool.rotation_xyz_deg.get(component).copied()
-            }
-            _ => None,
-        }
-    }
-
-    fn slot(self, arm: &mut ArmDoc) -> Option<&mut f64> {
-        match self {
-            ChainField::ToolPosition(component) => {
-                return chain_tool_mut(arm)?.position_mm.get_mut(component);
-            }
-            ChainField::ToolRotation(component) => {
-                return chain_tool_mut(arm)?.rotation_xyz_deg.get_mut(component);
-            }
-            _ => {}
-        }
-        match (self, &mut arm.shape) {
-            (ChainField::Dh { row, param }, ArmShape::ChainDh { rows, .. }) => {
-                let row = rows.get_mut(row)?;
-                Some(match param {
-                    DhParam::A => &mut row.a_mm,
-                    DhParam::Alpha => &mut row.alpha_deg,
-                    DhParam::D => &mut row.d_mm,
-                    DhParam::Theta => &mut row.theta_deg,
-                })
-            }
-            (ChainField::Axis { joint, component }, ArmShape::ChainOriginAxis { axes, .. }) => {
-                axes.get_mut(joint)?.axis.get_mut(component)
-            }
-            (ChainField::Origin { joint, component }, ArmShape::ChainOriginAxis { axes, .. }) => {
-                axes.get_mut(joint)?.origin_mm.get_mut(component)
-            }
-            _ => None,
         }
     }
 }
@@ -365,179 +310,29 @@ impl ArmField {
     }
 
     /// The field's JSON path in the scene file, as the validator names it:
-    /// `arm.joints[1].servo.stall_torque_ncm`.
+    /// `arm.joints[1].servo.deadband_us`.
     pub fn path(self, arm: &ArmDoc) -> String {
-        let dimension = |articulated: &str, horizontal: &str| {
-            let key = match arm.shape {
-                ArmShape::Scara(_) => horizontal,
-                _ => articulated,
-            };
-            format!("arm.dimensions.{key}")
-        };
-        match self {
-            ArmField::BaseHeight => dimension("base_height_mm", "base_height_mm"),
-            ArmField::UpperArm => dimension("upper_arm_mm", "upper_arm_mm"),
-            ArmField::Forearm => dimension("forearm_mm", "forearm_mm"),
-            ArmField::ToolLength => dimension("wrist_to_tool_mm", "tool_drop_mm"),
-            ArmField::ToolMass => "arm.tool.mass_g".into(),
-            ArmField::Payload => "arm.payload_g".into(),
-            ArmField::GripperOpen => "arm.gripper.open_pulse_us".into(),
-            ArmField::GripperClosed => "arm.gripper.closed_pulse_us".into(),
-            ArmField::Joint { joint, field } => {
-                let kind = joint_kind(arm, joint);
-                let unit = kind.unit();
-                let position_key = match kind {
-                    JointKindDoc::Revolute => "angle_deg",
-                    JointKindDoc::Prismatic => "position_mm",
-                };
-                let band_key = match arm.joints.get(joint).map(|j| j.servo.proportional_band) {
-                    Some(BandDoc::Deg(_)) => "deg",
-                    _ => "us",
-                };
-                let tail = match field {
-                    JointField::Min => format!("min_{unit}"),
-                    JointField::Max => format!("max_{unit}"),
-                    JointField::Home => format!("home_{unit}"),
-                    JointField::StallTorque => "servo.stall_torque_ncm".into(),
-                    JointField::NoLoadSpeed => "servo.no_load_speed_deg_per_s".into(),
-                    JointField::Deadband => "servo.deadband_us".into(),
-                    JointField::ProportionalBand => format!("servo.proportional_band.{band_key}"),
-                    JointField::Backlash => "servo.backlash_deg".into(),
-                    JointField::ServoMass => "servo.mass_g".into(),
-                    JointField::PinionRadius => "servo.pinion_radius_mm".into(),
-                    JointField::LinkMass => "link.mass_g".into(),
-                    JointField::CalibrationPosition(point) => {
-                        format!("calibration.points[{point}].{position_key}")
-                    }
-                    JointField::CalibrationPulse(point) => {
-                        format!("calibration.points[{point}].pulse_us")
-                    }
-                    JointField::PulseMin => "calibration.pulse_min_us".into(),
-                    JointField::PulseMax => "calibration.pulse_max_us".into(),
-                };
-                format!("arm.joints[{joint}].{tail}")
-            }
-            ArmField::Chain(field) => field.path(arm),
-        }
+        self.binding(arm).path
     }
 
-    /// What the form calls the field.
-    pub fn label(self, arm: &ArmDoc) -> &'static str {
-        match self {
-            ArmField::BaseHeight => "base height",
-            ArmField::UpperArm => "upper arm",
-            ArmField::Forearm => "forearm",
-            ArmField::ToolLength => match arm.shape {
-                ArmShape::Scara(_) => "tool drop",
-                _ => "wrist to tool point",
-            },
-            ArmField::ToolMass => "tool mass",
-            ArmField::Payload => "payload",
-            ArmField::GripperOpen => "gripper open pulse",
-            ArmField::GripperClosed => "gripper closed pulse",
-            ArmField::Joint { field, .. } => match field {
-                JointField::Min => "lowest position",
-                JointField::Max => "highest position",
-                JointField::Home => "home position",
-                JointField::StallTorque => "stall torque",
-                JointField::NoLoadSpeed => "no-load speed",
-                JointField::Deadband => "deadband",
-                JointField::ProportionalBand => "proportional band",
-                JointField::Backlash => "backlash",
-                JointField::ServoMass => "servo mass",
-                JointField::PinionRadius => "pinion radius",
-                JointField::LinkMass => "link mass",
-                JointField::CalibrationPosition(0) => "calibration point 1 position",
-                JointField::CalibrationPulse(0) => "calibration point 1 pulse",
-                JointField::CalibrationPosition(_) => "calibration point 2 position",
-                JointField::CalibrationPulse(_) => "calibration point 2 pulse",
-                JointField::PulseMin => "shortest pulse",
-                JointField::PulseMax => "longest pulse",
-            },
-            ArmField::Chain(field) => field.label(),
-        }
+    /// What the form calls the field: its row's label in the field table.
+    pub fn label(self, arm: &ArmDoc) -> String {
+        self.binding(arm).label
     }
 
     /// The unit of the field's value, as the scene file has it.
     pub fn unit(self, arm: &ArmDoc) -> &'static str {
-        match self {
-            ArmField::BaseHeight
-            | ArmField::UpperArm
-            | ArmField::Forearm
-            | ArmField::ToolLength => "mm",
-            ArmField::ToolMass | ArmField::Payload => "g",
-            ArmField::GripperOpen | ArmField::GripperClosed => "µs",
-            ArmField::Joint { joint, field } => {
-                let position = match joint_kind(arm, joint) {
-                    JointKindDoc::Revolute => "°",
-                    JointKindDoc::Prismatic => "mm",
-                };
-                match field {
-                    JointField::Min
-                    | JointField::Max
-                    | JointField::Home
-                    | JointField::CalibrationPosition(_) => position,
-                    JointField::StallTorque => "N·cm",
-                    JointField::NoLoadSpeed => "°/s",
-                    JointField::Deadband
-                    | JointField::CalibrationPulse(_)
-                    | JointField::PulseMin
-                    | JointField::PulseMax => "µs",
-                    JointField::ProportionalBand => {
-                        match arm.joints.get(joint).map(|j| j.servo.proportional_band) {
-                            Some(BandDoc::Deg(_)) => "°",
-                            _ => "µs",
-                        }
-                    }
-                    JointField::Backlash => "°",
-                    JointField::ServoMass | JointField::LinkMass => "g",
-                    JointField::PinionRadius => "mm",
-                }
-            }
-            ArmField::Chain(field) => field.unit(),
-        }
+        self.binding(arm).unit
+    }
+
+    /// The field's meaning in one line, from its row in the field table, with its allowed range.
+    pub fn about(self, arm: &ArmDoc) -> String {
+        self.binding(arm).about
     }
 
     /// The field's value in `arm`, in the file's unit; `None` when the arm has no such field.
     pub fn value(self, arm: &ArmDoc) -> Option<f64> {
-        match self {
-            ArmField::BaseHeight
-            | ArmField::UpperArm
-            | ArmField::Forearm
-            | ArmField::ToolLength => dimension(arm, self),
-            ArmField::ToolMass => Some(arm.tool.mass_g),
-            ArmField::Payload => Some(arm.payload_g),
-            ArmField::GripperOpen => arm.gripper.as_ref().map(|g| f64::from(g.open_pulse_us)),
-            ArmField::GripperClosed => arm.gripper.as_ref().map(|g| f64::from(g.closed_pulse_us)),
-            ArmField::Joint { joint, field } => {
-                let doc = arm.joints.get(joint)?;
-                let calibration = &doc.calibration;
-                match field {
-                    JointField::Min => Some(doc.min),
-                    JointField::Max => Some(doc.max),
-                    JointField::Home => Some(doc.home),
-                    JointField::StallTorque => Some(doc.servo.stall_torque_ncm),
-                    JointField::NoLoadSpeed => Some(doc.servo.no_load_speed_deg_per_s),
-                    JointField::Deadband => Some(doc.servo.deadband_us),
-                    JointField::ProportionalBand => match doc.servo.proportional_band {
-                        BandDoc::Us(value) | BandDoc::Deg(value) => Some(value),
-                    },
-                    JointField::Backlash => Some(doc.servo.backlash_deg),
-                    JointField::ServoMass => Some(doc.servo.mass_g),
-                    JointField::PinionRadius => doc.servo.pinion_radius_mm,
-                    JointField::LinkMass => Some(doc.link.mass_g),
-                    JointField::CalibrationPosition(point) => {
-                        calibration.points.get(point).map(|p| p.position)
-                    }
-                    JointField::CalibrationPulse(point) => {
-                        calibration.points.get(point).map(|p| f64::from(p.pulse_us))
-                    }
-                    JointField::PulseMin => Some(f64::from(calibration.pulse_min_us)),
-                    JointField::PulseMax => Some(f64::from(calibration.pulse_max_us)),
-                }
-            }
-            ArmField::Chain(field) => field.value(arm),
-        }
+        (self.binding(arm).get)(arm)
     }
 
     /// Writes `value` (file unit) into the field of `arm`.
@@ -545,63 +340,260 @@ impl ArmField {
     /// # Errors
     /// A message when a pulse width is not a whole number of µs, or the arm has no such field.
     fn set(self, arm: &mut ArmDoc, value: f64) -> Result<(), String> {
-        let missing = || "the arm has no such field".to_string();
+        let binding = self.binding(arm);
+        (binding.set)(arm, value)
+    }
+
+    /// The field's row in the field table and where it sits in `arm`.
+    fn binding(self, arm: &ArmDoc) -> Binding {
+        let revolute = JointKindDoc::Revolute;
         match self {
             ArmField::BaseHeight
             | ArmField::UpperArm
             | ArmField::Forearm
-            | ArmField::ToolLength => *dimension_mut(arm, self).ok_or_else(missing)? = value,
-            ArmField::ToolMass => arm.tool.mass_g = value,
-            ArmField::Payload => arm.payload_g = value,
-            ArmField::GripperOpen => {
-                arm.gripper.as_mut().ok_or_else(missing)?.open_pulse_us = whole_us(value)?;
-            }
-            ArmField::GripperClosed => {
-                arm.gripper.as_mut().ok_or_else(missing)?.closed_pulse_us = whole_us(value)?;
-            }
-            ArmField::Joint { joint, field } => {
-                let doc = arm.joints.get_mut(joint).ok_or_else(missing)?;
-                let calibration = &mut doc.calibration;
-                match field {
-                    JointField::Min => doc.min = value,
-                    JointField::Max => doc.max = value,
-                    JointField::Home => doc.home = value,
-                    JointField::StallTorque => doc.servo.stall_torque_ncm = value,
-                    JointField::NoLoadSpeed => doc.servo.no_load_speed_deg_per_s = value,
-                    JointField::Deadband => doc.servo.deadband_us = value,
-                    JointField::ProportionalBand => {
-                        doc.servo.proportional_band = match doc.servo.proportional_band {
-                            BandDoc::Us(_) => BandDoc::Us(value),
-                            BandDoc::Deg(_) => BandDoc::Deg(value),
-                        }
-                    }
-                    JointField::Backlash => doc.servo.backlash_deg = value,
-                    JointField::ServoMass => doc.servo.mass_g = value,
-                    JointField::PinionRadius => {
-                        *doc.servo.pinion_radius_mm.as_mut().ok_or_else(missing)? = value;
-                    }
-                    JointField::LinkMass => doc.link.mass_g = value,
-                    JointField::CalibrationPosition(point) => {
-                        calibration
-                            .points
-                            .get_mut(point)
-                            .ok_or_else(missing)?
-                            .position = value;
-                    }
-                    JointField::CalibrationPulse(point) => {
-                        calibration
-                            .points
-                            .get_mut(point)
-                            .ok_or_else(missing)?
-                            .pulse_us = whole_us(value)?;
-                    }
-                    JointField::PulseMin => calibration.pulse_min_us = whole_us(value)?,
-                    JointField::PulseMax => calibration.pulse_max_us = whole_us(value)?,
+            | ArmField::ToolLength => {
+                let index = match self {
+                    ArmField::BaseHeight => 0,
+                    ArmField::UpperArm => 1,
+                    ArmField::Forearm => 2,
+                    _ => 3,
+                };
+                let path = "arm.dimensions".to_string();
+                match arm.shape {
+                    ArmShape::Scara(_) => bind(
+                        table::scara::ROWS[index],
+                        revolute,
+                        path,
+                        None,
+                        |arm| match &arm.shape {
+                            ArmShape::Scara(size) => Some(size),
+                            _ => None,
+                        },
+                        |arm| match &mut arm.shape {
+                            ArmShape::Scara(size) => Some(size),
+                            _ => None,
+                        },
+                    ),
+                    _ => bind(
+                        table::articulated::ROWS[index],
+                        revolute,
+                        path,
+                        None,
+                        |arm| match &arm.shape {
+                            ArmShape::Articulated4(size) | ArmShape::Articulated5(size) => {
+                                Some(size)
+                            }
+                            _ => None,
+                        },
+                        |arm| match &mut arm.shape {
+                            ArmShape::Articulated4(size) | ArmShape::Articulated5(size) => {
+                                Some(size)
+                            }
+                            _ => None,
+                        },
+                    ),
                 }
             }
-            ArmField::Chain(field) => *field.slot(arm).ok_or_else(missing)? = value,
+            ArmField::ToolMass => bind(
+                table::tool::MASS,
+                revolute,
+                "arm.tool".into(),
+                None,
+                |arm| Some(&arm.tool),
+                |arm| Some(&mut arm.tool),
+            ),
+            ArmField::Payload => bind(
+                table::arm::PAYLOAD,
+                revolute,
+                "arm".into(),
+                None,
+                |arm| Some(arm),
+                |arm| Some(arm),
+            ),
+            ArmField::GripperOpen | ArmField::GripperClosed => bind(
+                match self {
+                    ArmField::GripperOpen => table::gripper::OPEN,
+                    _ => table::gripper::CLOSED,
+                },
+                revolute,
+                "arm.gripper".into(),
+                None,
+                |arm| arm.gripper.as_ref(),
+                |arm| arm.gripper.as_mut(),
+            ),
+            ArmField::Joint { joint, field } => field.binding(arm, joint),
+            ArmField::Chain(field) => field.binding(arm),
         }
-        Ok(())
+    }
+}
+
+impl JointField {
+    /// The setting's row in the field table and where it sits in joint `joint` of `arm`.
+    fn binding(self, arm: &ArmDoc, joint: usize) -> Binding {
+        use table::{calibration, calibration_point, joint as limits, link_mass, servo};
+        let kind = joint_kind(arm, joint);
+        let at = format!("arm.joints[{joint}]");
+        let servo_at = child(&at, "servo");
+        let calibration_at = child(&at, "calibration");
+        match self {
+            JointField::Min | JointField::Max | JointField::Home => {
+                let row = match self {
+                    JointField::Min => limits::MIN,
+                    JointField::Max => limits::MAX,
+                    _ => limits::HOME,
+                };
+                bind(
+                    row,
+                    kind,
+                    at,
+                    None,
+                    move |arm| arm.joints.get(joint),
+                    move |arm| arm.joints.get_mut(joint),
+                )
+            }
+            JointField::StallTorque
+            | JointField::NoLoadSpeed
+            | JointField::Deadband
+            | JointField::Backlash
+            | JointField::ServoMass
+            | JointField::PinionRadius => {
+                let row = match self {
+                    JointField::StallTorque => servo::STALL_TORQUE,
+                    JointField::NoLoadSpeed => servo::NO_LOAD_SPEED,
+                    JointField::Deadband => servo::DEADBAND,
+                    JointField::Backlash => servo::BACKLASH,
+                    JointField::ServoMass => servo::MASS,
+                    _ => servo::PINION_RADIUS,
+                };
+                bind(
+                    row,
+                    kind,
+                    servo_at,
+                    None,
+                    move |arm| Some(&arm.joints.get(joint)?.servo),
+                    move |arm| Some(&mut arm.joints.get_mut(joint)?.servo),
+                )
+            }
+            JointField::ProportionalBand => {
+                // The band keeps the unit the scene gives it.
+                let row = match arm.joints.get(joint).map(|j| j.servo.proportional_band) {
+                    Some(BandDoc::Deg(_)) => table::band::DEG,
+                    _ => table::band::US,
+                };
+                bind(
+                    row,
+                    kind,
+                    child(&servo_at, "proportional_band"),
+                    None,
+                    move |arm| Some(&arm.joints.get(joint)?.servo.proportional_band),
+                    move |arm| Some(&mut arm.joints.get_mut(joint)?.servo.proportional_band),
+                )
+            }
+            JointField::LinkMass => bind(
+                link_mass::MASS,
+                kind,
+                child(&at, "link"),
+                None,
+                move |arm| Some(&arm.joints.get(joint)?.link),
+                move |arm| Some(&mut arm.joints.get_mut(joint)?.link),
+            ),
+            JointField::CalibrationPosition(point) | JointField::CalibrationPulse(point) => {
+                let row = match self {
+                    JointField::CalibrationPosition(_) => calibration_point::POSITION,
+                    _ => calibration_point::PULSE,
+                };
+                let mut binding = bind(
+                    row,
+                    kind,
+                    format!("{calibration_at}.points[{point}]"),
+                    None,
+                    move |arm| arm.joints.get(joint)?.calibration.points.get(point),
+                    move |arm| arm.joints.get_mut(joint)?.calibration.points.get_mut(point),
+                );
+                binding.label = format!("calibration point {} {}", point + 1, binding.label);
+                binding
+            }
+            JointField::PulseMin | JointField::PulseMax => {
+                let row = match self {
+                    JointField::PulseMin => calibration::PULSE_MIN,
+                    _ => calibration::PULSE_MAX,
+                };
+                bind(
+                    row,
+                    kind,
+                    calibration_at,
+                    None,
+                    move |arm| Some(&arm.joints.get(joint)?.calibration),
+                    move |arm| Some(&mut arm.joints.get_mut(joint)?.calibration),
+                )
+            }
+        }
+    }
+}
+
+/// Reads a field's value (file unit) from an arm.
+type Getter = Box<dyn Fn(&ArmDoc) -> Option<f64>>;
+
+/// Writes a field's value (file unit) into an arm, or says why not.
+type Setter = Box<dyn Fn(&mut ArmDoc, f64) -> Result<(), String>>;
+
+/// A form field bound to its row of the field table: path, label, unit and meaning from the row,
+/// and how to read and write its value in an arm.
+struct Binding {
+    path: String,
+    label: String,
+    unit: &'static str,
+    about: String,
+    get: Getter,
+    set: Setter,
+}
+
+/// Binds `row` of the object that `find` and `find_mut` locate in an arm, at `parent` (its JSON
+/// path); `component` picks one number of a list (a label gets its axis).
+fn bind<T: 'static>(
+    row: Field<T>,
+    kind: JointKindDoc,
+    parent: String,
+    component: Option<usize>,
+    find: impl Fn(&ArmDoc) -> Option<&T> + 'static,
+    find_mut: impl Fn(&mut ArmDoc) -> Option<&mut T> + 'static,
+) -> Binding {
+    let key = row.key(kind);
+    let unit = row.unit.symbol(kind);
+    let (path, label) = match component {
+        Some(component) => (
+            format!("{}[{component}]", child(&parent, key)),
+            format!("{} {}", row.label, ["x", "y", "z"][component.min(2)]),
+        ),
+        None => (child(&parent, key), row.label.to_string()),
+    };
+    let range = row.range(kind).describe(unit);
+    Binding {
+        path,
+        label,
+        unit,
+        about: format!("{}; {range}", row.about),
+        get: Box::new(move |arm| {
+            let doc = find(arm)?;
+            match component {
+                Some(component) => row.values(doc).get(component).copied(),
+                None if row.applies(kind) => row.value(doc),
+                None => None,
+            }
+        }),
+        set: Box::new(move |arm, value| {
+            let doc = find_mut(arm).ok_or("the arm has no such field")?;
+            match component {
+                Some(component) => {
+                    let mut values = row.values(doc);
+                    *values
+                        .get_mut(component)
+                        .ok_or("the arm has no such field")? = value;
+                    row.set_values(doc, &values)
+                }
+                None => row.set_value(doc, value),
+            }
+        }),
     }
 }
 
@@ -611,60 +603,6 @@ fn joint_kind(arm: &ArmDoc, joint: usize) -> JointKindDoc {
         .get(joint)
         .copied()
         .unwrap_or(JointKindDoc::Revolute)
-}
-
-fn dimension(arm: &ArmDoc, field: ArmField) -> Option<f64> {
-    let (base, upper, fore, tool) = match &arm.shape {
-        ArmShape::Scara(size) => (
-            size.base_height_mm,
-            size.upper_arm_mm,
-            size.forearm_mm,
-            size.tool_drop_mm,
-        ),
-        ArmShape::Articulated4(size) | ArmShape::Articulated5(size) => (
-            size.base_height_mm,
-            size.upper_arm_mm,
-            size.forearm_mm,
-            size.wrist_to_tool_mm,
-        ),
-        ArmShape::ChainDh { .. } | ArmShape::ChainOriginAxis { .. } => return None,
-    };
-    match field {
-        ArmField::BaseHeight => Some(base),
-        ArmField::UpperArm => Some(upper),
-        ArmField::Forearm => Some(fore),
-        ArmField::ToolLength => Some(tool),
-        _ => None,
-    }
-}
-
-fn dimension_mut(arm: &mut ArmDoc, field: ArmField) -> Option<&mut f64> {
-    match &mut arm.shape {
-        ArmShape::Scara(size) => match field {
-            ArmField::BaseHeight => Some(&mut size.base_height_mm),
-            ArmField::UpperArm => Some(&mut size.upper_arm_mm),
-            ArmField::Forearm => Some(&mut size.forearm_mm),
-            ArmField::ToolLength => Some(&mut size.tool_drop_mm),
-            _ => None,
-        },
-        ArmShape::Articulated4(size) | ArmShape::Articulated5(size) => match field {
-            ArmField::BaseHeight => Some(&mut size.base_height_mm),
-            ArmField::UpperArm => Some(&mut size.upper_arm_mm),
-            ArmField::Forearm => Some(&mut size.forearm_mm),
-            ArmField::ToolLength => Some(&mut size.wrist_to_tool_mm),
-            _ => None,
-        },
-        ArmShape::ChainDh { .. } | ArmShape::ChainOriginAxis { .. } => None,
-    }
-}
-
-/// A pulse width typed as a number, as whole µs.
-fn whole_us(value: f64) -> Result<u32, String> {
-    if value.fract() == 0.0 && (0.0..=f64::from(u32::MAX)).contains(&value) {
-        Ok(value as u32)
-    } else {
-        Err(format!("must be a whole number of µs, got {value}"))
-    }
 }
 
 /// A number typed into a field: a finite decimal with a point (`120`, `-2.5`, `1e3`).
@@ -848,12 +786,11 @@ pub(crate) fn with_arm_type(
             if let Err(refusal) = keeps_taught_data(scene, &joints, "horizontal-jointed") {
                 return Some(Err(refusal));
             }
-            out.arm.shape = ArmShape::Scara(ScaraSize {
-                base_height_mm: size.base_height_mm,
-                upper_arm_mm: size.upper_arm_mm,
-                forearm_mm: size.forearm_mm,
-                tool_drop_mm: size.wrist_to_tool_mm,
-            });
+            out.arm.shape = ArmShape::Scara(carried_over(
+                table::articulated::ROWS,
+                size,
+                table::scara::ROWS,
+            ));
             out.arm.joints = joints;
             let dropped = match scene.arm.joints.get(4) {
                 Some(roll) => format!("; joint 5 \"{}\" and its settings were removed", roll.name),
@@ -879,12 +816,11 @@ pub(crate) fn with_arm_type(
             if let Err(refusal) = keeps_taught_data(scene, &joints, "articulated") {
                 return Some(Err(refusal));
             }
-            out.arm.shape = ArmShape::Articulated4(ArticulatedSize {
-                base_height_mm: size.base_height_mm,
-                upper_arm_mm: size.upper_arm_mm,
-                forearm_mm: size.forearm_mm,
-                wrist_to_tool_mm: size.tool_drop_mm,
-            });
+            out.arm.shape = ArmShape::Articulated4(carried_over(
+                table::scara::ROWS,
+                size,
+                table::articulated::ROWS,
+            ));
             out.arm.joints = joints;
             "the arm is now articulated with 4 joints and its lengths kept: the lift was removed, \
              \"base yaw\" and \"shoulder\" have the old shoulder's servo, \"wrist pitch\" the \
@@ -894,6 +830,20 @@ pub(crate) fn with_arm_type(
         _ => return None,
     };
     Some(Ok((out, message)))
+}
+
+/// The lengths of one built-in type carried over to another, row by row: both tables list base
+/// height, upper arm, forearm and the tool's length (wrist to tool point, or tool drop) in that
+/// order.
+fn carried_over<A, B: Default>(from_rows: &[Field<A>], from: &A, to_rows: &[Field<B>]) -> B {
+    let mut out = B::default();
+    for (from_row, to_row) in from_rows.iter().zip(to_rows) {
+        if let Some(value) = from_row.value(from) {
+            // Lengths are plain numbers; setting one cannot fail.
+            let _ = to_row.set_value(&mut out, value);
+        }
+    }
+    out
 }
 
 fn named(joint: &JointDoc, name: &str) -> JointDoc {
@@ -1009,7 +959,8 @@ mod tests {
         };
         assert_eq!(form.type_text(field, "12,5".into(), &scene), None);
         let problem = form.problem_at(field, &scene.arm).expect("listed");
-        assert_eq!(problem.path, "arm.joints[0].servo.stall_torque_ncm");
+        let key = table::servo::STALL_TORQUE.key(JointKindDoc::Revolute);
+        assert_eq!(problem.path, format!("arm.joints[0].servo.{key}"));
         assert!(problem.message.contains("\"12,5\" is not a number"));
         assert_eq!(form.text(field, &scene.arm), "12,5");
     }

@@ -2,10 +2,12 @@
 //! (`sample-scenes/pen-plotter.armwright.json`, built into the binary), or, should that ever fail
 //! to load, a small pen-plotting arm built here. Both are our own invented scenarios.
 
+use crate::scene::field::filled;
+use crate::scene::field_table::{articulated, servo};
 use crate::scene::{
-    ArmDoc, ArmShape, ArticulatedSize, BandDoc, BoxDoc, CalibrationDoc, CalibrationPoint,
-    GripperDoc, GripperState, JointDoc, LinkMassDoc, LinkSettings, MoveKind, Scene, ServoDoc,
-    Timing, ToolMassDoc, TrayDoc, Waypoint, Workspace,
+    ArmDoc, ArmShape, BandDoc, BoxDoc, CalibrationDoc, CalibrationPoint, GripperDoc, GripperState,
+    JointDoc, LinkMassDoc, LinkSettings, MoveKind, Scene, ServoDoc, Timing, ToolMassDoc, TrayDoc,
+    Waypoint, Workspace,
 };
 
 /// The bundled pen-plotter sample, as the file's bytes.
@@ -25,14 +27,14 @@ fn built_in_scene() -> Scene {
             max,
             home,
             servo: ServoDoc {
-                stall_torque_ncm: stall_ncm,
-                no_load_speed_deg_per_s: 300.0,
-                deadband_us: 4.0,
                 proportional_band: BandDoc::Us(40.0),
-                backlash_deg: 0.5,
-                mass_g: 55.0,
-                mount_offset_mm: [0.0, 0.0, 0.0],
-                pinion_radius_mm: None,
+                ..filled(&[
+                    (servo::STALL_TORQUE, stall_ncm),
+                    (servo::NO_LOAD_SPEED, 300.0),
+                    (servo::DEADBAND, 4.0),
+                    (servo::BACKLASH, 0.5),
+                    (servo::MASS, 55.0),
+                ])
             },
             calibration: CalibrationDoc {
                 points: [
@@ -66,12 +68,12 @@ fn built_in_scene() -> Scene {
     Scene {
         description: "Pen plotter: draw a square on a sheet of paper (built-in sample)".into(),
         arm: ArmDoc {
-            shape: ArmShape::Articulated4(ArticulatedSize {
-                base_height_mm: 70.0,
-                upper_arm_mm: 120.0,
-                forearm_mm: 110.0,
-                wrist_to_tool_mm: 45.0,
-            }),
+            shape: ArmShape::Articulated4(filled(&[
+                (articulated::BASE_HEIGHT, 70.0),
+                (articulated::UPPER_ARM, 120.0),
+                (articulated::FOREARM, 110.0),
+                (articulated::WRIST_TO_TOOL, 45.0),
+            ])),
             joints: vec![
                 joint("base", -90.0, 90.0, 0.0, 120.0, 60.0),
                 joint("shoulder", -10.0, 150.0, 60.0, 200.0, 40.0),

@@ -506,7 +506,10 @@ mod tests {
     fn a_weak_servo_is_named_over_torque_with_its_share() {
         let mut scene = sample_scene();
         // A servo with a hundredth of its torque cannot hold the shoulder.
-        scene.arm.joints[1].servo.stall_torque_ncm /= 100.0;
+        let stall = crate::scene::field_table::servo::STALL_TORQUE;
+        let servo = &mut scene.arm.joints[1].servo;
+        let weak = stall.value(servo).expect("a stall torque") / 100.0;
+        stall.set_value(servo, weak).expect("a number");
         let state = EditorState::new(scene, None);
         let (joint, share) = state.worst_torque_overload().expect("over torque");
         assert_eq!(joint, 1);

@@ -324,6 +324,10 @@ fn read_scene(root: &Value, problems: &mut Vec<Problem>) -> Option<Scene> {
     // Checked by the migration step before decoding.
     fields.allow("format");
     fields.allow("version");
+    // Names the JSON Schema for a text editor; not part of the scene.
+    if let Some(value) = fields.optional("$schema") {
+        text(value, "$schema", problems);
+    }
     let description = match fields.optional("description") {
         Some(value) => text(value, "description", problems),
         None => String::new(),

@@ -1,5 +1,5 @@
 //! Keys given twice in one JSON object. A JSON reader keeps one of them silently (serde_json's
-//! `Value` the last), so a scene that sets `upper_arm_mm` twice would quietly lose one value;
+//! `Value` the last), so a scene that sets `forearm_mm` twice would quietly lose one value;
 //! this walk over the text finds each such key with its JSON path before the document is read.
 
 use std::collections::HashSet;

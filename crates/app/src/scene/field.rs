@@ -268,7 +268,7 @@ impl<T> Copy for Access<T> {}
 
 /// One field of a document type `T`: how it is written, what it means, what it may be.
 pub struct Field<T: 'static> {
-    /// Key with its unit suffix: `stall_torque_ncm`.
+    /// Key with its unit suffix: `deadband_us`.
     pub key: Key,
     /// Unit in the file.
     pub unit: Unit,
@@ -417,6 +417,31 @@ impl<T> Field<T> {
         Ok(())
     }
 
+    /// Writes a list's numbers (file unit) into `doc`; a single value takes the first.
+    ///
+    /// # Errors
+    /// As [`Field::set_value`], or when a fixed-length list gets another count.
+    pub fn set_values(&self, doc: &mut T, values: &[f64]) -> Result<(), String> {
+        match self.access {
+            Access::List { len, set, .. } => {
+                if len != 0 && values.len() != len {
+                    return Err(format!("expected {len} numbers, got {}", values.len()));
+                }
+                if self.decimals == 0 {
+                    for value in values {
+                        whole_number(*value, self.unit)?;
+                    }
+                }
+                set(doc, values);
+                Ok(())
+            }
+            _ => match values.first() {
+                Some(value) => self.set_value(doc, *value),
+                None => Err("expected a number".into()),
+            },
+        }
+    }
+
     /// Every value of the field in `doc` outside its range, as problems at `path`, the field's
     /// own path (for a list, the message names the entry: `x`, `y`, `z` of three, else its
     /// 0-based index).
@@ -447,6 +472,17 @@ impl<T> Field<T> {
             ));
         }
     }
+}
+
+/// A blank `T` (its `Default`) with each row set to its value: a document built in code through
+/// the table (the built-in sample, tests). A whole-number row given a fraction keeps its default.
+pub fn filled<T: Default>(values: &[(Field<T>, f64)]) -> T {
+    let mut out = T::default();
+    for (row, value) in values {
+        // Only a whole-number row refuses a value; it keeps its default, as documented.
+        let _ = row.set_value(&mut out, *value);
+    }
+    out
 }
 
 /// `value` rounded to `decimals` places; `-0` becomes `0`. Dividing the rounded whole number by

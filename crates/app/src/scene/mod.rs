@@ -5,8 +5,10 @@
 //! the file: key, unit, range, decimals, meaning, label, accessor), `decode.rs` (JSON → types,
 //! collecting every problem with its JSON path), `encode.rs` (types → JSON, keys in a fixed
 //! order), `migrate.rs` (one step per older version), `validate.rs` (rules across fields),
-//! `duplicate_keys.rs` (a key given twice in one object), `units.rs` (the one place that turns
-//! file units into the SI arm model), `load.rs` and
+//! `duplicate_keys.rs` (a key given twice in one object), `outline.rs` (every object of the
+//! file with its rows and other keys), `reference.rs` and `schema.rs` (the Markdown reference
+//! and the JSON Schema printed from the outline, committed under `docs/`), `units.rs` (the one
+//! place that turns file units into the SI arm model), `load.rs` and
 //! `save.rs` (files: read without side effects, write atomically), `problem.rs` (a located
 //! problem and the nearest-name suggestion), `task.rs` (the sequence as a trajectory task).
 //! Sampling the plan is the trajectory crate's (`TaskPlan::sampler`), turning samples into
@@ -20,8 +22,11 @@ pub mod field;
 pub mod field_table;
 mod load;
 mod migrate;
+mod outline;
 mod problem;
+mod reference;
 mod save;
+mod schema;
 mod task;
 mod units;
 mod validate;
@@ -36,7 +41,10 @@ pub use document::{
 pub use load::{load, load_bytes};
 pub use migrate::{CURRENT_VERSION, FORMAT_NAME};
 pub use problem::Problem;
+pub(crate) use problem::child;
+pub use reference::reference_markdown;
 pub use save::{as_saved, save, save_text, save_unrounded, to_json, to_json_unrounded};
+pub use schema::schema_json;
 pub use task::{
     RetimeSettings, SceneRetime, dry_run_of, dry_run_options_of, limit_settings_of, plan_of,
     retime_scene, retime_target, servo_model_of, task_of, with_timing,

@@ -3,7 +3,7 @@
 use std::fmt;
 
 /// One problem in a scene, located by its JSON path such as
-/// `arm.joints[2].servo.stall_torque_ncm`.
+/// `arm.joints[2].servo.deadband_us`.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub struct Problem {
     /// JSON path of the field at fault (empty for the whole document).
@@ -93,8 +93,11 @@ mod tests {
 
     #[test]
     fn a_typo_suggests_the_field_meant() {
-        let known = ["stall_torque_ncm", "no_load_speed_deg_per_s", "deadband_us"];
-        assert_eq!(nearest("stall_torqe_ncm", &known), Some("stall_torque_ncm"));
+        let known = ["pulse_min_us", "no_load_speed_deg_per_s", "deadband_us"];
+        assert_eq!(
+            nearest("no_load_sped_deg_per_s", &known),
+            Some("no_load_speed_deg_per_s")
+        );
         assert_eq!(nearest("deadband_ms", &known), Some("deadband_us"));
         assert_eq!(nearest("colour", &known), None);
     }

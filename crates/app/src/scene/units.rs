@@ -261,16 +261,18 @@ mod tests {
     fn datasheet_units_become_si() {
         // Common practice: a "20 kg·cm" servo stalls at 20 × 9.80665 / 100 ≈ 1.96 N·m, i.e.
         // 196 N·cm; 0.17 s per 60° is 60/0.17 ≈ 352.9 °/s ≈ 6.16 rad/s.
-        let servo = ServoDoc {
-            stall_torque_ncm: 196.133,
-            no_load_speed_deg_per_s: 60.0 / 0.17,
-            deadband_us: 3.0,
-            proportional_band: BandDoc::Us(40.0),
-            backlash_deg: 0.5,
-            mass_g: 55.0,
-            mount_offset_mm: [10.0, 0.0, -5.0],
-            pinion_radius_mm: None,
-        };
+        use table::servo::*;
+        let mut servo = super::super::field::filled(&[
+            (STALL_TORQUE, 196.133),
+            (NO_LOAD_SPEED, 60.0 / 0.17),
+            (DEADBAND, 3.0),
+            (BACKLASH, 0.5),
+            (MASS, 55.0),
+        ]);
+        servo.proportional_band = BandDoc::Us(40.0);
+        MOUNT_OFFSET
+            .set_values(&mut servo, &[10.0, 0.0, -5.0])
+            .unwrap();
         let doc = JointDoc {
             name: "shoulder".into(),
             min: -90.0,

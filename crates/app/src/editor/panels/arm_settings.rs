@@ -252,8 +252,8 @@ fn field_row(ui: &mut Ui, state: &EditorState, field: ArmField, prefix: &str) ->
 }
 
 /// A field's text box alone, `width` points wide, named `{prefix}{label} ({unit})` for screen
-/// readers and tests, red with the problem on hover when it has one, its JSON path on hover
-/// otherwise.
+/// readers and tests, red with the problem on hover when it has one, its JSON path, meaning and
+/// allowed range on hover otherwise.
 fn number_edit(
     ui: &mut Ui,
     state: &EditorState,
@@ -278,7 +278,7 @@ fn number_edit(
     let response = ui.add_sized([width, 20.0], edit).accessible_name(name);
     let response = match problem {
         Some(problem) => response.on_hover_text(problem.to_string()),
-        None => response.on_hover_text(field.path(arm)),
+        None => response.on_hover_text(format!("{}: {}", field.path(arm), field.about(arm))),
     };
     if response.changed() {
         Command::EditArmField { field, text }
