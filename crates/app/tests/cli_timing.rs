@@ -301,7 +301,7 @@ fn joint_limits_in_the_scene_bound_plan_simulate_and_retime() {
     let original = sample("peg-sorter");
     let mut scene = read_json(&original);
     scene["timing"]["joint_limits"] = serde_json::json!([
-        { "joint": "shoulder", "max_velocity_deg_per_s": 25.0 },
+        { "joint": "shoulder", "max_velocity_deg_per_s": 25.0, "max_jerk_deg_per_s3": 5000.0 },
         { "joint": "lift", "max_acceleration_mm_per_s2": 80.0 }
     ]);
     let input = write_scene("limited.armwright.json", &scene);
@@ -322,6 +322,19 @@ fn joint_limits_in_the_scene_bound_plan_simulate_and_retime() {
         planned_limit(&free, "elbow", "max_velocity_deg_per_s")
     );
     assert!(planned_limit(&free, "shoulder", "max_velocity_deg_per_s") > 25.0);
+    // Jerk: the scene's own for the shoulder, the acceleration ÷ 0.05 s for the others.
+    assert_eq!(
+        planned_limit(&limited, "shoulder", "max_jerk_deg_per_s3"),
+        5000.0
+    );
+    let lift_jerk = planned_limit(&limited, "lift", "max_jerk_mm_per_s3");
+    assert!((lift_jerk - 80.0 / 0.05).abs() < 1e-3, "{lift_jerk}");
+    let elbow_jerk = planned_limit(&free, "elbow", "max_jerk_deg_per_s3");
+    let elbow_acceleration = planned_limit(&free, "elbow", "max_acceleration_deg_per_s2");
+    assert!(
+        (elbow_jerk - elbow_acceleration / 0.05).abs() < 1e-2,
+        "{elbow_jerk}"
+    );
     let cycle = limited["cycle_time_s"].as_f64().unwrap();
     assert!(
         cycle > free["cycle_time_s"].as_f64().unwrap(),

@@ -230,7 +230,7 @@ fn scene(values: &[f64], description: String, port: String, rounded: bool) -> Sc
         open_pulse_us: open,
         closed_pulse_us: open + 1 + draw.pulse(0, 900),
     });
-    // Some joints with their own limits: velocity, acceleration or both.
+    // Some joints with their own limits: velocity, acceleration or both, and sometimes jerk.
     let joint_limits = joints
         .iter()
         .filter_map(|joint| {
@@ -240,10 +240,12 @@ fn scene(values: &[f64], description: String, port: String, rounded: bool) -> Sc
                 2 => (None, Some(draw.range(1.0, 5000.0))),
                 _ => (Some(draw.range(1.0, 600.0)), Some(draw.range(1.0, 5000.0))),
             };
+            let jerk = draw.flip().then(|| draw.range_to(100.0, 500_000.0, 1));
             Some(JointLimitDoc {
                 joint: joint.name.clone(),
                 max_velocity_deg_or_mm_per_s: velocity,
                 max_acceleration_deg_or_mm_per_s2: acceleration,
+                max_jerk_deg_or_mm_per_s3: jerk,
             })
         })
         .collect();

@@ -10,13 +10,16 @@ use crate::servo_sim::{ServoModel, ServoModelOptions};
 pub struct LimitSettings {
     /// Share of each servo's stall torque a plan may use, (0, 1]. Default 0.8.
     pub derating: f64,
-    /// Time over which acceleration builds up to its limit, in s; the jerk limit is the
-    /// acceleration limit over this. Default 0.05 s (a few servo frames; from memory).
+    /// Time over which acceleration builds up to its limit, in s; a joint's jerk limit is its
+    /// acceleration limit over this unless [`LimitSettings::jerk_override`] gives one. Default
+    /// 0.05 s (a few servo frames; from memory).
     pub jerk_time: f64,
     /// Velocity per joint that replaces the one from the servo (rad/s or m/s).
     pub velocity_override: [Option<f64>; MAX_JOINTS],
     /// Acceleration per joint that replaces the one from the servo (rad/s² or m/s²).
     pub acceleration_override: [Option<f64>; MAX_JOINTS],
+    /// Jerk limit per joint that replaces acceleration ÷ `jerk_time` (rad/s³ or m/s³).
+    pub jerk_override: [Option<f64>; MAX_JOINTS],
 }
 
 impl Default for LimitSettings {
@@ -26,6 +29,7 @@ impl Default for LimitSettings {
             jerk_time: 0.05,
             velocity_override: [None; MAX_JOINTS],
             acceleration_override: [None; MAX_JOINTS],
+            jerk_override: [None; MAX_JOINTS],
         }
     }
 }
@@ -61,7 +65,7 @@ pub enum LimitError {
 /// split evenly between speed and acceleration. Velocity: that half-margin × the no-load speed
 /// (a DC motor's back-EMF costs drive in proportion to speed). Acceleration: that half-margin ×
 /// stall torque over the largest inertia the joint sees, its motor and gears included. Jerk:
-/// acceleration over `jerk_time`. So even at the end of a ramp, at full speed, the position
+/// the joint's `jerk_override`, else acceleration over `jerk_time`. So even at the end of a ramp, at full speed, the position
 /// loop asks for no more than the derated drive.
 ///
 /// # Errors
@@ -129,11 +133,8 @@ pub fn limits_from_arm(
         let velocity = settings.velocity_override[j].unwrap_or(servo.no_load_speed * margin);
         let acceleration = settings.acceleration_override[j]
             .unwrap_or(stall * margin / (servo.motor_inertia + worst_inertia[j]));
-        limits.push(JointLimits::new(
-            velocity,
-            acceleration,
-            acceleration / settings.jerk_time,
-        ));
+        let jerk = settings.jerk_override[j].unwrap_or(acceleration / settings.jerk_time);
+        limits.push(JointLimits::new(velocity, acceleration, jerk));
     }
     Ok(limits)
 }

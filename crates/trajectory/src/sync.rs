@@ -57,9 +57,11 @@ pub struct SyncedMove {
 /// Plans every joint's part of a move with the given profile shape, all starting and ending
 /// together, as fast as the slowest joint allows.
 ///
-/// A joint with boundary velocities may be unable to take some durations longer than its
-/// own (between slowing its peak velocity and backing up); the common duration then moves to
-/// the shortest one every joint can take, found by search to about 1e-15 relative.
+/// A joint with boundary velocities may be unable to take one interval of durations longer
+/// than its own (it passes its ends too fast to slow down in time); the common duration then
+/// moves to the shortest one every joint can take, the end of that interval, found in closed
+/// form or by one bracketed root. This is the time-optimal synchronised duration of
+/// Berscheid & Kröger (RSS 2021) for zero boundary accelerations.
 ///
 /// `moves[i]` and `limits[i]` belong to joint `i`. Each joint's profile respects its own
 /// velocity, acceleration and (for the double-S) jerk limits.
@@ -113,81 +115,33 @@ pub fn synchronise(
         .iter()
         .map(Profile::duration)
         .fold(0.0, f64::max);
-    // Usually every joint stretches to the slowest joint's duration, in place.
-    let mut blocked = None;
-    for (joint, profile) in synced.profiles.iter_mut().enumerate().take(joint_count) {
-        if let Err(source) = profile.stretch(duration) {
-            blocked = Some(SyncError::Joint { joint, source });
-            break;
-        }
-    }
-    // A joint with boundary velocities may be unable to take some durations (a gap between
-    // slowing its peak and backing up); then the common duration moves past that joint's gap
-    // and every joint is tried again from its fastest profile. Each round lengthens the
-    // duration.
+    // Every joint is stretched in place to the slowest joint's duration. A joint with boundary
+    // velocities may refuse one interval of durations (it cannot slow down in time, but can
+    // dip further or back up in a longer one); the common duration then moves to the end of
+    // that interval and every joint is stretched again. A joint's interval is passed at most
+    // once, so there is at most one more round than there are joints.
     let mut rounds = 0;
-    while let Some(error) = blocked.take() {
+    loop {
+        let mut blocked = None;
+        for (joint, profile) in synced.profiles.iter_mut().enumerate().take(joint_count) {
+            if let Err(source) = profile.stretch(duration) {
+                blocked = Some((joint, source));
+                break;
+            }
+        }
+        let Some((joint, source)) = blocked else {
+            synced.duration = duration;
+            return Ok(synced);
+        };
         rounds += 1;
-        let later = match error {
-            SyncError::Joint {
-                joint,
-                source: ProfileError::StretchUnreachable { .. },
-            } if rounds <= 4 * MAX_JOINTS => {
-                let fastest = Profile::fastest(shape, &moves[joint], &limits[joint])
-                    .map_err(|source| SyncError::Joint { joint, source })?;
-                next_reachable(&fastest, duration)
+        let later = match source {
+            ProfileError::StretchUnreachable { .. } if rounds <= joint_count => {
+                synced.profiles[joint].end_of_refused(duration)
             }
             _ => None,
         };
-        duration = later.ok_or(error)?;
-        for (joint, profile) in synced.profiles.iter_mut().enumerate().take(joint_count) {
-            let stretched = Profile::fastest(shape, &moves[joint], &limits[joint])
-                .and_then(|fastest| fastest.stretched(duration));
-            match stretched {
-                Ok(stretched) => *profile = stretched,
-                Err(source) => {
-                    blocked = Some(SyncError::Joint { joint, source });
-                    break;
-                }
-            }
-        }
+        duration = later.ok_or(SyncError::Joint { joint, source })?;
     }
-    synced.duration = duration;
-    Ok(synced)
-}
-
-/// The shortest duration after `blocked` (s) that `profile` can be stretched to, found by
-/// doubling a step until a stretch succeeds and then bisecting; `None` if none is found.
-fn next_reachable(profile: &Profile, blocked: f64) -> Option<f64> {
-    let reachable = |duration: f64| profile.stretched(duration).is_ok();
-    let mut low = blocked;
-    let mut step = 1e-3 * blocked.max(1e-6);
-    let mut high = low + step;
-    let mut found = false;
-    for _ in 0..64 {
-        if reachable(high) {
-            found = true;
-            break;
-        }
-        low = high;
-        step *= 2.0;
-        high = low + step;
-    }
-    if !found {
-        return None;
-    }
-    for _ in 0..60 {
-        let middle = 0.5 * (low + high);
-        if middle <= low || middle >= high {
-            break;
-        }
-        if reachable(middle) {
-            high = middle;
-        } else {
-            low = middle;
-        }
-    }
-    Some(high)
 }
 
 impl SyncedMove {

@@ -12,14 +12,15 @@ use serde_json::json;
 use super::Outcome;
 use super::report::{TORQUE_BASIS, fail, load_scene, print_json, rounded};
 use crate::scene::{
-    JointLimitDoc, Scene, plan_of, position_to_file_unit, rate_to_file_unit, save_text,
+    JointLimitDoc, Scene, field_table, plan_of, position_to_file_unit, rate_to_file_unit, save_text,
 };
 
 /// Interval at which torque use is looked at along the plan, in s.
 pub(crate) const TORQUE_INTERVAL: f64 = 0.01;
 
-/// The velocity and acceleration limits the plan used for each joint, in the scene's units and
-/// under the keys of its `timing.joint_limits` (deg/s and deg/s², or mm/s and mm/s²).
+/// The velocity, acceleration and jerk limits the plan used for each joint, in the scene's units
+/// and under the keys of its `timing.joint_limits` (deg/s, deg/s² and deg/s³, or mm/s, mm/s²
+/// and mm/s³).
 fn joint_limits(scene: &Scene, plan: &TaskPlan) -> Vec<serde_json::Value> {
     let kinds = scene.arm.shape.joint_kinds();
     scene
@@ -36,6 +37,9 @@ fn joint_limits(scene: &Scene, plan: &TaskPlan) -> Vec<serde_json::Value> {
             let acceleration = rate_to_file_unit(kind, limits.acceleration);
             entry.insert(velocity_key.into(), json!(rounded(velocity, 4)));
             entry.insert(acceleration_key.into(), json!(rounded(acceleration, 4)));
+            let jerk_key = field_table::joint_limit::JERK.key(kind);
+            let jerk = rate_to_file_unit(kind, limits.jerk);
+            entry.insert(jerk_key.into(), json!(rounded(jerk, 4)));
             serde_json::Value::Object(entry)
         })
         .collect()

@@ -703,6 +703,9 @@ fn read_joint_limit(
                 max_acceleration_deg_or_mm_per_s2: revolute
                     .max_acceleration_deg_or_mm_per_s2
                     .or(prismatic.max_acceleration_deg_or_mm_per_s2),
+                max_jerk_deg_or_mm_per_s3: revolute
+                    .max_jerk_deg_or_mm_per_s3
+                    .or(prismatic.max_jerk_deg_or_mm_per_s3),
             }
         }
     };

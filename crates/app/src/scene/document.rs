@@ -494,9 +494,9 @@ pub struct Timing {
     pub joint_limits: Vec<JointLimitDoc>,
 }
 
-/// A user's limits for one joint, replacing those the planner takes from its servo: in deg/s
-/// and deg/s² for a revolute joint, mm/s and mm/s² for a prismatic one (the file's keys say
-/// which: `max_velocity_deg_per_s` or `max_velocity_mm_per_s`, and so on).
+/// A user's limits for one joint, replacing those the planner takes from its servo: in deg/s,
+/// deg/s² and deg/s³ for a revolute joint, mm/s, mm/s² and mm/s³ for a prismatic one (the
+/// file's keys say which: `max_velocity_deg_per_s` or `max_velocity_mm_per_s`, and so on).
 #[derive(Debug, Clone, PartialEq, Default)]
 pub struct JointLimitDoc {
     /// The joint's name, as in `arm.joints`.
@@ -505,6 +505,8 @@ pub struct JointLimitDoc {
     pub max_velocity_deg_or_mm_per_s: Option<f64>,
     /// Largest acceleration, in deg/s² or mm/s²; `None` keeps the one from the servo.
     pub max_acceleration_deg_or_mm_per_s2: Option<f64>,
+    /// Largest jerk, in deg/s³ or mm/s³; `None` keeps the acceleration limit ÷ 0.05 s.
+    pub max_jerk_deg_or_mm_per_s3: Option<f64>,
 }
 
 impl JointLimitDoc {

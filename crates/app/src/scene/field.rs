@@ -23,6 +23,8 @@ pub enum Unit {
     Rate,
     /// A joint acceleration: °/s² (revolute) or mm/s² (prismatic).
     Acceleration,
+    /// A joint jerk: °/s³ (revolute) or mm/s³ (prismatic).
+    Jerk,
     /// Grams.
     G,
     /// Newton-centimetres.
@@ -58,6 +60,8 @@ impl Unit {
             Unit::Rate => "mm/s",
             Unit::Acceleration if revolute => "°/s²",
             Unit::Acceleration => "mm/s²",
+            Unit::Jerk if revolute => "°/s³",
+            Unit::Jerk => "mm/s³",
             Unit::G => "g",
             Unit::NCm => "N·cm",
             Unit::DegPerS => "°/s",
@@ -79,8 +83,8 @@ impl Unit {
         match self {
             Unit::Mm | Unit::G | Unit::Ms => 1e-3,
             Unit::Deg | Unit::DegPerS => PI / 180.0,
-            Unit::Position | Unit::Rate | Unit::Acceleration if revolute => PI / 180.0,
-            Unit::Position | Unit::Rate | Unit::Acceleration => 1e-3,
+            Unit::Position | Unit::Rate | Unit::Acceleration | Unit::Jerk if revolute => PI / 180.0,
+            Unit::Position | Unit::Rate | Unit::Acceleration | Unit::Jerk => 1e-3,
             Unit::NCm | Unit::Percent => 1e-2,
             Unit::Us => 1e-6,
             Unit::Hz | Unit::Baud | Unit::Ratio => 1.0,
@@ -100,6 +104,8 @@ impl Unit {
             Unit::Rate => "m/s",
             Unit::Acceleration if revolute => "rad/s²",
             Unit::Acceleration => "m/s²",
+            Unit::Jerk if revolute => "rad/s³",
+            Unit::Jerk => "m/s³",
             Unit::G => "kg",
             Unit::NCm => "N·m",
             Unit::DegPerS => "rad/s",
@@ -113,7 +119,10 @@ impl Unit {
 
     /// Whether the unit follows the joint's kind (degrees or mm).
     pub fn follows_joint_kind(self) -> bool {
-        matches!(self, Unit::Position | Unit::Rate | Unit::Acceleration)
+        matches!(
+            self,
+            Unit::Position | Unit::Rate | Unit::Acceleration | Unit::Jerk
+        )
     }
 }
 

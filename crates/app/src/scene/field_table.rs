@@ -807,8 +807,24 @@ pub mod joint_limit {
     )
     .prismatic("max_acceleration_mm_per_s2", Range::above(0.0, 100_000.0))
     .presence(Presence::Optional);
+    /// Largest jerk; without it, the acceleration limit ÷ 0.05 s.
+    pub const JERK: Field<JointLimitDoc> = Field::<JointLimitDoc>::new(
+        "max_jerk_deg_per_s3",
+        Unit::Jerk,
+        Range::above(0.0, 10_000_000.0),
+        "the largest acceleration built up within half a 20 ms servo frame (from memory)",
+        1,
+        "largest jerk",
+        "largest rate of change of acceleration, replacing the acceleration limit ÷ 0.05 s",
+        Access::Maybe(
+            |l| l.max_jerk_deg_or_mm_per_s3,
+            |l, v| l.max_jerk_deg_or_mm_per_s3 = v,
+        ),
+    )
+    .prismatic("max_jerk_mm_per_s3", Range::above(0.0, 10_000_000.0))
+    .presence(Presence::Optional);
     /// In file order, after `joint`.
-    pub const ROWS: &[Field<JointLimitDoc>] = &[VELOCITY, ACCELERATION];
+    pub const ROWS: &[Field<JointLimitDoc>] = &[VELOCITY, ACCELERATION, JERK];
 }
 
 /// The workspace's own numbers (`workspace`).

@@ -450,8 +450,8 @@ pub fn sections() -> Vec<Section> {
         section(
             "joint_limit",
             "timing.joint_limits[i]",
-            "A joint's own limits, in the unit of the joint it names (deg or mm): either limit or \
-             both.",
+            "A joint's own limits, in the unit of the joint it names (deg or mm): any of \
+             velocity, acceleration and jerk. Without a jerk, the acceleration ÷ 0.05 s.",
             vec![other(
                 "joint",
                 Other::Text,

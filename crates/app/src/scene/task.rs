@@ -45,7 +45,8 @@ pub fn task_of(scene: &Scene, arm: &Arm) -> Task {
 }
 
 /// How the planner takes limits from the arm: the scene's torque derating (% → share) and the
-/// joints' own limits from `timing.joint_limits` (deg/s, deg/s² or mm/s, mm/s² → SI). An entry
+/// joints' own limits from `timing.joint_limits` (deg/s, deg/s², deg/s³ or mm/s, mm/s², mm/s³
+/// → SI). An entry
 /// naming no joint, or several, is left out (validation reports it).
 pub fn limit_settings_of(scene: &Scene) -> LimitSettings {
     let mut settings = LimitSettings {
@@ -66,6 +67,7 @@ pub fn limit_settings_of(scene: &Scene) -> LimitSettings {
         let si = |value: Option<f64>| value.map(|v| rate_from_file_unit(kind, v));
         settings.velocity_override[joint] = si(limit.max_velocity_deg_or_mm_per_s);
         settings.acceleration_override[joint] = si(limit.max_acceleration_deg_or_mm_per_s2);
+        settings.jerk_override[joint] = si(limit.max_jerk_deg_or_mm_per_s3);
     }
     settings
 }
@@ -225,14 +227,15 @@ mod tests {
     #[test]
     fn joint_limits_become_si_overrides_the_plan_uses() {
         let mut scene = sample("peg-sorter.armwright.json");
-        let limit = |joint: &str, velocity, acceleration| JointLimitDoc {
+        let limit = |joint: &str, velocity, acceleration, jerk| JointLimitDoc {
             joint: joint.into(),
             max_velocity_deg_or_mm_per_s: velocity,
             max_acceleration_deg_or_mm_per_s2: acceleration,
+            max_jerk_deg_or_mm_per_s3: jerk,
         };
         scene.timing.joint_limits = vec![
-            limit("elbow", Some(45.0), None),
-            limit("lift", Some(20.0), Some(150.0)),
+            limit("elbow", Some(45.0), None, Some(9000.0)),
+            limit("lift", Some(20.0), Some(150.0), None),
         ];
         let settings = limit_settings_of(&scene);
         assert_eq!(settings.velocity_override[1], Some(45f64.to_radians()));
@@ -240,11 +243,16 @@ mod tests {
         assert_eq!(settings.velocity_override[2], Some(0.02));
         assert_eq!(settings.acceleration_override[2], Some(0.15));
         assert_eq!(settings.velocity_override[0], None);
+        assert_eq!(settings.jerk_override[1], Some(9000f64.to_radians()));
+        assert_eq!(settings.jerk_override[2], None);
         let arm = build_arm(&scene.arm).expect("sample arm");
         let plan = armwright_trajectory::plan_task(&arm, &task_of(&scene, &arm)).expect("plans");
         assert_eq!(plan.limits()[1].velocity, 45f64.to_radians());
         assert_eq!(plan.limits()[2].velocity, 0.02);
         assert_eq!(plan.limits()[2].acceleration, 0.15);
+        assert_eq!(plan.limits()[1].jerk, 9000f64.to_radians());
+        // Without a jerk of its own, a joint's jerk is its acceleration ÷ 0.05 s.
+        assert!((plan.limits()[2].jerk - 0.15 / 0.05).abs() < 1e-12);
     }
 
     #[test]

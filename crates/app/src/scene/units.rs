@@ -29,12 +29,13 @@ pub fn position_to_file_unit(kind: JointKindDoc, value: f64) -> f64 {
 }
 
 /// A joint rate in the file's unit → SI: deg/s → rad/s and mm/s → m/s, and the same for
-/// accelerations (deg/s² → rad/s², mm/s² → m/s²): the factor of the position's unit.
+/// accelerations and jerks (deg/s² → rad/s², mm/s³ → m/s³): the factor of the position's unit.
 pub fn rate_from_file_unit(kind: JointKindDoc, value: f64) -> f64 {
     position_from_file_unit(kind, value)
 }
 
-/// A joint rate in SI (rad/s or m/s, or per s²) → the file's unit (deg or mm per s or s²).
+/// A joint rate in SI (rad/s or m/s, or per s² or s³) → the file's unit (deg or mm per s, s²
+/// or s³).
 pub fn rate_to_file_unit(kind: JointKindDoc, value: f64) -> f64 {
     position_to_file_unit(kind, value)
 }

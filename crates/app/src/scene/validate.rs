@@ -465,17 +465,19 @@ fn check_joint_limits(scene: &Scene, kinds: &[JointKindDoc], problems: &mut Vec<
                 ),
             ));
         }
-        let (velocity_key, acceleration_key) = (
+        let (velocity_key, acceleration_key, jerk_key) = (
             table::joint_limit::VELOCITY.key(kind),
             table::joint_limit::ACCELERATION.key(kind),
+            table::joint_limit::JERK.key(kind),
         );
         ranges(table::joint_limit::ROWS, limit, kind, &path, problems);
         if limit.max_velocity_deg_or_mm_per_s.is_none()
             && limit.max_acceleration_deg_or_mm_per_s2.is_none()
+            && limit.max_jerk_deg_or_mm_per_s3.is_none()
         {
             problems.push(Problem::new(
                 path,
-                format!("give {velocity_key}, {acceleration_key} or both"),
+                format!("give at least one of {velocity_key}, {acceleration_key} and {jerk_key}"),
             ));
         }
     }

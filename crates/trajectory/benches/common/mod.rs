@@ -2,7 +2,7 @@
 // Each bench file uses only part of this module.
 #![allow(dead_code)]
 
-use armwright_trajectory::{JointLimits, JointMove, ProfileShape, synchronise};
+use armwright_trajectory::{JointLimits, JointMove};
 
 /// Small deterministic generator (xorshift64*).
 pub struct Seeded(u64);
@@ -26,6 +26,7 @@ impl Seeded {
 }
 
 /// One multi-joint move: each joint's move and limits.
+#[derive(Clone, Copy)]
 pub struct Problem<const N: usize> {
     /// Joint moves, rad and rad/s.
     pub moves: [JointMove; N],
@@ -33,13 +34,23 @@ pub struct Problem<const N: usize> {
     pub limits: [JointLimits; N],
 }
 
-/// `count` random `N`-joint moves from `seed`: rest to rest, or passing both ends at up to half
-/// the velocity limit in the direction of motion. Pass-through moves that our double-S cannot
-/// synchronise are skipped, so that both generators get the same solvable problems.
+/// Boundary velocities of the random moves.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum Boundaries {
+    /// At rest at both ends.
+    Rest,
+    /// Passing both ends at up to half the velocity limit in the direction of motion.
+    Along,
+    /// Passing both ends at up to the velocity limit, in either direction.
+    EitherSign,
+}
+
+/// `count` random `N`-joint moves from `seed` with the given boundary velocities. Every one
+/// can be synchronised (checked against the reference in `tests/sync.rs`).
 pub fn random_moves<const N: usize>(
     count: usize,
     seed: u64,
-    pass_through: bool,
+    boundaries: Boundaries,
 ) -> Vec<Problem<N>> {
     let mut rng = Seeded::new(seed);
     let mut problems = Vec::with_capacity(count);
@@ -54,19 +65,21 @@ pub fn random_moves<const N: usize>(
                 rng.uniform(2.0, 30.0),
                 rng.uniform(20.0, 300.0),
             );
-            let share = if pass_through { 0.5 } else { 0.0 };
-            let direction = (to - from).signum();
             let vmax = joint_limits.velocity;
+            let (low, high) = match boundaries {
+                Boundaries::Rest => (0.0, 0.0),
+                Boundaries::Along => (0.0, 0.5 * vmax),
+                Boundaries::EitherSign => (-vmax, vmax),
+            };
+            let direction = (to - from).signum();
             *joint_move = JointMove::passing(
                 from,
                 to,
-                direction * rng.uniform(0.0, share * vmax),
-                direction * rng.uniform(0.0, share * vmax),
+                direction * rng.uniform(low, high),
+                direction * rng.uniform(low, high),
             );
         }
-        if synchronise(ProfileShape::DoubleS, &moves, &limits).is_ok() {
-            problems.push(Problem { moves, limits });
-        }
+        problems.push(Problem { moves, limits });
     }
     problems
 }

@@ -13,7 +13,7 @@
 use super::limits::{JointLimits, ProfileError};
 use super::{
     ThreePart, VelocityChange, changes_through, covered_with_slope, reversing_peak,
-    solve_bracketed, stretch_peak,
+    solve_bracketed, stretch::stretch_to,
 };
 
 /// The time-optimal parts for displacement `distance` (rad, ≥ 0) from velocity `start` to
@@ -188,8 +188,9 @@ fn rest_to_rest(distance: f64, vmax: f64, amax: f64, jmax: f64) -> ThreePart {
     }
 }
 
-/// A profile with boundary velocities slowed to `duration` (s): the peak velocity is lowered,
-/// the limits kept; in closed form when both changes reach the acceleration limit.
+/// A profile with boundary velocities slowed to `duration` (s), the limits kept: in closed form
+/// when the peak stays above both boundary velocities and both changes reach the acceleration
+/// limit, otherwise by the families of `stretch.rs`.
 pub(super) fn stretch(
     distance: f64,
     parts: &ThreePart,
@@ -202,9 +203,10 @@ pub(super) fn stretch(
     {
         return Ok(parts);
     }
-    stretch_peak(
+    stretch_to(
         distance,
-        parts,
+        parts.start_velocity,
+        parts.end_velocity,
         duration,
         (limits.velocity, limits.acceleration, limits.jerk),
     )
@@ -232,7 +234,7 @@ mod tests {
                 stretched_peak_with_both_limits_reached(distance, &fastest, wanted, amax, jmax)
                     .expect("both changes still reach amax");
             let general =
-                stretch_peak(distance, &fastest, wanted, (5.0, amax, jmax)).expect("reachable");
+                stretch_to(distance, start, end, wanted, (5.0, amax, jmax)).expect("reachable");
             assert!((closed.peak_velocity - general.peak_velocity).abs() < 1e-12);
             assert!((closed.duration() - wanted).abs() < 1e-12);
         }

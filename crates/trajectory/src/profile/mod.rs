@@ -5,8 +5,10 @@
 //! Biagiotti & Melchiorri, *Trajectory Planning for Automatic Machines and Robots*, Springer
 //! 2008, ch. 3). `phases.rs` holds the [`Profile`] value both methods produce and evaluates it
 //! phase by phase (up to seven phases of constant jerk). `limits.rs` holds the inputs (a
-//! joint's move and limits) and their checks. This file holds what the methods share: a
-//! time-optimal velocity change, the three-part shape, the root finder and stretching.
+//! joint's move and limits) and their checks; `stretch.rs` slows a profile with boundary
+//! velocities to a given duration (for both methods) and finds the durations it cannot take.
+//! This file holds what the methods share: a time-optimal velocity change, the three-part
+//! shape and the root finder.
 //!
 //! Every profile has the same three-part shape: a velocity change from the start velocity to a
 //! peak velocity, a cruise at the peak velocity, and a velocity change to the end velocity.
@@ -19,6 +21,7 @@
 mod double_s; // jerk-limited double-S: minimum time, peak velocity search, stretching
 mod limits; // JointMove, JointLimits, ProfileError and their validation
 mod phases; // the Profile value and its evaluation, phase by phase
+mod stretch; // slowing a profile with boundary velocities to a duration; durations it cannot take
 mod trapezoid; // velocity and acceleration limited trapezoid: closed forms
 
 pub use limits::{Boundary, JointLimits, JointMove, LimitKind, ProfileError};
@@ -225,31 +228,6 @@ pub(crate) fn solve_bracketed_from(
     x
 }
 
-/// Duration through peak velocity `peak` with the cruise that completes `distance`, and its
-/// slope with respect to `peak` (s per rad/s). Also returns the no-cruise distance.
-fn duration_through(
-    distance: f64,
-    start: f64,
-    peak: f64,
-    end: f64,
-    acceleration: f64,
-    jerk: f64,
-) -> (f64, f64, f64) {
-    let (covered, first, last) = changes_through(start, peak, end, acceleration, jerk);
-    let duration = first.duration + last.duration + (distance - covered) / peak;
-    let first_slope = (peak - start).signum()
-        * VelocityChange::duration_slope((peak - start).abs(), acceleration, jerk);
-    let last_slope = (peak - end).signum()
-        * VelocityChange::duration_slope((peak - end).abs(), acceleration, jerk);
-    let covered_slope = 0.5 * first.duration
-        + 0.5 * (start + peak) * first_slope
-        + 0.5 * last.duration
-        + 0.5 * (peak + end) * last_slope;
-    let slope =
-        first_slope + last_slope - (covered_slope * peak + (distance - covered)) / (peak * peak);
-    (duration, slope, covered)
-}
-
 /// Distance covered by the two velocity changes through `peak` with no cruise, and its slope
 /// with respect to `peak` (rad per rad/s).
 pub(crate) fn covered_with_slope(
@@ -285,222 +263,4 @@ pub(crate) fn reversing_peak(
         let (covered, slope) = covered_with_slope(start, peak, end, acceleration, jerk);
         (covered - distance, slope)
     })
-}
-
-/// Lowers the peak velocity of `parts` (time-optimal, non-negative frame) until the profile
-/// takes `duration` s, keeping velocity, acceleration and jerk limits (`limits`: rad/s, rad/s²,
-/// rad/s³) and the boundary velocities.
-///
-/// First along the usual shape (peak at or above both boundary velocities), where the duration
-/// falls as the peak rises; then along positive peaks below a boundary velocity, found by
-/// halving the peak; finally, when the velocity changes alone cover more than the move, along
-/// negative peaks (the joint backs up while it cruises), where the duration grows without
-/// bound as the peak rises towards zero.
-pub(crate) fn stretch_peak(
-    distance: f64,
-    parts: &ThreePart,
-    duration: f64,
-    limits: (f64, f64, f64),
-) -> Result<ThreePart, ProfileError> {
-    let (_, acceleration, jerk) = limits;
-    let start = parts.start_velocity;
-    let end = parts.end_velocity;
-    let fastest_peak = parts.peak_velocity;
-    let timing = |peak: f64| duration_through(distance, start, peak, end, acceleration, jerk);
-    let tolerance = 1e-12 * distance.max(1e-12);
-    let unreachable = ProfileError::StretchUnreachable {
-        requested: duration,
-    };
-    // The usual case first: a peak between the boundary velocities and the fastest peak.
-    let usual_low = start.max(end);
-    if fastest_peak > 0.0 && usual_low > 0.0 && usual_low <= fastest_peak {
-        let at_low = timing(usual_low).0;
-        if at_low >= duration {
-            let fastest_duration = parts.first.duration + parts.cruise + parts.last.duration;
-            let ends = (at_low - duration, fastest_duration - duration);
-            let peak =
-                solve_bracketed_from(usual_low, fastest_peak, ends, 1e-14 * duration, |peak| {
-                    let (time, slope, _) = timing(peak);
-                    (time - duration, slope)
-                });
-            return finish_stretch(distance, start, peak, end, duration, (acceleration, jerk));
-        }
-    }
-    // Whether the two changes through a zero peak already cover more than the move: then small
-    // positive peaks do not fit, and long durations need the joint to back up.
-    let (covered_at_rest, rest_first, rest_last) =
-        changes_through(start, 0.0, end, acceleration, jerk);
-    let backs_up = covered_at_rest > distance + tolerance;
-    let mut bracket = None;
-    if fastest_peak > 0.0 {
-        bracket = if backs_up {
-            bounded_forward_bracket(distance, start, end, fastest_peak, duration, limits)
-        } else {
-            forward_bracket(distance, start, end, fastest_peak, duration, &timing)
-        };
-    }
-    if bracket.is_none() && backs_up {
-        let lowest = if fastest_peak < 0.0 {
-            fastest_peak
-        } else {
-            reversing_peak(distance, start, end, 0.0, limits)
-        };
-        if timing(lowest).0 <= duration {
-            // Near a zero peak the cruise dominates: T ≈ T(0 changes) + (h − D(0)) / peak.
-            let estimate = (distance - covered_at_rest)
-                / (duration - rest_first.duration - rest_last.duration);
-            let mut high = if estimate > lowest && estimate < 0.0 {
-                estimate
-            } else {
-                0.5 * lowest
-            };
-            for _ in 0..1100 {
-                if timing(high).0 >= duration {
-                    bracket = Some((lowest, high));
-                    break;
-                }
-                high *= 0.5;
-            }
-        }
-    }
-    let (low, high) = bracket.ok_or(unreachable)?;
-    let peak = solve_bracketed(low, high, 1e-14 * duration, |peak| {
-        let (time, slope, _) = timing(peak);
-        (time - duration, slope)
-    });
-    finish_stretch(distance, start, peak, end, duration, (acceleration, jerk))
-}
-
-/// The parts through `peak` that take `duration` s, checked to cover `distance`.
-fn finish_stretch(
-    distance: f64,
-    start: f64,
-    peak: f64,
-    end: f64,
-    duration: f64,
-    (acceleration, jerk): (f64, f64),
-) -> Result<ThreePart, ProfileError> {
-    let (covered, first, last) = changes_through(start, peak, end, acceleration, jerk);
-    let cruise = (duration - first.duration - last.duration).max(0.0);
-    let miss = distance - covered - peak * cruise;
-    if miss.is_nan() || miss.abs() > 1e-9 * distance.max(1e-6) {
-        return Err(ProfileError::StretchUnreachable {
-            requested: duration,
-        });
-    }
-    Ok(ThreePart {
-        start_velocity: start,
-        peak_velocity: peak,
-        end_velocity: end,
-        first,
-        cruise,
-        last,
-    })
-}
-
-/// Like [`forward_bracket`] when the changes through a zero peak cover more than the move:
-/// positive peaks then fit only down to the one whose changes alone cover the move, so the
-/// bracket is searched between that peak and the usual shape's lowest.
-fn bounded_forward_bracket(
-    distance: f64,
-    start: f64,
-    end: f64,
-    fastest_peak: f64,
-    duration: f64,
-    limits: (f64, f64, f64),
-) -> Option<(f64, f64)> {
-    let (_, acceleration, jerk) = limits;
-    let timing = |peak: f64| duration_through(distance, start, peak, end, acceleration, jerk).0;
-    let low = start.max(end);
-    if !(low > 0.0 && low <= fastest_peak) {
-        return None;
-    }
-    if timing(low) >= duration {
-        return Some((low, fastest_peak));
-    }
-    let fitting = solve_bracketed(0.0, low, 1e-14 * distance.max(1e-12), |peak| {
-        let (covered, slope) = covered_with_slope(start, peak, end, acceleration, jerk);
-        (covered - distance, slope)
-    });
-    (fitting > 0.0 && timing(fitting) >= duration).then_some((fitting, low))
-}
-
-/// A bracket `(low, high)` of positive peak velocities whose durations straddle `duration`,
-/// along the usual shape or, failing that, below a boundary velocity.
-fn forward_bracket(
-    distance: f64,
-    start: f64,
-    end: f64,
-    fastest_peak: f64,
-    duration: f64,
-    timing: &impl Fn(f64) -> (f64, f64, f64),
-) -> Option<(f64, f64)> {
-    let tolerance = 1e-12 * distance.max(1e-12);
-    let mut low = start.max(end).max(0.0);
-    if low <= 0.0 {
-        // Both boundary velocities are zero or negative: the duration grows without bound as
-        // the peak falls towards zero.
-        low = fastest_peak;
-        for _ in 0..2000 {
-            if timing(low).0 >= duration {
-                break;
-            }
-            low *= 0.5;
-        }
-    }
-    if low > 0.0 && low <= fastest_peak && timing(low).0 >= duration {
-        return Some((low, fastest_peak));
-    }
-    if low <= 0.0 {
-        return None;
-    }
-    // Peaks below a boundary velocity: halve the peak until the profile takes long enough,
-    // keeping the last feasible peak above as the other end of the bracket. Where the
-    // feasible set has a gap between the two, scan it finely.
-    let feasible = |peak: f64| {
-        let (time, _, covered) = timing(peak);
-        (covered <= distance + tolerance && time.is_finite()).then_some(time)
-    };
-    let mut bracket = None;
-    let mut above = Some(low);
-    let mut peak = low;
-    for _ in 0..64 {
-        let upper = peak;
-        peak *= 0.5;
-        match feasible(peak) {
-            None => above = None,
-            Some(time) if time >= duration => {
-                bracket = match above {
-                    Some(above) => Some((peak, above)),
-                    None => (1..16)
-                        .map(|k| upper - (upper - peak) * f64::from(k) / 16.0)
-                        .zip((0..15).map(|k| upper - (upper - peak) * f64::from(k) / 16.0))
-                        .find(|&(lower, higher)| {
-                            matches!(feasible(lower), Some(t) if t >= duration)
-                                && matches!(feasible(higher), Some(t) if t < duration)
-                        }),
-                };
-                break;
-            }
-            Some(_) => above = Some(peak),
-        }
-    }
-    if bracket.is_none() {
-        // Last resort: an even scan from `low` down.
-        let mut above = Some(low);
-        for k in (1..64).rev() {
-            let peak = low * f64::from(k) / 64.0;
-            match feasible(peak) {
-                None => above = None,
-                Some(time) if time >= duration => {
-                    bracket = above.map(|above| (peak, above));
-                    if bracket.is_some() {
-                        break;
-                    }
-                }
-                Some(_) => above = Some(peak),
-            }
-        }
-    }
-    bracket
 }

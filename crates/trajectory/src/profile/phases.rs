@@ -157,8 +157,10 @@ impl Profile {
     /// A rest-to-rest move is scaled uniformly in time (the fixed-duration approach of
     /// Biagiotti & Melchiorri 2008, ch. 3, with the phase proportions of the time-optimal
     /// profile): velocity falls by the factor, acceleration by its square, jerk by its cube. A
-    /// move with boundary velocities keeps its limits and lowers its peak velocity until the
-    /// duration fits. A duration no longer than this profile's returns it unchanged.
+    /// move with boundary velocities keeps its limits and changes the velocity it cruises at
+    /// until the duration fits: a lower peak, a slower change between its boundary
+    /// velocities, or a dip below both (through zero if need be). A duration no longer than
+    /// this profile's returns it unchanged.
     ///
     /// # Errors
     /// [`ProfileError::StretchTooShort`] when `duration` is shorter than this profile's by more
@@ -203,6 +205,23 @@ impl Profile {
         self.parts = parts;
         self.duration = duration;
         Ok(())
+    }
+
+    /// The shortest duration after `blocked` (s) that this move can be stretched to, when
+    /// `blocked` is refused because every profile that long covers more than the move (a joint
+    /// passing its ends too fast to slow down in time, but able to dip further, or back up, in
+    /// a longer time); `None` otherwise. Found in closed form or by one bracketed root.
+    pub(crate) fn end_of_refused(&self, blocked: f64) -> Option<f64> {
+        let (start, end) = (self.parts.start_velocity, self.parts.end_velocity);
+        if start == 0.0 && end == 0.0 {
+            return None;
+        }
+        let jerk = match self.shape {
+            ProfileShape::Trapezoid => f64::INFINITY,
+            ProfileShape::DoubleS => self.limits.jerk,
+        };
+        let limits = (self.limits.velocity, self.limits.acceleration, jerk);
+        super::stretch::end_of_refused(self.distance, start, end, blocked, limits)
     }
 
     /// Duration, s.
@@ -379,5 +398,101 @@ fn rest_to_rest_scaled(parts: &ThreePart, from_duration: f64, to_duration: f64) 
         first: parts.first.time_scaled(factor),
         cruise: parts.cruise * factor,
         last: parts.last.time_scaled(factor),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Small deterministic generator (xorshift64*), uniform in `[low, high)`.
+    struct Seeded(u64);
+
+    impl Seeded {
+        fn uniform(&mut self, low: f64, high: f64) -> f64 {
+            let mut x = self.0;
+            x ^= x >> 12;
+            x ^= x << 25;
+            x ^= x >> 27;
+            self.0 = x;
+            let unit = (x.wrapping_mul(0x2545_F491_4F6C_DD1D) >> 11) as f64 / (1u64 << 53) as f64;
+            low + unit * (high - low)
+        }
+    }
+
+    /// Samples `profile` at 2 001 points: within its limits, continuous, exact at both ends.
+    fn assert_sound(profile: &Profile) {
+        let limits = profile.limits;
+        let slack = |limit: f64| limit * (1.0 + 1e-9) + 1e-12;
+        let steps = 2_000;
+        let dt = profile.duration / f64::from(steps);
+        let mut previous = profile.state_at(0.0);
+        for k in 1..=steps {
+            let state = profile.state_at(f64::from(k) * dt);
+            assert!(
+                state.velocity.abs() <= slack(limits.velocity),
+                "{profile:?}"
+            );
+            assert!(
+                state.acceleration.abs() <= slack(limits.acceleration),
+                "{profile:?}"
+            );
+            if profile.shape == ProfileShape::DoubleS {
+                assert!(state.jerk.abs() <= slack(limits.jerk), "{profile:?}");
+            }
+            let moved = (state.position - previous.position).abs();
+            assert!(moved <= slack(limits.velocity) * dt + 1e-9, "{profile:?}");
+            previous = state;
+        }
+        let end = profile.state_at(profile.duration * (1.0 - 1e-13));
+        assert!(
+            (end.position - profile.joint_move.to).abs() < 1e-9,
+            "{profile:?}"
+        );
+        assert!(
+            (end.velocity - profile.joint_move.to_velocity).abs() < 1e-6,
+            "{profile:?}"
+        );
+    }
+
+    #[test]
+    fn a_refused_duration_lies_in_one_interval_whose_end_can_be_taken() {
+        let mut rng = Seeded(0x5EED_0013);
+        let mut refused = 0;
+        for index in 0..4_000 {
+            let shape = if index % 2 == 0 {
+                ProfileShape::DoubleS
+            } else {
+                ProfileShape::Trapezoid
+            };
+            let limits = JointLimits::new(
+                rng.uniform(0.3, 5.0),
+                rng.uniform(0.5, 30.0),
+                rng.uniform(2.0, 300.0),
+            );
+            let joint_move = JointMove::passing(
+                rng.uniform(-2.0, 2.0),
+                rng.uniform(-2.0, 2.0),
+                rng.uniform(-1.0, 1.0) * limits.velocity,
+                rng.uniform(-1.0, 1.0) * limits.velocity,
+            );
+            let fastest = Profile::fastest(shape, &joint_move, &limits).expect("plans");
+            let wanted = fastest.duration() * rng.uniform(1.0, 2.0);
+            match fastest.stretched(wanted) {
+                Ok(stretched) => assert_sound(&stretched),
+                Err(ProfileError::StretchUnreachable { .. }) => {
+                    refused += 1;
+                    let end = fastest
+                        .end_of_refused(wanted)
+                        .expect("refused in an interval");
+                    assert!(end > wanted);
+                    assert_sound(&fastest.stretched(end).expect("the end can be taken"));
+                    let inside = 0.5 * (wanted + end);
+                    assert!(inside == end || fastest.stretched(inside).is_err());
+                }
+                Err(other) => panic!("{other}"),
+            }
+        }
+        assert!(refused > 20, "only {refused} refused");
     }
 }

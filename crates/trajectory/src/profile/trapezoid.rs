@@ -3,7 +3,7 @@
 //! and Robots*, Springer 2008, ch. 3), with general start and end velocities.
 
 use super::limits::{JointLimits, ProfileError};
-use super::{ThreePart, VelocityChange, stretch_peak};
+use super::{ThreePart, VelocityChange, stretch::stretch_to};
 
 /// The time-optimal parts for displacement `distance` (rad, ≥ 0) from velocity `start` to
 /// `end` (rad/s, in the direction of motion), limits already checked.
@@ -66,7 +66,7 @@ fn change(dv: f64, amax: f64) -> VelocityChange {
 /// A profile with boundary velocities slowed to `duration` (s). With the peak at or above both
 /// boundary velocities the book's fixed-duration closed form gives the peak:
 /// vp = ½(v0 + v1 + aT − √(a²T² − 4ah + 2a(v0 + v1)T − (v0 − v1)²));
-/// otherwise the general search of the module is used.
+/// otherwise the families of `stretch.rs` are searched.
 pub(super) fn stretch(
     distance: f64,
     parts: &ThreePart,
@@ -97,9 +97,10 @@ pub(super) fn stretch(
             });
         }
     }
-    stretch_peak(
+    stretch_to(
         distance,
-        parts,
+        start,
+        end,
         duration,
         (limits.velocity, amax, f64::INFINITY),
     )
