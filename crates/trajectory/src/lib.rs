@@ -38,6 +38,7 @@
 
 mod arm_limits; // limits a plan takes from the arm's servos, masses and gravity
 mod arm_plan; // a task planned on a real arm: limits, gripper payload, waypoint timings
+mod clearance; // the arm against obstacles and itself along a plan and along the dry run
 mod dry_run; // a plan run through the servo model: overshoot, settling, following error
 mod profile; // one joint's move: trapezoid and double-S profiles, evaluation, stretching
 mod retime; // the fastest timing whose dry run meets an overshoot and torque target
@@ -51,6 +52,7 @@ mod sync; // several joints of one move: start and end together, slowest sets th
 
 pub use crate::arm_limits::{LimitError, LimitSettings, limits_from_arm};
 pub use crate::arm_plan::{PlanError, Task, TaskPlan, TaskPlanner, TaskWaypoint, plan_task};
+pub use crate::clearance::*; // Clearance, ClearanceOptions, Workcell, plan_clearance, dry_run_clearance, grip_exemptions
 pub use crate::dry_run::{
     CommandedMotion, DryRun, DryRunError, DryRunOptions, WaypointResult, WaypointTiming, dry_run,
 };
