@@ -9,7 +9,7 @@
 mod common;
 
 use armwright_kinematics::{
-    ArmShape, Obstacle, Other, Pair, forward, pair_distance, pose_proximities,
+    ArmShape, Obstacle, Other, Pair, forward, pair_distance, pair_distance_bound, pose_proximities,
 };
 use common::{Seeded, articulated, scara};
 use nalgebra::Vector3;
@@ -287,4 +287,36 @@ fn default_radii_follow_the_servo_size_and_can_be_changed() {
     assert_eq!(wider.links()[2].radius, shape.links()[2].radius);
     assert!(shape.clone().with_radius(&arm, 3, -0.01).is_err());
     assert!(shape.with_radius(&arm, 9, 0.01).is_err());
+}
+
+#[test]
+fn the_cheap_bound_never_exceeds_the_distance() {
+    let mut rng = Seeded::new(11);
+    let arm = articulated(true);
+    let shape = ArmShape::of(&arm);
+    let obstacles = [
+        Obstacle::table(0.0),
+        Obstacle::standing_box(
+            "block",
+            Vector3::new(0.15, 0.05, 0.0),
+            Vector3::new(0.05, 0.04, 0.06),
+        ),
+    ];
+    let mut gaps = 0;
+    for _ in 0..500 {
+        let placed = shape.place(&forward(&arm, &rng.pose(&arm)).unwrap());
+        for pair in shape.pairs(&obstacles) {
+            let exact = pair_distance(&shape, &placed, &obstacles, pair);
+            let bound = pair_distance_bound(&shape, &placed, &obstacles, pair);
+            assert!(
+                bound <= exact + 1e-9,
+                "{pair:?}: bound {bound} m above {exact} m"
+            );
+            gaps += usize::from(bound < exact - 1e-3);
+        }
+    }
+    assert!(
+        gaps > 0,
+        "the bound must differ from the distance somewhere to be tested"
+    );
 }

@@ -9,13 +9,13 @@
 //! fast: no point of the arm moves more than [`ClearanceOptions::max_step`] m between two looks
 //! (a bound from the joint steps, [`ArmShape::sweep`]). A pair is measured again only once the
 //! distance its links could have covered since its last measurement might bring it into contact
-//! or below the move's smallest clearance so far (less [`ClearanceOptions::resolution`]):
-//! conservative advancement, so dwells and far-apart pairs cost nothing, and the smallest
-//! clearance is exact to within the resolution at the looks.
+//! or below the move's smallest clearance so far (less the resolution): conservative
+//! advancement, so dwells and far-apart pairs cost nothing, and the smallest clearance is exact
+//! to within the resolution at the looks.
 
 use armwright_kinematics::{
     Arm, ArmShape, KinematicsError, MAX_JOINTS, MAX_LINKS, Obstacle, Other, Pair, forward,
-    pair_distance, tool_pose,
+    pair_distance, pair_distance_bound, tool_pose,
 };
 
 use crate::arm_plan::TaskWaypoint;
@@ -30,8 +30,13 @@ pub struct ClearanceOptions {
     /// Farthest any point of the arm may move between two looks, in m; a fast motion is looked
     /// at more often. Default 2 mm.
     pub max_step: f64,
-    /// The smallest clearance of a move is found to within this, in m. Default 0.1 mm.
+    /// The smallest clearance of a move is found to within this, in m, or within
+    /// [`ClearanceOptions::relative_resolution`] of it, whichever is larger. Default 0.1 mm.
     pub resolution: f64,
+    /// The smallest clearance of a move is found to within this share of it, where that is
+    /// more than [`ClearanceOptions::resolution`]. Default 2 %: 40 mm of clearance is known to
+    /// 0.8 mm, a near miss to 0.1 mm.
+    pub relative_resolution: f64,
     /// An overlap no deeper than this, in m, counts as touching (a pen on paper), not as a
     /// contact. Default 0.1 mm (our choice: finer than any hobby servo can place the tool).
     pub touch_tolerance: f64,
@@ -43,6 +48,7 @@ impl Default for ClearanceOptions {
             interval: 1e-3,
             max_step: 2e-3,
             resolution: 1e-4,
+            relative_resolution: 0.02,
             touch_tolerance: 1e-4,
         }
     }
@@ -163,14 +169,18 @@ pub fn dry_run_clearance(
     })
 }
 
-/// The pairs left out because the gripper holds or reaches into an object.
+/// The pairs left out because the gripper holds or reaches into an object, or the tool works
+/// on it.
 ///
 /// A waypoint where the gripper changes state (it closes: a pick; it opens: a place) grips the
 /// objects (boxes and trays, never the table) whose box, grown by the tool link's radius on
-/// every side, holds its tool point. For each, the tool link is left out against that object
-/// on the move into the waypoint and on the move out of it. An object picked rides in the
-/// gripper from then on: it is left out for every link on every later move. The object carried
-/// is not added to the arm's shape, nor is a placed object moved to where it was put.
+/// every side, holds its tool point. An arm without a gripper carries a tool (a pen, a probe)
+/// that works on what it touches: every one of its waypoints marks the objects that hold its
+/// tool point that way. For each, the tool link is left out against that object on the move
+/// into the waypoint and on the move out of it. An object picked (the gripper closes on it)
+/// rides in the gripper from then on: it is left out for every link on every later move. The
+/// object carried is not added to the arm's shape, nor is a placed object moved to where it
+/// was put.
 ///
 /// # Errors
 /// [`KinematicsError`] for a waypoint the arm cannot take.
@@ -183,12 +193,16 @@ pub fn grip_exemptions(
     let tool = shape.tool_link();
     let radius = shape.links()[tool].radius;
     let mut exemptions = Vec::new();
-    for (index, pair) in waypoints.windows(2).enumerate() {
-        let (before, here) = (&pair[0], &pair[1]);
-        if before.gripper_closed == here.gripper_closed {
+    let tool_arm = arm.gripper().is_none();
+    for (waypoint, here) in waypoints.iter().enumerate() {
+        let changes = waypoint
+            .checked_sub(1)
+            .and_then(|before| waypoints.get(before))
+            .is_some_and(|before| before.gripper_closed != here.gripper_closed);
+        if !(changes || tool_arm) {
             continue;
         }
-        let waypoint = index + 1;
+        let picks = changes && here.gripper_closed;
         let point = tool_pose(arm, &here.positions)?.translation.vector;
         for (obstacle, object) in obstacles.iter().enumerate() {
             if object.is_table() || !object.holds(&point, radius) {
@@ -203,7 +217,7 @@ pub fn grip_exemptions(
                     });
                 }
             }
-            if here.gripper_closed {
+            if picks {
                 exemptions.extend((waypoint + 1..waypoints.len()).map(|on| Exemption {
                     waypoint: on,
                     link: None,
@@ -251,7 +265,7 @@ fn walk(
             .copied()
             .filter(|pair| !exempt(cell.exemptions, waypoint, *pair))
             .collect();
-        let mut look = Look::new(waypoint, active, options);
+        let mut look = Look::new(waypoint, active, cell.obstacles, options);
         let mut t = start;
         positions(t, &mut here[..n]);
         loop {
@@ -298,11 +312,27 @@ struct Look<'o> {
     last: Vec<(f64, f64, f64)>,
     /// Each link's travel since the move began, an upper bound, in m.
     travel: [f64; MAX_LINKS],
+    /// Per pair: whether the other side is a box (whose distance query is iterative, so a cheap
+    /// bound goes first).
+    boxed: Vec<bool>,
 }
 
 impl<'o> Look<'o> {
-    fn new(waypoint: usize, pairs: Vec<Pair>, options: &'o ClearanceOptions) -> Look<'o> {
+    fn new(
+        waypoint: usize,
+        pairs: Vec<Pair>,
+        obstacles: &[Obstacle],
+        options: &'o ClearanceOptions,
+    ) -> Look<'o> {
+        let boxed = pairs
+            .iter()
+            .map(|pair| match pair.other {
+                Other::Obstacle(index) => obstacles.get(index).is_some_and(|o| !o.is_table()),
+                Other::Link(_) => false,
+            })
+            .collect();
         Look {
+            boxed,
             options,
             result: MoveClearance {
                 waypoint,
@@ -337,7 +367,12 @@ impl<'o> Look<'o> {
             let (distance, link_then, other_then) = self.last[index];
             let (link_now, other_now) = (self.travel[pair.link], self.travel_of(pair.other));
             let lowest = distance - (link_now - link_then) - (other_now - other_then);
-            if lowest > 0.0 && lowest >= self.result.min_clearance - self.options.resolution {
+            let smallest = self.result.min_clearance;
+            let resolution = self
+                .options
+                .resolution
+                .max(self.options.relative_resolution * smallest);
+            if lowest > 0.0 && lowest >= smallest - resolution {
                 continue;
             }
             if placed.is_none() {
@@ -349,6 +384,15 @@ impl<'o> Look<'o> {
             let Some(placed) = placed.as_ref() else {
                 return;
             };
+            // A cheap lower bound first: when it clears the threshold, it serves as well as the
+            // distance for the next skip.
+            if self.boxed[index] {
+                let bound = pair_distance_bound(cell.shape, placed, cell.obstacles, pair);
+                if bound > 0.0 && bound >= smallest - resolution {
+                    self.last[index] = (bound, link_now, other_now);
+                    continue;
+                }
+            }
             let distance = pair_distance(cell.shape, placed, cell.obstacles, pair);
             self.last[index] = (distance, link_now, other_now);
             if distance < self.result.min_clearance {

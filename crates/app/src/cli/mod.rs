@@ -12,6 +12,7 @@
 
 mod args;
 mod check;
+mod clearance;
 mod device_sim;
 mod envelope;
 mod plan;

@@ -9,6 +9,7 @@ use armwright_trajectory::{CommandedMotion, SegmentKind, TaskPlan};
 use serde_json::json;
 
 use super::Outcome;
+use super::clearance::{Motion, SceneCell, any_contact};
 use super::report::{fail, load_scene, print_json, rounded};
 use crate::scene::{
     JointLimitDoc, Scene, plan_of, position_to_file_unit, rate_to_file_unit, save_text,
@@ -66,6 +67,10 @@ pub(crate) fn run(file: &Path, rate_hz: f64, csv: Option<&Path>, json: bool) -> 
     };
     let derating = scene.timing.torque_derating_pct / 100.0;
     let torque = plan.peak_torque_use(&arm, derating, TORQUE_INTERVAL);
+    let cell = SceneCell::of(&scene, &arm);
+    let clearance = cell.along_plan(&arm, &plan);
+    let looked = [(Motion::Commanded, &clearance)];
+    let touched = any_contact(&looked);
     if let Some(path) = csv {
         let text = match setpoints_csv(&scene, &plan, rate_hz) {
             Ok(text) => text,
@@ -114,7 +119,7 @@ pub(crate) fn run(file: &Path, rate_hz: f64, csv: Option<&Path>, json: bool) -> 
                 })
             })
             .collect();
-        print_json(&json!({
+        let mut out = json!({
             "ok": true,
             "cycle_time_s": rounded(cycle_time, 4),
             "shaped_runs": plan.shaped_runs(),
@@ -122,7 +127,13 @@ pub(crate) fn run(file: &Path, rate_hz: f64, csv: Option<&Path>, json: bool) -> 
             "joint_limits": joint_limits(&scene, &plan),
             "segments": segments,
             "waypoints": waypoints,
-        }));
+        });
+        cell.add_json(&scene, &mut out, &looked);
+        if touched {
+            out["ok"] = json!(false);
+            out["error"] = json!("the arm hits something along the plan (see collisions)");
+        }
+        print_json(&out);
     } else {
         println!(
             "cycle time {:.3} s, peak torque use {:.0} %",
@@ -150,8 +161,18 @@ pub(crate) fn run(file: &Path, rate_hz: f64, csv: Option<&Path>, json: bool) -> 
         if let Some(path) = csv {
             println!("setpoints written to {}", path.display());
         }
+        for line in cell.lines(&scene, &looked) {
+            println!("{line}");
+        }
+        if touched {
+            eprintln!("error: the arm hits something along the plan");
+        }
     }
-    Outcome::Done
+    if touched {
+        Outcome::Refused
+    } else {
+        Outcome::Done
+    }
 }
 
 /// The plan (shaped, where the scene asks) sampled at `rate_hz`: a header, then one row per sample with the time in s and

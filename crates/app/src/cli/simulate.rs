@@ -7,6 +7,7 @@ use armwright_trajectory::DryRun;
 use serde_json::{Value, json};
 
 use super::Outcome;
+use super::clearance::{Motion, SceneCell, any_contact};
 use super::plan::load_and_plan;
 use super::report::{all_rounded, fail, print_json, rounded};
 use crate::scene::{Arrival, Scene, dry_run_of, position_to_file_unit};
@@ -23,12 +24,36 @@ pub(crate) fn run(file: &Path, json: bool) -> Outcome {
             return fail(json, &message, json!({}), Outcome::Refused);
         }
     };
+    let cell = SceneCell::of(&scene, &arm);
+    let commanded = cell.along_plan(&arm, &plan);
+    let simulated = cell.along_dry_run(&arm, &plan, &run.trace);
+    let looked = [
+        (Motion::Commanded, &commanded),
+        (Motion::Simulated, &simulated),
+    ];
+    let touched = any_contact(&looked);
     if json {
-        print_json(&dry_run_json(&scene, &run));
+        let mut out = dry_run_json(&scene, &run);
+        cell.add_json(&scene, &mut out, &looked);
+        if touched {
+            out["ok"] = json!(false);
+            out["error"] = json!("the arm hits something in the dry run (see collisions)");
+        }
+        print_json(&out);
     } else {
         print_dry_run(&scene, &run);
+        for line in cell.lines(&scene, &looked) {
+            println!("{line}");
+        }
+        if touched {
+            eprintln!("error: the arm hits something in the dry run");
+        }
     }
-    Outcome::Done
+    if touched {
+        Outcome::Refused
+    } else {
+        Outcome::Done
+    }
 }
 
 /// The headline figures of a dry run, in report units.

@@ -19,6 +19,7 @@ mod setpoints;
 mod task;
 mod units;
 mod validate;
+mod workcell;
 
 pub use document::{
     ArmDoc, ArmShape, Arrival, ArticulatedSize, AxisDoc, BandDoc, BoxDoc, CalibrationDoc,
@@ -40,6 +41,7 @@ pub use units::{
     position_to_file_unit, rate_from_file_unit, rate_to_file_unit,
 };
 pub use validate::validate;
+pub use workcell::{arm_shape_of, exemptions_of, obstacles_of};
 
 use std::path::PathBuf;
 

@@ -17,4 +17,6 @@ mod separation;
 
 pub use arm_shape::{ArmShape, LinkShape, MAX_LINKS, PlacedArm, ShapeError};
 pub use obstacle::{Obstacle, ObstacleShape};
-pub use separation::{Other, Pair, Proximity, pair_distance, pose_proximities};
+pub use separation::{
+    Other, Pair, Proximity, pair_distance, pair_distance_bound, pose_proximities,
+};

@@ -148,6 +148,44 @@ fn signed_distance(pose: &Pose, first: &dyn Shape, capsule: &Capsule) -> f64 {
     }
 }
 
+/// A cheap lower bound (m) of [`pair_distance`]: exact for the table and between links (both
+/// closed forms are cheap), and for a box the gap between the box and the capsule's bounding
+/// box, which the iterative query is asked for only when that gap is small.
+pub fn pair_distance_bound(
+    shape: &ArmShape,
+    placed: &PlacedArm,
+    obstacles: &[Obstacle],
+    pair: Pair,
+) -> f64 {
+    let (Other::Obstacle(index), Some(link), Some(segment)) = (
+        pair.other,
+        shape.links().get(pair.link),
+        placed.segments().get(pair.link),
+    ) else {
+        return pair_distance(shape, placed, obstacles, pair);
+    };
+    match obstacles.get(index).map(|o| o.shape) {
+        Some(ObstacleShape::Box { centre, half_size }) => {
+            let low = segment.0.inf(&segment.1).add_scalar(-link.radius);
+            let high = segment.0.sup(&segment.1).add_scalar(link.radius);
+            let gap = Vector3::from_fn(|axis, _| {
+                let (box_low, box_high) = (
+                    centre[axis] - half_size[axis],
+                    centre[axis] + half_size[axis],
+                );
+                (box_low - high[axis]).max(low[axis] - box_high).max(0.0)
+            });
+            let gap = gap.norm();
+            if gap > 0.0 {
+                gap
+            } else {
+                pair_distance(shape, placed, obstacles, pair)
+            }
+        }
+        _ => pair_distance(shape, placed, obstacles, pair),
+    }
+}
+
 /// Every pair's signed distance in the pose `positions` (rad or m, one per joint), skipping the
 /// pairs for which `exempt` says true. Distances in m, negative for an overlap.
 ///
