@@ -23,7 +23,7 @@ const DEFAULT_RADIUS_RANGE: (f64, f64) = (0.004, 0.025);
 #[derive(Debug, Clone, PartialEq)]
 pub struct LinkShape {
     /// A name for reports: "base column", "upper arm", "forearm", "gripper" or "tool" for the
-    /// built-in arm types; "<joint name> link" for a general chain.
+    /// built-in arm types; "`<joint name>` link" for a general chain.
     pub name: String,
     /// The joint whose frame the link moves with (0-based), or `None` for a link fixed to the
     /// base.
