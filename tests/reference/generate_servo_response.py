@@ -43,9 +43,16 @@ class Model:
         return self.pulse_a_us + (position - self.position_a) * self.slope
 
     def commanded_pulse(self, position):
-        raw = self.pulse_at(position)
-        steps = round_half_away(raw / self.pulse_resolution_us) * self.pulse_resolution_us
-        return min(max(steps, self.pulse_min_us), self.pulse_max_us)
+        # The pulse rule (armwright_kinematics::sent_pulse): limit to the range, then round to
+        # the nearest whole unit that lies inside it.
+        unit = self.pulse_resolution_us
+        limited = min(max(self.pulse_at(position), self.pulse_min_us), self.pulse_max_us)
+        first = math.ceil(self.pulse_min_us / unit - 1e-9)
+        last = math.floor(self.pulse_max_us / unit + 1e-9)
+        steps = round_half_away(limited / unit)
+        if first <= last:
+            steps = min(max(steps, first), last)
+        return steps * unit
 
     def drive(self, pulse, position):
         error = (pulse - self.pulse_at(position)) * math.copysign(1.0, self.slope)

@@ -249,3 +249,149 @@ fn chains_in_both_conventions_describe_themselves_consistently() {
         assert!((vector(&back["tool_mm"]) - Vector3::new(120.0, 40.0, 90.0)).norm() < 1e-2);
     }
 }
+
+/// `check --json` on `document`: exit code and the problems' paths and messages.
+fn checked(name: &str, document: &Value) -> (i32, Vec<(String, String)>) {
+    let (code, out) = armwright_json(&["check", &scene_file(name, document), "--json"]);
+    let problems = out["problems"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|p| {
+            (
+                p["path"].as_str().unwrap().to_string(),
+                p["message"].as_str().unwrap().to_string(),
+            )
+        })
+        .collect();
+    (code, problems)
+}
+
+#[test]
+fn implausible_sizes_are_refused_at_their_paths_with_the_range() {
+    // 1e308 mm passes as a number but no bench arm has it; a forearm of 5000 mm is a length in
+    // metres typed as mm (5 m) or a slip of the keyboard.
+    let mut document = articulated5();
+    set(&mut document, "/arm/dimensions/upper_arm_mm", json!(1e308));
+    set(&mut document, "/arm/dimensions/forearm_mm", json!(5000.0));
+    let (code, problems) = checked("check-implausible", &document);
+    assert_eq!(code, 1);
+    assert_eq!(
+        problems,
+        [
+            (
+                "arm.dimensions.upper_arm_mm".to_string(),
+                "must be above 0 mm and at most 1000 mm, got 1e308 mm".to_string()
+            ),
+            (
+                "arm.dimensions.forearm_mm".to_string(),
+                "must be above 0 mm and at most 1000 mm, got 5000 mm".to_string()
+            ),
+        ]
+    );
+    // The text form says the same on standard output.
+    let (code, stdout, _) = armwright(&["check", &scene_file("check-implausible", &document)]);
+    assert_eq!(code, 1);
+    assert!(
+        stdout.contains("arm.dimensions.forearm_mm: must be above 0 mm and at most 1000 mm"),
+        "{stdout}"
+    );
+}
+
+#[test]
+fn a_key_given_twice_is_refused_at_its_path() {
+    let document = articulated5();
+    let text = serde_json::to_string_pretty(&document).unwrap();
+    // The second payload would silently win in a plain JSON reader.
+    let doubled = text.replacen(
+        "\"payload_g\": 20.0",
+        "\"payload_g\": 20.0,\n    \"payload_g\": 2000.0",
+        1,
+    );
+    assert_ne!(doubled, text);
+    let dir = common::scratch_dir("check-duplicate");
+    let file = dir.join("twice.armwright.json");
+    std::fs::write(&file, doubled).unwrap();
+    let (code, out) = armwright_json(&["check", file.to_str().unwrap(), "--json"]);
+    assert_eq!(code, 1);
+    assert_eq!(out["problems"][0]["path"], json!("arm.payload_g"));
+    assert!(
+        out["problems"][0]["message"]
+            .as_str()
+            .unwrap()
+            .contains("more than once"),
+        "{out}"
+    );
+}
+
+#[test]
+fn a_sequence_of_fewer_than_two_waypoints_is_noted() {
+    // The arm alone serves pose, reach and envelope, so check passes it, but says why plan,
+    // simulate, retime and stream will refuse it.
+    for count in [0, 1] {
+        let mut document = articulated5();
+        document["waypoints"]
+            .as_array_mut()
+            .unwrap()
+            .truncate(count);
+        let file = scene_file(&format!("check-{count}-waypoints"), &document);
+        let (code, out) = armwright_json(&["check", &file, "--json"]);
+        assert_eq!(code, 0, "{count} waypoint(s)");
+        assert_eq!(out["notes"][0]["path"], json!("waypoints"));
+        let note = out["notes"][0]["message"].as_str().unwrap();
+        assert!(note.contains("at least two waypoints"), "{note}");
+        let (_, stdout, _) = armwright(&["check", &file]);
+        assert!(
+            stdout.contains("note: waypoints: the sequence needs at least two waypoints"),
+            "{stdout}"
+        );
+    }
+    let (_, out) = armwright_json(&[
+        "check",
+        &scene_file("check-2-waypoints", &articulated5()),
+        "--json",
+    ]);
+    assert_eq!(out["notes"], json!([]));
+}
+
+#[test]
+fn a_link_rate_the_link_cannot_stream_is_refused_at_link_rate_hz() {
+    let mut document = articulated5();
+    document["link"] = json!({ "rate_hz": 20.0 });
+    let (code, problems) = checked("check-rate", &document);
+    assert_eq!(code, 1);
+    assert_eq!(
+        problems,
+        [(
+            "link.rate_hz".to_string(),
+            "must be from 50 Hz to 1000 Hz, got 20 Hz".to_string()
+        )]
+    );
+}
+
+#[test]
+fn text_that_is_not_plain_json_says_what_was_found() {
+    let dir = common::scratch_dir("check-not-plain");
+    let text = serde_json::to_string_pretty(&articulated5()).unwrap();
+    let mut with_mark = vec![0xEF, 0xBB, 0xBF];
+    with_mark.extend_from_slice(text.as_bytes());
+    let mut utf16 = vec![0xFF, 0xFE];
+    for unit in text.encode_utf16() {
+        utf16.extend_from_slice(&unit.to_le_bytes());
+    }
+    let commented = format!("// my arm\n{text}");
+    let cases: [(&str, Vec<u8>, &str); 3] = [
+        ("mark", with_mark, "byte-order mark"),
+        ("utf16", utf16, "UTF-16"),
+        ("comment", commented.into_bytes(), "comment (\"//\")"),
+    ];
+    for (name, bytes, said) in cases {
+        let file = dir.join(format!("{name}.armwright.json"));
+        std::fs::write(&file, bytes).unwrap();
+        let (code, out) = armwright_json(&["check", file.to_str().unwrap(), "--json"]);
+        assert_eq!(code, 2, "{name}");
+        let error = out["error"].as_str().unwrap();
+        assert!(error.contains(said), "{name}: {error}");
+        assert!(!error.contains("expected value"), "{name}: {error}");
+    }
+}

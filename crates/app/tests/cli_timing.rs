@@ -100,12 +100,15 @@ fn plan_reports_the_cycle_and_writes_setpoints() {
             "{name}: segments end at {end}, cycle {cycle}"
         );
         assert!(report["peak_torque_use"].as_f64().unwrap() > 0.0);
-        // CSV: a header naming each joint with its unit, then rows at 200 Hz to the end.
+        // CSV: a header naming each joint with its unit and the gripper, then rows at 200 Hz to
+        // the end.
         let text = std::fs::read_to_string(&csv).expect("CSV written");
         let mut lines = text.lines();
         let header = lines.next().expect("header");
         assert!(
-            header.starts_with("time_s,") && header.contains("_deg"),
+            header.starts_with("time_s,")
+                && header.contains("_deg")
+                && header.ends_with(",gripper_closed"),
             "{header}"
         );
         let rows: Vec<Vec<f64>> = lines
@@ -114,6 +117,11 @@ fn plan_reports_the_cycle_and_writes_setpoints() {
         assert_eq!(rows[1][0] - rows[0][0], 0.005);
         assert!((rows.last().unwrap()[0] - cycle).abs() < 1e-3);
         assert_eq!(rows[0].len(), header.split(',').count());
+        assert!(
+            rows.iter()
+                .all(|row| matches!(row.last(), Some(&v) if v == 0.0 || v == 1.0)),
+            "{name}: the gripper column holds 0 or 1"
+        );
     }
 }
 

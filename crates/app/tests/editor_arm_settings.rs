@@ -144,7 +144,9 @@ fn an_invalid_value_is_listed_kept_and_not_applied() {
     // Listed on screen with its field, and the field keeps what was typed.
     assert!(
         harness
-            .query_by_label(&format!("{path}: must be above 0 mm, got -20"))
+            .query_by_label(&format!(
+                "{path}: must be above 0 mm and at most 1000 mm, got -20 mm"
+            ))
             .is_some()
     );
     assert_eq!(

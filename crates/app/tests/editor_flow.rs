@@ -9,7 +9,7 @@ use std::time::Instant;
 use armwright::editor::{
     EditorState, ReachStatus, RetimeRun, StopSource, StopState, StreamPhase, ToolsTab, ViewKind,
 };
-use armwright::scene::{build_arm, load, plan_of, sampled_poses};
+use armwright::scene::{build_arm, load, plan_of};
 use armwright_link::{DeviceMode, LinkState};
 use armwright_trajectory::CommandedMotion;
 use egui::{Key, Modifiers, vec2};
@@ -312,8 +312,8 @@ fn open_teach_retime_play_stream_stop_and_reset() {
     );
     // What goes out is the retimed sequence: one setpoint per period of its plan, sampled at
     // the scene's rate as `armwright stream` does.
-    let poses = sampled_poses(&retimed, &arm, &plan, retimed.link.rate_hz).expect("setpoints");
-    assert_eq!(harness.state().device().view().progress.1, poses.len());
+    let samples = plan.sampler(retimed.link.rate_hz).expect("setpoints");
+    assert_eq!(harness.state().device().view().progress.1, samples.len());
 
     // Emergency stop with one click on the stop button: the request reaches the link's
     // emergency-stop handle in the frame of the press.

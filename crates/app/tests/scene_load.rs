@@ -164,3 +164,42 @@ fn a_missing_file_is_a_read_error() {
     let error = load(std::path::Path::new("/no/such/dir/x.armwright.json")).unwrap_err();
     assert!(matches!(error, SceneError::Read { .. }));
 }
+
+#[test]
+fn a_key_given_twice_is_a_problem_at_its_path_with_the_others() {
+    let text = String::from_utf8(bytes(&articulated5())).unwrap();
+    // Inside the third joint's servo, and an unknown key elsewhere: both are listed.
+    let servo = text.find("\"servo\"").unwrap();
+    let servo = text[servo + 1..].find("\"servo\"").unwrap() + servo + 1;
+    let servo = text[servo + 1..].find("\"servo\"").unwrap() + servo + 1;
+    let at = text[servo..].find("\"mass_g\"").unwrap() + servo;
+    let doubled = format!("{}\"mass_g\": 1.0, {}", &text[..at], &text[at..]).replacen(
+        "\"payload_g\"",
+        "\"payload_gram\"",
+        1,
+    );
+    match load_bytes(doubled.as_bytes()) {
+        Err(SceneError::Problems { problems }) => {
+            let paths: Vec<&str> = problems.iter().map(|p| p.path.as_str()).collect();
+            assert!(
+                paths.contains(&"arm.joints[2].servo.mass_g"),
+                "{problems:?}"
+            );
+            assert!(paths.contains(&"arm.payload_gram"), "{problems:?}");
+        }
+        other => panic!("expected problems, got {other:?}"),
+    }
+}
+
+#[test]
+fn a_comment_is_named_where_it_is() {
+    let text = String::from_utf8(bytes(&articulated5())).unwrap();
+    let commented = text.replacen("\"arm\"", "/* the arm */ \"arm\"", 1);
+    match load_bytes(commented.as_bytes()) {
+        Err(SceneError::Syntax { message, line, .. }) => {
+            assert!(message.contains("comment (\"/*\")"), "{message}");
+            assert!(line >= 1);
+        }
+        other => panic!("expected a syntax error, got {other:?}"),
+    }
+}

@@ -1,5 +1,6 @@
-//! Properties of the scene file: save → load is the identity on generated valid scenes, and no
-//! input — arbitrary bytes, arbitrary JSON, or a valid scene with one part replaced by arbitrary
+//! Properties of the scene file: save → load is the identity on generated valid scenes whose
+//! numbers are written to the decimals the field table keeps, a save of any scene rounds each
+//! number to those decimals and no further, and no input — arbitrary bytes, arbitrary JSON, or a valid scene with one part replaced by arbitrary
 //! JSON — makes the loader panic.
 
 mod common;
@@ -9,10 +10,12 @@ use proptest::prelude::*;
 use serde_json::Value;
 
 /// Draws numbers from a list of uniform [0, 1) values, so that one proptest input builds a
-/// whole scene deterministically.
+/// whole scene deterministically. With `decimals` set, every drawn number is rounded to that
+/// many places (2 is within what the file keeps for every field but dwell and inertia, 1 place).
 struct Draw<'a> {
     values: &'a [f64],
     next: usize,
+    decimals: Option<i32>,
 }
 
 impl Draw<'_> {
@@ -22,7 +25,18 @@ impl Draw<'_> {
         value
     }
     fn range(&mut self, low: f64, high: f64) -> f64 {
-        low + (high - low) * self.unit()
+        self.range_to(low, high, 2)
+    }
+    /// A number from `low` to `high`, rounded to at most `places` (when rounding is on).
+    fn range_to(&mut self, low: f64, high: f64, places: i32) -> f64 {
+        let value = low + (high - low) * self.unit();
+        match self.decimals {
+            Some(decimals) => {
+                let scale = 10f64.powi(decimals.min(places));
+                ((value * scale).round() / scale).clamp(low, high)
+            }
+            None => value,
+        }
     }
     fn count(&mut self, low: usize, high: usize) -> usize {
         (low + (self.unit() * (high - low + 1) as f64) as usize).min(high)
@@ -159,9 +173,9 @@ fn joint(draw: &mut Draw, kind: JointKindDoc, index: usize) -> JointDoc {
                 let mut inertia = [0.0; 6];
                 for (i, value) in inertia.iter_mut().enumerate() {
                     *value = if i < 3 {
-                        draw.range(0.0, 5e4)
+                        draw.range_to(0.0, 5e4, 1)
                     } else {
-                        draw.range(-1e3, 1e3)
+                        draw.range_to(-1e3, 1e3, 1)
                     };
                 }
                 inertia
@@ -170,8 +184,12 @@ fn joint(draw: &mut Draw, kind: JointKindDoc, index: usize) -> JointDoc {
     }
 }
 
-fn scene(values: &[f64], description: String, port: String) -> Scene {
-    let mut draw = Draw { values, next: 0 };
+fn scene(values: &[f64], description: String, port: String, rounded: bool) -> Scene {
+    let mut draw = Draw {
+        values,
+        next: 0,
+        decimals: rounded.then_some(2),
+    };
     let shape = shape(&mut draw);
     let kinds = shape.joint_kinds();
     let joints: Vec<JointDoc> = kinds
@@ -194,7 +212,7 @@ fn scene(values: &[f64], description: String, port: String) -> Scene {
                 ProfileKind::DoubleS
             },
             speed_share_pct: draw.range(1.0, 100.0),
-            dwell_ms: draw.range(0.0, 2000.0),
+            dwell_ms: draw.range_to(0.0, 2000.0, 1),
             arrival: if draw.flip() {
                 Arrival::Stop
             } else {
@@ -275,7 +293,7 @@ fn scene(values: &[f64], description: String, port: String) -> Scene {
                 Device::Port(port)
             },
             baud: draw.pulse(1200, 1_000_000),
-            rate_hz: draw.range(1.0, 500.0),
+            rate_hz: draw.range(50.0, 500.0),
         },
     }
 }
@@ -353,7 +371,7 @@ proptest! {
         description in "\\PC{0,40}",
         port in prop_oneof![Just(String::new()), "/dev/tty[A-Z]{3}[0-9]".prop_map(String::from)],
     ) {
-        let scene = scene(&values, description, port);
+        let scene = scene(&values, description, port, true);
         prop_assert_eq!(validate(&scene), Vec::new());
         let text = to_json(&scene);
         let loaded = load_bytes(text.as_bytes());
@@ -364,6 +382,37 @@ proptest! {
         save(&scene, &path).unwrap();
         prop_assert_eq!(load(&path).unwrap(), scene);
         std::fs::remove_dir_all(dir).unwrap();
+    }
+
+    #[test]
+    fn a_save_rounds_each_number_to_its_decimals_and_no_further(
+        values in prop::collection::vec(0.0f64..1.0, 64..256),
+    ) {
+        let scene = scene(&values, "any precision".into(), String::new(), false);
+        let text = to_json(&scene);
+        let loaded = load_bytes(text.as_bytes());
+        prop_assert!(loaded.is_ok(), "{:?}\n{}", loaded, text);
+        let loaded = loaded.unwrap();
+        // Saving what was loaded writes the same text: the rounding is done once.
+        prop_assert_eq!(to_json(&loaded), text.clone());
+        // No number is written with more places than its field keeps (lengths 3, angles 4).
+        for line in text.lines() {
+            let places = line
+                .trim_end_matches(',')
+                .rsplit_once('.')
+                .filter(|(_, tail)| tail.chars().all(|c| c.is_ascii_digit()))
+                .map_or(0, |(_, tail)| tail.len());
+            prop_assert!(places <= 6, "{}", line);
+        }
+        // Each value moved by at most half a unit in its last kept place.
+        let close = |a: f64, b: f64, decimals: i32| (a - b).abs() <= 0.5 * 10f64.powi(-decimals) + 1e-12;
+        prop_assert!(close(loaded.timing.settle_band_mm, scene.timing.settle_band_mm, 3));
+        prop_assert!(close(loaded.arm.payload_g, scene.arm.payload_g, 2));
+        for (a, b) in loaded.arm.joints.iter().zip(&scene.arm.joints) {
+            prop_assert!(close(a.servo.stall_torque_ncm, b.servo.stall_torque_ncm, 2));
+            prop_assert!(close(a.servo.backlash_deg, b.servo.backlash_deg, 4));
+            prop_assert!(close(a.min, b.min, 4));
+        }
     }
 
     #[test]

@@ -101,3 +101,43 @@ fn saving_into_a_read_only_directory_keeps_the_existing_file() {
     }
     std::fs::remove_dir_all(dir).unwrap();
 }
+
+#[cfg(unix)]
+#[test]
+fn saving_over_a_file_keeps_its_permissions() {
+    use std::os::unix::fs::PermissionsExt;
+    let dir = scratch_dir("save-mode");
+    let path = dir.join("private.armwright.json");
+    let scene = load_bytes(&bytes(&articulated5())).unwrap();
+    save(&scene, &path).unwrap();
+    std::fs::set_permissions(&path, std::fs::Permissions::from_mode(0o640)).unwrap();
+    save(&scene, &path).unwrap();
+    let mode = std::fs::metadata(&path).unwrap().permissions().mode() & 0o777;
+    assert_eq!(mode, 0o640, "{mode:o}");
+    std::fs::remove_dir_all(dir).unwrap();
+}
+
+#[cfg(unix)]
+#[test]
+fn saving_through_a_symbolic_link_writes_its_target_and_keeps_the_link() {
+    let dir = scratch_dir("save-link");
+    std::fs::create_dir(dir.join("real")).unwrap();
+    let target = dir.join("real").join("arm.armwright.json");
+    std::fs::write(&target, "old").unwrap();
+    let link = dir.join("arm.armwright.json");
+    // A relative link, resolved from the link's own folder.
+    std::os::unix::fs::symlink("real/arm.armwright.json", &link).unwrap();
+    let scene = load_bytes(&bytes(&scara())).unwrap();
+    save(&scene, &link).unwrap();
+    assert!(
+        std::fs::symlink_metadata(&link)
+            .unwrap()
+            .file_type()
+            .is_symlink(),
+        "the link stays a link"
+    );
+    assert_eq!(load(&target).unwrap(), scene);
+    assert_eq!(entries(&dir.join("real")), ["arm.armwright.json"]);
+    assert_eq!(entries(&dir), ["arm.armwright.json", "real"]);
+    std::fs::remove_dir_all(dir).unwrap();
+}

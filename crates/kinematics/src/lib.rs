@@ -21,9 +21,11 @@ mod torque_use; // per-joint efforts and the share of each servo's rating they u
 
 pub use crate::accuracy::{AccuracyBudget, accuracy_budget, joint_uncertainty};
 pub use crate::arm::{
-    Arm, ArmDescription, ArmError, ArmType, ArticulatedDims, Calibration, ChainDims, DhRow,
-    Gripper, Joint, JointKind, JointPlacement, JointSpec, MAX_JOINTS, MassProperties,
-    PulseDirection, ScaraDims, ServoSpec,
+    Arm, ArmDescription, ArmError, ArmType, ArticulatedDims, Calibration, CalibrationFit,
+    CalibrationFitError, CalibrationFitOptions, CalibrationReading, ChainDims,
+    DEFAULT_PULSE_UNIT_US, DhRow, FitShape, Gripper, Joint, JointKind, JointPlacement, JointSpec,
+    MAX_JOINTS, MassProperties, PulseDirection, ScaraDims, SentPulse, ServoSpec, fit_calibration,
+    sent_pulse,
 };
 pub use crate::collision::*; // ArmShape, Obstacle, pair_distance, pose_proximities and their types
 pub use crate::dynamics::{inverse_dynamics, joint_inertia, joint_inertias};

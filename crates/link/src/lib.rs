@@ -18,6 +18,7 @@ mod estop; // emergency-stop request handle and the reset confirmation
 mod port; // transports (serial port, pty, simulated device) and port discovery
 mod protocol; // line protocol: encoder and parser for both directions, CRC, line assembly
 mod pulse; // joint position → pulse width through the calibration, rounding and clamping
+mod setpoints; // a plan's samples → device setpoints, for streaming
 mod sim_arm; // the arm as the simulated device moves it: pulses → servo model, frame by frame
 mod sim_device; // in-process simulated device with watchdog, clamping and stop latch
 mod stream; // streaming thread: schedule, flow control, stop path, link watch, statistics
@@ -35,6 +36,7 @@ pub use crate::protocol::{
 pub use crate::pulse::{
     ArmSetpoint, JointPulse, PulseError, arm_setpoint, gripper_pulse, joint_pulse,
 };
+pub use crate::setpoints::{DeviceSetpoints, SetpointError, device_setpoints};
 pub use crate::sim_arm::SimArmError;
 pub use crate::sim_device::{SimDevice, SimDeviceConfig};
 pub use crate::stream::{Link, LinkEvent, LinkState, StreamOptions, StreamStats};

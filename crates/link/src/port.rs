@@ -34,17 +34,34 @@ impl SerialTransport {
     /// Opens `path` at `baud_rate` (115 200 for the reference firmware), 8N1, no flow control.
     ///
     /// # Errors
-    /// [`LinkError::OpenPort`] with the operating system's reason.
+    /// [`LinkError::OpenPort`] with the operating system's reason, and what to do when the
+    /// reason is a refused permission.
     pub fn open(path: &str, baud_rate: u32) -> Result<Self, LinkError> {
         let timeout = Duration::from_millis(1);
         let port = serialport::new(path, baud_rate)
             .timeout(timeout)
             .open()
-            .map_err(|error| LinkError::OpenPort {
-                path: path.to_owned(),
-                reason: error.to_string(),
-            })?;
+            .map_err(|error| open_failure(path, &error))?;
         Ok(Self { port, timeout })
+    }
+}
+
+/// The error for a port that would not open: the operating system's reason, and when that is a
+/// refused permission, how to get access (serial ports on Linux belong to a group, commonly
+/// `dialout`, that the user must be in; common practice).
+fn open_failure(path: &str, error: &serialport::Error) -> LinkError {
+    let mut reason = error.to_string();
+    if error.kind() == serialport::ErrorKind::Io(io::ErrorKind::PermissionDenied) {
+        reason = format!(
+            "{reason}; your user may not use this port. On Linux, see which group owns it with \
+             `ls -l {path}` (commonly dialout, uucp on some systems), join that group with \
+             `sudo usermod -aG dialout $USER` and log out and in again, or give the port to \
+             your group with a udev rule (see docs/own-arm.md)"
+        );
+    }
+    LinkError::OpenPort {
+        path: path.to_owned(),
+        reason,
     }
 }
 
@@ -330,6 +347,38 @@ fn summarise(info: serialport::SerialPortInfo) -> PortSummary {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn a_refused_permission_says_how_to_get_access() {
+        let denied = serialport::Error::new(
+            serialport::ErrorKind::Io(io::ErrorKind::PermissionDenied),
+            "Permission denied",
+        );
+        let message = open_failure("/dev/ttyUSB0", &denied).to_string();
+        assert!(
+            message.starts_with("cannot open serial port \"/dev/ttyUSB0\": Permission denied; "),
+            "{message}"
+        );
+        for hint in [
+            "`ls -l /dev/ttyUSB0`",
+            "dialout",
+            "sudo usermod -aG dialout $USER",
+            "log out and in again",
+            "udev rule",
+            "docs/own-arm.md",
+        ] {
+            assert!(message.contains(hint), "{hint}: {message}");
+        }
+        // Any other reason is passed on as the system gave it, with no hint.
+        let missing = serialport::Error::new(
+            serialport::ErrorKind::Io(io::ErrorKind::NotFound),
+            "No such file or directory",
+        );
+        assert_eq!(
+            open_failure("/dev/ttyUSB9", &missing).to_string(),
+            "cannot open serial port \"/dev/ttyUSB9\": No such file or directory"
+        );
+    }
 
     #[test]
     fn usb_ports_are_described_with_their_ids() {

@@ -1,8 +1,10 @@
 //! Joint position → pulse width through the joint's calibration, rounded to the device's
 //! pulse unit and limited to both the servo's and the device's accepted range. The one place
-//! the link converts between joint units (rad, m) and pulse widths (µs, device units).
+//! the link converts between joint units (rad, m) and pulse widths (µs, device units); the
+//! rounding and clamping are the arm model's pulse rule ([`sent_pulse`]), which the servo model,
+//! `armwright pose` and the editor's joint controls use too.
 
-use armwright_kinematics::{Arm, Calibration, Gripper, JointKind};
+use armwright_kinematics::{Arm, Calibration, Gripper, JointKind, sent_pulse};
 
 use crate::protocol::{ChannelValues, DeviceInfo, MAX_CHANNELS};
 
@@ -70,20 +72,12 @@ fn accepted_us(device: &DeviceInfo, pulse_min_us: f64, pulse_max_us: f64) -> (f6
     }
 }
 
-/// `pulse_us` in device units, rounded to the nearest unit that stays within
-/// `low_us..=high_us`; returns the units and whether the value had to be limited.
+/// `pulse_us` in device units by the pulse rule ([`sent_pulse`]): limited to `low_us..=high_us`
+/// and rounded to the nearest whole unit inside it; returns the units and whether the value had
+/// to be limited.
 fn to_units(device: &DeviceInfo, pulse_us: f64, low_us: f64, high_us: f64) -> (u16, bool) {
-    let clamped = pulse_us < low_us || pulse_us > high_us;
-    let wanted_us = pulse_us.clamp(low_us, high_us);
-    let mut units = device.units_from_us(wanted_us);
-    // Rounding may step just outside the range when its ends are not whole units.
-    if device.us_from_units(units) > high_us + 1e-9 {
-        units = units.saturating_sub(1);
-    }
-    if device.us_from_units(units) < low_us - 1e-9 {
-        units = units.saturating_add(1);
-    }
-    (units, clamped)
+    let sent = sent_pulse(pulse_us, device.us_from_units(1), low_us, high_us);
+    (device.units_from_us(sent.pulse_us), sent.clamped)
 }
 
 /// The pulse for one joint at `position` (rad or m) through `calibration`, for `device`.

@@ -7,7 +7,6 @@ use crate::arm_limits::{LimitError, LimitSettings, limits_from_arm};
 use crate::dry_run::{CommandedMotion, WaypointTiming};
 use crate::profile::{JointLimits, JointState, ProfileShape};
 use crate::retime::{Planner, Timing};
-use crate::sample::{MAX_SAMPLE_RATE_HZ, MIN_SAMPLE_RATE_HZ};
 use crate::second_order::SecondOrder;
 use crate::sequence::{
     SegmentKind, SequenceError, SequencePlan, SequenceWaypoint, WaypointKind, plan_sequence_shaped,
@@ -71,6 +70,8 @@ pub struct TaskPlan {
     runs: Vec<ShapedRun>,
     /// One per task waypoint.
     timings: Vec<WaypointTiming>,
+    /// Whether the gripper is closed from each task waypoint on, one per task waypoint.
+    gripper_closed: Vec<bool>,
     /// Payload carried from each point of the expanded sequence on, in kg, and when (s).
     payload: Vec<f64>,
     payload_from: Vec<f64>,
@@ -160,10 +161,12 @@ pub fn plan_task(arm: &Arm, task: &Task) -> Result<TaskPlan, PlanError> {
         .collect();
     let payload_from: Vec<f64> = arrivals.iter().map(|w| w.arrival).collect();
     let timings = index_of.iter().map(|&i| arrivals[i]).collect();
+    let gripper_closed = task.waypoints.iter().map(|w| w.gripper_closed).collect();
     Ok(TaskPlan {
         plan,
         runs,
         timings,
+        gripper_closed,
         payload,
         payload_from,
         limits,
@@ -281,26 +284,14 @@ impl TaskPlan {
         self.runs.iter().filter(|run| run.growth > 0.0).count()
     }
 
-    /// Setpoints at `rate_hz` (50–1000 Hz) from the start to the end, the end included: time
-    /// (s) and every joint's position (rad or m). Follows the shaping, where the task has it.
-    ///
-    /// # Errors
-    /// [`SequenceError::RateOutOfRange`] for a rate outside 50–1000 Hz.
-    pub fn setpoints(&self, rate_hz: f64) -> Result<Vec<(f64, Vec<f64>)>, SequenceError> {
-        if !(MIN_SAMPLE_RATE_HZ..=MAX_SAMPLE_RATE_HZ).contains(&rate_hz) {
-            return Err(SequenceError::RateOutOfRange { rate_hz });
-        }
-        let duration = CommandedMotion::duration(self);
-        let steps = (duration * rate_hz).ceil() as usize;
-        let joints = self.plan.joint_count();
-        Ok((0..=steps)
-            .map(|k| {
-                let t = (k as f64 / rate_hz).min(duration);
-                let mut positions = vec![0.0; joints];
-                self.positions_at(t, &mut positions);
-                (t, positions)
-            })
-            .collect())
+    /// Whether the gripper is closed at time `t` (s): the state of the last waypoint whose
+    /// arrival is at or before `t` (the first waypoint's before it).
+    pub fn gripper_closed_at(&self, t: f64) -> bool {
+        let reached = self
+            .timings
+            .partition_point(|w| w.arrival <= t)
+            .saturating_sub(1);
+        self.gripper_closed.get(reached).copied().unwrap_or(false)
     }
 
     /// Where each waypoint falls in time.

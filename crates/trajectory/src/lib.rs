@@ -11,7 +11,8 @@
 //!
 //! # Example
 //!
-//! Plan a three-waypoint sequence for two joints and sample it at 100 Hz:
+//! Plan a three-waypoint sequence for two joints and look at where it ends (a task planned on
+//! an arm, [`plan_task`], is sampled for streaming by [`TaskPlan::sampler`]):
 //!
 //! ```
 //! use armwright_trajectory::{
@@ -29,9 +30,9 @@
 //!     waypoint(vec![1.2, 0.1], WaypointKind::Stop { dwell: 0.5 }, 1.0),
 //! ];
 //! let plan = plan_sequence(ProfileShape::DoubleS, &waypoints, &limits)?;
-//! let last = plan.sampler(100.0)?.last().expect("at least one sample");
-//! assert_eq!(last.time, plan.duration());
-//! assert_eq!(&last.positions[..2], &[1.2, 0.1]);
+//! let mut end = [0.0; 2];
+//! plan.positions_at(plan.duration(), &mut end);
+//! assert_eq!(end, [1.2, 0.1]);
 //! # Ok::<(), armwright_trajectory::SequenceError>(())
 //! ```
 #![warn(missing_docs)]
@@ -42,7 +43,7 @@ mod clearance; // the arm against obstacles and itself along a plan and along th
 mod dry_run; // a plan run through the servo model: overshoot, settling, following error
 mod profile; // one joint's move: trapezoid and double-S profiles, evaluation, stretching
 mod retime; // the fastest timing whose dry run meets an overshoot and torque target
-mod sample; // setpoints from a plan at a fixed rate (50–1000 Hz)
+mod sample; // the one sampler: a task plan at a fixed rate (50–1000 Hz) as named samples
 mod second_order; // linear second-order response: overshoot, settling time, damped frequency
 mod sequence; // waypoints → timed moves and dwells, pass-through velocities, evaluation
 mod servo_sim; // the hobby-servo model: position loop, torque-speed line, friction, backlash

@@ -6,7 +6,7 @@
 //! servo output and the link. Integration is classical fourth-order Runge–Kutta at a fixed step
 //! that divides the pulse frame, so the held pulse never changes inside a step.
 
-use armwright_kinematics::{Calibration, Joint, MAX_JOINTS};
+use armwright_kinematics::{Calibration, DEFAULT_PULSE_UNIT_US, Joint, MAX_JOINTS};
 
 /// Settings of the servo model that a scene does not carry, with defaults.
 #[derive(Debug, Clone, PartialEq)]
@@ -24,7 +24,8 @@ pub struct ServoModelOptions {
     pub friction_share: f64,
     /// Speed below which dry friction is smoothed towards zero, in rad/s (m/s). Default 0.02.
     pub friction_smoothing: f64,
-    /// Smallest pulse-width step the device makes, in µs. Default 1 µs.
+    /// Smallest pulse-width step the device makes, in µs. Default 1 µs
+    /// ([`DEFAULT_PULSE_UNIT_US`]).
     pub pulse_resolution_us: f64,
     /// Time between pulses: the servo sees a new command once per frame, in s. Default 0.02 s
     /// (the usual 50 Hz servo frame; common practice).
@@ -43,7 +44,7 @@ impl Default for ServoModelOptions {
             motor_time_constant: 0.01,
             friction_share: 0.02,
             friction_smoothing: 0.02,
-            pulse_resolution_us: 1.0,
+            pulse_resolution_us: DEFAULT_PULSE_UNIT_US,
             frame_period: 0.02,
             step: 0.001,
             settle_before: 0.5,
@@ -105,12 +106,13 @@ impl ServoModel {
         self.stall_effort * self.calibration.slope_us().abs() / self.proportional_band_us
     }
 
-    /// The pulse width the device sends for a commanded position: the calibration rounded to
-    /// the pulse resolution and clamped to the accepted range, in µs.
+    /// The pulse width the device sends for a commanded position (rad or m), in µs: the pulse
+    /// rule of the arm model ([`Calibration::sent_pulse`]) with the pulse resolution as the
+    /// device's unit.
     pub fn commanded_pulse_us(&self, position: f64) -> f64 {
-        let raw = self.calibration.pulse_us(position);
-        let steps = (raw / self.pulse_resolution_us).round() * self.pulse_resolution_us;
-        steps.clamp(self.calibration.pulse_min_us, self.calibration.pulse_max_us)
+        self.calibration
+            .sent_pulse(position, self.pulse_resolution_us)
+            .pulse_us
     }
 
     /// Undamped natural frequency of the linearised loop with `load_inertia` added, in rad/s.

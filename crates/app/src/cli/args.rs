@@ -183,6 +183,50 @@ pub enum Command {
         #[arg(long)]
         json: bool,
     },
+    /// Fit a joint's calibration to measured points: pulse widths sent, positions read.
+    ///
+    /// Each point is PULSE_US:POSITION, the pulse width in whole µs and the position read off a
+    /// protractor (degrees) or a rule (mm, for a prismatic joint) while that pulse was held. The
+    /// fit is least squares of position on pulse: a straight line, or a quadratic when four or
+    /// more points bow clearly (its term three standard errors clear of zero and bowing at
+    /// least 0.25° or 0.5 mm). Reports µs per degree (or mm), the pulse at zero, the residuals
+    /// and, for a quadratic, its term. --write saves the scene with the straight-line fit
+    /// through the measured pulse range as the joint's calibration.
+    Calibrate {
+        /// The scene file.
+        #[arg(value_name = "FILE")]
+        file: PathBuf,
+        /// The joint's name in the scene, for example "shoulder".
+        #[arg(long, value_name = "NAME")]
+        joint: String,
+        /// Measured points, at least two, comma-separated: 1000:-44.5,1500:0.5,2000:45.
+        #[arg(
+            long,
+            value_name = "PULSE_US:POSITION,...",
+            value_delimiter = ',',
+            allow_hyphen_values = true,
+            required = true,
+            value_parser = super::calibrate::parse_measured_point
+        )]
+        points: Vec<super::calibrate::MeasuredPoint>,
+        /// Save the scene with the fitted calibration here (atomically).
+        #[arg(long, value_name = "OUT.armwright.json")]
+        write: Option<PathBuf>,
+        /// Print machine-readable JSON (keys carry units) instead of text.
+        #[arg(long)]
+        json: bool,
+    },
+    /// Write a printable protractor (an SVG page in mm) for reading calibration angles.
+    ///
+    /// Print it at 100 % (actual size) and check its 100 mm bar with a rule before trusting a
+    /// reading. 0° is to the right and angles grow counter-clockwise, as a joint turns for a
+    /// positive angle when its axis points at you. Without --out the SVG goes to standard
+    /// output.
+    Protractor {
+        /// Write the SVG to this file (atomically) instead of standard output.
+        #[arg(long, value_name = "OUT.svg")]
+        out: Option<PathBuf>,
+    },
     /// List the serial ports of this computer, with USB vendor and product ids.
     Ports {
         /// Print machine-readable JSON instead of text.

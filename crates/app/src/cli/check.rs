@@ -9,7 +9,9 @@ use serde_json::{Value, json};
 
 use super::Outcome;
 use super::report::{all_rounded, load_scene, print_json, problems_json, rounded};
-use crate::scene::{JointKindDoc, Scene, SceneError, load, position_to_file_unit};
+use crate::scene::{
+    JointKindDoc, Scene, SceneError, load, position_to_file_unit, sequence_problems,
+};
 
 /// Digits kept for mm and degrees in the description (1 nm, 1e-6 °): well below anything a
 /// hobby arm can show, so a product-of-exponentials check agrees to 1e-6 mm.
@@ -30,11 +32,15 @@ pub(crate) fn run(file: &Path, json: bool) -> Outcome {
         Err(outcome) => return outcome,
     };
     let description = describe(&scene, &arm);
+    // An arm without a sequence serves pose, reach and envelope; the commands that move it say
+    // why they cannot, and check says it first.
+    let notes = sequence_problems(&scene);
     if json {
         print_json(&json!({
             "ok": true,
             "file": file.display().to_string(),
             "problems": problems_json(&[]),
+            "notes": problems_json(&notes),
             "arm": description,
         }));
     } else {
@@ -55,6 +61,9 @@ pub(crate) fn run(file: &Path, json: bool) -> Outcome {
                 position_to_file_unit(kind, joint.min),
                 position_to_file_unit(kind, joint.max),
             );
+        }
+        for note in &notes {
+            println!("note: {note}");
         }
     }
     Outcome::Done

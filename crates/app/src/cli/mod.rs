@@ -1,9 +1,9 @@
 //! The command line: `check`, `pose`, `reach`, `envelope`, `plan`, `simulate`, `retime`,
-//! `ports`, `stream`, `device-sim`.
+//! `calibrate`, `protractor`, `ports`, `stream`, `device-sim`.
 //!
 //! Naming scheme: `args.rs` declares every option (clap derive); one file per subcommand
 //! (`check.rs`, `pose.rs`, `reach.rs`, `envelope.rs`, `plan.rs`, `simulate.rs`, `retime.rs`,
-//! `ports.rs`, `stream.rs`, `device_sim.rs`); `report.rs` prints results as text or
+//! `calibrate.rs`, `protractor.rs`, `ports.rs`, `stream.rs`, `device_sim.rs`); `report.rs` prints results as text or
 //! JSON and loads the scene for a subcommand; `svg.rs` draws an envelope map.
 //!
 //! Exit status: 0 on success, 1 when the scene has problems or a target cannot be reached (for
@@ -11,13 +11,15 @@
 //! (missing file, not JSON, not a scene, newer version, bad arguments).
 
 mod args;
+mod calibrate;
 mod check;
 mod clearance;
 mod device_sim;
 mod envelope;
 mod plan;
 mod ports;
-mod pose;
+pub(crate) mod pose; // shared with the editor's joint-controls test: one pulse rule
+mod protractor;
 mod reach;
 mod report;
 mod retime;
@@ -122,6 +124,21 @@ pub fn execute(command: &Command) -> Outcome {
             };
             retime::run(file, &request, *json)
         }
+        Command::Calibrate {
+            file,
+            joint,
+            points,
+            write,
+            json,
+        } => {
+            let request = calibrate::CalibrateRequest {
+                joint,
+                points,
+                write: write.as_deref(),
+            };
+            calibrate::run(file, &request, *json)
+        }
+        Command::Protractor { out } => protractor::run(out.as_deref()),
         Command::Ports { json } => ports::run(*json),
         Command::Stream {
             file,

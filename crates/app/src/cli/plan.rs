@@ -175,12 +175,11 @@ pub(crate) fn run(file: &Path, rate_hz: f64, csv: Option<&Path>, json: bool) -> 
     }
 }
 
-/// The plan (shaped, where the scene asks) sampled at `rate_hz`: a header, then one row per sample with the time in s and
-/// each joint in degrees (mm for a prismatic joint).
+/// The plan (shaped, where the scene asks) through its sampler at `rate_hz`: a header, then one
+/// row per sample with the time in s, each joint in degrees (mm for a prismatic joint) and
+/// whether the gripper is closed (1) or open (0).
 fn setpoints_csv(scene: &Scene, plan: &TaskPlan, rate_hz: f64) -> Result<String, String> {
-    let setpoints = plan
-        .setpoints(rate_hz)
-        .map_err(|e| format!("--rate: {e}"))?;
+    let samples = plan.sampler(rate_hz).map_err(|e| format!("--rate: {e}"))?;
     let kinds = scene.arm.shape.joint_kinds();
     let mut text = String::from("time_s");
     for (joint, kind) in scene.arm.joints.iter().zip(&kinds) {
@@ -191,13 +190,13 @@ fn setpoints_csv(scene: &Scene, plan: &TaskPlan, rate_hz: f64) -> Result<String,
             kind.unit()
         );
     }
-    text.push('\n');
-    for (time, positions) in setpoints {
-        let _ = write!(text, "{time:.6}");
-        for (value, kind) in positions.iter().zip(&kinds) {
+    text.push_str(",gripper_closed\n");
+    for sample in samples {
+        let _ = write!(text, "{:.6}", sample.time);
+        for (value, kind) in sample.positions.iter().zip(&kinds) {
             let _ = write!(text, ",{:.6}", position_to_file_unit(*kind, *value));
         }
-        text.push('\n');
+        let _ = writeln!(text, ",{}", u8::from(sample.gripper_closed));
     }
     Ok(text)
 }

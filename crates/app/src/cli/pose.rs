@@ -5,8 +5,8 @@
 use std::path::Path;
 
 use armwright_kinematics::{
-    Arm, ArmType, IkTarget, JointKind, ToolAngles, accuracy_budget, gravity_torques, tool_pose,
-    torque_use,
+    Arm, ArmType, DEFAULT_PULSE_UNIT_US, IkTarget, JointKind, SentPulse, ToolAngles,
+    accuracy_budget, gravity_torques, tool_pose, torque_use,
 };
 use nalgebra::Isometry3;
 use serde_json::{Value, json};
@@ -28,7 +28,8 @@ pub(crate) struct PoseReport {
     pub(crate) torque_use: Vec<f64>,
     pub(crate) accuracy_worst_mm: f64,
     pub(crate) accuracy_rss_mm: f64,
-    pub(crate) pulse_us: Vec<f64>,
+    /// The pulse width each joint's servo is sent, by the pulse rule with a 1 µs unit.
+    pub(crate) pulse: Vec<SentPulse>,
 }
 
 /// Computes the report for a pose in SI (rad or m per joint).
@@ -59,11 +60,11 @@ pub(crate) fn evaluate(scene: &Scene, arm: &Arm, positions: &[f64]) -> Result<Po
         torque_use: shares.as_slice().to_vec(),
         accuracy_worst_mm: budget.worst * 1e3,
         accuracy_rss_mm: budget.rss * 1e3,
-        pulse_us: arm
+        pulse: arm
             .joints()
             .iter()
             .zip(positions)
-            .map(|(joint, &q)| joint.calibration.pulse_us(q))
+            .map(|(joint, &q)| joint.calibration.sent_pulse(q, DEFAULT_PULSE_UNIT_US))
             .collect(),
     })
 }
@@ -172,7 +173,8 @@ fn pose_json(scene: &Scene, arm: &Arm, report: &PoseReport) -> Value {
             "worst": rounded(report.accuracy_worst_mm, 4),
             "rss": rounded(report.accuracy_rss_mm, 4),
         },
-        "pulse_us": report.pulse_us.iter().map(|p| p.round()).collect::<Vec<_>>(),
+        "pulse_us": report.pulse.iter().map(|p| p.pulse_us).collect::<Vec<_>>(),
+        "pulse_clamped": report.pulse.iter().map(|p| p.clamped).collect::<Vec<_>>(),
     })
 }
 
@@ -189,11 +191,16 @@ fn print_text(arm: &Arm, report: &PoseReport) {
     println!("joint         torque N·cm   torque use   pulse µs");
     for (index, joint) in arm.joints().iter().enumerate() {
         println!(
-            "{:<12} {:>12.2} {:>11.1} % {:>10.0}",
+            "{:<12} {:>12.2} {:>11.1} % {:>10}{}",
             joint.name,
             report.torque_ncm[index],
             report.torque_use[index] * 100.0,
-            report.pulse_us[index].round()
+            report.pulse[index].pulse_us,
+            if report.pulse[index].clamped {
+                " (limited to the servo's range)"
+            } else {
+                ""
+            }
         );
     }
 }

@@ -9,14 +9,14 @@ use std::time::{Duration, Instant};
 
 use armwright_link::{
     Link, LinkEvent, LinkLoss, SerialTransport, SimDeviceConfig, SimTransport, StreamOptions,
-    StreamStats, Transport,
+    StreamStats, Transport, device_setpoints,
 };
 use serde_json::{Value, json};
 
 use super::Outcome;
 use super::plan::load_and_plan;
 use super::report::{fail, print_json, rounded};
-use crate::scene::{Device, Scene, device_setpoints, sampled_poses};
+use crate::scene::{Device, Scene};
 
 /// Shown before anything is sent, whether or not confirmation is asked for.
 pub(crate) const CAUTION: &str = "\
@@ -79,9 +79,16 @@ pub(crate) fn run(file: &Path, request: &StreamRequest) -> Outcome {
         Err(outcome) => return outcome,
     };
     let rate_hz = request.rate_hz.unwrap_or(scene.link.rate_hz);
-    let poses = match sampled_poses(&scene, &arm, &plan, rate_hz) {
-        Ok(poses) => poses,
-        Err(message) => return fail(json, &message, json!({}), Outcome::Unreadable),
+    let samples = match plan.sampler(rate_hz) {
+        Ok(samples) => samples,
+        Err(error) => {
+            return fail(
+                json,
+                &format!("--rate: {error}"),
+                json!({}),
+                Outcome::Unreadable,
+            );
+        }
     };
     let target = target_of(request, &scene);
     eprintln!("{CAUTION}");
@@ -106,9 +113,9 @@ pub(crate) fn run(file: &Path, request: &StreamRequest) -> Outcome {
         Ok(link) => link,
         Err(message) => return refused(json, &message),
     };
-    let converted = match device_setpoints(&arm, &poses, &link.device()) {
+    let converted = match device_setpoints(&arm, samples, &link.device()) {
         Ok(converted) => converted,
-        Err(message) => return refused(json, &message),
+        Err(error) => return refused(json, &error.to_string()),
     };
     let stop = link.emergency_stop();
     if let Err(error) = ctrlc::set_handler(move || stop.trigger()) {
@@ -119,7 +126,7 @@ pub(crate) fn run(file: &Path, request: &StreamRequest) -> Outcome {
         let message = format!("cannot start streaming: {error}");
         return refused(json, &message);
     }
-    let duration = plan.sequence().duration();
+    let duration = armwright_trajectory::CommandedMotion::duration(&plan);
     eprintln!(
         "streaming to {}: {} setpoints at {rate_hz} Hz over {duration:.2} s; Ctrl-C sends the \
          emergency stop",

@@ -14,12 +14,12 @@ use armwright_kinematics::Arm;
 use armwright_link::{
     ChannelValues, DeviceInfo, EmergencyStop, Link, LinkError, LinkEvent, PortSummary,
     ResetConfirmation, SerialTransport, SimDevice, SimDeviceConfig, SimTransport, StreamOptions,
-    StreamStats, Transport, list_ports,
+    StreamStats, Transport, device_setpoints, list_ports,
 };
-use armwright_trajectory::{ServoModelOptions, plan_task};
+use armwright_trajectory::ServoModelOptions;
 
 use super::estop::{StopLink, StopRequest};
-use crate::scene::{Device, Scene, device_setpoints, sampled_poses, task_of};
+use crate::scene::{Device, Scene, plan_of};
 
 /// Setpoints queued ahead of the device: a pause takes effect within this many periods.
 const QUEUE_AHEAD: usize = 8;
@@ -583,10 +583,14 @@ impl Worker {
             return;
         };
         self.with_view(|view| view.phase = StreamPhase::Planning);
-        let planned = plan_task(arm, &task_of(scene, arm))
+        let planned = plan_of(scene, arm)
             .map_err(|error| format!("cannot plan: {error}"))
-            .and_then(|plan| sampled_poses(scene, arm, &plan, self.rate_hz))
-            .and_then(|poses| device_setpoints(arm, &poses, &link.device()));
+            .and_then(|plan| {
+                let samples = plan
+                    .sampler(self.rate_hz)
+                    .map_err(|error| format!("link rate: {error}"))?;
+                device_setpoints(arm, samples, &link.device()).map_err(|error| error.to_string())
+            });
         let setpoints = match planned {
             Ok(setpoints) => setpoints,
             Err(message) => {

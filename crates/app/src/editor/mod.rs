@@ -427,7 +427,12 @@ impl Editor {
                 ScrollArea::vertical()
                     .id_salt("armwright joints scroll")
                     .show(ui, |ui| {
-                        let joints = panels::joint_controls(ui, &self.state);
+                        let pulse_unit_us =
+                            self.device.view().connection.as_ref().map_or(
+                                armwright_kinematics::DEFAULT_PULSE_UNIT_US,
+                                |connection| connection.info.us_from_units(1),
+                            );
+                        let joints = panels::joint_controls(ui, &self.state, pulse_unit_us);
                         ui.separator();
                         joints.then(panels::tool_point(ui, &self.state))
                     })
@@ -548,7 +553,8 @@ impl Editor {
                 });
             }
             Outside::Save { path, then_close } => {
-                let scene = self.state.scene.clone();
+                // As the file will hold it: each number at the decimals its field keeps.
+                let scene = crate::scene::as_saved(&self.state.scene);
                 self.files.spawn(ctx, move || FileResult::Saved {
                     result: crate::scene::save(&scene, &path),
                     scene: Box::new(scene),

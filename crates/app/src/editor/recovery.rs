@@ -3,7 +3,7 @@
 
 use std::path::{Path, PathBuf};
 
-use crate::scene::{Scene, SceneError, load, save};
+use crate::scene::{Scene, SceneError, load, save_unrounded};
 
 /// Where the recovery copy lives.
 #[derive(Debug, Clone)]
@@ -67,7 +67,8 @@ impl Recovery {
     pub fn write(&self, scene: &Scene, source: Option<&Path>) -> Result<(), String> {
         std::fs::create_dir_all(&self.dir)
             .map_err(|error| format!("cannot create {}: {error}", self.dir.display()))?;
-        save(scene, &self.scene_path()).map_err(|error| error.to_string())?;
+        // Every digit, so that recovering gives back exactly the unsaved work.
+        save_unrounded(scene, &self.scene_path()).map_err(|error| error.to_string())?;
         let source = source
             .map(|path| path.display().to_string())
             .unwrap_or_default();

@@ -343,6 +343,11 @@ impl EditorState {
 
     /// Records that `saved` (the scene as it was when the save started) is now in `path`.
     pub(crate) fn mark_saved(&mut self, path: PathBuf, saved: crate::scene::Scene) {
+        // The file holds each number at its field's decimals; unless the scene was edited
+        // while saving, the window takes the numbers as the file has them.
+        if crate::scene::as_saved(&self.scene) == saved {
+            self.scene = saved.clone();
+        }
         self.dirty = self.scene != saved;
         self.saved_scene = Some(saved);
         self.file_path = Some(path);

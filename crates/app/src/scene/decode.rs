@@ -8,6 +8,8 @@
 use serde_json::{Map, Value};
 
 use super::document::*;
+use super::field::{Access, Field, Presence};
+use super::field_table as table;
 use super::problem::{Problem, child, item, nearest};
 
 /// Reads the (already migrated) document. Returns every problem found.
@@ -75,46 +77,16 @@ impl<'a> Fields<'a> {
         value
     }
 
-    fn number(&mut self, key: &'static str, problems: &mut Vec<Problem>) -> f64 {
-        let path = self.at(key);
-        self.required(key, problems)
-            .map_or(0.0, |value| number(value, &path, problems))
-    }
-
-    fn number_or(&mut self, key: &'static str, default: f64, problems: &mut Vec<Problem>) -> f64 {
-        let path = self.at(key);
-        self.optional(key)
-            .map_or(default, |value| number(value, &path, problems))
-    }
-
-    fn optional_number(&mut self, key: &'static str, problems: &mut Vec<Problem>) -> Option<f64> {
-        let path = self.at(key);
-        self.optional(key)
-            .map(|value| number(value, &path, problems))
-    }
-
-    fn whole(&mut self, key: &'static str, problems: &mut Vec<Problem>) -> u32 {
-        let path = self.at(key);
-        self.required(key, problems)
-            .map_or(0, |value| whole(value, &path, problems))
-    }
-
     fn text(&mut self, key: &'static str, problems: &mut Vec<Problem>) -> String {
         let path = self.at(key);
         self.required(key, problems)
             .map_or_else(String::new, |value| text(value, &path, problems))
     }
 
-    fn triple(&mut self, key: &'static str, problems: &mut Vec<Problem>) -> [f64; 3] {
-        let path = self.at(key);
-        self.required(key, problems)
-            .map_or([0.0; 3], |value| numbers::<3>(value, &path, problems))
-    }
-
     fn word<T: Copy>(
         &mut self,
         key: &'static str,
-        choices: &[(&str, T)],
+        choices: &[(T, &str)],
         default: Option<T>,
         problems: &mut Vec<Problem>,
     ) -> Option<T> {
@@ -142,6 +114,73 @@ impl<'a> Fields<'a> {
         match self.optional(key) {
             None => &[],
             Some(value) => list(value, &path, problems),
+        }
+    }
+
+    /// Reads every row of `rows` into a blank `T` (its `Default`, which also holds the value of
+    /// a field left out); a joint's kind picks the keys that follow it.
+    fn rows<T: Default>(
+        &mut self,
+        rows: &[Field<T>],
+        kind: JointKindDoc,
+        problems: &mut Vec<Problem>,
+    ) -> T {
+        let mut out = T::default();
+        for row in rows {
+            self.row(row, kind, &mut out, problems);
+        }
+        out
+    }
+
+    /// Reads one row into `out`.
+    fn row<T>(
+        &mut self,
+        row: &Field<T>,
+        kind: JointKindDoc,
+        out: &mut T,
+        problems: &mut Vec<Problem>,
+    ) {
+        if !row.applies(kind) {
+            return;
+        }
+        let key = row.key(kind);
+        let path = self.at(key);
+        let value = match row.presence {
+            Presence::Required | Presence::PrismaticOnly => self.required(key, problems),
+            Presence::Defaulted | Presence::Optional => self.optional(key),
+        };
+        let Some(value) = value else {
+            return;
+        };
+        match row.access {
+            Access::Number(_, set) => set(out, number(value, &path, problems)),
+            Access::Whole(_, set) => set(out, whole(value, &path, problems)),
+            Access::Maybe(_, set) => set(out, Some(number(value, &path, problems))),
+            Access::List { len, set, .. } => {
+                let read = if row.decimals == 0 { whole } else { as_number };
+                let items = list(value, &path, problems);
+                if !value.is_array() {
+                    return;
+                }
+                if len != 0 && items.len() != len {
+                    let what = if row.decimals == 0 {
+                        "whole numbers"
+                    } else {
+                        "numbers"
+                    };
+                    problems.push(Problem::new(
+                        &path,
+                        format!("expected {len} {what}, found {}", items.len()),
+                    ));
+                    return;
+                }
+                let numbers: Vec<f64> = items
+                    .iter()
+                    .enumerate()
+                    .map(|(index, entry)| read(entry, &item(&path, index), problems))
+                    .collect();
+                set(out, &numbers);
+            }
         }
     }
 
@@ -187,7 +226,12 @@ fn number(value: &Value, path: &str, problems: &mut Vec<Problem>) -> f64 {
     }
 }
 
-fn whole(value: &Value, path: &str, problems: &mut Vec<Problem>) -> u32 {
+/// [`number`] with the signature of [`whole`], for lists read either way.
+fn as_number(value: &Value, path: &str, problems: &mut Vec<Problem>) -> f64 {
+    number(value, path, problems)
+}
+
+fn whole<W: From<u32>>(value: &Value, path: &str, problems: &mut Vec<Problem>) -> W {
     let as_whole = value.as_u64().or_else(|| {
         value
             .as_f64()
@@ -195,7 +239,7 @@ fn whole(value: &Value, path: &str, problems: &mut Vec<Problem>) -> u32 {
             .map(|v| v as u64)
     });
     match as_whole.and_then(|v| u32::try_from(v).ok()) {
-        Some(number) => number,
+        Some(number) => W::from(number),
         None => {
             problems.push(Problem::new(
                 path,
@@ -205,7 +249,7 @@ fn whole(value: &Value, path: &str, problems: &mut Vec<Problem>) -> u32 {
                     shown(value)
                 ),
             ));
-            0
+            W::from(0)
         }
     }
 }
@@ -236,32 +280,13 @@ fn list<'a>(value: &'a Value, path: &str, problems: &mut Vec<Problem>) -> &'a [V
     }
 }
 
-fn numbers<const N: usize>(value: &Value, path: &str, problems: &mut Vec<Problem>) -> [f64; N] {
-    let mut out = [0.0; N];
-    let items = list(value, path, problems);
-    if !items.is_empty() && items.len() != N {
-        problems.push(Problem::new(
-            path,
-            format!("expected {N} numbers, found {}", items.len()),
-        ));
-        return out;
-    }
-    if items.is_empty() && value.is_array() {
-        problems.push(Problem::new(path, format!("expected {N} numbers, found 0")));
-    }
-    for (index, entry) in items.iter().enumerate() {
-        out[index] = number(entry, &item(path, index), problems);
-    }
-    out
-}
-
 fn word<T: Copy>(
     value: &Value,
-    choices: &[(&str, T)],
+    choices: &[(T, &str)],
     path: &str,
     problems: &mut Vec<Problem>,
 ) -> Option<T> {
-    let words: Vec<&str> = choices.iter().map(|(name, _)| *name).collect();
+    let words: Vec<&str> = choices.iter().map(|(_, name)| *name).collect();
     let Some(given) = value.as_str() else {
         problems.push(Problem::new(
             path,
@@ -273,7 +298,7 @@ fn word<T: Copy>(
         ));
         return None;
     };
-    if let Some((_, found)) = choices.iter().find(|(name, _)| *name == given) {
+    if let Some((found, _)) = choices.iter().find(|(_, name)| *name == given) {
         return Some(*found);
     }
     let message = match nearest(given, &words) {
@@ -335,43 +360,36 @@ fn read_scene(root: &Value, problems: &mut Vec<Problem>) -> Option<Scene> {
     })
 }
 
-const KIND_WORDS: [(&str, JointKindDoc); 2] = [
-    ("revolute", JointKindDoc::Revolute),
-    ("prismatic", JointKindDoc::Prismatic),
-];
+/// Reads an object of `rows` only, at `path`.
+fn read_object<T: Default>(
+    value: &Value,
+    path: &str,
+    rows: &[Field<T>],
+    problems: &mut Vec<Problem>,
+) -> Option<T> {
+    let mut fields = Fields::of(value, path, problems)?;
+    let out = fields.rows(rows, JointKindDoc::Revolute, problems);
+    fields.finish(problems);
+    Some(out)
+}
 
 fn read_arm(value: &Value, path: &str, problems: &mut Vec<Problem>) -> Option<ArmDoc> {
     let mut fields = Fields::of(value, path, problems)?;
-    #[derive(Clone, Copy)]
-    enum Type {
-        Scara,
-        Articulated4,
-        Articulated5,
-        Chain,
-    }
-    let arm_type = fields.word(
-        "type",
-        &[
-            ("scara", Type::Scara),
-            ("articulated4", Type::Articulated4),
-            ("articulated5", Type::Articulated5),
-            ("chain", Type::Chain),
-        ],
-        None,
-        problems,
-    );
+    use ArmTypeWord as Type;
+    let arm_type = fields.word("type", Type::WORDS, None, problems);
+    let dimensions = child(path, "dimensions");
     let shape = match arm_type {
         Some(Type::Scara) => fields
             .required("dimensions", problems)
-            .and_then(|value| read_scara(value, &child(path, "dimensions"), problems))
+            .and_then(|value| read_object(value, &dimensions, table::scara::ROWS, problems))
             .map(ArmShape::Scara),
         Some(Type::Articulated4) => fields
             .required("dimensions", problems)
-            .and_then(|value| read_articulated(value, &child(path, "dimensions"), problems))
+            .and_then(|value| read_object(value, &dimensions, table::articulated::ROWS, problems))
             .map(ArmShape::Articulated4),
         Some(Type::Articulated5) => fields
             .required("dimensions", problems)
-            .and_then(|value| read_articulated(value, &child(path, "dimensions"), problems))
+            .and_then(|value| read_object(value, &dimensions, table::articulated::ROWS, problems))
             .map(ArmShape::Articulated5),
         Some(Type::Chain) => fields
             .required("chain", problems)
@@ -399,68 +417,31 @@ fn read_arm(value: &Value, path: &str, problems: &mut Vec<Problem>) -> Option<Ar
         .collect();
     let tool = fields
         .required("tool", problems)
-        .and_then(|value| read_tool(value, &child(path, "tool"), problems));
-    let payload_g = fields.number("payload_g", problems);
+        .and_then(|value| read_object(value, &child(path, "tool"), table::tool::ROWS, problems));
+    let mut arm = fields.rows(table::arm::ROWS, JointKindDoc::Revolute, problems);
     let gripper = match fields.optional("gripper") {
-        Some(value) => Some(read_gripper(value, &child(path, "gripper"), problems)?),
+        Some(value) => Some(read_object(
+            value,
+            &child(path, "gripper"),
+            table::gripper::ROWS,
+            problems,
+        )?),
         None => None,
     };
     fields.finish(problems);
-    Some(ArmDoc {
-        shape: shape?,
-        joints,
-        tool: tool?,
-        payload_g,
-        gripper,
-    })
-}
-
-fn read_scara(value: &Value, path: &str, problems: &mut Vec<Problem>) -> Option<ScaraSize> {
-    let mut fields = Fields::of(value, path, problems)?;
-    let size = ScaraSize {
-        base_height_mm: fields.number("base_height_mm", problems),
-        upper_arm_mm: fields.number("upper_arm_mm", problems),
-        forearm_mm: fields.number("forearm_mm", problems),
-        tool_drop_mm: fields.number("tool_drop_mm", problems),
-    };
-    fields.finish(problems);
-    Some(size)
-}
-
-fn read_articulated(
-    value: &Value,
-    path: &str,
-    problems: &mut Vec<Problem>,
-) -> Option<ArticulatedSize> {
-    let mut fields = Fields::of(value, path, problems)?;
-    let size = ArticulatedSize {
-        base_height_mm: fields.number("base_height_mm", problems),
-        upper_arm_mm: fields.number("upper_arm_mm", problems),
-        forearm_mm: fields.number("forearm_mm", problems),
-        wrist_to_tool_mm: fields.number("wrist_to_tool_mm", problems),
-    };
-    fields.finish(problems);
-    Some(size)
+    arm.shape = shape?;
+    arm.joints = joints;
+    arm.tool = tool?;
+    arm.gripper = gripper;
+    Some(arm)
 }
 
 fn read_chain(value: &Value, path: &str, problems: &mut Vec<Problem>) -> Option<ArmShape> {
     let mut fields = Fields::of(value, path, problems)?;
-    #[derive(Clone, Copy)]
-    enum Convention {
-        Dh,
-        OriginAxis,
-    }
-    let convention = fields.word(
-        "convention",
-        &[
-            ("standard_dh", Convention::Dh),
-            ("origin_axis", Convention::OriginAxis),
-        ],
-        None,
-        problems,
-    );
+    use ChainConvention as Convention;
+    let convention = fields.word("convention", Convention::WORDS, None, problems);
     let shape = match convention {
-        Some(Convention::Dh) => {
+        Some(Convention::StandardDh) => {
             let rows_path = child(path, "rows");
             let rows: Vec<DhRowDoc> = fields
                 .list("rows", problems)
@@ -468,9 +449,14 @@ fn read_chain(value: &Value, path: &str, problems: &mut Vec<Problem>) -> Option<
                 .enumerate()
                 .filter_map(|(index, value)| read_dh_row(value, &item(&rows_path, index), problems))
                 .collect();
-            let tool = fields
-                .required("tool", problems)
-                .and_then(|value| read_placement(value, &child(path, "tool"), problems));
+            let tool = fields.required("tool", problems).and_then(|value| {
+                read_object(
+                    value,
+                    &child(path, "tool"),
+                    table::placement::ROWS,
+                    problems,
+                )
+            });
             tool.map(|tool| ArmShape::ChainDh { rows, tool })
         }
         Some(Convention::OriginAxis) => {
@@ -481,9 +467,14 @@ fn read_chain(value: &Value, path: &str, problems: &mut Vec<Problem>) -> Option<
                 .enumerate()
                 .filter_map(|(index, value)| read_axis(value, &item(&axes_path, index), problems))
                 .collect();
-            let tool_home = fields
-                .required("tool_home", problems)
-                .and_then(|value| read_placement(value, &child(path, "tool_home"), problems));
+            let tool_home = fields.required("tool_home", problems).and_then(|value| {
+                read_object(
+                    value,
+                    &child(path, "tool_home"),
+                    table::placement::ROWS,
+                    problems,
+                )
+            });
             tool_home.map(|tool_home| ArmShape::ChainOriginAxis { axes, tool_home })
         }
         None => {
@@ -499,38 +490,20 @@ fn read_chain(value: &Value, path: &str, problems: &mut Vec<Problem>) -> Option<
 
 fn read_dh_row(value: &Value, path: &str, problems: &mut Vec<Problem>) -> Option<DhRowDoc> {
     let mut fields = Fields::of(value, path, problems)?;
-    let kind = fields.word("kind", &KIND_WORDS, None, problems);
-    let row = DhRowDoc {
-        kind: kind.unwrap_or(JointKindDoc::Revolute),
-        a_mm: fields.number("a_mm", problems),
-        alpha_deg: fields.number("alpha_deg", problems),
-        d_mm: fields.number("d_mm", problems),
-        theta_deg: fields.number("theta_deg", problems),
-    };
+    let kind = fields.word("kind", JointKindDoc::WORDS, None, problems);
+    let mut row: DhRowDoc = fields.rows(table::dh_row::ROWS, JointKindDoc::Revolute, problems);
     fields.finish(problems);
-    kind.map(|_| row)
+    row.kind = kind?;
+    Some(row)
 }
 
 fn read_axis(value: &Value, path: &str, problems: &mut Vec<Problem>) -> Option<AxisDoc> {
     let mut fields = Fields::of(value, path, problems)?;
-    let kind = fields.word("kind", &KIND_WORDS, None, problems);
-    let axis = AxisDoc {
-        kind: kind.unwrap_or(JointKindDoc::Revolute),
-        axis: fields.triple("axis", problems),
-        origin_mm: fields.triple("origin_mm", problems),
-    };
+    let kind = fields.word("kind", JointKindDoc::WORDS, None, problems);
+    let mut axis: AxisDoc = fields.rows(table::axis::ROWS, JointKindDoc::Revolute, problems);
     fields.finish(problems);
-    kind.map(|_| axis)
-}
-
-fn read_placement(value: &Value, path: &str, problems: &mut Vec<Problem>) -> Option<PlacementDoc> {
-    let mut fields = Fields::of(value, path, problems)?;
-    let placement = PlacementDoc {
-        position_mm: fields.triple("position_mm", problems),
-        rotation_xyz_deg: fields.triple("rotation_xyz_deg", problems),
-    };
-    fields.finish(problems);
-    Some(placement)
+    axis.kind = kind?;
+    Some(axis)
 }
 
 fn read_joint(
@@ -540,33 +513,28 @@ fn read_joint(
     problems: &mut Vec<Problem>,
 ) -> Option<JointDoc> {
     let mut fields = Fields::of(value, path, problems)?;
-    let (min_key, max_key, home_key) = match kind {
-        JointKindDoc::Revolute => ("min_deg", "max_deg", "home_deg"),
-        JointKindDoc::Prismatic => ("min_mm", "max_mm", "home_mm"),
-    };
     let name = fields.text("name", problems);
-    let min = fields.number(min_key, problems);
-    let max = fields.number(max_key, problems);
-    let home = fields.number(home_key, problems);
+    let mut joint: JointDoc = fields.rows(table::joint::ROWS, kind, problems);
     let servo = fields
         .required("servo", problems)
         .and_then(|value| read_servo(value, &child(path, "servo"), kind, problems));
     let calibration = fields
         .required("calibration", problems)
         .and_then(|value| read_calibration(value, &child(path, "calibration"), kind, problems));
-    let link = fields
-        .required("link", problems)
-        .and_then(|value| read_link_mass(value, &child(path, "link"), problems));
+    let link = fields.required("link", problems).and_then(|value| {
+        read_object(
+            value,
+            &child(path, "link"),
+            table::link_mass::ROWS,
+            problems,
+        )
+    });
     fields.finish(problems);
-    Some(JointDoc {
-        name,
-        min,
-        max,
-        home,
-        servo: servo?,
-        calibration: calibration?,
-        link: link?,
-    })
+    joint.name = name;
+    joint.servo = servo?;
+    joint.calibration = calibration?;
+    joint.link = link?;
+    Some(joint)
 }
 
 fn read_servo(
@@ -576,47 +544,31 @@ fn read_servo(
     problems: &mut Vec<Problem>,
 ) -> Option<ServoDoc> {
     let mut fields = Fields::of(value, path, problems)?;
-    let stall_torque_ncm = fields.number("stall_torque_ncm", problems);
-    let no_load_speed_deg_per_s = fields.number("no_load_speed_deg_per_s", problems);
-    let deadband_us = fields.number("deadband_us", problems);
-    let proportional_band = fields
+    let mut servo: ServoDoc = fields.rows(table::servo::ROWS, kind, problems);
+    let band = fields
         .required("proportional_band", problems)
         .and_then(|value| read_band(value, &child(path, "proportional_band"), problems));
-    let backlash_deg = fields.number("backlash_deg", problems);
-    let mass_g = fields.number("mass_g", problems);
-    let mount_offset_mm = fields.triple("mount_offset_mm", problems);
-    let pinion_radius_mm = match kind {
-        JointKindDoc::Prismatic => Some(fields.number("pinion_radius_mm", problems)),
-        JointKindDoc::Revolute => None,
-    };
     fields.finish(problems);
-    Some(ServoDoc {
-        stall_torque_ncm,
-        no_load_speed_deg_per_s,
-        deadband_us,
-        proportional_band: proportional_band?,
-        backlash_deg,
-        mass_g,
-        mount_offset_mm,
-        pinion_radius_mm,
-    })
+    servo.proportional_band = band?;
+    Some(servo)
 }
 
 fn read_band(value: &Value, path: &str, problems: &mut Vec<Problem>) -> Option<BandDoc> {
     let mut fields = Fields::of(value, path, problems)?;
-    let us = fields.optional_number("us", problems);
-    let deg = fields.optional_number("deg", problems);
+    let given = table::band::ROWS
+        .iter()
+        .filter(|row| fields.map.contains_key(row.key(JointKindDoc::Revolute)))
+        .count();
+    let band: BandDoc = fields.rows(table::band::ROWS, JointKindDoc::Revolute, problems);
     fields.finish(problems);
-    match (us, deg) {
-        (Some(us), None) => Some(BandDoc::Us(us)),
-        (None, Some(deg)) => Some(BandDoc::Deg(deg)),
-        _ => {
-            problems.push(Problem::new(
-                path,
-                "give exactly one of { \"us\": … } or { \"deg\": … }",
-            ));
-            None
-        }
+    if given == 1 {
+        Some(band)
+    } else {
+        problems.push(Problem::new(
+            path,
+            "give exactly one of { \"us\": … } or { \"deg\": … }",
+        ));
+        None
     }
 }
 
@@ -629,145 +581,57 @@ fn read_calibration(
     let mut fields = Fields::of(value, path, problems)?;
     let points_path = child(path, "points");
     let entries = fields.list("points", problems);
-    let mut points = [CalibrationPoint {
-        position: 0.0,
-        pulse_us: 0,
-    }; 2];
     let mut complete = entries.len() == 2;
-    if fields.map.contains_key("points") && entries.len() != 2 && fields.map["points"].is_array() {
+    if fields.map.get("points").is_some_and(Value::is_array) && entries.len() != 2 {
         problems.push(Problem::new(
             &points_path,
             format!("expected 2 calibration points, found {}", entries.len()),
         ));
     }
+    let mut calibration: CalibrationDoc = fields.rows(table::calibration::ROWS, kind, problems);
     for (index, entry) in entries.iter().take(2).enumerate() {
-        match read_calibration_point(entry, &item(&points_path, index), kind, problems) {
-            Some(point) => points[index] = point,
+        let point_path = item(&points_path, index);
+        let point = Fields::of(entry, &point_path, problems).map(|mut point_fields| {
+            let point = point_fields.rows(table::calibration_point::ROWS, kind, problems);
+            point_fields.finish(problems);
+            point
+        });
+        match point {
+            Some(point) => calibration.points[index] = point,
             None => complete = false,
         }
     }
-    let pulse_min_us = fields.whole("pulse_min_us", problems);
-    let pulse_max_us = fields.whole("pulse_max_us", problems);
     fields.finish(problems);
-    complete.then_some(CalibrationDoc {
-        points,
-        pulse_min_us,
-        pulse_max_us,
-    })
-}
-
-fn read_calibration_point(
-    value: &Value,
-    path: &str,
-    kind: JointKindDoc,
-    problems: &mut Vec<Problem>,
-) -> Option<CalibrationPoint> {
-    let mut fields = Fields::of(value, path, problems)?;
-    let key = match kind {
-        JointKindDoc::Revolute => "angle_deg",
-        JointKindDoc::Prismatic => "position_mm",
-    };
-    let point = CalibrationPoint {
-        position: fields.number(key, problems),
-        pulse_us: fields.whole("pulse_us", problems),
-    };
-    fields.finish(problems);
-    Some(point)
-}
-
-fn read_link_mass(value: &Value, path: &str, problems: &mut Vec<Problem>) -> Option<LinkMassDoc> {
-    let mut fields = Fields::of(value, path, problems)?;
-    let mass_g = fields.number("mass_g", problems);
-    let centre_mm = fields.triple("centre_mm", problems);
-    let inertia_path = fields.at("inertia_g_mm2");
-    let inertia_g_mm2 = fields
-        .optional("inertia_g_mm2")
-        .map(|value| numbers::<6>(value, &inertia_path, problems));
-    fields.finish(problems);
-    Some(LinkMassDoc {
-        mass_g,
-        centre_mm,
-        inertia_g_mm2,
-    })
-}
-
-fn read_tool(value: &Value, path: &str, problems: &mut Vec<Problem>) -> Option<ToolMassDoc> {
-    let mut fields = Fields::of(value, path, problems)?;
-    let tool = ToolMassDoc {
-        mass_g: fields.number("mass_g", problems),
-        centre_mm: fields.triple("centre_mm", problems),
-    };
-    fields.finish(problems);
-    Some(tool)
-}
-
-fn read_gripper(value: &Value, path: &str, problems: &mut Vec<Problem>) -> Option<GripperDoc> {
-    let mut fields = Fields::of(value, path, problems)?;
-    let gripper = GripperDoc {
-        open_pulse_us: fields.whole("open_pulse_us", problems),
-        closed_pulse_us: fields.whole("closed_pulse_us", problems),
-    };
-    fields.finish(problems);
-    Some(gripper)
+    complete.then_some(calibration)
 }
 
 fn read_waypoint(value: &Value, path: &str, problems: &mut Vec<Problem>) -> Option<Waypoint> {
     let mut fields = Fields::of(value, path, problems)?;
     let name = fields.text("name", problems);
-    let joints_path = fields.at("joints_deg_or_mm");
-    let joints_deg_or_mm = fields
-        .list("joints_deg_or_mm", problems)
-        .iter()
-        .enumerate()
-        .map(|(index, value)| number(value, &item(&joints_path, index), problems))
-        .collect();
+    let mut waypoint: Waypoint =
+        fields.rows(table::waypoint::ROWS, JointKindDoc::Revolute, problems);
     let defaults = Waypoint::default();
-    let move_kind = fields.word(
-        "move",
-        &[("joint", MoveKind::Joint), ("straight", MoveKind::Straight)],
-        Some(defaults.move_kind),
-        problems,
-    );
+    let move_kind = fields.word("move", MoveKind::WORDS, Some(defaults.move_kind), problems);
     let profile = fields.word(
         "profile",
-        &[
-            ("trapezoid", ProfileKind::Trapezoid),
-            ("double_s", ProfileKind::DoubleS),
-        ],
+        ProfileKind::WORDS,
         Some(defaults.profile),
         problems,
     );
-    let speed_share_pct = fields.number_or("speed_share_pct", defaults.speed_share_pct, problems);
-    let dwell_ms = fields.number_or("dwell_ms", defaults.dwell_ms, problems);
-    let arrival = fields.word(
-        "arrival",
-        &[
-            ("stop", Arrival::Stop),
-            ("pass_through", Arrival::PassThrough),
-        ],
-        Some(defaults.arrival),
-        problems,
-    );
+    let arrival = fields.word("arrival", Arrival::WORDS, Some(defaults.arrival), problems);
     let gripper = fields.word(
         "gripper",
-        &[
-            ("open", GripperState::Open),
-            ("closed", GripperState::Closed),
-        ],
+        GripperState::WORDS,
         Some(defaults.gripper),
         problems,
     );
     fields.finish(problems);
-    Some(Waypoint {
-        name,
-        joints_deg_or_mm,
-        move_kind: move_kind?,
-        profile: profile?,
-        speed_share_pct,
-        dwell_ms,
-        arrival: arrival?,
-        gripper: gripper?,
-    })
+    waypoint.name = name;
+    waypoint.move_kind = move_kind?;
+    waypoint.profile = profile?;
+    waypoint.arrival = arrival?;
+    waypoint.gripper = gripper?;
+    Some(waypoint)
 }
 
 fn read_timing(
@@ -777,7 +641,6 @@ fn read_timing(
     problems: &mut Vec<Problem>,
 ) -> Option<Timing> {
     let mut fields = Fields::of(value, path, problems)?;
-    let defaults = Timing::default();
     let limits_path = fields.at("joint_limits");
     let joint_limits = fields
         .optional_list("joint_limits", problems)
@@ -787,29 +650,12 @@ fn read_timing(
             read_joint_limit(value, &item(&limits_path, index), arm, problems)
         })
         .collect();
-    let timing = Timing {
-        torque_derating_pct: fields.number_or(
-            "torque_derating_pct",
-            defaults.torque_derating_pct,
-            problems,
-        ),
-        settle_band_mm: fields.number_or("settle_band_mm", defaults.settle_band_mm, problems),
-        max_overshoot_mm: fields.number_or("max_overshoot_mm", defaults.max_overshoot_mm, problems),
-        damping_ratio: fields.number_or("damping_ratio", defaults.damping_ratio, problems),
-        shaping: fields
-            .word(
-                "shaping",
-                &[
-                    ("none", Shaping::None),
-                    ("zv", Shaping::Zv),
-                    ("zvd", Shaping::Zvd),
-                ],
-                Some(defaults.shaping),
-                problems,
-            )
-            .unwrap_or(defaults.shaping),
-        joint_limits,
-    };
+    let mut timing: Timing = fields.rows(table::timing::ROWS, JointKindDoc::Revolute, problems);
+    let defaults = Timing::default();
+    timing.shaping = fields
+        .word("shaping", Shaping::WORDS, Some(defaults.shaping), problems)
+        .unwrap_or(defaults.shaping);
+    timing.joint_limits = joint_limits;
     fields.finish(problems);
     Some(timing)
 }
@@ -837,116 +683,76 @@ fn read_joint_limit(
             _ => None,
         }
     });
-    let mut read = |pick: fn((&'static str, &'static str)) -> &'static str| match kind {
-        Some(kind) => fields.optional_number(pick(JointLimitDoc::keys(kind)), problems),
+    let limit = match kind {
+        Some(kind) => fields.rows(table::joint_limit::ROWS, kind, problems),
         None => {
-            let revolute =
-                fields.optional_number(pick(JointLimitDoc::keys(JointKindDoc::Revolute)), problems);
-            let prismatic = fields
-                .optional_number(pick(JointLimitDoc::keys(JointKindDoc::Prismatic)), problems);
-            revolute.or(prismatic)
+            // Read either unit; a value under the revolute key wins.
+            let prismatic: JointLimitDoc =
+                fields.rows(table::joint_limit::ROWS, JointKindDoc::Prismatic, problems);
+            let revolute: JointLimitDoc =
+                fields.rows(table::joint_limit::ROWS, JointKindDoc::Revolute, problems);
+            JointLimitDoc {
+                joint: String::new(),
+                max_velocity_deg_or_mm_per_s: revolute
+                    .max_velocity_deg_or_mm_per_s
+                    .or(prismatic.max_velocity_deg_or_mm_per_s),
+                max_acceleration_deg_or_mm_per_s2: revolute
+                    .max_acceleration_deg_or_mm_per_s2
+                    .or(prismatic.max_acceleration_deg_or_mm_per_s2),
+            }
         }
     };
-    let max_velocity_deg_or_mm_per_s = read(|(velocity, _)| velocity);
-    let max_acceleration_deg_or_mm_per_s2 = read(|(_, acceleration)| acceleration);
     fields.finish(problems);
-    Some(JointLimitDoc {
-        joint,
-        max_velocity_deg_or_mm_per_s,
-        max_acceleration_deg_or_mm_per_s2,
-    })
+    Some(JointLimitDoc { joint, ..limit })
 }
 
 fn read_workspace(value: &Value, path: &str, problems: &mut Vec<Problem>) -> Option<Workspace> {
     let mut fields = Fields::of(value, path, problems)?;
-    let table_height_mm = fields.optional_number("table_height_mm", problems);
+    let mut workspace: Workspace =
+        fields.rows(table::workspace::ROWS, JointKindDoc::Revolute, problems);
     let boxes_path = fields.at("boxes");
-    let boxes = fields
+    workspace.boxes = fields
         .optional_list("boxes", problems)
         .iter()
         .enumerate()
         .filter_map(|(index, value)| {
             let path = item(&boxes_path, index);
             let mut fields = Fields::of(value, &path, problems)?;
-            let object = BoxDoc {
-                name: fields.text("name", problems),
-                position_mm: fields.triple("position_mm", problems),
-                size_mm: fields.triple("size_mm", problems),
-            };
+            let name = fields.text("name", problems);
+            let object: BoxDoc = fields.rows(table::boxes::ROWS, JointKindDoc::Revolute, problems);
             fields.finish(problems);
-            Some(object)
+            Some(BoxDoc { name, ..object })
         })
         .collect();
     let trays_path = fields.at("trays");
-    let trays = fields
+    workspace.trays = fields
         .optional_list("trays", problems)
         .iter()
         .enumerate()
         .filter_map(|(index, value)| {
             let path = item(&trays_path, index);
             let mut fields = Fields::of(value, &path, problems)?;
-            let pockets_path = fields.at("pockets");
-            let pockets = fields
-                .required("pockets", problems)
-                .map(|value| {
-                    let items = list(value, &pockets_path, problems);
-                    if items.len() != 2 {
-                        problems.push(Problem::new(
-                            &pockets_path,
-                            format!(
-                                "expected 2 whole numbers (along X, along Y), found {}",
-                                items.len()
-                            ),
-                        ));
-                        return [0; 2];
-                    }
-                    [
-                        whole(&items[0], &item(&pockets_path, 0), problems),
-                        whole(&items[1], &item(&pockets_path, 1), problems),
-                    ]
-                })
-                .unwrap_or([0; 2]);
-            let tray = TrayDoc {
-                name: fields.text("name", problems),
-                position_mm: fields.triple("position_mm", problems),
-                size_mm: fields.triple("size_mm", problems),
-                pockets,
-            };
+            let name = fields.text("name", problems);
+            let tray: TrayDoc = fields.rows(table::tray::ROWS, JointKindDoc::Revolute, problems);
             fields.finish(problems);
-            Some(tray)
+            Some(TrayDoc { name, ..tray })
         })
         .collect();
     fields.finish(problems);
-    Some(Workspace {
-        table_height_mm,
-        boxes,
-        trays,
-    })
+    Some(workspace)
 }
 
 fn read_link(value: &Value, path: &str, problems: &mut Vec<Problem>) -> Option<LinkSettings> {
     let mut fields = Fields::of(value, path, problems)?;
-    let defaults = LinkSettings::default();
-    let device = match fields.optional("device") {
-        None => defaults.device,
-        Some(value) => {
-            let name = text(value, &child(path, "device"), problems);
-            if name == "simulated" {
-                Device::Simulated
-            } else {
-                Device::Port(name)
-            }
-        }
-    };
-    let baud = match fields.optional("baud") {
-        None => defaults.baud,
-        Some(value) => whole(value, &child(path, "baud"), problems),
-    };
-    let rate_hz = fields.number_or("rate_hz", defaults.rate_hz, problems);
+    let mut link: LinkSettings = fields.rows(table::link::ROWS, JointKindDoc::Revolute, problems);
+    if let Some(value) = fields.optional("device") {
+        let name = text(value, &child(path, "device"), problems);
+        link.device = if name == "simulated" {
+            Device::Simulated
+        } else {
+            Device::Port(name)
+        };
+    }
     fields.finish(problems);
-    Some(LinkSettings {
-        device,
-        baud,
-        rate_hz,
-    })
+    Some(link)
 }

@@ -22,23 +22,60 @@ pub struct Scene {
 }
 
 /// Revolute or prismatic: decides whether a joint's positions are in degrees or mm.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
 pub enum JointKindDoc {
     /// Turns; positions in degrees.
+    #[default]
     Revolute,
     /// Slides; positions in mm.
     Prismatic,
 }
 
-impl JointKindDoc {
-    /// The word in the file: `revolute` or `prismatic`.
-    pub fn word(self) -> &'static str {
-        match self {
-            JointKindDoc::Revolute => "revolute",
-            JointKindDoc::Prismatic => "prismatic",
-        }
+/// An enum written in the file as one of a few words. The words sit beside each enum, once; the
+/// decoder, the encoder, the generated reference and the editor's choices all read them here.
+pub trait FileWords: Copy + PartialEq + Sized + 'static {
+    /// Every value with its word in the file, in the order they are offered.
+    const WORDS: &'static [(Self, &'static str)];
+
+    /// The word in the file.
+    fn word(self) -> &'static str {
+        Self::WORDS
+            .iter()
+            .find(|(value, _)| *value == self)
+            .map_or("", |(_, word)| *word)
     }
 
+    /// The value a word stands for; `None` for a word that is not one of [`FileWords::WORDS`].
+    fn from_word(word: &str) -> Option<Self> {
+        Self::WORDS
+            .iter()
+            .find(|(_, known)| *known == word)
+            .map(|(value, _)| *value)
+    }
+
+    /// What the editor shows for the value: the file's word unless an enum says otherwise.
+    fn label(self) -> &'static str {
+        self.word()
+    }
+
+    /// Every value with its label, in the order of [`FileWords::WORDS`], for a choice in the
+    /// editor.
+    fn choices() -> Vec<(Self, &'static str)> {
+        Self::WORDS
+            .iter()
+            .map(|(value, _)| (*value, value.label()))
+            .collect()
+    }
+}
+
+impl FileWords for JointKindDoc {
+    const WORDS: &'static [(Self, &'static str)] = &[
+        (JointKindDoc::Revolute, "revolute"),
+        (JointKindDoc::Prismatic, "prismatic"),
+    ];
+}
+
+impl JointKindDoc {
     /// The unit suffix of this kind's positions: `deg` or `mm`.
     pub fn unit(self) -> &'static str {
         match self {
@@ -49,7 +86,7 @@ impl JointKindDoc {
 }
 
 /// Sizes of a horizontal-jointed arm (SCARA type), in mm.
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Debug, Clone, PartialEq, Default)]
 pub struct ScaraSize {
     /// Height of the arm's plane above the base, in mm (0 or more).
     pub base_height_mm: f64,
@@ -62,7 +99,7 @@ pub struct ScaraSize {
 }
 
 /// Sizes of a vertical articulated arm, in mm.
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Debug, Clone, PartialEq, Default)]
 pub struct ArticulatedSize {
     /// Base to the shoulder axis, in mm (0 or more).
     pub base_height_mm: f64,
@@ -76,7 +113,7 @@ pub struct ArticulatedSize {
 
 /// A fixed placement: a shift in mm, then a turn given as angles about the fixed X, Y and Z
 /// axes in degrees, applied as Rz(z)·Ry(y)·Rx(x).
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Debug, Clone, PartialEq, Default)]
 pub struct PlacementDoc {
     /// Shift, in mm.
     pub position_mm: [f64; 3],
@@ -85,7 +122,7 @@ pub struct PlacementDoc {
 }
 
 /// One row of standard (distal) Denavit–Hartenberg parameters: Rz(θ)·Tz(d)·Tx(a)·Rx(α).
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Debug, Clone, PartialEq, Default)]
 pub struct DhRowDoc {
     /// Revolute (position adds to θ) or prismatic (position adds to d).
     pub kind: JointKindDoc,
@@ -100,7 +137,7 @@ pub struct DhRowDoc {
 }
 
 /// One joint of a chain given by its axis and a point on it, every joint at zero.
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Debug, Clone, PartialEq, Default)]
 pub struct AxisDoc {
     /// Revolute or prismatic.
     pub kind: JointKindDoc,
@@ -135,15 +172,65 @@ pub enum ArmShape {
     },
 }
 
+impl Default for ArmShape {
+    /// A blank 4-joint articulated arm, to be filled by the decoder.
+    fn default() -> ArmShape {
+        ArmShape::Articulated4(ArticulatedSize::default())
+    }
+}
+
+/// The arm's type as the file's `arm.type` names it, without its dimensions.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum ArmTypeWord {
+    /// `scara`: horizontal-jointed, `arm.dimensions` as [`ScaraSize`].
+    Scara,
+    /// `articulated4`: `arm.dimensions` as [`ArticulatedSize`].
+    Articulated4,
+    /// `articulated5`: `arm.dimensions` as [`ArticulatedSize`].
+    Articulated5,
+    /// `chain`: `arm.chain` with its convention.
+    Chain,
+}
+
+impl FileWords for ArmTypeWord {
+    const WORDS: &'static [(Self, &'static str)] = &[
+        (ArmTypeWord::Scara, "scara"),
+        (ArmTypeWord::Articulated4, "articulated4"),
+        (ArmTypeWord::Articulated5, "articulated5"),
+        (ArmTypeWord::Chain, "chain"),
+    ];
+}
+
+/// How a chain arm's geometry is given (`arm.chain.convention`).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum ChainConvention {
+    /// `standard_dh`: one standard Denavit–Hartenberg row per joint.
+    StandardDh,
+    /// `origin_axis`: each joint's axis and a point on it, every joint at zero.
+    OriginAxis,
+}
+
+impl FileWords for ChainConvention {
+    const WORDS: &'static [(Self, &'static str)] = &[
+        (ChainConvention::StandardDh, "standard_dh"),
+        (ChainConvention::OriginAxis, "origin_axis"),
+    ];
+}
+
 impl ArmShape {
+    /// The arm's type, as `arm.type` names it.
+    pub fn type_word(&self) -> ArmTypeWord {
+        match self {
+            ArmShape::Scara(_) => ArmTypeWord::Scara,
+            ArmShape::Articulated4(_) => ArmTypeWord::Articulated4,
+            ArmShape::Articulated5(_) => ArmTypeWord::Articulated5,
+            ArmShape::ChainDh { .. } | ArmShape::ChainOriginAxis { .. } => ArmTypeWord::Chain,
+        }
+    }
+
     /// The word in the file's `arm.type`.
     pub fn word(&self) -> &'static str {
-        match self {
-            ArmShape::Scara(_) => "scara",
-            ArmShape::Articulated4(_) => "articulated4",
-            ArmShape::Articulated5(_) => "articulated5",
-            ArmShape::ChainDh { .. } | ArmShape::ChainOriginAxis { .. } => "chain",
-        }
+        self.type_word().word()
     }
 
     /// The joint kinds this shape implies, base first.
@@ -169,8 +256,15 @@ pub enum BandDoc {
     Deg(f64),
 }
 
+impl Default for BandDoc {
+    /// A blank band in µs, to be filled by the decoder.
+    fn default() -> BandDoc {
+        BandDoc::Us(0.0)
+    }
+}
+
 /// A hobby servo's ratings, in the units of a datasheet.
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Debug, Clone, PartialEq, Default)]
 pub struct ServoDoc {
     /// Stall torque, in N·cm (a "20 kg·cm" servo is about 196 N·cm).
     pub stall_torque_ncm: f64,
@@ -193,7 +287,7 @@ pub struct ServoDoc {
 }
 
 /// One measured calibration point: a joint position and the pulse width that holds it.
-#[derive(Debug, Clone, Copy, PartialEq)]
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
 pub struct CalibrationPoint {
     /// Joint position, in degrees (revolute) or mm (prismatic).
     pub position: f64,
@@ -203,7 +297,7 @@ pub struct CalibrationPoint {
 
 /// The straight-line map from joint position to pulse width, through two measured points, and
 /// the pulse range the servo accepts.
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Debug, Clone, PartialEq, Default)]
 pub struct CalibrationDoc {
     /// Two measured points.
     pub points: [CalibrationPoint; 2],
@@ -214,7 +308,7 @@ pub struct CalibrationDoc {
 }
 
 /// The mass of the link a joint moves, in that joint's frame.
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Debug, Clone, PartialEq, Default)]
 pub struct LinkMassDoc {
     /// Mass, in g.
     pub mass_g: f64,
@@ -226,7 +320,7 @@ pub struct LinkMassDoc {
 }
 
 /// One movable joint.
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Debug, Clone, PartialEq, Default)]
 pub struct JointDoc {
     /// Name for reports, such as "shoulder".
     pub name: String,
@@ -245,7 +339,7 @@ pub struct JointDoc {
 }
 
 /// The tool (gripper body and its servo) as one mass, in the tool frame.
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Debug, Clone, PartialEq, Default)]
 pub struct ToolMassDoc {
     /// Mass, in g.
     pub mass_g: f64,
@@ -254,7 +348,7 @@ pub struct ToolMassDoc {
 }
 
 /// The gripper channel's two pulse widths. The gripper is not a joint.
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Debug, Clone, PartialEq, Default)]
 pub struct GripperDoc {
     /// Pulse that opens the jaws, in µs.
     pub open_pulse_us: u32,
@@ -263,7 +357,7 @@ pub struct GripperDoc {
 }
 
 /// The arm.
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Debug, Clone, PartialEq, Default)]
 pub struct ArmDoc {
     /// Type and dimensions.
     pub shape: ArmShape,
@@ -275,6 +369,54 @@ pub struct ArmDoc {
     pub payload_g: f64,
     /// The gripper channel, if any.
     pub gripper: Option<GripperDoc>,
+}
+
+impl FileWords for MoveKind {
+    const WORDS: &'static [(Self, &'static str)] =
+        &[(MoveKind::Joint, "joint"), (MoveKind::Straight, "straight")];
+}
+
+impl FileWords for ProfileKind {
+    const WORDS: &'static [(Self, &'static str)] = &[
+        (ProfileKind::Trapezoid, "trapezoid"),
+        (ProfileKind::DoubleS, "double_s"),
+    ];
+
+    fn label(self) -> &'static str {
+        match self {
+            ProfileKind::Trapezoid => "trapezoid",
+            ProfileKind::DoubleS => "double-S",
+        }
+    }
+}
+
+impl FileWords for Arrival {
+    const WORDS: &'static [(Self, &'static str)] = &[
+        (Arrival::Stop, "stop"),
+        (Arrival::PassThrough, "pass_through"),
+    ];
+
+    fn label(self) -> &'static str {
+        match self {
+            Arrival::Stop => "stop",
+            Arrival::PassThrough => "pass through",
+        }
+    }
+}
+
+impl FileWords for GripperState {
+    const WORDS: &'static [(Self, &'static str)] = &[
+        (GripperState::Open, "open"),
+        (GripperState::Closed, "closed"),
+    ];
+}
+
+impl FileWords for Shaping {
+    const WORDS: &'static [(Self, &'static str)] = &[
+        (Shaping::None, "none"),
+        (Shaping::Zv, "zv"),
+        (Shaping::Zvd, "zvd"),
+    ];
 }
 
 /// How the arm gets to a waypoint from the one before.
@@ -355,7 +497,7 @@ pub struct Timing {
 /// A user's limits for one joint, replacing those the planner takes from its servo: in deg/s
 /// and deg/s² for a revolute joint, mm/s and mm/s² for a prismatic one (the file's keys say
 /// which: `max_velocity_deg_per_s` or `max_velocity_mm_per_s`, and so on).
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Debug, Clone, PartialEq, Default)]
 pub struct JointLimitDoc {
     /// The joint's name, as in `arm.joints`.
     pub joint: String,
@@ -368,10 +510,8 @@ pub struct JointLimitDoc {
 impl JointLimitDoc {
     /// The file's keys for a joint of `kind`: velocity, then acceleration.
     pub fn keys(kind: JointKindDoc) -> (&'static str, &'static str) {
-        match kind {
-            JointKindDoc::Revolute => ("max_velocity_deg_per_s", "max_acceleration_deg_per_s2"),
-            JointKindDoc::Prismatic => ("max_velocity_mm_per_s", "max_acceleration_mm_per_s2"),
-        }
+        use super::field_table::joint_limit::{ACCELERATION, VELOCITY};
+        (VELOCITY.key(kind), ACCELERATION.key(kind))
     }
 }
 
@@ -388,7 +528,7 @@ pub enum Shaping {
 }
 
 /// A box (an obstacle or a feeder), axis-aligned in the base frame.
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Debug, Clone, PartialEq, Default)]
 pub struct BoxDoc {
     /// Name, such as "peg feeder".
     pub name: String,
@@ -399,7 +539,7 @@ pub struct BoxDoc {
 }
 
 /// A tray with a grid of pockets, axis-aligned in the base frame.
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Debug, Clone, PartialEq, Default)]
 pub struct TrayDoc {
     /// Name, such as "sorting tray".
     pub name: String,

@@ -1,37 +1,44 @@
 //! The scene document: our own versioned JSON format (`*.armwright.json`).
 //!
-//! Naming scheme: `document.rs` (the types, in the file's units), `decode.rs` (JSON → types,
+//! Naming scheme: `document.rs` (the types, in the file's units, and each enum's file words),
+//! `field.rs` (what a row of the field table holds) and `field_table.rs` (one row per number in
+//! the file: key, unit, range, decimals, meaning, label, accessor), `decode.rs` (JSON → types,
 //! collecting every problem with its JSON path), `encode.rs` (types → JSON, keys in a fixed
 //! order), `migrate.rs` (one step per older version), `validate.rs` (rules across fields),
-//! `units.rs` (the one place that turns file units into the SI arm model), `load.rs` and
+//! `duplicate_keys.rs` (a key given twice in one object), `units.rs` (the one place that turns
+//! file units into the SI arm model), `load.rs` and
 //! `save.rs` (files: read without side effects, write atomically), `problem.rs` (a located
-//! problem and the nearest-name suggestion), `task.rs` (the sequence as a trajectory task),
-//! `setpoints.rs` (the planned sequence as device setpoints).
+//! problem and the nearest-name suggestion), `task.rs` (the sequence as a trajectory task), `workcell.rs` (the workspace
+//! and arm as collision geometry, and what a pick or place leaves out).
+//! Sampling the plan is the trajectory crate's (`TaskPlan::sampler`), turning samples into
+//! device setpoints the link crate's (`device_setpoints`).
 
 mod decode;
 mod document;
+mod duplicate_keys;
 mod encode;
+pub mod field;
+pub mod field_table;
 mod load;
 mod migrate;
 mod problem;
 mod save;
-mod setpoints;
 mod task;
 mod units;
 mod validate;
 mod workcell;
 
 pub use document::{
-    ArmDoc, ArmShape, Arrival, ArticulatedSize, AxisDoc, BandDoc, BoxDoc, CalibrationDoc,
-    CalibrationPoint, Device, DhRowDoc, GripperDoc, GripperState, JointDoc, JointKindDoc,
-    JointLimitDoc, LinkMassDoc, LinkSettings, MoveKind, PlacementDoc, ProfileKind, ScaraSize,
-    Scene, ServoDoc, Shaping, Timing, ToolMassDoc, TrayDoc, Waypoint, Workspace,
+    ArmDoc, ArmShape, ArmTypeWord, Arrival, ArticulatedSize, AxisDoc, BandDoc, BoxDoc,
+    CalibrationDoc, CalibrationPoint, ChainConvention, Device, DhRowDoc, FileWords, GripperDoc,
+    GripperState, JointDoc, JointKindDoc, JointLimitDoc, LinkMassDoc, LinkSettings, MoveKind,
+    PlacementDoc, ProfileKind, ScaraSize, Scene, ServoDoc, Shaping, Timing, ToolMassDoc, TrayDoc,
+    Waypoint, Workspace,
 };
 pub use load::{load, load_bytes};
 pub use migrate::{CURRENT_VERSION, FORMAT_NAME};
 pub use problem::Problem;
-pub use save::{save, save_text, to_json};
-pub use setpoints::{DeviceSetpoints, SampledPose, device_setpoints, sampled_poses};
+pub use save::{as_saved, save, save_text, save_unrounded, to_json, to_json_unrounded};
 pub use task::{
     RetimeSettings, SceneRetime, dry_run_of, dry_run_options_of, limit_settings_of, plan_of,
     retime_scene, retime_target, servo_model_of, task_of, with_timing,
@@ -40,7 +47,7 @@ pub use units::{
     arm_description, build_arm, pose_from_file_units, pose_to_file_units, position_from_file_unit,
     position_to_file_unit, rate_from_file_unit, rate_to_file_unit,
 };
-pub use validate::validate;
+pub use validate::{sequence_problems, validate};
 pub use workcell::{arm_shape_of, exemptions_of, obstacles_of};
 
 use std::path::PathBuf;

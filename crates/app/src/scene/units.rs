@@ -8,20 +8,15 @@ use armwright_kinematics::{
 use nalgebra::{Isometry3, Matrix3, Translation3, UnitQuaternion, Vector3};
 
 use super::document::*;
+use super::field::Unit;
+use super::field_table as table;
 use super::problem::{Problem, child, item};
-
-const MM: f64 = 1e-3;
-const GRAM: f64 = 1e-3;
-/// N·cm → N·m.
-const NCM: f64 = 1e-2;
-/// g·mm² → kg·m².
-const G_MM2: f64 = 1e-9;
 
 /// A joint position in the file's unit (degrees or mm) → SI (rad or m).
 pub fn position_from_file_unit(kind: JointKindDoc, value: f64) -> f64 {
     match kind {
         JointKindDoc::Revolute => value.to_radians(),
-        JointKindDoc::Prismatic => value * MM,
+        JointKindDoc::Prismatic => value * Unit::Position.to_si(kind),
     }
 }
 
@@ -29,7 +24,7 @@ pub fn position_from_file_unit(kind: JointKindDoc, value: f64) -> f64 {
 pub fn position_to_file_unit(kind: JointKindDoc, value: f64) -> f64 {
     match kind {
         JointKindDoc::Revolute => value.to_degrees(),
-        JointKindDoc::Prismatic => value / MM,
+        JointKindDoc::Prismatic => value / Unit::Position.to_si(kind),
     }
 }
 
@@ -69,14 +64,18 @@ fn kind_at(kinds: &[JointKindDoc], index: usize) -> JointKindDoc {
     kinds.get(index).copied().unwrap_or(JointKindDoc::Revolute)
 }
 
-fn vector_mm(values: &[f64; 3]) -> Vector3<f64> {
-    Vector3::new(values[0], values[1], values[2]) * MM
+/// A row of three numbers in SI, as a vector.
+fn vector_si<T>(row: &super::field::Field<T>, doc: &T) -> Vector3<f64> {
+    let values = row.si_values(doc, JointKindDoc::Revolute);
+    let at = |index: usize| values.get(index).copied().unwrap_or(0.0);
+    Vector3::new(at(0), at(1), at(2))
 }
 
 fn placement(doc: &PlacementDoc) -> Isometry3<f64> {
-    let [x, y, z] = doc.rotation_xyz_deg.map(f64::to_radians);
+    let turn = vector_si(&table::placement::ROTATION, doc);
+    let (x, y, z) = (turn.x, turn.y, turn.z);
     Isometry3::from_parts(
-        Translation3::from(vector_mm(&doc.position_mm)),
+        Translation3::from(vector_si(&table::placement::POSITION, doc)),
         // nalgebra's from_euler_angles(roll, pitch, yaw) is Rz(yaw)·Ry(pitch)·Rx(roll).
         UnitQuaternion::from_euler_angles(x, y, z),
     )
@@ -91,23 +90,33 @@ fn kind(doc: JointKindDoc) -> JointKind {
 
 fn arm_type(shape: &ArmShape) -> ArmType {
     match shape {
-        ArmShape::Scara(size) => ArmType::Scara(ScaraDims {
-            base_height: size.base_height_mm * MM,
-            upper_arm: size.upper_arm_mm * MM,
-            forearm: size.forearm_mm * MM,
-            tool_drop: size.tool_drop_mm * MM,
-        }),
+        ArmShape::Scara(size) => {
+            use table::scara::*;
+            let si = |row: super::field::Field<ScaraSize>| row.si(size, JointKindDoc::Revolute);
+            ArmType::Scara(ScaraDims {
+                base_height: si(BASE_HEIGHT),
+                upper_arm: si(UPPER_ARM),
+                forearm: si(FOREARM),
+                tool_drop: si(TOOL_DROP),
+            })
+        }
         ArmShape::Articulated4(size) => ArmType::Articulated4(articulated(size)),
         ArmShape::Articulated5(size) => ArmType::Articulated5(articulated(size)),
         ArmShape::ChainDh { rows, tool } => ArmType::Chain(ChainDims::DenavitHartenberg {
             rows: rows
                 .iter()
-                .map(|row| DhRow {
-                    kind: kind(row.kind),
-                    a: row.a_mm * MM,
-                    alpha: row.alpha_deg.to_radians(),
-                    d: row.d_mm * MM,
-                    theta: row.theta_deg.to_radians(),
+                .map(|row| {
+                    use table::dh_row::*;
+                    let si = |field: super::field::Field<DhRowDoc>| {
+                        field.si(row, JointKindDoc::Revolute)
+                    };
+                    DhRow {
+                        kind: kind(row.kind),
+                        a: si(A),
+                        alpha: si(ALPHA),
+                        d: si(D),
+                        theta: si(THETA),
+                    }
                 })
                 .collect(),
             tool: placement(tool),
@@ -117,8 +126,8 @@ fn arm_type(shape: &ArmShape) -> ArmType {
                 .iter()
                 .map(|axis| JointPlacement {
                     kind: kind(axis.kind),
-                    axis: Vector3::new(axis.axis[0], axis.axis[1], axis.axis[2]),
-                    point: vector_mm(&axis.origin_mm),
+                    axis: vector_si(&table::axis::AXIS, axis),
+                    point: vector_si(&table::axis::ORIGIN, axis),
                 })
                 .collect(),
             tool_home: placement(tool_home),
@@ -127,11 +136,13 @@ fn arm_type(shape: &ArmShape) -> ArmType {
 }
 
 fn articulated(size: &ArticulatedSize) -> ArticulatedDims {
+    use table::articulated::*;
+    let si = |row: super::field::Field<ArticulatedSize>| row.si(size, JointKindDoc::Revolute);
     ArticulatedDims {
-        base_height: size.base_height_mm * MM,
-        upper_arm: size.upper_arm_mm * MM,
-        forearm: size.forearm_mm * MM,
-        wrist_to_tool: size.wrist_to_tool_mm * MM,
+        base_height: si(BASE_HEIGHT),
+        upper_arm: si(UPPER_ARM),
+        forearm: si(FOREARM),
+        wrist_to_tool: si(WRIST_TO_TOOL),
     }
 }
 
@@ -158,34 +169,37 @@ fn band_us(band: BandDoc, drive_ratio: f64, calibration: &Calibration) -> f64 {
 }
 
 fn joint_spec(doc: &JointDoc, kind: JointKindDoc) -> JointSpec {
+    use table::{joint, link_mass, servo};
     let calibration = calibration(&doc.calibration, kind);
     let drive_ratio = match kind {
         JointKindDoc::Revolute => 1.0,
-        JointKindDoc::Prismatic => doc.servo.pinion_radius_mm.unwrap_or(0.0) * MM,
+        JointKindDoc::Prismatic => servo::PINION_RADIUS.si(&doc.servo, kind),
     };
-    let inertia = match doc.link.inertia_g_mm2 {
-        None => Matrix3::zeros(),
-        Some([xx, yy, zz, xy, xz, yz]) => Matrix3::new(xx, xy, xz, xy, yy, yz, xz, yz, zz) * G_MM2,
+    let inertia = match link_mass::INERTIA.si_values(&doc.link, kind).as_slice() {
+        &[xx, yy, zz, xy, xz, yz] => Matrix3::new(xx, xy, xz, xy, yy, yz, xz, yz, zz),
+        _ => Matrix3::zeros(),
     };
+    // Pulse widths stay in µs in the arm model.
+    let us = |row: super::field::Field<ServoDoc>| row.value(&doc.servo).unwrap_or(0.0);
     JointSpec {
         name: doc.name.clone(),
-        min: position_from_file_unit(kind, doc.min),
-        max: position_from_file_unit(kind, doc.max),
-        home: position_from_file_unit(kind, doc.home),
+        min: joint::MIN.si(doc, kind),
+        max: joint::MAX.si(doc, kind),
+        home: joint::HOME.si(doc, kind),
         servo: ServoSpec {
-            stall_torque: doc.servo.stall_torque_ncm * NCM,
-            no_load_speed: doc.servo.no_load_speed_deg_per_s.to_radians(),
-            deadband_us: doc.servo.deadband_us,
+            stall_torque: servo::STALL_TORQUE.si(&doc.servo, kind),
+            no_load_speed: servo::NO_LOAD_SPEED.si(&doc.servo, kind),
+            deadband_us: us(servo::DEADBAND),
             proportional_band_us: band_us(doc.servo.proportional_band, drive_ratio, &calibration),
-            backlash: doc.servo.backlash_deg.to_radians(),
-            mass: doc.servo.mass_g * GRAM,
-            mount_offset: vector_mm(&doc.servo.mount_offset_mm),
+            backlash: servo::BACKLASH.si(&doc.servo, kind),
+            mass: servo::MASS.si(&doc.servo, kind),
+            mount_offset: vector_si(&servo::MOUNT_OFFSET, &doc.servo),
             drive_ratio,
         },
         calibration,
         link_mass: MassProperties {
-            mass: doc.link.mass_g * GRAM,
-            centre: vector_mm(&doc.link.centre_mm),
+            mass: link_mass::MASS.si(&doc.link, kind),
+            centre: vector_si(&link_mass::CENTRE, &doc.link),
             inertia,
         },
     }
@@ -202,8 +216,11 @@ pub fn arm_description(arm: &ArmDoc) -> ArmDescription {
             .enumerate()
             .map(|(index, joint)| joint_spec(joint, kind_at(&kinds, index)))
             .collect(),
-        tool_mass: MassProperties::point(arm.tool.mass_g * GRAM, vector_mm(&arm.tool.centre_mm)),
-        payload_mass: arm.payload_g * GRAM,
+        tool_mass: MassProperties::point(
+            table::tool::MASS.si(&arm.tool, JointKindDoc::Revolute),
+            vector_si(&table::tool::CENTRE, &arm.tool),
+        ),
+        payload_mass: table::arm::PAYLOAD.si(arm, JointKindDoc::Revolute),
         gripper: arm.gripper.as_ref().map(|gripper| Gripper {
             open_pulse_us: f64::from(gripper.open_pulse_us),
             closed_pulse_us: f64::from(gripper.closed_pulse_us),

@@ -1,16 +1,15 @@
-//! Rules across fields: ordered limits, positive masses and lengths, monotonic calibrations
-//! within the hobby-servo pulse range, waypoints and home inside the limits, a joint count that
-//! matches the arm type. Every broken rule is reported, each at its JSON path.
+//! Rules across fields: ordered limits, monotonic calibrations inside the servo's accepted
+//! pulses, waypoints and home inside the limits, a joint count that matches the arm type, limits
+//! naming real joints. Each single number's range comes from its row in the field table and is
+//! checked here in the same walk, so that every problem is reported in the order of the file,
+//! each at its JSON path.
 
 use armwright_kinematics::MAX_JOINTS;
 
 use super::document::*;
+use super::field::{Field, shown};
+use super::field_table as table;
 use super::problem::{Problem, child, item};
-
-/// Shortest pulse width a scene may use, in µs (hobby servos: common practice 500–2500 µs).
-pub const PULSE_FLOOR_US: u32 = 500;
-/// Longest pulse width a scene may use, in µs.
-pub const PULSE_CEILING_US: u32 = 2500;
 
 /// Slack when comparing a position with its limits, in the file's units (degrees or mm), so
 /// that a value written with a few decimals right at a limit counts as inside.
@@ -32,96 +31,62 @@ pub fn validate(scene: &Scene) -> Vec<Problem> {
     problems
 }
 
-fn positive(problems: &mut Vec<Problem>, path: String, value: f64, unit: &str) {
-    if !(value.is_finite() && value > 0.0) {
-        problems.push(Problem::new(
-            path,
-            format!("must be above 0 {unit}, got {value}"),
-        ));
+/// What stops a valid scene from being planned: a sequence of fewer than two waypoints has no
+/// move. Not part of [`validate`]: such a scene is a valid arm for pose, reach and the envelope,
+/// and the editor checks scenes while their sequence is still being taught; `armwright check`
+/// notes it.
+pub fn sequence_problems(scene: &Scene) -> Vec<Problem> {
+    let count = scene.waypoints.len();
+    if count >= 2 {
+        return Vec::new();
     }
+    let has = match count {
+        0 => "has none".to_string(),
+        _ => "has 1".to_string(),
+    };
+    vec![Problem::new(
+        "waypoints",
+        format!(
+            "the sequence needs at least two waypoints to make a move; it {has}, so plan, \
+             simulate, retime and stream have nothing to do"
+        ),
+    )]
 }
 
-fn non_negative(problems: &mut Vec<Problem>, path: String, value: f64, unit: &str) {
-    if !(value.is_finite() && value >= 0.0) {
-        problems.push(Problem::new(
-            path,
-            format!("must be 0 {unit} or more, got {value}"),
-        ));
-    }
-}
-
-fn finite(problems: &mut Vec<Problem>, path: String, values: &[f64]) {
-    if !values.iter().all(|v| v.is_finite()) {
-        problems.push(Problem::new(path, "every number must be finite"));
-    }
-}
-
-fn pulse_in_range(problems: &mut Vec<Problem>, path: String, pulse_us: u32) {
-    if !(PULSE_FLOOR_US..=PULSE_CEILING_US).contains(&pulse_us) {
-        problems.push(Problem::new(
-            path,
-            format!(
-                "{pulse_us} µs lies outside the hobby-servo range {PULSE_FLOOR_US}–{PULSE_CEILING_US} µs"
-            ),
-        ));
+/// Every value of `rows` in `doc` inside its range, each field at `path`.`key`.
+fn ranges<T>(
+    rows: &[Field<T>],
+    doc: &T,
+    kind: JointKindDoc,
+    path: &str,
+    problems: &mut Vec<Problem>,
+) {
+    for row in rows {
+        row.check(doc, kind, &child(path, row.key(kind)), problems);
     }
 }
 
 fn check_shape(arm: &ArmDoc, problems: &mut Vec<Problem>) {
     let dims = "arm.dimensions";
+    let revolute = JointKindDoc::Revolute;
     match &arm.shape {
-        ArmShape::Scara(size) => {
-            non_negative(
-                problems,
-                child(dims, "base_height_mm"),
-                size.base_height_mm,
-                "mm",
-            );
-            positive(
-                problems,
-                child(dims, "upper_arm_mm"),
-                size.upper_arm_mm,
-                "mm",
-            );
-            positive(problems, child(dims, "forearm_mm"), size.forearm_mm, "mm");
-            non_negative(
-                problems,
-                child(dims, "tool_drop_mm"),
-                size.tool_drop_mm,
-                "mm",
-            );
-        }
+        ArmShape::Scara(size) => ranges(table::scara::ROWS, size, revolute, dims, problems),
         ArmShape::Articulated4(size) | ArmShape::Articulated5(size) => {
-            non_negative(
-                problems,
-                child(dims, "base_height_mm"),
-                size.base_height_mm,
-                "mm",
-            );
-            positive(
-                problems,
-                child(dims, "upper_arm_mm"),
-                size.upper_arm_mm,
-                "mm",
-            );
-            positive(problems, child(dims, "forearm_mm"), size.forearm_mm, "mm");
-            non_negative(
-                problems,
-                child(dims, "wrist_to_tool_mm"),
-                size.wrist_to_tool_mm,
-                "mm",
-            );
+            ranges(table::articulated::ROWS, size, revolute, dims, problems);
         }
         ArmShape::ChainDh { rows, tool } => {
             chain_length(problems, "arm.chain.rows", rows.len());
             for (index, row) in rows.iter().enumerate() {
-                finite(
-                    problems,
-                    item("arm.chain.rows", index),
-                    &[row.a_mm, row.alpha_deg, row.d_mm, row.theta_deg],
-                );
+                let path = item("arm.chain.rows", index);
+                ranges(table::dh_row::ROWS, row, revolute, &path, problems);
             }
-            check_placement(problems, "arm.chain.tool", tool);
+            ranges(
+                table::placement::ROWS,
+                tool,
+                revolute,
+                "arm.chain.tool",
+                problems,
+            );
         }
         ArmShape::ChainOriginAxis { axes, tool_home } => {
             chain_length(problems, "arm.chain.axes", axes.len());
@@ -134,9 +99,10 @@ fn check_shape(arm: &ArmDoc, problems: &mut Vec<Problem>) {
                         "must be a direction of non-zero, finite length",
                     ));
                 }
-                finite(problems, child(&path, "origin_mm"), &axis.origin_mm);
+                ranges(table::axis::ROWS, axis, revolute, &path, problems);
             }
-            check_placement(problems, "arm.chain.tool_home", tool_home);
+            let path = "arm.chain.tool_home";
+            ranges(table::placement::ROWS, tool_home, revolute, path, problems);
         }
     }
 }
@@ -153,15 +119,6 @@ fn chain_length(problems: &mut Vec<Problem>, path: &str, count: usize) {
             format!("a chain has at most {MAX_JOINTS} joints, found {count}"),
         ));
     }
-}
-
-fn check_placement(problems: &mut Vec<Problem>, path: &str, placement: &PlacementDoc) {
-    finite(problems, child(path, "position_mm"), &placement.position_mm);
-    finite(
-        problems,
-        child(path, "rotation_xyz_deg"),
-        &placement.rotation_xyz_deg,
-    );
 }
 
 fn check_joints(arm: &ArmDoc, kinds: &[JointKindDoc], problems: &mut Vec<Problem>) {
@@ -183,10 +140,11 @@ fn check_joints(arm: &ArmDoc, kinds: &[JointKindDoc], problems: &mut Vec<Problem
             )
         } else {
             format!(
-                "a {} arm has {} joints, found {}",
+                "{} {} arm has {} joints, {} listed here",
+                article(arm.shape.word()),
                 arm.shape.word(),
                 kinds.len(),
-                arm.joints.len()
+                counted(arm.joints.len(), "is", "are")
             )
         };
         problems.push(Problem::new("arm.joints", message));
@@ -197,100 +155,87 @@ fn check_joints(arm: &ArmDoc, kinds: &[JointKindDoc], problems: &mut Vec<Problem
     }
 }
 
+/// "a" or "an" before `word`, by its first letter.
+fn article(word: &str) -> &'static str {
+    match word.chars().next() {
+        Some('a' | 'e' | 'i' | 'o' | 'u') => "an",
+        _ => "a",
+    }
+}
+
+/// "1 is" / "3 are".
+fn counted(count: usize, one: &str, many: &str) -> String {
+    format!("{count} {}", if count == 1 { one } else { many })
+}
+
 fn check_joint(joint: &JointDoc, kind: JointKindDoc, path: &str, problems: &mut Vec<Problem>) {
     let unit = kind.unit();
     let (min_key, max_key, home_key) = (
-        format!("min_{unit}"),
-        format!("max_{unit}"),
-        format!("home_{unit}"),
+        table::joint::MIN.key(kind),
+        table::joint::MAX.key(kind),
+        table::joint::HOME.key(kind),
     );
     if joint.name.trim().is_empty() {
         problems.push(Problem::new(child(path, "name"), "must not be empty"));
     }
+    ranges(table::joint::ROWS, joint, kind, path, problems);
     // Written so that NaN limits count as unordered too.
     let ordered = joint.min < joint.max;
     if !ordered {
         problems.push(Problem::new(
-            child(path, &max_key),
+            child(path, max_key),
             format!(
                 "{max_key} ({}) must be above {min_key} ({})",
-                joint.max, joint.min
+                shown(joint.max),
+                shown(joint.min)
             ),
         ));
     } else if !(joint.home >= joint.min - LIMIT_SLACK && joint.home <= joint.max + LIMIT_SLACK) {
         problems.push(Problem::new(
-            child(path, &home_key),
+            child(path, home_key),
             format!(
                 "{} {unit} lies outside the joint's limits {} to {} {unit}",
-                joint.home, joint.min, joint.max
+                shown(joint.home),
+                shown(joint.min),
+                shown(joint.max)
             ),
         ));
     }
     check_servo(&joint.servo, kind, &child(path, "servo"), problems);
     check_calibration(joint, kind, &child(path, "calibration"), problems);
     let link = child(path, "link");
-    non_negative(problems, child(&link, "mass_g"), joint.link.mass_g, "g");
-    finite(problems, child(&link, "centre_mm"), &joint.link.centre_mm);
-    if let Some(inertia) = &joint.link.inertia_g_mm2 {
-        let diagonal_ok = inertia[..3].iter().all(|v| v.is_finite() && *v >= 0.0);
-        if !diagonal_ok || !inertia.iter().all(|v| v.is_finite()) {
-            problems.push(Problem::new(
-                child(&link, "inertia_g_mm2"),
-                "Ixx, Iyy and Izz must be 0 g·mm² or more and every entry finite",
-            ));
-        }
+    ranges(table::link_mass::ROWS, &joint.link, kind, &link, problems);
+    if let Some(inertia) = &joint.link.inertia_g_mm2
+        && !inertia[..3].iter().all(|v| *v >= 0.0)
+    {
+        problems.push(Problem::new(
+            child(&link, table::link_mass::INERTIA.key(kind)),
+            "Ixx, Iyy and Izz must be 0 g·mm² or more",
+        ));
     }
 }
 
 fn check_servo(servo: &ServoDoc, kind: JointKindDoc, path: &str, problems: &mut Vec<Problem>) {
-    positive(
-        problems,
-        child(path, "stall_torque_ncm"),
-        servo.stall_torque_ncm,
-        "N·cm",
-    );
-    positive(
-        problems,
-        child(path, "no_load_speed_deg_per_s"),
-        servo.no_load_speed_deg_per_s,
-        "°/s",
-    );
-    non_negative(
-        problems,
-        child(path, "deadband_us"),
-        servo.deadband_us,
-        "µs",
-    );
+    ranges(table::servo::ROWS, servo, kind, path, problems);
     let band = child(path, "proportional_band");
-    match servo.proportional_band {
-        BandDoc::Us(us) => positive(problems, child(&band, "us"), us, "µs"),
-        BandDoc::Deg(deg) => positive(problems, child(&band, "deg"), deg, "°"),
-    }
-    non_negative(
+    ranges(
+        table::band::ROWS,
+        &servo.proportional_band,
+        kind,
+        &band,
         problems,
-        child(path, "backlash_deg"),
-        servo.backlash_deg,
-        "°",
     );
-    positive(problems, child(path, "mass_g"), servo.mass_g, "g");
-    finite(
-        problems,
-        child(path, "mount_offset_mm"),
-        &servo.mount_offset_mm,
-    );
+    let pinion = child(path, table::servo::PINION_RADIUS.key(kind));
     match (kind, servo.pinion_radius_mm) {
-        (JointKindDoc::Prismatic, Some(radius)) => {
-            positive(problems, child(path, "pinion_radius_mm"), radius, "mm");
-        }
         (JointKindDoc::Prismatic, None) => problems.push(Problem::new(
-            child(path, "pinion_radius_mm"),
+            pinion,
             "a prismatic joint's servo needs its pinion radius in mm",
         )),
         (JointKindDoc::Revolute, Some(_)) => problems.push(Problem::new(
-            child(path, "pinion_radius_mm"),
+            pinion,
             "only a prismatic joint's servo has a pinion radius",
         )),
-        (JointKindDoc::Revolute, None) => {}
+        _ => {}
     }
 }
 
@@ -302,25 +247,25 @@ fn check_calibration(
 ) {
     let calibration = &joint.calibration;
     let unit = kind.unit();
-    let position_key = match kind {
-        JointKindDoc::Revolute => "angle_deg",
-        JointKindDoc::Prismatic => "position_mm",
-    };
+    let position_key = table::calibration_point::POSITION.key(kind);
+    let pulse_key = table::calibration_point::PULSE.key(kind);
     let points = child(path, "points");
     for (index, point) in calibration.points.iter().enumerate() {
         let at = item(&points, index);
-        pulse_in_range(problems, child(&at, "pulse_us"), point.pulse_us);
-        finite(problems, child(&at, position_key), &[point.position]);
+        ranges(table::calibration_point::ROWS, point, kind, &at, problems);
     }
+    ranges(table::calibration::ROWS, calibration, kind, path, problems);
     let min = calibration.pulse_min_us;
     let max = calibration.pulse_max_us;
-    pulse_in_range(problems, child(path, "pulse_min_us"), min);
-    pulse_in_range(problems, child(path, "pulse_max_us"), max);
     let range_ok = min < max;
     if !range_ok {
+        let (min_key, max_key) = (
+            table::calibration::PULSE_MIN.key(kind),
+            table::calibration::PULSE_MAX.key(kind),
+        );
         problems.push(Problem::new(
-            child(path, "pulse_max_us"),
-            format!("pulse_max_us ({max} µs) must be above pulse_min_us ({min} µs)"),
+            child(path, max_key),
+            format!("{max_key} ({max} µs) must be above {min_key} ({min} µs)"),
         ));
     }
     let [a, b] = calibration.points;
@@ -331,14 +276,14 @@ fn check_calibration(
             child(&item(&points, 1), position_key),
             format!(
                 "the two calibration points must be at different positions (both {} {unit})",
-                a.position
+                shown(a.position)
             ),
         ));
     }
     if a.pulse_us == b.pulse_us {
         monotonic = false;
         problems.push(Problem::new(
-            child(&item(&points, 1), "pulse_us"),
+            child(&item(&points, 1), pulse_key),
             format!(
                 "the two calibration points must have different pulse widths (both {} µs), or the pulse would not follow the joint",
                 a.pulse_us
@@ -351,7 +296,7 @@ fn check_calibration(
     for (index, point) in calibration.points.iter().enumerate() {
         if point.pulse_us < min || point.pulse_us > max {
             problems.push(Problem::new(
-                child(&item(&points, index), "pulse_us"),
+                child(&item(&points, index), pulse_key),
                 format!(
                     "{} µs lies outside the servo's accepted {min}–{max} µs",
                     point.pulse_us
@@ -375,31 +320,33 @@ fn check_calibration(
             path,
             format!(
                 "the joint's limits {} to {} {unit} need pulses {low:.0}–{high:.0} µs, outside the accepted {min}–{max} µs",
-                joint.min, joint.max
+                shown(joint.min),
+                shown(joint.max)
             ),
         ));
     }
 }
 
 fn check_arm_masses(arm: &ArmDoc, problems: &mut Vec<Problem>) {
-    non_negative(problems, "arm.tool.mass_g".into(), arm.tool.mass_g, "g");
-    finite(problems, "arm.tool.centre_mm".into(), &arm.tool.centre_mm);
-    non_negative(problems, "arm.payload_g".into(), arm.payload_g, "g");
+    let revolute = JointKindDoc::Revolute;
+    ranges(table::tool::ROWS, &arm.tool, revolute, "arm.tool", problems);
+    ranges(table::arm::ROWS, arm, revolute, "arm", problems);
     if let Some(gripper) = &arm.gripper {
-        pulse_in_range(
+        ranges(
+            table::gripper::ROWS,
+            gripper,
+            revolute,
+            "arm.gripper",
             problems,
-            "arm.gripper.open_pulse_us".into(),
-            gripper.open_pulse_us,
-        );
-        pulse_in_range(
-            problems,
-            "arm.gripper.closed_pulse_us".into(),
-            gripper.closed_pulse_us,
         );
         if gripper.open_pulse_us == gripper.closed_pulse_us {
+            let (open, closed) = (
+                table::gripper::OPEN.key(revolute),
+                table::gripper::CLOSED.key(revolute),
+            );
             problems.push(Problem::new(
-                "arm.gripper.closed_pulse_us",
-                "must differ from open_pulse_us, or the gripper never moves",
+                child("arm.gripper", closed),
+                format!("must differ from {open}, or the gripper never moves"),
             ));
         }
     }
@@ -436,23 +383,24 @@ fn check_waypoints(scene: &Scene, kinds: &[JointKindDoc], problems: &mut Vec<Pro
                     problems.push(Problem::new(
                         item(&positions, j),
                         format!(
-                            "{value} {unit} lies outside {} limits {} to {} {unit}",
+                            "{} {unit} lies outside {} limits {} to {} {unit}",
+                            shown(value),
                             quoted(&joint.name),
-                            joint.min,
-                            joint.max
+                            shown(joint.min),
+                            shown(joint.max)
                         ),
                     ));
                 }
             }
         }
-        let share = waypoint.speed_share_pct;
-        if !(share > 0.0 && share <= 100.0) {
-            problems.push(Problem::new(
-                child(&path, "speed_share_pct"),
-                format!("must be above 0 % and at most 100 %, got {share}"),
-            ));
+        // Each position is checked against its joint's limits above, not the row's wide range.
+        let rows = table::waypoint::ROWS
+            .iter()
+            .filter(|row| row.key != table::waypoint::JOINTS.key);
+        for row in rows {
+            let kind = JointKindDoc::Revolute;
+            row.check(waypoint, kind, &child(&path, row.key(kind)), problems);
         }
-        non_negative(problems, child(&path, "dwell_ms"), waypoint.dwell_ms, "ms");
     }
 }
 
@@ -461,30 +409,12 @@ fn quoted(name: &str) -> String {
 }
 
 fn check_timing(timing: &Timing, problems: &mut Vec<Problem>) {
-    let derating = timing.torque_derating_pct;
-    if !(derating > 0.0 && derating <= 100.0) {
-        problems.push(Problem::new(
-            "timing.torque_derating_pct",
-            format!("must be above 0 % and at most 100 %, got {derating}"),
-        ));
-    }
-    positive(
+    ranges(
+        table::timing::ROWS,
+        timing,
+        JointKindDoc::Revolute,
+        "timing",
         problems,
-        "timing.settle_band_mm".into(),
-        timing.settle_band_mm,
-        "mm",
-    );
-    positive(
-        problems,
-        "timing.max_overshoot_mm".into(),
-        timing.max_overshoot_mm,
-        "mm",
-    );
-    positive(
-        problems,
-        "timing.damping_ratio".into(),
-        timing.damping_ratio,
-        "",
     );
 }
 
@@ -535,26 +465,14 @@ fn check_joint_limits(scene: &Scene, kinds: &[JointKindDoc], problems: &mut Vec<
                 ),
             ));
         }
-        let (velocity_key, acceleration_key) = JointLimitDoc::keys(kind);
-        let unit = kind.unit();
-        let values = [
-            (
-                velocity_key,
-                limit.max_velocity_deg_or_mm_per_s,
-                format!("{unit}/s"),
-            ),
-            (
-                acceleration_key,
-                limit.max_acceleration_deg_or_mm_per_s2,
-                format!("{unit}/s²"),
-            ),
-        ];
-        for (key, value, unit) in &values {
-            if let Some(value) = value {
-                positive(problems, child(&path, key), *value, unit);
-            }
-        }
-        if values.iter().all(|(_, value, _)| value.is_none()) {
+        let (velocity_key, acceleration_key) = (
+            table::joint_limit::VELOCITY.key(kind),
+            table::joint_limit::ACCELERATION.key(kind),
+        );
+        ranges(table::joint_limit::ROWS, limit, kind, &path, problems);
+        if limit.max_velocity_deg_or_mm_per_s.is_none()
+            && limit.max_acceleration_deg_or_mm_per_s2.is_none()
+        {
             problems.push(Problem::new(
                 path,
                 format!("give {velocity_key}, {acceleration_key} or both"),
@@ -564,39 +482,21 @@ fn check_joint_limits(scene: &Scene, kinds: &[JointKindDoc], problems: &mut Vec<
 }
 
 fn check_workspace(workspace: &Workspace, problems: &mut Vec<Problem>) {
-    if let Some(height) = workspace.table_height_mm {
-        finite(problems, "workspace.table_height_mm".into(), &[height]);
-    }
-    let objects = workspace
-        .boxes
-        .iter()
-        .enumerate()
-        .map(|(i, b)| (item("workspace.boxes", i), &b.position_mm, &b.size_mm))
-        .chain(
-            workspace
-                .trays
-                .iter()
-                .enumerate()
-                .map(|(i, t)| (item("workspace.trays", i), &t.position_mm, &t.size_mm)),
-        );
-    for (path, position, size) in objects {
-        finite(problems, child(&path, "position_mm"), position);
-        for (axis, value) in ["x", "y", "z"].iter().zip(size) {
-            if !(value.is_finite() && *value > 0.0) {
-                problems.push(Problem::new(
-                    child(&path, "size_mm"),
-                    format!("every side must be above 0 mm; {axis} is {value}"),
-                ));
-            }
-        }
+    let revolute = JointKindDoc::Revolute;
+    ranges(
+        table::workspace::ROWS,
+        workspace,
+        revolute,
+        "workspace",
+        problems,
+    );
+    for (index, object) in workspace.boxes.iter().enumerate() {
+        let path = item("workspace.boxes", index);
+        ranges(table::boxes::ROWS, object, revolute, &path, problems);
     }
     for (index, tray) in workspace.trays.iter().enumerate() {
-        if tray.pockets.contains(&0) {
-            problems.push(Problem::new(
-                child(&item("workspace.trays", index), "pockets"),
-                "a tray needs at least one pocket along X and along Y",
-            ));
-        }
+        let path = item("workspace.trays", index);
+        ranges(table::tray::ROWS, tray, revolute, &path, problems);
     }
 }
 
@@ -609,16 +509,11 @@ fn check_link(link: &LinkSettings, problems: &mut Vec<Problem>) {
             "must be \"simulated\" or a serial port path",
         ));
     }
-    if link.baud == 0 {
-        problems.push(Problem::new("link.baud", "must be above 0"));
-    }
-    if !(link.rate_hz > 0.0 && link.rate_hz <= 1000.0) {
-        problems.push(Problem::new(
-            "link.rate_hz",
-            format!(
-                "must be above 0 Hz and at most 1000 Hz, got {}",
-                link.rate_hz
-            ),
-        ));
-    }
+    ranges(
+        table::link::ROWS,
+        link,
+        JointKindDoc::Revolute,
+        "link",
+        problems,
+    );
 }

@@ -2,17 +2,23 @@
 //! the built-in arm types or by a general serial chain.
 //!
 //! Naming scheme: `joint.rs` (one movable joint), `servo.rs` (the hobby servo driving it),
-//! `calibration.rs` (joint position ↔ pulse width), `mass.rs` (mass properties),
+//! `calibration.rs` (joint position ↔ pulse width), `calibration_fit.rs` (a calibration fitted
+//! to measured points), `mass.rs` (mass properties),
 //! `arm_type.rs` (the built-in arm types and general chains, and how each places its joints).
 
 mod arm_type;
 mod calibration;
+mod calibration_fit;
 mod joint;
 mod mass;
 mod servo;
 
 pub use arm_type::{ArmType, ArticulatedDims, ChainDims, DhRow, JointPlacement, ScaraDims};
-pub use calibration::{Calibration, PulseDirection};
+pub use calibration::{Calibration, DEFAULT_PULSE_UNIT_US, PulseDirection, SentPulse, sent_pulse};
+pub use calibration_fit::{
+    CalibrationFit, CalibrationFitError, CalibrationFitOptions, CalibrationReading, FitShape,
+    fit_calibration,
+};
 pub use joint::{Joint, JointKind, JointSpec};
 pub use mass::MassProperties;
 pub use servo::ServoSpec;

@@ -9,7 +9,7 @@ use egui::{CollapsingHeader, Color32, Grid, RichText, TextEdit, Ui};
 use crate::editor::arm_form::{ArmField, ArmTypeChoice};
 use crate::editor::command::Command;
 use crate::editor::state::EditorState;
-use crate::scene::ArmShape;
+use crate::scene::{ArmShape, FileWords};
 
 /// Width of a number field, in points.
 const FIELD_WIDTH: f32 = 90.0;

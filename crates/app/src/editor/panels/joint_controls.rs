@@ -1,28 +1,31 @@
 //! Joint controls: per joint a slider and a number (degrees, or mm for a sliding joint), the
 //! pulse width from its calibration with the rounding error, the torque use; the gripper.
 
+use armwright_kinematics::{Calibration, SentPulse};
 use egui::{Color32, DragValue, RichText, Slider, Ui};
 
 use crate::editor::command::Command;
 use crate::editor::state::EditorState;
 use crate::scene::{GripperState, JointKindDoc, position_from_file_unit, position_to_file_unit};
 
-/// The pulse width (µs) for a joint position (rad or m), rounded to whole µs as a servo
-/// controller sends it, and the position error that rounding leaves, in the file's unit
+/// The pulse width sent for a joint position (rad or m) by the pulse rule
+/// ([`Calibration::sent_pulse`]: rounded to `pulse_unit_us`, the device's unit in µs, and
+/// limited to the calibrated range), and the position error it leaves, in the file's unit
 /// (degrees or mm).
-pub fn rounded_pulse(
-    calibration: &armwright_kinematics::Calibration,
+pub fn shown_pulse(
+    calibration: &Calibration,
     kind: JointKindDoc,
     position: f64,
-) -> (f64, f64) {
-    let exact = calibration.pulse_us(position);
-    let rounded = exact.round();
-    let error = calibration.position(rounded) - position;
-    (rounded, position_to_file_unit(kind, error))
+    pulse_unit_us: f64,
+) -> (SentPulse, f64) {
+    let sent = calibration.sent_pulse(position, pulse_unit_us);
+    let error = calibration.position(sent.pulse_us) - position;
+    (sent, position_to_file_unit(kind, error))
 }
 
-/// Draws the joint controls.
-pub fn joint_controls(ui: &mut Ui, state: &EditorState) -> Command {
+/// Draws the joint controls; pulse widths are rounded to `pulse_unit_us` (µs), the connected
+/// device's unit.
+pub fn joint_controls(ui: &mut Ui, state: &EditorState, pulse_unit_us: f64) -> Command {
     let mut command = Command::None;
     ui.heading("Joints");
     let Some(arm) = state.arm() else {
@@ -62,20 +65,21 @@ pub fn joint_controls(ui: &mut Ui, state: &EditorState) -> Command {
                 position: position_from_file_unit(kind, value),
             };
         }
-        let (pulse, error) = rounded_pulse(&joint.calibration, kind, position);
-        let outside =
-            pulse < joint.calibration.pulse_min_us || pulse > joint.calibration.pulse_max_us;
+        let (sent, error) = shown_pulse(&joint.calibration, kind, position, pulse_unit_us);
         let unit_short = if kind == JointKindDoc::Prismatic {
             "mm"
         } else {
             "°"
         };
-        let pulse_text = format!("pulse width {pulse:.0} µs (rounding {error:+.3}{unit_short})");
+        let pulse_text = format!(
+            "pulse width {} µs (rounding {error:+.3}{unit_short})",
+            sent.pulse_us
+        );
         ui.horizontal(|ui| {
-            if outside {
+            if sent.clamped {
                 ui.colored_label(
                     Color32::from_rgb(255, 80, 60),
-                    format!("{pulse_text} — outside the servo's range"),
+                    format!("{pulse_text} — limited to the servo's range"),
                 );
             } else {
                 ui.label(pulse_text);
@@ -126,7 +130,7 @@ pub fn joint_controls(ui: &mut Ui, state: &EditorState) -> Command {
 
 #[cfg(test)]
 mod tests {
-    use armwright_kinematics::Calibration;
+    use armwright_kinematics::DEFAULT_PULSE_UNIT_US;
     use egui_kittest::Harness;
     use egui_kittest::kittest::Queryable;
 
@@ -134,7 +138,7 @@ mod tests {
     use crate::editor::sample::sample_scene;
 
     #[test]
-    fn rounding_error_is_what_the_rounded_pulse_gives_back() {
+    fn the_shown_pulse_is_rounded_to_the_unit_and_limited_to_the_range() {
         // 1800 µs over 180°: 10 µs per degree (worked by hand).
         let calibration = Calibration {
             position_a: (-90f64).to_radians(),
@@ -144,17 +148,93 @@ mod tests {
             pulse_min_us: 500.0,
             pulse_max_us: 2500.0,
         };
-        let (pulse, error) =
-            rounded_pulse(&calibration, JointKindDoc::Revolute, 10.03f64.to_radians());
-        assert_eq!(pulse, 1600.0);
+        let (sent, error) = shown_pulse(
+            &calibration,
+            JointKindDoc::Revolute,
+            10.03f64.to_radians(),
+            DEFAULT_PULSE_UNIT_US,
+        );
+        assert_eq!((sent.pulse_us, sent.clamped), (1600.0, false));
         assert!((error - -0.03).abs() < 1e-9, "{error}");
+        // A 2 µs device unit: 1600.3 µs is sent as 1600, 0.03° short.
+        let (sent, error) = shown_pulse(
+            &calibration,
+            JointKindDoc::Revolute,
+            10.03f64.to_radians(),
+            2.0,
+        );
+        assert_eq!(sent.pulse_us, 1600.0);
+        assert!((error - -0.03).abs() < 1e-9, "{error}");
+        // 200° asks for 3500 µs: limited to the 2500 µs end, the error says how far (100°).
+        let (sent, error) = shown_pulse(
+            &calibration,
+            JointKindDoc::Revolute,
+            200f64.to_radians(),
+            DEFAULT_PULSE_UNIT_US,
+        );
+        assert_eq!((sent.pulse_us, sent.clamped), (2500.0, true));
+        assert!((error - -100.0).abs() < 1e-9, "{error}");
+    }
+
+    #[test]
+    fn joint_controls_pose_and_stream_show_and_send_the_same_pulse() {
+        use armwright_link::{SimDevice, SimDeviceConfig, device_setpoints};
+        use armwright_trajectory::Sample;
+
+        use crate::cli::pose::evaluate;
+        use crate::scene::build_arm;
+
+        let scene = sample_scene();
+        let arm = build_arm(&scene.arm).unwrap();
+        let kinds = scene.arm.shape.joint_kinds();
+        let device = SimDevice::new(SimDeviceConfig::default()).info();
+        let home: Vec<f64> = arm.joints().iter().map(|joint| joint.home).collect();
+        let (mut compared, mut clamped) = (0, 0);
+        for (index, joint) in arm.joints().iter().enumerate() {
+            // Every 0.05° (half a µs on these 10 µs/° servos) from 30° below the joint's lower
+            // limit to 30° above its upper one, so that both ends of the pulse range are met.
+            let (low, high) = (joint.min.to_degrees() - 30.0, joint.max.to_degrees() + 30.0);
+            let steps = ((high - low) / 0.05).round() as usize;
+            for step in 0..=steps {
+                let angle = (low + step as f64 * 0.05).to_radians();
+                let mut positions = home.clone();
+                positions[index] = angle;
+                let (shown, _) = shown_pulse(
+                    &joint.calibration,
+                    kinds[index],
+                    angle,
+                    DEFAULT_PULSE_UNIT_US,
+                );
+                let pose = evaluate(&scene, &arm, &positions).unwrap();
+                let sample = Sample {
+                    time: 0.0,
+                    positions,
+                    gripper_closed: false,
+                };
+                let streamed = device_setpoints(&arm, [sample], &device).unwrap();
+                let sent_us = device.us_from_units(streamed.values[0].as_slice()[index]);
+                assert_eq!(shown, pose.pulse[index], "joint {index} at {angle} rad");
+                assert_eq!(shown.pulse_us, sent_us, "joint {index} at {angle} rad");
+                assert_eq!(
+                    shown.clamped,
+                    streamed.clamped == 1,
+                    "joint {index} at {angle} rad"
+                );
+                compared += 1;
+                clamped += usize::from(shown.clamped);
+            }
+        }
+        assert!(
+            compared > 4000 && clamped > 100,
+            "{compared} angles, {clamped} clamped"
+        );
     }
 
     #[test]
     fn choosing_closed_asks_to_close_the_gripper() {
         let mut harness = Harness::new_ui_state(
             |ui, (state, commands): &mut (EditorState, Vec<Command>)| {
-                let command = joint_controls(ui, state);
+                let command = joint_controls(ui, state, DEFAULT_PULSE_UNIT_US);
                 if command != Command::None {
                     commands.push(command);
                 }

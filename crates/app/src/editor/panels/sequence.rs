@@ -5,7 +5,7 @@ use egui::{Button, ComboBox, DragValue, ScrollArea, TextEdit, Ui};
 
 use crate::editor::command::{Command, WaypointField};
 use crate::editor::state::EditorState;
-use crate::scene::{Arrival, GripperState, MoveKind, ProfileKind, Waypoint};
+use crate::scene::{Arrival, FileWords, GripperState, MoveKind, ProfileKind, Waypoint};
 
 /// Height of one waypoint row, in points.
 const ROW_HEIGHT: f32 = 24.0;
@@ -137,7 +137,7 @@ fn waypoint_row(ui: &mut Ui, index: usize, waypoint: &Waypoint, selected: bool) 
             ("move", index),
             COLUMNS[2].1,
             &mut move_kind,
-            &[(MoveKind::Joint, "joint"), (MoveKind::Straight, "straight")],
+            &MoveKind::choices(),
         );
         if move_kind != waypoint.move_kind {
             command = edit(WaypointField::MoveKind(move_kind));
@@ -148,10 +148,7 @@ fn waypoint_row(ui: &mut Ui, index: usize, waypoint: &Waypoint, selected: bool) 
             ("profile", index),
             COLUMNS[3].1,
             &mut profile,
-            &[
-                (ProfileKind::Trapezoid, "trapezoid"),
-                (ProfileKind::DoubleS, "double-S"),
-            ],
+            &ProfileKind::choices(),
         );
         if profile != waypoint.profile {
             command = edit(WaypointField::Profile(profile));
@@ -186,10 +183,7 @@ fn waypoint_row(ui: &mut Ui, index: usize, waypoint: &Waypoint, selected: bool) 
             ("arrival", index),
             COLUMNS[6].1,
             &mut arrival,
-            &[
-                (Arrival::Stop, "stop"),
-                (Arrival::PassThrough, "pass through"),
-            ],
+            &Arrival::choices(),
         );
         if arrival != waypoint.arrival {
             command = edit(WaypointField::Arrival(arrival));
@@ -200,10 +194,7 @@ fn waypoint_row(ui: &mut Ui, index: usize, waypoint: &Waypoint, selected: bool) 
             ("gripper", index),
             COLUMNS[7].1,
             &mut gripper,
-            &[
-                (GripperState::Open, "open"),
-                (GripperState::Closed, "closed"),
-            ],
+            &GripperState::choices(),
         );
         if gripper != waypoint.gripper {
             command = edit(WaypointField::Gripper(gripper));

@@ -1,0 +1,195 @@
+//! `armwright calibrate`: a joint's calibration fitted to measured points, the report, writing
+//! it into the scene, and the exit codes for bad input.
+
+mod common;
+
+use common::{armwright, armwright_json, articulated5, scene_file};
+use serde_json::Value;
+
+fn number(value: &Value) -> f64 {
+    value
+        .as_f64()
+        .unwrap_or_else(|| panic!("a number: {value}"))
+}
+
+/// Least-squares line of y on x by the textbook closed form (common practice statistics:
+/// slope = Sxy / Sxx, intercept = ȳ − slope·x̄).
+fn closed_form_line(points: &[(f64, f64)]) -> (f64, f64) {
+    let n = points.len() as f64;
+    let mean_x = points.iter().map(|p| p.0).sum::<f64>() / n;
+    let mean_y = points.iter().map(|p| p.1).sum::<f64>() / n;
+    let sxy: f64 = points.iter().map(|p| (p.0 - mean_x) * (p.1 - mean_y)).sum();
+    let sxx: f64 = points.iter().map(|p| (p.0 - mean_x).powi(2)).sum();
+    let slope = sxy / sxx;
+    (slope, mean_y - slope * mean_x)
+}
+
+const FOUR_POINTS: &str = "1000:-46.5,1300:-19,1700:17.5,2000:44";
+/// The base turns ±90° (limits of the test arm) within its accepted 900–2100 µs.
+const BASE_POINTS: &str = "1000:-88,1250:-44.5,1750:45.5,2000:89";
+
+#[test]
+fn four_points_give_the_least_squares_line() {
+    let file = scene_file("calibrate-four", &articulated5());
+    let (code, out) = armwright_json(&[
+        "calibrate",
+        &file,
+        "--joint",
+        "elbow",
+        "--points",
+        FOUR_POINTS,
+        "--json",
+    ]);
+    assert_eq!(code, 0, "{out}");
+    assert_eq!(out["shape"], "line");
+    assert_eq!(out["joint_index"], 2);
+    let points = [
+        (1000.0, -46.5),
+        (1300.0, -19.0),
+        (1700.0, 17.5),
+        (2000.0, 44.0),
+    ];
+    let (slope_deg_per_us, offset_deg) = closed_form_line(&points);
+    let per_degree = number(&out["pulse_per_deg_us"]);
+    assert!(
+        (per_degree - 1.0 / slope_deg_per_us).abs() < 1e-3,
+        "{per_degree}"
+    );
+    let at_zero = number(&out["pulse_at_zero_us"]);
+    assert!(
+        (at_zero + offset_deg / slope_deg_per_us).abs() < 0.01,
+        "{at_zero}"
+    );
+    let residuals: Vec<f64> = out["residuals_deg"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(number)
+        .collect();
+    assert_eq!(residuals.len(), 4);
+    for (residual, (pulse, angle)) in residuals.iter().zip(points) {
+        let fitted = offset_deg + slope_deg_per_us * pulse;
+        assert!((residual - (angle - fitted)).abs() < 1e-3, "{residual}");
+    }
+    assert!(out["written"].is_null());
+}
+
+#[test]
+fn write_puts_the_fitted_line_in_the_scene_and_leaves_the_input_alone() {
+    let file = scene_file("calibrate-write", &articulated5());
+    let before = std::fs::read(&file).unwrap();
+    let out = std::path::Path::new(&file).with_file_name("calibrated.armwright.json");
+    let out = out.to_string_lossy().into_owned();
+    let (code, report) = armwright_json(&[
+        "calibrate",
+        &file,
+        "--joint",
+        "base",
+        "--points",
+        BASE_POINTS,
+        "--write",
+        &out,
+        "--json",
+    ]);
+    assert_eq!(code, 0, "{report}");
+    assert_eq!(
+        std::fs::read(&file).unwrap(),
+        before,
+        "the input is untouched"
+    );
+    let (code, stdout, stderr) = armwright(&["check", &out]);
+    assert_eq!(code, 0, "{stdout}{stderr}");
+    let written: Value = serde_json::from_slice(&std::fs::read(&out).unwrap()).unwrap();
+    let points = &written["arm"]["joints"][0]["calibration"]["points"];
+    // The line is written through the ends of the measured pulse range.
+    assert_eq!(points[0]["pulse_us"], 1000);
+    assert_eq!(points[1]["pulse_us"], 2000);
+    let (slope, offset) = closed_form_line(&[
+        (1000.0, -88.0),
+        (1250.0, -44.5),
+        (1750.0, 45.5),
+        (2000.0, 89.0),
+    ]);
+    assert!((number(&points[0]["angle_deg"]) - (offset + slope * 1000.0)).abs() < 0.006);
+    assert!((number(&points[1]["angle_deg"]) - (offset + slope * 2000.0)).abs() < 0.006);
+    // The pulse range the servo accepts is kept.
+    assert_eq!(
+        written["arm"]["joints"][0]["calibration"]["pulse_min_us"],
+        900
+    );
+}
+
+#[test]
+fn clearly_bowed_points_fit_a_quadratic_and_say_how_far_the_line_is_off() {
+    let file = scene_file("calibrate-bow", &articulated5());
+    // 0.09°/µs with a 6° bow at the ends of the range.
+    let (code, out) = armwright_json(&[
+        "calibrate",
+        &file,
+        "--joint",
+        "shoulder",
+        "--points",
+        "1000:-39,1250:-21,1500:0,1750:24,2000:51",
+        "--json",
+    ]);
+    assert_eq!(code, 0, "{out}");
+    assert_eq!(out["shape"], "quadratic");
+    assert!(number(&out["max_residual_deg"]) < 1e-6, "{out}");
+    assert!(number(&out["quadratic_deg_per_us2"]) > 0.0);
+    let line_off = out["line_residuals_deg"].as_array().unwrap();
+    assert!(line_off.iter().any(|r| number(r).abs() > 1.0), "{out}");
+}
+
+#[test]
+fn bad_requests_are_named() {
+    let file = scene_file("calibrate-bad", &articulated5());
+    let (code, _, stderr) = armwright(&[
+        "calibrate",
+        &file,
+        "--joint",
+        "knee",
+        "--points",
+        FOUR_POINTS,
+    ]);
+    assert_eq!(code, 2);
+    assert!(stderr.contains("no joint is named \"knee\""), "{stderr}");
+    assert!(stderr.contains("\"elbow\""), "{stderr}");
+
+    let (code, _, stderr) =
+        armwright(&["calibrate", &file, "--joint", "elbow", "--points", "1500:0"]);
+    assert_eq!(code, 1);
+    assert!(stderr.contains("at least two points, 1 given"), "{stderr}");
+
+    let (code, _, stderr) = armwright(&[
+        "calibrate",
+        &file,
+        "--joint",
+        "elbow",
+        "--points",
+        "1500-0,2000:4",
+    ]);
+    assert_eq!(code, 2);
+    assert!(stderr.contains("PULSE_US:POSITION"), "{stderr}");
+}
+
+#[test]
+fn a_fit_that_breaks_the_scene_is_not_written() {
+    let file = scene_file("calibrate-invalid", &articulated5());
+    let out = std::path::Path::new(&file).with_file_name("never.armwright.json");
+    let out_text = out.to_string_lossy().into_owned();
+    // ±45° over 1000–2000 µs: the elbow's ±140° limits would need pulses far outside 900–2100.
+    let (code, _, stderr) = armwright(&[
+        "calibrate",
+        &file,
+        "--joint",
+        "elbow",
+        "--points",
+        FOUR_POINTS,
+        "--write",
+        &out_text,
+    ]);
+    assert_eq!(code, 1);
+    assert!(stderr.contains("nothing written"), "{stderr}");
+    assert!(stderr.contains("arm.joints[2].calibration"), "{stderr}");
+    assert!(!out.exists());
+}
