@@ -106,6 +106,22 @@ fn a_clear_scene_reports_the_clearance_worked_out_by_hand() {
         "{stdout}"
     );
 
+    // A radius given in the scene (the pen's link is the last joint's) replaces the default:
+    // 180 − 150 − 10 = 20 mm.
+    scene["arm"]["joints"][3]["link"]["radius_mm"] = json!(10.0);
+    let wider = scene_file("clearance-radius", &scene);
+    let (code, plan_wider) = armwright_json(&["plan", &wider, "--json"]);
+    assert_eq!(code, 0, "{plan_wider}");
+    assert!((plan_wider["min_clearance_mm"].as_f64().unwrap() - 20.0).abs() < 0.01);
+    scene["arm"]["joints"][3]["link"]["radius_mm"] = json!(0.0);
+    let (code, stdout, stderr) =
+        armwright(&["check", &scene_file("clearance-zero-radius", &scene)]);
+    assert_eq!(code, 1);
+    assert!(
+        format!("{stdout}{stderr}").contains("arm.joints[3].link.radius_mm"),
+        "{stdout}{stderr}"
+    );
+
     // The dry run's arm sags a little under gravity: a little less, still clear.
     let (code, run) = armwright_json(&["simulate", &file, "--json"]);
     assert_eq!(code, 0, "{run}");

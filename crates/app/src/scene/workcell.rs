@@ -14,6 +14,7 @@ use armwright_trajectory::{Exemption, grip_exemptions};
 use nalgebra::Vector3;
 
 use super::document::Scene;
+use super::field_table as table;
 use super::task::task_of;
 
 /// The scene's obstacles in the base frame, in m: the table (when it has one) first, then the
@@ -35,9 +36,26 @@ pub fn obstacles_of(scene: &Scene) -> Vec<Obstacle> {
     table.into_iter().chain(boxes).chain(trays).collect()
 }
 
-/// The arm's links as capsules, with the default radii from the servo sizes.
-pub fn arm_shape_of(_scene: &Scene, arm: &Arm) -> ArmShape {
-    ArmShape::of(arm)
+/// The arm's links as capsules: each joint's `link.radius_mm` where the scene gives one (mm →
+/// m through its field-table row), else the default from the servo sizes
+/// ([`ArmShape::of`]). A radius the table's range lets through is always usable; one that were
+/// not would keep its default.
+pub fn arm_shape_of(scene: &Scene, arm: &Arm) -> ArmShape {
+    let row = &table::link_mass::RADIUS;
+    let kinds = scene.arm.shape.joint_kinds();
+    scene.arm.joints.iter().zip(kinds).enumerate().fold(
+        ArmShape::of(arm),
+        |shape, (joint, (doc, kind))| {
+            if row.value(&doc.link).is_none() {
+                return shape;
+            }
+            let radius = row.si(&doc.link, kind);
+            shape
+                .clone()
+                .with_radius(arm, joint, radius)
+                .unwrap_or(shape)
+        },
+    )
 }
 
 /// The pairs the scene's picks and places leave out (see the module's note).
