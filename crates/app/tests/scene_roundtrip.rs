@@ -180,6 +180,7 @@ fn joint(draw: &mut Draw, kind: JointKindDoc, index: usize) -> JointDoc {
                 }
                 inertia
             }),
+            radius_mm: draw.flip().then(|| draw.range(2.0, 40.0)),
         },
     }
 }

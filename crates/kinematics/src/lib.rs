@@ -9,6 +9,7 @@
 
 mod accuracy; // tool-point accuracy budget from servo deadband and backlash
 mod arm; // the arm model: joints, servos, calibrations, masses, arm types
+mod collision; // links as capsules, workspace obstacles, signed distances of one pose
 mod dynamics; // recursive Newton–Euler inverse dynamics and the inertia each joint sees
 mod envelope; // reach envelope and torque-utilisation maps over a grid in a plane
 mod error; // the error shared by every pose-taking function
@@ -27,6 +28,7 @@ pub use crate::arm::{
     MAX_JOINTS, MassProperties, PulseDirection, ScaraDims, SentPulse, ServoSpec, fit_calibration,
     sent_pulse,
 };
+pub use crate::collision::*; // ArmShape, Obstacle, pair_distance, pose_proximities and their types
 pub use crate::dynamics::{inverse_dynamics, joint_inertia, joint_inertias};
 pub use crate::envelope::{MapExtent, MapOptions, MapView, ReachMap, reach_map};
 pub use crate::error::KinematicsError;

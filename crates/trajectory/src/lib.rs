@@ -39,6 +39,7 @@
 
 mod arm_limits; // limits a plan takes from the arm's servos, masses and gravity
 mod arm_plan; // a task planned on a real arm: limits, gripper payload, waypoint timings
+mod clearance; // the arm against obstacles and itself along a plan and along the dry run
 mod dry_run; // a plan run through the servo model: overshoot, settling, following error
 mod placement; // share of picks and places within tolerance: Monte Carlo and closed form
 mod profile; // one joint's move: trapezoid and double-S profiles, evaluation, stretching
@@ -53,6 +54,7 @@ mod sync; // several joints of one move: start and end together, slowest sets th
 
 pub use crate::arm_limits::{LimitError, LimitSettings, limits_from_arm};
 pub use crate::arm_plan::{PlanError, Task, TaskPlan, TaskPlanner, TaskWaypoint, plan_task};
+pub use crate::clearance::*; // Clearance, ClearanceOptions, Workcell, plan_clearance, dry_run_clearance, grip_exemptions
 pub use crate::dry_run::{
     CommandedMotion, DryRun, DryRunError, DryRunOptions, GRIPPER_TIME, WaypointResult,
     WaypointTiming, dry_run, gripper_moment,

@@ -14,6 +14,7 @@
 mod args;
 mod calibrate;
 mod check;
+mod clearance;
 mod device_sim;
 mod envelope;
 mod format;

@@ -10,6 +10,7 @@ use armwright_trajectory::{CommandedMotion, JointState, SegmentKind, TaskPlan};
 use serde_json::json;
 
 use super::Outcome;
+use super::clearance::{Motion, SceneCell, any_contact};
 use super::report::{TORQUE_BASIS, fail, load_scene, print_json, rounded};
 use crate::scene::{
     JointLimitDoc, Scene, field_table, plan_of, position_to_file_unit, rate_to_file_unit, save_text,
@@ -120,6 +121,10 @@ pub(crate) fn run(file: &Path, rate_hz: f64, csv: Option<&Path>, json: bool) -> 
     let derating = scene.timing.torque_derating_pct / 100.0;
     let torque = plan.peak_torque_use(&arm, derating, TORQUE_INTERVAL);
     let payload = max_payload_per_move(&arm, &plan, derating, TORQUE_INTERVAL);
+    let cell = SceneCell::of(&scene, &arm);
+    let clearance = cell.along_plan(&arm, &plan);
+    let looked = [(Motion::Commanded, &clearance)];
+    let touched = any_contact(&looked);
     if let Some(path) = csv {
         let text = match setpoints_csv(&scene, &plan, rate_hz) {
             Ok(text) => text,
@@ -169,7 +174,7 @@ pub(crate) fn run(file: &Path, rate_hz: f64, csv: Option<&Path>, json: bool) -> 
                 })
             })
             .collect();
-        print_json(&json!({
+        let mut out = json!({
             "ok": true,
             "cycle_time_s": rounded(cycle_time, 4),
             "shaped_runs": plan.shaped_runs(),
@@ -180,7 +185,13 @@ pub(crate) fn run(file: &Path, rate_hz: f64, csv: Option<&Path>, json: bool) -> 
             "joint_limits": joint_limits(&scene, &plan),
             "segments": segments,
             "waypoints": waypoints,
-        }));
+        });
+        cell.add_json(&scene, &mut out, &looked);
+        if touched {
+            out["ok"] = json!(false);
+            out["error"] = json!("the arm hits something along the plan (see collisions)");
+        }
+        print_json(&out);
     } else {
         println!(
             "cycle time {:.3} s, peak commanded torque use {:.0} % (inverse dynamics of the plan)",
@@ -218,8 +229,18 @@ pub(crate) fn run(file: &Path, rate_hz: f64, csv: Option<&Path>, json: bool) -> 
         if let Some(path) = csv {
             println!("setpoints written to {}", path.display());
         }
+        for line in cell.lines(&scene, &looked) {
+            println!("{line}");
+        }
+        if touched {
+            eprintln!("error: the arm hits something along the plan");
+        }
     }
-    Outcome::Done
+    if touched {
+        Outcome::Refused
+    } else {
+        Outcome::Done
+    }
 }
 
 /// The plan (shaped, where the scene asks) through its sampler at `rate_hz`: a header, then one

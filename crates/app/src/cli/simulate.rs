@@ -3,8 +3,9 @@
 //! the following error, the torque use (commanded and simulated, on one basis) and, where the
 //! gripper acts, the placement success.
 //!
-//! A simulated torque use over 100 % of the derated stall torque, or a gripper acting before the
-//! arm has settled, is a problem: the report names the joint and waypoint, and the exit code
+//! A simulated torque use over 100 % of the derated stall torque, a gripper acting before the
+//! arm has settled, or a contact with a workspace object or another link (along the commanded
+//! plan or the dry run), is a problem: the report names the joint and waypoint, and the exit code
 //! is 1.
 
 use std::path::Path;
@@ -16,6 +17,7 @@ use armwright_trajectory::{
 use serde_json::{Value, json};
 
 use super::Outcome;
+use super::clearance::{Motion, SceneCell, any_contact};
 use super::plan::{TORQUE_INTERVAL, load_and_plan};
 use super::report::{TORQUE_BASIS, all_rounded, fail, print_json, rounded};
 use crate::scene::{Arrival, Scene, dry_run_of, pose_from_file_units, position_to_file_unit};
@@ -39,12 +41,32 @@ pub(crate) fn run(file: &Path, json: bool) -> Outcome {
         Ok(report) => report,
         Err(message) => return fail(json, &message, json!({}), Outcome::Refused),
     };
+    let cell = SceneCell::of(&scene, &arm);
+    let commanded = cell.along_plan(&arm, &plan);
+    let simulated = cell.along_dry_run(&arm, &plan, &run.trace);
+    let looked = [
+        (Motion::Commanded, &commanded),
+        (Motion::Simulated, &simulated),
+    ];
+    let touched = any_contact(&looked);
     if json {
-        print_json(&dry_run_json(&scene, &run, &report));
+        let mut out = dry_run_json(&scene, &run, &report);
+        cell.add_json(&scene, &mut out, &looked);
+        if touched {
+            out["ok"] = json!(false);
+            out["error"] = json!("the arm hits something in the dry run (see collisions)");
+        }
+        print_json(&out);
     } else {
         print_dry_run(&scene, &run, &report);
+        for line in cell.lines(&scene, &looked) {
+            println!("{line}");
+        }
+        if touched {
+            eprintln!("error: the arm hits something in the dry run");
+        }
     }
-    if report.problems.is_empty() {
+    if report.problems.is_empty() && !touched {
         Outcome::Done
     } else {
         Outcome::Refused

@@ -55,6 +55,7 @@ fn built_in_scene() -> Scene {
                 mass_g,
                 centre_mm: [40.0, 0.0, 0.0],
                 inertia_g_mm2: None,
+                radius_mm: None,
             },
         }
     };

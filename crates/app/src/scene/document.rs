@@ -317,6 +317,10 @@ pub struct LinkMassDoc {
     /// Inertia about the centre of mass, in g·mm²: [Ixx, Iyy, Izz, Ixy, Ixz, Iyz]. Absent means a
     /// point mass.
     pub inertia_g_mm2: Option<[f64; 6]>,
+    /// Radius of the link's collision capsule (around the segment from this joint to the next,
+    /// or to the tool point for the last joint: the gripper or tool), in mm. Absent: half the
+    /// width of the larger servo at its ends, estimated from the servo's mass.
+    pub radius_mm: Option<f64>,
 }
 
 /// One movable joint.

@@ -578,8 +578,20 @@ pub mod link_mass {
         },
     )
     .presence(Presence::Optional);
+    /// Collision radius.
+    pub const RADIUS: Field<LinkMassDoc> = Field::<LinkMassDoc>::new(
+        "radius_mm",
+        Unit::Mm,
+        Range::above(0.0, 200.0),
+        "hobby-servo brackets are 10–60 mm across (from memory), with room to spare",
+        MM_DECIMALS,
+        "collision radius",
+        "radius of the link's collision capsule (the last joint's link is the gripper or tool); absent: half the width of its servos, estimated from their mass",
+        Access::Maybe(|l| l.radius_mm, |l, v| l.radius_mm = v),
+    )
+    .presence(Presence::Optional);
     /// In file order.
-    pub const ROWS: &[Field<LinkMassDoc>] = &[MASS, CENTRE, INERTIA];
+    pub const ROWS: &[Field<LinkMassDoc>] = &[MASS, CENTRE, INERTIA, RADIUS];
 }
 
 /// The tool's mass (`arm.tool`).

@@ -10,7 +10,8 @@
 //! and the JSON Schema printed from the outline, committed under `docs/`), `units.rs` (the one
 //! place that turns file units into the SI arm model), `load.rs` and
 //! `save.rs` (files: read without side effects, write atomically), `problem.rs` (a located
-//! problem and the nearest-name suggestion), `task.rs` (the sequence as a trajectory task).
+//! problem and the nearest-name suggestion), `task.rs` (the sequence as a trajectory task), `workcell.rs` (the workspace
+//! and arm as collision geometry, and what a pick or place leaves out).
 //! Sampling the plan is the trajectory crate's (`TaskPlan::sampler`), turning samples into
 //! device setpoints the link crate's (`device_setpoints`).
 
@@ -30,6 +31,7 @@ mod schema;
 mod task;
 mod units;
 mod validate;
+mod workcell;
 
 pub use document::{
     ArmDoc, ArmShape, ArmTypeWord, Arrival, ArticulatedSize, AxisDoc, BandDoc, BoxDoc,
@@ -54,6 +56,7 @@ pub use units::{
     position_to_file_unit, rate_from_file_unit, rate_to_file_unit,
 };
 pub use validate::{sequence_problems, validate};
+pub use workcell::{arm_shape_of, exemptions_of, obstacles_of};
 
 use std::path::PathBuf;
 

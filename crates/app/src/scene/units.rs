@@ -297,6 +297,7 @@ mod tests {
                 mass_g: 40.0,
                 centre_mm: [60.0, 0.0, 0.0],
                 inertia_g_mm2: Some([1000.0, 2000.0, 3000.0, 10.0, 20.0, 30.0]),
+                radius_mm: None,
             },
         };
         let spec = joint_spec(&doc, JointKindDoc::Revolute);
