@@ -265,6 +265,30 @@ fn bad_retime_options_exit_two() {
 }
 
 #[test]
+fn an_out_of_range_option_says_its_range_and_the_rate_is_checked_without_csv() {
+    let file = sample("pen-plotter");
+    let out = armwright(&["plan", file.to_str().unwrap(), "--rate", "0"]);
+    assert_eq!(out.status.code(), Some(2));
+    let stderr = String::from_utf8_lossy(&out.stderr);
+    assert!(stderr.contains("--rate: 0 Hz is out of range"), "{stderr}");
+    assert!(stderr.contains("50 to 1000 Hz"), "{stderr}");
+    let out = armwright(&[
+        "retime",
+        file.to_str().unwrap(),
+        "--max-overshoot",
+        "1",
+        "--torque-share",
+        "1.5",
+    ]);
+    assert_eq!(out.status.code(), Some(2));
+    let stderr = String::from_utf8_lossy(&out.stderr);
+    assert!(
+        stderr.contains("--torque-share: 1.5 is out of range; it must be above 0 and at most 1"),
+        "{stderr}"
+    );
+}
+
+#[test]
 fn a_shaped_scene_retimes_with_its_runs_shaped() {
     let mut scene = read_json(&sample("pen-plotter"));
     scene["timing"]["shaping"] = Value::from("zvd");

@@ -37,7 +37,7 @@ pub struct SequenceWaypoint {
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
 pub enum SequenceError {
     /// Fewer than two waypoints.
-    #[error("a sequence needs at least two waypoints, {count} were given")]
+    #[error("a sequence needs at least two waypoints, {count} given")]
     TooFewWaypoints {
         /// Waypoints given.
         count: usize,

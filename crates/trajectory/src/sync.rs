@@ -18,7 +18,7 @@ pub enum SyncError {
     #[error("a move needs at least one joint")]
     NoJoints,
     /// More joints than [`MAX_JOINTS`].
-    #[error("a move can hold at most {max} joints, {count} were given")]
+    #[error("a move can hold at most {max} joints, {count} given")]
     TooManyJoints {
         /// Joints given.
         count: usize,

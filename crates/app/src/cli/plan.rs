@@ -6,7 +6,9 @@ use std::fmt::Write as _;
 use std::path::Path;
 
 use armwright_kinematics::{Arm, MAX_JOINTS, max_payload_in_motion};
-use armwright_trajectory::{CommandedMotion, JointState, SegmentKind, TaskPlan};
+use armwright_trajectory::{
+    CommandedMotion, JointState, MAX_SAMPLE_RATE_HZ, MIN_SAMPLE_RATE_HZ, SegmentKind, TaskPlan,
+};
 use serde_json::json;
 
 use super::Outcome;
@@ -114,6 +116,15 @@ pub(crate) fn load_and_plan(file: &Path, json: bool) -> Result<(Scene, Arm, Task
 }
 
 pub(crate) fn run(file: &Path, rate_hz: f64, csv: Option<&Path>, json: bool) -> Outcome {
+    // Checked whether or not --csv is given: a rate the plan cannot be sampled at is a mistake
+    // in the command, not something to pass over silently.
+    if !(MIN_SAMPLE_RATE_HZ..=MAX_SAMPLE_RATE_HZ).contains(&rate_hz) {
+        let message = format!(
+            "--rate: {rate_hz} Hz is out of range; setpoints are sampled at \
+             {MIN_SAMPLE_RATE_HZ} to {MAX_SAMPLE_RATE_HZ} Hz"
+        );
+        return fail(json, &message, json!({}), Outcome::Unreadable);
+    }
     let (scene, arm, plan) = match load_and_plan(file, json) {
         Ok(planned) => planned,
         Err(outcome) => return outcome,

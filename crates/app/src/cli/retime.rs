@@ -34,21 +34,24 @@ pub(crate) fn run(file: &Path, request: &RetimeRequest<'_>, json: bool) -> Outco
             "--max-overshoot",
             request.max_overshoot_mm,
             request.max_overshoot_mm > 0.0,
+            "above 0 mm",
         ),
         (
             "--torque-share",
             torque_share,
             torque_share > 0.0 && torque_share <= 1.0,
+            "above 0 and at most 1",
         ),
         (
             "--min-dwell",
             request.min_dwell_ms,
             request.min_dwell_ms >= 0.0,
+            "0 ms or more",
         ),
     ];
-    for (option, value, ok) in checks {
+    for (option, value, ok, allowed) in checks {
         if !(ok && value.is_finite()) {
-            let message = format!("{option}: {value} is out of range");
+            let message = format!("{option}: {value} is out of range; it must be {allowed}");
             return fail(json, &message, json!({}), Outcome::Unreadable);
         }
     }
