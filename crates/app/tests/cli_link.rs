@@ -6,10 +6,9 @@
 
 mod common;
 
+use common::{lines_of, wait_for_line};
 use std::io::{BufRead, BufReader, Read};
 use std::process::{Child, Command, Stdio};
-use std::sync::mpsc;
-use std::time::Duration;
 
 use serde_json::Value;
 
@@ -97,37 +96,6 @@ fn interrupt(child: &Child) {
         .status()
         .expect("the kill command runs");
     assert!(status.success());
-}
-
-/// Forwards a child's standard error line by line, so a test can wait for a line.
-fn lines_of(stream: impl Read + Send + 'static) -> mpsc::Receiver<String> {
-    let (tx, rx) = mpsc::channel();
-    std::thread::spawn(move || {
-        for line in BufReader::new(stream).lines() {
-            let Ok(line) = line else { break };
-            if tx.send(line).is_err() {
-                break;
-            }
-        }
-    });
-    rx
-}
-
-/// Waits for a line containing `needle`; returns every line seen up to it.
-fn wait_for_line(lines: &mpsc::Receiver<String>, needle: &str) -> Vec<String> {
-    let mut seen = Vec::new();
-    loop {
-        match lines.recv_timeout(Duration::from_secs(60)) {
-            Ok(line) => {
-                let found = line.contains(needle);
-                seen.push(line);
-                if found {
-                    return seen;
-                }
-            }
-            Err(_) => panic!("no line with {needle:?}; saw:\n{}", seen.join("\n")),
-        }
-    }
 }
 
 #[test]

@@ -11,6 +11,7 @@
 
 mod common;
 
+use common::{lines_of, wait_for_line};
 use std::io::{BufRead, BufReader, Read};
 use std::process::{Child, Command, Stdio};
 use std::sync::mpsc;
@@ -41,37 +42,6 @@ fn signal(child: &Child, signal: &str) {
         .status()
         .expect("the kill command runs");
     assert!(status.success(), "kill -{signal}");
-}
-
-/// Forwards a child's output line by line, so a test can wait for a line.
-fn lines_of(stream: impl Read + Send + 'static) -> mpsc::Receiver<String> {
-    let (tx, rx) = mpsc::channel();
-    std::thread::spawn(move || {
-        for line in BufReader::new(stream).lines() {
-            let Ok(line) = line else { break };
-            if tx.send(line).is_err() {
-                break;
-            }
-        }
-    });
-    rx
-}
-
-/// Waits (up to a minute) for a line containing `needle`; returns every line seen up to it.
-fn wait_for_line(lines: &mpsc::Receiver<String>, needle: &str) -> Vec<String> {
-    let mut seen = Vec::new();
-    loop {
-        match lines.recv_timeout(Duration::from_secs(60)) {
-            Ok(line) => {
-                let found = line.contains(needle);
-                seen.push(line);
-                if found {
-                    return seen;
-                }
-            }
-            Err(_) => panic!("no line with {needle:?}; saw:\n{}", seen.join("\n")),
-        }
-    }
 }
 
 /// A simulated device behind a pseudo-terminal, in its own process; ended with Ctrl-C.

@@ -3,7 +3,10 @@
 #![allow(dead_code)]
 
 use serde_json::{Value, json};
+use std::io::{BufRead, BufReader, Read};
 use std::path::PathBuf;
+use std::sync::mpsc;
+use std::time::Duration;
 
 fn joint(name: &str, min: f64, max: f64, mass_g: f64) -> Value {
     json!({
@@ -198,4 +201,35 @@ pub fn scene_file(test: &str, document: &Value) -> String {
 /// A sample's path as text.
 pub fn sample_path(name: &str) -> String {
     sample(name).to_string_lossy().into_owned()
+}
+
+/// Forwards a child's output (standard output or error) line by line, so a test can wait for a line.
+pub fn lines_of(stream: impl Read + Send + 'static) -> mpsc::Receiver<String> {
+    let (tx, rx) = mpsc::channel();
+    std::thread::spawn(move || {
+        for line in BufReader::new(stream).lines() {
+            let Ok(line) = line else { break };
+            if tx.send(line).is_err() {
+                break;
+            }
+        }
+    });
+    rx
+}
+
+/// Waits (up to a minute) for a line containing `needle`; returns every line seen up to it.
+pub fn wait_for_line(lines: &mpsc::Receiver<String>, needle: &str) -> Vec<String> {
+    let mut seen = Vec::new();
+    loop {
+        match lines.recv_timeout(Duration::from_secs(60)) {
+            Ok(line) => {
+                let found = line.contains(needle);
+                seen.push(line);
+                if found {
+                    return seen;
+                }
+            }
+            Err(_) => panic!("no line with {needle:?}; saw:\n{}", seen.join("\n")),
+        }
+    }
 }
