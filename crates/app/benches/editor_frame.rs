@@ -2,6 +2,7 @@
 //! the dry run's arm over the commanded one, 500 waypoints in the sequence, the timeline's plot
 //! of every joint, commanded and simulated) and tessellation, without the GPU. Target: at most
 //! 4 ms median.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 use armwright::editor::{
     ChannelStopLink, Command, Editor, EditorOptions, EditorState, PlaybackCommand, ViewKind,

@@ -6,6 +6,6 @@
 //! line on top.
 #![warn(missing_docs)]
 
-pub mod cli; // subcommands: check, pose, reach, envelope
+pub mod cli; // the `armwright` subcommands (listed by `armwright --help`)
 pub mod editor; // the desktop editor: views, joints, sequence, files, emergency stop
 pub mod scene; // the scene document: types, load, validate, migrate, save, unit conversion

@@ -1,5 +1,6 @@
 //! `armwright check`: exit codes, problems with paths, and an arm description from which the
 //! forward kinematics can be recomputed by the product of exponentials.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod common;
 

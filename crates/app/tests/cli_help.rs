@@ -1,4 +1,5 @@
 //! Every subcommand answers `--help` with exit 0, and value names carry their units.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod common;
 

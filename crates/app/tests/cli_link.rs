@@ -3,6 +3,7 @@
 //! planned sample, a refusal that sends nothing, and Ctrl-C sending the emergency stop.
 //!
 //! The streams run in real time; the shortest sample sequence at 50 Hz keeps each run short.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod common;
 

@@ -6,7 +6,7 @@
 //! Times are measured from events (the stream's own report of how long the device had been
 //! silent, the device's report of its trip), never by racing the wall clock; the waits are
 //! generous.
-
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 #![cfg(unix)]
 
 mod common;

@@ -1,5 +1,6 @@
 //! `armwright protractor`: the printable protractor, and the copy committed under `assets/`
 //! kept in step with what the command draws.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod common;
 

@@ -1,5 +1,6 @@
 //! `armwright reach`: every branch maps back to the target, the chosen branch is the one
 //! nearest --near, and an unreachable target exits 1 with its reason.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod common;
 

@@ -1,5 +1,6 @@
 //! `armwright plan`, `simulate` and `retime` on the sample scenes: JSON keys, CSV setpoints,
 //! exit codes, and a retimed scene that reproduces its own "after" figures.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod common;
 

@@ -1,6 +1,7 @@
 //! The arm tab: a changed link length reaches the arm and its reach map; a value that makes the
 //! scene invalid is listed with its field, kept as typed and not applied; undo restores the arm.
 //! The same for a chain arm's geometry, given as Denavit–Hartenberg rows or as joint axes.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod common;
 mod editor_common;

@@ -1,6 +1,7 @@
 //! Files in the editor: a bad scene shows its error naming the field and leaves the file as it
 //! was; save as and reopen; the question before closing with unsaved changes; autosave and the
 //! offer to recover.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod editor_common;
 

@@ -1,6 +1,7 @@
 //! The teaching flow on the built-in sample: drag the tool point in the top view and in the
 //! side view, store a waypoint, undo and redo it with the keys; and the whole flow on a bundled
 //! sample, from opening it to a confirmed reset after an emergency stop while streaming.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod editor_common;
 

@@ -1,6 +1,7 @@
 //! The link panel against the in-process simulated device: connect, the caution before the
 //! first stream, stream, the emergency stop by key with a text field focused (it reaches the
 //! link in the frame of the key and the device latches), a confirmed reset, and streaming again.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod editor_common;
 

@@ -1,6 +1,7 @@
 //! The retime tab: retime for a target on a worker thread with a progress bar, look at before
 //! and after, apply as one undo step; cancel; a result for a scene that has changed since cannot
 //! be applied.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod common;
 mod editor_common;

@@ -1,5 +1,6 @@
 //! Every bundled sample opens in the editor, its tool point can be dragged in both views on the
 //! current branch, a waypoint can be stored, and both views get a reach map.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod editor_common;
 

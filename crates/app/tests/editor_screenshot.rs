@@ -2,6 +2,7 @@
 //! the screen and checks that it is not blank. The PNG stays under `target/` for a person to
 //! look at. Skips (passing) when `xvfb-run` or ImageMagick is absent; with ARMWRIGHT_STRICT=1
 //! it fails instead.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 use std::path::{Path, PathBuf};
 use std::process::Command;

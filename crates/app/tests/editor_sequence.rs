@@ -3,6 +3,7 @@
 //! changed, a gripper change is named for it), a waypoint is duplicated, the scene is saved
 //! through the path box with Enter, and the saved file passes `armwright check` and, once
 //! retimed, `armwright simulate`.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod editor_common;
 

@@ -1,6 +1,7 @@
 //! The timeline on the built-in sample: the dry run arrives off the UI thread, the plot shows,
 //! the time cursor moves the arm to the plan, play / pause / speed, and an edit starts a new dry
 //! run whose older result is dropped; every bundled sample gets its plot.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod editor_common;
 

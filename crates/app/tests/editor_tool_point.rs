@@ -1,6 +1,7 @@
 //! Typed and nudged tool-point positions in the whole window: a typed z and the nudge keys move
 //! the arm by the same inverse kinematics as a drag (the same reach messages), the keys are
 //! listed in the window, and a focused text field keeps its own arrow keys.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod editor_common;
 

@@ -1,6 +1,7 @@
 //! The two views in the whole window: a drag in the top view turns the arm's base, but the side
 //! view holds its plane until the drag ends and turns then; a double-click fits the arm again
 //! after a zoom.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod editor_common;
 

@@ -1,6 +1,7 @@
 //! The sample scenes: each loads without problems, every waypoint lies inside the limits and
 //! needs less than the derated torque of every servo, and each description carries the safety
 //! caution.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod common;
 

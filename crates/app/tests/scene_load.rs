@@ -1,5 +1,6 @@
 //! Loading: syntax errors with line and column, format and version messages, unknown fields
 //! with suggestions, every problem reported, and a failed load leaves the file alone.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod common;
 

@@ -2,6 +2,7 @@
 //! numbers are written to the decimals the field table keeps, a save of any scene rounds each
 //! number to those decimals and no further, and no input — arbitrary bytes, arbitrary JSON, or a valid scene with one part replaced by arbitrary
 //! JSON — makes the loader panic.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod common;
 

@@ -1,5 +1,6 @@
 //! Saving: atomic (temporary file beside, flushed, renamed), and a failed save leaves the
 //! existing file and its directory as they were.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod common;
 

@@ -1,6 +1,7 @@
 //! The generated reference and JSON Schema: the copies committed under `docs/` are what the field
 //! table prints, every sample scene validates against the schema with an outside validator (the
 //! Python `jsonschema` package, draft 2020-12), and broken scenes do not.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod common;
 

@@ -1,5 +1,6 @@
 //! Each validation rule, broken on its own, is reported at its JSON path; several broken rules
 //! are all reported together.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod common;
 

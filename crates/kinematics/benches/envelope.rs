@@ -1,4 +1,5 @@
 //! Reach envelope and torque-utilisation maps, 200 × 200 cells (budget: 50 ms on one core).
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 #[path = "../tests/common/mod.rs"]
 mod common;

@@ -1,5 +1,6 @@
 //! Forward kinematics: the tool pose of the 5-joint articulated arm (budget: 100 ns), and of a
 //! random 6-joint chain beside the `k` crate's (crates.io `k` 0.32) on the same chain.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 #[path = "../tests/common/mod.rs"]
 mod common;

@@ -1,5 +1,6 @@
 //! Statics and dynamics of the 5-joint articulated arm: gravity torques (budget: 200 ns),
 //! inverse dynamics, and the accuracy budget.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 #[path = "../tests/common/mod.rs"]
 mod common;

@@ -1,5 +1,6 @@
 //! Inverse kinematics: closed form with every branch for each built-in arm type (budget 1 µs)
 //! and damped least squares on a 6-joint chain (budget: median 20 µs).
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 #[path = "../tests/common/mod.rs"]
 mod common;

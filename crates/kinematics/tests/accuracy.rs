@@ -1,5 +1,6 @@
 //! Accuracy budget: a fact of the trade, a stretched arm by hand, and agreement with forward
 //! kinematics of the perturbed pose.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod common;
 

@@ -5,6 +5,7 @@
 //! The comparison needs no Python and always runs. A second check regenerates the fixture and
 //! compares it with the committed one; it skips when Python or NumPy is missing, unless
 //! `ARMWRIGHT_STRICT=1`.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 #[path = "../../../tests/reference/support.rs"]
 mod reference;

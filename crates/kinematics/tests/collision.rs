@@ -5,6 +5,7 @@
 //! radius; two capsules' signed distance is the distance between their segments minus both
 //! radii, the segment distance from the clamped closest-point solution in Ericson, *Real-Time
 //! Collision Detection* (2005), §5.1.9, written out below.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod common;
 

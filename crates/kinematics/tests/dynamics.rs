@@ -1,5 +1,6 @@
 //! Inverse dynamics and joint inertia: a textbook two-link arm, a pendulum, agreement with the
 //! statics, the mass matrix's symmetry and positive definiteness, and the power balance.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod common;
 

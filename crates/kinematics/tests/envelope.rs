@@ -1,4 +1,5 @@
 //! Reach envelope and torque-utilisation maps (`src/envelope.rs`).
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod common;
 

@@ -1,4 +1,5 @@
 //! Forward kinematics and Jacobians of the built-in arm types and general chains.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod common;
 

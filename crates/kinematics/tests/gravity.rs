@@ -1,5 +1,6 @@
 //! Holding torque against gravity: facts of the trade, hand-worked poses, and the potential
 //! energy's slope on random chains.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod common;
 

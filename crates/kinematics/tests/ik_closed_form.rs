@@ -1,5 +1,6 @@
 //! Closed-form inverse kinematics of the built-in arm types, checked by forward kinematics
 //! (`src/ik/closed_form_*.rs`, `src/ik/planar_two_link.rs`).
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod common;
 

@@ -1,5 +1,6 @@
 //! Damped least squares on general chains (`src/ik/damped_least_squares.rs`), checked by
 //! forward kinematics.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod common;
 

@@ -1,4 +1,5 @@
 //! The search over free tool angles (`src/ik/free_angle_search.rs`).
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod common;
 

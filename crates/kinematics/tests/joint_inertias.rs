@@ -1,4 +1,5 @@
 //! The one-pass diagonal of the mass matrix equals the per-joint Newton–Euler value.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod common;
 

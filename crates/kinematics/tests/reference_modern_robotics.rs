@@ -5,6 +5,7 @@
 //! The comparison needs no Python and always runs. A second check regenerates the fixtures
 //! with the Python script and compares them with the committed ones; it skips when Python or
 //! the library is missing, unless `ARMWRIGHT_STRICT=1`.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod common;
 #[path = "../../../tests/reference/support.rs"]

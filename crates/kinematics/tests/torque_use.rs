@@ -1,4 +1,5 @@
 //! Torque use: the share of each servo's derated rating a set of efforts needs.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod common;
 

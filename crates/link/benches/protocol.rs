@@ -1,5 +1,6 @@
 //! Encoder and parser speed: encode a 6-channel setpoint (target ≤ 200 ns), parse a
 //! setpoint line and a device status line (target ≤ 300 ns). Seeded inputs.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 use std::hint::black_box;
 

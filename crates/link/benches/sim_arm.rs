@@ -1,6 +1,7 @@
 //! One pulse frame of the simulated device moving an arm's servo model (gravity and inertia at
 //! the actual pose, then 20 Runge–Kutta steps per joint): the cost the device adds to the
 //! link's thread 50 times a second. Fixed inputs.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 use std::hint::black_box;
 use std::time::Duration;

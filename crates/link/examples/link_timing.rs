@@ -3,6 +3,7 @@
 //! latency when idle and while streaming. Prints the figures; asserts nothing.
 //!
 //! `cargo run --release -p armwright-link --example link_timing`
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 use std::time::{Duration, Instant};
 

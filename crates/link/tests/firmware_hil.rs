@@ -6,6 +6,7 @@
 //! "skipped: …" and passes, unless `ARMWRIGHT_STRICT=1`, when it fails.
 //!
 //! Times come from the harness log in CPU cycles at 16 MHz (16 cycles a µs).
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod common;
 

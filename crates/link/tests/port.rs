@@ -1,6 +1,6 @@
 //! The real serial code path: the simulated device behind a pseudo-terminal, opened with
 //! the serial-port transport, streamed to and stopped.
-
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 #![cfg(unix)]
 
 mod common;

@@ -1,5 +1,6 @@
 //! A plan's samples as device setpoints: one per sample, each joint through the pulse rule, the
 //! gripper channel following each sample's gripper state, clamps counted, a bad sample named.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod common;
 

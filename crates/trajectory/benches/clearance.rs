@@ -1,5 +1,6 @@
 //! Clearance of a 100-waypoint, 5-joint pick-and-place style plan, looked at every 1 ms (a plan
 //! sampled at 1 kHz), against a table, three boxes and a tray and between its own links.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 #[path = "../../kinematics/tests/common/mod.rs"]
 mod arms;

@@ -1,4 +1,5 @@
 //! Dry run and retiming of a 100-waypoint, 5-joint pick-and-place style sequence.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 #[path = "../../kinematics/tests/common/mod.rs"]
 mod arms;

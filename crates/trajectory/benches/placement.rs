@@ -1,5 +1,6 @@
 //! Placement success at one pick: 4000 seeded Monte Carlo draws through forward kinematics and
 //! the closed form, on a 5-joint arm.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 #[path = "../../kinematics/tests/common/mod.rs"]
 mod arms;

@@ -5,6 +5,7 @@
 //! from one problem to another (median, mean, 99th percentile per problem) is printed by a
 //! timing loop before the pass-through groups, and the slowest tenth of the problems (for us)
 //! has a group of its own.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod common;
 

@@ -1,4 +1,5 @@
 //! Sequence benchmarks: planning 100 waypoints × 5 joints, and evaluating the plan at a time.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod common;
 

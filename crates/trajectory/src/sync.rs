@@ -8,8 +8,9 @@ use crate::profile::{
     JointLimits, JointMove, JointState, PLACEHOLDER, Profile, ProfileError, ProfileShape,
 };
 
-/// The most joints one synchronised move can hold.
-pub const MAX_JOINTS: usize = 8;
+/// The most joints one synchronised move can hold: the arm's own limit, declared once in the
+/// kinematics crate.
+pub use armwright_kinematics::MAX_JOINTS;
 
 /// Why a move could not be synchronised.
 #[derive(Debug, Clone, Copy, PartialEq, thiserror::Error)]

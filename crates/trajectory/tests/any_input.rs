@@ -1,4 +1,5 @@
 //! No function panics on any input, and what is accepted evaluates to finite numbers.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 use armwright_trajectory::{
     JointLimits, JointMove, Profile, ProfileShape, SecondOrder, SequenceWaypoint, Shaper,

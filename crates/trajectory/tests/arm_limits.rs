@@ -1,4 +1,5 @@
 //! Limits taken from the arm: the overrides a scene gives replace only their own joint's limit.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 #[path = "../../kinematics/tests/common/mod.rs"]
 mod common;

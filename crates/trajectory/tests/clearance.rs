@@ -1,5 +1,6 @@
 //! Clearance along a plan and along the dry run: contacts named with link, object and time, the
 //! smallest clearance checked by hand and against looking at every instant.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 #[path = "../../kinematics/tests/common/mod.rs"]
 mod arms;

@@ -1,5 +1,6 @@
 //! The dry run on a real arm model: faster moves overshoot more, the arm rests where its
 //! servos balance gravity, timings are checked.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 #[path = "../../kinematics/tests/common/mod.rs"]
 mod common;

@@ -1,4 +1,5 @@
 //! Placement success: the closed form against the Rayleigh result and against the Monte Carlo.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 #[path = "../../kinematics/tests/common/mod.rs"]
 mod common;

@@ -2,6 +2,7 @@
 //! ends exactly on target, is never shorter than the bound its velocity limit sets (unless it
 //! backs up), and a
 //! stretched profile keeps all of that and takes exactly the time asked.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod common;
 

@@ -2,6 +2,7 @@
 //! Automatic Machines and Robots* (Springer 2008), ch. 3, and against the reference library
 //! `rsruckig` (crates.io; a Rust port of the time-optimal jerk-limited generator of Berscheid &
 //! Kröger, RSS 2021).
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod common;
 

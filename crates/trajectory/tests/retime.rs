@@ -1,4 +1,5 @@
 //! Retiming: the shortest timing whose dry run keeps every stop's overshoot under the target.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 #[path = "../../kinematics/tests/common/mod.rs"]
 mod common;

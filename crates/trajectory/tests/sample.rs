@@ -1,5 +1,6 @@
 //! The one sampler: a task plan at a fixed rate — count, ends, order, the allowed rates, the
 //! gripper state of the last waypoint reached, and the shaped plan's end.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 #[path = "../../kinematics/tests/common/mod.rs"]
 mod common;

@@ -1,5 +1,6 @@
 //! Second-order step response estimates against an independent numeric integration (RK4).
 //! Source of the formulas: Ogata, *Modern Control Engineering*, 5th ed., ch. 5.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod common;
 

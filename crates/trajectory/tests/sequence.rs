@@ -1,4 +1,5 @@
 //! Sequence plans: continuity at segment boundaries, limits, exact waypoints, dwell.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod common;
 

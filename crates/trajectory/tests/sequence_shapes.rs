@@ -1,4 +1,5 @@
 //! A profile shape per move.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 use armwright_trajectory::{
     JointLimits, ProfileShape, SegmentKind, SequenceError, SequenceWaypoint, WaypointKind,

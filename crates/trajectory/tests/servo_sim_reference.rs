@@ -1,6 +1,7 @@
 //! The dry run's non-linear joint model against SciPy's `solve_ivp` integrating the same
 //! equations (SciPy: Virtanen et al., *SciPy 1.0*, Nature Methods 17, 2020). The fixture is
 //! written by tests/reference/generate_servo_response.py.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 #[path = "../../../tests/reference/support.rs"]
 mod reference;

@@ -1,6 +1,7 @@
 //! ZV and ZVD input shapers against Singer & Seering, "Preshaping command inputs to reduce
 //! system vibration" (J. Dyn. Sys., Meas., Control, 1990): impulse sequences, residual
 //! vibration expressions, and a simulation of a linear second-order plant (RK4, written here).
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod common;
 

@@ -1,5 +1,6 @@
 //! Straight moves: the planned tool point stays on the line; a line through the unreachable
 //! core says where it fails.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 #[path = "../../kinematics/tests/common/mod.rs"]
 mod common;

@@ -1,6 +1,7 @@
 //! Multi-joint synchronisation against the reference library `rsruckig` (crates.io; a Rust port
 //! of the time-optimal jerk-limited generator of Berscheid & Kröger, RSS 2021), and the
 //! properties every synchronised move keeps.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod common;
 
