@@ -217,7 +217,7 @@ fn every_sample_validates_against_the_schema_and_broken_scenes_do_not() {
     let mut files: Vec<(String, PathBuf, bool)> = Vec::new();
     for name in [
         "pen-plotter.armwright.json",
-        "cube-stacker.armwright.json",
+        "spacer-stacker.armwright.json",
         "peg-sorter.armwright.json",
     ] {
         files.push((name.to_string(), sample(name), true));
