@@ -58,7 +58,7 @@ pub fn forward(arm: &Arm, positions: &[f64]) -> Result<ChainPose, KinematicsErro
 /// The tool-point pose for the given joint positions, in the base frame (m).
 ///
 /// `positions` are in rad (revolute) or m (prismatic), one per movable joint in chain order.
-/// Runs on the arm's precomputed [`ToolChain`]: no allocation, no per-joint rotation of the
+/// Runs on the arm's precomputed tool chain: no allocation, no per-joint rotation of the
 /// origins.
 ///
 /// # Errors
