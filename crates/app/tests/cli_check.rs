@@ -24,7 +24,7 @@ fn vector(value: &Value) -> Vector3<f64> {
 
 #[test]
 fn a_good_scene_passes_with_exit_0() {
-    let (code, stdout, _) = armwright(&["check", &sample_path("cube-stacker.armwright.json")]);
+    let (code, stdout, _) = armwright(&["check", &sample_path("spacer-stacker.armwright.json")]);
     assert_eq!(code, 0);
     assert!(stdout.contains("no problems"), "{stdout}");
 }
@@ -140,7 +140,7 @@ fn product_of_exponentials(arm: &Value, positions_deg_or_mm: &[f64]) -> Vector3<
 fn the_description_recomputes_forward_kinematics_by_product_of_exponentials() {
     let poses: [(&str, &[&[f64]]); 3] = [
         (
-            "cube-stacker.armwright.json",
+            "spacer-stacker.armwright.json",
             &[
                 &[30.0, 60.0, -80.0, -40.0, 20.0],
                 &[-75.0, 120.0, -140.0, 90.0, -60.0],
@@ -181,7 +181,7 @@ fn the_description_recomputes_forward_kinematics_by_product_of_exponentials() {
 #[test]
 fn the_description_gives_the_tool_point_at_the_home_pose_as_well_as_at_zero() {
     for sample in [
-        "cube-stacker.armwright.json",
+        "spacer-stacker.armwright.json",
         "pen-plotter.armwright.json",
         "peg-sorter.armwright.json",
     ] {
@@ -417,6 +417,35 @@ fn a_link_rate_the_link_cannot_stream_is_refused_at_link_rate_hz() {
             "must be from 50 Hz to 1000 Hz, got 20 Hz".to_string()
         )]
     );
+}
+
+#[test]
+fn a_link_rate_above_what_the_baud_rate_carries_is_noted() {
+    // Five joints and a gripper: 6-channel setpoints of 34 bytes (PROTOCOL.md §7); 115 200
+    // baud carries 11 520 bytes a second, 338 such lines. 1000 Hz is in range but too fast.
+    let mut document = articulated5();
+    document["link"] = json!({ "baud": 115200, "rate_hz": 1000.0 });
+    let file = scene_file("check-rate-capacity", &document);
+    let (code, out) = armwright_json(&["check", &file, "--json"]);
+    assert_eq!(code, 0, "{out}");
+    assert_eq!(out["notes"][0]["path"], json!("link.rate_hz"));
+    let note = out["notes"][0]["message"].as_str().unwrap();
+    assert!(
+        note.contains("34 bytes a line") && note.contains("at most 338 of them a second"),
+        "{note}"
+    );
+    let (_, stdout, _) = armwright(&["check", &file]);
+    assert!(
+        stdout.contains("note: link.rate_hz: 1000 Hz is more than the link carries"),
+        "{stdout}"
+    );
+    document["link"] = json!({ "baud": 115200, "rate_hz": 300.0 });
+    let (_, out) = armwright_json(&[
+        "check",
+        &scene_file("check-rate-within", &document),
+        "--json",
+    ]);
+    assert_eq!(out["notes"], json!([]));
 }
 
 #[test]

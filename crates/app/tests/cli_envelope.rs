@@ -95,7 +95,7 @@ fn a_weak_shoulder_shows_cells_over_torque_in_the_map_and_the_picture() {
 
 #[test]
 fn text_output_says_what_was_mapped() {
-    let file = sample_path("cube-stacker.armwright.json");
+    let file = sample_path("spacer-stacker.armwright.json");
     let (code, stdout, _) = armwright(&["envelope", &file, "--view", "top", "--cells", "30"]);
     assert_eq!(code, 0);
     assert!(

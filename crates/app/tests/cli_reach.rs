@@ -93,7 +93,7 @@ fn every_branch_reaches_the_target_on_each_arm_type() {
         false,
     );
     reach_back(
-        "cube-stacker.armwright.json",
+        "spacer-stacker.armwright.json",
         &[-30.0, 70.0, -60.0, -40.0, 35.0],
         "tool_pitch_deg",
         true,
@@ -101,8 +101,8 @@ fn every_branch_reaches_the_target_on_each_arm_type() {
     // Pointing straight down (pitch −90°), where yaw and roll read from the tool frame alone
     // would be undetermined.
     reach_back(
-        "cube-stacker.armwright.json",
-        &[28.07, 40.96, -84.77, -46.18, 20.0],
+        "spacer-stacker.armwright.json",
+        &[30.38, 39.39, -86.16, -43.23, 20.0],
         "tool_pitch_deg",
         true,
     );
@@ -166,7 +166,7 @@ fn malformed_targets_are_unreadable_input() {
 fn an_angle_left_out_is_searched_not_taken_from_the_start() {
     // Straight above the 5-joint sample's base: the home pose's tool pitch cannot get there, a
     // pitch near straight up can; leaving the angle out must find it.
-    let file = sample_path("cube-stacker.armwright.json");
+    let file = sample_path("spacer-stacker.armwright.json");
     let (code, out) = armwright_json(&["reach", &file, "--to=0,0,335", "--json"]);
     assert_eq!(code, 0, "{out}");
     for solution in out["solutions_deg"].as_array().unwrap() {

@@ -8,7 +8,7 @@ use serde_json::{Value, json};
 use std::path::{Path, PathBuf};
 use std::process::{Command, Output};
 
-const SAMPLES: [&str; 3] = ["pen-plotter", "peg-sorter", "cube-stacker"];
+const SAMPLES: [&str; 3] = ["pen-plotter", "peg-sorter", "spacer-stacker"];
 
 fn sample(name: &str) -> PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR"))
@@ -222,7 +222,7 @@ fn retimed_scenes_meet_the_target_and_simulate_to_the_after_figures() {
 #[test]
 fn a_target_the_servos_cannot_hold_exits_one_and_names_the_waypoint() {
     // 2 % of stall torque cannot hold the arm up against gravity, however slowly it moves.
-    let file = sample("cube-stacker");
+    let file = sample("spacer-stacker");
     let out = armwright(&[
         "retime",
         file.to_str().unwrap(),
@@ -411,8 +411,8 @@ fn a_joint_limit_for_no_joint_is_refused_with_its_place() {
 
 #[test]
 fn a_gripper_acting_before_the_arm_settles_exits_one_naming_the_waypoint() {
-    // The cube stacker's first pick with no dwell: the gripper closes on arrival.
-    let mut document = read_json(&sample("cube-stacker"));
+    // The spacer stacker's first pick with no dwell: the gripper closes on arrival.
+    let mut document = read_json(&sample("spacer-stacker"));
     document["waypoints"][1]["dwell_ms"] = json!(0.0);
     let file = scratch("unsettled-pick.armwright.json");
     std::fs::write(&file, serde_json::to_string_pretty(&document).unwrap()).unwrap();
@@ -424,7 +424,10 @@ fn a_gripper_acting_before_the_arm_settles_exits_one_naming_the_waypoint() {
     let problem = &report["problems"][0];
     assert_eq!(problem["waypoint"], json!(1));
     assert!(
-        problem["message"].as_str().unwrap().contains("grip cube 1"),
+        problem["message"]
+            .as_str()
+            .unwrap()
+            .contains("grip spacer 1"),
         "{problem}"
     );
     // Retiming gives that stop a dwell to settle in, and then the gripper's own time.

@@ -208,7 +208,7 @@ fn a_fifth_joint_is_added_and_removed_with_the_waypoints() {
 fn every_sample_shows_its_arm_in_the_file_units() {
     for (name, sliding) in [
         ("pen-plotter", None),
-        ("cube-stacker", None),
+        ("spacer-stacker", None),
         ("peg-sorter", Some(2)),
     ] {
         let mut harness = file_editor(&format!("arm-{name}"), sample_scene(name));

@@ -171,7 +171,7 @@ fn open_teach_retime_play_stream_stop_and_reset() {
 
     // Open a bundled sample through the Open dialog's typed path.
     let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
-        .join("../../sample-scenes/cube-stacker.armwright.json");
+        .join("../../sample-scenes/spacer-stacker.armwright.json");
     let on_disk = load(&path).expect("the sample loads");
     open_through_dialog(&mut harness, &path);
     {

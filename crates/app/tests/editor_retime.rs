@@ -218,7 +218,7 @@ fn a_result_for_a_changed_scene_cannot_be_applied() {
 fn every_sample_retimes_for_its_own_target() {
     for name in [
         "pen-plotter.armwright.json",
-        "cube-stacker.armwright.json",
+        "spacer-stacker.armwright.json",
         "peg-sorter.armwright.json",
     ] {
         let path = common::sample(name);

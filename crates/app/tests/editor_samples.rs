@@ -75,6 +75,6 @@ fn peg_sorter() {
 }
 
 #[test]
-fn cube_stacker() {
-    teach_on("cube-stacker");
+fn spacer_stacker() {
+    teach_on("spacer-stacker");
 }

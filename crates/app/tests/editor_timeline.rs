@@ -262,7 +262,7 @@ fn a_sequence_that_cannot_be_planned_says_why_in_the_timeline() {
 
 #[test]
 fn every_bundled_sample_gets_a_dry_run_and_a_plot() {
-    for name in ["pen-plotter", "cube-stacker", "peg-sorter"] {
+    for name in ["pen-plotter", "spacer-stacker", "peg-sorter"] {
         let mut harness = file_editor(&format!("timeline-sample-{name}"), sample_scene(name));
         wait_for_dry_run(&mut harness);
         let editor = harness.state();

@@ -11,7 +11,7 @@ use armwright_kinematics::{gravity_torques, torque_use};
 const SAMPLES: [&str; 3] = [
     "peg-sorter.armwright.json",
     "pen-plotter.armwright.json",
-    "cube-stacker.armwright.json",
+    "spacer-stacker.armwright.json",
 ];
 
 #[test]

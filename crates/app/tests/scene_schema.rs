@@ -210,15 +210,14 @@ fn every_sample_validates_against_the_schema_and_broken_scenes_do_not() {
              .venv/bin/pip install -r tests/reference/requirements.txt`",
             python.display()
         );
-        assert!(!reference::strict(), "ARMWRIGHT_STRICT=1 and {why}");
-        println!("skipped: {why}");
+        reference::outside_tool::cannot_run("the JSON Schema check of the samples", &why);
         return;
     }
     let dir = scratch_dir("schema");
     let mut files: Vec<(String, PathBuf, bool)> = Vec::new();
     for name in [
         "pen-plotter.armwright.json",
-        "cube-stacker.armwright.json",
+        "spacer-stacker.armwright.json",
         "peg-sorter.armwright.json",
     ] {
         files.push((name.to_string(), sample(name), true));

@@ -27,7 +27,7 @@ pub const STANDARD_GRAVITY: f64 = 9.80665;
 /// negative or not finite.
 ///
 /// # Example
-/// One horizontal lever holding 90 g, 30 cm out: τ = m·g·r ≈ 0.265 N·m (26.5 N·cm).
+/// One horizontal lever holding 120 g, 22 cm out: τ = m·g·r ≈ 0.259 N·m (25.9 N·cm).
 /// ```
 /// use armwright_kinematics::*;
 /// use nalgebra::{Isometry3, Vector3};
@@ -43,7 +43,7 @@ pub const STANDARD_GRAVITY: f64 = 9.80665;
 ///             axis: -Vector3::y(), // a positive angle lifts the lever
 ///             point: Vector3::zeros(),
 ///         }],
-///         tool_home: Isometry3::translation(0.3, 0.0, 0.0),
+///         tool_home: Isometry3::translation(0.22, 0.0, 0.0),
 ///     }),
 ///     joints: vec![JointSpec {
 ///         name: "lever".into(),
@@ -58,11 +58,11 @@ pub const STANDARD_GRAVITY: f64 = 9.80665;
 ///     payload_mass: 0.0,
 ///     gripper: None,
 /// })?;
-/// let holding = gravity_torques(&arm, &[0.0], 0.090)?;
-/// assert!((holding.as_slice()[0] - 0.090 * STANDARD_GRAVITY * 0.3).abs() < 1e-12);
-/// // Against a 1.96 N·m servo derated to half its stall torque: about 27 % used.
+/// let holding = gravity_torques(&arm, &[0.0], 0.120)?;
+/// assert!((holding.as_slice()[0] - 0.120 * STANDARD_GRAVITY * 0.22).abs() < 1e-12);
+/// // Against a 1.96 N·m servo derated to half its stall torque: about 26 % used.
 /// let share = torque_use(&arm, &holding, 0.5);
-/// assert!((share.as_slice()[0] - 0.2648 / 0.98).abs() < 1e-3);
+/// assert!((share.as_slice()[0] - 0.2589 / 0.98).abs() < 1e-3);
 /// # Ok::<(), Box<dyn std::error::Error>>(())
 /// ```
 pub fn gravity_torques(

@@ -3,7 +3,7 @@
 use nalgebra::{SMatrix, Vector3};
 
 use crate::arm::{Arm, JointKind, MAX_JOINTS};
-use crate::error::KinematicsError;
+use crate::error::{KinematicsError, check_pose};
 use crate::fk::forward;
 
 /// A 6×n Jacobian stored in a fixed 6×[`MAX_JOINTS`] matrix whose columns past the joint count
@@ -25,23 +25,14 @@ impl Jacobian {
 /// The geometric Jacobian at the tool point, in the base frame.
 ///
 /// Rows 0–2 are the tool point's linear velocity (m/s), rows 3–5 the tool frame's angular
-/// velocity (rad/s), per unit joint rate (rad/s or m/s).
+/// velocity (rad/s), per unit joint rate (rad/s or m/s). Worked out in the same pass down the
+/// arm's precomputed chain as [`crate::tool_pose`].
 ///
 /// # Errors
 /// [`KinematicsError`] if the count is wrong or a position is not finite.
 pub fn tool_jacobian(arm: &Arm, positions: &[f64]) -> Result<Jacobian, KinematicsError> {
-    let pose = forward(arm, positions)?;
-    let tool_point = pose.tool().translation.vector;
-    let mut matrix = SMatrix::<f64, 6, MAX_JOINTS>::zeros();
-    for (index, joint) in arm.joints().iter().enumerate() {
-        let (axis, point) = pose.joint_axis(arm, index);
-        let (linear, angular) = match joint.kind {
-            JointKind::Revolute => (axis.cross(&(tool_point - point)), axis),
-            JointKind::Prismatic => (axis, Vector3::zeros()),
-        };
-        matrix.fixed_view_mut::<3, 1>(0, index).copy_from(&linear);
-        matrix.fixed_view_mut::<3, 1>(3, index).copy_from(&angular);
-    }
+    check_pose(arm.joint_count(), positions)?;
+    let (_, matrix) = arm.tool_chain().tool_pose_and_jacobian(positions);
     Ok(Jacobian {
         matrix,
         joints: arm.joint_count(),

@@ -49,12 +49,12 @@ fn potential_energy(arm: &Arm, q: &[f64], payload: f64) -> f64 {
 }
 
 #[test]
-fn two_hobby_servos_at_thirty_centimetres() {
-    // Common practice: two 45 g servos held 30 cm from a joint need about 26.5 N·cm of holding
-    // torque, τ = m·g·r = 0.090 kg × 9.80665 m/s² × 0.30 m = 0.2648 N·m.
-    let arm = single_lever(2.0 * 0.045, 0.30);
+fn a_servo_and_bracket_at_twenty_two_centimetres() {
+    // Holding torque τ = m·g·r (common practice): a 95 g servo with its 25 g bracket held
+    // 22 cm from a joint needs 0.120 kg × 9.80665 m/s² × 0.22 m = 0.2589 N·m, 25.9 N·cm.
+    let arm = single_lever(0.095 + 0.025, 0.22);
     let torque_ncm = gravity_torques(&arm, &[0.0], 0.0).unwrap().as_slice()[0] * 100.0;
-    assert!((torque_ncm - 26.5).abs() < 0.05, "{torque_ncm} N·cm");
+    assert!((torque_ncm - 25.89).abs() < 0.005, "{torque_ncm} N·cm");
     // Raised 60°, the lever arm shrinks to r·cos 60°: half the torque.
     let raised = gravity_torques(&arm, &[PI / 3.0], 0.0).unwrap().as_slice()[0] * 100.0;
     assert!((raised - torque_ncm / 2.0).abs() < 1e-9, "{raised} N·cm");

@@ -32,7 +32,7 @@ pub use crate::protocol::{
     Ack, AckOutcome, Assembled, ChannelOutput, ChannelValues, DeviceInfo, DeviceLine,
     DeviceMessage, DeviceMode, DeviceStatus, Faults, FirmwareVersion, HostLine, HostMessage,
     LineAssembler, LineBuf, LineErrorKind, MAX_CHANNELS, MAX_LINE_LEN, OLDEST_PROTOCOL_VERSION,
-    PROTOCOL_VERSION, ParseLineError, crc16_ccitt_false,
+    PROTOCOL_VERSION, ParseLineError, crc16_ccitt_false, setpoint_capacity_hz, setpoint_line_len,
 };
 pub use crate::pulse::{
     ArmSetpoint, JointPulse, PulseError, arm_setpoint, gripper_pulse, joint_pulse,

@@ -2,13 +2,15 @@
 //! through a pseudo-terminal by the host code, checked pulse by pulse in simulated time.
 //!
 //! The test builds the firmware (avr-gcc, avr-libc, make) and the harness
-//! (`tests/hil/harness.c`, a C compiler and libsimavr). When a tool is missing it prints
-//! "skipped: …" and passes, unless `ARMWRIGHT_STRICT=1`, when it fails.
+//! (`tests/hil/harness.c`, a C compiler and libsimavr). When a tool is missing every firmware
+//! test fails, naming it, or skips under `ARMWRIGHT_ALLOW_SKIP=1` (`tests/outside_tool.rs`).
 //!
 //! Times come from the harness log in CPU cycles at 16 MHz (16 cycles a µs).
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod common;
+#[path = "../../../tests/outside_tool.rs"]
+mod outside_tool;
 
 use std::io::{BufRead, BufReader, Write};
 use std::path::{Path, PathBuf};
@@ -41,10 +43,7 @@ fn hil() -> Option<&'static Hil> {
     match HIL.get_or_init(build) {
         Ok(hil) => Some(hil),
         Err(why) => {
-            if std::env::var("ARMWRIGHT_STRICT").is_ok_and(|v| v == "1") {
-                panic!("ARMWRIGHT_STRICT=1 and the firmware test cannot run: {why}");
-            }
-            eprintln!("skipped: {why}");
+            outside_tool::cannot_run("the firmware test", why);
             None
         }
     }
@@ -790,6 +789,47 @@ fn a_link_to_the_firmware_reads_its_state_at_connect() {
     assert_eq!(link.device_status().map(|s| s.mode), Some(DeviceMode::Limp));
     drop(link);
     run.finish();
+}
+
+/// This test binary run again on one firmware test, with the AVR compiler pointed at nothing
+/// and the skip variables as given.
+fn run_without_the_compiler(allow_skip: bool) -> std::process::Output {
+    let mut command = Command::new(std::env::current_exe().expect("the test binary"));
+    command
+        .args([
+            "a_link_to_the_firmware_reads_its_state_at_connect",
+            "--exact",
+            "--nocapture",
+        ])
+        .env("ARMWRIGHT_AVR_GCC", "/nonexistent/avr-gcc")
+        .env_remove("ARMWRIGHT_STRICT")
+        .env_remove("ARMWRIGHT_ALLOW_SKIP");
+    if allow_skip {
+        command.env("ARMWRIGHT_ALLOW_SKIP", "1");
+    }
+    command.output().expect("the test binary runs")
+}
+
+#[test]
+fn a_missing_compiler_fails_the_firmware_test_unless_skipping_is_asked_for() {
+    // What a newcomer without the AVR tools sees: a failure that names the tool and the way
+    // out, not a quiet "ok".
+    let failed = run_without_the_compiler(false);
+    let text = String::from_utf8_lossy(&failed.stdout).into_owned()
+        + &String::from_utf8_lossy(&failed.stderr);
+    assert!(!failed.status.success(), "{text}");
+    assert!(
+        text.contains("the firmware test cannot run: /nonexistent/avr-gcc not found")
+            && text.contains("ARMWRIGHT_ALLOW_SKIP=1"),
+        "{text}"
+    );
+    let skipped = run_without_the_compiler(true);
+    let text = String::from_utf8_lossy(&skipped.stderr);
+    assert!(skipped.status.success(), "{text}");
+    assert!(
+        text.contains("skipped: the firmware test cannot run"),
+        "{text}"
+    );
 }
 
 #[test]

@@ -10,7 +10,7 @@ use serde_json::{Value, json};
 use super::Outcome;
 use super::report::{all_rounded, load_scene, print_json, problems_json, rounded};
 use crate::scene::{
-    JointKindDoc, Scene, SceneError, load, position_to_file_unit, sequence_problems,
+    JointKindDoc, Problem, Scene, SceneError, load, position_to_file_unit, sequence_problems,
 };
 
 /// Digits kept for mm and degrees in the description (1 nm, 1e-6 °): well below anything a
@@ -34,7 +34,13 @@ pub(crate) fn run(file: &Path, json: bool) -> Outcome {
     let description = describe(&scene, &arm);
     // An arm without a sequence serves pose, reach and envelope; the commands that move it say
     // why they cannot, and check says it first.
-    let notes = sequence_problems(&scene);
+    let mut notes = sequence_problems(&scene);
+    let channels = arm.joint_count() + usize::from(scene.arm.gripper.is_some());
+    if let Some(warning) =
+        super::stream::rate_above_capacity(scene.link.rate_hz, channels, scene.link.baud)
+    {
+        notes.push(Problem::new("link.rate_hz", warning));
+    }
     if json {
         print_json(&json!({
             "ok": true,

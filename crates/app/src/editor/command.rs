@@ -681,9 +681,9 @@ const VERTICAL_ACROSS: f64 = 0.5e-3;
 
 /// Stores the current pose at `at`. The new waypoint takes the settings of the one before it
 /// (move, profile, speed share, dwell, arrival); one stored straight above or below the one
-/// before it is a straight move, named for it ("20 mm below grip cube 1"), and one that leaves
+/// before it is a straight move, named for it ("20 mm below grip spacer 1"), and one that leaves
 /// such a vertical approach sideways is a joint move; one that only changes the gripper is
-/// named for that ("grip cube 1, gripper closed").
+/// named for that ("grip spacer 1, gripper closed").
 fn add_waypoint(state: &mut EditorState, at: usize) {
     let at = at.min(state.scene.waypoints.len());
     let pose = state.pose_in_file_units();

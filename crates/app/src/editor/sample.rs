@@ -1,6 +1,7 @@
 //! The scene the editor opens when no file is given: the bundled pen-plotter sample
 //! (`sample-scenes/pen-plotter.armwright.json`, built into the binary), or, should that ever fail
-//! to load, a small pen-plotting arm built here. Both are our own invented scenarios.
+//! to load, a small pen-holding arm built here that dots drill points on a panel. Both are our
+//! own invented scenarios.
 
 use crate::scene::field::filled;
 use crate::scene::field_table::{articulated, servo};
@@ -18,7 +19,8 @@ pub fn sample_scene() -> Scene {
     crate::scene::load_bytes(PEN_PLOTTER).unwrap_or_else(|_| built_in_scene())
 }
 
-/// A pen-plotting arm built in code, used if the bundled sample cannot be read.
+/// A pen-holding arm built in code, used if the bundled sample cannot be read: it takes the pen
+/// from its holder and dots two drill points on a panel.
 fn built_in_scene() -> Scene {
     let joint = |name: &str, min: f64, max: f64, home: f64, stall_ncm: f64, mass_g: f64| {
         JointDoc {
@@ -67,7 +69,8 @@ fn built_in_scene() -> Scene {
         ..Waypoint::default()
     };
     Scene {
-        description: "Pen plotter: draw a square on a sheet of paper (built-in sample)".into(),
+        description:
+            "Pen plotter: take the pen and dot two drill points on a panel (built-in sample)".into(),
         arm: ArmDoc {
             shape: ArmShape::Articulated4(filled(&[
                 (articulated::BASE_HEIGHT, 70.0),
@@ -103,12 +106,12 @@ fn built_in_scene() -> Scene {
                 GripperState::Closed,
             ),
             waypoint(
-                "corner A",
+                "drill point 1",
                 [-15.0, 40.0, -110.0, -20.0],
                 GripperState::Closed,
             ),
             waypoint(
-                "corner B",
+                "drill point 2",
                 [15.0, 40.0, -110.0, -20.0],
                 GripperState::Closed,
             ),
@@ -122,7 +125,7 @@ fn built_in_scene() -> Scene {
                 size_mm: [40.0, 40.0, 60.0],
             }],
             trays: vec![TrayDoc {
-                name: "paper tray".into(),
+                name: "panel".into(),
                 position_mm: [190.0, 40.0, 0.0],
                 size_mm: [120.0, 160.0, 8.0],
                 pockets: [1, 1],

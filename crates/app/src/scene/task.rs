@@ -257,7 +257,7 @@ mod tests {
 
     #[test]
     fn timing_written_back_reads_the_same() {
-        let scene = sample("cube-stacker.armwright.json");
+        let scene = sample("spacer-stacker.armwright.json");
         let arm = build_arm(&scene.arm).expect("sample arm");
         let task = task_of(&scene, &arm);
         let mut timing = task.timing();

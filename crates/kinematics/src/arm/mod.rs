@@ -25,6 +25,8 @@ pub use servo::ServoSpec;
 
 use nalgebra::{Isometry3, Vector3};
 
+use crate::fk::ToolChain;
+
 /// Largest number of movable joints an arm may have. Fixed so that hot paths use stack arrays.
 pub const MAX_JOINTS: usize = 8;
 
@@ -123,6 +125,8 @@ pub struct Arm {
     bodies: Vec<MassProperties>,
     payload_mass: f64,
     gripper: Option<Gripper>,
+    /// The joints and tool offset as the tool pose steps through them, worked out once.
+    tool_chain: ToolChain,
 }
 
 impl Arm {
@@ -156,6 +160,7 @@ impl Arm {
         }
         tool_mass.check("tool")?;
         let bodies = body_masses(&joints, &placement.tool, &tool_mass);
+        let tool_chain = ToolChain::of(&joints, &placement.tool);
         Ok(Arm {
             arm_type,
             joints,
@@ -163,7 +168,13 @@ impl Arm {
             bodies,
             payload_mass,
             gripper,
+            tool_chain,
         })
+    }
+
+    /// The precomputed chain [`crate::tool_pose`] runs on.
+    pub(crate) fn tool_chain(&self) -> &ToolChain {
+        &self.tool_chain
     }
 
     /// The arm type and its dimensions.

@@ -123,9 +123,57 @@ impl HostLine {
     }
 }
 
+/// Bytes on the wire for one setpoint line of `channels` channels, line feed included
+/// (`PROTOCOL.md` §7): kind, two sequence digits, `:`, four hex digits a channel, `/`, four
+/// check digits and the line feed.
+pub const fn setpoint_line_len(channels: usize) -> usize {
+    10 + 4 * channels
+}
+
+/// The most setpoint lines a second a serial link at `baud` (bit/s) carries for `channels`
+/// channels: 8N1 framing sends 10 bits a byte (`PROTOCOL.md` §1), so `baud / 10` bytes a second
+/// over [`setpoint_line_len`] bytes a line (`PROTOCOL.md` §7), before acknowledgements are
+/// counted on the other wire. A stream asked to run faster falls behind its schedule.
+///
+/// # Example
+/// ```
+/// use armwright_link::setpoint_capacity_hz;
+/// // Seven channels at 115 200 baud: 11 520 bytes/s over 38-byte lines.
+/// assert_eq!(setpoint_capacity_hz(7, 115_200).floor(), 303.0);
+/// ```
+pub fn setpoint_capacity_hz(channels: usize, baud: u32) -> f64 {
+    f64::from(baud) / 10.0 / setpoint_line_len(channels) as f64
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn setpoint_capacity_matches_the_protocol_sizes() {
+        // PROTOCOL.md §7: 34, 38 and 42 bytes for 6, 7 and 8 channels; at 115 200 baud 338
+        // frames/s for 6 channels and 303 for 7.
+        assert_eq!(
+            [6, 7, 8].map(setpoint_line_len),
+            [34, 38, 42],
+            "line lengths"
+        );
+        assert_eq!(setpoint_capacity_hz(6, 115_200).floor(), 338.0);
+        assert_eq!(setpoint_capacity_hz(7, 115_200).floor(), 303.0);
+        // The length is the encoder's, for every channel count.
+        for channels in 1..=crate::protocol::MAX_CHANNELS {
+            let values = ChannelValues::from_slice(&vec![0x0FFF; channels]).expect("fits");
+            let line = HostLine {
+                seq: 0xFE,
+                message: HostMessage::Setpoint(values),
+            };
+            assert_eq!(
+                line.encode().len(),
+                setpoint_line_len(channels),
+                "{channels}"
+            );
+        }
+    }
 
     fn parse(text: &str) -> Result<HostLine, ParseLineError> {
         HostLine::parse(text.as_bytes())

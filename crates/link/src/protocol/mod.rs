@@ -16,7 +16,7 @@ pub use device_message::{
     Ack, AckOutcome, ChannelOutput, DeviceInfo, DeviceLine, DeviceMessage, DeviceMode,
     DeviceStatus, Faults, FirmwareVersion,
 };
-pub use host_message::{HostLine, HostMessage};
+pub use host_message::{HostLine, HostMessage, setpoint_capacity_hz, setpoint_line_len};
 pub use line::{
     Assembled, ChannelValues, LineAssembler, LineBuf, LineErrorKind, MAX_CHANNELS, MAX_LINE_LEN,
     OLDEST_PROTOCOL_VERSION, PROTOCOL_VERSION, ParseLineError,

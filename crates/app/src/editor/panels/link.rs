@@ -79,6 +79,16 @@ pub fn link(ui: &mut Ui, state: &EditorState, view: &LinkView) -> Command {
     });
     if let Some(connection) = &view.connection {
         device_info(ui, view, connection);
+        let link = &state.scene.link;
+        let channels = usize::from(connection.info.channel_count);
+        if let Some(warning) =
+            crate::cli::stream::rate_above_capacity(link.rate_hz, channels, link.baud)
+        {
+            ui.colored_label(
+                Color32::from_rgb(255, 200, 0),
+                format!("link.rate_hz: {warning}"),
+            );
+        }
         ui.separator();
         command = command.then(stream_controls(ui, state, view));
         ui.separator();
@@ -388,6 +398,20 @@ mod tests {
             harness.state().2.last(),
             Some(&Command::Link(LinkAction::Stream))
         );
+    }
+
+    #[test]
+    fn a_rate_above_the_link_capacity_is_warned_in_one_line() {
+        let mut harness = connected();
+        harness.run();
+        assert!(
+            harness
+                .query_by_label_contains("is more than the link carries")
+                .is_none()
+        );
+        harness.state_mut().0.scene.link.rate_hz = 1000.0;
+        harness.run();
+        harness.get_by_label_contains("link.rate_hz: 1000 Hz is more than the link carries");
     }
 
     #[test]
