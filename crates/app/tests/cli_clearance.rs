@@ -41,9 +41,16 @@ fn a_move_through_the_table_is_refused_by_plan_and_simulate_naming_link_object_a
     let waypoints = plan["waypoints"].as_array().unwrap();
     let left_lift = waypoints[2]["departure_s"].as_f64().unwrap();
     let reached = waypoints[3]["arrival_s"].as_f64().unwrap();
-    // On the way down the gripper swings into the table first.
-    let down = contact(&plan, "commanded", "gripper", "above plate (1)");
+    // On the way down the cube carried in the gripper (since "grip spacer 1") swings into the
+    // table first.
+    let down = contact(
+        &plan,
+        "commanded",
+        "spacer 1 (carried by the gripper)",
+        "above plate (1)",
+    );
     assert_eq!(down["object"], "table");
+    assert_eq!(down["carried_object"], "spacer 1");
     let time = down["time_s"].as_f64().unwrap();
     assert!(time > left_lift && time < reached, "{time} s");
     // The move out starts in the table: the forearm, as deep as worked out by hand.
@@ -62,13 +69,19 @@ fn a_move_through_the_table_is_refused_by_plan_and_simulate_naming_link_object_a
     let sagged = contact(&run, "simulated", "forearm", "place spacer 1");
     assert_eq!(sagged["object"], "table");
     assert!(sagged["depth_mm"].as_f64().unwrap() > 0.0);
-    contact(&run, "commanded", "gripper", "above plate (1)");
+    contact(
+        &run,
+        "commanded",
+        "spacer 1 (carried by the gripper)",
+        "above plate (1)",
+    );
 
     for command in ["plan", "simulate"] {
         let (code, stdout, stderr) = armwright(&[command, &file]);
         assert_eq!(code, 1);
         assert!(
-            stdout.contains("gripper hits table at") && stdout.contains("\"above plate (1)\""),
+            stdout.contains("spacer 1 (carried by the gripper) hits table at")
+                && stdout.contains("\"above plate (1)\""),
             "{stdout}"
         );
         assert!(stderr.contains("hits something"), "{stderr}");

@@ -166,6 +166,7 @@ fn joint(draw: &mut Draw, kind: JointKindDoc, index: usize) -> JointDoc {
             ],
             pulse_min_us: draw.pulse(500, 700),
             pulse_max_us: draw.pulse(2300, 2500),
+            uncertainty: draw.flip().then(|| draw.range(0.0, 3.0)),
         },
         link: LinkMassDoc {
             mass_g: draw.range(0.0, 150.0),
@@ -225,6 +226,7 @@ fn scene(values: &[f64], description: String, port: String, rounded: bool) -> Sc
             } else {
                 GripperState::Closed
             },
+            placement_tolerance_mm: draw.flip().then(|| draw.range(0.5, 10.0)),
         })
         .collect();
     let open = draw.pulse(900, 1400);

@@ -1,44 +1,18 @@
 //! Clearance of a 100-waypoint, 5-joint pick-and-place style plan, looked at every 1 ms (a plan
-//! sampled at 1 kHz), against a table, three boxes and a tray and between its own links.
+//! sampled at 1 kHz), against a table, three boxes and a tray and between its own links. The
+//! sequence is the dry-run bench's (`common::hundred_waypoints`).
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
-#[path = "../../kinematics/tests/common/mod.rs"]
-mod arms;
+mod common;
 
 use armwright_kinematics::{ArmShape, Obstacle};
 use armwright_trajectory::{
-    ClearanceOptions, CommandedMotion, LimitSettings, ProfileShape, ServoModelOptions, Task,
-    TaskWaypoint, Workcell, plan_clearance, plan_task,
+    ClearanceOptions, CommandedMotion, Workcell, plan_clearance, plan_task,
 };
+use common::{arms, hundred_waypoints};
 use criterion::{Criterion, criterion_group, criterion_main};
 use nalgebra::Vector3;
 use std::hint::black_box;
-
-/// The dry-run bench's sequence: 100 stops of up to ±25° per joint around a working pose.
-fn hundred_waypoints() -> Task {
-    let mut rng = arms::Seeded::new(42);
-    let centre = [0.0, 0.9, -1.2, 0.3, 0.0];
-    let waypoints = (0..=100)
-        .map(|_| TaskWaypoint {
-            positions: centre
-                .iter()
-                .map(|c| c + rng.uniform(-25f64.to_radians(), 25f64.to_radians()))
-                .collect(),
-            stop: true,
-            dwell: 0.05,
-            speed_share: 1.0,
-            gripper_closed: rng.uniform(0.0, 1.0) < 0.5,
-            straight: false,
-            shape: ProfileShape::DoubleS,
-        })
-        .collect();
-    Task {
-        waypoints,
-        limits: LimitSettings::default(),
-        model: ServoModelOptions::default(),
-        shaping: None,
-    }
-}
 
 fn bench_clearance(c: &mut Criterion) {
     let arm = arms::articulated(true);
@@ -67,6 +41,7 @@ fn bench_clearance(c: &mut Criterion) {
         shape: &shape,
         obstacles: &obstacles,
         exemptions: &[],
+        carried: &[],
     };
     let options = ClearanceOptions::default();
     println!(

@@ -12,10 +12,16 @@
 //! or below the move's smallest clearance so far (less the resolution): conservative
 //! advancement, so dwells and far-apart pairs cost nothing, and the smallest clearance is exact
 //! to within the resolution at the looks.
+//!
+//! An object carried in the gripper ([`Carry`]) moves with the tool from the move after its pick
+//! up to and including the move into its place, and is checked against every other obstacle on
+//! those moves except what the gripper itself may touch there; its travel between looks is
+//! bounded by the tool link's plus its farthest point from the tool point times the joints'
+//! turn.
 
 use armwright_kinematics::{
-    Arm, ArmShape, KinematicsError, MAX_JOINTS, MAX_LINKS, Obstacle, Other, Pair, forward,
-    pair_distance, pair_distance_bound, tool_pose,
+    Arm, ArmShape, CarriedBox, ChainPose, JointKind, KinematicsError, MAX_JOINTS, MAX_LINKS,
+    Obstacle, Other, Pair, PlacedArm, forward, pair_distance, pair_distance_bound, tool_pose,
 };
 
 use crate::arm_plan::TaskWaypoint;
@@ -65,6 +71,25 @@ pub struct Exemption {
     pub obstacle: usize,
 }
 
+/// An object carried in the gripper on a run of moves.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Carry {
+    /// The first move (by the waypoint it leads into) on which it is carried: the one after the
+    /// pick.
+    pub first: usize,
+    /// The last move on which it is carried: the move into its place (or the last move, when it
+    /// is never put down).
+    pub last: usize,
+    /// The box and where it sits in the tool frame.
+    pub object: CarriedBox,
+    /// The obstacles it stands on where it is picked (within [`RESTING_ON`]), by index: left
+    /// out on the first move, which lifts it off them.
+    pub lifted_from: Vec<usize>,
+    /// The obstacles it stands on where it is put, by index: left out on the last move, which
+    /// sets it down on them.
+    pub put_on: Vec<usize>,
+}
+
 /// The arm, its collision shape, the obstacles and the pairs left out: what is checked.
 #[derive(Debug, Clone, Copy)]
 pub struct Workcell<'a> {
@@ -76,6 +101,8 @@ pub struct Workcell<'a> {
     pub obstacles: &'a [Obstacle],
     /// Pairs left out on some moves.
     pub exemptions: &'a [Exemption],
+    /// Objects carried in the gripper, each on its run of moves.
+    pub carried: &'a [Carry],
 }
 
 /// A contact: a link overlapping an obstacle or another link.
@@ -85,8 +112,12 @@ pub struct Contact {
     pub waypoint: usize,
     /// When it starts (the first look that finds it), in s from the start of the motion.
     pub time: f64,
-    /// The link and what it overlaps.
+    /// The link and what it overlaps. For a carried object, the link that carries it (the
+    /// gripper) and the obstacle it hits.
     pub pair: Pair,
+    /// The carried object (by its index in the obstacle list) that hits `pair.other`, when it
+    /// is the carried object rather than the link that does.
+    pub carried: Option<usize>,
     /// The deepest overlap of this pair on the move, in m.
     pub depth: f64,
 }
@@ -101,6 +132,9 @@ pub struct MoveClearance {
     pub min_clearance: f64,
     /// The pair at the smallest distance, if any was checked.
     pub closest: Option<Pair>,
+    /// The carried object of that pair (by obstacle index), when it is a carried object and
+    /// not the link.
+    pub closest_carried: Option<usize>,
     /// When the smallest distance was found, in s from the start of the motion.
     pub closest_time: f64,
     /// The move's first contact, if any.
@@ -178,9 +212,9 @@ pub fn dry_run_clearance(
 /// that works on what it touches: every one of its waypoints marks the objects that hold its
 /// tool point that way. For each, the tool link is left out against that object on the move
 /// into the waypoint and on the move out of it. An object picked (the gripper closes on it)
-/// rides in the gripper from then on: it is left out for every link on every later move. The
-/// object carried is not added to the arm's shape, nor is a placed object moved to where it
-/// was put.
+/// rides in the gripper from then on: it is left out for every link on every later move, and
+/// checked where it is carried instead ([`carried_objects`]). A placed object is not moved to
+/// where it was put.
 ///
 /// # Errors
 /// [`KinematicsError`] for a waypoint the arm cannot take.
@@ -229,6 +263,85 @@ pub fn grip_exemptions(
     Ok(exemptions)
 }
 
+/// The objects the gripper carries, and on which moves.
+///
+/// At a waypoint where the gripper closes (a pick), the object picked is the smallest box (by
+/// volume) among those [`grip_exemptions`] finds gripped there: a part in a tray is picked, not
+/// the tray. It keeps the place in the tool frame it had at the pick, and is carried from the
+/// move after the pick up to and including the move into the next waypoint where the gripper
+/// opens (its place), or to the end. An object that would stand more than
+/// [`SUNK_AT_PLACE`] deep in the table where it is put (or at the last waypoint, when it never
+/// is) is not carried: it is the fixture a part was taken from (a peg from a feeder, a pen from
+/// a holder), which stays. What it stands on at the pick and where it is put (within
+/// [`RESTING_ON`]) is left out on the move that lifts it off and the move that sets it down. An
+/// arm without a gripper carries nothing.
+///
+/// # Errors
+/// [`KinematicsError`] for a waypoint the arm cannot take.
+pub fn carried_objects(
+    arm: &Arm,
+    shape: &ArmShape,
+    obstacles: &[Obstacle],
+    waypoints: &[TaskWaypoint],
+) -> Result<Vec<Carry>, KinematicsError> {
+    if arm.gripper().is_none() {
+        return Ok(Vec::new());
+    }
+    let radius = shape.links()[shape.tool_link()].radius;
+    let mut carried = Vec::new();
+    for (pick, here) in waypoints.iter().enumerate().skip(1) {
+        if !here.gripper_closed || waypoints[pick - 1].gripper_closed {
+            continue;
+        }
+        let tool = tool_pose(arm, &here.positions)?;
+        let point = tool.translation.vector;
+        let picked = obstacles
+            .iter()
+            .enumerate()
+            .filter(|(_, o)| !o.is_table() && o.holds(&point, radius))
+            .filter_map(|(index, o)| CarriedBox::picked(index, o, &tool))
+            .min_by(|a, b| a.half_size.product().total_cmp(&b.half_size.product()));
+        let Some(object) = picked else {
+            continue;
+        };
+        let place = (pick + 1..waypoints.len())
+            .find(|&w| !waypoints[w].gripper_closed)
+            .unwrap_or(waypoints.len() - 1);
+        let put = tool_pose(arm, &waypoints[place].positions)?;
+        let sunk = obstacles
+            .iter()
+            .filter(|o| o.is_table())
+            .any(|table| object.distance(&put, table) < -SUNK_AT_PLACE);
+        if pick < place && !sunk {
+            let resting_on = |tool: &nalgebra::Isometry3<f64>| -> Vec<usize> {
+                (0..obstacles.len())
+                    .filter(|&o| {
+                        o != object.obstacle && object.distance(tool, &obstacles[o]) <= RESTING_ON
+                    })
+                    .collect()
+            };
+            let (lifted_from, put_on) = (resting_on(&tool), resting_on(&put));
+            carried.push(Carry {
+                first: pick + 1,
+                last: place,
+                object,
+                lifted_from,
+                put_on,
+            });
+        }
+    }
+    Ok(carried)
+}
+
+/// How near an obstacle (m) a carried object may be at its pick or place and count as standing
+/// on it: 2 mm (our choice: the arm sags and overshoots by about that much at a stop, and pushes
+/// the object onto what it stands on rather than through it).
+pub const RESTING_ON: f64 = 2e-3;
+
+/// How deep in the table an object may stand where it is put and still count as carried there,
+/// in m: 1 mm, for a place taught a little low (our choice).
+pub const SUNK_AT_PLACE: f64 = 1e-3;
+
 /// Walks the motion move by move, `positions` giving the joints at any time (s).
 fn walk(
     cell: &Workcell<'_>,
@@ -252,6 +365,13 @@ fn walk(
     let mut here = [0.0; MAX_JOINTS];
     let mut next = [0.0; MAX_JOINTS];
     let mut sweep = [0.0; MAX_LINKS];
+    let revolute: Vec<bool> = cell
+        .arm
+        .joints()
+        .iter()
+        .map(|joint| joint.kind == JointKind::Revolute)
+        .collect();
+    let tool_link = cell.shape.tool_link();
     let mut moves = Vec::with_capacity(timings.len());
     let mut start = 0.0_f64;
     for (waypoint, timing) in timings.iter().enumerate() {
@@ -265,7 +385,8 @@ fn walk(
             .copied()
             .filter(|pair| !exempt(cell.exemptions, waypoint, *pair))
             .collect();
-        let mut look = Look::new(waypoint, active, cell.obstacles, options);
+        let carried = carried_checks(cell, waypoint, tool_link);
+        let mut look = Look::new(waypoint, active, carried, cell.obstacles, options);
         let mut t = start;
         positions(t, &mut here[..n]);
         loop {
@@ -282,7 +403,12 @@ fn walk(
                 positions(t + dt, &mut next[..n]);
                 cell.shape.sweep(&here[..n], &next[..n], &mut sweep);
             }
-            look.moved(&sweep);
+            // The joints' turn bounds how far a carried object swings about the tool point.
+            let turn: f64 = (0..n)
+                .filter(|&j| revolute[j])
+                .map(|j| (next[j] - here[j]).abs())
+                .sum();
+            look.moved(&sweep, turn);
             t = if end - (t + dt) < 1e-12 { end } else { t + dt };
             here = next;
         }
@@ -290,6 +416,36 @@ fn walk(
         start = end;
     }
     Clearance { moves }
+}
+
+/// The carried objects' checks on the move into `waypoint`: each object carried on it against
+/// every other obstacle the gripper is not exempt from there.
+fn carried_checks(cell: &Workcell<'_>, waypoint: usize, tool_link: usize) -> Vec<CarriedCheck> {
+    let mut checks = Vec::new();
+    for (carry, held) in cell.carried.iter().enumerate() {
+        if !(held.first..=held.last).contains(&waypoint) {
+            continue;
+        }
+        for obstacle in 0..cell.obstacles.len() {
+            let pair = Pair {
+                link: tool_link,
+                other: Other::Obstacle(obstacle),
+            };
+            let resting = (waypoint == held.first && held.lifted_from.contains(&obstacle))
+                || (waypoint == held.last && held.put_on.contains(&obstacle));
+            if obstacle != held.object.obstacle
+                && !resting
+                && !exempt(cell.exemptions, waypoint, pair)
+            {
+                checks.push(CarriedCheck {
+                    carry,
+                    pair,
+                    last: (f64::NEG_INFINITY, 0.0),
+                });
+            }
+        }
+    }
+    checks
 }
 
 fn exempt(exemptions: &[Exemption], waypoint: usize, pair: Pair) -> bool {
@@ -301,6 +457,14 @@ fn exempt(exemptions: &[Exemption], waypoint: usize, pair: Pair) -> bool {
             && e.obstacle == obstacle
             && e.link.is_none_or(|link| link == pair.link)
     })
+}
+
+/// A carried object against one obstacle: the gripper's link and the obstacle, and the
+/// distance at its last measurement (m) with the object's travel then (m).
+struct CarriedCheck {
+    carry: usize,
+    pair: Pair,
+    last: (f64, f64),
 }
 
 /// One move's bookkeeping: each pair's last distance and how far its links have moved since.
@@ -315,12 +479,18 @@ struct Look<'o> {
     /// Per pair: whether the other side is a box (whose distance query is iterative, so a cheap
     /// bound goes first).
     boxed: Vec<bool>,
+    /// The carried objects' checks on this move.
+    carried: Vec<CarriedCheck>,
+    /// The joints' summed turn since the move began, in rad (a bound of a carried object's
+    /// swing per m of its reach from the tool point).
+    turn: f64,
 }
 
 impl<'o> Look<'o> {
     fn new(
         waypoint: usize,
         pairs: Vec<Pair>,
+        carried: Vec<CarriedCheck>,
         obstacles: &[Obstacle],
         options: &'o ClearanceOptions,
     ) -> Look<'o> {
@@ -338,19 +508,23 @@ impl<'o> Look<'o> {
                 waypoint,
                 min_clearance: f64::INFINITY,
                 closest: None,
+                closest_carried: None,
                 closest_time: 0.0,
                 first_contact: None,
             },
             last: vec![(f64::NEG_INFINITY, 0.0, 0.0); pairs.len()],
             pairs,
             travel: [0.0; MAX_LINKS],
+            carried,
+            turn: 0.0,
         }
     }
 
-    fn moved(&mut self, sweep: &[f64]) {
+    fn moved(&mut self, sweep: &[f64], turn: f64) {
         for (travel, step) in self.travel.iter_mut().zip(sweep) {
             *travel += step;
         }
+        self.turn += turn;
     }
 
     fn travel_of(&self, other: Other) -> f64 {
@@ -360,61 +534,113 @@ impl<'o> Look<'o> {
         }
     }
 
+    /// The smallest distance worth measuring again: a pair whose lowest possible distance lies
+    /// above this is skipped.
+    fn threshold(&self) -> f64 {
+        let smallest = self.result.min_clearance;
+        let resolution = self
+            .options
+            .resolution
+            .max(self.options.relative_resolution * smallest);
+        smallest - resolution
+    }
+
     fn at(&mut self, cell: &Workcell<'_>, t: f64, positions: &[f64]) {
-        let mut placed = None;
+        let mut pose: Option<(ChainPose, PlacedArm)> = None;
+        let placed_pose = |pose: &mut Option<(ChainPose, PlacedArm)>| -> bool {
+            if pose.is_none() {
+                match forward(cell.arm, positions) {
+                    Ok(chain) => {
+                        let placed = cell.shape.place(&chain);
+                        *pose = Some((chain, placed));
+                    }
+                    Err(_) => return false,
+                }
+            }
+            true
+        };
         for index in 0..self.pairs.len() {
             let pair = self.pairs[index];
             let (distance, link_then, other_then) = self.last[index];
             let (link_now, other_now) = (self.travel[pair.link], self.travel_of(pair.other));
             let lowest = distance - (link_now - link_then) - (other_now - other_then);
-            let smallest = self.result.min_clearance;
-            let resolution = self
-                .options
-                .resolution
-                .max(self.options.relative_resolution * smallest);
-            if lowest > 0.0 && lowest >= smallest - resolution {
+            let threshold = self.threshold();
+            if lowest > 0.0 && lowest >= threshold {
                 continue;
             }
-            if placed.is_none() {
-                match forward(cell.arm, positions) {
-                    Ok(pose) => placed = Some(cell.shape.place(&pose)),
-                    Err(_) => return,
-                }
+            if !placed_pose(&mut pose) {
+                return;
             }
-            let Some(placed) = placed.as_ref() else {
+            let Some((_, placed)) = pose.as_ref() else {
                 return;
             };
             // A cheap lower bound first: when it clears the threshold, it serves as well as the
             // distance for the next skip.
             if self.boxed[index] {
                 let bound = pair_distance_bound(cell.shape, placed, cell.obstacles, pair);
-                if bound > 0.0 && bound >= smallest - resolution {
+                if bound > 0.0 && bound >= threshold {
                     self.last[index] = (bound, link_now, other_now);
                     continue;
                 }
             }
             let distance = pair_distance(cell.shape, placed, cell.obstacles, pair);
             self.last[index] = (distance, link_now, other_now);
-            if distance < self.result.min_clearance {
-                self.result.min_clearance = distance;
-                self.result.closest = Some(pair);
-                self.result.closest_time = t;
+            self.record(t, pair, None, distance);
+        }
+        for index in 0..self.carried.len() {
+            let check = &self.carried[index];
+            let Some(held) = cell.carried.get(check.carry) else {
+                continue;
+            };
+            let travel = self.travel[check.pair.link] + held.object.extent * self.turn;
+            let (distance, then) = check.last;
+            let lowest = distance - (travel - then);
+            if lowest > 0.0 && lowest >= self.threshold() {
+                continue;
             }
-            if distance < -self.options.touch_tolerance {
-                match &mut self.result.first_contact {
-                    None => {
-                        self.result.first_contact = Some(Contact {
-                            waypoint: self.result.waypoint,
-                            time: t,
-                            pair,
-                            depth: -distance,
-                        })
-                    }
-                    Some(contact) if contact.pair == pair => {
-                        contact.depth = contact.depth.max(-distance)
-                    }
-                    Some(_) => {}
+            if !placed_pose(&mut pose) {
+                return;
+            }
+            let Some((chain, _)) = pose.as_ref() else {
+                return;
+            };
+            let Other::Obstacle(obstacle) = check.pair.other else {
+                continue;
+            };
+            let Some(obstacle) = cell.obstacles.get(obstacle) else {
+                continue;
+            };
+            let distance = held.object.distance(chain.tool(), obstacle);
+            let pair = check.pair;
+            self.carried[index].last = (distance, travel);
+            self.record(t, pair, Some(held.object.obstacle), distance);
+        }
+    }
+
+    /// Notes one measurement: `pair` (with its carried object, if that is what was measured)
+    /// at `distance` m at time `t` s.
+    fn record(&mut self, t: f64, pair: Pair, carried: Option<usize>, distance: f64) {
+        if distance < self.result.min_clearance {
+            self.result.min_clearance = distance;
+            self.result.closest = Some(pair);
+            self.result.closest_carried = carried;
+            self.result.closest_time = t;
+        }
+        if distance < -self.options.touch_tolerance {
+            match &mut self.result.first_contact {
+                None => {
+                    self.result.first_contact = Some(Contact {
+                        waypoint: self.result.waypoint,
+                        time: t,
+                        pair,
+                        carried,
+                        depth: -distance,
+                    })
                 }
+                Some(contact) if contact.pair == pair && contact.carried == carried => {
+                    contact.depth = contact.depth.max(-distance)
+                }
+                Some(_) => {}
             }
         }
     }

@@ -54,7 +54,7 @@ mod sync; // several joints of one move: start and end together, slowest sets th
 
 pub use crate::arm_limits::{LimitError, LimitSettings, limits_from_arm};
 pub use crate::arm_plan::{PlanError, Task, TaskPlan, TaskPlanner, TaskWaypoint, plan_task};
-pub use crate::clearance::*; // Clearance, ClearanceOptions, Workcell, plan_clearance, dry_run_clearance, grip_exemptions
+pub use crate::clearance::*; // Clearance, ClearanceOptions, Workcell, Carry, plan_clearance, dry_run_clearance, grip_exemptions, carried_objects
 pub use crate::dry_run::{
     CommandedMotion, DryRun, DryRunError, DryRunOptions, GRIPPER_TIME, WaypointResult,
     WaypointTiming, dry_run, gripper_moment,

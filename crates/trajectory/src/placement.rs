@@ -5,8 +5,9 @@
 //! offset (deadband and gravity sag as the servo model predicts them, taken as fixed) plus, per
 //! joint, three independent spreads about it: where inside its deadband the servo stops
 //! (uniform over ± half the deadband), where inside the gear play the link sits (uniform over ±
-//! half the backlash), and how far the calibration is off (Gaussian, a stated default). Two
-//! estimates:
+//! half the backlash), and how far the calibration is off (Gaussian: the joint's own calibration
+//! uncertainty where it has one — from its calibration fit's residuals, or stated — else a
+//! default). Two estimates:
 //!
 //! - **Monte Carlo**: `draws` seeded draws of every joint's error, each turned into a tool point
 //!   by forward kinematics (no linearisation);
@@ -33,6 +34,11 @@ pub struct PlacementOptions {
     /// Standard deviation of each sliding joint's calibration error, in m. Default 0.5 mm (from
     /// memory).
     pub calibration_sd_sliding: f64,
+    /// Each joint's own calibration uncertainty (the standard deviation of its calibration
+    /// error), in rad or m, by joint index: where one is given it replaces
+    /// [`PlacementOptions::calibration_sd`] (or `calibration_sd_sliding`) for that joint. Default:
+    /// none given.
+    pub joint_calibration_sd: [Option<f64>; MAX_JOINTS],
     /// Monte Carlo draws. Default 4000: the share's standard error is then at most
     /// √(0.25 / 4000) ≈ 0.008.
     pub draws: usize,
@@ -46,9 +52,22 @@ impl Default for PlacementOptions {
             tolerance: 2e-3,
             calibration_sd: 0.5_f64.to_radians(),
             calibration_sd_sliding: 0.5e-3,
+            joint_calibration_sd: [None; MAX_JOINTS],
             draws: 4000,
             seed: 0x05EE_D0FA_1ACE,
         }
+    }
+}
+
+impl PlacementOptions {
+    /// Joint `joint`'s own calibration uncertainty (rad or m), when it has a usable one: finite
+    /// and not negative.
+    fn calibration_sd_of(&self, joint: usize) -> Option<f64> {
+        self.joint_calibration_sd
+            .get(joint)
+            .copied()
+            .flatten()
+            .filter(|sd| sd.is_finite() && *sd >= 0.0)
     }
 }
 
@@ -93,10 +112,10 @@ pub fn placement_estimate(
             .calibration
             .position_per_us(joint.servo.deadband_us / 2.0);
         backlash[j] = joint.servo.backlash * joint.servo.drive_ratio / 2.0;
-        calibration[j] = match joint.kind {
+        calibration[j] = options.calibration_sd_of(j).unwrap_or(match joint.kind {
             JointKind::Revolute => options.calibration_sd,
             JointKind::Prismatic => options.calibration_sd_sliding,
-        };
+        });
     }
 
     // Linearised: horizontal rows of the tool Jacobian, covariance J diag(s²) Jᵀ, where a

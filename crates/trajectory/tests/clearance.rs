@@ -8,7 +8,8 @@ mod arms;
 use armwright_kinematics::{ArmShape, Obstacle, Other, forward, pair_distance, pose_proximities};
 use armwright_trajectory::{
     ClearanceOptions, CommandedMotion, LimitSettings, ProfileShape, ServoModelOptions, ServoTrace,
-    Task, TaskWaypoint, Workcell, dry_run_clearance, grip_exemptions, plan_clearance, plan_task,
+    Task, TaskWaypoint, Workcell, carried_objects, dry_run_clearance, grip_exemptions,
+    plan_clearance, plan_task,
 };
 use nalgebra::Vector3;
 
@@ -55,6 +56,7 @@ fn a_move_through_the_table_is_a_contact_with_link_object_and_time() {
         shape: &shape,
         obstacles: &obstacles,
         exemptions: &[],
+        carried: &[],
     };
     let options = ClearanceOptions::default();
     let clearance = plan_clearance(&cell, &plan, plan.timings(), &options);
@@ -113,6 +115,7 @@ fn a_clear_plan_reports_the_clearance_worked_by_hand() {
         shape: &shape,
         obstacles: &obstacles,
         exemptions: &[],
+        carried: &[],
     };
     let clearance = plan_clearance(&cell, &plan, plan.timings(), &ClearanceOptions::default());
     assert!(clearance.contacts().next().is_none());
@@ -160,6 +163,7 @@ fn skipping_far_pairs_finds_what_looking_at_every_pair_every_quarter_millisecond
         shape: &shape,
         obstacles: &obstacles,
         exemptions: &[],
+        carried: &[],
     };
     let options = ClearanceOptions::default();
     let clearance = plan_clearance(&cell, &plan, plan.timings(), &options);
@@ -253,6 +257,7 @@ fn the_dry_run_motion_is_checked_where_the_plan_is_clear() {
         shape: &shape,
         obstacles: &obstacles,
         exemptions: &[],
+        carried: &[],
     };
     let clearance = dry_run_clearance(&cell, &trace, &timings, &ClearanceOptions::default());
     assert!(clearance.moves[0].first_contact.is_none());
@@ -304,14 +309,237 @@ fn a_picked_object_is_left_out_for_the_gripper_then_for_every_link() {
         shape: &shape,
         obstacles: &obstacles,
         exemptions: &exemptions,
+        carried: &[],
     };
     let options = ClearanceOptions::default();
     let clear = plan_clearance(&exempted, &plan, plan.timings(), &options);
     assert!(clear.contacts().next().is_none());
     let strict = Workcell {
         exemptions: &[],
+        carried: &[],
         ..exempted
     };
     let refused = plan_clearance(&strict, &plan, plan.timings(), &options);
     assert_eq!(refused.contacts().next().unwrap().waypoint, 1);
+}
+
+/// The sample articulated arm of four joints, with a gripper.
+fn articulated_with_gripper() -> armwright_kinematics::Arm {
+    use armwright_kinematics::{
+        Arm, ArmDescription, ArmType, ArticulatedDims, Gripper, MassProperties,
+    };
+    use std::f64::consts::PI;
+    Arm::new(ArmDescription {
+        arm_type: ArmType::Articulated4(ArticulatedDims {
+            base_height: 0.09,
+            upper_arm: 0.12,
+            forearm: 0.11,
+            wrist_to_tool: 0.07,
+        }),
+        joints: vec![
+            arms::joint(
+                "base",
+                -PI / 2.0,
+                PI / 2.0,
+                MassProperties::point(0.03, Vector3::zeros()),
+            ),
+            arms::joint(
+                "shoulder",
+                -0.2,
+                PI - 0.2,
+                MassProperties::rod_along_x(0.05, 0.12),
+            ),
+            arms::joint("elbow", -2.5, 2.5, MassProperties::rod_along_x(0.04, 0.11)),
+            arms::joint(
+                "wrist",
+                -PI / 2.0,
+                PI / 2.0,
+                MassProperties::rod_along_x(0.02, 0.05),
+            ),
+        ],
+        tool_mass: MassProperties::point(0.03, Vector3::zeros()),
+        payload_mass: 0.025,
+        gripper: Some(Gripper {
+            open_pulse_us: 1200.0,
+            closed_pulse_us: 1800.0,
+        }),
+    })
+    .expect("arm is valid")
+}
+
+#[test]
+fn a_carried_box_dragged_through_another_obstacle_is_a_contact_of_the_box() {
+    // Pick a 30 mm cube, lift it, swing the base with it and put it down. A low wall stands on
+    // the swing's path, its top below the carried cube's bottom but above every link: the cube
+    // hits it; the arm alone passes over.
+    let arm = articulated_with_gripper();
+    let shape = ArmShape::of(&arm);
+    let (low, high) = ([0.0, 0.35, -1.35, -0.55], [0.0, 0.55, -1.35, -0.75]);
+    let turned = |pose: [f64; 4], yaw: f64| [yaw, pose[1], pose[2], pose[3]];
+    let swing = 0.8;
+    let tool_at = |pose: &[f64]| armwright_kinematics::tool_pose(&arm, pose).unwrap();
+    let pick = tool_at(&low).translation.vector;
+    let cube = Obstacle::standing_box(
+        "cube",
+        Vector3::new(pick.x, pick.y, pick.z - 0.015),
+        Vector3::repeat(0.03),
+    );
+    // How low the cube and the links come on the swing (its middle, where the wall stands).
+    let middle = turned(high, swing / 2.0);
+    let held = armwright_kinematics::CarriedBox::picked(0, &cube, &tool_at(&low)).unwrap();
+    let placed = held.placed(&tool_at(&middle));
+    let cube_bottom = (0..8)
+        .map(|corner| {
+            let sign = |bit: usize| if corner & bit == 0 { -1.0 } else { 1.0 };
+            let local = Vector3::new(
+                sign(1) * held.half_size.x,
+                sign(2) * held.half_size.y,
+                sign(4) * held.half_size.z,
+            );
+            (placed * nalgebra::Point3::from(local)).z
+        })
+        .fold(f64::INFINITY, f64::min);
+    let links = shape.place(&forward(&arm, &middle).unwrap());
+    // The base column stands at the base, far from the wall.
+    let links_bottom = links
+        .segments()
+        .iter()
+        .zip(shape.links())
+        .skip(1)
+        .map(|((a, b), link)| a.z.min(b.z) - link.radius)
+        .fold(f64::INFINITY, f64::min);
+    assert!(
+        links_bottom - cube_bottom > 0.006,
+        "the cube must hang below the links: cube {cube_bottom}, links {links_bottom}"
+    );
+    let wall_top = (cube_bottom + links_bottom) / 2.0;
+    let centre = tool_at(&middle).translation.vector;
+    let wall = Obstacle::standing_box(
+        "wall",
+        Vector3::new(centre.x, centre.y, wall_top - 0.05),
+        Vector3::new(0.03, 0.03, 0.05),
+    );
+    // The cube stands on the table, and is put down on it again.
+    let obstacles = [cube, wall, Obstacle::table(pick.z - 0.015)];
+    let waypoints = vec![
+        stop(high, false),
+        stop(low, true),
+        stop(high, true),
+        stop(turned(high, swing), true),
+        stop(turned(low, swing), false),
+        stop(turned(high, swing), false),
+    ];
+    let exemptions = grip_exemptions(&arm, &shape, &obstacles, &waypoints).unwrap();
+    let carried = carried_objects(&arm, &shape, &obstacles, &waypoints).unwrap();
+    assert_eq!(carried.len(), 1);
+    assert_eq!((carried[0].first, carried[0].last), (2, 4));
+    assert_eq!(carried[0].object.obstacle, 0);
+    let plan = plan_task(&arm, &task(waypoints)).unwrap();
+    let cell = Workcell {
+        arm: &arm,
+        shape: &shape,
+        obstacles: &obstacles,
+        exemptions: &exemptions,
+        carried: &carried,
+    };
+    let options = ClearanceOptions::default();
+    let clearance = plan_clearance(&cell, &plan, plan.timings(), &options);
+    let contacts: Vec<_> = clearance.contacts().collect();
+    assert_eq!(contacts.len(), 1, "{contacts:?}");
+    let contact = contacts[0];
+    assert_eq!(contact.waypoint, 3);
+    assert_eq!(contact.carried, Some(0));
+    assert_eq!(contact.pair.other, Other::Obstacle(1));
+    let timing = plan.timings()[3];
+    assert!(contact.time > plan.timings()[2].departure && contact.time < timing.arrival);
+    // About as deep as the wall's top stands above the cube's bottom at the middle.
+    let depth = wall_top - cube_bottom;
+    assert!(
+        contact.depth > 0.5 * depth && contact.depth < depth + 1e-3,
+        "{} vs {depth}",
+        contact.depth
+    );
+    // The arm alone clears the wall.
+    let bare = Workcell {
+        carried: &[],
+        ..cell
+    };
+    assert!(
+        plan_clearance(&bare, &plan, plan.timings(), &options)
+            .contacts()
+            .next()
+            .is_none()
+    );
+    // Against looking at every 0.25 ms: the same smallest clearance on the swing, within the
+    // resolution.
+    let fine = ClearanceOptions {
+        interval: 2.5e-4,
+        max_step: 1e-4,
+        resolution: 0.0,
+        relative_resolution: 0.0,
+        ..options
+    };
+    let exact = plan_clearance(&cell, &plan, plan.timings(), &fine);
+    assert!(
+        (exact.moves[3].min_clearance - clearance.moves[3].min_clearance).abs() < 2e-4,
+        "{} vs {}",
+        exact.moves[3].min_clearance,
+        clearance.moves[3].min_clearance
+    );
+}
+
+#[test]
+fn a_fixture_a_part_is_taken_from_is_not_carried() {
+    // The same pick, out of a 65 mm feeder whose top stands 5 mm above the tool point; the part
+    // is put down 30 mm or more lower, where the feeder would stand as deep in the table, so the
+    // feeder stays.
+    let arm = articulated_with_gripper();
+    let shape = ArmShape::of(&arm);
+    let (low, high) = ([0.0, 0.35, -1.35, -0.55], [0.0, 0.55, -1.35, -0.75]);
+    let turned = |pose: [f64; 4], yaw: f64| [yaw, pose[1], pose[2], pose[3]];
+    let pick = armwright_kinematics::tool_pose(&arm, &low)
+        .unwrap()
+        .translation
+        .vector;
+    let table = pick.z - 0.06;
+    let obstacles = [
+        Obstacle::standing_box(
+            "feeder",
+            Vector3::new(pick.x, pick.y, table),
+            Vector3::new(0.03, 0.03, 0.065),
+        ),
+        Obstacle::table(table),
+    ];
+    let lower = (0..8)
+        .map(|step| [0.8, 0.35 - 0.05 * f64::from(step), -1.35, -0.55])
+        .find(|pose| {
+            let z = armwright_kinematics::tool_pose(&arm, pose)
+                .unwrap()
+                .translation
+                .vector
+                .z;
+            z < pick.z - 0.03
+        })
+        .expect("a place 30 mm below the pick");
+    let waypoints = vec![
+        stop(high, false),
+        stop(low, true),
+        stop(high, true),
+        stop(lower, false),
+    ];
+    let carried = carried_objects(&arm, &shape, &obstacles, &waypoints).unwrap();
+    assert!(carried.is_empty(), "{carried:?}");
+    // Put down where it was, it would be carried.
+    let back = vec![
+        stop(high, false),
+        stop(low, true),
+        stop(high, true),
+        stop(turned(low, 0.8), false),
+    ];
+    assert_eq!(
+        carried_objects(&arm, &shape, &obstacles, &back)
+            .unwrap()
+            .len(),
+        1
+    );
 }

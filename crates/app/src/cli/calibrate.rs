@@ -115,7 +115,7 @@ pub(crate) fn run(file: &Path, request: &CalibrateRequest, json: bool) -> Outcom
         }
     };
     let written = match request.write {
-        Some(out) => match write_fit(&scene, index, &fit, out) {
+        Some(out) => match write_fit(&scene, index, &fit, &readings, out) {
             Ok(()) => Some(out),
             Err(message) => return fail(json, &message, json!({}), Outcome::Refused),
         },
@@ -225,9 +225,24 @@ impl FitReport {
     }
 }
 
+/// The calibration uncertainty a straight-line fit leaves, in rad or m: the residual standard
+/// error √(Σ r² / (n − 2)) of the line through `n` readings (Draper & Smith, *Applied Regression
+/// Analysis*, 3rd ed., 1998, §1.4; from memory). `None` for two readings, which any line meets.
+fn line_uncertainty(line_residuals: &[f64]) -> Option<f64> {
+    let n = line_residuals.len();
+    (n > 2).then(|| (line_residuals.iter().map(|r| r * r).sum::<f64>() / (n - 2) as f64).sqrt())
+}
+
 /// Saves the scene with joint `index`'s calibration points replaced by the straight-line fit
-/// at the ends of the measured pulse range, after checking the whole scene again.
-fn write_fit(scene: &Scene, index: usize, fit: &CalibrationFit, out: &Path) -> Result<(), String> {
+/// at the ends of the measured pulse range, and its uncertainty by the line's residual standard
+/// error ([`line_uncertainty`]; absent for two points), after checking the whole scene again.
+fn write_fit(
+    scene: &Scene,
+    index: usize,
+    fit: &CalibrationFit,
+    readings: &[CalibrationReading],
+    out: &Path,
+) -> Result<(), String> {
     let mut scene = scene.clone();
     let kind = scene.arm.shape.joint_kinds()[index];
     let from_si = match kind {
@@ -250,6 +265,8 @@ fn write_fit(scene: &Scene, index: usize, fit: &CalibrationFit, out: &Path) -> R
             pulse_us: line.pulse_b_us as u32,
         },
     ];
+    joint.calibration.uncertainty = line_uncertainty(&fit.line_residuals(readings))
+        .map(|sd| (sd * from_si * 1e4).round() / 1e4);
     let problems = validate(&scene);
     if !problems.is_empty() {
         let listed: Vec<String> = problems.iter().map(|p| p.to_string()).collect();

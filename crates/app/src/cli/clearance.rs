@@ -4,13 +4,13 @@
 
 use armwright_kinematics::{Arm, ArmShape, Obstacle, Other};
 use armwright_trajectory::{
-    Clearance, ClearanceOptions, Contact, ServoTrace, TaskPlan, Workcell, dry_run_clearance,
-    plan_clearance,
+    Carry, Clearance, ClearanceOptions, Contact, Exemption, ServoTrace, TaskPlan, Workcell,
+    dry_run_clearance, plan_clearance,
 };
 use serde_json::{Value, json};
 
 use super::report::rounded;
-use crate::scene::{Scene, arm_shape_of, exemptions_of, obstacles_of};
+use crate::scene::{Scene, arm_shape_of, carried_of, exemptions_of, obstacles_of};
 
 /// Which motion a clearance was looked at along.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -30,25 +30,44 @@ impl Motion {
     }
 }
 
-/// The scene's collision geometry: the arm's shape and the obstacles, and what picks leave out.
+/// The scene's collision geometry: the arm's shape and the obstacles, what picks leave out and
+/// what the gripper carries.
 pub(crate) struct SceneCell {
     shape: ArmShape,
     obstacles: Vec<Obstacle>,
-    exemptions: Vec<armwright_trajectory::Exemption>,
+    exemptions: Vec<Exemption>,
+    carried: Vec<Carry>,
 }
 
 impl SceneCell {
     /// The geometry of `scene` on `arm`; a waypoint the arm cannot take leaves no exemptions
-    /// (planning has refused such a scene already).
+    /// and nothing carried (planning has refused such a scene already).
     pub(crate) fn of(scene: &Scene, arm: &Arm) -> SceneCell {
         let shape = arm_shape_of(scene, arm);
         let obstacles = obstacles_of(scene);
         let exemptions = exemptions_of(scene, arm, &shape, &obstacles).unwrap_or_default();
+        let carried = carried_of(scene, arm, &shape, &obstacles).unwrap_or_default();
         SceneCell {
             shape,
             obstacles,
             exemptions,
+            carried,
         }
+    }
+
+    /// The arm's links as capsules.
+    pub(crate) fn shape(&self) -> &ArmShape {
+        &self.shape
+    }
+
+    /// The workspace's obstacles.
+    pub(crate) fn obstacles(&self) -> &[Obstacle] {
+        &self.obstacles
+    }
+
+    /// The objects the gripper carries, and on which moves.
+    pub(crate) fn carried(&self) -> &[Carry] {
+        &self.carried
     }
 
     fn workcell<'a>(&'a self, arm: &'a Arm) -> Workcell<'a> {
@@ -57,6 +76,7 @@ impl SceneCell {
             shape: &self.shape,
             obstacles: &self.obstacles,
             exemptions: &self.exemptions,
+            carried: &self.carried,
         }
     }
 
@@ -78,7 +98,7 @@ impl SceneCell {
     }
 
     /// What a pair's other side is called: an obstacle's name or a link's.
-    fn object_name(&self, other: Other) -> &str {
+    pub(crate) fn object_name(&self, other: Other) -> &str {
         match other {
             Other::Obstacle(index) => self.obstacles.get(index).map_or("?", |o| &o.name),
             Other::Link(index) => self.shape.links().get(index).map_or("?", |l| &l.name),
@@ -89,6 +109,19 @@ impl SceneCell {
         self.shape.links().get(link).map_or("?", |l| &l.name)
     }
 
+    /// What hits: the link's name, or for an object carried in the gripper "`<object>` (carried
+    /// by the `<link>`)".
+    pub(crate) fn hitter_name(&self, link: usize, carried: Option<usize>) -> String {
+        match carried {
+            None => self.link_name(link).to_string(),
+            Some(object) => format!(
+                "{} (carried by the {})",
+                self.object_name(Other::Obstacle(object)),
+                self.link_name(link)
+            ),
+        }
+    }
+
     /// One contact as JSON: waypoint (name and index), time, link, object, depth.
     fn contact_json(&self, scene: &Scene, contact: &Contact, motion: Motion) -> Value {
         json!({
@@ -96,7 +129,10 @@ impl SceneCell {
             "waypoint": scene.waypoints.get(contact.waypoint).map(|w| w.name.as_str()),
             "waypoint_index": contact.waypoint,
             "time_s": rounded(contact.time, 3),
-            "link": self.link_name(contact.pair.link),
+            "link": self.hitter_name(contact.pair.link, contact.carried),
+            "carried_object": contact
+                .carried
+                .map(|object| self.object_name(Other::Obstacle(object))),
             "object": self.object_name(contact.pair.other),
             "depth_mm": rounded(contact.depth * 1e3, 2),
         })
@@ -107,7 +143,7 @@ impl SceneCell {
         format!(
             "contact ({}): {} hits {} at {:.3} s on the move into \"{}\", {:.1} mm deep",
             motion.word(),
-            self.link_name(contact.pair.link),
+            self.hitter_name(contact.pair.link, contact.carried),
             self.object_name(contact.pair.other),
             contact.time,
             scene
@@ -154,7 +190,7 @@ impl SceneCell {
                     "smallest clearance {:.1} mm ({}): {} to {} at {:.3} s on the move into \"{}\"",
                     m.min_clearance * 1e3,
                     motion.word(),
-                    self.link_name(pair.link),
+                    self.hitter_name(pair.link, m.closest_carried),
                     self.object_name(pair.other),
                     m.closest_time,
                     scene

@@ -14,7 +14,7 @@
 mod args;
 mod calibrate;
 mod check;
-mod clearance;
+pub(crate) mod clearance;
 mod device_sim;
 mod envelope;
 mod format;

@@ -11,19 +11,14 @@
 use std::path::Path;
 
 use armwright_kinematics::Arm;
-use armwright_trajectory::{
-    DryRun, PlacementEstimate, PlacementOptions, TaskPlan, placement_estimate,
-};
+use armwright_trajectory::{DryRun, TaskPlan};
 use serde_json::{Value, json};
 
 use super::Outcome;
 use super::clearance::{Motion, SceneCell, any_contact};
 use super::plan::{TORQUE_INTERVAL, load_and_plan};
 use super::report::{TORQUE_BASIS, all_rounded, fail, print_json, rounded};
-use crate::scene::{Arrival, Scene, dry_run_of, pose_from_file_units, position_to_file_unit};
-
-/// Placement tolerance when the scene gives none, in mm.
-pub(crate) const DEFAULT_TOLERANCE_MM: f64 = 2.0;
+use crate::scene::{Arrival, Placement, Scene, dry_run_of, placements_of, position_to_file_unit};
 
 pub(crate) fn run(file: &Path, json: bool) -> Outcome {
     let (scene, arm, plan) = match load_and_plan(file, json) {
@@ -79,10 +74,8 @@ pub(crate) struct SimulateReport {
     /// Commanded torque use per waypoint (inverse dynamics of the plan), share of the derated
     /// stall torque.
     pub(crate) commanded_torque_use: Vec<f64>,
-    /// Per waypoint where the gripper acts, its placement estimate.
-    pub(crate) placement: Vec<Option<PlacementEstimate>>,
-    /// The placement tolerance used, in mm.
-    pub(crate) tolerance_mm: f64,
+    /// Per waypoint where the gripper acts, its placement estimate and tolerance.
+    pub(crate) placement: Vec<Option<Placement>>,
     /// Problems: (waypoint index, sentence).
     pub(crate) problems: Vec<(usize, String)>,
 }
@@ -96,22 +89,7 @@ impl SimulateReport {
     ) -> Result<SimulateReport, String> {
         let derating = scene.timing.torque_derating_pct / 100.0;
         let commanded_torque_use = plan.peak_torque_use(arm, derating, TORQUE_INTERVAL);
-        let tolerance_mm = DEFAULT_TOLERANCE_MM;
-        let options = PlacementOptions {
-            tolerance: tolerance_mm / 1e3,
-            ..PlacementOptions::default()
-        };
-        let mut placement = Vec::with_capacity(run.waypoints.len());
-        for (waypoint, result) in scene.waypoints.iter().zip(&run.waypoints) {
-            if result.gripper_acts.is_none() {
-                placement.push(None);
-                continue;
-            }
-            let pose = pose_from_file_units(&scene.arm, &waypoint.joints_deg_or_mm);
-            let estimate = placement_estimate(arm, &pose, result.resting_offset, &options)
-                .map_err(|error| format!("waypoint \"{}\": {error}", waypoint.name))?;
-            placement.push(Some(estimate));
-        }
+        let placement = placements_of(scene, arm, run)?;
         let mut problems = Vec::new();
         for (index, (waypoint, result)) in scene.waypoints.iter().zip(&run.waypoints).enumerate() {
             if result.peak_torque_use > 1.0 {
@@ -145,7 +123,6 @@ impl SimulateReport {
         Ok(SimulateReport {
             commanded_torque_use,
             placement,
-            tolerance_mm,
             problems,
         })
     }
@@ -162,7 +139,8 @@ pub(crate) fn summary_json(run: &DryRun) -> Value {
     })
 }
 
-fn placement_json(estimate: &PlacementEstimate, tolerance_mm: f64) -> Value {
+fn placement_json(placement: &Placement) -> Value {
+    let estimate = &placement.estimate;
     json!({
         "placement_success": rounded(estimate.success, 4),
         "placement_success_closed_form": rounded(estimate.closed_form, 4),
@@ -170,7 +148,7 @@ fn placement_json(estimate: &PlacementEstimate, tolerance_mm: f64) -> Value {
             "mean": rounded(estimate.mean_error * 1e3, 3),
             "p95": rounded(estimate.p95_error * 1e3, 3),
         },
-        "placement_tolerance_mm": tolerance_mm,
+        "placement_tolerance_mm": placement.tolerance_mm,
         "placement_draws": estimate.draws,
     })
 }
@@ -209,7 +187,7 @@ pub(crate) fn dry_run_json(scene: &Scene, run: &DryRun, report: &SimulateReport)
             });
             if let (Some(Some(estimate)), Value::Object(map)) =
                 (report.placement.get(index), &mut entry)
-                && let Value::Object(extra) = placement_json(estimate, report.tolerance_mm)
+                && let Value::Object(extra) = placement_json(estimate)
             {
                 map.extend(extra);
             }
@@ -225,7 +203,7 @@ pub(crate) fn dry_run_json(scene: &Scene, run: &DryRun, report: &SimulateReport)
         .placement
         .iter()
         .flatten()
-        .map(|p| p.success)
+        .map(|p| p.estimate.success)
         .fold(None, |worst: Option<f64>, s| {
             Some(worst.map_or(s, |w| w.min(s)))
         });
@@ -278,7 +256,11 @@ fn print_dry_run(scene: &Scene, run: &DryRun, report: &SimulateReport) {
             (Arrival::Stop, None) => "moving".to_string(),
         };
         let placed = match report.placement.get(index) {
-            Some(Some(estimate)) => format!("{:.0} %", estimate.success * 100.0),
+            Some(Some(placement)) => format!(
+                "{:.0} % ±{} mm",
+                placement.estimate.success * 100.0,
+                placement.tolerance_mm
+            ),
             _ => String::new(),
         };
         let commanded = report
@@ -303,13 +285,12 @@ fn print_dry_run(scene: &Scene, run: &DryRun, report: &SimulateReport) {
     );
     if report.placement.iter().any(Option::is_some) {
         println!(
-            "placed: share of placements within {} mm of the target (horizontal), from deadband, backlash, calibration and the rest error ({} seeded draws)",
-            report.tolerance_mm,
+            "placed: share of placements within the waypoint's tolerance (mm) of the target (horizontal), from deadband, backlash, calibration and the rest error ({} seeded draws)",
             report
                 .placement
                 .iter()
                 .flatten()
-                .map(|p| p.draws)
+                .map(|p| p.estimate.draws)
                 .next()
                 .unwrap_or(0)
         );

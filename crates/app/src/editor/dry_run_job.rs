@@ -11,6 +11,7 @@ use std::sync::mpsc::{Receiver, Sender, channel};
 
 use armwright_kinematics::Arm;
 
+use super::dry_run_marks::DryRunMarks;
 use super::playback::{self, DryRunStatus, Timeline};
 use super::state::EditorState;
 use super::traces::Traces;
@@ -160,7 +161,8 @@ impl DryRunJob {
     }
 }
 
-/// Plans `scene` on `arm`, runs the dry run and builds the traces, or says why not.
+/// Plans `scene` on `arm`, runs the dry run, builds the traces and finds the contacts and
+/// unsettled stops, or says why not.
 fn plan_and_run(scene: &Scene, arm: &Arm, generation: u64) -> Result<Timeline, String> {
     let plan = plan_of(scene, arm).map_err(|error| format!("cannot plan: {error}"))?;
     let run = dry_run_of(scene, arm, &plan).map_err(|error| format!("cannot simulate: {error}"))?;
@@ -178,7 +180,9 @@ fn plan_and_run(scene: &Scene, arm: &Arm, generation: u64) -> Result<Timeline, S
         .zip(plan.timings())
         .map(|(waypoint, timing)| (waypoint.name.clone(), timing.arrival))
         .collect();
+    let found = DryRunMarks::of(scene, arm, &plan, &run);
     Ok(Timeline {
+        found,
         generation,
         plan,
         run,

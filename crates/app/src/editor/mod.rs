@@ -9,7 +9,8 @@
 //! the UI thread; `recovery.rs` the autosaved copy; `sample.rs` the built-in scene;
 //! `retime_job.rs` retiming on a worker thread; `arm_form.rs` the arm settings form's fields and
 //! typed text; `dry_run_job.rs` plans the sequence and runs the dry run off the UI thread;
-//! `traces.rs` what the timeline plots; `playback.rs` the timeline's cursor and playback;
+//! `traces.rs` what the timeline plots; `dry_run_marks.rs` the contacts and unsettled stops the
+//! views, the timeline and the sequence mark; `playback.rs` the timeline's cursor and playback;
 //! `panels/` one file per panel; `views/` the two to-scale views. This file is the shell:
 //! [`Editor::logic`] handles what must run whatever is on screen (the emergency-stop key first),
 //! [`Editor::ui`] draws the panels and applies their commands after the frame.
@@ -18,6 +19,7 @@ mod arm_form;
 mod command;
 mod device;
 mod dry_run_job;
+mod dry_run_marks;
 mod estop;
 mod files;
 mod history;
@@ -35,13 +37,12 @@ pub use command::{Command, Outside, WaypointField, apply};
 pub use device::{
     Connection, DeviceLink, LinkAction, LinkStopLink, LinkView, StreamEnd, StreamPhase,
 };
+pub use dry_run_marks::{ContactMark, DryRunMarks, Solid, UnsettledMark};
 pub use estop::{ChannelStopLink, STOP_KEY, STOP_KEY_NAME, StopLink, StopRequest};
 pub use panels::{ACKNOWLEDGE_LABEL, CAUTION, EMERGENCY_STOP_LABEL, NUDGE_KEYS};
 pub use playback::{AtEnd, DryRunStatus, Playback, PlaybackCommand, SPEEDS, Timeline};
 pub use recovery::{Recovery, RecoveryCopy};
-pub use retime_job::{
-    PLACEMENT_TOLERANCE_MM, RetimeReport, RetimeRun, RetimeState, RunFigures, WaypointFigures,
-};
+pub use retime_job::{RetimeReport, RetimeRun, RetimeState, RunFigures, WaypointFigures};
 pub use sample::sample_scene;
 pub use state::{
     BranchChoice, Dialog, EditorState, Level, Message, ReachStatus, StopSource, StopState, ToolsTab,

@@ -12,6 +12,7 @@ use std::sync::Arc;
 use armwright_kinematics::MAX_JOINTS;
 use armwright_trajectory::{CommandedMotion, DryRun, TaskPlan};
 
+use super::dry_run_marks::DryRunMarks;
 use super::state::{EditorState, ReachStatus};
 use super::traces::{Quantity, Traces};
 use crate::scene::GripperState;
@@ -37,6 +38,8 @@ pub struct Timeline {
     pub marks: Vec<(String, f64)>,
     /// Each waypoint's gripper state, in order.
     pub grippers: Vec<GripperState>,
+    /// The contacts and unsettled stops of the plan and the dry run.
+    pub found: DryRunMarks,
 }
 
 impl Timeline {
@@ -312,6 +315,7 @@ mod tests {
                 .map(|(waypoint, timing)| (waypoint.name.clone(), timing.arrival))
                 .collect(),
             grippers: state.scene.waypoints.iter().map(|w| w.gripper).collect(),
+            found: DryRunMarks::default(),
             plan,
             run,
             traces,

@@ -12,12 +12,12 @@ use std::sync::atomic::{AtomicBool, AtomicU64, Ordering};
 use std::sync::mpsc::{Receiver, TryRecvError, channel};
 
 use armwright_kinematics::{Arm, gravity_torques, torque_use};
-use armwright_trajectory::{Binding, DryRun, PlacementOptions, RetimeError, placement_estimate};
+use armwright_trajectory::{Binding, DryRun, RetimeError};
 
 use super::state::{EditorState, Level};
 use crate::scene::{
-    Arrival, GripperState, RetimeSettings, Scene, SceneRetime, Shaping, pose_from_file_units,
-    retime_scene,
+    Arrival, GripperState, RetimeSettings, Scene, SceneRetime, Shaping, placements_of,
+    pose_from_file_units, retime_scene,
 };
 
 /// The retime tab's data: the target and the run.
@@ -93,10 +93,6 @@ impl RetimeRun {
     }
 }
 
-/// Placement tolerance the editor estimates placement success for, in mm (the command line's
-/// default).
-pub const PLACEMENT_TOLERANCE_MM: f64 = 2.0;
-
 /// The headline figures of one dry run.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct RunFigures {
@@ -132,24 +128,16 @@ impl RunFigures {
 }
 
 /// The worst placement success (0–1) over the waypoints of `scene` where the gripper acts in
-/// `run`, with its waypoint index, at [`PLACEMENT_TOLERANCE_MM`]; `None` when the gripper acts
-/// nowhere.
-pub fn worst_placement(scene: &Scene, arm: &Arm, run: &DryRun) -> Option<(usize, f64)> {
-    let options = PlacementOptions {
-        tolerance: PLACEMENT_TOLERANCE_MM / 1e3,
-        ..PlacementOptions::default()
-    };
-    scene
-        .waypoints
-        .iter()
-        .zip(&run.waypoints)
+/// `run`, with its waypoint index and that waypoint's tolerance (mm), as `armwright simulate`
+/// estimates it ([`placements_of`]); `None` when the gripper
+/// acts nowhere.
+pub fn worst_placement(scene: &Scene, arm: &Arm, run: &DryRun) -> Option<(usize, f64, f64)> {
+    placements_of(scene, arm, run)
+        .ok()?
+        .into_iter()
         .enumerate()
-        .filter(|(_, (_, result))| result.gripper_acts.is_some())
-        .filter_map(|(index, (waypoint, result))| {
-            let pose = pose_from_file_units(&scene.arm, &waypoint.joints_deg_or_mm);
-            placement_estimate(arm, &pose, result.resting_offset, &options)
-                .ok()
-                .map(|estimate| (index, estimate.success))
+        .filter_map(|(index, placement)| {
+            placement.map(|p| (index, p.estimate.success, p.tolerance_mm))
         })
         .min_by(|a, b| a.1.total_cmp(&b.1))
 }
@@ -205,9 +193,9 @@ pub struct RetimeReport {
     pub already_met: bool,
     /// The constraint that binds the most stops, with how many it binds.
     pub binding: Option<(Binding, usize)>,
-    /// Worst placement success (0–1) after retiming and its waypoint, at
-    /// [`PLACEMENT_TOLERANCE_MM`]; `None` when the gripper acts nowhere.
-    pub worst_placement: Option<(usize, f64)>,
+    /// Worst placement success (0–1) after retiming, its waypoint and that waypoint's
+    /// tolerance (mm); `None` when the gripper acts nowhere.
+    pub worst_placement: Option<(usize, f64, f64)>,
 }
 
 impl RetimeReport {

@@ -52,6 +52,7 @@ fn built_in_scene() -> Scene {
                 ],
                 pulse_min_us: 500,
                 pulse_max_us: 2500,
+                uncertainty: None,
             },
             link: LinkMassDoc {
                 mass_g,

@@ -305,6 +305,10 @@ pub struct CalibrationDoc {
     pub pulse_min_us: u32,
     /// Longest accepted pulse, in µs.
     pub pulse_max_us: u32,
+    /// How far the calibration may be off: the standard deviation of the joint's position
+    /// error, in degrees (mm for a sliding joint). `armwright calibrate --write` sets it from
+    /// the fit's residuals; absent: placement success takes a default (0.5° or 0.5 mm).
+    pub uncertainty: Option<f64>,
 }
 
 /// The mass of the link a joint moves, in that joint's frame.
@@ -478,6 +482,8 @@ pub struct Waypoint {
     pub arrival: Arrival,
     /// Gripper state.
     pub gripper: GripperState,
+    /// Radius of the circle a pick or place here must land within, in mm. Absent: 2 mm.
+    pub placement_tolerance_mm: Option<f64>,
 }
 
 /// Timing settings used by planning and retiming.
@@ -601,6 +607,7 @@ impl Default for Waypoint {
             dwell_ms: 0.0,
             arrival: Arrival::Stop,
             gripper: GripperState::Open,
+            placement_tolerance_mm: None,
         }
     }
 }

@@ -522,8 +522,21 @@ pub mod calibration {
         "longest pulse the servo accepts",
         Access::Whole(|c| c.pulse_max_us, |c, v| c.pulse_max_us = v),
     );
+    /// Calibration uncertainty, optional.
+    pub const UNCERTAINTY: Field<CalibrationDoc> = Field::<CalibrationDoc>::new(
+        "uncertainty_deg",
+        Unit::Position,
+        Range::within(0.0, 45.0),
+        "a calibration off by more than an eighth of a turn is no calibration (our choice)",
+        DEG_DECIMALS,
+        "calibration uncertainty",
+        "standard deviation of the joint's position error after calibration (calibrate --write sets it from the fit's residuals); placement success counts it as a Gaussian error of the joint; absent: 0.5° (0.5 mm), a stated default",
+        Access::Maybe(|c| c.uncertainty, |c, v| c.uncertainty = v),
+    )
+    .prismatic("uncertainty_mm", Range::within(0.0, 50.0))
+    .presence(Presence::Optional);
     /// In file order, after `points`.
-    pub const ROWS: &[Field<CalibrationDoc>] = &[PULSE_MIN, PULSE_MAX];
+    pub const ROWS: &[Field<CalibrationDoc>] = &[PULSE_MIN, PULSE_MAX, UNCERTAINTY];
 }
 
 /// The link a joint moves (`arm.joints[i].link`).
@@ -722,8 +735,23 @@ pub mod waypoint {
         Access::Number(|w| w.dwell_ms, |w, v| w.dwell_ms = v),
     )
     .presence(Presence::Defaulted);
+    /// Placement tolerance, optional.
+    pub const PLACEMENT_TOLERANCE: Field<Waypoint> = Field::<Waypoint>::new(
+        "placement_tolerance_mm",
+        Unit::Mm,
+        Range::above(0.0, 100.0),
+        "a hobby arm places to a few mm; 100 mm is no tolerance at all (our choice)",
+        MM_DECIMALS,
+        "placement tolerance",
+        "radius of the circle (horizontal) a pick or place at this waypoint must land within, for placement success; absent: 2 mm",
+        Access::Maybe(
+            |w| w.placement_tolerance_mm,
+            |w, v| w.placement_tolerance_mm = v,
+        ),
+    )
+    .presence(Presence::Optional);
     /// In file order; `name`, `move`, `profile`, `arrival` and `gripper` are words.
-    pub const ROWS: &[Field<Waypoint>] = &[JOINTS, SPEED_SHARE, DWELL];
+    pub const ROWS: &[Field<Waypoint>] = &[JOINTS, SPEED_SHARE, DWELL, PLACEMENT_TOLERANCE];
 }
 
 /// Timing settings (`timing`).

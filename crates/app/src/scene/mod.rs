@@ -11,7 +11,9 @@
 //! place that turns file units into the SI arm model), `load.rs` and
 //! `save.rs` (files: read without side effects, write atomically), `problem.rs` (a located
 //! problem and the nearest-name suggestion), `task.rs` (the sequence as a trajectory task), `workcell.rs` (the workspace
-//! and arm as collision geometry, and what a pick or place leaves out).
+//! and arm as collision geometry, what a pick or place leaves out and what the gripper carries),
+//! `placement.rs` (placement success with each waypoint's tolerance and each joint's calibration
+//! uncertainty).
 //! Sampling the plan is the trajectory crate's (`TaskPlan::sampler`), turning samples into
 //! device setpoints the link crate's (`device_setpoints`).
 
@@ -24,6 +26,7 @@ pub mod field_table;
 mod load;
 mod migrate;
 mod outline;
+mod placement;
 mod problem;
 mod reference;
 mod save;
@@ -42,6 +45,9 @@ pub use document::{
 };
 pub use load::{load, load_bytes};
 pub use migrate::{CURRENT_VERSION, FORMAT_NAME};
+pub use placement::{
+    DEFAULT_PLACEMENT_TOLERANCE_MM, Placement, placement_options_of, placements_of,
+};
 pub use problem::Problem;
 pub(crate) use problem::child;
 pub use reference::reference_markdown;
@@ -56,7 +62,7 @@ pub use units::{
     position_to_file_unit, rate_from_file_unit, rate_to_file_unit,
 };
 pub use validate::{sequence_problems, validate};
-pub use workcell::{arm_shape_of, exemptions_of, obstacles_of};
+pub use workcell::{arm_shape_of, carried_of, exemptions_of, obstacles_of};
 
 use std::path::PathBuf;
 

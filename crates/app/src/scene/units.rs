@@ -292,6 +292,7 @@ mod tests {
                 ],
                 pulse_min_us: 900,
                 pulse_max_us: 2100,
+                uncertainty: None,
             },
             link: LinkMassDoc {
                 mass_g: 40.0,

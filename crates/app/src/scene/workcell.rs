@@ -8,9 +8,15 @@
 //! point; the gripper may touch them on the moves into and out of that waypoint, and an object
 //! picked rides in the gripper from then on, so no link is checked against where it stood. The
 //! table is never gripped. (`armwright_trajectory::grip_exemptions` states the rule.)
+//!
+//! What the gripper carries is marked the same way: at a pick, the smallest of the boxes and
+//! trays it grips there (a part, not the tray it lies in) moves with the tool from the move after
+//! the pick up to and including the move into the next waypoint where the gripper opens, and is
+//! checked against the other obstacles on those moves, except what the gripper itself may touch
+//! there. (`armwright_trajectory::carried_objects` states the rule.)
 
 use armwright_kinematics::{Arm, ArmShape, KinematicsError, Obstacle};
-use armwright_trajectory::{Exemption, grip_exemptions};
+use armwright_trajectory::{Carry, Exemption, carried_objects, grip_exemptions};
 use nalgebra::Vector3;
 
 use super::document::Scene;
@@ -69,4 +75,17 @@ pub fn exemptions_of(
     obstacles: &[Obstacle],
 ) -> Result<Vec<Exemption>, KinematicsError> {
     grip_exemptions(arm, shape, obstacles, &task_of(scene, arm).waypoints)
+}
+
+/// The objects the gripper carries, and on which moves (see the module's note).
+///
+/// # Errors
+/// [`KinematicsError`] for a waypoint the arm cannot take.
+pub fn carried_of(
+    scene: &Scene,
+    arm: &Arm,
+    shape: &ArmShape,
+    obstacles: &[Obstacle],
+) -> Result<Vec<Carry>, KinematicsError> {
+    carried_objects(arm, shape, obstacles, &task_of(scene, arm).waypoints)
 }

@@ -2,7 +2,42 @@
 // Each bench file uses only part of this module.
 #![allow(dead_code)]
 
-use armwright_trajectory::{JointLimits, JointMove};
+use armwright_trajectory::{
+    JointLimits, JointMove, LimitSettings, ProfileShape, ServoModelOptions, Task, TaskWaypoint,
+};
+
+/// The kinematics tests' sample arms (and their seeded generator).
+#[path = "../../../kinematics/tests/common/mod.rs"]
+pub mod arms;
+
+/// The sequence the dry-run and clearance benches share: 100 stops (plus the start) of moves of
+/// up to ±25° per joint around a working pose of the 5-joint articulated sample arm, with short
+/// dwells and the gripper closed at random — the kind of sequence a small sorting or stacking
+/// task makes.
+pub fn hundred_waypoints() -> Task {
+    let mut rng = arms::Seeded::new(42);
+    let centre = [0.0, 0.9, -1.2, 0.3, 0.0];
+    let waypoints = (0..=100)
+        .map(|_| TaskWaypoint {
+            positions: centre
+                .iter()
+                .map(|c| c + rng.uniform(-25f64.to_radians(), 25f64.to_radians()))
+                .collect(),
+            stop: true,
+            dwell: 0.05,
+            speed_share: 1.0,
+            gripper_closed: rng.uniform(0.0, 1.0) < 0.5,
+            straight: false,
+            shape: ProfileShape::DoubleS,
+        })
+        .collect();
+    Task {
+        waypoints,
+        limits: LimitSettings::default(),
+        model: ServoModelOptions::default(),
+        shaping: None,
+    }
+}
 
 /// Small deterministic generator (xorshift64*).
 pub struct Seeded(u64);

@@ -9,7 +9,7 @@ use egui::{Button, Color32, DragValue, Grid, ProgressBar, RichText, Ui};
 use armwright_trajectory::Binding;
 
 use crate::editor::command::Command;
-use crate::editor::retime_job::{PLACEMENT_TOLERANCE_MM, RetimeReport, RetimeRun, RunFigures};
+use crate::editor::retime_job::{RetimeReport, RetimeRun, RunFigures};
 use crate::editor::state::EditorState;
 use crate::scene::Shaping;
 
@@ -207,10 +207,10 @@ fn report_view(ui: &mut Ui, report: &RetimeReport, stale: bool) -> Command {
         Some((binding, stops)) => format!("binding: {} at {stops} stop(s)", binding.words()),
         None => "binding: no constraint is near its limit".to_string(),
     });
-    if let Some((index, success)) = report.worst_placement {
+    if let Some((index, success, tolerance_mm)) = report.worst_placement {
         let name = report.waypoints.get(index).map_or("", |w| w.name.as_str());
         ui.label(format!(
-            "worst placement success: {:.0} % within {PLACEMENT_TOLERANCE_MM} mm, at waypoint {} \"{name}\"",
+            "worst placement success: {:.0} % within {tolerance_mm} mm, at waypoint {} \"{name}\"",
             success * 100.0,
             index + 1
         ));

@@ -4,6 +4,7 @@
 use egui::{Button, ComboBox, DragValue, ScrollArea, TextEdit, Ui};
 
 use crate::editor::command::{Command, WaypointField};
+use crate::editor::dry_run_marks;
 use crate::editor::state::EditorState;
 use crate::scene::{Arrival, FileWords, GripperState, MoveKind, ProfileKind, Waypoint};
 
@@ -101,7 +102,7 @@ pub fn sequence(ui: &mut Ui, state: &EditorState) -> Command {
         .show_rows(ui, ROW_HEIGHT, count, |ui, rows| {
             for index in rows {
                 if let Some(waypoint) = state.scene.waypoints.get(index) {
-                    let row = waypoint_row(ui, index, waypoint, selected == Some(index));
+                    let row = waypoint_row(ui, state, index, waypoint, selected == Some(index));
                     if row != Command::None {
                         command = row;
                     }
@@ -124,7 +125,13 @@ const COLUMNS: [(&str, f32); 9] = [
     ("", 50.0),
 ];
 
-fn waypoint_row(ui: &mut Ui, index: usize, waypoint: &Waypoint, selected: bool) -> Command {
+fn waypoint_row(
+    ui: &mut Ui,
+    state: &EditorState,
+    index: usize,
+    waypoint: &Waypoint,
+    selected: bool,
+) -> Command {
     let mut command = Command::None;
     let edit = |field| Command::EditWaypoint { index, field };
     ui.horizontal(|ui| {
@@ -225,6 +232,7 @@ fn waypoint_row(ui: &mut Ui, index: usize, waypoint: &Waypoint, selected: bool) 
         {
             command = Command::JumpToWaypoint(index);
         }
+        dry_run_marks::sequence_marker(ui, &state.scene, state.dry_run_found(), index);
     });
     command
 }

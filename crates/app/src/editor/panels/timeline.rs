@@ -20,6 +20,7 @@ use egui_plot::{
 };
 
 use crate::editor::command::Command;
+use crate::editor::dry_run_marks;
 use crate::editor::playback::{AtEnd, DryRunStatus, PlaybackCommand, SPEEDS, Timeline};
 use crate::editor::state::EditorState;
 use crate::editor::traces::{Column, Quantity, decimate};
@@ -251,6 +252,9 @@ pub fn timeline(ui: &mut Ui, state: &EditorState, plot: &mut TimelinePlot) -> Co
         "distance between the commanded and the simulated tool point · click or drag to move the cursor".to_string()
     };
     ui.label(RichText::new(caption).small());
+    if let Some(found) = state.dry_run_found() {
+        dry_run_marks::list_on_timeline(ui, &state.scene, found);
+    }
     if let Some(set) = plot_lines(ui, state, timeline, plot) {
         wanted = Some(PlaybackCommand::SetCursor(set));
     }
@@ -414,6 +418,9 @@ fn plot_lines(
         }
     }
     painter.add(Shape::mesh(marks));
+    if let Some(found) = state.dry_run_found() {
+        dry_run_marks::paint_on_timeline(&painter, &transform, found);
+    }
     let x = transform.position_from_point_x(playback.cursor);
     painter.add(Shape::rect_filled(
         Rect::from_x_y_ranges(x - 1.0..=x + 1.0, frame.y_range()),

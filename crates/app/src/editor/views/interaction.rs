@@ -9,6 +9,7 @@ use super::projection::{Projection, fit};
 use super::reach_layer::MapLayer;
 use super::{Plane, SidePlane, TopPlane, ViewKind};
 use crate::editor::command::Command;
+use crate::editor::dry_run_marks;
 use crate::editor::state::EditorState;
 
 /// Screen distance within which a press grabs the tool point, in points.
@@ -154,6 +155,9 @@ pub fn show_view(
         for overlay in overlays {
             overlay_arm(&clipped, &projection, plane, arm, overlay);
         }
+    }
+    if let Some(found) = state.dry_run_found() {
+        dry_run_marks::paint_in_view(ui, &clipped, &projection, plane, kind, &state.scene, found);
     }
     let legend = reach.map(|_| drawing::reach_legend(&clipped, rect));
     let _ = drawing::scale_bar(&clipped, &projection, legend);

@@ -1,0 +1,447 @@
+//! What the dry run found wrong, as the editor shows it: contacts (a link, or an object carried
+//! in the gripper, overlapping an obstacle or another link, along the commanded plan or the dry
+//! run) and stops where the arm has not settled. Both views shade a contact red at its pose —
+//! the link (or carried object) and what it hits — with a label and a tooltip naming both; the
+//! timeline marks each contact's time in red and each unsettled stop in amber, and lists them;
+//! the sequence marks an unsettled stop's row with its resting error.
+//!
+//! [`DryRunMarks::of`] runs on the dry-run worker with the same clearance check as `armwright
+//! simulate` (`cli/clearance.rs`), so the editor and the command line find the same contacts.
+
+use armwright_kinematics::{Arm, CarriedBox, ObstacleShape, Other, forward};
+use armwright_trajectory::{Clearance, CommandedMotion, DryRun, TaskPlan};
+use egui::{Align2, Color32, FontId, Painter, Pos2, Rect, Sense, Shape, Stroke, Ui, pos2, vec2};
+use egui_plot::PlotTransform;
+use nalgebra::{Point3, Vector3};
+
+use super::playback::DryRunStatus;
+use super::state::EditorState;
+use super::views::{Plane, Projection, ViewKind};
+use crate::cli::clearance::SceneCell;
+use crate::scene::{Arrival, Scene};
+
+/// Contacts (red: the colour of a stop, as the emergency stop's).
+pub const CONTACT: Color32 = Color32::from_rgb(230, 40, 40);
+/// Unsettled stops (amber, a warning short of a contact).
+pub const UNSETTLED: Color32 = Color32::from_rgb(240, 170, 0);
+
+/// A solid at the contact pose, in the base frame, in m.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Solid {
+    /// A link's capsule: the segment's ends and the radius.
+    Capsule {
+        /// One end.
+        start: Vector3<f64>,
+        /// The other end.
+        end: Vector3<f64>,
+        /// Radius, m.
+        radius: f64,
+    },
+    /// A box's eight corners.
+    Corners([Vector3<f64>; 8]),
+    /// Everything below the table top at this height.
+    Table {
+        /// Height of the table top, m.
+        height: f64,
+    },
+}
+
+/// One contact as the editor shows it.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ContactMark {
+    /// "commanded" (along the plan) or "simulated" (along the dry run).
+    pub motion: &'static str,
+    /// The waypoint whose move it happens on.
+    pub waypoint: usize,
+    /// When it starts, in s.
+    pub time: f64,
+    /// What hits: a link's name, or a carried object's ("cube (carried by the gripper)").
+    pub link: String,
+    /// What it hits: an obstacle's name or a link's.
+    pub object: String,
+    /// The deepest overlap of the pair on the move, in mm.
+    pub depth_mm: f64,
+    /// The link (or carried object) at the contact pose.
+    pub hitter: Solid,
+    /// What it hits, at the contact pose.
+    pub other: Solid,
+}
+
+impl ContactMark {
+    /// One line naming the contact: "contact at 0.84 s (commanded): upper arm hits crate, 3.2
+    /// mm deep, on the move into \"drop\"".
+    pub fn sentence(&self, scene: &Scene) -> String {
+        format!(
+            "contact at {:.3} s ({}): {} hits {}, {:.1} mm deep, on the move into \"{}\"",
+            self.time,
+            self.motion,
+            self.link,
+            self.object,
+            self.depth_mm,
+            scene
+                .waypoints
+                .get(self.waypoint)
+                .map_or("?", |w| w.name.as_str())
+        )
+    }
+}
+
+/// A stop where the arm has not settled within the settle band.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct UnsettledMark {
+    /// The waypoint.
+    pub waypoint: usize,
+    /// When it is judged, in s: when the gripper acts, else when the arm leaves.
+    pub time: f64,
+    /// Whether the gripper acts there (before the arm has settled).
+    pub gripper_acts: bool,
+    /// How far the arm comes to rest from the target, in mm.
+    pub resting_error_mm: f64,
+}
+
+impl UnsettledMark {
+    /// One line: "not settled at \"pick\" (1.20 s) when the gripper acts; resting error 1.3 mm".
+    pub fn sentence(&self, scene: &Scene) -> String {
+        format!(
+            "not settled at \"{}\" ({:.2} s) {}; resting error {:.2} mm",
+            scene
+                .waypoints
+                .get(self.waypoint)
+                .map_or("?", |w| w.name.as_str()),
+            self.time,
+            if self.gripper_acts {
+                "when the gripper acts"
+            } else {
+                "when the arm leaves"
+            },
+            self.resting_error_mm
+        )
+    }
+}
+
+/// The contacts and unsettled stops of one plan and dry run.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct DryRunMarks {
+    /// Each move's first contact, along the plan then along the dry run.
+    pub contacts: Vec<ContactMark>,
+    /// Stops not settled by the time they are judged, in order.
+    pub unsettled: Vec<UnsettledMark>,
+}
+
+impl DryRunMarks {
+    /// The marks of `plan` and its dry run `run` for `scene` on `arm`.
+    pub fn of(scene: &Scene, arm: &Arm, plan: &TaskPlan, run: &DryRun) -> DryRunMarks {
+        let cell = SceneCell::of(scene, arm);
+        let commanded = cell.along_plan(arm, plan);
+        let simulated = cell.along_dry_run(arm, plan, &run.trace);
+        let n = arm.joint_count();
+        let mut contacts = Vec::new();
+        let mut pose = vec![0.0; n];
+        let mut add = |clearance: &Clearance, motion: &'static str, simulated: bool| {
+            for contact in clearance.contacts() {
+                if simulated {
+                    let trace = &run.trace;
+                    let step = trace.step.max(1e-9);
+                    let index = ((contact.time / step).round().max(0.0) as usize)
+                        .min(trace.len().saturating_sub(1));
+                    if trace.is_empty() {
+                        continue;
+                    }
+                    pose.copy_from_slice(&trace.actual_at(index)[..n]);
+                } else {
+                    plan.positions_at(contact.time.min(plan.duration()), &mut pose);
+                }
+                let Some((hitter, other)) = solids(&cell, arm, &pose, contact) else {
+                    continue;
+                };
+                contacts.push(ContactMark {
+                    motion,
+                    waypoint: contact.waypoint,
+                    time: contact.time,
+                    link: cell.hitter_name(contact.pair.link, contact.carried),
+                    object: cell.object_name(contact.pair.other).to_string(),
+                    depth_mm: contact.depth * 1e3,
+                    hitter,
+                    other,
+                });
+            }
+        };
+        add(&commanded, "commanded", false);
+        add(&simulated, "simulated", true);
+        let unsettled = scene
+            .waypoints
+            .iter()
+            .zip(&run.waypoints)
+            .zip(plan.timings())
+            .enumerate()
+            .filter(|(_, ((waypoint, result), _))| {
+                waypoint.arrival == Arrival::Stop && !result.settled
+            })
+            .map(|(index, ((_, result), timing))| UnsettledMark {
+                waypoint: index,
+                time: result.gripper_acts.unwrap_or(timing.departure),
+                gripper_acts: result.gripper_acts.is_some(),
+                resting_error_mm: result.resting_error * 1e3,
+            })
+            .collect();
+        DryRunMarks {
+            contacts,
+            unsettled,
+        }
+    }
+
+    /// The unsettled mark of waypoint `index`, if it has one.
+    pub fn unsettled_at(&self, index: usize) -> Option<&UnsettledMark> {
+        self.unsettled.iter().find(|mark| mark.waypoint == index)
+    }
+}
+
+impl EditorState {
+    /// The contacts and unsettled stops of the newest dry run, when it is of the scene as it
+    /// is now (none while a new one runs, so that no mark points at a waypoint that moved).
+    pub fn dry_run_found(&self) -> Option<&DryRunMarks> {
+        match self.playback.status {
+            DryRunStatus::Ready => self.playback.timeline.as_deref().map(|t| &t.found),
+            _ => None,
+        }
+    }
+}
+
+/// The hitter and what it hits, at the pose `positions`.
+fn solids(
+    cell: &SceneCell,
+    arm: &Arm,
+    positions: &[f64],
+    contact: &armwright_trajectory::Contact,
+) -> Option<(Solid, Solid)> {
+    let chain = forward(arm, positions).ok()?;
+    let placed = cell.shape().place(&chain);
+    let capsule = |link: usize| {
+        let (start, end) = *placed.segments().get(link)?;
+        let radius = cell.shape().links().get(link)?.radius;
+        Some(Solid::Capsule { start, end, radius })
+    };
+    let hitter = match contact.carried {
+        None => capsule(contact.pair.link)?,
+        Some(object) => {
+            let carry = cell
+                .carried()
+                .iter()
+                .find(|carry| carry.object.obstacle == object)?;
+            carried_corners(&carry.object, chain.tool())
+        }
+    };
+    let other = match contact.pair.other {
+        Other::Link(link) => capsule(link)?,
+        Other::Obstacle(index) => match cell.obstacles().get(index)?.shape {
+            ObstacleShape::Table { height } => Solid::Table { height },
+            ObstacleShape::Box { centre, half_size } => {
+                Solid::Corners(corners(|local| centre + local.component_mul(&half_size)))
+            }
+        },
+    };
+    Some((hitter, other))
+}
+
+fn carried_corners(object: &CarriedBox, tool: &nalgebra::Isometry3<f64>) -> Solid {
+    let placed = object.placed(tool);
+    Solid::Corners(corners(|local| {
+        (placed * Point3::from(local.component_mul(&object.half_size))).coords
+    }))
+}
+
+/// The eight corners from the unit cube's corners (±1 on each axis).
+fn corners(to_base: impl Fn(Vector3<f64>) -> Vector3<f64>) -> [Vector3<f64>; 8] {
+    std::array::from_fn(|corner| {
+        let sign = |bit: usize| if corner & bit == 0 { -1.0 } else { 1.0 };
+        to_base(Vector3::new(sign(1), sign(2), sign(4)))
+    })
+}
+
+/// Shades every contact of `marks` red on a view: the hitter and what it hits, with a label,
+/// and a hover region whose tooltip (and accessible name) is the contact's sentence.
+pub fn paint_in_view(
+    ui: &Ui,
+    painter: &Painter,
+    projection: &Projection,
+    plane: &dyn Plane,
+    kind: ViewKind,
+    scene: &Scene,
+    marks: &DryRunMarks,
+) {
+    for (index, contact) in marks.contacts.iter().enumerate() {
+        let other = shade(painter, projection, plane, kind, &contact.other);
+        let hitter = shade(painter, projection, plane, kind, &contact.hitter);
+        let around = match (hitter, other) {
+            (Some(a), Some(b)) => a.union(b),
+            (Some(a), None) | (None, Some(a)) => a,
+            (None, None) => continue,
+        };
+        let text = format!(
+            "{} hits {} ({:.2} s)",
+            contact.link, contact.object, contact.time
+        );
+        painter.text(
+            around.center_bottom() + vec2(0.0, 4.0 + 14.0 * index as f32),
+            Align2::CENTER_TOP,
+            text,
+            FontId::proportional(12.0),
+            CONTACT,
+        );
+        let sentence = contact.sentence(scene);
+        let id = ui
+            .scope_id()
+            .with(("contact", kind == ViewKind::Top, index));
+        ui.interact(around.intersect(projection.rect), id, Sense::hover())
+            .accessible_name(sentence.clone())
+            .on_hover_text(sentence);
+    }
+}
+
+/// Shades one solid red on a view; returns the screen area it covers.
+fn shade(
+    painter: &Painter,
+    projection: &Projection,
+    plane: &dyn Plane,
+    kind: ViewKind,
+    solid: &Solid,
+) -> Option<Rect> {
+    let fill = CONTACT.gamma_multiply(0.45);
+    let stroke = Stroke::new(1.5, CONTACT);
+    let on_screen = |point: &Vector3<f64>| projection.to_screen(plane.project(point));
+    match solid {
+        Solid::Capsule { start, end, radius } => {
+            let (a, b) = (on_screen(start), on_screen(end));
+            let width = (2.0 * radius * 1e3 * projection.points_per_mm).max(3.0) as f32;
+            painter.line_segment([a, b], Stroke::new(width, fill));
+            painter.circle_filled(a, width / 2.0, fill);
+            painter.circle_filled(b, width / 2.0, fill);
+            painter.line_segment([a, b], stroke);
+            Some(Rect::from_two_pos(a, b).expand(width / 2.0))
+        }
+        Solid::Corners(points) => {
+            let hull = convex_hull(points.iter().map(on_screen).collect());
+            let area = Rect::from_points(&hull);
+            painter.add(Shape::convex_polygon(hull, fill, stroke));
+            Some(area)
+        }
+        Solid::Table { height } => match kind {
+            // Seen from above the table is everywhere: the label says it.
+            ViewKind::Top => None,
+            ViewKind::Side => {
+                let rect = projection.rect;
+                let y = projection.to_screen([0.0, height * 1e3]).y;
+                let band = Rect::from_x_y_ranges(rect.x_range(), y..=y + 6.0);
+                painter.rect_filled(band, 0.0, fill);
+                painter.line_segment([pos2(rect.left(), y), pos2(rect.right(), y)], stroke);
+                None
+            }
+        },
+    }
+}
+
+/// The convex hull of screen points, in order (Andrew's monotone chain).
+fn convex_hull(mut points: Vec<Pos2>) -> Vec<Pos2> {
+    points.sort_by(|a, b| a.x.total_cmp(&b.x).then(a.y.total_cmp(&b.y)));
+    points.dedup();
+    if points.len() < 3 {
+        return points;
+    }
+    let cross = |o: Pos2, a: Pos2, b: Pos2| (a.x - o.x) * (b.y - o.y) - (a.y - o.y) * (b.x - o.x);
+    let mut hull: Vec<Pos2> = Vec::with_capacity(2 * points.len());
+    for pass in [false, true] {
+        let start = hull.len();
+        let ordered: Box<dyn Iterator<Item = &Pos2>> = if pass {
+            Box::new(points.iter().rev())
+        } else {
+            Box::new(points.iter())
+        };
+        for &p in ordered {
+            while hull.len() >= start + 2
+                && cross(hull[hull.len() - 2], hull[hull.len() - 1], p) <= 0.0
+            {
+                hull.pop();
+            }
+            hull.push(p);
+        }
+        hull.pop();
+    }
+    hull
+}
+
+/// Marks the contacts (red) and unsettled stops (amber) on the timeline's plot.
+pub fn paint_on_timeline(painter: &Painter, transform: &PlotTransform, marks: &DryRunMarks) {
+    let frame = *transform.frame();
+    let bounds = transform.bounds();
+    let visible = |t: f64| t >= bounds.min()[0] && t <= bounds.max()[0];
+    let line = |t: f64, colour: Color32, text: &str| {
+        let x = transform.position_from_point_x(t);
+        painter.rect_filled(
+            Rect::from_x_y_ranges(x - 1.5..=x + 1.5, frame.y_range()),
+            0.0,
+            colour,
+        );
+        painter.text(
+            pos2(x + 3.0, frame.top() + 16.0),
+            Align2::LEFT_TOP,
+            text,
+            FontId::proportional(11.0),
+            colour,
+        );
+    };
+    for contact in marks.contacts.iter().filter(|c| visible(c.time)) {
+        line(
+            contact.time,
+            CONTACT,
+            &format!("{} × {}", contact.link, contact.object),
+        );
+    }
+    for stop in marks.unsettled.iter().filter(|s| visible(s.time)) {
+        line(
+            stop.time,
+            UNSETTLED,
+            &format!("unsettled {:.1} mm", stop.resting_error_mm),
+        );
+    }
+}
+
+/// Lists the contacts and unsettled stops above the timeline's plot, one line each.
+pub fn list_on_timeline(ui: &mut Ui, scene: &Scene, marks: &DryRunMarks) {
+    for contact in &marks.contacts {
+        ui.colored_label(CONTACT, contact.sentence(scene));
+    }
+    for stop in &marks.unsettled {
+        ui.colored_label(UNSETTLED, stop.sentence(scene));
+    }
+}
+
+/// Marks a sequence row whose stop has not settled: "unsettled: 1.3 mm off", with the sentence as
+/// tooltip. Shows nothing for a settled row.
+pub fn sequence_marker(ui: &mut Ui, scene: &Scene, marks: Option<&DryRunMarks>, index: usize) {
+    let Some(stop) = marks.and_then(|marks| marks.unsettled_at(index)) else {
+        return;
+    };
+    ui.colored_label(
+        UNSETTLED,
+        format!("unsettled: {:.1} mm off", stop.resting_error_mm),
+    )
+    .on_hover_text(stop.sentence(scene));
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn the_hull_of_a_square_and_its_centre_is_the_square() {
+        let hull = convex_hull(vec![
+            pos2(0.0, 0.0),
+            pos2(1.0, 0.0),
+            pos2(0.5, 0.5),
+            pos2(1.0, 1.0),
+            pos2(0.0, 1.0),
+        ]);
+        assert_eq!(hull.len(), 4);
+        assert!(!hull.contains(&pos2(0.5, 0.5)));
+    }
+}

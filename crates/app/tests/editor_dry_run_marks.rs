@@ -1,0 +1,132 @@
+//! What the dry run found wrong, on screen: a waypoint moved into the table gives a contact that
+//! both views shade and name (a hover region named by the contact's sentence) and the timeline
+//! lists and marks; a pick with no dwell gives an unsettled stop marked in the sequence with its
+//! resting error and listed on the timeline.
+
+mod editor_common;
+
+use armwright::editor::{Command, Editor, Solid, WaypointField};
+use egui_kittest::Harness;
+use egui_kittest::kittest::Queryable;
+
+use editor_common::{
+    assert_dry_run_ready, file_editor, sample_editor, sample_scene, wait_for_dry_run,
+};
+
+fn apply(harness: &mut Harness<'static, Editor>, command: Command) {
+    let ctx = harness.ctx.clone();
+    harness.state_mut().apply(&ctx, command, 0);
+    harness.step();
+}
+
+#[test]
+fn a_waypoint_moved_into_the_table_is_shaded_and_named_in_both_views_and_on_the_timeline() {
+    let (mut harness, _requests, _dir) = sample_editor("marks-contact");
+    wait_for_dry_run(&mut harness);
+    assert_dry_run_ready(harness.state(), "the sample");
+    let found = harness
+        .state()
+        .state
+        .dry_run_found()
+        .cloned()
+        .expect("marks");
+    assert!(found.contacts.is_empty(), "{:?}", found.contacts);
+    // "corner A" with the shoulder level: the forearm, 110 mm long at 110° below the upper arm,
+    // ends about 33 mm below the table top.
+    apply(&mut harness, Command::JumpToWaypoint(2));
+    apply(
+        &mut harness,
+        Command::SetJoint {
+            joint: 1,
+            position: 0.0,
+        },
+    );
+    apply(&mut harness, Command::UpdateWaypointPose(2));
+    wait_for_dry_run(&mut harness);
+    harness.run_steps(2);
+    let editor = harness.state();
+    assert_dry_run_ready(editor, "the edited sample");
+    let found = editor.state.dry_run_found().cloned().expect("marks");
+    let contact = found
+        .contacts
+        .iter()
+        .find(|c| c.object == "table" && c.waypoint == 2)
+        .unwrap_or_else(|| panic!("no contact with the table: {:?}", found.contacts));
+    assert!(matches!(contact.other, Solid::Table { .. }));
+    assert!(matches!(contact.hitter, Solid::Capsule { .. }));
+    assert!(contact.depth_mm > 10.0, "{}", contact.depth_mm);
+    let timings = editor
+        .state
+        .playback
+        .timeline
+        .as_ref()
+        .expect("a timeline")
+        .plan
+        .timings()
+        .to_vec();
+    assert!(contact.time > timings[1].departure && contact.time <= timings[2].departure);
+    // The timeline lists it, naming link, object and time; both views carry a region named by
+    // the same sentence (its tooltip).
+    let sentence = contact.sentence(&editor.state.scene);
+    assert!(sentence.contains(&contact.link) && sentence.contains("hits table"));
+    let named = harness.query_all_by_label(&sentence).count();
+    assert!(
+        named >= 3,
+        "the timeline and both views should name \"{sentence}\", found {named}"
+    );
+    // Undo: the contact goes.
+    apply(&mut harness, Command::Undo);
+    wait_for_dry_run(&mut harness);
+    harness.run_steps(2);
+    assert!(harness.query_by_label(&sentence).is_none());
+}
+
+#[test]
+fn a_pick_with_no_dwell_is_marked_unsettled_in_the_sequence_and_on_the_timeline() {
+    let mut harness = file_editor("marks-unsettled", sample_scene("cube-stacker"));
+    wait_for_dry_run(&mut harness);
+    assert_dry_run_ready(harness.state(), "the cube stacker");
+    let found = harness
+        .state()
+        .state
+        .dry_run_found()
+        .cloned()
+        .expect("marks");
+    assert!(found.unsettled_at(1).is_none(), "{:?}", found.unsettled);
+    // The first pick with no dwell: the gripper closes on arrival.
+    apply(
+        &mut harness,
+        Command::EditWaypoint {
+            index: 1,
+            field: WaypointField::DwellMs(0.0),
+        },
+    );
+    wait_for_dry_run(&mut harness);
+    harness.run_steps(2);
+    let editor = harness.state();
+    let found = editor.state.dry_run_found().cloned().expect("marks");
+    let stop = found
+        .unsettled_at(1)
+        .copied()
+        .expect("waypoint 1 unsettled");
+    assert!(stop.gripper_acts);
+    let result = &editor
+        .state
+        .playback
+        .timeline
+        .as_ref()
+        .expect("a timeline")
+        .run
+        .waypoints[1];
+    assert!((stop.resting_error_mm - result.resting_error * 1e3).abs() < 1e-9);
+    // The sequence's row: a marker with the resting error.
+    let marker = format!("unsettled: {:.1} mm off", stop.resting_error_mm);
+    assert!(harness.query_by_label(&marker).is_some(), "no \"{marker}\"");
+    // The timeline's line.
+    let sentence = stop.sentence(&editor.state.scene);
+    assert!(sentence.contains("when the gripper acts"), "{sentence}");
+    assert!(
+        harness.query_by_label(&sentence).is_some(),
+        "no \"{sentence}\""
+    );
+}
