@@ -41,7 +41,7 @@ fn a_move_through_the_table_is_refused_by_plan_and_simulate_naming_link_object_a
     let waypoints = plan["waypoints"].as_array().unwrap();
     let left_lift = waypoints[2]["departure_s"].as_f64().unwrap();
     let reached = waypoints[3]["arrival_s"].as_f64().unwrap();
-    // On the way down the cube carried in the gripper (since "grip spacer 1") swings into the
+    // On the way down the spacer carried in the gripper (since "grip spacer 1") swings into the
     // table first.
     let down = contact(
         &plan,
