@@ -510,7 +510,7 @@ impl Editor {
         // Side panels start narrower in a small window so the views keep a useful width.
         let window_width = ui.ctx().content_rect().width();
         let left = Panel::left("armwright joints")
-            .default_size((window_width * 0.21).clamp(250.0, 330.0))
+            .default_size((window_width * 0.22).clamp(285.0, 330.0))
             .show(ui, |ui| {
                 // The tool point keeps the panel's foot, all of it in view whatever the window's
                 // height; the joints above it scroll.
