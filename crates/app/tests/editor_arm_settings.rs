@@ -154,7 +154,11 @@ fn an_invalid_value_is_listed_kept_and_not_applied() {
         harness.get_by_label(UPPER_ARM).value().as_deref(),
         Some("-20")
     );
-    assert!(harness.query_by_label_contains("1 problem(s)").is_some());
+    assert!(
+        harness
+            .query_by_label_contains("1 problem, not applied")
+            .is_some()
+    );
 
     // Undo takes back the payload; the typed length stays listed and unapplied.
     undo(&mut harness);
@@ -350,7 +354,11 @@ fn a_chain_value_that_is_no_number_is_listed_kept_and_not_applied() {
             .as_deref(),
         Some("90")
     );
-    assert!(harness.query_by_label_contains("1 problem(s)").is_some());
+    assert!(
+        harness
+            .query_by_label_contains("1 problem, not applied")
+            .is_some()
+    );
 
     retype(&mut harness, label, &["115"]);
     assert_eq!(dh_a_mm(&harness, 2), 115.0);

@@ -65,10 +65,10 @@ fn a_new_pick_and_place_is_taught_by_typed_positions_saved_and_checked() {
         format!("{}, gripper closed", waypoints[1].name)
     );
     assert_eq!(waypoints[3].move_kind, MoveKind::Straight);
-    assert!(
-        waypoints[3].name.starts_with("25 mm above "),
-        "{}",
-        waypoints[3].name
+    // Back up: named from the first, not stacked on the one before.
+    assert_eq!(
+        waypoints[3].name,
+        format!("{}, gripper closed", waypoints[0].name)
     );
     assert_eq!(
         waypoints[4].move_kind,

@@ -20,6 +20,7 @@ use super::retime_job::RetimeRun;
 use super::state::{
     BranchChoice, Dialog, EditorState, Level, ReachStatus, StopSource, StopState, ToolsTab,
 };
+use super::waypoint_name::relative_name;
 use crate::scene::{
     Arrival, Device, GripperState, MoveKind, ProfileKind, RetimeSettings, Scene, Waypoint,
     pose_from_file_units, position_to_file_unit, validate,
@@ -681,9 +682,10 @@ const VERTICAL_ACROSS: f64 = 0.5e-3;
 
 /// Stores the current pose at `at`. The new waypoint takes the settings of the one before it
 /// (move, profile, speed share, dwell, arrival); one stored straight above or below the one
-/// before it is a straight move, named for it ("20 mm below grip spacer 1"), and one that leaves
-/// such a vertical approach sideways is a joint move; one that only changes the gripper is
-/// named for that ("grip spacer 1, gripper closed").
+/// before it is a straight move, named for it ("20 mm below grip spacer 1", counted from what
+/// the one before describes rather than stacked on its name: `waypoint_name.rs`), and one that
+/// leaves such a vertical approach sideways is a joint move; one that only changes the gripper
+/// is named for that ("grip spacer 1, gripper closed").
 fn add_waypoint(state: &mut EditorState, at: usize) {
     let at = at.min(state.scene.waypoints.len());
     let pose = state.pose_in_file_units();
@@ -708,15 +710,20 @@ fn add_waypoint(state: &mut EditorState, at: usize) {
         match vertical_rise_mm(here, there) {
             Some(rise_mm) if rise_mm.abs() >= 0.5 => {
                 waypoint.move_kind = MoveKind::Straight;
-                let side = if rise_mm > 0.0 { "above" } else { "below" };
-                name = Some(format!("{:.0} mm {side} {}", rise_mm.abs(), previous.name));
+                name = Some(relative_name(
+                    &previous.name,
+                    previous.gripper,
+                    rise_mm,
+                    state.gripper,
+                ));
             }
             Some(_) if previous.gripper != state.gripper => {
-                let gripper = match state.gripper {
-                    GripperState::Open => "open",
-                    GripperState::Closed => "closed",
-                };
-                name = Some(format!("{}, gripper {gripper}", previous.name));
+                name = Some(relative_name(
+                    &previous.name,
+                    previous.gripper,
+                    0.0,
+                    state.gripper,
+                ));
             }
             Some(_) => {}
             None => {

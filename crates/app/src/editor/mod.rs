@@ -11,7 +11,8 @@
 //! typed text; `dry_run_job.rs` plans the sequence and runs the dry run off the UI thread;
 //! `traces.rs` what the timeline plots; `dry_run_marks.rs` the contacts and unsettled stops the
 //! views, the timeline and the sequence mark; `playback.rs` the timeline's cursor and playback;
-//! `panels/` one file per panel; `views/` the two to-scale views. This file is the shell:
+//! `panels/` one file per panel; `views/` the two to-scale views; `waypoint_name.rs` the names
+//! a stored waypoint gets. This file is the shell:
 //! [`Editor::logic`] handles what must run whatever is on screen (the emergency-stop key first),
 //! [`Editor::ui`] draws the panels and applies their commands after the frame.
 
@@ -31,6 +32,7 @@ mod sample;
 mod state;
 mod traces;
 mod views;
+mod waypoint_name;
 
 pub use arm_form::{ArmField, ArmForm, ArmTypeChoice, ChainField, DhParam, JointField};
 pub use command::{Command, Outside, WaypointField, apply};
@@ -49,8 +51,8 @@ pub use state::{
 };
 pub use traces::{GRID, MAX_BUCKETS, Quantity, Series, Traces, decimate};
 pub use views::{
-    ArmOverlay, Camera, DEVICE, MapKey, MapLayer, Plane, Projection, RAMP_TOP, ReachLayers,
-    SIMULATED, SidePlane, TopPlane, VIEW_HINT, ViewKind, torque_colour,
+    ArmOverlay, Camera, DEVICE, MapKey, MapLayer, OVER_RATING, Plane, Projection, ReachLayers,
+    SIMULATED, SidePlane, TopPlane, TorqueRamp, VIEW_HINT, ViewKind, ViewMaps, viridis,
 };
 
 use std::path::PathBuf;
@@ -69,8 +71,8 @@ use retime_job::RetimeWorker;
 /// waypoint rows and a readable plot, leaving the views most of a 960-point window.
 const BOTTOM_HEIGHT: f32 = 290.0;
 
-/// Default width of the timeline beside the sequence, in points: the sequence's columns keep
-/// about 880 points of a 1560-point window.
+/// Widest default of the timeline beside the sequence, in points (42 % of a smaller window): the
+/// sequence's columns keep about 880 points of a 1560-point window.
 const TIMELINE_WIDTH: f32 = 640.0;
 
 /// The keys that nudge the tool point: key, axis (0 x, 1 y, 2 z) and direction. A press moves
@@ -267,9 +269,15 @@ impl Editor {
         }
     }
 
-    /// A view's newest reach envelope and torque-use map, once computed.
+    /// A view's newest reach envelope and torque-use map at the tool angle a drag holds, once
+    /// computed.
     pub fn reach_layer(&self, kind: ViewKind) -> Option<&MapLayer> {
         self.reach.layer(kind)
+    }
+
+    /// A view's newest reach envelope over any tool angle, once computed.
+    pub fn any_angle_reach_layer(&self, kind: ViewKind) -> Option<&MapLayer> {
+        self.reach.any_angle_layer(kind)
     }
 
     /// Whether a reach map is being computed.
@@ -473,24 +481,43 @@ impl Editor {
             pos2(ui.ctx().content_rect().left(), top.response.rect.bottom()),
             ui.ctx().content_rect().max,
         );
-        Panel::bottom("armwright status bar").show(ui, |ui| panels::status_bar(ui, &self.state));
+        // The views' mouse use goes in the status bar while the pointer is over one (as a
+        // tooltip it covered the panels below the views).
+        let over_view = ui.ctx().pointer_hover_pos().is_some_and(|pointer| {
+            self.cameras.iter().any(|camera| {
+                camera
+                    .projection()
+                    .is_some_and(|projection| projection.rect.contains(pointer))
+            })
+        });
+        let hint = over_view.then_some(VIEW_HINT);
+        Panel::bottom("armwright status bar")
+            .show(ui, |ui| panels::status_bar(ui, &self.state, hint));
         let bottom = Panel::bottom("armwright sequence")
             .resizable(true)
             .default_size(BOTTOM_HEIGHT)
             .show(ui, |ui| {
                 let timeline = Panel::right("armwright timeline")
                     .resizable(true)
-                    .default_size(TIMELINE_WIDTH)
+                    .default_size(
+                        (ui.ctx().content_rect().width() * 0.42).clamp(440.0, TIMELINE_WIDTH),
+                    )
                     .show(ui, |ui| {
                         panels::timeline(ui, &self.state, &mut self.timeline_plot)
                     });
                 timeline.inner.then(panels::sequence(ui, &self.state))
             });
         commands.push(bottom.inner);
+        // Side panels start narrower in a small window so the views keep a useful width.
+        let window_width = ui.ctx().content_rect().width();
         let left = Panel::left("armwright joints")
-            .default_size(330.0)
+            .default_size((window_width * 0.22).clamp(285.0, 330.0))
             .show(ui, |ui| {
-                ScrollArea::vertical()
+                // The tool point keeps the panel's foot, all of it in view whatever the window's
+                // height; the joints above it scroll.
+                let tool_point = Panel::bottom("armwright tool point")
+                    .show(ui, |ui| panels::tool_point(ui, &self.state));
+                let joints = ScrollArea::vertical()
                     .id_salt("armwright joints scroll")
                     .show(ui, |ui| {
                         let pulse_unit_us =
@@ -498,16 +525,15 @@ impl Editor {
                                 armwright_kinematics::DEFAULT_PULSE_UNIT_US,
                                 |connection| connection.info.us_from_units(1),
                             );
-                        let joints = panels::joint_controls(ui, &self.state, pulse_unit_us);
-                        ui.separator();
-                        joints.then(panels::tool_point(ui, &self.state))
+                        panels::joint_controls(ui, &self.state, pulse_unit_us)
                     })
-                    .inner
+                    .inner;
+                joints.then(tool_point.inner)
             });
         commands.push(left.inner);
         let tools = Panel::right("armwright tools")
             .resizable(true)
-            .default_size(450.0)
+            .default_size((window_width * 0.28).clamp(340.0, 450.0))
             .show(ui, |ui| {
                 let mut command = Command::None;
                 ui.horizontal(|ui| {
@@ -559,10 +585,10 @@ impl Editor {
             });
             let overlays: Vec<ArmOverlay> = simulated.into_iter().chain(device).collect();
             let [top_camera, side_camera] = &mut self.cameras;
-            let (top_map, side_map) = (
-                self.reach.layer(ViewKind::Top),
-                self.reach.layer(ViewKind::Side),
-            );
+            let [top_map, side_map] = [ViewKind::Top, ViewKind::Side].map(|kind| ViewMaps {
+                at_angle: self.reach.layer(kind),
+                any_angle: self.reach.any_angle_layer(kind),
+            });
             let from_top = ui
                 .scope_builder(UiBuilder::new().max_rect(top_rect), |ui| {
                     views::show_view(

@@ -48,10 +48,58 @@ pub fn options(dir: &std::path::Path, seconds: u64) -> EditorOptions {
 
 /// An editor harness on `editor`, 1560 × 960 points like the real window.
 pub fn harness(editor: Editor) -> Harness<'static, Editor> {
+    harness_of_size(editor, [1560.0, 960.0])
+}
+
+/// An editor harness on `editor` in a window of `size` points.
+pub fn harness_of_size(editor: Editor, size: [f32; 2]) -> Harness<'static, Editor> {
     Harness::builder()
-        .with_size([1560.0, 960.0])
+        .with_size(size)
         .with_step_dt(1.0 / 60.0)
         .build_eframe(move |_creation| editor)
+}
+
+/// The bundled sample scenes (`sample-scenes/*.armwright.json`), in name order.
+pub fn sample_scenes() -> Vec<PathBuf> {
+    let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("../../sample-scenes");
+    let mut found: Vec<PathBuf> = std::fs::read_dir(&dir)
+        .expect("the sample-scenes folder")
+        .filter_map(|entry| entry.ok().map(|entry| entry.path()))
+        .filter(|path| {
+            path.file_name()
+                .is_some_and(|name| name.to_string_lossy().ends_with(".armwright.json"))
+        })
+        .collect();
+    found.sort();
+    assert!(!found.is_empty(), "no samples in {}", dir.display());
+    found
+}
+
+/// Steps until both views have both reach maps for the state as it is and no map is being made
+/// (at most 60 s).
+pub fn wait_for_reach_maps(harness: &mut EditorHarness) {
+    let start = Instant::now();
+    loop {
+        harness.step();
+        let editor = harness.state();
+        let ready = [
+            armwright::editor::ViewKind::Top,
+            armwright::editor::ViewKind::Side,
+        ]
+        .into_iter()
+        .all(|kind| {
+            editor.reach_layer(kind).is_some() && editor.any_angle_reach_layer(kind).is_some()
+        });
+        if ready && !editor.is_mapping() {
+            break;
+        }
+        assert!(
+            start.elapsed() < Duration::from_secs(60),
+            "no reach maps after 60 s"
+        );
+        std::thread::sleep(Duration::from_millis(10));
+    }
+    harness.run_steps(2);
 }
 
 /// An editor harness on the built-in sample, with the receiving end of its stop link.

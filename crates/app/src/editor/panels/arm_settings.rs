@@ -35,8 +35,8 @@ pub fn arm_settings(ui: &mut Ui, state: &EditorState) -> Command {
         ui.add_space(4.0);
         ui.label(
             RichText::new(format!(
-                "{} problem(s), not applied to the arm:",
-                problems.len()
+                "{}, not applied to the arm:",
+                super::counted(problems.len(), "problem", "problems")
             ))
             .color(PROBLEM)
             .strong(),
@@ -46,7 +46,8 @@ pub fn arm_settings(ui: &mut Ui, state: &EditorState) -> Command {
         }
     }
     ui.add_space(6.0);
-    ui.horizontal(|ui| {
+    // Wrapped: on one line the type choices made the tools panel wider for good.
+    ui.horizontal_wrapped(|ui| {
         ui.label("type");
         match &arm.shape {
             ArmShape::Articulated4(_) | ArmShape::Articulated5(_) | ArmShape::Scara(_) => {

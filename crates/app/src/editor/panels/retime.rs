@@ -150,11 +150,11 @@ fn current_view(ui: &mut Ui, state: &EditorState) {
         format!("misses the target: {}", misses.join(", "))
     };
     ui.label(format!(
-        "current timing: cycle {:.3} s, worst overshoot {:.2} mm, worst torque use {:.0} % of the derated stall torque, {} gripper stop(s) unsettled — {verdict}",
+        "current timing: cycle {:.3} s, worst overshoot {:.2} mm, worst torque use {:.0} % of the derated stall torque, {} unsettled — {verdict}",
         figures.cycle_time_s,
         figures.worst_overshoot_mm,
         figures.worst_torque_use_pct,
-        figures.unsettled_gripper_stops
+        super::counted(figures.unsettled_gripper_stops, "gripper stop", "gripper stops")
     ));
 }
 
@@ -198,13 +198,21 @@ fn report_view(ui: &mut Ui, report: &RetimeReport, stale: bool) -> Command {
         None => ui.colored_label(
             WARNING,
             format!(
-                "target not met: {} gripper stop(s) unsettled",
-                report.after.unsettled_gripper_stops
+                "target not met: {} unsettled",
+                super::counted(
+                    report.after.unsettled_gripper_stops,
+                    "gripper stop",
+                    "gripper stops"
+                )
             ),
         ),
     };
     ui.label(match report.binding {
-        Some((binding, stops)) => format!("binding: {} at {stops} stop(s)", binding.words()),
+        Some((binding, stops)) => format!(
+            "binding: {} at {}",
+            binding.words(),
+            super::counted(stops, "stop", "stops")
+        ),
         None => "binding: no constraint is near its limit".to_string(),
     });
     if let Some((index, success, tolerance_mm)) = report.worst_placement {
@@ -264,12 +272,12 @@ fn report_view(ui: &mut Ui, report: &RetimeReport, stale: bool) -> Command {
     ui.label(match report.shaping {
         Shaping::None => "shaping: none (the scene's timing.shaping is off)".to_string(),
         shaping => format!(
-            "shaping: {}, {} run(s) from stop to stop shaped",
+            "shaping: {}, {} from stop to stop shaped",
             match shaping {
                 Shaping::Zvd => "ZVD",
                 _ => "ZV",
             },
-            report.shaped_runs
+            super::counted(report.shaped_runs, "run", "runs")
         ),
     });
     ui.add_space(4.0);

@@ -16,7 +16,7 @@ pub fn sequence(ui: &mut Ui, state: &EditorState) -> Command {
     let mut command = Command::None;
     let count = state.scene.waypoints.len();
     let selected = state.selected_waypoint.filter(|index| *index < count);
-    ui.horizontal(|ui| {
+    ui.horizontal_wrapped(|ui| {
         ui.heading(format!(
             "Sequence ({})",
             super::counted(count, "waypoint", "waypoints")
@@ -88,26 +88,33 @@ pub fn sequence(ui: &mut Ui, state: &EditorState) -> Command {
         }
     });
     ui.separator();
-    ui.horizontal(|ui| {
-        for (title, width) in COLUMNS {
-            ui.add_sized(
-                [width, 16.0],
-                egui::Label::new(egui::RichText::new(title).strong()),
-            );
-        }
-    });
-    ScrollArea::vertical()
-        .id_salt("sequence rows")
+    // The table scrolls sideways when the panel is narrower than its columns (a small window),
+    // rather than running under the timeline beside it.
+    ScrollArea::horizontal()
+        .id_salt("sequence columns")
         .auto_shrink([false, false])
-        .show_rows(ui, ROW_HEIGHT, count, |ui, rows| {
-            for index in rows {
-                if let Some(waypoint) = state.scene.waypoints.get(index) {
-                    let row = waypoint_row(ui, state, index, waypoint, selected == Some(index));
-                    if row != Command::None {
-                        command = row;
-                    }
+        .show(ui, |ui| {
+            ui.horizontal(|ui| {
+                for (title, width) in COLUMNS {
+                    ui.add_sized(
+                        [width, 16.0],
+                        egui::Label::new(egui::RichText::new(title).strong()),
+                    );
                 }
-            }
+            });
+            ScrollArea::vertical()
+                .id_salt("sequence rows")
+                .auto_shrink([false, false])
+                .show_rows(ui, ROW_HEIGHT, count, |ui, rows| {
+                    for index in rows {
+                        if let Some(waypoint) = state.scene.waypoints.get(index) {
+                            let row = waypoint_row(ui, state, index, waypoint, selected == Some(index));
+                            if row != Command::None {
+                                command = row;
+                            }
+                        }
+                    }
+                });
         });
     command
 }

@@ -15,8 +15,8 @@ use egui::{
     vec2,
 };
 use egui_plot::{
-    AxisHints, ColorConflictHandling, Corner, Legend, Plot, PlotBounds, PlotGeometry, PlotItem,
-    PlotItemBase, PlotTransform, uniform_grid_spacer,
+    AxisHints, Plot, PlotBounds, PlotGeometry, PlotItem, PlotItemBase, PlotTransform,
+    uniform_grid_spacer,
 };
 
 use crate::editor::command::Command;
@@ -54,9 +54,9 @@ const SIMULATED_WIDTH: f32 = 5.0;
 /// Least distance between two drawn waypoint marks, in points.
 const MARK_SPACING: f32 = 3.0;
 
-/// Least distance between two waypoint names on the plot, in points; names that would crowd
-/// are left out (their marks stay).
-const NAME_SPACING: f32 = 70.0;
+/// Least gap between two waypoint names on the plot, in points; a name that would run into the
+/// one before is left out (its mark stays).
+const NAME_GAP: f32 = 8.0;
 
 /// The plot's decimated lines and where it was drawn, kept between frames.
 #[derive(Default)]
@@ -327,6 +327,21 @@ fn plot_lines(
         (turning || !slides, sliding || slides)
     });
     let axis_label = quantity.axis_label(turning, sliding);
+    if quantity.per_joint() {
+        // The legend is a row above the plot rather than a box in it, where it covered the
+        // waypoint names and the lines.
+        ui.horizontal_wrapped(|ui| {
+            for joint in (0..timeline.traces.joints).filter(|joint| shown(*joint)) {
+                let (swatch, _) = ui.allocate_exact_size(vec2(16.0, 10.0), egui::Sense::hover());
+                ui.painter().rect_filled(
+                    Rect::from_center_size(swatch.center(), vec2(16.0, 3.0)),
+                    0.0,
+                    JOINT_COLOURS[joint % JOINT_COLOURS.len()],
+                );
+                ui.label(RichText::new(&names[joint]).small());
+            }
+        });
+    }
     let lines = &mut *plot;
     let response = Plot::new("armwright timeline plot")
         .allow_drag(false)
@@ -350,13 +365,6 @@ fn plot_lines(
                 .label_spacing(16.0..=24.0)
                 .min_thickness(40.0),
         ])
-        // A joint's pale dry-run band and its commanded line share a legend entry: the swatch
-        // takes the commanded line's colour (added last) rather than turning grey.
-        .legend(
-            Legend::default()
-                .position(Corner::RightTop)
-                .color_conflict_handling(ColorConflictHandling::PickLast),
-        )
         .show(ui, |plot_ui| {
             let bounds = plot_ui.plot_bounds();
             let width = plot_ui.response().rect.width();
@@ -393,7 +401,7 @@ fn plot_lines(
     // Marks closer than a few pixels merge; all of them are one mesh.
     let mut marks = Mesh::default();
     let mut last_mark_x = f32::NEG_INFINITY;
-    let mut last_name_x = f32::NEG_INFINITY;
+    let mut last_name_right = f32::NEG_INFINITY;
     for (name, arrival) in &timeline.marks {
         if *arrival < bounds.min()[0] || *arrival > bounds.max()[0] {
             continue;
@@ -406,15 +414,11 @@ fn plot_lines(
             );
             last_mark_x = x;
         }
-        if x - last_name_x >= NAME_SPACING {
-            painter.text(
-                pos2(x + 3.0, frame.top() + 2.0),
-                Align2::LEFT_TOP,
-                name,
-                FontId::proportional(11.0),
-                MARK,
-            );
-            last_name_x = x;
+        if x + 3.0 >= last_name_right + NAME_GAP {
+            let galley = painter.layout_no_wrap(name.clone(), FontId::proportional(11.0), MARK);
+            let width = galley.size().x;
+            painter.galley(pos2(x + 3.0, frame.top() + 2.0), galley, MARK);
+            last_name_right = x + 3.0 + width;
         }
     }
     painter.add(Shape::mesh(marks));

@@ -10,8 +10,9 @@ use nalgebra::Vector3;
 
 use super::Plane;
 use super::ViewKind;
+use super::labels::Label;
 use super::projection::{Projection, nice_length_mm};
-use super::reach_layer::{MapLayer, RAMP_TOP, torque_colour};
+use super::reach_layer::{MapLayer, OVER_RATING, viridis};
 use crate::editor::state::EditorState;
 use crate::scene::pose_from_file_units;
 
@@ -149,27 +150,22 @@ fn format_mm(value: f64) -> String {
     }
 }
 
-/// The table plane, boxes and trays.
+/// The table plane, boxes and trays; their names go to `labels`, to be placed free of each
+/// other.
 pub fn workspace(
     painter: &Painter,
     projection: &Projection,
     plane: &dyn Plane,
     kind: ViewKind,
     state: &EditorState,
+    labels: &mut Vec<Label>,
 ) {
     let workspace = &state.scene.workspace;
     let rect = projection.rect;
     if let Some(height_mm) = workspace.table_height_mm {
         match kind {
-            ViewKind::Top => {
-                painter.text(
-                    rect.left_top() + vec2(10.0, 28.0),
-                    Align2::LEFT_TOP,
-                    format!("table at {height_mm:.0} mm"),
-                    FontId::proportional(12.0),
-                    TABLE.gamma_multiply(2.5),
-                );
-            }
+            // The top view names the table's height in its caption.
+            ViewKind::Top => {}
             ViewKind::Side => {
                 let y = projection.to_screen([0.0, height_mm]).y;
                 if y < rect.bottom() {
@@ -187,16 +183,16 @@ pub fn workspace(
         }
     }
     for object in &workspace.boxes {
-        block(
+        let outline = block(
             painter,
             projection,
             plane,
             kind,
             object.position_mm,
             object.size_mm,
-            &object.name,
             BOX,
         );
+        labels.push(object_label(&object.name, outline, BOX));
     }
     for tray in &workspace.trays {
         let outline = block(
@@ -206,9 +202,9 @@ pub fn workspace(
             kind,
             tray.position_mm,
             tray.size_mm,
-            &tray.name,
             TRAY,
         );
+        labels.push(object_label(&tray.name, outline, TRAY));
         if kind == ViewKind::Top {
             let stroke = Stroke::new(1.0, TRAY.gamma_multiply(0.6));
             for i in 1..tray.pockets[0] {
@@ -223,11 +219,18 @@ pub fn workspace(
     }
 }
 
-/// An axis-aligned block standing on `bottom_centre_mm`, drawn as its outline on the plane.
-#[expect(
-    clippy::too_many_arguments,
-    reason = "a drawing helper with its colour and label"
-)]
+fn object_label(name: &str, outline: Rect, colour: Color32) -> Label {
+    Label {
+        text: name.to_string(),
+        beside: outline,
+        colour,
+        size: 11.0,
+        importance: 0,
+    }
+}
+
+/// An axis-aligned block standing on `bottom_centre_mm`, drawn as its outline on the plane;
+/// returns the outline on screen.
 fn block(
     painter: &Painter,
     projection: &Projection,
@@ -235,7 +238,6 @@ fn block(
     kind: ViewKind,
     bottom_centre_mm: [f64; 3],
     size_mm: [f64; 3],
-    name: &str,
     colour: Color32,
 ) -> Rect {
     let [cx, cy, cz] = bottom_centre_mm;
@@ -261,22 +263,17 @@ fn block(
     };
     painter.rect_filled(outline, 2.0, colour.gamma_multiply(0.18));
     painter.rect_stroke(outline, 2.0, Stroke::new(1.5, colour), StrokeKind::Middle);
-    painter.text(
-        outline.center_top() + vec2(0.0, -3.0),
-        Align2::CENTER_BOTTOM,
-        name,
-        FontId::proportional(11.0),
-        colour,
-    );
     outline
 }
 
-/// The tool points of the stored waypoints, joined in order, the selected one ringed.
+/// The tool points of the stored waypoints, joined in order, the selected one ringed; its name
+/// goes to `labels`.
 pub fn waypoints(
     painter: &Painter,
     projection: &Projection,
     plane: &dyn Plane,
     state: &EditorState,
+    labels: &mut Vec<Label>,
 ) {
     let Some(arm) = state.arm() else {
         return;
@@ -295,13 +292,13 @@ pub fn waypoints(
         points.push(screen);
         if state.selected_waypoint == Some(index) {
             painter.circle_stroke(screen, 7.0, Stroke::new(2.0, WAYPOINT));
-            painter.text(
-                screen + vec2(9.0, -9.0),
-                Align2::LEFT_BOTTOM,
-                &waypoint.name,
-                FontId::proportional(12.0),
-                WAYPOINT,
-            );
+            labels.push(Label {
+                text: waypoint.name.clone(),
+                beside: Rect::from_center_size(screen, vec2(18.0, 18.0)),
+                colour: WAYPOINT,
+                size: 12.0,
+                importance: 1,
+            });
         }
     }
     // One thin path and square markers: a dashed path or round markers cost ten times as much
@@ -396,12 +393,19 @@ fn state_has_problem(state: &EditorState) -> bool {
     ) || state.worst_torque_overload().is_some()
 }
 
-/// The view's title in the top-left corner and its problems in the top-right.
+/// The view's title in the top-left corner with a smaller line under it (what slice it shows),
+/// and its problems in the top-right.
 ///
 /// The problem lines sit at the top right; when the first would run into the title (a narrow
 /// view, a long message), they all go below the title instead. Returns the box the captions
 /// cover, in screen points.
-pub fn captions(painter: &Painter, rect: Rect, title: &str, problems: &[String]) -> Rect {
+pub fn captions(
+    painter: &Painter,
+    rect: Rect,
+    title: &str,
+    subtitle: &str,
+    problems: &[String],
+) -> Rect {
     let font = FontId::proportional(14.0);
     let title_rect = painter.text(
         rect.left_top() + vec2(10.0, 8.0),
@@ -411,6 +415,16 @@ pub fn captions(painter: &Painter, rect: Rect, title: &str, problems: &[String])
         LABEL,
     );
     let mut covered = title_rect;
+    if !subtitle.is_empty() {
+        let drawn = painter.text(
+            title_rect.left_bottom() + vec2(0.0, 3.0),
+            Align2::LEFT_TOP,
+            subtitle,
+            FontId::proportional(12.0),
+            LABEL.gamma_multiply(0.75),
+        );
+        covered = covered.union(drawn);
+    }
     let widest = problems
         .iter()
         .map(|text| {
@@ -420,11 +434,11 @@ pub fn captions(painter: &Painter, rect: Rect, title: &str, problems: &[String])
                 .x
         })
         .fold(0.0_f32, f32::max);
-    let clear_of_title = rect.right() - 10.0 - widest > title_rect.right() + 12.0;
+    let clear_of_title = rect.right() - 10.0 - widest > covered.right() + 12.0;
     let top = if clear_of_title {
         rect.top() + 8.0
     } else {
-        title_rect.bottom() + 4.0
+        covered.bottom() + 4.0
     };
     for (line, text) in problems.iter().enumerate() {
         let drawn = painter.text(
@@ -442,101 +456,217 @@ pub fn captions(painter: &Painter, rect: Rect, title: &str, problems: &[String])
 /// Envelope boundary.
 const ENVELOPE: Color32 = Color32::from_rgb(235, 235, 240);
 
-/// The torque-use shading and the reach envelope's boundary.
-pub fn reach(painter: &Painter, projection: &Projection, layer: &MapLayer) {
-    let extent = layer.map.extent();
-    let rect = projection.rect_of(
-        [extent.u_min * 1e3, extent.u_max * 1e3],
-        [extent.v_min * 1e3, extent.v_max * 1e3],
-    );
-    painter.image(
-        layer.texture.id(),
-        rect,
-        Rect::from_min_max(pos2(0.0, 0.0), pos2(1.0, 1.0)),
-        Color32::WHITE,
-    );
-    let stroke = Stroke::new(1.5, ENVELOPE.gamma_multiply(0.8));
-    for line in layer.map.boundary() {
-        let points: Vec<Pos2> = line
-            .iter()
-            .map(|[u, v]| projection.to_screen([u * 1e3, v * 1e3]))
-            .collect();
-        if points.len() > 1 {
+/// Dash and gap of the any-angle boundary, in points.
+const ANY_ANGLE_DASH: (f32, f32) = (5.0, 4.0);
+
+/// The maps a view draws: the one at the tool angle a drag holds (shaded, solid boundary) and
+/// the one over any tool angle (faint dashed boundary).
+#[derive(Clone, Copy, Default)]
+pub struct ViewMaps<'a> {
+    /// At the held tool angle.
+    pub at_angle: Option<&'a MapLayer>,
+    /// Over any tool angle.
+    pub any_angle: Option<&'a MapLayer>,
+}
+
+/// The envelope's boundary polylines of `layer` on screen.
+fn boundary_on_screen(projection: &Projection, layer: &MapLayer) -> Vec<Vec<Pos2>> {
+    layer
+        .map
+        .boundary()
+        .iter()
+        .map(|line| {
+            line.iter()
+                .map(|[u, v]| projection.to_screen([u * 1e3, v * 1e3]))
+                .collect::<Vec<Pos2>>()
+        })
+        .filter(|points| points.len() > 1)
+        .collect()
+}
+
+/// The torque-use shading and the reach envelope's boundary at the held tool angle, and the
+/// boundary over any tool angle, dashed and fainter.
+pub fn reach(painter: &Painter, projection: &Projection, maps: ViewMaps<'_>) {
+    if let Some(layer) = maps.at_angle {
+        let extent = layer.map.extent();
+        let rect = projection.rect_of(
+            [extent.u_min * 1e3, extent.u_max * 1e3],
+            [extent.v_min * 1e3, extent.v_max * 1e3],
+        );
+        painter.image(
+            layer.texture.id(),
+            rect,
+            Rect::from_min_max(pos2(0.0, 0.0), pos2(1.0, 1.0)),
+            Color32::WHITE,
+        );
+    }
+    if let Some(layer) = maps.any_angle {
+        let stroke = Stroke::new(1.2, ENVELOPE.gamma_multiply(0.45));
+        for points in boundary_on_screen(projection, layer) {
+            painter.extend(Shape::dashed_line(
+                &points,
+                stroke,
+                ANY_ANGLE_DASH.0,
+                ANY_ANGLE_DASH.1,
+            ));
+        }
+    }
+    if let Some(layer) = maps.at_angle {
+        let stroke = Stroke::new(1.5, ENVELOPE.gamma_multiply(0.85));
+        for points in boundary_on_screen(projection, layer) {
             painter.add(Shape::line(points, stroke));
         }
     }
 }
 
-/// The legend of the shading (continuous ramp, % of rated torque) and of the boundary, in the
-/// bottom-right corner.
+/// The tool angle's name for the arm: "tool yaw" for the horizontal-jointed arm, else "tool
+/// pitch".
+pub fn tool_angle_name(state: &EditorState) -> &'static str {
+    match state.arm().map(|arm| arm.arm_type()) {
+        Some(armwright_kinematics::ArmType::Scara(_)) => "tool yaw",
+        _ => "tool pitch",
+    }
+}
+
+/// The legend of the reach maps in the bottom-right corner: the two boundaries (at the held tool
+/// angle, over any angle) and the torque-use ramp with the range it spans and the colour of cells
+/// over the rating.
 ///
 /// Returns the box it covers, in screen points.
-pub fn reach_legend(painter: &Painter, rect: Rect) -> Rect {
-    let width = 180.0;
-    let bar = Rect::from_min_size(
-        rect.right_bottom() + vec2(-width - 16.0, -58.0),
-        vec2(width, 10.0),
-    );
-    let backdrop = bar.expand2(vec2(8.0, 30.0)).translate(vec2(0.0, 4.0));
-    painter.rect_filled(backdrop, 3.0, BACKGROUND.gamma_multiply(0.85));
-    let steps = 45;
-    for step in 0..steps {
-        let t0 = step as f32 / steps as f32;
-        let t1 = (step + 1) as f32 / steps as f32;
-        let cell = Rect::from_min_max(
-            pos2(bar.left() + bar.width() * t0, bar.top()),
-            pos2(bar.left() + bar.width() * t1 + 0.5, bar.bottom()),
-        );
-        painter.rect_filled(
-            cell,
-            0.0,
-            torque_colour(RAMP_TOP * f64::from(t0 + t1) / 2.0),
-        );
-    }
+pub fn reach_legend(painter: &Painter, rect: Rect, maps: ViewMaps<'_>, angle_name: &str) -> Rect {
     let font = FontId::proportional(11.0);
-    for pct in [0.0, 50.0, 100.0, 150.0] {
-        let x = bar.left() + bar.width() * (pct / (RAMP_TOP * 100.0)) as f32;
-        painter.line_segment(
-            [pos2(x, bar.bottom()), pos2(x, bar.bottom() + 4.0)],
-            Stroke::new(1.0, LABEL),
-        );
-        let text = if pct >= RAMP_TOP * 100.0 {
-            format!("{pct:.0}+")
+    let line_height = 15.0;
+    let swatch_width = 22.0;
+    let angle = maps
+        .at_angle
+        .and_then(|layer| layer.key.tool_angle)
+        .map(|angle| format!("{angle_name} {:.1}°", angle.to_degrees()));
+    let ramp = maps.at_angle.map(|layer| layer.ramp);
+    // Rows from the top: boundary at the angle, boundary over any angle, ramp title, ramp bar,
+    // ramp ticks.
+    let mut rows: Vec<String> = Vec::new();
+    if let Some(angle) = &angle {
+        rows.push(format!("reach at {angle}"));
+    }
+    if maps.any_angle.is_some() {
+        rows.push(format!("reach at any {angle_name}"));
+    }
+    let ramp_title = ramp.map(|ramp| match ramp.range {
+        Some((low, high)) => {
+            // A narrow range keeps a decimal so its ends differ.
+            let decimals = if (high - low) * 100.0 < 5.0 { 1 } else { 0 };
+            format!(
+                "torque use {:.decimals$}–{:.decimals$} % of rated",
+                low * 100.0,
+                high * 100.0
+            )
+        }
+        None => "torque use: nothing reachable".to_string(),
+    });
+    let text_width = |text: &str| {
+        painter
+            .layout_no_wrap(text.to_string(), font.clone(), LABEL)
+            .size()
+            .x
+    };
+    let bar_width = 150.0_f32;
+    let width = rows
+        .iter()
+        .map(|row| swatch_width + 6.0 + text_width(row))
+        .chain(ramp_title.iter().map(|title| text_width(title)))
+        .fold(bar_width, f32::max);
+    let ramp_height = if ramp.is_some() { 48.0 } else { 0.0 };
+    let height = rows.len() as f32 * line_height + ramp_height;
+    let top_left = rect.right_bottom() + vec2(-width - 16.0, -height - 14.0);
+    let backdrop = Rect::from_min_size(top_left, vec2(width, height)).expand2(vec2(8.0, 6.0));
+    painter.rect_filled(backdrop, 3.0, BACKGROUND.gamma_multiply(0.85));
+    let mut y = top_left.y;
+    for (index, row) in rows.iter().enumerate() {
+        let middle = y + line_height / 2.0;
+        let swatch = [
+            pos2(top_left.x, middle),
+            pos2(top_left.x + swatch_width, middle),
+        ];
+        let is_any = angle.is_none() || index == 1;
+        if is_any {
+            painter.extend(Shape::dashed_line(
+                &swatch,
+                Stroke::new(1.2, ENVELOPE.gamma_multiply(0.45)),
+                ANY_ANGLE_DASH.0,
+                ANY_ANGLE_DASH.1,
+            ));
         } else {
-            format!("{pct:.0}")
-        };
+            painter.line_segment(swatch, Stroke::new(1.5, ENVELOPE));
+        }
         painter.text(
-            pos2(x, bar.bottom() + 5.0),
-            Align2::CENTER_TOP,
-            text,
+            pos2(top_left.x + swatch_width + 6.0, middle),
+            Align2::LEFT_CENTER,
+            row,
             font.clone(),
             LABEL,
         );
+        y += line_height;
     }
-    painter.text(
-        bar.left_top() + vec2(0.0, -3.0),
-        Align2::LEFT_BOTTOM,
-        "torque use, % of rated (best tool angle)",
-        font.clone(),
-        LABEL,
-    );
-    let line_y = bar.top() - 22.0;
-    painter.line_segment(
-        [pos2(bar.left(), line_y), pos2(bar.left() + 22.0, line_y)],
-        Stroke::new(1.5, ENVELOPE),
-    );
-    painter.text(
-        pos2(bar.left() + 28.0, line_y),
-        Align2::LEFT_CENTER,
-        "reach envelope",
-        font,
-        LABEL,
-    );
+    if let (Some(ramp), Some(title)) = (ramp, ramp_title) {
+        painter.text(
+            pos2(top_left.x, y + 1.0),
+            Align2::LEFT_TOP,
+            title,
+            font.clone(),
+            LABEL,
+        );
+        let over_width = if ramp.any_over() { 56.0 } else { 0.0 };
+        let bar = Rect::from_min_size(
+            pos2(top_left.x, y + 17.0),
+            vec2(bar_width.min(width - over_width), 10.0),
+        );
+        let steps = 45;
+        for step in 0..steps {
+            let t0 = step as f32 / steps as f32;
+            let t1 = (step + 1) as f32 / steps as f32;
+            let cell = Rect::from_min_max(
+                pos2(bar.left() + bar.width() * t0, bar.top()),
+                pos2(bar.left() + bar.width() * t1 + 0.5, bar.bottom()),
+            );
+            painter.rect_filled(cell, 0.0, viridis(f64::from(t0 + t1) / 2.0));
+        }
+        let ticks = [
+            (0.0, ramp.low, Align2::LEFT_TOP),
+            (0.5, (ramp.low + ramp.high) / 2.0, Align2::CENTER_TOP),
+            (1.0, ramp.high, Align2::RIGHT_TOP),
+        ];
+        for (at, share, align) in ticks {
+            let x = bar.left() + bar.width() * at;
+            painter.line_segment(
+                [pos2(x, bar.bottom()), pos2(x, bar.bottom() + 4.0)],
+                Stroke::new(1.0, LABEL),
+            );
+            painter.text(
+                pos2(x, bar.bottom() + 5.0),
+                align,
+                format!("{:.0} %", share * 100.0),
+                font.clone(),
+                LABEL,
+            );
+        }
+        if ramp.any_over() {
+            let swatch = Rect::from_min_size(pos2(bar.right() + 8.0, bar.top()), vec2(14.0, 10.0));
+            painter.rect_filled(swatch, 0.0, OVER_RATING);
+            painter.text(
+                pos2(swatch.left(), bar.bottom() + 5.0),
+                Align2::LEFT_TOP,
+                "> 100 %",
+                font.clone(),
+                LABEL,
+            );
+        }
+    }
     backdrop
 }
 
 #[cfg(test)]
 mod tests {
+    use super::super::reach_layer::MapKey;
     use super::*;
 
     /// Runs `draw` with a painter on a fresh context and returns what it returned.
@@ -558,8 +688,8 @@ mod tests {
         let [(narrow_title, narrow_all), (wide_title, wide_all)] = [320.0, 900.0].map(|width| {
             with_painter(|painter| {
                 let rect = Rect::from_min_size(pos2(0.0, 0.0), vec2(width, 400.0));
-                let title_only = captions(painter, rect, title, &[]);
-                (title_only, captions(painter, rect, title, &problems))
+                let title_only = captions(painter, rect, title, "", &[]);
+                (title_only, captions(painter, rect, title, "", &problems))
             })
         });
         // Narrow: the problem line is under the title, not over it.
@@ -574,7 +704,16 @@ mod tests {
         let (legend, bar, alone) = with_painter(|painter| {
             let rect = Rect::from_min_size(pos2(0.0, 0.0), vec2(300.0, 400.0));
             let projection = super::super::projection::fit(rect, [-300.0, 300.0, -300.0, 300.0]);
-            let legend = reach_legend(painter, rect);
+            let state = EditorState::new(crate::editor::sample::sample_scene(), None);
+            let arm = state.arm().expect("the sample's arm");
+            let layer = |key| super::super::reach_layer::layer_now(painter.ctx(), arm, key);
+            let at_angle = MapKey::for_view(&state, ViewKind::Side).map(layer);
+            let any_angle = MapKey::any_angle(&state, ViewKind::Side).map(layer);
+            let maps = ViewMaps {
+                at_angle: at_angle.as_ref(),
+                any_angle: any_angle.as_ref(),
+            };
+            let legend = reach_legend(painter, rect, maps, "tool pitch");
             let bar = scale_bar(painter, &projection, Some(legend));
             let alone = scale_bar(painter, &projection, None);
             (legend, bar, alone)

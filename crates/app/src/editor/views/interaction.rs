@@ -3,10 +3,10 @@
 
 use egui::{PointerButton, Pos2, Sense, Ui, Vec2};
 
-use super::drawing;
+use super::drawing::{self, ViewMaps};
+use super::labels::place_labels;
 use super::overlay::{ArmOverlay, overlay_arm, overlay_legend};
 use super::projection::{Projection, fit};
-use super::reach_layer::MapLayer;
 use super::{Plane, SidePlane, TopPlane, ViewKind};
 use crate::editor::command::Command;
 use crate::editor::dry_run_marks;
@@ -51,7 +51,7 @@ impl Camera {
     }
 }
 
-/// What a view does with the pointer, shown when the pointer rests on it.
+/// What a view does with the pointer, shown in the status bar while the pointer is over one.
 pub const VIEW_HINT: &str = "drag the tool point to move the arm · wheel: zoom (over the tool \
                              point: tool angle) · right or middle drag: pan · double-click: fit \
                              the arm";
@@ -62,7 +62,7 @@ pub fn show_view(
     state: &EditorState,
     kind: ViewKind,
     camera: &mut Camera,
-    reach: Option<&MapLayer>,
+    reach: ViewMaps<'_>,
     overlays: &[ArmOverlay],
 ) -> Command {
     let (response, painter) = ui.allocate_painter(ui.available_size(), Sense::click_and_drag());
@@ -144,11 +144,10 @@ pub fn show_view(
 
     let clipped = painter.with_clip_rect(rect);
     drawing::grid(&clipped, &projection);
-    if let Some(layer) = reach {
-        drawing::reach(&clipped, &projection, layer);
-    }
-    drawing::workspace(&clipped, &projection, plane, kind, state);
-    drawing::waypoints(&clipped, &projection, plane, state);
+    drawing::reach(&clipped, &projection, reach);
+    let mut labels = Vec::new();
+    drawing::workspace(&clipped, &projection, plane, kind, state, &mut labels);
+    drawing::waypoints(&clipped, &projection, plane, state, &mut labels);
     camera.tool_on_screen =
         drawing::arm(&clipped, &projection, plane, state, camera.grab.is_some());
     if let Some(arm) = state.arm() {
@@ -159,17 +158,62 @@ pub fn show_view(
     if let Some(found) = state.dry_run_found() {
         dry_run_marks::paint_in_view(ui, &clipped, &projection, plane, kind, &state.scene, found);
     }
-    let legend = reach.map(|_| drawing::reach_legend(&clipped, rect));
-    let _ = drawing::scale_bar(&clipped, &projection, legend);
-    let title = match kind {
-        ViewKind::Top => "Top view (X right, Y up)".to_string(),
-        ViewKind::Side => format!("Side view at base yaw {:.1}°", yaw.to_degrees()),
-    };
-    let _ = drawing::captions(&clipped, rect, &title, &state.reach_problems());
-    overlay_legend(&clipped, rect, overlays);
+    // Captions and legends first, then the names of things wherever they are free of them.
+    let (title, subtitle) = view_title(state, kind, yaw, reach);
+    let captions = drawing::captions(&clipped, rect, &title, &subtitle, &state.reach_problems());
+    let mut taken = vec![captions];
+    // Names stay off the tool point, which is grabbed there, and off the base.
+    taken.extend(
+        camera
+            .tool_on_screen
+            .map(|tool| egui::Rect::from_center_size(tool, egui::vec2(30.0, 30.0))),
+    );
+    let base = projection.to_screen(plane.project(&nalgebra::Vector3::zeros()));
+    taken.push(egui::Rect::from_center_size(base, egui::vec2(26.0, 26.0)));
+    taken.extend(overlay_legend(&clipped, rect, captions.bottom(), overlays));
+    let legend = (reach.at_angle.is_some() || reach.any_angle.is_some())
+        .then(|| drawing::reach_legend(&clipped, rect, reach, drawing::tool_angle_name(state)));
+    taken.extend(legend);
+    taken.push(drawing::scale_bar(&clipped, &projection, legend));
+    let _ = place_labels(&clipped, labels, &taken, rect.shrink(2.0));
     camera.projection = Some(projection);
-    response.on_hover_text(VIEW_HINT);
     command
+}
+
+/// A view's title and the line under it: which slice of the reach maps it shows (the top view's
+/// height, with the table's; the side view's yaw is in its title).
+fn view_title(
+    state: &EditorState,
+    kind: ViewKind,
+    yaw: f64,
+    reach: ViewMaps<'_>,
+) -> (String, String) {
+    match kind {
+        ViewKind::Top => {
+            let height_mm = reach
+                .at_angle
+                .and_then(|layer| match layer.key.view {
+                    armwright_kinematics::MapView::Top { height } => Some(height * 1e3),
+                    armwright_kinematics::MapView::Side { .. } => None,
+                })
+                .or_else(|| state.tool_point().map(|point| point.z * 1e3));
+            let mut subtitle = match height_mm {
+                Some(height_mm) => format!("reach slice at z = {height_mm:.0} mm"),
+                None => String::new(),
+            };
+            if let Some(table_mm) = state.scene.workspace.table_height_mm {
+                if !subtitle.is_empty() {
+                    subtitle.push_str(" · ");
+                }
+                subtitle.push_str(&format!("table at z = {table_mm:.0} mm"));
+            }
+            ("Top view (X right, Y up)".to_string(), subtitle)
+        }
+        ViewKind::Side => (
+            format!("Side view at base yaw {:.1}°", yaw.to_degrees()),
+            "reach slice in this vertical plane".to_string(),
+        ),
+    }
 }
 
 /// The plane extent (mm: left, right, bottom, top) a view first shows: the arm's reach around
@@ -218,7 +262,8 @@ mod tests {
     fn harness() -> Harness<'static, Setup> {
         Harness::builder().with_size([600.0, 500.0]).build_ui_state(
             |ui, (state, camera, commands): &mut Setup| {
-                let command = show_view(ui, state, ViewKind::Side, camera, None, &[]);
+                let command =
+                    show_view(ui, state, ViewKind::Side, camera, ViewMaps::default(), &[]);
                 if command != Command::None {
                     commands.push(command);
                 }

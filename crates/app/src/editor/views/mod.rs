@@ -4,22 +4,25 @@
 //! on it and how a point on it becomes a drag target); `projection.rs` maps mm on a plane to
 //! screen points with zoom and pan; `drawing.rs` draws grid, scale bar, workspace objects, the
 //! arm and the tool point for any plane; `interaction.rs` turns pointer input into zoom, pan and
-//! tool-point drags; `reach_layer.rs` computes the reach envelope and torque-use map off the UI
+//! tool-point drags; `labels.rs` places names beside things free of each other; `reach_layer.rs`
+//! computes the reach envelope and torque-use map off the UI
 //! thread and holds their textures; `overlay.rs` draws extra arms (the dry run's, say) over the
 //! edited one.
 
 mod drawing;
 mod interaction;
+mod labels;
 mod overlay;
 mod projection;
 mod reach_layer;
 mod side_view;
 mod top_view;
 
+pub use drawing::ViewMaps;
 pub use interaction::{Camera, VIEW_HINT, show_view};
 pub use overlay::{ArmOverlay, DEVICE, SIMULATED};
 pub use projection::Projection;
-pub use reach_layer::{MapKey, MapLayer, RAMP_TOP, ReachLayers, torque_colour};
+pub use reach_layer::{MapKey, MapLayer, OVER_RATING, ReachLayers, TorqueRamp, viridis};
 pub use side_view::SidePlane;
 pub use top_view::TopPlane;
 

@@ -54,31 +54,38 @@ pub fn overlay_arm(
     painter.circle_stroke(tool, 6.0, stroke);
 }
 
-/// The legend of the edited arm and the overlaid ones, below the view's title.
-pub fn overlay_legend(painter: &Painter, rect: Rect, overlays: &[ArmOverlay]) {
+/// The legend of the edited arm and the overlaid ones at the view's left, from `top` down.
+/// Returns the box it covers, if it drew one.
+pub fn overlay_legend(
+    painter: &Painter,
+    rect: Rect,
+    top: f32,
+    overlays: &[ArmOverlay],
+) -> Option<Rect> {
     if overlays.is_empty() {
-        return;
+        return None;
     }
     let font = FontId::proportional(11.0);
     let line_height = 16.0;
-    let top_left = rect.left_top() + vec2(10.0, 48.0);
+    let top_left = pos2(rect.left() + 10.0, top + 4.0);
     let rows = overlays.len() + 1;
-    let width = 30.0
-        + overlays
-            .iter()
-            .map(|overlay| overlay.label.len())
-            .chain(std::iter::once(COMMANDED.len()))
-            .max()
-            .unwrap_or(0) as f32
-            * 6.5;
-    painter.rect_filled(
-        Rect::from_min_size(
-            top_left - vec2(6.0, 4.0),
-            vec2(width + 12.0, rows as f32 * line_height + 6.0),
-        ),
-        3.0,
-        BACKGROUND.gamma_multiply(0.85),
+    let widest = overlays
+        .iter()
+        .map(|overlay| overlay.label.as_str())
+        .chain(std::iter::once(COMMANDED))
+        .map(|text| {
+            painter
+                .layout_no_wrap(text.to_string(), font.clone(), LABEL)
+                .size()
+                .x
+        })
+        .fold(0.0_f32, f32::max);
+    let width = 30.0 + widest;
+    let backdrop = Rect::from_min_size(
+        top_left - vec2(6.0, 4.0),
+        vec2(width + 12.0, rows as f32 * line_height + 6.0),
     );
+    painter.rect_filled(backdrop, 3.0, BACKGROUND.gamma_multiply(0.85));
     let swatch = |row: usize| {
         let y = top_left.y + line_height * (row as f32 + 0.5);
         [pos2(top_left.x, y), pos2(top_left.x + 22.0, y)]
@@ -108,6 +115,7 @@ pub fn overlay_legend(painter: &Painter, rect: Rect, overlays: &[ArmOverlay]) {
             LABEL,
         );
     }
+    Some(backdrop)
 }
 
 /// The legend's name for the edited arm.
