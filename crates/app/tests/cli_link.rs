@@ -68,9 +68,12 @@ fn planned_samples(test: &str, rate_hz: &str) -> u64 {
     text.lines().skip(1).filter(|l| !l.is_empty()).count() as u64
 }
 
-/// Checks a stream that ran to its end: every planned sample sent and acknowledged.
+/// Checks a stream that ran to its end: every planned sample, after the approach's, sent and
+/// acknowledged.
 fn assert_ran_to_end(code: i32, out: &Value, stderr: &str, planned: u64) {
     assert_eq!(code, 0, "{out}\n{stderr}");
+    let approach = out["approach"]["frames"].as_u64().expect("approach frames");
+    let planned = planned + approach;
     assert_eq!(out["ok"], Value::Bool(true), "{out}");
     assert_eq!(out["ending"], "finished");
     assert_eq!(out["frames_planned"].as_u64(), Some(planned), "{out}");

@@ -18,8 +18,9 @@ use serde_json::{Value, json};
 
 use super::Outcome;
 use super::clearance::{Motion, SceneCell, any_contact};
-use super::plan::{TORQUE_INTERVAL, load_and_plan};
+use super::plan::{TORQUE_INTERVAL, approach_json, load_and_plan};
 use super::report::{TORQUE_BASIS, all_rounded, fail, print_json, rounded};
+use crate::approach::approach_note;
 use crate::scene::{Arrival, Scene, dry_run_of, pose_from_file_units, position_to_file_unit};
 
 /// Placement tolerance when the scene gives none, in mm.
@@ -243,6 +244,7 @@ pub(crate) fn dry_run_json(scene: &Scene, run: &DryRun, report: &SimulateReport)
             .collect(),
     );
     out["waypoints"] = Value::Array(waypoints);
+    out["approach"] = approach_json(scene);
     out
 }
 
@@ -261,6 +263,7 @@ fn print_dry_run(scene: &Scene, run: &DryRun, report: &SimulateReport) {
         run.worst_following_error() * 1e3
     );
     println!("torque use is in {TORQUE_BASIS}");
+    println!("{}", approach_note(scene));
     println!(
         "{:<24} {:>10} {:>10} {:>10} {:>10} {:>9} {:>9}",
         "waypoint", "overshoot", "settle", "rest err", "following", "torque %", "placed"
