@@ -138,9 +138,10 @@ fn a_sample_streams_to_its_end_on_the_simulated_device() {
     let out = json_of(&stdout, &stderr);
     assert_ran_to_end(code, &out, &stderr, planned);
     assert_eq!(out["device"], "simulated");
-    // Real time: one period per sample, give or take scheduling.
+    // Real time: one period per setpoint (the approach's, then the plan's samples), give or
+    // take scheduling.
     let elapsed = out["elapsed_s"].as_f64().unwrap();
-    let expected = planned as f64 / 50.0;
+    let expected = out["frames_planned"].as_u64().unwrap() as f64 / 50.0;
     assert!(
         (elapsed - expected).abs() < 1.0,
         "{elapsed} s for {expected} s"

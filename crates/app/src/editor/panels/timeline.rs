@@ -517,8 +517,9 @@ fn plot_lines(
             let shaded = Rect::from_x_y_ranges(left.max(frame.left())..=right, frame.y_range());
             painter.rect_filled(shaded, 0.0, APPROACH.gamma_multiply(0.12));
             painter.text(
-                pos2(shaded.left() + 3.0, frame.bottom() - 16.0),
-                Align2::LEFT_BOTTOM,
+                // Below the waypoint names, clear of the cursor's time at the bottom.
+                pos2(shaded.left() + 3.0, frame.top() + 16.0),
+                Align2::LEFT_TOP,
                 format!("approach {:.2} s", approach.duration),
                 FontId::proportional(11.0),
                 APPROACH,
