@@ -6,6 +6,7 @@
 //! line on top.
 #![warn(missing_docs)]
 
+pub mod approach; // how every stream starts (wake, approach) and may end (park), as setpoints
 pub mod cli; // the `armwright` subcommands (listed by `armwright --help`)
 pub mod editor; // the desktop editor: views, joints, sequence, files, emergency stop
 pub mod scene; // the scene document: types, load, validate, migrate, save, unit conversion

@@ -69,9 +69,12 @@ fn planned_samples(test: &str, rate_hz: &str) -> u64 {
     text.lines().skip(1).filter(|l| !l.is_empty()).count() as u64
 }
 
-/// Checks a stream that ran to its end: every planned sample sent and acknowledged.
+/// Checks a stream that ran to its end: every planned sample, after the approach's, sent and
+/// acknowledged.
 fn assert_ran_to_end(code: i32, out: &Value, stderr: &str, planned: u64) {
     assert_eq!(code, 0, "{out}\n{stderr}");
+    let approach = out["approach"]["frames"].as_u64().expect("approach frames");
+    let planned = planned + approach;
     assert_eq!(out["ok"], Value::Bool(true), "{out}");
     assert_eq!(out["ending"], "finished");
     assert_eq!(out["frames_planned"].as_u64(), Some(planned), "{out}");
@@ -136,9 +139,10 @@ fn a_sample_streams_to_its_end_on_the_simulated_device() {
     let out = json_of(&stdout, &stderr);
     assert_ran_to_end(code, &out, &stderr, planned);
     assert_eq!(out["device"], "simulated");
-    // Real time: one period per sample, give or take scheduling.
+    // Real time: one period per setpoint (the approach's, then the plan's samples), give or
+    // take scheduling.
     let elapsed = out["elapsed_s"].as_f64().unwrap();
-    let expected = planned as f64 / 50.0;
+    let expected = out["frames_planned"].as_u64().unwrap() as f64 / 50.0;
     assert!(
         (elapsed - expected).abs() < 1.0,
         "{elapsed} s for {expected} s"

@@ -7,11 +7,12 @@ mod editor_common;
 
 use std::time::Instant;
 
+use armwright::approach::stream_plan;
 use armwright::editor::{
     EditorState, ReachStatus, RetimeRun, StopSource, StopState, StreamPhase, ToolsTab, ViewKind,
 };
 use armwright::scene::{build_arm, load, plan_of};
-use armwright_link::{DeviceMode, LinkState};
+use armwright_link::{ChannelOutput, DeviceMode, LinkState};
 use armwright_trajectory::CommandedMotion;
 use egui::{Key, Modifiers, vec2};
 use egui_kittest::kittest::{NodeT, Queryable};
@@ -311,10 +312,37 @@ fn open_teach_retime_play_stream_stop_and_reset() {
         harness.state().device().view().phase,
         StreamPhase::Streaming
     );
-    // What goes out is the retimed sequence: one setpoint per period of its plan, sampled at
-    // the scene's rate as `armwright stream` does.
+    // What goes out is the approach (the simulated device was limp: woken at the rest pose
+    // first), then the retimed sequence: one setpoint per period of its plan, sampled at the
+    // scene's rate as `armwright stream` does.
     let samples = plan.sampler(retimed.link.rate_hz).expect("setpoints");
-    assert_eq!(harness.state().device().view().progress.1, samples.len());
+    let device = harness
+        .state()
+        .device()
+        .view()
+        .connection
+        .as_ref()
+        .expect("connected")
+        .info;
+    let limp = ChannelOutput::limp(device.channel_count);
+    let streamed = stream_plan(
+        &retimed,
+        &arm,
+        &plan,
+        Some(&limp),
+        &device,
+        retimed.link.rate_hz,
+        false,
+    )
+    .expect("the stream plans");
+    assert_eq!(
+        streamed.setpoints.values.len(),
+        streamed.approach_frames + samples.len()
+    );
+    assert_eq!(
+        harness.state().device().view().progress.1,
+        streamed.setpoints.values.len()
+    );
 
     // Emergency stop with one click on the stop button: the request reaches the link's
     // emergency-stop handle in the frame of the press.

@@ -271,6 +271,8 @@ fn scene(values: &[f64], description: String, port: String, rounded: bool) -> Sc
             settle_band_mm: draw.range(0.05, 5.0),
             max_overshoot_mm: draw.range(0.05, 5.0),
             damping_ratio: draw.range(0.1, 1.5),
+            approach_speed_share_pct: draw.range(1.0, 100.0),
+            wake_pause_ms: draw.range_to(0.0, 5000.0, 1),
             shaping: [Shaping::None, Shaping::Zv, Shaping::Zvd][draw.count(0, 2)],
             joint_limits,
         },

@@ -37,7 +37,9 @@ pub use crate::protocol::{
 pub use crate::pulse::{
     ArmSetpoint, JointPulse, PulseError, arm_setpoint, gripper_pulse, joint_pulse,
 };
-pub use crate::setpoints::{DeviceSetpoints, SetpointError, device_setpoints};
+pub use crate::setpoints::{
+    DevicePose, DeviceSetpoints, SetpointError, device_pose, device_setpoints,
+};
 pub use crate::sim_arm::SimArmError;
 pub use crate::sim_device::{SimDevice, SimDeviceConfig};
 pub use crate::stream::{DeviceState, Link, LinkEvent, LinkState, StreamOptions, StreamStats};

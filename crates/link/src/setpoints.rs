@@ -1,11 +1,13 @@
 //! A plan's samples as device setpoints: each sample's joint positions and gripper state through
 //! the joints' calibrations ([`arm_setpoint`]) for one device, with how many were clamped and
-//! the worst rounding. What `armwright stream` and the editor's link both send.
+//! the worst rounding. What `armwright stream` and the editor's link both send. And the way
+//! back, [`device_pose`]: what the device reports it sends, as the arm's pose, where every
+//! stream's approach starts.
 
 use armwright_kinematics::Arm;
 use armwright_trajectory::Sample;
 
-use crate::protocol::{ChannelValues, DeviceInfo};
+use crate::protocol::{ChannelOutput, ChannelValues, DeviceInfo};
 use crate::pulse::{PulseError, arm_setpoint};
 
 /// Every sample as device setpoints, with how many were clamped and the worst rounding error.
@@ -64,4 +66,41 @@ pub fn device_setpoints(
         converted.values.push(setpoint.values);
     }
     Ok(converted)
+}
+
+/// The arm's pose as the device holds it: what [`device_pose`] reads from its output.
+#[derive(Debug, Clone, PartialEq)]
+pub struct DevicePose {
+    /// Joint positions, rad (revolute) or m (prismatic), chain order: each joint's pulse
+    /// through its calibration ([`armwright_kinematics::Calibration::position`]).
+    pub positions: Vec<f64>,
+    /// Whether the gripper channel's pulse is nearer its closed width than its open one
+    /// (false for an arm without a gripper).
+    pub gripper_closed: bool,
+}
+
+/// The pose `output` holds the arm in, read with the layout [`arm_setpoint`] sends (joint `i`
+/// on channel `i`, the gripper on the device's last channel); `None` when a channel the arm
+/// uses is limp or missing, so its servo's position is unknown.
+pub fn device_pose(arm: &Arm, output: &ChannelOutput, device: &DeviceInfo) -> Option<DevicePose> {
+    let channels = output.as_slice();
+    let positions = arm
+        .joints()
+        .iter()
+        .zip(channels.iter().chain(std::iter::repeat(&None)))
+        .map(|(joint, units)| {
+            units.map(|units| joint.calibration.position(device.us_from_units(units)))
+        })
+        .collect::<Option<Vec<f64>>>()?;
+    let gripper_closed = match arm.gripper() {
+        Some(gripper) => {
+            let pulse_us = device.us_from_units((*channels.last()?)?);
+            (pulse_us - gripper.closed_pulse_us).abs() < (pulse_us - gripper.open_pulse_us).abs()
+        }
+        None => false,
+    };
+    (positions.len() == arm.joint_count()).then_some(DevicePose {
+        positions,
+        gripper_closed,
+    })
 }

@@ -37,6 +37,7 @@
 //! ```
 #![warn(missing_docs)]
 
+mod approach; // the slow planned move from the device's pose to waypoint 1, and the park move
 mod arm_limits; // limits a plan takes from the arm's servos, masses and gravity
 mod arm_plan; // a task planned on a real arm: limits, gripper payload, waypoint timings
 mod clearance; // the arm against obstacles and itself along a plan and along the dry run
@@ -52,6 +53,7 @@ mod shaping; // ZV and ZVD input shapers and shaped profiles
 mod straight_move; // the tool point on a straight line, through inverse kinematics along it
 mod sync; // several joints of one move: start and end together, slowest sets the duration
 
+pub use crate::approach::{Approach, ApproachStart, plan_approach, plan_park, streamed_samples};
 pub use crate::arm_limits::{LimitError, LimitSettings, limits_from_arm};
 pub use crate::arm_plan::{PlanError, Task, TaskPlan, TaskPlanner, TaskWaypoint, plan_task};
 pub use crate::clearance::*; // Clearance, ClearanceOptions, Workcell, Carry, plan_clearance, dry_run_clearance, grip_exemptions, carried_objects

@@ -237,8 +237,11 @@ pub enum Command {
     /// Stream the scene's sequence to a device as pulse widths, in real time.
     ///
     /// The sequence is planned and sampled at --rate; each sample becomes one pulse width per
-    /// channel through the joints' calibration (the gripper from its waypoint's state). The
-    /// device is --port, --simulated, or else the scene's link device. The safety caution is
+    /// channel through the joints' calibration (the gripper from its waypoint's state). It
+    /// starts with a slow approach (timing.approach_speed_share_pct) from the pulses the device
+    /// reports to the first waypoint; when a servo is limp (its position unknown) the arm is
+    /// first woken at its rest pose (each joint's home) and held there for timing.wake_pause_ms.
+    /// The device is --port, --simulated, or else the scene's link device. The safety caution is
     /// shown and a typed "yes" is needed unless --yes. Ctrl-C sends the emergency stop. Exit
     /// status 0 when the sequence ran to its end, 1 on an emergency stop, a lost link or a
     /// refusal, 2 when the input cannot be read.
@@ -258,6 +261,10 @@ pub enum Command {
         /// Start without asking for confirmation (the caution is still shown).
         #[arg(long)]
         yes: bool,
+        /// After the last waypoint, move slowly to the rest pose (each joint's home), where the
+        /// device then holds the arm.
+        #[arg(long)]
+        park: bool,
         /// Print the result as machine-readable JSON (progress stays on standard error).
         #[arg(long)]
         json: bool,

@@ -149,6 +149,7 @@ pub fn execute(command: &Command) -> Outcome {
             simulated,
             rate,
             yes,
+            park,
             json,
         } => {
             let request = stream::StreamRequest {
@@ -156,6 +157,7 @@ pub fn execute(command: &Command) -> Outcome {
                 simulated: *simulated,
                 rate_hz: *rate,
                 yes: *yes,
+                park: *park,
                 json: *json,
             };
             stream::run(file, &request)

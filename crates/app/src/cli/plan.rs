@@ -9,11 +9,12 @@ use armwright_kinematics::{Arm, MAX_JOINTS, max_payload_in_motion};
 use armwright_trajectory::{
     CommandedMotion, JointState, MAX_SAMPLE_RATE_HZ, MIN_SAMPLE_RATE_HZ, SegmentKind, TaskPlan,
 };
-use serde_json::json;
+use serde_json::{Value, json};
 
 use super::Outcome;
 use super::clearance::{Motion, SceneCell, any_contact};
 use super::report::{TORQUE_BASIS, fail, load_scene, print_json, rounded};
+use crate::approach::approach_note;
 use crate::scene::{
     JointLimitDoc, Scene, field_table, plan_of, position_to_file_unit, rate_to_file_unit, save_text,
 };
@@ -196,6 +197,7 @@ pub(crate) fn run(file: &Path, rate_hz: f64, csv: Option<&Path>, json: bool) -> 
             "joint_limits": joint_limits(&scene, &plan),
             "segments": segments,
             "waypoints": waypoints,
+            "approach": approach_json(&scene),
         });
         cell.add_json(&scene, &mut out, &looked);
         if touched {
@@ -240,6 +242,7 @@ pub(crate) fn run(file: &Path, rate_hz: f64, csv: Option<&Path>, json: bool) -> 
         if let Some(path) = csv {
             println!("setpoints written to {}", path.display());
         }
+        println!("{}", approach_note(&scene));
         for line in cell.lines(&scene, &looked) {
             println!("{line}");
         }
@@ -278,4 +281,14 @@ fn setpoints_csv(scene: &Scene, plan: &TaskPlan, rate_hz: f64) -> Result<String,
         let _ = writeln!(text, ",{}", u8::from(sample.gripper_closed));
     }
     Ok(text)
+}
+
+/// The approach as `plan --json` and `simulate --json` report it with no device connected:
+/// planned at stream time, from what the device reports then.
+pub(super) fn approach_json(scene: &Scene) -> Value {
+    json!({
+        "planned_at_stream_time": true,
+        "speed_share_pct": scene.timing.approach_speed_share_pct,
+        "wake_pause_ms": scene.timing.wake_pause_ms,
+    })
 }

@@ -16,9 +16,12 @@ use serde_json::{Value, json};
 
 use super::Outcome;
 use super::clearance::{Motion, SceneCell, any_contact};
-use super::plan::{TORQUE_INTERVAL, load_and_plan};
+use super::plan::{TORQUE_INTERVAL, approach_json, load_and_plan};
 use super::report::{TORQUE_BASIS, all_rounded, fail, print_json, rounded};
-use crate::scene::{Arrival, Placement, Scene, dry_run_of, placements_of, position_to_file_unit};
+use crate::approach::approach_note;
+use crate::scene::{
+    Arrival, Placement, Scene, dry_run_of, placements_of, pose_from_file_units, position_to_file_unit,
+};
 
 pub(crate) fn run(file: &Path, json: bool) -> Outcome {
     let (scene, arm, plan) = match load_and_plan(file, json) {
@@ -221,6 +224,7 @@ pub(crate) fn dry_run_json(scene: &Scene, run: &DryRun, report: &SimulateReport)
             .collect(),
     );
     out["waypoints"] = Value::Array(waypoints);
+    out["approach"] = approach_json(scene);
     out
 }
 
@@ -239,6 +243,7 @@ fn print_dry_run(scene: &Scene, run: &DryRun, report: &SimulateReport) {
         run.worst_following_error() * 1e3
     );
     println!("torque use is in {TORQUE_BASIS}");
+    println!("{}", approach_note(scene));
     println!(
         "{:<24} {:>10} {:>10} {:>10} {:>10} {:>9} {:>9}",
         "waypoint", "overshoot", "settle", "rest err", "following", "torque %", "placed"

@@ -1,7 +1,8 @@
-//! `armwright stream`: plans the scene's sequence, turns every sample into pulse widths
-//! through the joints' calibration, and streams them to a device in real time, with the
-//! safety caution, a typed confirmation, progress on standard error, and Ctrl-C wired to the
-//! link's emergency stop.
+//! `armwright stream`: plans the scene's sequence, starts it with a slow approach from where
+//! the device holds the arm (after waking a limp arm at its rest pose; [`crate::approach`]),
+//! turns every sample into pulse widths through the joints' calibration, and streams them to a
+//! device in real time, with the safety caution, a typed confirmation, progress on standard
+//! error, and Ctrl-C wired to the link's emergency stop.
 
 use std::io::{BufRead, IsTerminal};
 use std::path::Path;
@@ -9,8 +10,7 @@ use std::time::{Duration, Instant};
 
 use armwright_link::{
     Link, LinkError, LinkEvent, LinkLoss, SerialTransport, SimDeviceConfig, SimTransport,
-    StreamOptions, StreamStats, Transport, device_setpoints, setpoint_capacity_hz,
-    setpoint_line_len,
+    StreamOptions, StreamStats, Transport, setpoint_capacity_hz, setpoint_line_len,
 };
 use serde_json::{Value, json};
 
@@ -18,14 +18,16 @@ use super::Outcome;
 use super::plan::load_and_plan;
 use super::report::{fail, print_json, rounded};
 use super::reset::{describe_output, output_json};
-use crate::scene::{Device, Scene};
+use crate::approach::{StreamPlan, stream_plan};
+use crate::scene::{Device, Scene, pose_to_file_units};
 
 /// Shown before anything is sent, whether or not confirmation is asked for.
 pub(crate) const CAUTION: &str = "\
 CAUTION: a powered servo arm can pinch and strike, and it moves as soon as streaming starts.
 A software stop is not a safety device: keep a hard power cut-off within reach, keep clear
 of the arm's reach while it is powered, and defer to local codes and licensed practice.
-Ctrl-C sends the emergency stop; the device then holds its pulses until reset.";
+A limp servo jumps to its first pulse at its own top speed, so a limp arm is woken at its
+rest pose first. Ctrl-C sends the emergency stop; the device then holds its pulses until reset.";
 
 /// How often progress is printed on standard error while streaming.
 const PROGRESS_INTERVAL: Duration = Duration::from_secs(1);
@@ -43,6 +45,8 @@ pub(crate) struct StreamRequest<'a> {
     pub rate_hz: Option<f64>,
     /// `--yes`: no confirmation asked.
     pub yes: bool,
+    /// `--park`: end by moving to the rest pose.
+    pub park: bool,
     /// `--json`: the result as JSON on standard output.
     pub json: bool,
 }
@@ -89,17 +93,14 @@ pub(crate) fn run(file: &Path, request: &StreamRequest) -> Outcome {
         Err(outcome) => return outcome,
     };
     let rate_hz = request.rate_hz.unwrap_or(scene.link.rate_hz);
-    let samples = match plan.sampler(rate_hz) {
-        Ok(samples) => samples,
-        Err(error) => {
-            return fail(
-                json,
-                &format!("--rate: {error}"),
-                json!({}),
-                Outcome::Unreadable,
-            );
-        }
-    };
+    if let Err(error) = plan.sampler(rate_hz) {
+        return fail(
+            json,
+            &format!("--rate: {error}"),
+            json!({}),
+            Outcome::Unreadable,
+        );
+    }
     let target = target_of(request, &scene);
     eprintln!("{CAUTION}");
     if !request.yes {
@@ -132,10 +133,6 @@ pub(crate) fn run(file: &Path, request: &StreamRequest) -> Outcome {
     if let Some(warning) = rate_above_capacity(rate_hz, channels, scene.link.baud) {
         eprintln!("warning: {rate_setting}: {warning}");
     }
-    let converted = match device_setpoints(&arm, samples, &link.device()) {
-        Ok(converted) => converted,
-        Err(error) => return refused(json, &error.to_string()),
-    };
     // What the device sends before the first setpoint: where the arm is held, or which
     // servos are limp (and will jump to their first pulse at their own top speed).
     let start_output = link.device_output();
@@ -143,12 +140,32 @@ pub(crate) fn run(file: &Path, request: &StreamRequest) -> Outcome {
         "the device is sending: {}",
         describe_output(start_output.as_ref(), &link.device())
     );
-    if start_output.is_some_and(|output| output.any_limp()) {
+    let streamed = match stream_plan(
+        &scene,
+        &arm,
+        &plan,
+        start_output.as_ref(),
+        &link.device(),
+        rate_hz,
+        request.park,
+    ) {
+        Ok(streamed) => streamed,
+        Err(message) => return refused(json, &message),
+    };
+    eprintln!("{}", streamed.from.describe());
+    for (channel, reported, sent) in
+        streamed.start_jumps(&arm, start_output.as_ref(), &link.device())
+    {
         eprintln!(
-            "a limp servo's position is unknown: it jumps to its first pulse at its own top speed"
+            "warning: channel {channel} is held at {reported:.1} µs but its first setpoint is \
+             {sent:.1} µs (outside the joint's calibrated range, or a gripper between open and \
+             closed): that servo moves there at its own speed"
         );
     }
+    say_approach(&scene, &streamed, rate_hz);
     let start_pulses_us = output_json(start_output.as_ref(), &link.device());
+    let approach = approach_json(&scene, &streamed, start_pulses_us.clone(), &link.device());
+    let converted = &streamed.setpoints;
     let stop = link.emergency_stop();
     if let Err(error) = ctrlc::set_handler(move || stop.trigger()) {
         let message = format!("cannot catch Ctrl-C, so it could not stop the arm: {error}");
@@ -164,7 +181,7 @@ pub(crate) fn run(file: &Path, request: &StreamRequest) -> Outcome {
         }
         return refused(json, &message);
     }
-    let duration = armwright_trajectory::CommandedMotion::duration(&plan);
+    let duration = streamed.cycle_s();
     eprintln!(
         "streaming to {}: {} setpoints at {rate_hz} Hz over {duration:.2} s; Ctrl-C sends the \
          emergency stop",
@@ -201,8 +218,110 @@ pub(crate) fn run(file: &Path, request: &StreamRequest) -> Outcome {
             ending,
             stats: &stats,
             start_pulses_us,
+            approach,
         },
     )
+}
+
+/// Says on standard error how the stream starts (and ends, with `--park`).
+fn say_approach(scene: &Scene, streamed: &StreamPlan, rate_hz: f64) {
+    if streamed.from.wakes() {
+        eprintln!(
+            "rest pose: {} ({}); wake pause {:.0} ms",
+            joint_list(scene, &streamed.start.positions),
+            joint_units(scene),
+            scene.timing.wake_pause_ms
+        );
+    }
+    eprintln!(
+        "approach: {:.2} s at {} % speed share ({} setpoints at {rate_hz} Hz), then the sequence: \
+         {:.2} s",
+        streamed.approach.duration(),
+        scene.timing.approach_speed_share_pct,
+        streamed.approach_frames,
+        streamed.plan_s
+    );
+    if let Some(park) = &streamed.park {
+        eprintln!(
+            "then the park move to the rest pose: {:.2} s; the device holds the arm there",
+            park.duration()
+        );
+    }
+}
+
+/// Joint positions (rad or m) in the scene's file units, one decimal, comma-separated.
+fn joint_list(scene: &Scene, positions: &[f64]) -> String {
+    pose_to_file_units(&scene.arm, positions)
+        .iter()
+        .map(|value| format!("{value:.1}"))
+        .collect::<Vec<_>>()
+        .join(", ")
+}
+
+/// "degrees", or "degrees or mm" for an arm with a sliding joint.
+fn joint_units(scene: &Scene) -> &'static str {
+    if scene
+        .arm
+        .shape
+        .joint_kinds()
+        .contains(&crate::scene::JointKindDoc::Prismatic)
+    {
+        "degrees or mm"
+    } else {
+        "degrees"
+    }
+}
+
+/// The approach as `stream --json` reports it.
+fn approach_json(
+    scene: &Scene,
+    streamed: &StreamPlan,
+    start_pulses_us: Value,
+    info: &armwright_link::DeviceInfo,
+) -> Value {
+    let first_setpoint_us: Vec<f64> = streamed
+        .setpoints
+        .values
+        .first()
+        .map(|values| {
+            values
+                .as_slice()
+                .iter()
+                .map(|&units| rounded(info.us_from_units(units), 3))
+                .collect()
+        })
+        .unwrap_or_default();
+    let rounded_pose = |positions: &[f64]| -> Vec<f64> {
+        pose_to_file_units(&scene.arm, positions)
+            .iter()
+            .map(|&value| rounded(value, 4))
+            .collect()
+    };
+    json!({
+        "from": match streamed.from {
+            crate::approach::StartFrom::Held => "held",
+            crate::approach::StartFrom::Limp => "limp",
+            crate::approach::StartFrom::Unknown => "unknown",
+        },
+        "duration_s": rounded(streamed.approach.duration(), 3),
+        "speed_share_pct": scene.timing.approach_speed_share_pct,
+        "frames": streamed.approach_frames,
+        "start_pulses_us": start_pulses_us,
+        "start_joints_deg_or_mm": rounded_pose(&streamed.start.positions),
+        "first_setpoint_us": first_setpoint_us,
+        "wake": if streamed.from.wakes() {
+            json!({
+                "rest_joints_deg_or_mm": rounded_pose(&streamed.start.positions),
+                "pause_s": rounded(scene.timing.wake_pause_ms / 1e3, 3),
+                "together": true,
+            })
+        } else {
+            Value::Null
+        },
+        "park_s": streamed.park.as_ref().map_or(Value::Null, |park| json!(rounded(park.duration(), 3))),
+        "sequence_s": rounded(streamed.plan_s, 3),
+        "cycle_s": rounded(streamed.cycle_s(), 3),
+    })
 }
 
 /// Says when `rate_hz` asks for more setpoint lines a second than a serial link at `baud`
@@ -314,6 +433,8 @@ struct Summary<'a> {
     /// Each channel's pulse (µs) or null (limp) when the stream began; null when the
     /// device cannot say (protocol 1).
     start_pulses_us: Value,
+    /// How the stream started: see [`approach_json`].
+    approach: Value,
 }
 
 fn ms(duration: Duration) -> f64 {
@@ -371,6 +492,7 @@ fn report(json: bool, summary: &Summary) -> Outcome {
             "stop_write_latency_ms": stats.stop_write_latency.map(ms).map_or(Value::Null, |v| json!(v)),
             "stop_ack_latency_ms": stats.stop_ack_latency.map(ms).map_or(Value::Null, |v| json!(v)),
             "start_pulses_us": summary.start_pulses_us,
+            "approach": summary.approach,
         }));
     } else {
         println!(

@@ -14,11 +14,12 @@ use armwright_kinematics::{Arm, JointKind};
 use armwright_link::{
     ChannelValues, DeviceInfo, EmergencyStop, Link, LinkError, LinkEvent, PortSummary,
     ResetConfirmation, SerialTransport, SimDevice, SimDeviceConfig, SimTransport, StreamOptions,
-    StreamStats, Transport, device_setpoints, list_ports,
+    StreamStats, Transport, list_ports,
 };
 use armwright_trajectory::ServoModelOptions;
 
 use super::estop::{StopLink, StopRequest};
+use crate::approach::stream_plan;
 use crate::scene::{Device, Scene, plan_of};
 
 /// Setpoints queued ahead of the device: a pause takes effect within this many periods.
@@ -757,16 +758,32 @@ impl Worker {
             return;
         };
         self.with_view(|view| view.phase = StreamPhase::Planning);
-        let planned = plan_of(scene, arm)
-            .map_err(|error| format!("cannot plan: {error}"))
-            .and_then(|plan| {
-                let samples = plan
-                    .sampler(self.rate_hz)
-                    .map_err(|error| format!("link rate: {error}"))?;
-                device_setpoints(arm, samples, &link.device()).map_err(|error| error.to_string())
+        // Every stream starts with the approach from what the device sends now.
+        let planned = link
+            .refresh_state()
+            .map_err(|error| format!("cannot read what the device sends: {error}"))
+            .and_then(|state| {
+                let plan = plan_of(scene, arm).map_err(|error| format!("cannot plan: {error}"))?;
+                stream_plan(
+                    scene,
+                    arm,
+                    &plan,
+                    state.output.as_ref(),
+                    &link.device(),
+                    self.rate_hz,
+                    false,
+                )
             });
-        let setpoints = match planned {
-            Ok(setpoints) => setpoints,
+        let (setpoints, start) = match planned {
+            Ok(streamed) => {
+                let start = format!(
+                    "{}; approach {:.2} s at {} % speed share",
+                    streamed.from.describe(),
+                    streamed.approach.duration(),
+                    scene.timing.approach_speed_share_pct
+                );
+                (streamed.setpoints, start)
+            }
             Err(message) => {
                 self.with_view(|view| view.phase = StreamPhase::Ended);
                 self.say(Report::Problem(format!("cannot stream: {message}")));
@@ -795,7 +812,7 @@ impl Worker {
             ended: None,
         });
         self.say(Report::Info(format!(
-            "streaming {total} setpoints at {} Hz",
+            "streaming {total} setpoints at {} Hz: {start}",
             self.rate_hz
         )));
     }
@@ -854,7 +871,14 @@ impl Worker {
 
     fn take_events(&mut self) {
         let Some(link) = &self.link else { return };
+        // After a stream ends or stops, ask what the device holds, where the next approach
+        // starts (the timeline draws it).
+        let mut ask_output = false;
         while let Some(event) = link.next_event(Duration::ZERO) {
+            ask_output |= matches!(
+                event,
+                LinkEvent::StreamFinished { .. } | LinkEvent::StopConfirmed { .. }
+            );
             let report = match event {
                 LinkEvent::StreamFinished { .. } => match &mut self.stream {
                     Some(stream) if stream.next >= stream.values.len() => {
@@ -897,6 +921,10 @@ impl Worker {
             if let Some(report) = report {
                 say(&self.published, report);
             }
+        }
+        if ask_output {
+            // Not answered (a lost link): the timeline keeps the last report.
+            let _ = link.refresh_state();
         }
     }
 

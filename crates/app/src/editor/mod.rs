@@ -307,6 +307,12 @@ impl Editor {
         self.timeline_plot.transform()
     }
 
+    /// The approach the timeline draws before time 0 for the connected device: where it starts
+    /// from and how long it lasts (s); `None` without a device that says what it sends.
+    pub fn timeline_approach(&self) -> Option<(crate::approach::StartFrom, f64)> {
+        self.timeline_plot.approach()
+    }
+
     /// Columns (a time with the smallest and largest value under it) the timeline plot drew in
     /// the last frame, over all its lines.
     pub fn timeline_column_count(&self) -> usize {
@@ -443,6 +449,10 @@ impl Editor {
             }
         }
         self.state.device_pose = self.device.simulated_arm_pose();
+        let view = self.device.view();
+        let output = view.stats.as_ref().and_then(|stats| stats.device_output);
+        let info = view.connection.as_ref().map(|connection| connection.info);
+        self.timeline_plot.set_device(output.zip(info));
     }
 
     /// The window title: the file's name, a mark when there are unsaved changes, the stop.

@@ -497,6 +497,11 @@ pub struct Timing {
     pub max_overshoot_mm: f64,
     /// Damping ratio of the servo response model (no unit).
     pub damping_ratio: f64,
+    /// Share of each joint's limits the approach to the first waypoint (and the park move to
+    /// the rest pose) may use, in % (above 0, at most 100).
+    pub approach_speed_share_pct: f64,
+    /// How long the rest pose is held after a limp arm is woken there, in ms.
+    pub wake_pause_ms: f64,
     /// Input shaping of each run from one stop to the next.
     pub shaping: Shaping,
     /// Limits the user sets for some joints, replacing those taken from their servos; at most
@@ -613,8 +618,8 @@ impl Default for Waypoint {
 }
 
 impl Default for Timing {
-    /// 80 % torque derating, 0.5 mm settle band, 1 mm largest overshoot, damping ratio 0.6, no
-    /// shaping, every joint's limits from its servo (our defaults; a user changes them per
+    /// 80 % torque derating, 0.5 mm settle band, 1 mm largest overshoot, damping ratio 0.6, a
+    /// 15 % approach speed share, a 1 s wake pause, no shaping, every joint's limits from its servo (our defaults; a user changes them per
     /// scene).
     fn default() -> Timing {
         Timing {
@@ -622,6 +627,8 @@ impl Default for Timing {
             settle_band_mm: 0.5,
             max_overshoot_mm: 1.0,
             damping_ratio: 0.6,
+            approach_speed_share_pct: 15.0,
+            wake_pause_ms: 1000.0,
             shaping: Shaping::None,
             joint_limits: Vec::new(),
         }

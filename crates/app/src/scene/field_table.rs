@@ -303,7 +303,8 @@ pub mod joint {
         TURN,
         DEG_DECIMALS,
         "home position",
-        "home (parking) position, inside the limits",
+        "home position, inside the limits: the rest pose a limp arm is woken at and a stream may \
+         park in",
         Access::Number(|j| j.home, |j, v| j.home = v),
     )
     .prismatic("home_mm", SLIDE);
@@ -806,9 +807,44 @@ pub mod timing {
         Access::Number(|t| t.damping_ratio, |t, v| t.damping_ratio = v),
     )
     .presence(Presence::Defaulted);
+    /// Speed share of the approach that starts every stream.
+    pub const APPROACH_SPEED_SHARE: Field<Timing> = Field::<Timing>::new(
+        "approach_speed_share_pct",
+        Unit::Percent,
+        Range::above(0.0, 100.0),
+        SHARE,
+        2,
+        "approach speed share",
+        "share of each joint's limits the approach from where the device holds the arm to the \
+         first waypoint may use (and the park move to the rest pose)",
+        Access::Number(
+            |t| t.approach_speed_share_pct,
+            |t, v| t.approach_speed_share_pct = v,
+        ),
+    )
+    .presence(Presence::Defaulted);
+    /// Pause after waking a limp arm at its rest pose.
+    pub const WAKE_PAUSE: Field<Timing> = Field::<Timing>::new(
+        "wake_pause_ms",
+        Unit::Ms,
+        Range::within(0.0, 10_000.0),
+        "ten seconds, our choice; a hobby servo crosses its whole travel in under a second \
+         (common practice)",
+        1,
+        "wake pause",
+        "how long the rest pose is held after a limp arm is woken there, before the approach",
+        Access::Number(|t| t.wake_pause_ms, |t, v| t.wake_pause_ms = v),
+    )
+    .presence(Presence::Defaulted);
     /// In file order; `shaping` is a word and `joint_limits` a list of [`joint_limit`]s.
-    pub const ROWS: &[Field<Timing>] =
-        &[TORQUE_DERATING, SETTLE_BAND, MAX_OVERSHOOT, DAMPING_RATIO];
+    pub const ROWS: &[Field<Timing>] = &[
+        TORQUE_DERATING,
+        SETTLE_BAND,
+        MAX_OVERSHOOT,
+        DAMPING_RATIO,
+        APPROACH_SPEED_SHARE,
+        WAKE_PAUSE,
+    ];
 }
 
 /// A joint's own limits (`timing.joint_limits[i]`); keys by the named joint's kind.

@@ -16,6 +16,11 @@ use super::status_bar::CAUTION;
 /// The button that acknowledges the caution.
 pub const ACKNOWLEDGE_LABEL: &str = "I have read the caution";
 
+/// The caution's part about limp servos and the approach.
+const LIMP_CAUTION: &str = "A limp servo jumps to its first pulse at its own top speed. Every \
+stream first asks the device what it sends: a limp arm is woken at its rest pose (each joint's \
+home), all joints together, then every stream approaches the first waypoint slowly.";
+
 /// Draws the link panel from the state and the link's view.
 pub fn link(ui: &mut Ui, state: &EditorState, view: &LinkView) -> Command {
     let mut command = Command::None;
@@ -192,6 +197,7 @@ fn stream_controls(ui: &mut Ui, state: &EditorState, view: &LinkView) -> Command
                         .color(Color32::from_rgb(255, 200, 0)),
                 );
                 ui.label(CAUTION);
+                ui.label(LIMP_CAUTION);
                 if ui.button(ACKNOWLEDGE_LABEL).clicked() {
                     command = Command::AcknowledgeCaution;
                 }
@@ -237,6 +243,7 @@ fn stream_controls(ui: &mut Ui, state: &EditorState, view: &LinkView) -> Command
             }
         }
     });
+    ui.label(RichText::new(approach_words(state, view)).small());
     let total = view.progress.1;
     ui.label(stream_words(view));
     if total > 0 {
@@ -251,6 +258,27 @@ fn stream_controls(ui: &mut Ui, state: &EditorState, view: &LinkView) -> Command
         ));
     }
     command
+}
+
+/// How the next stream will start, from what the device last reported sending.
+pub(crate) fn approach_words(state: &EditorState, view: &LinkView) -> String {
+    let share = state.scene.timing.approach_speed_share_pct;
+    let output = view.stats.as_ref().map(|stats| stats.device_output);
+    match (&view.connection, output) {
+        (Some(_), Some(Some(output))) if !output.any_limp() => format!(
+            "a stream starts with an approach at {share} % speed share from the pulses the device \
+             sends (asked again at stream time)"
+        ),
+        (Some(_), Some(Some(_))) => format!(
+            "a servo is limp, so the arm's pose is unknown: a stream wakes it at the rest pose, \
+             holds it {:.0} ms, then approaches at {share} % speed share",
+            state.scene.timing.wake_pause_ms
+        ),
+        _ => format!(
+            "a stream starts with an approach at {share} % speed share, planned from what the \
+             device reports at stream time"
+        ),
+    }
 }
 
 /// Where the stream stands, in words, counting the setpoints the link wrote to the device.

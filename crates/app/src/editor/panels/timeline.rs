@@ -6,10 +6,16 @@
 //! it), kept until the view, the quantity or the data change, and drawn as one band of triangles
 //! from column to column rather than as a stroked line, so a sequence of hundreds of waypoints
 //! costs no more to draw than a short one.
+//!
+//! While a device is connected and has said what it sends, the approach the next stream would
+//! start with ([`crate::approach`]) is drawn before time 0 as its own shaded segment, so the
+//! move from where the device holds the arm to the first waypoint is seen before it is made.
 
 use std::ops::RangeInclusive;
 
-use armwright_trajectory::CommandedMotion;
+use armwright_kinematics::JointKind;
+use armwright_link::{ChannelOutput, DeviceInfo};
+use armwright_trajectory::{CommandedMotion, JointState, MAX_JOINTS};
 use egui::{
     Align2, Button, Color32, ComboBox, DragValue, FontId, Mesh, Rect, RichText, Shape, Ui, pos2,
     vec2,
@@ -19,6 +25,7 @@ use egui_plot::{
     uniform_grid_spacer,
 };
 
+use crate::approach::{StartFrom, approach_of, approach_start};
 use crate::editor::command::Command;
 use crate::editor::dry_run_marks;
 use crate::editor::playback::{AtEnd, DryRunStatus, PlaybackCommand, SPEEDS, Timeline};
@@ -41,6 +48,11 @@ const JOINT_COLOURS: [Color32; 7] = [
 const CURSOR: Color32 = Color32::from_rgb(255, 255, 255);
 /// Waypoint marks.
 const MARK: Color32 = Color32::from_rgb(150, 150, 160);
+/// The approach segment's shading and name.
+const APPROACH: Color32 = Color32::from_rgb(120, 170, 255);
+
+/// How often the approach is looked at for its lines, s (one servo frame).
+const APPROACH_STEP: f64 = 0.02;
 /// Error text.
 const ERROR: Color32 = Color32::from_rgb(255, 90, 60);
 
@@ -66,6 +78,22 @@ pub struct TimelinePlot {
     /// point).
     lines: Vec<PlotLine>,
     transform: Option<PlotTransform>,
+    /// What the connected device last said it sends, and what it is.
+    device: Option<(ChannelOutput, DeviceInfo)>,
+    /// The approach the next stream would start with, for the device and timeline it was
+    /// planned for.
+    approach: Option<ApproachTrace>,
+}
+
+/// The approach from what the device sends to the first waypoint, looked at every
+/// [`APPROACH_STEP`], on the timeline's clock (it ends at 0).
+struct ApproachTrace {
+    generation: u64,
+    device: (ChannelOutput, DeviceInfo),
+    from: StartFrom,
+    duration: f64,
+    /// Time (s, negative) and every joint's state then, SI.
+    states: Vec<(f64, Vec<JointState>)>,
 }
 
 struct PlotLine {
@@ -95,6 +123,56 @@ impl TimelinePlot {
             .iter()
             .map(|line| line.commanded.len() + line.simulated.len())
             .sum()
+    }
+
+    /// What the connected device last said it sends (`None`: no device, or it cannot say).
+    pub fn set_device(&mut self, device: Option<(ChannelOutput, DeviceInfo)>) {
+        self.device = device;
+    }
+
+    /// The approach drawn before time 0: where it starts from and how long it lasts (s);
+    /// `None` when none is shown.
+    pub fn approach(&self) -> Option<(StartFrom, f64)> {
+        self.approach
+            .as_ref()
+            .map(|approach| (approach.from, approach.duration))
+    }
+
+    /// Plans the approach again when the device's output or the timeline changed.
+    fn refresh_approach(&mut self, state: &EditorState, timeline: &Timeline) {
+        let Some(device) = self.device else {
+            self.approach = None;
+            return;
+        };
+        if self
+            .approach
+            .as_ref()
+            .is_some_and(|a| a.generation == timeline.generation && a.device == device)
+        {
+            return;
+        }
+        self.approach = state.arm().and_then(|arm| {
+            let (start, from) = approach_start(&state.scene, arm, Some(&device.0), &device.1);
+            let approach = approach_of(&state.scene, arm, &start).ok()?;
+            let duration = approach.duration();
+            let joints = arm.joint_count().min(MAX_JOINTS);
+            let steps = (duration / APPROACH_STEP).ceil().max(1.0) as usize;
+            let states = (0..=steps)
+                .map(|k| {
+                    let t = duration * k as f64 / steps as f64;
+                    let mut states = vec![JointState::default(); joints];
+                    approach.plan().states_at(t, &mut states);
+                    (t - duration, states)
+                })
+                .collect();
+            Some(ApproachTrace {
+                generation: timeline.generation,
+                device,
+                from,
+                duration,
+                states,
+            })
+        });
     }
 
     fn refresh(&mut self, key: LinesKey, timeline: &Timeline) {
@@ -190,7 +268,18 @@ pub fn timeline(ui: &mut Ui, state: &EditorState, plot: &mut TimelinePlot) -> Co
         }
         // The cycle is the plan's length, as the retime tab and `armwright plan` give it; the
         // dry run may run on while the servos settle.
-        let cycle_label = ui.label(format!("cycle {cycle:.2} s"));
+        let approach = plot.approach.as_ref().map(|approach| approach.duration);
+        let cycle_label = match approach {
+            Some(approach) => ui
+                .label(format!(
+                    "cycle {cycle:.2} s + approach {approach:.2} s = {:.2} s",
+                    cycle + approach
+                ))
+                .on_hover_text(
+                    "the next stream starts with the approach from what the device sends now",
+                ),
+            None => ui.label(format!("cycle {cycle:.2} s")),
+        };
         if span > cycle + 5e-4 {
             cycle_label.on_hover_text(format!(
                 "the dry run goes on to {span:.2} s while the servos settle"
@@ -243,6 +332,7 @@ pub fn timeline(ui: &mut Ui, state: &EditorState, plot: &mut TimelinePlot) -> Co
         plot.transform = None;
         return wanted.map_or(Command::None, Command::Playback);
     };
+    plot.refresh_approach(state, timeline);
     let caption = if playback.quantity.per_joint() {
         format!(
             "thin: commanded · pale band: dry run (acceleration, torque: {:.0} ms frame means) · click or drag to move the cursor",
@@ -252,6 +342,7 @@ pub fn timeline(ui: &mut Ui, state: &EditorState, plot: &mut TimelinePlot) -> Co
         "distance between the commanded and the simulated tool point · click or drag to move the cursor".to_string()
     };
     ui.label(RichText::new(caption).small());
+    ui.label(RichText::new(approach_caption(plot.approach.as_ref())).small());
     if let Some(found) = state.dry_run_found() {
         dry_run_marks::list_on_timeline(ui, &state.scene, found);
     }
@@ -276,6 +367,23 @@ fn steps_1_2_5(least: f64) -> [f64; 3] {
         .find(|step| *step >= least * (1.0 - 1e-9))
         .unwrap_or(10.0 * decade);
     [step, 5.0 * step, 10.0 * step]
+}
+
+/// What the timeline says about the approach the next stream starts with.
+fn approach_caption(approach: Option<&ApproachTrace>) -> String {
+    match approach.map(|approach| approach.from) {
+        Some(StartFrom::Held) => {
+            "shaded before 0 s: the approach from where the device holds the arm now".to_owned()
+        }
+        Some(StartFrom::Limp | StartFrom::Unknown) => {
+            "shaded before 0 s: a servo is limp, so the arm is woken at its rest pose, held, \
+             then approaches"
+                .to_owned()
+        }
+        None => "a stream starts with an approach planned from what the device reports at \
+                 stream time"
+            .to_owned(),
+    }
 }
 
 fn speed_label(speed: f64) -> String {
@@ -342,13 +450,25 @@ fn plot_lines(
             }
         });
     }
+    let approach_s = plot.approach.as_ref().map_or(0.0, |a| a.duration);
+    let approach_lines: Vec<(usize, Vec<Column>)> = plot
+        .approach
+        .as_ref()
+        .map(|approach| {
+            (0..timeline.traces.joints)
+                .filter(|joint| shown(*joint))
+                .map(|joint| (joint, approach_columns(approach, quantity, joint, state)))
+                .filter(|(_, columns)| !columns.is_empty())
+                .collect()
+        })
+        .unwrap_or_default();
     let lines = &mut *plot;
     let response = Plot::new("armwright timeline plot")
         .allow_drag(false)
         .allow_boxed_zoom(false)
         .allow_zoom([true, false])
         .allow_scroll([true, false])
-        .include_x(0.0)
+        .include_x(-approach_s)
         .include_x(span)
         .show_crosshair(false)
         .custom_x_axes(vec![
@@ -371,6 +491,10 @@ fn plot_lines(
             let key = lines_key([bounds.min()[0], bounds.max()[0]], width);
             lines.refresh(key, timeline);
             let lines: &TimelinePlot = lines;
+            for (joint, columns) in &approach_lines {
+                let colour = JOINT_COLOURS[joint % JOINT_COLOURS.len()];
+                plot_ui.add(Band::new(&names[*joint], columns, colour, COMMANDED_WIDTH));
+            }
             for line in &lines.lines {
                 let (name, colour) = match line.joint {
                     Some(joint) => (
@@ -398,6 +522,22 @@ fn plot_lines(
     let frame = *transform.frame();
     let painter = ui.painter_at(frame);
     let bounds = transform.bounds();
+    if let Some(approach) = &plot.approach {
+        let left = transform.position_from_point_x(-approach.duration);
+        let right = transform.position_from_point_x(0.0);
+        if right > frame.left() {
+            let shaded = Rect::from_x_y_ranges(left.max(frame.left())..=right, frame.y_range());
+            painter.rect_filled(shaded, 0.0, APPROACH.gamma_multiply(0.12));
+            painter.text(
+                // Below the waypoint names, clear of the cursor's time at the bottom.
+                pos2(shaded.left() + 3.0, frame.top() + 16.0),
+                Align2::LEFT_TOP,
+                format!("approach {:.2} s", approach.duration),
+                FontId::proportional(11.0),
+                APPROACH,
+            );
+        }
+    }
     // Marks closer than a few pixels merge; all of them are one mesh.
     let mut marks = Mesh::default();
     let mut last_mark_x = f32::NEG_INFINITY;
@@ -447,6 +587,43 @@ fn plot_lines(
         return Some(t.clamp(0.0, span));
     }
     None
+}
+
+/// The approach's commanded `quantity` of `joint` as plot columns (angle, velocity and
+/// acceleration only: the approach has no dry run of its own to compare with).
+fn approach_columns(
+    approach: &ApproachTrace,
+    quantity: Quantity,
+    joint: usize,
+    state: &EditorState,
+) -> Vec<Column> {
+    let kind = if state.is_prismatic(joint) {
+        JointKind::Prismatic
+    } else {
+        JointKind::Revolute
+    };
+    let scale = |value: f64| match kind {
+        JointKind::Revolute => value.to_degrees(),
+        JointKind::Prismatic => value * 1e3,
+    };
+    let pick = |joint_state: &JointState| match quantity {
+        Quantity::Angle => Some(joint_state.position),
+        Quantity::Velocity => Some(joint_state.velocity),
+        Quantity::Acceleration => Some(joint_state.acceleration),
+        Quantity::TorqueUse | Quantity::Deviation => None,
+    };
+    approach
+        .states
+        .iter()
+        .filter_map(|(t, states)| {
+            let value = scale(pick(states.get(joint)?)?);
+            Some(Column {
+                x: *t,
+                min: value,
+                max: value,
+            })
+        })
+        .collect()
 }
 
 /// A decimated series drawn as one strip of triangles through its columns, `thickness` points
