@@ -377,7 +377,13 @@ fn tick(state: &mut EditorState, now_s: f64, outside: &mut Vec<Outside>) {
         );
         return;
     }
+    let asked = outside.len();
     send(state, held + leg.step_us(), outside);
+    if outside.len() == asked {
+        // Refused (no device, a stop latched): the reason is said; the search ends.
+        state.calibration.deadband = DeadbandSearch::Idle;
+        return;
+    }
     if state.calibration.limited.is_some() {
         state.calibration.deadband = DeadbandSearch::Idle;
         state.say(
