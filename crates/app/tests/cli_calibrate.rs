@@ -194,3 +194,119 @@ fn a_fit_that_breaks_the_scene_is_not_written() {
     assert!(stderr.contains("arm.joints[2].calibration"), "{stderr}");
     assert!(!out.exists());
 }
+
+/// The angle in a line such as "holding ch0 at 1500 µs; the simulated joint reads 0.123°".
+fn angle_read(line: &str) -> f64 {
+    let (_, after) = line
+        .split_once("reads ")
+        .unwrap_or_else(|| panic!("no reading in {line:?}"));
+    after
+        .trim_end_matches('°')
+        .parse()
+        .unwrap_or_else(|_| panic!("not an angle: {line:?}"))
+}
+
+#[test]
+fn a_joint_is_stepped_on_the_simulated_device_from_typed_lines() {
+    use std::io::Write;
+    use std::process::{Command, Stdio};
+
+    let file = scene_file("calibrate-interactive", &articulated5());
+    let out = std::path::Path::new(&file).with_file_name("stepped.armwright.json");
+    let mut child = Command::new(env!("CARGO_BIN_EXE_armwright"))
+        .args([
+            "calibrate",
+            &file,
+            "--joint",
+            "base",
+            "--simulated",
+            "--json",
+        ])
+        .arg("--write")
+        .arg(&out)
+        .stdin(Stdio::piped())
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .expect("the armwright binary runs");
+    let mut stdin = child.stdin.take().expect("stdin");
+    let stdout = child.stdout.take().expect("stdout");
+    let lines = common::lines_of(child.stderr.take().expect("stderr"));
+    let mut type_line = |text: &str| {
+        writeln!(stdin, "{text}").expect("the child reads its input");
+        stdin.flush().expect("flushed");
+    };
+    // The caution comes first; the prompt after it ends its line only once answered.
+    common::wait_for_line(&lines, "local codes and licensed practice");
+    type_line("yes");
+    // The first point where the joint was woken (its home, 1500 µs), then three steps up,
+    // within the joint's ±90° (past them the simulated joint sits on its end stop).
+    let mut read = angle_read(
+        common::wait_for_line(&lines, "simulated joint reads")
+            .last()
+            .unwrap(),
+    );
+    type_line("banana");
+    common::wait_for_line(&lines, "\"banana\" is not a word this form knows");
+    let mut said = Vec::new();
+    for step in ["+150", "+150", "+150"] {
+        type_line(&format!("{read:.3}"));
+        common::wait_for_line(&lines, "point ");
+        type_line(step);
+        let seen = common::wait_for_line(&lines, "simulated joint reads");
+        read = angle_read(seen.last().unwrap());
+        said.extend(seen);
+    }
+    type_line(&format!("{read:.3}"));
+    common::wait_for_line(&lines, "point 4");
+    // A step past the servo's 2100 µs end is held there, and said.
+    type_line("+400");
+    said.extend(common::wait_for_line(&lines, "simulated joint reads"));
+    type_line("done");
+    let mut text = String::new();
+    std::io::Read::read_to_string(&mut { stdout }, &mut text).expect("stdout");
+    let status = child.wait().expect("the child ends");
+    assert!(status.success(), "{text}");
+    assert!(
+        said.iter()
+            .any(|line| line.contains("outside the servo's safe range 900–2100 µs")),
+        "{said:?}"
+    );
+    let report: Value = serde_json::from_str(&text).unwrap_or_else(|e| panic!("{e}: {text}"));
+    let pulses: Vec<u64> = report["points"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|point| point["pulse_us"].as_u64().unwrap())
+        .collect();
+    assert_eq!(pulses, [1500, 1650, 1800, 1950]);
+    // The test arm's base: 1000 µs over 180° (−90° at 1000 µs, 90° at 2000 µs), 3 µs deadband.
+    let true_per_degree = 1000.0 / 180.0;
+    let per_degree = number(&report["pulse_per_deg_us"]);
+    assert!(
+        (per_degree - true_per_degree).abs() < 0.02 * true_per_degree,
+        "{per_degree}"
+    );
+    // The servo rests anywhere within its deadband: ± half of it, 0.27°.
+    let worst = number(&report["max_residual_deg"]);
+    assert!(worst <= 0.5 * 3.0 / true_per_degree + 0.05, "{worst}°");
+    let written: Value = serde_json::from_slice(&std::fs::read(&out).unwrap()).unwrap();
+    let points = &written["arm"]["joints"][0]["calibration"]["points"];
+    assert_eq!(points[0]["pulse_us"], 1500);
+    assert_eq!(points[1]["pulse_us"], 1950);
+}
+
+#[test]
+fn stepping_is_refused_without_a_typed_yes_and_sends_nothing() {
+    let file = scene_file("calibrate-refused", &articulated5());
+    let output = std::process::Command::new(env!("CARGO_BIN_EXE_armwright"))
+        .args(["calibrate", &file, "--joint", "base", "--simulated"])
+        .stdin(std::process::Stdio::null())
+        .output()
+        .expect("the armwright binary runs");
+    let stderr = String::from_utf8_lossy(&output.stderr);
+    assert_eq!(output.status.code(), Some(1), "{stderr}");
+    assert!(stderr.contains("CAUTION"), "{stderr}");
+    assert!(stderr.contains("nothing was sent"), "{stderr}");
+    assert!(!stderr.contains("holding ch0"), "{stderr}");
+}

@@ -193,6 +193,12 @@ pub enum Command {
     /// least 0.25° or 0.5 mm). Reports µs per degree (or mm), the pulse at zero, the residuals
     /// and, for a quadratic, its term. --write saves the scene with the straight-line fit
     /// through the measured pulse range as the joint's calibration.
+    ///
+    /// With --port or --simulated instead of --points, the joint is stepped on the device from
+    /// the terminal after the safety caution and a typed "yes" (unless --yes): type +N or -N to
+    /// step the pulse by N µs, the position you read to record a point, done to fit. The other
+    /// channels keep what the device sends (a limp one gets the scene's home pose). Ctrl-C sends
+    /// the emergency stop.
     Calibrate {
         /// The scene file.
         #[arg(value_name = "FILE")]
@@ -206,10 +212,21 @@ pub enum Command {
             value_name = "PULSE_US:POSITION,...",
             value_delimiter = ',',
             allow_hyphen_values = true,
-            required = true,
+            required_unless_present_any = ["port", "simulated"],
+            conflicts_with_all = ["port", "simulated"],
             value_parser = super::calibrate::parse_measured_point
         )]
         points: Vec<super::calibrate::MeasuredPoint>,
+        /// Step the joint on the device at this serial port, for example /dev/ttyUSB0.
+        #[arg(long, value_name = "PATH", conflicts_with = "simulated")]
+        port: Option<String>,
+        /// Step the joint on the built-in simulated device, which moves the scene's arm and
+        /// says where the joint came to rest.
+        #[arg(long)]
+        simulated: bool,
+        /// Step without the typed confirmation (the caution is still shown).
+        #[arg(long)]
+        yes: bool,
         /// Save the scene with the fitted calibration here (atomically).
         #[arg(long, value_name = "OUT.armwright.json")]
         write: Option<PathBuf>,

@@ -1,16 +1,27 @@
 //! `armwright calibrate`: fit a joint's calibration to measured points (pulse width sent,
 //! position read), report the fit and its residuals, and optionally write it into the scene.
+//! Without points, with a device (`--port`, `--simulated`), it steps the joint's pulse from the
+//! terminal first and records the positions typed.
 
+use std::io::{BufRead, IsTerminal};
 use std::path::Path;
+use std::sync::{Arc, Mutex, PoisonError};
+use std::time::{Duration, Instant};
 
 use armwright_kinematics::{
-    CalibrationFit, CalibrationFitOptions, CalibrationReading, FitShape, fit_calibration,
+    Arm, CalibrationFit, CalibrationFitOptions, CalibrationReading, FitShape, fit_calibration,
+    sent_pulse,
+};
+use armwright_link::{
+    ChannelValues, Link, LinkEvent, SerialTransport, SimDevice, SimDeviceConfig, SimTransport,
+    StreamOptions, Transport, arm_setpoint,
 };
 use serde_json::{Value, json};
 
 use super::Outcome;
 use super::report::{all_rounded, fail, load_scene, print_json, rounded};
-use crate::scene::{CalibrationPoint, JointKindDoc, Scene, save, validate};
+use super::stream::confirm;
+use crate::scene::{CalibrationPoint, JointKindDoc, Scene, save, servo_model_of, validate};
 
 /// What `calibrate` was asked to do.
 pub(crate) struct CalibrateRequest<'a> {
@@ -18,8 +29,21 @@ pub(crate) struct CalibrateRequest<'a> {
     pub(crate) joint: &'a str,
     /// Measured points: pulse width in µs, position in degrees (revolute) or mm (prismatic).
     pub(crate) points: &'a [MeasuredPoint],
+    /// The device to step the joint on, typing the positions read; `None` fits `points`.
+    pub(crate) device: Option<StepDevice>,
+    /// `--yes`: no typed confirmation before the first pulse.
+    pub(crate) yes: bool,
     /// Where to save the scene with the fitted calibration.
     pub(crate) write: Option<&'a Path>,
+}
+
+/// The device an interactive calibration steps the joint on.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub(crate) enum StepDevice {
+    /// `--port PATH`.
+    Port(String),
+    /// `--simulated`: the built-in simulated device moving the scene's arm.
+    Simulated,
 }
 
 /// One measured point as typed: `PULSE:POSITION`.
@@ -61,9 +85,9 @@ pub fn parse_measured_point(text: &str) -> Result<MeasuredPoint, String> {
     })
 }
 
-/// Runs `calibrate`.
+/// Runs `calibrate`: fits the points given, or steps the joint on a device first.
 pub(crate) fn run(file: &Path, request: &CalibrateRequest, json: bool) -> Outcome {
-    let (scene, _arm) = match load_scene(file, json) {
+    let (scene, arm) = match load_scene(file, json) {
         Ok(loaded) => loaded,
         Err(outcome) => return outcome,
     };
@@ -86,36 +110,48 @@ pub(crate) fn run(file: &Path, request: &CalibrateRequest, json: bool) -> Outcom
         );
         return fail(json, &message, json!({}), Outcome::Unreadable);
     };
+    match &request.device {
+        None => fit_and_report(&scene, index, request.points, request.write, json),
+        Some(device) => {
+            let points = match step_and_read(&scene, &arm, index, device, request.yes) {
+                Ok(points) => points,
+                Err(message) => return fail(json, &message, json!({}), Outcome::Refused),
+            };
+            fit_and_report(&scene, index, &points, request.write, json)
+        }
+    }
+}
+
+/// Fits `points` for joint `index`, writes the scene when asked and reports the fit.
+fn fit_and_report(
+    scene: &Scene,
+    index: usize,
+    points: &[MeasuredPoint],
+    write: Option<&Path>,
+    json: bool,
+) -> Outcome {
     let kind = scene.arm.shape.joint_kinds()[index];
-    let (unit, to_si) = match kind {
-        JointKindDoc::Revolute => ("deg", 1f64.to_radians()),
-        JointKindDoc::Prismatic => ("mm", 1e-3),
+    let unit = match kind {
+        JointKindDoc::Revolute => "deg",
+        JointKindDoc::Prismatic => "mm",
     };
-    let readings: Vec<CalibrationReading> = request
-        .points
+    let to_si = si_per_file_unit(kind);
+    let readings: Vec<CalibrationReading> = points
         .iter()
         .map(|point| CalibrationReading {
             pulse_us: f64::from(point.pulse_us),
             position: point.position * to_si,
         })
         .collect();
-    let options = CalibrationFitOptions {
-        min_bow: match kind {
-            JointKindDoc::Revolute => CalibrationFitOptions::default().min_bow,
-            // Half a millimetre: what a steel rule reads to (common practice).
-            JointKindDoc::Prismatic => 0.5e-3,
-        },
-        ..CalibrationFitOptions::default()
-    };
-    let fit = match fit_calibration(&readings, &options) {
+    let fit = match fit_calibration(&readings, &fit_options(kind)) {
         Ok(fit) => fit,
         Err(error) => {
             let message = format!("--points: {error}");
             return fail(json, &message, json!({}), Outcome::Refused);
         }
     };
-    let written = match request.write {
-        Some(out) => match write_fit(&scene, index, &fit, &readings, out) {
+    let written = match write {
+        Some(out) => match write_fit(scene, index, &fit, &readings, out) {
             Ok(()) => Some(out),
             Err(message) => return fail(json, &message, json!({}), Outcome::Refused),
         },
@@ -123,11 +159,348 @@ pub(crate) fn run(file: &Path, request: &CalibrateRequest, json: bool) -> Outcom
     };
     let report = FitReport::of(&fit, &readings, 1.0 / to_si);
     if json {
-        print_json(&report.json(&scene.arm.joints[index].name, index, unit, written));
+        let mut out = report.json(&scene.arm.joints[index].name, index, unit, written);
+        out["points"] = points
+            .iter()
+            .map(|point| json!({ "pulse_us": point.pulse_us, format!("position_{unit}"): point.position }))
+            .collect();
+        print_json(&out);
     } else {
         report.print(&scene.arm.joints[index].name, unit, written);
     }
     Outcome::Done
+}
+
+/// Shown before the first pulse, whether or not confirmation is asked for.
+pub(crate) const STEP_CAUTION: &str = "\
+CAUTION: calibrating moves the joint, and a powered servo arm can pinch and strike. A limp
+servo jumps to its first pulse at its own top speed: the first pulse wakes this joint at its
+home position, and any other limp joint at the scene's home pose. A software stop is not a
+safety device: keep a hard power cut-off within reach, keep clear of the arm's reach while it
+is powered, and defer to local codes and licensed practice. Ctrl-C sends the emergency stop.";
+
+/// The words the interactive form understands, as it lists them.
+const STEP_WORDS: &str = "\
+Type a line, then Enter:
+  +N or -N   step the pulse by N whole µs (for example +10, -1, +50)
+  a number   the position you read now, degrees (mm for a sliding joint): records a point
+  drop       forget the last point
+  fit        show the fit of the points so far
+  done       fit and report (and write, with --write), then leave
+  quit       leave without fitting or writing";
+
+/// How long a pulse may take to go out before the link is taken as stuck.
+const PULSE_WAIT: Duration = Duration::from_secs(2);
+
+/// One line typed in the interactive form.
+#[derive(Debug, Clone, PartialEq)]
+enum Typed {
+    Step(i32),
+    Position(f64),
+    Drop,
+    Fit,
+    Done,
+    Quit,
+    Help,
+}
+
+/// Reads one typed line.
+fn parse_typed(line: &str) -> Result<Typed, String> {
+    let word = line.trim();
+    let typed = match word.to_ascii_lowercase().as_str() {
+        "drop" => Typed::Drop,
+        "fit" => Typed::Fit,
+        "done" => Typed::Done,
+        "quit" => Typed::Quit,
+        "help" | "?" | "" => Typed::Help,
+        _ if word.starts_with(['+', '-']) && word[1..].chars().all(|c| c.is_ascii_digit()) => {
+            let step: i32 = word
+                .parse()
+                .map_err(|_| format!("\"{word}\": a step is a whole number of µs, such as +10"))?;
+            Typed::Step(step)
+        }
+        _ => match word
+            .trim_end_matches(['°', ' '])
+            .trim_end_matches("mm")
+            .trim()
+            .parse()
+        {
+            Ok(position) if f64::is_finite(position) => Typed::Position(position),
+            _ => {
+                return Err(format!(
+                    "\"{word}\" is not a word this form knows (type help for the list)"
+                ));
+            }
+        },
+    };
+    Ok(typed)
+}
+
+/// The link and what stepping one channel needs.
+struct Stepper {
+    link: Link,
+    channel: usize,
+    /// The pulse held, whole µs.
+    held_us: f64,
+    /// The servo's safe range within the device's, µs.
+    safe_us: (f64, f64),
+    /// Pulses (device units) for channels the device reports limp: the scene's home pose.
+    fill: ChannelValues,
+    /// The simulated device, to say where its joint is.
+    simulated: Option<Arc<Mutex<SimDevice>>>,
+}
+
+impl Stepper {
+    /// Holds the channel at `wanted_us` (limited to the safe range, and said so), every other
+    /// channel at what the device reports it sends; waits until the setpoint went out.
+    fn hold(&mut self, wanted_us: f64) -> Result<(), String> {
+        let (low, high) = self.safe_us;
+        let sent = sent_pulse(wanted_us, 1.0, low, high);
+        if sent.clamped {
+            eprintln!(
+                "{wanted_us:.0} µs is outside the servo's safe range {low:.0}–{high:.0} µs (its \
+                 calibration's pulse_min_us and pulse_max_us, within the device's): held at \
+                 {:.0} µs",
+                sent.pulse_us
+            );
+        }
+        let info = self.link.device();
+        let output = self
+            .link
+            .refresh_state()
+            .map_err(|error| format!("the device did not say what it sends: {error}"))?
+            .output;
+        let mut values = self.fill;
+        let mut woken = Vec::new();
+        for (channel, value) in values.as_mut_slice().iter_mut().enumerate() {
+            if channel == self.channel {
+                *value = info.units_from_us(sent.pulse_us);
+            } else {
+                match output.and_then(|output| output.as_slice().get(channel).copied().flatten()) {
+                    Some(units) => *value = units,
+                    None => woken.push(format!("ch{channel}")),
+                }
+            }
+        }
+        self.link
+            .start_stream()
+            .and_then(|()| self.link.push_setpoint(values))
+            .and_then(|()| self.link.finish_stream())
+            .map_err(|error| format!("cannot send the pulse: {error}"))?;
+        let until = Instant::now() + PULSE_WAIT;
+        loop {
+            match self.link.next_event(Duration::from_millis(20)) {
+                Some(LinkEvent::StreamFinished { .. }) => break,
+                Some(LinkEvent::StopConfirmed { .. }) => {
+                    return Err("emergency stop: the device holds its pulses until reset".into());
+                }
+                Some(LinkEvent::Lost(loss)) => return Err(format!("link lost: {loss}")),
+                Some(LinkEvent::ResetDone) | None => {}
+            }
+            if Instant::now() >= until {
+                return Err("the pulse did not go out: the link is stuck".into());
+            }
+        }
+        if !woken.is_empty() {
+            eprintln!(
+                "{} had no known pulse (limp): sent the scene's home pose there",
+                woken.join(", ")
+            );
+        }
+        self.held_us = sent.pulse_us;
+        Ok(())
+    }
+
+    /// Where the simulated device's joint came to rest, in rad or m (waits until it stops
+    /// moving, at most a few seconds); `None` for a real device.
+    fn simulated_position(&self) -> Option<f64> {
+        let device = self.simulated.as_ref()?;
+        let read = || {
+            let device = device.lock().unwrap_or_else(PoisonError::into_inner);
+            device
+                .arm_positions()
+                .and_then(|positions| positions.get(self.channel).copied())
+        };
+        let until = Instant::now() + Duration::from_secs(5);
+        let mut last = read()?;
+        loop {
+            // Ten pulse frames at 20 ms.
+            std::thread::sleep(Duration::from_millis(200));
+            let now = read()?;
+            if (now - last).abs() < 1e-5 || Instant::now() >= until {
+                return Some(now);
+            }
+            last = now;
+        }
+    }
+}
+
+/// Steps joint `index` on `device` from the terminal, recording the positions typed; returns
+/// the points once the person types `done`.
+fn step_and_read(
+    scene: &Scene,
+    arm: &Arm,
+    index: usize,
+    device: &StepDevice,
+    yes: bool,
+) -> Result<Vec<MeasuredPoint>, String> {
+    let kind = scene.arm.shape.joint_kinds()[index];
+    let (symbol, from_si) = match kind {
+        JointKindDoc::Revolute => ("°", 1f64.to_degrees()),
+        JointKindDoc::Prismatic => (" mm", 1e3),
+    };
+    let name = match device {
+        StepDevice::Port(path) => path.as_str(),
+        StepDevice::Simulated => "the simulated device",
+    };
+    eprintln!("{STEP_CAUTION}");
+    let mut input = std::io::stdin().lock();
+    if !yes {
+        eprint!(
+            "Type yes to step joint \"{}\" on {name}: ",
+            scene.arm.joints[index].name
+        );
+        let answer = confirm(&mut input);
+        if !std::io::stdin().is_terminal() {
+            eprintln!();
+        }
+        answer.map_err(|reason| format!("{reason}; nothing was sent"))?;
+    }
+    let home = arm.home_pose();
+    let (transport, simulated): (Box<dyn Transport>, _) = match device {
+        StepDevice::Simulated => {
+            let device = SimDevice::new(SimDeviceConfig::default())
+                .with_arm(arm.clone(), &servo_model_of(scene), &home)
+                .map_err(|error| format!("the simulated device cannot move this arm: {error}"))?;
+            let transport = SimTransport::with_device(device);
+            let handle = transport.device();
+            (Box::new(transport), Some(handle))
+        }
+        StepDevice::Port(path) => (
+            Box::new(SerialTransport::open(path, scene.link.baud).map_err(|e| e.to_string())?),
+            None,
+        ),
+    };
+    let link = Link::connect(transport, StreamOptions::default())
+        .map_err(|error| format!("cannot connect to {name}: {error}"))?;
+    let info = link.device();
+    let fill = arm_setpoint(arm, &home, Some(0.0), &info)
+        .map_err(|error| format!("cannot send the arm's pulses: {error}"))?
+        .values;
+    let calibration = &scene.arm.joints[index].calibration;
+    let low = f64::from(calibration.pulse_min_us).max(info.us_from_units(info.min_pulse_units));
+    let high = f64::from(calibration.pulse_max_us).min(info.us_from_units(info.max_pulse_units));
+    if low > high {
+        return Err("the servo's pulse range and the device's do not overlap".into());
+    }
+    let stop = link.emergency_stop();
+    ctrlc::set_handler(move || stop.trigger())
+        .map_err(|error| format!("cannot catch Ctrl-C, so it could not stop the arm: {error}"))?;
+    let start_us = arm.joints()[index]
+        .calibration
+        .pulse_us(home[index])
+        .round();
+    let mut stepper = Stepper {
+        link,
+        channel: index,
+        held_us: start_us,
+        safe_us: (low, high),
+        fill,
+        simulated,
+    };
+    stepper.hold(start_us)?;
+    eprintln!("{STEP_WORDS}");
+    let mut points: Vec<MeasuredPoint> = Vec::new();
+    let say_held = |stepper: &Stepper| {
+        eprint!("holding ch{} at {:.0} µs", stepper.channel, stepper.held_us);
+        match stepper.simulated_position() {
+            Some(position) => eprintln!(
+                "; the simulated joint reads {:.3}{symbol}",
+                position * from_si
+            ),
+            None => eprintln!(),
+        }
+    };
+    say_held(&stepper);
+    let mut line = String::new();
+    loop {
+        line.clear();
+        match input.read_line(&mut line) {
+            Ok(0) => return Err("standard input closed before done: nothing fitted".into()),
+            Ok(_) => {}
+            Err(error) => return Err(format!("cannot read standard input: {error}")),
+        }
+        let typed = match parse_typed(&line) {
+            Ok(typed) => typed,
+            Err(message) => {
+                eprintln!("{message}");
+                continue;
+            }
+        };
+        match typed {
+            Typed::Step(step) => {
+                stepper.hold(stepper.held_us + f64::from(step))?;
+                say_held(&stepper);
+            }
+            Typed::Position(position) => {
+                points.push(MeasuredPoint {
+                    pulse_us: stepper.held_us.round() as u32,
+                    position,
+                });
+                eprintln!(
+                    "point {}: {:.0} µs at {position}{symbol}",
+                    points.len(),
+                    stepper.held_us
+                );
+            }
+            Typed::Drop => match points.pop() {
+                Some(point) => eprintln!(
+                    "dropped {} µs at {}{symbol}; {} left",
+                    point.pulse_us,
+                    point.position,
+                    points.len()
+                ),
+                None => eprintln!("no point to drop"),
+            },
+            Typed::Fit => print_fit_so_far(&points, kind, symbol),
+            Typed::Done => return Ok(points),
+            Typed::Quit => return Err("quit: nothing fitted or written".into()),
+            Typed::Help => eprintln!("{STEP_WORDS}"),
+        }
+    }
+}
+
+/// The fit of the points typed so far, on standard error.
+fn print_fit_so_far(points: &[MeasuredPoint], kind: JointKindDoc, symbol: &str) {
+    let to_si = si_per_file_unit(kind);
+    let readings: Vec<CalibrationReading> = points
+        .iter()
+        .map(|point| CalibrationReading {
+            pulse_us: f64::from(point.pulse_us),
+            position: point.position * to_si,
+        })
+        .collect();
+    match fit_calibration(&readings, &fit_options(kind)) {
+        Ok(fit) => {
+            let residuals: Vec<String> = fit
+                .residuals
+                .iter()
+                .map(|r| format!("{:+.2}", r / to_si))
+                .collect();
+            let per = if kind == JointKindDoc::Revolute {
+                "degree"
+            } else {
+                "mm"
+            };
+            eprintln!(
+                "{:.3} µs per {per}, {:.1} µs at 0{symbol}; residuals {}{symbol}",
+                fit.pulse_per_position_us() * to_si,
+                fit.pulse_at_zero_us(),
+                residuals.join(", ")
+            );
+        }
+        Err(error) => eprintln!("no fit yet: {error}"),
+    }
 }
 
 /// The fit in the joint's file unit (degrees or mm per µs).
@@ -225,6 +598,45 @@ impl FitReport {
     }
 }
 
+/// SI units (rad or m) per file unit (degree or mm) of a joint of this kind.
+pub(crate) fn si_per_file_unit(kind: JointKindDoc) -> f64 {
+    match kind {
+        JointKindDoc::Revolute => 1f64.to_radians(),
+        JointKindDoc::Prismatic => 1e-3,
+    }
+}
+
+/// When a fit of this joint kind's readings is taken as a quadratic: the defaults for a
+/// turning joint; a sliding joint's bow must reach half a millimetre, what a steel rule reads
+/// to (common practice).
+pub(crate) fn fit_options(kind: JointKindDoc) -> CalibrationFitOptions {
+    CalibrationFitOptions {
+        min_bow: match kind {
+            JointKindDoc::Revolute => CalibrationFitOptions::default().min_bow,
+            JointKindDoc::Prismatic => 0.5e-3,
+        },
+        ..CalibrationFitOptions::default()
+    }
+}
+
+/// The scene's two calibration points for a fit: its straight line at the ends of the measured
+/// pulse range (whole µs, as measured), positions in degrees or mm kept to a hundredth.
+pub(crate) fn fitted_points(fit: &CalibrationFit, kind: JointKindDoc) -> [CalibrationPoint; 2] {
+    let from_si = 1.0 / si_per_file_unit(kind);
+    // The accepted range does not enter the two points.
+    let line = fit.to_calibration(0.0, 0.0);
+    [
+        CalibrationPoint {
+            position: (line.position_a * from_si * 100.0).round() / 100.0,
+            pulse_us: line.pulse_a_us.round() as u32,
+        },
+        CalibrationPoint {
+            position: (line.position_b * from_si * 100.0).round() / 100.0,
+            pulse_us: line.pulse_b_us.round() as u32,
+        },
+    ]
+}
+
 /// The calibration uncertainty a straight-line fit leaves, in rad or m: the residual standard
 /// error √(Σ r² / (n − 2)) of the line through `n` readings (Draper & Smith, *Applied Regression
 /// Analysis*, 3rd ed., 1998, §1.4; from memory). `None` for two readings, which any line meets.
@@ -245,26 +657,9 @@ fn write_fit(
 ) -> Result<(), String> {
     let mut scene = scene.clone();
     let kind = scene.arm.shape.joint_kinds()[index];
-    let from_si = match kind {
-        JointKindDoc::Revolute => 1f64.to_degrees(),
-        JointKindDoc::Prismatic => 1e3,
-    };
     let joint = &mut scene.arm.joints[index];
-    let line = fit.to_calibration(
-        f64::from(joint.calibration.pulse_min_us),
-        f64::from(joint.calibration.pulse_max_us),
-    );
-    // Pulse ends are measured whole µs; positions keep a hundredth of a degree or mm.
-    joint.calibration.points = [
-        CalibrationPoint {
-            position: (line.position_a * from_si * 100.0).round() / 100.0,
-            pulse_us: line.pulse_a_us as u32,
-        },
-        CalibrationPoint {
-            position: (line.position_b * from_si * 100.0).round() / 100.0,
-            pulse_us: line.pulse_b_us as u32,
-        },
-    ];
+    joint.calibration.points = fitted_points(fit, kind);
+    let from_si = 1.0 / si_per_file_unit(kind);
     joint.calibration.uncertainty = line_uncertainty(&fit.line_residuals(readings))
         .map(|sd| (sd * from_si * 1e4).round() / 1e4);
     let problems = validate(&scene);

@@ -12,7 +12,7 @@
 //! (missing file, not JSON, not a scene, newer version, bad arguments).
 
 mod args;
-mod calibrate;
+pub(crate) mod calibrate;
 mod check;
 pub(crate) mod clearance;
 mod device_sim;
@@ -131,12 +131,22 @@ pub fn execute(command: &Command) -> Outcome {
             file,
             joint,
             points,
+            port,
+            simulated,
+            yes,
             write,
             json,
         } => {
+            let device = match (port, simulated) {
+                (Some(path), _) => Some(calibrate::StepDevice::Port(path.clone())),
+                (None, true) => Some(calibrate::StepDevice::Simulated),
+                (None, false) => None,
+            };
             let request = calibrate::CalibrateRequest {
                 joint,
                 points,
+                device,
+                yes: *yes,
                 write: write.as_deref(),
             };
             calibrate::run(file, &request, *json)

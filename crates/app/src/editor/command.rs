@@ -12,6 +12,7 @@ use nalgebra::Vector3;
 use armwright_link::ResetConfirmation;
 
 use super::arm_form::{ArmField, ArmTypeChoice, with_arm_type};
+use super::calibration::{self, CalibrationCommand};
 use super::device::LinkAction;
 use super::estop::{StopLink, StopRequest};
 use super::history::{EditKey, Snapshot};
@@ -198,6 +199,9 @@ pub enum Command {
     /// Move the timeline's cursor, play, pause, change speed or what the plot shows: a preview
     /// that changes no scene and records no undo step.
     Playback(PlaybackCommand),
+    /// Something for the calibration panel: step the joint's pulse, record a point, look for
+    /// the deadband, apply the fit (one undo step).
+    Calibration(CalibrationCommand),
 }
 
 impl Command {
@@ -547,13 +551,17 @@ pub fn apply(
             }
         }
         Command::Playback(command) => playback::apply(state, command),
+        Command::Calibration(command) => calibration::apply(state, command, outside),
     }
 }
 
 /// Passes a link action on, unless it would move the arm while that is not allowed: streaming
 /// needs the caution acknowledged and no stop latched.
 fn link_action(state: &mut EditorState, action: LinkAction, outside: &mut Vec<Outside>) {
-    let moves = matches!(action, LinkAction::Stream | LinkAction::Resume);
+    let moves = matches!(
+        action,
+        LinkAction::Stream | LinkAction::Resume | LinkAction::HoldChannel(_)
+    );
     if moves && !state.caution_acknowledged {
         state.say(
             Level::Warning,
@@ -667,7 +675,11 @@ fn restore(state: &mut EditorState, snapshot: Snapshot) {
 
 /// Runs an edit of the scene as one undo step (merging with the previous step when `key` is the
 /// same as its key).
-fn edit(state: &mut EditorState, key: Option<EditKey>, change: impl FnOnce(&mut EditorState)) {
+pub(super) fn edit(
+    state: &mut EditorState,
+    key: Option<EditKey>,
+    change: impl FnOnce(&mut EditorState),
+) {
     let before = snapshot(state);
     change(state);
     if state.scene != before.scene {

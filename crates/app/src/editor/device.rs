@@ -12,7 +12,7 @@ use std::time::{Duration, Instant};
 
 use armwright_kinematics::{Arm, JointKind};
 use armwright_link::{
-    ChannelValues, DeviceInfo, EmergencyStop, Link, LinkError, LinkEvent, PortSummary,
+    ChannelValues, DeviceInfo, EmergencyStop, Link, LinkError, LinkEvent, LinkState, PortSummary,
     ResetConfirmation, SerialTransport, SimDevice, SimDeviceConfig, SimTransport, StreamOptions,
     StreamStats, Transport, list_ports,
 };
@@ -24,6 +24,9 @@ use crate::scene::{Device, Scene, plan_of};
 
 /// Setpoints queued ahead of the device: a pause takes effect within this many periods.
 const QUEUE_AHEAD: usize = 8;
+
+/// How long a held channel's pulse waits for the one before it to go out.
+const HOLD_WAIT: Duration = Duration::from_millis(500);
 
 /// How long the worker waits for a request when it has nothing else to do.
 const IDLE_WAIT: Duration = Duration::from_millis(20);
@@ -57,6 +60,22 @@ pub enum LinkAction {
     Pause,
     /// Go on streaming from where the pause left off.
     Resume,
+    /// Hold one channel at a pulse width, every other channel at what the device sends now
+    /// (for guided calibration).
+    HoldChannel(ChannelPulse),
+}
+
+/// One channel held at a pulse width, the others kept at what the device reports it sends.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct ChannelPulse {
+    /// The channel (joint `i` is channel `i`).
+    pub channel: usize,
+    /// The width, in µs, already through the pulse rule for the device's unit and the servo's
+    /// range.
+    pub pulse_us: f64,
+    /// What a channel the device reports limp (or cannot report) gets instead, in device
+    /// units: the editor's pose. A limp servo jumps there at its own top speed.
+    pub limp_fill: ChannelValues,
 }
 
 /// Where a stream stands, as the link panel shows it.
@@ -288,6 +307,7 @@ enum Request {
     },
     Pause,
     Resume,
+    HoldChannel(ChannelPulse),
     Reset(ResetConfirmation),
     /// The editor is going: drop the link (the device is asked to hold) and end.
     Quit,
@@ -455,6 +475,7 @@ impl DeviceLink {
             },
             LinkAction::Pause => Request::Pause,
             LinkAction::Resume => Request::Resume,
+            LinkAction::HoldChannel(pulse) => Request::HoldChannel(pulse),
         };
         // The worker only ends when this handle is dropped.
         let _ = self.requests.send(request);
@@ -498,6 +519,7 @@ impl std::fmt::Debug for Request {
             Request::Stream { .. } => "Stream",
             Request::Pause => "Pause",
             Request::Resume => "Resume",
+            Request::HoldChannel(_) => "HoldChannel",
             Request::Reset(_) => "Reset",
             Request::Quit => "Quit",
         })
@@ -640,6 +662,7 @@ impl Worker {
                 }
             }
             Request::Resume => self.resume(),
+            Request::HoldChannel(pulse) => self.hold_channel(&pulse),
             Request::Quit => {}
             Request::Reset(confirmation) => {
                 if let Some(link) = &self.link {
@@ -815,6 +838,74 @@ impl Worker {
             "streaming {total} setpoints at {} Hz: {start}",
             self.rate_hz
         )));
+    }
+
+    /// Sends one setpoint: `pulse`'s channel at its width, every other channel at what the
+    /// device reports it sends now (asked afresh), a limp one at `pulse.limp_fill`. The
+    /// setpoint goes out as a stream of one, after the one before it finished.
+    fn hold_channel(&mut self, pulse: &ChannelPulse) {
+        let Some(link) = &self.link else {
+            self.say(Report::Problem(
+                "cannot send the pulse: no device is connected".into(),
+            ));
+            return;
+        };
+        if self.stream.as_ref().is_some_and(|stream| {
+            matches!(
+                stream.phase,
+                StreamPhase::Planning
+                    | StreamPhase::Streaming
+                    | StreamPhase::Pausing
+                    | StreamPhase::Paused
+            )
+        }) {
+            self.say(Report::Problem(
+                "cannot send the pulse while the sequence streams or is paused".into(),
+            ));
+            return;
+        }
+        // The previous pulse's stream of one ends within a period or two.
+        let until = Instant::now() + HOLD_WAIT;
+        while link.stats().state == LinkState::Streaming && Instant::now() < until {
+            std::thread::sleep(Duration::from_millis(1));
+        }
+        let info = link.device();
+        let output = match link.refresh_state() {
+            Ok(state) => state.output,
+            Err(error) => {
+                self.say(Report::Problem(format!(
+                    "cannot send the pulse: the device did not say what it sends: {error}"
+                )));
+                return;
+            }
+        };
+        let mut values = pulse.limp_fill;
+        let mut woken = Vec::new();
+        for (channel, value) in values.as_mut_slice().iter_mut().enumerate() {
+            if channel == pulse.channel {
+                *value = info.units_from_us(pulse.pulse_us);
+            } else {
+                match output.and_then(|output| output.as_slice().get(channel).copied().flatten()) {
+                    Some(units) => *value = units,
+                    None => woken.push(channel.to_string()),
+                }
+            }
+        }
+        let sent = link
+            .start_stream()
+            .and_then(|()| link.push_setpoint(values))
+            .and_then(|()| link.finish_stream());
+        match sent {
+            Ok(()) if woken.is_empty() => {}
+            Ok(()) => self.say(Report::Info(format!(
+                "channel{} {} had no known pulse (limp): sent the editor's pose there",
+                if woken.len() == 1 { "" } else { "s" },
+                woken.join(", ")
+            ))),
+            Err(error) => self.say(Report::Problem(format!("cannot send the pulse: {error}"))),
+        }
+        // This stream of one is not the sequence's: its end is not reported as one.
+        self.stream = None;
     }
 
     fn resume(&mut self) {

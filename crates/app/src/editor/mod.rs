@@ -8,7 +8,8 @@
 //! a device and its worker thread (connect, stream, pause, reset); `files.rs` file work off
 //! the UI thread; `recovery.rs` the autosaved copy; `sample.rs` the built-in scene;
 //! `retime_job.rs` retiming on a worker thread; `arm_form.rs` the arm settings form's fields and
-//! typed text; `dry_run_job.rs` plans the sequence and runs the dry run off the UI thread;
+//! typed text; `calibration.rs` guided calibration of one joint (pulse held, points, fit,
+//! deadband search); `dry_run_job.rs` plans the sequence and runs the dry run off the UI thread;
 //! `traces.rs` what the timeline plots; `dry_run_marks.rs` the contacts and unsettled stops the
 //! views, the timeline and the sequence mark; `playback.rs` the timeline's cursor and playback;
 //! `panels/` one file per panel; `views/` the two to-scale views; `waypoint_name.rs` the names
@@ -17,6 +18,7 @@
 //! [`Editor::ui`] draws the panels and applies their commands after the frame.
 
 mod arm_form;
+mod calibration;
 mod command;
 mod device;
 mod dry_run_job;
@@ -35,13 +37,18 @@ mod views;
 mod waypoint_name;
 
 pub use arm_form::{ArmField, ArmForm, ArmTypeChoice, ChainField, DhParam, JointField};
+pub use calibration::{
+    Calibrating, CalibrationCommand, DEADBAND_STEP_S, DeadbandSearch, MeasuredPosition,
+    PULSE_STEPS_US, SearchLeg,
+};
 pub use command::{Command, Outside, WaypointField, apply};
 pub use device::{
-    Connection, DeviceLink, LinkAction, LinkStopLink, LinkView, StreamEnd, StreamPhase,
+    ChannelPulse, Connection, DeviceLink, LinkAction, LinkStopLink, LinkView, StreamEnd,
+    StreamPhase,
 };
 pub use dry_run_marks::{ContactMark, DryRunMarks, Solid, UnsettledMark};
 pub use estop::{ChannelStopLink, STOP_KEY, STOP_KEY_NAME, StopLink, StopRequest};
-pub use panels::{ACKNOWLEDGE_LABEL, CAUTION, EMERGENCY_STOP_LABEL, NUDGE_KEYS};
+pub use panels::{ACKNOWLEDGE_LABEL, CAUTION, EMERGENCY_STOP_LABEL, MOVED_LABEL, NUDGE_KEYS};
 pub use playback::{AtEnd, DryRunStatus, Playback, PlaybackCommand, SPEEDS, Timeline};
 pub use recovery::{Recovery, RecoveryCopy};
 pub use retime_job::{RetimeReport, RetimeRun, RetimeState, RunFigures, WaypointFigures};
@@ -367,6 +374,7 @@ impl Editor {
             }
         }
         self.nudge(ctx, frame);
+        self.calibration_keys(ctx, frame);
         for result in self.files.finished() {
             self.file_finished(ctx, result);
         }
@@ -387,6 +395,13 @@ impl Editor {
         }
         self.autosave(ctx);
         self.follow_device(ctx);
+        if self.state.calibration.searching() {
+            // The deadband search steps on its own clock while the person watches the arm.
+            let now = ctx.input(|input| input.time);
+            let tick = Command::Calibration(CalibrationCommand::Tick(now));
+            self.apply(ctx, tick, frame);
+            ctx.request_repaint_after(Duration::from_millis(100));
+        }
         if self.mapped_arm.as_ref() != Some(&self.state.scene.arm) {
             if self.mapped_arm.is_some() {
                 // Maps of the old arm are wrong: drop them (a job still running for it reports
@@ -437,6 +452,24 @@ impl Editor {
         }
     }
 
+    /// Steps the calibrated joint's pulse by the keys pressed this frame while the Calibrate
+    /// tab is shown, unless a dialog is open or a widget has the keyboard.
+    fn calibration_keys(&mut self, ctx: &egui::Context, frame: u64) {
+        let free = ctx.memory(|memory| memory.focused().is_none());
+        if self.state.tools_tab != ToolsTab::Calibrate
+            || self.state.dialog.is_some()
+            || ctx.egui_wants_keyboard_input()
+            || !free
+        {
+            return;
+        }
+        let step_us = ctx.input_mut(panels::calibration_step_keys);
+        if step_us != 0.0 {
+            let step = Command::Calibration(CalibrationCommand::Step(step_us));
+            self.apply(ctx, step, frame);
+        }
+    }
+
     /// Takes what the device link published: its messages, and the arm's pose as a simulated
     /// device moves it. The link's worker wakes the window when any of that changes (at most
     /// 30 times a second), so an idle connection costs no redraws.
@@ -452,6 +485,7 @@ impl Editor {
         let view = self.device.view();
         let output = view.stats.as_ref().and_then(|stats| stats.device_output);
         let info = view.connection.as_ref().map(|connection| connection.info);
+        self.state.calibration.device = info;
         self.timeline_plot.set_device(output.zip(info));
     }
 
@@ -551,6 +585,7 @@ impl Editor {
                         (ToolsTab::Link, "Link"),
                         (ToolsTab::Retime, "Retime"),
                         (ToolsTab::Arm, "Arm"),
+                        (ToolsTab::Calibrate, "Calibrate"),
                     ] {
                         if ui
                             .selectable_label(self.state.tools_tab == tab, label)
@@ -567,6 +602,9 @@ impl Editor {
                         ToolsTab::Link => panels::link(ui, &self.state, self.device.view()),
                         ToolsTab::Retime => panels::retime(ui, &self.state),
                         ToolsTab::Arm => panels::arm_settings(ui, &self.state),
+                        ToolsTab::Calibrate => {
+                            panels::calibration(ui, &self.state, self.device.view())
+                        }
                     })
                     .inner;
                 command.then(shown)

@@ -10,6 +10,7 @@ use armwright_kinematics::{
 };
 
 use super::arm_form::ArmForm;
+use super::calibration::Calibrating;
 use super::history::History;
 use super::playback::Playback;
 use super::retime_job::RetimeState;
@@ -68,6 +69,8 @@ pub enum ToolsTab {
     Retime,
     /// The arm's settings.
     Arm,
+    /// Guided calibration of one joint on the connected device.
+    Calibrate,
 }
 
 /// Why the last drag of the tool point could or could not move the arm.
@@ -199,6 +202,8 @@ pub struct EditorState {
     pub arm_form: ArmForm,
     /// The timeline: the newest plan and dry run, the time cursor and playback.
     pub playback: Playback,
+    /// The calibration panel: the joint, the pulse held, the points read, the fit.
+    pub calibration: Calibrating,
 }
 
 /// Most messages kept.
@@ -234,6 +239,7 @@ impl EditorState {
             device_pose: None,
             arm_form: ArmForm::default(),
             playback: Playback::default(),
+            calibration: Calibrating::default(),
         };
         state.rebuild_arm();
         let start = state

@@ -6,9 +6,11 @@
 //! torque use), `sequence.rs` (waypoints), `timeline.rs` (plots against time, time cursor,
 //! playback), `status_bar.rs` (messages and cautions), `dialogs.rs` (questions shown over the
 //! window, never over the emergency stop); the tools panel's tabs `link.rs` (the device:
-//! connect, caution, stream, statistics), `retime.rs` and `arm_settings.rs`.
+//! connect, caution, stream, statistics), `retime.rs`, `arm_settings.rs` and `calibration.rs` (step
+//! a joint's pulse, record the positions read, the fit, the deadband search, apply).
 
 mod arm_settings;
+mod calibration;
 mod dialogs;
 mod joint_controls;
 mod link;
@@ -20,6 +22,8 @@ mod tool_point;
 mod top_bar;
 
 pub use arm_settings::arm_settings;
+pub(crate) use calibration::step_keys as calibration_step_keys;
+pub use calibration::{MOVED_LABEL, calibration};
 pub use dialogs::dialogs;
 pub use joint_controls::joint_controls;
 pub use link::{ACKNOWLEDGE_LABEL, link};
