@@ -197,6 +197,8 @@ pub enum Command {
     /// Move the timeline's cursor, play, pause, change speed or what the plot shows: a preview
     /// that changes no scene and records no undo step.
     Playback(PlaybackCommand),
+    /// Follow and jog (`follow.rs`).
+    Follow(super::follow::FollowCommand),
 }
 
 impl Command {
@@ -546,6 +548,7 @@ pub fn apply(
             }
         }
         Command::Playback(command) => playback::apply(state, command),
+        Command::Follow(command) => super::follow::apply(state, command, outside),
     }
 }
 

@@ -10,6 +10,7 @@ use armwright_kinematics::{
 };
 
 use super::arm_form::ArmForm;
+use super::follow::FollowSettings;
 use super::history::History;
 use super::playback::Playback;
 use super::retime_job::RetimeState;
@@ -68,6 +69,8 @@ pub enum ToolsTab {
     Retime,
     /// The arm's settings.
     Arm,
+    /// Follow and jog: the connected device tracking the edited pose.
+    Follow,
 }
 
 /// Why the last drag of the tool point could or could not move the arm.
@@ -199,6 +202,8 @@ pub struct EditorState {
     pub arm_form: ArmForm,
     /// The timeline: the newest plan and dry run, the time cursor and playback.
     pub playback: Playback,
+    /// Follow and jog settings (the session's, not the scene's).
+    pub follow: FollowSettings,
 }
 
 /// Most messages kept.
@@ -234,6 +239,7 @@ impl EditorState {
             device_pose: None,
             arm_form: ArmForm::default(),
             playback: Playback::default(),
+            follow: FollowSettings::default(),
         };
         state.rebuild_arm();
         let start = state
@@ -261,6 +267,9 @@ impl EditorState {
         let messages = std::mem::take(&mut self.messages);
         let link_device = std::mem::replace(&mut self.link_device, Device::Simulated);
         let device_pose = self.device_pose.take();
+        // Follow's settings stay for the session; following the old scene's arm ends.
+        let mut follow = std::mem::take(&mut self.follow);
+        follow.on = false;
         let (stop, tools_tab, caution_acknowledged) =
             (self.stop, self.tools_tab, self.caution_acknowledged);
         *self = EditorState::new(scene, file_path);
@@ -270,6 +279,7 @@ impl EditorState {
         self.link_device = link_device;
         self.caution_acknowledged = caution_acknowledged;
         self.device_pose = device_pose;
+        self.follow = follow;
     }
 
     /// The arm model, when the scene's arm could be built.
