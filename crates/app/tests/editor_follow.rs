@@ -16,12 +16,12 @@ use egui::{Event, Key, Modifiers};
 use egui_kittest::kittest::{NodeT, Queryable};
 
 use editor_common::{
-    EditorHarness, click_tab, connect, device_mode, link_state, press_stop_key, sample_editor,
-    step_until,
+    EditorHarness, click_tab, device_mode, link_state, press_stop_key, sample_editor,
 };
 
 /// Steps (a frame every 10 ms) until `done` holds; panics after 60 s naming `what`. The arm
-/// moves in real time at a low speed share, so the wait is generous.
+/// moves in real time at a low speed share and the machine may be busy, so the wait is
+/// generous.
 fn step_until_slow(harness: &mut EditorHarness, what: &str, done: impl Fn(&Editor) -> bool) {
     let start = Instant::now();
     while !done(harness.state()) {
@@ -84,7 +84,10 @@ fn switch_follow(harness: &mut EditorHarness) {
 #[test]
 fn follow_jog_store_stop_and_leave() {
     let (mut harness, _requests, _dir) = sample_editor("follow-flow");
-    connect(&mut harness);
+    harness.get_by_label("Connect").click_accesskit();
+    step_until_slow(&mut harness, "the connection", |editor| {
+        link_state(editor) == Some(LinkState::Idle)
+    });
     click_tab(&mut harness, "Follow");
     assert!(
         !harness.state().state.follow.on,
@@ -102,7 +105,7 @@ fn follow_jog_store_stop_and_leave() {
     harness.run_steps(2);
     switch_follow(&mut harness);
     assert!(harness.state().state.follow.on);
-    step_until(&mut harness, "following", |editor| {
+    step_until_slow(&mut harness, "following", |editor| {
         editor.device().view().follow.phase == FollowPhase::Following
     });
     // The device's arm settles on the edited pose (its servos started limp).
@@ -166,7 +169,7 @@ fn follow_jog_store_stop_and_leave() {
         harness.state().state.stop,
         StopState::Latched { .. }
     ));
-    step_until(&mut harness, "the device stopped", |editor| {
+    step_until_slow(&mut harness, "the device stopped", |editor| {
         device_mode(editor) == Some(DeviceMode::Stopped)
             && editor.device().view().follow.phase == FollowPhase::Off
     });
@@ -183,11 +186,11 @@ fn follow_jog_store_stop_and_leave() {
     harness.get_by_label("Reset stop…").click();
     harness.run_steps(3);
     harness.get_by_label("Reset stop").click();
-    step_until(&mut harness, "the link reset", |editor| {
+    step_until_slow(&mut harness, "the link reset", |editor| {
         link_state(editor) == Some(LinkState::Idle)
     });
     switch_follow(&mut harness);
-    step_until(&mut harness, "following again", |editor| {
+    step_until_slow(&mut harness, "following again", |editor| {
         editor.device().view().follow.phase == FollowPhase::Following
     });
     for _ in 0..5 {

@@ -4,9 +4,9 @@
 //! panel and the jog keys) asks; the device link's worker thread does: it holds a
 //! [`FollowRun`] — the trajectory crate's [`Follower`] at the user's speed share, stepped once
 //! per link frame, each step turned into a setpoint by the link crate's `device_setpoints` (the
-//! one pulse rule) and pushed onto the link's stream, never more than [`AHEAD`] frames ahead of
-//! what the link has written, so the arm lags the edited pose by its own motion and at most
-//! two frames. Every frame while following, [`update`] hands the edited pose (dragged, slid,
+//! one pulse rule) and pushed onto the link's stream, about 100 ms ahead of what the link
+//! has written (`AHEAD_TIME`), so the arm lags the edited pose by its own motion and that much.
+//! Every frame while following, [`update`] hands the edited pose (dragged, slid,
 //! jogged, jumped to a waypoint, or the timeline's cursor) to the worker as the new target.
 //!
 //! The emergency stop works as everywhere: the link drops the queue and latches, the run ends,
@@ -24,8 +24,10 @@ use super::device::{DeviceLink, LinkAction, Report};
 use super::state::{EditorState, Level, ReachStatus, StopState};
 use crate::scene::{GripperState, Scene, limit_settings_of, servo_model_of};
 
-/// Setpoints a follow run keeps queued ahead of what the link has written.
-pub(crate) const AHEAD: u64 = 2;
+/// How far ahead of what the link has written a follow run keeps setpoints queued, s: enough
+/// to ride out a busy host for 100 ms (two to five frames at the usual rates; the arm lags
+/// the edited pose by this much more).
+const AHEAD_TIME: f64 = 0.1;
 
 /// The speed share follow starts at, % (low, so a first follow is slow).
 pub const DEFAULT_FOLLOW_SHARE_PCT: f64 = 10.0;
@@ -472,7 +474,7 @@ impl FollowRun {
         }
     }
 
-    /// Pushes follower steps while fewer than [`AHEAD`] setpoints wait on the link. Returns how
+    /// Pushes follower steps while fewer than `AHEAD_TIME` of setpoints wait on the link. Returns how
     /// the run ended, once it did.
     pub(crate) fn step(&mut self, link: &Link) -> Option<FollowEnd> {
         let stats = link.stats();
@@ -498,7 +500,9 @@ impl FollowRun {
             LinkState::Streaming => {}
         }
         let written = stats.frames_sent.saturating_sub(self.sent_before);
-        while self.pushed < written + AHEAD {
+        // Within the link's queue of 8 (the editor's and `jog`'s), so a push never waits.
+        let ahead = ((AHEAD_TIME / self.follower.period()).ceil() as u64).clamp(2, 7);
+        while self.pushed < written + ahead {
             if self.leaving && self.pushed > 0 && self.follower.at_rest_on_target() {
                 self.finishing = true;
                 if let Err(error) = link.finish_stream() {
