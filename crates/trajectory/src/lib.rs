@@ -42,6 +42,7 @@ mod arm_limits; // limits a plan takes from the arm's servos, masses and gravity
 mod arm_plan; // a task planned on a real arm: limits, gripper payload, waypoint timings
 mod clearance; // the arm against obstacles and itself along a plan and along the dry run
 mod dry_run; // a plan run through the servo model: overshoot, settling, following error
+mod follower; // the connected arm following a changing target live: jerk-limited, speed-capped
 mod placement; // share of picks and places within tolerance: Monte Carlo and closed form
 mod profile; // one joint's move: trapezoid and double-S profiles, evaluation, stretching
 mod retime; // the fastest timing whose dry run meets an overshoot and torque target
@@ -61,6 +62,7 @@ pub use crate::dry_run::{
     CommandedMotion, DryRun, DryRunError, DryRunOptions, GRIPPER_TIME, WaypointResult,
     WaypointTiming, dry_run, gripper_moment,
 };
+pub use crate::follower::{FollowError, FollowJoint, Follower};
 pub use crate::placement::{
     MAX_PLACEMENT_DRAWS, PlacementEstimate, PlacementOptions, disc_probability, placement_estimate,
 };

@@ -286,6 +286,33 @@ pub enum Command {
         #[arg(long)]
         json: bool,
     },
+    /// Jog the connected arm from the terminal: joints and the tool point, one typed command a line.
+    ///
+    /// The arm follows each command through the editor's jerk-limited follower at --share of
+    /// each joint's limits (never faster than its servo can follow); the pose is printed as each
+    /// move comes to rest. Commands: `j JOINT STEP` (degrees, or mm for a sliding joint),
+    /// `t x|y|z STEP_MM` (the tool point, through inverse kinematics), `share PCT`, `show`,
+    /// `help`, `quit` (come to rest and hold; also the end of input), and `stop`, which sends
+    /// the emergency stop as soon as it is read (as does Ctrl-C). The safety caution is shown and
+    /// a typed "yes" is needed unless --yes. Exit status 0 when quit, 1 on an emergency stop, a
+    /// lost link or a refusal, 2 when the input cannot be read.
+    Jog {
+        /// The scene file.
+        #[arg(value_name = "FILE")]
+        file: PathBuf,
+        /// Serial port of the device, for example /dev/ttyUSB0.
+        #[arg(long, value_name = "PATH", conflicts_with = "simulated")]
+        port: Option<String>,
+        /// Jog the built-in simulated device's arm.
+        #[arg(long)]
+        simulated: bool,
+        /// Share of each joint's limits the arm may use, in %, 1 to 100.
+        #[arg(long = "share", value_name = "PCT", default_value_t = 10.0)]
+        share_pct: f64,
+        /// Start without asking for confirmation (the caution is still shown).
+        #[arg(long)]
+        yes: bool,
+    },
     /// Print the scene file's reference (Markdown) or its JSON Schema.
     ///
     /// Both are generated from the field table that reads, writes and checks scene files, so they

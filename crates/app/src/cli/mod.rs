@@ -1,9 +1,9 @@
 //! The command line: `check`, `pose`, `reach`, `envelope`, `plan`, `simulate`, `retime`,
-//! `calibrate`, `protractor`, `ports`, `stream`, `reset`, `device-sim`, `format`.
+//! `calibrate`, `protractor`, `ports`, `stream`, `reset`, `jog`, `device-sim`, `format`.
 //!
 //! Naming scheme: `args.rs` declares every option (clap derive); one file per subcommand
 //! (`check.rs`, `pose.rs`, `reach.rs`, `envelope.rs`, `plan.rs`, `simulate.rs`, `retime.rs`,
-//! `calibrate.rs`, `protractor.rs`, `ports.rs`, `stream.rs`, `reset.rs`, `device_sim.rs`,
+//! `calibrate.rs`, `protractor.rs`, `ports.rs`, `stream.rs`, `reset.rs`, `jog.rs`, `device_sim.rs`,
 //! `format.rs`); `report.rs` prints results as text or
 //! JSON and loads the scene for a subcommand; `svg.rs` draws an envelope map.
 //!
@@ -18,6 +18,7 @@ pub(crate) mod clearance;
 mod device_sim;
 mod envelope;
 mod format;
+mod jog;
 mod plan;
 mod ports;
 pub(crate) mod pose; // shared with the editor's joint-controls test: one pulse rule
@@ -185,6 +186,21 @@ pub fn execute(command: &Command) -> Outcome {
             yes: *yes,
             json: *json,
         }),
+        Command::Jog {
+            file,
+            port,
+            simulated,
+            share_pct,
+            yes,
+        } => jog::run(
+            file,
+            &jog::JogRequest {
+                port: port.as_deref(),
+                simulated: *simulated,
+                share_pct: *share_pct,
+                yes: *yes,
+            },
+        ),
         Command::DeviceSim { channels } => device_sim::run(*channels),
         Command::Format { reference, .. } => format::run(*reference),
     }

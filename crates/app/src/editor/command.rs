@@ -202,6 +202,8 @@ pub enum Command {
     /// Something for the calibration panel: step the joint's pulse, record a point, look for
     /// the deadband, apply the fit (one undo step).
     Calibration(CalibrationCommand),
+    /// Follow and jog (`follow.rs`).
+    Follow(super::follow::FollowCommand),
 }
 
 impl Command {
@@ -552,6 +554,7 @@ pub fn apply(
         }
         Command::Playback(command) => playback::apply(state, command),
         Command::Calibration(command) => calibration::apply(state, command, outside),
+        Command::Follow(command) => super::follow::apply(state, command, outside),
     }
 }
 

@@ -20,6 +20,7 @@ use armwright_trajectory::ServoModelOptions;
 
 use super::estop::{StopLink, StopRequest};
 use crate::approach::stream_plan;
+use super::follow::{FollowAction, FollowRun, FollowView};
 use crate::scene::{Device, Scene, plan_of};
 
 /// Setpoints queued ahead of the device: a pause takes effect within this many periods.
@@ -60,6 +61,8 @@ pub enum LinkAction {
     Pause,
     /// Go on streaming from where the pause left off.
     Resume,
+    /// Follow: start, a new target or share, leave (`follow.rs`).
+    Follow(FollowAction),
     /// Hold one channel at a pulse width, every other channel at what the device sends now
     /// (for guided calibration).
     HoldChannel(ChannelPulse),
@@ -146,6 +149,8 @@ pub struct LinkView {
     /// The scene's arm changed since the simulated device was connected: it still moves the
     /// arm it was connected with.
     pub arm_changed: bool,
+    /// Where follow stands and the follower's pose.
+    pub follow: FollowView,
 }
 
 /// Something the worker reports; the editor turns messages into status lines.
@@ -309,6 +314,7 @@ enum Request {
     Resume,
     HoldChannel(ChannelPulse),
     Reset(ResetConfirmation),
+    Follow(Box<FollowAction>),
     /// The editor is going: drop the link (the device is asked to hold) and end.
     Quit,
 }
@@ -355,6 +361,8 @@ impl DeviceLink {
             rate_hz: 50.0,
             stream: None,
             waking: Waking::default(),
+            follow: None,
+            follows_ended: 0,
         };
         let handle = std::thread::Builder::new()
             .name("armwright device link".into())
@@ -476,6 +484,7 @@ impl DeviceLink {
             LinkAction::Pause => Request::Pause,
             LinkAction::Resume => Request::Resume,
             LinkAction::HoldChannel(pulse) => Request::HoldChannel(pulse),
+            LinkAction::Follow(action) => Request::Follow(Box::new(action)),
         };
         // The worker only ends when this handle is dropped.
         let _ = self.requests.send(request);
@@ -521,6 +530,7 @@ impl std::fmt::Debug for Request {
             Request::Resume => "Resume",
             Request::HoldChannel(_) => "HoldChannel",
             Request::Reset(_) => "Reset",
+            Request::Follow(_) => "Follow",
             Request::Quit => "Quit",
         })
     }
@@ -586,6 +596,10 @@ struct Worker {
     rate_hz: f64,
     stream: Option<Stream>,
     waking: Waking,
+    /// The follow run, while the device follows the edited pose.
+    follow: Option<FollowRun>,
+    /// Follow runs ended (left, stopped, lost, refused) since the worker started.
+    follows_ended: u64,
 }
 
 impl Worker {
@@ -602,7 +616,11 @@ impl Worker {
                     Err(TryRecvError::Disconnected) => return,
                 }
             } else {
-                match self.inbox.recv_timeout(self.waking.wait()) {
+                let wait = self
+                    .follow
+                    .as_ref()
+                    .map_or(self.waking.wait(), |run| run.wait().min(self.waking.wait()));
+                match self.inbox.recv_timeout(wait) {
                     Ok(request) => Some(request),
                     Err(RecvTimeoutError::Timeout) => None,
                     Err(RecvTimeoutError::Disconnected) => return,
@@ -614,6 +632,7 @@ impl Worker {
                 None => {}
             }
             self.push_one();
+            self.step_follow();
             self.take_events();
             self.publish();
         }
@@ -663,6 +682,7 @@ impl Worker {
             }
             Request::Resume => self.resume(),
             Request::HoldChannel(pulse) => self.hold_channel(&pulse),
+            Request::Follow(request) => self.follow_request(*request),
             Request::Quit => {}
             Request::Reset(confirmation) => {
                 if let Some(link) = &self.link {
@@ -764,6 +784,9 @@ impl Worker {
             .lock()
             .unwrap_or_else(PoisonError::into_inner) = None;
         self.stream = None;
+        if self.follow.take().is_some() {
+            self.follows_ended += 1;
+        }
         self.link = None;
         let mut published = self.lock();
         published.simulated = None;
@@ -1032,6 +1055,13 @@ impl Worker {
             _ => None,
         };
         let ended = self.stream.as_ref().and_then(|stream| stream.ended);
+        let follow = self.follow.as_ref().map_or_else(
+            || FollowView {
+                ended: self.follows_ended,
+                ..FollowView::default()
+            },
+            |run| run.view(self.follows_ended),
+        );
         let mut published = self
             .published
             .lock()
@@ -1039,6 +1069,7 @@ impl Worker {
         if published.view.stats != stats {
             published.view.stats = stats;
         }
+        published.view.follow = follow;
         if let Some(phase) = phase {
             published.view.phase = phase;
         }
@@ -1054,6 +1085,51 @@ impl Worker {
 
     fn say(&self, report: Report) {
         say(&self.published, report);
+    }
+
+    /// A follow request (`follow.rs`): refused while a stream runs or with no device.
+    fn follow_request(&mut self, request: FollowAction) {
+        let starting = matches!(request, FollowAction::Start { .. });
+        let streaming = self.stream.as_ref().is_some_and(|stream| {
+            matches!(
+                stream.phase,
+                StreamPhase::Streaming | StreamPhase::Pausing | StreamPhase::Paused
+            )
+        });
+        let refusal = match &self.link {
+            None => Some("cannot follow: no device is connected"),
+            Some(_) if starting && self.follow.is_none() && streaming => {
+                Some("cannot follow while a stream runs or is paused")
+            }
+            Some(_) => None,
+        };
+        if let Some(reason) = refusal {
+            if starting {
+                self.follows_ended += 1;
+                self.say(Report::Problem(reason.into()));
+            }
+            return;
+        }
+        let Some(link) = &self.link else { return };
+        let (report, ended) = super::follow::handle(&mut self.follow, request, link, self.rate_hz);
+        if ended {
+            self.follows_ended += 1;
+        }
+        if let Some(report) = report {
+            self.say(report);
+        }
+    }
+
+    /// Pushes the follow run's next steps; ends it when the link says so.
+    fn step_follow(&mut self) {
+        let (Some(run), Some(link)) = (&mut self.follow, &self.link) else {
+            return;
+        };
+        if let Some(end) = run.step(link) {
+            self.follow = None;
+            self.follows_ended += 1;
+            self.say(end.report());
+        }
     }
 
     fn with_view(&self, change: impl FnOnce(&mut LinkView)) {

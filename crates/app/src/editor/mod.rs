@@ -10,7 +10,8 @@
 //! `retime_job.rs` retiming on a worker thread; `arm_form.rs` the arm settings form's fields and
 //! typed text; `calibration.rs` guided calibration of one joint (pulse held, points, fit,
 //! deadband search); `dry_run_job.rs` plans the sequence and runs the dry run off the UI thread;
-//! `traces.rs` what the timeline plots; `dry_run_marks.rs` the contacts and unsettled stops the
+//! `traces.rs` what the timeline plots; `follow.rs` the connected device following the edited
+//! pose, and jog; `dry_run_marks.rs` the contacts and unsettled stops the
 //! views, the timeline and the sequence mark; `playback.rs` the timeline's cursor and playback;
 //! `panels/` one file per panel; `views/` the two to-scale views; `waypoint_name.rs` the names
 //! a stored waypoint gets. This file is the shell:
@@ -25,6 +26,7 @@ mod dry_run_job;
 mod dry_run_marks;
 mod estop;
 mod files;
+pub(crate) mod follow;
 mod history;
 mod panels;
 mod playback;
@@ -48,7 +50,11 @@ pub use device::{
 };
 pub use dry_run_marks::{ContactMark, DryRunMarks, Solid, UnsettledMark};
 pub use estop::{ChannelStopLink, STOP_KEY, STOP_KEY_NAME, StopLink, StopRequest};
+pub use follow::{
+    DEFAULT_FOLLOW_SHARE_PCT, FollowAction, FollowCommand, FollowPhase, FollowSettings, FollowView,
+};
 pub use panels::{ACKNOWLEDGE_LABEL, CAUTION, EMERGENCY_STOP_LABEL, MOVED_LABEL, NUDGE_KEYS};
+pub use panels::{FOLLOW_LABEL, JOG_BACK_KEY, JOG_KEYS, JOG_ON_KEY};
 pub use playback::{AtEnd, DryRunStatus, Playback, PlaybackCommand, SPEEDS, Timeline};
 pub use recovery::{Recovery, RecoveryCopy};
 pub use retime_job::{RetimeReport, RetimeRun, RetimeState, RunFigures, WaypointFigures};
@@ -375,6 +381,9 @@ impl Editor {
         }
         self.nudge(ctx, frame);
         self.calibration_keys(ctx, frame);
+        for command in panels::jog_keys(ctx, &self.state) {
+            self.apply(ctx, command, frame);
+        }
         for result in self.files.finished() {
             self.file_finished(ctx, result);
         }
@@ -402,6 +411,7 @@ impl Editor {
             self.apply(ctx, tick, frame);
             ctx.request_repaint_after(Duration::from_millis(100));
         }
+        follow::update(&mut self.state, &mut self.device);
         if self.mapped_arm.as_ref() != Some(&self.state.scene.arm) {
             if self.mapped_arm.is_some() {
                 // Maps of the old arm are wrong: drop them (a job still running for it reports
@@ -431,10 +441,16 @@ impl Editor {
             return;
         }
         let mut step_mm = [0.0; 3];
+        // While following, the nudge keys jog by the follow panel's tool step.
+        let unit = if self.state.follow.on {
+            self.state.follow.tool_step_mm
+        } else {
+            1.0
+        };
         ctx.input_mut(|input| {
             for (key, axis, direction) in NUDGES {
                 // Shift first: a pattern without Shift matches a key pressed with it too.
-                for (modifiers, mm) in [(Modifiers::SHIFT, 10.0), (Modifiers::NONE, 1.0)] {
+                for (modifiers, mm) in [(Modifiers::SHIFT, 10.0 * unit), (Modifiers::NONE, unit)] {
                     let presses = input.count_and_consume_key(modifiers, key) as f64;
                     step_mm[axis] += direction * mm * presses;
                 }
@@ -586,6 +602,7 @@ impl Editor {
                         (ToolsTab::Retime, "Retime"),
                         (ToolsTab::Arm, "Arm"),
                         (ToolsTab::Calibrate, "Calibrate"),
+                        (ToolsTab::Follow, "Follow"),
                     ] {
                         if ui
                             .selectable_label(self.state.tools_tab == tab, label)
@@ -605,6 +622,7 @@ impl Editor {
                         ToolsTab::Calibrate => {
                             panels::calibration(ui, &self.state, self.device.view())
                         }
+                        ToolsTab::Follow => panels::follow(ui, &self.state, self.device.view()),
                     })
                     .inner;
                 command.then(shown)
@@ -673,6 +691,9 @@ impl Editor {
 
     /// Applies one command, carrying out file and window work it leaves.
     pub fn apply(&mut self, ctx: &egui::Context, command: Command, frame: u64) {
+        if command == Command::StoreWaypoint {
+            follow::take_arm_pose(&mut self.state, &self.device);
+        }
         let mut outside = Vec::new();
         let mut stops = StopPair {
             first: &mut self.device_stop,

@@ -11,6 +11,7 @@ use armwright_kinematics::{
 
 use super::arm_form::ArmForm;
 use super::calibration::Calibrating;
+use super::follow::FollowSettings;
 use super::history::History;
 use super::playback::Playback;
 use super::retime_job::RetimeState;
@@ -71,6 +72,8 @@ pub enum ToolsTab {
     Arm,
     /// Guided calibration of one joint on the connected device.
     Calibrate,
+    /// Follow and jog: the connected device tracking the edited pose.
+    Follow,
 }
 
 /// Why the last drag of the tool point could or could not move the arm.
@@ -204,6 +207,8 @@ pub struct EditorState {
     pub playback: Playback,
     /// The calibration panel: the joint, the pulse held, the points read, the fit.
     pub calibration: Calibrating,
+    /// Follow and jog settings (the session's, not the scene's).
+    pub follow: FollowSettings,
 }
 
 /// Most messages kept.
@@ -240,6 +245,7 @@ impl EditorState {
             arm_form: ArmForm::default(),
             playback: Playback::default(),
             calibration: Calibrating::default(),
+            follow: FollowSettings::default(),
         };
         state.rebuild_arm();
         let start = state
@@ -267,6 +273,9 @@ impl EditorState {
         let messages = std::mem::take(&mut self.messages);
         let link_device = std::mem::replace(&mut self.link_device, Device::Simulated);
         let device_pose = self.device_pose.take();
+        // Follow's settings stay for the session; following the old scene's arm ends.
+        let mut follow = std::mem::take(&mut self.follow);
+        follow.on = false;
         let (stop, tools_tab, caution_acknowledged) =
             (self.stop, self.tools_tab, self.caution_acknowledged);
         *self = EditorState::new(scene, file_path);
@@ -276,6 +285,7 @@ impl EditorState {
         self.link_device = link_device;
         self.caution_acknowledged = caution_acknowledged;
         self.device_pose = device_pose;
+        self.follow = follow;
     }
 
     /// The arm model, when the scene's arm could be built.

@@ -6,12 +6,14 @@
 //! torque use), `sequence.rs` (waypoints), `timeline.rs` (plots against time, time cursor,
 //! playback), `status_bar.rs` (messages and cautions), `dialogs.rs` (questions shown over the
 //! window, never over the emergency stop); the tools panel's tabs `link.rs` (the device:
-//! connect, caution, stream, statistics), `retime.rs`, `arm_settings.rs` and `calibration.rs` (step
-//! a joint's pulse, record the positions read, the fit, the deadband search, apply).
+//! connect, caution, stream, statistics), `retime.rs`, `arm_settings.rs`, `calibration.rs` (step
+//! a joint's pulse, record the positions read, the fit, the deadband search, apply) and `follow.rs`
+//! (the Follow switch, its speed share, jog steps and keys).
 
 mod arm_settings;
 mod calibration;
 mod dialogs;
+mod follow;
 mod joint_controls;
 mod link;
 mod retime;
@@ -25,6 +27,7 @@ pub use arm_settings::arm_settings;
 pub(crate) use calibration::step_keys as calibration_step_keys;
 pub use calibration::{MOVED_LABEL, calibration};
 pub use dialogs::dialogs;
+pub use follow::{FOLLOW_LABEL, JOG_BACK_KEY, JOG_KEYS, JOG_ON_KEY, follow, jog_keys};
 pub use joint_controls::joint_controls;
 pub use link::{ACKNOWLEDGE_LABEL, link};
 pub use retime::retime;

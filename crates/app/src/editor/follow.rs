@@ -1,0 +1,594 @@
+//! Follow and jog: the connected device tracking the edited pose live, apart from drawing.
+//!
+//! The user's side ([`FollowSettings`] in the editor state, [`FollowCommand`]s from the follow
+//! panel and the jog keys) asks; the device link's worker thread does: it holds a
+//! [`FollowRun`] — the trajectory crate's [`Follower`] at the user's speed share, stepped once
+//! per link frame, each step turned into a setpoint by the link crate's `device_setpoints` (the
+//! one pulse rule) and pushed onto the link's stream, about 100 ms ahead of what the link
+//! has written (`AHEAD_TIME`), so the arm lags the edited pose by its own motion and that much.
+//! Every frame while following, [`update`] hands the edited pose (dragged, slid,
+//! jogged, jumped to a waypoint, or the timeline's cursor) to the worker as the new target.
+//!
+//! The emergency stop works as everywhere: the link drops the queue and latches, the run ends,
+//! and follow turns off. Turning follow off brings the arm to rest as soon as its limits allow
+//! and the device holds that pose. `armwright jog` drives the same [`FollowRun`] from a terminal.
+
+use std::time::Duration;
+
+use armwright_kinematics::Arm;
+use armwright_link::{DeviceInfo, Link, LinkError, LinkState, device_setpoints};
+use armwright_trajectory::{FollowJoint, Follower, Sample, limits_from_arm};
+
+use super::command::Outside;
+use super::device::{DeviceLink, LinkAction, Report};
+use super::state::{EditorState, Level, ReachStatus, StopState};
+use crate::scene::{GripperState, Scene, limit_settings_of, servo_model_of};
+
+/// How far ahead of what the link has written a follow run keeps setpoints queued, s: enough
+/// to ride out a busy host for 100 ms (two to five frames at the usual rates; the arm lags
+/// the edited pose by this much more).
+const AHEAD_TIME: f64 = 0.1;
+
+/// The speed share follow starts at, % (low, so a first follow is slow).
+pub const DEFAULT_FOLLOW_SHARE_PCT: f64 = 10.0;
+
+/// The range of the follow speed share, %.
+pub const FOLLOW_SHARE_RANGE_PCT: (f64, f64) = (1.0, 100.0);
+
+/// What the user set for follow and jog; part of the editor state, not saved with the scene.
+#[derive(Debug, Clone, PartialEq)]
+pub struct FollowSettings {
+    /// The follow switch: the user wants the device to follow the edited pose. Off when the
+    /// editor opens.
+    pub on: bool,
+    /// Share of each joint's limits follow may use, %.
+    pub share_pct: f64,
+    /// The joint the joint-jog keys move, index in chain order.
+    pub jog_joint: usize,
+    /// One joint-jog step: degrees for a revolute joint, mm for a sliding one.
+    pub joint_step: f64,
+    /// One tool-point jog step while following, mm (the nudge keys; × 10 with Shift).
+    pub tool_step_mm: f64,
+    /// The pose and gripper last handed to the worker as the target.
+    sent: Option<(Vec<f64>, bool)>,
+    /// Follow runs the worker reported ended, as last seen.
+    ended_seen: u64,
+    /// The worker was asked to leave the run it shows.
+    leave_sent: bool,
+}
+
+impl Default for FollowSettings {
+    /// Off, 10 %, joint 0, 1° (or 1 mm) and 1 mm steps.
+    fn default() -> FollowSettings {
+        FollowSettings {
+            on: false,
+            share_pct: DEFAULT_FOLLOW_SHARE_PCT,
+            jog_joint: 0,
+            joint_step: 1.0,
+            tool_step_mm: 1.0,
+            sent: None,
+            ended_seen: 0,
+            leave_sent: false,
+        }
+    }
+}
+
+/// What the follow panel and the jog keys ask for.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum FollowCommand {
+    /// Turn follow on or off.
+    Switch(bool),
+    /// Set the follow speed share, %.
+    SharePct(f64),
+    /// Choose the joint the joint-jog keys move.
+    JogJoint(usize),
+    /// Set the joint-jog step (degrees, or mm for a sliding joint).
+    JointStep(f64),
+    /// Set the tool-point jog step, mm.
+    ToolStepMm(f64),
+    /// Move the chosen joint by this many steps (negative: back).
+    Jog(f64),
+}
+
+/// Applies a follow command to the state; turning follow on or off and a new share go to the
+/// device link's worker through `outside`.
+pub(crate) fn apply(state: &mut EditorState, command: FollowCommand, outside: &mut Vec<Outside>) {
+    match command {
+        FollowCommand::Switch(true) if !state.follow.on => match start_action(state) {
+            Err(reason) => state.say(Level::Warning, reason),
+            Ok(action) => {
+                state.follow.on = true;
+                state.follow.sent = None;
+                state.follow.leave_sent = false;
+                outside.push(Outside::Link(LinkAction::Follow(action)));
+            }
+        },
+        FollowCommand::Switch(false) => state.follow.on = false,
+        FollowCommand::Switch(_) => {}
+        FollowCommand::SharePct(pct) => {
+            if pct.is_finite() {
+                let (low, high) = FOLLOW_SHARE_RANGE_PCT;
+                state.follow.share_pct = pct.clamp(low, high);
+                if state.follow.on {
+                    outside.push(Outside::Link(LinkAction::Follow(FollowAction::Share(
+                        state.follow.share_pct / 100.0,
+                    ))));
+                }
+            }
+        }
+        FollowCommand::JogJoint(joint) => {
+            if joint < state.pose.len() {
+                state.follow.jog_joint = joint;
+            }
+        }
+        FollowCommand::JointStep(step) => {
+            if step.is_finite() {
+                state.follow.joint_step = step.clamp(0.01, 90.0);
+            }
+        }
+        FollowCommand::ToolStepMm(step) => {
+            if step.is_finite() {
+                state.follow.tool_step_mm = step.clamp(0.01, 100.0);
+            }
+        }
+        FollowCommand::Jog(steps) => {
+            let joint = state.follow.jog_joint;
+            if let Some(&now) = state.pose.get(joint)
+                && steps.is_finite()
+            {
+                // Degrees → rad for a revolute joint, mm → m for a sliding one.
+                let step = if state.is_prismatic(joint) {
+                    state.follow.joint_step * 1e-3
+                } else {
+                    state.follow.joint_step.to_radians()
+                };
+                state.pose[joint] = state.clamp_to_limits(joint, now + steps * step);
+                state.branch = None;
+                state.branch_choices.clear();
+                state.reach = ReachStatus::Idle;
+                state.pose_changed();
+            }
+        }
+    }
+}
+
+/// The worker's start request from the state, or why follow cannot start.
+fn start_action(state: &EditorState) -> Result<FollowAction, String> {
+    if !state.caution_acknowledged {
+        return Err("read and acknowledge the caution before the device follows".into());
+    }
+    if matches!(state.stop, StopState::Latched { .. }) {
+        return Err("the emergency stop is latched: check the arm and reset the stop first".into());
+    }
+    let arm = state
+        .arm
+        .as_ref()
+        .ok_or("cannot follow: the scene's arm cannot be built")?;
+    let joints = follow_joints(&state.scene, arm, &state.pose)?;
+    Ok(FollowAction::Start {
+        arm: Box::new(arm.clone()),
+        joints,
+        share: state.follow.share_pct / 100.0,
+        edited: state.pose.clone(),
+        gripper_closed: state.gripper == GripperState::Closed,
+    })
+}
+
+/// Every frame: hands the edited pose to the worker as the target while following, turns
+/// follow off when the worker ended the run (stop, lost link, refusal) or a stop is latched,
+/// and asks the worker to leave a run it shows once follow is off.
+pub(crate) fn update(state: &mut EditorState, device: &mut DeviceLink) {
+    let view = &device.view().follow;
+    if view.ended > state.follow.ended_seen {
+        state.follow.ended_seen = view.ended;
+        state.follow.on = false;
+    }
+    if state.follow.on && matches!(state.stop, StopState::Latched { .. }) {
+        state.follow.on = false;
+    }
+    if !state.follow.on {
+        state.follow.sent = None;
+        if view.phase == FollowPhase::Following && !state.follow.leave_sent {
+            state.follow.leave_sent = true;
+            device.request(
+                LinkAction::Follow(FollowAction::Leave),
+                &state.scene,
+                state.arm.as_ref(),
+                &state.pose,
+            );
+        }
+        return;
+    }
+    let wanted = (state.pose.clone(), state.gripper == GripperState::Closed);
+    if state.follow.sent.as_ref() != Some(&wanted) {
+        device.request(
+            LinkAction::Follow(FollowAction::Target {
+                pose: wanted.0.clone(),
+                gripper_closed: wanted.1,
+            }),
+            &state.scene,
+            state.arm.as_ref(),
+            &state.pose,
+        );
+        state.follow.sent = Some(wanted);
+    }
+}
+
+/// Before "Store pose" while the device follows: the edited pose becomes what the arm is
+/// doing — the follower's pose now — so that pose is what is stored.
+pub(crate) fn take_arm_pose(state: &mut EditorState, device: &DeviceLink) {
+    let view = &device.view().follow;
+    if state.follow.on
+        && view.phase == FollowPhase::Following
+        && view.positions.len() == state.pose.len()
+    {
+        state.pose.clone_from(&view.positions);
+        state.branch = None;
+        state.branch_choices.clear();
+        state.pose_changed();
+    }
+}
+
+/// What the editor asks of the device link's worker about follow.
+#[derive(Debug, Clone, PartialEq)]
+pub enum FollowAction {
+    /// Start following.
+    Start {
+        /// The arm the setpoints are made for.
+        arm: Box<Arm>,
+        /// The follower's joints: limits at 100 %, servo speeds, travel.
+        joints: Vec<FollowJoint>,
+        /// Speed share, (0, 1].
+        share: f64,
+        /// Where to start when the device cannot say where it is (a limp servo), rad or m.
+        edited: Vec<f64>,
+        /// Whether the gripper is closed.
+        gripper_closed: bool,
+    },
+    /// Follow this pose now (rad or m per joint).
+    Target {
+        /// The pose.
+        pose: Vec<f64>,
+        /// Whether the gripper is closed.
+        gripper_closed: bool,
+    },
+    /// A new speed share, (0, 1].
+    Share(f64),
+    /// Come to rest and hold; follow ends.
+    Leave,
+}
+
+/// The follower's joints for `arm` in `scene`: the limits a plan takes (the scene's derating and
+/// joint limits, gravity at `pose` and at home), each servo's no-load speed and joint travel.
+///
+/// # Errors
+/// A sentence naming the joint a servo cannot hold.
+pub(crate) fn follow_joints(
+    scene: &Scene,
+    arm: &Arm,
+    pose: &[f64],
+) -> Result<Vec<FollowJoint>, String> {
+    let poses = [pose.to_vec(), arm.home_pose()];
+    let limits = limits_from_arm(
+        arm,
+        &poses,
+        arm.payload_mass(),
+        &limit_settings_of(scene),
+        &servo_model_of(scene),
+    )
+    .map_err(|error| format!("cannot follow: {error}"))?;
+    FollowJoint::of_arm(arm, &limits).map_err(|error| format!("cannot follow: {error}"))
+}
+
+/// Where a follow run stands, as the editor shows it.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum FollowPhase {
+    /// No follow run.
+    #[default]
+    Off,
+    /// The device follows the edited pose.
+    Following,
+    /// Follow was turned off: the arm is coming to rest, then the device holds.
+    Leaving,
+}
+
+/// What the worker publishes about follow, once a turn.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct FollowView {
+    /// Where follow stands.
+    pub phase: FollowPhase,
+    /// The follower's pose now (rad or m per joint): what the arm is being sent.
+    pub positions: Vec<f64>,
+    /// The speed share in use, (0, 1].
+    pub share: f64,
+    /// Follow runs that ended (left, stopped, lost or refused) since the link worker started.
+    pub ended: u64,
+}
+
+/// How a follow run ended.
+#[derive(Debug, Clone, PartialEq)]
+pub(crate) enum FollowEnd {
+    /// Follow was left: the arm came to rest and the device holds.
+    Left,
+    /// The emergency stop ended it; the device holds until reset.
+    Stopped,
+    /// The link was lost.
+    Lost(String),
+    /// A setpoint could not be made or pushed.
+    Failed(String),
+}
+
+impl FollowEnd {
+    /// The editor's message for this end.
+    pub(crate) fn report(&self) -> Report {
+        match self {
+            FollowEnd::Left => {
+                Report::Info("follow is off: the arm came to rest and the device holds".into())
+            }
+            FollowEnd::Stopped => Report::Problem("follow ended by the emergency stop".into()),
+            FollowEnd::Lost(why) => Report::Problem(format!("follow ended: link lost: {why}")),
+            FollowEnd::Failed(why) => Report::Problem(format!("follow ended: {why}")),
+        }
+    }
+}
+
+/// One follow run on an open link: the follower, the arm it converts through, and how far
+/// ahead of the link it is.
+#[derive(Debug)]
+pub(crate) struct FollowRun {
+    follower: Follower,
+    arm: Arm,
+    device: DeviceInfo,
+    gripper_closed: bool,
+    /// Setpoints pushed in this run.
+    pushed: u64,
+    /// The link's count of setpoints written when this run started.
+    sent_before: u64,
+    leaving: bool,
+    /// The arm is at rest and the stream was told to finish: hold once the link is idle.
+    finishing: bool,
+}
+
+impl FollowRun {
+    /// Starts following on `link` at `share` (0, 1] with one follower step per link frame
+    /// (`rate_hz`). The follower starts where the device says it is sending; when it cannot
+    /// say, or a joint's servo is limp, it starts at `edited` — and the returned note says
+    /// that a limp servo jumps to its first pulse.
+    ///
+    /// # Errors
+    /// A sentence saying why: the stop is latched, the link is lost or busy, bad limits.
+    pub(crate) fn start(
+        link: &Link,
+        arm: Arm,
+        joints: &[FollowJoint],
+        share: f64,
+        edited: &[f64],
+        gripper_closed: bool,
+        rate_hz: f64,
+    ) -> Result<(FollowRun, Option<String>), String> {
+        let device = link.device();
+        // What the device sends now, not what it sent at connect.
+        let _ = link.refresh_state();
+        let reported = link.device_output().and_then(|output| {
+            let pulses = output.pulses()?;
+            arm.joints()
+                .iter()
+                .enumerate()
+                .map(|(index, joint)| {
+                    let units = *pulses.as_slice().get(index)?;
+                    Some(joint.calibration.position(device.us_from_units(units)))
+                })
+                .collect::<Option<Vec<f64>>>()
+        });
+        let note = match reported {
+            Some(_) => None,
+            None => Some(
+                "the device cannot say where every joint is (a limp servo): following starts \
+                 from the edited pose, and a limp servo jumps to its first pulse at its own top \
+                 speed"
+                    .to_owned(),
+            ),
+        };
+        let start = reported.unwrap_or_else(|| edited.to_vec());
+        let follower = Follower::new(joints, &start, share, 1.0 / rate_hz)
+            .map_err(|error| format!("cannot follow: {error}"))?;
+        link.start_stream().map_err(|error| match error {
+            LinkError::StopLatched => {
+                "cannot follow: the emergency stop is latched; check the arm and reset it".into()
+            }
+            other => format!("cannot follow: {other}"),
+        })?;
+        let sent_before = link.stats().frames_sent;
+        Ok((
+            FollowRun {
+                follower,
+                arm,
+                device,
+                gripper_closed,
+                pushed: 0,
+                sent_before,
+                leaving: false,
+                finishing: false,
+            },
+            note,
+        ))
+    }
+
+    /// Follow `pose` (rad or m per joint) with the gripper open or closed. Cancels leaving.
+    ///
+    /// # Errors
+    /// The follower's reason (wrong joint count, a position that is not a number).
+    pub(crate) fn set_target(&mut self, pose: &[f64], gripper_closed: bool) -> Result<(), String> {
+        self.follower
+            .set_target(pose)
+            .map_err(|error| format!("cannot follow that pose: {error}"))?;
+        self.gripper_closed = gripper_closed;
+        if !self.finishing {
+            self.leaving = false;
+        }
+        Ok(())
+    }
+
+    /// A new speed share, (0, 1].
+    ///
+    /// # Errors
+    /// A share outside (0, 1].
+    pub(crate) fn set_share(&mut self, share: f64) -> Result<(), String> {
+        self.follower
+            .set_share(share)
+            .map_err(|error| format!("follow: {error}"))
+    }
+
+    /// Bring the arm to rest as soon as its limits allow, then hold; the run then ends.
+    pub(crate) fn leave(&mut self) {
+        self.follower.halt();
+        self.leaving = true;
+    }
+
+    /// The follower's pose now (rad or m per joint).
+    pub(crate) fn positions(&self) -> &[f64] {
+        self.follower.positions()
+    }
+
+    /// Whether the arm is at rest on the pose it follows.
+    pub(crate) fn at_rest(&self) -> bool {
+        self.follower.at_rest_on_target()
+    }
+
+    /// How long the owner may wait before the next [`FollowRun::step`]: a quarter frame.
+    pub(crate) fn wait(&self) -> Duration {
+        Duration::from_secs_f64(self.follower.period() / 4.0)
+    }
+
+    /// What the editor shows of this run.
+    pub(crate) fn view(&self, ended: u64) -> FollowView {
+        FollowView {
+            phase: if self.leaving {
+                FollowPhase::Leaving
+            } else {
+                FollowPhase::Following
+            },
+            positions: self.follower.positions().to_vec(),
+            share: self.follower.share(),
+            ended,
+        }
+    }
+
+    /// Pushes follower steps while fewer than `AHEAD_TIME` of setpoints wait on the link. Returns how
+    /// the run ended, once it did.
+    pub(crate) fn step(&mut self, link: &Link) -> Option<FollowEnd> {
+        let stats = link.stats();
+        match stats.state {
+            LinkState::Stopping | LinkState::Stopped | LinkState::Resetting => {
+                return Some(FollowEnd::Stopped);
+            }
+            LinkState::Lost => {
+                return Some(FollowEnd::Lost(
+                    stats
+                        .loss
+                        .map_or_else(|| "no reason given".into(), |loss| loss.to_string()),
+                ));
+            }
+            LinkState::Idle if self.finishing => {
+                let _ = link.hold();
+                return Some(FollowEnd::Left);
+            }
+            LinkState::Idle => {
+                return Some(FollowEnd::Failed("the link stopped streaming".into()));
+            }
+            LinkState::Streaming if self.finishing => return None,
+            LinkState::Streaming => {}
+        }
+        let written = stats.frames_sent.saturating_sub(self.sent_before);
+        // Within the link's queue of 8 (the editor's and `jog`'s), so a push never waits.
+        let ahead = ((AHEAD_TIME / self.follower.period()).ceil() as u64).clamp(2, 7);
+        while self.pushed < written + ahead {
+            if self.leaving && self.pushed > 0 && self.follower.at_rest_on_target() {
+                self.finishing = true;
+                if let Err(error) = link.finish_stream() {
+                    return Some(FollowEnd::Failed(error.to_string()));
+                }
+                return None;
+            }
+            let sample = Sample {
+                time: self.pushed as f64 * self.follower.period(),
+                positions: self.follower.tick().to_vec(),
+                gripper_closed: self.gripper_closed,
+            };
+            let setpoint = match device_setpoints(&self.arm, [sample], &self.device) {
+                Ok(converted) => converted.values.into_iter().next(),
+                Err(error) => return Some(FollowEnd::Failed(error.to_string())),
+            };
+            let Some(values) = setpoint else {
+                return Some(FollowEnd::Failed("no setpoint was made".into()));
+            };
+            match link.push_setpoint(values) {
+                Ok(()) => self.pushed += 1,
+                Err(LinkError::StopLatched) => return Some(FollowEnd::Stopped),
+                Err(LinkError::Lost(loss)) => return Some(FollowEnd::Lost(loss.to_string())),
+                Err(other) => return Some(FollowEnd::Failed(other.to_string())),
+            }
+        }
+        None
+    }
+}
+
+/// The worker's side of a follow request: starts, retargets, reshares or leaves the run in
+/// `run` on `link`. Returns what to tell the user, and whether a run ended (was refused).
+pub(crate) fn handle(
+    run: &mut Option<FollowRun>,
+    action: FollowAction,
+    link: &Link,
+    rate_hz: f64,
+) -> (Option<Report>, bool) {
+    match action {
+        FollowAction::Start {
+            arm,
+            joints,
+            share,
+            edited,
+            gripper_closed,
+        } => {
+            if let Some(running) = run {
+                // Turned off and on again while coming to rest: carry on following.
+                let _ = running.set_share(share);
+                return (None, false);
+            }
+            match FollowRun::start(link, *arm, &joints, share, &edited, gripper_closed, rate_hz) {
+                Ok((started, note)) => {
+                    *run = Some(started);
+                    let text = format!(
+                        "the device follows the edited pose at {:.0} % of the joints' limits",
+                        share * 100.0
+                    );
+                    let report = match note {
+                        Some(note) => Report::Problem(format!("{text}; {note}")),
+                        None => Report::Info(text),
+                    };
+                    (Some(report), false)
+                }
+                Err(reason) => (Some(Report::Problem(reason)), true),
+            }
+        }
+        FollowAction::Target {
+            pose,
+            gripper_closed,
+        } => match run {
+            Some(running) => match running.set_target(&pose, gripper_closed) {
+                Ok(()) => (None, false),
+                Err(reason) => (Some(Report::Problem(reason)), false),
+            },
+            None => (None, false),
+        },
+        FollowAction::Share(share) => match run {
+            Some(running) => (running.set_share(share).err().map(Report::Problem), false),
+            None => (None, false),
+        },
+        FollowAction::Leave => {
+            if let Some(running) = run {
+                running.leave();
+            }
+            (None, false)
+        }
+    }
+}
