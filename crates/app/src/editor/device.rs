@@ -13,8 +13,8 @@ use std::time::{Duration, Instant};
 use armwright_kinematics::{Arm, JointKind};
 use armwright_link::{
     ChannelValues, DeviceInfo, EmergencyStop, Link, LinkError, LinkEvent, PortSummary,
-    ResetConfirmation, SerialTransport, SimDevice, SimDeviceConfig, SimTransport, StreamOptions,
-    StreamStats, Transport, device_setpoints, list_ports,
+    ReadingsSource, ResetConfirmation, SerialTransport, SimDevice, SimDeviceConfig, SimTransport,
+    StreamOptions, StreamStats, Transport, device_setpoints, list_ports,
 };
 use armwright_trajectory::ServoModelOptions;
 
@@ -56,6 +56,18 @@ pub enum LinkAction {
     Pause,
     /// Go on streaming from where the pause left off.
     Resume,
+    /// Ask the device for its analog readings (the scene maps inputs) or stop them; kept for
+    /// devices connected later too.
+    Readings(bool),
+}
+
+/// What the editor's simulated device's analog inputs read: six inputs sweeping slowly, so that
+/// the input arm and capturing can be tried with no hardware (`editor/capture.rs`).
+fn simulated_inputs() -> ReadingsSource {
+    ReadingsSource::Scripted {
+        inputs: 6,
+        period: Duration::from_secs(8),
+    }
 }
 
 /// Where a stream stands, as the link panel shows it.
@@ -287,6 +299,7 @@ enum Request {
     },
     Pause,
     Resume,
+    Readings(bool),
     Reset(ResetConfirmation),
     /// The editor is going: drop the link (the device is asked to hold) and end.
     Quit,
@@ -332,6 +345,7 @@ impl DeviceLink {
             stop: Arc::clone(&stop),
             link: None,
             rate_hz: 50.0,
+            readings: false,
             stream: None,
             waking: Waking::default(),
         };
@@ -454,6 +468,7 @@ impl DeviceLink {
             },
             LinkAction::Pause => Request::Pause,
             LinkAction::Resume => Request::Resume,
+            LinkAction::Readings(wanted) => Request::Readings(wanted),
         };
         // The worker only ends when this handle is dropped.
         let _ = self.requests.send(request);
@@ -497,6 +512,7 @@ impl std::fmt::Debug for Request {
             Request::Stream { .. } => "Stream",
             Request::Pause => "Pause",
             Request::Resume => "Resume",
+            Request::Readings(_) => "Readings",
             Request::Reset(_) => "Reset",
             Request::Quit => "Quit",
         })
@@ -561,6 +577,8 @@ struct Worker {
     stop: Arc<StopShared>,
     link: Option<Link>,
     rate_hz: f64,
+    /// Whether the editor wants analog readings (see [`LinkAction::Readings`]).
+    readings: bool,
     stream: Option<Stream>,
     waking: Waking,
 }
@@ -639,6 +657,10 @@ impl Worker {
                 }
             }
             Request::Resume => self.resume(),
+            Request::Readings(wanted) => {
+                self.readings = wanted;
+                self.ask_readings();
+            }
             Request::Quit => {}
             Request::Reset(confirmation) => {
                 if let Some(link) = &self.link {
@@ -671,7 +693,8 @@ impl Worker {
         let mut simulated = None;
         let (name, transport): (String, Result<Box<dyn Transport>, String>) = match device {
             Device::Simulated => {
-                let mut device = SimDevice::new(SimDeviceConfig::default());
+                let mut device =
+                    SimDevice::new(SimDeviceConfig::default()).with_readings(simulated_inputs());
                 if let Some(arm) = arm {
                     match device.clone().with_arm(arm, servo, start) {
                         Ok(with_arm) => device = with_arm,
@@ -716,6 +739,7 @@ impl Worker {
                 drop(handle);
                 let info = link.device();
                 self.link = Some(link);
+                self.ask_readings();
                 let mut published = self.lock();
                 published.simulated = simulated;
                 published.view.connection = Some(Connection {
@@ -730,6 +754,25 @@ impl Worker {
             Err(error) => self.say(Report::Problem(format!(
                 "cannot connect to {name}: {error}"
             ))),
+        }
+    }
+
+    /// Asks the link for analog readings at [`super::capture::EDITOR_READINGS_HZ`], or for none,
+    /// as the editor wants; a device that cannot send them is left alone (nothing to show).
+    fn ask_readings(&mut self) {
+        let Some(link) = &self.link else { return };
+        if link.device().protocol_version < 3 {
+            return;
+        }
+        let rate = if self.readings {
+            super::capture::EDITOR_READINGS_HZ
+        } else {
+            0
+        };
+        if let Err(error) = link.request_readings(rate) {
+            self.say(Report::Problem(format!(
+                "cannot read the analog inputs: {error}"
+            )));
         }
     }
 
