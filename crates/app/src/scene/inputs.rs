@@ -55,8 +55,8 @@ impl InputMap {
 
     /// The pose `readings` (input 0 first, 0–4095) give: each mapped joint at its fitted
     /// position, every other joint at its value in `base` (file units: degrees or mm, one per
-    /// joint). Positions are not limited to the joints' limits; see
-    /// [`InputMap::outside_limits`].
+    /// joint). Positions are not limited to the joints' limits: callers compare them with the
+    /// joints' `min` and `max` (`capture` reports those outside, the editor holds them there).
     pub fn pose(&self, readings: &[u16], base: &[f64]) -> InputPose {
         let mut joints_deg_or_mm = base.to_vec();
         let mut unread = Vec::new();
