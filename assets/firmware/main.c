@@ -3,18 +3,21 @@
  * Speaks the line protocol of crates/link/PROTOCOL.md at 115 200 baud, drives six joint
  * servos and a gripper servo with pulses timed from Timer1 (pulse_train.c), holds the arm
  * when the host falls silent for 250 ms, clamps pulse widths to 500–2500 µs, latches the
- * emergency stop until a reset, counts and reports bad input.
+ * emergency stop until a reset, counts and reports bad input, and sends the readings of six
+ * analog inputs (analog_inputs.c) at the rate the host asks for.
  *
  * A software stop is not a safety device. See README.md. */
 #include <avr/interrupt.h>
 #include <avr/io.h>
 
+#include "analog_inputs.h"
 #include "line_protocol.h"
 #include "pulse_train.h"
 #include "serial.h"
 
-#define FIRMWARE_VERSION "0.2.0"
-#define PROTOCOL_NEWEST 2u /* 2 adds the output query */
+#define FIRMWARE_VERSION "0.3.0"
+#define PROTOCOL_NEWEST 3u /* 2 adds the output query, 3 the readings rate */
+#define READINGS_MAX_HZ 100
 #define WATCHDOG_MS 250u
 #define STATUS_GAP_MS 20u /* at most one status line per frame */
 
@@ -40,6 +43,13 @@ static uint8_t status_sent_once;
 static uint16_t last_status_ms;
 static uint16_t last_good_ms;
 static uint8_t tx_seq;
+
+/* Readings lines: the rate the host asked for (0: none), when the next one is due, and the
+ * milliseconds left over from 1000 / rate, so that line k goes out k / rate s after the
+ * request on average whatever the rate. */
+static uint8_t readings_hz;
+static uint16_t readings_due_ms;
+static uint8_t readings_rest;
 
 /* Timer0 in clear-on-compare mode: 16 MHz / 64 / 250 = one interrupt a millisecond. */
 static void clock_init(void) {
@@ -129,6 +139,37 @@ static void send_output(void) {
         }
     }
     send(&line);
+}
+
+/* Every input's newest reading, 3 hex digits each. */
+static void send_readings(void) {
+    struct line_out line;
+    uint16_t readings[ANALOG_INPUTS];
+    analog_inputs_read(readings);
+    line_start(&line, 'V', tx_seq++);
+    line_put(&line, ':');
+    for (uint8_t i = 0; i < ANALOG_INPUTS; i++) {
+        line_put_hex(&line, readings[i], 3);
+    }
+    send(&line);
+}
+
+/* Sends the readings line that is due, then moves the due time on by one period, past now:
+ * a loop held up for longer than a period sends the newest line only, never a burst. */
+static void send_readings_due(uint16_t now) {
+    if (readings_hz == 0 || (int16_t)(now - readings_due_ms) < 0) {
+        return;
+    }
+    send_readings();
+    do {
+        uint16_t step = (uint16_t)(1000u / readings_hz);
+        readings_rest = (uint8_t)(readings_rest + 1000u % readings_hz);
+        if (readings_rest >= readings_hz) {
+            readings_rest = (uint8_t)(readings_rest - readings_hz);
+            step++;
+        }
+        readings_due_ms = (uint16_t)(readings_due_ms + step);
+    } while ((int16_t)(now - readings_due_ms) >= 0);
 }
 
 static void send_status(void) {
@@ -272,8 +313,22 @@ static void on_line(const uint8_t *bytes, uint8_t len) {
             return;
         }
         last_good_ms = now_ms();
+        readings_hz = 0; /* a new host starts without readings until it asks */
         send_ack(line.seq, "ok");
         send_greeting((uint8_t)(version < (int32_t)PROTOCOL_NEWEST ? version : PROTOCOL_NEWEST));
+        return;
+    }
+    if (line.kind == 'r') {
+        int32_t rate = parse_decimal(line.body, line.body_len);
+        if (rate < 0 || rate > READINGS_MAX_HZ) {
+            count_bad_line();
+            return;
+        }
+        last_good_ms = now_ms();
+        readings_hz = (uint8_t)rate;
+        readings_due_ms = last_good_ms;
+        readings_rest = 0;
+        send_ack(line.seq, "ok");
         return;
     }
     if (line.body_len != 0 || (line.kind != 'k' && line.kind != 'l' && line.kind != 'x' &&
@@ -334,6 +389,7 @@ int main(void) {
     clock_init();
     pulse_train_init();
     serial_init();
+    analog_inputs_init();
     sei();
     send_greeting(PROTOCOL_NEWEST);
 
@@ -359,6 +415,7 @@ int main(void) {
             count_bad_line();
             flag(FAULT_OVERFLOW);
         }
+        analog_inputs_poll();
         uint16_t now = now_ms();
         if (mode == MODE_DRIVING && (uint16_t)(now - last_good_ms) >= WATCHDOG_MS) {
             pulse_train_hold();
@@ -373,5 +430,6 @@ int main(void) {
             last_status_ms = now;
             send_status();
         }
+        send_readings_due(now);
     }
 }

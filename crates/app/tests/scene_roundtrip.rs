@@ -253,6 +253,25 @@ fn scene(values: &[f64], description: String, port: String, rounded: bool) -> Sc
             })
         })
         .collect();
+    // Up to one input per joint, on distinct inputs, each with 2 to 5 points.
+    let mut inputs = Vec::new();
+    for (index, joint) in joints.iter().enumerate() {
+        if draw.unit() >= 0.3 {
+            continue;
+        }
+        let mut points = Vec::new();
+        for point in 0..draw.count(2, 5) {
+            points.push(InputPointDoc {
+                reading: 800 * point as u32 + draw.pulse(0, 700),
+                position: draw.range(-90.0, 90.0),
+            });
+        }
+        inputs.push(InputDoc {
+            input: index as u32,
+            joint: joint.name.clone(),
+            points,
+        });
+    }
     Scene {
         description,
         arm: ArmDoc {
@@ -303,6 +322,7 @@ fn scene(values: &[f64], description: String, port: String, rounded: bool) -> Sc
             baud: draw.pulse(1200, 1_000_000),
             rate_hz: draw.range(50.0, 500.0),
         },
+        inputs,
     }
 }
 

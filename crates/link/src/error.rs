@@ -113,6 +113,21 @@ pub enum LinkError {
         /// The setpoint's.
         got: usize,
     },
+    /// Analog readings were asked of a device that cannot send them.
+    #[error(
+        "the device speaks protocol {protocol_version} and cannot send analog readings \
+         (they need protocol 3: reference firmware 0.3.0 or newer)"
+    )]
+    NoReadings {
+        /// The link's protocol version.
+        protocol_version: u8,
+    },
+    /// A readings rate above the protocol's limit.
+    #[error("readings rate {rate_hz} Hz is above the protocol's 100 Hz")]
+    ReadingsRate {
+        /// The rate asked for, in lines a second.
+        rate_hz: u8,
+    },
     /// The emergency stop is latched; streaming is refused until a confirmed reset.
     #[error("emergency stop is latched; reset it (after checking the arm) before streaming")]
     StopLatched,

@@ -21,6 +21,7 @@ mod pulse; // joint position → pulse width through the calibration, rounding a
 mod setpoints; // a plan's samples → device setpoints, for streaming
 mod sim_arm; // the arm as the simulated device moves it: pulses → servo model, frame by frame
 mod sim_device; // in-process simulated device with watchdog, clamping and stop latch
+mod sim_readings; // the simulated device's analog readings: a recording or a scripted motion
 mod stream; // streaming thread: schedule, flow control, stop path, link watch, statistics
 
 pub use crate::error::{LinkError, LinkLoss};
@@ -31,8 +32,9 @@ pub use crate::port::{PortSummary, SerialTransport, SimTransport, Transport, Usb
 pub use crate::protocol::{
     Ack, AckOutcome, Assembled, ChannelOutput, ChannelValues, DeviceInfo, DeviceLine,
     DeviceMessage, DeviceMode, DeviceStatus, Faults, FirmwareVersion, HostLine, HostMessage,
-    LineAssembler, LineBuf, LineErrorKind, MAX_CHANNELS, MAX_LINE_LEN, OLDEST_PROTOCOL_VERSION,
-    PROTOCOL_VERSION, ParseLineError, crc16_ccitt_false, setpoint_capacity_hz, setpoint_line_len,
+    LineAssembler, LineBuf, LineErrorKind, MAX_CHANNELS, MAX_LINE_LEN, MAX_READINGS_RATE_HZ,
+    OLDEST_PROTOCOL_VERSION, PROTOCOL_VERSION, ParseLineError, READING_FULL_SCALE,
+    crc16_ccitt_false, setpoint_capacity_hz, setpoint_line_len,
 };
 pub use crate::pulse::{
     ArmSetpoint, JointPulse, PulseError, arm_setpoint, gripper_pulse, joint_pulse,
@@ -42,4 +44,7 @@ pub use crate::setpoints::{
 };
 pub use crate::sim_arm::SimArmError;
 pub use crate::sim_device::{SimDevice, SimDeviceConfig};
+pub use crate::sim_readings::{
+    ReadingsRecording, ReadingsSource, RecordingError, SCRIPTED_AMPLITUDE,
+};
 pub use crate::stream::{DeviceState, Link, LinkEvent, LinkState, StreamOptions, StreamStats};

@@ -14,6 +14,7 @@ use crate::protocol::{
     LineAssembler, LineBuf, PROTOCOL_VERSION,
 };
 use crate::sim_arm::{SimArm, SimArmError};
+use crate::sim_readings::ReadingsSource;
 
 /// How a simulated device is built: what it announces and its timing.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -32,14 +33,14 @@ pub struct SimDeviceConfig {
     pub watchdog: Duration,
     /// Lines the input queue holds.
     pub queue_capacity: u8,
-    /// Newest protocol version the device speaks: 2, or 1 to play a device that knows no
-    /// output query (it counts one as a bad line).
+    /// Newest protocol version the device speaks: 3, or 2 to play a device that knows no
+    /// readings rate, 1 one that knows no output query either (it counts such lines as bad).
     pub protocol_version: u8,
 }
 
 impl Default for SimDeviceConfig {
     /// Seven channels (six joints and the gripper), 1 µs units, 500–2500 µs, a 20 ms
-    /// frame, a 250 ms watchdog, a 4-line input queue and protocol version 2.
+    /// frame, a 250 ms watchdog, a 4-line input queue and protocol version 3.
     fn default() -> Self {
         Self {
             channel_count: 7,
@@ -81,6 +82,17 @@ pub struct SimDevice {
     last_status: Option<Duration>,
     now: Duration,
     arm: Option<Box<SimArm>>,
+    readings: Readings,
+}
+
+/// The analog inputs and the readings lines the host asked for.
+#[derive(Debug, Clone, Default)]
+struct Readings {
+    source: Option<ReadingsSource>,
+    rate_hz: u8,
+    /// When the host set the rate, and how many lines have been sent since.
+    since: Duration,
+    sent: u64,
 }
 
 impl SimDevice {
@@ -120,6 +132,7 @@ impl SimDevice {
             last_status: None,
             now: Duration::ZERO,
             arm: None,
+            readings: Readings::default(),
         };
         device.send(DeviceMessage::Greeting(info));
         device
@@ -150,6 +163,24 @@ impl SimDevice {
     ) -> Result<Self, SimArmError> {
         self.arm = Some(Box::new(SimArm::new(arm, options, start, &self.info)?));
         Ok(self)
+    }
+
+    /// This device reading analog inputs from `source` (a recording or a scripted motion, on
+    /// the device's clock); it sends them in readings lines at the rate a host asks for. A
+    /// device without a source acknowledges a readings rate and sends none.
+    pub fn with_readings(mut self, source: ReadingsSource) -> Self {
+        self.readings.source = Some(source);
+        self
+    }
+
+    /// What the analog inputs read now (0–4095 each); `None` without a source.
+    pub fn readings(&self) -> Option<ChannelValues> {
+        self.readings.source.as_ref()?.readings_at(self.now)
+    }
+
+    /// Readings lines a second the host asked for; 0 while off.
+    pub fn readings_rate_hz(&self) -> u8 {
+        self.readings.rate_hz
     }
 
     /// The arm's joint positions as the device has moved them, rad (revolute) or m
@@ -282,6 +313,35 @@ impl SimDevice {
         }
         self.check_watchdog(self.now);
         self.send_status_if_due();
+        self.send_readings_due();
+    }
+
+    /// Sends the readings lines that fall due by now: line `k` after the rate was set is due
+    /// `k / rate` later. A device held up longer than a line's period sends only the newest.
+    fn send_readings_due(&mut self) {
+        let rate = u64::from(self.readings.rate_hz);
+        if rate == 0 || self.readings.source.is_none() {
+            return;
+        }
+        let due = |sent: u64| Duration::from_nanos(sent.saturating_mul(1_000_000_000) / rate);
+        let elapsed = self.now.saturating_sub(self.readings.since);
+        if due(self.readings.sent) > elapsed {
+            return;
+        }
+        // The newest line due: k = ⌊elapsed × rate⌋.
+        let newest =
+            u64::try_from(elapsed.as_nanos().saturating_mul(u128::from(rate)) / 1_000_000_000)
+                .unwrap_or(u64::MAX);
+        let at = self.readings.since + due(newest);
+        self.readings.sent = newest.saturating_add(1);
+        if let Some(values) = self
+            .readings
+            .source
+            .as_ref()
+            .and_then(|source| source.readings_at(at))
+        {
+            self.send(DeviceMessage::Analog(values));
+        }
     }
 
     /// Moves the bytes the device has sent into `out`.
@@ -316,9 +376,21 @@ impl SimDevice {
                     protocol_version: protocol_version.min(self.info.protocol_version),
                     ..self.info
                 };
+                // A new host starts without readings until it asks.
+                self.readings.rate_hz = 0;
                 self.acknowledge(line.seq, AckOutcome::Accepted);
                 self.send(DeviceMessage::Greeting(answer));
                 return;
+            }
+            HostMessage::ReadingsRate { .. } if self.info.protocol_version < 3 => {
+                self.count_bad_line();
+                return;
+            }
+            HostMessage::ReadingsRate { rate_hz } => {
+                self.readings.rate_hz = rate_hz;
+                self.readings.since = self.now;
+                self.readings.sent = 0;
+                AckOutcome::Accepted
             }
             HostMessage::OutputQuery if self.info.protocol_version < 2 => {
                 self.count_bad_line();

@@ -111,6 +111,11 @@ pub struct StreamStats {
     /// What the device said it was sending, newest first read at connect; `None` for a
     /// device speaking protocol 1, which cannot say.
     pub device_output: Option<ChannelOutput>,
+    /// The newest analog readings the device sent (0–4095 each, input 0 first), after
+    /// [`Link::request_readings`].
+    pub readings: Option<ChannelValues>,
+    /// Readings lines received since connect.
+    pub readings_received: u64,
     /// Why the link was lost, once it is.
     pub loss: Option<LinkLoss>,
     /// From the newest emergency-stop request to its first stop line written.
@@ -276,6 +281,26 @@ impl Link {
             Err(mpsc::RecvTimeoutError::Timeout) => Err(LinkError::NoStatus { waited }),
             Err(mpsc::RecvTimeoutError::Disconnected) => Err(LinkError::Closed),
         }
+    }
+
+    /// Asks the device to send its analog readings `rate_hz` times a second (1 to
+    /// [`crate::MAX_READINGS_RATE_HZ`]), or to stop with 0. The newest readings are then in
+    /// [`StreamStats::readings`]. Readings move nothing and are allowed in any state.
+    ///
+    /// # Errors
+    /// [`LinkError::NoReadings`] when the device speaks a protocol older than 3,
+    /// [`LinkError::ReadingsRate`] for a rate above the limit, [`LinkError::Closed`] if the
+    /// thread has ended.
+    pub fn request_readings(&self, rate_hz: u8) -> Result<(), LinkError> {
+        if self.device.protocol_version < 3 {
+            return Err(LinkError::NoReadings {
+                protocol_version: self.device.protocol_version,
+            });
+        }
+        if rate_hz > crate::MAX_READINGS_RATE_HZ {
+            return Err(LinkError::ReadingsRate { rate_hz });
+        }
+        self.command(Command::Send(HostMessage::ReadingsRate { rate_hz }))
     }
 
     /// A handle for the emergency stop, for key and Ctrl-C handlers.
@@ -1080,7 +1105,10 @@ impl Worker {
                     self.lose(LinkLoss::DeviceRestarted);
                 }
             }
-            DeviceMessage::Analog(_) => {}
+            DeviceMessage::Analog(values) => {
+                self.stats.readings = Some(values);
+                self.stats.readings_received += 1;
+            }
         }
     }
 

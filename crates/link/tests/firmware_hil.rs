@@ -204,6 +204,13 @@ impl Run {
         }
     }
 
+    /// Sets analog input `input` of the simulated chip to `millivolts` (AVCC is 5000 mV).
+    fn set_input(&mut self, input: usize, millivolts: u32) {
+        let stdin = self.stdin.as_mut().expect("harness stdin open");
+        writeln!(stdin, "a {input} {millivolts}").expect("harness takes commands");
+        stdin.flush().expect("harness takes commands");
+    }
+
     fn open(&self) -> SerialTransport {
         SerialTransport::open(&self.pty, 115_200).expect("opens the harness pty")
     }
@@ -226,6 +233,7 @@ struct SimLog {
     host_lines: Vec<(u64, HostLine)>,
     host_raw: Vec<(u64, String)>,
     device_lines: Vec<(u64, DeviceLine)>,
+    analog_set: Vec<(u64, usize, u32)>,
     end: String,
 }
 
@@ -263,6 +271,13 @@ impl SimLog {
                     if let Ok(parsed) = DeviceLine::parse(rest.as_bytes()) {
                         log.device_lines.push((cycle, parsed));
                     }
+                }
+                "A" => {
+                    let mut fields = rest.split(' ').map(|f| f.parse::<u32>().expect("number"));
+                    let (Some(input), Some(millivolts)) = (fields.next(), fields.next()) else {
+                        panic!("analog record {rest:?}");
+                    };
+                    log.analog_set.push((cycle, input as usize, millivolts));
                 }
                 "Q" => log.end = rest.to_owned(),
                 _ => {}
@@ -707,7 +722,8 @@ fn the_output_query_reports_limp_then_the_pulses_on_the_pins() {
     let Some(hil) = hil() else { return };
     let run = start(hil, "output");
     let mut port = RawPort::new(&run);
-    // RawPort greeted with version 1 and the firmware answered 1; greeted with 2 it says 2.
+    // RawPort greeted with version 1 and the firmware answered 1; greeted with 2 it says 2
+    // (it speaks 3, the lower of the two wins).
     let first = port.read_until(|line| matches!(line.message, DeviceMessage::Greeting(_)));
     assert!(matches!(
         first.message,
@@ -781,7 +797,7 @@ fn a_link_to_the_firmware_reads_its_state_at_connect() {
     let Some(hil) = hil() else { return };
     let run = start(hil, "connect-state");
     let link = Link::connect(Box::new(run.open()), hil_options()).expect("greets the firmware");
-    assert_eq!(link.device().protocol_version, 2);
+    assert_eq!(link.device().protocol_version, 3);
     let output = link
         .device_output()
         .expect("protocol 2 firmware reports its output");
@@ -1127,4 +1143,174 @@ fn firmware_and_simulated_device_answer_alike() {
         ),
         (1, 3, 2)
     );
+}
+
+/// The 12-bit reading the firmware reports for `millivolts` on a 10-bit converter referenced
+/// to 5000 mV: simavr's count ⌊mV × 1023 / 5000⌋, then PROTOCOL.md §4's scale, 4v + ⌊v / 256⌋.
+fn reported_reading(millivolts: u32) -> u16 {
+    let count = (millivolts * 1023 / 5000).min(1023) as u16;
+    4 * count + count / 256
+}
+
+fn readings_of(line: &DeviceLine) -> Option<ChannelValues> {
+    match line.message {
+        DeviceMessage::Analog(values) => Some(values),
+        _ => None,
+    }
+}
+
+#[test]
+fn readings_come_at_the_rate_asked_with_the_voltages_on_the_pins() {
+    let Some(hil) = hil() else { return };
+    let mut run = start(hil, "readings");
+    let first = [0, 1000, 2500, 3300, 4200, 5000];
+    let second = [4000, 3000, 1200, 600, 100, 2500];
+    for (input, &millivolts) in first.iter().enumerate() {
+        run.set_input(input, millivolts);
+    }
+    let mut port = RawPort::new(&run);
+    let greeting = port.send(HostMessage::Greeting {
+        protocol_version: 3,
+    });
+    port.expect_ack(greeting, AckOutcome::Accepted);
+    let answer = port.read_until(|line| matches!(line.message, DeviceMessage::Greeting(_)));
+    assert!(matches!(
+        answer.message,
+        DeviceMessage::Greeting(info) if info.protocol_version == 3
+    ));
+    // Asked before protocol 3 was settled nothing would come; now 25 a second.
+    let ask = port.send(HostMessage::ReadingsRate { rate_hz: 25 });
+    port.expect_ack(ask, AckOutcome::Accepted);
+    run.wait_simulated(Duration::from_millis(600));
+    for (input, &millivolts) in second.iter().enumerate() {
+        run.set_input(input, millivolts);
+    }
+    run.wait_simulated(Duration::from_millis(600));
+    // Readings go on while stopped: they move nothing.
+    let stop = port.send(HostMessage::EmergencyStop);
+    port.expect_ack(stop, AckOutcome::Accepted);
+    run.wait_simulated(Duration::from_millis(200));
+    let off = port.send(HostMessage::ReadingsRate { rate_hz: 0 });
+    port.expect_ack(off, AckOutcome::Accepted);
+    // Out of range: a bad line, not acted on.
+    port.raw(&with_check("rA4:101"));
+    run.wait_simulated(Duration::from_millis(200));
+    let status = port.status_after_heartbeat();
+    assert_eq!(status.mode, DeviceMode::Stopped);
+    assert!(!port.acked(0xA4));
+    drop(port);
+    let log = run.finish();
+
+    let asked_at = log.first_host_line(|m| *m == HostMessage::ReadingsRate { rate_hz: 25 });
+    let off_at = log.first_host_line(|m| *m == HostMessage::ReadingsRate { rate_hz: 0 });
+    let readings: Vec<(u64, ChannelValues)> = log
+        .device_lines
+        .iter()
+        .filter_map(|(cycle, line)| readings_of(line).map(|values| (*cycle, values)))
+        .collect();
+    assert!(
+        readings.iter().all(|(cycle, _)| *cycle > asked_at),
+        "no readings before they were asked for"
+    );
+    // Nothing after the rate went to 0 (a line already on the wire may finish: 3 ms).
+    assert!(
+        readings
+            .iter()
+            .all(|(cycle, _)| *cycle < off_at + 3 * 16_000),
+        "readings after they were turned off"
+    );
+    // The rate: 25 a second, every 40 ms within the 1 ms clock and the wire's jitter (a line
+    // waiting behind an acknowledgement leaves up to 2 ms later), and 40 ms on average.
+    let span_s = ms(off_at - asked_at) / 1000.0;
+    let expected = (span_s * 25.0).floor() as usize;
+    assert!(
+        readings.len().abs_diff(expected) <= 1,
+        "{} readings lines in {span_s:.3} s of simulated time, expected {expected} ± 1",
+        readings.len()
+    );
+    for pair in readings.windows(2) {
+        let gap = ms(pair[1].0 - pair[0].0);
+        assert!((37.0..=43.0).contains(&gap), "readings {gap:.2} ms apart");
+    }
+    let mean = ms(readings[readings.len() - 1].0 - readings[0].0) / (readings.len() - 1) as f64;
+    assert!((mean - 40.0).abs() <= 0.2, "mean gap {mean:.3} ms");
+    // The values: six inputs on the 12-bit scale, as the pins were set. Every input is read
+    // again within a few ms; a line 20 ms after a change carries the new voltages.
+    let changed_at = log
+        .analog_set
+        .iter()
+        .map(|&(cycle, _, _)| cycle)
+        .max()
+        .expect("inputs set");
+    let settled = 20 * 16_000;
+    let before: Vec<_> = readings
+        .iter()
+        .filter(|(cycle, _)| *cycle < changed_at)
+        .collect();
+    let after: Vec<_> = readings
+        .iter()
+        .filter(|(cycle, _)| *cycle > changed_at + settled)
+        .collect();
+    assert!(
+        before.len() >= 10 && after.len() >= 15,
+        "{} / {}",
+        before.len(),
+        after.len()
+    );
+    let expect = |millivolts: &[u32; 6]| -> Vec<u16> {
+        millivolts.iter().map(|&mv| reported_reading(mv)).collect()
+    };
+    let stop_at = log.first_host_line(|m| *m == HostMessage::EmergencyStop);
+    assert!(
+        readings
+            .iter()
+            .filter(|(cycle, _)| *cycle > stop_at)
+            .count()
+            >= 4,
+        "readings go on while the stop is latched"
+    );
+    for (cycle, values) in &before {
+        assert_eq!(values.as_slice(), expect(&first), "at {:.1} ms", ms(*cycle));
+    }
+    for (cycle, values) in &after {
+        assert_eq!(
+            values.as_slice(),
+            expect(&second),
+            "at {:.1} ms",
+            ms(*cycle)
+        );
+    }
+    // The scale's ends: 0 mV reads 000 and 5000 mV reads FFF.
+    assert_eq!(expect(&first)[0], 0);
+    assert_eq!(expect(&first)[5], 4095);
+}
+
+#[test]
+fn a_link_to_the_firmware_keeps_the_newest_readings() {
+    let Some(hil) = hil() else { return };
+    let mut run = start(hil, "link-readings");
+    let millivolts = [250, 750, 1250, 1750, 2250, 2750];
+    for (input, &mv) in millivolts.iter().enumerate() {
+        run.set_input(input, mv);
+    }
+    let link = Link::connect(Box::new(run.open()), hil_options()).expect("greets the firmware");
+    assert_eq!(link.device().protocol_version, 3);
+    assert!(link.stats().readings.is_none(), "none before asking");
+    link.request_readings(50).expect("a version-3 link");
+    let give_up = Instant::now() + Duration::from_secs(60);
+    while link.stats().readings_received < 5 {
+        assert!(Instant::now() < give_up, "no readings: {:?}", link.stats());
+        std::thread::sleep(Duration::from_millis(5));
+    }
+    let expected: Vec<u16> = millivolts.iter().map(|&mv| reported_reading(mv)).collect();
+    assert_eq!(
+        link.stats().readings.map(|r| r.as_slice().to_vec()),
+        Some(expected)
+    );
+    assert_eq!(
+        link.request_readings(101),
+        Err(LinkError::ReadingsRate { rate_hz: 101 })
+    );
+    drop(link);
+    run.finish();
 }

@@ -41,6 +41,23 @@ fn host_examples() -> Vec<(&'static str, HostLine)> {
         ("b07/7AB6", line(0x07, HostMessage::Heartbeat)),
         ("q08/916A", line(0x08, HostMessage::OutputQuery)),
         (
+            "r09:20/447C",
+            line(0x09, HostMessage::ReadingsRate { rate_hz: 20 }),
+        ),
+        (
+            "r0A:0/9270",
+            line(0x0A, HostMessage::ReadingsRate { rate_hz: 0 }),
+        ),
+        (
+            "h00:3/0FDF",
+            line(
+                0x00,
+                HostMessage::Greeting {
+                    protocol_version: 3,
+                },
+            ),
+        ),
+        (
             "h00:2/1FFE",
             line(
                 0x00,
@@ -131,6 +148,18 @@ fn device_examples() -> Vec<(&'static str, DeviceLine)> {
             },
         ),
         (
+            "V0C:7FF5A3C0C80011EFFF/7CC6",
+            DeviceLine {
+                seq: 0x0C,
+                message: DeviceMessage::Analog(values(&[2047, 1443, 3084, 2048, 286, 4095])),
+            },
+        ),
+        ("A0B:09,3,ok/9421", ack(0x0B, 0x09, 3, AckOutcome::Accepted)),
+        (
+            "H01:3,0.3.0,7,500,1000,5000,20000/77D1",
+            greeting_v(0x01, 3, "0.3.0"),
+        ),
+        (
             "H01:2,0.2.0,7,500,1000,5000,20000/C283",
             greeting_v(0x01, 2, "0.2.0"),
         ),
@@ -208,6 +237,17 @@ fn spec_sizes_hold_for_setpoint_frames() {
             "{channels} channels"
         );
     }
+}
+
+#[test]
+fn spec_size_holds_for_a_six_input_readings_line() {
+    // §4 and §7: six readings → 28 bytes with the line feed.
+    let line = DeviceLine {
+        seq: 0xFF,
+        message: DeviceMessage::Analog(values(&[0xFFF; 6])),
+    };
+    assert_eq!(line.encode().len(), 28);
+    assert!(SPEC.contains("A readings line of six inputs is 28 bytes"));
 }
 
 #[test]

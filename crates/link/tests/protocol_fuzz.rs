@@ -24,6 +24,7 @@ fn host_message() -> impl Strategy<Value = HostMessage> {
         Just(HostMessage::Reset),
         Just(HostMessage::Heartbeat),
         Just(HostMessage::OutputQuery),
+        (0u8..=100).prop_map(|rate_hz| HostMessage::ReadingsRate { rate_hz }),
     ]
 }
 
@@ -164,6 +165,39 @@ proptest! {
 }
 
 proptest! {
+    #[test]
+    fn readings_rates_parse_exactly_within_the_limit(rate in 0u32..100_000) {
+        let body = format!("r3C:{rate}");
+        let line = format!("{body}/{:04X}", crc16_ccitt_false(body.as_bytes()));
+        match HostLine::parse(line.as_bytes()) {
+            Ok(parsed) => {
+                prop_assert!(rate <= 100);
+                prop_assert_eq!(parsed.message, HostMessage::ReadingsRate { rate_hz: rate as u8 });
+            }
+            Err(_) => prop_assert!(rate > 100),
+        }
+    }
+
+    #[test]
+    fn altered_readings_lines_never_parse_with_a_wrong_check(
+        seq in any::<u8>(),
+        readings in channel_values(0xFFF),
+        position in any::<prop::sample::Index>(),
+        byte in 0x20u8..=0x7E,
+    ) {
+        let line = DeviceLine { seq, message: DeviceMessage::Analog(readings) };
+        let encoded = line.encode();
+        let mut bytes = encoded.as_bytes().to_vec();
+        let at = position.index(bytes.len() - 1);
+        bytes[at] = byte;
+        if let Ok(parsed) = DeviceLine::parse(&bytes) {
+            prop_assert!(check_matches(&bytes));
+            if bytes == encoded.as_bytes() {
+                prop_assert_eq!(parsed, line);
+            }
+        }
+    }
+
     #[test]
     fn altered_output_lines_never_parse_with_a_wrong_check(
         seq in any::<u8>(),

@@ -6,7 +6,7 @@ use std::time::Duration;
 
 use armwright_link::{
     Ack, AckOutcome, ChannelValues, DeviceLine, DeviceMessage, DeviceMode, DeviceStatus, Faults,
-    HostLine, HostMessage, SimDevice, SimDeviceConfig,
+    HostLine, HostMessage, ReadingsRecording, ReadingsSource, SimDevice, SimDeviceConfig,
 };
 
 /// A device, a clock in ms and the lines the device has sent.
@@ -496,7 +496,7 @@ fn the_output_query_reports_limp_then_the_pulses_being_sent() {
 
 #[test]
 fn the_greeting_answer_speaks_the_lower_version() {
-    for (asked, answered) in [(1u8, 1u8), (2, 2), (9, 2)] {
+    for (asked, answered) in [(1u8, 1u8), (2, 2), (3, 3), (9, 3)] {
         let mut bench = Bench::new();
         bench.send(HostMessage::Greeting {
             protocol_version: asked,
@@ -526,4 +526,110 @@ fn a_protocol_1_device_counts_the_output_query_as_a_bad_line() {
     assert!(bench.acks().is_empty());
     assert!(outputs(&bench).is_empty());
     assert_eq!(bench.last_status().map(|s| s.bad_lines), Some(1));
+}
+
+fn readings_heard(bench: &Bench) -> Vec<Vec<u16>> {
+    bench
+        .heard
+        .iter()
+        .filter_map(|line| match line.message {
+            DeviceMessage::Analog(values) => Some(values.as_slice().to_vec()),
+            _ => None,
+        })
+        .collect()
+}
+
+#[test]
+fn readings_play_a_recording_at_the_rate_asked_until_turned_off() {
+    let recording = ReadingsRecording::parse(
+        "0 100 200 300
+0.1 400 500 600
+",
+    )
+    .expect("a recording");
+    let mut bench = Bench::new();
+    bench.device = SimDevice::new(SimDeviceConfig::default())
+        .with_readings(ReadingsSource::Recorded(recording));
+    // Nothing until asked.
+    bench.wait_ms(50);
+    assert!(readings_heard(&bench).is_empty());
+    let ask = bench.send(HostMessage::ReadingsRate { rate_hz: 40 });
+    bench.wait_ms(1);
+    assert!(
+        bench
+            .acks()
+            .iter()
+            .any(|a| a.acked_seq == ask && a.outcome == AckOutcome::Accepted)
+    );
+    // Asked at 50 ms: lines at 51, 76, 101, 126, 151, 176 ms — one every 25 ms from the line
+    // that acted on the rate (the clock moves in 1 ms steps).
+    bench.wait_ms(129);
+    let heard = readings_heard(&bench);
+    assert_eq!(heard.len(), 6, "{heard:?}");
+    // The recording's first row holds until 0.1 s, the second after; then it repeats (one
+    // pass is 0.2 s).
+    assert_eq!(heard[0], [100, 200, 300]);
+    assert_eq!(heard[1], [100, 200, 300]);
+    assert_eq!(heard[2], [400, 500, 600]);
+    assert_eq!(heard[5], [400, 500, 600]);
+    // Readings go on in every mode, a latched stop included; a greeting turns them off.
+    bench.send(HostMessage::EmergencyStop);
+    bench.wait_ms(100);
+    assert_eq!(readings_heard(&bench).len(), 10);
+    bench.send(HostMessage::Greeting {
+        protocol_version: 3,
+    });
+    bench.wait_ms(100);
+    assert_eq!(readings_heard(&bench).len(), 10);
+    assert_eq!(bench.device.readings_rate_hz(), 0);
+}
+
+#[test]
+fn a_device_held_up_sends_the_newest_readings_line_not_a_burst() {
+    let mut bench = Bench::new();
+    bench.device =
+        SimDevice::new(SimDeviceConfig::default()).with_readings(ReadingsSource::Scripted {
+            inputs: 2,
+            period: Duration::from_secs(8),
+        });
+    bench.send(HostMessage::ReadingsRate { rate_hz: 100 });
+    bench.wait_ms(1);
+    let before = readings_heard(&bench).len();
+    // 300 ms pass in one step (a host or thread held up).
+    bench.now_ms += 300;
+    let now = bench.now();
+    bench.device.advance(now);
+    bench.collect();
+    assert_eq!(readings_heard(&bench).len(), before + 1);
+    assert_eq!(
+        readings_heard(&bench).last().cloned(),
+        bench.device.readings().map(|r| r.as_slice().to_vec())
+    );
+}
+
+#[test]
+fn an_older_device_counts_the_readings_rate_as_a_bad_line() {
+    let mut bench = Bench::new();
+    bench.device = SimDevice::new(SimDeviceConfig {
+        protocol_version: 2,
+        ..SimDeviceConfig::default()
+    })
+    .with_readings(ReadingsSource::Scripted {
+        inputs: 1,
+        period: Duration::from_secs(1),
+    });
+    bench.send(HostMessage::ReadingsRate { rate_hz: 10 });
+    bench.wait_ms(200);
+    assert!(bench.acks().is_empty());
+    assert!(readings_heard(&bench).is_empty());
+    assert_eq!(bench.last_status().map(|s| s.bad_lines), Some(1));
+}
+
+#[test]
+fn a_device_without_inputs_acknowledges_the_rate_and_sends_nothing() {
+    let mut bench = Bench::new();
+    let ask = bench.send(HostMessage::ReadingsRate { rate_hz: 50 });
+    bench.wait_ms(100);
+    assert!(bench.acks().iter().any(|a| a.acked_seq == ask));
+    assert!(readings_heard(&bench).is_empty());
 }

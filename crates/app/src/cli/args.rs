@@ -3,7 +3,7 @@
 
 use std::path::PathBuf;
 
-use clap::{Parser, Subcommand, ValueEnum};
+use clap::{Args, Parser, Subcommand, ValueEnum};
 
 /// Describe, check and program small hobby-servo arms.
 ///
@@ -363,7 +363,62 @@ pub enum Command {
         /// Pulse channels the device announces, 1 to 8.
         #[arg(long, value_name = "N", default_value_t = 7)]
         channels: u8,
+        /// What the device's analog inputs read.
+        #[command(flatten)]
+        readings: SimReadings,
     },
+    /// Print the pose the input arm's analog inputs give, through the scene's `inputs`.
+    ///
+    /// Connects to the device, asks for its analog readings, maps each input to its joint
+    /// through the measured points in the scene's `inputs` (least squares, as `calibrate`
+    /// fits) and prints every joint's position; a joint with no input is at its home position.
+    /// Moves nothing. Exit status 0 with a pose, 1 when the scene maps no input, the device
+    /// sends no readings or a position lies outside its joint's limits, 2 on bad arguments.
+    Capture {
+        /// The scene file.
+        #[arg(value_name = "FILE")]
+        file: PathBuf,
+        /// Serial port of the device, for example /dev/ttyUSB0.
+        #[arg(
+            long,
+            value_name = "PATH",
+            conflicts_with = "simulated",
+            required_unless_present = "simulated"
+        )]
+        port: Option<String>,
+        /// Read the built-in simulated device (give it readings to play, below).
+        #[arg(long)]
+        simulated: bool,
+        /// Serial speed in baud (the reference firmware uses 115200).
+        #[arg(long, value_name = "BAUD", default_value_t = 115_200)]
+        baud: u32,
+        /// What the simulated device's analog inputs read.
+        #[command(flatten)]
+        readings: SimReadings,
+        /// Print machine-readable JSON (keys carry units) instead of text.
+        #[arg(long)]
+        json: bool,
+    },
+}
+
+/// What the simulated device's analog inputs read: a recording or a slow sweep.
+#[derive(Debug, Clone, Default, Args)]
+pub struct SimReadings {
+    /// Play analog readings from a recording: lines of "TIME_S READING READING …" (0–4095,
+    /// rising times, `#` comments), held from one line to the next and repeated.
+    #[arg(
+        long = "readings",
+        value_name = "FILE",
+        conflicts_with = "sweep_inputs"
+    )]
+    pub recording: Option<PathBuf>,
+    /// Sweep this many analog inputs (1 to 8) slowly: each swings on a sine around mid-scale,
+    /// a sixth of a turn behind the one before.
+    #[arg(long = "sweep-inputs", value_name = "N")]
+    pub sweep_inputs: Option<u8>,
+    /// Time for one full swing of the sweep, in seconds.
+    #[arg(long = "sweep-period", value_name = "S", default_value_t = 8.0)]
+    pub sweep_period_s: f64,
 }
 
 /// The plane an envelope map covers.
@@ -520,7 +575,50 @@ mod tests {
         ));
         assert!(Cli::try_parse_from(["armwright", "reset"]).is_err());
         let cli = Cli::try_parse_from(["armwright", "device-sim", "--channels", "4"]).unwrap();
-        assert!(matches!(cli.command, Command::DeviceSim { channels: 4 }));
+        assert!(matches!(
+            cli.command,
+            Command::DeviceSim {
+                channels: 4,
+                readings: SimReadings {
+                    recording: None,
+                    sweep_inputs: None,
+                    ..
+                }
+            }
+        ));
+        let cli = Cli::try_parse_from([
+            "armwright",
+            "capture",
+            "a.json",
+            "--simulated",
+            "--sweep-inputs",
+            "6",
+        ])
+        .unwrap();
+        match cli.command {
+            Command::Capture {
+                simulated,
+                readings,
+                ..
+            } => {
+                assert!(simulated);
+                assert_eq!(readings.sweep_inputs, Some(6));
+                assert_eq!(readings.sweep_period_s, 8.0);
+            }
+            other => panic!("{other:?}"),
+        }
+        assert!(Cli::try_parse_from(["armwright", "capture", "a.json"]).is_err());
+        assert!(
+            Cli::try_parse_from([
+                "armwright",
+                "device-sim",
+                "--readings",
+                "r.txt",
+                "--sweep-inputs",
+                "2"
+            ])
+            .is_err()
+        );
     }
 
     #[test]

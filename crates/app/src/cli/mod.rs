@@ -1,9 +1,10 @@
 //! The command line: `check`, `pose`, `reach`, `envelope`, `plan`, `simulate`, `retime`,
-//! `calibrate`, `protractor`, `ports`, `stream`, `reset`, `jog`, `device-sim`, `format`.
+//! `calibrate`, `protractor`, `ports`, `stream`, `reset`, `jog`, `device-sim`, `capture`, `format`.
 //!
 //! Naming scheme: `args.rs` declares every option (clap derive); one file per subcommand
 //! (`check.rs`, `pose.rs`, `reach.rs`, `envelope.rs`, `plan.rs`, `simulate.rs`, `retime.rs`,
 //! `calibrate.rs`, `protractor.rs`, `ports.rs`, `stream.rs`, `reset.rs`, `jog.rs`, `device_sim.rs`,
+//! `capture.rs`,
 //! `format.rs`); `report.rs` prints results as text or
 //! JSON and loads the scene for a subcommand; `svg.rs` draws an envelope map.
 //!
@@ -13,6 +14,7 @@
 
 mod args;
 pub(crate) mod calibrate;
+mod capture;
 mod check;
 pub(crate) mod clearance;
 mod device_sim;
@@ -31,7 +33,7 @@ mod simulate;
 pub(crate) mod stream; // its link-capacity warning is shared with check and the editor
 mod svg;
 
-pub use args::{Cli, Command, View};
+pub use args::{Cli, Command, SimReadings, View};
 
 use clap::Parser;
 use std::process::ExitCode;
@@ -201,7 +203,24 @@ pub fn execute(command: &Command) -> Outcome {
                 yes: *yes,
             },
         ),
-        Command::DeviceSim { channels } => device_sim::run(*channels),
+        Command::DeviceSim { channels, readings } => device_sim::run(*channels, readings),
+        Command::Capture {
+            file,
+            port,
+            simulated,
+            baud,
+            readings,
+            json,
+        } => capture::run(
+            file,
+            &capture::CaptureRequest {
+                port: port.as_deref(),
+                simulated: *simulated,
+                baud: *baud,
+                readings,
+                json: *json,
+            },
+        ),
         Command::Format { reference, .. } => format::run(*reference),
     }
 }

@@ -13,7 +13,7 @@ use std::time::{Duration, Instant};
 use armwright_kinematics::{Arm, JointKind};
 use armwright_link::{
     ChannelValues, DeviceInfo, EmergencyStop, Link, LinkError, LinkEvent, LinkState, PortSummary,
-    ResetConfirmation, SerialTransport, SimDevice, SimDeviceConfig, SimTransport, StreamOptions,
+    ReadingsSource, ResetConfirmation, SerialTransport, SimDevice, SimDeviceConfig, SimTransport, StreamOptions,
     StreamStats, Transport, list_ports,
 };
 use armwright_trajectory::ServoModelOptions;
@@ -66,6 +66,9 @@ pub enum LinkAction {
     /// Hold one channel at a pulse width, every other channel at what the device sends now
     /// (for guided calibration).
     HoldChannel(ChannelPulse),
+    /// Ask the device for its analog readings (the scene maps inputs) or stop them; kept for
+    /// devices connected later too.
+    Readings(bool),
 }
 
 /// One channel held at a pulse width, the others kept at what the device reports it sends.
@@ -79,6 +82,15 @@ pub struct ChannelPulse {
     /// What a channel the device reports limp (or cannot report) gets instead, in device
     /// units: the editor's pose. A limp servo jumps there at its own top speed.
     pub limp_fill: ChannelValues,
+}
+
+/// What the editor's simulated device's analog inputs read: six inputs sweeping slowly, so that
+/// the input arm and capturing can be tried with no hardware (`editor/capture.rs`).
+fn simulated_inputs() -> ReadingsSource {
+    ReadingsSource::Scripted {
+        inputs: 6,
+        period: Duration::from_secs(8),
+    }
 }
 
 /// Where a stream stands, as the link panel shows it.
@@ -313,6 +325,7 @@ enum Request {
     Pause,
     Resume,
     HoldChannel(ChannelPulse),
+    Readings(bool),
     Reset(ResetConfirmation),
     Follow(Box<FollowAction>),
     /// The editor is going: drop the link (the device is asked to hold) and end.
@@ -359,6 +372,7 @@ impl DeviceLink {
             stop: Arc::clone(&stop),
             link: None,
             rate_hz: 50.0,
+            readings: false,
             stream: None,
             waking: Waking::default(),
             follow: None,
@@ -485,6 +499,7 @@ impl DeviceLink {
             LinkAction::Resume => Request::Resume,
             LinkAction::HoldChannel(pulse) => Request::HoldChannel(pulse),
             LinkAction::Follow(action) => Request::Follow(Box::new(action)),
+            LinkAction::Readings(wanted) => Request::Readings(wanted),
         };
         // The worker only ends when this handle is dropped.
         let _ = self.requests.send(request);
@@ -529,6 +544,7 @@ impl std::fmt::Debug for Request {
             Request::Pause => "Pause",
             Request::Resume => "Resume",
             Request::HoldChannel(_) => "HoldChannel",
+            Request::Readings(_) => "Readings",
             Request::Reset(_) => "Reset",
             Request::Follow(_) => "Follow",
             Request::Quit => "Quit",
@@ -594,6 +610,8 @@ struct Worker {
     stop: Arc<StopShared>,
     link: Option<Link>,
     rate_hz: f64,
+    /// Whether the editor wants analog readings (see [`LinkAction::Readings`]).
+    readings: bool,
     stream: Option<Stream>,
     waking: Waking,
     /// The follow run, while the device follows the edited pose.
@@ -683,6 +701,10 @@ impl Worker {
             Request::Resume => self.resume(),
             Request::HoldChannel(pulse) => self.hold_channel(&pulse),
             Request::Follow(request) => self.follow_request(*request),
+            Request::Readings(wanted) => {
+                self.readings = wanted;
+                self.ask_readings();
+            }
             Request::Quit => {}
             Request::Reset(confirmation) => {
                 if let Some(link) = &self.link {
@@ -715,7 +737,8 @@ impl Worker {
         let mut simulated = None;
         let (name, transport): (String, Result<Box<dyn Transport>, String>) = match device {
             Device::Simulated => {
-                let mut device = SimDevice::new(SimDeviceConfig::default());
+                let mut device =
+                    SimDevice::new(SimDeviceConfig::default()).with_readings(simulated_inputs());
                 if let Some(arm) = arm {
                     match device.clone().with_arm(arm, servo, start) {
                         Ok(with_arm) => device = with_arm,
@@ -760,6 +783,7 @@ impl Worker {
                 drop(handle);
                 let info = link.device();
                 self.link = Some(link);
+                self.ask_readings();
                 let mut published = self.lock();
                 published.simulated = simulated;
                 published.view.connection = Some(Connection {
@@ -774,6 +798,25 @@ impl Worker {
             Err(error) => self.say(Report::Problem(format!(
                 "cannot connect to {name}: {error}"
             ))),
+        }
+    }
+
+    /// Asks the link for analog readings at [`super::capture::EDITOR_READINGS_HZ`], or for none,
+    /// as the editor wants; a device that cannot send them is left alone (nothing to show).
+    fn ask_readings(&mut self) {
+        let Some(link) = &self.link else { return };
+        if link.device().protocol_version < 3 {
+            return;
+        }
+        let rate = if self.readings {
+            super::capture::EDITOR_READINGS_HZ
+        } else {
+            0
+        };
+        if let Err(error) = link.request_readings(rate) {
+            self.say(Report::Problem(format!(
+                "cannot read the analog inputs: {error}"
+            )));
         }
     }
 

@@ -13,6 +13,7 @@
 //! `traces.rs` what the timeline plots; `follow.rs` the connected device following the edited
 //! pose, and jog; `dry_run_marks.rs` the contacts and unsettled stops the
 //! views, the timeline and the sequence mark; `playback.rs` the timeline's cursor and playback;
+//! `capture.rs` the input arm from the device's analog inputs and capturing its pose;
 //! `panels/` one file per panel; `views/` the two to-scale views; `waypoint_name.rs` the names
 //! a stored waypoint gets. This file is the shell:
 //! [`Editor::logic`] handles what must run whatever is on screen (the emergency-stop key first),
@@ -20,6 +21,7 @@
 
 mod arm_form;
 mod calibration;
+mod capture;
 mod command;
 mod device;
 mod dry_run_job;
@@ -43,6 +45,7 @@ pub use calibration::{
     Calibrating, CalibrationCommand, DEADBAND_STEP_S, DeadbandSearch, MeasuredPosition,
     PULSE_STEPS_US, SearchLeg,
 };
+pub use capture::{CAPTURE_KEY, CAPTURE_KEY_NAME, INPUT_ARM, NO_INPUT_ARM, input_arm_pose};
 pub use command::{Command, Outside, WaypointField, apply};
 pub use device::{
     ChannelPulse, Connection, DeviceLink, LinkAction, LinkStopLink, LinkView, StreamEnd,
@@ -150,6 +153,8 @@ pub struct Editor {
     recovered: Option<crate::scene::Scene>,
     /// The user chose to close: let the window go.
     closing: bool,
+    /// Whether the device link was last asked for analog readings (the scene maps inputs).
+    readings_wanted: bool,
     title: String,
 }
 
@@ -185,6 +190,7 @@ impl Editor {
             last_autosave: None,
             recovered: None,
             closing: false,
+            readings_wanted: false,
             title: String::new(),
         };
         editor.claim_recovery();
@@ -384,6 +390,7 @@ impl Editor {
         for command in panels::jog_keys(ctx, &self.state) {
             self.apply(ctx, command, frame);
         }
+        self.capture_key(ctx, frame);
         for result in self.files.finished() {
             self.file_finished(ctx, result);
         }
@@ -486,6 +493,25 @@ impl Editor {
         }
     }
 
+    /// The capture key: stores the input arm's pose as a waypoint, unless a dialog is open or
+    /// a widget has the keyboard (typing an "i" into a field is not a capture).
+    fn capture_key(&mut self, ctx: &egui::Context, frame: u64) {
+        let free = ctx.memory(|memory| memory.focused().is_none());
+        if self.state.dialog.is_some() || ctx.egui_wants_keyboard_input() || !free {
+            return;
+        }
+        if !ctx.input_mut(|input| input.consume_key(Modifiers::NONE, CAPTURE_KEY)) {
+            return;
+        }
+        match capture::capture_command(&self.state) {
+            Some(command) => {
+                self.state.say(Level::Info, "captured the input arm's pose");
+                self.apply(ctx, command, frame);
+            }
+            None => self.state.say(Level::Warning, NO_INPUT_ARM),
+        }
+    }
+
     /// Takes what the device link published: its messages, and the arm's pose as a simulated
     /// device moves it. The link's worker wakes the window when any of that changes (at most
     /// 30 times a second), so an idle connection costs no redraws.
@@ -503,6 +529,15 @@ impl Editor {
         let info = view.connection.as_ref().map(|connection| connection.info);
         self.state.calibration.device = info;
         self.timeline_plot.set_device(output.zip(info));
+        let wanted = !self.state.scene.inputs.is_empty();
+        if wanted != self.readings_wanted {
+            self.readings_wanted = wanted;
+            self.request_link(LinkAction::Readings(wanted));
+        }
+        let readings = self.device.view().stats.as_ref().and_then(|s| s.readings);
+        self.state.input_pose = readings
+            .filter(|_| self.device.view().connection.is_some())
+            .and_then(|readings| capture::input_arm_pose(&self.state, readings.as_slice()));
     }
 
     /// The window title: the file's name, a mark when there are unsaved changes, the stop.
@@ -649,7 +684,13 @@ impl Editor {
                 label: "device (simulated servos)".into(),
                 colour: DEVICE,
             });
-            let overlays: Vec<ArmOverlay> = simulated.into_iter().chain(device).collect();
+            let input = self.state.input_pose.clone().map(|pose| ArmOverlay {
+                pose,
+                label: format!("input arm ({CAPTURE_KEY_NAME} captures)"),
+                colour: INPUT_ARM,
+            });
+            let overlays: Vec<ArmOverlay> =
+                simulated.into_iter().chain(device).chain(input).collect();
             let [top_camera, side_camera] = &mut self.cameras;
             let [top_map, side_map] = [ViewKind::Top, ViewKind::Side].map(|kind| ViewMaps {
                 at_angle: self.reach.layer(kind),

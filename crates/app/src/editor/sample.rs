@@ -133,6 +133,7 @@ fn built_in_scene() -> Scene {
             }],
         },
         link: LinkSettings::default(),
+        inputs: Vec::new(),
     }
 }
 

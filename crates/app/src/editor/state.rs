@@ -199,6 +199,9 @@ pub struct EditorState {
     /// The joint positions of the arm as the connected simulated device moves it (from its
     /// servo model), rad (revolute) or m (prismatic); `None` when no such device is connected.
     pub device_pose: Option<Vec<f64>>,
+    /// The input arm's joint positions from the connected device's analog readings through
+    /// the scene's `inputs`, rad or m (`editor/capture.rs`); `None` without readings or inputs.
+    pub input_pose: Option<Vec<f64>>,
     /// The retime tab: target, run, result.
     pub retime: RetimeState,
     /// The arm settings form: typed text and its problems.
@@ -242,6 +245,7 @@ impl EditorState {
             link_device: Device::Simulated,
             caution_acknowledged: false,
             device_pose: None,
+            input_pose: None,
             arm_form: ArmForm::default(),
             playback: Playback::default(),
             calibration: Calibrating::default(),

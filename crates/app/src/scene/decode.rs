@@ -353,6 +353,14 @@ fn read_scene(root: &Value, problems: &mut Vec<Problem>) -> Option<Scene> {
         Some(value) => read_link(value, "link", problems),
         None => Some(LinkSettings::default()),
     };
+    let inputs = fields
+        .optional_list("inputs", problems)
+        .iter()
+        .enumerate()
+        .filter_map(|(index, value)| {
+            read_input(value, &item("inputs", index), arm.as_ref(), problems)
+        })
+        .collect();
     fields.finish(problems);
     Some(Scene {
         description,
@@ -361,7 +369,43 @@ fn read_scene(root: &Value, problems: &mut Vec<Problem>) -> Option<Scene> {
         timing: timing?,
         workspace: workspace?,
         link: link?,
+        inputs,
     })
+}
+
+/// One entry of `inputs`. Its points' position key carries the unit of the joint it names
+/// (deg or mm); for a name that is not exactly one joint of the arm (validation reports it),
+/// degrees are read.
+fn read_input(
+    value: &Value,
+    path: &str,
+    arm: Option<&ArmDoc>,
+    problems: &mut Vec<Problem>,
+) -> Option<InputDoc> {
+    let mut fields = Fields::of(value, path, problems)?;
+    let joint = fields.text("joint", problems);
+    let kind = arm
+        .and_then(|arm| {
+            let index = arm.joints.iter().position(|j| j.name == joint)?;
+            arm.shape.joint_kinds().get(index).copied()
+        })
+        .unwrap_or(JointKindDoc::Revolute);
+    let mut input: InputDoc = fields.rows(table::input::ROWS, kind, problems);
+    let points_path = fields.at("points");
+    input.points = fields
+        .list("points", problems)
+        .iter()
+        .enumerate()
+        .filter_map(|(index, entry)| {
+            let point_path = item(&points_path, index);
+            let mut point_fields = Fields::of(entry, &point_path, problems)?;
+            let point = point_fields.rows(table::input_point::ROWS, kind, problems);
+            point_fields.finish(problems);
+            Some(point)
+        })
+        .collect();
+    fields.finish(problems);
+    Some(InputDoc { joint, ..input })
 }
 
 /// Reads an object of `rows` only, at `path`.

@@ -19,6 +19,32 @@ pub struct Scene {
     pub workspace: Workspace,
     /// How to reach the device that makes the pulses.
     pub link: LinkSettings,
+    /// The input arm: which analog input moves which joint, and how its readings map to the
+    /// joint's positions. Empty when the scene has none.
+    pub inputs: Vec<InputDoc>,
+}
+
+/// One analog input of the input arm (a potentiometer, or a servo's feedback wire) mapped to
+/// a joint: measured points of reading ↔ joint position, fitted by least squares (a line; a
+/// quadratic when four or more points bow clearly).
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct InputDoc {
+    /// The input's number on the device, from 0: its place in the device's readings.
+    pub input: u32,
+    /// The joint it moves, by name, as in `arm.joints`.
+    pub joint: String,
+    /// Two or more measured points.
+    pub points: Vec<InputPointDoc>,
+}
+
+/// One measured point of an input's mapping: what the input read with the joint at a known
+/// position.
+#[derive(Debug, Clone, Copy, PartialEq, Default)]
+pub struct InputPointDoc {
+    /// The reading, 0 to 4095 (the link protocol's 12-bit scale).
+    pub reading: u32,
+    /// The joint's position at that reading: degrees (revolute) or mm (prismatic).
+    pub position: f64,
 }
 
 /// Revolute or prismatic: decides whether a joint's positions are in degrees or mm.

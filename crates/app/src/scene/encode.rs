@@ -121,7 +121,7 @@ fn object<T>(rows: &[Field<T>], doc: &T) -> Out {
 
 /// The whole scene as an ordered JSON value.
 pub(crate) fn encode_scene(scene: &Scene) -> Out {
-    Obj::new()
+    let out = Obj::new()
         .text("format", FORMAT_NAME)
         .put("version", Out::Whole(CURRENT_VERSION))
         .text("description", &scene.description)
@@ -132,8 +132,11 @@ pub(crate) fn encode_scene(scene: &Scene) -> Out {
         )
         .put("timing", timing(&scene.timing, &scene.arm))
         .put("workspace", workspace(&scene.workspace))
-        .put("link", link(&scene.link))
-        .done()
+        .put("link", link(&scene.link));
+    match inputs(&scene.inputs, &scene.arm) {
+        Some(inputs) => out.put("inputs", inputs).done(),
+        None => out.done(),
+    }
 }
 
 fn arm(arm: &ArmDoc) -> Out {
@@ -304,6 +307,40 @@ fn workspace(workspace: &Workspace) -> Out {
         .put("boxes", Out::List(boxes))
         .put("trays", Out::List(trays))
         .done()
+}
+
+/// `inputs`, or `None` when the scene has none, so that scenes without them read as before.
+fn inputs(inputs: &[InputDoc], arm: &ArmDoc) -> Option<Out> {
+    if inputs.is_empty() {
+        return None;
+    }
+    let kinds = arm.shape.joint_kinds();
+    let entries = inputs
+        .iter()
+        .map(|input| {
+            let kind = arm
+                .joints
+                .iter()
+                .position(|joint| joint.name == input.joint)
+                .and_then(|index| kinds.get(index).copied())
+                .unwrap_or(JointKindDoc::Revolute);
+            let points = input
+                .points
+                .iter()
+                .map(|point| {
+                    Obj::new()
+                        .rows(table::input_point::ROWS, point, kind)
+                        .done()
+                })
+                .collect();
+            Obj::new()
+                .text("joint", &input.joint)
+                .rows(table::input::ROWS, input, kind)
+                .put("points", Out::List(points))
+                .done()
+        })
+        .collect();
+    Some(Out::List(entries))
 }
 
 fn link(link: &LinkSettings) -> Out {

@@ -903,6 +903,56 @@ pub mod joint_limit {
     pub const ROWS: &[Field<JointLimitDoc>] = &[VELOCITY, ACCELERATION, JERK];
 }
 
+/// An input of the input arm (`inputs[i]`), besides its joint and points.
+pub mod input {
+    use super::*;
+
+    /// The input's number.
+    pub const INPUT: Field<InputDoc> = Field::<InputDoc>::new(
+        "input",
+        Unit::Ratio,
+        Range::within(0.0, 7.0),
+        "a readings line of the link protocol carries 1 to 8 inputs",
+        0,
+        "input",
+        "the input's number on the device, from 0 (its place in the device's readings)",
+        Access::Whole(|i| i.input, |i, v| i.input = v),
+    );
+    /// In file order, after `joint`.
+    pub const ROWS: &[Field<InputDoc>] = &[INPUT];
+}
+
+/// A measured point of an input's mapping (`inputs[i].points[j]`).
+pub mod input_point {
+    use super::*;
+
+    /// The reading.
+    pub const READING: Field<InputPointDoc> = Field::<InputPointDoc>::new(
+        "reading",
+        Unit::Ratio,
+        Range::within(0.0, 4095.0),
+        "the link protocol's 12-bit readings scale",
+        0,
+        "reading",
+        "what the input read with the joint at this position",
+        Access::Whole(|p| p.reading, |p, v| p.reading = v),
+    );
+    /// Joint position.
+    pub const POSITION: Field<InputPointDoc> = Field::<InputPointDoc>::new(
+        "angle_deg",
+        Unit::Position,
+        Range::within(-360.0, 360.0),
+        TURN,
+        DEG_DECIMALS,
+        "position",
+        "joint position at that reading",
+        Access::Number(|p| p.position, |p, v| p.position = v),
+    )
+    .prismatic("position_mm", Range::within(-1000.0, 1000.0));
+    /// In file order.
+    pub const ROWS: &[Field<InputPointDoc>] = &[READING, POSITION];
+}
+
 /// The workspace's own numbers (`workspace`).
 pub mod workspace {
     use super::*;

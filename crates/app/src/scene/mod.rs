@@ -9,7 +9,8 @@
 //! file with its rows and other keys), `reference.rs` and `schema.rs` (the Markdown reference
 //! and the JSON Schema printed from the outline, committed under `docs/`), `units.rs` (the one
 //! place that turns file units into the SI arm model), `load.rs` and
-//! `save.rs` (files: read without side effects, write atomically), `problem.rs` (a located
+//! `save.rs` (files: read without side effects, write atomically), `inputs.rs` (the input arm:
+//! each analog input's points fitted, the pose a set of readings gives), `problem.rs` (a located
 //! problem and the nearest-name suggestion), `task.rs` (the sequence as a trajectory task), `workcell.rs` (the workspace
 //! and arm as collision geometry, what a pick or place leaves out and what the gripper carries),
 //! `placement.rs` (placement success with each waypoint's tolerance and each joint's calibration
@@ -23,6 +24,7 @@ mod duplicate_keys;
 mod encode;
 pub mod field;
 pub mod field_table;
+mod inputs;
 mod load;
 mod migrate;
 mod outline;
@@ -39,10 +41,11 @@ mod workcell;
 pub use document::{
     ArmDoc, ArmShape, ArmTypeWord, Arrival, ArticulatedSize, AxisDoc, BandDoc, BoxDoc,
     CalibrationDoc, CalibrationPoint, ChainConvention, Device, DhRowDoc, FileWords, GripperDoc,
-    GripperState, JointDoc, JointKindDoc, JointLimitDoc, LinkMassDoc, LinkSettings, MoveKind,
-    PlacementDoc, ProfileKind, ScaraSize, Scene, ServoDoc, Shaping, Timing, ToolMassDoc, TrayDoc,
-    Waypoint, Workspace,
+    GripperState, InputDoc, InputPointDoc, JointDoc, JointKindDoc, JointLimitDoc, LinkMassDoc,
+    LinkSettings, MoveKind, PlacementDoc, ProfileKind, ScaraSize, Scene, ServoDoc, Shaping, Timing,
+    ToolMassDoc, TrayDoc, Waypoint, Workspace,
 };
+pub use inputs::{InputMap, InputPose, input_map_of};
 pub use load::{load, load_bytes};
 pub use migrate::{CURRENT_VERSION, FORMAT_NAME};
 pub use placement::{

@@ -194,6 +194,12 @@ pub fn sections() -> Vec<Section> {
                     false,
                     "how to reach the device",
                 ),
+                other(
+                    "inputs",
+                    Other::List("input"),
+                    false,
+                    "the input arm: which analog input moves which joint",
+                ),
             ],
             Vec::new(),
         ),
@@ -508,6 +514,37 @@ pub fn sections() -> Vec<Section> {
                 )
             }],
             rows(table::link::ROWS),
+        ),
+        section(
+            "input",
+            "inputs[i]",
+            "An analog input of the input arm (a potentiometer a person turns, or a servo's \
+             feedback wire) mapped to a joint through two or more measured points of reading \
+             and joint position: a least-squares line, or a quadratic when four or more points \
+             bow clearly (the same fit as a joint's calibration). One input per joint.",
+            vec![
+                other(
+                    "joint",
+                    Other::Text,
+                    true,
+                    "the joint it moves, as in arm.joints",
+                ),
+                other(
+                    "points",
+                    Other::List("input_point"),
+                    true,
+                    "two or more measured points, with different readings",
+                ),
+            ],
+            rows(table::input::ROWS),
+        ),
+        section(
+            "input_point",
+            "inputs[i].points[j]",
+            "What the input read with the joint at a known position, in the unit of the joint \
+             (deg or mm).",
+            Vec::new(),
+            rows(table::input_point::ROWS),
         ),
     ]
 }

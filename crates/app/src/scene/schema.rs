@@ -155,6 +155,9 @@ fn other_schema(section: &str, other: &OtherKey) -> Value {
                 list["minItems"] = json!(2);
                 list["maxItems"] = json!(2);
             }
+            if *id == "input_point" {
+                list["minItems"] = json!(2);
+            }
             list
         }
     };

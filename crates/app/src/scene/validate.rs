@@ -28,6 +28,7 @@ pub fn validate(scene: &Scene) -> Vec<Problem> {
     check_joint_limits(scene, &kinds, &mut problems);
     check_workspace(&scene.workspace, &mut problems);
     check_link(&scene.link, &mut problems);
+    super::inputs::fit_inputs(scene, &mut problems);
     problems
 }
 
@@ -54,7 +55,7 @@ pub fn sequence_problems(scene: &Scene) -> Vec<Problem> {
 }
 
 /// Every value of `rows` in `doc` inside its range, each field at `path`.`key`.
-fn ranges<T>(
+pub(super) fn ranges<T>(
     rows: &[Field<T>],
     doc: &T,
     kind: JointKindDoc,

@@ -24,7 +24,16 @@ pub enum HostMessage {
     Heartbeat,
     /// `q` (protocol 2): asks what the device is sending now; answered by an output line.
     OutputQuery,
+    /// `r` (protocol 3): asks for analog readings lines (`V`) at `rate_hz` lines a second,
+    /// 1 to [`MAX_READINGS_RATE_HZ`]; 0 turns them off.
+    ReadingsRate {
+        /// Readings lines a second; 0 for none.
+        rate_hz: u8,
+    },
 }
+
+/// The highest readings rate a host may ask for, in lines a second (`PROTOCOL.md` §3).
+pub const MAX_READINGS_RATE_HZ: u8 = 100;
 
 impl HostMessage {
     /// The kind letter on the wire.
@@ -38,6 +47,7 @@ impl HostMessage {
             Self::Reset => b'c',
             Self::Heartbeat => b'b',
             Self::OutputQuery => b'q',
+            Self::ReadingsRate { .. } => b'r',
         }
     }
 }
@@ -75,6 +85,10 @@ impl HostLine {
                     line.push_hex(value, 4);
                 }
             }
+            HostMessage::ReadingsRate { rate_hz } => {
+                line.push(b':');
+                line.push_decimal(u16::from(*rate_hz));
+            }
             HostMessage::Hold
             | HostMessage::Release
             | HostMessage::EmergencyStop
@@ -107,6 +121,9 @@ impl HostLine {
             b'c' => HostMessage::Reset,
             b'b' => HostMessage::Heartbeat,
             b'q' => HostMessage::OutputQuery,
+            b'r' => HostMessage::ReadingsRate {
+                rate_hz: body.decimal("readings rate", 0, u32::from(MAX_READINGS_RATE_HZ))? as u8,
+            },
             kind => {
                 return Err(ParseLineError::new(
                     LineErrorKind::UnknownKind { kind },
@@ -214,6 +231,25 @@ mod tests {
         let error = parse(line.finish().as_str()).expect_err("lower-case hex");
         assert_eq!(error.kind, LineErrorKind::ExpectedHex { digits: 4 });
         assert_eq!(error.column, 4);
+    }
+
+    #[test]
+    fn a_readings_rate_above_the_limit_is_refused() {
+        let mut line = LineBuf::new();
+        line.push_str(b"r04:101");
+        let error = parse(line.finish().as_str()).expect_err("101 Hz");
+        assert!(matches!(
+            error.kind,
+            LineErrorKind::OutOfRange {
+                field: "readings rate",
+                min: 0,
+                max: 100
+            }
+        ));
+        let mut line = LineBuf::new();
+        line.push_str(b"r04");
+        let error = parse(line.finish().as_str()).expect_err("no rate");
+        assert_eq!(error.kind, LineErrorKind::ExpectedDecimal);
     }
 
     #[test]

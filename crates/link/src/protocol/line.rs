@@ -11,8 +11,13 @@ pub const MAX_LINE_LEN: usize = 64;
 /// Most pulse channels (or analog inputs) one line can carry.
 pub const MAX_CHANNELS: usize = 8;
 
-/// The newest protocol version this crate speaks (2 adds the output query, `PROTOCOL.md` §3).
-pub const PROTOCOL_VERSION: u8 = 2;
+/// The newest protocol version this crate speaks (2 adds the output query, 3 the readings
+/// rate, `PROTOCOL.md` §3).
+pub const PROTOCOL_VERSION: u8 = 3;
+
+/// The largest analog reading on the wire: readings are on a 12-bit scale, 0 to 4095
+/// (`PROTOCOL.md` §4).
+pub const READING_FULL_SCALE: u16 = 4095;
 
 /// The oldest protocol version this crate still speaks to a device.
 pub const OLDEST_PROTOCOL_VERSION: u8 = 1;

@@ -8,7 +8,7 @@
 
 mod crc; // CRC-16/CCITT-FALSE over a line's bytes
 mod device_message; // device → host lines: greeting, acknowledgement, status, output, analog readings
-mod host_message; // host → device lines: greeting, setpoint, hold, release, stop, reset, heartbeat, output query
+mod host_message; // host → device lines: greeting, setpoint, hold, release, stop, reset, heartbeat, output query, readings rate
 mod line; // fixed-size line buffer, byte-stream line assembly, the shared parse error
 
 pub use crc::crc16_ccitt_false;
@@ -16,8 +16,10 @@ pub use device_message::{
     Ack, AckOutcome, ChannelOutput, DeviceInfo, DeviceLine, DeviceMessage, DeviceMode,
     DeviceStatus, Faults, FirmwareVersion,
 };
-pub use host_message::{HostLine, HostMessage, setpoint_capacity_hz, setpoint_line_len};
+pub use host_message::{
+    HostLine, HostMessage, MAX_READINGS_RATE_HZ, setpoint_capacity_hz, setpoint_line_len,
+};
 pub use line::{
     Assembled, ChannelValues, LineAssembler, LineBuf, LineErrorKind, MAX_CHANNELS, MAX_LINE_LEN,
-    OLDEST_PROTOCOL_VERSION, PROTOCOL_VERSION, ParseLineError,
+    OLDEST_PROTOCOL_VERSION, PROTOCOL_VERSION, ParseLineError, READING_FULL_SCALE,
 };

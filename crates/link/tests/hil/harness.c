@@ -9,10 +9,15 @@
  *   E <cycle> <channel> <level>   a servo pin changed (channels 0-5: PD2-PD7, 6: PB0)
  *   R <cycle> <line>              the host's line whose line feed just entered the UART
  *   T <cycle> <line>              the firmware's line whose line feed just left the UART
+ *   A <cycle> <input> <millivolts> an analog input was set (see below)
  *   Q <cycle> <why>               the run ended
  *
  * While running it prints "t <cycle>" on stdout every 10 ms of simulated time, so the
  * test can wait for simulated time to pass.
+ *
+ * Lines on its standard input set the analog inputs ADC0–ADC5 (AVCC is 5000 mV):
+ *
+ *   a <input> <millivolts>        input 0-7 now reads that voltage
  *
  * It stops when its standard input reaches end of file (the test closes it), after
  * MAX_SECONDS of simulated time (default 120), or if the simulated CPU stops. */
@@ -27,6 +32,7 @@
 #include <time.h>
 #include <unistd.h>
 
+#include "avr_adc.h"
 #include "avr_ioport.h"
 #include "avr_uart.h"
 #include "sim_avr.h"
@@ -51,6 +57,21 @@ static char tx_line[128];
 static size_t tx_len;
 static char rx_line[128];
 static size_t rx_len;
+
+static avr_irq_t *adc_input[8];
+static char command[64];
+static size_t command_len;
+
+/* One line of standard input: "a <input> <millivolts>" sets an analog input. */
+static void run_command(const char *text) {
+    unsigned input, millivolts;
+    if (sscanf(text, "a %u %u", &input, &millivolts) == 2 && input < 8) {
+        avr_raise_irq(adc_input[input], millivolts);
+        fprintf(log_file, "A %llu %u %u\n", (unsigned long long)avr->cycle, input, millivolts);
+    } else {
+        fprintf(stderr, "harness: unknown command \"%s\"\n", text);
+    }
+}
 
 static void log_line(char tag, char *text, size_t *len, uint8_t byte) {
     if (byte == '\n') {
@@ -158,6 +179,10 @@ int main(int argc, char **argv) {
     avr_load_firmware(avr, &firmware);
     avr->frequency = CPU_HZ;
     avr->sleep = no_sleep;
+    avr->vcc = avr->avcc = avr->aref = 5000; /* mV: the converter's reference */
+    for (int input = 0; input < 8; input++) {
+        adc_input[input] = avr_io_getirq(avr, AVR_IOCTL_ADC_GETIRQ, ADC_IRQ_ADC0 + input);
+    }
 
     uint32_t flags = 0;
     avr_ioctl(avr, AVR_IOCTL_UART_GET_FLAGS('0'), &flags);
@@ -229,11 +254,20 @@ int main(int argc, char **argv) {
             printf("t %llu\n", (unsigned long long)avr->cycle);
             fflush(stdout);
         }
-        char probe;
-        ssize_t got = read(0, &probe, 1);
+        char chunk[64];
+        ssize_t got = read(0, chunk, sizeof chunk);
         if (got == 0 || (got < 0 && errno != EAGAIN && errno != EWOULDBLOCK)) {
             why = "host closed";
             break;
+        }
+        for (ssize_t i = 0; i < got; i++) {
+            if (chunk[i] == '\n') {
+                command[command_len] = 0;
+                run_command(command);
+                command_len = 0;
+            } else if (command_len + 1 < sizeof command) {
+                command[command_len++] = chunk[i];
+            }
         }
         /* Keep simulated time from running ahead of the wall clock. */
         uint64_t simulated_ns = avr->cycle * 125u / 2u; /* 62.5 ns a cycle at 16 MHz */
