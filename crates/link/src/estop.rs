@@ -1,8 +1,10 @@
 //! The emergency-stop request path: a lock-free flag any thread can raise, which the
-//! streaming thread checks before everything else, at least once a millisecond.
+//! streaming thread checks before everything else, at least once a millisecond while it
+//! streams or waits for an answer; an idle streaming thread sleeps until the flag wakes it.
 
 use std::sync::atomic::{AtomicBool, Ordering};
-use std::sync::{Arc, Mutex, PoisonError};
+use std::sync::{Arc, Mutex, OnceLock, PoisonError};
+use std::thread::Thread;
 use std::time::Instant;
 
 /// A handle that asks for an emergency stop. Clone it freely (a key handler, a Ctrl-C
@@ -21,6 +23,9 @@ pub struct EmergencyStop {
 struct StopSignal {
     requested: AtomicBool,
     requested_at: Mutex<Option<Instant>>,
+    /// The streaming thread, woken from its idle sleep by a request (and by the link's own
+    /// commands and setpoints, through [`EmergencyStop::wake_link`]).
+    link_thread: OnceLock<Thread>,
 }
 
 impl EmergencyStop {
@@ -33,6 +38,22 @@ impl EmergencyStop {
             .unwrap_or_else(PoisonError::into_inner);
         at.get_or_insert_with(Instant::now);
         self.signal.requested.store(true, Ordering::SeqCst);
+        drop(at);
+        self.wake_link();
+    }
+
+    /// Names the streaming thread that serves this stop (called once, by that thread).
+    pub(crate) fn serve_from(&self, thread: Thread) {
+        let _ = self.signal.link_thread.set(thread);
+    }
+
+    /// Wakes the streaming thread if it sleeps idle; it then looks at the stop flag, its
+    /// commands and its setpoints at once. A wake before it sleeps is kept for that sleep
+    /// (the token of [`std::thread::Thread::unpark`]), so none is lost.
+    pub(crate) fn wake_link(&self) {
+        if let Some(thread) = self.signal.link_thread.get() {
+            thread.unpark();
+        }
     }
 
     /// Takes a pending request: the time it was first made, or `None` when there is none.

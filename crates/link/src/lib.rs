@@ -20,15 +20,17 @@ mod protocol; // line protocol: encoder and parser for both directions, CRC, lin
 mod pulse; // joint position → pulse width through the calibration, rounding and clamping
 mod setpoints; // a plan's samples → device setpoints, for streaming
 mod sim_arm; // the arm as the simulated device moves it: pulses → servo model, frame by frame
+#[cfg(unix)]
+mod sim_clock; // a simulated microcontroller's clock: wall time less the thread's waits for a processor
 mod sim_device; // in-process simulated device with watchdog, clamping and stop latch
 mod sim_readings; // the simulated device's analog readings: a recording or a scripted motion
 mod stream; // streaming thread: schedule, flow control, stop path, link watch, statistics
 
 pub use crate::error::{LinkError, LinkLoss};
 pub use crate::estop::{EmergencyStop, ResetConfirmation};
-#[cfg(unix)]
-pub use crate::port::SimPty;
 pub use crate::port::{PortSummary, SerialTransport, SimTransport, Transport, UsbIds, list_ports};
+#[cfg(unix)]
+pub use crate::port::{ProcessorWaits, SimPty};
 pub use crate::protocol::{
     Ack, AckOutcome, Assembled, ChannelOutput, ChannelValues, DeviceInfo, DeviceLine,
     DeviceMessage, DeviceMode, DeviceStatus, Faults, FirmwareVersion, HostLine, HostMessage,

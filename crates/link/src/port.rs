@@ -6,6 +6,8 @@ use std::sync::{Arc, Mutex, PoisonError};
 use std::time::{Duration, Instant};
 
 use crate::error::LinkError;
+#[cfg(unix)]
+use crate::sim_clock::SimClock;
 use crate::sim_device::{SimDevice, SimDeviceConfig};
 
 /// A byte pipe to a device. The streaming thread owns it.
@@ -22,6 +24,13 @@ pub trait Transport: Send {
     /// # Errors
     /// The operating system's error; the streaming thread then reports the link lost.
     fn read_timeout(&mut self, buf: &mut [u8], timeout: Duration) -> io::Result<usize>;
+
+    /// How often an idle streaming thread must look at this transport although it expects
+    /// nothing from it; `None` (the default): only when its heartbeat is due. A port needs no
+    /// looking at; the in-process simulated device moves its clock only when looked at.
+    fn idle_look_interval(&self) -> Option<Duration> {
+        None
+    }
 }
 
 /// A serial port (or the device end of a pseudo-terminal) opened with the `serialport` crate.
@@ -160,22 +169,46 @@ impl Transport for SimTransport {
             if count > 0 || now >= until {
                 return Ok(count);
             }
-            // A millisecond between looks: the stream thread's own tick, so an idle link
-            // wakes a thousand times a second rather than five thousand.
+            // A millisecond between looks: the stream thread's own tick while it waits for
+            // an answer.
             std::thread::sleep((until - now).min(Duration::from_millis(1)));
         }
+    }
+
+    /// Once a pulse frame: the device starts its frames (and moves its arm) only when
+    /// looked at, and a window drawing that arm wants every frame.
+    fn idle_look_interval(&self) -> Option<Duration> {
+        let device = self.device.lock().unwrap_or_else(PoisonError::into_inner);
+        Some(device.frame_period())
     }
 }
 
 /// The simulated device behind a pseudo-terminal, so the real serial code path can be used
-/// with no hardware: open [`SimPty::path`] with [`SerialTransport::open`]. The device runs on
-/// the wall clock in its own thread until this value is dropped.
+/// with no hardware: open [`SimPty::path`] with [`SerialTransport::open`]. The device runs in
+/// its own thread until this value is dropped, on a microcontroller's clock: the wall clock
+/// less the time that thread waited for a processor (on Linux), so a busy computer does not
+/// trip the device's watchdog while the host's lines wait unread ([`SimPty::processor_waits`]).
 #[cfg(unix)]
 pub struct SimPty {
     path: String,
     device: Arc<Mutex<SimDevice>>,
+    waits: Arc<Mutex<ProcessorWaits>>,
     running: Arc<std::sync::atomic::AtomicBool>,
     thread: Option<std::thread::JoinHandle<()>>,
+}
+
+/// The time a [`SimPty`]'s thread waited for a processor, which its device's clock does not
+/// count (a microcontroller is never held up).
+#[cfg(unix)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub struct ProcessorWaits {
+    /// Whether the waits can be seen on this system (Linux); when not, the device runs on
+    /// the wall clock and the durations stay zero.
+    pub seen: bool,
+    /// All the waits since the device started.
+    pub total: Duration,
+    /// The longest wait between two looks at the pseudo-terminal.
+    pub longest: Duration,
 }
 
 #[cfg(unix)]
@@ -205,9 +238,11 @@ impl SimPty {
         serialport::SerialPort::set_timeout(&mut master, Duration::from_millis(1))
             .map_err(pty_error)?;
         let device = Arc::new(Mutex::new(device));
+        let waits = Arc::new(Mutex::new(ProcessorWaits::default()));
         let running = Arc::new(AtomicBool::new(true));
         let thread = {
             let device = Arc::clone(&device);
+            let waits = Arc::clone(&waits);
             let running = Arc::clone(&running);
             std::thread::Builder::new()
                 .name("armwright-sim-pty".to_owned())
@@ -215,15 +250,21 @@ impl SimPty {
                     // Keeping the device end open stops reads on the master failing while
                     // no host has the path open.
                     let _device_end = device_end;
-                    let start = Instant::now();
+                    let mut clock = SimClock::start();
                     let mut buf = [0u8; 256];
                     let mut out = Vec::new();
                     while running.load(Ordering::Relaxed) {
                         // The time is taken before the read: if this thread is held up
                         // between the two, the bytes that arrived meanwhile are still read
                         // before the device judges its watchdog, as a microcontroller,
-                        // which is never held up, would have seen them.
-                        let now = start.elapsed();
+                        // which is never held up, would have seen them. The clock leaves
+                        // out the time this thread waited for a processor (see SimClock).
+                        let now = clock.now();
+                        *waits.lock().unwrap_or_else(PoisonError::into_inner) = ProcessorWaits {
+                            seen: clock.sees_waits(),
+                            total: clock.not_counted(),
+                            longest: clock.longest_wait(),
+                        };
                         let count = match master.read(&mut buf) {
                             Ok(count) => count,
                             Err(_) => {
@@ -250,6 +291,7 @@ impl SimPty {
         Ok(Self {
             path,
             device,
+            waits,
             running,
             thread: Some(thread),
         })
@@ -263,6 +305,11 @@ impl SimPty {
     /// A shared handle to the simulated device.
     pub fn device(&self) -> Arc<Mutex<SimDevice>> {
         Arc::clone(&self.device)
+    }
+
+    /// How long the device's thread has waited for a processor, time its clock left out.
+    pub fn processor_waits(&self) -> ProcessorWaits {
+        *self.waits.lock().unwrap_or_else(PoisonError::into_inner)
     }
 }
 

@@ -239,6 +239,11 @@ impl SimDevice {
             .unwrap_or_default()
     }
 
+    /// The pulse frame period.
+    pub fn frame_period(&self) -> Duration {
+        self.config.frame_period
+    }
+
     /// The latest time the device has seen, since power-up.
     pub fn clock(&self) -> Duration {
         self.now

@@ -106,6 +106,10 @@ pub struct StreamStats {
     pub acks_late: u64,
     /// Longest wait for an acknowledgement so far.
     pub ack_wait_max: Duration,
+    /// Longest time between two lines written while streaming: the longest silence the
+    /// device heard from this host (its watchdog trips after 250 ms of it). A host held up
+    /// by a busy computer shows here, whatever the device made of it.
+    pub send_gap_max: Duration,
     /// The device's newest status line (one is read at connect).
     pub last_status: Option<DeviceStatus>,
     /// What the device said it was sending, newest first read at connect; `None` for a
@@ -330,7 +334,9 @@ impl Link {
             .as_ref()
             .ok_or(LinkError::Closed)?
             .send(command)
-            .map_err(|_| LinkError::Closed)
+            .map_err(|_| LinkError::Closed)?;
+        self.stop.wake_link();
+        Ok(())
     }
 
     /// Starts a stream: the first setpoint pushed goes out at once, each later one a
@@ -366,6 +372,7 @@ impl Link {
             .ok_or(LinkError::Closed)?
             .send(values)
             .map_err(|_| LinkError::Closed)?;
+        self.stop.wake_link();
         self.refuse_unless_streaming()
     }
 
@@ -430,6 +437,7 @@ impl Drop for Link {
         // Closing both channels tells the thread to hold the device and end.
         self.commands.take();
         self.setpoints.take();
+        self.stop.wake_link();
         if let Some(thread) = self.thread.take() {
             let _ = thread.join();
         }
@@ -541,6 +549,7 @@ struct Worker {
 
 impl Worker {
     fn run(&mut self, greeting_reply: Sender<Result<DeviceInfo, LinkError>>) {
+        self.stop.serve_from(std::thread::current());
         match self
             .greet()
             .and_then(|device| self.learn_state().map(|()| device))
@@ -715,11 +724,51 @@ impl Worker {
         self.serve_stream(now);
         self.serve_controls(now);
         self.publish();
+        if let Some(sleep) = self.idle_sleep(Instant::now()) {
+            // Nothing to send and no answer awaited: sleep until the next heartbeat is due.
+            // A stop, a command, a setpoint or the handle going away wakes the thread at
+            // once (they unpark it); what the device sent meanwhile is read on waking.
+            std::thread::park_timeout(sleep);
+            return true;
+        }
         let wait = self.wait_budget(Instant::now());
         if let Err(loss) = self.read_lines(wait) {
             self.lose(loss);
         }
         true
+    }
+
+    /// How long the thread may sleep when it is idle: no stream, no line waiting for its
+    /// acknowledgement, nothing queued to send, no stop being repeated, no state asked
+    /// for; `None` when it is not idle and must keep watching the line.
+    fn idle_sleep(&self, now: Instant) -> Option<Duration> {
+        let stop_unanswered =
+            self.stop_requested_at.is_some() && self.stats.stop_ack_latency.is_none();
+        let idle = self.schedule.is_none()
+            && self.in_flight.is_empty()
+            && self.controls.is_empty()
+            && self.refresh.is_none()
+            && self.reset_reply.is_none()
+            && !stop_unanswered
+            && matches!(
+                self.stats.state,
+                LinkState::Idle | LinkState::Stopped | LinkState::Lost
+            );
+        if !idle {
+            return None;
+        }
+        let next_heartbeat = self.last_sent + self.options.heartbeat_interval;
+        let until_heartbeat = if self.stats.state == LinkState::Lost {
+            // No heartbeats on a lost link: only a command can change anything.
+            self.options.heartbeat_interval
+        } else {
+            next_heartbeat.saturating_duration_since(now)
+        };
+        Some(
+            self.transport
+                .idle_look_interval()
+                .map_or(until_heartbeat, |look| look.min(until_heartbeat)),
+        )
     }
 
     fn wait_budget(&self, now: Instant) -> Duration {
@@ -965,6 +1014,10 @@ impl Worker {
             sent_at: now,
             message,
         });
+        if self.stats.state == LinkState::Streaming {
+            let gap = now.saturating_duration_since(self.last_sent);
+            self.stats.send_gap_max = self.stats.send_gap_max.max(gap);
+        }
         self.last_sent = now;
         Ok(())
     }

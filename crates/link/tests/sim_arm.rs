@@ -237,21 +237,39 @@ fn the_arm_moves_behind_a_pseudo_terminal_too() {
         )
     });
     assert!(finished, "{:?}", link.stats());
-    // The device keeps its last pulses (heartbeats keep its watchdog fed) while the arm settles.
-    std::thread::sleep(Duration::from_millis(1500));
+    // The device keeps its last pulses (heartbeats keep its watchdog fed) while the arm
+    // settles: wait, with a generous deadline, for every joint to come within 3°.
     let shared = pty.device();
-    let pose = shared
-        .lock()
-        .expect("device")
-        .arm_positions()
-        .expect("an arm")
-        .to_vec();
-    for (j, (actual, wanted)) in pose.iter().zip(TARGET).enumerate() {
+    let pose = || {
+        shared
+            .lock()
+            .expect("device")
+            .arm_positions()
+            .expect("an arm")
+            .to_vec()
+    };
+    let settled = |pose: &[f64]| {
+        pose.iter()
+            .zip(TARGET)
+            .all(|(actual, wanted)| (actual - wanted).abs() < 3_f64.to_radians())
+    };
+    let until = std::time::Instant::now() + Duration::from_secs(10);
+    while !settled(&pose()) {
+        let pose = pose();
         assert!(
-            (actual - wanted).abs() < 3_f64.to_radians(),
-            "joint {j}: {:.2}° for {:.2}°",
-            actual.to_degrees(),
-            wanted.to_degrees()
+            std::time::Instant::now() < until,
+            "not settled: {:?}° for {:?}°",
+            pose.iter().map(|a| a.to_degrees()).collect::<Vec<_>>(),
+            TARGET.iter().map(|a| a.to_degrees()).collect::<Vec<_>>()
         );
+        std::thread::sleep(Duration::from_millis(10));
     }
+    // It settled while driving: nothing tripped or stopped it.
+    let status = shared.lock().expect("device").status();
+    assert_eq!(
+        status.mode,
+        armwright_link::DeviceMode::Driving,
+        "{status:?}"
+    );
+    assert_eq!(status.watchdog_trips, 0, "{status:?}");
 }

@@ -13,7 +13,7 @@ use armwright_link::{
     ChannelValues, DeviceMode, HostMessage, Link, LinkError, LinkEvent, LinkLoss, LinkState,
     ResetConfirmation, SimDevice, SimDeviceConfig, SimTransport, StreamOptions,
 };
-use common::{Faults, Recorder, Written, sweep, wait_for};
+use common::{Faults, Recorder, Written, sweep, wait_for, wait_until};
 
 type Log = Arc<Mutex<Vec<Written>>>;
 
@@ -46,17 +46,21 @@ fn a_stream_runs_on_its_schedule_and_reaches_the_device() {
         matches!(e, LinkEvent::StreamFinished { .. })
     });
     assert_eq!(event, LinkEvent::StreamFinished { frames_sent: 60 });
-    std::thread::sleep(Duration::from_millis(60));
+    wait_until("the last acknowledgement", Duration::from_secs(10), || {
+        link.stats().frames_acked == 60
+    });
     let stats = link.stats();
     assert_eq!(stats.state, LinkState::Idle);
     assert_eq!((stats.frames_sent, stats.frames_acked), (60, 60));
     assert_eq!(stats.frames_dropped, 0);
-    // The device ends on the last setpoint.
-    let pulses = device.lock().expect("device").pulse_units();
-    assert_eq!(pulses, Some(sweep(frames - 1)));
+    // The device ends on the last setpoint (it starts it at its next pulse frame).
+    wait_until("the last setpoint output", Duration::from_secs(10), || {
+        device.lock().expect("device").pulse_units() == Some(sweep(frames - 1))
+    });
     // No drift: setpoint k is due at start + k × 10 ms. A write may be late on a busy
-    // machine, but the next ones return to the schedule, so most writes are on time; a
-    // schedule that slept a period after each write would fall further behind each time.
+    // machine, but the next ones return to the schedule, so lateness does not add up and
+    // the typical write is late by less than a period; a schedule that slept a period after
+    // each write would fall further behind each time (by the 60th write, dozens of ms).
     let sent: Vec<Instant> = log
         .lock()
         .expect("log")
@@ -78,11 +82,10 @@ fn a_stream_runs_on_its_schedule_and_reaches_the_device() {
         .enumerate()
         .map(|(k, &at)| at - (start + period * k as u32))
         .collect();
-    let on_time = lateness
-        .iter()
-        .filter(|&&late| late < Duration::from_millis(1))
-        .count();
-    assert!(on_time >= 30, "{on_time} of 60 on time: {lateness:?}");
+    let mut sorted = lateness.clone();
+    sorted.sort();
+    let median = sorted[sorted.len() / 2];
+    assert!(median < period, "median lateness {median:?}: {lateness:?}");
     assert!(
         stats.jitter_mean <= stats.jitter_max
             && stats.jitter_p99 <= stats.jitter_max + Duration::from_micros(10)
@@ -118,15 +121,32 @@ fn setpoints_with_the_wrong_channel_count_are_refused() {
 #[test]
 fn an_idle_link_sends_heartbeats() {
     let (link, _, log) = connect(Faults::default());
-    std::thread::sleep(Duration::from_millis(350));
-    let beats = log
-        .lock()
-        .expect("log")
-        .iter()
-        .filter(|w| w.line.message == HostMessage::Heartbeat)
-        .count();
+    let beats = || -> Vec<Instant> {
+        log.lock()
+            .expect("log")
+            .iter()
+            .filter(|w| w.line.message == HostMessage::Heartbeat)
+            .map(|w| w.at)
+            .collect()
+    };
     // One asks for the device's state at connect; then one every 100 ms.
-    assert!((4..=5).contains(&beats), "{beats} heartbeats in 350 ms");
+    wait_until("four heartbeats", Duration::from_secs(10), || {
+        beats().len() >= 4
+    });
+    let beats = beats();
+    for pair in beats.windows(2) {
+        let gap = pair[1] - pair[0];
+        // Never more often than the interval (the idle thread sleeps between them); the
+        // upper end is the device's watchdog time, which a heartbeat must beat.
+        assert!(
+            gap >= Duration::from_millis(99),
+            "{gap:?} between heartbeats"
+        );
+        assert!(
+            gap < Duration::from_millis(250),
+            "{gap:?} between heartbeats"
+        );
+    }
     assert!(
         link.stats().last_status.is_some(),
         "heartbeats bring status lines"
@@ -213,12 +233,17 @@ fn device_pauses_of_100_ms_do_not_end_a_stream_and_count_as_late() {
     let control = Arc::clone(&recorder.control);
     let link = Link::connect(Box::new(recorder), StreamOptions::default()).expect("connects");
     link.start_stream().expect("streams");
-    let frames = 200u32; // 2 s at 100 Hz
-    let link = std::thread::scope(|scope| {
+    let frames = 400u32; // 4 s at 100 Hz
+    std::thread::scope(|scope| {
         scope.spawn(|| {
             for _ in 0..5 {
-                std::thread::sleep(Duration::from_millis(150));
+                // Between pauses the device answers again: ten more acknowledgements.
+                let acked = link.stats().frames_acked;
+                wait_until("the stream going on", Duration::from_secs(10), || {
+                    link.stats().frames_acked >= acked + 10
+                });
                 control.paused.store(true, Ordering::SeqCst);
+                // The pause itself: the device is away this long, which is what is tested.
                 std::thread::sleep(Duration::from_millis(100));
                 control.paused.store(false, Ordering::SeqCst);
             }
@@ -228,12 +253,11 @@ fn device_pauses_of_100_ms_do_not_end_a_stream_and_count_as_late() {
                 .expect("the pauses do not end the stream");
         }
         link.finish_stream().expect("alive");
-        link
     });
     let event = wait_for(&link, Duration::from_secs(10), |e| {
         matches!(e, LinkEvent::StreamFinished { .. } | LinkEvent::Lost(_))
     });
-    assert_eq!(event, LinkEvent::StreamFinished { frames_sent: 200 });
+    assert_eq!(event, LinkEvent::StreamFinished { frames_sent: 400 });
     let stats = link.stats();
     assert!(stats.acks_late >= 5, "{stats:?}");
     assert!(stats.ack_wait_max >= Duration::from_millis(80), "{stats:?}");
@@ -364,7 +388,9 @@ fn a_device_stop_the_host_did_not_send_ends_the_stream() {
     for step in 0..5 {
         link.push_setpoint(sweep(step)).expect("queued");
     }
-    std::thread::sleep(Duration::from_millis(30));
+    wait_until("the device driving", Duration::from_secs(10), || {
+        device.lock().expect("device").mode() == DeviceMode::Driving
+    });
     // Someone else latches the device's stop (a second host, a button on the device).
     let injected = Instant::now();
     {

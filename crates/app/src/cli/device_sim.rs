@@ -1,7 +1,8 @@
 //! `armwright device-sim`: the simulated device behind a pseudo-terminal, so `stream --port`
 //! can use the real serial code path with no hardware. Prints the path on standard output,
 //! each change of the device's mode, faults or watchdog trips on standard error, and runs
-//! until Ctrl-C. Its analog inputs can play a recording (`--readings FILE`) or sweep slowly
+//! until Ctrl-C; then says how long its process waited for a processor, time the device's
+//! clock left out as a microcontroller's would. Its analog inputs can play a recording (`--readings FILE`) or sweep slowly
 //! (`--sweep-inputs N`); `readings_source` turns those options into the device's source, for
 //! `capture --simulated` too.
 
@@ -106,8 +107,18 @@ pub(crate) fn run(channels: u8, readings: &SimReadings) -> Outcome {
             Ok(()) | Err(std::sync::mpsc::RecvTimeoutError::Disconnected) => break,
         }
     }
+    let waits = pty.processor_waits();
     drop(pty);
     eprintln!("simulated device stopped");
+    if waits.seen {
+        // A microcontroller is never held up: time the simulator waited for a processor
+        // was not device time (so it did not count toward the watchdog).
+        eprintln!(
+            "its clock left out {:.0} ms this process waited for a processor (longest {:.0} ms)",
+            waits.total.as_secs_f64() * 1e3,
+            waits.longest.as_secs_f64() * 1e3
+        );
+    }
     Outcome::Done
 }
 

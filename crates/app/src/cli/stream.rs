@@ -32,8 +32,10 @@ rest pose first. Ctrl-C sends the emergency stop; the device then holds its puls
 /// How often progress is printed on standard error while streaming.
 const PROGRESS_INTERVAL: Duration = Duration::from_secs(1);
 
-/// How long to wait for the last acknowledgements after the last setpoint went out.
-const LAST_ACK_WAIT: Duration = Duration::from_millis(250);
+/// The longest wait for the last acknowledgements after the last setpoint went out. The
+/// link itself gives up on an unanswered line within 500 ms (`PROTOCOL.md` §8), which ends
+/// the wait sooner; this only bounds it should the link's thread be held up.
+const LAST_ACK_WAIT: Duration = Duration::from_secs(2);
 
 /// The options of one `stream` run.
 pub(crate) struct StreamRequest<'a> {
@@ -479,6 +481,7 @@ fn report(json: bool, summary: &Summary) -> Outcome {
             "frames_dropped": stats.frames_dropped,
             "acks_late": stats.acks_late,
             "ack_wait_max_ms": ms(stats.ack_wait_max),
+            "send_gap_max_ms": ms(stats.send_gap_max),
             "device_silent_ms": match stats.loss {
                 Some(LinkLoss::NoAck { silent, .. }) => json!(ms(silent)),
                 _ => Value::Null,

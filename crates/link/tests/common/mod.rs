@@ -114,6 +114,10 @@ impl Transport for Recorder {
         }
         self.inner.read_timeout(buf, timeout)
     }
+
+    fn idle_look_interval(&self) -> Option<Duration> {
+        self.inner.idle_look_interval()
+    }
 }
 
 /// Seven pulse widths (µs, 1 µs units) sweeping smoothly with `step`.
@@ -137,4 +141,14 @@ pub fn wait_for(link: &Link, within: Duration, wanted: impl Fn(&LinkEvent) -> bo
         }
     }
     panic!("no such event within {within:?}; stats {:?}", link.stats());
+}
+
+/// Waits up to `within` for `done` to hold, looking every 2 ms; panics saying `what` did not
+/// happen when it does not.
+pub fn wait_until(what: &str, within: Duration, mut done: impl FnMut() -> bool) {
+    let until = Instant::now() + within;
+    while !done() {
+        assert!(Instant::now() < until, "{what}: not within {within:?}");
+        std::thread::sleep(Duration::from_millis(2));
+    }
 }

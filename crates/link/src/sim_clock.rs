@@ -1,0 +1,163 @@
+//! The clock of a simulated device that runs in a thread of its own: a microcontroller's time,
+//! which does not jump when the computer simulating it gives its processor to something else.
+//!
+//! A microcontroller is never descheduled: it sees each byte as it arrives and judges its
+//! watchdog on time that really passed between bytes. A thread that simulates one on a busy
+//! computer can wait hundreds of milliseconds for a processor while the host's lines pile up
+//! in the pseudo-terminal; on the wall clock that wait would look to the device like a host
+//! that said nothing, and its watchdog would trip although the host was on time. So this clock
+//! is the wall clock less the time the simulating thread was ready to run but waited for a
+//! processor (Linux's run-queue delay of the thread, `/proc/thread-self/schedstat`, second
+//! field, in ns). Time the thread slept waiting for input still counts: a host that really
+//! stays silent for the watchdog time still trips it. Time the whole process was stopped
+//! (SIGSTOP) counts too: the device paused, as a device can. Where the run-queue delay cannot
+//! be read (another system, a kernel without it), the clock is the wall clock.
+//!
+//! What this cannot see: a host that was silent during the very stretch the simulator waited
+//! for a processor is forgiven for that stretch. The host measures its own longest silence
+//! toward the device ([`crate::StreamStats::send_gap_max`]) for that reason.
+
+use std::time::{Duration, Instant};
+
+/// A simulated device's clock for the calling thread; see the module's description.
+#[derive(Debug)]
+pub(crate) struct SimClock {
+    start: Instant,
+    run_delay: Option<RunDelay>,
+    /// Run-queue delay of the thread when the clock started, and at the newest look.
+    delay_at_start: Duration,
+    delay_seen: Duration,
+    /// The largest run-queue delay between two looks at the clock.
+    longest_wait: Duration,
+}
+
+impl SimClock {
+    /// A clock reading zero now, for the calling thread (read it from that thread only).
+    pub(crate) fn start() -> Self {
+        let mut run_delay = RunDelay::open();
+        let delay_at_start = run_delay
+            .as_mut()
+            .and_then(RunDelay::read)
+            .unwrap_or_default();
+        Self {
+            start: Instant::now(),
+            run_delay,
+            delay_at_start,
+            delay_seen: delay_at_start,
+            longest_wait: Duration::ZERO,
+        }
+    }
+
+    /// The device's time since the clock started: wall time less the thread's waits for a
+    /// processor.
+    pub(crate) fn now(&mut self) -> Duration {
+        if let Some(delay) = self.run_delay.as_mut().and_then(RunDelay::read) {
+            self.longest_wait = self.longest_wait.max(delay.saturating_sub(self.delay_seen));
+            self.delay_seen = self.delay_seen.max(delay);
+        }
+        self.start.elapsed().saturating_sub(self.not_counted())
+    }
+
+    /// Time the thread waited for a processor since the clock started, which the device's
+    /// time does not count.
+    pub(crate) fn not_counted(&self) -> Duration {
+        self.delay_seen.saturating_sub(self.delay_at_start)
+    }
+
+    /// The longest such wait between two looks at the clock.
+    pub(crate) fn longest_wait(&self) -> Duration {
+        self.longest_wait
+    }
+
+    /// Whether the clock can see the thread's waits for a processor (else it is the wall
+    /// clock).
+    pub(crate) fn sees_waits(&self) -> bool {
+        self.run_delay.is_some()
+    }
+}
+
+/// The calling thread's run-queue delay, read from `/proc/thread-self/schedstat`.
+#[derive(Debug)]
+struct RunDelay {
+    #[cfg(target_os = "linux")]
+    file: std::fs::File,
+}
+
+impl RunDelay {
+    #[cfg(target_os = "linux")]
+    fn open() -> Option<Self> {
+        let mut opened = Self {
+            file: std::fs::File::open("/proc/thread-self/schedstat").ok()?,
+        };
+        opened.read().map(|_| opened)
+    }
+
+    #[cfg(not(target_os = "linux"))]
+    fn open() -> Option<Self> {
+        None
+    }
+
+    #[cfg(target_os = "linux")]
+    fn read(&mut self) -> Option<Duration> {
+        use std::os::unix::fs::FileExt;
+        let mut buf = [0u8; 96];
+        let count = self.file.read_at(&mut buf, 0).ok()?;
+        parse_run_delay(buf.get(..count)?)
+    }
+
+    #[cfg(not(target_os = "linux"))]
+    fn read(&mut self) -> Option<Duration> {
+        None
+    }
+}
+
+/// The second field of a schedstat line ("run time, run-queue delay, time slices", ns).
+fn parse_run_delay(text: &[u8]) -> Option<Duration> {
+    let text = std::str::from_utf8(text).ok()?;
+    let nanos = text.split_ascii_whitespace().nth(1)?.parse::<u64>().ok()?;
+    Some(Duration::from_nanos(nanos))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn the_second_schedstat_field_is_the_run_queue_delay() {
+        assert_eq!(
+            parse_run_delay(b"50539917 573547104 31\n"),
+            Some(Duration::from_nanos(573_547_104))
+        );
+        assert_eq!(parse_run_delay(b"50539917\n"), None);
+        assert_eq!(parse_run_delay(b"a b c\n"), None);
+    }
+
+    #[test]
+    fn the_clock_never_runs_ahead_of_the_wall_clock_and_never_goes_back() {
+        let wall = Instant::now();
+        let mut clock = SimClock::start();
+        let mut last = Duration::ZERO;
+        // Busy work, so that on a loaded machine the thread waits for a processor.
+        let mut sum = 0u64;
+        for round in 0..200u64 {
+            for i in 0..20_000u64 {
+                sum = sum.wrapping_add(std::hint::black_box(i * round));
+            }
+            let now = clock.now();
+            assert!(
+                now + Duration::from_millis(1) >= last,
+                "{now:?} after {last:?}"
+            );
+            assert!(now <= wall.elapsed(), "{now:?}");
+            last = now.max(last);
+        }
+        assert!(clock.longest_wait() <= clock.not_counted());
+        std::hint::black_box(sum);
+    }
+
+    #[cfg(target_os = "linux")]
+    #[test]
+    fn on_linux_the_waits_for_a_processor_are_seen() {
+        assert!(SimClock::start().sees_waits());
+    }
+}
