@@ -1,7 +1,7 @@
 //! Starts the real `armwright` binary on a sample scene under a virtual X screen, takes a PNG of
 //! the screen and checks that it is not blank. The PNG stays under `target/` for a person to
-//! look at. Fails when `xvfb-run` or ImageMagick is absent, or skips under
-//! `ARMWRIGHT_ALLOW_SKIP=1` (`tests/outside_tool.rs`).
+//! look at. Skips with a notice when `xvfb-run` or ImageMagick is absent, or fails
+//! under `ARMWRIGHT_STRICT=1` (`tests/outside_tool.rs`).
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 #[path = "../../../tests/outside_tool.rs"]

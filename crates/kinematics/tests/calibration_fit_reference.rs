@@ -3,8 +3,8 @@
 //! written by `tests/reference/generate_calibration_fit.py`.
 //!
 //! The comparison needs no Python and always runs. A second check regenerates the fixture and
-//! compares it with the committed one; when Python or NumPy is missing it fails, or skips under
-//! `ARMWRIGHT_ALLOW_SKIP=1` (`tests/outside_tool.rs`).
+//! compares it with the committed one; when Python or NumPy is missing it skips with a notice, or fails
+//! under `ARMWRIGHT_STRICT=1` (`tests/outside_tool.rs`).
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 #[path = "../../../tests/reference/support.rs"]

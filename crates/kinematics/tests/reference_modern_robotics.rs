@@ -4,7 +4,7 @@
 //!
 //! The comparison needs no Python and always runs. A second check regenerates the fixtures
 //! with the Python script and compares them with the committed ones; when Python or the library
-//! is missing it fails, or skips under `ARMWRIGHT_ALLOW_SKIP=1` (`tests/outside_tool.rs`).
+//! is missing it skips with a notice, or fails under `ARMWRIGHT_STRICT=1` (`tests/outside_tool.rs`).
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod common;

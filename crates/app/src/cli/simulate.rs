@@ -19,9 +19,7 @@ use super::clearance::{Motion, SceneCell, any_contact};
 use super::plan::{TORQUE_INTERVAL, approach_json, load_and_plan};
 use super::report::{TORQUE_BASIS, all_rounded, fail, print_json, rounded};
 use crate::approach::approach_note;
-use crate::scene::{
-    Arrival, Placement, Scene, dry_run_of, placements_of, pose_from_file_units, position_to_file_unit,
-};
+use crate::scene::{Arrival, Placement, Scene, dry_run_of, placements_of, position_to_file_unit};
 
 pub(crate) fn run(file: &Path, json: bool) -> Outcome {
     let (scene, arm, plan) = match load_and_plan(file, json) {

@@ -13,14 +13,14 @@ use std::time::{Duration, Instant};
 use armwright_kinematics::{Arm, JointKind};
 use armwright_link::{
     ChannelValues, DeviceInfo, EmergencyStop, Link, LinkError, LinkEvent, LinkState, PortSummary,
-    ReadingsSource, ResetConfirmation, SerialTransport, SimDevice, SimDeviceConfig, SimTransport, StreamOptions,
-    StreamStats, Transport, list_ports,
+    ReadingsSource, ResetConfirmation, SerialTransport, SimDevice, SimDeviceConfig, SimTransport,
+    StreamOptions, StreamStats, Transport, list_ports,
 };
 use armwright_trajectory::ServoModelOptions;
 
 use super::estop::{StopLink, StopRequest};
-use crate::approach::stream_plan;
 use super::follow::{FollowAction, FollowRun, FollowView};
+use crate::approach::stream_plan;
 use crate::scene::{Device, Scene, plan_of};
 
 /// Setpoints queued ahead of the device: a pause takes effect within this many periods.

@@ -108,7 +108,8 @@ pub fn sequence(ui: &mut Ui, state: &EditorState) -> Command {
                 .show_rows(ui, ROW_HEIGHT, count, |ui, rows| {
                     for index in rows {
                         if let Some(waypoint) = state.scene.waypoints.get(index) {
-                            let row = waypoint_row(ui, state, index, waypoint, selected == Some(index));
+                            let row =
+                                waypoint_row(ui, state, index, waypoint, selected == Some(index));
                             if row != Command::None {
                                 command = row;
                             }
