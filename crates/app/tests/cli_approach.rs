@@ -3,7 +3,7 @@
 //! woken at its rest pose (each joint's home), held for the wake pause, then approaches the
 //! first waypoint; from a device holding another pose, the first setpoint is the pulses the
 //! device reported (to one pulse unit) and the approach starts there.
-
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 #![cfg(unix)]
 
 mod common;

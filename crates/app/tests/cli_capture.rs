@@ -1,6 +1,7 @@
 //! `armwright capture`: the pose the input arm gives, from the in-process simulated device
 //! playing a recording, and as processes through `device-sim` sweeping its inputs behind a
 //! pseudo-terminal; and what it says when it cannot.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod common;
 

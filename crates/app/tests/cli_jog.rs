@@ -1,6 +1,7 @@
 //! `armwright jog` as a process against the in-process simulated device: a typed script jogs
 //! a joint and the tool point and quits with the device holding; `stop` sends the emergency
 //! stop at once, mid-move, and the device confirms it; no confirmation sends nothing.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod common;
 

@@ -2,6 +2,7 @@
 //! (`placement_tolerance_mm`) and each joint's calibration uncertainty (`calibration.
 //! uncertainty_deg`, written by `calibrate --write` from the fit's residuals) reach
 //! `simulate --json`.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod common;
 

@@ -2,6 +2,7 @@
 //! stream time; connected to the limp simulated device it draws the wake at the rest pose and
 //! the approach before time 0 and counts it in the cycle; a stream starts with it; once the
 //! device holds the arm (after a pause), the approach drawn starts from there.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod editor_common;
 

@@ -3,6 +3,7 @@
 //! angle the simulated arm really turned to, as a person would read it off the protractor),
 //! its deadband is found by the 1 µs search, and Apply writes both into the scene as one undo
 //! step.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod editor_common;
 

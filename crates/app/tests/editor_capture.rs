@@ -2,6 +2,7 @@
 //! analog inputs sweep slowly, on a scene that maps four of them to the joints; the input arm
 //! follows the readings, the capture key stores the mapped pose as a waypoint (one undo step),
 //! and with no inputs mapped the key says why nothing was stored.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod editor_common;
 

@@ -2,6 +2,7 @@
 //! the caution, the device's arm follows a jogged joint and a nudged tool point, "Store pose"
 //! stores what the arm is doing, the emergency stop turns follow off and the device reports the
 //! stop, and turning follow off leaves the device holding.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod editor_common;
 

@@ -5,6 +5,7 @@
 //! egui hands every piece of text it draws to the renderer as a text shape with its position and
 //! laid-out glyphs; the test takes each one's visible box (the glyphs' bounds cut to its clip
 //! rectangle, so text scrolled out of sight does not count) and fails on any two that cross.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod editor_common;
 

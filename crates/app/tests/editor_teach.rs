@@ -3,6 +3,7 @@
 //! both views, each drag to a spot the view's shading marks reachable at the held tool angle; the dry run; a retime (never slower than the start when the start already meets
 //! the target), applied; saved through the path box; and the saved file passes `armwright
 //! check` and `armwright simulate`.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod editor_common;
 

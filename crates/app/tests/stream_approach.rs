@@ -4,6 +4,7 @@
 //! approach moves a joint's pulse further than its speed cap allows (property test); from a limp
 //! device the first setpoint is the rest pose, held for the wake pause; `--park` ends at the rest
 //! pose.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 use std::path::Path;
 

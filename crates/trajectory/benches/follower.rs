@@ -1,6 +1,7 @@
 //! Follower benchmarks: one tick for six joints, with the target held (the joints step along
 //! their plans) and with the target moving every tick (every joint plans again, as while the
 //! tool point is dragged).
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod common;
 

@@ -1,6 +1,7 @@
 //! The approach and park moves: where they start and end, the hold before the move, the speed
 //! cap between any two samples (property over random start poses), and one clock for the whole
 //! stream.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 #[path = "../../kinematics/tests/common/mod.rs"]
 mod common;

@@ -1,6 +1,7 @@
 //! The follower: limits and travel hold for any target sequence (proptest, judged from the
 //! positions it sends), and a step from rest takes the rest-to-rest double-S profile's time,
 //! checked against our own profile and against `rsruckig`.
+#![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 use armwright_trajectory::{FollowJoint, Follower, JointLimits, JointMove, Profile};
 use proptest::prelude::*;
