@@ -19,10 +19,10 @@ fn number(value: &Value) -> f64 {
         .unwrap_or_else(|| panic!("not a number: {value}"))
 }
 
-/// The cube stacker's first pick ("grip cube 1") as `simulate --json` reports it, with the scene
+/// The spacer stacker's first pick ("grip spacer 1") as `simulate --json` reports it, with the scene
 /// changed by `change`.
 fn first_pick(test: &str, change: impl Fn(&mut Value)) -> Value {
-    let mut scene = read_sample("cube-stacker.armwright.json");
+    let mut scene = read_sample("spacer-stacker.armwright.json");
     change(&mut scene);
     let file = scene_file(test, &scene);
     let (_, report) = armwright_json(&["simulate", &file, "--json"]);
@@ -30,9 +30,9 @@ fn first_pick(test: &str, change: impl Fn(&mut Value)) -> Value {
         .as_array()
         .unwrap()
         .iter()
-        .find(|w| w["name"] == "grip cube 1")
+        .find(|w| w["name"] == "grip spacer 1")
         .cloned()
-        .unwrap_or_else(|| panic!("no \"grip cube 1\": {report}"))
+        .unwrap_or_else(|| panic!("no \"grip spacer 1\": {report}"))
 }
 
 fn pick_index(scene: &Value) -> usize {
@@ -40,7 +40,7 @@ fn pick_index(scene: &Value) -> usize {
         .as_array()
         .unwrap()
         .iter()
-        .position(|w| w["name"] == "grip cube 1")
+        .position(|w| w["name"] == "grip spacer 1")
         .unwrap()
 }
 
@@ -69,7 +69,7 @@ fn a_waypoints_own_tolerance_is_used_and_a_wider_one_succeeds_more_often() {
 
 #[test]
 fn a_bad_tolerance_is_refused_at_its_path() {
-    let mut scene = read_sample("cube-stacker.armwright.json");
+    let mut scene = read_sample("spacer-stacker.armwright.json");
     let index = pick_index(&scene);
     scene["waypoints"][index]["placement_tolerance_mm"] = json!(0.0);
     let file = scene_file("placement-tolerance-zero", &scene);

@@ -84,9 +84,9 @@ fn a_waypoint_moved_into_the_table_is_shaded_and_named_in_both_views_and_on_the_
 
 #[test]
 fn a_pick_with_no_dwell_is_marked_unsettled_in_the_sequence_and_on_the_timeline() {
-    let mut harness = file_editor("marks-unsettled", sample_scene("cube-stacker"));
+    let mut harness = file_editor("marks-unsettled", sample_scene("spacer-stacker"));
     wait_for_dry_run(&mut harness);
-    assert_dry_run_ready(harness.state(), "the cube stacker");
+    assert_dry_run_ready(harness.state(), "the spacer stacker");
     let found = harness
         .state()
         .state

@@ -19,7 +19,7 @@ use proptest::prelude::*;
 /// A sample with a gripper, so its channel is covered too.
 fn sample() -> (Scene, Arm) {
     let path = Path::new(env!("CARGO_MANIFEST_DIR"))
-        .join("../../sample-scenes/cube-stacker.armwright.json");
+        .join("../../sample-scenes/spacer-stacker.armwright.json");
     let scene = load(&path).expect("the sample loads");
     let arm = build_arm(&scene.arm).expect("the sample's arm builds");
     (scene, arm)

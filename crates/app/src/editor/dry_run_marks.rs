@@ -369,39 +369,39 @@ fn convex_hull(mut points: Vec<Pos2>) -> Vec<Pos2> {
     hull
 }
 
-/// Marks the contacts (red) and unsettled stops (amber) on the timeline's plot.
+/// Marks the contacts (red) and unsettled stops (amber) on the timeline's plot. Every mark gets
+/// its line; a label that would cross one already drawn is left out (the list above the plot
+/// names every mark).
 pub fn paint_on_timeline(painter: &Painter, transform: &PlotTransform, marks: &DryRunMarks) {
     let frame = *transform.frame();
     let bounds = transform.bounds();
     let visible = |t: f64| t >= bounds.min()[0] && t <= bounds.max()[0];
-    let line = |t: f64, colour: Color32, text: &str| {
-        let x = transform.position_from_point_x(t);
+    let mut lines: Vec<(f64, Color32, String)> = marks
+        .contacts
+        .iter()
+        .filter(|c| visible(c.time))
+        .map(|c| (c.time, CONTACT, format!("{} × {}", c.link, c.object)))
+        .chain(marks.unsettled.iter().filter(|s| visible(s.time)).map(|s| {
+            let text = format!("unsettled {:.1} mm", s.resting_error_mm);
+            (s.time, UNSETTLED, text)
+        }))
+        .collect();
+    lines.sort_by(|a, b| a.0.total_cmp(&b.0));
+    let mut labelled: Vec<Rect> = Vec::new();
+    for (time, colour, text) in lines {
+        let x = transform.position_from_point_x(time);
         painter.rect_filled(
             Rect::from_x_y_ranges(x - 1.5..=x + 1.5, frame.y_range()),
             0.0,
             colour,
         );
-        painter.text(
-            pos2(x + 3.0, frame.top() + 16.0),
-            Align2::LEFT_TOP,
-            text,
-            FontId::proportional(11.0),
-            colour,
-        );
-    };
-    for contact in marks.contacts.iter().filter(|c| visible(c.time)) {
-        line(
-            contact.time,
-            CONTACT,
-            &format!("{} × {}", contact.link, contact.object),
-        );
-    }
-    for stop in marks.unsettled.iter().filter(|s| visible(s.time)) {
-        line(
-            stop.time,
-            UNSETTLED,
-            &format!("unsettled {:.1} mm", stop.resting_error_mm),
-        );
+        let galley = painter.layout_no_wrap(text, FontId::proportional(11.0), colour);
+        let at = pos2(x + 3.0, frame.top() + 16.0);
+        let rect = Rect::from_min_size(at, galley.size());
+        if labelled.iter().all(|taken| !taken.intersects(rect)) {
+            painter.galley(at, galley, colour);
+            labelled.push(rect);
+        }
     }
 }
 
