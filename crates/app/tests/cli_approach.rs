@@ -8,59 +8,14 @@
 
 mod common;
 
-use common::lines_of;
-use std::io::{BufRead, BufReader, Read};
-use std::process::{Child, Command, Stdio};
-use std::sync::mpsc;
+use common::device_sim::{DeviceSim, binary};
+use std::io::Read;
+use std::process::Stdio;
 
 use serde_json::Value;
 
 /// The shortest sample sequence (about 7.8 s); its rest pose is its last waypoint.
 const SAMPLE: &str = "pen-plotter.armwright.json";
-
-fn binary() -> Command {
-    Command::new(env!("CARGO_BIN_EXE_armwright"))
-}
-
-/// A simulated device behind a pseudo-terminal, in its own process; ended with Ctrl-C.
-struct DeviceSim {
-    child: Child,
-    path: String,
-    _changes: mpsc::Receiver<String>,
-}
-
-impl DeviceSim {
-    fn start() -> Self {
-        let mut child = binary()
-            .args(["device-sim"])
-            .stdin(Stdio::null())
-            .stdout(Stdio::piped())
-            .stderr(Stdio::piped())
-            .spawn()
-            .expect("the armwright binary runs");
-        let mut path = String::new();
-        BufReader::new(child.stdout.take().expect("piped"))
-            .read_line(&mut path)
-            .expect("the device prints its path");
-        let path = path.trim().to_owned();
-        assert!(path.starts_with("/dev/"), "{path}");
-        let changes = lines_of(child.stderr.take().expect("piped"));
-        Self {
-            child,
-            path,
-            _changes: changes,
-        }
-    }
-}
-
-impl Drop for DeviceSim {
-    fn drop(&mut self) {
-        let _ = Command::new("kill")
-            .args(["-INT", &self.child.id().to_string()])
-            .status();
-        let _ = self.child.wait();
-    }
-}
 
 /// Streams the sample to `device` at 50 Hz with --yes and --json; returns the exit code, the
 /// JSON report and standard error.

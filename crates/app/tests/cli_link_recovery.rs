@@ -11,9 +11,10 @@
 
 mod common;
 
+use common::device_sim::{DeviceSim, binary, signal};
 use common::{lines_of, wait_for_line};
-use std::io::{BufRead, BufReader, Read};
-use std::process::{Child, Command, Stdio};
+use std::io::Read;
+use std::process::{Child, Stdio};
 use std::sync::mpsc;
 use std::time::{Duration, Instant};
 
@@ -29,60 +30,6 @@ fn one_stream_at_a_time() -> std::sync::MutexGuard<'static, ()> {
     REAL_TIME
         .lock()
         .unwrap_or_else(std::sync::PoisonError::into_inner)
-}
-
-fn binary() -> Command {
-    Command::new(env!("CARGO_BIN_EXE_armwright"))
-}
-
-/// Sends `signal` (STOP, CONT, INT, KILL) to a child, as a shell's `kill -SIGNAL` does.
-fn signal(child: &Child, signal: &str) {
-    let status = Command::new("kill")
-        .args([&format!("-{signal}"), &child.id().to_string()])
-        .status()
-        .expect("the kill command runs");
-    assert!(status.success(), "kill -{signal}");
-}
-
-/// A simulated device behind a pseudo-terminal, in its own process; ended with Ctrl-C.
-struct DeviceSim {
-    child: Child,
-    path: String,
-    /// Its standard error: one line per change of mode, faults or watchdog trips.
-    changes: mpsc::Receiver<String>,
-}
-
-impl DeviceSim {
-    fn start() -> Self {
-        let mut child = binary()
-            .args(["device-sim"])
-            .stdin(Stdio::null())
-            .stdout(Stdio::piped())
-            .stderr(Stdio::piped())
-            .spawn()
-            .expect("the armwright binary runs");
-        let mut path = String::new();
-        BufReader::new(child.stdout.take().expect("piped"))
-            .read_line(&mut path)
-            .expect("the device prints its path");
-        let path = path.trim().to_owned();
-        assert!(path.starts_with("/dev/"), "{path}");
-        let changes = lines_of(child.stderr.take().expect("piped"));
-        Self {
-            child,
-            path,
-            changes,
-        }
-    }
-}
-
-impl Drop for DeviceSim {
-    fn drop(&mut self) {
-        // Resume it first in case a test left it stopped, then end it as Ctrl-C would.
-        signal(&self.child, "CONT");
-        signal(&self.child, "INT");
-        let _ = self.child.wait();
-    }
 }
 
 /// A stream of the sample to `device` at 50 Hz, with --yes and --json, as a child process.

@@ -2,6 +2,8 @@
 //! time, and a writer for scratch directories.
 #![allow(dead_code)]
 
+pub mod device_sim;
+
 use serde_json::{Value, json};
 use std::io::{BufRead, BufReader, Read};
 use std::path::PathBuf;
