@@ -11,7 +11,7 @@ use super::document::{InputDoc, JointKindDoc, Scene};
 use super::field_table as table;
 use super::problem::{Problem, child, item};
 use super::units::{position_from_file_unit, position_to_file_unit};
-use super::validate::ranges as ranges_at;
+use super::validate::{joint_named, ranges as ranges_at};
 
 /// The scene's input arm, fitted: for each mapped joint, the input that moves it and the fit.
 #[derive(Debug, Clone)]
@@ -108,34 +108,8 @@ pub(super) fn fit_inputs(scene: &Scene, problems: &mut Vec<Problem>) -> InputMap
     let mut mapped = Vec::new();
     for (index, input) in scene.inputs.iter().enumerate() {
         let path = item("inputs", index);
-        let named: Vec<usize> = (0..joints.len())
-            .filter(|&j| joints[j].name == input.joint)
-            .collect();
-        let joint = match named.as_slice() {
-            [joint] => *joint,
-            [] => {
-                let names: Vec<String> = joints.iter().map(|j| format!("\"{}\"", j.name)).collect();
-                problems.push(Problem::new(
-                    child(&path, "joint"),
-                    format!(
-                        "no joint is named \"{}\"; the arm's joints are {}",
-                        input.joint,
-                        names.join(", ")
-                    ),
-                ));
-                continue;
-            }
-            several => {
-                problems.push(Problem::new(
-                    child(&path, "joint"),
-                    format!(
-                        "{} joints are named \"{}\"; give them different names to map an input",
-                        several.len(),
-                        input.joint
-                    ),
-                ));
-                continue;
-            }
+        let Some(joint) = joint_named(joints, &input.joint, &path, "map an input", problems) else {
+            continue;
         };
         let kind = kinds.get(joint).copied().unwrap_or(JointKindDoc::Revolute);
         let before = problems.len();

@@ -425,35 +425,11 @@ fn check_joint_limits(scene: &Scene, kinds: &[JointKindDoc], problems: &mut Vec<
     let joints = &scene.arm.joints;
     for (index, limit) in scene.timing.joint_limits.iter().enumerate() {
         let path = item("timing.joint_limits", index);
-        let named: Vec<usize> = (0..joints.len())
-            .filter(|&j| joints[j].name == limit.joint)
-            .collect();
-        let kind = match named.as_slice() {
-            [joint] => kinds.get(*joint).copied().unwrap_or(JointKindDoc::Revolute),
-            [] => {
-                let names: Vec<String> = joints.iter().map(|j| format!("\"{}\"", j.name)).collect();
-                problems.push(Problem::new(
-                    child(&path, "joint"),
-                    format!(
-                        "no joint is named \"{}\"; the arm's joints are {}",
-                        limit.joint,
-                        names.join(", ")
-                    ),
-                ));
-                continue;
-            }
-            several => {
-                problems.push(Problem::new(
-                    child(&path, "joint"),
-                    format!(
-                        "{} joints are named \"{}\"; give them different names to set their limits",
-                        several.len(),
-                        limit.joint
-                    ),
-                ));
-                continue;
-            }
+        let Some(joint) = joint_named(joints, &limit.joint, &path, "set their limits", problems)
+        else {
+            continue;
         };
+        let kind = kinds.get(joint).copied().unwrap_or(JointKindDoc::Revolute);
         if let Some(earlier) = scene.timing.joint_limits[..index]
             .iter()
             .position(|other| other.joint == limit.joint)
@@ -519,4 +495,43 @@ fn check_link(link: &LinkSettings, problems: &mut Vec<Problem>) {
         "link",
         problems,
     );
+}
+
+/// The index of the one joint named `name`, for the entry at `path` that refers to it; `None`
+/// after a problem at `path.joint` when no joint or several joints carry that name (`purpose`
+/// says what distinct names would allow, e.g. "set their limits").
+pub(super) fn joint_named(
+    joints: &[JointDoc],
+    name: &str,
+    path: &str,
+    purpose: &str,
+    problems: &mut Vec<Problem>,
+) -> Option<usize> {
+    let named: Vec<usize> = (0..joints.len())
+        .filter(|&j| joints[j].name == name)
+        .collect();
+    match named.as_slice() {
+        [joint] => Some(*joint),
+        [] => {
+            let names: Vec<String> = joints.iter().map(|j| format!("\"{}\"", j.name)).collect();
+            problems.push(Problem::new(
+                child(path, "joint"),
+                format!(
+                    "no joint is named \"{name}\"; the arm's joints are {}",
+                    names.join(", ")
+                ),
+            ));
+            None
+        }
+        several => {
+            problems.push(Problem::new(
+                child(path, "joint"),
+                format!(
+                    "{} joints are named \"{name}\"; give them different names to {purpose}",
+                    several.len()
+                ),
+            ));
+            None
+        }
+    }
 }
