@@ -15,8 +15,7 @@ use crate::editor::device::LinkView;
 use crate::editor::state::{EditorState, StopState};
 use crate::scene::JointKindDoc;
 
-use super::link::ACKNOWLEDGE_LABEL;
-use super::status_bar::CAUTION;
+use super::link::caution_box;
 
 /// The button the person presses when the joint moved during the deadband search.
 pub const MOVED_LABEL: &str = "It moved";
@@ -92,24 +91,14 @@ pub fn calibration(ui: &mut Ui, state: &EditorState, view: &LinkView) -> Command
     if view.connection.is_none() {
         ui.label("Connect a device in the Link tab to step this joint's pulse.");
     }
-    if !state.caution_acknowledged {
-        egui::Frame::group(ui.style())
-            .stroke(egui::Stroke::new(2.0, Color32::from_rgb(255, 200, 0)))
-            .show(ui, |ui| {
-                ui.label(
-                    RichText::new("CAUTION")
-                        .strong()
-                        .color(Color32::from_rgb(255, 200, 0)),
-                );
-                ui.label(CAUTION);
-                ui.label(
-                    "The first pulse wakes this joint, and any other joint whose servo is limp at \
+    if !state.caution_acknowledged
+        && caution_box(
+            ui,
+            "The first pulse wakes this joint, and any other joint whose servo is limp at \
                      the editor's pose: a limp servo jumps to its first pulse at its own top speed.",
-                );
-                if ui.button(ACKNOWLEDGE_LABEL).clicked() {
-                    command = Command::AcknowledgeCaution;
-                }
-            });
+        )
+    {
+        command = Command::AcknowledgeCaution;
     }
     if matches!(state.stop, StopState::Latched { .. }) {
         ui.colored_label(

@@ -1,15 +1,14 @@
 //! The follow panel: the caution, the Follow switch and its speed share, what the device is
 //! doing, the jog steps and the keys that jog; and [`jog_keys`], which reads those keys.
 
-use egui::{Color32, DragValue, Key, Modifiers, RichText, Slider, Ui};
+use egui::{DragValue, Key, Modifiers, RichText, Slider, Ui};
 
 use crate::editor::command::Command;
 use crate::editor::device::LinkView;
 use crate::editor::follow::{FOLLOW_SHARE_RANGE_PCT, FollowCommand, FollowPhase};
 use crate::editor::state::{EditorState, StopState};
 
-use super::link::ACKNOWLEDGE_LABEL;
-use super::status_bar::CAUTION;
+use super::link::caution_box;
 
 /// The Follow switch's label.
 pub const FOLLOW_LABEL: &str = "Follow the edited pose";
@@ -54,24 +53,14 @@ pub fn follow(ui: &mut Ui, state: &EditorState, view: &LinkView) -> Command {
          sliders, Go on a waypoint, the timeline's cursor and the jog keys all move the arm, \
          no faster than the speed share below and never faster than its servos can follow.",
     );
-    if !state.caution_acknowledged {
-        egui::Frame::group(ui.style())
-            .stroke(egui::Stroke::new(2.0, Color32::from_rgb(255, 200, 0)))
-            .show(ui, |ui| {
-                ui.label(
-                    RichText::new("CAUTION")
-                        .strong()
-                        .color(Color32::from_rgb(255, 200, 0)),
-                );
-                ui.label(CAUTION);
-                ui.label(
-                    "A servo that is limp runs to its first pulse at its own top speed when \
+    if !state.caution_acknowledged
+        && caution_box(
+            ui,
+            "A servo that is limp runs to its first pulse at its own top speed when \
                      follow starts.",
-                );
-                if ui.button(ACKNOWLEDGE_LABEL).clicked() {
-                    command = Command::AcknowledgeCaution;
-                }
-            });
+        )
+    {
+        command = Command::AcknowledgeCaution;
     }
     let connected = view.connection.is_some();
     let stopped = matches!(state.stop, StopState::Latched { .. });
@@ -213,6 +202,7 @@ mod tests {
     use egui_kittest::kittest::Queryable;
 
     use super::*;
+    use crate::editor::ACKNOWLEDGE_LABEL;
     use crate::editor::sample_scene;
 
     #[test]

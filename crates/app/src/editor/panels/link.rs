@@ -185,23 +185,29 @@ fn fault_words(faults: Faults) -> Vec<&'static str> {
     .collect()
 }
 
+/// The session's caution in its amber frame, with `note` (what this path adds: how a limp servo
+/// behaves here) and the acknowledge button; true when the button was pressed.
+pub(super) fn caution_box(ui: &mut Ui, note: &str) -> bool {
+    let mut acknowledged = false;
+    egui::Frame::group(ui.style())
+        .stroke(egui::Stroke::new(2.0, Color32::from_rgb(255, 200, 0)))
+        .show(ui, |ui| {
+            ui.label(
+                RichText::new("CAUTION")
+                    .strong()
+                    .color(Color32::from_rgb(255, 200, 0)),
+            );
+            ui.label(CAUTION);
+            ui.label(note);
+            acknowledged = ui.button(ACKNOWLEDGE_LABEL).clicked();
+        });
+    acknowledged
+}
+
 fn stream_controls(ui: &mut Ui, state: &EditorState, view: &LinkView) -> Command {
     let mut command = Command::None;
-    if !state.caution_acknowledged {
-        egui::Frame::group(ui.style())
-            .stroke(egui::Stroke::new(2.0, Color32::from_rgb(255, 200, 0)))
-            .show(ui, |ui| {
-                ui.label(
-                    RichText::new("CAUTION")
-                        .strong()
-                        .color(Color32::from_rgb(255, 200, 0)),
-                );
-                ui.label(CAUTION);
-                ui.label(LIMP_CAUTION);
-                if ui.button(ACKNOWLEDGE_LABEL).clicked() {
-                    command = Command::AcknowledgeCaution;
-                }
-            });
+    if !state.caution_acknowledged && caution_box(ui, LIMP_CAUTION) {
+        command = Command::AcknowledgeCaution;
     }
     let link_idle = view
         .stats
