@@ -3,8 +3,9 @@
  * Speaks the line protocol of crates/link/PROTOCOL.md at 115 200 baud, drives six joint
  * servos and a gripper servo with pulses timed from Timer1 (pulse_train.c), holds the arm
  * when the host falls silent for 250 ms, clamps pulse widths to 500–2500 µs, latches the
- * emergency stop until a reset, counts and reports bad input, and sends the readings of six
- * analog inputs (analog_inputs.c) at the rate the host asks for.
+ * emergency stop until a reset, counts and reports bad input, sends the readings of six
+ * analog inputs (analog_inputs.c) at the rate the host asks for, and plays planned setpoints
+ * from a queue, one a pulse frame, so a host held up for a while does not stop the arm.
  *
  * A software stop is not a safety device. See README.md. */
 #include <avr/interrupt.h>
@@ -15,8 +16,8 @@
 #include "pulse_train.h"
 #include "serial.h"
 
-#define FIRMWARE_VERSION "0.3.0"
-#define PROTOCOL_NEWEST 3u /* 2 adds the output query, 3 the readings rate */
+#define FIRMWARE_VERSION "0.4.0"
+#define PROTOCOL_NEWEST 4u /* 2 adds the output query, 3 the readings rate, 4 planned setpoints */
 #define READINGS_MAX_HZ 100
 #define WATCHDOG_MS 250u
 #define STATUS_GAP_MS 20u /* at most one status line per frame */
@@ -41,7 +42,9 @@ static uint16_t bad_checksums, bad_lines, clamped_values, watchdog_trips;
 static uint8_t status_pending;
 static uint8_t status_sent_once;
 static uint16_t last_status_ms;
-static uint16_t last_good_ms;
+/* The watchdog counts from the later of the last good line and the moment the play queue
+ * handed its last setpoint to the pulse train. */
+static uint16_t watchdog_from_ms;
 static uint8_t tx_seq;
 
 /* Readings lines: the rate the host asked for (0: none), when the next one is due, and the
@@ -50,6 +53,13 @@ static uint8_t tx_seq;
 static uint8_t readings_hz;
 static uint16_t readings_due_ms;
 static uint8_t readings_rest;
+
+/* Planned setpoints (`p`) waiting to be played, one a pulse frame, in the order they came:
+ * PLAY_QUEUE_DEPTH × PULSE_CHANNELS × 2 bytes of RAM (64 × 7 × 2 = 896 bytes, 1.28 s of
+ * frames). A channel without a pulse is stored as PULSE_NONE. */
+#define PLAY_QUEUE_DEPTH 64u
+static uint16_t play_queue[PLAY_QUEUE_DEPTH][PULSE_CHANNELS];
+static uint8_t play_head, play_count;
 
 /* Timer0 in clear-on-compare mode: 16 MHz / 64 / 250 = one interrupt a millisecond. */
 static void clock_init(void) {
@@ -114,6 +124,10 @@ static void send_greeting(uint8_t version) {
 static void send_ack(uint8_t acked_seq, const char *outcome) {
     struct line_out line;
     uint8_t room = (uint8_t)(serial_free() / LINE_MAX);
+    uint8_t play_room = (uint8_t)(PLAY_QUEUE_DEPTH - play_count);
+    if (play_room < room) {
+        room = play_room;
+    }
     line_start(&line, 'A', tx_seq++);
     line_put(&line, ':');
     line_put_hex(&line, acked_seq, 2);
@@ -132,7 +146,7 @@ static void send_output(void) {
     line_start(&line, 'P', tx_seq++);
     line_put(&line, ':');
     for (uint8_t i = 0; i < PULSE_CHANNELS; i++) {
-        if (on) {
+        if (on && ticks[i] != PULSE_NONE) {
             line_put_hex(&line, ticks[i], 4);
         } else {
             line_put_text(&line, "----");
@@ -200,28 +214,66 @@ static void count_bad_line(void) {
     flag(FAULT_BAD_INPUT);
 }
 
-/* A setpoint body: exactly PULSE_CHANNELS values of 4 hex digits. */
+static void clear_play_queue(void) {
+    play_head = 0;
+    play_count = 0;
+}
+
+/* Hands the next planned setpoint to the pulse train when its slot for the next frame is
+ * free, so each one is played for exactly one frame. */
+static void play_next(void) {
+    if (mode != MODE_DRIVING || play_count == 0 || pulse_train_pending()) {
+        return;
+    }
+    pulse_train_set(play_queue[play_head]);
+    play_head = (uint8_t)((play_head + 1u) % PLAY_QUEUE_DEPTH);
+    play_count--;
+    watchdog_from_ms = now_ms();
+}
+
+/* A setpoint body: exactly PULSE_CHANNELS values of 4 hex digits; a planned setpoint (`p`)
+ * may also have "----" (no pulse) for some channels, not all. */
 static void on_setpoint(const struct checked_line *line) {
     uint16_t ticks[PULSE_CHANNELS];
+    uint8_t planned = line->kind == 'p';
+    uint8_t pulses = 0;
     if (line->body_len != 4 * PULSE_CHANNELS) {
         count_bad_line();
         return;
     }
     for (uint8_t i = 0; i < PULSE_CHANNELS; i++) {
-        int32_t value = parse_hex(line->body + 4 * i, 4);
+        const uint8_t *field = line->body + 4 * i;
+        if (planned && field[0] == '-' && field[1] == '-' && field[2] == '-' && field[3] == '-') {
+            ticks[i] = PULSE_NONE;
+            continue;
+        }
+        int32_t value = parse_hex(field, 4);
         if (value < 0) {
             count_bad_line();
             return;
         }
         ticks[i] = (uint16_t)value;
+        pulses++;
     }
-    last_good_ms = now_ms();
+    if (pulses == 0) {
+        count_bad_line(); /* release is the line for no pulses at all */
+        return;
+    }
+    watchdog_from_ms = now_ms();
     if (mode == MODE_STOPPED) {
         send_ack(line->seq, "refused");
         return;
     }
+    if (planned && play_count >= PLAY_QUEUE_DEPTH) {
+        count_bad_line(); /* the host sent more than the room it was given */
+        flag(FAULT_OVERFLOW);
+        return;
+    }
     uint8_t clamped = 0;
     for (uint8_t i = 0; i < PULSE_CHANNELS; i++) {
+        if (ticks[i] == PULSE_NONE) {
+            continue;
+        }
         if (ticks[i] < PULSE_MIN_TICKS) {
             ticks[i] = PULSE_MIN_TICKS;
             clamped++;
@@ -230,8 +282,18 @@ static void on_setpoint(const struct checked_line *line) {
             clamped++;
         }
     }
-    pulse_train_set(ticks);
+    if (planned) {
+        uint8_t tail = (uint8_t)((play_head + play_count) % PLAY_QUEUE_DEPTH);
+        for (uint8_t i = 0; i < PULSE_CHANNELS; i++) {
+            play_queue[tail][i] = ticks[i];
+        }
+        play_count++;
+    } else {
+        clear_play_queue(); /* the newest setpoint wins */
+        pulse_train_set(ticks);
+    }
     set_mode(MODE_DRIVING);
+    play_next();
     if (clamped) {
         saturating_add(&clamped_values, clamped);
         flag(FAULT_CLAMPED);
@@ -246,6 +308,7 @@ static uint8_t early_stop_bytes[SERIAL_STOP_LINE_LEN];
 static uint8_t early_stop_skips;
 
 static void stop_now(uint8_t seq) {
+    clear_play_queue();
     pulse_train_hold();
     set_mode(MODE_STOPPED);
     flag(FAULT_STOP);
@@ -264,7 +327,7 @@ static void early_stop(void) {
     if (line_check(bytes, SERIAL_STOP_LINE_LEN, &line) != LINE_GOOD || line.kind != 'x') {
         return;
     }
-    last_good_ms = now_ms();
+    watchdog_from_ms = now_ms();
     stop_now(line.seq);
     for (uint8_t i = 0; i < SERIAL_STOP_LINE_LEN; i++) {
         early_stop_bytes[i] = bytes[i];
@@ -302,7 +365,7 @@ static void on_line(const uint8_t *bytes, uint8_t len) {
     case LINE_GOOD:
         break;
     }
-    if (line.kind == 's') {
+    if (line.kind == 's' || line.kind == 'p') {
         on_setpoint(&line);
         return;
     }
@@ -312,7 +375,7 @@ static void on_line(const uint8_t *bytes, uint8_t len) {
             count_bad_line();
             return;
         }
-        last_good_ms = now_ms();
+        watchdog_from_ms = now_ms();
         readings_hz = 0; /* a new host starts without readings until it asks */
         send_ack(line.seq, "ok");
         send_greeting((uint8_t)(version < (int32_t)PROTOCOL_NEWEST ? version : PROTOCOL_NEWEST));
@@ -324,9 +387,9 @@ static void on_line(const uint8_t *bytes, uint8_t len) {
             count_bad_line();
             return;
         }
-        last_good_ms = now_ms();
+        watchdog_from_ms = now_ms();
         readings_hz = (uint8_t)rate;
-        readings_due_ms = last_good_ms;
+        readings_due_ms = watchdog_from_ms;
         readings_rest = 0;
         send_ack(line.seq, "ok");
         return;
@@ -336,7 +399,7 @@ static void on_line(const uint8_t *bytes, uint8_t len) {
         count_bad_line();
         return;
     }
-    last_good_ms = now_ms();
+    watchdog_from_ms = now_ms();
     switch (line.kind) {
     case 'x':
         stop_now(line.seq);
@@ -346,6 +409,7 @@ static void on_line(const uint8_t *bytes, uint8_t len) {
             send_ack(line.seq, "refused");
             return;
         }
+        clear_play_queue();
         pulse_train_hold();
         if (mode != MODE_LIMP) {
             set_mode(MODE_KEEPING);
@@ -357,6 +421,7 @@ static void on_line(const uint8_t *bytes, uint8_t len) {
             send_ack(line.seq, "refused");
             return;
         }
+        clear_play_queue();
         pulse_train_release();
         set_mode(MODE_LIMP);
         send_ack(line.seq, "ok");
@@ -365,6 +430,7 @@ static void on_line(const uint8_t *bytes, uint8_t len) {
         faults = 0;
         status_pending = 1;
         if (mode == MODE_STOPPED || mode == MODE_DRIVING) {
+            clear_play_queue();
             pulse_train_hold();
             set_mode(pulse_train_active() ? MODE_KEEPING : MODE_LIMP);
         }
@@ -416,8 +482,10 @@ int main(void) {
             flag(FAULT_OVERFLOW);
         }
         analog_inputs_poll();
+        play_next();
         uint16_t now = now_ms();
-        if (mode == MODE_DRIVING && (uint16_t)(now - last_good_ms) >= WATCHDOG_MS) {
+        if (mode == MODE_DRIVING && play_count == 0 && !pulse_train_pending() &&
+            (uint16_t)(now - watchdog_from_ms) >= WATCHDOG_MS) {
             pulse_train_hold();
             set_mode(MODE_KEEPING);
             saturating_add(&watchdog_trips, 1);

@@ -9,7 +9,8 @@
  * in the same port write; after the last channel falls, nothing until the next frame
  * start, FRAME_TICKS after the previous one. Seven channels of at most 2.5 ms take 17.5 ms
  * of the 20 ms frame. A new setpoint is only taken at a frame start, so a frame never
- * mixes two setpoints.
+ * mixes two setpoints. A channel set to PULSE_NONE keeps its pin low for the shortest
+ * pulse's time, so the channels after it keep their place in the frame.
  *
  * Pins: channels 0–5 on PD2–PD7, channel 6 (gripper) on PB0. */
 #include "pulse_train.h"
@@ -69,6 +70,10 @@ void pulse_train_release(void) {
     SREG = sreg;
 }
 
+uint8_t pulse_train_pending(void) {
+    return pending_ready; /* one byte: atomic */
+}
+
 uint8_t pulse_train_active(void) {
     uint8_t sreg = SREG;
     cli();
@@ -108,8 +113,10 @@ ISR(TIMER1_COMPA_vect) {
         }
         frame_start = edge;
         if (output_on) {
-            rise_d = port_d_bit(0);
-            interval = active_ticks[0];
+            if (active_ticks[0] != PULSE_NONE) {
+                rise_d = port_d_bit(0);
+            }
+            interval = active_ticks[0] != PULSE_NONE ? active_ticks[0] : PULSE_MIN_TICKS;
             step = 1;
         } else {
             interval = FRAME_TICKS;
@@ -122,12 +129,15 @@ ISR(TIMER1_COMPA_vect) {
             fall_b = _BV(PB0);
         }
         if (step < PULSE_CHANNELS) {
-            if (step < 6) {
+            uint16_t width = active_ticks[step];
+            if (width == PULSE_NONE) {
+                width = PULSE_MIN_TICKS;
+            } else if (step < 6) {
                 rise_d = port_d_bit(step);
             } else {
                 rise_b = _BV(PB0);
             }
-            interval = active_ticks[step];
+            interval = width;
             step++;
         } else {
             interval = (uint16_t)(frame_start + FRAME_TICKS - edge);

@@ -11,7 +11,7 @@ use armwright_kinematics::Arm;
 use armwright_link::{ChannelOutput, DeviceInfo, DeviceSetpoints, device_pose, device_setpoints};
 use armwright_trajectory::{
     Approach, ApproachStart, CommandedMotion, PlanError, TaskPlan, plan_approach, plan_park,
-    streamed_samples,
+    streamed_samples, wake_order,
 };
 
 use crate::scene::{Scene, task_of};
@@ -35,25 +35,38 @@ impl StartFrom {
         self != StartFrom::Held
     }
 
-    /// A plain sentence for the user, before anything is sent.
-    pub fn describe(self) -> &'static str {
-        match self {
+    /// A plain sentence for the user, before anything is sent, for a stream that wakes a limp
+    /// arm with every joint together.
+    pub fn describe(self) -> String {
+        self.describe_waking(WakeMode::Together)
+    }
+
+    /// A plain sentence for the user, before anything is sent, for a stream that wakes a limp
+    /// arm as `wake` says.
+    pub fn describe_waking(self, wake: WakeMode) -> String {
+        let why = match self {
             StartFrom::Held => {
-                "the device holds the arm: the stream starts with a slow approach from there to \
-                 the first waypoint"
+                return "the device holds the arm: the stream starts with a slow approach from \
+                        there to the first waypoint"
+                    .to_owned();
             }
-            StartFrom::Limp => {
-                "a servo is limp, so the arm's pose is unknown: all joints are woken together at \
-                 the rest pose (a limp servo jumps to its first pulse at its own top speed), held \
-                 there for the wake pause, then approach the first waypoint slowly"
-            }
+            StartFrom::Limp => "a servo is limp, so the arm's pose is unknown",
             StartFrom::Unknown => {
-                "the device cannot say what it sends (protocol 1), so the arm's pose is unknown: \
-                 all joints are woken together at the rest pose (a limp servo jumps to its first \
-                 pulse at its own top speed), held there for the wake pause, then approach the \
-                 first waypoint slowly"
+                "the device cannot say what it sends (protocol 1), so the arm's pose is unknown"
             }
-        }
+        };
+        let how = match wake {
+            WakeMode::Together => {
+                "all joints are woken together at the rest pose (a limp servo jumps to its first \
+                 pulse at its own top speed), held there for the wake pause"
+            }
+            WakeMode::OneAtATime => {
+                "the joints are woken one at a time at the rest pose, the slowest first, each \
+                 after the wake pause (a limp servo jumps to its first pulse at its own top \
+                 speed)"
+            }
+        };
+        format!("{why}: {how}, then approach the first waypoint slowly")
     }
 }
 
@@ -137,9 +150,66 @@ pub struct StreamPlan {
     pub park: Option<Approach>,
     /// The plan's own duration, s.
     pub plan_s: f64,
+    /// When a limp arm is woken one joint at a time: the order and the frames between.
+    pub wake: Option<WakeSteps>,
+}
+
+/// How a stream wakes a limp arm: all channels together at the rest pose, or one at a time.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum WakeMode {
+    /// Every channel gets its first pulse in the first frame (a device that cannot leave a
+    /// channel without a pulse in a setpoint).
+    Together,
+    /// One channel at a time, the slowest joint first, then the next after the wake pause
+    /// (a device that plays planned setpoints, `PROTOCOL.md` §3).
+    OneAtATime,
+}
+
+/// Waking one channel at a time: channel `order[k]` gets its first pulse in frame
+/// `k × pause_frames`; channels not in `order` (not wired to the arm) with the last one.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct WakeSteps {
+    /// Device channels in wake order: the joints, slowest servo first
+    /// ([`armwright_trajectory::wake_order`]), then the gripper.
+    pub order: Vec<usize>,
+    /// Frames from one channel's first pulse to the next one's (the wake pause, at least 1).
+    pub pause_frames: usize,
 }
 
 impl StreamPlan {
+    /// Setpoint `index` as it is sent: while waking one at a time, the channels not yet woken
+    /// have no pulse (`None`); otherwise every channel at its width.
+    pub fn frame(&self, index: usize) -> Option<ChannelOutput> {
+        let values = self.setpoints.values.get(index)?;
+        let driven = ChannelOutput::driven(values);
+        let Some(wake) = &self.wake else {
+            return Some(driven);
+        };
+        let woken = index / wake.pause_frames.max(1) + 1;
+        if woken >= wake.order.len() {
+            return Some(driven);
+        }
+        let mut frame: Vec<Option<u16>> = vec![None; values.len()];
+        for &channel in &wake.order[..woken] {
+            if let Some(slot) = frame.get_mut(channel) {
+                *slot = values.as_slice().get(channel).copied();
+            }
+        }
+        ChannelOutput::from_slice(&frame)
+    }
+
+    /// When each channel of the wake order gets its first pulse, s from the stream's start:
+    /// (channel, time); empty unless waking one at a time.
+    pub fn wake_times(&self, rate_hz: f64) -> Vec<(usize, f64)> {
+        self.wake.as_ref().map_or_else(Vec::new, |wake| {
+            wake.order
+                .iter()
+                .enumerate()
+                .map(|(k, &channel)| (channel, (k * wake.pause_frames) as f64 / rate_hz))
+                .collect()
+        })
+    }
+
     /// The whole stream's duration: approach, plan and park, s.
     pub fn cycle_s(&self) -> f64 {
         self.approach.duration() + self.plan_s + self.park.as_ref().map_or(0.0, Approach::duration)
@@ -182,7 +252,8 @@ impl StreamPlan {
 
 /// Plans the stream of `plan` (the scene's, from [`crate::scene::plan_of`]) to a device that
 /// reports `output`: approach (after waking at the rest pose when the pose is unknown), plan,
-/// and with `park` the move to the rest pose, as setpoints at `rate_hz`.
+/// and with `park` the move to the rest pose, as setpoints at `rate_hz`. A limp arm is woken
+/// with every channel at once; see [`stream_plan_waking`].
 ///
 /// # Errors
 /// A message saying which part could not be planned or turned into setpoints.
@@ -195,7 +266,57 @@ pub fn stream_plan(
     rate_hz: f64,
     park: bool,
 ) -> Result<StreamPlan, String> {
-    let (start, from) = approach_start(scene, arm, output, device);
+    stream_plan_waking(
+        scene,
+        arm,
+        plan,
+        output,
+        device,
+        rate_hz,
+        park,
+        WakeMode::Together,
+    )
+}
+
+/// The wake order of `arm` on the device's channels: its joints (joint `i` on channel `i`),
+/// slowest servo first, then the gripper on the last channel.
+pub fn wake_channels(arm: &Arm, device: &DeviceInfo) -> Vec<usize> {
+    let mut order = wake_order(arm);
+    if arm.gripper().is_some() {
+        order.push(usize::from(device.channel_count).saturating_sub(1));
+    }
+    order
+}
+
+/// [`stream_plan`], waking a limp arm as `wake` says: with [`WakeMode::OneAtATime`] the rest
+/// pose is held for the wake pause once per channel woken ([`StreamPlan::frame`] leaves the
+/// channels not yet woken without a pulse).
+///
+/// # Errors
+/// As [`stream_plan`].
+#[allow(clippy::too_many_arguments)] // the stream's inputs, each named; grouping them adds a type used once
+pub fn stream_plan_waking(
+    scene: &Scene,
+    arm: &Arm,
+    plan: &TaskPlan,
+    output: Option<&ChannelOutput>,
+    device: &DeviceInfo,
+    rate_hz: f64,
+    park: bool,
+    wake: WakeMode,
+) -> Result<StreamPlan, String> {
+    let (mut start, from) = approach_start(scene, arm, output, device);
+    let wake = (from.wakes() && wake == WakeMode::OneAtATime).then(|| {
+        let pause_frames = ((scene.timing.wake_pause_ms / 1e3 * rate_hz).round() as usize).max(1);
+        WakeSteps {
+            order: wake_channels(arm, device),
+            pause_frames,
+        }
+    });
+    if let Some(wake) = &wake {
+        // Each channel's pause, the last one's included, before the approach moves.
+        start.hold = (wake.order.len() * wake.pause_frames) as f64 / rate_hz;
+    }
     let approach = approach_of(scene, arm, &start)
         .map_err(|error| format!("cannot plan the approach: {error}"))?;
     let park = if park {
@@ -224,5 +345,6 @@ pub fn stream_plan(
         approach_frames,
         park,
         plan_s: CommandedMotion::duration(plan),
+        wake,
     })
 }

@@ -145,3 +145,95 @@ fn a_limp_device_is_woken_at_the_rest_pose_then_a_held_one_is_approached_from_it
         "{approach}"
     );
 }
+
+#[test]
+fn a_limp_arm_is_woken_one_channel_at_a_time_slowest_first() {
+    // The sample with its elbow's servo the slowest and the base's next, and a short pause.
+    let text = std::fs::read_to_string(common::sample_path(SAMPLE)).expect("sample readable");
+    let mut scene: Value = serde_json::from_str(&text).expect("sample is JSON");
+    common::set(
+        &mut scene,
+        "/arm/joints/2/servo/no_load_speed_deg_per_s",
+        serde_json::json!(200.0),
+    );
+    common::set(
+        &mut scene,
+        "/arm/joints/0/servo/no_load_speed_deg_per_s",
+        serde_json::json!(300.0),
+    );
+    scene["timing"]["wake_pause_ms"] = serde_json::json!(300.0);
+    let path = common::scene_file("wake-order", &scene);
+    let device = DeviceSim::start();
+    let output = binary()
+        .args([
+            "stream",
+            &path,
+            "--port",
+            &device.path,
+            "--rate",
+            "50",
+            "--yes",
+            "--json",
+        ])
+        .stdin(Stdio::null())
+        .output()
+        .expect("the armwright binary runs");
+    let stderr = String::from_utf8_lossy(&output.stderr);
+    let out: Value = serde_json::from_slice(&output.stdout)
+        .unwrap_or_else(|error| panic!("not JSON ({error}): {stderr}"));
+    assert_eq!(out["ending"], "finished", "{out}\n{stderr}");
+    let wake = &out["approach"]["wake"];
+    assert_eq!(wake["together"], false, "{out}");
+    let order: Vec<u64> = wake["order"]
+        .as_array()
+        .expect("the wake order")
+        .iter()
+        .map(|step| step["channel"].as_u64().expect("a channel"))
+        .collect();
+    // Slowest first (elbow 200°/s, base 300°/s), then equal speeds in chain order.
+    assert_eq!(order, [2, 0, 1, 3], "{out}");
+    let at: Vec<f64> = wake["order"]
+        .as_array()
+        .expect("the wake order")
+        .iter()
+        .map(|step| step["at_s"].as_f64().expect("a time"))
+        .collect();
+    assert_eq!(at, [0.0, 0.3, 0.6, 0.9], "{out}");
+    assert!(
+        stderr.contains("wake order, slowest first: elbow (channel 2)"),
+        "{stderr}"
+    );
+    assert!(
+        stderr.contains("a limp servo jumps to its first pulse"),
+        "{stderr}"
+    );
+    // The first setpoint has a pulse on the elbow's channel only.
+    let first = out["approach"]["first_setpoint_us"]
+        .as_array()
+        .expect("seven channels")
+        .clone();
+    let with_pulse: Vec<usize> = (0..first.len()).filter(|&c| !first[c].is_null()).collect();
+    assert_eq!(with_pulse, [2], "{out}");
+
+    // The device saw the channels start one at a time, in that order; the channels no joint
+    // uses start with the last joint.
+    let seen = common::wait_for_line(&device.changes, "pulses on channels [0, 1, 2, 3, 4, 5, 6]");
+    let sets: Vec<&String> = seen
+        .iter()
+        .filter(|line| line.contains("pulses on channels ["))
+        .collect();
+    let expected = [
+        "pulses on channels [2]",
+        "pulses on channels [0, 2]",
+        "pulses on channels [0, 1, 2]",
+        "pulses on channels [0, 1, 2, 3, 4, 5, 6]",
+    ];
+    let sets: Vec<&String> = sets
+        .into_iter()
+        .filter(|line| !line.ends_with("pulses on channels []"))
+        .collect();
+    assert_eq!(sets.len(), expected.len(), "{seen:?}");
+    for (line, want) in sets.iter().zip(expected) {
+        assert!(line.ends_with(want), "{seen:?}");
+    }
+}

@@ -139,7 +139,11 @@ fn after_ctrl_c_a_confirmed_reset_lets_the_next_stream_complete() {
     let _turn = one_stream_at_a_time();
     let device = DeviceSim::start();
     let (stream, lines) = spawn_stream(&device);
-    wait_for_line(&lines, "sent,");
+    // Past the wake (one joint a second, played a second behind): the device then holds
+    // every channel when the stop comes.
+    for _ in 0..6 {
+        wait_for_line(&lines, "sent,");
+    }
     signal(&stream, "INT");
     let (code, out) = finish(stream);
     assert_eq!(

@@ -143,4 +143,10 @@ pub enum LinkError {
     /// The streaming thread has ended.
     #[error("the streaming thread has ended")]
     Closed,
+    /// A frame with a channel left without a pulse, on a link that does not play ahead.
+    #[error(
+        "a setpoint with a channel left limp needs a device that plays planned setpoints \
+         (protocol 4) and a stream played ahead at the device's pulse frame"
+    )]
+    NoPlayAhead,
 }

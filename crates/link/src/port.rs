@@ -7,6 +7,8 @@ use std::time::{Duration, Instant};
 
 use crate::error::LinkError;
 #[cfg(unix)]
+use crate::protocol::{ChannelOutput, DeviceStatus};
+#[cfg(unix)]
 use crate::sim_clock::SimClock;
 use crate::sim_device::{SimDevice, SimDeviceConfig};
 
@@ -193,6 +195,7 @@ pub struct SimPty {
     path: String,
     device: Arc<Mutex<SimDevice>>,
     waits: Arc<Mutex<ProcessorWaits>>,
+    seen: Arc<Mutex<Option<(DeviceStatus, ChannelOutput)>>>,
     running: Arc<std::sync::atomic::AtomicBool>,
     thread: Option<std::thread::JoinHandle<()>>,
 }
@@ -239,10 +242,12 @@ impl SimPty {
             .map_err(pty_error)?;
         let device = Arc::new(Mutex::new(device));
         let waits = Arc::new(Mutex::new(ProcessorWaits::default()));
+        let seen = Arc::new(Mutex::new(None));
         let running = Arc::new(AtomicBool::new(true));
         let thread = {
             let device = Arc::clone(&device);
             let waits = Arc::clone(&waits);
+            let seen = Arc::clone(&seen);
             let running = Arc::clone(&running);
             std::thread::Builder::new()
                 .name("armwright-sim-pty".to_owned())
@@ -260,11 +265,15 @@ impl SimPty {
                         // which is never held up, would have seen them. The clock leaves
                         // out the time this thread waited for a processor (see SimClock).
                         let now = clock.now();
-                        *waits.lock().unwrap_or_else(PoisonError::into_inner) = ProcessorWaits {
-                            seen: clock.sees_waits(),
-                            total: clock.not_counted(),
-                            longest: clock.longest_wait(),
-                        };
+                        // Never waits for a lock a watcher holds: a watcher held up while holding
+                        // it would hold the device up too. The next turn tries again.
+                        if let Ok(mut waits) = waits.try_lock() {
+                            *waits = ProcessorWaits {
+                                seen: clock.sees_waits(),
+                                total: clock.not_counted(),
+                                longest: clock.longest_wait(),
+                            };
+                        }
                         let count = match master.read(&mut buf) {
                             Ok(count) => count,
                             Err(_) => {
@@ -277,6 +286,9 @@ impl SimPty {
                             device.receive(&buf[..count], now);
                             device.advance(now);
                             device.take_output(&mut out);
+                            if let Ok(mut seen) = seen.try_lock() {
+                                *seen = Some((device.status(), device.output()));
+                            }
                         }
                         if !out.is_empty() {
                             let _ = master.write_all(&out);
@@ -292,6 +304,7 @@ impl SimPty {
             path,
             device,
             waits,
+            seen,
             running,
             thread: Some(thread),
         })
@@ -310,6 +323,12 @@ impl SimPty {
     /// How long the device's thread has waited for a processor, time its clock left out.
     pub fn processor_waits(&self) -> ProcessorWaits {
         *self.waits.lock().unwrap_or_else(PoisonError::into_inner)
+    }
+
+    /// The device's status and output as its thread last saw them (`None` before its first
+    /// turn), for watching it without locking it: the device never waits for a watcher.
+    pub fn watch(&self) -> Option<(DeviceStatus, ChannelOutput)> {
+        *self.seen.lock().unwrap_or_else(PoisonError::into_inner)
     }
 }
 

@@ -5,7 +5,7 @@
 use armwright_kinematics::{Arm, gravity_torques, joint_inertias, tool_pose};
 use armwright_trajectory::{JointLoad, ServoModel, ServoModelOptions, ServoSimError, ServoStepper};
 
-use crate::protocol::{ChannelValues, DeviceInfo, MAX_CHANNELS};
+use crate::protocol::{ChannelOutput, DeviceInfo, MAX_CHANNELS};
 
 /// Why an arm cannot be put on a simulated device.
 #[derive(Debug, Clone, PartialEq, thiserror::Error)]
@@ -30,7 +30,8 @@ pub(crate) struct SimArm {
     arm: Arm,
     stepper: ServoStepper,
     loads: Vec<JointLoad>,
-    pulses_us: Vec<f64>,
+    /// The widths of the newest frame, µs, `None` for a channel without a pulse.
+    pulses_us: Vec<Option<f64>>,
 }
 
 impl SimArm {
@@ -64,12 +65,13 @@ impl SimArm {
             arm,
             stepper,
             loads: vec![JointLoad::default(); joints],
-            pulses_us: vec![0.0; joints],
+            pulses_us: vec![None; joints],
         })
     }
 
-    /// Runs one pulse frame with the channels' widths held (`None`: limp, no pulses).
-    pub(crate) fn run_frame(&mut self, pulses: Option<&ChannelValues>, device: &DeviceInfo) {
+    /// Runs one pulse frame with the channels' widths held (`None`: limp, no pulses, on every
+    /// channel or on one).
+    pub(crate) fn run_frame(&mut self, pulses: Option<&ChannelOutput>, device: &DeviceInfo) {
         let payload = match pulses {
             Some(values) if self.gripper_closed(values, device) => self.arm.payload_mass(),
             _ => 0.0,
@@ -87,18 +89,19 @@ impl SimArm {
         }
         match pulses {
             Some(values) => {
-                for (pulse_us, &units) in self.pulses_us.iter_mut().zip(values.as_slice()) {
-                    *pulse_us = device.us_from_units(units);
+                for (pulse_us, units) in self.pulses_us.iter_mut().zip(values.as_slice()) {
+                    *pulse_us = units.map(|units| device.us_from_units(units));
                 }
-                self.stepper.run_frame(Some(&self.pulses_us), &self.loads);
+                self.stepper.run_frame_each(&self.pulses_us, &self.loads);
             }
             None => self.stepper.run_frame(None, &self.loads),
         }
     }
 
     /// Whether the gripper channel's width is nearer its closed width than its open one.
-    fn gripper_closed(&self, values: &ChannelValues, device: &DeviceInfo) -> bool {
-        let (Some(gripper), Some(&units)) = (self.arm.gripper(), values.as_slice().last()) else {
+    fn gripper_closed(&self, values: &ChannelOutput, device: &DeviceInfo) -> bool {
+        let (Some(gripper), Some(&Some(units))) = (self.arm.gripper(), values.as_slice().last())
+        else {
             return false;
         };
         let pulse_us = device.us_from_units(units);

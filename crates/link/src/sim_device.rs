@@ -33,14 +33,19 @@ pub struct SimDeviceConfig {
     pub watchdog: Duration,
     /// Lines the input queue holds.
     pub queue_capacity: u8,
-    /// Newest protocol version the device speaks: 3, or 2 to play a device that knows no
-    /// readings rate, 1 one that knows no output query either (it counts such lines as bad).
+    /// Planned setpoints (`p`, protocol 4) the play queue holds: 64 (1.28 s of 20 ms frames),
+    /// as the reference firmware.
+    pub play_queue_capacity: u8,
+    /// Newest protocol version the device speaks: 4, or 3 to play a device that knows no
+    /// planned setpoint, 2 one that knows no readings rate either, 1 one that knows no output
+    /// query either (it counts such lines as bad).
     pub protocol_version: u8,
 }
 
 impl Default for SimDeviceConfig {
     /// Seven channels (six joints and the gripper), 1 µs units, 500–2500 µs, a 20 ms
-    /// frame, a 250 ms watchdog, a 4-line input queue and protocol version 3.
+    /// frame, a 250 ms watchdog, a 4-line input queue, a 64-entry play queue and protocol
+    /// version 4.
     fn default() -> Self {
         Self {
             channel_count: 7,
@@ -50,6 +55,7 @@ impl Default for SimDeviceConfig {
             frame_period: Duration::from_millis(20),
             watchdog: Duration::from_millis(250),
             queue_capacity: 4,
+            play_queue_capacity: 64,
             protocol_version: PROTOCOL_VERSION,
         }
     }
@@ -72,10 +78,14 @@ pub struct SimDevice {
     mode: DeviceMode,
     status: DeviceStatus,
     /// The newest accepted setpoint, started at the next frame.
-    next_pulses: Option<ChannelValues>,
-    /// What the device sends now; `None` while limp.
-    pulses: Option<ChannelValues>,
-    last_good_line: Duration,
+    next_pulses: Option<ChannelOutput>,
+    /// Planned setpoints waiting to be played, one a frame.
+    planned: VecDeque<ChannelOutput>,
+    /// What the device sends now, channel by channel; `None` while limp on every channel.
+    pulses: Option<ChannelOutput>,
+    /// When the watchdog starts counting: the later of the last good line and the frame that
+    /// took the play queue's last entry.
+    watchdog_from: Duration,
     next_frame: Duration,
     frames: u64,
     status_pending: bool,
@@ -124,8 +134,9 @@ impl SimDevice {
                 watchdog_trips: 0,
             },
             next_pulses: None,
+            planned: VecDeque::new(),
             pulses: None,
-            last_good_line: Duration::ZERO,
+            watchdog_from: Duration::ZERO,
             next_frame: Duration::ZERO,
             frames: 0,
             status_pending: false,
@@ -213,22 +224,26 @@ impl SimDevice {
         }
     }
 
-    /// The pulse widths being sent, in pulse units, channel 0 first; `None` while limp.
+    /// The pulse widths being sent, in pulse units, channel 0 first; `None` while any
+    /// channel is limp (see [`SimDevice::output`] for each channel).
     pub fn pulse_units(&self) -> Option<ChannelValues> {
-        self.pulses
+        self.pulses.and_then(|output| output.pulses())
     }
 
     /// What the device is sending now, as an output line reports it.
     pub fn output(&self) -> ChannelOutput {
-        self.pulses.as_ref().map_or_else(
-            || ChannelOutput::limp(self.info.channel_count),
-            ChannelOutput::driven,
-        )
+        self.pulses
+            .unwrap_or_else(|| ChannelOutput::limp(self.info.channel_count))
     }
 
-    /// The pulse widths being sent, in µs, channel 0 first; empty while limp.
+    /// Planned setpoints waiting in the play queue.
+    pub fn planned_waiting(&self) -> usize {
+        self.planned.len()
+    }
+
+    /// The pulse widths being sent, in µs, channel 0 first; empty while any channel is limp.
     pub fn pulse_widths_us(&self) -> Vec<f64> {
-        self.pulses
+        self.pulse_units()
             .map(|values| {
                 values
                     .as_slice()
@@ -274,7 +289,7 @@ impl SimDevice {
                 }
                 Err(_) => self.count_bad_line(),
                 Ok(line) if line.message == HostMessage::EmergencyStop => {
-                    self.last_good_line = self.now;
+                    self.watchdog_from = self.now;
                     self.latch_stop();
                     self.acknowledge(line.seq, AckOutcome::Accepted);
                 }
@@ -284,7 +299,7 @@ impl SimDevice {
                     self.flag(Faults::OVERFLOW);
                 }
                 Ok(line) => {
-                    self.last_good_line = self.now;
+                    self.watchdog_from = self.now;
                     self.queue.push_back((line, self.now));
                 }
             }
@@ -298,9 +313,9 @@ impl SimDevice {
         while let Some((line, _)) = self.queue.pop_front() {
             self.act_on(line);
         }
-        let watchdog_due = self.last_good_line + self.config.watchdog;
         while self.next_frame <= self.now {
             let frame_start = self.next_frame;
+            let watchdog_due = self.watchdog_from + self.config.watchdog;
             self.check_watchdog(frame_start.max(watchdog_due).min(self.now));
             if self.frames > 0
                 && let Some(arm) = &mut self.arm
@@ -308,10 +323,13 @@ impl SimDevice {
                 // The frame that ends here ran with the pulses sent during it.
                 arm.run_frame(self.pulses.as_ref(), &self.info);
             }
-            if self.mode == DeviceMode::Driving
-                && let Some(next) = self.next_pulses.take()
-            {
-                self.pulses = Some(next);
+            if self.mode == DeviceMode::Driving {
+                if let Some(next) = self.planned.pop_front() {
+                    self.pulses = Some(next);
+                    self.watchdog_from = self.watchdog_from.max(frame_start);
+                } else if let Some(next) = self.next_pulses.take() {
+                    self.pulses = Some(next);
+                }
             }
             self.frames += 1;
             self.next_frame = frame_start + self.config.frame_period;
@@ -364,7 +382,10 @@ impl SimDevice {
     }
 
     fn check_watchdog(&mut self, at: Duration) {
-        if self.mode == DeviceMode::Driving && at >= self.last_good_line + self.config.watchdog {
+        if self.mode == DeviceMode::Driving
+            && self.planned.is_empty()
+            && at >= self.watchdog_from + self.config.watchdog
+        {
             self.mode = DeviceMode::Keeping;
             self.next_pulses = None;
             self.status.watchdog_trips = self.status.watchdog_trips.saturating_add(1);
@@ -420,27 +441,46 @@ impl SimDevice {
                 self.count_bad_line();
                 return;
             }
-            HostMessage::Setpoint(_) | HostMessage::Hold | HostMessage::Release if stopped => {
+            HostMessage::Planned(values)
+                if self.info.protocol_version < 4
+                    || values.len() != usize::from(self.info.channel_count) =>
+            {
+                self.count_bad_line();
+                return;
+            }
+            HostMessage::Setpoint(_)
+            | HostMessage::Planned(_)
+            | HostMessage::Hold
+            | HostMessage::Release
+                if stopped =>
+            {
                 AckOutcome::Refused
             }
-            HostMessage::Setpoint(mut values) => {
-                let mut clamped = 0u16;
-                for value in values.as_mut_slice() {
-                    let (limited, was_clamped) = self.info.clamp_units(*value);
-                    *value = limited;
-                    clamped += u16::from(was_clamped);
-                }
-                self.next_pulses = Some(values);
+            HostMessage::Planned(_)
+                if self.planned.len() >= usize::from(self.config.play_queue_capacity) =>
+            {
+                // More than the room it was given: the host broke flow control.
+                self.count_bad_line();
+                self.flag(Faults::OVERFLOW);
+                return;
+            }
+            HostMessage::Setpoint(values) => {
+                // The newest setpoint wins over anything planned.
+                self.planned.clear();
+                let (output, outcome) = self.clamped(ChannelOutput::driven(&values));
+                self.next_pulses = Some(output);
                 self.set_mode(DeviceMode::Driving);
-                if clamped > 0 {
-                    self.status.clamped_values = self.status.clamped_values.saturating_add(clamped);
-                    self.flag(Faults::CLAMPED);
-                    AckOutcome::Clamped
-                } else {
-                    AckOutcome::Accepted
-                }
+                outcome
+            }
+            HostMessage::Planned(values) => {
+                let (output, outcome) = self.clamped(values);
+                self.planned.push_back(output);
+                self.next_pulses = None;
+                self.set_mode(DeviceMode::Driving);
+                outcome
             }
             HostMessage::Hold => {
+                self.planned.clear();
                 self.next_pulses = None;
                 if self.mode != DeviceMode::Limp {
                     self.set_mode(DeviceMode::Keeping);
@@ -448,6 +488,7 @@ impl SimDevice {
                 AckOutcome::Accepted
             }
             HostMessage::Release => {
+                self.planned.clear();
                 self.next_pulses = None;
                 self.pulses = None;
                 self.set_mode(DeviceMode::Limp);
@@ -457,6 +498,7 @@ impl SimDevice {
                 self.status.faults = Faults::default();
                 self.status_pending = true;
                 if matches!(self.mode, DeviceMode::Stopped | DeviceMode::Driving) {
+                    self.planned.clear();
                     self.next_pulses = None;
                     self.set_mode(if self.pulses.is_some() {
                         DeviceMode::Keeping
@@ -470,7 +512,29 @@ impl SimDevice {
         self.acknowledge(line.seq, outcome);
     }
 
+    /// `values` clamped into the announced range (limp channels stay limp), counted.
+    fn clamped(&mut self, values: ChannelOutput) -> (ChannelOutput, AckOutcome) {
+        let mut clamped = 0u16;
+        let mut limited = [None; crate::protocol::MAX_CHANNELS];
+        for (slot, value) in limited.iter_mut().zip(values.as_slice()) {
+            *slot = value.map(|units| {
+                let (units, was_clamped) = self.info.clamp_units(units);
+                clamped += u16::from(was_clamped);
+                units
+            });
+        }
+        let output = ChannelOutput::from_slice(&limited[..values.len()]).unwrap_or(values);
+        if clamped > 0 {
+            self.status.clamped_values = self.status.clamped_values.saturating_add(clamped);
+            self.flag(Faults::CLAMPED);
+            (output, AckOutcome::Clamped)
+        } else {
+            (output, AckOutcome::Accepted)
+        }
+    }
+
     fn latch_stop(&mut self) {
+        self.planned.clear();
         self.next_pulses = None;
         self.set_mode(DeviceMode::Stopped);
         self.flag(Faults::EMERGENCY_STOP);
@@ -494,7 +558,9 @@ impl SimDevice {
     }
 
     fn acknowledge(&mut self, acked_seq: u8, outcome: AckOutcome) {
-        let free = usize::from(self.config.queue_capacity).saturating_sub(self.queue.len());
+        let free = usize::from(self.config.queue_capacity)
+            .saturating_sub(self.queue.len())
+            .min(usize::from(self.config.play_queue_capacity).saturating_sub(self.planned.len()));
         self.send(DeviceMessage::Ack(Ack {
             acked_seq,
             room: u8::try_from(free.min(99)).unwrap_or(99),

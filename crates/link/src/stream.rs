@@ -39,12 +39,18 @@ pub struct StreamOptions {
     pub stop_repeat: Duration,
     /// A setpoint sent later than its deadline by more than this counts as late.
     pub late_after: Duration,
+    /// How far ahead to send a stream as planned setpoints (`p`, `PROTOCOL.md` §3), which
+    /// the device plays from its queue one a pulse frame: a host held up for up to this long
+    /// plus the device's watchdog time (250 ms) neither ends the stream nor trips the
+    /// watchdog. Used when the device speaks protocol 4 and its pulse frame equals `period`
+    /// ([`Link::plays_ahead`]); zero streams in real time (`s`) always.
+    pub play_ahead: Duration,
 }
 
 impl Default for StreamOptions {
     /// 100 Hz, a 64-setpoint queue, acknowledgements late after 60 ms, the link lost after
     /// 250 ms of silence, 100 ms heartbeat, 2 s greeting timeout, stop repeated every 20 ms,
-    /// setpoints late after 1 ms.
+    /// setpoints late after 1 ms, no playing ahead.
     fn default() -> Self {
         Self {
             period: Duration::from_millis(10),
@@ -55,6 +61,7 @@ impl Default for StreamOptions {
             greeting_timeout: Duration::from_secs(2),
             stop_repeat: Duration::from_millis(20),
             late_after: Duration::from_millis(1),
+            play_ahead: Duration::ZERO,
         }
     }
 }
@@ -170,12 +177,13 @@ enum Command {
 /// setpoints, a UI reading statistics).
 pub struct Link {
     commands: Option<Sender<Command>>,
-    setpoints: Option<SyncSender<ChannelValues>>,
+    setpoints: Option<SyncSender<ChannelOutput>>,
     stats: Arc<Mutex<StreamStats>>,
     events: Mutex<Receiver<LinkEvent>>,
     stop: EmergencyStop,
     device: DeviceInfo,
     greeting_timeout: Duration,
+    plays_ahead: bool,
     thread: Option<JoinHandle<()>>,
 }
 
@@ -228,6 +236,8 @@ impl Link {
             greetings_seen: 0,
             greeting_acked_at: None,
             watchdog_trips_at_start: 0,
+            lead_frames: 0,
+            last_frame: None,
             jitter: Jitter::default(),
         };
         let thread = std::thread::Builder::new()
@@ -250,8 +260,17 @@ impl Link {
             stop,
             device,
             greeting_timeout: options.greeting_timeout,
+            plays_ahead: plays_ahead(&options, &device),
             thread: Some(thread),
         })
+    }
+
+    /// Whether streams on this link are sent ahead as planned setpoints that the device plays
+    /// from its queue (`StreamOptions::play_ahead`): the device speaks protocol 4 and its
+    /// pulse frame equals the stream's period. Only then may a pushed frame leave a channel
+    /// without a pulse ([`Link::push_frame`]).
+    pub fn plays_ahead(&self) -> bool {
+        self.plays_ahead
     }
 
     /// What the device said about itself.
@@ -366,11 +385,36 @@ impl Link {
                 got: values.len(),
             });
         }
+        self.push(ChannelOutput::driven(&values))
+    }
+
+    /// Queues one frame in which some channels may send no pulse (`None`: the servo stays
+    /// limp), for waking a limp arm one joint at a time; otherwise as
+    /// [`Link::push_setpoint`].
+    ///
+    /// # Errors
+    /// As [`Link::push_setpoint`], and [`LinkError::NoPlayAhead`] for a frame with a limp
+    /// channel on a link that does not play ahead ([`Link::plays_ahead`]).
+    pub fn push_frame(&self, frame: ChannelOutput) -> Result<(), LinkError> {
+        let expected = usize::from(self.device.channel_count);
+        if frame.len() != expected {
+            return Err(LinkError::WrongChannelCount {
+                expected,
+                got: frame.len(),
+            });
+        }
+        if frame.any_limp() && !self.plays_ahead {
+            return Err(LinkError::NoPlayAhead);
+        }
+        self.push(frame)
+    }
+
+    fn push(&self, frame: ChannelOutput) -> Result<(), LinkError> {
         self.refuse_unless_streaming()?;
         self.setpoints
             .as_ref()
             .ok_or(LinkError::Closed)?
-            .send(values)
+            .send(frame)
             .map_err(|_| LinkError::Closed)?;
         self.stop.wake_link();
         self.refuse_unless_streaming()
@@ -491,12 +535,51 @@ impl Jitter {
     }
 }
 
-/// A setpoint schedule: deadline k is `start + k × period`, so nothing drifts.
+/// Whether a link with `options` to `device` plays streams ahead (see [`Link::plays_ahead`]).
+fn plays_ahead(options: &StreamOptions, device: &DeviceInfo) -> bool {
+    let frame = Duration::from_micros(u64::from(device.frame_period_us));
+    let period_matches = options.period.abs_diff(frame) <= Duration::from_micros(1);
+    !options.play_ahead.is_zero() && device.protocol_version >= 4 && period_matches
+}
+
+/// `frame` as `device` clamps it into its announced range.
+fn clamp_frame(device: Option<&DeviceInfo>, frame: ChannelOutput) -> ChannelOutput {
+    let Some(device) = device else {
+        return frame;
+    };
+    let mut clamped = [None; crate::protocol::MAX_CHANNELS];
+    for (slot, value) in clamped.iter_mut().zip(frame.as_slice()) {
+        *slot = value.map(|units| device.clamp_units(units).0);
+    }
+    ChannelOutput::from_slice(&clamped[..frame.len()]).unwrap_or(frame)
+}
+
+/// After the time a stream played ahead should have played out, how much longer the host
+/// waits for the device to report its last frame before calling the stream finished anyway
+/// (a device whose clock runs slow, as a simulated one on a busy computer).
+const DRAIN_GRACE: Duration = Duration::from_secs(2);
+
+/// A setpoint schedule: deadline k is `start + (k − lead) × period` (the first `lead` are due
+/// at once when playing ahead), so nothing drifts.
 struct Schedule {
     start: Option<Instant>,
     index: u32,
     finishing: bool,
     frames_sent: u64,
+    /// The index whose deadline found the queue empty, counted once as an underrun.
+    underrun_at: Option<u32>,
+    /// Playing ahead, after the last setpoint went out: the device is still playing its queue.
+    draining: Option<Drain>,
+}
+
+/// The end of a stream played ahead: finished once the device reports it sends the last
+/// frame (as it clamped it), asked every frame from the time it should have reached it.
+struct Drain {
+    last: ChannelOutput,
+    from: Instant,
+    give_up: Instant,
+    outputs_at: u64,
+    asked_at: Option<Instant>,
 }
 
 struct InFlight {
@@ -517,7 +600,7 @@ struct Worker {
     transport: Box<dyn Transport>,
     options: StreamOptions,
     commands: Receiver<Command>,
-    setpoints: Receiver<ChannelValues>,
+    setpoints: Receiver<ChannelOutput>,
     shared: Arc<Mutex<StreamStats>>,
     stop: EmergencyStop,
     events: Sender<LinkEvent>,
@@ -538,6 +621,10 @@ struct Worker {
     greetings_seen: u32,
     greeting_acked_at: Option<u32>,
     watchdog_trips_at_start: u16,
+    /// Setpoints sent ahead of their time when playing ahead; 0 in real time.
+    lead_frames: u32,
+    /// The newest frame sent in this stream.
+    last_frame: Option<ChannelOutput>,
     /// When the device last sent anything.
     last_heard: Instant,
     /// Status and output lines heard so far, to tell a fresh answer from an older one.
@@ -555,6 +642,11 @@ impl Worker {
             .and_then(|device| self.learn_state().map(|()| device))
         {
             Ok(device) => {
+                if plays_ahead(&self.options, &device) {
+                    let frames =
+                        self.options.play_ahead.as_nanos() / self.options.period.as_nanos().max(1);
+                    self.lead_frames = u32::try_from(frames).unwrap_or(u32::MAX);
+                }
                 let _ = greeting_reply.send(Ok(device));
             }
             Err(error) => {
@@ -723,7 +815,7 @@ impl Worker {
         self.check_acks(now);
         self.serve_stream(now);
         self.serve_controls(now);
-        self.publish();
+        self.publish_unless_busy();
         if let Some(sleep) = self.idle_sleep(Instant::now()) {
             // Nothing to send and no answer awaited: sleep until the next heartbeat is due.
             // A stop, a command, a setpoint or the handle going away wakes the thread at
@@ -794,7 +886,8 @@ impl Worker {
     fn next_deadline(&self) -> Option<Instant> {
         let schedule = self.schedule.as_ref()?;
         let start = schedule.start?;
-        Some(start + self.options.period * schedule.index)
+        let due = start + self.options.period * schedule.index.saturating_sub(self.lead_frames);
+        schedule.draining.is_none().then_some(due)
     }
 
     fn take_commands(&mut self) -> bool {
@@ -859,6 +952,8 @@ impl Worker {
             index: 0,
             finishing: false,
             frames_sent: 0,
+            underrun_at: None,
+            draining: None,
         });
         self.publish();
         Ok(())
@@ -911,6 +1006,8 @@ impl Worker {
     }
 
     fn serve_stream(&mut self, now: Instant) {
+        let lead = self.lead_frames;
+        let period = self.options.period;
         let Some(schedule) = &mut self.schedule else {
             self.drop_queued();
             return;
@@ -918,44 +1015,114 @@ impl Worker {
         if self.stats.state != LinkState::Streaming {
             return;
         }
+        if schedule.draining.is_some() {
+            self.serve_drain(now);
+            return;
+        }
+        let deadline_of = |start: Instant, index: u32| start + period * index.saturating_sub(lead);
         let deadline = match schedule.start {
-            Some(start) => start + self.options.period * schedule.index,
+            Some(start) => deadline_of(start, schedule.index),
             None => now,
         };
         if now < deadline || self.in_flight.len() >= self.room {
             return;
         }
         match self.setpoints.try_recv() {
-            Ok(values) => {
+            Ok(frame) => {
                 let schedule_start = *schedule.start.get_or_insert(now);
-                let deadline = schedule_start + self.options.period * schedule.index;
+                let index = schedule.index;
+                let deadline = deadline_of(schedule_start, index);
                 schedule.index += 1;
                 schedule.frames_sent += 1;
+                let message = match frame.pulses() {
+                    _ if lead > 0 => HostMessage::Planned(frame),
+                    Some(values) => HostMessage::Setpoint(values),
+                    // Refused by `Link::push_frame` before it gets here.
+                    None => return,
+                };
                 let written = Instant::now();
-                if let Err(loss) = self.write(HostMessage::Setpoint(values), written) {
+                if let Err(loss) = self.write(message, written) {
                     self.lose(loss);
                     return;
                 }
-                let offset = written.saturating_duration_since(deadline);
-                self.jitter.record(offset);
                 self.stats.frames_sent += 1;
-                if offset > self.options.late_after {
-                    self.stats.frames_late += 1;
+                // The first `lead` frames are due at once, not at a time of their own: only
+                // the later ones keep a schedule to be late for.
+                if index >= lead {
+                    let offset = written.saturating_duration_since(deadline);
+                    self.jitter.record(offset);
+                    if offset > self.options.late_after {
+                        self.stats.frames_late += 1;
+                    }
+                    self.jitter.publish(&mut self.stats);
                 }
-                self.jitter.publish(&mut self.stats);
+                self.last_frame = Some(frame);
             }
-            Err(_) if schedule.finishing => {
-                let frames_sent = schedule.frames_sent;
-                self.schedule = None;
-                self.stats.state = LinkState::Idle;
-                self.emit(LinkEvent::StreamFinished { frames_sent });
-            }
+            Err(_) if schedule.finishing => match (lead, self.last_frame, schedule.start) {
+                (1.., Some(last), Some(start)) => {
+                    // The device plays the last frame about a period after it was due; ask
+                    // what it sends from then on.
+                    let from = start + period * schedule.index;
+                    schedule.draining = Some(Drain {
+                        last: clamp_frame(self.device.as_ref(), last),
+                        from,
+                        give_up: from + period * lead + DRAIN_GRACE,
+                        outputs_at: self.outputs_seen,
+                        asked_at: None,
+                    });
+                }
+                _ => {
+                    let frames_sent = schedule.frames_sent;
+                    self.finish(frames_sent);
+                }
+            },
             Err(_) => {
                 if schedule.start.is_some() {
-                    schedule.index += 1;
-                    self.stats.underruns += 1;
+                    if lead == 0 {
+                        schedule.index += 1;
+                        self.stats.underruns += 1;
+                    } else if schedule.underrun_at != Some(schedule.index) {
+                        // The device plays its queue at its own pace: wait, do not skip.
+                        schedule.underrun_at = Some(schedule.index);
+                        self.stats.underruns += 1;
+                    }
                 }
             }
+        }
+    }
+
+    fn finish(&mut self, frames_sent: u64) {
+        self.schedule = None;
+        self.last_frame = None;
+        self.stats.state = LinkState::Idle;
+        self.emit(LinkEvent::StreamFinished { frames_sent });
+    }
+
+    /// After the last planned setpoint: asks the device what it sends, once a frame, until it
+    /// sends the last one (its queue has played out), then the stream has finished.
+    fn serve_drain(&mut self, now: Instant) {
+        let Some(schedule) = &mut self.schedule else {
+            return;
+        };
+        let frames_sent = schedule.frames_sent;
+        let Some(drain) = &mut schedule.draining else {
+            return;
+        };
+        let answered = self.outputs_seen > drain.outputs_at;
+        if answered && self.stats.device_output == Some(drain.last) || now >= drain.give_up {
+            self.finish(frames_sent);
+            return;
+        }
+        let asking = drain
+            .asked_at
+            .is_some_and(|at| !answered && now - at < self.options.silence_limit);
+        let frame_since_ask = drain
+            .asked_at
+            .is_none_or(|at| now - at >= self.options.period);
+        if now >= drain.from && !asking && frame_since_ask {
+            drain.asked_at = Some(now);
+            drain.outputs_at = self.outputs_seen;
+            self.controls.push_back(HostMessage::OutputQuery);
         }
     }
 
@@ -966,7 +1133,9 @@ impl Worker {
         if self.controls.is_empty() && now - self.last_sent >= self.options.heartbeat_interval {
             self.controls.push_back(HostMessage::Heartbeat);
         }
-        while self.has_credit() {
+        // With nothing awaiting an answer the device's input queue is empty: one line may go
+        // even when the room is 0 (a full play queue), and its answer brings the room again.
+        while self.has_credit() || self.in_flight.is_empty() {
             let Some(message) = self.controls.pop_front() else {
                 break;
             };
@@ -1095,7 +1264,7 @@ impl Worker {
                     self.stats.acks_late += 1;
                 }
                 match acked.message {
-                    HostMessage::Setpoint(_) => {
+                    HostMessage::Setpoint(_) | HostMessage::Planned(_) => {
                         self.stats.frames_acked += 1;
                         match ack.outcome {
                             AckOutcome::Clamped => self.stats.frames_clamped += 1,
@@ -1185,6 +1354,16 @@ impl Worker {
     fn emit(&self, event: LinkEvent) {
         self.publish();
         let _ = self.events.send(event);
+    }
+
+    /// Publishes the statistics unless a reader holds them now: a reader held up by a busy
+    /// computer while holding the lock must not hold up the link; the next turn publishes.
+    fn publish_unless_busy(&self) {
+        if let Ok(mut shared) = self.shared.try_lock()
+            && *shared != self.stats
+        {
+            shared.clone_from(&self.stats);
+        }
     }
 
     fn publish(&self) {

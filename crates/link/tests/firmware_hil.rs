@@ -21,9 +21,9 @@ use std::sync::{Arc, Mutex, OnceLock};
 use std::time::{Duration, Instant};
 
 use armwright_link::{
-    AckOutcome, Assembled, ChannelValues, DeviceInfo, DeviceLine, DeviceMessage, DeviceMode,
-    Faults, HostLine, HostMessage, LineAssembler, Link, LinkError, LinkEvent, ResetConfirmation,
-    SerialTransport, StreamOptions, Transport,
+    AckOutcome, Assembled, ChannelOutput, ChannelValues, DeviceInfo, DeviceLine, DeviceMessage,
+    DeviceMode, Faults, HostLine, HostMessage, LineAssembler, Link, LinkError, LinkEvent,
+    ResetConfirmation, SerialTransport, StreamOptions, Transport,
 };
 
 use common::wait_for;
@@ -724,7 +724,7 @@ fn the_output_query_reports_limp_then_the_pulses_on_the_pins() {
     let run = start(hil, "output");
     let mut port = RawPort::new(&run);
     // RawPort greeted with version 1 and the firmware answered 1; greeted with 2 it says 2
-    // (it speaks 3, the lower of the two wins).
+    // (it speaks 4, the lower of the two wins).
     let first = port.read_until(|line| matches!(line.message, DeviceMessage::Greeting(_)));
     assert!(matches!(
         first.message,
@@ -798,7 +798,7 @@ fn a_link_to_the_firmware_reads_its_state_at_connect() {
     let Some(hil) = hil() else { return };
     let run = start(hil, "connect-state");
     let link = Link::connect(Box::new(run.open()), hil_options()).expect("greets the firmware");
-    assert_eq!(link.device().protocol_version, 3);
+    assert_eq!(link.device().protocol_version, 4);
     let output = link
         .device_output()
         .expect("protocol 2 firmware reports its output");
@@ -1293,7 +1293,7 @@ fn a_link_to_the_firmware_keeps_the_newest_readings() {
         run.set_input(input, mv);
     }
     let link = Link::connect(Box::new(run.open()), hil_options()).expect("greets the firmware");
-    assert_eq!(link.device().protocol_version, 3);
+    assert_eq!(link.device().protocol_version, 4);
     assert!(link.stats().readings.is_none(), "none before asking");
     link.request_readings(50).expect("a version-3 link");
     let give_up = Instant::now() + Duration::from_secs(60);
@@ -1312,4 +1312,193 @@ fn a_link_to_the_firmware_keeps_the_newest_readings() {
     );
     drop(link);
     run.finish();
+}
+
+/// Each channel's pulse in every frame (channel 0 always driven marks the frame), µs, `None`
+/// for a channel without a pulse in that frame.
+fn frames_with_limp(log: &SimLog) -> Vec<(u64, [Option<f64>; CHANNELS])> {
+    let mut pulses: Vec<Vec<(u64, u64)>> = vec![Vec::new(); CHANNELS];
+    let mut rose: [Option<u64>; CHANNELS] = [None; CHANNELS];
+    for &(cycle, channel, level) in &log.edges {
+        if level {
+            rose[channel] = Some(cycle);
+        } else if let Some(start) = rose[channel].take() {
+            pulses[channel].push((start, cycle - start));
+        }
+    }
+    pulses[0]
+        .iter()
+        .map(|&(start, _)| {
+            let mut widths = [None; CHANNELS];
+            for (channel, width) in widths.iter_mut().enumerate() {
+                *width = pulses[channel]
+                    .iter()
+                    .find(|(rise, _)| *rise >= start && *rise < start + FRAME_CYCLES)
+                    .map(|&(_, cycles)| cycles as f64 / CYCLES_PER_US);
+            }
+            (start, widths)
+        })
+        .collect()
+}
+
+/// Planned frame `i` of the test: channel 0 steps 20 µs a frame so each frame is told apart,
+/// channel 3 sends no pulse in the first `limp_frames`.
+fn planned_frame(i: u16, limp_frames: u16) -> [Option<u16>; CHANNELS] {
+    let mut frame = [Some(3000); CHANNELS];
+    frame[0] = Some(2000 + 40 * i);
+    if i < limp_frames {
+        frame[3] = None;
+    }
+    frame
+}
+
+/// Sends planned frames 0 to `frames` − 1 in one write, so that a test host held up by a busy
+/// computer does not starve the queue (the harness feeds the UART at its baud rate, slower
+/// than the firmware takes lines off its ring, so the ring does not overflow); waits for the
+/// last one's acknowledgement and returns its sequence number.
+fn send_planned(port: &mut RawPort, frames: u16, limp_frames: u16) -> u8 {
+    let mut bytes = Vec::new();
+    let mut last_seq = 0;
+    for i in 0..frames {
+        let frame = ChannelOutput::from_slice(&planned_frame(i, limp_frames)).expect("seven");
+        last_seq = port.seq;
+        port.seq = port.seq.wrapping_add(1);
+        let line = HostLine {
+            seq: last_seq,
+            message: HostMessage::Planned(frame),
+        };
+        bytes.extend_from_slice(line.encode().as_bytes());
+    }
+    port.raw(&bytes);
+    port.expect_ack(last_seq, AckOutcome::Accepted);
+    last_seq
+}
+
+#[test]
+fn planned_setpoints_play_one_a_frame_in_order_and_the_watchdog_waits_for_the_queue() {
+    let Some(hil) = hil() else { return };
+    let run = start(hil, "planned");
+    let mut port = RawPort::new(&run);
+    let greeting = port.send(HostMessage::Greeting {
+        protocol_version: 4,
+    });
+    port.expect_ack(greeting, AckOutcome::Accepted);
+    port.read_until(
+        |line| matches!(line.message, DeviceMessage::Greeting(info) if info.protocol_version == 4),
+    );
+    // 40 frames (800 ms of motion) sent as fast as the acknowledgements allow: far faster than
+    // they are played, so they wait in the play queue.
+    const FRAMES: u16 = 40;
+    const LIMP: u16 = 10;
+    let last_seq = send_planned(&mut port, FRAMES, LIMP);
+    let tripped = port.read_until(|line| {
+        matches!(line.message, DeviceMessage::Status(s) if s.faults.contains(Faults::WATCHDOG))
+    });
+    run.wait_simulated(Duration::from_millis(100));
+    drop(port);
+    let log = run.finish();
+
+    let last_host_line = log
+        .host_lines
+        .iter()
+        .find(|(_, line)| line.seq == last_seq)
+        .map(|&(cycle, _)| cycle)
+        .expect("the last planned line is in the log");
+    let frames = frames_with_limp(&log);
+    // The planned frames, in order, one a frame: find the first, then every later frame is
+    // the next one until the last, which is then held.
+    let first = frames
+        .iter()
+        .position(|(_, widths)| widths[0].is_some_and(|w| (w - 1000.0).abs() <= 1.0))
+        .expect("the first planned frame was played");
+    for i in 0..FRAMES {
+        let (start, widths) = frames[first + usize::from(i)];
+        let expected = planned_frame(i, LIMP).map(|v| v.map(|units| f64::from(units) * 0.5));
+        for (channel, (got, want)) in widths.iter().zip(expected).enumerate() {
+            assert!(
+                match (got, want) {
+                    (Some(got), Some(want)) => (got - want).abs() <= 1.0,
+                    (None, None) => true,
+                    _ => false,
+                },
+                "planned frame {i} at {:.1} ms, channel {channel}: {got:?} µs, planned {want:?}",
+                ms(start)
+            );
+        }
+    }
+    let last_played = frames[first + usize::from(FRAMES) - 1].0;
+    // Most of the motion played after the host's last line: the queue held it.
+    assert!(
+        ms(last_played - last_host_line) > 500.0,
+        "the last frame played {:.1} ms after the last line",
+        ms(last_played - last_host_line)
+    );
+    // The watchdog counted 250 ms from the frame that took the last entry (a frame before it
+    // played), not from the host's last line.
+    let report = log
+        .device_lines
+        .iter()
+        .find(|(_, line)| line.seq == tripped.seq)
+        .map(|&(cycle, _)| cycle)
+        .expect("the status line is in the log");
+    let after_taken = ms(report) - (ms(last_played) - 20.0);
+    assert!(
+        (240.0..=280.0).contains(&after_taken),
+        "watchdog reported {after_taken:.1} ms after the queue ran dry"
+    );
+    // It then holds the last frame.
+    let held = planned_frame(FRAMES - 1, LIMP).map(|v| v.map(|units| f64::from(units) * 0.5));
+    // (The run's last frame may be cut off by its end.)
+    let whole = &frames[..frames.len() - 1];
+    for (start, widths) in whole.iter().filter(|(start, _)| *start > report) {
+        assert!(
+            widths
+                .iter()
+                .zip(held)
+                .all(|(got, want)| got.zip(want).is_some_and(|(g, w)| (g - w).abs() <= 1.0)),
+            "frame at {:.1} ms after the trip: {widths:?}",
+            ms(*start)
+        );
+    }
+}
+
+#[test]
+fn an_emergency_stop_drops_the_planned_frames_at_once() {
+    let Some(hil) = hil() else { return };
+    let run = start(hil, "planned-stop");
+    let mut port = RawPort::new(&run);
+    let greeting = port.send(HostMessage::Greeting {
+        protocol_version: 4,
+    });
+    port.expect_ack(greeting, AckOutcome::Accepted);
+    send_planned(&mut port, 40, 0);
+    let stop = port.send(HostMessage::EmergencyStop);
+    port.expect_ack(stop, AckOutcome::Accepted);
+    run.wait_simulated(Duration::from_millis(200));
+    drop(port);
+    let log = run.finish();
+    let stop_at = log.first_host_line(|message| *message == HostMessage::EmergencyStop);
+    let frames = frames_with_limp(&log);
+    // From the second frame after the stop arrived, every frame is the same: the queue was
+    // dropped and the device holds.
+    // (The run's last frame may be cut off by its end.)
+    let after: Vec<_> = frames[..frames.len() - 1]
+        .iter()
+        .filter(|(start, _)| *start > stop_at + FRAME_CYCLES)
+        .collect();
+    assert!(after.len() >= 5, "{} frames after the stop", after.len());
+    assert!(
+        after.windows(2).all(|pair| pair[0]
+            .1
+            .iter()
+            .zip(pair[1].1)
+            .all(|(a, b)| a.zip(b).is_some_and(|(a, b)| (a - b).abs() <= 1.0))),
+        "frames changed after the stop: {after:?}"
+    );
+    // And motion had not played out: the held frame is not the last planned one.
+    let last = f64::from(2000 + 40 * 39) * 0.5;
+    assert!(
+        after[0].1[0].is_some_and(|w| (w - last).abs() > 10.0),
+        "{after:?}"
+    );
 }

@@ -14,6 +14,10 @@ fn values(values: &[u16]) -> ChannelValues {
     ChannelValues::from_slice(values).expect("1 to 8 values")
 }
 
+fn planned(values: &[Option<u16>]) -> ChannelOutput {
+    ChannelOutput::from_slice(values).expect("1 to 8 values")
+}
+
 fn host_examples() -> Vec<(&'static str, HostLine)> {
     let line = |seq, message| HostLine { seq, message };
     vec![
@@ -55,6 +59,35 @@ fn host_examples() -> Vec<(&'static str, HostLine)> {
                 HostMessage::Greeting {
                     protocol_version: 3,
                 },
+            ),
+        ),
+        (
+            "p0B:05DC05DC----05DC05DC05DC/E329",
+            line(
+                0x0B,
+                HostMessage::Planned(planned(&[
+                    Some(1500),
+                    Some(1500),
+                    None,
+                    Some(1500),
+                    Some(1500),
+                    Some(1500),
+                ])),
+            ),
+        ),
+        (
+            "p0B:05DC05DC----05DC05DC05DC05DC/BC72",
+            line(
+                0x0B,
+                HostMessage::Planned(planned(&[
+                    Some(1500),
+                    Some(1500),
+                    None,
+                    Some(1500),
+                    Some(1500),
+                    Some(1500),
+                    Some(1500),
+                ])),
             ),
         ),
         (

@@ -25,7 +25,22 @@ fn host_message() -> impl Strategy<Value = HostMessage> {
         Just(HostMessage::Heartbeat),
         Just(HostMessage::OutputQuery),
         (0u8..=100).prop_map(|rate_hz| HostMessage::ReadingsRate { rate_hz }),
+        planned_frame().prop_map(HostMessage::Planned),
     ]
+}
+
+/// 1 to 8 channels, each a width or no pulse, at least one with a width.
+fn planned_frame() -> impl Strategy<Value = ChannelOutput> {
+    (
+        proptest::collection::vec(proptest::option::of(any::<u16>()), 1..=8),
+        any::<u16>(),
+        any::<prop::sample::Index>(),
+    )
+        .prop_map(|(mut values, width, at)| {
+            let at = at.index(values.len());
+            values[at] = Some(width);
+            ChannelOutput::from_slice(&values).expect("1 to 8 channels")
+        })
 }
 
 fn device_info() -> impl Strategy<Value = DeviceInfo> {
@@ -175,6 +190,28 @@ proptest! {
                 prop_assert_eq!(parsed.message, HostMessage::ReadingsRate { rate_hz: rate as u8 });
             }
             Err(_) => prop_assert!(rate > 100),
+        }
+    }
+
+    #[test]
+    fn planned_bodies_parse_only_with_a_width_somewhere(
+        fields in proptest::collection::vec(proptest::option::of(any::<u16>()), 1..=8)
+    ) {
+        let mut body = "p3C:".to_owned();
+        for field in &fields {
+            match field {
+                Some(units) => body.push_str(&format!("{units:04X}")),
+                None => body.push_str("----"),
+            }
+        }
+        let line = format!("{body}/{:04X}", crc16_ccitt_false(body.as_bytes()));
+        match HostLine::parse(line.as_bytes()) {
+            Ok(parsed) => {
+                prop_assert!(fields.iter().any(Option::is_some));
+                let expected = ChannelOutput::from_slice(&fields).expect("1 to 8 channels");
+                prop_assert_eq!(parsed.message, HostMessage::Planned(expected));
+            }
+            Err(_) => prop_assert!(fields.iter().all(Option::is_none)),
         }
     }
 

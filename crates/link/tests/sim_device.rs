@@ -5,8 +5,9 @@
 use std::time::Duration;
 
 use armwright_link::{
-    Ack, AckOutcome, ChannelValues, DeviceLine, DeviceMessage, DeviceMode, DeviceStatus, Faults,
-    HostLine, HostMessage, ReadingsRecording, ReadingsSource, SimDevice, SimDeviceConfig,
+    Ack, AckOutcome, ChannelOutput, ChannelValues, DeviceLine, DeviceMessage, DeviceMode,
+    DeviceStatus, Faults, HostLine, HostMessage, ReadingsRecording, ReadingsSource, SimDevice,
+    SimDeviceConfig,
 };
 
 /// A device, a clock in ms and the lines the device has sent.
@@ -395,8 +396,14 @@ mod properties {
     fn input() -> impl Strategy<Value = Input> {
         let values = proptest::collection::vec(any::<u16>(), 7..=7)
             .prop_map(|v| ChannelValues::from_slice(&v).expect("seven values"));
+        let planned = proptest::collection::vec(proptest::option::of(any::<u16>()), 7..=7)
+            .prop_map(|mut v| {
+                v[0].get_or_insert(1500);
+                ChannelOutput::from_slice(&v).expect("seven values")
+            });
         prop_oneof![
             4 => values.prop_map(|v| Input::Line(HostMessage::Setpoint(v))),
+            4 => planned.prop_map(|v| Input::Line(HostMessage::Planned(v))),
             1 => Just(Input::Line(HostMessage::Hold)),
             1 => Just(Input::Line(HostMessage::Release)),
             1 => Just(Input::Line(HostMessage::EmergencyStop)),
@@ -417,7 +424,7 @@ mod properties {
             let info = bench.device.info();
             // The last observation after the clock moved: was the device stopped, and with
             // which pulses; and whether a reset line was sent since.
-            let mut before: Option<(bool, Option<ChannelValues>)> = None;
+            let mut before: Option<(bool, ChannelOutput)> = None;
             let mut reset_sent = false;
             for (input, wait_ms) in steps {
                 match input {
@@ -431,11 +438,9 @@ mod properties {
                     continue; // queued lines are acted on when the clock moves
                 }
                 bench.wait_ms(wait_ms);
-                let pulses = bench.device.pulse_units();
-                if let Some(values) = pulses {
-                    for &units in values.as_slice() {
-                        prop_assert!(units >= info.min_pulse_units && units <= info.max_pulse_units);
-                    }
+                let pulses = bench.device.output();
+                for &units in pulses.as_slice().iter().flatten() {
+                    prop_assert!(units >= info.min_pulse_units && units <= info.max_pulse_units);
                 }
                 let stopped = bench.device.mode() == DeviceMode::Stopped;
                 if let Some((was_stopped, held)) = before
@@ -496,7 +501,7 @@ fn the_output_query_reports_limp_then_the_pulses_being_sent() {
 
 #[test]
 fn the_greeting_answer_speaks_the_lower_version() {
-    for (asked, answered) in [(1u8, 1u8), (2, 2), (3, 3), (9, 3)] {
+    for (asked, answered) in [(1u8, 1u8), (2, 2), (3, 3), (4, 4), (9, 4)] {
         let mut bench = Bench::new();
         bench.send(HostMessage::Greeting {
             protocol_version: asked,
@@ -632,4 +637,145 @@ fn a_device_without_inputs_acknowledges_the_rate_and_sends_nothing() {
     bench.wait_ms(100);
     assert!(bench.acks().iter().any(|a| a.acked_seq == ask));
     assert!(readings_heard(&bench).is_empty());
+}
+
+/// Sends one line and lets the device act on it at once (the clock does not move), as a
+/// host that waits for each acknowledgement.
+fn send_now(bench: &mut Bench, message: HostMessage) -> u8 {
+    let seq = bench.send(message);
+    let now = bench.now();
+    bench.device.advance(now);
+    bench.collect();
+    seq
+}
+
+/// Planned frame `i`: channel 0 at 1000 + 10 i µs (each frame told apart), channel 2 limp in
+/// the first `limp` frames, the rest at 1500 µs.
+fn planned(i: u16, limp: u16) -> ChannelOutput {
+    let mut frame = [Some(1500); 7];
+    frame[0] = Some(1000 + 10 * i);
+    if i < limp {
+        frame[2] = None;
+    }
+    ChannelOutput::from_slice(&frame).expect("seven")
+}
+
+#[test]
+fn planned_setpoints_play_one_a_frame_in_order_and_hold_the_last() {
+    let mut bench = Bench::new();
+    bench.wait_ms(5);
+    for i in 0..20 {
+        send_now(&mut bench, HostMessage::Planned(planned(i, 5)));
+    }
+    bench.wait_ms(1);
+    assert_eq!(bench.device.planned_waiting(), 20);
+    // The room is never more than the play queue's free entries: here the input queue's 4.
+    assert!(bench.acks().iter().all(|ack| ack.room <= 4));
+    let mut seen = Vec::new();
+    for _ in 0..25 {
+        bench.wait_ms(20);
+        seen.push(bench.device.output());
+    }
+    // Frames start at 20, 40, …: the first planned frame at 20 ms, then one a frame.
+    for (i, output) in seen.iter().take(20).enumerate() {
+        assert_eq!(*output, planned(i as u16, 5), "frame {i}");
+    }
+    assert!(seen[20..].iter().all(|output| *output == planned(19, 5)));
+    assert_eq!(bench.device.mode(), DeviceMode::Driving);
+}
+
+#[test]
+fn the_watchdog_counts_from_when_the_play_queue_runs_dry() {
+    let mut bench = Bench::new();
+    bench.wait_ms(5);
+    for i in 0..30 {
+        send_now(&mut bench, HostMessage::Planned(planned(i, 0)));
+    }
+    // 30 frames from 20 ms: the last is taken at 600 ms; the watchdog trips 250 ms later,
+    // although the host said nothing since 5 ms.
+    bench.wait_ms(595 + 240);
+    assert_eq!(bench.device.mode(), DeviceMode::Driving);
+    assert_eq!(bench.device.status().watchdog_trips, 0);
+    bench.wait_ms(20);
+    assert_eq!(bench.device.mode(), DeviceMode::Keeping);
+    assert_eq!(bench.device.status().watchdog_trips, 1);
+    assert_eq!(bench.device.output(), planned(29, 0));
+}
+
+#[test]
+fn a_stop_a_hold_or_a_setpoint_drops_the_planned_frames() {
+    for (name, message) in [
+        ("stop", HostMessage::EmergencyStop),
+        ("hold", HostMessage::Hold),
+        ("setpoint", setpoint(&MID)),
+    ] {
+        let mut bench = Bench::new();
+        bench.wait_ms(5);
+        for i in 0..20 {
+            send_now(&mut bench, HostMessage::Planned(planned(i, 0)));
+        }
+        bench.wait_ms(45); // frames at 20 and 40 ms played planned 0 and 1
+        bench.send(message);
+        bench.wait_ms(1);
+        assert_eq!(bench.device.planned_waiting(), 0, "{name}");
+        bench.wait_ms(100);
+        let expected = if name == "setpoint" {
+            ChannelOutput::driven(&ChannelValues::from_slice(&MID).expect("seven"))
+        } else {
+            planned(1, 0)
+        };
+        assert_eq!(bench.device.output(), expected, "{name}");
+    }
+}
+
+#[test]
+fn a_full_play_queue_gives_no_room_and_an_older_device_refuses_planned_lines() {
+    let mut bench = Bench::new();
+    bench.wait_ms(5);
+    for i in 0..64 {
+        send_now(&mut bench, HostMessage::Planned(planned(i, 0)));
+        bench.wait_ms(0);
+        let now = bench.now();
+        bench.device.advance(now);
+        bench.collect();
+    }
+    assert_eq!(bench.device.planned_waiting(), 64);
+    assert_eq!(bench.acks().last().map(|ack| ack.room), Some(0));
+    // A heartbeat still goes through and is answered with the room, 0 until a frame plays.
+    let beat = bench.send(HostMessage::Heartbeat);
+    bench.wait_ms(1);
+    assert!(
+        bench
+            .acks()
+            .iter()
+            .any(|ack| ack.acked_seq == beat && ack.room == 0)
+    );
+    // One more planned line breaks flow control: counted, not queued, not acknowledged.
+    let extra = bench.send(HostMessage::Planned(planned(0, 0)));
+    bench.wait_ms(1);
+    assert!(bench.acks().iter().all(|ack| ack.acked_seq != extra));
+    assert!(bench.device.status().faults.contains(Faults::OVERFLOW));
+    bench.wait_ms(20);
+    let beat = bench.send(HostMessage::Heartbeat);
+    bench.wait_ms(1);
+    assert!(
+        bench
+            .acks()
+            .iter()
+            .any(|ack| ack.acked_seq == beat && ack.room == 1)
+    );
+
+    let mut old = SimDevice::new(SimDeviceConfig {
+        protocol_version: 3,
+        ..SimDeviceConfig::default()
+    });
+    let line = HostLine {
+        seq: 1,
+        message: HostMessage::Planned(planned(0, 0)),
+    }
+    .encode();
+    old.receive(line.as_bytes(), Duration::from_millis(1));
+    old.advance(Duration::from_millis(50));
+    assert_eq!(old.status().bad_lines, 1);
+    assert_eq!(old.mode(), DeviceMode::Limp);
 }

@@ -95,6 +95,19 @@ pub fn plan_approach(
     plan_between(arm, task, from, to, speed_share)
 }
 
+/// The order in which to wake the joints of a limp `arm` one at a time: joint indices, the
+/// slowest servo first (lowest no-load speed, which is also the one most loaded and slowest to
+/// settle), equal speeds in chain order. A limp servo runs to its first pulse at its own top
+/// speed, so each joint's jump is seen (and settles) before the next one starts.
+pub fn wake_order(arm: &Arm) -> Vec<usize> {
+    let mut order: Vec<usize> = (0..arm.joint_count()).collect();
+    order.sort_by(|&a, &b| {
+        let speed = |j: usize| arm.joints()[j].servo.no_load_speed;
+        speed(a).total_cmp(&speed(b)).then(a.cmp(&b))
+    });
+    order
+}
+
 /// Plans the park move from the last waypoint of `task` to `rest` (rad or m, one per joint) at
 /// `speed_share`, the gripper keeping the last waypoint's state; the device then holds there.
 ///

@@ -54,7 +54,9 @@ mod shaping; // ZV and ZVD input shapers and shaped profiles
 mod straight_move; // the tool point on a straight line, through inverse kinematics along it
 mod sync; // several joints of one move: start and end together, slowest sets the duration
 
-pub use crate::approach::{Approach, ApproachStart, plan_approach, plan_park, streamed_samples};
+pub use crate::approach::{
+    Approach, ApproachStart, plan_approach, plan_park, streamed_samples, wake_order,
+};
 pub use crate::arm_limits::{LimitError, LimitSettings, limits_from_arm};
 pub use crate::arm_plan::{PlanError, Task, TaskPlan, TaskPlanner, TaskWaypoint, plan_task};
 pub use crate::clearance::*; // Clearance, ClearanceOptions, Workcell, Carry, plan_clearance, dry_run_clearance, grip_exemptions, carried_objects

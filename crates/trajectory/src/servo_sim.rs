@@ -523,8 +523,26 @@ impl ServoStepper {
                 None => frames.set_limp(j, model, &load),
             }
         }
+        self.advance_frame(&frames);
+    }
+
+    /// Runs one pulse frame with each joint driven by its width (µs) or limp (`None`, or no
+    /// entry), under `loads` as [`ServoStepper::run_frame`].
+    pub fn run_frame_each(&mut self, pulse_us: &[Option<f64>], loads: &[JointLoad]) {
+        let mut frames = FrameLoops::idle();
+        for (j, model) in self.models.iter().enumerate() {
+            let load = loads.get(j).copied().unwrap_or_default();
+            match pulse_us.get(j).copied().flatten() {
+                Some(pulse) => frames.set(j, model, pulse, &load),
+                None => frames.set_limp(j, model, &load),
+            }
+        }
+        self.advance_frame(&frames);
+    }
+
+    fn advance_frame(&mut self, frames: &FrameLoops) {
         for _ in 0..self.clock.steps_per_frame {
-            advance_all(&self.models, &frames, self.clock.step, &mut self.state);
+            advance_all(&self.models, frames, self.clock.step, &mut self.state);
             let state = &mut self.state;
             for (j, &(low, high)) in self.end_stops.iter().enumerate() {
                 let stopped = (state.position[j] <= low && state.velocity[j] < 0.0)

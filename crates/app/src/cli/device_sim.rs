@@ -1,6 +1,7 @@
 //! `armwright device-sim`: the simulated device behind a pseudo-terminal, so `stream --port`
 //! can use the real serial code path with no hardware. Prints the path on standard output,
-//! each change of the device's mode, faults or watchdog trips on standard error, and runs
+//! each change of the device's mode, faults or watchdog trips, and of which channels send
+//! pulses, on standard error, and runs
 //! until Ctrl-C; then says how long its process waited for a processor, time the device's
 //! clock left out as a microcontroller's would. Its analog inputs can play a recording (`--readings FILE`) or sweep slowly
 //! (`--sweep-inputs N`); `readings_source` turns those options into the device's source, for
@@ -87,20 +88,31 @@ pub(crate) fn run(channels: u8, readings: &SimReadings) -> Outcome {
         pty.path(),
         pty.path()
     );
-    let device = pty.device();
     let mut shown = None;
+    let mut shown_channels = Vec::new();
     loop {
-        let status = device
-            .lock()
-            .unwrap_or_else(std::sync::PoisonError::into_inner)
-            .status();
-        let seen = (status.mode, status.faults, status.watchdog_trips);
-        if shown != Some(seen) {
-            shown = Some(seen);
-            eprintln!(
-                "device: mode {:?}, faults {:02X}, watchdog trips {}",
-                status.mode, status.faults.0, status.watchdog_trips
-            );
+        // Watched without locking the device: this thread held up by a busy computer must not
+        // hold the device up.
+        if let Some((status, output)) = pty.watch() {
+            let seen = (status.mode, status.faults, status.watchdog_trips);
+            if shown != Some(seen) {
+                shown = Some(seen);
+                eprintln!(
+                    "device: mode {:?}, faults {:02X}, watchdog trips {}",
+                    status.mode, status.faults.0, status.watchdog_trips
+                );
+            }
+            let channels: Vec<usize> = output
+                .as_slice()
+                .iter()
+                .enumerate()
+                .filter_map(|(channel, pulse)| pulse.map(|_| channel))
+                .collect();
+            if channels != shown_channels {
+                let list: Vec<String> = channels.iter().map(ToString::to_string).collect();
+                eprintln!("device: pulses on channels [{}]", list.join(", "));
+                shown_channels = channels;
+            }
         }
         match ended_rx.recv_timeout(std::time::Duration::from_millis(10)) {
             Err(std::sync::mpsc::RecvTimeoutError::Timeout) => {}

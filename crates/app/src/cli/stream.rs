@@ -8,6 +8,7 @@ use std::io::{BufRead, IsTerminal};
 use std::path::Path;
 use std::time::{Duration, Instant};
 
+use armwright_kinematics::Arm;
 use armwright_link::{
     Link, LinkError, LinkEvent, LinkLoss, SerialTransport, SimDeviceConfig, SimTransport,
     StreamOptions, StreamStats, Transport, setpoint_capacity_hz, setpoint_line_len,
@@ -18,7 +19,7 @@ use super::Outcome;
 use super::plan::load_and_plan;
 use super::report::{fail, print_json, rounded};
 use super::reset::{describe_output, output_json};
-use crate::approach::{StreamPlan, stream_plan};
+use crate::approach::{StreamPlan, WakeMode, stream_plan_waking};
 use crate::scene::{Device, Scene, pose_to_file_units};
 
 /// Shown before anything is sent, whether or not confirmation is asked for.
@@ -29,6 +30,9 @@ of the arm's reach while it is powered, and defer to local codes and licensed pr
 A limp servo jumps to its first pulse at its own top speed, so a limp arm is woken at its
 rest pose first. Ctrl-C sends the emergency stop; the device then holds its pulses until reset.";
 
+/// The device's watchdog time (`PROTOCOL.md` §5).
+const DEVICE_WATCHDOG: Duration = Duration::from_millis(250);
+
 /// How often progress is printed on standard error while streaming.
 const PROGRESS_INTERVAL: Duration = Duration::from_secs(1);
 
@@ -36,6 +40,13 @@ const PROGRESS_INTERVAL: Duration = Duration::from_secs(1);
 /// link itself gives up on an unanswered line within 500 ms (`PROTOCOL.md` §8), which ends
 /// the wait sooner; this only bounds it should the link's thread be held up.
 const LAST_ACK_WAIT: Duration = Duration::from_secs(2);
+
+/// How far ahead a stream is sent to a device that plays planned setpoints from its queue
+/// (`PROTOCOL.md` §3, protocol 4): a host held up for up to this long plus the device's 250 ms
+/// watchdog neither ends the stream nor trips the watchdog. Below the reference firmware's
+/// 64-frame (1.28 s) play queue, so a device clock a little slower than the host's does not
+/// fill it.
+const PLAY_AHEAD: Duration = Duration::from_secs(1);
 
 /// The options of one `stream` run.
 pub(crate) struct StreamRequest<'a> {
@@ -120,6 +131,7 @@ pub(crate) fn run(file: &Path, request: &StreamRequest) -> Outcome {
     let period = Duration::from_secs_f64(1.0 / rate_hz);
     let options = StreamOptions {
         period,
+        play_ahead: PLAY_AHEAD,
         ..StreamOptions::default()
     };
     let link = match connect(&target, scene.link.baud, options) {
@@ -135,6 +147,7 @@ pub(crate) fn run(file: &Path, request: &StreamRequest) -> Outcome {
     if let Some(warning) = rate_above_capacity(rate_hz, channels, scene.link.baud) {
         eprintln!("warning: {rate_setting}: {warning}");
     }
+    eprintln!("{}", describe_pacing(&link, rate_hz, rate_setting));
     // What the device sends before the first setpoint: where the arm is held, or which
     // servos are limp (and will jump to their first pulse at their own top speed).
     let start_output = link.device_output();
@@ -142,7 +155,14 @@ pub(crate) fn run(file: &Path, request: &StreamRequest) -> Outcome {
         "the device is sending: {}",
         describe_output(start_output.as_ref(), &link.device())
     );
-    let streamed = match stream_plan(
+    // Only a device that plays planned setpoints can be sent a frame with a channel left
+    // without a pulse, which waking one joint at a time needs.
+    let wake_mode = if link.plays_ahead() {
+        WakeMode::OneAtATime
+    } else {
+        WakeMode::Together
+    };
+    let streamed = match stream_plan_waking(
         &scene,
         &arm,
         &plan,
@@ -150,11 +170,12 @@ pub(crate) fn run(file: &Path, request: &StreamRequest) -> Outcome {
         &link.device(),
         rate_hz,
         request.park,
+        wake_mode,
     ) {
         Ok(streamed) => streamed,
         Err(message) => return refused(json, &message),
     };
-    eprintln!("{}", streamed.from.describe());
+    eprintln!("{}", streamed.from.describe_waking(wake_mode));
     for (channel, reported, sent) in
         streamed.start_jumps(&arm, start_output.as_ref(), &link.device())
     {
@@ -164,9 +185,16 @@ pub(crate) fn run(file: &Path, request: &StreamRequest) -> Outcome {
              closed): that servo moves there at its own speed"
         );
     }
-    say_approach(&scene, &streamed, rate_hz);
+    say_approach(&scene, &arm, &streamed, rate_hz);
     let start_pulses_us = output_json(start_output.as_ref(), &link.device());
-    let approach = approach_json(&scene, &streamed, start_pulses_us.clone(), &link.device());
+    let approach = approach_json(
+        &scene,
+        &arm,
+        &streamed,
+        start_pulses_us.clone(),
+        &link.device(),
+        rate_hz,
+    );
     let converted = &streamed.setpoints;
     let stop = link.emergency_stop();
     if let Err(error) = ctrlc::set_handler(move || stop.trigger()) {
@@ -193,9 +221,9 @@ pub(crate) fn run(file: &Path, request: &StreamRequest) -> Outcome {
     let started = Instant::now();
     let ending = std::thread::scope(|scope| {
         scope.spawn(|| {
-            for values in &converted.values {
+            for frame in (0..converted.values.len()).filter_map(|index| streamed.frame(index)) {
                 // An error here means the stream was stopped or lost; the watcher reports it.
-                if link.push_setpoint(*values).is_err() {
+                if link.push_frame(frame).is_err() {
                     return;
                 }
             }
@@ -221,12 +249,42 @@ pub(crate) fn run(file: &Path, request: &StreamRequest) -> Outcome {
             stats: &stats,
             start_pulses_us,
             approach,
+            plays_ahead: link.plays_ahead(),
         },
     )
 }
 
+/// How the stream is paced: played ahead from the device's queue, or sent in real time (and
+/// why), for standard error.
+fn describe_pacing(link: &Link, rate_hz: f64, rate_setting: &str) -> String {
+    let device = link.device();
+    let frame_hz = 1e6 / f64::from(device.frame_period_us.max(1));
+    if link.plays_ahead() {
+        format!(
+            "sent {:.1} s ahead: the device plays the setpoints from its queue, one a pulse \
+             frame, so this computer may be held up for up to {:.2} s without stopping the arm",
+            PLAY_AHEAD.as_secs_f64(),
+            PLAY_AHEAD.as_secs_f64() + DEVICE_WATCHDOG.as_secs_f64()
+        )
+    } else if device.protocol_version >= 4 {
+        format!(
+            "sent in real time: {rate_setting} {rate_hz} Hz is not the device's pulse frame rate \
+             ({frame_hz:.0} Hz), so it cannot play them ahead; a hold-up of this computer longer \
+             than {} ms stops the arm",
+            DEVICE_WATCHDOG.as_millis()
+        )
+    } else {
+        format!(
+            "sent in real time: the device speaks protocol {} and cannot play setpoints ahead; \
+             a hold-up of this computer longer than {} ms stops the arm",
+            device.protocol_version,
+            DEVICE_WATCHDOG.as_millis()
+        )
+    }
+}
+
 /// Says on standard error how the stream starts (and ends, with `--park`).
-fn say_approach(scene: &Scene, streamed: &StreamPlan, rate_hz: f64) {
+fn say_approach(scene: &Scene, arm: &Arm, streamed: &StreamPlan, rate_hz: f64) {
     if streamed.from.wakes() {
         eprintln!(
             "rest pose: {} ({}); wake pause {:.0} ms",
@@ -234,6 +292,19 @@ fn say_approach(scene: &Scene, streamed: &StreamPlan, rate_hz: f64) {
             joint_units(scene),
             scene.timing.wake_pause_ms
         );
+    }
+    let steps: Vec<String> = streamed
+        .wake_times(rate_hz)
+        .iter()
+        .map(|&(channel, at_s)| {
+            format!(
+                "{} (channel {channel}) at {at_s:.2} s",
+                channel_name(arm, channel)
+            )
+        })
+        .collect();
+    if !steps.is_empty() {
+        eprintln!("wake order, slowest first: {}", steps.join(", "));
     }
     eprintln!(
         "approach: {:.2} s at {} % speed share ({} setpoints at {rate_hz} Hz), then the sequence: \
@@ -248,6 +319,16 @@ fn say_approach(scene: &Scene, streamed: &StreamPlan, rate_hz: f64) {
             "then the park move to the rest pose: {:.2} s; the device holds the arm there",
             park.duration()
         );
+    }
+}
+
+/// What drives `channel`: a joint's name (joint `i` on channel `i`), "gripper" (the last
+/// channel, when the arm has one), or "unused".
+fn channel_name(arm: &Arm, channel: usize) -> String {
+    match arm.joints().get(channel) {
+        Some(joint) => joint.name.clone(),
+        None if arm.gripper().is_some() => "gripper".to_owned(),
+        None => "unused".to_owned(),
     }
 }
 
@@ -277,19 +358,31 @@ fn joint_units(scene: &Scene) -> &'static str {
 /// The approach as `stream --json` reports it.
 fn approach_json(
     scene: &Scene,
+    arm: &Arm,
     streamed: &StreamPlan,
     start_pulses_us: Value,
     info: &armwright_link::DeviceInfo,
+    rate_hz: f64,
 ) -> Value {
-    let first_setpoint_us: Vec<f64> = streamed
-        .setpoints
-        .values
-        .first()
-        .map(|values| {
-            values
+    let order: Vec<Value> = streamed
+        .wake_times(rate_hz)
+        .iter()
+        .map(|&(channel, at_s)| {
+            json!({ "channel": channel, "name": channel_name(arm, channel), "at_s": rounded(at_s, 3) })
+        })
+        .collect();
+    // A channel not yet woken in the first frame is null.
+    let first_setpoint_us: Vec<Value> = streamed
+        .frame(0)
+        .map(|frame| {
+            frame
                 .as_slice()
                 .iter()
-                .map(|&units| rounded(info.us_from_units(units), 3))
+                .map(|units| {
+                    units.map_or(Value::Null, |units| {
+                        json!(rounded(info.us_from_units(units), 3))
+                    })
+                })
                 .collect()
         })
         .unwrap_or_default();
@@ -315,7 +408,8 @@ fn approach_json(
             json!({
                 "rest_joints_deg_or_mm": rounded_pose(&streamed.start.positions),
                 "pause_s": rounded(scene.timing.wake_pause_ms / 1e3, 3),
-                "together": true,
+                "together": streamed.wake.is_none(),
+                "order": order,
             })
         } else {
             Value::Null
@@ -437,6 +531,8 @@ struct Summary<'a> {
     start_pulses_us: Value,
     /// How the stream started: see [`approach_json`].
     approach: Value,
+    /// Whether the setpoints were sent ahead for the device to play from its queue.
+    plays_ahead: bool,
 }
 
 fn ms(duration: Duration) -> f64 {
@@ -482,6 +578,7 @@ fn report(json: bool, summary: &Summary) -> Outcome {
             "acks_late": stats.acks_late,
             "ack_wait_max_ms": ms(stats.ack_wait_max),
             "send_gap_max_ms": ms(stats.send_gap_max),
+            "play_ahead_s": if summary.plays_ahead { json!(PLAY_AHEAD.as_secs_f64()) } else { Value::Null },
             "device_silent_ms": match stats.loss {
                 Some(LinkLoss::NoAck { silent, .. }) => json!(ms(silent)),
                 _ => Value::Null,

@@ -408,9 +408,10 @@ impl DeviceLine {
 }
 
 /// How an output line spells a channel that sends no pulse.
-const LIMP_FIELD: &[u8; 4] = b"----";
+pub(crate) const LIMP_FIELD: &[u8; 4] = b"----";
 
-fn parse_output(body: &mut Cursor<'_>) -> Result<ChannelOutput, ParseLineError> {
+/// A body of 4-hex-digit pulse widths or `----` per channel (output and planned setpoint).
+pub(crate) fn parse_output(body: &mut Cursor<'_>) -> Result<ChannelOutput, ParseLineError> {
     let rest = body.remaining().len();
     let count = rest / 4;
     if !rest.is_multiple_of(4) || count == 0 || count > MAX_CHANNELS {

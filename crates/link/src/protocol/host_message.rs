@@ -1,5 +1,6 @@
 //! Host → device lines (`PROTOCOL.md` §3): types, encoder and parser side by side.
 
+use super::device_message::{ChannelOutput, LIMP_FIELD, parse_output};
 use super::line::{ChannelValues, LineBuf, LineErrorKind, ParseLineError, check_line};
 
 /// What the host asks of the device.
@@ -24,6 +25,11 @@ pub enum HostMessage {
     Heartbeat,
     /// `q` (protocol 2): asks what the device is sending now; answered by an output line.
     OutputQuery,
+    /// `p` (protocol 4): a planned setpoint, played from the device's play queue one pulse
+    /// frame each, in the order sent; each channel's width in pulse units, or `None` for a
+    /// channel that sends no pulse in that frame (its servo stays limp). At least one
+    /// channel has a width.
+    Planned(ChannelOutput),
     /// `r` (protocol 3): asks for analog readings lines (`V`) at `rate_hz` lines a second,
     /// 1 to [`MAX_READINGS_RATE_HZ`]; 0 turns them off.
     ReadingsRate {
@@ -41,6 +47,7 @@ impl HostMessage {
         match self {
             Self::Greeting { .. } => b'h',
             Self::Setpoint(_) => b's',
+            Self::Planned(_) => b'p',
             Self::Hold => b'k',
             Self::Release => b'l',
             Self::EmergencyStop => b'x',
@@ -85,6 +92,15 @@ impl HostLine {
                     line.push_hex(value, 4);
                 }
             }
+            HostMessage::Planned(values) => {
+                line.push(b':');
+                for value in values.as_slice() {
+                    match value {
+                        Some(units) => line.push_hex(*units, 4),
+                        None => line.push_str(LIMP_FIELD),
+                    }
+                }
+            }
             HostMessage::ReadingsRate { rate_hz } => {
                 line.push(b':');
                 line.push_decimal(u16::from(*rate_hz));
@@ -115,6 +131,15 @@ impl HostLine {
                 }
             }
             b's' => HostMessage::Setpoint(body.hex_values(4)?),
+            b'p' => {
+                let values = parse_output(&mut body)?;
+                if values.as_slice().iter().all(Option::is_none) {
+                    return Err(body.error(LineErrorKind::ExpectedWord {
+                        expected: "at least one pulse width (release sends none)",
+                    }));
+                }
+                HostMessage::Planned(values)
+            }
             b'k' => HostMessage::Hold,
             b'l' => HostMessage::Release,
             b'x' => HostMessage::EmergencyStop,

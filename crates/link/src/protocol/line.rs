@@ -12,8 +12,8 @@ pub const MAX_LINE_LEN: usize = 64;
 pub const MAX_CHANNELS: usize = 8;
 
 /// The newest protocol version this crate speaks (2 adds the output query, 3 the readings
-/// rate, `PROTOCOL.md` §3).
-pub const PROTOCOL_VERSION: u8 = 3;
+/// rate, 4 the planned setpoint, `PROTOCOL.md` §3).
+pub const PROTOCOL_VERSION: u8 = 4;
 
 /// The largest analog reading on the wire: readings are on a 12-bit scale, 0 to 4095
 /// (`PROTOCOL.md` §4).
