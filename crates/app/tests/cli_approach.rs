@@ -17,6 +17,15 @@ use serde_json::Value;
 /// The shortest sample sequence (about 7.8 s); its rest pose is its last waypoint.
 const SAMPLE: &str = "pen-plotter.armwright.json";
 
+/// Real-time streams take turns, so they do not starve each other on a 2-core machine.
+static REAL_TIME: std::sync::Mutex<()> = std::sync::Mutex::new(());
+
+fn one_stream_at_a_time() -> std::sync::MutexGuard<'static, ()> {
+    REAL_TIME
+        .lock()
+        .unwrap_or_else(std::sync::PoisonError::into_inner)
+}
+
 /// Streams the sample to `device` at 50 Hz with --yes and --json; returns the exit code, the
 /// JSON report and standard error.
 fn stream(device: &DeviceSim) -> (i32, Value, String) {
@@ -79,6 +88,7 @@ fn homes() -> Vec<f64> {
 
 #[test]
 fn a_limp_device_is_woken_at_the_rest_pose_then_a_held_one_is_approached_from_its_pulses() {
+    let _turn = one_stream_at_a_time();
     let device = DeviceSim::start();
 
     // Limp at power-up: the pose is unknown, so the arm wakes at its rest pose first.
@@ -148,6 +158,7 @@ fn a_limp_device_is_woken_at_the_rest_pose_then_a_held_one_is_approached_from_it
 
 #[test]
 fn a_limp_arm_is_woken_one_channel_at_a_time_slowest_first() {
+    let _turn = one_stream_at_a_time();
     // The sample with its elbow's servo the slowest and the base's next, and a short pause.
     let text = std::fs::read_to_string(common::sample_path(SAMPLE)).expect("sample readable");
     let mut scene: Value = serde_json::from_str(&text).expect("sample is JSON");
