@@ -554,9 +554,10 @@ fn clamp_frame(device: Option<&DeviceInfo>, frame: ChannelOutput) -> ChannelOutp
     ChannelOutput::from_slice(&clamped[..frame.len()]).unwrap_or(frame)
 }
 
-/// After the time a stream played ahead should have played out, how much longer the host
-/// waits for the device to report its last frame before calling the stream finished anyway
-/// (a device whose clock runs slow, as a simulated one on a busy computer).
+/// While a stream played ahead plays out, how long the device's output may stay the same
+/// (not the last frame) before the host calls the stream finished anyway. A device whose
+/// clock runs slow (a simulated one on a busy computer) is still playing while its output
+/// changes, so it is waited for however late it is.
 const DRAIN_GRACE: Duration = Duration::from_secs(2);
 
 /// A setpoint schedule: deadline k is `start + (k − lead) × period` (the first `lead` are due
@@ -577,7 +578,9 @@ struct Schedule {
 struct Drain {
     last: ChannelOutput,
     from: Instant,
-    give_up: Instant,
+    /// The device's output as last seen while draining, and since when it has not changed.
+    seen: Option<ChannelOutput>,
+    unchanged_since: Instant,
     outputs_at: u64,
     asked_at: Option<Instant>,
 }
@@ -1066,7 +1069,8 @@ impl Worker {
                     schedule.draining = Some(Drain {
                         last: clamp_frame(self.device.as_ref(), last),
                         from,
-                        give_up: from + period * lead + DRAIN_GRACE,
+                        seen: None,
+                        unchanged_since: from,
                         outputs_at: self.outputs_seen,
                         asked_at: None,
                     });
@@ -1109,7 +1113,12 @@ impl Worker {
             return;
         };
         let answered = self.outputs_seen > drain.outputs_at;
-        if answered && self.stats.device_output == Some(drain.last) || now >= drain.give_up {
+        if answered && drain.seen != self.stats.device_output {
+            drain.seen = self.stats.device_output;
+            drain.unchanged_since = now;
+        }
+        let stuck = now >= drain.from && now - drain.unchanged_since >= DRAIN_GRACE;
+        if answered && self.stats.device_output == Some(drain.last) || stuck {
             self.finish(frames_sent);
             return;
         }
