@@ -26,7 +26,7 @@ use armwright_link::{
     SerialTransport, StreamOptions, Transport,
 };
 
-use common::wait_for;
+use common::{wait_for, wait_until};
 
 const CYCLES_PER_US: f64 = 16.0;
 const FRAME_CYCLES: u64 = 320_000; // 20 ms
@@ -449,7 +449,9 @@ fn streamed_sequence_gives_commanded_pulses_and_a_steady_frame() {
     wait_for(&link, Duration::from_secs(30), |e| {
         matches!(e, LinkEvent::StreamFinished { frames_sent: 60 })
     });
-    run.wait_simulated(Duration::from_millis(100));
+    // Half a second of simulated time after the last setpoint: 25 frames that all carry it,
+    // however fast the simulator ran beside the host's wall-clock sending.
+    run.wait_simulated(Duration::from_millis(500));
     let stats = link.stats();
     drop(link);
     let log = run.finish();
@@ -474,7 +476,12 @@ fn emergency_stop_holds_within_one_frame_until_a_confirmed_reset() {
         link.push_setpoint(to_units(&info, &sample_pose_us(step)))
             .expect("queued");
     }
-    // Stop in the middle of a moving stream.
+    // Stop in the middle of a moving stream: once half the setpoints are acknowledged and
+    // 200 ms of simulated time have passed (the simulator may run faster or slower than the
+    // host's wall-clock sending, so both are waited for).
+    wait_until("12 setpoints acknowledged", Duration::from_secs(30), || {
+        link.stats().frames_acked >= 12
+    });
     run.wait_simulated(Duration::from_millis(200));
     link.emergency_stop().trigger();
     wait_for(&link, Duration::from_secs(10), |e| {
