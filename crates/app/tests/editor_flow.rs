@@ -11,7 +11,8 @@ use armwright::approach::stream_plan;
 use armwright::editor::{
     EditorState, ReachStatus, RetimeRun, StopSource, StopState, StreamPhase, ToolsTab, ViewKind,
 };
-use armwright::scene::{build_arm, load, plan_of};
+use armwright::scene::{build_arm, load};
+use armwright::task::plan_of;
 use armwright_link::{ChannelOutput, DeviceMode, LinkState};
 use armwright_trajectory::CommandedMotion;
 use egui::{Key, Modifiers, vec2};
@@ -171,8 +172,7 @@ fn open_teach_retime_play_stream_stop_and_reset() {
     let (mut harness, requests, _dir) = sample_editor("whole-flow");
 
     // Open a bundled sample through the Open dialog's typed path.
-    let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
-        .join("../../sample-scenes/spacer-stacker.armwright.json");
+    let path = armwright_test_support::samples::sample_scene("spacer-stacker");
     let on_disk = load(&path).expect("the sample loads");
     open_through_dialog(&mut harness, &path);
     {

@@ -2,8 +2,7 @@
 //! inverse dynamics, and the accuracy budget.
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
-#[path = "../tests/common/mod.rs"]
-mod common;
+use armwright_test_support::arms as common;
 
 use armwright_kinematics::{accuracy_budget, gravity_torques, inverse_dynamics, torque_use};
 use criterion::{Criterion, criterion_group, criterion_main};

@@ -2,8 +2,7 @@
 //! and damped least squares on a 6-joint chain (budget: median 20 µs).
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
-#[path = "../tests/common/mod.rs"]
-mod common;
+use armwright_test_support::arms as common;
 #[path = "common/k_chain.rs"]
 mod k_chain;
 

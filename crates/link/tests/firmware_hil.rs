@@ -4,14 +4,13 @@
 //! The test builds the firmware (avr-gcc, avr-libc, make) and the harness
 //! (`tests/hil/harness.c`, a C compiler and libsimavr). When a tool is missing every firmware
 //! test is skipped with a notice `cargo test` shows, or fails under `ARMWRIGHT_STRICT=1`
-//! (`tests/outside_tool.rs`).
+//! (`armwright_test_support::outside_tool`).
 //!
 //! Times come from the harness log in CPU cycles at 16 MHz (16 cycles a µs).
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod common;
-#[path = "../../../tests/outside_tool.rs"]
-mod outside_tool;
+use armwright_test_support::outside_tool;
 
 use std::io::{BufRead, BufReader, Write};
 use std::path::{Path, PathBuf};

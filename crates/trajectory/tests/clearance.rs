@@ -2,8 +2,7 @@
 //! smallest clearance checked by hand and against looking at every instant.
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
-#[path = "../../kinematics/tests/common/mod.rs"]
-mod arms;
+use armwright_test_support::arms;
 
 use armwright_kinematics::{ArmShape, Obstacle, Other, forward, pair_distance, pose_proximities};
 use armwright_trajectory::{

@@ -21,7 +21,8 @@ use serde_json::{Value, json};
 use super::Outcome;
 use super::report::{all_rounded, fail, load_scene, print_json, rounded};
 use super::stream::confirm;
-use crate::scene::{CalibrationPoint, JointKindDoc, Scene, save, servo_model_of, validate};
+use crate::scene::{CalibrationPoint, JointKindDoc, Scene, save, validate};
+use crate::task::servo_model_of;
 
 /// What `calibrate` was asked to do.
 pub(crate) struct CalibrateRequest<'a> {

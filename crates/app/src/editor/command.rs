@@ -23,9 +23,10 @@ use super::state::{
 };
 use super::waypoint_name::relative_name;
 use crate::scene::{
-    Arrival, Device, GripperState, MoveKind, ProfileKind, RetimeSettings, Scene, Waypoint,
-    pose_from_file_units, position_to_file_unit, validate,
+    Arrival, Device, GripperState, MoveKind, ProfileKind, Scene, Waypoint, pose_from_file_units,
+    position_to_file_unit, validate,
 };
+use crate::task::RetimeSettings;
 
 /// A revolute joint turning more than this in one drag step counts as a jump to another branch,
 /// in rad (60°): the nearest solution near a singular pose can be far away.

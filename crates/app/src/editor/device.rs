@@ -21,7 +21,8 @@ use armwright_trajectory::ServoModelOptions;
 use super::estop::{StopLink, StopRequest};
 use super::follow::{FollowAction, FollowRun, FollowView};
 use crate::approach::stream_plan;
-use crate::scene::{Device, Scene, plan_of};
+use crate::scene::{Device, Scene};
+use crate::task::plan_of;
 
 /// Setpoints queued ahead of the device: a pause takes effect within this many periods.
 const QUEUE_AHEAD: usize = 8;
@@ -479,7 +480,7 @@ impl DeviceLink {
                     rate_hz: scene.link.rate_hz,
                     arm: arm.cloned().map(Box::new),
                     start: pose.to_vec(),
-                    servo: crate::scene::servo_model_of(scene),
+                    servo: crate::task::servo_model_of(scene),
                 }
             }
             LinkAction::Disconnect => Request::Disconnect,

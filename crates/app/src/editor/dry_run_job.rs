@@ -15,7 +15,8 @@ use super::dry_run_marks::DryRunMarks;
 use super::playback::{self, DryRunStatus, Timeline};
 use super::state::EditorState;
 use super::traces::Traces;
-use crate::scene::{ArmDoc, Scene, Timing, Waypoint, dry_run_of, dry_run_options_of, plan_of};
+use crate::scene::{ArmDoc, Scene, Timing, Waypoint};
+use crate::task::{dry_run_of, dry_run_options_of, plan_of};
 
 /// What a plan depends on; a new job is needed when this changes.
 #[derive(Debug, Clone, PartialEq)]

@@ -22,7 +22,8 @@ use armwright_trajectory::{FollowJoint, Follower, Sample, limits_from_arm};
 use super::command::Outside;
 use super::device::{DeviceLink, LinkAction, Report};
 use super::state::{EditorState, Level, ReachStatus, StopState};
-use crate::scene::{GripperState, Scene, limit_settings_of, servo_model_of};
+use crate::scene::{GripperState, Scene};
+use crate::task::{limit_settings_of, servo_model_of};
 
 /// How far ahead of what the link has written a follow run keeps setpoints queued, s: enough
 /// to ride out a busy host for 100 ms (two to five frames at the usual rates; the arm lags

@@ -297,7 +297,7 @@ mod tests {
     use super::*;
     use crate::editor::sample::sample_scene;
     use crate::editor::traces::Traces;
-    use crate::scene::{dry_run_of, plan_of};
+    use crate::task::{dry_run_of, plan_of};
 
     fn state_with_timeline() -> EditorState {
         let mut state = EditorState::new(sample_scene(), None);

@@ -15,10 +15,8 @@ use armwright_kinematics::{Arm, gravity_torques, torque_use};
 use armwright_trajectory::{Binding, DryRun, RetimeError};
 
 use super::state::{EditorState, Level};
-use crate::scene::{
-    Arrival, GripperState, RetimeSettings, Scene, SceneRetime, Shaping, placements_of,
-    pose_from_file_units, retime_scene,
-};
+use crate::scene::{Arrival, GripperState, Scene, Shaping, placements_of, pose_from_file_units};
+use crate::task::{RetimeSettings, SceneRetime, retime_scene};
 
 /// The retime tab's data: the target and the run.
 #[derive(Debug, Clone, PartialEq)]

@@ -13,6 +13,9 @@ use armwright::editor::{
     STOP_KEY, StopRequest, StopSource, StreamEnd, StreamPhase,
 };
 use armwright_link::{DeviceMode, LinkState};
+/// The bundled sample scenes, from the test-support crate.
+#[allow(unused_imports)] // not every editor test opens a sample
+pub use armwright_test_support::samples::{sample_scene, sample_scenes};
 use egui::accesskit::Role;
 use egui::{Event, Modifiers, PointerButton, Pos2};
 use egui_kittest::Harness;
@@ -57,22 +60,6 @@ pub fn harness_of_size(editor: Editor, size: [f32; 2]) -> Harness<'static, Edito
         .with_size(size)
         .with_step_dt(1.0 / 60.0)
         .build_eframe(move |_creation| editor)
-}
-
-/// The bundled sample scenes (`sample-scenes/*.armwright.json`), in name order.
-pub fn sample_scenes() -> Vec<PathBuf> {
-    let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("../../sample-scenes");
-    let mut found: Vec<PathBuf> = std::fs::read_dir(&dir)
-        .expect("the sample-scenes folder")
-        .filter_map(|entry| entry.ok().map(|entry| entry.path()))
-        .filter(|path| {
-            path.file_name()
-                .is_some_and(|name| name.to_string_lossy().ends_with(".armwright.json"))
-        })
-        .collect();
-    found.sort();
-    assert!(!found.is_empty(), "no samples in {}", dir.display());
-    found
 }
 
 /// Steps until both views have both reach maps for the state as it is and no map is being made
@@ -121,13 +108,6 @@ pub fn file_editor(name: &str, path: PathBuf) -> EditorHarness {
     let mut harness = harness(editor);
     harness.run_steps(3);
     harness
-}
-
-/// The path of a bundled sample scene, `name` without its `.armwright.json` ending.
-pub fn sample_scene(name: &str) -> PathBuf {
-    std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
-        .join("../../sample-scenes")
-        .join(format!("{name}.armwright.json"))
 }
 
 /// Opens the scene at `path` through the Open dialog's typed path and waits for the file work.
