@@ -147,7 +147,7 @@ impl TimelinePlot {
     }
 
     /// Plans and dry-runs the approach again when the device's output or the timeline changed
-    /// (a two-waypoint plan of a few seconds: a few milliseconds).
+    /// (a two-waypoint plan a few seconds long, on the UI thread).
     fn refresh_approach(&mut self, state: &EditorState, timeline: &Timeline) {
         let Some(device) = self.device else {
             self.approach = None;
