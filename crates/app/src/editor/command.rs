@@ -144,6 +144,8 @@ pub enum Command {
     ChooseDevice(Device),
     /// The user read and acknowledged the streaming caution.
     AcknowledgeCaution,
+    /// End each stream at the rest pose (park) or not.
+    ParkAfterStream(bool),
     /// Ask the device link to do something (on its worker thread).
     Link(LinkAction),
     /// Show a dialog.
@@ -306,6 +308,7 @@ pub fn apply(
                 "streaming caution acknowledged for this session",
             );
         }
+        Command::ParkAfterStream(park) => state.park_after_stream = park,
         Command::Link(action) => link_action(state, action, outside),
         Command::SetJoint { joint, position } => {
             if joint < state.pose.len() && position.is_finite() {
@@ -564,7 +567,7 @@ pub fn apply(
 fn link_action(state: &mut EditorState, action: LinkAction, outside: &mut Vec<Outside>) {
     let moves = matches!(
         action,
-        LinkAction::Stream | LinkAction::Resume | LinkAction::HoldChannel(_)
+        LinkAction::Stream { .. } | LinkAction::Resume | LinkAction::HoldChannel(_)
     );
     if moves && !state.caution_acknowledged {
         state.say(
@@ -1187,7 +1190,8 @@ mod tests {
     #[test]
     fn streaming_waits_for_the_caution_and_for_a_cleared_stop() {
         let mut state = EditorState::new(sample_scene(), None);
-        assert!(run(&mut state, Command::Link(LinkAction::Stream)).is_empty());
+        let stream = LinkAction::Stream { park: false };
+        assert!(run(&mut state, Command::Link(stream.clone())).is_empty());
         assert!(
             state
                 .messages
@@ -1196,8 +1200,8 @@ mod tests {
         );
         let _ = run(&mut state, Command::AcknowledgeCaution);
         assert_eq!(
-            run(&mut state, Command::Link(LinkAction::Stream)),
-            vec![Outside::Link(LinkAction::Stream)]
+            run(&mut state, Command::Link(stream.clone())),
+            vec![Outside::Link(stream)]
         );
         let _ = run(&mut state, Command::EmergencyStop(StopSource::Button));
         assert!(run(&mut state, Command::Link(LinkAction::Resume)).is_empty());

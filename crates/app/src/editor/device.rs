@@ -56,8 +56,11 @@ pub enum LinkAction {
     Connect(Device),
     /// Close the link; the device is asked to hold.
     Disconnect,
-    /// Plan the scene's sequence and stream it from its start.
-    Stream,
+    /// Plan the scene's sequence and stream it from its start (after the approach).
+    Stream {
+        /// End by moving to the rest pose and holding there, as `stream --park` does.
+        park: bool,
+    },
     /// Let the queued setpoints run out, then hold.
     Pause,
     /// Go on streaming from where the pause left off.
@@ -322,6 +325,7 @@ enum Request {
     Stream {
         scene: Box<Scene>,
         arm: Box<Arm>,
+        park: bool,
     },
     Pause,
     Resume,
@@ -484,10 +488,11 @@ impl DeviceLink {
                 }
             }
             LinkAction::Disconnect => Request::Disconnect,
-            LinkAction::Stream => match arm {
+            LinkAction::Stream { park } => match arm {
                 Some(arm) => Request::Stream {
                     scene: Box::new(scene.clone()),
                     arm: Box::new(arm.clone()),
+                    park,
                 },
                 None => {
                     self.report(Report::Problem(
@@ -690,7 +695,7 @@ impl Worker {
                     "disconnected; the device was asked to hold".into(),
                 ));
             }
-            Request::Stream { scene, arm } => self.start_stream(&scene, &arm),
+            Request::Stream { scene, arm, park } => self.start_stream(&scene, &arm, park),
             Request::Pause => {
                 if let (Some(stream), Some(link)) = (&mut self.stream, &self.link)
                     && stream.phase == StreamPhase::Streaming
@@ -840,7 +845,7 @@ impl Worker {
         published.view.progress = (0, 0);
     }
 
-    fn start_stream(&mut self, scene: &Scene, arm: &Arm) {
+    fn start_stream(&mut self, scene: &Scene, arm: &Arm, park: bool) {
         let Some(link) = &self.link else {
             self.say(Report::Problem(
                 "cannot stream: no device is connected".into(),
@@ -861,17 +866,24 @@ impl Worker {
                     state.output.as_ref(),
                     &link.device(),
                     self.rate_hz,
-                    false,
+                    park,
                 )
             });
         let (setpoints, start) = match planned {
             Ok(streamed) => {
-                let start = format!(
+                let mut start = format!(
                     "{}; approach {:.2} s at {} % speed share",
                     streamed.from.describe(),
                     streamed.approach.duration(),
                     scene.timing.approach_speed_share_pct
                 );
+                if let Some(parked) = &streamed.park {
+                    start.push_str(&format!(
+                        "; then the park move to the rest pose, {:.2} s, where the device holds \
+                         the arm",
+                        parked.duration()
+                    ));
+                }
                 (streamed.setpoints, start)
             }
             Err(message) => {
@@ -1164,11 +1176,15 @@ impl Worker {
         }
     }
 
-    /// Pushes the follow run's next steps; ends it when the link says so.
+    /// Pushes the follow run's next steps (holding when the input arm's readings stopped); ends
+    /// it when the link says so.
     fn step_follow(&mut self) {
         let (Some(run), Some(link)) = (&mut self.follow, &self.link) else {
             return;
         };
+        if let Some(report) = run.check_readings(link) {
+            say(&self.published, report);
+        }
         if let Some(end) = run.step(link) {
             self.follow = None;
             self.follows_ended += 1;

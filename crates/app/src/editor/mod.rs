@@ -54,10 +54,13 @@ pub use device::{
 pub use dry_run_marks::{ContactMark, DryRunMarks, Solid, UnsettledMark};
 pub use estop::{ChannelStopLink, STOP_KEY, STOP_KEY_NAME, StopLink, StopRequest};
 pub use follow::{
-    DEFAULT_FOLLOW_SHARE_PCT, FollowAction, FollowCommand, FollowPhase, FollowSettings, FollowView,
+    DEFAULT_FOLLOW_SHARE_PCT, FollowAction, FollowCommand, FollowPhase, FollowSettings,
+    FollowSource, FollowView,
 };
-pub use panels::{ACKNOWLEDGE_LABEL, CAUTION, EMERGENCY_STOP_LABEL, MOVED_LABEL, NUDGE_KEYS};
-pub use panels::{FOLLOW_LABEL, JOG_BACK_KEY, JOG_KEYS, JOG_ON_KEY};
+pub use panels::{
+    ACKNOWLEDGE_LABEL, CAUTION, EMERGENCY_STOP_LABEL, MOVED_LABEL, NUDGE_KEYS, PARK_LABEL,
+};
+pub use panels::{FOLLOW_INPUT_LABEL, FOLLOW_LABEL, JOG_BACK_KEY, JOG_KEYS, JOG_ON_KEY};
 pub use playback::{AtEnd, DryRunStatus, Playback, PlaybackCommand, SPEEDS, Timeline};
 pub use recovery::{Recovery, RecoveryCopy};
 pub use retime_job::{RetimeReport, RetimeRun, RetimeState, RunFigures, WaypointFigures};
@@ -330,6 +333,12 @@ impl Editor {
     /// from and how long it lasts (s); `None` without a device that says what it sends.
     pub fn timeline_approach(&self) -> Option<(crate::approach::StartFrom, f64)> {
         self.timeline_plot.approach()
+    }
+
+    /// The approach's commanded motion and dry run as the timeline plots them (on the
+    /// approach's own clock from 0); `None` without a device that says what it sends.
+    pub fn timeline_approach_traces(&self) -> Option<&Traces> {
+        self.timeline_plot.approach_traces()
     }
 
     /// Columns (a time with the smallest and largest value under it) the timeline plot drew in

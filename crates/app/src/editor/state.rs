@@ -196,6 +196,9 @@ pub struct EditorState {
     pub link_device: Device,
     /// Whether the streaming caution was acknowledged in this session.
     pub caution_acknowledged: bool,
+    /// Whether a stream ends by moving to the rest pose and holding there, as `stream --park`
+    /// does (the Link tab's checkbox; kept while the editor runs, not saved).
+    pub park_after_stream: bool,
     /// The joint positions of the arm as the connected simulated device moves it (from its
     /// servo model), rad (revolute) or m (prismatic); `None` when no such device is connected.
     pub device_pose: Option<Vec<f64>>,
@@ -244,6 +247,7 @@ impl EditorState {
             tools_tab: ToolsTab::default(),
             link_device: Device::Simulated,
             caution_acknowledged: false,
+            park_after_stream: false,
             device_pose: None,
             input_pose: None,
             arm_form: ArmForm::default(),
@@ -280,14 +284,19 @@ impl EditorState {
         // Follow's settings stay for the session; following the old scene's arm ends.
         let mut follow = std::mem::take(&mut self.follow);
         follow.on = false;
-        let (stop, tools_tab, caution_acknowledged) =
-            (self.stop, self.tools_tab, self.caution_acknowledged);
+        let (stop, tools_tab, caution_acknowledged, park_after_stream) = (
+            self.stop,
+            self.tools_tab,
+            self.caution_acknowledged,
+            self.park_after_stream,
+        );
         *self = EditorState::new(scene, file_path);
         self.messages = messages;
         self.stop = stop;
         self.tools_tab = tools_tab;
         self.link_device = link_device;
         self.caution_acknowledged = caution_acknowledged;
+        self.park_after_stream = park_after_stream;
         self.device_pose = device_pose;
         self.follow = follow;
     }
@@ -552,5 +561,14 @@ mod tests {
         assert!(first.iter().zip(&back).all(|(a, b)| (a - b).abs() < 1e-9));
         assert!(!state.is_dirty());
         assert_eq!(state.accuracy.map(|budget| budget.worst > 0.0), Some(true));
+    }
+
+    #[test]
+    fn opening_another_scene_keeps_the_park_choice() {
+        let mut state = EditorState::new(sample_scene(), None);
+        assert!(!state.park_after_stream, "off when the editor opens");
+        state.park_after_stream = true;
+        state.replace_scene(sample_scene(), None);
+        assert!(state.park_after_stream);
     }
 }

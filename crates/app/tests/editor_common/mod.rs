@@ -12,6 +12,7 @@ use armwright::editor::{
     ACKNOWLEDGE_LABEL, ChannelStopLink, DryRunStatus, EMERGENCY_STOP_LABEL, Editor, EditorOptions,
     STOP_KEY, StopRequest, StopSource, StreamEnd, StreamPhase,
 };
+use armwright::scene::{InputDoc, InputPointDoc, Scene};
 use armwright_link::{DeviceMode, LinkState};
 /// The bundled sample scenes, from the test-support crate.
 #[allow(unused_imports)] // not every editor test opens a sample
@@ -396,4 +397,33 @@ pub fn assert_stop_reached_link(
         harness.query_by_label(&line).is_some(),
         "no line \"{line}\""
     );
+}
+
+/// The sample arm with inputs 0–3 on its four joints: readings 1048 and 3048 (the ends of the
+/// simulated sweep) at the two positions given per joint, all inside the joints' limits.
+pub fn scene_with_inputs() -> Scene {
+    let mut scene = armwright::editor::sample_scene();
+    let ends = [(-30.0, 30.0), (30.0, 90.0), (-130.0, -70.0), (-60.0, -20.0)];
+    scene.inputs = scene
+        .arm
+        .joints
+        .iter()
+        .zip(ends)
+        .enumerate()
+        .map(|(input, (joint, (low, high)))| InputDoc {
+            input: input as u32,
+            joint: joint.name.clone(),
+            points: vec![
+                InputPointDoc {
+                    reading: 1048,
+                    position: low,
+                },
+                InputPointDoc {
+                    reading: 3048,
+                    position: high,
+                },
+            ],
+        })
+        .collect();
+    scene
 }
