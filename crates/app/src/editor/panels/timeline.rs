@@ -32,7 +32,7 @@ use crate::editor::dry_run_marks;
 use crate::editor::playback::{AtEnd, DryRunStatus, PlaybackCommand, SPEEDS, Timeline};
 use crate::editor::state::EditorState;
 use crate::editor::traces::{Column, Quantity, Traces, decimate};
-use crate::scene::{dry_run_of, dry_run_options_of};
+use crate::task::{dry_run_of, dry_run_options_of};
 
 /// Joint colours, from the Okabe–Ito palette (distinguishable for the common kinds of colour
 /// blindness; common practice in scientific figures), blue last as it is darkest on the plot.
