@@ -6,30 +6,13 @@
 
 mod editor_common;
 
-use std::time::{Duration, Instant};
-
 use armwright::approach::StartFrom;
-use armwright::editor::{Editor, StreamPhase};
+use armwright::editor::StreamPhase;
 use egui_kittest::kittest::Queryable;
 
 use editor_common::{
-    EditorHarness, acknowledge_caution, connect, frames_sent, sample_editor, wait_for_dry_run,
+    acknowledge_caution, connect, frames_sent, sample_editor, step_until_slow, wait_for_dry_run,
 };
-
-/// Steps (a frame every 10 ms) until `done` holds; panics after 60 s naming `what`. Longer
-/// than the shared helper's wait: a stream's approach and sequence run in real time.
-fn step_until(harness: &mut EditorHarness, what: &str, done: impl Fn(&Editor) -> bool) {
-    let start = Instant::now();
-    while !done(harness.state()) {
-        assert!(
-            start.elapsed() < Duration::from_secs(60),
-            "timed out waiting for {what}: {:?}",
-            harness.state().device().view()
-        );
-        std::thread::sleep(Duration::from_millis(10));
-        harness.step();
-    }
-}
 
 #[test]
 fn the_timeline_draws_the_approach_from_what_the_device_sends() {
@@ -47,7 +30,7 @@ fn the_timeline_draws_the_approach_from_what_the_device_sends() {
 
     // The simulated device is limp at power-up: woken at the rest pose, held, then approach.
     connect(&mut harness);
-    step_until(&mut harness, "the approach drawn", |editor| {
+    step_until_slow(&mut harness, "the approach drawn", |editor| {
         editor.timeline_approach().is_some()
     });
     let (from, woken_s) = harness.state().timeline_approach().expect("drawn");
@@ -72,7 +55,7 @@ fn the_timeline_draws_the_approach_from_what_the_device_sends() {
     // The stream starts with that approach: its setpoints come first.
     acknowledge_caution(&mut harness);
     harness.get_by_label("Stream sequence").click_accesskit();
-    step_until(&mut harness, "the approach streamed", |editor| {
+    step_until_slow(&mut harness, "the approach streamed", |editor| {
         let rate = editor.state.scene.link.rate_hz;
         frames_sent(editor) as f64 > (woken_s + 0.5) * rate
     });
@@ -85,10 +68,10 @@ fn the_timeline_draws_the_approach_from_what_the_device_sends() {
 
     // Paused, the device holds the arm: the next approach starts from its pulses.
     harness.get_by_label("Pause stream").click_accesskit();
-    step_until(&mut harness, "the pause", |editor| {
+    step_until_slow(&mut harness, "the pause", |editor| {
         editor.device().view().phase == StreamPhase::Paused
     });
-    step_until(&mut harness, "the approach from the held pose", |editor| {
+    step_until_slow(&mut harness, "the approach from the held pose", |editor| {
         editor
             .timeline_approach()
             .is_some_and(|(from, _)| from == StartFrom::Held)
