@@ -7,8 +7,6 @@
 
 mod editor_common;
 
-use std::time::{Duration, Instant};
-
 use armwright::approach::StartFrom;
 use armwright::editor::{Editor, PARK_LABEL, Quantity, Series, StreamPhase, sample_scene};
 use armwright::scene::save;
@@ -16,24 +14,9 @@ use armwright_link::device_pose;
 use egui_kittest::kittest::Queryable;
 
 use editor_common::{
-    EditorHarness, acknowledge_caution, connect, file_editor, frames_sent, sample_editor, scratch,
+    acknowledge_caution, connect, file_editor, frames_sent, sample_editor, scratch, step_until_slow,
     wait_for_dry_run,
 };
-
-/// Steps (a frame every 10 ms) until `done` holds; panics after 60 s naming `what`. Longer
-/// than the shared helper's wait: a stream's approach and sequence run in real time.
-fn step_until(harness: &mut EditorHarness, what: &str, done: impl Fn(&Editor) -> bool) {
-    let start = Instant::now();
-    while !done(harness.state()) {
-        assert!(
-            start.elapsed() < Duration::from_secs(60),
-            "timed out waiting for {what}: {:?}",
-            harness.state().device().view()
-        );
-        std::thread::sleep(Duration::from_millis(10));
-        harness.step();
-    }
-}
 
 /// The middle of bucket `index` of `series`, in the display unit.
 fn middle(series: &Series, index: usize) -> f64 {
@@ -109,7 +92,7 @@ fn the_timeline_draws_the_approach_from_what_the_device_sends() {
 
     // The simulated device is limp at power-up: woken at the rest pose, held, then approach.
     connect(&mut harness);
-    step_until(&mut harness, "the approach drawn", |editor| {
+    step_until_slow(&mut harness, "the approach drawn", |editor| {
         editor.timeline_approach().is_some()
     });
     let (from, woken_s) = harness.state().timeline_approach().expect("drawn");
@@ -135,7 +118,7 @@ fn the_timeline_draws_the_approach_from_what_the_device_sends() {
     // The stream starts with that approach: its setpoints come first.
     acknowledge_caution(&mut harness);
     harness.get_by_label("Stream sequence").click_accesskit();
-    step_until(&mut harness, "the approach streamed", |editor| {
+    step_until_slow(&mut harness, "the approach streamed", |editor| {
         let rate = editor.state.scene.link.rate_hz;
         frames_sent(editor) as f64 > (woken_s + 0.5) * rate
     });
@@ -148,10 +131,10 @@ fn the_timeline_draws_the_approach_from_what_the_device_sends() {
 
     // Paused, the device holds the arm: the next approach starts from its pulses.
     harness.get_by_label("Pause stream").click_accesskit();
-    step_until(&mut harness, "the pause", |editor| {
+    step_until_slow(&mut harness, "the pause", |editor| {
         editor.device().view().phase == StreamPhase::Paused
     });
-    step_until(&mut harness, "the approach from the held pose", |editor| {
+    step_until_slow(&mut harness, "the approach from the held pose", |editor| {
         editor
             .timeline_approach()
             .is_some_and(|(from, _)| from == StartFrom::Held)
@@ -175,7 +158,7 @@ fn a_stream_can_end_at_the_rest_pose() {
     harness.run_steps(2);
     assert!(harness.state().state.park_after_stream);
     harness.get_by_label("Stream sequence").click_accesskit();
-    step_until(&mut harness, "the stream's end", |editor| {
+    step_until_slow(&mut harness, "the stream's end", |editor| {
         editor.device().view().phase == StreamPhase::Finished
     });
     assert!(

@@ -9,7 +9,7 @@
 
 mod editor_common;
 
-use std::time::{Duration, Instant};
+use std::time::Duration;
 
 use armwright::editor::{
     ACKNOWLEDGE_LABEL, Command, Editor, FOLLOW_INPUT_LABEL, FOLLOW_LABEL, FollowCommand,
@@ -22,26 +22,8 @@ use egui_kittest::kittest::{NodeT, Queryable};
 
 use editor_common::{
     EditorHarness, click_tab, device_mode, file_editor, link_state, press_stop_key, sample_editor,
-    scene_with_inputs, scratch,
+    scene_with_inputs, scratch, step_until_slow,
 };
-
-/// Steps (a frame every 10 ms) until `done` holds; panics after 60 s naming `what`. The arm
-/// moves in real time at a low speed share and the machine may be busy, so the wait is
-/// generous.
-fn step_until_slow(harness: &mut EditorHarness, what: &str, done: impl Fn(&Editor) -> bool) {
-    let start = Instant::now();
-    while !done(harness.state()) {
-        assert!(
-            start.elapsed() < Duration::from_secs(60),
-            "timed out waiting for {what}: edited {:?}, device {:?}, follow {:?}",
-            harness.state().state.pose,
-            harness.state().state.device_pose,
-            harness.state().device().view().follow
-        );
-        std::thread::sleep(Duration::from_millis(10));
-        harness.step();
-    }
-}
 
 fn press(harness: &mut EditorHarness, key: Key, modifiers: Modifiers) {
     harness.event(Event::Key {
@@ -208,7 +190,11 @@ fn follow_jog_store_stop_and_leave() {
         editor.device().view().follow.phase == FollowPhase::Off
             && link_state(editor) == Some(LinkState::Idle)
     });
-    assert_eq!(device_mode(harness.state()), Some(DeviceMode::Keeping));
+    // The hold goes out on the link's thread after the run ended: wait for the device's word.
+    step_until_slow(&mut harness, "the device holding", |editor| {
+        device_mode(editor) == Some(DeviceMode::Keeping)
+    });
+    assert!(!harness.state().state.follow.on);
 }
 
 /// The largest difference (rad or m) between the simulated device's arm and the input arm over

@@ -428,6 +428,10 @@ impl Editor {
             ctx.request_repaint_after(Duration::from_millis(100));
         }
         follow::update(&mut self.state, &mut self.device);
+        // The side view keeps its plane while the primary button is down (a drag in either
+        // view) and turns when it is released; its reach maps are made for the plane it shows.
+        let pressed = ctx.input(|input| input.pointer.primary_down());
+        self.state.hold_side_view(pressed);
         if self.mapped_arm.as_ref() != Some(&self.state.scene.arm) {
             if self.mapped_arm.is_some() {
                 // Maps of the old arm are wrong: drop them (a job still running for it reports

@@ -215,6 +215,9 @@ pub struct EditorState {
     pub calibration: Calibrating,
     /// Follow and jog settings (the session's, not the scene's).
     pub follow: FollowSettings,
+    /// The side view's yaw held while the primary pointer button is down (rad), so that a drag
+    /// in either view does not turn the side view, its shading or its title under the pointer.
+    side_yaw_held: Option<f64>,
 }
 
 /// Most messages kept.
@@ -254,6 +257,7 @@ impl EditorState {
             playback: Playback::default(),
             calibration: Calibrating::default(),
             follow: FollowSettings::default(),
+            side_yaw_held: None,
         };
         state.rebuild_arm();
         let start = state
@@ -329,9 +333,35 @@ impl EditorState {
             .map(|pose| pose.translation.vector)
     }
 
-    /// The yaw of the side view's vertical plane, in rad: the base joint for articulated arms,
-    /// otherwise the direction of the tool point from the base axis (0 on the axis).
+    /// The yaw of the side view's vertical plane, in rad: the one held during a drag (see
+    /// [`EditorState::hold_side_view`]), else the base joint for articulated arms, otherwise the
+    /// direction of the tool point from the base axis (0 on the axis).
     pub fn side_view_yaw(&self) -> f64 {
+        self.side_yaw_held
+            .unwrap_or_else(|| self.side_view_yaw_of_pose())
+    }
+
+    /// Holds the side view's yaw where it is while `held` (the primary pointer button is down:
+    /// a drag in either view), and lets it follow the pose again when not — the side view
+    /// turns when the drag ends. Keys and typed positions move the arm with the button up, so
+    /// the view turns with them at once.
+    pub fn hold_side_view(&mut self, held: bool) {
+        self.side_yaw_held = if held {
+            Some(
+                self.side_yaw_held
+                    .unwrap_or_else(|| self.side_view_yaw_of_pose()),
+            )
+        } else {
+            None
+        };
+    }
+
+    /// Whether the side view's yaw is held for a drag.
+    pub fn side_view_held(&self) -> bool {
+        self.side_yaw_held.is_some()
+    }
+
+    fn side_view_yaw_of_pose(&self) -> f64 {
         match self.arm.as_ref().map(Arm::arm_type) {
             Some(ArmType::Articulated4(_) | ArmType::Articulated5(_)) => {
                 self.pose.first().copied().unwrap_or(0.0)

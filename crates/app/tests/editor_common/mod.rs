@@ -1,7 +1,8 @@
 //! Shared set-up for the editor's flow tests: an editor on the sample scene in a kittest
 //! harness the size of a real window, a stop channel, a scratch folder; bounded waits for the
 //! editor's workers (file work, dry run, retime, device link); the stop key and button; what
-//! the simulated device is doing.
+//! the simulated device is doing; the steps of teaching (typed positions, store, save as) and
+//! running the command line on the result.
 #![allow(dead_code)]
 
 use std::path::PathBuf;
@@ -10,7 +11,7 @@ use std::time::{Duration, Instant};
 
 use armwright::editor::{
     ACKNOWLEDGE_LABEL, ChannelStopLink, DryRunStatus, EMERGENCY_STOP_LABEL, Editor, EditorOptions,
-    STOP_KEY, StopRequest, StopSource, StreamEnd, StreamPhase,
+    ReachStatus, STOP_KEY, StopRequest, StopSource, StreamEnd, StreamPhase,
 };
 use armwright::scene::{InputDoc, InputPointDoc, Scene};
 use armwright_link::{DeviceMode, LinkState};
@@ -180,16 +181,94 @@ pub fn drag(
 
 /// Steps (a frame every 10 ms) until `done` holds; panics after 10 s naming `what`.
 pub fn step_until(harness: &mut EditorHarness, what: &str, done: impl Fn(&Editor) -> bool) {
+    step_until_within(harness, what, Duration::from_secs(10), done);
+}
+
+/// How long [`step_until_slow`] waits: a stream's approach and sequence and the follower's
+/// moves run in real time, and the machine may be busy.
+pub const SLOW_WAIT: Duration = Duration::from_secs(60);
+
+/// Steps (a frame every 10 ms) until `done` holds; panics after [`SLOW_WAIT`] naming `what`.
+pub fn step_until_slow(harness: &mut EditorHarness, what: &str, done: impl Fn(&Editor) -> bool) {
+    step_until_within(harness, what, SLOW_WAIT, done);
+}
+
+fn step_until_within(
+    harness: &mut EditorHarness,
+    what: &str,
+    limit: Duration,
+    done: impl Fn(&Editor) -> bool,
+) {
     let start = Instant::now();
     while !done(harness.state()) {
         assert!(
-            start.elapsed() < Duration::from_secs(10),
-            "timed out waiting for {what}: {:?}",
+            start.elapsed() < limit,
+            "timed out after {limit:?} waiting for {what}: edited pose {:?}, device pose {:?}, \
+             link {:?}",
+            harness.state().state.pose,
+            harness.state().state.device_pose,
             harness.state().device().view()
         );
         std::thread::sleep(Duration::from_millis(10));
         harness.step();
     }
+}
+
+/// Types `mm` into the tool point's `axis` field ("x", "y" or "z") and runs two frames; the arm
+/// must reach it.
+pub fn type_position(harness: &mut EditorHarness, axis: &str, mm: f64) {
+    harness
+        .get_by_label(&format!("tool point {axis} (mm)"))
+        .set_value_accesskit(mm);
+    harness.run_steps(2);
+    assert_reached(harness.state(), &format!("typed {axis} = {mm} mm"));
+}
+
+/// Checks that the last target was reached; `what` names it in the failure message.
+pub fn assert_reached(editor: &Editor, what: &str) {
+    assert_eq!(
+        editor.state.reach,
+        ReachStatus::Reached,
+        "{what}: {:?}",
+        editor.state.reach_problems()
+    );
+}
+
+/// Clicks "Store pose" and runs two frames.
+pub fn store(harness: &mut EditorHarness) {
+    harness.get_by_label("Store pose").click();
+    harness.run_steps(2);
+}
+
+/// Saves the scene as `path` through the Save as dialog's path box, confirmed with Enter, and
+/// waits for the file work; the editor then names that file and has nothing unsaved.
+pub fn save_as_with_enter(harness: &mut EditorHarness, path: &std::path::Path) {
+    harness.get_by_label("Save as…").click();
+    harness.run_steps(3);
+    harness
+        .get_by_label("scene path")
+        .type_text(&path.display().to_string());
+    harness.run_steps(2);
+    harness.key_press(egui::Key::Enter);
+    harness.run_steps(1);
+    settle(harness);
+    assert_eq!(harness.state().state.file_path.as_deref(), Some(path));
+    assert!(!harness.state().state.is_dirty());
+}
+
+/// Runs the `armwright` command line with `args`; returns whether it succeeded and what it
+/// printed (standard output, then standard error).
+pub fn armwright_command(args: &[&str]) -> (bool, String) {
+    let output = std::process::Command::new(env!("CARGO_BIN_EXE_armwright"))
+        .args(args)
+        .output()
+        .expect("armwright runs");
+    let text = format!(
+        "{}{}",
+        String::from_utf8_lossy(&output.stdout),
+        String::from_utf8_lossy(&output.stderr)
+    );
+    (output.status.success(), text)
 }
 
 /// Steps (sleeping a little between frames) until the newest change's dry run is shown or has

@@ -157,11 +157,13 @@ fn device_info(ui: &mut Ui, view: &LinkView, connection: &crate::editor::device:
             ui.label("bad lines / checksums");
             ui.label(format!("{} / {}", status.bad_lines, status.bad_checksums));
             ui.end_row();
-            ui.label("clamped values / watchdog trips");
-            ui.label(format!(
-                "{} / {}",
-                status.clamped_values, status.watchdog_trips
-            ));
+            // Two rows, not one "clamped values / watchdog trips": that label widened the tools
+            // panel at 1280 points.
+            ui.label("clamped values");
+            ui.label(status.clamped_values.to_string());
+            ui.end_row();
+            ui.label("watchdog trips");
+            ui.label(status.watchdog_trips.to_string());
             ui.end_row();
         }
     });
