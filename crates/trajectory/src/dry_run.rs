@@ -730,7 +730,7 @@ fn fill_loads(arm: &Arm, link: &[f64], payload: f64, loads: &mut [JointLoad]) {
 
 #[cfg(test)]
 #[path = "../../kinematics/tests/common/mod.rs"]
-mod arms;
+pub(crate) mod arms;
 
 #[cfg(test)]
 mod tests {
