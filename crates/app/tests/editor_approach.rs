@@ -14,8 +14,8 @@ use armwright_link::device_pose;
 use egui_kittest::kittest::Queryable;
 
 use editor_common::{
-    acknowledge_caution, connect, file_editor, frames_sent, sample_editor, scratch, step_until_slow,
-    wait_for_dry_run,
+    acknowledge_caution, connect, file_editor, frames_sent, sample_editor, scratch,
+    step_until_slow, wait_for_dry_run,
 };
 
 /// The middle of bucket `index` of `series`, in the display unit.

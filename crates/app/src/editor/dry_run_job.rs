@@ -163,7 +163,7 @@ impl DryRunJob {
 }
 
 /// Plans `scene` on `arm`, runs the dry run, builds the traces and finds the contacts and
-/// unsettled stops, or says why not.
+/// unsettled stops and estimates placement success at each pick or place, or says why not.
 fn plan_and_run(scene: &Scene, arm: &Arm, generation: u64) -> Result<Timeline, String> {
     let plan = plan_of(scene, arm).map_err(|error| format!("cannot plan: {error}"))?;
     let run = dry_run_of(scene, arm, &plan).map_err(|error| format!("cannot simulate: {error}"))?;
@@ -181,7 +181,7 @@ fn plan_and_run(scene: &Scene, arm: &Arm, generation: u64) -> Result<Timeline, S
         .zip(plan.timings())
         .map(|(waypoint, timing)| (waypoint.name.clone(), timing.arrival))
         .collect();
-    let found = DryRunMarks::of(scene, arm, &plan, &run);
+    let found = DryRunMarks::of(scene, arm, &plan, &run)?;
     Ok(Timeline {
         found,
         generation,

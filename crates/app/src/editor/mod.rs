@@ -51,7 +51,7 @@ pub use device::{
     ChannelPulse, Connection, DeviceLink, LinkAction, LinkStopLink, LinkView, StreamEnd,
     StreamPhase,
 };
-pub use dry_run_marks::{ContactMark, DryRunMarks, Solid, UnsettledMark};
+pub use dry_run_marks::{ContactMark, DryRunMarks, Solid, UnsettledMark, placement_text};
 pub use estop::{ChannelStopLink, STOP_KEY, STOP_KEY_NAME, StopLink, StopRequest};
 pub use follow::{
     DEFAULT_FOLLOW_SHARE_PCT, FollowAction, FollowCommand, FollowPhase, FollowSettings,

@@ -5,8 +5,8 @@
 use std::path::PathBuf;
 
 use armwright_kinematics::{
-    AccuracyBudget, Arm, ArmType, IkTarget, JointKind, accuracy_budget, gravity_torques, tool_pose,
-    torque_use,
+    AccuracyBudget, Arm, ArmType, IkTarget, JointKind, PayloadLimit, accuracy_budget,
+    gravity_torques, max_payload, tool_pose, torque_use,
 };
 
 use super::arm_form::ArmForm;
@@ -173,6 +173,10 @@ pub struct EditorState {
     pub torque_use: Vec<f64>,
     /// The tool point's accuracy budget at the current pose (from servo deadband and backlash).
     pub accuracy: Option<AccuracyBudget>,
+    /// The heaviest payload the current pose can hold within the derated stall torque, as
+    /// `pose --json` gives it (`max_payload_g`); cheap (two gravity passes), so recomputed on
+    /// every pose change.
+    pub max_payload: Option<PayloadLimit>,
     /// The selected waypoint, if any.
     pub selected_waypoint: Option<usize>,
     /// Undo and redo steps.
@@ -240,6 +244,7 @@ impl EditorState {
             reach: ReachStatus::Idle,
             torque_use: Vec::new(),
             accuracy: None,
+            max_payload: None,
             selected_waypoint: None,
             history: History::default(),
             dirty: false,
@@ -459,15 +464,18 @@ impl EditorState {
         self.pose_changed();
     }
 
-    /// Recomputes what depends on the pose: torque use and the held tool angle.
+    /// Recomputes what depends on the pose: torque use, the heaviest payload and the held tool
+    /// angle.
     pub(crate) fn pose_changed(&mut self) {
         let Some(arm) = self.arm.as_ref() else {
             self.torque_use.clear();
             self.accuracy = None;
+            self.max_payload = None;
             return;
         };
         self.accuracy = accuracy_budget(arm, &self.pose).ok();
         let derating = self.scene.timing.torque_derating_pct / 100.0;
+        self.max_payload = max_payload(arm, &self.pose, derating).ok();
         self.torque_use = gravity_torques(arm, &self.pose, arm.payload_mass())
             .map(|efforts| torque_use(arm, &efforts, derating).as_slice().to_vec())
             .unwrap_or_default();

@@ -144,7 +144,16 @@ pub fn show_view(
         }
     }
     if let Some(found) = state.dry_run_found() {
-        dry_run_marks::paint_in_view(ui, &clipped, &projection, plane, kind, &state.scene, found);
+        dry_run_marks::paint_in_view(
+            ui,
+            &clipped,
+            &projection,
+            plane,
+            kind,
+            &state.scene,
+            found,
+            &mut labels,
+        );
     }
     // Captions and legends first, then the names of things wherever they are free of them.
     let (title, subtitle) = view_title(state, kind, yaw, reach);
