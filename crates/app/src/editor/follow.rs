@@ -18,7 +18,7 @@
 //! and follow turns off. Turning follow off brings the arm to rest as soon as its limits allow
 //! and the device holds that pose. `armwright jog` drives the same [`FollowRun`] from a terminal.
 
-use std::time::{Duration, Instant};
+use std::time::Duration;
 
 use armwright_kinematics::Arm;
 use armwright_link::{DeviceInfo, Link, LinkError, LinkState, device_setpoints};
@@ -43,7 +43,9 @@ pub const FOLLOW_SHARE_RANGE_PCT: (f64, f64) = (1.0, 100.0);
 
 /// How long a run following the input arm waits for the next analog readings before it holds:
 /// ten readings lines at the editor's 20 a second (`capture::EDITOR_READINGS_HZ`), twice the
-/// time the link waits before it calls a silent device lost (our choice).
+/// time the link waits before it calls a silent device lost (our choice). It is counted in the
+/// device's own acknowledged setpoints (this long of link frames), not on the host's clock, so
+/// a busy host that reads nothing for a while does not take it for lost readings.
 pub const READINGS_SILENCE: Duration = Duration::from_millis(500);
 
 /// Shown when follow of the input arm is asked for with no input arm to follow.
@@ -443,9 +445,9 @@ pub(crate) struct FollowRun {
     leaving: bool,
     /// The arm is at rest and the stream was told to finish: hold once the link is idle.
     finishing: bool,
-    /// While following the input arm: the link's count of readings received, and when it
-    /// last changed.
-    readings: Option<(u64, Instant)>,
+    /// While following the input arm: the link's count of readings received, and its count of
+    /// setpoints the device acknowledged when that last changed.
+    readings: Option<(u64, u64)>,
     /// The readings stopped: the run is leaving and takes no new target.
     readings_lost: bool,
 }
@@ -550,30 +552,33 @@ impl FollowRun {
     /// watching them; either way a hold for want of readings is lifted, and the next target
     /// carries on.
     pub(crate) fn watch_readings(&mut self, link: &Link, inputs: bool) {
-        self.readings = inputs.then(|| (link.stats().readings_received, Instant::now()));
+        let stats = link.stats();
+        self.readings = inputs.then_some((stats.readings_received, stats.frames_acked));
         self.readings_lost = false;
     }
 
-    /// While following the input arm: when no readings came for [`READINGS_SILENCE`], brings
-    /// the arm to rest (the device then holds) and returns what to tell the user, once.
+    /// While following the input arm: when the device acknowledged [`READINGS_SILENCE`] of
+    /// setpoints and sent no readings meanwhile, brings the arm to rest (the device then holds)
+    /// and returns what to tell the user, once.
     pub(crate) fn check_readings(&mut self, link: &Link) -> Option<Report> {
-        let (count, since) = self.readings.as_mut()?;
-        let received = link.stats().readings_received;
-        if received != *count {
-            *count = received;
-            *since = Instant::now();
+        let (count, acked_then) = self.readings.as_mut()?;
+        let stats = link.stats();
+        if stats.readings_received != *count {
+            *count = stats.readings_received;
+            *acked_then = stats.frames_acked;
             return None;
         }
-        let silent = since.elapsed();
-        if self.readings_lost || silent < READINGS_SILENCE {
+        let frames = (READINGS_SILENCE.as_secs_f64() / self.follower.period()).ceil() as u64;
+        let silent = stats.frames_acked.saturating_sub(*acked_then);
+        if self.readings_lost || silent < frames.max(1) {
             return None;
         }
         self.readings_lost = true;
         self.leave();
         Some(Report::Problem(format!(
-            "no readings from the input arm for {:.1} s: follow of the input arm stops; the arm \
-             comes to rest and the device holds it",
-            silent.as_secs_f64()
+            "no readings from the input arm for {:.1} s of the device's frames: follow of the \
+             input arm stops; the arm comes to rest and the device holds it",
+            silent as f64 * self.follower.period()
         )))
     }
 
