@@ -14,8 +14,6 @@ use egui::{Align2, Color32, FontId, Painter, Pos2, Rect, Sense, Shape, Stroke, U
 use egui_plot::PlotTransform;
 use nalgebra::{Point3, Vector3};
 
-use super::playback::DryRunStatus;
-use super::state::EditorState;
 use super::views::{Plane, Projection, ViewKind};
 use crate::cli::clearance::SceneCell;
 use crate::scene::{Arrival, Scene};
@@ -193,17 +191,6 @@ impl DryRunMarks {
     /// The unsettled mark of waypoint `index`, if it has one.
     pub fn unsettled_at(&self, index: usize) -> Option<&UnsettledMark> {
         self.unsettled.iter().find(|mark| mark.waypoint == index)
-    }
-}
-
-impl EditorState {
-    /// The contacts and unsettled stops of the newest dry run, when it is of the scene as it
-    /// is now (none while a new one runs, so that no mark points at a waypoint that moved).
-    pub fn dry_run_found(&self) -> Option<&DryRunMarks> {
-        match self.playback.status {
-            DryRunStatus::Ready => self.playback.timeline.as_deref().map(|t| &t.found),
-            _ => None,
-        }
     }
 }
 
