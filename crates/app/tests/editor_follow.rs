@@ -9,7 +9,7 @@
 
 mod editor_common;
 
-use std::time::Duration;
+use std::time::{Duration, Instant};
 
 use armwright::editor::{
     ACKNOWLEDGE_LABEL, Command, Editor, FOLLOW_INPUT_LABEL, FOLLOW_LABEL, FollowCommand,

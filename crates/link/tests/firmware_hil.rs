@@ -961,13 +961,8 @@ fn a_burst_of_random_bytes_never_hangs_or_resets_the_firmware() {
     let seq = port.send(setpoint(pose));
     port.expect_ack(seq, AckOutcome::Accepted);
     // 2 000 bytes from a fixed linear congruential sequence, then a line feed.
-    let mut state = 0x2545_F491_u32;
-    let noise: Vec<u8> = (0..2000)
-        .map(|_| {
-            state = state.wrapping_mul(1_664_525).wrapping_add(1_013_904_223);
-            (state >> 24) as u8
-        })
-        .collect();
+    let mut rng = armwright_test_support::seeded::Lcg32::new(0x2545_F491);
+    let noise: Vec<u8> = (0..2000).map(|_| (rng.next_u32() >> 24) as u8).collect();
     for chunk in noise.chunks(100) {
         port.raw(chunk);
     }

@@ -1,6 +1,7 @@
 //! Small deterministic generators, so every run of a test or benchmark sees the same inputs.
-//! Two, because the checks written against each were tuned on its sequence: [`Seeded`] for the
-//! arms and poses, [`XorShift`] for the trajectory crate's random moves.
+//! Three, because the checks written against each were tuned on its sequence: [`Seeded`] for
+//! the arms and poses, [`XorShift`] for the trajectory crate's random moves, [`Lcg32`] for the
+//! link's pulse widths and line noise.
 
 use armwright_kinematics::Arm;
 
@@ -60,5 +61,22 @@ impl XorShift {
     /// Log-uniform in `[low, high)`, for quantities spanning decades.
     pub fn log_uniform(&mut self, low: f64, high: f64) -> f64 {
         self.uniform(low.ln(), high.ln()).exp()
+    }
+}
+
+/// A 32-bit linear congruential sequence (the multiplier and increment of *Numerical Recipes*,
+/// Press et al., 2nd ed., §7.1): cheap bytes and pulse widths for the link's tests and benches.
+pub struct Lcg32(u32);
+
+impl Lcg32 {
+    /// A sequence from `seed`.
+    pub fn new(seed: u32) -> Self {
+        Self(seed)
+    }
+
+    /// The next state: use its high bits (the low ones repeat quickly).
+    pub fn next_u32(&mut self) -> u32 {
+        self.0 = self.0.wrapping_mul(1_664_525).wrapping_add(1_013_904_223);
+        self.0
     }
 }

@@ -12,7 +12,7 @@ use std::sync::mpsc::{Receiver, Sender, channel};
 use armwright_kinematics::Arm;
 
 use super::dry_run_marks::DryRunMarks;
-use super::playback::{self, DryRunStatus, Timeline};
+use super::playback::{DryRunStatus, Timeline};
 use super::state::EditorState;
 use super::traces::Traces;
 use crate::scene::{ArmDoc, Scene, Timing, Waypoint};
@@ -105,8 +105,8 @@ impl DryRunJob {
             }
             self.done = Some(finished.generation);
             match finished.result {
-                Ok(timeline) => playback::accept(state, Arc::new(timeline)),
-                Err(reason) => playback::fail(state, reason),
+                Ok(timeline) => state.accept_timeline(Arc::new(timeline)),
+                Err(reason) => state.playback.fail(reason),
             }
         }
         if self.running.is_none() && self.done != Some(self.generation) {
@@ -121,7 +121,9 @@ impl DryRunJob {
         let generation = self.generation;
         let Some(arm) = state.arm().cloned() else {
             self.done = Some(generation);
-            playback::fail(state, "the arm cannot be built (see the messages)".into());
+            state
+                .playback
+                .fail("the arm cannot be built (see the messages)".into());
             return;
         };
         let scene = state.scene.clone();
@@ -141,7 +143,9 @@ impl DryRunJob {
             }
             Err(error) => {
                 self.done = Some(generation);
-                playback::fail(state, format!("cannot start the dry run: {error}"));
+                state
+                    .playback
+                    .fail(format!("cannot start the dry run: {error}"));
             }
         }
     }

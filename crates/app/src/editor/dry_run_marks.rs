@@ -18,8 +18,6 @@ use egui::{Color32, FontId, Painter, Pos2, Rect, Sense, Shape, Stroke, Ui, pos2}
 use egui_plot::PlotTransform;
 use nalgebra::{Point3, Vector3};
 
-use super::playback::DryRunStatus;
-use super::state::EditorState;
 use super::views::{Label, Plane, Projection, ViewKind};
 use crate::cli::clearance::SceneCell;
 use crate::scene::{Arrival, Placement, Scene, placements_of};
@@ -225,17 +223,6 @@ impl DryRunMarks {
     /// The unsettled mark of waypoint `index`, if it has one.
     pub fn unsettled_at(&self, index: usize) -> Option<&UnsettledMark> {
         self.unsettled.iter().find(|mark| mark.waypoint == index)
-    }
-}
-
-impl EditorState {
-    /// The contacts and unsettled stops of the newest dry run, when it is of the scene as it
-    /// is now (none while a new one runs, so that no mark points at a waypoint that moved).
-    pub fn dry_run_found(&self) -> Option<&DryRunMarks> {
-        match self.playback.status {
-            DryRunStatus::Ready => self.playback.timeline.as_deref().map(|t| &t.found),
-            _ => None,
-        }
     }
 }
 
@@ -525,7 +512,8 @@ mod tests {
     /// The built-in sample with both drill points lowered into the table (shoulder level): two
     /// moves, 30° of base turn apart, each with a contact, so the contacts lie close together.
     fn two_contacts_close_together() -> (Scene, DryRunMarks) {
-        use crate::scene::{build_arm, dry_run_of, plan_of};
+        use crate::scene::build_arm;
+        use crate::task::{dry_run_of, plan_of};
 
         let mut scene = crate::editor::sample::sample_scene();
         for index in [2, 3] {

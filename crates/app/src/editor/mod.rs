@@ -3,7 +3,8 @@
 //! that is always on screen.
 //!
 //! Naming scheme: `state.rs` holds what is saved, undone and tested (no egui types);
-//! `command.rs` is what panels ask for and how it changes the state; `history.rs` undo and
+//! `command.rs` is what panels ask for and how it changes the state (`command/`: by area, the
+//! pose, the sequence, the retime tab); `message.rs` a status-bar line; `history.rs` undo and
 //! redo; `estop.rs` the path a stop request takes out of the editor; `device.rs` the link to
 //! a device and its worker thread (connect, stream, pause, reset); `files.rs` file work off
 //! the UI thread; `recovery.rs` the autosaved copy; `sample.rs` the built-in scene;
@@ -30,6 +31,7 @@ mod estop;
 mod files;
 pub(crate) mod follow;
 mod history;
+mod message;
 mod panels;
 mod playback;
 mod recovery;
@@ -406,7 +408,9 @@ impl Editor {
         if self.files.busy() {
             ctx.request_repaint_after(Duration::from_millis(50));
         }
-        self.retime.poll(&mut self.state);
+        if let Some((level, text)) = self.retime.poll(&mut self.state.retime) {
+            self.state.say(level, text);
+        }
         if self.retime.busy() {
             ctx.request_repaint_after(Duration::from_millis(50));
         }
@@ -442,7 +446,7 @@ impl Editor {
         }
         self.dry_run.update(ctx, &mut self.state);
         let now = ctx.input(|input| input.time);
-        if playback::advance(&mut self.state, now) {
+        if self.state.advance_playback(now) {
             ctx.request_repaint();
         }
         self.reach.update(ctx, &self.state);

@@ -3,6 +3,7 @@
 //! messages, the emergency-stop latch and the timeline's playback. No egui types live here.
 
 use std::path::PathBuf;
+use std::sync::Arc;
 
 use armwright_kinematics::{
     AccuracyBudget, Arm, ArmType, IkTarget, JointKind, PayloadLimit, accuracy_budget,
@@ -11,31 +12,13 @@ use armwright_kinematics::{
 
 use super::arm_form::ArmForm;
 use super::calibration::Calibrating;
+use super::dry_run_marks::DryRunMarks;
 use super::follow::FollowSettings;
 use super::history::History;
-use super::playback::Playback;
+pub use super::message::{Level, Message};
+use super::playback::{CursorPose, Playback, PlaybackCommand, Timeline};
 use super::retime_job::RetimeState;
 use crate::scene::{Device, GripperState, JointKindDoc, Scene, build_arm, pose_from_file_units};
-
-/// How serious a message in the status bar is.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub enum Level {
-    /// Something done, for information.
-    Info,
-    /// Something the user should look at.
-    Warning,
-    /// Something failed; nothing was changed by it.
-    Error,
-}
-
-/// One line in the status bar.
-#[derive(Debug, Clone, PartialEq)]
-pub struct Message {
-    /// How serious it is.
-    pub level: Level,
-    /// What happened, in words.
-    pub text: String,
-}
 
 /// Where an emergency-stop request came from.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -484,6 +467,48 @@ impl EditorState {
         {
             self.tool_angle = angle;
         }
+    }
+
+    /// Applies one timeline command (`editor/playback.rs`). Changes no scene, records no undo
+    /// step; a moved cursor puts the arm at its pose.
+    pub(crate) fn playback_command(&mut self, command: PlaybackCommand) {
+        let moved = self
+            .playback
+            .apply(command, self.joint_count(), self.pose.len());
+        self.arm_to_cursor(moved);
+    }
+
+    /// Advances playback to egui time `now` (s), moving the arm. Returns whether it is still
+    /// playing (the window should keep repainting).
+    pub(crate) fn advance_playback(&mut self, now: f64) -> bool {
+        let moved = self.playback.advance(now, self.pose.len());
+        self.arm_to_cursor(moved);
+        self.playback.playing
+    }
+
+    /// Takes a new plan and dry run for the timeline; an arm left at the cursor follows it.
+    pub(crate) fn accept_timeline(&mut self, timeline: Arc<Timeline>) {
+        let moved = self.playback.accept(timeline, &self.pose);
+        self.arm_to_cursor(moved);
+    }
+
+    /// The contacts and unsettled stops of the newest dry run, when it is of the scene as it
+    /// is now (none while a new one runs, so that no mark points at a waypoint that moved).
+    pub fn dry_run_found(&self) -> Option<&DryRunMarks> {
+        self.playback.found()
+    }
+
+    /// Puts the arm where the timeline's cursor put it: a preview, no undo step.
+    fn arm_to_cursor(&mut self, moved: Option<CursorPose>) {
+        let Some(CursorPose { positions, gripper }) = moved else {
+            return;
+        };
+        self.pose = positions;
+        self.gripper = gripper;
+        self.branch = None;
+        self.branch_choices.clear();
+        self.reach = ReachStatus::Idle;
+        self.pose_changed();
     }
 
     /// Clamps a position (rad or m) into the joint's limits.
