@@ -583,30 +583,6 @@ impl<'o> Look<'o> {
         self.passes == Passes::Skipping && self.spent + MARGIN < self.slack
     }
 
-    /// The smallest slack over the pairs after a pass: each pair's lowest possible distance
-    /// less the larger of zero and the threshold.
-    fn smallest_slack(&self, cell: &Workcell<'_>) -> f64 {
-        let floor = self.threshold().max(0.0);
-        let mut smallest = f64::INFINITY;
-        for (pair, &(distance, link_then, other_then)) in self.pairs.iter().zip(&self.last) {
-            let lowest = distance
-                - (self.travel[pair.link] - link_then)
-                - (self.travel_of(pair.other) - other_then);
-            smallest = smallest.min(lowest - floor);
-        }
-        for check in &self.carried {
-            let Some(held) = cell.carried.get(check.carry) else {
-                continue;
-            };
-            let travel = self.travel[check.pair.link] + held.object.extent * self.turn;
-            let (distance, then, other_then) = check.last;
-            let lowest =
-                distance - (travel - then) - (self.travel_of(check.pair.other) - other_then);
-            smallest = smallest.min(lowest - floor);
-        }
-        smallest.max(0.0)
-    }
-
     fn travel_of(&self, other: Other) -> f64 {
         match other {
             Other::Link(link) => self.travel[link],
@@ -629,14 +605,17 @@ impl<'o> Look<'o> {
         if self.all_clear() {
             return;
         }
-        self.pass(cell, t, positions);
-        self.slack = self.smallest_slack(cell);
+        self.slack = self.pass(cell, t, positions).max(0.0);
         self.spent = 0.0;
     }
 
     /// One pass over the pairs: each is measured unless its lowest possible distance lies above
-    /// zero and above the threshold.
-    fn pass(&mut self, cell: &Workcell<'_>, t: f64, positions: &[f64]) {
+    /// zero and above the threshold. Returns the smallest slack of any pair after it: its lowest
+    /// possible distance less the larger of zero and the threshold when it was looked at (the
+    /// threshold only falls, so that is never more than the slack at the pass's end); zero when
+    /// the pose cannot be placed.
+    fn pass(&mut self, cell: &Workcell<'_>, t: f64, positions: &[f64]) -> f64 {
+        let mut slack = f64::INFINITY;
         let mut pose: Option<(ChainPose, PlacedArm)> = None;
         let placed_pose = |pose: &mut Option<(ChainPose, PlacedArm)>| -> bool {
             if pose.is_none() {
@@ -656,14 +635,16 @@ impl<'o> Look<'o> {
             let (link_now, other_now) = (self.travel[pair.link], self.travel_of(pair.other));
             let lowest = distance - (link_now - link_then) - (other_now - other_then);
             let threshold = self.threshold();
+            let floor = threshold.max(0.0);
             if lowest > 0.0 && lowest >= threshold && self.passes == Passes::Skipping {
+                slack = slack.min(lowest - floor);
                 continue;
             }
             if !placed_pose(&mut pose) {
-                return;
+                return 0.0;
             }
             let Some((_, placed)) = pose.as_ref() else {
-                return;
+                return 0.0;
             };
             // A cheap lower bound first: when it clears the threshold, it serves as well as the
             // distance for the next skip.
@@ -671,12 +652,14 @@ impl<'o> Look<'o> {
                 let bound = pair_distance_bound(cell.shape, placed, cell.obstacles, pair);
                 if bound > 0.0 && bound >= threshold {
                     self.last[index] = (bound, link_now, other_now);
+                    slack = slack.min(bound - floor);
                     continue;
                 }
             }
             let distance = pair_distance(cell.shape, placed, cell.obstacles, pair);
             self.last[index] = (distance, link_now, other_now);
             self.record(t, pair, None, distance);
+            slack = slack.min(distance - self.threshold().max(0.0));
         }
         for index in 0..self.carried.len() {
             let check = &self.carried[index];
@@ -688,13 +671,14 @@ impl<'o> Look<'o> {
             let (distance, then, other_then) = check.last;
             let lowest = distance - (travel - then) - (other_travel - other_then);
             if lowest > 0.0 && lowest >= self.threshold() && self.passes == Passes::Skipping {
+                slack = slack.min(lowest - self.threshold().max(0.0));
                 continue;
             }
             if !placed_pose(&mut pose) {
-                return;
+                return 0.0;
             }
             let Some((chain, placed)) = pose.as_ref() else {
-                return;
+                return 0.0;
             };
             let distance = match check.pair.other {
                 Other::Obstacle(obstacle) => match cell.obstacles.get(obstacle) {
@@ -714,7 +698,9 @@ impl<'o> Look<'o> {
             let pair = check.pair;
             self.carried[index].last = (distance, travel, other_travel);
             self.record(t, pair, Some(held.object.obstacle), distance);
+            slack = slack.min(distance - self.threshold().max(0.0));
         }
+        slack
     }
 
     /// Notes one measurement: `pair` (with its carried object, if that is what was measured)
