@@ -33,10 +33,11 @@ fn step_until_slow(harness: &mut EditorHarness, what: &str, done: impl Fn(&Edito
     while !done(harness.state()) {
         assert!(
             start.elapsed() < Duration::from_secs(60),
-            "timed out waiting for {what}: edited {:?}, device {:?}, follow {:?}",
+            "timed out waiting for {what}: edited {:?}, device {:?}, follow {:?}, messages {:?}",
             harness.state().state.pose,
             harness.state().state.device_pose,
-            harness.state().device().view().follow
+            harness.state().device().view().follow,
+            harness.state().state.messages
         );
         std::thread::sleep(Duration::from_millis(10));
         harness.step();
