@@ -204,10 +204,11 @@ fn step_until_within(
         assert!(
             start.elapsed() < limit,
             "timed out after {limit:?} waiting for {what}: edited pose {:?}, device pose {:?}, \
-             link {:?}",
+             link {:?}, messages {:?}",
             harness.state().state.pose,
             harness.state().state.device_pose,
-            harness.state().device().view()
+            harness.state().device().view(),
+            harness.state().state.messages
         );
         std::thread::sleep(Duration::from_millis(10));
         harness.step();
