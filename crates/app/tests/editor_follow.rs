@@ -132,8 +132,9 @@ fn follow_jog_store_stop_and_leave() {
     let stored = harness.state().state.pose[0];
     assert!(
         (stored - target).abs() > 1f64.to_radians() && stored >= before - 1e-6,
-        "stored {stored}, the edited pose was {target}, from {before}; follow {:?}",
-        harness.state().device().view().follow
+        "stored {stored}, the edited pose was {target}, from {before}; follow {:?}; messages {:?}",
+        harness.state().device().view().follow,
+        harness.state().state.messages
     );
     share(&mut harness, 100.0);
     // Jog on again, then nudge the tool point up 10 mm (Shift: 10 tool steps of 1 mm).
