@@ -24,33 +24,43 @@ pub fn shown_pulse(
     (sent, position_to_file_unit(kind, error))
 }
 
-/// The heaviest payload the current pose holds within the derated stall torque, as `pose`
-/// prints it: "heaviest payload 184 g at the tool point (set by elbow)".
-pub fn payload_text(state: &EditorState, arm: &Arm) -> Option<String> {
+/// The heaviest payload the current pose holds within the derated stall torque, short enough
+/// to sit beside the panel's heading: "payload ≤ 184 g (elbow)"; the hover gives it as `pose`
+/// prints it ("heaviest payload 184 g at the tool point (set by elbow)").
+fn payload_text(state: &EditorState, arm: &Arm) -> Option<(String, String)> {
     let limit = state.max_payload?;
     Some(match limit.joint.and_then(|j| arm.joints().get(j)) {
-        Some(joint) if limit.mass.is_finite() => format!(
-            "heaviest payload {:.0} g at the tool point (set by {})",
-            limit.mass * 1e3,
-            joint.name
+        Some(joint) if limit.mass.is_finite() => (
+            format!("payload ≤ {:.0} g ({})", limit.mass * 1e3, joint.name),
+            format!(
+                "heaviest payload {:.0} g at the tool point (set by {})",
+                limit.mass * 1e3,
+                joint.name
+            ),
         ),
-        _ => "heaviest payload: no joint's torque depends on it".to_string(),
+        _ => (
+            "payload: any".to_string(),
+            "heaviest payload: no joint's torque depends on it".to_string(),
+        ),
     })
 }
 
 fn payload_line(ui: &mut Ui, state: &EditorState, arm: &Arm) {
-    let Some(text) = payload_text(state, arm) else {
+    let Some((short, long)) = payload_text(state, arm) else {
         return;
     };
     let over = state
         .max_payload
         .is_some_and(|limit| limit.mass < arm.payload_mass());
     if over {
-        ui.colored_label(Color32::from_rgb(255, 80, 60), text)
-            .on_hover_text("less than the arm's payload: a joint is over its derated torque");
+        ui.colored_label(Color32::from_rgb(255, 80, 60), short)
+            .on_hover_text(format!(
+                "{long}: less than the arm's payload, a joint is over its derated torque"
+            ));
     } else {
-        ui.label(text).on_hover_text(format!(
-            "holding this pose with every joint within {:.0} % of its stall torque (timing.torque_derating_pct)",
+        ui.label(short).on_hover_text(format!(
+            "{long}, holding this pose with every joint within {:.0} % of its stall torque \
+             (timing.torque_derating_pct)",
             state.scene.timing.torque_derating_pct
         ));
     }
@@ -60,12 +70,15 @@ fn payload_line(ui: &mut Ui, state: &EditorState, arm: &Arm) {
 /// device's unit.
 pub fn joint_controls(ui: &mut Ui, state: &EditorState, pulse_unit_us: f64) -> Command {
     let mut command = Command::None;
-    ui.heading("Joints");
     let Some(arm) = state.arm() else {
+        ui.heading("Joints");
         ui.colored_label(Color32::from_rgb(255, 80, 60), "the arm cannot be built");
         return command;
     };
-    payload_line(ui, state, arm);
+    ui.horizontal(|ui| {
+        ui.heading("Joints");
+        payload_line(ui, state, arm);
+    });
     let kinds = state.scene.arm.shape.joint_kinds();
     for (index, (doc, joint)) in state.scene.arm.joints.iter().zip(arm.joints()).enumerate() {
         let kind = kinds.get(index).copied().unwrap_or(JointKindDoc::Revolute);
@@ -301,14 +314,14 @@ mod tests {
             (EditorState::new(sample_scene(), None), Vec::new()),
         );
         // What `pose --json` gives (`max_payload_g`) for the pose shown, named by the joint
-        // that sets it, as `pose` prints it.
+        // that sets it.
         let shown = |harness: &Harness<'_, (EditorState, Vec<Command>)>| {
             let (state, _) = harness.state();
             let arm = state.arm().cloned().expect("an arm");
             let report = evaluate(&state.scene, &arm, &state.pose).expect("the pose evaluates");
             let joint = report.payload_joint.expect("a joint sets it");
             let text = format!(
-                "heaviest payload {:.0} g at the tool point (set by {})",
+                "payload ≤ {:.0} g ({})",
                 report.max_payload_kg * 1e3,
                 arm.joints()[joint].name
             );
