@@ -335,7 +335,7 @@ pub enum FollowAction {
         /// Whether the gripper is closed.
         gripper_closed: bool,
         /// The targets come from the input arm: hold when its readings stop
-        /// ([`READINGS_SILENCE`]). A start request to a running run sets this (and the share)
+        /// (`READINGS_SILENCE`, 0.5 s). A start request to a running run sets this (and the share)
         /// and carries on.
         inputs: bool,
     },
