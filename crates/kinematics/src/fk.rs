@@ -220,21 +220,36 @@ impl ToolChain {
         }
     }
 
-    /// The tool pose of the first `N` joints (1 to [`MAX_JOINTS`]) two joints at a time: each
-    /// pair's own shift and turn come from the constants of [`ToolPair`], so the running turn
-    /// multiplies once per pair rather than once per joint, and turns one shift per pair.
+    /// The first `N` positions and steps with every joint's half-angle sine and cosine, worked
+    /// out first and all lanes alike (a slide turns by a zero angle): they do not depend on one
+    /// another, so they run two to an instruction and the product after waits only on itself.
+    /// `None` when fewer than `N` positions are given.
     #[inline(always)]
-    fn pose_by_pairs<const N: usize>(&self, positions: &[f64]) -> Isometry3<f64> {
-        let (Some(positions), Some(steps)) =
-            (positions.first_chunk::<N>(), self.steps.first_chunk::<N>())
-        else {
-            return self.tool_at([0.0; 3], (1.0, 0.0, 0.0, 0.0));
-        };
+    #[allow(clippy::type_complexity)] // four plain arrays, named at the one place they are used
+    fn half_angles<'a, const N: usize>(
+        &'a self,
+        positions: &'a [f64],
+    ) -> Option<(&'a [f64; N], &'a [ToolStep; N], [f64; N], [f64; N])> {
+        let (positions, steps) = (
+            positions.first_chunk::<N>()?,
+            self.steps.first_chunk::<N>()?,
+        );
         let mut angles = [0.0; N];
         for ((angle, &q), step) in angles.iter_mut().zip(positions).zip(steps) {
             *angle = step.turn * q;
         }
         let (sines, cosines) = sin_cos_lanes(&angles);
+        Some((positions, steps, sines, cosines))
+    }
+
+    /// The tool pose of the first `N` joints (1 to [`MAX_JOINTS`]) two joints at a time: each
+    /// pair's own shift and turn come from the constants of [`ToolPair`], so the running turn
+    /// multiplies once per pair rather than once per joint, and turns one shift per pair.
+    #[inline(always)]
+    fn pose_by_pairs<const N: usize>(&self, positions: &[f64]) -> Isometry3<f64> {
+        let Some((positions, steps, sines, cosines)) = self.half_angles::<N>(positions) else {
+            return self.tool_at([0.0; 3], (1.0, 0.0, 0.0, 0.0));
+        };
         let mut p = [0.0; 3];
         let mut turn = (1.0, 0.0, 0.0, 0.0);
         // Written out pair by pair (the conditions are constants) so that nothing loops.
@@ -343,19 +358,9 @@ impl ToolChain {
         positions: &[f64],
         mut joint: impl FnMut(usize, [f64; 3], [f64; 3]),
     ) -> Isometry3<f64> {
-        let (Some(positions), Some(steps)) =
-            (positions.first_chunk::<N>(), self.steps.first_chunk::<N>())
-        else {
+        let Some((positions, steps, sines, cosines)) = self.half_angles::<N>(positions) else {
             return self.tool_at([0.0; 3], (1.0, 0.0, 0.0, 0.0));
         };
-        // Every joint's half-angle sine and cosine first, all lanes alike (a slide turns by a
-        // zero angle): they do not depend on one another, so they run two to an instruction,
-        // and the product below waits only on itself.
-        let mut angles = [0.0; N];
-        for ((angle, &q), step) in angles.iter_mut().zip(positions).zip(steps) {
-            *angle = step.turn * q;
-        }
-        let (sines, cosines) = sin_cos_lanes(&angles);
         // The first joint: nothing before it turns, so its shift and axis are as stored.
         let first = &steps[0];
         joint(0, first.axis, first.shift);
