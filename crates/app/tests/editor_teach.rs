@@ -13,8 +13,8 @@ use egui_kittest::kittest::Queryable;
 
 use editor_common::{
     EditorHarness, armwright_command, assert_dry_run_ready, assert_reached, click_tab, drag,
-    sample_editor, save_as_with_enter, store, type_position, wait_for_dry_run, wait_for_reach_maps,
-    wait_for_retime,
+    sample_editor, save_as_with_enter, start_retime, store, type_position, wait_for_dry_run,
+    wait_for_reach_maps, wait_for_retime,
 };
 
 /// Drags the tool point in `kind`'s view to a spot the view's shading marks reachable at the
@@ -90,8 +90,7 @@ fn tool_mm(harness: &EditorHarness) -> [f64; 3] {
 
 /// Runs a retime at the target in the form and returns its report.
 fn retime(harness: &mut EditorHarness) -> RetimeReport {
-    harness.get_by_label("Run retime").click();
-    harness.run_steps(2);
+    start_retime(harness);
     wait_for_retime(harness);
     match &harness.state().state.retime.run {
         RetimeRun::Finished(report) => (**report).clone(),

@@ -11,7 +11,7 @@ use std::time::{Duration, Instant};
 
 use armwright::editor::{
     ACKNOWLEDGE_LABEL, ChannelStopLink, DryRunStatus, EMERGENCY_STOP_LABEL, Editor, EditorOptions,
-    ReachStatus, STOP_KEY, StopRequest, StopSource, StreamEnd, StreamPhase,
+    ReachStatus, RetimeRun, STOP_KEY, StopRequest, StopSource, StreamEnd, StreamPhase,
 };
 use armwright::scene::{InputDoc, InputPointDoc, Scene};
 use armwright_link::{DeviceMode, LinkState};
@@ -285,6 +285,19 @@ pub fn wait_for_dry_run(harness: &mut EditorHarness) {
     assert!(
         !harness.state().is_dry_running(),
         "no dry run result after 60 s"
+    );
+}
+
+/// Clicks "Run retime" once the dry run has settled (the Retime tab's "current timing" lines
+/// change height when it lands, which would move the button under a pending click), runs one
+/// frame and checks the retime started.
+pub fn start_retime(harness: &mut EditorHarness) {
+    wait_for_dry_run(harness);
+    harness.get_by_label("Run retime").click();
+    harness.step();
+    assert!(
+        !matches!(harness.state().state.retime.run, RetimeRun::Idle),
+        "the click on Run retime started no retime"
     );
 }
 
