@@ -8,7 +8,7 @@ origin-and-axis chain: per joint its kind, unit axis and a point on it in the ba
 every joint at zero, and the mass properties of the body it moves (mass in kg, centre of mass
 in m and inertia about the centre in kg·m², both in a frame parallel to the base with its origin
 at the joint point, at zero); the tool frame at zero (4×4); the payload (kg, a point mass at the
-tool point). Three arms repeat the built-in arm types of crates/kinematics/tests/common/mod.rs
+tool point). Three arms repeat the built-in arm types of crates/test-support/src/arms.rs
 (bodies lumped as the Rust arm model lumps them); the rest are random chains.
 
 Deterministic: a fixed seed, Python's own `random` (its random() sequence is stable across

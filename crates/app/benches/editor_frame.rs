@@ -9,6 +9,7 @@ use armwright::editor::{
     sample_scene,
 };
 use armwright::scene::Waypoint;
+use armwright_test_support::seeded::Seeded;
 use criterion::{Criterion, criterion_group, criterion_main};
 use egui::{RawInput, Rect, pos2, vec2};
 
@@ -18,21 +19,13 @@ fn long_sequence_editor() -> Editor {
     let mut scene = sample_scene();
     let template = scene.waypoints[0].clone();
     let joints = scene.arm.joints.clone();
-    let mut seed: u64 = 0x00A2_4D5E_ED00_0500;
-    let mut next = move || {
-        // SplitMix64 (Steele, Lea & Flood, OOPSLA 2014), enough for spreading test poses.
-        seed = seed.wrapping_add(0x9E37_79B9_7F4A_7C15);
-        let mut z = seed;
-        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-        ((z ^ (z >> 31)) >> 11) as f64 / (1u64 << 53) as f64
-    };
+    let mut rng = Seeded::new(0x00A2_4D5E_ED00_0500);
     scene.waypoints = (0..500)
         .map(|index| Waypoint {
             name: format!("point {}", index + 1),
             joints_deg_or_mm: joints
                 .iter()
-                .map(|joint| joint.min + (joint.max - joint.min) * next())
+                .map(|joint| rng.uniform(joint.min, joint.max))
                 .collect(),
             ..template.clone()
         })

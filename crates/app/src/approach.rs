@@ -14,7 +14,9 @@ use armwright_trajectory::{
     streamed_samples, wake_order,
 };
 
-use crate::scene::{Scene, task_of};
+use crate::scene::Scene;
+
+use crate::task::task_of;
 
 /// Where a stream starts from.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -250,7 +252,7 @@ impl StreamPlan {
     }
 }
 
-/// Plans the stream of `plan` (the scene's, from [`crate::scene::plan_of`]) to a device that
+/// Plans the stream of `plan` (the scene's, from [`crate::task::plan_of`]) to a device that
 /// reports `output`: approach (after waking at the rest pose when the pose is unknown), plan,
 /// and with `park` the move to the rest pose, as setpoints at `rate_hz`. A limp arm is woken
 /// with every channel at once; see [`stream_plan_waking`].

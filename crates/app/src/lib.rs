@@ -10,3 +10,4 @@ pub mod approach; // how every stream starts (wake, approach) and may end (park)
 pub mod cli; // the `armwright` subcommands (listed by `armwright --help`)
 pub mod editor; // the desktop editor: views, joints, sequence, files, emergency stop
 pub mod scene; // the scene document: types, load, validate, migrate, save, unit conversion
+pub mod task; // the scene's sequence as a trajectory task: plan, dry run, retime

@@ -8,9 +8,8 @@
 
 mod common;
 
-use common::device_sim::{DeviceSim, binary};
+use common::device_sim::{DeviceSim, stream_child};
 use std::io::Read;
-use std::process::Stdio;
 
 use serde_json::Value;
 
@@ -29,22 +28,7 @@ fn one_stream_at_a_time() -> std::sync::MutexGuard<'static, ()> {
 /// Streams the sample to `device` at 50 Hz with --yes and --json; returns the exit code, the
 /// JSON report and standard error.
 fn stream(device: &DeviceSim) -> (i32, Value, String) {
-    let mut child = binary()
-        .args([
-            "stream",
-            &common::sample_path(SAMPLE),
-            "--port",
-            &device.path,
-            "--rate",
-            "50",
-            "--yes",
-            "--json",
-        ])
-        .stdin(Stdio::null())
-        .stdout(Stdio::piped())
-        .stderr(Stdio::piped())
-        .spawn()
-        .expect("the armwright binary runs");
+    let mut child = stream_child(SAMPLE, device);
     let mut stderr = String::new();
     let mut err = child.stderr.take().expect("piped");
     let reader = std::thread::spawn(move || {

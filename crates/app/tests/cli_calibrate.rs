@@ -1,5 +1,6 @@
 //! `armwright calibrate`: a joint's calibration fitted to measured points, the report, writing
-//! it into the scene, and the exit codes for bad input.
+//! it into the scene, and the exit codes for bad input; stepped on the simulated device from
+//! typed lines, and its deadband found by 1 µs steps while watching the simulated joint.
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod common;
@@ -309,4 +310,102 @@ fn stepping_is_refused_without_a_typed_yes_and_sends_nothing() {
     assert!(stderr.contains("CAUTION"), "{stderr}");
     assert!(stderr.contains("nothing was sent"), "{stderr}");
     assert!(!stderr.contains("holding ch0"), "{stderr}");
+}
+
+#[test]
+fn the_deadband_is_found_one_microsecond_at_a_time() {
+    use std::io::Write;
+    use std::process::{Command, Stdio};
+
+    // No backlash on the base: the simulated joint read is the link, which would add the gears'
+    // play to what the servo's own deadband lets through (a person watches the horn instead).
+    let mut scene = articulated5();
+    scene["arm"]["joints"][0]["servo"]["backlash_deg"] = serde_json::json!(0.0);
+    let file = scene_file("calibrate-deadband", &scene);
+    let out = std::path::Path::new(&file).with_file_name("deadband.armwright.json");
+    let mut child = Command::new(env!("CARGO_BIN_EXE_armwright"))
+        .args([
+            "calibrate",
+            &file,
+            "--joint",
+            "base",
+            "--simulated",
+            "--json",
+        ])
+        .arg("--write")
+        .arg(&out)
+        .stdin(Stdio::piped())
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .expect("the armwright binary runs");
+    let mut stdin = child.stdin.take().expect("stdin");
+    let stdout = child.stdout.take().expect("stdout");
+    let lines = common::lines_of(child.stderr.take().expect("stderr"));
+    let mut type_line = |text: &str| {
+        writeln!(stdin, "{text}").expect("the child reads its input");
+        stdin.flush().expect("flushed");
+    };
+    common::wait_for_line(&lines, "local codes and licensed practice");
+    type_line("yes");
+    // Two points to fit, the second after a step up: the servo comes to rest there at the
+    // lower edge of its deadband.
+    let mut read = angle_read(
+        common::wait_for_line(&lines, "simulated joint reads")
+            .last()
+            .unwrap(),
+    );
+    type_line(&format!("{read:.3}"));
+    common::wait_for_line(&lines, "point 1");
+    type_line("+150");
+    read = angle_read(
+        common::wait_for_line(&lines, "simulated joint reads")
+            .last()
+            .unwrap(),
+    );
+    type_line(&format!("{read:.3}"));
+    common::wait_for_line(&lines, "point 2");
+
+    // The search: Enter steps 1 µs; "moved" as soon as the simulated joint moves, as a person
+    // watching it would say (the joint reads to a thousandth of a degree; one µs is 0.18°).
+    type_line("deadband");
+    common::wait_for_line(&lines, "deadband search from");
+    let mut moves = 0;
+    let mut steps = 0;
+    while moves < 3 {
+        type_line("");
+        let now = angle_read(
+            common::wait_for_line(&lines, "simulated joint reads")
+                .last()
+                .unwrap(),
+        );
+        steps += 1;
+        assert!(steps < 40, "no movement after {steps} steps");
+        if (now - read).abs() > 0.05 {
+            moves += 1;
+            type_line("moved");
+            if moves < 3 {
+                common::wait_for_line(&lines, "now stepping");
+            }
+        }
+        read = now;
+    }
+    let said = common::wait_for_line(&lines, "deadband: the joint moved");
+    type_line("done");
+    let mut text = String::new();
+    std::io::Read::read_to_string(&mut { stdout }, &mut text).expect("stdout");
+    let status = child.wait().expect("the child ends");
+    assert!(status.success(), "{text}");
+    let report: Value = serde_json::from_str(&text).unwrap_or_else(|e| panic!("{e}: {text}"));
+    // The test arm's base servo has a 3 µs deadband: each reversal crosses it whole, give or
+    // take the 1 µs step (with the 0.5° backlash the link showed 7 µs: 3 µs and 2.8 µs of play).
+    let proposed = number(&report["deadband_us"]);
+    assert!((proposed - 3.0).abs() <= 1.0, "{proposed} µs; {said:?}");
+    let widths = report["deadband_widths_us"].as_array().expect("widths");
+    assert_eq!(widths.len(), 2);
+    let written: Value = serde_json::from_slice(&std::fs::read(&out).unwrap()).unwrap();
+    assert_eq!(
+        number(&written["arm"]["joints"][0]["servo"]["deadband_us"]),
+        proposed
+    );
 }

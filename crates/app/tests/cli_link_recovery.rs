@@ -11,7 +11,7 @@
 
 mod common;
 
-use common::device_sim::{DeviceSim, binary, signal};
+use common::device_sim::{DeviceSim, binary, signal, stream_child};
 use common::{lines_of, wait_for_line};
 use std::io::Read;
 use std::process::{Child, Stdio};
@@ -34,22 +34,7 @@ fn one_stream_at_a_time() -> std::sync::MutexGuard<'static, ()> {
 
 /// A stream of the sample to `device` at 50 Hz, with --yes and --json, as a child process.
 fn spawn_stream(device: &DeviceSim) -> (Child, mpsc::Receiver<String>) {
-    let mut child = binary()
-        .args([
-            "stream",
-            &common::sample_path(SAMPLE),
-            "--port",
-            &device.path,
-            "--rate",
-            "50",
-            "--yes",
-            "--json",
-        ])
-        .stdin(Stdio::null())
-        .stdout(Stdio::piped())
-        .stderr(Stdio::piped())
-        .spawn()
-        .expect("the armwright binary runs");
+    let mut child = stream_child(SAMPLE, device);
     let lines = lines_of(child.stderr.take().expect("piped"));
     (child, lines)
 }

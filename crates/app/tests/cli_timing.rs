@@ -11,9 +11,7 @@ use std::process::{Command, Output};
 const SAMPLES: [&str; 3] = ["pen-plotter", "peg-sorter", "spacer-stacker"];
 
 fn sample(name: &str) -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR"))
-        .join("../../sample-scenes")
-        .join(format!("{name}.armwright.json"))
+    armwright_test_support::samples::sample_scene(name)
 }
 
 fn armwright(args: &[&str]) -> Output {

@@ -6,41 +6,14 @@
 
 mod editor_common;
 
-use armwright::editor::{CAPTURE_KEY, Level, NO_INPUT_ARM, input_arm_pose, sample_scene};
-use armwright::scene::{InputDoc, InputPointDoc, Scene, pose_to_file_units, save};
+use armwright::editor::{CAPTURE_KEY, Level, NO_INPUT_ARM, input_arm_pose};
+use armwright::scene::{pose_to_file_units, save};
 use armwright_link::{READING_FULL_SCALE, SCRIPTED_AMPLITUDE};
 use egui::{Event, Modifiers};
 
-use editor_common::{EditorHarness, connect, file_editor, sample_editor, scratch, step_until};
-
-/// The sample arm with inputs 0–3 on its four joints: readings 1048 and 3048 (the ends of the
-/// simulated sweep) at the two positions given per joint, all inside the joints' limits.
-fn scene_with_inputs() -> Scene {
-    let mut scene = sample_scene();
-    let ends = [(-30.0, 30.0), (30.0, 90.0), (-130.0, -70.0), (-60.0, -20.0)];
-    scene.inputs = scene
-        .arm
-        .joints
-        .iter()
-        .zip(ends)
-        .enumerate()
-        .map(|(input, (joint, (low, high)))| InputDoc {
-            input: input as u32,
-            joint: joint.name.clone(),
-            points: vec![
-                InputPointDoc {
-                    reading: 1048,
-                    position: low,
-                },
-                InputPointDoc {
-                    reading: 3048,
-                    position: high,
-                },
-            ],
-        })
-        .collect();
-    scene
-}
+use editor_common::{
+    EditorHarness, connect, file_editor, sample_editor, scene_with_inputs, scratch, step_until,
+};
 
 fn press_capture_key(harness: &mut EditorHarness) {
     harness.event(Event::Key {

@@ -1,7 +1,8 @@
 //! What the dry run found wrong, on screen: a waypoint moved into the table gives a contact that
 //! both views shade and name (a hover region named by the contact's sentence) and the timeline
 //! lists and marks; a pick with no dwell gives an unsettled stop marked in the sequence with its
-//! resting error and listed on the timeline.
+//! resting error and listed on the timeline; each pick and place shows in the sequence the
+//! placement success `simulate --json` gives, and the retime tab the worst of them.
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod editor_common;
@@ -11,7 +12,7 @@ use egui_kittest::Harness;
 use egui_kittest::kittest::Queryable;
 
 use editor_common::{
-    assert_dry_run_ready, file_editor, sample_editor, sample_scene, wait_for_dry_run,
+    assert_dry_run_ready, click_tab, file_editor, sample_editor, sample_scene, wait_for_dry_run,
 };
 
 fn apply(harness: &mut Harness<'static, Editor>, command: Command) {
@@ -130,4 +131,69 @@ fn a_pick_with_no_dwell_is_marked_unsettled_in_the_sequence_and_on_the_timeline(
         harness.query_by_label(&sentence).is_some(),
         "no \"{sentence}\""
     );
+}
+
+#[test]
+fn each_pick_and_place_shows_the_placement_success_simulate_gives_and_retime_the_worst() {
+    let path = sample_scene("spacer-stacker");
+    let mut harness = file_editor("marks-placement", path.clone());
+    wait_for_dry_run(&mut harness);
+    harness.run_steps(2);
+    assert_dry_run_ready(harness.state(), "the spacer stacker");
+    let found = harness
+        .state()
+        .state
+        .dry_run_found()
+        .cloned()
+        .expect("marks");
+    // The same figures as `armwright simulate --json`, waypoint by waypoint (it rounds to 4
+    // decimals).
+    let output = std::process::Command::new(env!("CARGO_BIN_EXE_armwright"))
+        .args(["simulate", "--json"])
+        .arg(&path)
+        .output()
+        .expect("armwright simulate runs");
+    let report: serde_json::Value =
+        serde_json::from_slice(&output.stdout).expect("simulate prints JSON");
+    let waypoints = report["waypoints"].as_array().expect("waypoints");
+    assert_eq!(waypoints.len(), found.placements.len());
+    let mut picks_and_places = 0;
+    for (index, (entry, placement)) in waypoints.iter().zip(&found.placements).enumerate() {
+        match (entry["placement_success"].as_f64(), placement) {
+            (Some(share), Some(placement)) => {
+                picks_and_places += 1;
+                assert!(
+                    (share - placement.estimate.success).abs() <= 0.5e-4,
+                    "waypoint {index}: simulate {share}, editor {}",
+                    placement.estimate.success
+                );
+                // The sequence's row shows it (the first pick's row is in view; the list lays
+                // out only the rows in view).
+                let label = armwright::editor::placement_text(placement);
+                assert!(
+                    picks_and_places > 1 || harness.query_all_by_label(&label).next().is_some(),
+                    "no \"{label}\""
+                );
+            }
+            (None, None) => {}
+            (share, placement) => {
+                panic!("waypoint {index}: simulate {share:?}, editor {placement:?}")
+            }
+        }
+    }
+    assert!(picks_and_places >= 2, "{picks_and_places} picks and places");
+    // The retime tab's current timing names the worst of them.
+    let (worst, placement) = found.worst_placement().expect("a worst placement");
+    let share = report["worst_placement_success"].as_f64().expect("a worst");
+    assert!((share - placement.estimate.success).abs() <= 0.5e-4);
+    click_tab(&mut harness, "Retime");
+    harness.run_steps(2);
+    let name = &harness.state().state.scene.waypoints[worst].name;
+    let line = format!(
+        "current worst placement success: {:.0} % within {} mm, at waypoint {} \"{name}\"",
+        placement.estimate.success * 100.0,
+        placement.tolerance_mm,
+        worst + 1
+    );
+    assert!(harness.query_by_label(&line).is_some(), "no \"{line}\"");
 }

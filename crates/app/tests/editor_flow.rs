@@ -11,7 +11,8 @@ use armwright::approach::stream_plan;
 use armwright::editor::{
     EditorState, ReachStatus, RetimeRun, StopSource, StopState, StreamPhase, ToolsTab, ViewKind,
 };
-use armwright::scene::{build_arm, load, plan_of};
+use armwright::scene::{build_arm, load};
+use armwright::task::plan_of;
 use armwright_link::{ChannelOutput, DeviceMode, LinkState};
 use armwright_trajectory::CommandedMotion;
 use egui::{Key, Modifiers, vec2};
@@ -20,7 +21,8 @@ use egui_kittest::kittest::{NodeT, Queryable};
 use editor_common::{
     acknowledge_caution, assert_dry_run_ready, assert_stop_reached_link, click_tab, connect,
     device_mode, drag, hover_stop_button, link_state, open_through_dialog, press_stop_button_at,
-    sample_editor, step_until, stream_until_sending, wait_for_dry_run, wait_for_retime,
+    sample_editor, start_retime, step_until, stream_until_sending, wait_for_dry_run,
+    wait_for_retime,
 };
 
 #[test]
@@ -171,8 +173,7 @@ fn open_teach_retime_play_stream_stop_and_reset() {
     let (mut harness, requests, _dir) = sample_editor("whole-flow");
 
     // Open a bundled sample through the Open dialog's typed path.
-    let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
-        .join("../../sample-scenes/spacer-stacker.armwright.json");
+    let path = armwright_test_support::samples::sample_scene("spacer-stacker");
     let on_disk = load(&path).expect("the sample loads");
     open_through_dialog(&mut harness, &path);
     {
@@ -226,8 +227,7 @@ fn open_teach_retime_play_stream_stop_and_reset() {
     // Retime for the scene's own target on the worker, then apply.
     click_tab(&mut harness, "Retime");
     assert_eq!(harness.state().state.tools_tab, ToolsTab::Retime);
-    harness.get_by_label("Run retime").click();
-    harness.run_steps(2);
+    start_retime(&mut harness);
     wait_for_retime(&mut harness);
     let report = match &harness.state().state.retime.run {
         RetimeRun::Finished(report) => report.clone(),

@@ -1,7 +1,10 @@
 //! Follow and jog in the editor against the in-process simulated device: the switch waits for
 //! the caution, the device's arm follows a jogged joint and a nudged tool point, "Store pose"
 //! stores what the arm is doing, the emergency stop turns follow off and the device reports the
-//! stop, and turning follow off leaves the device holding.
+//! stop, and turning follow off leaves the device holding. Following the input arm (the
+//! simulated device's scripted readings on a scene that maps them), the device's arm tracks the
+//! input arm at the speed share set, holds when left, holds and says so when the readings stop,
+//! and stops on the emergency stop.
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod editor_common;
@@ -9,34 +12,18 @@ mod editor_common;
 use std::time::{Duration, Instant};
 
 use armwright::editor::{
-    ACKNOWLEDGE_LABEL, Command, Editor, FOLLOW_LABEL, FollowCommand, FollowPhase, JOG_ON_KEY,
-    StopState,
+    ACKNOWLEDGE_LABEL, Command, Editor, FOLLOW_INPUT_LABEL, FOLLOW_LABEL, FollowCommand,
+    FollowPhase, FollowSource, JOG_ON_KEY, Level, StopState,
 };
-use armwright_link::{DeviceMode, LinkState};
+use armwright::scene::save;
+use armwright_link::{DeviceMode, LinkState, ReadingsSource};
 use egui::{Event, Key, Modifiers};
 use egui_kittest::kittest::{NodeT, Queryable};
 
 use editor_common::{
-    EditorHarness, click_tab, device_mode, link_state, press_stop_key, sample_editor,
+    EditorHarness, click_tab, device_mode, file_editor, link_state, press_stop_key, sample_editor,
+    scene_with_inputs, scratch, step_until_slow,
 };
-
-/// Steps (a frame every 10 ms) until `done` holds; panics after 60 s naming `what`. The arm
-/// moves in real time at a low speed share and the machine may be busy, so the wait is
-/// generous.
-fn step_until_slow(harness: &mut EditorHarness, what: &str, done: impl Fn(&Editor) -> bool) {
-    let start = Instant::now();
-    while !done(harness.state()) {
-        assert!(
-            start.elapsed() < Duration::from_secs(60),
-            "timed out waiting for {what}: edited {:?}, device {:?}, follow {:?}",
-            harness.state().state.pose,
-            harness.state().state.device_pose,
-            harness.state().device().view().follow
-        );
-        std::thread::sleep(Duration::from_millis(10));
-        harness.step();
-    }
-}
 
 fn press(harness: &mut EditorHarness, key: Key, modifiers: Modifiers) {
     harness.event(Event::Key {
@@ -145,8 +132,9 @@ fn follow_jog_store_stop_and_leave() {
     let stored = harness.state().state.pose[0];
     assert!(
         (stored - target).abs() > 1f64.to_radians() && stored >= before - 1e-6,
-        "stored {stored}, the edited pose was {target}, from {before}; follow {:?}",
-        harness.state().device().view().follow
+        "stored {stored}, the edited pose was {target}, from {before}; follow {:?}; messages {:?}",
+        harness.state().device().view().follow,
+        harness.state().state.messages
     );
     share(&mut harness, 100.0);
     // Jog on again, then nudge the tool point up 10 mm (Shift: 10 tool steps of 1 mm).
@@ -203,5 +191,188 @@ fn follow_jog_store_stop_and_leave() {
         editor.device().view().follow.phase == FollowPhase::Off
             && link_state(editor) == Some(LinkState::Idle)
     });
+    // The hold goes out on the link's thread after the run ended: wait for the device's word.
+    step_until_slow(&mut harness, "the device holding", |editor| {
+        device_mode(editor) == Some(DeviceMode::Keeping)
+    });
+    assert!(!harness.state().state.follow.on);
+}
+
+/// The largest difference (rad or m) between the simulated device's arm and the input arm over
+/// the joints the scene maps (all four of the sample's).
+fn device_from_input_arm(editor: &Editor) -> Option<f64> {
+    let device = editor.state.device_pose.as_ref()?;
+    let input = editor.state.input_pose.as_ref()?;
+    Some(
+        device
+            .iter()
+            .zip(input)
+            .map(|(a, b)| (a - b).abs())
+            .fold(0.0, f64::max),
+    )
+}
+
+/// Plugs the simulated device's analog inputs in (the editor's own scripted sweep) or out.
+fn plug_inputs(editor: &Editor, plugged: bool) {
+    let device = editor
+        .device()
+        .simulated_device()
+        .expect("simulated device");
+    device
+        .lock()
+        .expect("device")
+        .set_readings(plugged.then_some(ReadingsSource::Scripted {
+            inputs: 6,
+            period: Duration::from_secs(8),
+        }));
+}
+
+fn switch_input_follow(harness: &mut EditorHarness) {
+    harness.get_by_label(FOLLOW_INPUT_LABEL).click_accesskit();
+    harness.run_steps(2);
+}
+
+#[test]
+fn follow_the_input_arm_then_leave_lose_readings_and_stop() {
+    let dir = scratch("follow-inputs-scene");
+    let path = dir.join("inputs.armwright.json");
+    save(&scene_with_inputs(), &path).expect("saves");
+    let mut harness = file_editor("follow-inputs", path);
+    harness.get_by_label("Connect").click_accesskit();
+    step_until_slow(&mut harness, "the input arm", |editor| {
+        link_state(editor) == Some(LinkState::Idle) && editor.state.input_pose.is_some()
+    });
+    click_tab(&mut harness, "Follow");
+    assert!(
+        !harness.state().state.follow.on,
+        "off when the editor opens"
+    );
+    assert!(
+        harness
+            .get_by_label(FOLLOW_INPUT_LABEL)
+            .accesskit_node()
+            .is_disabled(),
+        "the switch waits for the caution"
+    );
+    harness.get_by_label(ACKNOWLEDGE_LABEL).click_accesskit();
+    harness.run_steps(2);
+
+    // Follow the input arm at full share: the device's arm comes onto it (each input turns
+    // round at the ends of its sweep, where the arm catches up) while the edited pose stays.
+    share(&mut harness, 100.0);
+    let edited = harness.state().state.pose.clone();
+    switch_input_follow(&mut harness);
+    assert!(harness.state().state.follow.on);
+    assert_eq!(harness.state().state.follow.source, FollowSource::InputArm);
+    step_until_slow(&mut harness, "following the input arm", |editor| {
+        let view = &editor.device().view().follow;
+        view.phase == FollowPhase::Following && view.inputs
+    });
+    assert!(
+        harness
+            .query_by_label("the device follows the input arm at 100 % of the joints' limits")
+            .is_some()
+    );
+    // Each joint on its own: the inputs sweep a sixth of a turn apart, so they never rest
+    // together, and a busy machine's slow frames add their lag to a moving one.
+    let caught = std::cell::RefCell::new(vec![false; edited.len()]);
+    step_until_slow(&mut harness, "each joint on the input arm", |editor| {
+        let mut caught = caught.borrow_mut();
+        if let (Some(device), Some(input)) = (&editor.state.device_pose, &editor.state.input_pose) {
+            for (joint, (a, b)) in device.iter().zip(input).enumerate() {
+                caught[joint] |= (a - b).abs() < 5f64.to_radians();
+            }
+        }
+        caught.iter().all(|&on| on)
+    });
+    assert_eq!(harness.state().state.pose, edited, "the edited pose stays");
+
+    // At 1 % the cap binds: the input arm sweeps away faster than the arm may follow.
+    share(&mut harness, 1.0);
+    step_until_slow(&mut harness, "the share in use", |editor| {
+        (editor.device().view().follow.share - 0.01).abs() < 1e-9
+    });
+    step_until_slow(
+        &mut harness,
+        "the arm left behind by the input arm",
+        |editor| device_from_input_arm(editor).is_some_and(|off| off > 10f64.to_radians()),
+    );
+    share(&mut harness, 100.0);
+
+    // Leaving: the arm comes to rest and the device holds it.
+    switch_input_follow(&mut harness);
+    assert!(!harness.state().state.follow.on);
+    step_until_slow(&mut harness, "follow of the input arm left", |editor| {
+        editor.device().view().follow.phase == FollowPhase::Off
+            && link_state(editor) == Some(LinkState::Idle)
+    });
     assert_eq!(device_mode(harness.state()), Some(DeviceMode::Keeping));
+
+    // The readings stop while following: the arm comes to rest, the device holds, and the
+    // editor says why and turns the switch off.
+    switch_input_follow(&mut harness);
+    step_until_slow(&mut harness, "following the input arm again", |editor| {
+        editor.device().view().follow.phase == FollowPhase::Following
+    });
+    plug_inputs(harness.state(), false);
+    step_until_slow(&mut harness, "the hold for want of readings", |editor| {
+        !editor.state.follow.on
+    });
+    assert!(
+        harness.state().state.messages.iter().any(|message| {
+            message.level == Level::Error
+                && message
+                    .text
+                    .starts_with("no readings from the input arm for")
+        }),
+        "{:?}",
+        harness.state().state.messages
+    );
+    step_until_slow(&mut harness, "the device holding", |editor| {
+        editor.device().view().follow.phase == FollowPhase::Off
+            && link_state(editor) == Some(LinkState::Idle)
+            && device_mode(editor) == Some(DeviceMode::Keeping)
+    });
+    let held = harness
+        .state()
+        .state
+        .device_pose
+        .clone()
+        .expect("device arm");
+    let since = Instant::now();
+    while since.elapsed() < Duration::from_millis(500) {
+        std::thread::sleep(Duration::from_millis(10));
+        harness.step();
+    }
+    let now = harness
+        .state()
+        .state
+        .device_pose
+        .clone()
+        .expect("device arm");
+    for (a, b) in held.iter().zip(&now) {
+        assert!((a - b).abs() < 0.5f64.to_radians(), "{held:?} → {now:?}");
+    }
+
+    // Plugged in again, follow again; the emergency stop ends it and the device latches.
+    plug_inputs(harness.state(), true);
+    switch_input_follow(&mut harness);
+    step_until_slow(
+        &mut harness,
+        "following after the readings came back",
+        |editor| editor.device().view().follow.phase == FollowPhase::Following,
+    );
+    press_stop_key(&mut harness);
+    step_until_slow(&mut harness, "the device stopped", |editor| {
+        device_mode(editor) == Some(DeviceMode::Stopped)
+            && editor.device().view().follow.phase == FollowPhase::Off
+    });
+    assert!(!harness.state().state.follow.on);
+    assert!(
+        harness
+            .get_by_label(FOLLOW_INPUT_LABEL)
+            .accesskit_node()
+            .is_disabled(),
+        "no follow while the stop is latched"
+    );
 }

@@ -11,7 +11,7 @@ use armwright::scene::{Scene, load};
 use egui_kittest::Harness;
 use egui_kittest::kittest::Queryable;
 
-use editor_common::{click_tab, file_editor, scratch, wait_for_retime};
+use editor_common::{click_tab, file_editor, scratch, start_retime, wait_for_retime};
 
 /// The pen-plotter sample with its sequence repeated `times` times (names made unique), written
 /// to a scratch folder: a longer sequence makes a retime take long enough to watch and cancel.
@@ -62,8 +62,8 @@ fn retime_for_a_target_apply_and_undo() {
     assert_eq!(harness.state().state.retime.max_overshoot_mm, 0.4);
     assert_eq!(harness.state().state.retime.torque_share_pct, 45.0);
 
-    harness.get_by_label("Run retime").click();
-    harness.run_steps(2);
+    start_retime(&mut harness);
+    harness.step();
     assert!(
         harness.query_by_label_contains("retiming…").is_some(),
         "no progress bar while running: {:?}",
@@ -140,8 +140,8 @@ fn cancel_stops_the_retime_and_leaves_the_scene() {
     let path = long_sample("retime-cancel", 6);
     let original: Scene = load(&path).unwrap();
     let mut harness = editor_on("retime-cancel", path);
-    harness.get_by_label("Run retime").click();
-    harness.run_steps(2);
+    start_retime(&mut harness);
+    harness.step();
     assert!(harness.state().state.retime.run.is_running());
     harness.get_by_label("Cancel").click();
     harness.step();
@@ -173,8 +173,7 @@ fn cancel_stops_the_retime_and_leaves_the_scene() {
 fn a_result_for_a_changed_scene_cannot_be_applied() {
     let path = common::sample("pen-plotter.armwright.json");
     let mut harness = editor_on("retime-stale", path);
-    harness.get_by_label("Run retime").click();
-    harness.run_steps(1);
+    start_retime(&mut harness);
     // The scene changes while the retime runs: a waypoint is stored.
     harness.get_by_label("Store pose").click();
     harness.run_steps(1);
@@ -224,8 +223,8 @@ fn every_sample_retimes_for_its_own_target() {
         let path = common::sample(name);
         let original: Scene = load(&path).unwrap();
         let mut harness = editor_on(&format!("retime-{name}"), path);
-        harness.get_by_label("Run retime").click();
-        harness.run_steps(2);
+        start_retime(&mut harness);
+        harness.step();
         wait_for_retime(&mut harness);
         let RetimeRun::Finished(report) = &harness.state().state.retime.run else {
             panic!("{name}: {:?}", harness.state().state.retime.run);

@@ -1,11 +1,10 @@
 //! Starts the real `armwright` binary on a sample scene under a virtual X screen, takes a PNG of
 //! the screen and checks that it is not blank. The PNG stays under `target/` for a person to
 //! look at. Skips with a notice when `xvfb-run` or ImageMagick is absent, or fails
-//! under `ARMWRIGHT_STRICT=1` (`tests/outside_tool.rs`).
+//! under `ARMWRIGHT_STRICT=1` (`armwright_test_support::outside_tool`).
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
-#[path = "../../../tests/outside_tool.rs"]
-mod outside_tool;
+use armwright_test_support::outside_tool;
 
 use std::path::{Path, PathBuf};
 use std::process::Command;
@@ -16,8 +15,7 @@ fn on_path(tool: &str) -> bool {
 }
 
 fn sample_scene_file() -> Option<PathBuf> {
-    let path = Path::new(env!("CARGO_MANIFEST_DIR"))
-        .join("../../sample-scenes/pen-plotter.armwright.json");
+    let path = armwright_test_support::samples::sample_scene("pen-plotter");
     path.is_file().then_some(path)
 }
 

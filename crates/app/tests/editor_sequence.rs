@@ -7,26 +7,12 @@
 
 mod editor_common;
 
-use std::process::Command as Process;
-
 use armwright::scene::MoveKind;
-use egui::Key;
 use egui_kittest::kittest::Queryable;
 
-use editor_common::{EditorHarness, sample_editor, settle};
-
-/// Types `mm` into the tool point's `axis` field ("x", "y" or "z") and runs two frames.
-fn type_position(harness: &mut EditorHarness, axis: &str, mm: f64) {
-    harness
-        .get_by_label(&format!("tool point {axis} (mm)"))
-        .set_value_accesskit(mm);
-    harness.run_steps(2);
-}
-
-fn store(harness: &mut EditorHarness) {
-    harness.get_by_label("Store pose").click();
-    harness.run_steps(2);
-}
+use editor_common::{
+    EditorHarness, armwright_command, sample_editor, save_as_with_enter, store, type_position,
+};
 
 #[test]
 fn a_new_pick_and_place_is_taught_by_typed_positions_saved_and_checked() {
@@ -84,49 +70,19 @@ fn a_new_pick_and_place_is_taught_by_typed_positions_saved_and_checked() {
 
     // Save through the path box, with Enter.
     let path = dir.join("taught.armwright.json");
-    harness.get_by_label("Save as…").click();
-    harness.run_steps(3);
-    harness
-        .get_by_label("scene path")
-        .type_text(&path.display().to_string());
-    harness.run_steps(2);
-    harness.key_press(Key::Enter);
-    harness.run_steps(1);
-    settle(&mut harness);
-    assert_eq!(
-        harness.state().state.file_path.as_deref(),
-        Some(path.as_path())
-    );
-    assert!(!harness.state().state.is_dirty());
+    save_as_with_enter(&mut harness, &path);
 
     // The taught file passes `check`. Its gripper stops were stored with the dwell of the
     // waypoint before them, too short for the arm to settle before the gripper acts, so the dry
     // run must say so; retiming adds the dwell, and the retimed file passes the dry run.
-    let run = |args: &[&str]| {
-        Process::new(env!("CARGO_BIN_EXE_armwright"))
-            .args(args)
-            .output()
-            .expect("armwright runs")
-    };
-    let text = |output: &std::process::Output| {
-        format!(
-            "{}{}",
-            String::from_utf8_lossy(&output.stdout),
-            String::from_utf8_lossy(&output.stderr)
-        )
-    };
     let file = path.display().to_string();
-    let checked = run(&["check", &file]);
-    assert!(checked.status.success(), "check: {}", text(&checked));
-    let simulated = run(&["simulate", &file]);
-    assert!(
-        simulated.status.success() || text(&simulated).contains("has settled"),
-        "simulate: {}",
-        text(&simulated)
-    );
+    let (ok, text) = armwright_command(&["check", &file]);
+    assert!(ok, "check: {text}");
+    let (ok, text) = armwright_command(&["simulate", &file]);
+    assert!(ok || text.contains("has settled"), "simulate: {text}");
     let retimed_path = dir.join("taught-retimed.armwright.json");
     let retimed_file = retimed_path.display().to_string();
-    let retimed = run(&[
+    let (ok, text) = armwright_command(&[
         "retime",
         &file,
         "--max-overshoot",
@@ -134,9 +90,9 @@ fn a_new_pick_and_place_is_taught_by_typed_positions_saved_and_checked() {
         "--write",
         &retimed_file,
     ]);
-    assert!(retimed.status.success(), "retime: {}", text(&retimed));
-    let simulated = run(&["simulate", &retimed_file]);
-    assert!(simulated.status.success(), "simulate: {}", text(&simulated));
+    assert!(ok, "retime: {text}");
+    let (ok, text) = armwright_command(&["simulate", &retimed_file]);
+    assert!(ok, "simulate: {text}");
 }
 
 fn names(harness: &EditorHarness) -> Vec<String> {

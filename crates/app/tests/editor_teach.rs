@@ -7,36 +7,15 @@
 
 mod editor_common;
 
-use std::process::Command as Process;
-
-use armwright::editor::{Editor, MapKey, ReachStatus, RetimeReport, RetimeRun, ViewKind};
+use armwright::editor::{MapKey, RetimeReport, RetimeRun, ViewKind};
 use armwright::scene::{GripperState, MoveKind, load};
-use egui::Key;
 use egui_kittest::kittest::Queryable;
 
 use editor_common::{
-    EditorHarness, assert_dry_run_ready, click_tab, drag, sample_editor, settle, wait_for_dry_run,
+    EditorHarness, armwright_command, assert_dry_run_ready, assert_reached, click_tab, drag,
+    sample_editor, save_as_with_enter, start_retime, store, type_position, wait_for_dry_run,
     wait_for_reach_maps, wait_for_retime,
 };
-
-/// Types `mm` into the tool point's `axis` field ("x", "y" or "z") and runs two frames; the
-/// arm must reach it.
-fn type_position(harness: &mut EditorHarness, axis: &str, mm: f64) {
-    harness
-        .get_by_label(&format!("tool point {axis} (mm)"))
-        .set_value_accesskit(mm);
-    harness.run_steps(2);
-    assert_reached(harness.state(), &format!("typed {axis} = {mm} mm"));
-}
-
-fn assert_reached(editor: &Editor, what: &str) {
-    assert_eq!(
-        editor.state.reach,
-        ReachStatus::Reached,
-        "{what}: {:?}",
-        editor.state.reach_problems()
-    );
-}
 
 /// Drags the tool point in `kind`'s view to a spot the view's shading marks reachable at the
 /// held tool angle, `from_mm` to `to_mm` away from where it is (in the view's plane): the arm
@@ -94,11 +73,6 @@ fn drag_into_shading(harness: &mut EditorHarness, kind: ViewKind, from_mm: f64, 
     );
 }
 
-fn store(harness: &mut EditorHarness) {
-    harness.get_by_label("Store pose").click();
-    harness.run_steps(2);
-}
-
 fn gripper(harness: &mut EditorHarness, state: GripperState) {
     let word = match state {
         GripperState::Open => "open",
@@ -116,8 +90,7 @@ fn tool_mm(harness: &EditorHarness) -> [f64; 3] {
 
 /// Runs a retime at the target in the form and returns its report.
 fn retime(harness: &mut EditorHarness) -> RetimeReport {
-    harness.get_by_label("Run retime").click();
-    harness.run_steps(2);
+    start_retime(harness);
     wait_for_retime(harness);
     match &harness.state().state.retime.run {
         RetimeRun::Finished(report) => (**report).clone(),
@@ -240,39 +213,14 @@ fn a_ten_waypoint_pick_and_place_is_taught_dry_run_retimed_saved_and_checked() {
 
     // Save through the path box, with Enter.
     let path = dir.join("taught-ten.armwright.json");
-    harness.get_by_label("Save as…").click();
-    harness.run_steps(3);
-    harness
-        .get_by_label("scene path")
-        .type_text(&path.display().to_string());
-    harness.run_steps(2);
-    harness.key_press(Key::Enter);
-    harness.run_steps(1);
-    settle(&mut harness);
-    assert_eq!(
-        harness.state().state.file_path.as_deref(),
-        Some(path.as_path())
-    );
-    assert!(!harness.state().state.is_dirty());
+    save_as_with_enter(&mut harness, &path);
     let saved = load(&path).expect("the saved file loads");
     assert_eq!(saved.waypoints.len(), 10);
 
     // The command line agrees: the file checks and its dry run passes.
-    let run = |args: &[&str]| {
-        let output = Process::new(env!("CARGO_BIN_EXE_armwright"))
-            .args(args)
-            .output()
-            .expect("armwright runs");
-        let text = format!(
-            "{}{}",
-            String::from_utf8_lossy(&output.stdout),
-            String::from_utf8_lossy(&output.stderr)
-        );
-        (output.status.success(), text)
-    };
     let file = path.display().to_string();
-    let (ok, text) = run(&["check", &file]);
+    let (ok, text) = armwright_command(&["check", &file]);
     assert!(ok, "check: {text}");
-    let (ok, text) = run(&["simulate", &file]);
+    let (ok, text) = armwright_command(&["simulate", &file]);
     assert!(ok, "simulate: {text}");
 }

@@ -6,7 +6,8 @@
 mod editor_common;
 
 use armwright::editor::{Command, DryRunStatus, Editor, PlaybackCommand, Quantity, WaypointField};
-use armwright::scene::{Arrival, build_arm, plan_of};
+use armwright::scene::{Arrival, build_arm};
+use armwright::task::plan_of;
 use armwright_trajectory::CommandedMotion;
 use egui::{Pos2, pos2};
 use egui_kittest::Harness;

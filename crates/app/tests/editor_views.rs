@@ -1,19 +1,54 @@
 //! The two views in the whole window: a drag in the top view turns the arm's base, but the side
-//! view holds its plane until the drag ends and turns then; a double-click fits the arm again
-//! after a zoom.
+//! view holds its plane, its shading and its title until the drag ends and turns then (keys
+//! turn it at once); a double-click fits the arm again after a zoom.
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
 mod editor_common;
 
 use armwright::editor::ViewKind;
-use egui::{Event, Modifiers, PointerButton, vec2};
+use armwright_kinematics::MapView;
+use egui::{Event, Modifiers, PointerButton, Shape, vec2};
 
-use editor_common::sample_editor;
+use editor_common::{sample_editor, wait_for_reach_maps};
+
+/// The yaw (rad) of the side view's newest shaded reach map.
+fn side_map_yaw(harness: &editor_common::EditorHarness) -> f64 {
+    match harness
+        .state()
+        .reach_layer(ViewKind::Side)
+        .map(|layer| layer.key.view)
+    {
+        Some(MapView::Side { yaw }) => yaw,
+        other => panic!("no side-view map: {other:?}"),
+    }
+}
+
+/// Whether the last frame painted `words` (a view's title, say).
+fn painted(harness: &editor_common::EditorHarness, words: &str) -> bool {
+    fn any(shape: &Shape, words: &str) -> bool {
+        match shape {
+            Shape::Vec(shapes) => shapes.iter().any(|shape| any(shape, words)),
+            Shape::Text(text) => text.galley.text() == words,
+            _ => false,
+        }
+    }
+    harness
+        .output()
+        .shapes
+        .iter()
+        .any(|clipped| any(&clipped.shape, words))
+}
+
+fn side_title(yaw: f64) -> String {
+    format!("Side view at base yaw {:.1}°", yaw.to_degrees())
+}
 
 #[test]
 fn the_side_view_holds_its_plane_while_dragging_and_turns_after() {
     let (mut harness, _requests, _dir) = sample_editor("views-hold");
+    wait_for_reach_maps(&mut harness);
     let yaw_before = harness.state().state.side_view_yaw();
+    assert!(painted(&harness, &side_title(yaw_before)));
     let from = harness
         .state()
         .camera(ViewKind::Top)
@@ -34,16 +69,24 @@ fn the_side_view_holds_its_plane_while_dragging_and_turns_after() {
         harness.hover_at(from + (to - from) * (i as f32 / 10.0));
         harness.step();
     }
-    let live = harness.state().state.side_view_yaw();
+    // The sample's arm is articulated: its base joint is the first.
+    let base = harness.state().state.pose[0];
     assert!(
-        (live - yaw_before).abs() > 0.05,
-        "the base turned: {yaw_before} → {live} rad"
+        (base - yaw_before).abs() > 0.05,
+        "the base turned: {yaw_before} → {base} rad"
     );
+    // Still pressed: the side view, its shading and its title keep the plane the drag began in,
+    // however long the maps take.
+    wait_for_reach_maps(&mut harness);
+    let state = &harness.state().state;
+    assert!(state.side_view_held());
     assert_eq!(
-        harness.state().camera(ViewKind::Side).held_yaw(),
-        Some(yaw_before),
-        "the side view keeps its plane during the drag"
+        state.side_view_yaw(),
+        yaw_before,
+        "the side view keeps its plane"
     );
+    assert!((side_map_yaw(&harness) - yaw_before).abs() < 0.5f64.to_radians());
+    assert!(painted(&harness, &side_title(yaw_before)));
     harness.event(Event::PointerButton {
         pos: to,
         button: PointerButton::Primary,
@@ -51,7 +94,29 @@ fn the_side_view_holds_its_plane_while_dragging_and_turns_after() {
         modifiers: Modifiers::NONE,
     });
     harness.run_steps(2);
-    assert_eq!(harness.state().camera(ViewKind::Side).held_yaw(), None);
+    // Released: the side view turns to the base, and its shading follows.
+    let state = &harness.state().state;
+    assert!(!state.side_view_held());
+    assert_eq!(state.side_view_yaw(), state.pose[0]);
+    wait_for_reach_maps(&mut harness);
+    assert!((side_map_yaw(&harness) - base).abs() < 0.5f64.to_radians());
+    assert!(painted(&harness, &side_title(base)));
+}
+
+#[test]
+fn keys_turn_the_side_view_at_once() {
+    let (mut harness, _requests, _dir) = sample_editor("views-keys");
+    let yaw_before = harness.state().state.side_view_yaw();
+    // Ten nudges sideways (Shift: 10 mm each) with no button down: the side view turns with
+    // the base as it goes.
+    for _ in 0..10 {
+        harness.key_press_modifiers(Modifiers::SHIFT, egui::Key::ArrowUp);
+        harness.step();
+        let state = &harness.state().state;
+        assert!(!state.side_view_held());
+        assert_eq!(state.side_view_yaw(), state.pose[0]);
+    }
+    assert!((harness.state().state.side_view_yaw() - yaw_before).abs() > 0.05);
 }
 
 #[test]

@@ -5,8 +5,7 @@
 
 mod common;
 
-#[path = "../../../tests/reference/support.rs"]
-mod reference;
+use armwright_test_support::reference;
 
 use std::path::PathBuf;
 use std::process::Command;
@@ -210,7 +209,10 @@ fn every_sample_validates_against_the_schema_and_broken_scenes_do_not() {
              .venv/bin/pip install -r tests/reference/requirements.txt`",
             python.display()
         );
-        reference::outside_tool::cannot_run("the JSON Schema check of the samples", &why);
+        armwright_test_support::outside_tool::cannot_run(
+            "the JSON Schema check of the samples",
+            &why,
+        );
         return;
     }
     let dir = scratch_dir("schema");

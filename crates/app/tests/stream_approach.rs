@@ -6,10 +6,9 @@
 //! pose.
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
-use std::path::Path;
-
 use armwright::approach::{StartFrom, rest_pose, stream_plan};
-use armwright::scene::{Scene, build_arm, load, plan_of};
+use armwright::scene::{Scene, build_arm, load};
+use armwright::task::plan_of;
 use armwright_kinematics::Arm;
 use armwright_link::{
     ChannelOutput, ChannelValues, DeviceInfo, SimDevice, SimDeviceConfig, arm_setpoint,
@@ -18,8 +17,7 @@ use proptest::prelude::*;
 
 /// A sample with a gripper, so its channel is covered too.
 fn sample() -> (Scene, Arm) {
-    let path = Path::new(env!("CARGO_MANIFEST_DIR"))
-        .join("../../sample-scenes/spacer-stacker.armwright.json");
+    let path = armwright_test_support::samples::sample_scene("spacer-stacker");
     let scene = load(&path).expect("the sample loads");
     let arm = build_arm(&scene.arm).expect("the sample's arm builds");
     (scene, arm)

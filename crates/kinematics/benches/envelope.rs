@@ -1,8 +1,7 @@
 //! Reach envelope and torque-utilisation maps, 200 × 200 cells (budget: 50 ms on one core).
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
-#[path = "../tests/common/mod.rs"]
-mod common;
+use armwright_test_support::arms as common;
 
 use armwright_kinematics::{MapOptions, MapView, reach_map};
 use criterion::{Criterion, criterion_group, criterion_main};

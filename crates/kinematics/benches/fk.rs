@@ -2,8 +2,7 @@
 //! random 6-joint chain beside the `k` crate's (crates.io `k` 0.32) on the same chain.
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
-#[path = "../tests/common/mod.rs"]
-mod common;
+use armwright_test_support::arms as common;
 #[path = "common/k_chain.rs"]
 mod k_chain;
 

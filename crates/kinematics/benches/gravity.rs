@@ -1,11 +1,12 @@
 //! Statics and dynamics of the 5-joint articulated arm: gravity torques (budget: 200 ns),
-//! inverse dynamics, and the accuracy budget.
+//! the heaviest payload of a pose, inverse dynamics, and the accuracy budget.
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
-#[path = "../tests/common/mod.rs"]
-mod common;
+use armwright_test_support::arms as common;
 
-use armwright_kinematics::{accuracy_budget, gravity_torques, inverse_dynamics, torque_use};
+use armwright_kinematics::{
+    accuracy_budget, gravity_torques, inverse_dynamics, max_payload, torque_use,
+};
 use criterion::{Criterion, criterion_group, criterion_main};
 use std::hint::black_box;
 
@@ -28,6 +29,13 @@ fn bench_gravity(c: &mut Criterion) {
             next = (next + 1) % poses.len();
             gravity_torques(black_box(&arm), black_box(&poses[next]), black_box(0.05))
                 .map(|efforts| torque_use(&arm, &efforts, 0.5))
+        })
+    });
+    // The editor recomputes it on the UI thread at every pose change (a drag).
+    c.bench_function("max_payload_5_joints", |b| {
+        b.iter(|| {
+            next = (next + 1) % poses.len();
+            max_payload(black_box(&arm), black_box(&poses[next]), black_box(0.5))
         })
     });
     c.bench_function("inverse_dynamics_5_joints", |b| {

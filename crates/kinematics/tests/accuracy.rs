@@ -2,7 +2,7 @@
 //! kinematics of the perturbed pose.
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
-mod common;
+use armwright_test_support::arms as common;
 
 use armwright_kinematics::{
     Arm, ArmDescription, ArmType, ChainDims, JointKind, JointPlacement, KinematicsError,

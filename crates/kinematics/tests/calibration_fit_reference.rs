@@ -4,11 +4,10 @@
 //!
 //! The comparison needs no Python and always runs. A second check regenerates the fixture and
 //! compares it with the committed one; when Python or NumPy is missing it skips with a notice, or fails
-//! under `ARMWRIGHT_STRICT=1` (`tests/outside_tool.rs`).
+//! under `ARMWRIGHT_STRICT=1` (`armwright_test_support::outside_tool`).
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
-#[path = "../../../tests/reference/support.rs"]
-mod reference;
+use armwright_test_support::reference;
 
 use armwright_kinematics::{CalibrationFitOptions, CalibrationReading, FitShape, fit_calibration};
 use serde_json::Value;

@@ -7,7 +7,7 @@
 //! Collision Detection* (2005), §5.1.9, written out below.
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
-mod common;
+use armwright_test_support::arms as common;
 
 use armwright_kinematics::{
     ArmShape, Obstacle, Other, Pair, forward, pair_distance, pair_distance_bound, pose_proximities,

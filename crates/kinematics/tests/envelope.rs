@@ -1,7 +1,7 @@
 //! Reach envelope and torque-utilisation maps (`src/envelope.rs`).
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
-mod common;
+use armwright_test_support::arms as common;
 
 use armwright_kinematics::{
     Arm, ArmDescription, ArmType, ChainDims, DhRow, IkOptions, IkTarget, JointKind, MapOptions,

@@ -1,7 +1,7 @@
 //! Forward kinematics and Jacobians of the built-in arm types and general chains.
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
-mod common;
+use armwright_test_support::arms as common;
 
 use armwright_kinematics::{
     Arm, ArmDescription, ArmType, ChainDims, DhRow, JointKind, KinematicsError, ToolAngles,

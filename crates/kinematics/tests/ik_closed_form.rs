@@ -2,7 +2,7 @@
 //! (`src/ik/closed_form_*.rs`, `src/ik/planar_two_link.rs`).
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
-mod common;
+use armwright_test_support::arms as common;
 
 use armwright_kinematics::{
     Arm, ArmDescription, ArmType, ArticulatedDims, IkError, IkOptions, IkTarget, MassProperties,

@@ -2,7 +2,7 @@
 //! forward kinematics.
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
-mod common;
+use armwright_test_support::arms as common;
 
 use armwright_kinematics::{
     IkError, IkOptions, IkTarget, IkTask, ToolAngles, solve_ik, solve_ik_frame, tool_pose,

@@ -1,7 +1,7 @@
 //! The search over free tool angles (`src/ik/free_angle_search.rs`).
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
-mod common;
+use armwright_test_support::arms as common;
 
 use armwright_kinematics::{
     Arm, IkError, IkOptions, IkTarget, solve_ik, solve_ik_free_angles, tool_pose,

@@ -1,7 +1,7 @@
 //! The one-pass diagonal of the mass matrix equals the per-joint Newton–Euler value.
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
-mod common;
+use armwright_test_support::arms as common;
 
 use armwright_kinematics::{joint_inertia, joint_inertias};
 use common::{Seeded, articulated, random_chain, scara};

@@ -1,7 +1,7 @@
 //! The heaviest payload, checked by hand on a two-link arm (τ = m·g·r; common practice).
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
-mod common;
+use armwright_test_support::arms as common;
 
 use armwright_kinematics::{
     Arm, ArmDescription, ArmType, ChainDims, JointKind, JointPlacement, MassProperties,

@@ -4,12 +4,12 @@
 //!
 //! The comparison needs no Python and always runs. A second check regenerates the fixtures
 //! with the Python script and compares them with the committed ones; when Python or the library
-//! is missing it skips with a notice, or fails under `ARMWRIGHT_STRICT=1` (`tests/outside_tool.rs`).
+//! is missing it skips with a notice, or fails under `ARMWRIGHT_STRICT=1`
+//! (`armwright_test_support::outside_tool`).
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
-mod common;
-#[path = "../../../tests/reference/support.rs"]
-mod reference;
+use armwright_test_support::arms as common;
+use armwright_test_support::reference;
 
 use armwright_kinematics::{
     Arm, ArmDescription, ArmType, ChainDims, JointKind, JointPlacement, MassProperties, forward,

@@ -1,7 +1,7 @@
 //! Torque use: the share of each servo's derated rating a set of efforts needs.
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
-mod common;
+use armwright_test_support::arms as common;
 
 use armwright_kinematics::{JointEfforts, gravity_torques, torque_use};
 use common::{articulated, scara};

@@ -5,17 +5,17 @@
 use std::hint::black_box;
 
 use armwright_link::{ChannelValues, DeviceLine, HostLine, HostMessage};
+use armwright_test_support::seeded::Lcg32;
 use criterion::{Criterion, criterion_group, criterion_main};
 
 /// Six pulse widths between 1000 and 2000 µs from a fixed linear congruential sequence.
 fn seeded_setpoints(seed: u32, count: usize) -> Vec<ChannelValues> {
-    let mut state = seed;
+    let mut rng = Lcg32::new(seed);
     (0..count)
         .map(|_| {
             let mut values = [0u16; 6];
             for value in &mut values {
-                state = state.wrapping_mul(1_664_525).wrapping_add(1_013_904_223);
-                *value = 1000 + (state >> 16) as u16 % 1001;
+                *value = 1000 + (rng.next_u32() >> 16) as u16 % 1001;
             }
             ChannelValues::from_slice(&values).expect("six values")
         })

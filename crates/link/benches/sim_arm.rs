@@ -6,8 +6,7 @@
 use std::hint::black_box;
 use std::time::Duration;
 
-#[path = "../tests/common/invented_arm.rs"]
-mod invented_arm;
+use armwright_test_support::invented_arm;
 
 use armwright_kinematics::{Arm, MassProperties};
 use armwright_link::{HostLine, HostMessage, SimDevice, SimDeviceConfig, arm_setpoint};

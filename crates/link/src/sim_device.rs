@@ -194,6 +194,12 @@ impl SimDevice {
         self.readings.rate_hz
     }
 
+    /// Plugs another source into the analog inputs, or unplugs them (`None`: readings lines
+    /// stop, as from a loose input arm, while the rate the host asked for stands).
+    pub fn set_readings(&mut self, source: Option<ReadingsSource>) {
+        self.readings.source = source;
+    }
+
     /// The arm's joint positions as the device has moved them, rad (revolute) or m
     /// (prismatic), at the start of the newest pulse frame; `None` without an arm.
     pub fn arm_positions(&self) -> Option<&[f64]> {

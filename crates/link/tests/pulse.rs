@@ -14,7 +14,7 @@ use armwright_link::{
 };
 use proptest::prelude::*;
 
-use common::invented_arm::{InventedArm, calibration};
+use armwright_test_support::invented_arm::{InventedArm, calibration};
 
 fn device(unit_ns: u16, min_us: f64, max_us: f64, channels: u8) -> DeviceInfo {
     let per_us = 1000.0 / f64::from(unit_ns);

@@ -12,7 +12,7 @@ use armwright_trajectory::{
     LimitSettings, ProfileShape, Sample, ServoModelOptions, Task, TaskWaypoint, plan_task,
 };
 
-use common::invented_arm::{InventedArm, calibration};
+use armwright_test_support::invented_arm::{InventedArm, calibration};
 
 fn arm() -> armwright_kinematics::Arm {
     InventedArm {

@@ -14,7 +14,7 @@ use armwright_link::{
 };
 use armwright_trajectory::ServoModelOptions;
 
-use common::invented_arm::InventedArm;
+use armwright_test_support::invented_arm::InventedArm;
 
 /// The invented four-joint arm with a gripper, a tool and a payload.
 fn arm() -> Arm {

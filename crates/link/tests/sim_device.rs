@@ -356,13 +356,8 @@ fn random_bytes_do_not_disturb_the_device() {
     let mut bench = Bench::new();
     bench.send(setpoint(&MID));
     bench.wait_ms(20);
-    let mut state = 12_345_u32;
-    let noise: Vec<u8> = (0..5000)
-        .map(|_| {
-            state = state.wrapping_mul(1_103_515_245).wrapping_add(12_345);
-            (state >> 16) as u8
-        })
-        .collect();
+    let mut rng = armwright_test_support::seeded::Lcg32::new(12_345);
+    let noise: Vec<u8> = (0..5000).map(|_| (rng.next_u32() >> 16) as u8).collect();
     for chunk in noise.chunks(50) {
         bench.raw(chunk);
         bench.wait_ms(1);

@@ -7,14 +7,14 @@ mod common;
 
 use std::hint::black_box;
 
+use armwright_test_support::seeded::XorShift;
 use armwright_trajectory::{FollowJoint, Follower, JointLimits};
-use common::Seeded;
 use criterion::{Criterion, criterion_group, criterion_main};
 
 const JOINTS: usize = 6;
 const PERIOD: f64 = 0.02;
 
-fn joints(rng: &mut Seeded) -> Vec<FollowJoint> {
+fn joints(rng: &mut XorShift) -> Vec<FollowJoint> {
     (0..JOINTS)
         .map(|_| {
             let acceleration = rng.uniform(2.0, 40.0);
@@ -29,7 +29,7 @@ fn joints(rng: &mut Seeded) -> Vec<FollowJoint> {
 }
 
 fn bench_tick(c: &mut Criterion) {
-    let mut rng = Seeded::new(0xF011_0001);
+    let mut rng = XorShift::new(0xF011_0001);
     let joints = joints(&mut rng);
     let start = vec![0.0; JOINTS];
     let far: Vec<f64> = (0..JOINTS).map(|_| rng.uniform(-2.0, 2.0)).collect();

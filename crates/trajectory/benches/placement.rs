@@ -2,8 +2,7 @@
 //! the closed form, on a 5-joint arm.
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
-#[path = "../../kinematics/tests/common/mod.rs"]
-mod arms;
+use armwright_test_support::arms;
 
 use armwright_trajectory::{PlacementOptions, placement_estimate};
 use criterion::{Criterion, criterion_group, criterion_main};

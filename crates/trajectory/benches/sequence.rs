@@ -5,17 +5,17 @@ mod common;
 
 use std::hint::black_box;
 
+use armwright_test_support::seeded::XorShift;
 use armwright_trajectory::{
     JointLimits, ProfileShape, SequenceWaypoint, WaypointKind, plan_sequence,
 };
-use common::Seeded;
 use criterion::{Criterion, criterion_group, criterion_main};
 
 const JOINTS: usize = 5;
 const WAYPOINTS: usize = 100;
 
 fn seeded_sequence(seed: u64) -> (Vec<SequenceWaypoint>, Vec<JointLimits>) {
-    let mut rng = Seeded::new(seed);
+    let mut rng = XorShift::new(seed);
     let limits = (0..JOINTS)
         .map(|_| {
             JointLimits::new(

@@ -15,9 +15,9 @@
 //!
 //! An object carried in the gripper ([`Carry`]) moves with the tool from the move after its pick
 //! up to and including the move into its place, and is checked against every other obstacle on
-//! those moves except what the gripper itself may touch there; its travel between looks is
-//! bounded by the tool link's plus its farthest point from the tool point times the joints'
-//! turn.
+//! those moves except what the gripper itself may touch there, and against every link of the
+//! arm but the gripper (or tool) link that holds it; its travel between looks is bounded by the
+//! tool link's plus its farthest point from the tool point times the joints' turn.
 
 use armwright_kinematics::{
     Arm, ArmShape, CarriedBox, ChainPose, JointKind, KinematicsError, MAX_JOINTS, MAX_LINKS,
@@ -113,7 +113,7 @@ pub struct Contact {
     /// When it starts (the first look that finds it), in s from the start of the motion.
     pub time: f64,
     /// The link and what it overlaps. For a carried object, the link that carries it (the
-    /// gripper) and the obstacle it hits.
+    /// gripper) and the obstacle or link it hits.
     pub pair: Pair,
     /// The carried object (by its index in the obstacle list) that hits `pair.other`, when it
     /// is the carried object rather than the link that does.
@@ -172,7 +172,7 @@ pub fn plan_clearance<M: CommandedMotion>(
     options: &ClearanceOptions,
 ) -> Clearance {
     let end = motion.duration();
-    walk(cell, timings, end, options, |t, out| {
+    walk(cell, timings, end, options, Passes::Skipping, |t, out| {
         motion.positions_at(t.min(end), out)
     })
 }
@@ -188,7 +188,7 @@ pub fn dry_run_clearance(
     let samples = trace.len();
     let n = trace.joint_count;
     let end = samples.saturating_sub(1) as f64 * trace.step;
-    walk(cell, timings, end, options, |t, out| {
+    walk(cell, timings, end, options, Passes::Skipping, |t, out| {
         if samples == 0 {
             return;
         }
@@ -342,12 +342,24 @@ pub const RESTING_ON: f64 = 2e-3;
 /// in m: 1 mm, for a place taught a little low (our choice).
 pub const SUNK_AT_PLACE: f64 = 1e-3;
 
+/// Whether a look may skip its pass over the pairs when none can need measuring.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Passes {
+    /// Skip the pass while the travel since the last pass is within the smallest slack any pair
+    /// had then (the walk's own path).
+    Skipping,
+    /// Measure every pair at every look: the exhaustive check the skipping walk is compared with.
+    #[cfg(test)]
+    Every,
+}
+
 /// Walks the motion move by move, `positions` giving the joints at any time (s).
 fn walk(
     cell: &Workcell<'_>,
     timings: &[WaypointTiming],
     end_time: f64,
     options: &ClearanceOptions,
+    passes: Passes,
     mut positions: impl FnMut(f64, &mut [f64]),
 ) -> Clearance {
     let n = cell.arm.joint_count();
@@ -386,7 +398,7 @@ fn walk(
             .filter(|pair| !exempt(cell.exemptions, waypoint, *pair))
             .collect();
         let carried = carried_checks(cell, waypoint, tool_link);
-        let mut look = Look::new(waypoint, active, carried, cell.obstacles, options);
+        let mut look = Look::new(waypoint, active, carried, cell, options, passes);
         let mut t = start;
         positions(t, &mut here[..n]);
         loop {
@@ -419,12 +431,23 @@ fn walk(
 }
 
 /// The carried objects' checks on the move into `waypoint`: each object carried on it against
-/// every other obstacle the gripper is not exempt from there.
+/// every link but the one that holds it (the tool link), and against every other obstacle the
+/// gripper is not exempt from there.
 fn carried_checks(cell: &Workcell<'_>, waypoint: usize, tool_link: usize) -> Vec<CarriedCheck> {
     let mut checks = Vec::new();
     for (carry, held) in cell.carried.iter().enumerate() {
         if !(held.first..=held.last).contains(&waypoint) {
             continue;
+        }
+        for link in (0..cell.shape.links().len()).filter(|&link| link != tool_link) {
+            checks.push(CarriedCheck {
+                carry,
+                pair: Pair {
+                    link: tool_link,
+                    other: Other::Link(link),
+                },
+                last: (f64::NEG_INFINITY, 0.0, 0.0),
+            });
         }
         for obstacle in 0..cell.obstacles.len() {
             let pair = Pair {
@@ -440,7 +463,7 @@ fn carried_checks(cell: &Workcell<'_>, waypoint: usize, tool_link: usize) -> Vec
                 checks.push(CarriedCheck {
                     carry,
                     pair,
-                    last: (f64::NEG_INFINITY, 0.0),
+                    last: (f64::NEG_INFINITY, 0.0, 0.0),
                 });
             }
         }
@@ -459,12 +482,12 @@ fn exempt(exemptions: &[Exemption], waypoint: usize, pair: Pair) -> bool {
     })
 }
 
-/// A carried object against one obstacle: the gripper's link and the obstacle, and the
-/// distance at its last measurement (m) with the object's travel then (m).
+/// A carried object against one obstacle or link: the gripper's link and the other, and the
+/// distance at its last measurement (m) with the object's and the other's travel then (m).
 struct CarriedCheck {
     carry: usize,
     pair: Pair,
-    last: (f64, f64),
+    last: (f64, f64, f64),
 }
 
 /// One move's bookkeeping: each pair's last distance and how far its links have moved since.
@@ -484,6 +507,15 @@ struct Look<'o> {
     /// The joints' summed turn since the move began, in rad (a bound of a carried object's
     /// swing per m of its reach from the tool point).
     turn: f64,
+    /// Whether a look may skip its pass over the pairs.
+    passes: Passes,
+    /// The smallest slack (m) of any pair after the last pass: how far its lowest possible
+    /// distance lay above what makes it worth measuring. Zero forces the next pass.
+    slack: f64,
+    /// How much any pair's lowest possible distance may have fallen since the last pass, m.
+    spent: f64,
+    /// Farthest point of any carried object on this move from the tool point, m.
+    reach: f64,
 }
 
 impl<'o> Look<'o> {
@@ -491,9 +523,16 @@ impl<'o> Look<'o> {
         waypoint: usize,
         pairs: Vec<Pair>,
         carried: Vec<CarriedCheck>,
-        obstacles: &[Obstacle],
+        cell: &Workcell<'_>,
         options: &'o ClearanceOptions,
+        passes: Passes,
     ) -> Look<'o> {
+        let obstacles = cell.obstacles;
+        let reach = carried
+            .iter()
+            .filter_map(|check| cell.carried.get(check.carry))
+            .map(|held| held.object.extent)
+            .fold(0.0, f64::max);
         let boxed = pairs
             .iter()
             .map(|pair| match pair.other {
@@ -517,14 +556,31 @@ impl<'o> Look<'o> {
             travel: [0.0; MAX_LINKS],
             carried,
             turn: 0.0,
+            passes,
+            slack: 0.0,
+            spent: 0.0,
+            reach,
         }
     }
 
     fn moved(&mut self, sweep: &[f64], turn: f64) {
+        let mut farthest = 0.0_f64;
         for (travel, step) in self.travel.iter_mut().zip(sweep) {
             *travel += step;
+            farthest = farthest.max(*step);
         }
         self.turn += turn;
+        // A pair's lowest distance falls by its two sides' travel: at most twice the farthest
+        // any link moved, plus a carried object's swing about the tool point.
+        self.spent += 2.0 * farthest + self.reach * turn;
+    }
+
+    /// Whether no pair can be worth measuring now: every pair's lowest possible distance still
+    /// lies above zero and above the threshold, as it did by more than the travel since.
+    fn all_clear(&self) -> bool {
+        // Rounding of the sums is far below this margin (m).
+        const MARGIN: f64 = 1e-12;
+        self.passes == Passes::Skipping && self.spent + MARGIN < self.slack
     }
 
     fn travel_of(&self, other: Other) -> f64 {
@@ -546,6 +602,20 @@ impl<'o> Look<'o> {
     }
 
     fn at(&mut self, cell: &Workcell<'_>, t: f64, positions: &[f64]) {
+        if self.all_clear() {
+            return;
+        }
+        self.slack = self.pass(cell, t, positions).max(0.0);
+        self.spent = 0.0;
+    }
+
+    /// One pass over the pairs: each is measured unless its lowest possible distance lies above
+    /// zero and above the threshold. Returns the smallest slack of any pair after it: its lowest
+    /// possible distance less the larger of zero and the threshold when it was looked at (the
+    /// threshold only falls, so that is never more than the slack at the pass's end); zero when
+    /// the pose cannot be placed.
+    fn pass(&mut self, cell: &Workcell<'_>, t: f64, positions: &[f64]) -> f64 {
+        let mut slack = f64::INFINITY;
         let mut pose: Option<(ChainPose, PlacedArm)> = None;
         let placed_pose = |pose: &mut Option<(ChainPose, PlacedArm)>| -> bool {
             if pose.is_none() {
@@ -565,27 +635,31 @@ impl<'o> Look<'o> {
             let (link_now, other_now) = (self.travel[pair.link], self.travel_of(pair.other));
             let lowest = distance - (link_now - link_then) - (other_now - other_then);
             let threshold = self.threshold();
-            if lowest > 0.0 && lowest >= threshold {
+            let floor = threshold.max(0.0);
+            if lowest > 0.0 && lowest >= threshold && self.passes == Passes::Skipping {
+                slack = slack.min(lowest - floor);
                 continue;
             }
             if !placed_pose(&mut pose) {
-                return;
+                return 0.0;
             }
             let Some((_, placed)) = pose.as_ref() else {
-                return;
+                return 0.0;
             };
             // A cheap lower bound first: when it clears the threshold, it serves as well as the
             // distance for the next skip.
-            if self.boxed[index] {
+            if self.boxed[index] && self.passes == Passes::Skipping {
                 let bound = pair_distance_bound(cell.shape, placed, cell.obstacles, pair);
                 if bound > 0.0 && bound >= threshold {
                     self.last[index] = (bound, link_now, other_now);
+                    slack = slack.min(bound - floor);
                     continue;
                 }
             }
             let distance = pair_distance(cell.shape, placed, cell.obstacles, pair);
             self.last[index] = (distance, link_now, other_now);
             self.record(t, pair, None, distance);
+            slack = slack.min(distance - self.threshold().max(0.0));
         }
         for index in 0..self.carried.len() {
             let check = &self.carried[index];
@@ -593,28 +667,40 @@ impl<'o> Look<'o> {
                 continue;
             };
             let travel = self.travel[check.pair.link] + held.object.extent * self.turn;
-            let (distance, then) = check.last;
-            let lowest = distance - (travel - then);
-            if lowest > 0.0 && lowest >= self.threshold() {
+            let other_travel = self.travel_of(check.pair.other);
+            let (distance, then, other_then) = check.last;
+            let lowest = distance - (travel - then) - (other_travel - other_then);
+            if lowest > 0.0 && lowest >= self.threshold() && self.passes == Passes::Skipping {
+                slack = slack.min(lowest - self.threshold().max(0.0));
                 continue;
             }
             if !placed_pose(&mut pose) {
-                return;
+                return 0.0;
             }
-            let Some((chain, _)) = pose.as_ref() else {
-                return;
+            let Some((chain, placed)) = pose.as_ref() else {
+                return 0.0;
             };
-            let Other::Obstacle(obstacle) = check.pair.other else {
-                continue;
+            let distance = match check.pair.other {
+                Other::Obstacle(obstacle) => match cell.obstacles.get(obstacle) {
+                    Some(obstacle) => held.object.distance(chain.tool(), obstacle),
+                    None => continue,
+                },
+                Other::Link(link) => {
+                    match (cell.shape.links().get(link), placed.segments().get(link)) {
+                        (Some(shape), Some((start, end))) => {
+                            held.object
+                                .distance_to_link(chain.tool(), start, end, shape.radius)
+                        }
+                        _ => continue,
+                    }
+                }
             };
-            let Some(obstacle) = cell.obstacles.get(obstacle) else {
-                continue;
-            };
-            let distance = held.object.distance(chain.tool(), obstacle);
             let pair = check.pair;
-            self.carried[index].last = (distance, travel);
+            self.carried[index].last = (distance, travel, other_travel);
             self.record(t, pair, Some(held.object.obstacle), distance);
+            slack = slack.min(distance - self.threshold().max(0.0));
         }
+        slack
     }
 
     /// Notes one measurement: `pair` (with its carried object, if that is what was measured)
@@ -647,5 +733,116 @@ impl<'o> Look<'o> {
 
     fn finish(self) -> MoveClearance {
         self.result
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use armwright_kinematics::{ArmShape, CarriedBox, Obstacle, tool_pose};
+    use nalgebra::Vector3;
+
+    use super::*;
+    use crate::arm_limits::LimitSettings;
+    use crate::arm_plan::{Task, TaskWaypoint, plan_task};
+    use crate::profile::ProfileShape;
+    use crate::servo_sim::ServoModelOptions;
+    use armwright_test_support::arms;
+
+    #[test]
+    fn skipping_passes_finds_what_measuring_every_pair_at_every_look_finds() {
+        // The clearance bench's cell (a table, three cubes and a tray) on random moves of the
+        // 5-joint arm, one cube carried on a few of them: skipping the pass over the pairs
+        // where none can need measuring finds the same contacts (move, time, pair, depth) as
+        // measuring every pair at every look, and the same smallest clearance per move within
+        // the resolution.
+        let arm = arms::articulated(true);
+        let shape = ArmShape::of(&arm);
+        let cube = |x: f64, y: f64| {
+            Obstacle::standing_box("cube", Vector3::new(x, y, 0.0), Vector3::repeat(0.025))
+        };
+        let obstacles = [
+            Obstacle::table(0.0),
+            cube(0.12, 0.08),
+            cube(0.15, 0.08),
+            cube(0.18, 0.08),
+            Obstacle::standing_box(
+                "tray",
+                Vector3::new(0.15, -0.10, 0.0),
+                Vector3::new(0.096, 0.072, 0.02),
+            ),
+        ];
+        let mut rng = arms::Seeded::new(29);
+        let centre = [0.0, 0.9, -1.2, 0.3, 0.0];
+        let waypoints: Vec<TaskWaypoint> = (0..24)
+            .map(|_| TaskWaypoint {
+                positions: centre.iter().map(|c| c + rng.uniform(-0.5, 0.5)).collect(),
+                stop: true,
+                dwell: 0.05,
+                speed_share: 1.0,
+                gripper_closed: false,
+                straight: false,
+                shape: ProfileShape::DoubleS,
+            })
+            .collect();
+        let tool = tool_pose(&arm, &waypoints[4].positions).unwrap();
+        let held = Obstacle::standing_box(
+            "held",
+            tool.translation.vector - Vector3::new(0.0, 0.0, 0.02),
+            Vector3::repeat(0.03),
+        );
+        let carried = [Carry {
+            first: 5,
+            last: 9,
+            object: CarriedBox::picked(1, &held, &tool).unwrap(),
+            lifted_from: Vec::new(),
+            put_on: Vec::new(),
+        }];
+        let task = Task {
+            waypoints,
+            limits: LimitSettings::default(),
+            model: ServoModelOptions::default(),
+            shaping: None,
+        };
+        let plan = plan_task(&arm, &task).unwrap();
+        let cell = Workcell {
+            arm: &arm,
+            shape: &shape,
+            obstacles: &obstacles,
+            exemptions: &[],
+            carried: &carried,
+        };
+        let options = ClearanceOptions::default();
+        let end = plan.duration();
+        let run = |passes: Passes| {
+            walk(&cell, plan.timings(), end, &options, passes, |t, out| {
+                plan.positions_at(t.min(end), out)
+            })
+        };
+        let (fast, every) = (run(Passes::Skipping), run(Passes::Every));
+        let mut contacts = 0;
+        for (a, b) in fast.moves.iter().zip(&every.moves) {
+            assert_eq!(a.first_contact, b.first_contact, "move {}", a.waypoint);
+            contacts += usize::from(a.first_contact.is_some());
+            let resolution = options
+                .resolution
+                .max(options.relative_resolution * b.min_clearance);
+            assert!(
+                a.min_clearance >= b.min_clearance - 1e-12
+                    && a.min_clearance <= b.min_clearance + resolution,
+                "move {}: skipping {} m, every pair {} m",
+                a.waypoint,
+                a.min_clearance,
+                b.min_clearance
+            );
+        }
+        assert!(
+            contacts > 0,
+            "the random moves must also reach into something"
+        );
+        assert!(
+            every.min_clearance() < 0.01,
+            "and come near: {}",
+            every.min_clearance()
+        );
     }
 }

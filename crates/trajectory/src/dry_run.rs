@@ -729,8 +729,7 @@ fn fill_loads(arm: &Arm, link: &[f64], payload: f64, loads: &mut [JointLoad]) {
 }
 
 #[cfg(test)]
-#[path = "../../kinematics/tests/common/mod.rs"]
-mod arms;
+use armwright_test_support::arms;
 
 #[cfg(test)]
 mod tests {

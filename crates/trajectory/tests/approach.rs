@@ -3,8 +3,7 @@
 //! stream.
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
-#[path = "../../kinematics/tests/common/mod.rs"]
-mod common;
+use armwright_test_support::arms as common;
 
 use armwright_trajectory::{
     ApproachStart, CommandedMotion, LimitSettings, PlanError, ProfileShape, SequenceError,

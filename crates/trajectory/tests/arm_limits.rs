@@ -1,8 +1,7 @@
 //! Limits taken from the arm: the overrides a scene gives replace only their own joint's limit.
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
-#[path = "../../kinematics/tests/common/mod.rs"]
-mod common;
+use armwright_test_support::arms as common;
 
 use armwright_trajectory::{LimitSettings, ServoModelOptions, limits_from_arm};
 

@@ -1,9 +1,9 @@
 //! Clearance along a plan and along the dry run: contacts named with link, object and time, the
-//! smallest clearance checked by hand and against looking at every instant.
+//! smallest clearance checked by hand and against looking at every instant; a carried object
+//! against obstacles and against the arm's own links.
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
-#[path = "../../kinematics/tests/common/mod.rs"]
-mod arms;
+use armwright_test_support::arms;
 
 use armwright_kinematics::{ArmShape, Obstacle, Other, forward, pair_distance, pose_proximities};
 use armwright_trajectory::{
@@ -541,5 +541,135 @@ fn a_fixture_a_part_is_taken_from_is_not_carried() {
             .unwrap()
             .len(),
         1
+    );
+}
+
+#[test]
+fn a_carried_object_swung_into_the_arms_own_forearm_is_a_contact_with_that_link() {
+    // An object held off to one side of the gripper, reaching back past the wrist (a handle
+    // alongside the forearm): 20 mm past the wrist along the gripper's axis and 40 mm beside it,
+    // a 20 mm cube. Straight, it clears the forearm by about 20 mm; bending the wrist toward
+    // that side swings it into the forearm. The gripper link that holds it is never checked
+    // against it; the arm alone is clear.
+    let arm = articulated_with_gripper();
+    let shape = ArmShape::of(&arm);
+    let tool_link = shape.tool_link();
+    let straight = [0.0, 0.55, -1.35, 0.0];
+    let tool = armwright_kinematics::tool_pose(&arm, &straight).unwrap();
+    let placed = shape.place(&forward(&arm, &straight).unwrap());
+    let wrist = placed.segments()[tool_link].0;
+    let along = (wrist - tool.translation.vector).normalize();
+    let beside = Vector3::y().cross(&along).normalize();
+    let nearest_link = |held: &armwright_kinematics::CarriedBox, pose: &[f64]| {
+        let chain = forward(&arm, pose).unwrap();
+        let placed = shape.place(&chain);
+        placed
+            .segments()
+            .iter()
+            .zip(shape.links())
+            .enumerate()
+            .filter(|(link, _)| *link != tool_link)
+            .map(|(link, ((a, b), s))| (held.distance_to_link(chain.tool(), a, b, s.radius), link))
+            .fold((f64::INFINITY, 0), |best, next| {
+                if next.0 < best.0 { next } else { best }
+            })
+    };
+    // The side the wrist bends toward with a positive turn.
+    let bent = [0.0, 0.55, -1.35, 1.0];
+    let (held, obstacle) = [1.0, -1.0]
+        .into_iter()
+        .map(|side| {
+            let centre = wrist + along * 0.02 + beside * (0.04 * side);
+            let obstacle = Obstacle {
+                name: "handle".into(),
+                shape: armwright_kinematics::ObstacleShape::Box {
+                    centre,
+                    half_size: Vector3::repeat(0.01),
+                },
+            };
+            let held = armwright_kinematics::CarriedBox::picked(0, &obstacle, &tool).unwrap();
+            (held, obstacle)
+        })
+        .min_by(|a, b| {
+            nearest_link(&a.0, &bent)
+                .0
+                .total_cmp(&nearest_link(&b.0, &bent).0)
+        })
+        .unwrap();
+    let (at_start, _) = nearest_link(&held, &straight);
+    let (deepest_end, link) = nearest_link(&held, &bent);
+    assert!(at_start > 0.01, "clear when straight: {at_start}");
+    assert!(deepest_end < -0.003, "into a link when bent: {deepest_end}");
+    assert_eq!(shape.links()[link].name, "forearm");
+    let obstacles = [obstacle];
+    let waypoints = vec![stop(straight, true), stop(bent, true)];
+    let plan = plan_task(&arm, &task(waypoints)).unwrap();
+    // The object's own box where it stood is not an obstacle here.
+    let exemptions: Vec<_> = (0..2)
+        .map(|waypoint| armwright_trajectory::Exemption {
+            waypoint,
+            link: None,
+            obstacle: 0,
+        })
+        .collect();
+    let carried = [armwright_trajectory::Carry {
+        first: 1,
+        last: 1,
+        object: held.clone(),
+        lifted_from: Vec::new(),
+        put_on: Vec::new(),
+    }];
+    let cell = Workcell {
+        arm: &arm,
+        shape: &shape,
+        obstacles: &obstacles,
+        exemptions: &exemptions,
+        carried: &carried,
+    };
+    let options = ClearanceOptions::default();
+    let clearance = plan_clearance(&cell, &plan, plan.timings(), &options);
+    let contacts: Vec<_> = clearance.contacts().collect();
+    assert_eq!(contacts.len(), 1, "{contacts:?}");
+    let contact = contacts[0];
+    assert_eq!(contact.waypoint, 1);
+    assert_eq!(contact.carried, Some(0));
+    assert_eq!(contact.pair.other, Other::Link(link));
+    // Against looking at every 0.25 ms: the first instant in contact and the depth.
+    let timings = plan.timings();
+    let (start, end) = (timings[0].departure, plan.duration());
+    let steps = ((end - start) / 2.5e-4).ceil() as usize;
+    let mut first = None;
+    let mut deepest = 0.0_f64;
+    for k in 0..=steps {
+        let t = start + (end - start) * k as f64 / steps as f64;
+        let mut q = [0.0; 4];
+        plan.positions_at(t, &mut q);
+        let (distance, _) = nearest_link(&held, &q);
+        if distance < -options.touch_tolerance && first.is_none() {
+            first = Some(t);
+        }
+        deepest = deepest.max(-distance);
+    }
+    let first = first.expect("a contact at some instant");
+    assert!(
+        (contact.time - first).abs() < 2e-3,
+        "{} vs {first}",
+        contact.time
+    );
+    assert!(
+        (contact.depth - deepest).abs() < 5e-4,
+        "{} vs {deepest}",
+        contact.depth
+    );
+    // Without the object the arm is clear.
+    let bare = Workcell {
+        carried: &[],
+        ..cell
+    };
+    assert!(
+        plan_clearance(&bare, &plan, plan.timings(), &options)
+            .contacts()
+            .next()
+            .is_none()
     );
 }

@@ -2,8 +2,7 @@
 //! servos balance gravity, timings are checked.
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
-#[path = "../../kinematics/tests/common/mod.rs"]
-mod common;
+use armwright_test_support::arms as common;
 
 use armwright_trajectory::{
     CommandedMotion, DryRunError, DryRunOptions, LimitSettings, ProfileShape, ServoModel,

@@ -1,8 +1,7 @@
 //! Placement success: the closed form against the Rayleigh result and against the Monte Carlo.
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
-#[path = "../../kinematics/tests/common/mod.rs"]
-mod common;
+use armwright_test_support::arms as common;
 
 use armwright_trajectory::{PlacementOptions, disc_probability, placement_estimate};
 

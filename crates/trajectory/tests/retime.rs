@@ -1,8 +1,7 @@
 //! Retiming: the shortest timing whose dry run keeps every stop's overshoot under the target.
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
-#[path = "../../kinematics/tests/common/mod.rs"]
-mod common;
+use armwright_test_support::arms as common;
 
 use armwright_trajectory::{
     DryRunOptions, LimitSettings, Planner, ProfileShape, RetimeError, RetimeTarget,

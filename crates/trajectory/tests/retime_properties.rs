@@ -3,8 +3,7 @@
 //! says which waypoint cannot meet it and why. Never a half-result.
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
-#[path = "../../kinematics/tests/common/mod.rs"]
-mod common;
+use armwright_test_support::arms as common;
 
 use armwright_kinematics::Arm;
 use armwright_trajectory::{

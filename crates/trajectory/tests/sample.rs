@@ -2,8 +2,7 @@
 //! gripper state of the last waypoint reached, and the shaped plan's end.
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
-#[path = "../../kinematics/tests/common/mod.rs"]
-mod common;
+use armwright_test_support::arms as common;
 
 use armwright_trajectory::{
     CommandedMotion, LimitSettings, MAX_SAMPLE_RATE_HZ, MIN_SAMPLE_RATE_HZ, ProfileShape,

@@ -3,8 +3,7 @@
 //! written by tests/reference/generate_servo_response.py.
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
-#[path = "../../../tests/reference/support.rs"]
-mod reference;
+use armwright_test_support::reference;
 
 use armwright_kinematics::Calibration;
 use armwright_trajectory::{JointLoad, ServoModel, ServoModelOptions, simulate};

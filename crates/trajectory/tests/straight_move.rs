@@ -2,8 +2,7 @@
 //! core says where it fails.
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
-#[path = "../../kinematics/tests/common/mod.rs"]
-mod common;
+use armwright_test_support::arms as common;
 
 use armwright_kinematics::{Arm, IkOptions, IkTarget, solve_ik, tool_pose};
 use armwright_trajectory::{

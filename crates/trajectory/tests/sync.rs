@@ -5,10 +5,11 @@
 
 mod common;
 
+use armwright_test_support::seeded::XorShift;
 use armwright_trajectory::{
     JointLimits, JointMove, MAX_JOINTS, Profile, ProfileError, ProfileShape, SyncError, synchronise,
 };
-use common::{ReferenceJoint, Seeded, check_sampled, reference_duration};
+use common::{ReferenceJoint, check_sampled, reference_duration};
 use proptest::prelude::*;
 
 /// Boundary velocities of the random problems.
@@ -22,7 +23,10 @@ enum Boundaries {
     EitherSign,
 }
 
-fn random_joints<const N: usize>(rng: &mut Seeded, boundaries: Boundaries) -> [ReferenceJoint; N] {
+fn random_joints<const N: usize>(
+    rng: &mut XorShift,
+    boundaries: Boundaries,
+) -> [ReferenceJoint; N] {
     std::array::from_fn(|_| {
         let from = rng.uniform(-2.5, 2.5);
         let to = rng.uniform(-2.5, 2.5);
@@ -68,7 +72,7 @@ fn split(joints: &[ReferenceJoint]) -> (Vec<JointMove>, Vec<JointLimits>) {
 #[test]
 fn rest_to_rest_duration_equals_the_reference_synchronised_duration() {
     // Reference: rsruckig (crates.io), time synchronisation of all joints.
-    let mut rng = Seeded::new(0x5EED_0101);
+    let mut rng = XorShift::new(0x5EED_0101);
     let mut worst: f64 = 0.0;
     for index in 0..1_000 {
         let joints = random_joints::<6>(&mut rng, Boundaries::Rest);
@@ -108,7 +112,7 @@ fn compare_with_reference(
     count: usize,
     sample_every: usize,
 ) -> (usize, f64, usize) {
-    let mut rng = Seeded::new(seed);
+    let mut rng = XorShift::new(seed);
     let (mut differing, mut worst, mut shorter, mut moved) = (0, 0.0_f64, 0, 0);
     for index in 0..count {
         let joints = random_joints::<6>(&mut rng, boundaries);

@@ -1,7 +1,8 @@
 //! `armwright calibrate`: fit a joint's calibration to measured points (pulse width sent,
 //! position read), report the fit and its residuals, and optionally write it into the scene.
 //! Without points, with a device (`--port`, `--simulated`), it steps the joint's pulse from the
-//! terminal first and records the positions typed.
+//! terminal first and records the positions typed; there it also finds the servo's deadband,
+//! stepping 1 µs at a time until the person says the joint moved.
 
 use std::io::{BufRead, IsTerminal};
 use std::path::Path;
@@ -21,7 +22,8 @@ use serde_json::{Value, json};
 use super::Outcome;
 use super::report::{all_rounded, fail, load_scene, print_json, rounded};
 use super::stream::confirm;
-use crate::scene::{CalibrationPoint, JointKindDoc, Scene, save, servo_model_of, validate};
+use crate::scene::{CalibrationPoint, JointKindDoc, Scene, save, validate};
+use crate::task::servo_model_of;
 
 /// What `calibrate` was asked to do.
 pub(crate) struct CalibrateRequest<'a> {
@@ -111,22 +113,49 @@ pub(crate) fn run(file: &Path, request: &CalibrateRequest, json: bool) -> Outcom
         return fail(json, &message, json!({}), Outcome::Unreadable);
     };
     match &request.device {
-        None => fit_and_report(&scene, index, request.points, request.write, json),
+        None => fit_and_report(&scene, index, request.points, None, request.write, json),
         Some(device) => {
-            let points = match step_and_read(&scene, &arm, index, device, request.yes) {
-                Ok(points) => points,
+            let (points, deadband) = match step_and_read(&scene, &arm, index, device, request.yes) {
+                Ok(read) => read,
                 Err(message) => return fail(json, &message, json!({}), Outcome::Refused),
             };
-            fit_and_report(&scene, index, &points, request.write, json)
+            fit_and_report(
+                &scene,
+                index,
+                &points,
+                deadband.as_ref(),
+                request.write,
+                json,
+            )
         }
     }
 }
 
-/// Fits `points` for joint `index`, writes the scene when asked and reports the fit.
+/// The deadband search gives up after this many µs in one direction without a movement seen:
+/// hobby-servo deadbands are a few µs (common practice). The editor's search stops there too.
+pub(crate) const DEADBAND_SEARCH_LIMIT_US: f64 = 50.0;
+
+/// A deadband found by stepping: the pulse change that moved the joint after each reversal.
+#[derive(Debug, Clone, Copy, PartialEq)]
+struct DeadbandFound {
+    /// After the reversal downwards, then upwards, in µs.
+    widths_us: [f64; 2],
+}
+
+impl DeadbandFound {
+    /// The deadband proposed: the mean of the two widths, to 0.01 µs, as the scene keeps it.
+    fn proposed_us(&self) -> f64 {
+        (0.5 * (self.widths_us[0] + self.widths_us[1]) * 100.0).round() / 100.0
+    }
+}
+
+/// Fits `points` for joint `index`, writes the scene (with the deadband found, if any) when
+/// asked and reports the fit and the deadband.
 fn fit_and_report(
     scene: &Scene,
     index: usize,
     points: &[MeasuredPoint],
+    deadband: Option<&DeadbandFound>,
     write: Option<&Path>,
     json: bool,
 ) -> Outcome {
@@ -151,7 +180,7 @@ fn fit_and_report(
         }
     };
     let written = match write {
-        Some(out) => match write_fit(scene, index, &fit, &readings, out) {
+        Some(out) => match write_fit(scene, index, &fit, &readings, deadband, out) {
             Ok(()) => Some(out),
             Err(message) => return fail(json, &message, json!({}), Outcome::Refused),
         },
@@ -164,9 +193,23 @@ fn fit_and_report(
             .iter()
             .map(|point| json!({ "pulse_us": point.pulse_us, format!("position_{unit}"): point.position }))
             .collect();
+        if let Some(found) = deadband {
+            out["deadband_us"] = json!(found.proposed_us());
+            out["deadband_widths_us"] = json!(found.widths_us);
+        }
         print_json(&out);
     } else {
         report.print(&scene.arm.joints[index].name, unit, written);
+        if let Some(found) = deadband {
+            println!(
+                "  deadband {:.2} µs (the joint moved {:.0} µs after turning down, {:.0} µs after \
+                 turning up){}",
+                found.proposed_us(),
+                found.widths_us[0],
+                found.widths_us[1],
+                if written.is_some() { ", written" } else { "" }
+            );
+        }
     }
     Outcome::Done
 }
@@ -186,6 +229,9 @@ Type a line, then Enter:
   a number   the position you read now, degrees (mm for a sliding joint): records a point
   drop       forget the last point
   fit        show the fit of the points so far
+  deadband   find the servo's deadband: Enter steps the pulse 1 µs, type moved when you see
+             the servo's horn move (up, then down, then up again; the link would add the
+             gears' backlash); stop leaves the search
   done       fit and report (and write, with --write), then leave
   quit       leave without fitting or writing";
 
@@ -199,6 +245,7 @@ enum Typed {
     Position(f64),
     Drop,
     Fit,
+    Deadband,
     Done,
     Quit,
     Help,
@@ -210,6 +257,7 @@ fn parse_typed(line: &str) -> Result<Typed, String> {
     let typed = match word.to_ascii_lowercase().as_str() {
         "drop" => Typed::Drop,
         "fit" => Typed::Fit,
+        "deadband" => Typed::Deadband,
         "done" => Typed::Done,
         "quit" => Typed::Quit,
         "help" | "?" | "" => Typed::Help,
@@ -335,15 +383,15 @@ impl Stepper {
     }
 }
 
-/// Steps joint `index` on `device` from the terminal, recording the positions typed; returns
-/// the points once the person types `done`.
+/// Steps joint `index` on `device` from the terminal, recording the positions typed (and the
+/// deadband, when the person asks for its search); returns them once the person types `done`.
 fn step_and_read(
     scene: &Scene,
     arm: &Arm,
     index: usize,
     device: &StepDevice,
     yes: bool,
-) -> Result<Vec<MeasuredPoint>, String> {
+) -> Result<(Vec<MeasuredPoint>, Option<DeadbandFound>), String> {
     let kind = scene.arm.shape.joint_kinds()[index];
     let (symbol, from_si) = match kind {
         JointKindDoc::Revolute => ("°", 1f64.to_degrees()),
@@ -411,6 +459,7 @@ fn step_and_read(
     stepper.hold(start_us)?;
     eprintln!("{STEP_WORDS}");
     let mut points: Vec<MeasuredPoint> = Vec::new();
+    let mut deadband = None;
     let say_held = |stepper: &Stepper| {
         eprint!("holding ch{} at {:.0} µs", stepper.channel, stepper.held_us);
         match stepper.simulated_position() {
@@ -463,9 +512,98 @@ fn step_and_read(
                 None => eprintln!("no point to drop"),
             },
             Typed::Fit => print_fit_so_far(&points, kind, symbol),
-            Typed::Done => return Ok(points),
+            Typed::Deadband => {
+                if let Some(found) = find_deadband(&mut stepper, &mut input, &say_held)? {
+                    eprintln!(
+                        "deadband: the joint moved {:.0} µs after turning down and {:.0} µs after \
+                         turning up: {:.2} µs proposed (--write records it)",
+                        found.widths_us[0],
+                        found.widths_us[1],
+                        found.proposed_us(),
+                    );
+                    deadband = Some(found);
+                }
+            }
+            Typed::Done => return Ok((points, deadband)),
             Typed::Quit => return Err("quit: nothing fitted or written".into()),
             Typed::Help => eprintln!("{STEP_WORDS}"),
+        }
+    }
+}
+
+/// The deadband search from the pulse held now: each Enter steps 1 µs up until the person types
+/// `moved` (taking up the deadband, so the servo rests at its edge), then down until the next
+/// `moved`, then up until the third; each reversal spans the deadband. `stop` leaves it (`None`),
+/// as do [`DEADBAND_SEARCH_LIMIT_US`] without a movement and the end of the safe range.
+fn find_deadband(
+    stepper: &mut Stepper,
+    input: &mut impl BufRead,
+    say_held: &dyn Fn(&Stepper),
+) -> Result<Option<DeadbandFound>, String> {
+    let legs: [(f64, &str); 3] = [(1.0, "up"), (-1.0, "down"), (1.0, "up")];
+    let mut leg = 0;
+    let mut from_us = stepper.held_us;
+    let mut widths_us = Vec::new();
+    eprintln!(
+        "deadband search from {from_us:.0} µs: press Enter to step 1 µs up, type moved as soon \
+         as you see the servo's horn move, stop to leave the search"
+    );
+    let mut line = String::new();
+    loop {
+        line.clear();
+        match input.read_line(&mut line) {
+            Ok(0) => return Err("standard input closed in the deadband search".into()),
+            Ok(_) => {}
+            Err(error) => return Err(format!("cannot read standard input: {error}")),
+        }
+        let (step_us, direction) = legs[leg];
+        match line.trim().to_ascii_lowercase().as_str() {
+            "" => {
+                if (stepper.held_us + step_us - from_us).abs() > DEADBAND_SEARCH_LIMIT_US {
+                    eprintln!(
+                        "no movement seen within {DEADBAND_SEARCH_LIMIT_US:.0} µs: deadband \
+                         search ended (is the servo powered?)"
+                    );
+                    return Ok(None);
+                }
+                let wanted = stepper.held_us + step_us;
+                stepper.hold(wanted)?;
+                if (stepper.held_us - wanted).abs() > 0.5 {
+                    eprintln!(
+                        "the deadband search reached the end of the safe range: step away from \
+                         it and search again"
+                    );
+                    return Ok(None);
+                }
+                say_held(stepper);
+            }
+            "moved" | "m" => {
+                if leg > 0 {
+                    widths_us.push((stepper.held_us - from_us).abs());
+                }
+                leg += 1;
+                from_us = stepper.held_us;
+                match widths_us.as_slice() {
+                    &[down, up] => {
+                        return Ok(Some(DeadbandFound {
+                            widths_us: [down, up],
+                        }));
+                    }
+                    _ => eprintln!(
+                        "now stepping {} from {from_us:.0} µs: Enter steps 1 µs, moved when it \
+                         moves",
+                        legs[leg].1
+                    ),
+                }
+            }
+            "stop" => {
+                eprintln!("deadband search left; holding {:.0} µs", stepper.held_us);
+                return Ok(None);
+            }
+            other => eprintln!(
+                "\"{other}\": in the deadband search, press Enter to step 1 µs {direction}, type \
+                 moved when the joint moves, or stop"
+            ),
         }
     }
 }
@@ -645,23 +783,39 @@ fn line_uncertainty(line_residuals: &[f64]) -> Option<f64> {
     (n > 2).then(|| (line_residuals.iter().map(|r| r * r).sum::<f64>() / (n - 2) as f64).sqrt())
 }
 
+/// The scene's `calibration.uncertainty_deg` (or `_mm`) for a fit of `readings` on a joint of
+/// this kind: the line's residual standard error ([`line_uncertainty`]) in degrees or mm, to
+/// 0.0001; `None` for two readings. `armwright calibrate --write` and the editor's Apply both
+/// write it.
+pub(crate) fn fitted_uncertainty(
+    fit: &CalibrationFit,
+    readings: &[CalibrationReading],
+    kind: JointKindDoc,
+) -> Option<f64> {
+    let from_si = 1.0 / si_per_file_unit(kind);
+    line_uncertainty(&fit.line_residuals(readings)).map(|sd| (sd * from_si * 1e4).round() / 1e4)
+}
+
 /// Saves the scene with joint `index`'s calibration points replaced by the straight-line fit
 /// at the ends of the measured pulse range, and its uncertainty by the line's residual standard
-/// error ([`line_uncertainty`]; absent for two points), after checking the whole scene again.
+/// error ([`fitted_uncertainty`]; absent for two points), and the servo's deadband by the one
+/// found (if any), after checking the whole scene again.
 fn write_fit(
     scene: &Scene,
     index: usize,
     fit: &CalibrationFit,
     readings: &[CalibrationReading],
+    deadband: Option<&DeadbandFound>,
     out: &Path,
 ) -> Result<(), String> {
     let mut scene = scene.clone();
     let kind = scene.arm.shape.joint_kinds()[index];
     let joint = &mut scene.arm.joints[index];
     joint.calibration.points = fitted_points(fit, kind);
-    let from_si = 1.0 / si_per_file_unit(kind);
-    joint.calibration.uncertainty = line_uncertainty(&fit.line_residuals(readings))
-        .map(|sd| (sd * from_si * 1e4).round() / 1e4);
+    joint.calibration.uncertainty = fitted_uncertainty(fit, readings, kind);
+    if let Some(found) = deadband {
+        joint.servo.deadband_us = found.proposed_us();
+    }
     let problems = validate(&scene);
     if !problems.is_empty() {
         let listed: Vec<String> = problems.iter().map(|p| p.to_string()).collect();

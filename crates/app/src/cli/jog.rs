@@ -22,7 +22,8 @@ use super::Outcome;
 use super::report::load_scene;
 use super::stream::{CAUTION, confirm};
 use crate::editor::follow::{FollowEnd, FollowRun, follow_joints};
-use crate::scene::{Device, Scene, pose_from_file_units, pose_to_file_units, servo_model_of};
+use crate::scene::{Device, Scene, pose_from_file_units, pose_to_file_units};
+use crate::task::servo_model_of;
 
 /// The command words, as `help` prints them.
 pub(crate) const JOG_HELP: &str = "\

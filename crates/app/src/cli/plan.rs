@@ -16,8 +16,9 @@ use super::clearance::{Motion, SceneCell, any_contact};
 use super::report::{TORQUE_BASIS, fail, load_scene, print_json, rounded};
 use crate::approach::approach_note;
 use crate::scene::{
-    JointLimitDoc, Scene, field_table, plan_of, position_to_file_unit, rate_to_file_unit, save_text,
+    JointLimitDoc, Scene, field_table, position_to_file_unit, rate_to_file_unit, save_text,
 };
+use crate::task::plan_of;
 
 /// Interval at which torque use is looked at along the plan, in s.
 pub(crate) const TORQUE_INTERVAL: f64 = 0.01;

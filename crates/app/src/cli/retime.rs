@@ -11,7 +11,8 @@ use serde_json::{Value, json};
 use super::Outcome;
 use super::report::{TORQUE_BASIS, fail, load_scene, print_json, rounded};
 use super::simulate::summary_json;
-use crate::scene::{RetimeSettings, Shaping, retime_scene, save};
+use crate::scene::{Shaping, save};
+use crate::task::{RetimeSettings, retime_scene};
 
 /// What `retime` is asked for, in the command line's units.
 pub(crate) struct RetimeRequest<'a> {

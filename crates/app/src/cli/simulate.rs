@@ -19,7 +19,8 @@ use super::clearance::{Motion, SceneCell, any_contact};
 use super::plan::{TORQUE_INTERVAL, approach_json, load_and_plan};
 use super::report::{TORQUE_BASIS, all_rounded, fail, print_json, rounded};
 use crate::approach::approach_note;
-use crate::scene::{Arrival, Placement, Scene, dry_run_of, placements_of, position_to_file_unit};
+use crate::scene::{Arrival, Placement, Scene, placements_of, position_to_file_unit};
+use crate::task::dry_run_of;
 
 pub(crate) fn run(file: &Path, json: bool) -> Outcome {
     let (scene, arm, plan) = match load_and_plan(file, json) {
@@ -306,12 +307,12 @@ fn print_dry_run(scene: &Scene, run: &DryRun, report: &SimulateReport) {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::scene::{build_arm, load, plan_of};
+    use crate::scene::{build_arm, load};
+    use crate::task::plan_of;
 
     #[test]
     fn a_simulated_torque_use_over_100_pct_is_a_problem_naming_joint_and_waypoint() {
-        let path = Path::new(env!("CARGO_MANIFEST_DIR"))
-            .join("../../sample-scenes/peg-sorter.armwright.json");
+        let path = armwright_test_support::samples::sample_scene("peg-sorter");
         let scene = load(&path).expect("sample loads");
         let arm = build_arm(&scene.arm).expect("sample arm");
         let plan = plan_of(&scene, &arm).expect("plans");

@@ -12,8 +12,10 @@ use armwright_link::{DeviceInfo, arm_setpoint};
 use super::command::{Outside, edit};
 use super::device::{ChannelPulse, LinkAction};
 use super::state::{EditorState, Level, StopState};
-use crate::cli::calibrate::{fit_options, fitted_points, si_per_file_unit};
-use crate::scene::{GripperState, validate};
+use crate::cli::calibrate::{
+    DEADBAND_SEARCH_LIMIT_US, fit_options, fitted_points, fitted_uncertainty, si_per_file_unit,
+};
+use crate::scene::{GripperState, JointKindDoc, validate};
 
 /// The pulse steps offered, in µs.
 pub const PULSE_STEPS_US: [f64; 3] = [1.0, 10.0, 50.0];
@@ -22,10 +24,6 @@ pub const PULSE_STEPS_US: [f64; 3] = [1.0, 10.0, 50.0];
 /// within a few 20 ms frames, and a person sees a movement and presses within about ¼ s (from
 /// memory), so a press lands on the step that moved the joint or the one after it.
 pub const DEADBAND_STEP_S: f64 = 0.6;
-
-/// The deadband search gives up after this many µs in one direction without a movement seen:
-/// hobby-servo deadbands are a few µs (common practice).
-pub const DEADBAND_SEARCH_LIMIT_US: f64 = 50.0;
 
 /// One measured point: the pulse held and the position a person read there.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -323,18 +321,21 @@ fn refit(state: &mut EditorState) {
         state.calibration.fit = None;
         return;
     }
+    let readings = readings_of(&state.calibration.points, kind);
+    state.calibration.fit =
+        Some(fit_calibration(&readings, &fit_options(kind)).map_err(|error| error.to_string()));
+}
+
+/// The recorded points as the fit takes them: positions in rad or m.
+fn readings_of(points: &[MeasuredPosition], kind: JointKindDoc) -> Vec<CalibrationReading> {
     let to_si = si_per_file_unit(kind);
-    let readings: Vec<CalibrationReading> = state
-        .calibration
-        .points
+    points
         .iter()
         .map(|point| CalibrationReading {
             pulse_us: point.pulse_us,
             position: point.position * to_si,
         })
-        .collect();
-    state.calibration.fit =
-        Some(fit_calibration(&readings, &fit_options(kind)).map_err(|error| error.to_string()));
+        .collect()
 }
 
 fn tick(state: &mut EditorState, now_s: f64, outside: &mut Vec<Outside>) {
@@ -439,8 +440,9 @@ fn moved(state: &mut EditorState) {
     };
 }
 
-/// Writes the fit's straight line (and the deadband found, if any) into the scene's joint as
-/// one undo step, after checking the scene with it.
+/// Writes the fit's straight line, its uncertainty (the line's residual standard error, as
+/// `armwright calibrate --write` records it; none from two points) and the deadband found, if
+/// any, into the scene's joint as one undo step, after checking the scene with it.
 fn apply_fit(state: &mut EditorState) {
     let joint = state.calibration.joint;
     let Some(Ok(fit)) = &state.calibration.fit else {
@@ -456,6 +458,8 @@ fn apply_fit(state: &mut EditorState) {
     let mut scene = state.scene.clone();
     let doc = &mut scene.arm.joints[joint];
     doc.calibration.points = fitted_points(fit, kind);
+    let uncertainty = fitted_uncertainty(fit, &readings_of(&state.calibration.points, kind), kind);
+    doc.calibration.uncertainty = uncertainty;
     let deadband = match state.calibration.deadband {
         DeadbandSearch::Found { proposed_us, .. } => Some((proposed_us * 100.0).round() / 100.0),
         _ => None,
@@ -471,9 +475,9 @@ fn apply_fit(state: &mut EditorState) {
         );
         return;
     }
-    let per = match kind {
-        crate::scene::JointKindDoc::Revolute => "degree",
-        crate::scene::JointKindDoc::Prismatic => "mm",
+    let (per, unit) = match kind {
+        JointKindDoc::Revolute => ("degree", "°"),
+        JointKindDoc::Prismatic => ("mm", " mm"),
     };
     let mut message = format!(
         "applied the calibration of {}: {:.3} µs per {per}, {:.1} µs at 0",
@@ -481,6 +485,9 @@ fn apply_fit(state: &mut EditorState) {
         fit.pulse_per_position_us() * si_per_file_unit(kind),
         fit.pulse_at_zero_us()
     );
+    if let Some(uncertainty) = uncertainty {
+        message.push_str(&format!(", uncertainty {uncertainty}{unit}"));
+    }
     if let Some(deadband_us) = deadband {
         message.push_str(&format!(", deadband {deadband_us} µs"));
     }
@@ -534,6 +541,29 @@ mod tests {
         assert_eq!(joint.calibration.points[0].pulse_us, 1200);
         assert_eq!(joint.calibration.points[1].pulse_us, 1800);
         assert_eq!(joint.servo.deadband_us, 5.5);
+        // The uncertainty is the line's residual standard error √(Σ r² / (n − 2)) (Draper &
+        // Smith, Applied Regression Analysis, 3rd ed., §1.4; from memory), r the degrees off
+        // the least-squares line, as `armwright calibrate --write` records it.
+        let slope = sxy / sxx;
+        let squares: f64 = xs
+            .iter()
+            .zip(ys)
+            .map(|(x, y)| (y - my - slope * (x - mx)).powi(2))
+            .sum();
+        let standard_error = (squares / 2.0).sqrt();
+        let recorded = joint.calibration.uncertainty.expect("an uncertainty");
+        assert!(
+            (recorded - standard_error).abs() <= 0.5e-4,
+            "{recorded} vs {standard_error}"
+        );
+        assert!(
+            state
+                .messages
+                .last()
+                .is_some_and(|m| m.text.contains(&format!("uncertainty {recorded}°"))),
+            "{:?}",
+            state.messages.last()
+        );
         assert_ne!(state.scene, before);
         let mut outside = Vec::new();
         let (mut link, _requests) = crate::editor::estop::ChannelStopLink::new();

@@ -3,11 +3,12 @@
 //!
 //! Commands that need the world outside the state (files, the system's file dialog, closing the
 //! window) come back from [`apply`] as [`Outside`] for the editor to carry out.
+//!
+//! By area: `command/pose.rs` moves the edited arm (joints, tool angle, drag, branch),
+//! `command/sequence.rs` edits the waypoints, `command/retime.rs` runs the retime tab; the
+//! stop, dialogs, files, undo and the arm form stay here.
 
 use std::path::PathBuf;
-
-use armwright_kinematics::{IkError, IkOptions, IkTarget, JointKind, solve_ik};
-use nalgebra::Vector3;
 
 use armwright_link::ResetConfirmation;
 
@@ -16,23 +17,14 @@ use super::calibration::{self, CalibrationCommand};
 use super::device::LinkAction;
 use super::estop::{StopLink, StopRequest};
 use super::history::{EditKey, Snapshot};
-use super::playback::{self, PlaybackCommand};
-use super::retime_job::RetimeRun;
-use super::state::{
-    BranchChoice, Dialog, EditorState, Level, ReachStatus, StopSource, StopState, ToolsTab,
-};
-use super::waypoint_name::relative_name;
-use crate::scene::{
-    Arrival, Device, GripperState, MoveKind, ProfileKind, RetimeSettings, Scene, Waypoint,
-    pose_from_file_units, position_to_file_unit, validate,
-};
+use super::playback::PlaybackCommand;
+use super::state::{Dialog, EditorState, Level, StopSource, StopState, ToolsTab};
+use crate::scene::{Arrival, Device, GripperState, MoveKind, ProfileKind, Scene};
+use crate::task::RetimeSettings;
 
-/// A revolute joint turning more than this in one drag step counts as a jump to another branch,
-/// in rad (60°): the nearest solution near a singular pose can be far away.
-const BRANCH_JUMP: f64 = std::f64::consts::FRAC_PI_3;
-
-/// A prismatic joint sliding more than this in one drag step counts as a jump, in m.
-const SLIDE_JUMP: f64 = 0.05;
+mod pose;
+mod retime;
+mod sequence;
 
 /// One change of one waypoint's settings.
 #[derive(Debug, Clone, PartialEq)]
@@ -143,6 +135,8 @@ pub enum Command {
     ChooseDevice(Device),
     /// The user read and acknowledged the streaming caution.
     AcknowledgeCaution,
+    /// End each stream at the rest pose (park) or not.
+    ParkAfterStream(bool),
     /// Ask the device link to do something (on its worker thread).
     Link(LinkAction),
     /// Show a dialog.
@@ -305,147 +299,28 @@ pub fn apply(
                 "streaming caution acknowledged for this session",
             );
         }
+        Command::ParkAfterStream(park) => state.park_after_stream = park,
         Command::Link(action) => link_action(state, action, outside),
-        Command::SetJoint { joint, position } => {
-            if joint < state.pose.len() && position.is_finite() {
-                state.pose[joint] = state.clamp_to_limits(joint, position);
-                state.branch = None;
-                state.branch_choices.clear();
-                state.reach = ReachStatus::Idle;
-                state.pose_changed();
-            }
-        }
+        Command::SetJoint { joint, position } => pose::set_joint(state, joint, position),
         Command::SetGripper(gripper) => state.gripper = gripper,
-        Command::SetToolAngle(angle) => {
-            if angle.is_finite() {
-                state.tool_angle = wrap_angle(angle);
-            }
-        }
-        Command::DragToolPoint { target } => drag_tool_point(state, target),
-        Command::ChooseBranch(index) => {
-            if let Some(choice) = state.branch_choices.get(index).cloned()
-                && choice.positions.len() == state.pose.len()
-            {
-                state.pose = choice.positions;
-                state.branch = Some(choice.label.clone());
-                state.branch_choices.clear();
-                state.reach = ReachStatus::Reached;
-                state.pose_changed();
-                state.say(
-                    Level::Info,
-                    format!("switched to branch \"{}\"", choice.label),
-                );
-            }
-        }
-        Command::StoreWaypoint => {
-            let at = state
-                .selected_waypoint
-                .map_or(state.scene.waypoints.len(), |index| index + 1);
-            add_waypoint(state, at);
-        }
-        Command::InsertWaypoint => {
-            let at = state.selected_waypoint.unwrap_or(0);
-            add_waypoint(state, at);
-        }
-        Command::DeleteWaypoint(index) => {
-            if index < state.scene.waypoints.len() {
-                edit(state, None, |state| {
-                    let removed = state.scene.waypoints.remove(index);
-                    state.selected_waypoint = if state.scene.waypoints.is_empty() {
-                        None
-                    } else {
-                        Some(index.min(state.scene.waypoints.len() - 1))
-                    };
-                    state.say(Level::Info, format!("deleted \"{}\"", removed.name));
-                });
-            }
-        }
-        Command::DuplicateWaypoint(index) => {
-            if let Some(original) = state.scene.waypoints.get(index).cloned() {
-                let name = unique_name(state, &format!("{} (copy)", original.name));
-                let copy = Waypoint {
-                    name: name.clone(),
-                    ..original
-                };
-                edit(state, None, |state| {
-                    state.scene.waypoints.insert(index + 1, copy);
-                    state.selected_waypoint = Some(index + 1);
-                });
-                state.say(Level::Info, format!("stored \"{name}\""));
-            }
-        }
-        Command::NewSequence => {
-            if !state.scene.waypoints.is_empty() {
-                let count = state.scene.waypoints.len();
-                edit(state, None, |state| {
-                    state.scene.waypoints.clear();
-                    state.selected_waypoint = None;
-                });
-                state.say(
-                    Level::Info,
-                    format!(
-                        "new sequence: {} removed (undo brings them back); the arm is kept",
-                        match count {
-                            1 => "1 waypoint".to_string(),
-                            count => format!("{count} waypoints"),
-                        }
-                    ),
-                );
-            }
-        }
-        Command::MoveWaypoint { from, to } => {
-            let count = state.scene.waypoints.len();
-            if from < count && to < count && from != to {
-                edit(state, None, |state| {
-                    let waypoint = state.scene.waypoints.remove(from);
-                    state.scene.waypoints.insert(to, waypoint);
-                    state.selected_waypoint = Some(to);
-                });
-            }
-        }
-        Command::EditWaypoint { index, field } => {
-            if index < state.scene.waypoints.len() && field_is_valid(&field) {
-                let key = EditKey::Waypoint {
-                    waypoint: index,
-                    field: field.key(),
-                };
-                edit(state, Some(key), |state| {
-                    let waypoint = &mut state.scene.waypoints[index];
-                    match field {
-                        WaypointField::Name(name) => waypoint.name = name,
-                        WaypointField::MoveKind(kind) => waypoint.move_kind = kind,
-                        WaypointField::Profile(profile) => waypoint.profile = profile,
-                        WaypointField::SpeedSharePct(pct) => waypoint.speed_share_pct = pct,
-                        WaypointField::DwellMs(ms) => waypoint.dwell_ms = ms,
-                        WaypointField::Arrival(arrival) => waypoint.arrival = arrival,
-                        WaypointField::Gripper(gripper) => waypoint.gripper = gripper,
-                    }
-                });
-            }
-        }
+        Command::SetToolAngle(angle) => pose::set_tool_angle(state, angle),
+        Command::DragToolPoint { target } => pose::drag_tool_point(state, target),
+        Command::ChooseBranch(index) => pose::choose_branch(state, index),
+        Command::StoreWaypoint => sequence::store(state),
+        Command::InsertWaypoint => sequence::insert(state),
+        Command::DeleteWaypoint(index) => sequence::delete(state, index),
+        Command::DuplicateWaypoint(index) => sequence::duplicate(state, index),
+        Command::NewSequence => sequence::clear(state),
+        Command::MoveWaypoint { from, to } => sequence::move_to(state, from, to),
+        Command::EditWaypoint { index, field } => sequence::edit_field(state, index, field),
         Command::SetDescription(text) => {
             edit(state, Some(EditKey::Description), |state| {
                 state.scene.description = text;
             });
         }
-        Command::UpdateWaypointPose(index) => {
-            if index < state.scene.waypoints.len() {
-                let values = state.pose_in_file_units();
-                let gripper = state.gripper;
-                edit(state, None, |state| {
-                    let waypoint = &mut state.scene.waypoints[index];
-                    waypoint.joints_deg_or_mm = values;
-                    waypoint.gripper = gripper;
-                });
-            }
-        }
-        Command::SelectWaypoint(index) => {
-            if index < state.scene.waypoints.len() {
-                state.selected_waypoint = Some(index);
-                state.history.break_merge();
-            }
-        }
-        Command::JumpToWaypoint(index) => jump_to_waypoint(state, index),
+        Command::UpdateWaypointPose(index) => sequence::update_pose(state, index),
+        Command::SelectWaypoint(index) => sequence::select(state, index),
+        Command::JumpToWaypoint(index) => sequence::jump_to(state, index),
         Command::Undo => {
             let current = snapshot(state);
             match state.history.undo(current) {
@@ -501,30 +376,12 @@ pub fn apply(
             state.dialog = None;
             outside.push(Outside::DiscardRecovery);
         }
-        Command::SetRetimeOvershoot(mm) => {
-            if mm.is_finite() && mm > 0.0 {
-                state.retime.max_overshoot_mm = mm;
-            }
-        }
-        Command::SetRetimeTorqueShare(pct) => {
-            if pct.is_finite() && pct > 0.0 && pct <= 100.0 {
-                state.retime.torque_share_pct = pct;
-            }
-        }
-        Command::StartRetime => start_retime(state, outside),
-        Command::CancelRetime => {
-            if let RetimeRun::Running { cancelling, .. } = &mut state.retime.run {
-                *cancelling = true;
-                outside.push(Outside::CancelRetime);
-            }
-        }
-        Command::ApplyRetime => apply_retime(state),
-        Command::DiscardRetime => {
-            if matches!(state.retime.run, RetimeRun::Finished(_)) {
-                state.retime.run = RetimeRun::Idle;
-                state.say(Level::Info, "discarded the retimed timing");
-            }
-        }
+        Command::SetRetimeOvershoot(mm) => retime::set_overshoot(state, mm),
+        Command::SetRetimeTorqueShare(pct) => retime::set_torque_share(state, pct),
+        Command::StartRetime => retime::start(state, outside),
+        Command::CancelRetime => retime::cancel(state, outside),
+        Command::ApplyRetime => retime::apply_result(state),
+        Command::DiscardRetime => retime::discard(state),
         Command::EditArmField { field, text } => {
             if let Some(arm) = state.arm_form.type_text(field, text, &state.scene) {
                 edit(state, Some(EditKey::Arm(field)), |state| {
@@ -552,7 +409,7 @@ pub fn apply(
                 None => {}
             }
         }
-        Command::Playback(command) => playback::apply(state, command),
+        Command::Playback(command) => state.playback_command(command),
         Command::Calibration(command) => calibration::apply(state, command, outside),
         Command::Follow(command) => super::follow::apply(state, command, outside),
     }
@@ -563,7 +420,7 @@ pub fn apply(
 fn link_action(state: &mut EditorState, action: LinkAction, outside: &mut Vec<Outside>) {
     let moves = matches!(
         action,
-        LinkAction::Stream | LinkAction::Resume | LinkAction::HoldChannel(_)
+        LinkAction::Stream { .. } | LinkAction::Resume | LinkAction::HoldChannel(_)
     );
     if moves && !state.caution_acknowledged {
         state.say(
@@ -577,81 +434,6 @@ fn link_action(state: &mut EditorState, action: LinkAction, outside: &mut Vec<Ou
         );
     } else {
         outside.push(Outside::Link(action));
-    }
-}
-
-/// Starts a retime of the scene as it is, when it is valid and nothing is running.
-fn start_retime(state: &mut EditorState, outside: &mut Vec<Outside>) {
-    if state.retime.run.is_running() {
-        return;
-    }
-    let refusal = if state.arm.is_none() {
-        Some("cannot retime: the arm cannot be built".to_string())
-    } else if state.scene.waypoints.len() < 2 {
-        Some("cannot retime: the sequence needs at least two waypoints".to_string())
-    } else {
-        let problems = validate(&state.scene);
-        problems.first().map(|first| match problems.len() {
-            1 => format!("cannot retime: the scene has a problem at {first}"),
-            count => format!("cannot retime: the scene has {count} problems, the first at {first}"),
-        })
-    };
-    if let Some(reason) = refusal {
-        state.retime.run = RetimeRun::Failed { reason };
-        return;
-    }
-    state.retime.run = RetimeRun::Running {
-        progress: 0.0,
-        base: Box::new(state.scene.clone()),
-        cancelling: false,
-    };
-    outside.push(Outside::StartRetime {
-        scene: Box::new(state.scene.clone()),
-        settings: state.retime.settings(),
-    });
-}
-
-/// Writes a finished retime's timing into the scene as one undo step, unless the scene changed
-/// since the retime started.
-fn apply_retime(state: &mut EditorState) {
-    let RetimeRun::Finished(report) = &state.retime.run else {
-        return;
-    };
-    if report.base != state.scene {
-        state.say(
-            Level::Warning,
-            "the scene changed since this retime started: its result is stale; retime again",
-        );
-        return;
-    }
-    let retimed = report.retimed.clone();
-    let message = format!(
-        "applied the retimed timing: cycle {:.2} s, was {:.2} s (one undo step)",
-        report.after.cycle_time_s, report.before.cycle_time_s
-    );
-    edit(state, None, |state| state.scene = retimed);
-    // The torque share became the scene's derating: torque use at the pose follows it.
-    state.pose_changed();
-    state.retime.run = RetimeRun::Idle;
-    state.say(Level::Info, message);
-}
-
-/// Whether a number typed into a waypoint setting is one the scene file accepts.
-fn field_is_valid(field: &WaypointField) -> bool {
-    match field {
-        WaypointField::SpeedSharePct(pct) => pct.is_finite() && *pct > 0.0 && *pct <= 100.0,
-        WaypointField::DwellMs(ms) => ms.is_finite() && *ms >= 0.0,
-        _ => true,
-    }
-}
-
-/// An angle wrapped into (−π, π], in rad.
-fn wrap_angle(angle: f64) -> f64 {
-    let wrapped = angle.rem_euclid(std::f64::consts::TAU);
-    if wrapped > std::f64::consts::PI {
-        wrapped - std::f64::consts::TAU
-    } else {
-        wrapped
     }
 }
 
@@ -691,232 +473,12 @@ pub(super) fn edit(
     }
 }
 
-/// How close two tool points must be across (x and y), in m, for a move between them to count
-/// as straight up or down (0.5 mm).
-const VERTICAL_ACROSS: f64 = 0.5e-3;
-
-/// Stores the current pose at `at`. The new waypoint takes the settings of the one before it
-/// (move, profile, speed share, dwell, arrival); one stored straight above or below the one
-/// before it is a straight move, named for it ("20 mm below grip spacer 1", counted from what
-/// the one before describes rather than stacked on its name: `waypoint_name.rs`), and one that
-/// leaves such a vertical approach sideways is a joint move; one that only changes the gripper
-/// is named for that ("grip spacer 1, gripper closed").
-fn add_waypoint(state: &mut EditorState, at: usize) {
-    let at = at.min(state.scene.waypoints.len());
-    let pose = state.pose_in_file_units();
-    let previous = at
-        .checked_sub(1)
-        .and_then(|index| state.scene.waypoints.get(index));
-    let mut waypoint = match previous {
-        Some(previous) => Waypoint {
-            gripper: state.gripper,
-            ..previous.clone()
-        },
-        None => Waypoint {
-            gripper: state.gripper,
-            ..Waypoint::default()
-        },
-    };
-    waypoint.joints_deg_or_mm = pose.clone();
-    let mut name = None;
-    let here = state.tool_point();
-    let there = previous.and_then(|previous| waypoint_tool_point(state, previous));
-    if let (Some(previous), Some(here), Some(there)) = (previous, here, there) {
-        match vertical_rise_mm(here, there) {
-            Some(rise_mm) if rise_mm.abs() >= 0.5 => {
-                waypoint.move_kind = MoveKind::Straight;
-                name = Some(relative_name(
-                    &previous.name,
-                    previous.gripper,
-                    rise_mm,
-                    state.gripper,
-                ));
-            }
-            Some(_) if previous.gripper != state.gripper => {
-                name = Some(relative_name(
-                    &previous.name,
-                    previous.gripper,
-                    0.0,
-                    state.gripper,
-                ));
-            }
-            Some(_) => {}
-            None => {
-                // Leaving a vertical approach or retreat sideways: a joint move.
-                let before = at
-                    .checked_sub(2)
-                    .and_then(|index| state.scene.waypoints.get(index))
-                    .and_then(|before| waypoint_tool_point(state, before));
-                if before
-                    .and_then(|before| vertical_rise_mm(there, before))
-                    .is_some_and(|rise_mm| rise_mm.abs() >= 0.5)
-                {
-                    waypoint.move_kind = MoveKind::Joint;
-                }
-            }
-        }
-    }
-    let name = match name {
-        Some(name) => unique_name(state, &name),
-        None => fresh_name(state),
-    };
-    waypoint.name = name.clone();
-    edit(state, None, |state| {
-        state.scene.waypoints.insert(at, waypoint);
-        state.selected_waypoint = Some(at);
-    });
-    state.say(Level::Info, format!("stored \"{name}\""));
-}
-
-/// The tool point of a waypoint's pose, in m, when the arm and its joint count allow.
-fn waypoint_tool_point(state: &EditorState, waypoint: &Waypoint) -> Option<Vector3<f64>> {
-    let arm = state.arm()?;
-    if waypoint.joints_deg_or_mm.len() != state.joint_count() {
-        return None;
-    }
-    let pose = pose_from_file_units(&state.scene.arm, &waypoint.joints_deg_or_mm);
-    armwright_kinematics::tool_pose(arm, &pose)
-        .ok()
-        .map(|pose| pose.translation.vector)
-}
-
-/// How far `here` is above `there` (negative: below), in mm, when it is straight above or below
-/// it (within [`VERTICAL_ACROSS`] across); `None` otherwise.
-fn vertical_rise_mm(here: Vector3<f64>, there: Vector3<f64>) -> Option<f64> {
-    let across = (here.x - there.x).hypot(here.y - there.y);
-    (across <= VERTICAL_ACROSS).then(|| (here.z - there.z) * 1e3)
-}
-
-/// `name`, or `name (2)`, `name (3)`… when a waypoint already has it.
-fn unique_name(state: &EditorState, name: &str) -> String {
-    let taken = |candidate: &str| state.scene.waypoints.iter().any(|w| w.name == candidate);
-    if !taken(name) {
-        return name.to_string();
-    }
-    (2..)
-        .map(|n| format!("{name} ({n})"))
-        .find(|candidate| !taken(candidate))
-        .unwrap_or_default()
-}
-
-/// "point N" with the smallest N not yet used.
-fn fresh_name(state: &EditorState) -> String {
-    (state.scene.waypoints.len() + 1..)
-        .map(|n| format!("point {n}"))
-        .find(|name| state.scene.waypoints.iter().all(|w| &w.name != name))
-        .unwrap_or_default()
-}
-
-fn jump_to_waypoint(state: &mut EditorState, index: usize) {
-    let Some(waypoint) = state.scene.waypoints.get(index) else {
-        return;
-    };
-    state.selected_waypoint = Some(index);
-    state.history.break_merge();
-    if waypoint.joints_deg_or_mm.len() != state.joint_count() {
-        let message = format!(
-            "\"{}\" has {} joint positions, the arm has {} joints",
-            waypoint.name,
-            waypoint.joints_deg_or_mm.len(),
-            state.joint_count()
-        );
-        state.say(Level::Error, message);
-        return;
-    }
-    let gripper = waypoint.gripper;
-    state.pose = pose_from_file_units(&state.scene.arm, &waypoint.joints_deg_or_mm);
-    state.gripper = gripper;
-    state.branch = None;
-    state.branch_choices.clear();
-    state.reach = ReachStatus::Idle;
-    state.pose_changed();
-}
-
-fn drag_tool_point(state: &mut EditorState, target: [f64; 3]) {
-    let Some(arm) = state.arm.as_ref() else {
-        return;
-    };
-    let ik_target =
-        IkTarget::at(Vector3::new(target[0], target[1], target[2])).with_angle(state.tool_angle);
-    match solve_ik(arm, &ik_target, &state.pose, &IkOptions::default()) {
-        Ok(solutions) => {
-            let branches = solutions.as_slice();
-            let chosen = match &state.branch {
-                Some(label) => branches.iter().find(|branch| branch.label() == label),
-                None => Some(solutions.nearest(&state.pose)),
-            };
-            let kinds: Vec<JointKind> = (0..state.pose.len())
-                .map(|joint| state.joint_kind(joint))
-                .collect();
-            let continuous =
-                chosen.filter(|branch| !jumps(&kinds, &state.pose, branch.positions()));
-            state.branch_choices = branches
-                .iter()
-                .filter(|branch| Some(branch.label()) != continuous.map(|c| c.label()))
-                .map(|branch| BranchChoice {
-                    label: branch.label().to_string(),
-                    positions: branch.positions().to_vec(),
-                })
-                .collect();
-            match continuous {
-                Some(branch) => {
-                    state.pose = branch.positions().to_vec();
-                    state.branch = Some(branch.label().to_string());
-                    state.reach = ReachStatus::Reached;
-                    let angle = state.tool_angle;
-                    state.pose_changed();
-                    // Keep the angle the user set, not the one read back (they agree up to
-                    // rounding, and reading back would let it creep).
-                    state.tool_angle = angle;
-                }
-                None => state.reach = ReachStatus::OtherBranchOnly,
-            }
-        }
-        Err(IkError::OutOfReach { short_by }) => {
-            state.reach = ReachStatus::OutOfReach {
-                short_by_mm: short_by * 1e3,
-            };
-        }
-        Err(IkError::BeyondLimit {
-            joint,
-            position,
-            by,
-        }) => {
-            let kind = state.scene.arm.shape.joint_kinds();
-            let kind = kind
-                .get(joint)
-                .copied()
-                .unwrap_or(crate::scene::JointKindDoc::Revolute);
-            state.reach = ReachStatus::AtJointLimit {
-                joint,
-                needed: position_to_file_unit(kind, position),
-                past_by: position_to_file_unit(kind, by),
-            };
-        }
-        Err(error) => {
-            state.reach = ReachStatus::NotSolved {
-                reason: error.to_string(),
-            };
-        }
-    }
-}
-
-/// Whether going from `from` to `to` moves a joint by more than one drag step can.
-fn jumps(kinds: &[JointKind], from: &[f64], to: &[f64]) -> bool {
-    kinds
-        .iter()
-        .zip(from.iter().zip(to))
-        .any(|(kind, (a, b))| match kind {
-            JointKind::Revolute => (a - b).abs() > BRANCH_JUMP,
-            JointKind::Prismatic => (a - b).abs() > SLIDE_JUMP,
-        })
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
     use crate::editor::estop::ChannelStopLink;
     use crate::editor::sample::sample_scene;
+    use crate::editor::state::ReachStatus;
 
     fn run(state: &mut EditorState, command: Command) -> Vec<Outside> {
         let (mut link, _requests) = ChannelStopLink::new();
@@ -1170,23 +732,10 @@ mod tests {
     }
 
     #[test]
-    fn angles_wrap_into_half_open_turn() {
-        assert!((wrap_angle(3.0 * std::f64::consts::PI) - std::f64::consts::PI).abs() < 1e-12);
-        assert!((wrap_angle(-0.5) + 0.5).abs() < 1e-12);
-    }
-
-    #[test]
-    fn a_small_step_is_not_a_jump_but_a_flip_is() {
-        let kinds = [JointKind::Revolute, JointKind::Prismatic];
-        assert!(!jumps(&kinds, &[0.0, 0.0], &[0.1, 0.01]));
-        assert!(jumps(&kinds, &[0.0, 0.0], &[2.0, 0.0]));
-        assert!(jumps(&kinds, &[0.0, 0.0], &[0.0, 0.2]));
-    }
-
-    #[test]
     fn streaming_waits_for_the_caution_and_for_a_cleared_stop() {
         let mut state = EditorState::new(sample_scene(), None);
-        assert!(run(&mut state, Command::Link(LinkAction::Stream)).is_empty());
+        let stream = LinkAction::Stream { park: false };
+        assert!(run(&mut state, Command::Link(stream.clone())).is_empty());
         assert!(
             state
                 .messages
@@ -1195,8 +744,8 @@ mod tests {
         );
         let _ = run(&mut state, Command::AcknowledgeCaution);
         assert_eq!(
-            run(&mut state, Command::Link(LinkAction::Stream)),
-            vec![Outside::Link(LinkAction::Stream)]
+            run(&mut state, Command::Link(stream.clone())),
+            vec![Outside::Link(stream)]
         );
         let _ = run(&mut state, Command::EmergencyStop(StopSource::Button));
         assert!(run(&mut state, Command::Link(LinkAction::Resume)).is_empty());

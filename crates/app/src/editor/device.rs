@@ -12,22 +12,28 @@ use std::time::{Duration, Instant};
 
 use armwright_kinematics::{Arm, JointKind};
 use armwright_link::{
-    ChannelValues, DeviceInfo, EmergencyStop, Link, LinkError, LinkEvent, LinkState, PortSummary,
-    ReadingsSource, ResetConfirmation, SerialTransport, SimDevice, SimDeviceConfig, SimTransport,
-    StreamOptions, StreamStats, Transport, list_ports,
+    ChannelOutput, ChannelValues, DeviceInfo, DeviceMode, EmergencyStop, Faults, Link, LinkError,
+    LinkEvent, LinkLoss, LinkState, PortSummary, ReadingsSource, ResetConfirmation,
+    SerialTransport, SimDevice, SimDeviceConfig, SimTransport, StreamOptions, StreamStats,
+    Transport, list_ports,
 };
 use armwright_trajectory::ServoModelOptions;
 
 use super::estop::{StopLink, StopRequest};
-use super::follow::{FollowAction, FollowRun, FollowView};
+use super::follow::{FollowAction, FollowPhase, FollowRun, FollowView};
 use crate::approach::stream_plan;
-use crate::scene::{Device, Scene, plan_of};
+use crate::scene::{Device, Scene};
+use crate::task::plan_of;
 
 /// Setpoints queued ahead of the device: a pause takes effect within this many periods.
 const QUEUE_AHEAD: usize = 8;
 
 /// How long a held channel's pulse waits for the one before it to go out.
 const HOLD_WAIT: Duration = Duration::from_millis(500);
+
+/// How long a confirmed reset waits for the device to acknowledge the stop it resets: longer
+/// than the link waits before calling a silent device lost (250 ms).
+const STOP_CONFIRM_WAIT: Duration = Duration::from_secs(1);
 
 /// How long the worker waits for a request when it has nothing else to do.
 const IDLE_WAIT: Duration = Duration::from_millis(20);
@@ -55,8 +61,11 @@ pub enum LinkAction {
     Connect(Device),
     /// Close the link; the device is asked to hold.
     Disconnect,
-    /// Plan the scene's sequence and stream it from its start.
-    Stream,
+    /// Plan the scene's sequence and stream it from its start (after the approach).
+    Stream {
+        /// End by moving to the rest pose and holding there, as `stream --park` does.
+        park: bool,
+    },
     /// Let the queued setpoints run out, then hold.
     Pause,
     /// Go on streaming from where the pause left off.
@@ -190,43 +199,142 @@ struct Published {
     view: LinkView,
     simulated: Option<Arc<Mutex<SimDevice>>>,
     reports: Vec<Report>,
+    /// Reports added since the worker started (the window takes them; this count stays).
+    reports_added: u64,
     /// The window to wake when something it shows changed.
     waker: Option<egui::Context>,
 }
 
-/// What the window shows of the link, compared from one worker turn to the next to decide
-/// whether the window needs a redraw.
+impl Published {
+    /// Adds a report for the window to take.
+    fn push(&mut self, report: Report) {
+        self.reports.push(report);
+        self.reports_added += 1;
+    }
+}
+
+/// What the window draws of the link, compared from one worker turn to the next to decide
+/// whether the window needs a redraw: the values as the panels print them, so that a change
+/// nobody can see (a longer acknowledgement wait, a heartbeat's status line saying what the last
+/// one said, a reading a hair off the last) wakes nothing.
 #[derive(Debug, Clone, PartialEq, Default)]
 struct Shown {
-    stats: Option<StreamStats>,
+    /// Redrawn at once, never held back by [`WAKE_INTERVAL`].
+    urgent: Urgent,
+    /// Redrawn at most once every [`WAKE_INTERVAL`].
+    routine: Routine,
+}
+
+/// What a stop, a lost link or the end of a stream or a follow run changes: the window shows
+/// each at once.
+#[derive(Debug, Clone, PartialEq, Default)]
+struct Urgent {
+    state: Option<LinkState>,
+    loss: Option<LinkLoss>,
+    mode: Option<DeviceMode>,
+    faults: Option<Faults>,
     phase: StreamPhase,
+    ended: Option<StreamEnd>,
+    connection: Option<Connection>,
+    follow: (FollowPhase, u64),
+    /// Reports added for the window (a lost link, a refused stream say why there).
+    reports: u64,
+}
+
+/// Counters and figures, as the link panel prints them.
+#[derive(Debug, Clone, PartialEq, Default)]
+struct Routine {
+    /// Setpoints sent, acknowledged, late, dropped; underruns.
+    frames: [u64; 5],
+    /// Jitter mean, 99th percentile and largest, and the last stop's write latency, in the
+    /// 10 µs the panel prints (0.01 ms).
+    timing: [Option<u128>; 4],
+    /// The status line's counters: bad lines, bad checksums, clamped values, watchdog trips.
+    counts: Option<[u16; 4]>,
+    /// What the device says it sends (the timeline draws the approach from it).
+    output: Option<Option<ChannelOutput>>,
+    /// The analog readings in steps of [`READING_STEP`] (the input arm is drawn from them).
+    readings: Option<Vec<u16>>,
     progress: (usize, usize),
+    sent: usize,
+    /// The follow share, in the whole % the panel prints.
+    follow_share_pct: i64,
     listing: bool,
     connecting: bool,
-    connected: bool,
     ports: usize,
-    /// Reports waiting for the window.
-    reports: usize,
 }
+
+/// Analog reading units (of 0–4095) an input must move before that alone redraws the window:
+/// about 0.4 % of its travel, below what the eye sees of the input arm, above a potentiometer's
+/// flicker.
+const READING_STEP: u16 = 16;
 
 impl Shown {
     fn of(published: &Published) -> Shown {
         let view = &published.view;
+        let stats = view.stats.as_ref();
+        let status = stats.and_then(|stats| stats.last_status);
+        let tens_of_us = |duration: Duration| (duration.as_micros() + 5) / 10;
         Shown {
-            stats: view.stats.clone(),
-            phase: view.phase,
-            progress: view.progress,
-            listing: view.listing,
-            connecting: view.connecting,
-            connected: view.connection.is_some(),
-            ports: view.ports.len(),
-            reports: published.reports.len(),
+            urgent: Urgent {
+                state: stats.map(|stats| stats.state),
+                loss: stats.and_then(|stats| stats.loss),
+                mode: status.map(|status| status.mode),
+                faults: status.map(|status| status.faults),
+                phase: view.phase,
+                ended: view.ended,
+                connection: view.connection.clone(),
+                follow: (view.follow.phase, view.follow.ended),
+                reports: published.reports_added,
+            },
+            routine: Routine {
+                frames: stats.map_or([0; 5], |stats| {
+                    [
+                        stats.frames_sent,
+                        stats.frames_acked,
+                        stats.frames_late,
+                        stats.frames_dropped,
+                        stats.underruns,
+                    ]
+                }),
+                timing: stats.map_or([None; 4], |stats| {
+                    [
+                        Some(tens_of_us(stats.jitter_mean)),
+                        Some(tens_of_us(stats.jitter_p99)),
+                        Some(tens_of_us(stats.jitter_max)),
+                        stats.stop_write_latency.map(tens_of_us),
+                    ]
+                }),
+                counts: status.map(|status| {
+                    [
+                        status.bad_lines,
+                        status.bad_checksums,
+                        status.clamped_values,
+                        status.watchdog_trips,
+                    ]
+                }),
+                output: stats.map(|stats| stats.device_output),
+                readings: stats.and_then(|stats| stats.readings).map(|readings| {
+                    readings
+                        .as_slice()
+                        .iter()
+                        .map(|reading| (reading + READING_STEP / 2) / READING_STEP)
+                        .collect()
+                }),
+                progress: view.progress,
+                sent: view.sent,
+                follow_share_pct: (view.follow.share * 100.0).round() as i64,
+                listing: view.listing,
+                connecting: view.connecting,
+                ports: view.ports.len(),
+            },
         }
     }
 }
 
-/// Wakes the window when what it shows of the link changed, at most once every
-/// [`WAKE_INTERVAL`]; a change inside the interval is woken for when it ends.
+/// Wakes the window when what it draws of the link changed: at once for a stop, a lost link or
+/// an ended stream ([`Urgent`]); otherwise at most once every [`WAKE_INTERVAL`], a change inside
+/// the interval woken for when it ends.
 #[derive(Debug, Default)]
 struct Waking {
     shown: Shown,
@@ -254,32 +362,40 @@ impl Waking {
     }
 
     fn check(&mut self, published: &Published) {
-        let shown = Shown::of(published);
-        if shown != self.shown {
-            self.shown = shown;
-            self.pending = true;
-        }
         let pose = published.simulated.as_ref().and_then(|device| {
             let device = device.lock().unwrap_or_else(PoisonError::into_inner);
             device.arm_positions().map(<[f64]>::to_vec)
         });
-        if self.pose_moved(pose.as_deref()) {
-            self.pose = pose;
-            self.pending = true;
-        }
-        let now = Instant::now();
-        let due = self
-            .last
-            .is_none_or(|last| now.duration_since(last) >= WAKE_INTERVAL);
-        if self.pending
-            && due
+        if self.wanted(Shown::of(published), pose, Instant::now())
             && let Some(waker) = &published.waker
         {
             // A delay, however short, asks egui for one frame; no delay asks for two.
             waker.request_repaint_after(Duration::from_millis(1));
+        }
+    }
+
+    /// Notes what the window would draw now (`shown`, the simulated device's arm `pose`) at
+    /// `now`; returns whether to wake the window.
+    fn wanted(&mut self, shown: Shown, pose: Option<Vec<f64>>, now: Instant) -> bool {
+        let urgent = shown.urgent != self.shown.urgent;
+        if shown != self.shown {
+            self.shown = shown;
+            self.pending = true;
+        }
+        if self.pose_moved(pose.as_deref()) {
+            self.pose = pose;
+            self.pending = true;
+        }
+        let due = urgent
+            || self
+                .last
+                .is_none_or(|last| now.duration_since(last) >= WAKE_INTERVAL);
+        if self.pending && due {
             self.pending = false;
             self.last = Some(now);
+            return true;
         }
+        false
     }
 
     /// Whether `pose` differs from the one last drawn by a step worth a redraw.
@@ -321,6 +437,7 @@ enum Request {
     Stream {
         scene: Box<Scene>,
         arm: Box<Arm>,
+        park: bool,
     },
     Pause,
     Resume,
@@ -479,14 +596,15 @@ impl DeviceLink {
                     rate_hz: scene.link.rate_hz,
                     arm: arm.cloned().map(Box::new),
                     start: pose.to_vec(),
-                    servo: crate::scene::servo_model_of(scene),
+                    servo: crate::task::servo_model_of(scene),
                 }
             }
             LinkAction::Disconnect => Request::Disconnect,
-            LinkAction::Stream => match arm {
+            LinkAction::Stream { park } => match arm {
                 Some(arm) => Request::Stream {
                     scene: Box::new(scene.clone()),
                     arm: Box::new(arm.clone()),
+                    park,
                 },
                 None => {
                     self.report(Report::Problem(
@@ -509,7 +627,6 @@ impl DeviceLink {
         self.published
             .lock()
             .unwrap_or_else(PoisonError::into_inner)
-            .reports
             .push(report);
     }
 }
@@ -583,7 +700,6 @@ fn say(published: &Mutex<Published>, report: Report) {
     published
         .lock()
         .unwrap_or_else(PoisonError::into_inner)
-        .reports
         .push(report);
 }
 
@@ -667,12 +783,12 @@ impl Worker {
                     Ok(ports) => {
                         let count = ports.len();
                         published.view.ports = ports;
-                        published.reports.push(Report::Info(match count {
+                        published.push(Report::Info(match count {
                             1 => "1 serial port found".to_owned(),
                             count => format!("{count} serial ports found"),
                         }));
                     }
-                    Err(error) => published.reports.push(Report::Problem(error.to_string())),
+                    Err(error) => published.push(Report::Problem(error.to_string())),
                 }
             }
             Request::Connect {
@@ -689,7 +805,7 @@ impl Worker {
                     "disconnected; the device was asked to hold".into(),
                 ));
             }
-            Request::Stream { scene, arm } => self.start_stream(&scene, &arm),
+            Request::Stream { scene, arm, park } => self.start_stream(&scene, &arm, park),
             Request::Pause => {
                 if let (Some(stream), Some(link)) = (&mut self.stream, &self.link)
                     && stream.phase == StreamPhase::Streaming
@@ -708,6 +824,13 @@ impl Worker {
             Request::Quit => {}
             Request::Reset(confirmation) => {
                 if let Some(link) = &self.link {
+                    // A reset confirmed while the stop is still on its way (the link repeats it
+                    // until the device acknowledges it) would be refused: wait for the device's
+                    // word first, as long as the link would before calling it lost.
+                    let until = Instant::now() + STOP_CONFIRM_WAIT;
+                    while link.stats().state == LinkState::Stopping && Instant::now() < until {
+                        std::thread::sleep(Duration::from_millis(1));
+                    }
                     match link.reset_after_stop(confirmation) {
                         Ok(()) => self.say(Report::Info(
                             "the device confirmed the reset; it holds until you stream".into(),
@@ -790,7 +913,7 @@ impl Worker {
                     name: name.clone(),
                     info,
                 });
-                published.reports.push(Report::Info(format!(
+                published.push(Report::Info(format!(
                     "connected to {name}: firmware {}, {} channels",
                     info.firmware, info.channel_count
                 )));
@@ -839,7 +962,7 @@ impl Worker {
         published.view.progress = (0, 0);
     }
 
-    fn start_stream(&mut self, scene: &Scene, arm: &Arm) {
+    fn start_stream(&mut self, scene: &Scene, arm: &Arm, park: bool) {
         let Some(link) = &self.link else {
             self.say(Report::Problem(
                 "cannot stream: no device is connected".into(),
@@ -860,17 +983,24 @@ impl Worker {
                     state.output.as_ref(),
                     &link.device(),
                     self.rate_hz,
-                    false,
+                    park,
                 )
             });
         let (setpoints, start) = match planned {
             Ok(streamed) => {
-                let start = format!(
+                let mut start = format!(
                     "{}; approach {:.2} s at {} % speed share",
                     streamed.from.describe(),
                     streamed.approach.duration(),
                     scene.timing.approach_speed_share_pct
                 );
+                if let Some(parked) = &streamed.park {
+                    start.push_str(&format!(
+                        "; then the park move to the rest pose, {:.2} s, where the device holds \
+                         the arm",
+                        parked.duration()
+                    ));
+                }
                 (streamed.setpoints, start)
             }
             Err(message) => {
@@ -1163,11 +1293,15 @@ impl Worker {
         }
     }
 
-    /// Pushes the follow run's next steps; ends it when the link says so.
+    /// Pushes the follow run's next steps (holding when the input arm's readings stopped); ends
+    /// it when the link says so.
     fn step_follow(&mut self) {
         let (Some(run), Some(link)) = (&mut self.follow, &self.link) else {
             return;
         };
+        if let Some(report) = run.check_readings(link) {
+            say(&self.published, report);
+        }
         if let Some(end) = run.step(link) {
             self.follow = None;
             self.follows_ended += 1;
@@ -1183,5 +1317,133 @@ impl Worker {
         self.published
             .lock()
             .unwrap_or_else(PoisonError::into_inner)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn connected() -> Published {
+        Published {
+            view: LinkView {
+                stats: Some(StreamStats {
+                    state: LinkState::Idle,
+                    ..StreamStats::default()
+                }),
+                ..LinkView::default()
+            },
+            ..Published::default()
+        }
+    }
+
+    /// Whether the window is woken for `published` at `at`.
+    fn wakes(waking: &mut Waking, published: &Published, at: Instant) -> bool {
+        waking.wanted(Shown::of(published), None, at)
+    }
+
+    fn stats(published: &mut Published) -> &mut StreamStats {
+        published
+            .view
+            .stats
+            .get_or_insert_with(StreamStats::default)
+    }
+
+    #[test]
+    fn a_change_the_window_does_not_draw_wakes_nothing() {
+        let start = Instant::now();
+        let mut waking = Waking::default();
+        let mut published = connected();
+        assert!(wakes(&mut waking, &published, start), "the first look");
+        // What heartbeats change while the link idles: none of it is drawn.
+        for (turn, waited_ms) in [3, 5, 9].into_iter().enumerate() {
+            let stats = stats(&mut published);
+            stats.ack_wait_max = Duration::from_millis(waited_ms);
+            stats.acks_late += 1;
+            stats.readings_received += 1;
+            stats.send_gap_max = Duration::from_millis(waited_ms * 10);
+            stats.stop_ack_latency = Some(Duration::from_micros(waited_ms));
+            // Printed to 0.01 ms: a microsecond more is the same text.
+            stats.jitter_max = Duration::from_micros(turn as u64);
+            let later = start + WAKE_INTERVAL * (turn as u32 + 2);
+            assert!(!wakes(&mut waking, &published, later), "turn {turn}");
+        }
+        // A figure the panel prints differently does.
+        stats(&mut published).jitter_max = Duration::from_micros(40);
+        assert!(wakes(&mut waking, &published, start + WAKE_INTERVAL * 10));
+    }
+
+    #[test]
+    fn counters_wake_the_window_at_most_once_an_interval_and_the_last_change_is_not_lost() {
+        let start = Instant::now();
+        let mut waking = Waking::default();
+        let mut published = connected();
+        assert!(wakes(&mut waking, &published, start));
+        stats(&mut published).frames_sent = 1;
+        assert!(wakes(&mut waking, &published, start + WAKE_INTERVAL));
+        stats(&mut published).frames_sent = 2;
+        let soon = start + WAKE_INTERVAL + WAKE_INTERVAL / 3;
+        assert!(!wakes(&mut waking, &published, soon), "inside the interval");
+        // Nothing new since, but the change above is still owed a redraw.
+        assert!(wakes(&mut waking, &published, start + WAKE_INTERVAL * 2));
+        assert!(!wakes(&mut waking, &published, start + WAKE_INTERVAL * 4));
+    }
+
+    #[test]
+    fn a_stop_and_a_lost_link_wake_the_window_at_once() {
+        let start = Instant::now();
+        let mut waking = Waking::default();
+        let mut published = connected();
+        assert!(wakes(&mut waking, &published, start));
+        stats(&mut published).frames_sent = 1;
+        assert!(wakes(&mut waking, &published, start + WAKE_INTERVAL));
+        // A millisecond later, well inside the interval.
+        let at = start + WAKE_INTERVAL + Duration::from_millis(1);
+        stats(&mut published).state = LinkState::Stopping;
+        assert!(wakes(&mut waking, &published, at), "the stop");
+        stats(&mut published).last_status = Some(armwright_link::DeviceStatus {
+            mode: DeviceMode::Stopped,
+            faults: Faults::EMERGENCY_STOP,
+            bad_checksums: 0,
+            bad_lines: 0,
+            clamped_values: 0,
+            watchdog_trips: 0,
+        });
+        assert!(
+            wakes(&mut waking, &published, at + Duration::from_millis(1)),
+            "the device's word"
+        );
+        let stats = stats(&mut published);
+        stats.state = LinkState::Lost;
+        stats.loss = Some(LinkLoss::DeviceRestarted);
+        assert!(
+            wakes(&mut waking, &published, at + Duration::from_millis(2)),
+            "the lost link"
+        );
+        published.push(Report::Problem("link lost".into()));
+        assert!(
+            wakes(&mut waking, &published, at + Duration::from_millis(3)),
+            "its message"
+        );
+        // The window taking the messages changes nothing it draws.
+        published.reports.clear();
+        assert!(!wakes(&mut waking, &published, at + WAKE_INTERVAL * 2));
+    }
+
+    #[test]
+    fn the_simulated_arm_wakes_the_window_once_a_joint_moved_a_visible_step() {
+        let start = Instant::now();
+        let mut waking = Waking {
+            steps: vec![TURN_STEP, SLIDE_STEP],
+            ..Waking::default()
+        };
+        let published = connected();
+        let shown = || Shown::of(&published);
+        assert!(waking.wanted(shown(), Some(vec![0.0, 0.0]), start));
+        let later = |n: u32| start + WAKE_INTERVAL * n;
+        assert!(!waking.wanted(shown(), Some(vec![TURN_STEP * 0.9, 0.0]), later(2)));
+        assert!(!waking.wanted(shown(), Some(vec![0.0, SLIDE_STEP * 0.9]), later(3)));
+        assert!(waking.wanted(shown(), Some(vec![TURN_STEP * 1.1, 0.0]), later(4)));
+        assert!(waking.wanted(shown(), None, later(5)), "the arm went");
     }
 }

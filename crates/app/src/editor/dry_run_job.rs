@@ -12,10 +12,11 @@ use std::sync::mpsc::{Receiver, Sender, channel};
 use armwright_kinematics::Arm;
 
 use super::dry_run_marks::DryRunMarks;
-use super::playback::{self, DryRunStatus, Timeline};
+use super::playback::{DryRunStatus, Timeline};
 use super::state::EditorState;
 use super::traces::Traces;
-use crate::scene::{ArmDoc, Scene, Timing, Waypoint, dry_run_of, dry_run_options_of, plan_of};
+use crate::scene::{ArmDoc, Scene, Timing, Waypoint};
+use crate::task::{dry_run_of, dry_run_options_of, plan_of};
 
 /// What a plan depends on; a new job is needed when this changes.
 #[derive(Debug, Clone, PartialEq)]
@@ -104,8 +105,8 @@ impl DryRunJob {
             }
             self.done = Some(finished.generation);
             match finished.result {
-                Ok(timeline) => playback::accept(state, Arc::new(timeline)),
-                Err(reason) => playback::fail(state, reason),
+                Ok(timeline) => state.accept_timeline(Arc::new(timeline)),
+                Err(reason) => state.playback.fail(reason),
             }
         }
         if self.running.is_none() && self.done != Some(self.generation) {
@@ -120,7 +121,9 @@ impl DryRunJob {
         let generation = self.generation;
         let Some(arm) = state.arm().cloned() else {
             self.done = Some(generation);
-            playback::fail(state, "the arm cannot be built (see the messages)".into());
+            state
+                .playback
+                .fail("the arm cannot be built (see the messages)".into());
             return;
         };
         let scene = state.scene.clone();
@@ -140,7 +143,9 @@ impl DryRunJob {
             }
             Err(error) => {
                 self.done = Some(generation);
-                playback::fail(state, format!("cannot start the dry run: {error}"));
+                state
+                    .playback
+                    .fail(format!("cannot start the dry run: {error}"));
             }
         }
     }
@@ -162,7 +167,7 @@ impl DryRunJob {
 }
 
 /// Plans `scene` on `arm`, runs the dry run, builds the traces and finds the contacts and
-/// unsettled stops, or says why not.
+/// unsettled stops and estimates placement success at each pick or place, or says why not.
 fn plan_and_run(scene: &Scene, arm: &Arm, generation: u64) -> Result<Timeline, String> {
     let plan = plan_of(scene, arm).map_err(|error| format!("cannot plan: {error}"))?;
     let run = dry_run_of(scene, arm, &plan).map_err(|error| format!("cannot simulate: {error}"))?;
@@ -180,7 +185,7 @@ fn plan_and_run(scene: &Scene, arm: &Arm, generation: u64) -> Result<Timeline, S
         .zip(plan.timings())
         .map(|(waypoint, timing)| (waypoint.name.clone(), timing.arrival))
         .collect();
-    let found = DryRunMarks::of(scene, arm, &plan, &run);
+    let found = DryRunMarks::of(scene, arm, &plan, &run)?;
     Ok(Timeline {
         found,
         generation,

@@ -1,4 +1,5 @@
-//! Follow and jog: the connected device tracking the edited pose live, apart from drawing.
+//! Follow and jog: the connected device tracking the edited pose — or the input arm — live,
+//! apart from drawing.
 //!
 //! The user's side ([`FollowSettings`] in the editor state, [`FollowCommand`]s from the follow
 //! panel and the jog keys) asks; the device link's worker thread does: it holds a
@@ -7,7 +8,11 @@
 //! one pulse rule) and pushed onto the link's stream, about 100 ms ahead of what the link
 //! has written (`AHEAD_TIME`), so the arm lags the edited pose by its own motion and that much.
 //! Every frame while following, [`update`] hands the edited pose (dragged, slid,
-//! jogged, jumped to a waypoint, or the timeline's cursor) to the worker as the new target.
+//! jogged, jumped to a waypoint, or the timeline's cursor) to the worker as the new target —
+//! or, following the input arm ([`FollowSource::InputArm`]), the pose the device's analog
+//! inputs give (`capture.rs`). While it follows the input arm the run watches the readings:
+//! when none has come for [`READINGS_SILENCE`] it brings the arm to rest, the device holds,
+//! and the editor says why and turns follow off.
 //!
 //! The emergency stop works as everywhere: the link drops the queue and latches, the run ends,
 //! and follow turns off. Turning follow off brings the arm to rest as soon as its limits allow
@@ -22,7 +27,8 @@ use armwright_trajectory::{FollowJoint, Follower, Sample, limits_from_arm};
 use super::command::Outside;
 use super::device::{DeviceLink, LinkAction, Report};
 use super::state::{EditorState, Level, ReachStatus, StopState};
-use crate::scene::{GripperState, Scene, limit_settings_of, servo_model_of};
+use crate::scene::{GripperState, Scene};
+use crate::task::{limit_settings_of, servo_model_of};
 
 /// How far ahead of what the link has written a follow run keeps setpoints queued, s: enough
 /// to ride out a busy host for 100 ms (two to five frames at the usual rates; the arm lags
@@ -35,12 +41,36 @@ pub const DEFAULT_FOLLOW_SHARE_PCT: f64 = 10.0;
 /// The range of the follow speed share, %.
 pub const FOLLOW_SHARE_RANGE_PCT: (f64, f64) = (1.0, 100.0);
 
+/// How long a run following the input arm waits for the next analog readings before it holds:
+/// ten readings lines at the editor's 20 a second (`capture::EDITOR_READINGS_HZ`), twice the
+/// time the link waits before it calls a silent device lost (our choice). It is counted in the
+/// device's own acknowledged setpoints (this long of link frames), not on the host's clock, so
+/// a busy host that reads nothing for a while does not take it for lost readings.
+pub const READINGS_SILENCE: Duration = Duration::from_millis(500);
+
+/// Shown when follow of the input arm is asked for with no input arm to follow.
+pub const NO_INPUT_ARM_TO_FOLLOW: &str = "no input arm to follow: connect a device that sends \
+                                          analog readings (protocol 3) and map its inputs to \
+                                          joints in the scene's \"inputs\"";
+
+/// What the device follows.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum FollowSource {
+    /// The edited pose: dragged, slid, jogged, a waypoint's, the timeline's cursor.
+    #[default]
+    EditedPose,
+    /// The input arm: the pose the device's analog inputs give through the scene's `inputs`.
+    InputArm,
+}
+
 /// What the user set for follow and jog; part of the editor state, not saved with the scene.
 #[derive(Debug, Clone, PartialEq)]
 pub struct FollowSettings {
-    /// The follow switch: the user wants the device to follow the edited pose. Off when the
-    /// editor opens.
+    /// The follow switch: the user wants the device to follow the edited pose or the input
+    /// arm. Off when the editor opens.
     pub on: bool,
+    /// What the device follows while `on`.
+    pub source: FollowSource,
     /// Share of each joint's limits follow may use, %.
     pub share_pct: f64,
     /// The joint the joint-jog keys move, index in chain order.
@@ -55,6 +85,8 @@ pub struct FollowSettings {
     ended_seen: u64,
     /// The worker was asked to leave the run it shows.
     leave_sent: bool,
+    /// The run was holding for want of readings, as last seen.
+    readings_lost_seen: bool,
 }
 
 impl Default for FollowSettings {
@@ -62,6 +94,7 @@ impl Default for FollowSettings {
     fn default() -> FollowSettings {
         FollowSettings {
             on: false,
+            source: FollowSource::EditedPose,
             share_pct: DEFAULT_FOLLOW_SHARE_PCT,
             jog_joint: 0,
             joint_step: 1.0,
@@ -69,6 +102,7 @@ impl Default for FollowSettings {
             sent: None,
             ended_seen: 0,
             leave_sent: false,
+            readings_lost_seen: false,
         }
     }
 }
@@ -76,8 +110,12 @@ impl Default for FollowSettings {
 /// What the follow panel and the jog keys ask for.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub enum FollowCommand {
-    /// Turn follow on or off.
+    /// Turn follow of the edited pose on or off (on while following the input arm: follow the
+    /// edited pose instead).
     Switch(bool),
+    /// Turn follow of the input arm on or off (on while following the edited pose: follow the
+    /// input arm instead).
+    InputArm(bool),
     /// Set the follow speed share, %.
     SharePct(f64),
     /// Choose the joint the joint-jog keys move.
@@ -94,17 +132,12 @@ pub enum FollowCommand {
 /// device link's worker through `outside`.
 pub(crate) fn apply(state: &mut EditorState, command: FollowCommand, outside: &mut Vec<Outside>) {
     match command {
-        FollowCommand::Switch(true) if !state.follow.on => match start_action(state) {
-            Err(reason) => state.say(Level::Warning, reason),
-            Ok(action) => {
-                state.follow.on = true;
-                state.follow.sent = None;
-                state.follow.leave_sent = false;
-                outside.push(Outside::Link(LinkAction::Follow(action)));
-            }
-        },
-        FollowCommand::Switch(false) => state.follow.on = false,
-        FollowCommand::Switch(_) => {}
+        FollowCommand::Switch(true) => switch_on(state, FollowSource::EditedPose, outside),
+        FollowCommand::InputArm(true) if state.input_pose.is_none() => {
+            state.say(Level::Warning, NO_INPUT_ARM_TO_FOLLOW);
+        }
+        FollowCommand::InputArm(true) => switch_on(state, FollowSource::InputArm, outside),
+        FollowCommand::Switch(false) | FollowCommand::InputArm(false) => state.follow.on = false,
         FollowCommand::SharePct(pct) => {
             if pct.is_finite() {
                 let (low, high) = FOLLOW_SHARE_RANGE_PCT;
@@ -152,8 +185,26 @@ pub(crate) fn apply(state: &mut EditorState, command: FollowCommand, outside: &m
     }
 }
 
+/// Turns follow of `source` on: starts a run, or — already following the other source — asks
+/// the run to follow this one (a start request to a running run changes what it watches).
+fn switch_on(state: &mut EditorState, source: FollowSource, outside: &mut Vec<Outside>) {
+    if state.follow.on && state.follow.source == source {
+        return;
+    }
+    match start_action(state, source) {
+        Err(reason) => state.say(Level::Warning, reason),
+        Ok(action) => {
+            state.follow.on = true;
+            state.follow.source = source;
+            state.follow.sent = None;
+            state.follow.leave_sent = false;
+            outside.push(Outside::Link(LinkAction::Follow(action)));
+        }
+    }
+}
+
 /// The worker's start request from the state, or why follow cannot start.
-fn start_action(state: &EditorState) -> Result<FollowAction, String> {
+fn start_action(state: &EditorState, source: FollowSource) -> Result<FollowAction, String> {
     if !state.caution_acknowledged {
         return Err("read and acknowledge the caution before the device follows".into());
     }
@@ -165,18 +216,37 @@ fn start_action(state: &EditorState) -> Result<FollowAction, String> {
         .as_ref()
         .ok_or("cannot follow: the scene's arm cannot be built")?;
     let joints = follow_joints(&state.scene, arm, &state.pose)?;
+    let (edited, inputs) = match (source, input_target(state)) {
+        (FollowSource::InputArm, Some(pose)) => (pose, true),
+        (FollowSource::InputArm, None) => return Err(NO_INPUT_ARM_TO_FOLLOW.into()),
+        (FollowSource::EditedPose, _) => (state.pose.clone(), false),
+    };
     Ok(FollowAction::Start {
         arm: Box::new(arm.clone()),
         joints,
         share: state.follow.share_pct / 100.0,
-        edited: state.pose.clone(),
+        edited,
         gripper_closed: state.gripper == GripperState::Closed,
+        inputs,
     })
 }
 
-/// Every frame: hands the edited pose to the worker as the target while following, turns
-/// follow off when the worker ended the run (stop, lost link, refusal) or a stop is latched,
-/// and asks the worker to leave a run it shows once follow is off.
+/// The input arm's pose as a follow target: each joint within its limits, as a capture stores
+/// it; `None` without an input arm.
+fn input_target(state: &EditorState) -> Option<Vec<f64>> {
+    let pose = state.input_pose.as_ref()?;
+    Some(
+        pose.iter()
+            .enumerate()
+            .map(|(joint, &position)| state.clamp_to_limits(joint, position))
+            .collect(),
+    )
+}
+
+/// Every frame: hands the edited pose (or the input arm's) to the worker as the target while
+/// following, turns follow off when the worker ended the run (stop, lost link, refusal), when
+/// it holds for want of readings, or when a stop is latched, and asks the worker to leave a run
+/// it shows once follow is off.
 pub(crate) fn update(state: &mut EditorState, device: &mut DeviceLink) {
     let view = &device.view().follow;
     if view.ended > state.follow.ended_seen {
@@ -186,6 +256,17 @@ pub(crate) fn update(state: &mut EditorState, device: &mut DeviceLink) {
     if state.follow.on && matches!(state.stop, StopState::Latched { .. }) {
         state.follow.on = false;
     }
+    if view.readings_lost
+        && !state.follow.readings_lost_seen
+        && state.follow.on
+        && state.follow.source == FollowSource::InputArm
+    {
+        // The run holds already (its message says why): the switch shows it. Only as the run
+        // starts holding, so turning follow on again while it comes to rest is not undone.
+        state.follow.on = false;
+        state.follow.leave_sent = true;
+    }
+    state.follow.readings_lost_seen = view.readings_lost;
     if !state.follow.on {
         state.follow.sent = None;
         if view.phase == FollowPhase::Following && !state.follow.leave_sent {
@@ -199,7 +280,15 @@ pub(crate) fn update(state: &mut EditorState, device: &mut DeviceLink) {
         }
         return;
     }
-    let wanted = (state.pose.clone(), state.gripper == GripperState::Closed);
+    let pose = match state.follow.source {
+        FollowSource::EditedPose => state.pose.clone(),
+        // No input arm this frame (readings not mapped yet): the target stays.
+        FollowSource::InputArm => match input_target(state) {
+            Some(pose) => pose,
+            None => return,
+        },
+    };
+    let wanted = (pose, state.gripper == GripperState::Closed);
     if state.follow.sent.as_ref() != Some(&wanted) {
         device.request(
             LinkAction::Follow(FollowAction::Target {
@@ -240,10 +329,15 @@ pub enum FollowAction {
         joints: Vec<FollowJoint>,
         /// Speed share, (0, 1].
         share: f64,
-        /// Where to start when the device cannot say where it is (a limp servo), rad or m.
+        /// Where to start when the device cannot say where it is (a limp servo): the edited
+        /// pose, or the input arm's when following it; rad or m.
         edited: Vec<f64>,
         /// Whether the gripper is closed.
         gripper_closed: bool,
+        /// The targets come from the input arm: hold when its readings stop
+        /// (`READINGS_SILENCE`, 0.5 s). A start request to a running run sets this (and the share)
+        /// and carries on.
+        inputs: bool,
     },
     /// Follow this pose now (rad or m per joint).
     Target {
@@ -303,6 +397,10 @@ pub struct FollowView {
     pub share: f64,
     /// Follow runs that ended (left, stopped, lost or refused) since the link worker started.
     pub ended: u64,
+    /// The run follows the input arm.
+    pub inputs: bool,
+    /// The run followed the input arm until its readings stopped: it comes to rest and holds.
+    pub readings_lost: bool,
 }
 
 /// How a follow run ended.
@@ -347,6 +445,11 @@ pub(crate) struct FollowRun {
     leaving: bool,
     /// The arm is at rest and the stream was told to finish: hold once the link is idle.
     finishing: bool,
+    /// While following the input arm: the link's count of readings received, and its count of
+    /// setpoints the device acknowledged when that last changed.
+    readings: Option<(u64, u64)>,
+    /// The readings stopped: the run is leaving and takes no new target.
+    readings_lost: bool,
 }
 
 impl FollowRun {
@@ -384,8 +487,8 @@ impl FollowRun {
             Some(_) => None,
             None => Some(
                 "the device cannot say where every joint is (a limp servo): following starts \
-                 from the edited pose, and a limp servo jumps to its first pulse at its own top \
-                 speed"
+                 from the pose it was asked to follow, and a limp servo jumps to its first pulse \
+                 at its own top speed"
                     .to_owned(),
             ),
         };
@@ -409,6 +512,8 @@ impl FollowRun {
                 sent_before,
                 leaving: false,
                 finishing: false,
+                readings: None,
+                readings_lost: false,
             },
             note,
         ))
@@ -419,6 +524,10 @@ impl FollowRun {
     /// # Errors
     /// The follower's reason (wrong joint count, a position that is not a number).
     pub(crate) fn set_target(&mut self, pose: &[f64], gripper_closed: bool) -> Result<(), String> {
+        if self.readings_lost {
+            // Holding for want of readings: a late target from the window moves nothing.
+            return Ok(());
+        }
         self.follower
             .set_target(pose)
             .map_err(|error| format!("cannot follow that pose: {error}"))?;
@@ -437,6 +546,40 @@ impl FollowRun {
         self.follower
             .set_share(share)
             .map_err(|error| format!("follow: {error}"))
+    }
+
+    /// Watch the link's analog readings (`true`: the targets come from the input arm) or stop
+    /// watching them; either way a hold for want of readings is lifted, and the next target
+    /// carries on.
+    pub(crate) fn watch_readings(&mut self, link: &Link, inputs: bool) {
+        let stats = link.stats();
+        self.readings = inputs.then_some((stats.readings_received, stats.frames_acked));
+        self.readings_lost = false;
+    }
+
+    /// While following the input arm: when the device acknowledged [`READINGS_SILENCE`] of
+    /// setpoints and sent no readings meanwhile, brings the arm to rest (the device then holds)
+    /// and returns what to tell the user, once.
+    pub(crate) fn check_readings(&mut self, link: &Link) -> Option<Report> {
+        let (count, acked_then) = self.readings.as_mut()?;
+        let stats = link.stats();
+        if stats.readings_received != *count {
+            *count = stats.readings_received;
+            *acked_then = stats.frames_acked;
+            return None;
+        }
+        let frames = (READINGS_SILENCE.as_secs_f64() / self.follower.period()).ceil() as u64;
+        let silent = stats.frames_acked.saturating_sub(*acked_then);
+        if self.readings_lost || silent < frames.max(1) {
+            return None;
+        }
+        self.readings_lost = true;
+        self.leave();
+        Some(Report::Problem(format!(
+            "no readings from the input arm for {:.1} s of the device's frames: follow of the \
+             input arm stops; the arm comes to rest and the device holds it",
+            silent as f64 * self.follower.period()
+        )))
     }
 
     /// Bring the arm to rest as soon as its limits allow, then hold; the run then ends.
@@ -471,6 +614,8 @@ impl FollowRun {
             positions: self.follower.positions().to_vec(),
             share: self.follower.share(),
             ended,
+            inputs: self.readings.is_some(),
+            readings_lost: self.readings_lost,
         }
     }
 
@@ -548,17 +693,29 @@ pub(crate) fn handle(
             share,
             edited,
             gripper_closed,
+            inputs,
         } => {
+            let what = if inputs {
+                "the input arm"
+            } else {
+                "the edited pose"
+            };
             if let Some(running) = run {
-                // Turned off and on again while coming to rest: carry on following.
+                // Turned off and on again while coming to rest, or the other source chosen:
+                // carry on following.
                 let _ = running.set_share(share);
-                return (None, false);
+                let watching = running.readings.is_some();
+                running.watch_readings(link, inputs);
+                let report = (watching != inputs)
+                    .then(|| Report::Info(format!("the device follows {what} now")));
+                return (report, false);
             }
             match FollowRun::start(link, *arm, &joints, share, &edited, gripper_closed, rate_hz) {
-                Ok((started, note)) => {
+                Ok((mut started, note)) => {
+                    started.watch_readings(link, inputs);
                     *run = Some(started);
                     let text = format!(
-                        "the device follows the edited pose at {:.0} % of the joints' limits",
+                        "the device follows {what} at {:.0} % of the joints' limits",
                         share * 100.0
                     );
                     let report = match note {

@@ -3,7 +3,8 @@
 //! that is always on screen.
 //!
 //! Naming scheme: `state.rs` holds what is saved, undone and tested (no egui types);
-//! `command.rs` is what panels ask for and how it changes the state; `history.rs` undo and
+//! `command.rs` is what panels ask for and how it changes the state (`command/`: by area, the
+//! pose, the sequence, the retime tab); `message.rs` a status-bar line; `history.rs` undo and
 //! redo; `estop.rs` the path a stop request takes out of the editor; `device.rs` the link to
 //! a device and its worker thread (connect, stream, pause, reset); `files.rs` file work off
 //! the UI thread; `recovery.rs` the autosaved copy; `sample.rs` the built-in scene;
@@ -30,6 +31,7 @@ mod estop;
 mod files;
 pub(crate) mod follow;
 mod history;
+mod message;
 mod panels;
 mod playback;
 mod recovery;
@@ -51,13 +53,16 @@ pub use device::{
     ChannelPulse, Connection, DeviceLink, LinkAction, LinkStopLink, LinkView, StreamEnd,
     StreamPhase,
 };
-pub use dry_run_marks::{ContactMark, DryRunMarks, Solid, UnsettledMark};
+pub use dry_run_marks::{ContactMark, DryRunMarks, Solid, UnsettledMark, placement_text};
 pub use estop::{ChannelStopLink, STOP_KEY, STOP_KEY_NAME, StopLink, StopRequest};
 pub use follow::{
-    DEFAULT_FOLLOW_SHARE_PCT, FollowAction, FollowCommand, FollowPhase, FollowSettings, FollowView,
+    DEFAULT_FOLLOW_SHARE_PCT, FollowAction, FollowCommand, FollowPhase, FollowSettings,
+    FollowSource, FollowView,
 };
-pub use panels::{ACKNOWLEDGE_LABEL, CAUTION, EMERGENCY_STOP_LABEL, MOVED_LABEL, NUDGE_KEYS};
-pub use panels::{FOLLOW_LABEL, JOG_BACK_KEY, JOG_KEYS, JOG_ON_KEY};
+pub use panels::{
+    ACKNOWLEDGE_LABEL, CAUTION, EMERGENCY_STOP_LABEL, MOVED_LABEL, NUDGE_KEYS, PARK_LABEL,
+};
+pub use panels::{FOLLOW_INPUT_LABEL, FOLLOW_LABEL, JOG_BACK_KEY, JOG_KEYS, JOG_ON_KEY};
 pub use playback::{AtEnd, DryRunStatus, Playback, PlaybackCommand, SPEEDS, Timeline};
 pub use recovery::{Recovery, RecoveryCopy};
 pub use retime_job::{RetimeReport, RetimeRun, RetimeState, RunFigures, WaypointFigures};
@@ -332,6 +337,12 @@ impl Editor {
         self.timeline_plot.approach()
     }
 
+    /// The approach's commanded motion and dry run as the timeline plots them (on the
+    /// approach's own clock from 0); `None` without a device that says what it sends.
+    pub fn timeline_approach_traces(&self) -> Option<&Traces> {
+        self.timeline_plot.approach_traces()
+    }
+
     /// Columns (a time with the smallest and largest value under it) the timeline plot drew in
     /// the last frame, over all its lines.
     pub fn timeline_column_count(&self) -> usize {
@@ -397,7 +408,9 @@ impl Editor {
         if self.files.busy() {
             ctx.request_repaint_after(Duration::from_millis(50));
         }
-        self.retime.poll(&mut self.state);
+        if let Some((level, text)) = self.retime.poll(&mut self.state.retime) {
+            self.state.say(level, text);
+        }
         if self.retime.busy() {
             ctx.request_repaint_after(Duration::from_millis(50));
         }
@@ -419,6 +432,10 @@ impl Editor {
             ctx.request_repaint_after(Duration::from_millis(100));
         }
         follow::update(&mut self.state, &mut self.device);
+        // The side view keeps its plane while the primary button is down (a drag in either
+        // view) and turns when it is released; its reach maps are made for the plane it shows.
+        let pressed = ctx.input(|input| input.pointer.primary_down());
+        self.state.hold_side_view(pressed);
         if self.mapped_arm.as_ref() != Some(&self.state.scene.arm) {
             if self.mapped_arm.is_some() {
                 // Maps of the old arm are wrong: drop them (a job still running for it reports
@@ -429,7 +446,7 @@ impl Editor {
         }
         self.dry_run.update(ctx, &mut self.state);
         let now = ctx.input(|input| input.time);
-        if playback::advance(&mut self.state, now) {
+        if self.state.advance_playback(now) {
             ctx.request_repaint();
         }
         self.reach.update(ctx, &self.state);

@@ -13,7 +13,6 @@ use armwright_kinematics::MAX_JOINTS;
 use armwright_trajectory::{CommandedMotion, DryRun, TaskPlan};
 
 use super::dry_run_marks::DryRunMarks;
-use super::state::{EditorState, ReachStatus};
 use super::traces::{Quantity, Traces};
 use crate::scene::GripperState;
 
@@ -182,122 +181,145 @@ impl Playback {
     }
 }
 
-/// Applies one timeline command. Changes no scene, records no undo step.
-pub(crate) fn apply(state: &mut EditorState, command: PlaybackCommand) {
-    let joints = state.joint_count();
-    let playback = &mut state.playback;
-    match command {
-        PlaybackCommand::SetCursor(t) => {
-            if t.is_finite() {
-                move_cursor(state, t);
-            }
+/// Where the cursor put the arm: the commanded pose and gripper at the cursor's time. The
+/// editor's state puts its arm there (`EditorState::arm_to_cursor`), ending any drag's branch
+/// choice; playback itself holds no part of the edited arm.
+#[derive(Debug, Clone, PartialEq)]
+pub(crate) struct CursorPose {
+    /// Joint positions, rad or m.
+    pub positions: Vec<f64>,
+    /// The gripper as commanded: that of the last waypoint reached.
+    pub gripper: GripperState,
+}
+
+impl Playback {
+    /// The contacts and unsettled stops of the newest dry run, when it is of the scene as it
+    /// is now (none while a new one runs, so that no mark points at a waypoint that moved).
+    pub fn found(&self) -> Option<&DryRunMarks> {
+        match self.status {
+            DryRunStatus::Ready => self.timeline.as_deref().map(|t| &t.found),
+            _ => None,
         }
-        PlaybackCommand::Play => {
-            if let Some(timeline) = playback.timeline.clone() {
-                if playback.cursor >= timeline.span() - 1e-9 {
-                    playback.cursor = 0.0;
+    }
+
+    /// Applies one timeline command; `joints` is the arm's joint count (the plot shows one of
+    /// them or all) and `posed` the length of the arm's current pose (a timeline of another
+    /// length does not move the arm). Returns where the arm goes, when the cursor moved it.
+    pub(crate) fn apply(
+        &mut self,
+        command: PlaybackCommand,
+        joints: usize,
+        posed: usize,
+    ) -> Option<CursorPose> {
+        match command {
+            PlaybackCommand::SetCursor(t) => {
+                if t.is_finite() {
+                    return self.move_cursor(t, posed);
                 }
-                playback.playing = true;
-                playback.last_frame = None;
-                let cursor = playback.cursor;
-                move_cursor(state, cursor);
+            }
+            PlaybackCommand::Play => {
+                if let Some(timeline) = self.timeline.clone() {
+                    if self.cursor >= timeline.span() - 1e-9 {
+                        self.cursor = 0.0;
+                    }
+                    self.playing = true;
+                    self.last_frame = None;
+                    return self.move_cursor(self.cursor, posed);
+                }
+            }
+            PlaybackCommand::Pause => self.playing = false,
+            PlaybackCommand::SetSpeed(speed) => {
+                if SPEEDS.contains(&speed) {
+                    self.speed = speed;
+                }
+            }
+            PlaybackCommand::SetAtEnd(at_end) => self.at_end = at_end,
+            PlaybackCommand::Show(quantity) => self.quantity = quantity,
+            PlaybackCommand::ShowJoint(joint) => {
+                if joint.is_none_or(|joint| joint < joints) {
+                    self.joint = joint;
+                }
             }
         }
-        PlaybackCommand::Pause => playback.playing = false,
-        PlaybackCommand::SetSpeed(speed) => {
-            if SPEEDS.contains(&speed) {
-                playback.speed = speed;
+        None
+    }
+
+    /// Advances playback to egui time `now` (s); `posed` as for [`Playback::apply`]. Returns
+    /// where the arm goes; [`Playback::playing`] then says whether the window should keep
+    /// repainting.
+    pub(crate) fn advance(&mut self, now: f64, posed: usize) -> Option<CursorPose> {
+        let Some(timeline) = self.timeline.clone() else {
+            self.playing = false;
+            return None;
+        };
+        if !self.playing {
+            self.last_frame = None;
+            return None;
+        }
+        let last = self.last_frame.replace(now).unwrap_or(now);
+        let step = (now - last).clamp(0.0, MAX_FRAME_STEP) * self.speed;
+        let span = timeline.span();
+        let mut t = self.cursor + step;
+        if t >= span {
+            match self.at_end {
+                AtEnd::Loop if span > 0.0 => t %= span,
+                _ => {
+                    t = span;
+                    self.playing = false;
+                }
             }
         }
-        PlaybackCommand::SetAtEnd(at_end) => playback.at_end = at_end,
-        PlaybackCommand::Show(quantity) => playback.quantity = quantity,
-        PlaybackCommand::ShowJoint(joint) => {
-            if joint.is_none_or(|joint| joint < joints) {
-                playback.joint = joint;
-            }
+        self.move_cursor(t, posed)
+    }
+
+    /// Takes a new timeline. An arm left at the cursor (at `pose`, rad or m) follows the new
+    /// plan there: returns where it goes.
+    pub(crate) fn accept(&mut self, timeline: Arc<Timeline>, pose: &[f64]) -> Option<CursorPose> {
+        let following = self.arm_at_cursor(pose);
+        let span = timeline.span();
+        self.timeline = Some(timeline);
+        self.status = DryRunStatus::Ready;
+        if self.cursor > span {
+            self.cursor = span;
         }
-    }
-}
-
-/// Advances playback to egui time `now` (s), moving the arm. Returns whether it is still
-/// playing (the window should keep repainting).
-pub(crate) fn advance(state: &mut EditorState, now: f64) -> bool {
-    let playback = &mut state.playback;
-    let Some(timeline) = playback.timeline.clone() else {
-        playback.playing = false;
-        return false;
-    };
-    if !playback.playing {
-        playback.last_frame = None;
-        return false;
-    }
-    let last = playback.last_frame.replace(now).unwrap_or(now);
-    let step = (now - last).clamp(0.0, MAX_FRAME_STEP) * playback.speed;
-    let span = timeline.span();
-    let mut t = playback.cursor + step;
-    if t >= span {
-        match playback.at_end {
-            AtEnd::Loop if span > 0.0 => t %= span,
-            _ => {
-                t = span;
-                playback.playing = false;
-            }
+        if following {
+            return self.move_cursor(self.cursor, pose.len());
         }
+        None
     }
-    move_cursor(state, t);
-    state.playback.playing
-}
 
-/// Takes a new timeline. An arm left at the cursor follows the new plan there.
-pub(crate) fn accept(state: &mut EditorState, timeline: Arc<Timeline>) {
-    let following = state.playback.arm_at_cursor(&state.pose);
-    let span = timeline.span();
-    state.playback.timeline = Some(timeline);
-    state.playback.status = DryRunStatus::Ready;
-    if state.playback.cursor > span {
-        state.playback.cursor = span;
+    /// Records that the sequence cannot be planned or run; playback stops and the old timeline
+    /// is dropped (it no longer matches the scene).
+    pub(crate) fn fail(&mut self, reason: String) {
+        self.timeline = None;
+        self.playing = false;
+        self.cursor_pose = None;
+        self.status = DryRunStatus::Failed(reason);
     }
-    if following {
-        let cursor = state.playback.cursor;
-        move_cursor(state, cursor);
-    }
-}
 
-/// Records that the sequence cannot be planned or run; playback stops and the old timeline is
-/// dropped (it no longer matches the scene).
-pub(crate) fn fail(state: &mut EditorState, reason: String) {
-    let playback = &mut state.playback;
-    playback.timeline = None;
-    playback.playing = false;
-    playback.cursor_pose = None;
-    playback.status = DryRunStatus::Failed(reason);
-}
-
-fn move_cursor(state: &mut EditorState, t: f64) {
-    let Some(timeline) = state.playback.timeline.clone() else {
-        return;
-    };
-    let t = t.clamp(0.0, timeline.span());
-    state.playback.cursor = t;
-    let pose = timeline.commanded_at(t);
-    if pose.len() != state.pose.len() {
-        return;
+    fn move_cursor(&mut self, t: f64, posed: usize) -> Option<CursorPose> {
+        let timeline = self.timeline.clone()?;
+        let t = t.clamp(0.0, timeline.span());
+        self.cursor = t;
+        let positions = timeline.commanded_at(t);
+        if positions.len() != posed {
+            return None;
+        }
+        self.cursor_pose = Some(positions.clone());
+        Some(CursorPose {
+            positions,
+            gripper: timeline.gripper_at(t),
+        })
     }
-    state.pose = pose.clone();
-    state.gripper = timeline.gripper_at(t);
-    state.branch = None;
-    state.branch_choices.clear();
-    state.reach = ReachStatus::Idle;
-    state.pose_changed();
-    state.playback.cursor_pose = Some(pose);
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
     use crate::editor::sample::sample_scene;
+    use crate::editor::state::EditorState;
     use crate::editor::traces::Traces;
-    use crate::scene::{dry_run_of, plan_of};
+    use crate::task::{dry_run_of, plan_of};
 
     fn state_with_timeline() -> EditorState {
         let mut state = EditorState::new(sample_scene(), None);
@@ -320,7 +342,7 @@ mod tests {
             run,
             traces,
         };
-        accept(&mut state, Arc::new(timeline));
+        state.accept_timeline(Arc::new(timeline));
         state
     }
 
@@ -328,10 +350,10 @@ mod tests {
     fn playing_past_the_end_loops_to_the_start() {
         let mut state = state_with_timeline();
         let span = state.playback.timeline.as_ref().map_or(0.0, |t| t.span());
-        apply(&mut state, PlaybackCommand::SetCursor(span - 0.03));
-        apply(&mut state, PlaybackCommand::Play);
-        assert!(advance(&mut state, 10.0));
-        assert!(advance(&mut state, 10.05));
+        state.playback_command(PlaybackCommand::SetCursor(span - 0.03));
+        state.playback_command(PlaybackCommand::Play);
+        assert!(state.advance_playback(10.0));
+        assert!(state.advance_playback(10.05));
         assert!(
             (state.playback.cursor - 0.02).abs() < 1e-9,
             "{}",
@@ -343,13 +365,13 @@ mod tests {
     #[test]
     fn a_long_stall_advances_by_one_tenth_of_a_second_at_most() {
         let mut state = state_with_timeline();
-        apply(&mut state, PlaybackCommand::SetSpeed(0.5));
-        apply(&mut state, PlaybackCommand::Play);
-        advance(&mut state, 1.0);
-        advance(&mut state, 6.0);
+        state.playback_command(PlaybackCommand::SetSpeed(0.5));
+        state.playback_command(PlaybackCommand::Play);
+        state.advance_playback(1.0);
+        state.advance_playback(6.0);
         assert!((state.playback.cursor - MAX_FRAME_STEP * 0.5).abs() < 1e-12);
         // Speeds outside the offered steps are refused.
-        apply(&mut state, PlaybackCommand::SetSpeed(3.0));
+        state.playback_command(PlaybackCommand::SetSpeed(3.0));
         assert_eq!(state.playback.speed, 0.5);
     }
 

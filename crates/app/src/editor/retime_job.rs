@@ -14,11 +14,9 @@ use std::sync::mpsc::{Receiver, TryRecvError, channel};
 use armwright_kinematics::{Arm, gravity_torques, torque_use};
 use armwright_trajectory::{Binding, DryRun, RetimeError};
 
-use super::state::{EditorState, Level};
-use crate::scene::{
-    Arrival, GripperState, RetimeSettings, Scene, SceneRetime, Shaping, placements_of,
-    pose_from_file_units, retime_scene,
-};
+use super::message::Level;
+use crate::scene::{Arrival, GripperState, Scene, Shaping, placements_of, pose_from_file_units};
+use crate::task::{RetimeSettings, SceneRetime, retime_scene};
 
 /// The retime tab's data: the target and the run.
 #[derive(Debug, Clone, PartialEq)]
@@ -398,49 +396,48 @@ impl RetimeWorker {
         self.job.is_some()
     }
 
-    /// Copies the running retime's progress into `state`, and its outcome once it ends. An
-    /// outcome arriving when the state no longer waits for one (a new scene was opened) is
-    /// dropped.
-    pub fn poll(&mut self, state: &mut EditorState) {
-        let Some(job) = &self.job else {
-            return;
-        };
+    /// Copies the running retime's progress into `retime`, and its outcome once it ends;
+    /// returns the status-bar line that outcome calls for. An outcome arriving when `retime`
+    /// no longer waits for one (a new scene was opened) is dropped.
+    pub fn poll(&mut self, retime: &mut RetimeState) -> Option<(Level, String)> {
+        let job = self.job.as_ref()?;
         let end = match job.receiver.try_recv() {
             Ok(end) => end,
             Err(TryRecvError::Empty) => {
-                if let RetimeRun::Running { progress, .. } = &mut state.retime.run {
+                if let RetimeRun::Running { progress, .. } = &mut retime.run {
                     *progress = f64::from_bits(job.progress.load(Ordering::Relaxed));
                 }
-                return;
+                return None;
             }
             Err(TryRecvError::Disconnected) => {
                 JobEnd::Failed("cannot retime: the retime worker stopped unexpectedly".into())
             }
         };
         self.job = None;
-        if !state.retime.run.is_running() {
-            return;
+        if !retime.run.is_running() {
+            return None;
         }
-        state.retime.run = match end {
+        let (run, said) = match end {
             JobEnd::Finished(report) => {
-                state.say(
-                    Level::Info,
-                    format!(
-                        "retimed: cycle {:.2} s, {:.2} s before; apply or discard it in the Retime tab",
-                        report.after.cycle_time_s, report.before.cycle_time_s
-                    ),
+                let said = format!(
+                    "retimed: cycle {:.2} s, {:.2} s before; apply or discard it in the Retime tab",
+                    report.after.cycle_time_s, report.before.cycle_time_s
                 );
-                RetimeRun::Finished(report)
+                (RetimeRun::Finished(report), (Level::Info, said))
             }
-            JobEnd::Failed(reason) => {
-                state.say(Level::Warning, reason.clone());
-                RetimeRun::Failed { reason }
-            }
-            JobEnd::Cancelled => {
-                state.say(Level::Info, "retiming cancelled");
-                RetimeRun::Cancelled
-            }
+            JobEnd::Failed(reason) => (
+                RetimeRun::Failed {
+                    reason: reason.clone(),
+                },
+                (Level::Warning, reason),
+            ),
+            JobEnd::Cancelled => (
+                RetimeRun::Cancelled,
+                (Level::Info, "retiming cancelled".to_owned()),
+            ),
         };
+        retime.run = run;
+        Some(said)
     }
 }
 
@@ -512,5 +509,73 @@ mod tests {
         let mut changed = scene.clone();
         changed.waypoints[0].dwell_ms += 10.0;
         assert!(state.is_stale(&changed));
+    }
+
+    /// A worker whose job has already ended with `end`, and the progress it reports.
+    fn ended_worker(end: Option<JobEnd>, progress: f64) -> RetimeWorker {
+        let (sender, receiver) = channel();
+        if let Some(end) = end {
+            sender.send(end).expect("the receiver is here");
+        } else {
+            // Kept open: the job is still running.
+            std::mem::forget(sender);
+        }
+        RetimeWorker {
+            job: Some(Job {
+                cancel: Arc::new(AtomicBool::new(false)),
+                progress: Arc::new(AtomicU64::new(progress.to_bits())),
+                receiver,
+            }),
+        }
+    }
+
+    fn running(scene: &Scene) -> RetimeState {
+        let mut retime = RetimeState::for_scene(scene);
+        retime.run = RetimeRun::Running {
+            progress: 0.0,
+            base: Box::new(scene.clone()),
+            cancelling: false,
+        };
+        retime
+    }
+
+    #[test]
+    fn polling_copies_progress_then_the_outcome_and_its_message() {
+        let scene = sample_scene();
+        let mut retime = running(&scene);
+        let mut worker = ended_worker(None, 0.25);
+        assert_eq!(worker.poll(&mut retime), None);
+        assert!(matches!(retime.run, RetimeRun::Running { progress, .. } if progress == 0.25));
+        assert!(worker.busy());
+
+        let mut worker = ended_worker(Some(JobEnd::Failed("target not met".into())), 1.0);
+        let said = worker.poll(&mut retime);
+        assert_eq!(said, Some((Level::Warning, "target not met".to_owned())));
+        assert_eq!(
+            retime.run,
+            RetimeRun::Failed {
+                reason: "target not met".into()
+            }
+        );
+        assert!(!worker.busy());
+
+        let mut retime = running(&scene);
+        let mut worker = ended_worker(Some(JobEnd::Cancelled), 0.5);
+        assert_eq!(
+            worker.poll(&mut retime),
+            Some((Level::Info, "retiming cancelled".to_owned()))
+        );
+        assert_eq!(retime.run, RetimeRun::Cancelled);
+    }
+
+    #[test]
+    fn an_outcome_nobody_waits_for_is_dropped() {
+        let scene = sample_scene();
+        // A new scene was opened while the worker ran: its state waits for no retime.
+        let mut retime = RetimeState::for_scene(&scene);
+        let mut worker = ended_worker(Some(JobEnd::Cancelled), 1.0);
+        assert_eq!(worker.poll(&mut retime), None);
+        assert_eq!(retime.run, RetimeRun::Idle);
+        assert!(!worker.busy());
     }
 }

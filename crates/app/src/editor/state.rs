@@ -3,39 +3,22 @@
 //! messages, the emergency-stop latch and the timeline's playback. No egui types live here.
 
 use std::path::PathBuf;
+use std::sync::Arc;
 
 use armwright_kinematics::{
-    AccuracyBudget, Arm, ArmType, IkTarget, JointKind, accuracy_budget, gravity_torques, tool_pose,
-    torque_use,
+    AccuracyBudget, Arm, ArmType, IkTarget, JointKind, PayloadLimit, accuracy_budget,
+    gravity_torques, max_payload, tool_pose, torque_use,
 };
 
 use super::arm_form::ArmForm;
 use super::calibration::Calibrating;
+use super::dry_run_marks::DryRunMarks;
 use super::follow::FollowSettings;
 use super::history::History;
-use super::playback::Playback;
+pub use super::message::{Level, Message};
+use super::playback::{CursorPose, Playback, PlaybackCommand, Timeline};
 use super::retime_job::RetimeState;
 use crate::scene::{Device, GripperState, JointKindDoc, Scene, build_arm, pose_from_file_units};
-
-/// How serious a message in the status bar is.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub enum Level {
-    /// Something done, for information.
-    Info,
-    /// Something the user should look at.
-    Warning,
-    /// Something failed; nothing was changed by it.
-    Error,
-}
-
-/// One line in the status bar.
-#[derive(Debug, Clone, PartialEq)]
-pub struct Message {
-    /// How serious it is.
-    pub level: Level,
-    /// What happened, in words.
-    pub text: String,
-}
 
 /// Where an emergency-stop request came from.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -173,6 +156,10 @@ pub struct EditorState {
     pub torque_use: Vec<f64>,
     /// The tool point's accuracy budget at the current pose (from servo deadband and backlash).
     pub accuracy: Option<AccuracyBudget>,
+    /// The heaviest payload the current pose can hold within the derated stall torque, as
+    /// `pose --json` gives it (`max_payload_g`); cheap (two gravity passes), so recomputed on
+    /// every pose change.
+    pub max_payload: Option<PayloadLimit>,
     /// The selected waypoint, if any.
     pub selected_waypoint: Option<usize>,
     /// Undo and redo steps.
@@ -196,6 +183,9 @@ pub struct EditorState {
     pub link_device: Device,
     /// Whether the streaming caution was acknowledged in this session.
     pub caution_acknowledged: bool,
+    /// Whether a stream ends by moving to the rest pose and holding there, as `stream --park`
+    /// does (the Link tab's checkbox; kept while the editor runs, not saved).
+    pub park_after_stream: bool,
     /// The joint positions of the arm as the connected simulated device moves it (from its
     /// servo model), rad (revolute) or m (prismatic); `None` when no such device is connected.
     pub device_pose: Option<Vec<f64>>,
@@ -212,6 +202,9 @@ pub struct EditorState {
     pub calibration: Calibrating,
     /// Follow and jog settings (the session's, not the scene's).
     pub follow: FollowSettings,
+    /// The side view's yaw held while the primary pointer button is down (rad), so that a drag
+    /// in either view does not turn the side view, its shading or its title under the pointer.
+    side_yaw_held: Option<f64>,
 }
 
 /// Most messages kept.
@@ -234,6 +227,7 @@ impl EditorState {
             reach: ReachStatus::Idle,
             torque_use: Vec::new(),
             accuracy: None,
+            max_payload: None,
             selected_waypoint: None,
             history: History::default(),
             dirty: false,
@@ -244,12 +238,14 @@ impl EditorState {
             tools_tab: ToolsTab::default(),
             link_device: Device::Simulated,
             caution_acknowledged: false,
+            park_after_stream: false,
             device_pose: None,
             input_pose: None,
             arm_form: ArmForm::default(),
             playback: Playback::default(),
             calibration: Calibrating::default(),
             follow: FollowSettings::default(),
+            side_yaw_held: None,
         };
         state.rebuild_arm();
         let start = state
@@ -280,14 +276,19 @@ impl EditorState {
         // Follow's settings stay for the session; following the old scene's arm ends.
         let mut follow = std::mem::take(&mut self.follow);
         follow.on = false;
-        let (stop, tools_tab, caution_acknowledged) =
-            (self.stop, self.tools_tab, self.caution_acknowledged);
+        let (stop, tools_tab, caution_acknowledged, park_after_stream) = (
+            self.stop,
+            self.tools_tab,
+            self.caution_acknowledged,
+            self.park_after_stream,
+        );
         *self = EditorState::new(scene, file_path);
         self.messages = messages;
         self.stop = stop;
         self.tools_tab = tools_tab;
         self.link_device = link_device;
         self.caution_acknowledged = caution_acknowledged;
+        self.park_after_stream = park_after_stream;
         self.device_pose = device_pose;
         self.follow = follow;
     }
@@ -320,9 +321,35 @@ impl EditorState {
             .map(|pose| pose.translation.vector)
     }
 
-    /// The yaw of the side view's vertical plane, in rad: the base joint for articulated arms,
-    /// otherwise the direction of the tool point from the base axis (0 on the axis).
+    /// The yaw of the side view's vertical plane, in rad: the one held during a drag (see
+    /// [`EditorState::hold_side_view`]), else the base joint for articulated arms, otherwise the
+    /// direction of the tool point from the base axis (0 on the axis).
     pub fn side_view_yaw(&self) -> f64 {
+        self.side_yaw_held
+            .unwrap_or_else(|| self.side_view_yaw_of_pose())
+    }
+
+    /// Holds the side view's yaw where it is while `held` (the primary pointer button is down:
+    /// a drag in either view), and lets it follow the pose again when not — the side view
+    /// turns when the drag ends. Keys and typed positions move the arm with the button up, so
+    /// the view turns with them at once.
+    pub fn hold_side_view(&mut self, held: bool) {
+        self.side_yaw_held = if held {
+            Some(
+                self.side_yaw_held
+                    .unwrap_or_else(|| self.side_view_yaw_of_pose()),
+            )
+        } else {
+            None
+        };
+    }
+
+    /// Whether the side view's yaw is held for a drag.
+    pub fn side_view_held(&self) -> bool {
+        self.side_yaw_held.is_some()
+    }
+
+    fn side_view_yaw_of_pose(&self) -> f64 {
         match self.arm.as_ref().map(Arm::arm_type) {
             Some(ArmType::Articulated4(_) | ArmType::Articulated5(_)) => {
                 self.pose.first().copied().unwrap_or(0.0)
@@ -420,15 +447,18 @@ impl EditorState {
         self.pose_changed();
     }
 
-    /// Recomputes what depends on the pose: torque use and the held tool angle.
+    /// Recomputes what depends on the pose: torque use, the heaviest payload and the held tool
+    /// angle.
     pub(crate) fn pose_changed(&mut self) {
         let Some(arm) = self.arm.as_ref() else {
             self.torque_use.clear();
             self.accuracy = None;
+            self.max_payload = None;
             return;
         };
         self.accuracy = accuracy_budget(arm, &self.pose).ok();
         let derating = self.scene.timing.torque_derating_pct / 100.0;
+        self.max_payload = max_payload(arm, &self.pose, derating).ok();
         self.torque_use = gravity_torques(arm, &self.pose, arm.payload_mass())
             .map(|efforts| torque_use(arm, &efforts, derating).as_slice().to_vec())
             .unwrap_or_default();
@@ -437,6 +467,48 @@ impl EditorState {
         {
             self.tool_angle = angle;
         }
+    }
+
+    /// Applies one timeline command (`editor/playback.rs`). Changes no scene, records no undo
+    /// step; a moved cursor puts the arm at its pose.
+    pub(crate) fn playback_command(&mut self, command: PlaybackCommand) {
+        let moved = self
+            .playback
+            .apply(command, self.joint_count(), self.pose.len());
+        self.arm_to_cursor(moved);
+    }
+
+    /// Advances playback to egui time `now` (s), moving the arm. Returns whether it is still
+    /// playing (the window should keep repainting).
+    pub(crate) fn advance_playback(&mut self, now: f64) -> bool {
+        let moved = self.playback.advance(now, self.pose.len());
+        self.arm_to_cursor(moved);
+        self.playback.playing
+    }
+
+    /// Takes a new plan and dry run for the timeline; an arm left at the cursor follows it.
+    pub(crate) fn accept_timeline(&mut self, timeline: Arc<Timeline>) {
+        let moved = self.playback.accept(timeline, &self.pose);
+        self.arm_to_cursor(moved);
+    }
+
+    /// The contacts and unsettled stops of the newest dry run, when it is of the scene as it
+    /// is now (none while a new one runs, so that no mark points at a waypoint that moved).
+    pub fn dry_run_found(&self) -> Option<&DryRunMarks> {
+        self.playback.found()
+    }
+
+    /// Puts the arm where the timeline's cursor put it: a preview, no undo step.
+    fn arm_to_cursor(&mut self, moved: Option<CursorPose>) {
+        let Some(CursorPose { positions, gripper }) = moved else {
+            return;
+        };
+        self.pose = positions;
+        self.gripper = gripper;
+        self.branch = None;
+        self.branch_choices.clear();
+        self.reach = ReachStatus::Idle;
+        self.pose_changed();
     }
 
     /// Clamps a position (rad or m) into the joint's limits.
@@ -552,5 +624,14 @@ mod tests {
         assert!(first.iter().zip(&back).all(|(a, b)| (a - b).abs() < 1e-9));
         assert!(!state.is_dirty());
         assert_eq!(state.accuracy.map(|budget| budget.worst > 0.0), Some(true));
+    }
+
+    #[test]
+    fn opening_another_scene_keeps_the_park_choice() {
+        let mut state = EditorState::new(sample_scene(), None);
+        assert!(!state.park_after_stream, "off when the editor opens");
+        state.park_after_stream = true;
+        state.replace_scene(sample_scene(), None);
+        assert!(state.park_after_stream);
     }
 }

@@ -335,7 +335,8 @@ pub fn decimate(series: &Series, bucket: f64, x_range: [f64; 2], columns: usize)
 mod tests {
     use super::*;
     use crate::editor::sample::sample_scene;
-    use crate::scene::{build_arm, dry_run_of, plan_of};
+    use crate::scene::build_arm;
+    use crate::task::{dry_run_of, plan_of};
 
     #[test]
     fn a_short_run_keeps_every_grid_point_of_the_plan_and_the_dry_run() {

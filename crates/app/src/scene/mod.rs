@@ -11,11 +11,12 @@
 //! place that turns file units into the SI arm model), `load.rs` and
 //! `save.rs` (files: read without side effects, write atomically), `inputs.rs` (the input arm:
 //! each analog input's points fitted, the pose a set of readings gives), `problem.rs` (a located
-//! problem and the nearest-name suggestion), `task.rs` (the sequence as a trajectory task), `workcell.rs` (the workspace
+//! problem and the nearest-name suggestion), `workcell.rs` (the workspace
 //! and arm as collision geometry, what a pick or place leaves out and what the gripper carries),
 //! `placement.rs` (placement success with each waypoint's tolerance and each joint's calibration
 //! uncertainty).
-//! Sampling the plan is the trajectory crate's (`TaskPlan::sampler`), turning samples into
+//! Turning the sequence into a trajectory task and planning it is [`crate::task`]'s; sampling
+//! the plan is the trajectory crate's (`TaskPlan::sampler`), turning samples into
 //! device setpoints the link crate's (`device_setpoints`).
 
 mod decode;
@@ -33,7 +34,6 @@ mod problem;
 mod reference;
 mod save;
 mod schema;
-mod task;
 mod units;
 mod validate;
 mod workcell;
@@ -56,10 +56,6 @@ pub(crate) use problem::child;
 pub use reference::reference_markdown;
 pub use save::{as_saved, save, save_text, save_unrounded, to_json, to_json_unrounded};
 pub use schema::schema_json;
-pub use task::{
-    RetimeSettings, SceneRetime, dry_run_of, dry_run_options_of, limit_settings_of, plan_of,
-    retime_scene, retime_target, servo_model_of, task_of, with_timing,
-};
 pub use units::{
     arm_description, build_arm, pose_from_file_units, pose_to_file_units, position_from_file_unit,
     position_to_file_unit, rate_from_file_unit, rate_to_file_unit,

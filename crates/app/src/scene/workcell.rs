@@ -21,7 +21,7 @@ use nalgebra::Vector3;
 
 use super::document::Scene;
 use super::field_table as table;
-use super::task::task_of;
+use crate::task::task_of;
 
 /// The scene's obstacles in the base frame, in m: the table (when it has one) first, then the
 /// boxes, then the trays (each a solid box; the pockets are not modelled), in file order.

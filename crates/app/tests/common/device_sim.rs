@@ -21,6 +21,27 @@ pub fn signal(child: &Child, signal: &str) {
     assert!(status.success(), "kill -{signal}");
 }
 
+/// `armwright stream SAMPLE --port DEVICE --rate 50 --yes --json` as a child process, its
+/// standard output and error piped (`sample` names a bundled sample file).
+pub fn stream_child(sample: &str, device: &DeviceSim) -> Child {
+    binary()
+        .args([
+            "stream",
+            &super::sample_path(sample),
+            "--port",
+            &device.path,
+            "--rate",
+            "50",
+            "--yes",
+            "--json",
+        ])
+        .stdin(Stdio::null())
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .expect("the armwright binary runs")
+}
+
 /// A simulated device behind a pseudo-terminal, in its own process; ended with Ctrl-C.
 pub struct DeviceSim {
     pub child: Child,

@@ -167,9 +167,7 @@ pub fn scratch_dir(test: &str) -> PathBuf {
 
 /// Path of a sample scene in the repository.
 pub fn sample(name: &str) -> PathBuf {
-    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
-        .join("../../sample-scenes")
-        .join(name)
+    armwright_test_support::samples::samples_dir().join(name)
 }
 
 /// Runs the `armwright` binary; returns its exit code, standard output and standard error.

@@ -1,7 +1,8 @@
 //! Shared set-up for the editor's flow tests: an editor on the sample scene in a kittest
 //! harness the size of a real window, a stop channel, a scratch folder; bounded waits for the
 //! editor's workers (file work, dry run, retime, device link); the stop key and button; what
-//! the simulated device is doing.
+//! the simulated device is doing; the steps of teaching (typed positions, store, save as) and
+//! running the command line on the result.
 #![allow(dead_code)]
 
 use std::path::PathBuf;
@@ -10,9 +11,13 @@ use std::time::{Duration, Instant};
 
 use armwright::editor::{
     ACKNOWLEDGE_LABEL, ChannelStopLink, DryRunStatus, EMERGENCY_STOP_LABEL, Editor, EditorOptions,
-    STOP_KEY, StopRequest, StopSource, StreamEnd, StreamPhase,
+    ReachStatus, RetimeRun, STOP_KEY, StopRequest, StopSource, StreamEnd, StreamPhase,
 };
+use armwright::scene::{InputDoc, InputPointDoc, Scene};
 use armwright_link::{DeviceMode, LinkState};
+/// The bundled sample scenes, from the test-support crate.
+#[allow(unused_imports)] // not every editor test opens a sample
+pub use armwright_test_support::samples::{sample_scene, sample_scenes};
 use egui::accesskit::Role;
 use egui::{Event, Modifiers, PointerButton, Pos2};
 use egui_kittest::Harness;
@@ -57,22 +62,6 @@ pub fn harness_of_size(editor: Editor, size: [f32; 2]) -> Harness<'static, Edito
         .with_size(size)
         .with_step_dt(1.0 / 60.0)
         .build_eframe(move |_creation| editor)
-}
-
-/// The bundled sample scenes (`sample-scenes/*.armwright.json`), in name order.
-pub fn sample_scenes() -> Vec<PathBuf> {
-    let dir = std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("../../sample-scenes");
-    let mut found: Vec<PathBuf> = std::fs::read_dir(&dir)
-        .expect("the sample-scenes folder")
-        .filter_map(|entry| entry.ok().map(|entry| entry.path()))
-        .filter(|path| {
-            path.file_name()
-                .is_some_and(|name| name.to_string_lossy().ends_with(".armwright.json"))
-        })
-        .collect();
-    found.sort();
-    assert!(!found.is_empty(), "no samples in {}", dir.display());
-    found
 }
 
 /// Steps until both views have both reach maps for the state as it is and no map is being made
@@ -121,13 +110,6 @@ pub fn file_editor(name: &str, path: PathBuf) -> EditorHarness {
     let mut harness = harness(editor);
     harness.run_steps(3);
     harness
-}
-
-/// The path of a bundled sample scene, `name` without its `.armwright.json` ending.
-pub fn sample_scene(name: &str) -> PathBuf {
-    std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
-        .join("../../sample-scenes")
-        .join(format!("{name}.armwright.json"))
 }
 
 /// Opens the scene at `path` through the Open dialog's typed path and waits for the file work.
@@ -199,16 +181,95 @@ pub fn drag(
 
 /// Steps (a frame every 10 ms) until `done` holds; panics after 10 s naming `what`.
 pub fn step_until(harness: &mut EditorHarness, what: &str, done: impl Fn(&Editor) -> bool) {
+    step_until_within(harness, what, Duration::from_secs(10), done);
+}
+
+/// How long [`step_until_slow`] waits: a stream's approach and sequence and the follower's
+/// moves run in real time, and the machine may be busy.
+pub const SLOW_WAIT: Duration = Duration::from_secs(60);
+
+/// Steps (a frame every 10 ms) until `done` holds; panics after [`SLOW_WAIT`] naming `what`.
+pub fn step_until_slow(harness: &mut EditorHarness, what: &str, done: impl Fn(&Editor) -> bool) {
+    step_until_within(harness, what, SLOW_WAIT, done);
+}
+
+fn step_until_within(
+    harness: &mut EditorHarness,
+    what: &str,
+    limit: Duration,
+    done: impl Fn(&Editor) -> bool,
+) {
     let start = Instant::now();
     while !done(harness.state()) {
         assert!(
-            start.elapsed() < Duration::from_secs(10),
-            "timed out waiting for {what}: {:?}",
-            harness.state().device().view()
+            start.elapsed() < limit,
+            "timed out after {limit:?} waiting for {what}: edited pose {:?}, device pose {:?}, \
+             link {:?}, messages {:?}",
+            harness.state().state.pose,
+            harness.state().state.device_pose,
+            harness.state().device().view(),
+            harness.state().state.messages
         );
         std::thread::sleep(Duration::from_millis(10));
         harness.step();
     }
+}
+
+/// Types `mm` into the tool point's `axis` field ("x", "y" or "z") and runs two frames; the arm
+/// must reach it.
+pub fn type_position(harness: &mut EditorHarness, axis: &str, mm: f64) {
+    harness
+        .get_by_label(&format!("tool point {axis} (mm)"))
+        .set_value_accesskit(mm);
+    harness.run_steps(2);
+    assert_reached(harness.state(), &format!("typed {axis} = {mm} mm"));
+}
+
+/// Checks that the last target was reached; `what` names it in the failure message.
+pub fn assert_reached(editor: &Editor, what: &str) {
+    assert_eq!(
+        editor.state.reach,
+        ReachStatus::Reached,
+        "{what}: {:?}",
+        editor.state.reach_problems()
+    );
+}
+
+/// Clicks "Store pose" and runs two frames.
+pub fn store(harness: &mut EditorHarness) {
+    harness.get_by_label("Store pose").click();
+    harness.run_steps(2);
+}
+
+/// Saves the scene as `path` through the Save as dialog's path box, confirmed with Enter, and
+/// waits for the file work; the editor then names that file and has nothing unsaved.
+pub fn save_as_with_enter(harness: &mut EditorHarness, path: &std::path::Path) {
+    harness.get_by_label("Save as…").click();
+    harness.run_steps(3);
+    harness
+        .get_by_label("scene path")
+        .type_text(&path.display().to_string());
+    harness.run_steps(2);
+    harness.key_press(egui::Key::Enter);
+    harness.run_steps(1);
+    settle(harness);
+    assert_eq!(harness.state().state.file_path.as_deref(), Some(path));
+    assert!(!harness.state().state.is_dirty());
+}
+
+/// Runs the `armwright` command line with `args`; returns whether it succeeded and what it
+/// printed (standard output, then standard error).
+pub fn armwright_command(args: &[&str]) -> (bool, String) {
+    let output = std::process::Command::new(env!("CARGO_BIN_EXE_armwright"))
+        .args(args)
+        .output()
+        .expect("armwright runs");
+    let text = format!(
+        "{}{}",
+        String::from_utf8_lossy(&output.stdout),
+        String::from_utf8_lossy(&output.stderr)
+    );
+    (output.status.success(), text)
 }
 
 /// Steps (sleeping a little between frames) until the newest change's dry run is shown or has
@@ -224,6 +285,19 @@ pub fn wait_for_dry_run(harness: &mut EditorHarness) {
     assert!(
         !harness.state().is_dry_running(),
         "no dry run result after 60 s"
+    );
+}
+
+/// Clicks "Run retime" once the dry run has settled (the Retime tab's "current timing" lines
+/// change height when it lands, which would move the button under a pending click), runs one
+/// frame and checks the retime started.
+pub fn start_retime(harness: &mut EditorHarness) {
+    wait_for_dry_run(harness);
+    harness.get_by_label("Run retime").click();
+    harness.step();
+    assert!(
+        !matches!(harness.state().state.retime.run, RetimeRun::Idle),
+        "the click on Run retime started no retime"
     );
 }
 
@@ -416,4 +490,33 @@ pub fn assert_stop_reached_link(
         harness.query_by_label(&line).is_some(),
         "no line \"{line}\""
     );
+}
+
+/// The sample arm with inputs 0–3 on its four joints: readings 1048 and 3048 (the ends of the
+/// simulated sweep) at the two positions given per joint, all inside the joints' limits.
+pub fn scene_with_inputs() -> Scene {
+    let mut scene = armwright::editor::sample_scene();
+    let ends = [(-30.0, 30.0), (30.0, 90.0), (-130.0, -70.0), (-60.0, -20.0)];
+    scene.inputs = scene
+        .arm
+        .joints
+        .iter()
+        .zip(ends)
+        .enumerate()
+        .map(|(input, (joint, (low, high)))| InputDoc {
+            input: input as u32,
+            joint: joint.name.clone(),
+            points: vec![
+                InputPointDoc {
+                    reading: 1048,
+                    position: low,
+                },
+                InputPointDoc {
+                    reading: 3048,
+                    position: high,
+                },
+            ],
+        })
+        .collect();
+    scene
 }

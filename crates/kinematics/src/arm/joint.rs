@@ -120,6 +120,45 @@ impl Joint {
         })
     }
 
+    /// A joint for unit tests: `kind` at `origin` turning about or sliding along `axis`, limits
+    /// `min`..`max` (rad or m) with home at `min`, driven by a plain servo (1 N·m, 6 rad/s,
+    /// pulses 1000–2000 µs for −1..1) and moving a massless link.
+    #[cfg(test)]
+    pub(crate) fn for_tests(
+        kind: JointKind,
+        origin: Isometry3<f64>,
+        axis: Unit<Vector3<f64>>,
+        min: f64,
+        max: f64,
+    ) -> Result<Joint, ArmError> {
+        let spec = JointSpec {
+            name: "test".into(),
+            min,
+            max,
+            home: min,
+            servo: ServoSpec {
+                stall_torque: 1.0,
+                no_load_speed: 6.0,
+                deadband_us: 4.0,
+                proportional_band_us: 40.0,
+                backlash: 0.0,
+                mass: 0.05,
+                mount_offset: Vector3::zeros(),
+                drive_ratio: 1.0,
+            },
+            calibration: Calibration {
+                position_a: -1.0,
+                pulse_a_us: 1000.0,
+                position_b: 1.0,
+                pulse_b_us: 2000.0,
+                pulse_min_us: 900.0,
+                pulse_max_us: 2100.0,
+            },
+            link_mass: MassProperties::zero(),
+        };
+        Joint::new(0, spec, kind, origin, axis)
+    }
+
     /// The motion of this joint at `position` (rad or m), in its own frame.
     pub fn motion(&self, position: f64) -> Isometry3<f64> {
         match self.kind {

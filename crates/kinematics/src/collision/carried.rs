@@ -1,11 +1,12 @@
 //! An object carried in the gripper: a box fixed to the tool frame from the pick on, checked
-//! against the workspace's other obstacles through `parry3d-f64` (box against box or against
-//! the table's half-space).
+//! against the workspace's other obstacles and against the arm's own links through
+//! `parry3d-f64` (box against box, against the table's half-space, or against a link's
+//! capsule).
 
 use nalgebra::{Isometry3, Vector3};
 use parry3d_f64::math::{Pose, Rotation, Vector};
 use parry3d_f64::query;
-use parry3d_f64::shape::{Cuboid, HalfSpace, Shape};
+use parry3d_f64::shape::{Capsule, Cuboid, HalfSpace, Shape};
 
 use super::obstacle::{Obstacle, ObstacleShape};
 
@@ -47,9 +48,8 @@ impl CarriedBox {
         tool * self.grip
     }
 
-    /// Signed distance (m) from the box, with the tool at `tool`, to `obstacle`: the gap when
-    /// positive, the depth of the overlap when negative.
-    pub fn distance(&self, tool: &Isometry3<f64>, obstacle: &Obstacle) -> f64 {
+    /// The box as parry sees it: where it is with the tool at `tool`, and its shape.
+    fn solid(&self, tool: &Isometry3<f64>) -> (Pose, Cuboid) {
         let placed = self.placed(tool);
         let (t, q) = (placed.translation.vector, placed.rotation);
         let pose = Pose::from_parts(
@@ -61,6 +61,32 @@ impl CarriedBox {
             self.half_size.y,
             self.half_size.z,
         ));
+        (pose, carried)
+    }
+
+    /// Signed distance (m) from the box, with the tool at `tool`, to a link's capsule: the
+    /// segment from `start` to `end` (base frame, m) grown by `radius` m. The gap when positive,
+    /// the depth of the overlap when negative.
+    pub fn distance_to_link(
+        &self,
+        tool: &Isometry3<f64>,
+        start: &Vector3<f64>,
+        end: &Vector3<f64>,
+        radius: f64,
+    ) -> f64 {
+        let (pose, carried) = self.solid(tool);
+        let capsule = Capsule::new(
+            Vector::new(start.x, start.y, start.z),
+            Vector::new(end.x, end.y, end.z),
+            radius,
+        );
+        signed_distance(&pose, &carried, &Pose::identity(), &capsule)
+    }
+
+    /// Signed distance (m) from the box, with the tool at `tool`, to `obstacle`: the gap when
+    /// positive, the depth of the overlap when negative.
+    pub fn distance(&self, tool: &Isometry3<f64>, obstacle: &Obstacle) -> f64 {
+        let (pose, carried) = self.solid(tool);
         // The obstacle goes first, as in `separation.rs` (parry 0.31 places a half-space given
         // second on the wrong side).
         match obstacle.shape {
@@ -122,5 +148,49 @@ mod tests {
         assert!((carried.distance(&pushed, &wall) + 0.005).abs() < 1e-6);
         assert!(CarriedBox::picked(0, &table, &tool).is_none());
         assert!((carried.extent - 0.01 * 3f64.sqrt()).abs() < 1e-12);
+    }
+
+    #[test]
+    fn a_carried_box_measures_to_a_link_as_the_closed_forms_give() {
+        // Common practice geometry: a capsule whose segment runs parallel to a box face, beyond
+        // the face, is (distance from the segment to the face − radius) away; one whose end
+        // lies out beyond a corner, along the corner's diagonal, is (distance from that end to
+        // the corner − radius) away; one through the box overlaps by (radius + distance from
+        // the segment to the face it is nearest).
+        let cube =
+            Obstacle::standing_box("bar", Vector3::new(0.15, 0.0, 0.0), Vector3::repeat(0.02));
+        let down = nalgebra::UnitQuaternion::from_euler_angles(std::f64::consts::PI, 0.0, 0.0);
+        let tool = Isometry3::from_parts(nalgebra::Translation3::new(0.15, 0.0, 0.01), down);
+        let held = CarriedBox::picked(0, &cube, &tool).expect("a box");
+        // Lifted 100 mm and turned 30° about the vertical, the box's faces are no longer
+        // parallel to the base frame's planes; its top at z = 0.12.
+        let turn = nalgebra::UnitQuaternion::from_euler_angles(0.0, 0.0, 30f64.to_radians());
+        let lifted =
+            Isometry3::from_parts(nalgebra::Translation3::new(0.15, 0.0, 0.11), turn * down);
+        let radius = 0.008;
+        // Parallel to the top face, 25 mm above it, running past both sides of the box.
+        let above = |dz: f64| {
+            held.distance_to_link(
+                &lifted,
+                &Vector3::new(0.05, -0.03, 0.12 + dz),
+                &Vector3::new(0.25, 0.04, 0.12 + dz),
+                radius,
+            )
+        };
+        assert!((above(0.025) - (0.025 - radius)).abs() < 1e-7);
+        // 3 mm above the top: the capsule sinks 5 mm into the box.
+        assert!((above(0.003) - (0.003 - radius)).abs() < 1e-7);
+        // A top corner of the box (its axes are the base frame's as it was picked, now turned
+        // 30° about the vertical), and a capsule ending 30 mm out along the corner's diagonal,
+        // pointing away.
+        let placed = held.placed(&lifted);
+        let corner_local = nalgebra::Point3::new(0.01, 0.01, 0.01);
+        let corner = (placed * corner_local).coords;
+        let outward = (placed.rotation * Vector3::new(1.0, 1.0, 1.0)).normalize();
+        let near = corner + outward * 0.03;
+        let far = near + outward * 0.05;
+        let gap = held.distance_to_link(&lifted, &near, &far, radius);
+        assert!((gap - (0.03 - radius)).abs() < 1e-7, "{gap}");
+        assert!(corner.z > 0.119 && corner.z < 0.121);
     }
 }

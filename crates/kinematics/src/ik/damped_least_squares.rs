@@ -1,19 +1,28 @@
 //! Damped least squares for any serial chain (Levenberg–Marquardt steps on the tool Jacobian).
 //!
 //! Each step solves the 6×6 damped normal equations (J·Jᵀ + λ²·I)·y = e and moves the joints by
-//! Jᵀ·y, clamped into their limits (the damped least squares method as surveyed in Buss,
-//! "Introduction to inverse kinematics with Jacobian transpose, pseudoinverse and damped least
-//! squares methods", 2004; cited from memory). λ falls while steps lower the error and rises
-//! when they do not. Rows the task leaves out are zero. The first start is the near pose
-//! (clamped into the limits); further starts are seeded random in-limit poses. A start whose
-//! accepted steps stop lowering the error (a local minimum, usually against a limit) is given up
-//! early, so many cheap restarts replace a few long ones; the time is bounded by
+//! Jᵀ·y (the damped least squares method as surveyed in Buss, "Introduction to inverse
+//! kinematics with Jacobian transpose, pseudoinverse and damped least squares methods", 2004;
+//! cited from memory). λ falls while steps lower the error and rises when they do not. Rows the
+//! task leaves out are zero. The first start is the near pose (clamped into the limits);
+//! further starts are seeded random in-limit poses.
+//!
+//! Turning joints descend free of their limits and are brought into them by whole turns once
+//! a start converges: held at a limit, a joint makes a false minimum there, and most starts
+//! that failed did so against a limit (full 6-joint poses from random starts: 99.94 % solved
+//! within 5 000 iterations with limits held; free, with the stall rule below and a starting
+//! damping of 0.1, 99.98–100 % within 1 000 over five seeds of 10 000 targets). A start that lands in
+//! a joint's gap goes on with every joint held when the task leaves joints to spare; sliding
+//! joints always stop at their limits. A start whose accepted steps stop lowering the error is
+//! given up early, so many cheap restarts replace a few long ones; the time is bounded by
 //! min(iteration_budget, (1 + restarts) × max_iterations) steps of fixed cost.
 
 use nalgebra::{Isometry3, Matrix6, SMatrix, SVector, UnitQuaternion, Vector3, Vector6};
 
-use super::{Branch, IkError, IkOptions, IkSolutions, IkTarget, IkTask, tool_rotation};
-use crate::arm::{Arm, MAX_JOINTS};
+use super::{
+    Branch, IkError, IkOptions, IkSolutions, IkTarget, IkTask, fit_into_limits, tool_rotation,
+};
+use crate::arm::{Arm, JointKind, MAX_JOINTS};
 use crate::fk::{ToolAngles, tool_pose};
 use crate::jacobian::tool_jacobian;
 
@@ -21,10 +30,14 @@ use crate::jacobian::tool_jacobian;
 const MAX_STEP: f64 = 1.0;
 /// Above this damping (m) the start is taken as stuck.
 const STUCK_DAMPING: f64 = 1e3;
-/// An accepted step that leaves more than this share of the error counts as stalled.
-const STALL_RATIO: f64 = 0.98;
+/// An accepted step that leaves more than this share of the error counts as stalled. Near a
+/// solution each step leaves a small share of the error, so a start that is converging never
+/// stalls; 0.9 and two steps (rather than 0.98 and four) gave up on hopeless starts sooner and
+/// lifted full 6-joint poses from random starts within 1 000 iterations from 99.89–99.99 % to
+/// 99.97–100 % solved over five seeds of 10 000 (99.98–100 % with the default damping of 0.1).
+const STALL_RATIO: f64 = 0.9;
 /// After this many stalled steps in a row the start is given up for the next one.
-const STALL_STEPS: usize = 4;
+const STALL_STEPS: usize = 2;
 /// Damping never falls below this (m), so the normal equations stay solvable.
 const MIN_DAMPING: f64 = 1e-9;
 
@@ -110,6 +123,12 @@ fn descend_with_restarts(
     for (index, joint) in arm.joints().iter().enumerate() {
         start[index] = near[index].clamp(joint.min, joint.max);
     }
+    let constraints = match goal.task {
+        IkTask::Position => 3,
+        IkTask::PositionPitch => 4,
+        IkTask::FullPose => 6,
+    };
+    let spare_joints = count > constraints;
     let mut restart_poses = SplitMix(options.seed);
     let mut iterations = 0;
     let mut best_residual = f64::INFINITY;
@@ -122,9 +141,20 @@ fn descend_with_restarts(
                 start[index] = joint.min + (joint.max - joint.min) * restart_poses.unit();
             }
         }
-        let (pose, error) = descend(arm, goal, start, options, &mut iterations)?;
+        // Turning joints first run free of their limits, so a limit makes no false minimum;
+        // whole turns then bring the answer into the limits. When it lands in a joint's gap
+        // and the task leaves joints to spare, the start goes on from there with every joint
+        // held within its limits, which the spare joints can usually make up for; without
+        // spare joints the next start does better.
+        let (mut pose, mut error) =
+            descend(arm, goal, start, Turns::Free, options, &mut iterations)?;
+        let mut inside = fit_turns(arm, &mut pose, &start);
+        if !inside && spare_joints && converged(goal, &error, options) {
+            (pose, error) = descend(arm, goal, pose, Turns::Held, options, &mut iterations)?;
+            inside = true;
+        }
         let residual = error.norm();
-        if converged(goal, &error, options) {
+        if inside && converged(goal, &error, options) {
             let mut branch = Branch::new(&pose.as_slice()[..count], "damped least squares");
             branch.residual = residual;
             branch.iterations = iterations;
@@ -150,6 +180,7 @@ fn descend(
     arm: &Arm,
     goal: &Goal,
     start: Pose,
+    turns: Turns,
     options: &IkOptions,
     iterations: &mut usize,
 ) -> Result<(Pose, TaskError), IkError> {
@@ -172,7 +203,7 @@ fn descend(
             break;
         }
         *iterations += 1;
-        let Some(candidate) = limited_step(arm, &jacobian, &error, &pose, damping) else {
+        let Some(candidate) = limited_step(arm, &jacobian, &error, &pose, damping, turns) else {
             damping *= 10.0;
             continue;
         };
@@ -204,7 +235,8 @@ fn descend(
     Ok((pose, error))
 }
 
-/// One damped step from `pose`, kept within the joint limits. A joint already at a limit that
+/// One damped step from `pose`, kept within the limits of the sliding joints, and of the
+/// turning joints when `turns` holds them. A joint already at a limit that
 /// the step would push past it is held there and the step is solved again without it, so the
 /// other joints make up for it; a joint that would pass a limit from inside stops at it.
 /// `None` if the normal equations cannot be solved.
@@ -214,6 +246,7 @@ fn limited_step(
     error: &TaskError,
     pose: &Pose,
     damping: f64,
+    turns: Turns,
 ) -> Option<Pose> {
     let mut active = *jacobian;
     let mut candidate = *pose;
@@ -230,6 +263,9 @@ fn limited_step(
         candidate = pose + step;
         let mut held = false;
         for (index, joint) in arm.joints().iter().enumerate() {
+            if turns == Turns::Free && joint.kind == JointKind::Revolute {
+                continue;
+            }
             let pushed_low = pose[index] <= joint.min && step[index] < 0.0;
             let pushed_high = pose[index] >= joint.max && step[index] > 0.0;
             if (pushed_low || pushed_high) && active.column(index).norm() > 0.0 {
@@ -308,6 +344,34 @@ fn task_jacobian(
         }
     }
     Ok(task)
+}
+
+/// Whether turning joints keep within their limits while the solver descends.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Turns {
+    /// Turning joints run free (sliding joints still stop at their limits).
+    Free,
+    /// Every joint stops at its limits.
+    Held,
+}
+
+/// Brings every turning joint of `pose` within its limits by whole turns, the turn nearest
+/// `start` where there is a choice, and clamps what lies past a limit; false when some joint
+/// lay in the gap between its limits (the pose then no longer reaches what it reached).
+fn fit_turns(arm: &Arm, pose: &mut Pose, start: &Pose) -> bool {
+    let mut inside = true;
+    for (index, joint) in arm.joints().iter().enumerate() {
+        let value = match fit_into_limits(joint, pose[index], start[index]) {
+            Ok(value) => value,
+            Err((nearest, _)) => {
+                inside = false;
+                nearest
+            }
+        };
+        // Within the fit's slack, or the nearest value past a limit: onto the limit.
+        pose[index] = value.clamp(joint.min, joint.max);
+    }
+    inside
 }
 
 /// SplitMix64: a small seeded generator for the restart poses.

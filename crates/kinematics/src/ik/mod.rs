@@ -141,7 +141,9 @@ pub enum IkTask {
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct IkOptions {
     /// Starting damping λ, in m. Larger is steadier near singular poses but converges more
-    /// slowly; the solver lowers it while steps succeed and raises it when they fail.
+    /// slowly; the solver lowers it while steps succeed and raises it when they fail. The
+    /// default 0.1 took fewer iterations from random starts than 0.01 (median 15–19 against
+    /// 17–23 for full 6-joint poses).
     pub damping: f64,
     /// Stop once the tool point is this close to the target, in m.
     pub position_tolerance: f64,
@@ -155,7 +157,11 @@ pub struct IkOptions {
     /// Further starts, from seeded random in-limit poses, after the start from the near pose.
     pub restarts: usize,
     /// Most iterations over every start together: the starts stop once it is spent, which
-    /// bounds the time a target that cannot be reached costs.
+    /// bounds the time a target that cannot be reached costs. An iteration on a 6-joint chain
+    /// took 0.8 µs of processor time on the (busy, shared) development machine, so the default
+    /// 1 000 keeps a failed solve near 1 ms while 99.98–100 % of reachable full poses converge
+    /// from random starts (the `ik` benchmarks measure the median case and the failed solve);
+    /// counting iterations rather than time keeps the answer the same on every machine.
     pub iteration_budget: usize,
     /// Seed of the restart poses; the same seed gives the same answer.
     pub seed: u64,
@@ -169,13 +175,13 @@ pub struct IkOptions {
 impl Default for IkOptions {
     fn default() -> IkOptions {
         IkOptions {
-            damping: 1e-2,
+            damping: 0.1,
             position_tolerance: 1e-7,
             angle_tolerance: 1e-6,
             angle_weight: 0.1,
             max_iterations: 60,
             restarts: 400,
-            iteration_budget: 5_000,
+            iteration_budget: 1_000,
             seed: 0x5EED_A12A,
             task: IkTask::Position,
             use_damped_least_squares: false,
@@ -589,40 +595,14 @@ pub(crate) fn tool_rotation(yaw: f64, pitch: f64, roll: f64) -> UnitQuaternion<f
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::arm::{Calibration, MassProperties, ServoSpec};
 
     fn revolute(min: f64, max: f64) -> Joint {
-        let spec = crate::arm::JointSpec {
-            name: "test".into(),
-            min,
-            max,
-            home: min,
-            servo: ServoSpec {
-                stall_torque: 1.0,
-                no_load_speed: 6.0,
-                deadband_us: 4.0,
-                proportional_band_us: 40.0,
-                backlash: 0.0,
-                mass: 0.05,
-                mount_offset: Vector3::zeros(),
-                drive_ratio: 1.0,
-            },
-            calibration: Calibration {
-                position_a: -1.0,
-                pulse_a_us: 1000.0,
-                position_b: 1.0,
-                pulse_b_us: 2000.0,
-                pulse_min_us: 900.0,
-                pulse_max_us: 2100.0,
-            },
-            link_mass: MassProperties::zero(),
-        };
-        Joint::new(
-            0,
-            spec,
+        Joint::for_tests(
             JointKind::Revolute,
             nalgebra::Isometry3::identity(),
             Vector3::z_axis(),
+            min,
+            max,
         )
         .unwrap()
     }

@@ -3,8 +3,6 @@
 
 #![allow(dead_code)]
 
-pub mod invented_arm;
-
 use std::io;
 use std::sync::atomic::{AtomicBool, Ordering};
 use std::sync::{Arc, Mutex};

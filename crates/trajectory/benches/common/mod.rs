@@ -6,9 +6,8 @@ use armwright_trajectory::{
     JointLimits, JointMove, LimitSettings, ProfileShape, ServoModelOptions, Task, TaskWaypoint,
 };
 
-/// The kinematics tests' sample arms (and their seeded generator).
-#[path = "../../../kinematics/tests/common/mod.rs"]
-pub mod arms;
+pub use armwright_test_support::arms;
+use armwright_test_support::seeded::XorShift;
 
 /// The sequence the dry-run and clearance benches share: 100 stops (plus the start) of moves of
 /// up to ±25° per joint around a working pose of the 5-joint articulated sample arm, with short
@@ -39,27 +38,6 @@ pub fn hundred_waypoints() -> Task {
     }
 }
 
-/// Small deterministic generator (xorshift64*).
-pub struct Seeded(u64);
-
-impl Seeded {
-    /// A generator from `seed`.
-    pub fn new(seed: u64) -> Self {
-        Self(seed | 1)
-    }
-
-    /// Uniform in `[low, high)`.
-    pub fn uniform(&mut self, low: f64, high: f64) -> f64 {
-        let mut x = self.0;
-        x ^= x >> 12;
-        x ^= x << 25;
-        x ^= x >> 27;
-        self.0 = x;
-        let unit = (x.wrapping_mul(0x2545_F491_4F6C_DD1D) >> 11) as f64 / (1u64 << 53) as f64;
-        low + unit * (high - low)
-    }
-}
-
 /// One multi-joint move: each joint's move and limits.
 #[derive(Clone, Copy)]
 pub struct Problem<const N: usize> {
@@ -87,7 +65,7 @@ pub fn random_moves<const N: usize>(
     seed: u64,
     boundaries: Boundaries,
 ) -> Vec<Problem<N>> {
-    let mut rng = Seeded::new(seed);
+    let mut rng = XorShift::new(seed);
     let mut problems = Vec::with_capacity(count);
     while problems.len() < count {
         let mut moves = [JointMove::default(); N];

@@ -405,20 +405,7 @@ fn rest_to_rest_scaled(parts: &ThreePart, from_duration: f64, to_duration: f64) 
 mod tests {
     use super::*;
 
-    /// Small deterministic generator (xorshift64*), uniform in `[low, high)`.
-    struct Seeded(u64);
-
-    impl Seeded {
-        fn uniform(&mut self, low: f64, high: f64) -> f64 {
-            let mut x = self.0;
-            x ^= x >> 12;
-            x ^= x << 25;
-            x ^= x >> 27;
-            self.0 = x;
-            let unit = (x.wrapping_mul(0x2545_F491_4F6C_DD1D) >> 11) as f64 / (1u64 << 53) as f64;
-            low + unit * (high - low)
-        }
-    }
+    use armwright_test_support::seeded::XorShift;
 
     /// Samples `profile` at 2 001 points: within its limits, continuous, exact at both ends.
     fn assert_sound(profile: &Profile) {
@@ -457,7 +444,7 @@ mod tests {
 
     #[test]
     fn a_refused_duration_lies_in_one_interval_whose_end_can_be_taken() {
-        let mut rng = Seeded(0x5EED_0013);
+        let mut rng = XorShift::new(0x5EED_0013);
         let mut refused = 0;
         for index in 0..4_000 {
             let shape = if index % 2 == 0 {

@@ -1,33 +1,8 @@
-//! Shared helpers for the integration tests: a seeded generator and the reference library.
+//! Shared helpers for the integration tests: the reference library, sampled checks of a
+//! profile and a plant to excite (the seeded generator is the test-support crate's `XorShift`).
 #![allow(dead_code)]
 
 use rsruckig::prelude::*;
-
-/// Small deterministic generator (xorshift64*), so every run checks the same cases.
-pub struct Seeded(u64);
-
-impl Seeded {
-    /// A generator from `seed`.
-    pub fn new(seed: u64) -> Self {
-        Self(seed | 1)
-    }
-
-    /// Uniform in `[low, high)`.
-    pub fn uniform(&mut self, low: f64, high: f64) -> f64 {
-        let mut x = self.0;
-        x ^= x >> 12;
-        x ^= x << 25;
-        x ^= x >> 27;
-        self.0 = x;
-        let unit = (x.wrapping_mul(0x2545_F491_4F6C_DD1D) >> 11) as f64 / (1u64 << 53) as f64;
-        low + unit * (high - low)
-    }
-
-    /// Log-uniform in `[low, high)`, for quantities spanning decades.
-    pub fn log_uniform(&mut self, low: f64, high: f64) -> f64 {
-        self.uniform(low.ln(), high.ln()).exp()
-    }
-}
 
 /// One joint for the reference library: start, end, start/end velocity, vmax, amax, jmax.
 #[derive(Debug, Clone, Copy)]

@@ -1,17 +1,21 @@
-//! The follow panel: the caution, the Follow switch and its speed share, what the device is
-//! doing, the jog steps and the keys that jog; and [`jog_keys`], which reads those keys.
+//! The follow panel: the caution, the Follow switches (the edited pose, the input arm) and
+//! their speed share, what the device is doing, the jog steps and the keys that jog; and
+//! [`jog_keys`], which reads those keys.
 
 use egui::{DragValue, Key, Modifiers, RichText, Slider, Ui};
 
 use crate::editor::command::Command;
 use crate::editor::device::LinkView;
-use crate::editor::follow::{FOLLOW_SHARE_RANGE_PCT, FollowCommand, FollowPhase};
+use crate::editor::follow::{FOLLOW_SHARE_RANGE_PCT, FollowCommand, FollowPhase, FollowSource};
 use crate::editor::state::{EditorState, StopState};
 
 use super::link::caution_box;
 
 /// The Follow switch's label.
 pub const FOLLOW_LABEL: &str = "Follow the edited pose";
+
+/// The switch that makes the device follow the input arm.
+pub const FOLLOW_INPUT_LABEL: &str = "Follow the input arm";
 
 /// The key that jogs the chosen joint back by one step.
 pub const JOG_BACK_KEY: Key = Key::OpenBracket;
@@ -51,7 +55,8 @@ pub fn follow(ui: &mut Ui, state: &EditorState, view: &LinkView) -> Command {
     ui.label(
         "The connected device follows the edited pose: dragging the tool point, the joint \
          sliders, Go on a waypoint, the timeline's cursor and the jog keys all move the arm, \
-         no faster than the speed share below and never faster than its servos can follow.",
+         no faster than the speed share below and never faster than its servos can follow. \
+         Or it follows the input arm (amber in the views), moved by hand.",
     );
     if !state.caution_acknowledged
         && caution_box(
@@ -65,16 +70,40 @@ pub fn follow(ui: &mut Ui, state: &EditorState, view: &LinkView) -> Command {
     let connected = view.connection.is_some();
     let stopped = matches!(state.stop, StopState::Latched { .. });
     let may_switch = state.caution_acknowledged && connected && !stopped;
-    let mut on = settings.on;
+    let following = |source| settings.on && settings.source == source;
+    let mut on = following(FollowSource::EditedPose);
     let switch = ui.add_enabled(may_switch || on, egui::Checkbox::new(&mut on, FOLLOW_LABEL));
     if switch.changed() {
         command = Command::Follow(FollowCommand::Switch(on));
     }
+    let mut on = following(FollowSource::InputArm);
+    let has_input_arm = state.input_pose.is_some();
+    let switch = ui
+        .add_enabled(
+            (may_switch && has_input_arm) || on,
+            egui::Checkbox::new(&mut on, FOLLOW_INPUT_LABEL),
+        )
+        .on_disabled_hover_text(
+            "needs the caution acknowledged, a device that sends analog readings and the \
+             scene's \"inputs\" mapped to joints",
+        );
+    if switch.changed() {
+        command = Command::Follow(FollowCommand::InputArm(on));
+    }
+    let what = if view.follow.inputs {
+        "the input arm"
+    } else {
+        "the edited pose"
+    };
     let status = match (view.follow.phase, connected, stopped) {
         (_, _, true) => "the emergency stop is latched: reset it before following".to_owned(),
         (_, false, _) => "no device is connected (see the Link tab)".to_owned(),
+        (FollowPhase::Leaving, ..) if view.follow.readings_lost => {
+            "the input arm's readings stopped: the arm comes to rest and the device holds it"
+                .to_owned()
+        }
         (FollowPhase::Following, ..) => format!(
-            "the device follows at {:.0} % of the joints' limits",
+            "the device follows {what} at {:.0} % of the joints' limits",
             view.follow.share * 100.0
         ),
         (FollowPhase::Leaving, ..) => "coming to rest; the device then holds".to_owned(),
@@ -168,7 +197,8 @@ pub fn follow(ui: &mut Ui, state: &EditorState, view: &LinkView) -> Command {
     }
     ui.label(
         "While following, \"Store pose\" stores the pose the arm is being sent. Turning follow \
-         off brings the arm to rest and the device holds it.",
+         off brings the arm to rest and the device holds it. Following the input arm, the device \
+         holds when no readings come for half a second.",
     );
     command
 }

@@ -1,7 +1,8 @@
 //! Joint controls: per joint a slider and a number (degrees, or mm for a sliding joint), the
-//! pulse width from its calibration with the rounding error, the torque use; the gripper.
+//! pulse width from its calibration with the rounding error, the torque use; the heaviest payload
+//! the pose holds; the gripper.
 
-use armwright_kinematics::{Calibration, SentPulse};
+use armwright_kinematics::{Arm, Calibration, SentPulse};
 use egui::{Color32, DragValue, RichText, Slider, Ui};
 
 use crate::editor::command::Command;
@@ -23,15 +24,61 @@ pub fn shown_pulse(
     (sent, position_to_file_unit(kind, error))
 }
 
+/// The heaviest payload the current pose holds within the derated stall torque, short enough
+/// to sit beside the panel's heading: "payload ≤ 184 g (elbow)"; the hover gives it as `pose`
+/// prints it ("heaviest payload 184 g at the tool point (set by elbow)").
+fn payload_text(state: &EditorState, arm: &Arm) -> Option<(String, String)> {
+    let limit = state.max_payload?;
+    Some(match limit.joint.and_then(|j| arm.joints().get(j)) {
+        Some(joint) if limit.mass.is_finite() => (
+            format!("payload ≤ {:.0} g ({})", limit.mass * 1e3, joint.name),
+            format!(
+                "heaviest payload {:.0} g at the tool point (set by {})",
+                limit.mass * 1e3,
+                joint.name
+            ),
+        ),
+        _ => (
+            "payload: any".to_string(),
+            "heaviest payload: no joint's torque depends on it".to_string(),
+        ),
+    })
+}
+
+fn payload_line(ui: &mut Ui, state: &EditorState, arm: &Arm) {
+    let Some((short, long)) = payload_text(state, arm) else {
+        return;
+    };
+    let over = state
+        .max_payload
+        .is_some_and(|limit| limit.mass < arm.payload_mass());
+    if over {
+        ui.colored_label(Color32::from_rgb(255, 80, 60), short)
+            .on_hover_text(format!(
+                "{long}: less than the arm's payload, a joint is over its derated torque"
+            ));
+    } else {
+        ui.label(short).on_hover_text(format!(
+            "{long}, holding this pose with every joint within {:.0} % of its stall torque \
+             (timing.torque_derating_pct)",
+            state.scene.timing.torque_derating_pct
+        ));
+    }
+}
+
 /// Draws the joint controls; pulse widths are rounded to `pulse_unit_us` (µs), the connected
 /// device's unit.
 pub fn joint_controls(ui: &mut Ui, state: &EditorState, pulse_unit_us: f64) -> Command {
     let mut command = Command::None;
-    ui.heading("Joints");
     let Some(arm) = state.arm() else {
+        ui.heading("Joints");
         ui.colored_label(Color32::from_rgb(255, 80, 60), "the arm cannot be built");
         return command;
     };
+    ui.horizontal(|ui| {
+        ui.heading("Joints");
+        payload_line(ui, state, arm);
+    });
     let kinds = state.scene.arm.shape.joint_kinds();
     for (index, (doc, joint)) in state.scene.arm.joints.iter().zip(arm.joints()).enumerate() {
         let kind = kinds.get(index).copied().unwrap_or(JointKindDoc::Revolute);
@@ -248,6 +295,74 @@ mod tests {
                 .state()
                 .1
                 .contains(&Command::SetGripper(GripperState::Closed))
+        );
+    }
+
+    #[test]
+    fn the_heaviest_payload_is_the_one_pose_gives_and_follows_the_slider() {
+        use crate::cli::pose::evaluate;
+        use crate::editor::command::apply;
+        use crate::editor::estop::ChannelStopLink;
+
+        let mut harness = Harness::new_ui_state(
+            |ui, (state, commands): &mut (EditorState, Vec<Command>)| {
+                let command = joint_controls(ui, state, DEFAULT_PULSE_UNIT_US);
+                if command != Command::None {
+                    commands.push(command);
+                }
+            },
+            (EditorState::new(sample_scene(), None), Vec::new()),
+        );
+        // What `pose --json` gives (`max_payload_g`) for the pose shown, named by the joint
+        // that sets it.
+        let shown = |harness: &Harness<'_, (EditorState, Vec<Command>)>| {
+            let (state, _) = harness.state();
+            let arm = state.arm().cloned().expect("an arm");
+            let report = evaluate(&state.scene, &arm, &state.pose).expect("the pose evaluates");
+            let joint = report.payload_joint.expect("a joint sets it");
+            let text = format!(
+                "payload ≤ {:.0} g ({})",
+                report.max_payload_kg * 1e3,
+                arm.joints()[joint].name
+            );
+            assert!(
+                harness.query_by_label(&text).is_some(),
+                "no \"{text}\" at {:?}",
+                state.pose
+            );
+            report.max_payload_kg
+        };
+        let before = shown(&harness);
+        // Move the shoulder's slider with the keyboard, as a drag does, and apply what it asks.
+        let name = harness.state().0.scene.arm.joints[1].name.clone();
+        harness.get_by_label(&format!("{name} position")).focus();
+        harness.run();
+        for _ in 0..20 {
+            harness.key_press(egui::Key::ArrowLeft);
+        }
+        harness.run();
+        let commands = std::mem::take(&mut harness.state_mut().1);
+        assert!(
+            commands
+                .iter()
+                .any(|c| matches!(c, Command::SetJoint { joint: 1, .. })),
+            "{commands:?}"
+        );
+        let (mut link, _requests) = ChannelStopLink::new();
+        for command in commands {
+            apply(
+                &mut harness.state_mut().0,
+                command,
+                &mut link,
+                1,
+                &mut Vec::new(),
+            );
+        }
+        harness.run();
+        let after = shown(&harness);
+        assert!(
+            (after - before).abs() > 1e-3,
+            "{before} kg, then {after} kg"
         );
     }
 }

@@ -16,6 +16,9 @@ use super::status_bar::CAUTION;
 /// The button that acknowledges the caution.
 pub const ACKNOWLEDGE_LABEL: &str = "I have read the caution";
 
+/// The checkbox that ends each stream at the rest pose.
+pub const PARK_LABEL: &str = "End at the rest pose";
+
 /// The caution's part about limp servos and the approach.
 const LIMP_CAUTION: &str = "A limp servo jumps to its first pulse at its own top speed. Every \
 stream first asks the device what it sends: a limp arm is woken at its rest pose (each joint's \
@@ -154,11 +157,13 @@ fn device_info(ui: &mut Ui, view: &LinkView, connection: &crate::editor::device:
             ui.label("bad lines / checksums");
             ui.label(format!("{} / {}", status.bad_lines, status.bad_checksums));
             ui.end_row();
-            ui.label("clamped values / watchdog trips");
-            ui.label(format!(
-                "{} / {}",
-                status.clamped_values, status.watchdog_trips
-            ));
+            // Two rows, not one "clamped values / watchdog trips": that label widened the tools
+            // panel at 1280 points.
+            ui.label("clamped values");
+            ui.label(status.clamped_values.to_string());
+            ui.end_row();
+            ui.label("watchdog trips");
+            ui.label(status.watchdog_trips.to_string());
             ui.end_row();
         }
     });
@@ -231,7 +236,9 @@ fn stream_controls(ui: &mut Ui, state: &EditorState, view: &LinkView) -> Command
                 .add_enabled(may_move, egui::Button::new("Stream from the start"))
                 .clicked()
             {
-                command = Command::Link(LinkAction::Stream);
+                command = Command::Link(LinkAction::Stream {
+                    park: state.park_after_stream,
+                });
             }
         }
         StreamPhase::Planning | StreamPhase::Pausing => {
@@ -245,10 +252,23 @@ fn stream_controls(ui: &mut Ui, state: &EditorState, view: &LinkView) -> Command
                 )
                 .clicked()
             {
-                command = Command::Link(LinkAction::Stream);
+                command = Command::Link(LinkAction::Stream {
+                    park: state.park_after_stream,
+                });
             }
         }
     });
+    let mut park = state.park_after_stream;
+    if ui
+        .checkbox(&mut park, PARK_LABEL)
+        .on_hover_text(
+            "after the last waypoint, move to the rest pose (each joint's home) at the approach \
+             speed share and hold there, as `armwright stream --park` does",
+        )
+        .changed()
+    {
+        command = Command::ParkAfterStream(park);
+    }
     ui.label(RichText::new(approach_words(state, view)).small());
     let total = view.progress.1;
     ui.label(stream_words(view));
@@ -430,7 +450,21 @@ mod tests {
         harness.run();
         assert_eq!(
             harness.state().2.last(),
-            Some(&Command::Link(LinkAction::Stream))
+            Some(&Command::Link(LinkAction::Stream { park: false }))
+        );
+        harness.get_by_label(PARK_LABEL).click();
+        harness.run();
+        assert_eq!(
+            harness.state().2.last(),
+            Some(&Command::ParkAfterStream(true))
+        );
+        harness.state_mut().0.park_after_stream = true;
+        harness.run();
+        harness.get_by_label("Stream sequence").click();
+        harness.run();
+        assert_eq!(
+            harness.state().2.last(),
+            Some(&Command::Link(LinkAction::Stream { park: true }))
         );
     }
 

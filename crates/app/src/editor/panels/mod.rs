@@ -27,9 +27,11 @@ pub use arm_settings::arm_settings;
 pub(crate) use calibration::step_keys as calibration_step_keys;
 pub use calibration::{MOVED_LABEL, calibration};
 pub use dialogs::dialogs;
-pub use follow::{FOLLOW_LABEL, JOG_BACK_KEY, JOG_KEYS, JOG_ON_KEY, follow, jog_keys};
+pub use follow::{
+    FOLLOW_INPUT_LABEL, FOLLOW_LABEL, JOG_BACK_KEY, JOG_KEYS, JOG_ON_KEY, follow, jog_keys,
+};
 pub use joint_controls::joint_controls;
-pub use link::{ACKNOWLEDGE_LABEL, link};
+pub use link::{ACKNOWLEDGE_LABEL, PARK_LABEL, link};
 pub use retime::retime;
 pub use sequence::sequence;
 pub use status_bar::{CAUTION, status_bar};

@@ -1,14 +1,16 @@
 //! The retime tab: the target (largest overshoot in mm, torque share in % of stall), the current
-//! timing's figures against it (from the timeline's dry run), a run on a worker thread with its
-//! progress and a cancel button, and the result: before and after cycle time, worst overshoot,
-//! worst torque use (% of the derated stall torque), gripper stops unsettled, what binds, the
-//! worst placement success, per waypoint, shaping; apply (one undo step) or discard.
+//! timing's figures against it (from the timeline's dry run, with its worst placement success),
+//! a run on a worker thread with its progress and a cancel button, and the result: before and
+//! after cycle time, worst overshoot, worst torque use (% of the derated stall torque), gripper
+//! stops unsettled, what binds, the worst placement success, per waypoint, shaping; apply (one
+//! undo step) or discard.
 
 use egui::{Button, Color32, DragValue, Grid, ProgressBar, RichText, Ui};
 
 use armwright_trajectory::Binding;
 
 use crate::editor::command::Command;
+use crate::editor::dry_run_marks;
 use crate::editor::retime_job::{RetimeReport, RetimeRun, RunFigures};
 use crate::editor::state::EditorState;
 use crate::scene::Shaping;
@@ -156,6 +158,30 @@ fn current_view(ui: &mut Ui, state: &EditorState) {
         figures.worst_torque_use_pct,
         super::counted(figures.unsettled_gripper_stops, "gripper stop", "gripper stops")
     ));
+    // From the same dry run, once its marks are of the scene as it is now.
+    if let Some((index, placement)) = state.dry_run_found().and_then(|f| f.worst_placement()) {
+        let text = format!(
+            "current worst placement success: {:.0} % within {} mm, at waypoint {} \"{}\"",
+            placement.estimate.success * 100.0,
+            placement.tolerance_mm,
+            index + 1,
+            state
+                .scene
+                .waypoints
+                .get(index)
+                .map_or("", |w| w.name.as_str())
+        );
+        if placement.estimate.success < dry_run_marks::PLACEMENT_WARNING {
+            ui.colored_label(WARNING, text)
+        } else {
+            ui.label(text)
+        }
+        .on_hover_text(dry_run_marks::placement_sentence(
+            &state.scene,
+            index,
+            placement,
+        ));
+    }
 }
 
 /// A binding constraint in a word or two.

@@ -1,5 +1,6 @@
 //! The sequence: waypoints in order with name, move kind, profile, speed share, dwell, arrival
-//! and gripper; store the current pose, insert, delete, reorder, rename, jump to.
+//! and gripper, and the dry run's marks (placement success at a pick or place, an unsettled
+//! stop); store the current pose, insert, delete, reorder, rename, jump to.
 
 use egui::{Button, ComboBox, DragValue, ScrollArea, TextEdit, Ui};
 
@@ -123,12 +124,12 @@ pub fn sequence(ui: &mut Ui, state: &EditorState) -> Command {
 /// Column titles and widths, in points.
 const COLUMNS: [(&str, f32); 9] = [
     ("#", 36.0),
-    ("name", 170.0),
+    ("name", 130.0),
     ("move", 104.0),
     ("profile", 112.0),
     ("speed share", 84.0),
     ("dwell", 84.0),
-    ("arrival", 132.0),
+    ("arrival", 112.0),
     ("gripper", 96.0),
     ("", 50.0),
 ];

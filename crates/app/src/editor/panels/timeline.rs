@@ -8,14 +8,15 @@
 //! costs no more to draw than a short one.
 //!
 //! While a device is connected and has said what it sends, the approach the next stream would
-//! start with ([`crate::approach`]) is drawn before time 0 as its own shaded segment, so the
-//! move from where the device holds the arm to the first waypoint is seen before it is made.
+//! start with ([`crate::approach`]) is drawn before time 0 as its own shaded segment, commanded
+//! and dry run (the approach's plan through the same servo model, from the arm at rest where
+//! the approach starts), so the move from where the device holds the arm to the first waypoint
+//! is seen before it is made.
 
 use std::ops::RangeInclusive;
 
-use armwright_kinematics::JointKind;
 use armwright_link::{ChannelOutput, DeviceInfo};
-use armwright_trajectory::{CommandedMotion, JointState, MAX_JOINTS};
+use armwright_trajectory::CommandedMotion;
 use egui::{
     Align2, Button, Color32, ComboBox, DragValue, FontId, Mesh, Rect, RichText, Shape, Ui, pos2,
     vec2,
@@ -30,7 +31,8 @@ use crate::editor::command::Command;
 use crate::editor::dry_run_marks;
 use crate::editor::playback::{AtEnd, DryRunStatus, PlaybackCommand, SPEEDS, Timeline};
 use crate::editor::state::EditorState;
-use crate::editor::traces::{Column, Quantity, decimate};
+use crate::editor::traces::{Column, Quantity, Traces, decimate};
+use crate::task::{dry_run_of, dry_run_options_of};
 
 /// Joint colours, from the Okabe–Ito palette (distinguishable for the common kinds of colour
 /// blindness; common practice in scientific figures), blue last as it is darkest on the plot.
@@ -51,8 +53,9 @@ const MARK: Color32 = Color32::from_rgb(150, 150, 160);
 /// The approach segment's shading and name.
 const APPROACH: Color32 = Color32::from_rgb(120, 170, 255);
 
-/// How often the approach is looked at for its lines, s (one servo frame).
-const APPROACH_STEP: f64 = 0.02;
+/// Columns each approach line is decimated to: finer than the shaded segment is wide on any
+/// usual window, however short the sequence after it.
+const APPROACH_COLUMNS: usize = 400;
 /// Error text.
 const ERROR: Color32 = Color32::from_rgb(255, 90, 60);
 
@@ -85,15 +88,14 @@ pub struct TimelinePlot {
     approach: Option<ApproachTrace>,
 }
 
-/// The approach from what the device sends to the first waypoint, looked at every
-/// [`APPROACH_STEP`], on the timeline's clock (it ends at 0).
+/// The approach from what the device sends to the first waypoint: its plan and dry run as
+/// the timeline's traces, on their own clock from 0 (drawn shifted to end at 0).
 struct ApproachTrace {
     generation: u64,
     device: (ChannelOutput, DeviceInfo),
     from: StartFrom,
     duration: f64,
-    /// Time (s, negative) and every joint's state then, SI.
-    states: Vec<(f64, Vec<JointState>)>,
+    traces: Traces,
 }
 
 struct PlotLine {
@@ -138,7 +140,14 @@ impl TimelinePlot {
             .map(|approach| (approach.from, approach.duration))
     }
 
-    /// Plans the approach again when the device's output or the timeline changed.
+    /// The traces of the approach drawn before time 0 (its commanded motion and its dry run,
+    /// on the approach's own clock from 0); `None` when none is shown.
+    pub fn approach_traces(&self) -> Option<&Traces> {
+        self.approach.as_ref().map(|approach| &approach.traces)
+    }
+
+    /// Plans and dry-runs the approach again when the device's output or the timeline changed
+    /// (a two-waypoint plan a few seconds long, on the UI thread).
     fn refresh_approach(&mut self, state: &EditorState, timeline: &Timeline) {
         let Some(device) = self.device else {
             self.approach = None;
@@ -154,23 +163,21 @@ impl TimelinePlot {
         self.approach = state.arm().and_then(|arm| {
             let (start, from) = approach_start(&state.scene, arm, Some(&device.0), &device.1);
             let approach = approach_of(&state.scene, arm, &start).ok()?;
-            let duration = approach.duration();
-            let joints = arm.joint_count().min(MAX_JOINTS);
-            let steps = (duration / APPROACH_STEP).ceil().max(1.0) as usize;
-            let states = (0..=steps)
-                .map(|k| {
-                    let t = duration * k as f64 / steps as f64;
-                    let mut states = vec![JointState::default(); joints];
-                    approach.plan().states_at(t, &mut states);
-                    (t - duration, states)
-                })
-                .collect();
+            let run = dry_run_of(&state.scene, arm, approach.plan()).ok()?;
+            let options = dry_run_options_of(&state.scene);
+            let traces = Traces::of(
+                arm,
+                approach.plan(),
+                &run,
+                options.derating,
+                options.servo.frame_period,
+            );
             Some(ApproachTrace {
                 generation: timeline.generation,
                 device,
                 from,
-                duration,
-                states,
+                duration: approach.duration(),
+                traces,
             })
         });
     }
@@ -372,12 +379,13 @@ fn steps_1_2_5(least: f64) -> [f64; 3] {
 /// What the timeline says about the approach the next stream starts with.
 fn approach_caption(approach: Option<&ApproachTrace>) -> String {
     match approach.map(|approach| approach.from) {
-        Some(StartFrom::Held) => {
-            "shaded before 0 s: the approach from where the device holds the arm now".to_owned()
-        }
+        Some(StartFrom::Held) => "shaded before 0 s: the approach from where the device holds \
+                                  the arm now, commanded and dry run"
+            .to_owned(),
         Some(StartFrom::Limp | StartFrom::Unknown) => {
             "shaded before 0 s: a servo is limp, so the arm is woken at its rest pose, held, \
-             then approaches"
+             then approaches (its dry run starts at rest there: the jump a limp servo makes to \
+             its first pulse is not modelled)"
                 .to_owned()
         }
         None => "a stream starts with an approach planned from what the device reports at \
@@ -451,16 +459,10 @@ fn plot_lines(
         });
     }
     let approach_s = plot.approach.as_ref().map_or(0.0, |a| a.duration);
-    let approach_lines: Vec<(usize, Vec<Column>)> = plot
+    let approach_lines: Vec<PlotLine> = plot
         .approach
         .as_ref()
-        .map(|approach| {
-            (0..timeline.traces.joints)
-                .filter(|joint| shown(*joint))
-                .map(|joint| (joint, approach_columns(approach, quantity, joint, state)))
-                .filter(|(_, columns)| !columns.is_empty())
-                .collect()
-        })
+        .map(|approach| approach_lines(approach, quantity, &shown))
         .unwrap_or_default();
     let lines = &mut *plot;
     let response = Plot::new("armwright timeline plot")
@@ -491,11 +493,7 @@ fn plot_lines(
             let key = lines_key([bounds.min()[0], bounds.max()[0]], width);
             lines.refresh(key, timeline);
             let lines: &TimelinePlot = lines;
-            for (joint, columns) in &approach_lines {
-                let colour = JOINT_COLOURS[joint % JOINT_COLOURS.len()];
-                plot_ui.add(Band::new(&names[*joint], columns, colour, COMMANDED_WIDTH));
-            }
-            for line in &lines.lines {
+            for line in approach_lines.iter().chain(&lines.lines) {
                 let (name, colour) = match line.joint {
                     Some(joint) => (
                         names[joint].as_str(),
@@ -589,39 +587,51 @@ fn plot_lines(
     None
 }
 
-/// The approach's commanded `quantity` of `joint` as plot columns (angle, velocity and
-/// acceleration only: the approach has no dry run of its own to compare with).
-fn approach_columns(
+/// The approach's lines of `quantity` for the joints `shown` (or its tool-point deviation),
+/// commanded and dry run, as plot columns shifted to end at time 0.
+fn approach_lines(
     approach: &ApproachTrace,
     quantity: Quantity,
-    joint: usize,
-    state: &EditorState,
-) -> Vec<Column> {
-    let kind = if state.is_prismatic(joint) {
-        JointKind::Prismatic
-    } else {
-        JointKind::Revolute
+    shown: &dyn Fn(usize) -> bool,
+) -> Vec<PlotLine> {
+    let traces = &approach.traces;
+    let columns = |series| {
+        let mut columns = decimate(
+            series,
+            traces.bucket,
+            [0.0, approach.duration],
+            APPROACH_COLUMNS,
+        );
+        // Only the approach itself: its dry run's settling tail is the plan's start.
+        columns.retain(|column| column.x <= approach.duration);
+        for column in &mut columns {
+            column.x -= approach.duration;
+        }
+        columns
     };
-    let scale = |value: f64| match kind {
-        JointKind::Revolute => value.to_degrees(),
-        JointKind::Prismatic => value * 1e3,
-    };
-    let pick = |joint_state: &JointState| match quantity {
-        Quantity::Angle => Some(joint_state.position),
-        Quantity::Velocity => Some(joint_state.velocity),
-        Quantity::Acceleration => Some(joint_state.acceleration),
-        Quantity::TorqueUse | Quantity::Deviation => None,
-    };
-    approach
-        .states
-        .iter()
-        .filter_map(|(t, states)| {
-            let value = scale(pick(states.get(joint)?)?);
-            Some(Column {
-                x: *t,
-                min: value,
-                max: value,
+    if !quantity.per_joint() {
+        return traces
+            .simulated(quantity, 0)
+            .map(|series| PlotLine {
+                joint: None,
+                commanded: Vec::new(),
+                simulated: columns(series),
             })
+            .into_iter()
+            .collect();
+    }
+    (0..traces.joints)
+        .filter(|joint| shown(*joint))
+        .map(|joint| PlotLine {
+            joint: Some(joint),
+            commanded: traces
+                .commanded(quantity, joint)
+                .map(&columns)
+                .unwrap_or_default(),
+            simulated: traces
+                .simulated(quantity, joint)
+                .map(&columns)
+                .unwrap_or_default(),
         })
         .collect()
 }

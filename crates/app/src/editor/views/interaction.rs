@@ -29,9 +29,6 @@ pub struct Camera {
     grab: Option<Vec2>,
     /// Where the tool point was drawn last frame.
     tool_on_screen: Option<Pos2>,
-    /// The side view's yaw (rad), held while the primary pointer button is down so that a drag
-    /// in either view does not turn the side view under the pointer; it turns when released.
-    held_yaw: Option<f64>,
 }
 
 impl Camera {
@@ -43,11 +40,6 @@ impl Camera {
     /// The mapping used in the last frame.
     pub fn projection(&self) -> Option<&Projection> {
         self.projection.as_ref()
-    }
-
-    /// The side view's yaw held during a drag (rad), if one is held.
-    pub fn held_yaw(&self) -> Option<f64> {
-        self.held_yaw
     }
 }
 
@@ -71,13 +63,9 @@ pub fn show_view(
         ViewKind::Side => "side view",
     });
     let rect = response.rect;
-    let live_yaw = state.side_view_yaw();
-    let yaw = if kind == ViewKind::Side && ui.input(|input| input.pointer.primary_down()) {
-        *camera.held_yaw.get_or_insert(live_yaw)
-    } else {
-        camera.held_yaw = None;
-        live_yaw
-    };
+    // Held during a drag (`EditorState::hold_side_view`): the plane, its shading and its title
+    // stay put under the pointer.
+    let yaw = state.side_view_yaw();
     let plane: &dyn Plane = match kind {
         ViewKind::Top => &TopPlane,
         ViewKind::Side => &SidePlane { yaw },
@@ -156,7 +144,16 @@ pub fn show_view(
         }
     }
     if let Some(found) = state.dry_run_found() {
-        dry_run_marks::paint_in_view(ui, &clipped, &projection, plane, kind, &state.scene, found);
+        dry_run_marks::paint_in_view(
+            ui,
+            &clipped,
+            &projection,
+            plane,
+            kind,
+            &state.scene,
+            found,
+            &mut labels,
+        );
     }
     // Captions and legends first, then the names of things wherever they are free of them.
     let (title, subtitle) = view_title(state, kind, yaw, reach);

@@ -20,6 +20,9 @@ mod top_view;
 
 pub use drawing::ViewMaps;
 pub use interaction::{Camera, VIEW_HINT, show_view};
+pub(crate) use labels::Label;
+#[cfg(test)]
+pub(crate) use labels::place_labels;
 pub use overlay::{ArmOverlay, DEVICE, SIMULATED};
 pub use projection::Projection;
 pub use reach_layer::{MapKey, MapLayer, OVER_RATING, ReachLayers, TorqueRamp, viridis};

@@ -1,12 +1,11 @@
 //! The invented articulated arm the link's tests and benches drive: every joint ±90° on
 //! 1000–2000 µs (pulse range 900–2100 µs), the same small servo on each, a gripper on
-//! 1200/1800 µs when asked for.
+//! 1200/1800 µs when asked for. The servo and calibration are those of [`crate::arms`].
 
 use std::f64::consts::FRAC_PI_2;
 
 use armwright_kinematics::{
-    Arm, ArmDescription, ArmType, ArticulatedDims, Calibration, Gripper, JointSpec, MassProperties,
-    ServoSpec,
+    Arm, ArmDescription, ArmType, ArticulatedDims, Gripper, JointSpec, MassProperties,
 };
 
 /// What differs between the tests' arms.
@@ -22,30 +21,12 @@ pub struct InventedArm {
 }
 
 /// The calibration of every joint: −90° at 1000 µs, +90° at 2000 µs, 900–2100 µs accepted.
-pub fn calibration() -> Calibration {
-    Calibration {
-        position_a: -FRAC_PI_2,
-        pulse_a_us: 1000.0,
-        position_b: FRAC_PI_2,
-        pulse_b_us: 2000.0,
-        pulse_min_us: 900.0,
-        pulse_max_us: 2100.0,
-    }
-}
+pub use crate::arms::calibration;
 
 impl InventedArm {
     /// The arm.
     pub fn build(self) -> Arm {
-        let servo = ServoSpec {
-            stall_torque: 1.96,
-            no_load_speed: 6.16,
-            deadband_us: 4.0,
-            proportional_band_us: 40.0,
-            backlash: 0.5_f64.to_radians(),
-            mass: 0.055,
-            mount_offset: nalgebra::Vector3::zeros(),
-            drive_ratio: 1.0,
-        };
+        let servo = crate::arms::servo(0.055);
         let joint = |name: &&str| JointSpec {
             name: (*name).to_owned(),
             min: -FRAC_PI_2,

@@ -9,8 +9,10 @@ use armwright_trajectory::{
     TaskWaypoint, Timing as TaskTiming, dry_run, plan_task, retime,
 };
 
-use super::document::{Arrival, GripperState, JointKindDoc, MoveKind, ProfileKind, Scene, Shaping};
-use super::units::{pose_from_file_units, rate_from_file_unit};
+use crate::scene::{
+    Arrival, GripperState, JointKindDoc, MoveKind, ProfileKind, Scene, Shaping,
+    pose_from_file_units, rate_from_file_unit,
+};
 
 /// The scene's waypoints as a task for `plan_task` (positions in rad or m, dwells in s, shares
 /// 0–1), with the scene's torque derating and damping ratio.
@@ -205,9 +207,7 @@ mod tests {
     use crate::scene::{JointLimitDoc, build_arm, load};
 
     fn sample(name: &str) -> Scene {
-        let path = std::path::Path::new(env!("CARGO_MANIFEST_DIR"))
-            .join("../../sample-scenes")
-            .join(name);
+        let path = armwright_test_support::samples::samples_dir().join(name);
         load(&path).expect("sample loads")
     }
 

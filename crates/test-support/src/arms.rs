@@ -1,6 +1,6 @@
-//! Arms and seeded random numbers shared by the kinematics tests and benchmarks.
-//! Invented hobby-servo figures, for tests only.
-#![allow(dead_code)]
+//! The invented arms of the kinematics and trajectory tests and benchmarks: a horizontal-jointed
+//! arm, a 4- or 5-joint articulated arm and random chains by origin and axis. Invented
+//! hobby-servo figures, for tests only.
 
 use armwright_kinematics::{
     Arm, ArmDescription, ArmType, ArticulatedDims, Calibration, ChainDims, JointKind,
@@ -9,38 +9,11 @@ use armwright_kinematics::{
 use nalgebra::{Isometry3, Matrix3, Vector3};
 use std::f64::consts::PI;
 
-/// A small deterministic generator (SplitMix64), so every run sees the same inputs.
-pub struct Seeded(u64);
+/// The generator [`random_chain`] draws from (here too, so a test needs one `use`).
+pub use crate::seeded::Seeded;
 
-impl Seeded {
-    pub fn new(seed: u64) -> Seeded {
-        Seeded(seed)
-    }
-
-    pub fn next_u64(&mut self) -> u64 {
-        self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
-        let mut z = self.0;
-        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-        z ^ (z >> 31)
-    }
-
-    /// Uniform in [low, high).
-    pub fn uniform(&mut self, low: f64, high: f64) -> f64 {
-        let unit = (self.next_u64() >> 11) as f64 / (1u64 << 53) as f64;
-        low + (high - low) * unit
-    }
-
-    /// A random in-limit pose of `arm`.
-    pub fn pose(&mut self, arm: &Arm) -> Vec<f64> {
-        arm.joints()
-            .iter()
-            .map(|joint| self.uniform(joint.min, joint.max))
-            .collect()
-    }
-}
-
-/// A 20 kg·cm class standard servo: 1.96 N·m stall, 0.17 s/60° (≈ 6.2 rad/s).
+/// A 20 kg·cm class standard servo weighing `mass` kg: 1.96 N·m stall, 0.17 s/60° (≈ 6.2
+/// rad/s).
 pub fn servo(mass: f64) -> ServoSpec {
     ServoSpec {
         stall_torque: 1.96,
@@ -66,6 +39,8 @@ pub fn calibration() -> Calibration {
     }
 }
 
+/// A joint named `name` with limits `min`..`max` (rad or m), home at 0 (or the nearest limit),
+/// the standard [`servo`] of 55 g and the [`calibration`], carrying `link`.
 pub fn joint(name: &str, min: f64, max: f64, link: MassProperties) -> JointSpec {
     JointSpec {
         name: name.to_string(),
@@ -78,6 +53,8 @@ pub fn joint(name: &str, min: f64, max: f64, link: MassProperties) -> JointSpec 
     }
 }
 
+/// The horizontal-jointed arm: shoulder, elbow, a 100 mm lift through a screw (`drive_ratio`
+/// 0.01) and a tool roll.
 pub fn scara() -> Arm {
     let mut lift = joint(
         "lift",
@@ -124,6 +101,7 @@ pub fn scara() -> Arm {
     .expect("sample horizontal arm is valid")
 }
 
+/// The articulated arm: base, shoulder, elbow and wrist, and a tool roll when `with_roll`.
 pub fn articulated(with_roll: bool) -> Arm {
     let dims = ArticulatedDims {
         base_height: 0.09,

@@ -1,19 +1,16 @@
 //! Shared by the Rust tests that check against fixtures written by the Python generators in
-//! this folder: where the fixtures are, which Python to run, and how to compare JSON.
-//! Included with `#[path = ".../tests/reference/support.rs"] mod reference;`. A missing
-//! reference library goes through the shared rule of `tests/outside_tool.rs`.
-#![allow(dead_code)]
+//! `tests/reference/`: where the fixtures are, which Python to run, and how to compare JSON. A
+//! missing reference library goes through the shared rule of [`crate::outside_tool`].
 
-#[path = "../outside_tool.rs"]
-pub mod outside_tool;
+use crate::outside_tool;
 
 use serde_json::Value;
 use std::path::PathBuf;
 use std::process::Command;
 
-/// This folder.
+/// The `tests/reference/` folder: the generator scripts and their `fixtures/`.
 pub fn reference_dir() -> PathBuf {
-    PathBuf::from(env!("CARGO_MANIFEST_DIR")).join("../../tests/reference")
+    crate::workspace_root().join("tests/reference")
 }
 
 /// A committed fixture, parsed.
@@ -30,16 +27,16 @@ pub fn python() -> PathBuf {
     if let Some(path) = std::env::var_os("ARMWRIGHT_PYTHON") {
         return PathBuf::from(path);
     }
-    let venv = reference_dir().join("../../.venv/bin/python");
+    let venv = crate::workspace_root().join(".venv/bin/python");
     if venv.exists() {
         return venv;
     }
     PathBuf::from("python3")
 }
 
-/// Runs `generator` (a script in this folder) with `--out` into a fresh temporary folder and
+/// Runs `generator` (a script in `tests/reference/`) with `--out` into a fresh temporary folder and
 /// returns that folder, or `None` when `modules` cannot be imported (the check is skipped with a
-/// notice, or fails under `ARMWRIGHT_STRICT=1`; see `tests/outside_tool.rs`).
+/// notice, or fails under `ARMWRIGHT_STRICT=1`; see [`crate::outside_tool`]).
 pub fn regenerate(generator: &str, modules: &str) -> Option<PathBuf> {
     let python = python();
     let importable = Command::new(&python)

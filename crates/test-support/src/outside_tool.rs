@@ -4,9 +4,6 @@
 //! the test harness's output capture (which takes only `print!`/`eprint!`), so a line
 //! `SKIPPED: … did not run` stands among the test results although the test passes.
 //! `ARMWRIGHT_STRICT=1` (CI) turns a missing tool into a failure.
-//!
-//! Included with `#[path = ".../tests/outside_tool.rs"] mod outside_tool;`.
-#![allow(dead_code)]
 
 use std::io::Write;
 
