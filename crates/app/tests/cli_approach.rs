@@ -8,8 +8,9 @@
 
 mod common;
 
-use common::device_sim::{DeviceSim, stream_child};
+use common::device_sim::{DeviceSim, binary, stream_child};
 use std::io::Read;
+use std::process::Stdio;
 
 use serde_json::Value;
 
