@@ -238,6 +238,7 @@ impl Link {
             watchdog_trips_at_start: 0,
             lead_frames: 0,
             last_frame: None,
+            setpoints_dry: false,
             jitter: Jitter::default(),
         };
         let thread = std::thread::Builder::new()
@@ -628,6 +629,8 @@ struct Worker {
     lead_frames: u32,
     /// The newest frame sent in this stream.
     last_frame: Option<ChannelOutput>,
+    /// No setpoint was waiting the last time one was due.
+    setpoints_dry: bool,
     /// When the device last sent anything.
     last_heard: Instant,
     /// Status and output lines heard so far, to tell a fresh answer from an older one.
@@ -866,10 +869,18 @@ impl Worker {
         )
     }
 
+    /// How long to wait for input before the next turn: nothing when a setpoint is due and
+    /// can go, else up to a millisecond (so a stop request waits at most that long). A due
+    /// setpoint that cannot go (no room at the device, or none pushed yet) waits for input
+    /// rather than spinning: an acknowledgement brings room and ends the wait at once.
     fn wait_budget(&self, now: Instant) -> Duration {
         let tick = Duration::from_millis(1);
+        let can_send = self.has_credit() && !self.setpoints_dry;
         match self.next_deadline() {
-            Some(deadline) if deadline <= now => Duration::ZERO,
+            Some(deadline) if deadline <= now && can_send => Duration::ZERO,
+            Some(deadline) if deadline <= now => tick,
+            // Played ahead, a setpoint's moment is not its playing time: no need to spin.
+            Some(deadline) if self.lead_frames > 0 => (deadline - now).min(tick),
             Some(deadline) if deadline - now < tick => {
                 // Sleep most of the last millisecond, then spin the final 200 µs: waking from
                 // a sleep can take longer than that, spinning cannot.
@@ -1030,7 +1041,9 @@ impl Worker {
         if now < deadline || self.in_flight.len() >= self.room {
             return;
         }
-        match self.setpoints.try_recv() {
+        let next = self.setpoints.try_recv();
+        self.setpoints_dry = next.is_err();
+        match next {
             Ok(frame) => {
                 let schedule_start = *schedule.start.get_or_insert(now);
                 let index = schedule.index;

@@ -746,6 +746,9 @@ fn the_output_query_reports_limp_then_the_pulses_on_the_pins() {
         DeviceMessage::Greeting(info) if info.protocol_version == 2
     ));
 
+    // A greeting cut short while the firmware was starting may count as a bad line: only
+    // lines after this one are the query's.
+    let bad_before = port.status_after_heartbeat().bad_lines;
     let query = port.send(HostMessage::OutputQuery);
     port.expect_ack(query, AckOutcome::Accepted);
     let limp = port.read_until(|line| output_of(line).is_some());
@@ -774,7 +777,7 @@ fn the_output_query_reports_limp_then_the_pulses_on_the_pins() {
     let released = port.read_until(|line| output_of(line).is_some());
     assert!(output_of(&released).is_some_and(|o| o.as_slice().iter().all(Option::is_none)));
     let bad_lines = port.status_after_heartbeat().bad_lines;
-    assert_eq!(bad_lines, 0, "the firmware knows the query");
+    assert_eq!(bad_lines, bad_before, "the firmware knows the query");
     drop(port);
     let log = run.finish();
 
