@@ -1,6 +1,7 @@
 //! `armwright device-sim`, `stream` and `reset` as processes, through the pseudo-terminal's
 //! real serial path: a device paused five times for 100 ms does not end a stream; a device
-//! that stops for good is noticed within 300 ms of its last answer; after Ctrl-C, `reset`
+//! that stops for good is noticed within 300 ms of its last answer, and given up once its
+//! watchdog would have held the arm (the setpoints it held played out); after Ctrl-C, `reset`
 //! then `stream` completes; after a watchdog trip, `stream` completes with no reset.
 //!
 //! Times are measured from events (the stream's own report of how long the device had been
@@ -113,10 +114,20 @@ fn a_device_that_stops_for_good_is_noticed_within_300_ms() {
     let (code, out) = finish(stream);
     assert_eq!(code, 1, "{out}");
     assert_eq!(out["ending"], "link_lost", "{out}");
-    // The stream measured how long the device had said nothing when it gave up: at least
-    // the device's watchdog time, and within 300 ms of the last answer it gave.
+    // The stream plays 1 s ahead. It noticed the silence within 300 ms of the device's last
+    // answer (at least the device's watchdog time: a shorter silence is no news) ...
+    assert_eq!(out["play_ahead_s"], 1.0, "{out}");
+    assert_eq!(out["device_quiet"], 1, "{out}");
+    let noticed_ms = out["device_quiet_noticed_after_ms"]
+        .as_f64()
+        .expect("when the silence was noticed");
+    assert!((250.0..=300.0).contains(&noticed_ms), "{out}");
+    // ... and gave up when a device that had stayed silent would have held the arm: once the
+    // setpoints it held (at most the 1 s played ahead, and a frame) had played out and its
+    // watchdog's 250 ms had passed, within 50 ms of that.
     let silent_ms = out["device_silent_ms"].as_f64().expect("a silence figure");
-    assert!((250.0..=300.0).contains(&silent_ms), "{out}");
+    assert!((250.0..=1300.0).contains(&silent_ms), "{out}");
+    assert!(silent_ms > noticed_ms, "{out}");
 }
 
 #[test]

@@ -22,9 +22,10 @@ pub enum LinkLoss {
     NoAck {
         /// Host sequence number of the oldest unacknowledged line.
         seq: u8,
-        /// How long that line waited.
+        /// How long that line waited, in time the host was watching the line (a host held up
+        /// by a busy computer does not count its own absence).
         waited: Duration,
-        /// How long the device had said nothing when the host gave up.
+        /// How long the device had said nothing when the host gave up, counted the same way.
         silent: Duration,
     },
     /// The device reported a fault while the host was streaming (watchdog or a stop the

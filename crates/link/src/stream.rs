@@ -117,6 +117,12 @@ pub struct StreamStats {
     /// device heard from this host (its watchdog trips after 250 ms of it). A host held up
     /// by a busy computer shows here, whatever the device made of it.
     pub send_gap_max: Duration,
+    /// Times the device fell silent past the silence limit while it still held planned
+    /// setpoints to play (§8 of `PROTOCOL.md`): noticed and counted, not yet a lost link.
+    pub device_quiet: u64,
+    /// How long the device had said nothing when the first such silence was noticed
+    /// (time the host was watching the line).
+    pub device_quiet_noticed_after: Option<Duration>,
     /// The device's newest status line (one is read at connect).
     pub last_status: Option<DeviceStatus>,
     /// What the device said it was sending, newest first read at connect; `None` for a
@@ -221,6 +227,12 @@ impl Link {
             in_flight: VecDeque::new(),
             room: 1,
             last_heard: Instant::now(),
+            listened: Duration::ZERO,
+            heard_listened: Duration::ZERO,
+            quiet_counted: false,
+            planned_acked: 0,
+            plays_until: None,
+            last_turn: Instant::now(),
             statuses_seen: 0,
             outputs_seen: 0,
             refresh: None,
@@ -589,6 +601,8 @@ struct Drain {
 struct InFlight {
     seq: u8,
     sent_at: Instant,
+    /// [`Worker::listened`] when it was written.
+    sent_listened: Duration,
     message: HostMessage,
 }
 
@@ -599,6 +613,10 @@ struct Refresh {
     statuses_at: u64,
     outputs_at: u64,
 }
+
+/// The most one turn of the link thread's loop counts toward the time it watched the line:
+/// its turns are a millisecond or two apart unless the computer held it up.
+const LISTEN_TURN_CAP: Duration = Duration::from_millis(10);
 
 struct Worker {
     transport: Box<dyn Transport>,
@@ -633,6 +651,20 @@ struct Worker {
     setpoints_dry: bool,
     /// When the device last sent anything.
     last_heard: Instant,
+    /// How long this thread has watched the line: the wall time between its turns, each
+    /// turn counted for at most [`LISTEN_TURN_CAP`], so a thread held up by a busy computer
+    /// does not take its own absence for the device's silence. Silence is judged in it.
+    listened: Duration,
+    /// `listened` when the device last sent anything.
+    heard_listened: Duration,
+    /// The current silence has been counted in `device_quiet`.
+    quiet_counted: bool,
+    /// Planned setpoints the device acknowledged in this stream.
+    planned_acked: u32,
+    /// When the device will have played the newest planned setpoint it acknowledged.
+    plays_until: Option<Instant>,
+    /// When the last turn of the loop began.
+    last_turn: Instant,
     /// Status and output lines heard so far, to tell a fresh answer from an older one.
     statuses_seen: u64,
     outputs_seen: u64,
@@ -805,6 +837,11 @@ impl Worker {
 
     /// One turn of the loop; `false` when the handle has gone.
     fn step(&mut self) -> bool {
+        let turn = Instant::now();
+        self.listened += turn
+            .saturating_duration_since(self.last_turn)
+            .min(LISTEN_TURN_CAP);
+        self.last_turn = turn;
         if let Some(requested_at) = self.stop.take_request() {
             self.emergency_stop(requested_at);
         }
@@ -818,7 +855,7 @@ impl Worker {
         }
         let now = Instant::now();
         self.repeat_stop(now);
-        self.check_acks(now);
+        self.check_acks();
         self.serve_stream(now);
         self.serve_controls(now);
         self.publish_unless_busy();
@@ -961,6 +998,8 @@ impl Worker {
         // The device's own count, read at connect and with every heartbeat since: a trip
         // before this stream (even one before this host connected) is not this stream's.
         self.watchdog_trips_at_start = self.stats.last_status.map_or(0, |s| s.watchdog_trips);
+        self.planned_acked = 0;
+        self.plays_until = None;
         self.schedule = Some(Schedule {
             start: None,
             index: 0,
@@ -1170,15 +1209,31 @@ impl Worker {
 
     /// The link is lost when the oldest line has waited the silence limit and the device
     /// has said nothing for as long, or when it has waited twice the limit while the device
-    /// talks but does not answer it.
-    fn check_acks(&mut self, now: Instant) {
+    /// talks but does not answer it; both counted in time this thread was watching the line
+    /// (`listened`). A device silent that long while it still held planned setpoints to play
+    /// goes on playing them and trips its watchdog only the silence limit after its queue ran
+    /// dry: the silence is noticed and counted (`device_quiet`), and the link is lost if it
+    /// lasts until then.
+    fn check_acks(&mut self) {
         if self.stats.state == LinkState::Lost {
             return;
         }
         if let Some(oldest) = self.in_flight.front() {
-            let waited = now.saturating_duration_since(oldest.sent_at);
-            let silent = now.saturating_duration_since(self.last_heard);
+            let waited = self.listened.saturating_sub(oldest.sent_listened);
+            let silent = self.listened.saturating_sub(self.heard_listened);
             let limit = self.options.silence_limit;
+            let plays_for = self.plays_until.map_or(Duration::ZERO, |until| {
+                until.saturating_duration_since(self.last_heard)
+            });
+            if waited > limit && silent > limit && silent <= limit + plays_for {
+                if !self.quiet_counted {
+                    self.quiet_counted = true;
+                    self.stats.device_quiet += 1;
+                    self.stats.device_quiet_noticed_after.get_or_insert(silent);
+                    self.publish();
+                }
+                return;
+            }
             if (waited > limit && silent > limit) || waited > limit * 2 {
                 let seq = oldest.seq;
                 self.lose(LinkLoss::NoAck {
@@ -1203,6 +1258,7 @@ impl Worker {
         self.in_flight.push_back(InFlight {
             seq,
             sent_at: now,
+            sent_listened: self.listened,
             message,
         });
         if self.stats.state == LinkState::Streaming {
@@ -1252,6 +1308,8 @@ impl Worker {
             .map_err(|error| LinkLoss::ReadFailed { kind: error.kind() })?;
         if count > 0 {
             self.last_heard = Instant::now();
+            self.heard_listened = self.listened;
+            self.quiet_counted = false;
         }
         for &byte in &buf[..count] {
             let parsed = match self.assembler.push(byte) {
@@ -1288,6 +1346,15 @@ impl Worker {
                 match acked.message {
                     HostMessage::Setpoint(_) | HostMessage::Planned(_) => {
                         self.stats.frames_acked += 1;
+                        if matches!(acked.message, HostMessage::Planned(_)) {
+                            self.planned_acked += 1;
+                            // Played one a frame from the stream's start, the first a frame
+                            // after it arrived.
+                            let start = self.schedule.as_ref().and_then(|s| s.start);
+                            self.plays_until = start.map(|start| {
+                                start + self.options.period * (self.planned_acked + 1)
+                            });
+                        }
                         match ack.outcome {
                             AckOutcome::Clamped => self.stats.frames_clamped += 1,
                             AckOutcome::Refused if self.stats.state == LinkState::Streaming => {

@@ -484,12 +484,22 @@ fn connect(target: &Target, baud: u32, options: StreamOptions) -> Result<Link, S
 /// Waits for the stream's end, printing progress on standard error.
 fn watch(link: &Link, planned: usize, duration: f64, started: Instant) -> Ending {
     let mut last_progress = Instant::now();
+    let mut quiet_told = 0;
     loop {
         match link.next_event(Duration::from_millis(50)) {
             Some(LinkEvent::StreamFinished { .. }) => return Ending::Finished,
             Some(LinkEvent::StopConfirmed { after }) => return Ending::Stopped { after },
             Some(LinkEvent::Lost(loss)) => return Ending::Lost(loss),
             Some(LinkEvent::ResetDone) | None => {}
+        }
+        let quiet = link.stats().device_quiet;
+        if quiet > quiet_told {
+            quiet_told = quiet;
+            eprintln!(
+                "  the device has said nothing past the silence limit; it plays the setpoints it \
+                 holds, and the link counts as lost if it stays silent until its watchdog would \
+                 hold the arm"
+            );
         }
         if last_progress.elapsed() >= PROGRESS_INTERVAL {
             last_progress = Instant::now();
@@ -579,6 +589,8 @@ fn report(json: bool, summary: &Summary) -> Outcome {
             "ack_wait_max_ms": ms(stats.ack_wait_max),
             "send_gap_max_ms": ms(stats.send_gap_max),
             "play_ahead_s": if summary.plays_ahead { json!(PLAY_AHEAD.as_secs_f64()) } else { Value::Null },
+            "device_quiet": stats.device_quiet,
+            "device_quiet_noticed_after_ms": stats.device_quiet_noticed_after.map(ms).map_or(Value::Null, |v| json!(v)),
             "device_silent_ms": match stats.loss {
                 Some(LinkLoss::NoAck { silent, .. }) => json!(ms(silent)),
                 _ => Value::Null,

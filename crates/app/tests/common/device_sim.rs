@@ -52,8 +52,14 @@ pub struct DeviceSim {
 }
 
 impl DeviceSim {
+    /// Starts it in a session of its own (`setsid`, util-linux): it stands in for a
+    /// microcontroller, a separate machine, so where the kernel shares the processors out by
+    /// session (autogroup) the test's busy loops and streams load the host's session and not
+    /// the device's. Its clock already leaves out time it waits for a processor
+    /// (`PROTOCOL.md` §9); this keeps such waits short enough for it to answer in time.
     pub fn start() -> Self {
-        let mut child = binary()
+        let mut child = Command::new("setsid")
+            .arg(binary().get_program())
             .args(["device-sim"])
             .stdin(Stdio::null())
             .stdout(Stdio::piped())
