@@ -290,9 +290,18 @@ impl SimPty {
                                 *seen = Some((device.status(), device.output()));
                             }
                         }
-                        if !out.is_empty() {
-                            let _ = master.write_all(&out);
-                            out.clear();
+                        // The port's 1 ms timeout applies to writes too: what a host that is
+                        // slow to read leaves unwritten stays in `out` for the next turn
+                        // instead of being lost (a device's output is never dropped).
+                        while !out.is_empty() {
+                            match master.write(&out) {
+                                Ok(0) => break,
+                                Ok(written) => {
+                                    out.drain(..written);
+                                }
+                                Err(error) if error.kind() == io::ErrorKind::Interrupted => {}
+                                Err(_) => break,
+                            }
                         }
                     }
                 })

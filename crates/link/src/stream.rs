@@ -230,7 +230,6 @@ impl Link {
             listened: Duration::ZERO,
             heard_listened: Duration::ZERO,
             quiet_counted: false,
-            planned_acked: 0,
             plays_until: None,
             last_turn: Instant::now(),
             statuses_seen: 0,
@@ -659,8 +658,6 @@ struct Worker {
     heard_listened: Duration,
     /// The current silence has been counted in `device_quiet`.
     quiet_counted: bool,
-    /// Planned setpoints the device acknowledged in this stream.
-    planned_acked: u32,
     /// When the device will have played the newest planned setpoint it acknowledged.
     plays_until: Option<Instant>,
     /// When the last turn of the loop began.
@@ -998,7 +995,6 @@ impl Worker {
         // The device's own count, read at connect and with every heartbeat since: a trip
         // before this stream (even one before this host connected) is not this stream's.
         self.watchdog_trips_at_start = self.stats.last_status.map_or(0, |s| s.watchdog_trips);
-        self.planned_acked = 0;
         self.plays_until = None;
         self.schedule = Some(Schedule {
             start: None,
@@ -1347,13 +1343,13 @@ impl Worker {
                     HostMessage::Setpoint(_) | HostMessage::Planned(_) => {
                         self.stats.frames_acked += 1;
                         if matches!(acked.message, HostMessage::Planned(_)) {
-                            self.planned_acked += 1;
-                            // Played one a frame from the stream's start, the first a frame
-                            // after it arrived.
-                            let start = self.schedule.as_ref().and_then(|s| s.start);
-                            self.plays_until = start.map(|start| {
-                                start + self.options.period * (self.planned_acked + 1)
-                            });
+                            // Played one a frame in order, none before it was sent: at the
+                            // earliest a frame after the later of its sending and the end of
+                            // the one before (a device whose clock runs slow plays later).
+                            let from = self
+                                .plays_until
+                                .map_or(acked.sent_at, |until| until.max(acked.sent_at));
+                            self.plays_until = Some(from + self.options.period);
                         }
                         match ack.outcome {
                             AckOutcome::Clamped => self.stats.frames_clamped += 1,
