@@ -227,6 +227,51 @@ fn a_silent_device_is_noticed_within_300_ms_and_asked_to_hold() {
 }
 
 #[test]
+fn a_device_silent_while_it_plays_its_queue_is_noticed_then_given_up_when_it_would_trip() {
+    let sim = SimTransport::new(SimDeviceConfig::default());
+    let (recorder, _log) = Recorder::new(sim, Faults::default());
+    let control = Arc::clone(&recorder.control);
+    // At the device's 20 ms frame, sent 1 s ahead as planned setpoints (`PROTOCOL.md` §3).
+    let options = StreamOptions {
+        period: Duration::from_millis(20),
+        play_ahead: Duration::from_secs(1),
+        ..StreamOptions::default()
+    };
+    let link = Link::connect(Box::new(recorder), options).expect("connects");
+    assert!(link.plays_ahead());
+    link.start_stream().expect("streams");
+    for step in 0..300 {
+        link.push_setpoint(sweep(step)).expect("queued");
+    }
+    wait_until(
+        "a second of setpoints acknowledged",
+        Duration::from_secs(10),
+        || link.stats().frames_acked >= 50,
+    );
+    // The device stops answering (as a process stopped by SIGSTOP) holding about a second
+    // of setpoints: a real one would play them, then its watchdog would hold the arm.
+    control.paused.store(true, Ordering::SeqCst);
+    let event = wait_for(&link, Duration::from_secs(10), |e| {
+        matches!(e, LinkEvent::Lost(_))
+    });
+    let LinkEvent::Lost(LinkLoss::NoAck { silent, .. }) = event else {
+        panic!("expected a missing acknowledgement, got {event:?}");
+    };
+    let stats = link.stats();
+    // Noticed within 300 ms of its last answer (not before its watchdog time) ...
+    assert_eq!(stats.device_quiet, 1);
+    let noticed = stats
+        .device_quiet_noticed_after
+        .expect("the silence was noticed");
+    assert!(noticed > Duration::from_millis(250), "{noticed:?}");
+    assert!(noticed <= Duration::from_millis(300), "{noticed:?}");
+    // ... and given up when the setpoints it held (at least half a second of them, at most
+    // its 64-entry queue's 1.28 s) had played and the watchdog's 250 ms had passed.
+    assert!(silent > Duration::from_millis(750), "{silent:?}");
+    assert!(silent <= Duration::from_millis(1650), "{silent:?}");
+}
+
+#[test]
 fn device_pauses_of_100_ms_do_not_end_a_stream_and_count_as_late() {
     let sim = SimTransport::new(SimDeviceConfig::default());
     let (recorder, _log) = Recorder::new(sim, Faults::default());
