@@ -122,11 +122,12 @@ fn a_device_that_stops_for_good_is_noticed_within_300_ms() {
         .as_f64()
         .expect("when the silence was noticed");
     assert!((250.0..=300.0).contains(&noticed_ms), "{out}");
-    // ... and gave up when a device that had stayed silent would have held the arm: once the
-    // setpoints it held (at most the 1 s played ahead, and a frame) had played out and its
-    // watchdog's 250 ms had passed, within 50 ms of that.
+    // ... and gave up when a device that had stayed silent would have held the arm (the
+    // setpoints it held, at most the 1 s played ahead, played out and its watchdog's 250 ms
+    // passed) — for this simulated device, a process of its own that a busy computer can
+    // hold up, after 2 s (`PROTOCOL.md` §9).
     let silent_ms = out["device_silent_ms"].as_f64().expect("a silence figure");
-    assert!((250.0..=1300.0).contains(&silent_ms), "{out}");
+    assert!((2000.0..=2400.0).contains(&silent_ms), "{out}");
     assert!(silent_ms > noticed_ms, "{out}");
 }
 

@@ -40,12 +40,20 @@ pub struct SimDeviceConfig {
     /// planned setpoint, 2 one that knows no readings rate either, 1 one that knows no output
     /// query either (it counts such lines as bad).
     pub protocol_version: u8,
+    /// The device runs as a process of its own on a general-purpose computer (`armwright
+    /// device-sim` behind a pseudo-terminal), which that computer's load can hold up: it says
+    /// so in its firmware version (`simpty-…`, `PROTOCOL.md` §9).
+    pub own_process: bool,
 }
+
+/// The firmware version of a simulated device in a process of its own
+/// ([`SimDeviceConfig::own_process`]); [`crate::DeviceInfo::is_simulated_process`] knows it.
+const SIM_PROCESS_FIRMWARE: &str = "simpty-0.1.0";
 
 impl Default for SimDeviceConfig {
     /// Seven channels (six joints and the gripper), 1 µs units, 500–2500 µs, a 20 ms
     /// frame, a 250 ms watchdog, a 4-line input queue, a 64-entry play queue and protocol
-    /// version 4.
+    /// version 4, in the host's process.
     fn default() -> Self {
         Self {
             channel_count: 7,
@@ -57,6 +65,7 @@ impl Default for SimDeviceConfig {
             queue_capacity: 4,
             play_queue_capacity: 64,
             protocol_version: PROTOCOL_VERSION,
+            own_process: false,
         }
     }
 }
@@ -110,7 +119,12 @@ impl SimDevice {
     pub fn new(config: SimDeviceConfig) -> Self {
         let info = DeviceInfo {
             protocol_version: config.protocol_version.clamp(1, PROTOCOL_VERSION),
-            firmware: FirmwareVersion::new("sim-0.1.0").unwrap_or_default(),
+            firmware: FirmwareVersion::new(if config.own_process {
+                SIM_PROCESS_FIRMWARE
+            } else {
+                "sim-0.1.0"
+            })
+            .unwrap_or_default(),
             channel_count: config.channel_count.clamp(1, 8),
             pulse_unit_ns: config.pulse_unit_ns.max(1),
             min_pulse_units: config.min_pulse_units.min(config.max_pulse_units),

@@ -230,6 +230,7 @@ impl Link {
             listened: Duration::ZERO,
             heard_listened: Duration::ZERO,
             quiet_counted: false,
+            talking_since: Duration::ZERO,
             plays_until: None,
             last_turn: Instant::now(),
             statuses_seen: 0,
@@ -613,6 +614,11 @@ struct Refresh {
     outputs_at: u64,
 }
 
+/// How long a simulated device in a process of its own may say nothing before the link is
+/// given up (`PROTOCOL.md` §9): a busy computer can hold that process up for hundreds of
+/// milliseconds, and its clock (so its watchdog) leaves such waits out.
+const SIMULATED_PROCESS_SILENCE: Duration = Duration::from_secs(2);
+
 /// The most one turn of the link thread's loop counts toward the time it watched the line:
 /// its turns are a millisecond or two apart unless the computer held it up.
 const LISTEN_TURN_CAP: Duration = Duration::from_millis(10);
@@ -656,6 +662,9 @@ struct Worker {
     listened: Duration,
     /// `listened` when the device last sent anything.
     heard_listened: Duration,
+    /// `listened` when the device spoke after its last silence longer than the limit: a line
+    /// waits on a talking device only from then.
+    talking_since: Duration,
     /// The current silence has been counted in `device_quiet`.
     quiet_counted: bool,
     /// When the device will have played the newest planned setpoint it acknowledged.
@@ -1205,11 +1214,13 @@ impl Worker {
 
     /// The link is lost when the oldest line has waited the silence limit and the device
     /// has said nothing for as long, or when it has waited twice the limit while the device
-    /// talks but does not answer it; both counted in time this thread was watching the line
+    /// talks but does not answer it (counted from when it spoke again after a longer silence,
+    /// as a device catching up answers its lines in order); counted in time this thread was watching the line
     /// (`listened`). A device silent that long while it still held planned setpoints to play
     /// goes on playing them and trips its watchdog only the silence limit after its queue ran
     /// dry: the silence is noticed and counted (`device_quiet`), and the link is lost if it
-    /// lasts until then.
+    /// lasts until then (for a simulated device in a process of its own, at least
+    /// [`SIMULATED_PROCESS_SILENCE`]).
     fn check_acks(&mut self) {
         if self.stats.state == LinkState::Lost {
             return;
@@ -1221,7 +1232,16 @@ impl Worker {
             let plays_for = self.plays_until.map_or(Duration::ZERO, |until| {
                 until.saturating_duration_since(self.last_heard)
             });
-            if waited > limit && silent > limit && silent <= limit + plays_for {
+            let give_up_after = if self
+                .device
+                .as_ref()
+                .is_some_and(DeviceInfo::is_simulated_process)
+            {
+                (limit + plays_for).max(SIMULATED_PROCESS_SILENCE)
+            } else {
+                limit + plays_for
+            };
+            if waited > limit && silent > limit && silent <= give_up_after {
                 if !self.quiet_counted {
                     self.quiet_counted = true;
                     self.stats.device_quiet += 1;
@@ -1230,7 +1250,11 @@ impl Worker {
                 }
                 return;
             }
-            if (waited > limit && silent > limit) || waited > limit * 2 {
+            // Waiting while the device talks, as opposed to waiting out its silence.
+            let talk_wait = self
+                .listened
+                .saturating_sub(oldest.sent_listened.max(self.talking_since));
+            if (waited > limit && silent > limit) || talk_wait > limit * 2 {
                 let seq = oldest.seq;
                 self.lose(LinkLoss::NoAck {
                     seq,
@@ -1304,6 +1328,9 @@ impl Worker {
             .map_err(|error| LinkLoss::ReadFailed { kind: error.kind() })?;
         if count > 0 {
             self.last_heard = Instant::now();
+            if self.listened.saturating_sub(self.heard_listened) > self.options.silence_limit {
+                self.talking_since = self.listened;
+            }
             self.heard_listened = self.listened;
             self.quiet_counted = false;
         }

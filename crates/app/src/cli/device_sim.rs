@@ -70,6 +70,7 @@ pub(crate) fn run(channels: u8, readings: &SimReadings) -> Outcome {
     }
     let config = SimDeviceConfig {
         channel_count: channels,
+        own_process: true,
         ..SimDeviceConfig::default()
     };
     let mut device = SimDevice::new(config);

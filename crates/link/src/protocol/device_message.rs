@@ -80,6 +80,13 @@ pub struct DeviceInfo {
 }
 
 impl DeviceInfo {
+    /// Whether this is the simulated device running as a process of its own on this or
+    /// another general-purpose computer (firmware version `simpty-…`, `PROTOCOL.md` §9): its
+    /// silences may be that computer's load rather than a lost link.
+    pub fn is_simulated_process(&self) -> bool {
+        self.firmware.as_str().starts_with("simpty-")
+    }
+
     /// The pulse width `pulse_us` (µs) in this device's pulse units, rounded to the
     /// nearest unit and limited to 0–65535 (not to the accepted range).
     pub fn units_from_us(&self, pulse_us: f64) -> u16 {
