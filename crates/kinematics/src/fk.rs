@@ -86,6 +86,8 @@ struct ToolStep {
     turn: f64,
     /// Slide per unit position: 0 for a revolute joint, 1 for a prismatic one.
     slide: f64,
+    /// Whether the joint slides (`slide` is 1), as a flag the hot path tests in one step.
+    slides: bool,
 }
 
 /// Two joints in a row of a [`ToolChain`], taken as one step by the tool pose, with the
@@ -150,6 +152,7 @@ impl ToolChain {
             axis: [0.0; 3],
             turn: 0.0,
             slide: 0.0,
+            slides: false,
         }; MAX_JOINTS];
         let mut turn = UnitQuaternion::identity();
         for (step, joint) in steps.iter_mut().zip(joints) {
@@ -162,6 +165,7 @@ impl ToolChain {
                 axis: [axis.x, axis.y, axis.z],
                 turn: if prismatic { 0.0 } else { 0.5 },
                 slide: if prismatic { 1.0 } else { 0.0 },
+                slides: prismatic,
             };
         }
         let tool_shift = turn * tool.translation.vector;
@@ -295,12 +299,19 @@ impl ToolChain {
         if N >= 2 {
             (p, turn) = self.pair_motion(0, &sines, &cosines, positions);
         }
-        for index in [1, 2, 3] {
-            if N >= 2 * index + 2 {
-                let (shift, pair_turn) = self.pair_motion(index, &sines, &cosines, positions);
-                p = add(p, turn_vector(turn, shift));
-                turn = turn_product(turn, pair_turn);
-            }
+        let mut then_pair = |index: usize| {
+            let (shift, pair_turn) = self.pair_motion(index, &sines, &cosines, positions);
+            p = add(p, turn_vector(turn, shift));
+            turn = turn_product(turn, pair_turn);
+        };
+        if N >= 4 {
+            then_pair(1);
+        }
+        if N >= 6 {
+            then_pair(2);
+        }
+        if N >= 8 {
+            then_pair(3);
         }
         if N % 2 == 1 {
             let last = N - 1;
@@ -314,7 +325,7 @@ impl ToolChain {
                 end.shift[1] + sin * x1[1] + versine * x2[1],
                 end.shift[2] + sin * x1[2] + versine * x2[2],
             ];
-            if step.slide != 0.0 {
+            if step.slides {
                 shift = add(shift, scaled(step.axis, positions[last]));
             }
             let ([tw, tx, ty, tz], [aw, ax, ay, az]) = (self.tool_turn, end.axis_turn);
@@ -355,7 +366,7 @@ impl ToolChain {
         for (index, (step, (axis, point))) in self.steps[..self.count].iter().zip(axes).enumerate()
         {
             let axis = Vector3::from(axis);
-            let (linear, angular) = if step.slide != 0.0 {
+            let (linear, angular) = if step.slides {
                 (axis, Vector3::zeros())
             } else {
                 (axis.cross(&(tip - Vector3::from(point))), axis)
@@ -415,7 +426,7 @@ impl ToolChain {
             // A turn about the axis leaves the axis where it is: its direction now is its
             // direction after the joint moves.
             joint(index, turn_vector(turn, step.axis), p);
-            if step.slide != 0.0 {
+            if step.slides {
                 let slide = scaled(step.axis, positions[index]);
                 p = add(p, turn_vector(turn, slide));
             }
@@ -448,10 +459,10 @@ impl ToolChain {
             pair.shift[1] + sin * x1[1] + versine * x2[1],
             pair.shift[2] + sin * x1[2] + versine * x2[2],
         ];
-        if self.steps[i].slide != 0.0 {
+        if self.steps[i].slides {
             shift = add(shift, scaled(a, positions[i]));
         }
-        if self.steps[j].slide != 0.0 {
+        if self.steps[j].slides {
             let (cross, twice) = (pair.cross, pair.cross_twice);
             let turned = [
                 b[0] + sin * cross[0] + versine * twice[0],
