@@ -31,7 +31,7 @@ use super::{
 };
 use crate::arm::{Arm, JointKind, MAX_JOINTS};
 use crate::fk::{ToolAngles, tool_pose};
-use crate::jacobian::tool_jacobian;
+use crate::jacobian::{tool_jacobian, tool_pose_and_jacobian};
 
 /// The longest joint step (rad or m, Euclidean over the joints) one iteration may take.
 const MAX_STEP: f64 = 1.0;
@@ -218,14 +218,17 @@ fn descend(
         *iterations += 1;
         let current = match jacobian {
             Some(current) => current,
-            None => *jacobian.insert(task_jacobian(arm, goal, &pose, &tool)?),
+            None => *jacobian.insert(task_jacobian(goal, full_jacobian(arm, &pose)?, &tool)),
         };
         let Some(candidate) = limited_step(arm, &current, &error, &pose, damping, turns) else {
             damping *= raise.sqrt();
             raise *= 2.0;
             continue;
         };
-        let candidate_tool = tool_pose(arm, &candidate.as_slice()[..count])?;
+        // The pose and the Jacobian in one pass: most steps are accepted, and the next step
+        // needs the Jacobian there.
+        let (candidate_tool, candidate_jacobian) =
+            tool_pose_and_jacobian(arm, &candidate.as_slice()[..count])?;
         let candidate_error = task_error(goal, &candidate_tool);
         if candidate_error.norm() < error.norm() {
             // Steps that barely lower the error mean a local minimum (usually against a limit):
@@ -248,7 +251,7 @@ fn descend(
             pose = candidate;
             tool = candidate_tool;
             error = candidate_error;
-            jacobian = None;
+            jacobian = Some(task_jacobian(goal, candidate_jacobian.matrix, &tool));
             // Nielsen's rule on μ = λ²: the better the step did against what the linear model
             // promised (gain ρ, actual over predicted drop of |e|²), the more damping goes,
             // at most to a third; ρ = ½ keeps it.
@@ -427,12 +430,10 @@ fn task_error(goal: &Goal, tool: &Isometry3<f64>) -> TaskError {
 
 /// The tool Jacobian reduced to the task's rows, angle rows times the angle weight.
 fn task_jacobian(
-    arm: &Arm,
     goal: &Goal,
-    pose: &Pose,
+    mut task: SMatrix<f64, 6, MAX_JOINTS>,
     tool: &Isometry3<f64>,
-) -> Result<SMatrix<f64, 6, MAX_JOINTS>, IkError> {
-    let mut task = tool_jacobian(arm, &pose.as_slice()[..arm.joint_count()])?.matrix;
+) -> SMatrix<f64, 6, MAX_JOINTS> {
     match goal.task {
         IkTask::Position => task.fixed_rows_mut::<3>(3).fill(0.0),
         IkTask::PositionPitch => {
@@ -451,7 +452,12 @@ fn task_jacobian(
         }
         IkTask::FullPose => task.fixed_rows_mut::<3>(3).scale_mut(goal.angle_weight),
     }
-    Ok(task)
+    task
+}
+
+/// The tool Jacobian at `pose` (all rows).
+fn full_jacobian(arm: &Arm, pose: &Pose) -> Result<SMatrix<f64, 6, MAX_JOINTS>, IkError> {
+    Ok(tool_jacobian(arm, &pose.as_slice()[..arm.joint_count()])?.matrix)
 }
 
 /// Whether turning joints keep within their limits while the solver descends.
