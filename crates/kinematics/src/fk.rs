@@ -65,6 +65,7 @@ pub fn forward(arm: &Arm, positions: &[f64]) -> Result<ChainPose, KinematicsErro
 ///
 /// # Errors
 /// [`KinematicsError`] if the count is wrong or a position is not finite.
+#[inline]
 pub fn tool_pose(arm: &Arm, positions: &[f64]) -> Result<Isometry3<f64>, KinematicsError> {
     let chain = arm.tool_chain();
     if positions.len() == arm.joint_count()
@@ -124,6 +125,18 @@ struct ToolEnd {
     axis_turn: [f64; 4],
 }
 
+/// The last pair of a chain of even length together with the tool offset's turn T: the pair
+/// turns by (c₁, s₁·a)·(c₂, s₂·b)·T = c₁c₂·T + c₁s₂·(0, b)·T + s₁c₂·(0, a)·T + s₁s₂·(0, a)(0, b)·T,
+/// four constant quaternions. The tool shift t then goes through the whole turn, T included,
+/// as T⁻¹·t.
+#[derive(Debug, Clone, Copy, PartialEq)]
+struct ToolEndPair {
+    /// T, (0, b)·T, (0, a)·T and (0, a)(0, b)·T, each as (w, x, y, z).
+    turns: [[f64; 4]; 4],
+    /// T⁻¹·t (m).
+    tool_shift: [f64; 3],
+}
+
 /// The chain as the tool pose needs it, worked out once per arm.
 ///
 /// A joint's frame is `previous · origin · motion(q)`. Writing each frame turned by the product
@@ -138,6 +151,8 @@ pub(crate) struct ToolChain {
     pairs: [ToolPair; MAX_JOINTS / 2],
     /// The last joint with the tool offset, when the joint count is odd.
     end: ToolEnd,
+    /// The last pair with the tool offset's turn, when the joint count is even.
+    end_pair: ToolEndPair,
     count: usize,
     tool_shift: [f64; 3],
     /// The tool offset's rotation as a quaternion (w, x, y, z).
@@ -203,10 +218,30 @@ impl ToolChain {
             shift_turn: [array(a.cross(&t)), array(a.cross(&a.cross(&t)))],
             axis_turn: [-a.dot(&tool_vector), axis_turn.x, axis_turn.y, axis_turn.z],
         };
+        let end_pair = {
+            let (a, b) = (
+                vector(pairs[(count / 2).saturating_sub(1)].axes[0]),
+                vector(pairs[(count / 2).saturating_sub(1)].axes[1]),
+            );
+            let pure = |v: Vector3<f64>| Quaternion::new(0.0, v.x, v.y, v.z);
+            let turn = tool_turn;
+            let as_array = |q: Quaternion<f64>| [q.w, q.i, q.j, q.k];
+            let shift = UnitQuaternion::new_unchecked(tool_turn).inverse() * tool_shift;
+            ToolEndPair {
+                turns: [
+                    as_array(turn),
+                    as_array(pure(b) * turn),
+                    as_array(pure(a) * turn),
+                    as_array(pure(a) * pure(b) * turn),
+                ],
+                tool_shift: array(shift),
+            }
+        };
         ToolChain {
             steps,
             pairs,
             end,
+            end_pair,
             count,
             tool_shift: [tool_shift.x, tool_shift.y, tool_shift.z],
             tool_turn: [tool_turn.w, tool_turn.i, tool_turn.j, tool_turn.k],
@@ -296,11 +331,14 @@ impl ToolChain {
         let mut p = [0.0; 3];
         let mut turn = (1.0, 0.0, 0.0, 0.0);
         // Written out pair by pair (the conditions are constants) so that nothing loops.
+        // The last pair of an even chain takes the tool offset's turn with its own.
+        let with_tool = |index: usize| N.is_multiple_of(2) && index + 1 == N / 2;
         if N >= 2 {
-            (p, turn) = self.pair_motion(0, &sines, &cosines, positions);
+            (p, turn) = self.pair_motion(0, &sines, &cosines, positions, with_tool(0));
         }
         let mut then_pair = |index: usize| {
-            let (shift, pair_turn) = self.pair_motion(index, &sines, &cosines, positions);
+            let (shift, pair_turn) =
+                self.pair_motion(index, &sines, &cosines, positions, with_tool(index));
             p = add(p, turn_vector(turn, shift));
             turn = turn_product(turn, pair_turn);
         };
@@ -345,8 +383,15 @@ impl ToolChain {
                 Translation3::new(p[0], p[1], p[2]),
                 UnitQuaternion::new_unchecked(Quaternion::new(turn.0, turn.1, turn.2, turn.3)),
             ))
-        } else {
+        } else if N == 0 {
             Some(self.tool_at(p, turn))
+        } else {
+            // The turn includes the tool offset's: its shift goes as T⁻¹·t.
+            let moved = turn_vector(turn, self.end_pair.tool_shift);
+            Some(Isometry3::from_parts(
+                Translation3::new(p[0] + moved[0], p[1] + moved[1], p[2] + moved[2]),
+                UnitQuaternion::new_unchecked(Quaternion::new(turn.0, turn.1, turn.2, turn.3)),
+            ))
         }
     }
 
@@ -446,6 +491,7 @@ impl ToolChain {
         sines: &[f64],
         cosines: &[f64],
         positions: &[f64],
+        with_tool: bool,
     ) -> ([f64; 3], (f64, f64, f64, f64)) {
         let pair = &self.pairs[index];
         let (i, j) = (2 * index, 2 * index + 1);
@@ -472,12 +518,18 @@ impl ToolChain {
             shift = add(shift, scaled(turned, positions[j]));
         }
         let (cc, ss, cs, sc) = (c1 * c2, s1 * s2, c1 * s2, s1 * c2);
-        let turn = (
-            cc - ss * pair.dot,
-            (cs * b[0] + sc * a[0]) + ss * pair.cross[0],
-            (cs * b[1] + sc * a[1]) + ss * pair.cross[1],
-            (cs * b[2] + sc * a[2]) + ss * pair.cross[2],
-        );
+        let turn = if with_tool {
+            let [t, bt, at, abt] = self.end_pair.turns;
+            let lane = |k: usize| (cc * t[k] + cs * bt[k]) + (sc * at[k] + ss * abt[k]);
+            (lane(0), lane(1), lane(2), lane(3))
+        } else {
+            (
+                cc - ss * pair.dot,
+                (cs * b[0] + sc * a[0]) + ss * pair.cross[0],
+                (cs * b[1] + sc * a[1]) + ss * pair.cross[1],
+                (cs * b[2] + sc * a[2]) + ss * pair.cross[2],
+            )
+        };
         (shift, turn)
     }
 
