@@ -53,6 +53,13 @@ pub(crate) fn check_pose(joint_count: usize, positions: &[f64]) -> Result<(), Ki
             got: positions.len(),
         });
     }
+    // One pass without an early exit (the usual answer), then the search for the culprit.
+    if positions
+        .iter()
+        .fold(true, |finite, q| finite & q.is_finite())
+    {
+        return Ok(());
+    }
     match positions.iter().position(|q| !q.is_finite()) {
         Some(joint) => Err(KinematicsError::NotFinite {
             joint,

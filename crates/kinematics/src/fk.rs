@@ -1,5 +1,7 @@
 //! Forward kinematics: joint positions → every link frame and the tool-point pose.
 
+use std::f64::consts::FRAC_PI_2;
+
 use nalgebra::{Isometry3, Quaternion, SMatrix, Translation3, Unit, UnitQuaternion, Vector3};
 
 use crate::arm::{Arm, Joint, JointKind, MAX_JOINTS};
@@ -63,9 +65,16 @@ pub fn forward(arm: &Arm, positions: &[f64]) -> Result<ChainPose, KinematicsErro
 ///
 /// # Errors
 /// [`KinematicsError`] if the count is wrong or a position is not finite.
+#[inline]
 pub fn tool_pose(arm: &Arm, positions: &[f64]) -> Result<Isometry3<f64>, KinematicsError> {
+    let chain = arm.tool_chain();
+    if positions.len() == arm.joint_count()
+        && let Some(pose) = chain.tool_pose_within_half_turns(positions)
+    {
+        return Ok(pose);
+    }
     check_pose(arm.joint_count(), positions)?;
-    Ok(arm.tool_chain().tool_pose(positions))
+    Ok(chain.tool_pose(positions))
 }
 
 /// One joint of a [`ToolChain`]: a shift (m) in the frame before the joint, then a turn about
@@ -78,6 +87,8 @@ struct ToolStep {
     turn: f64,
     /// Slide per unit position: 0 for a revolute joint, 1 for a prismatic one.
     slide: f64,
+    /// Whether the joint slides (`slide` is 1), as a flag the hot path tests in one step.
+    slides: bool,
 }
 
 /// Two joints in a row of a [`ToolChain`], taken as one step by the tool pose, with the
@@ -114,6 +125,18 @@ struct ToolEnd {
     axis_turn: [f64; 4],
 }
 
+/// The last pair of a chain of even length together with the tool offset's turn T: the pair
+/// turns by (c₁, s₁·a)·(c₂, s₂·b)·T = c₁c₂·T + c₁s₂·(0, b)·T + s₁c₂·(0, a)·T + s₁s₂·(0, a)(0, b)·T,
+/// four constant quaternions. The tool shift t then goes through the whole turn, T included,
+/// as T⁻¹·t.
+#[derive(Debug, Clone, Copy, PartialEq)]
+struct ToolEndPair {
+    /// T, (0, b)·T, (0, a)·T and (0, a)(0, b)·T, each as (w, x, y, z).
+    turns: [[f64; 4]; 4],
+    /// T⁻¹·t (m).
+    tool_shift: [f64; 3],
+}
+
 /// The chain as the tool pose needs it, worked out once per arm.
 ///
 /// A joint's frame is `previous · origin · motion(q)`. Writing each frame turned by the product
@@ -128,6 +151,8 @@ pub(crate) struct ToolChain {
     pairs: [ToolPair; MAX_JOINTS / 2],
     /// The last joint with the tool offset, when the joint count is odd.
     end: ToolEnd,
+    /// The last pair with the tool offset's turn, when the joint count is even.
+    end_pair: ToolEndPair,
     count: usize,
     tool_shift: [f64; 3],
     /// The tool offset's rotation as a quaternion (w, x, y, z).
@@ -142,6 +167,7 @@ impl ToolChain {
             axis: [0.0; 3],
             turn: 0.0,
             slide: 0.0,
+            slides: false,
         }; MAX_JOINTS];
         let mut turn = UnitQuaternion::identity();
         for (step, joint) in steps.iter_mut().zip(joints) {
@@ -154,6 +180,7 @@ impl ToolChain {
                 axis: [axis.x, axis.y, axis.z],
                 turn: if prismatic { 0.0 } else { 0.5 },
                 slide: if prismatic { 1.0 } else { 0.0 },
+                slides: prismatic,
             };
         }
         let tool_shift = turn * tool.translation.vector;
@@ -191,10 +218,30 @@ impl ToolChain {
             shift_turn: [array(a.cross(&t)), array(a.cross(&a.cross(&t)))],
             axis_turn: [-a.dot(&tool_vector), axis_turn.x, axis_turn.y, axis_turn.z],
         };
+        let end_pair = {
+            let (a, b) = (
+                vector(pairs[(count / 2).saturating_sub(1)].axes[0]),
+                vector(pairs[(count / 2).saturating_sub(1)].axes[1]),
+            );
+            let pure = |v: Vector3<f64>| Quaternion::new(0.0, v.x, v.y, v.z);
+            let turn = tool_turn;
+            let as_array = |q: Quaternion<f64>| [q.w, q.i, q.j, q.k];
+            let shift = UnitQuaternion::new_unchecked(tool_turn).inverse() * tool_shift;
+            ToolEndPair {
+                turns: [
+                    as_array(turn),
+                    as_array(pure(b) * turn),
+                    as_array(pure(a) * turn),
+                    as_array(pure(a) * pure(b) * turn),
+                ],
+                tool_shift: array(shift),
+            }
+        };
         ToolChain {
             steps,
             pairs,
             end,
+            end_pair,
             count,
             tool_shift: [tool_shift.x, tool_shift.y, tool_shift.z],
             tool_turn: [tool_turn.w, tool_turn.i, tool_turn.j, tool_turn.k],
@@ -204,31 +251,48 @@ impl ToolChain {
     /// The tool pose for `positions` (rad or m, one per joint, already checked).
     #[inline]
     pub(crate) fn tool_pose(&self, positions: &[f64]) -> Isometry3<f64> {
+        self.pose_for(positions, Angles::Any)
+            .unwrap_or_else(|| self.tool_at([0.0; 3], (1.0, 0.0, 0.0, 0.0)))
+    }
+
+    /// The tool pose for `positions` (rad or m, one per joint, not checked) when every turning
+    /// joint lies within ±π rad and every position is finite; `None` otherwise. The range test
+    /// is the finiteness check too, so the usual pose is checked and placed in one pass.
+    #[inline]
+    pub(crate) fn tool_pose_within_half_turns(&self, positions: &[f64]) -> Option<Isometry3<f64>> {
+        self.pose_for(positions, Angles::WithinHalfTurns)
+    }
+
+    /// [`ToolChain::pose_by_pairs`] for the chain's joint count.
+    #[inline(always)]
+    fn pose_for(&self, positions: &[f64], angles: Angles) -> Option<Isometry3<f64>> {
         // One straight run of arithmetic per joint count, which the compiler lays out without
         // a loop or an index check.
         const _: () = assert!(MAX_JOINTS == 8, "one arm per joint count below");
         match self.count.min(positions.len()) {
-            0 => self.tool_at([0.0; 3], (1.0, 0.0, 0.0, 0.0)),
-            1 => self.pose_by_pairs::<1>(positions),
-            2 => self.pose_by_pairs::<2>(positions),
-            3 => self.pose_by_pairs::<3>(positions),
-            4 => self.pose_by_pairs::<4>(positions),
-            5 => self.pose_by_pairs::<5>(positions),
-            6 => self.pose_by_pairs::<6>(positions),
-            7 => self.pose_by_pairs::<7>(positions),
-            _ => self.pose_by_pairs::<8>(positions),
+            0 => Some(self.tool_at([0.0; 3], (1.0, 0.0, 0.0, 0.0))),
+            1 => self.pose_by_pairs::<1>(positions, angles),
+            2 => self.pose_by_pairs::<2>(positions, angles),
+            3 => self.pose_by_pairs::<3>(positions, angles),
+            4 => self.pose_by_pairs::<4>(positions, angles),
+            5 => self.pose_by_pairs::<5>(positions, angles),
+            6 => self.pose_by_pairs::<6>(positions, angles),
+            7 => self.pose_by_pairs::<7>(positions, angles),
+            _ => self.pose_by_pairs::<8>(positions, angles),
         }
     }
 
     /// The first `N` positions and steps with every joint's half-angle sine and cosine, worked
     /// out first and all lanes alike (a slide turns by a zero angle): they do not depend on one
     /// another, so they run two to an instruction and the product after waits only on itself.
-    /// `None` when fewer than `N` positions are given.
+    /// `None` when fewer than `N` positions are given, or when `angles` asks for half turns
+    /// and a position lies outside them or is not finite.
     #[inline(always)]
     #[allow(clippy::type_complexity)] // four plain arrays, named at the one place they are used
     fn half_angles<'a, const N: usize>(
         &'a self,
         positions: &'a [f64],
+        angles_taken: Angles,
     ) -> Option<(&'a [f64; N], &'a [ToolStep; N], [f64; N], [f64; N])> {
         let (positions, steps) = (
             positions.first_chunk::<N>()?,
@@ -238,7 +302,19 @@ impl ToolChain {
         for ((angle, &q), step) in angles.iter_mut().zip(positions).zip(steps) {
             *angle = step.turn * q;
         }
-        let (sines, cosines) = sin_cos_lanes(&angles);
+        // Half angles within ±π/2 (turning joints within ±π, the usual case) need no reduction.
+        // NaN fails the comparison (a slide's infinite position makes one: 0·∞) and takes the
+        // general path.
+        let (sines, cosines) = if angles
+            .iter()
+            .fold(true, |within, x| within & (x.abs() <= FRAC_PI_2))
+        {
+            half_turn_sin_cos_lanes(&angles)
+        } else if angles_taken == Angles::Any {
+            sin_cos_lanes(&angles)
+        } else {
+            return None;
+        };
         Some((positions, steps, sines, cosines))
     }
 
@@ -246,22 +322,34 @@ impl ToolChain {
     /// pair's own shift and turn come from the constants of [`ToolPair`], so the running turn
     /// multiplies once per pair rather than once per joint, and turns one shift per pair.
     #[inline(always)]
-    fn pose_by_pairs<const N: usize>(&self, positions: &[f64]) -> Isometry3<f64> {
-        let Some((positions, steps, sines, cosines)) = self.half_angles::<N>(positions) else {
-            return self.tool_at([0.0; 3], (1.0, 0.0, 0.0, 0.0));
-        };
+    fn pose_by_pairs<const N: usize>(
+        &self,
+        positions: &[f64],
+        angles: Angles,
+    ) -> Option<Isometry3<f64>> {
+        let (positions, steps, sines, cosines) = self.half_angles::<N>(positions, angles)?;
         let mut p = [0.0; 3];
         let mut turn = (1.0, 0.0, 0.0, 0.0);
         // Written out pair by pair (the conditions are constants) so that nothing loops.
+        // The last pair of an even chain takes the tool offset's turn with its own.
+        let with_tool = |index: usize| N.is_multiple_of(2) && index + 1 == N / 2;
         if N >= 2 {
-            (p, turn) = self.pair_motion(0, &sines, &cosines, positions);
+            (p, turn) = self.pair_motion(0, &sines, &cosines, positions, with_tool(0));
         }
-        for index in [1, 2, 3] {
-            if N >= 2 * index + 2 {
-                let (shift, pair_turn) = self.pair_motion(index, &sines, &cosines, positions);
-                p = add(p, turn_vector(turn, shift));
-                turn = turn_product(turn, pair_turn);
-            }
+        let mut then_pair = |index: usize| {
+            let (shift, pair_turn) =
+                self.pair_motion(index, &sines, &cosines, positions, with_tool(index));
+            p = add(p, turn_vector(turn, shift));
+            turn = turn_product(turn, pair_turn);
+        };
+        if N >= 4 {
+            then_pair(1);
+        }
+        if N >= 6 {
+            then_pair(2);
+        }
+        if N >= 8 {
+            then_pair(3);
         }
         if N % 2 == 1 {
             let last = N - 1;
@@ -275,7 +363,7 @@ impl ToolChain {
                 end.shift[1] + sin * x1[1] + versine * x2[1],
                 end.shift[2] + sin * x1[2] + versine * x2[2],
             ];
-            if step.slide != 0.0 {
+            if step.slides {
                 shift = add(shift, scaled(step.axis, positions[last]));
             }
             let ([tw, tx, ty, tz], [aw, ax, ay, az]) = (self.tool_turn, end.axis_turn);
@@ -291,12 +379,19 @@ impl ToolChain {
                 p = add(p, turn_vector(turn, shift));
                 turn = turn_product(turn, end_turn);
             }
-            Isometry3::from_parts(
+            Some(Isometry3::from_parts(
                 Translation3::new(p[0], p[1], p[2]),
                 UnitQuaternion::new_unchecked(Quaternion::new(turn.0, turn.1, turn.2, turn.3)),
-            )
+            ))
+        } else if N == 0 {
+            Some(self.tool_at(p, turn))
         } else {
-            self.tool_at(p, turn)
+            // The turn includes the tool offset's: its shift goes as T⁻¹·t.
+            let moved = turn_vector(turn, self.end_pair.tool_shift);
+            Some(Isometry3::from_parts(
+                Translation3::new(p[0] + moved[0], p[1] + moved[1], p[2] + moved[2]),
+                UnitQuaternion::new_unchecked(Quaternion::new(turn.0, turn.1, turn.2, turn.3)),
+            ))
         }
     }
 
@@ -316,7 +411,7 @@ impl ToolChain {
         for (index, (step, (axis, point))) in self.steps[..self.count].iter().zip(axes).enumerate()
         {
             let axis = Vector3::from(axis);
-            let (linear, angular) = if step.slide != 0.0 {
+            let (linear, angular) = if step.slides {
                 (axis, Vector3::zeros())
             } else {
                 (axis.cross(&(tip - Vector3::from(point))), axis)
@@ -358,7 +453,9 @@ impl ToolChain {
         positions: &[f64],
         mut joint: impl FnMut(usize, [f64; 3], [f64; 3]),
     ) -> Isometry3<f64> {
-        let Some((positions, steps, sines, cosines)) = self.half_angles::<N>(positions) else {
+        let Some((positions, steps, sines, cosines)) =
+            self.half_angles::<N>(positions, Angles::Any)
+        else {
             return self.tool_at([0.0; 3], (1.0, 0.0, 0.0, 0.0));
         };
         // The first joint: nothing before it turns, so its shift and axis are as stored.
@@ -374,7 +471,7 @@ impl ToolChain {
             // A turn about the axis leaves the axis where it is: its direction now is its
             // direction after the joint moves.
             joint(index, turn_vector(turn, step.axis), p);
-            if step.slide != 0.0 {
+            if step.slides {
                 let slide = scaled(step.axis, positions[index]);
                 p = add(p, turn_vector(turn, slide));
             }
@@ -394,6 +491,7 @@ impl ToolChain {
         sines: &[f64],
         cosines: &[f64],
         positions: &[f64],
+        with_tool: bool,
     ) -> ([f64; 3], (f64, f64, f64, f64)) {
         let pair = &self.pairs[index];
         let (i, j) = (2 * index, 2 * index + 1);
@@ -407,10 +505,10 @@ impl ToolChain {
             pair.shift[1] + sin * x1[1] + versine * x2[1],
             pair.shift[2] + sin * x1[2] + versine * x2[2],
         ];
-        if self.steps[i].slide != 0.0 {
+        if self.steps[i].slides {
             shift = add(shift, scaled(a, positions[i]));
         }
-        if self.steps[j].slide != 0.0 {
+        if self.steps[j].slides {
             let (cross, twice) = (pair.cross, pair.cross_twice);
             let turned = [
                 b[0] + sin * cross[0] + versine * twice[0],
@@ -420,12 +518,18 @@ impl ToolChain {
             shift = add(shift, scaled(turned, positions[j]));
         }
         let (cc, ss, cs, sc) = (c1 * c2, s1 * s2, c1 * s2, s1 * c2);
-        let turn = (
-            cc - ss * pair.dot,
-            (cs * b[0] + sc * a[0]) + ss * pair.cross[0],
-            (cs * b[1] + sc * a[1]) + ss * pair.cross[1],
-            (cs * b[2] + sc * a[2]) + ss * pair.cross[2],
-        );
+        let turn = if with_tool {
+            let [t, bt, at, abt] = self.end_pair.turns;
+            let lane = |k: usize| (cc * t[k] + cs * bt[k]) + (sc * at[k] + ss * abt[k]);
+            (lane(0), lane(1), lane(2), lane(3))
+        } else {
+            (
+                cc - ss * pair.dot,
+                (cs * b[0] + sc * a[0]) + ss * pair.cross[0],
+                (cs * b[1] + sc * a[1]) + ss * pair.cross[1],
+                (cs * b[2] + sc * a[2]) + ss * pair.cross[2],
+            )
+        };
         (shift, turn)
     }
 
@@ -440,6 +544,15 @@ impl ToolChain {
             UnitQuaternion::new_unchecked(Quaternion::new(w, x, y, z)),
         )
     }
+}
+
+/// Which joint angles a tool-chain pass takes.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Angles {
+    /// Any finite positions, already checked.
+    Any,
+    /// Only finite positions with every turning joint within ±π rad (no angle reduction).
+    WithinHalfTurns,
 }
 
 /// The Hamilton product of two quaternions (w, x, y, z), each term's products paired for a
@@ -634,6 +747,47 @@ fn sin_cos_lanes<const N: usize>(angles: &[f64; N]) -> ([f64; N], [f64; N]) {
     (sines, cosines)
 }
 
+/// Sines and cosines of every angle of `angles`, each within ±π/2 rad: the kernels of
+/// [`sin_cos_reduced`] on half of each angle (within ±π/4, so no reduction and no quarter-turn
+/// swap), then the double-angle formulas sin 2u = 2·sin u·cos u and cos 2u = 1 − 2·sin² u. Agrees
+/// with `f64::sin_cos` to within a few units in the last place (tested below); every lane runs
+/// the same branch-free arithmetic.
+#[inline(always)]
+fn half_turn_sin_cos_lanes<const N: usize>(angles: &[f64; N]) -> ([f64; N], [f64; N]) {
+    let mut sines = [0.0; N];
+    let mut cosines = [1.0; N];
+    for ((x, sine), cosine) in angles.iter().zip(&mut sines).zip(&mut cosines) {
+        let (s, c) = sin_cos_kernels(0.5 * x);
+        (*sine, *cosine) = (2.0 * s * c, 1.0 - 2.0 * s * s);
+    }
+    (sines, cosines)
+}
+
+/// Sine and cosine of `r` within ±π/4 rad, by the kernels described at [`sin_cos_reduced`].
+#[inline(always)]
+fn sin_cos_kernels(r: f64) -> (f64, f64) {
+    const S1: f64 = -0.16666666666666632;
+    const S2: f64 = 0.00833333333332249;
+    const S3: f64 = -0.0001984126982985795;
+    const S4: f64 = 2.7557313707070068e-06;
+    const S5: f64 = -2.5050760253406863e-08;
+    const S6: f64 = 1.58969099521155e-10;
+    const C1: f64 = 0.0416666666666666;
+    const C2: f64 = -0.001388888888887411;
+    const C3: f64 = 2.480158728947673e-05;
+    const C4: f64 = -2.7557314351390663e-07;
+    const C5: f64 = 2.087572321298175e-09;
+    const C6: f64 = -1.1359647557788195e-11;
+    let z = r * r;
+    // Estrin's scheme: the terms pair up in z, z² and z⁴, so each polynomial waits on three
+    // products and sums in a row rather than six as in Horner's.
+    let (z2, rz) = (z * z, r * z);
+    let z4 = z2 * z2;
+    let sin_poly = ((S1 + z * S2) + z2 * (S3 + z * S4)) + z4 * (S5 + z * S6);
+    let cos_poly = ((C1 + z * C2) + z2 * (C3 + z * C4)) + z4 * (C5 + z * C6);
+    (r + rz * sin_poly, (1.0 - 0.5 * z) + z2 * cos_poly)
+}
+
 /// Sine and cosine of `x` within ±1e5 rad. The angle is reduced to r within ±π/4 by a multiple
 /// k of π/2, then sin r and cos r come from the near-minimax polynomials of fdlibm's
 /// `__kernel_sin` and `__kernel_cos` (Sun Microsystems, 1993; degree 13 and 14, error below
@@ -650,27 +804,7 @@ fn sin_cos_reduced(x: f64) -> (f64, f64) {
     let quarter = rounded.to_bits();
     let k = rounded - ROUNDER;
     let r = (x - k * HALF_PI_HEAD) - k * HALF_PI_TAIL;
-    let z = r * r;
-    const S1: f64 = -0.16666666666666632;
-    const S2: f64 = 0.00833333333332249;
-    const S3: f64 = -0.0001984126982985795;
-    const S4: f64 = 2.7557313707070068e-06;
-    const S5: f64 = -2.5050760253406863e-08;
-    const S6: f64 = 1.58969099521155e-10;
-    const C1: f64 = 0.0416666666666666;
-    const C2: f64 = -0.001388888888887411;
-    const C3: f64 = 2.480158728947673e-05;
-    const C4: f64 = -2.7557314351390663e-07;
-    const C5: f64 = 2.087572321298175e-09;
-    const C6: f64 = -1.1359647557788195e-11;
-    // Estrin's scheme: the terms pair up in z, z² and z⁴, so each polynomial waits on three
-    // products and sums in a row rather than six as in Horner's.
-    let (z2, rz) = (z * z, r * z);
-    let z4 = z2 * z2;
-    let sin_poly = ((S1 + z * S2) + z2 * (S3 + z * S4)) + z4 * (S5 + z * S6);
-    let cos_poly = ((C1 + z * C2) + z2 * (C3 + z * C4)) + z4 * (C5 + z * C6);
-    let sin = r + rz * sin_poly;
-    let cos = (1.0 - 0.5 * z) + z2 * cos_poly;
+    let (sin, cos) = sin_cos_kernels(r);
     // x = r + k·π/2: k odd swaps sine and cosine; the sine changes sign for k ≡ 2, 3 (mod 4),
     // the cosine for k ≡ 1, 2.
     let odd = 0u64.wrapping_sub(quarter & 1);
@@ -927,6 +1061,63 @@ mod tests {
         }
         let (sines, _) = sin_cos_lanes(&[0.3, -2.0]);
         assert_eq!(sines, [sin_cos(0.3).0, sin_cos(-2.0).0]);
+    }
+
+    #[test]
+    fn half_turn_sin_cos_agrees_with_the_standard_library() {
+        // A sweep over ±π/2 (the ends included), two lanes at a time as the tool chain takes
+        // them, against `f64::sin_cos`.
+        let mut worst: f64 = 0.0;
+        let steps = 200_000;
+        for step in 0..=steps {
+            let x = -FRAC_PI_2 + std::f64::consts::PI * f64::from(step) / f64::from(steps);
+            let (sines, cosines) = half_turn_sin_cos_lanes(&[x, -0.5 * x]);
+            for ((angle, sine), cosine) in [x, -0.5 * x].iter().zip(sines).zip(cosines) {
+                let (s, c) = angle.sin_cos();
+                worst = worst.max((sine - s).abs()).max((cosine - c).abs());
+            }
+        }
+        assert!(worst < 5e-16, "largest difference {worst:e}");
+    }
+
+    #[test]
+    fn the_checked_pass_refuses_angles_past_half_turns_and_bad_positions() {
+        let joints = [
+            placed(
+                JointKind::Revolute,
+                Isometry3::identity(),
+                Vector3::z_axis(),
+            ),
+            placed(
+                JointKind::Prismatic,
+                Isometry3::translation(0.1, 0.0, 0.0),
+                Vector3::x_axis(),
+            ),
+        ];
+        let chain = ToolChain::of(&joints, &Isometry3::translation(0.0, 0.0, 0.05));
+        for q in [
+            [3.2, 0.0],
+            [f64::NAN, 0.0],
+            [0.0, f64::INFINITY],
+            [0.0, f64::NAN],
+        ] {
+            assert!(chain.tool_pose_within_half_turns(&q).is_none(), "{q:?}");
+        }
+        // Within ±π the checked pass and the general one give the same pose; just past it the
+        // general one still agrees with the frame-by-frame product.
+        for q in [[std::f64::consts::PI, 0.02], [-3.0, -1.0], [3.2, 0.5]] {
+            let general = chain.tool_pose(&q);
+            if let Some(checked) = chain.tool_pose_within_half_turns(&q) {
+                assert_eq!(checked, general);
+            }
+            let mut slow = Isometry3::identity();
+            for (joint, &position) in joints.iter().zip(&q) {
+                slow = slow * joint.origin * joint.motion(position);
+            }
+            let slow = slow * Isometry3::translation(0.0, 0.0, 0.05);
+            assert!((general.translation.vector - slow.translation.vector).norm() < 1e-15);
+            assert!(general.rotation.angle_to(&slow.rotation) < 1e-15);
+        }
     }
 
     #[test]

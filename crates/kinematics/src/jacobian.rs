@@ -1,6 +1,6 @@
 //! Jacobians: how the tool frame moves for small joint motions.
 
-use nalgebra::{SMatrix, Vector3};
+use nalgebra::{Isometry3, SMatrix, Vector3};
 
 use crate::arm::{Arm, JointKind, MAX_JOINTS};
 use crate::error::{KinematicsError, check_pose};
@@ -37,6 +37,25 @@ pub fn tool_jacobian(arm: &Arm, positions: &[f64]) -> Result<Jacobian, Kinematic
         matrix,
         joints: arm.joint_count(),
     })
+}
+
+/// The tool pose (m, base frame) and [`tool_jacobian`] from the same pass down the chain.
+///
+/// # Errors
+/// [`KinematicsError`] if the count is wrong or a position is not finite.
+pub(crate) fn tool_pose_and_jacobian(
+    arm: &Arm,
+    positions: &[f64],
+) -> Result<(Isometry3<f64>, Jacobian), KinematicsError> {
+    check_pose(arm.joint_count(), positions)?;
+    let (tool, matrix) = arm.tool_chain().tool_pose_and_jacobian(positions);
+    Ok((
+        tool,
+        Jacobian {
+            matrix,
+            joints: arm.joint_count(),
+        },
+    ))
 }
 
 /// The space Jacobian of the product-of-exponentials formulation (Lynch & Park, *Modern
