@@ -99,6 +99,7 @@ pub struct SimDevice {
     frames: u64,
     status_pending: bool,
     last_status: Option<Duration>,
+    statuses_sent: u64,
     now: Duration,
     arm: Option<Box<SimArm>>,
     readings: Readings,
@@ -155,6 +156,7 @@ impl SimDevice {
             frames: 0,
             status_pending: false,
             last_status: None,
+            statuses_sent: 0,
             now: Duration::ZERO,
             arm: None,
             readings: Readings::default(),
@@ -287,6 +289,12 @@ impl SimDevice {
     /// Number of pulse frames started since power-up.
     pub fn frames_started(&self) -> u64 {
         self.frames
+    }
+
+    /// Number of status lines sent since power-up (one answers each heartbeat; others report a
+    /// change of mode, faults or counters).
+    pub fn statuses_sent(&self) -> u64 {
+        self.statuses_sent
     }
 
     /// Takes host bytes arriving at `now`. Whole lines go to the input queue; an emergency
@@ -601,6 +609,7 @@ impl SimDevice {
             } else {
                 self.status.faults.remove(Faults::EMERGENCY_STOP);
             }
+            self.statuses_sent += 1;
             self.send(DeviceMessage::Status(self.status()));
         }
     }

@@ -349,6 +349,8 @@ fn status_lines_come_at_most_once_per_frame() {
         .count();
     // 100 ms → at most 5 full frames plus the first line.
     assert!((5..=6).contains(&statuses), "{statuses} status lines");
+    // The device's own count (what a window watching it waits on) agrees with the lines heard.
+    assert_eq!(bench.device.statuses_sent(), statuses as u64);
 }
 
 #[test]

@@ -10,7 +10,7 @@ use std::sync::{Arc, Mutex, PoisonError};
 use std::thread::JoinHandle;
 use std::time::{Duration, Instant};
 
-use armwright_kinematics::{Arm, JointKind};
+use armwright_kinematics::{Arm, forward};
 use armwright_link::{
     ChannelOutput, ChannelValues, DeviceInfo, DeviceMode, EmergencyStop, Faults, Link, LinkError,
     LinkEvent, LinkLoss, LinkState, PortSummary, ReadingsSource, ResetConfirmation,
@@ -18,6 +18,7 @@ use armwright_link::{
     Transport, list_ports,
 };
 use armwright_trajectory::ServoModelOptions;
+use nalgebra::Vector3;
 
 use super::estop::{StopLink, StopRequest};
 use super::follow::{FollowAction, FollowPhase, FollowRun, FollowView};
@@ -42,15 +43,34 @@ const IDLE_WAIT: Duration = Duration::from_millis(20);
 /// for the eye to follow the device's arm and counters, and nothing while nothing changes.
 const WAKE_INTERVAL: Duration = Duration::from_millis(33);
 
-/// How far a revolute joint of the simulated device's arm must move from where the window
-/// last drew it before that alone is worth a redraw, rad (2°: a few pixels at the tip of a
-/// 200 mm link at the views' default scale, a step the eye sees). A limp arm creeping under
-/// gravity redraws once per step, not 30 times a second; while a stream runs, its counters
-/// redraw the window 30 times a second anyway and the arm follows smoothly.
-const TURN_STEP: f64 = 2.0 * std::f64::consts::PI / 180.0;
+/// How far on screen a point of the simulated device's arm (a joint, the tool point) must
+/// move from where the window last drew it before that alone is worth a redraw, in physical
+/// pixels: a step the eye sees on the dashed arm; a smaller offset is drawn with the next
+/// redraw.
+const ARM_STEP_PX: f64 = 3.0;
 
-/// The same for a prismatic joint, m (2 mm).
-const SLIDE_STEP: f64 = 2e-3;
+/// The shortest time between two redraws the simulated device's arm alone asks for: a limp arm
+/// falling under gravity is drawn 8 times a second at most, however fast it falls. While a
+/// stream or follow run moves the arm, its counters redraw the window every
+/// [`WAKE_INTERVAL`] anyway and the arm moves smoothly with them.
+const ARM_WAKE_INTERVAL: Duration = Duration::from_millis(125);
+
+/// The on-screen speed below which the arm is taken to creep rather than move, physical pixels
+/// a second (a point crossing its 2-pixel line in half a second): a creep is not followed
+/// frame by frame, only caught up with every [`ARM_CREEP_INTERVAL`] (a limp arm settling
+/// creeps at about 1 pixel a second for tens of seconds after its fall).
+const ARM_MOTION_PX_PER_S: f64 = 4.0;
+
+/// How long a creep of [`ARM_STEP_PX`] or more is left undrawn at most.
+const ARM_CREEP_INTERVAL: Duration = Duration::from_secs(10);
+
+/// The span over which the arm's speed on screen is measured (a few of the device's pulse
+/// frames, which move it in steps).
+const SPEED_SPAN: Duration = Duration::from_millis(100);
+
+/// The scale assumed until the window says how large it draws the arm, physical pixels per m
+/// (4 pixels a mm: finer than any view's default, so no step is missed).
+const DEFAULT_PIXELS_PER_M: f64 = 4000.0;
 
 /// What the user asks of the link, from the link panel.
 #[derive(Debug, Clone, PartialEq)]
@@ -203,6 +223,9 @@ struct Published {
     reports_added: u64,
     /// The window to wake when something it shows changed.
     waker: Option<egui::Context>,
+    /// How large the window draws the arm: physical pixels per m in the view that shows it
+    /// largest; `None` until the window says.
+    pixels_per_m: Option<f64>,
 }
 
 impl Published {
@@ -334,31 +357,32 @@ impl Shown {
 
 /// Wakes the window when what it draws of the link changed: at once for a stop, a lost link or
 /// an ended stream ([`Urgent`]); otherwise at most once every [`WAKE_INTERVAL`], a change inside
-/// the interval woken for when it ends.
+/// the interval woken for when it ends. The simulated device's arm alone wakes it once a point
+/// of the arm is [`ARM_STEP_PX`] on screen from where it was drawn, at most once every
+/// [`ARM_WAKE_INTERVAL`] while it moves and every [`ARM_CREEP_INTERVAL`] while it creeps.
 #[derive(Debug, Default)]
 struct Waking {
     shown: Shown,
-    /// The simulated device's arm as of the last redraw asked for it (rad or m per joint).
-    pose: Option<Vec<f64>>,
-    /// The step per joint that is worth a redraw: [`TURN_STEP`] or [`SLIDE_STEP`].
-    steps: Vec<f64>,
+    /// The arm the simulated device moves, to place its joints as the views draw them.
+    arm: Option<Arm>,
+    /// The simulated device's arm as of the last redraw: its joints and tool point (base
+    /// frame, m), or `None` when there was none to draw.
+    drawn: Option<Vec<Vector3<f64>>>,
+    /// The arm's points at the start of the span its speed is measured over, and when.
+    sampled: Option<(Vec<Vector3<f64>>, Instant)>,
+    /// Whether the arm moved at [`ARM_MOTION_PX_PER_S`] or faster over the last span.
+    moving: bool,
+    /// A change of [`Shown`] not yet woken for.
     pending: bool,
     last: Option<Instant>,
 }
 
 impl Waking {
-    /// Notes the arm the simulated device moves, for the step each joint must move.
+    /// Notes the arm the simulated device moves.
     fn arm(&mut self, arm: Option<&Arm>) {
-        self.steps = arm.map_or_else(Vec::new, |arm| {
-            arm.joints()
-                .iter()
-                .map(|joint| match joint.kind {
-                    JointKind::Revolute => TURN_STEP,
-                    JointKind::Prismatic => SLIDE_STEP,
-                })
-                .collect()
-        });
-        self.pose = None;
+        self.arm = arm.cloned();
+        self.drawn = None;
+        self.sampled = None;
     }
 
     fn check(&mut self, published: &Published) {
@@ -366,7 +390,9 @@ impl Waking {
             let device = device.lock().unwrap_or_else(PoisonError::into_inner);
             device.arm_positions().map(<[f64]>::to_vec)
         });
-        if self.wanted(Shown::of(published), pose, Instant::now())
+        let points = pose.and_then(|pose| self.points(&pose));
+        let pixels_per_m = published.pixels_per_m.unwrap_or(DEFAULT_PIXELS_PER_M);
+        if self.wanted(Shown::of(published), points, pixels_per_m, Instant::now())
             && let Some(waker) = &published.waker
         {
             // A delay, however short, asks egui for one frame; no delay asks for two.
@@ -374,52 +400,81 @@ impl Waking {
         }
     }
 
-    /// Notes what the window would draw now (`shown`, the simulated device's arm `pose`) at
-    /// `now`; returns whether to wake the window.
-    fn wanted(&mut self, shown: Shown, pose: Option<Vec<f64>>, now: Instant) -> bool {
+    /// The points the views draw of the simulated device's arm at `pose` (rad or m per joint):
+    /// each joint's origin and the tool point, base frame, m.
+    fn points(&self, pose: &[f64]) -> Option<Vec<Vector3<f64>>> {
+        let chain = forward(self.arm.as_ref()?, pose).ok()?;
+        let joints = chain.frames().iter().map(|frame| frame.translation.vector);
+        Some(joints.chain([chain.tool().translation.vector]).collect())
+    }
+
+    /// Notes what the window would draw now (`shown`; the simulated device's arm as the
+    /// `points` of [`Waking::points`], drawn at `pixels_per_m` physical pixels per m in the
+    /// view that shows it largest) at `now`; returns whether to wake the window.
+    fn wanted(
+        &mut self,
+        shown: Shown,
+        points: Option<Vec<Vector3<f64>>>,
+        pixels_per_m: f64,
+        now: Instant,
+    ) -> bool {
         let urgent = shown.urgent != self.shown.urgent;
         if shown != self.shown {
             self.shown = shown;
             self.pending = true;
         }
-        if self.pose_moved(pose.as_deref()) {
-            self.pose = pose;
-            self.pending = true;
-        }
-        let due = urgent
-            || self
-                .last
-                .is_none_or(|last| now.duration_since(last) >= WAKE_INTERVAL);
-        if self.pending && due {
+        self.measure_speed(points.as_deref(), pixels_per_m, now);
+        let since_last = |interval: Duration| {
+            self.last
+                .is_none_or(|last| now.duration_since(last) >= interval)
+        };
+        let offset_px = arm_offset_m(self.drawn.as_deref(), points.as_deref()) * pixels_per_m;
+        let arm_due = offset_px >= ARM_STEP_PX
+            && since_last(ARM_WAKE_INTERVAL)
+            && (self.moving || offset_px.is_infinite() || since_last(ARM_CREEP_INTERVAL));
+        let wake = (self.pending && (urgent || since_last(WAKE_INTERVAL))) || arm_due;
+        if wake {
+            // The frame this asks for draws the arm as it is now.
+            self.drawn = points;
             self.pending = false;
             self.last = Some(now);
-            return true;
         }
-        false
+        wake
     }
 
-    /// Whether `pose` differs from the one last drawn by a step worth a redraw.
-    fn pose_moved(&self, pose: Option<&[f64]>) -> bool {
-        match (pose, self.pose.as_deref()) {
-            (None, None) => false,
-            (Some(now), Some(drawn)) if now.len() == drawn.len() => now
-                .iter()
-                .zip(drawn)
-                .enumerate()
-                .any(|(joint, (now, drawn))| {
-                    (now - drawn).abs() >= self.steps.get(joint).copied().unwrap_or(SLIDE_STEP)
-                }),
-            _ => true,
+    /// Updates whether the arm moves or creeps, once a [`SPEED_SPAN`].
+    fn measure_speed(&mut self, points: Option<&[Vector3<f64>]>, pixels_per_m: f64, now: Instant) {
+        let Some(points) = points else {
+            self.sampled = None;
+            self.moving = false;
+            return;
+        };
+        if let Some((then, at)) = &self.sampled {
+            let span = now.duration_since(*at);
+            if span < SPEED_SPAN {
+                return;
+            }
+            let moved_px = arm_offset_m(Some(then), Some(points)) * pixels_per_m;
+            self.moving = moved_px >= ARM_MOTION_PX_PER_S * span.as_secs_f64();
         }
+        self.sampled = Some((points.to_vec(), now));
     }
+}
 
-    /// How long the worker may wait for a request before it must look again.
-    fn wait(&self) -> Duration {
-        if self.pending {
-            WAKE_INTERVAL.min(IDLE_WAIT)
-        } else {
-            IDLE_WAIT
-        }
+/// How far the arm drawn at `drawn` is from the arm now at `now` (each joint's origin and the
+/// tool point, m): the largest distance of a point, m; infinite when one of them is missing
+/// (the arm appeared or went), zero when both are. The views are flat projections that never
+/// stretch a length (the top view drops the height, the side view turns the plane about the
+/// vertical axis), so no point moves farther on either view.
+fn arm_offset_m(drawn: Option<&[Vector3<f64>]>, now: Option<&[Vector3<f64>]>) -> f64 {
+    match (drawn, now) {
+        (None, None) => 0.0,
+        (Some(drawn), Some(now)) if drawn.len() == now.len() => drawn
+            .iter()
+            .zip(now)
+            .map(|(drawn, now)| (now - drawn).norm())
+            .fold(0.0, f64::max),
+        _ => f64::INFINITY,
     }
 }
 
@@ -461,6 +516,8 @@ pub struct DeviceLink {
     worker: Option<JoinHandle<()>>,
     /// Whether the worker was given the window to wake.
     waker_set: bool,
+    /// The scale last handed to the worker ([`DeviceLink::drawn_at`]).
+    pixels_per_m: Option<f64>,
 }
 
 impl std::fmt::Debug for DeviceLink {
@@ -508,6 +565,7 @@ impl DeviceLink {
             connected_arm: None,
             worker: handle,
             waker_set: false,
+            pixels_per_m: None,
         }
     }
 
@@ -521,6 +579,19 @@ impl DeviceLink {
                 .unwrap_or_else(PoisonError::into_inner)
                 .waker = Some(ctx.clone());
             self.waker_set = true;
+        }
+    }
+
+    /// Tells the worker how large the window draws the arm (physical pixels per m in the view
+    /// that shows it largest), so that the simulated device's arm wakes the window for a move
+    /// the eye sees there ([`ARM_STEP_PX`]). Cheap to call every frame.
+    pub(crate) fn drawn_at(&mut self, pixels_per_m: f64) {
+        if self.pixels_per_m != Some(pixels_per_m) {
+            self.pixels_per_m = Some(pixels_per_m);
+            self.published
+                .lock()
+                .unwrap_or_else(PoisonError::into_inner)
+                .pixels_per_m = Some(pixels_per_m);
         }
     }
 
@@ -753,7 +824,7 @@ impl Worker {
                 let wait = self
                     .follow
                     .as_ref()
-                    .map_or(self.waking.wait(), |run| run.wait().min(self.waking.wait()));
+                    .map_or(IDLE_WAIT, |run| run.wait().min(IDLE_WAIT));
                 match self.inbox.recv_timeout(wait) {
                     Ok(request) => Some(request),
                     Err(RecvTimeoutError::Timeout) => None,
@@ -1339,7 +1410,7 @@ mod tests {
 
     /// Whether the window is woken for `published` at `at`.
     fn wakes(waking: &mut Waking, published: &Published, at: Instant) -> bool {
-        waking.wanted(Shown::of(published), None, at)
+        waking.wanted(Shown::of(published), None, DEFAULT_PIXELS_PER_M, at)
     }
 
     fn stats(published: &mut Published) -> &mut StreamStats {
@@ -1430,20 +1501,83 @@ mod tests {
         assert!(!wakes(&mut waking, &published, at + WAKE_INTERVAL * 2));
     }
 
+    /// An arm of a base, an elbow and a tool point whose tool point is `sag_m` along x from
+    /// its start.
+    fn sagged(sag_m: f64) -> Option<Vec<Vector3<f64>>> {
+        Some(vec![
+            Vector3::zeros(),
+            Vector3::new(0.1, 0.0, 0.1),
+            Vector3::new(0.2 + sag_m, 0.0, 0.1),
+        ])
+    }
+
     #[test]
-    fn the_simulated_arm_wakes_the_window_once_a_joint_moved_a_visible_step() {
+    fn the_simulated_arm_wakes_the_window_once_a_point_moved_a_visible_step_on_screen() {
         let start = Instant::now();
-        let mut waking = Waking {
-            steps: vec![TURN_STEP, SLIDE_STEP],
-            ..Waking::default()
-        };
+        let mut waking = Waking::default();
         let published = connected();
         let shown = || Shown::of(&published);
-        assert!(waking.wanted(shown(), Some(vec![0.0, 0.0]), start));
-        let later = |n: u32| start + WAKE_INTERVAL * n;
-        assert!(!waking.wanted(shown(), Some(vec![TURN_STEP * 0.9, 0.0]), later(2)));
-        assert!(!waking.wanted(shown(), Some(vec![0.0, SLIDE_STEP * 0.9]), later(3)));
-        assert!(waking.wanted(shown(), Some(vec![TURN_STEP * 1.1, 0.0]), later(4)));
-        assert!(waking.wanted(shown(), None, later(5)), "the arm went");
+        // Drawn at 2 pixels a mm: a step on screen is 1.5 mm. The arm moves fast (half a step
+        // an interval is 12 pixels a second), never creeps.
+        let scale = 2000.0;
+        let step = ARM_STEP_PX / scale;
+        let at = |n: u32| start + ARM_WAKE_INTERVAL * n;
+        assert!(
+            waking.wanted(shown(), sagged(0.0), scale, at(0)),
+            "the first look"
+        );
+        assert!(waking.wanted(shown(), sagged(step), scale, at(1)), "a step");
+        assert!(
+            !waking.wanted(shown(), sagged(step * 1.5), scale, at(2)),
+            "under a step"
+        );
+        // The same offset drawn twice as large is a step.
+        assert!(waking.wanted(shown(), sagged(step * 1.9), scale * 2.0, at(3)));
+        // A step soon after a redraw waits for the interval's end, and is not lost.
+        let soon = at(3) + ARM_WAKE_INTERVAL / 2;
+        assert!(
+            !waking.wanted(shown(), sagged(step * 3.0), scale, soon),
+            "too soon"
+        );
+        assert!(waking.wanted(shown(), sagged(step * 3.0), scale, at(4)));
+        assert!(
+            !waking.wanted(shown(), sagged(step * 3.0), scale, at(5)),
+            "drawn already"
+        );
+        assert!(waking.wanted(shown(), None, scale, at(6)), "the arm went");
+    }
+
+    #[test]
+    fn a_creeping_arm_is_caught_up_with_rarely_a_moving_one_followed() {
+        let start = Instant::now();
+        let mut waking = Waking::default();
+        let published = connected();
+        let shown = || Shown::of(&published);
+        // 1 pixel a mm; the arm creeps 1 pixel a second, looked at 10 times a second.
+        let scale = 1000.0;
+        let mut woken = Vec::new();
+        for tenth in 0..=250_u32 {
+            let seconds = f64::from(tenth) / 10.0;
+            let now = start + Duration::from_millis(100 * u64::from(tenth));
+            if waking.wanted(shown(), sagged(seconds * 1e-3), scale, now) {
+                woken.push(seconds);
+            }
+        }
+        // The first look, then once the creep interval has passed, the offset being over a
+        // step.
+        let creep = ARM_CREEP_INTERVAL.as_secs_f64();
+        assert_eq!(woken, [0.0, creep, 2.0 * creep], "woken at {woken:?} s");
+        // Moving at 8 pixels a second, a step is drawn as soon as it is made.
+        let mut woken = 0;
+        let from = start + Duration::from_secs(30);
+        for tenth in 1..=20_u32 {
+            let now = from + Duration::from_millis(100 * u64::from(tenth));
+            let sag = 0.025 + f64::from(tenth) * 0.8e-3;
+            woken += usize::from(waking.wanted(shown(), sagged(sag), scale, now));
+        }
+        assert!(
+            (4..=6).contains(&woken),
+            "{woken} redraws for 16 pixels in 2 s"
+        );
     }
 }

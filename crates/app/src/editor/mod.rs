@@ -530,10 +530,28 @@ impl Editor {
     }
 
     /// Takes what the device link published: its messages, and the arm's pose as a simulated
-    /// device moves it. The link's worker wakes the window when any of that changes (at most
-    /// 30 times a second), so an idle connection costs no redraws.
+    /// device moves it; tells the link how large the views draw the arm. The link's worker wakes
+    /// the window when any of that changes visibly (at most 30 times a second; the device's arm
+    /// alone at most 8, and a creeping arm every 10 s), so an idle connection costs no redraws.
     fn follow_device(&mut self, ctx: &egui::Context) {
         self.device.wake(ctx);
+        // The scale of the view that draws the arm largest, as of the last frame: the device's
+        // arm wakes the window for a move the eye sees there.
+        let points_per_mm = self
+            .cameras
+            .iter()
+            .filter_map(|camera| {
+                camera
+                    .projection()
+                    .map(|projection| projection.points_per_mm)
+            })
+            .fold(None, |largest: Option<f64>, scale| {
+                Some(largest.map_or(scale, |largest| largest.max(scale)))
+            });
+        if let Some(points_per_mm) = points_per_mm {
+            self.device
+                .drawn_at(points_per_mm * 1e3 * f64::from(ctx.pixels_per_point()));
+        }
         for report in self.device.poll(self.state.arm.as_ref()) {
             match report {
                 device::Report::Info(text) => self.state.say(Level::Info, text),
