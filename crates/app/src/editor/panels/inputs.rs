@@ -21,6 +21,9 @@ pub const TAKE_LABEL: &str = "Take";
 /// Colour of a problem (as the arm settings show theirs).
 const PROBLEM: Color32 = Color32::from_rgb(255, 90, 70);
 
+/// Background of a number with a problem: an empty field has no text to show red.
+const PROBLEM_FIELD: Color32 = Color32::from_rgb(72, 24, 20);
+
 /// Width of a reading's text box, in points.
 const READING_WIDTH: f32 = 56.0;
 
@@ -279,7 +282,7 @@ fn number_edit(
     let mut text = row.text(field).to_owned();
     let mut edit = TextEdit::singleline(&mut text).id_salt(("input field", field));
     if problem.is_some() {
-        edit = edit.text_color(PROBLEM);
+        edit = edit.text_color(PROBLEM).background_color(PROBLEM_FIELD);
     }
     let unit = field.unit(kind);
     let name = if unit.is_empty() {
@@ -298,5 +301,69 @@ fn number_edit(
         Command::Inputs(InputsCommand::FinishField)
     } else {
         Command::None
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use egui_kittest::Harness;
+    use egui_kittest::kittest::{NodeT, Queryable};
+
+    use super::*;
+    use crate::editor::sample_scene;
+    use crate::scene::{InputDoc, InputPointDoc};
+
+    #[test]
+    fn without_a_device_nothing_can_be_taken_and_rows_ask_by_their_number() {
+        let mut scene = sample_scene();
+        scene.inputs = vec![InputDoc {
+            input: 2,
+            joint: scene.arm.joints[1].name.clone(),
+            points: [(1000, 10.0), (3000, 50.0)]
+                .map(|(reading, position)| InputPointDoc { reading, position })
+                .to_vec(),
+        }];
+        let state = EditorState::new(scene, None);
+        let mut harness = Harness::new_ui_state(
+            |ui, state: &mut (EditorState, Command)| {
+                let command = inputs(ui, &state.0, &LinkView::default());
+                if command != Command::None {
+                    state.1 = command;
+                }
+            },
+            (state, Command::None),
+        );
+        harness.run();
+        assert!(
+            harness
+                .query_by_label_contains("Connect a device in the Link tab")
+                .is_some()
+        );
+        assert_eq!(
+            harness.get_by_label("row 1 input").value().as_deref(),
+            Some("2")
+        );
+        assert_eq!(
+            harness
+                .get_by_label("row 1 point 2 position (°)")
+                .value()
+                .as_deref(),
+            Some("50")
+        );
+        assert!(
+            harness
+                .get_by_label("take the reading for row 1 point 1")
+                .accesskit_node()
+                .is_disabled()
+        );
+        harness.get_by_label("remove row 1 point 2").click();
+        harness.run();
+        assert_eq!(
+            harness.state().1,
+            Command::Inputs(InputsCommand::RemovePoint { row: 0, point: 1 })
+        );
+        harness.get_by_label(ADD_INPUT_LABEL).click();
+        harness.run();
+        assert_eq!(harness.state().1, Command::Inputs(InputsCommand::AddInput));
     }
 }
