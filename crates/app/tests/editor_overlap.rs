@@ -10,7 +10,7 @@
 
 mod editor_common;
 
-use armwright::editor::{ChannelStopLink, Editor, ToolsTab};
+use armwright::editor::{ADD_INPUT_LABEL, ChannelStopLink, Editor, ToolsTab};
 use egui::accesskit::Role;
 use egui::epaint::ClippedShape;
 use egui::{Event, Rect, Shape};
@@ -192,6 +192,21 @@ fn no_overlaps_at(size: [f32; 2]) {
                 problems.push(format!(
                     "{screen}: the tools panel's left edge moved from {left_at_start} to {left}"
                 ));
+            }
+            if tab == ToolsTab::Arm {
+                // The input arm's form, with a new row and the problems it lists, scrolled into
+                // view at the foot of the tab.
+                harness
+                    .get_by_label("Input arm (analog inputs)")
+                    .click_accesskit();
+                harness.run_steps(2);
+                harness.get_by_label(ADD_INPUT_LABEL).click_accesskit();
+                harness.run_steps(2);
+                harness.get_by_label(ADD_INPUT_LABEL).scroll_to_me();
+                harness.run_steps(2);
+                let screen = format!("{screen}, input arm form");
+                check_screen(&mut harness, &screen, &mut problems);
+                screens += 1;
             }
         }
         // Out of reach: a problem line in both views.

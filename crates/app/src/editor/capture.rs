@@ -25,7 +25,7 @@ pub const EDITOR_READINGS_HZ: u8 = 20;
 /// Shown when the capture key finds no input arm.
 pub const NO_INPUT_ARM: &str = "no input arm to capture: connect a device that sends analog \
                                 readings (protocol 3) and map its inputs to joints in the \
-                                scene's \"inputs\"";
+                                scene's \"inputs\" (Arm tab, \"Input arm\")";
 
 /// The input arm's pose (rad or m per joint) from `readings` (0–4095, input 0 first): each
 /// mapped joint from its input, every other joint as edited. `None` when the scene maps no

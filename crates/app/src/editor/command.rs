@@ -22,6 +22,7 @@ use super::state::{Dialog, EditorState, Level, StopSource, StopState, ToolsTab};
 use crate::scene::{Arrival, Device, GripperState, MoveKind, ProfileKind, Scene};
 use crate::task::RetimeSettings;
 
+mod inputs;
 mod pose;
 mod retime;
 mod sequence;
@@ -198,6 +199,9 @@ pub enum Command {
     Calibration(CalibrationCommand),
     /// Follow and jog (`follow.rs`).
     Follow(super::follow::FollowCommand),
+    /// Something for the input arm's form: add or remove an input or a point, type a number,
+    /// take a reading (`inputs_form.rs`); a valid result is one undo step.
+    Inputs(super::inputs_form::InputsCommand),
 }
 
 impl Command {
@@ -412,6 +416,7 @@ pub fn apply(
         Command::Playback(command) => state.playback_command(command),
         Command::Calibration(command) => calibration::apply(state, command, outside),
         Command::Follow(command) => super::follow::apply(state, command, outside),
+        Command::Inputs(command) => inputs::apply(state, command),
     }
 }
 

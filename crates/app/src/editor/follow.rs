@@ -51,7 +51,16 @@ pub const READINGS_SILENCE: Duration = Duration::from_millis(500);
 /// Shown when follow of the input arm is asked for with no input arm to follow.
 pub const NO_INPUT_ARM_TO_FOLLOW: &str = "no input arm to follow: connect a device that sends \
                                           analog readings (protocol 3) and map its inputs to \
-                                          joints in the scene's \"inputs\"";
+                                          joints in the scene's \"inputs\" (Arm tab, \"Input \
+                                          arm\")";
+
+/// Shown when a jog key or button is pressed while the device follows the input arm. Jogging
+/// then moves nothing: the edited pose is not what the arm follows, and switching follow back
+/// to it would send the arm on a move nobody asked for, from the input arm's pose to the edited
+/// one (so the keys are refused rather than turned into a switch).
+pub const JOG_WHILE_FOLLOWING_INPUTS: &str = "jog keys move nothing while the device follows \
+                                              the input arm (move the input arm instead); turn \
+                                              on \"Follow the edited pose\" to jog";
 
 /// What the device follows.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
@@ -164,6 +173,7 @@ pub(crate) fn apply(state: &mut EditorState, command: FollowCommand, outside: &m
                 state.follow.tool_step_mm = step.clamp(0.01, 100.0);
             }
         }
+        FollowCommand::Jog(_) if refuse_jog(state) => {}
         FollowCommand::Jog(steps) => {
             let joint = state.follow.jog_joint;
             if let Some(&now) = state.pose.get(joint)
@@ -183,6 +193,28 @@ pub(crate) fn apply(state: &mut EditorState, command: FollowCommand, outside: &m
             }
         }
     }
+}
+
+/// Whether jogging is refused: the device follows the input arm, so the jog keys (joint and tool
+/// point) and buttons must not move the edited pose.
+pub fn jog_refused(state: &EditorState) -> bool {
+    state.follow.on && state.follow.source == FollowSource::InputArm
+}
+
+/// When jogging is refused, says why (once while it is the newest message, so held keys do not
+/// fill the status bar) and returns `true`.
+pub(crate) fn refuse_jog(state: &mut EditorState) -> bool {
+    if !jog_refused(state) {
+        return false;
+    }
+    let said = state
+        .messages
+        .last()
+        .is_some_and(|message| message.text == JOG_WHILE_FOLLOWING_INPUTS);
+    if !said {
+        state.say(Level::Warning, JOG_WHILE_FOLLOWING_INPUTS);
+    }
+    true
 }
 
 /// Turns follow of `source` on: starts a run, or — already following the other source — asks

@@ -6,6 +6,7 @@
 //! of the same arm setting, merge into one step.
 
 use super::arm_form::ArmField;
+use super::inputs_form::InputField;
 use crate::scene::Scene;
 
 /// Most undo steps kept.
@@ -39,6 +40,8 @@ pub(crate) enum EditKey {
     Arm(ArmField),
     /// The scene's description.
     Description,
+    /// One number of the input arm's form.
+    Inputs(InputField),
 }
 
 impl History {

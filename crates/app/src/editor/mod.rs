@@ -15,6 +15,7 @@
 //! pose, and jog; `dry_run_marks.rs` the contacts and unsettled stops the
 //! views, the timeline and the sequence mark; `playback.rs` the timeline's cursor and playback;
 //! `capture.rs` the input arm from the device's analog inputs and capturing its pose;
+//! `inputs_form.rs` the input arm's form (the scene's `inputs` as typed);
 //! `panels/` one file per panel; `views/` the two to-scale views; `waypoint_name.rs` the names
 //! a stored waypoint gets. This file is the shell:
 //! [`Editor::logic`] handles what must run whatever is on screen (the emergency-stop key first),
@@ -31,6 +32,7 @@ mod estop;
 mod files;
 pub(crate) mod follow;
 mod history;
+mod inputs_form;
 mod message;
 mod panels;
 mod playback;
@@ -57,11 +59,13 @@ pub use dry_run_marks::{ContactMark, DryRunMarks, Solid, UnsettledMark, placemen
 pub use estop::{ChannelStopLink, STOP_KEY, STOP_KEY_NAME, StopLink, StopRequest};
 pub use follow::{
     DEFAULT_FOLLOW_SHARE_PCT, FollowAction, FollowCommand, FollowPhase, FollowSettings,
-    FollowSource, FollowView,
+    FollowSource, FollowView, JOG_WHILE_FOLLOWING_INPUTS, jog_refused,
 };
+pub use inputs_form::{InputField, InputRow, InputsCommand, InputsForm, PointText, place_in_form};
 pub use panels::{
     ACKNOWLEDGE_LABEL, CAUTION, EMERGENCY_STOP_LABEL, MOVED_LABEL, NUDGE_KEYS, PARK_LABEL,
 };
+pub use panels::{ADD_INPUT_LABEL, TAKE_LABEL};
 pub use panels::{FOLLOW_INPUT_LABEL, FOLLOW_LABEL, JOG_BACK_KEY, JOG_KEYS, JOG_ON_KEY};
 pub use playback::{AtEnd, DryRunStatus, Playback, PlaybackCommand, SPEEDS, Timeline};
 pub use recovery::{Recovery, RecoveryCopy};
@@ -480,6 +484,9 @@ impl Editor {
                 }
             }
         });
+        if step_mm != [0.0; 3] && follow::refuse_jog(&mut self.state) {
+            return;
+        }
         if step_mm != [0.0; 3]
             && let Some(point) = self.state.tool_point()
         {
@@ -564,7 +571,9 @@ impl Editor {
         let info = view.connection.as_ref().map(|connection| connection.info);
         self.state.calibration.device = info;
         self.timeline_plot.set_device(output.zip(info));
-        let wanted = !self.state.scene.inputs.is_empty();
+        // Wanted while the input arm's form has a row too: its first points take readings.
+        let wanted = !self.state.scene.inputs.is_empty()
+            || self.state.inputs_form.has_rows(&self.state.scene);
         if wanted != self.readings_wanted {
             self.readings_wanted = wanted;
             self.request_link(LinkAction::Readings(wanted));
@@ -688,7 +697,8 @@ impl Editor {
                     .show(ui, |ui| match self.state.tools_tab {
                         ToolsTab::Link => panels::link(ui, &self.state, self.device.view()),
                         ToolsTab::Retime => panels::retime(ui, &self.state),
-                        ToolsTab::Arm => panels::arm_settings(ui, &self.state),
+                        ToolsTab::Arm => panels::arm_settings(ui, &self.state)
+                            .then(panels::inputs(ui, &self.state, self.device.view())),
                         ToolsTab::Calibrate => {
                             panels::calibration(ui, &self.state, self.device.view())
                         }

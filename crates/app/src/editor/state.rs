@@ -15,6 +15,7 @@ use super::calibration::Calibrating;
 use super::dry_run_marks::DryRunMarks;
 use super::follow::FollowSettings;
 use super::history::History;
+use super::inputs_form::InputsForm;
 pub use super::message::{Level, Message};
 use super::playback::{CursorPose, Playback, PlaybackCommand, Timeline};
 use super::retime_job::RetimeState;
@@ -196,6 +197,8 @@ pub struct EditorState {
     pub retime: RetimeState,
     /// The arm settings form: typed text and its problems.
     pub arm_form: ArmForm,
+    /// The input arm's form: the scene's inputs as typed and their problems.
+    pub inputs_form: InputsForm,
     /// The timeline: the newest plan and dry run, the time cursor and playback.
     pub playback: Playback,
     /// The calibration panel: the joint, the pulse held, the points read, the fit.
@@ -242,6 +245,7 @@ impl EditorState {
             device_pose: None,
             input_pose: None,
             arm_form: ArmForm::default(),
+            inputs_form: InputsForm::default(),
             playback: Playback::default(),
             calibration: Calibrating::default(),
             follow: FollowSettings::default(),

@@ -2,11 +2,14 @@
 //! their speed share, what the device is doing, the jog steps and the keys that jog; and
 //! [`jog_keys`], which reads those keys.
 
-use egui::{DragValue, Key, Modifiers, RichText, Slider, Ui};
+use egui::{Color32, DragValue, Key, Modifiers, RichText, Slider, Ui};
 
 use crate::editor::command::Command;
 use crate::editor::device::LinkView;
-use crate::editor::follow::{FOLLOW_SHARE_RANGE_PCT, FollowCommand, FollowPhase, FollowSource};
+use crate::editor::follow::{
+    FOLLOW_SHARE_RANGE_PCT, FollowCommand, FollowPhase, FollowSource, JOG_WHILE_FOLLOWING_INPUTS,
+    jog_refused,
+};
 use crate::editor::state::{EditorState, StopState};
 
 use super::link::caution_box;
@@ -85,7 +88,7 @@ pub fn follow(ui: &mut Ui, state: &EditorState, view: &LinkView) -> Command {
         )
         .on_disabled_hover_text(
             "needs the caution acknowledged, a device that sends analog readings and the \
-             scene's \"inputs\" mapped to joints",
+             scene's \"inputs\" mapped to joints (Arm tab, \"Input arm\")",
         );
     if switch.changed() {
         command = Command::Follow(FollowCommand::InputArm(on));
@@ -179,12 +182,19 @@ pub fn follow(ui: &mut Ui, state: &EditorState, view: &LinkView) -> Command {
             }
             ui.end_row();
         });
+    let refused = jog_refused(state);
+    if refused {
+        ui.colored_label(Color32::from_rgb(230, 159, 0), JOG_WHILE_FOLLOWING_INPUTS);
+    }
     ui.horizontal(|ui| {
-        if ui.button("Jog back").clicked() {
-            command = Command::Follow(FollowCommand::Jog(-1.0));
-        }
-        if ui.button("Jog on").clicked() {
-            command = Command::Follow(FollowCommand::Jog(1.0));
+        for (label, steps) in [("Jog back", -1.0), ("Jog on", 1.0)] {
+            if ui
+                .add_enabled(!refused, egui::Button::new(label))
+                .on_disabled_hover_text(JOG_WHILE_FOLLOWING_INPUTS)
+                .clicked()
+            {
+                command = Command::Follow(FollowCommand::Jog(steps));
+            }
         }
     });
     ui.label(RichText::new("Keys (no field focused)").strong());

@@ -7,13 +7,15 @@
 //! playback), `status_bar.rs` (messages and cautions), `dialogs.rs` (questions shown over the
 //! window, never over the emergency stop); the tools panel's tabs `link.rs` (the device:
 //! connect, caution, stream, statistics), `retime.rs`, `arm_settings.rs`, `calibration.rs` (step
-//! a joint's pulse, record the positions read, the fit, the deadband search, apply) and `follow.rs`
-//! (the Follow switch, its speed share, jog steps and keys).
+//! a joint's pulse, record the positions read, the fit, the deadband search, apply), `follow.rs`
+//! (the Follow switch, its speed share, jog steps and keys) and `inputs.rs` (the input arm's
+//! form, at the foot of the Arm tab).
 
 mod arm_settings;
 mod calibration;
 mod dialogs;
 mod follow;
+mod inputs;
 mod joint_controls;
 mod link;
 mod retime;
@@ -30,6 +32,7 @@ pub use dialogs::dialogs;
 pub use follow::{
     FOLLOW_INPUT_LABEL, FOLLOW_LABEL, JOG_BACK_KEY, JOG_KEYS, JOG_ON_KEY, follow, jog_keys,
 };
+pub use inputs::{ADD_INPUT_LABEL, TAKE_LABEL, inputs};
 pub use joint_controls::joint_controls;
 pub use link::{ACKNOWLEDGE_LABEL, PARK_LABEL, link};
 pub use retime::retime;
