@@ -20,3 +20,13 @@ pub struct Message {
     /// What happened, in words.
     pub text: String,
 }
+
+impl Message {
+    /// A line of this level.
+    pub fn new(level: Level, text: impl Into<String>) -> Message {
+        Message {
+            level,
+            text: text.into(),
+        }
+    }
+}

@@ -20,6 +20,7 @@
 //! [`Editor::logic`] handles what must run whatever is on screen (the emergency-stop key first),
 //! [`Editor::ui`] draws the panels and applies their commands after the frame.
 
+mod arm_context;
 mod arm_form;
 mod calibration;
 mod capture;
@@ -54,7 +55,9 @@ pub use device::{
     StreamPhase,
 };
 pub use dry_run_marks::{ContactMark, DryRunMarks, Solid, UnsettledMark, placement_text};
-pub use estop::{ChannelStopLink, STOP_KEY, STOP_KEY_NAME, StopLink, StopRequest};
+pub use estop::{
+    ChannelStopLink, STOP_KEY, STOP_KEY_NAME, StopLink, StopRequest, StopSource, StopState,
+};
 pub use follow::{
     DEFAULT_FOLLOW_SHARE_PCT, FollowAction, FollowCommand, FollowPhase, FollowSettings,
     FollowSource, FollowView,
@@ -67,9 +70,7 @@ pub use playback::{AtEnd, DryRunStatus, Playback, PlaybackCommand, SPEEDS, Timel
 pub use recovery::{Recovery, RecoveryCopy};
 pub use retime_job::{RetimeReport, RetimeRun, RetimeState, RunFigures, WaypointFigures};
 pub use sample::sample_scene;
-pub use state::{
-    BranchChoice, Dialog, EditorState, Level, Message, ReachStatus, StopSource, StopState, ToolsTab,
-};
+pub use state::{BranchChoice, Dialog, EditorState, Level, Message, ReachStatus, ToolsTab};
 pub use traces::{GRID, MAX_BUCKETS, Quantity, Series, Traces, decimate};
 pub use views::{
     ArmOverlay, Camera, DEVICE, MapKey, MapLayer, OVER_RATING, Plane, Projection, ReachLayers,
@@ -431,7 +432,8 @@ impl Editor {
             self.apply(ctx, tick, frame);
             ctx.request_repaint_after(Duration::from_millis(100));
         }
-        follow::update(&mut self.state, &mut self.device);
+        let (around, follow_settings) = self.state.follow_parts();
+        follow::update(follow_settings, &around, &mut self.device);
         // The side view keeps its plane while the primary button is down (a drag in either
         // view) and turns when it is released; its reach maps are made for the plane it shows.
         let pressed = ctx.input(|input| input.pointer.primary_down());
@@ -750,7 +752,10 @@ impl Editor {
     /// Applies one command, carrying out file and window work it leaves.
     pub fn apply(&mut self, ctx: &egui::Context, command: Command, frame: u64) {
         if command == Command::StoreWaypoint {
-            follow::take_arm_pose(&mut self.state, &self.device);
+            let joints = self.state.pose.len();
+            if let Some(pose) = follow::arm_pose(&self.state.follow, &self.device, joints) {
+                self.state.move_arm_to(pose);
+            }
         }
         let mut outside = Vec::new();
         let mut stops = StopPair {

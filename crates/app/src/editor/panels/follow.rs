@@ -6,8 +6,9 @@ use egui::{DragValue, Key, Modifiers, RichText, Slider, Ui};
 
 use crate::editor::command::Command;
 use crate::editor::device::LinkView;
+use crate::editor::estop::StopState;
 use crate::editor::follow::{FOLLOW_SHARE_RANGE_PCT, FollowCommand, FollowPhase, FollowSource};
-use crate::editor::state::{EditorState, StopState};
+use crate::editor::state::EditorState;
 
 use super::link::caution_box;
 
