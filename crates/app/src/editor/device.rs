@@ -28,6 +28,11 @@ use crate::task::plan_of;
 /// Setpoints queued ahead of the device: a pause takes effect within this many periods.
 const QUEUE_AHEAD: usize = 8;
 
+/// Readings lines a second the editor asks for while the scene maps inputs: enough for the
+/// input arm (`capture.rs`) to move smoothly on screen (the window redraws at most 30 times a
+/// second).
+pub const EDITOR_READINGS_HZ: u8 = 20;
+
 /// How long a held channel's pulse waits for the one before it to go out.
 const HOLD_WAIT: Duration = Duration::from_millis(500);
 
@@ -924,18 +929,14 @@ impl Worker {
         }
     }
 
-    /// Asks the link for analog readings at [`super::capture::EDITOR_READINGS_HZ`], or for none,
+    /// Asks the link for analog readings at [`EDITOR_READINGS_HZ`], or for none,
     /// as the editor wants; a device that cannot send them is left alone (nothing to show).
     fn ask_readings(&mut self) {
         let Some(link) = &self.link else { return };
         if link.device().protocol_version < 3 {
             return;
         }
-        let rate = if self.readings {
-            super::capture::EDITOR_READINGS_HZ
-        } else {
-            0
-        };
+        let rate = if self.readings { EDITOR_READINGS_HZ } else { 0 };
         if let Err(error) = link.request_readings(rate) {
             self.say(Report::Problem(format!(
                 "cannot read the analog inputs: {error}"

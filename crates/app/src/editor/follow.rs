@@ -42,7 +42,7 @@ pub const DEFAULT_FOLLOW_SHARE_PCT: f64 = 10.0;
 pub const FOLLOW_SHARE_RANGE_PCT: (f64, f64) = (1.0, 100.0);
 
 /// How long a run following the input arm waits for the next analog readings before it holds:
-/// ten readings lines at the editor's 20 a second (`capture::EDITOR_READINGS_HZ`), twice the
+/// ten readings lines at the editor's 20 a second (`device::EDITOR_READINGS_HZ`), twice the
 /// time the link waits before it calls a silent device lost (our choice). It is counted in the
 /// device's own acknowledged setpoints (this long of link frames), not on the host's clock, so
 /// a busy host that reads nothing for a while does not take it for lost readings.
