@@ -434,11 +434,14 @@ fn calibrate(state: &mut EditorState, command: CalibrationCommand, outside: &mut
 
 /// Applies a follow command to follow's settings; a jog moves the edited arm.
 fn follow_command(state: &mut EditorState, command: FollowCommand, outside: &mut Vec<Outside>) {
-    let (mut said, mut link) = (Vec::new(), Vec::new());
+    let (mut said, mut asks) = (Vec::new(), Vec::new());
     let (around, settings) = state.follow_parts();
-    let jogged = follow::apply(settings, &around, command, &mut said, &mut link);
+    let jogged = follow::apply(settings, &around, command, &mut said, &mut asks);
     state.say_all(said);
-    outside.extend(link.into_iter().map(Outside::Link));
+    outside.extend(
+        asks.into_iter()
+            .map(|ask| Outside::Link(LinkAction::Follow(ask))),
+    );
     if let Some(pose) = jogged {
         state.move_arm_to(pose);
     }

@@ -21,6 +21,7 @@ use armwright_trajectory::ServoModelOptions;
 
 use super::estop::{StopLink, StopRequest};
 use super::follow::{FollowAction, FollowPhase, FollowRun, FollowView};
+use super::message::Report;
 use crate::approach::stream_plan;
 use crate::scene::{Device, Scene};
 use crate::task::plan_of;
@@ -177,15 +178,6 @@ pub struct LinkView {
     pub arm_changed: bool,
     /// Where follow stands and the follower's pose.
     pub follow: FollowView,
-}
-
-/// Something the worker reports; the editor turns messages into status lines.
-#[derive(Debug)]
-pub(crate) enum Report {
-    /// Information for the status bar.
-    Info(String),
-    /// A problem for the status bar.
-    Problem(String),
 }
 
 /// The stop handle of the link open now, shared by the UI's stop path and the worker.

@@ -25,8 +25,7 @@ use armwright_link::{DeviceInfo, Link, LinkError, LinkState, device_setpoints};
 use armwright_trajectory::{FollowJoint, Follower, Sample, limits_from_arm};
 
 use super::arm_context::ArmContext;
-use super::device::{DeviceLink, LinkAction, Report};
-use super::message::{Level, Message};
+use super::message::{Level, Message, Report};
 use crate::scene::{GripperState, Scene};
 use crate::task::{limit_settings_of, servo_model_of};
 
@@ -129,24 +128,24 @@ pub enum FollowCommand {
 }
 
 /// Applies a follow command to the session's settings `follow`, reading the editor `around`
-/// them; turning follow on or off and a new share go to the device link's worker through
-/// `link`, messages to `said`. A jog returns the pose the editor takes.
+/// them; turning follow on or off and a new share are for the device link's worker, in `asks`,
+/// messages go to `said`. A jog returns the pose the editor takes.
 pub(crate) fn apply(
     follow: &mut FollowSettings,
     around: &ArmContext<'_>,
     command: FollowCommand,
     said: &mut Vec<Message>,
-    link: &mut Vec<LinkAction>,
+    asks: &mut Vec<FollowAction>,
 ) -> Option<Vec<f64>> {
     match command {
         FollowCommand::Switch(true) => {
-            switch_on(follow, around, FollowSource::EditedPose, said, link)
+            switch_on(follow, around, FollowSource::EditedPose, said, asks)
         }
         FollowCommand::InputArm(true) if around.input_pose.is_none() => {
             said.push(Message::new(Level::Warning, NO_INPUT_ARM_TO_FOLLOW));
         }
         FollowCommand::InputArm(true) => {
-            switch_on(follow, around, FollowSource::InputArm, said, link)
+            switch_on(follow, around, FollowSource::InputArm, said, asks)
         }
         FollowCommand::Switch(false) | FollowCommand::InputArm(false) => follow.on = false,
         FollowCommand::SharePct(pct) => {
@@ -154,9 +153,7 @@ pub(crate) fn apply(
                 let (low, high) = FOLLOW_SHARE_RANGE_PCT;
                 follow.share_pct = pct.clamp(low, high);
                 if follow.on {
-                    link.push(LinkAction::Follow(FollowAction::Share(
-                        follow.share_pct / 100.0,
-                    )));
+                    asks.push(FollowAction::Share(follow.share_pct / 100.0));
                 }
             }
         }
@@ -202,7 +199,7 @@ fn switch_on(
     around: &ArmContext<'_>,
     source: FollowSource,
     said: &mut Vec<Message>,
-    link: &mut Vec<LinkAction>,
+    asks: &mut Vec<FollowAction>,
 ) {
     if follow.on && follow.source == source {
         return;
@@ -214,7 +211,7 @@ fn switch_on(
             follow.source = source;
             follow.sent = None;
             follow.leave_sent = false;
-            link.push(LinkAction::Follow(action));
+            asks.push(action);
         }
     }
 }
@@ -263,16 +260,15 @@ fn input_target(around: &ArmContext<'_>) -> Option<Vec<f64>> {
     )
 }
 
-/// Every frame: hands the edited pose (or the input arm's) to the worker as the target while
-/// following, turns follow off when the worker ended the run (stop, lost link, refusal), when
-/// it holds for want of readings, or when a stop is latched, and asks the worker to leave a run
-/// it shows once follow is off.
+/// Every frame, with the worker's follow `view`: what to ask of the worker — the edited pose
+/// (or the input arm's) as the target while following, or to leave a run it shows once follow
+/// is off. Turns follow off when the worker ended the run (stop, lost link, refusal), when it
+/// holds for want of readings, or when a stop is latched.
 pub(crate) fn update(
     follow: &mut FollowSettings,
     around: &ArmContext<'_>,
-    device: &mut DeviceLink,
-) {
-    let view = &device.view().follow;
+    view: &FollowView,
+) -> Option<FollowAction> {
     if view.ended > follow.ended_seen {
         follow.ended_seen = view.ended;
         follow.on = false;
@@ -295,47 +291,35 @@ pub(crate) fn update(
         follow.sent = None;
         if view.phase == FollowPhase::Following && !follow.leave_sent {
             follow.leave_sent = true;
-            device.request(
-                LinkAction::Follow(FollowAction::Leave),
-                around.scene,
-                around.arm,
-                around.pose,
-            );
+            return Some(FollowAction::Leave);
         }
-        return;
+        return None;
     }
     let pose = match follow.source {
         FollowSource::EditedPose => around.pose.to_vec(),
         // No input arm this frame (readings not mapped yet): the target stays.
-        FollowSource::InputArm => match input_target(around) {
-            Some(pose) => pose,
-            None => return,
-        },
+        FollowSource::InputArm => input_target(around)?,
     };
     let wanted = (pose, around.gripper == GripperState::Closed);
-    if follow.sent.as_ref() != Some(&wanted) {
-        device.request(
-            LinkAction::Follow(FollowAction::Target {
-                pose: wanted.0.clone(),
-                gripper_closed: wanted.1,
-            }),
-            around.scene,
-            around.arm,
-            around.pose,
-        );
-        follow.sent = Some(wanted);
+    if follow.sent.as_ref() == Some(&wanted) {
+        return None;
     }
+    let action = FollowAction::Target {
+        pose: wanted.0.clone(),
+        gripper_closed: wanted.1,
+    };
+    follow.sent = Some(wanted);
+    Some(action)
 }
 
 /// Before "Store pose" while the device follows: what the arm is doing — the follower's pose
-/// now, for `joints` joints — for the edited pose to become, so that pose is what is stored;
-/// `None` when not following.
+/// now in the worker's `view`, for `joints` joints — for the edited pose to become, so that
+/// pose is what is stored; `None` when not following.
 pub(crate) fn arm_pose(
     follow: &FollowSettings,
-    device: &DeviceLink,
+    view: &FollowView,
     joints: usize,
 ) -> Option<Vec<f64>> {
-    let view = &device.view().follow;
     (follow.on && view.phase == FollowPhase::Following && view.positions.len() == joints)
         .then(|| view.positions.clone())
 }

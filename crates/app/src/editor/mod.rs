@@ -86,6 +86,7 @@ use egui::{CentralPanel, Event, Key, Modifiers, Panel, Rect, ScrollArea, UiBuild
 use dry_run_job::DryRunJob;
 use estop::StopPair;
 use files::{FileResult, FileWorker, pick_file, problem_lines};
+use message::Report;
 use panels::TimelinePlot;
 use retime_job::RetimeWorker;
 
@@ -433,7 +434,10 @@ impl Editor {
             ctx.request_repaint_after(Duration::from_millis(100));
         }
         let (around, follow_settings) = self.state.follow_parts();
-        follow::update(follow_settings, &around, &mut self.device);
+        let asked = follow::update(follow_settings, &around, &self.device.view().follow);
+        if let Some(action) = asked {
+            self.request_link(LinkAction::Follow(action));
+        }
         // The side view keeps its plane while the primary button is down (a drag in either
         // view) and turns when it is released; its reach maps are made for the plane it shows.
         let pressed = ctx.input(|input| input.pointer.primary_down());
@@ -538,8 +542,8 @@ impl Editor {
         self.device.wake(ctx);
         for report in self.device.poll(self.state.arm.as_ref()) {
             match report {
-                device::Report::Info(text) => self.state.say(Level::Info, text),
-                device::Report::Problem(text) => self.state.say(Level::Error, text),
+                Report::Info(text) => self.state.say(Level::Info, text),
+                Report::Problem(text) => self.state.say(Level::Error, text),
             }
         }
         self.state.device_pose = self.device.simulated_arm_pose();
@@ -753,7 +757,8 @@ impl Editor {
     pub fn apply(&mut self, ctx: &egui::Context, command: Command, frame: u64) {
         if command == Command::StoreWaypoint {
             let joints = self.state.pose.len();
-            if let Some(pose) = follow::arm_pose(&self.state.follow, &self.device, joints) {
+            let view = &self.device.view().follow;
+            if let Some(pose) = follow::arm_pose(&self.state.follow, view, joints) {
                 self.state.move_arm_to(pose);
             }
         }
