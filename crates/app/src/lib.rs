@@ -9,5 +9,7 @@
 pub mod approach; // how every stream starts (wake, approach) and may end (park), as setpoints
 pub mod cli; // the `armwright` subcommands (listed by `armwright --help`)
 pub mod editor; // the desktop editor: views, joints, sequence, files, emergency stop
+pub mod placement; // placement success per pick and place, with the scene's tolerances
 pub mod scene; // the scene document: types, load, validate, migrate, save, unit conversion
 pub mod task; // the scene's sequence as a trajectory task: plan, dry run, retime
+pub mod workcell; // the scene's workspace and arm as collision geometry, grips and carries

@@ -10,7 +10,8 @@ use armwright_trajectory::{
 use serde_json::{Value, json};
 
 use super::report::rounded;
-use crate::scene::{Scene, arm_shape_of, carried_of, exemptions_of, obstacles_of};
+use crate::scene::Scene;
+use crate::workcell::{arm_shape_of, carried_of, exemptions_of, obstacles_of};
 
 /// Which motion a clearance was looked at along.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]

@@ -19,7 +19,8 @@ use super::clearance::{Motion, SceneCell, any_contact};
 use super::plan::{TORQUE_INTERVAL, approach_json, load_and_plan};
 use super::report::{TORQUE_BASIS, all_rounded, fail, print_json, rounded};
 use crate::approach::approach_note;
-use crate::scene::{Arrival, Placement, Scene, placements_of, position_to_file_unit};
+use crate::placement::{Placement, placements_of};
+use crate::scene::{Arrival, Scene, position_to_file_unit};
 use crate::task::dry_run_of;
 
 pub(crate) fn run(file: &Path, json: bool) -> Outcome {

@@ -9,13 +9,13 @@
 use armwright_kinematics::{CalibrationFit, CalibrationReading, fit_calibration, sent_pulse};
 use armwright_link::{DeviceInfo, arm_setpoint};
 
-use super::command::{Outside, edit};
+use super::arm_context::ArmContext;
 use super::device::{ChannelPulse, LinkAction};
-use super::state::{EditorState, Level, StopState};
+use super::message::{Level, Message};
 use crate::cli::calibrate::{
     DEADBAND_SEARCH_LIMIT_US, fit_options, fitted_points, fitted_uncertainty, si_per_file_unit,
 };
-use crate::scene::{GripperState, JointKindDoc, validate};
+use crate::scene::{GripperState, JointKindDoc, Scene, validate};
 
 /// The pulse steps offered, in µs.
 pub const PULSE_STEPS_US: [f64; 3] = [1.0, 10.0, 50.0];
@@ -139,8 +139,8 @@ impl Calibrating {
 
     /// The pulse range the joint's channel may be stepped through, in µs: the servo's
     /// accepted range from the scene within the device's.
-    pub fn safe_range_us(&self, state: &EditorState) -> Option<(f64, f64)> {
-        let calibration = &state.scene.arm.joints.get(self.joint)?.calibration;
+    pub fn safe_range_us(&self, scene: &Scene) -> Option<(f64, f64)> {
+        let calibration = &scene.arm.joints.get(self.joint)?.calibration;
         let (mut low, mut high) = (
             f64::from(calibration.pulse_min_us),
             f64::from(calibration.pulse_max_us),
@@ -153,17 +153,31 @@ impl Calibrating {
     }
 }
 
-/// Applies one calibration command.
+/// The fitted calibration Apply writes: the scene with it, for the editor to take as one undo
+/// step, and what to say then.
+#[derive(Debug, Clone, PartialEq)]
+pub(crate) struct AppliedFit {
+    /// The scene with the joint's new calibration (and deadband).
+    pub scene: Scene,
+    /// What was applied, in words.
+    pub message: String,
+}
+
+/// Applies one calibration command to the panel's state `calibrating`, reading the editor
+/// `around` it. Messages go to `said`, pulses to send to `link`; Apply returns the scene with
+/// the fit for the editor to take.
 pub(crate) fn apply(
-    state: &mut EditorState,
+    calibrating: &mut Calibrating,
+    around: &ArmContext<'_>,
     command: CalibrationCommand,
-    outside: &mut Vec<Outside>,
-) {
+    said: &mut Vec<Message>,
+    link: &mut Vec<LinkAction>,
+) -> Option<AppliedFit> {
     match command {
         CalibrationCommand::ChooseJoint(joint) => {
-            if joint < state.joint_count() && joint != state.calibration.joint {
-                let device = state.calibration.device;
-                state.calibration = Calibrating {
+            if joint < around.scene.arm.joints.len() && joint != calibrating.joint {
+                let device = calibrating.device;
+                *calibrating = Calibrating {
                     joint,
                     device,
                     ..Calibrating::default()
@@ -171,158 +185,176 @@ pub(crate) fn apply(
             }
         }
         CalibrationCommand::HoldAtPose => {
-            let joint = state.calibration.joint;
-            let wanted = state
-                .arm()
+            let joint = calibrating.joint;
+            let wanted = around
+                .arm
                 .and_then(|arm| arm.joints().get(joint))
-                .zip(state.pose.get(joint))
+                .zip(around.pose.get(joint))
                 .map(|(spec, &position)| spec.calibration.pulse_us(position));
             match wanted {
-                Some(wanted) => send(state, wanted, outside),
-                None => state.say(Level::Warning, "the arm cannot be built: nothing to hold"),
+                Some(wanted) => send(calibrating, around, wanted, said, link),
+                None => said.push(Message::new(
+                    Level::Warning,
+                    "the arm cannot be built: nothing to hold",
+                )),
             }
         }
-        CalibrationCommand::Step(step_us) => match state.calibration.held_pulse_us {
-            Some(held) => send(state, held + step_us, outside),
-            None => state.say(
+        CalibrationCommand::Step(step_us) => match calibrating.held_pulse_us {
+            Some(held) => send(calibrating, around, held + step_us, said, link),
+            None => said.push(Message::new(
                 Level::Warning,
                 "hold the joint first: its pulse is not known until this tool sends one",
-            ),
+            )),
         },
-        CalibrationCommand::TypePosition(text) => state.calibration.typed = text,
-        CalibrationCommand::Record => record(state),
+        CalibrationCommand::TypePosition(text) => calibrating.typed = text,
+        CalibrationCommand::Record => record(calibrating, around.scene, said),
         CalibrationCommand::Remove(index) => {
-            if index < state.calibration.points.len() {
-                state.calibration.points.remove(index);
-                refit(state);
+            if index < calibrating.points.len() {
+                calibrating.points.remove(index);
+                refit(calibrating, around.scene);
             }
         }
-        CalibrationCommand::StartDeadband => match state.calibration.held_pulse_us {
+        CalibrationCommand::StartDeadband => match calibrating.held_pulse_us {
             Some(held) => {
-                state.calibration.deadband = DeadbandSearch::Stepping {
+                calibrating.deadband = DeadbandSearch::Stepping {
                     leg: SearchLeg::TakeUp,
                     from_us: held,
                     next_step_s: None,
                     widths_us: Vec::new(),
                 };
             }
-            None => state.say(
+            None => said.push(Message::new(
                 Level::Warning,
                 "hold the joint first, then look for the deadband",
-            ),
+            )),
         },
-        CalibrationCommand::Moved => moved(state),
-        CalibrationCommand::CancelDeadband => state.calibration.deadband = DeadbandSearch::Idle,
-        CalibrationCommand::Tick(now_s) => tick(state, now_s, outside),
-        CalibrationCommand::Apply => apply_fit(state),
+        CalibrationCommand::Moved => moved(calibrating),
+        CalibrationCommand::CancelDeadband => calibrating.deadband = DeadbandSearch::Idle,
+        CalibrationCommand::Tick(now_s) => tick(calibrating, around, now_s, said, link),
+        CalibrationCommand::Apply => return apply_fit(calibrating, around, said),
     }
+    None
 }
 
 /// Sends `wanted_us` on the joint's channel through the pulse rule (the device's unit, the
 /// servo's safe range), unless hardware may not move now.
-fn send(state: &mut EditorState, wanted_us: f64, outside: &mut Vec<Outside>) {
-    let Some(device) = state.calibration.device else {
-        state.say(Level::Warning, "connect a device first (the Link tab)");
+fn send(
+    calibrating: &mut Calibrating,
+    around: &ArmContext<'_>,
+    wanted_us: f64,
+    said: &mut Vec<Message>,
+    link: &mut Vec<LinkAction>,
+) {
+    let Some(device) = calibrating.device else {
+        said.push(Message::new(
+            Level::Warning,
+            "connect a device first (the Link tab)",
+        ));
         return;
     };
-    if !state.caution_acknowledged {
-        state.say(
+    if !around.caution_acknowledged {
+        said.push(Message::new(
             Level::Warning,
             "read and acknowledge the caution before the first pulse is sent",
-        );
+        ));
         return;
     }
-    if matches!(state.stop, StopState::Latched { .. }) {
-        state.say(
+    if around.stop_latched() {
+        said.push(Message::new(
             Level::Warning,
             "the emergency stop is latched: check the arm and reset the stop first",
-        );
+        ));
         return;
     }
-    let joint = state.calibration.joint;
-    let Some((low, high)) = state.calibration.safe_range_us(state) else {
-        state.say(
+    let joint = calibrating.joint;
+    let Some((low, high)) = calibrating.safe_range_us(around.scene) else {
+        said.push(Message::new(
             Level::Error,
             "the servo's pulse range and the device's do not overlap: nothing sent",
-        );
+        ));
         return;
     };
-    let Some(arm) = state.arm() else {
-        state.say(Level::Warning, "the arm cannot be built: nothing sent");
+    let Some(arm) = around.arm else {
+        said.push(Message::new(
+            Level::Warning,
+            "the arm cannot be built: nothing sent",
+        ));
         return;
     };
-    let gripper = match state.gripper {
+    let gripper = match around.gripper {
         GripperState::Open => 0.0,
         GripperState::Closed => 1.0,
     };
-    let fill = match arm_setpoint(arm, &state.pose, Some(gripper), &device) {
+    let fill = match arm_setpoint(arm, around.pose, Some(gripper), &device) {
         Ok(setpoint) => setpoint.values,
         Err(error) => {
-            state.say(Level::Error, format!("cannot send the pulse: {error}"));
+            said.push(Message::new(
+                Level::Error,
+                format!("cannot send the pulse: {error}"),
+            ));
             return;
         }
     };
     let sent = sent_pulse(wanted_us, device.us_from_units(1), low, high);
-    state.calibration.limited = sent.clamped.then(|| {
+    calibrating.limited = sent.clamped.then(|| {
         format!(
             "{wanted_us:.1} µs is outside the servo's safe range {low:.0}–{high:.0} µs (its \
              calibration's pulse_min_us and pulse_max_us, within the device's): held at {:.1} µs",
             sent.pulse_us
         )
     });
-    if let Some(limited) = state.calibration.limited.clone() {
-        state.say(Level::Warning, limited);
+    if let Some(limited) = calibrating.limited.clone() {
+        said.push(Message::new(Level::Warning, limited));
     }
-    state.calibration.held_pulse_us = Some(sent.pulse_us);
-    outside.push(Outside::Link(LinkAction::HoldChannel(ChannelPulse {
+    calibrating.held_pulse_us = Some(sent.pulse_us);
+    link.push(LinkAction::HoldChannel(ChannelPulse {
         channel: joint,
         pulse_us: sent.pulse_us,
         limp_fill: fill,
-    })));
+    }));
 }
 
-fn record(state: &mut EditorState) {
-    let Some(pulse_us) = state.calibration.held_pulse_us else {
-        state.say(
+fn record(calibrating: &mut Calibrating, scene: &Scene, said: &mut Vec<Message>) {
+    let Some(pulse_us) = calibrating.held_pulse_us else {
+        said.push(Message::new(
             Level::Warning,
             "hold the joint at a pulse before recording a point",
-        );
+        ));
         return;
     };
-    let text = state.calibration.typed.trim();
+    let text = calibrating.typed.trim();
     let number = text
         .trim_end_matches(['°', ' '])
         .trim_end_matches("mm")
         .trim();
     match number.parse::<f64>() {
         Ok(position) if position.is_finite() => {
-            state
-                .calibration
+            calibrating
                 .points
                 .push(MeasuredPosition { pulse_us, position });
-            state.calibration.typed.clear();
-            refit(state);
+            calibrating.typed.clear();
+            refit(calibrating, scene);
         }
         _ => {
             let message = format!("the position read, \"{text}\", is not a number");
-            state.say(Level::Warning, message);
+            said.push(Message::new(Level::Warning, message));
         }
     }
 }
 
 /// Fits the recorded points again (two or more).
-fn refit(state: &mut EditorState) {
-    let joint = state.calibration.joint;
-    let Some(&kind) = state.scene.arm.shape.joint_kinds().get(joint) else {
-        state.calibration.fit = None;
+fn refit(calibrating: &mut Calibrating, scene: &Scene) {
+    let joint = calibrating.joint;
+    let Some(&kind) = scene.arm.shape.joint_kinds().get(joint) else {
+        calibrating.fit = None;
         return;
     };
-    if state.calibration.points.len() < 2 {
-        state.calibration.fit = None;
+    if calibrating.points.len() < 2 {
+        calibrating.fit = None;
         return;
     }
-    let readings = readings_of(&state.calibration.points, kind);
-    state.calibration.fit =
+    let readings = readings_of(&calibrating.points, kind);
+    calibrating.fit =
         Some(fit_calibration(&readings, &fit_options(kind)).map_err(|error| error.to_string()));
 }
 
@@ -338,81 +370,87 @@ fn readings_of(points: &[MeasuredPosition], kind: JointKindDoc) -> Vec<Calibrati
         .collect()
 }
 
-fn tick(state: &mut EditorState, now_s: f64, outside: &mut Vec<Outside>) {
+fn tick(
+    calibrating: &mut Calibrating,
+    around: &ArmContext<'_>,
+    now_s: f64,
+    said: &mut Vec<Message>,
+    link: &mut Vec<LinkAction>,
+) {
     let DeadbandSearch::Stepping {
         leg,
         from_us,
         next_step_s,
         ..
-    } = state.calibration.deadband.clone()
+    } = calibrating.deadband.clone()
     else {
         return;
     };
-    if matches!(state.stop, StopState::Latched { .. }) {
-        state.calibration.deadband = DeadbandSearch::Idle;
-        state.say(
+    if around.stop_latched() {
+        calibrating.deadband = DeadbandSearch::Idle;
+        said.push(Message::new(
             Level::Warning,
             "deadband search ended by the emergency stop",
-        );
+        ));
         return;
     }
     let Some(due) = next_step_s else {
-        set_next_step(state, now_s + DEADBAND_STEP_S);
+        set_next_step(calibrating, now_s + DEADBAND_STEP_S);
         return;
     };
     if now_s < due {
         return;
     }
-    let Some(held) = state.calibration.held_pulse_us else {
-        state.calibration.deadband = DeadbandSearch::Idle;
+    let Some(held) = calibrating.held_pulse_us else {
+        calibrating.deadband = DeadbandSearch::Idle;
         return;
     };
     if (held - from_us).abs() >= DEADBAND_SEARCH_LIMIT_US {
-        state.calibration.deadband = DeadbandSearch::Idle;
-        state.say(
+        calibrating.deadband = DeadbandSearch::Idle;
+        said.push(Message::new(
             Level::Warning,
             format!(
                 "no movement seen within {DEADBAND_SEARCH_LIMIT_US:.0} µs: deadband search ended \
                  (is the servo powered?)"
             ),
-        );
+        ));
         return;
     }
-    let asked = outside.len();
-    send(state, held + leg.step_us(), outside);
-    if outside.len() == asked {
+    let asked = link.len();
+    send(calibrating, around, held + leg.step_us(), said, link);
+    if link.len() == asked {
         // Refused (no device, a stop latched): the reason is said; the search ends.
-        state.calibration.deadband = DeadbandSearch::Idle;
+        calibrating.deadband = DeadbandSearch::Idle;
         return;
     }
-    if state.calibration.limited.is_some() {
-        state.calibration.deadband = DeadbandSearch::Idle;
-        state.say(
+    if calibrating.limited.is_some() {
+        calibrating.deadband = DeadbandSearch::Idle;
+        said.push(Message::new(
             Level::Warning,
             "the deadband search reached the end of the safe range: step away from it and start again",
-        );
+        ));
         return;
     }
-    set_next_step(state, now_s + DEADBAND_STEP_S);
+    set_next_step(calibrating, now_s + DEADBAND_STEP_S);
 }
 
-fn set_next_step(state: &mut EditorState, at_s: f64) {
-    if let DeadbandSearch::Stepping { next_step_s, .. } = &mut state.calibration.deadband {
+fn set_next_step(calibrating: &mut Calibrating, at_s: f64) {
+    if let DeadbandSearch::Stepping { next_step_s, .. } = &mut calibrating.deadband {
         *next_step_s = Some(at_s);
     }
 }
 
-fn moved(state: &mut EditorState) {
+fn moved(calibrating: &mut Calibrating) {
     let DeadbandSearch::Stepping {
         leg,
         from_us,
         mut widths_us,
         ..
-    } = state.calibration.deadband.clone()
+    } = calibrating.deadband.clone()
     else {
         return;
     };
-    let Some(at) = state.calibration.held_pulse_us else {
+    let Some(at) = calibrating.held_pulse_us else {
         return;
     };
     let next_leg = match leg {
@@ -425,14 +463,14 @@ fn moved(state: &mut EditorState) {
             widths_us.push((at - from_us).abs());
             let widths_us = [widths_us[0], widths_us[widths_us.len() - 1]];
             let proposed_us = 0.5 * (widths_us[0] + widths_us[1]);
-            state.calibration.deadband = DeadbandSearch::Found {
+            calibrating.deadband = DeadbandSearch::Found {
                 widths_us,
                 proposed_us,
             };
             return;
         }
     };
-    state.calibration.deadband = DeadbandSearch::Stepping {
+    calibrating.deadband = DeadbandSearch::Stepping {
         leg: next_leg,
         from_us: at,
         next_step_s: None,
@@ -440,27 +478,30 @@ fn moved(state: &mut EditorState) {
     };
 }
 
-/// Writes the fit's straight line, its uncertainty (the line's residual standard error, as
-/// `armwright calibrate --write` records it; none from two points) and the deadband found, if
-/// any, into the scene's joint as one undo step, after checking the scene with it.
-fn apply_fit(state: &mut EditorState) {
-    let joint = state.calibration.joint;
-    let Some(Ok(fit)) = &state.calibration.fit else {
-        state.say(
+/// The scene with the fit's straight line, its uncertainty (the line's residual standard error,
+/// as `armwright calibrate --write` records it; none from two points) and the deadband found,
+/// if any, in the joint, after checking the scene with it; `None` (and why, in `said`) when
+/// there is nothing to apply or the scene would not be valid.
+fn apply_fit(
+    calibrating: &Calibrating,
+    around: &ArmContext<'_>,
+    said: &mut Vec<Message>,
+) -> Option<AppliedFit> {
+    let joint = calibrating.joint;
+    let Some(Ok(fit)) = &calibrating.fit else {
+        said.push(Message::new(
             Level::Warning,
             "record at least two points that fit before applying",
-        );
-        return;
+        ));
+        return None;
     };
-    let Some(&kind) = state.scene.arm.shape.joint_kinds().get(joint) else {
-        return;
-    };
-    let mut scene = state.scene.clone();
+    let &kind = around.scene.arm.shape.joint_kinds().get(joint)?;
+    let mut scene = around.scene.clone();
     let doc = &mut scene.arm.joints[joint];
     doc.calibration.points = fitted_points(fit, kind);
-    let uncertainty = fitted_uncertainty(fit, &readings_of(&state.calibration.points, kind), kind);
+    let uncertainty = fitted_uncertainty(fit, &readings_of(&calibrating.points, kind), kind);
     doc.calibration.uncertainty = uncertainty;
-    let deadband = match state.calibration.deadband {
+    let deadband = match calibrating.deadband {
         DeadbandSearch::Found { proposed_us, .. } => Some((proposed_us * 100.0).round() / 100.0),
         _ => None,
     };
@@ -469,11 +510,11 @@ fn apply_fit(state: &mut EditorState) {
     }
     let problems = validate(&scene);
     if let Some(first) = problems.first() {
-        state.say(
+        said.push(Message::new(
             Level::Error,
             format!("the fitted calibration makes the scene invalid, nothing applied: {first}"),
-        );
-        return;
+        ));
+        return None;
     }
     let (per, unit) = match kind {
         JointKindDoc::Revolute => ("degree", "°"),
@@ -481,7 +522,7 @@ fn apply_fit(state: &mut EditorState) {
     };
     let mut message = format!(
         "applied the calibration of {}: {:.3} µs per {per}, {:.1} µs at 0",
-        state.joint_label(joint),
+        around.joint_label(joint),
         fit.pulse_per_position_us() * si_per_file_unit(kind),
         fit.pulse_at_zero_us()
     );
@@ -492,133 +533,94 @@ fn apply_fit(state: &mut EditorState) {
         message.push_str(&format!(", deadband {deadband_us} µs"));
     }
     message.push_str(" (one undo step)");
-    edit(state, None, |state| state.scene = scene);
-    state.arm_changed();
-    state.arm_form.arm_replaced(&state.scene);
-    state.say(Level::Info, message);
+    Some(AppliedFit { scene, message })
 }
 
 #[cfg(test)]
 mod tests {
+    use armwright_kinematics::Arm;
+
     use super::*;
+    use crate::editor::estop::{StopSource, StopState};
     use crate::editor::sample::sample_scene;
+    use crate::scene::build_arm;
 
-    fn reading(state: &mut EditorState, pulse_us: f64, position: f64) {
-        state.calibration.held_pulse_us = Some(pulse_us);
-        state.calibration.typed = format!("{position}°");
-        record(state);
-    }
-
-    #[test]
-    fn points_are_fitted_and_applied_as_one_undo_step() {
-        let mut state = EditorState::new(sample_scene(), None);
-        for (pulse, degrees) in [
-            (1200.0, -30.5),
-            (1400.0, -10.0),
-            (1600.0, 10.5),
-            (1800.0, 30.0),
-        ] {
-            reading(&mut state, pulse, degrees);
+    /// The editor around the panel: the caution not yet acknowledged, no stop latched.
+    fn around<'a>(scene: &'a Scene, arm: Option<&'a Arm>, pose: &'a [f64]) -> ArmContext<'a> {
+        ArmContext {
+            scene,
+            arm,
+            pose,
+            gripper: GripperState::Open,
+            input_pose: None,
+            caution_acknowledged: false,
+            stop: StopState::Clear,
         }
-        let Some(Ok(fit)) = state.calibration.fit.clone() else {
-            panic!("{:?}", state.calibration.fit);
-        };
-        // Least-squares slope by the closed form (common practice statistics): Sxy / Sxx.
-        let xs = [1200.0, 1400.0, 1600.0, 1800.0];
-        let ys = [-30.5, -10.0, 10.5, 30.0];
-        let (mx, my) = (1500.0, 0.0);
-        let sxy: f64 = xs.iter().zip(ys).map(|(x, y)| (x - mx) * (y - my)).sum();
-        let sxx: f64 = xs.iter().map(|x| (x - mx) * (x - mx)).sum();
-        let per_degree = fit.pulse_per_position_us() * 1f64.to_radians();
-        assert!((per_degree - sxx / sxy).abs() < 1e-9, "{per_degree}");
-        let before = state.scene.clone();
-        state.calibration.deadband = DeadbandSearch::Found {
-            widths_us: [5.0, 6.0],
-            proposed_us: 5.5,
-        };
-        apply_fit(&mut state);
-        let joint = &state.scene.arm.joints[0];
-        assert_eq!(joint.calibration.points[0].pulse_us, 1200);
-        assert_eq!(joint.calibration.points[1].pulse_us, 1800);
-        assert_eq!(joint.servo.deadband_us, 5.5);
-        // The uncertainty is the line's residual standard error √(Σ r² / (n − 2)) (Draper &
-        // Smith, Applied Regression Analysis, 3rd ed., §1.4; from memory), r the degrees off
-        // the least-squares line, as `armwright calibrate --write` records it.
-        let slope = sxy / sxx;
-        let squares: f64 = xs
-            .iter()
-            .zip(ys)
-            .map(|(x, y)| (y - my - slope * (x - mx)).powi(2))
-            .sum();
-        let standard_error = (squares / 2.0).sqrt();
-        let recorded = joint.calibration.uncertainty.expect("an uncertainty");
-        assert!(
-            (recorded - standard_error).abs() <= 0.5e-4,
-            "{recorded} vs {standard_error}"
-        );
-        assert!(
-            state
-                .messages
-                .last()
-                .is_some_and(|m| m.text.contains(&format!("uncertainty {recorded}°"))),
-            "{:?}",
-            state.messages.last()
-        );
-        assert_ne!(state.scene, before);
-        let mut outside = Vec::new();
-        let (mut link, _requests) = crate::editor::estop::ChannelStopLink::new();
-        crate::editor::command::apply(
-            &mut state,
-            crate::editor::command::Command::Undo,
-            &mut link,
-            1,
-            &mut outside,
-        );
-        assert_eq!(state.scene, before);
-        assert!(!state.can_undo());
     }
 
     #[test]
     fn a_position_that_is_not_a_number_is_refused_and_named() {
-        let mut state = EditorState::new(sample_scene(), None);
-        state.calibration.held_pulse_us = Some(1500.0);
-        state.calibration.typed = "twelve".into();
-        record(&mut state);
-        assert!(state.calibration.points.is_empty());
-        let said = &state.messages.last().expect("a message").text;
+        let scene = sample_scene();
+        let mut calibrating = Calibrating {
+            held_pulse_us: Some(1500.0),
+            typed: "twelve".into(),
+            ..Calibrating::default()
+        };
+        let mut said = Vec::new();
+        record(&mut calibrating, &scene, &mut said);
+        assert!(calibrating.points.is_empty());
+        let said = &said.last().expect("a message").text;
         assert!(said.contains("\"twelve\""), "{said}");
     }
 
     #[test]
     fn the_search_proposes_the_mean_of_its_two_reversals() {
-        let mut state = EditorState::new(sample_scene(), None);
-        state.calibration.held_pulse_us = Some(1500.0);
-        let mut outside = Vec::new();
-        apply(&mut state, CalibrationCommand::StartDeadband, &mut outside);
+        let scene = sample_scene();
+        let around = around(&scene, None, &[]);
+        let mut calibrating = Calibrating {
+            held_pulse_us: Some(1500.0),
+            ..Calibrating::default()
+        };
+        let (mut said, mut link) = (Vec::new(), Vec::new());
+        let command = CalibrationCommand::StartDeadband;
+        let _ = apply(&mut calibrating, &around, command, &mut said, &mut link);
         // Moved after 2 µs up, then 5 µs down, then 6 µs up.
         for (steps, leg_step) in [(2, 1.0), (5, -1.0), (6, 1.0)] {
             for _ in 0..steps {
-                let held = state.calibration.held_pulse_us.expect("held");
-                state.calibration.held_pulse_us = Some(held + leg_step);
+                let held = calibrating.held_pulse_us.expect("held");
+                calibrating.held_pulse_us = Some(held + leg_step);
             }
-            apply(&mut state, CalibrationCommand::Moved, &mut outside);
+            let command = CalibrationCommand::Moved;
+            let _ = apply(&mut calibrating, &around, command, &mut said, &mut link);
         }
         assert_eq!(
-            state.calibration.deadband,
+            calibrating.deadband,
             DeadbandSearch::Found {
                 widths_us: [5.0, 6.0],
                 proposed_us: 5.5
             }
         );
+        assert!(said.is_empty() && link.is_empty());
     }
 
     #[test]
     fn no_pulse_is_sent_without_a_device_the_caution_or_with_the_stop_latched() {
-        let mut state = EditorState::new(sample_scene(), None);
-        let mut outside = Vec::new();
-        apply(&mut state, CalibrationCommand::HoldAtPose, &mut outside);
-        assert!(outside.is_empty());
-        state.calibration.device = Some(DeviceInfo {
+        let scene = sample_scene();
+        let arm = build_arm(&scene.arm).expect("the sample's arm");
+        let pose = arm.home_pose();
+        let mut around = around(&scene, Some(&arm), &pose);
+        let mut calibrating = Calibrating::default();
+        let (mut said, mut link) = (Vec::new(), Vec::new());
+        let hold = CalibrationCommand::HoldAtPose;
+        let _ = apply(
+            &mut calibrating,
+            &around,
+            hold.clone(),
+            &mut said,
+            &mut link,
+        );
+        assert!(link.is_empty());
+        calibrating.device = Some(DeviceInfo {
             protocol_version: 2,
             firmware: armwright_link::FirmwareVersion::default(),
             channel_count: 7,
@@ -627,24 +629,38 @@ mod tests {
             max_pulse_units: 2500,
             frame_period_us: 20000,
         });
-        apply(&mut state, CalibrationCommand::HoldAtPose, &mut outside);
-        assert!(outside.is_empty(), "the caution comes first");
-        state.caution_acknowledged = true;
-        state.stop = StopState::Latched {
-            source: crate::editor::state::StopSource::Key,
+        let _ = apply(
+            &mut calibrating,
+            &around,
+            hold.clone(),
+            &mut said,
+            &mut link,
+        );
+        assert!(link.is_empty(), "the caution comes first");
+        around.caution_acknowledged = true;
+        around.stop = StopState::Latched {
+            source: StopSource::Key,
             frame: 1,
         };
-        apply(&mut state, CalibrationCommand::HoldAtPose, &mut outside);
-        assert!(outside.is_empty(), "not while stopped");
-        state.stop = StopState::Clear;
-        apply(&mut state, CalibrationCommand::HoldAtPose, &mut outside);
-        assert_eq!(outside.len(), 1);
+        let _ = apply(
+            &mut calibrating,
+            &around,
+            hold.clone(),
+            &mut said,
+            &mut link,
+        );
+        assert!(link.is_empty(), "not while stopped");
+        around.stop = StopState::Clear;
+        let _ = apply(&mut calibrating, &around, hold, &mut said, &mut link);
+        assert_eq!(link.len(), 1);
         // Stepping far past the servo's range is held at its end, and said.
-        apply(&mut state, CalibrationCommand::Step(5000.0), &mut outside);
-        let (_, high) = state.calibration.safe_range_us(&state).expect("a range");
-        let servo_max = f64::from(state.scene.arm.joints[0].calibration.pulse_max_us);
+        let step = CalibrationCommand::Step(5000.0);
+        let _ = apply(&mut calibrating, &around, step, &mut said, &mut link);
+        let (_, high) = calibrating.safe_range_us(&scene).expect("a range");
+        let servo_max = f64::from(scene.arm.joints[0].calibration.pulse_max_us);
         assert_eq!(high, servo_max.min(2500.0));
-        assert_eq!(state.calibration.held_pulse_us, Some(high));
-        assert!(state.calibration.limited.is_some());
+        assert_eq!(calibrating.held_pulse_us, Some(high));
+        assert!(calibrating.limited.is_some());
+        assert!(said.last().is_some_and(|m| m.text.contains("safe range")));
     }
 }

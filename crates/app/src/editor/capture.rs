@@ -18,10 +18,6 @@ pub const CAPTURE_KEY_NAME: &str = "I";
 /// grey dry-run arm and the map's viridis ramp).
 pub const INPUT_ARM: Color32 = Color32::from_rgb(245, 180, 70);
 
-/// Readings lines a second the editor asks for while the scene maps inputs: enough for the
-/// input arm to move smoothly on screen (the window redraws at most 30 times a second).
-pub const EDITOR_READINGS_HZ: u8 = 20;
-
 /// Shown when the capture key finds no input arm.
 pub const NO_INPUT_ARM: &str = "no input arm to capture: connect a device that sends analog \
                                 readings (protocol 3) and map its inputs to joints in the \

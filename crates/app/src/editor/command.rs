@@ -13,12 +13,13 @@ use std::path::PathBuf;
 use armwright_link::ResetConfirmation;
 
 use super::arm_form::{ArmField, ArmTypeChoice, with_arm_type};
-use super::calibration::{self, CalibrationCommand};
+use super::calibration::{self, AppliedFit, CalibrationCommand};
 use super::device::LinkAction;
-use super::estop::{StopLink, StopRequest};
+use super::estop::{StopLink, StopRequest, StopSource, StopState};
+use super::follow::{self, FollowCommand};
 use super::history::{EditKey, Snapshot};
 use super::playback::PlaybackCommand;
-use super::state::{Dialog, EditorState, Level, StopSource, StopState, ToolsTab};
+use super::state::{Dialog, EditorState, Level, ToolsTab};
 use crate::scene::{Arrival, Device, GripperState, MoveKind, ProfileKind, Scene};
 use crate::task::RetimeSettings;
 
@@ -198,7 +199,7 @@ pub enum Command {
     /// the deadband, apply the fit (one undo step).
     Calibration(CalibrationCommand),
     /// Follow and jog (`follow.rs`).
-    Follow(super::follow::FollowCommand),
+    Follow(FollowCommand),
     /// Something for the input arm's form: add or remove an input or a point, type a number,
     /// take a reading (`inputs_form.rs`); a valid result is one undo step.
     Inputs(super::inputs_form::InputsCommand),
@@ -414,9 +415,43 @@ pub fn apply(
             }
         }
         Command::Playback(command) => state.playback_command(command),
-        Command::Calibration(command) => calibration::apply(state, command, outside),
-        Command::Follow(command) => super::follow::apply(state, command, outside),
+        Command::Calibration(command) => calibrate(state, command, outside),
+        Command::Follow(command) => follow_command(state, command, outside),
         Command::Inputs(command) => inputs::apply(state, command),
+    }
+}
+
+/// Applies a calibration command to the panel's part of the state; a fit applied is one undo
+/// step.
+fn calibrate(state: &mut EditorState, command: CalibrationCommand, outside: &mut Vec<Outside>) {
+    let (mut said, mut link) = (Vec::new(), Vec::new());
+    let (around, calibrating) = state.calibration_parts();
+    let applied = calibration::apply(calibrating, &around, command, &mut said, &mut link);
+    state.say_all(said);
+    outside.extend(link.into_iter().map(Outside::Link));
+    if let Some(AppliedFit { scene, message }) = applied {
+        edit(state, None, |state| state.scene = scene);
+        state.arm_changed();
+        state.arm_form.arm_replaced(&state.scene);
+        state.say(Level::Info, message);
+    }
+}
+
+/// Applies a follow command to follow's settings; a jog moves the edited arm.
+fn follow_command(state: &mut EditorState, command: FollowCommand, outside: &mut Vec<Outside>) {
+    if matches!(command, FollowCommand::Jog(_)) && state.refuse_jog() {
+        return;
+    }
+    let (mut said, mut asks) = (Vec::new(), Vec::new());
+    let (around, settings) = state.follow_parts();
+    let jogged = follow::apply(settings, &around, command, &mut said, &mut asks);
+    state.say_all(said);
+    outside.extend(
+        asks.into_iter()
+            .map(|ask| Outside::Link(LinkAction::Follow(ask))),
+    );
+    if let Some(pose) = jogged {
+        state.move_arm_to(pose);
     }
 }
 
@@ -490,6 +525,70 @@ mod tests {
         let mut outside = Vec::new();
         apply(state, command, &mut link, 7, &mut outside);
         outside
+    }
+
+    #[test]
+    fn calibration_points_are_fitted_and_applied_as_one_undo_step() {
+        let mut state = EditorState::new(sample_scene(), None);
+        for (pulse, degrees) in [
+            (1200.0, -30.5),
+            (1400.0, -10.0),
+            (1600.0, 10.5),
+            (1800.0, 30.0),
+        ] {
+            state.calibration.held_pulse_us = Some(pulse);
+            let typed = CalibrationCommand::TypePosition(format!("{degrees}°"));
+            let _ = run(&mut state, Command::Calibration(typed));
+            let _ = run(&mut state, Command::Calibration(CalibrationCommand::Record));
+        }
+        let Some(Ok(fit)) = state.calibration.fit.clone() else {
+            panic!("{:?}", state.calibration.fit);
+        };
+        // Least-squares slope by the closed form (common practice statistics): Sxy / Sxx.
+        let xs = [1200.0, 1400.0, 1600.0, 1800.0];
+        let ys = [-30.5, -10.0, 10.5, 30.0];
+        let (mx, my) = (1500.0, 0.0);
+        let sxy: f64 = xs.iter().zip(ys).map(|(x, y)| (x - mx) * (y - my)).sum();
+        let sxx: f64 = xs.iter().map(|x| (x - mx) * (x - mx)).sum();
+        let per_degree = fit.pulse_per_position_us() * 1f64.to_radians();
+        assert!((per_degree - sxx / sxy).abs() < 1e-9, "{per_degree}");
+        let before = state.scene.clone();
+        state.calibration.deadband = calibration::DeadbandSearch::Found {
+            widths_us: [5.0, 6.0],
+            proposed_us: 5.5,
+        };
+        let _ = run(&mut state, Command::Calibration(CalibrationCommand::Apply));
+        let joint = &state.scene.arm.joints[0];
+        assert_eq!(joint.calibration.points[0].pulse_us, 1200);
+        assert_eq!(joint.calibration.points[1].pulse_us, 1800);
+        assert_eq!(joint.servo.deadband_us, 5.5);
+        // The uncertainty is the line's residual standard error √(Σ r² / (n − 2)) (Draper &
+        // Smith, Applied Regression Analysis, 3rd ed., §1.4; from memory), r the degrees off
+        // the least-squares line, as `armwright calibrate --write` records it.
+        let slope = sxy / sxx;
+        let squares: f64 = xs
+            .iter()
+            .zip(ys)
+            .map(|(x, y)| (y - my - slope * (x - mx)).powi(2))
+            .sum();
+        let standard_error = (squares / 2.0).sqrt();
+        let recorded = joint.calibration.uncertainty.expect("an uncertainty");
+        assert!(
+            (recorded - standard_error).abs() <= 0.5e-4,
+            "{recorded} vs {standard_error}"
+        );
+        assert!(
+            state
+                .messages
+                .last()
+                .is_some_and(|m| m.text.contains(&format!("uncertainty {recorded}°"))),
+            "{:?}",
+            state.messages.last()
+        );
+        assert_ne!(state.scene, before);
+        let _ = run(&mut state, Command::Undo);
+        assert_eq!(state.scene, before);
+        assert!(!state.can_undo());
     }
 
     #[test]

@@ -22,12 +22,18 @@ use nalgebra::Vector3;
 
 use super::estop::{StopLink, StopRequest};
 use super::follow::{FollowAction, FollowPhase, FollowRun, FollowView};
+use super::message::Report;
 use crate::approach::stream_plan;
 use crate::scene::{Device, Scene};
 use crate::task::plan_of;
 
 /// Setpoints queued ahead of the device: a pause takes effect within this many periods.
 const QUEUE_AHEAD: usize = 8;
+
+/// Readings lines a second the editor asks for while the scene maps inputs: enough for the
+/// input arm (`capture.rs`) to move smoothly on screen (the window redraws at most 30 times a
+/// second).
+pub const EDITOR_READINGS_HZ: u8 = 20;
 
 /// How long a held channel's pulse waits for the one before it to go out.
 const HOLD_WAIT: Duration = Duration::from_millis(500);
@@ -192,15 +198,6 @@ pub struct LinkView {
     pub arm_changed: bool,
     /// Where follow stands and the follower's pose.
     pub follow: FollowView,
-}
-
-/// Something the worker reports; the editor turns messages into status lines.
-#[derive(Debug)]
-pub(crate) enum Report {
-    /// Information for the status bar.
-    Info(String),
-    /// A problem for the status bar.
-    Problem(String),
 }
 
 /// The stop handle of the link open now, shared by the UI's stop path and the worker.
@@ -995,18 +992,14 @@ impl Worker {
         }
     }
 
-    /// Asks the link for analog readings at [`super::capture::EDITOR_READINGS_HZ`], or for none,
+    /// Asks the link for analog readings at [`EDITOR_READINGS_HZ`], or for none,
     /// as the editor wants; a device that cannot send them is left alone (nothing to show).
     fn ask_readings(&mut self) {
         let Some(link) = &self.link else { return };
         if link.device().protocol_version < 3 {
             return;
         }
-        let rate = if self.readings {
-            super::capture::EDITOR_READINGS_HZ
-        } else {
-            0
-        };
+        let rate = if self.readings { EDITOR_READINGS_HZ } else { 0 };
         if let Err(error) = link.request_readings(rate) {
             self.say(Report::Problem(format!(
                 "cannot read the analog inputs: {error}"

@@ -1,26 +1,26 @@
 //! What the dry run found wrong, as the editor shows it: contacts (a link, or an object carried
 //! in the gripper, overlapping an obstacle or another link, along the commanded plan or the dry
 //! run) and stops where the arm has not settled. Both views shade a contact red at its pose —
-//! the link (or carried object) and what it hits — with a label and a tooltip naming both; the
-//! timeline marks each contact's time in red and each unsettled stop in amber, and lists them;
+//! the link (or carried object) and what it hits — with a label and a tooltip naming both
+//! (`views/contacts.rs`); the timeline marks each contact's time in red and each unsettled stop in amber, and lists them;
 //! the sequence marks an unsettled stop's row with its resting error.
 //!
 //! It also carries each pick or place's placement success (the share of placements within the
 //! waypoint's tolerance), which the sequence shows per waypoint and the retime panel at its worst.
 //!
 //! [`DryRunMarks::of`] runs on the dry-run worker with the same clearance check as `armwright
-//! simulate` (`cli/clearance.rs`) and the same placement estimate (`scene::placements_of`), so
+//! simulate` (`cli/clearance.rs`) and the same placement estimate (`placement::placements_of`), so
 //! the editor and the command line find the same contacts and the same shares.
 
 use armwright_kinematics::{Arm, CarriedBox, ObstacleShape, Other, forward};
 use armwright_trajectory::{Clearance, CommandedMotion, DryRun, TaskPlan};
-use egui::{Color32, FontId, Painter, Pos2, Rect, Sense, Shape, Stroke, Ui, pos2};
+use egui::{Color32, FontId, Painter, Rect, Ui, pos2};
 use egui_plot::PlotTransform;
 use nalgebra::{Point3, Vector3};
 
-use super::views::{Label, Plane, Projection, ViewKind};
 use crate::cli::clearance::SceneCell;
-use crate::scene::{Arrival, Placement, Scene, placements_of};
+use crate::placement::{Placement, placements_of};
+use crate::scene::{Arrival, Scene};
 
 /// Contacts (red: the colour of a stop, as the emergency stop's).
 pub const CONTACT: Color32 = Color32::from_rgb(230, 40, 40);
@@ -277,125 +277,6 @@ fn corners(to_base: impl Fn(Vector3<f64>) -> Vector3<f64>) -> [Vector3<f64>; 8] 
     })
 }
 
-/// Shades every contact of `marks` red on a view: the hitter and what it hits, with a hover
-/// region whose tooltip (and accessible name) is the contact's sentence. Each contact's label
-/// ("forearm hits table (0.84 s)") goes into `labels`, ahead of the names of things, for the
-/// view's label placement (`views/labels.rs`), so that labels of
-/// contacts close together neither overlap each other nor anything else.
-#[allow(clippy::too_many_arguments)] // one view's drawing context, passed as the views pass it
-pub fn paint_in_view(
-    ui: &Ui,
-    painter: &Painter,
-    projection: &Projection,
-    plane: &dyn Plane,
-    kind: ViewKind,
-    scene: &Scene,
-    marks: &DryRunMarks,
-    labels: &mut Vec<Label>,
-) {
-    for (index, contact) in marks.contacts.iter().enumerate() {
-        let other = shade(painter, projection, plane, kind, &contact.other);
-        let hitter = shade(painter, projection, plane, kind, &contact.hitter);
-        let around = match (hitter, other) {
-            (Some(a), Some(b)) => a.union(b),
-            (Some(a), None) | (None, Some(a)) => a,
-            (None, None) => continue,
-        };
-        labels.push(Label {
-            text: format!(
-                "{} hits {} ({:.2} s)",
-                contact.link, contact.object, contact.time
-            ),
-            beside: around,
-            colour: CONTACT,
-            size: 12.0,
-            importance: CONTACT_IMPORTANCE,
-        });
-        let sentence = contact.sentence(scene);
-        let id = ui
-            .scope_id()
-            .with(("contact", kind == ViewKind::Top, index));
-        ui.interact(around.intersect(projection.rect), id, Sense::hover())
-            .accessible_name(sentence.clone())
-            .on_hover_text(sentence);
-    }
-}
-
-/// Importance of a contact's label among a view's labels: above the selected waypoint's (1) and
-/// the workspace objects' (0).
-const CONTACT_IMPORTANCE: u8 = 2;
-
-/// Shades one solid red on a view; returns the screen area it covers.
-fn shade(
-    painter: &Painter,
-    projection: &Projection,
-    plane: &dyn Plane,
-    kind: ViewKind,
-    solid: &Solid,
-) -> Option<Rect> {
-    let fill = CONTACT.gamma_multiply(0.45);
-    let stroke = Stroke::new(1.5, CONTACT);
-    let on_screen = |point: &Vector3<f64>| projection.to_screen(plane.project(point));
-    match solid {
-        Solid::Capsule { start, end, radius } => {
-            let (a, b) = (on_screen(start), on_screen(end));
-            let width = (2.0 * radius * 1e3 * projection.points_per_mm).max(3.0) as f32;
-            painter.line_segment([a, b], Stroke::new(width, fill));
-            painter.circle_filled(a, width / 2.0, fill);
-            painter.circle_filled(b, width / 2.0, fill);
-            painter.line_segment([a, b], stroke);
-            Some(Rect::from_two_pos(a, b).expand(width / 2.0))
-        }
-        Solid::Corners(points) => {
-            let hull = convex_hull(points.iter().map(on_screen).collect());
-            let area = Rect::from_points(&hull);
-            painter.add(Shape::convex_polygon(hull, fill, stroke));
-            Some(area)
-        }
-        Solid::Table { height } => match kind {
-            // Seen from above the table is everywhere: the label says it.
-            ViewKind::Top => None,
-            ViewKind::Side => {
-                let rect = projection.rect;
-                let y = projection.to_screen([0.0, height * 1e3]).y;
-                let band = Rect::from_x_y_ranges(rect.x_range(), y..=y + 6.0);
-                painter.rect_filled(band, 0.0, fill);
-                painter.line_segment([pos2(rect.left(), y), pos2(rect.right(), y)], stroke);
-                None
-            }
-        },
-    }
-}
-
-/// The convex hull of screen points, in order (Andrew's monotone chain).
-fn convex_hull(mut points: Vec<Pos2>) -> Vec<Pos2> {
-    points.sort_by(|a, b| a.x.total_cmp(&b.x).then(a.y.total_cmp(&b.y)));
-    points.dedup();
-    if points.len() < 3 {
-        return points;
-    }
-    let cross = |o: Pos2, a: Pos2, b: Pos2| (a.x - o.x) * (b.y - o.y) - (a.y - o.y) * (b.x - o.x);
-    let mut hull: Vec<Pos2> = Vec::with_capacity(2 * points.len());
-    for pass in [false, true] {
-        let start = hull.len();
-        let ordered: Box<dyn Iterator<Item = &Pos2>> = if pass {
-            Box::new(points.iter().rev())
-        } else {
-            Box::new(points.iter())
-        };
-        for &p in ordered {
-            while hull.len() >= start + 2
-                && cross(hull[hull.len() - 2], hull[hull.len() - 1], p) <= 0.0
-            {
-                hull.pop();
-            }
-            hull.push(p);
-        }
-        hull.pop();
-    }
-    hull
-}
-
 /// Marks the contacts (red) and unsettled stops (amber) on the timeline's plot. Every mark gets
 /// its line; a label that would cross one already drawn is left out (the list above the plot
 /// names every mark).
@@ -490,101 +371,4 @@ pub fn placement_sentence(scene: &Scene, index: usize, placement: &Placement) ->
         estimate.p95_error * 1e3,
         estimate.draws
     )
-}
-
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn the_hull_of_a_square_and_its_centre_is_the_square() {
-        let hull = convex_hull(vec![
-            pos2(0.0, 0.0),
-            pos2(1.0, 0.0),
-            pos2(0.5, 0.5),
-            pos2(1.0, 1.0),
-            pos2(0.0, 1.0),
-        ]);
-        assert_eq!(hull.len(), 4);
-        assert!(!hull.contains(&pos2(0.5, 0.5)));
-    }
-
-    /// The built-in sample with both drill points lowered into the table (shoulder level): two
-    /// moves, 30° of base turn apart, each with a contact, so the contacts lie close together.
-    fn two_contacts_close_together() -> (Scene, DryRunMarks) {
-        use crate::scene::build_arm;
-        use crate::task::{dry_run_of, plan_of};
-
-        let mut scene = crate::editor::sample::sample_scene();
-        for index in [2, 3] {
-            scene.waypoints[index].joints_deg_or_mm[1] = 0.0;
-        }
-        let arm = build_arm(&scene.arm).expect("the sample's arm");
-        let plan = plan_of(&scene, &arm).expect("the sequence plans");
-        let run = dry_run_of(&scene, &arm, &plan).expect("the dry run runs");
-        let marks = DryRunMarks::of(&scene, &arm, &plan, &run).expect("marks");
-        (scene, marks)
-    }
-
-    #[test]
-    fn labels_of_contacts_close_together_do_not_overlap_in_either_view() {
-        use super::super::views::{SidePlane, TopPlane, place_labels};
-
-        let (scene, marks) = two_contacts_close_together();
-        let moves: Vec<usize> = marks.contacts.iter().map(|c| c.waypoint).collect();
-        assert!(
-            moves.contains(&2) && moves.contains(&3),
-            "contacts on the moves {moves:?}"
-        );
-        let rect = Rect::from_min_size(pos2(0.0, 0.0), egui::vec2(480.0, 360.0));
-        for kind in [ViewKind::Top, ViewKind::Side] {
-            let top = TopPlane;
-            let side = SidePlane { yaw: 0.0 };
-            let (plane, centre_mm): (&dyn Plane, [f64; 2]) = match kind {
-                ViewKind::Top => (&top, [120.0, 0.0]),
-                ViewKind::Side => (&side, [120.0, 60.0]),
-            };
-            let projection = Projection {
-                rect,
-                centre_mm,
-                points_per_mm: 1.2,
-            };
-            let ctx = egui::Context::default();
-            let mut written = Vec::new();
-            let mut labels = Vec::new();
-            let mut output = ctx.run_ui(egui::RawInput::default(), |ui| {
-                paint_in_view(
-                    ui,
-                    ui.painter(),
-                    &projection,
-                    plane,
-                    kind,
-                    &scene,
-                    &marks,
-                    &mut labels,
-                );
-                // Where the contacts sit, the labels' own spots would cross: each contact's
-                // label right under its shading, as they were written before.
-                written = place_labels(ui.painter(), labels.clone(), &[], rect);
-            });
-            output.textures_delta.clear();
-            assert_eq!(labels.len(), marks.contacts.len(), "{kind:?}");
-            let crossing = labels.iter().enumerate().any(|(i, a)| {
-                labels[i + 1..]
-                    .iter()
-                    .any(|b| a.beside.expand(14.0).intersects(b.beside.expand(14.0)))
-            });
-            assert!(crossing, "{kind:?}: the contacts are not close together");
-            // Labels at one place join into one (seen from the side, both moves' contacts lie
-            // at one place); the others each find a free spot.
-            let places = if kind == ViewKind::Top { 2 } else { 1 };
-            assert!(written.len() >= places, "{kind:?}: {written:?}");
-            for (i, a) in written.iter().enumerate() {
-                assert!(rect.contains_rect(*a), "{kind:?}: {a:?} outside the view");
-                for b in &written[i + 1..] {
-                    assert!(!a.intersects(*b), "{kind:?}: {a:?} over {b:?}");
-                }
-            }
-        }
-    }
 }

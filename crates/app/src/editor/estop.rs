@@ -10,7 +10,28 @@ use std::sync::mpsc::{Receiver, Sender, channel};
 
 use armwright_link::ResetConfirmation;
 
-use super::state::StopSource;
+/// Where an emergency-stop request came from.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum StopSource {
+    /// The button in the top bar.
+    Button,
+    /// The emergency-stop key on the keyboard.
+    Key,
+}
+
+/// The emergency-stop latch. Once stopped, only a confirmed reset clears it.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum StopState {
+    /// No stop is latched.
+    Clear,
+    /// A stop was requested and is latched.
+    Latched {
+        /// What requested it.
+        source: StopSource,
+        /// egui frame number in which the request left the editor.
+        frame: u64,
+    },
+}
 
 /// The key that requests an emergency stop whatever has keyboard focus.
 ///

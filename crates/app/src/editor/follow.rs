@@ -24,9 +24,8 @@ use armwright_kinematics::Arm;
 use armwright_link::{DeviceInfo, Link, LinkError, LinkState, device_setpoints};
 use armwright_trajectory::{FollowJoint, Follower, Sample, limits_from_arm};
 
-use super::command::Outside;
-use super::device::{DeviceLink, LinkAction, Report};
-use super::state::{EditorState, Level, ReachStatus, StopState};
+use super::arm_context::ArmContext;
+use super::message::{Level, Message, Report};
 use crate::scene::{GripperState, Scene};
 use crate::task::{limit_settings_of, servo_model_of};
 
@@ -42,7 +41,7 @@ pub const DEFAULT_FOLLOW_SHARE_PCT: f64 = 10.0;
 pub const FOLLOW_SHARE_RANGE_PCT: (f64, f64) = (1.0, 100.0);
 
 /// How long a run following the input arm waits for the next analog readings before it holds:
-/// ten readings lines at the editor's 20 a second (`capture::EDITOR_READINGS_HZ`), twice the
+/// ten readings lines at the editor's 20 a second (`device::EDITOR_READINGS_HZ`), twice the
 /// time the link waits before it calls a silent device lost (our choice). It is counted in the
 /// device's own acknowledged setpoints (this long of link frames), not on the host's clock, so
 /// a busy host that reads nothing for a while does not take it for lost readings.
@@ -137,217 +136,209 @@ pub enum FollowCommand {
     Jog(f64),
 }
 
-/// Applies a follow command to the state; turning follow on or off and a new share go to the
-/// device link's worker through `outside`.
-pub(crate) fn apply(state: &mut EditorState, command: FollowCommand, outside: &mut Vec<Outside>) {
+/// Applies a follow command to the session's settings `follow`, reading the editor `around`
+/// them; turning follow on or off and a new share are for the device link's worker, in `asks`,
+/// messages go to `said`. A jog returns the pose the editor takes.
+pub(crate) fn apply(
+    follow: &mut FollowSettings,
+    around: &ArmContext<'_>,
+    command: FollowCommand,
+    said: &mut Vec<Message>,
+    asks: &mut Vec<FollowAction>,
+) -> Option<Vec<f64>> {
     match command {
-        FollowCommand::Switch(true) => switch_on(state, FollowSource::EditedPose, outside),
-        FollowCommand::InputArm(true) if state.input_pose.is_none() => {
-            state.say(Level::Warning, NO_INPUT_ARM_TO_FOLLOW);
+        FollowCommand::Switch(true) => {
+            switch_on(follow, around, FollowSource::EditedPose, said, asks)
         }
-        FollowCommand::InputArm(true) => switch_on(state, FollowSource::InputArm, outside),
-        FollowCommand::Switch(false) | FollowCommand::InputArm(false) => state.follow.on = false,
+        FollowCommand::InputArm(true) if around.input_pose.is_none() => {
+            said.push(Message::new(Level::Warning, NO_INPUT_ARM_TO_FOLLOW));
+        }
+        FollowCommand::InputArm(true) => {
+            switch_on(follow, around, FollowSource::InputArm, said, asks)
+        }
+        FollowCommand::Switch(false) | FollowCommand::InputArm(false) => follow.on = false,
         FollowCommand::SharePct(pct) => {
             if pct.is_finite() {
                 let (low, high) = FOLLOW_SHARE_RANGE_PCT;
-                state.follow.share_pct = pct.clamp(low, high);
-                if state.follow.on {
-                    outside.push(Outside::Link(LinkAction::Follow(FollowAction::Share(
-                        state.follow.share_pct / 100.0,
-                    ))));
+                follow.share_pct = pct.clamp(low, high);
+                if follow.on {
+                    asks.push(FollowAction::Share(follow.share_pct / 100.0));
                 }
             }
         }
         FollowCommand::JogJoint(joint) => {
-            if joint < state.pose.len() {
-                state.follow.jog_joint = joint;
+            if joint < around.pose.len() {
+                follow.jog_joint = joint;
             }
         }
         FollowCommand::JointStep(step) => {
             if step.is_finite() {
-                state.follow.joint_step = step.clamp(0.01, 90.0);
+                follow.joint_step = step.clamp(0.01, 90.0);
             }
         }
         FollowCommand::ToolStepMm(step) => {
             if step.is_finite() {
-                state.follow.tool_step_mm = step.clamp(0.01, 100.0);
+                follow.tool_step_mm = step.clamp(0.01, 100.0);
             }
         }
-        FollowCommand::Jog(_) if refuse_jog(state) => {}
+        // Refused (and said) before it gets here: `EditorState::refuse_jog`.
+        FollowCommand::Jog(_) if jog_refused(follow) => {}
         FollowCommand::Jog(steps) => {
-            let joint = state.follow.jog_joint;
-            if let Some(&now) = state.pose.get(joint)
+            let joint = follow.jog_joint;
+            if let Some(&now) = around.pose.get(joint)
                 && steps.is_finite()
             {
                 // Degrees → rad for a revolute joint, mm → m for a sliding one.
-                let step = if state.is_prismatic(joint) {
-                    state.follow.joint_step * 1e-3
+                let step = if around.is_prismatic(joint) {
+                    follow.joint_step * 1e-3
                 } else {
-                    state.follow.joint_step.to_radians()
+                    follow.joint_step.to_radians()
                 };
-                state.pose[joint] = state.clamp_to_limits(joint, now + steps * step);
-                state.branch = None;
-                state.branch_choices.clear();
-                state.reach = ReachStatus::Idle;
-                state.pose_changed();
+                let mut pose = around.pose.to_vec();
+                pose[joint] = around.clamp_to_limits(joint, now + steps * step);
+                return Some(pose);
             }
         }
     }
+    None
 }
 
 /// Whether jogging is refused: the device follows the input arm, so the jog keys (joint and tool
 /// point) and buttons must not move the edited pose.
-pub fn jog_refused(state: &EditorState) -> bool {
-    state.follow.on && state.follow.source == FollowSource::InputArm
-}
-
-/// When jogging is refused, says why (once while it is the newest message, so held keys do not
-/// fill the status bar) and returns `true`.
-pub(crate) fn refuse_jog(state: &mut EditorState) -> bool {
-    if !jog_refused(state) {
-        return false;
-    }
-    let said = state
-        .messages
-        .last()
-        .is_some_and(|message| message.text == JOG_WHILE_FOLLOWING_INPUTS);
-    if !said {
-        state.say(Level::Warning, JOG_WHILE_FOLLOWING_INPUTS);
-    }
-    true
+pub fn jog_refused(follow: &FollowSettings) -> bool {
+    follow.on && follow.source == FollowSource::InputArm
 }
 
 /// Turns follow of `source` on: starts a run, or — already following the other source — asks
 /// the run to follow this one (a start request to a running run changes what it watches).
-fn switch_on(state: &mut EditorState, source: FollowSource, outside: &mut Vec<Outside>) {
-    if state.follow.on && state.follow.source == source {
+fn switch_on(
+    follow: &mut FollowSettings,
+    around: &ArmContext<'_>,
+    source: FollowSource,
+    said: &mut Vec<Message>,
+    asks: &mut Vec<FollowAction>,
+) {
+    if follow.on && follow.source == source {
         return;
     }
-    match start_action(state, source) {
-        Err(reason) => state.say(Level::Warning, reason),
+    match start_action(follow, around, source) {
+        Err(reason) => said.push(Message::new(Level::Warning, reason)),
         Ok(action) => {
-            state.follow.on = true;
-            state.follow.source = source;
-            state.follow.sent = None;
-            state.follow.leave_sent = false;
-            outside.push(Outside::Link(LinkAction::Follow(action)));
+            follow.on = true;
+            follow.source = source;
+            follow.sent = None;
+            follow.leave_sent = false;
+            asks.push(action);
         }
     }
 }
 
-/// The worker's start request from the state, or why follow cannot start.
-fn start_action(state: &EditorState, source: FollowSource) -> Result<FollowAction, String> {
-    if !state.caution_acknowledged {
+/// The worker's start request from the settings and the editor around them, or why follow
+/// cannot start.
+fn start_action(
+    follow: &FollowSettings,
+    around: &ArmContext<'_>,
+    source: FollowSource,
+) -> Result<FollowAction, String> {
+    if !around.caution_acknowledged {
         return Err("read and acknowledge the caution before the device follows".into());
     }
-    if matches!(state.stop, StopState::Latched { .. }) {
+    if around.stop_latched() {
         return Err("the emergency stop is latched: check the arm and reset the stop first".into());
     }
-    let arm = state
+    let arm = around
         .arm
-        .as_ref()
         .ok_or("cannot follow: the scene's arm cannot be built")?;
-    let joints = follow_joints(&state.scene, arm, &state.pose)?;
-    let (edited, inputs) = match (source, input_target(state)) {
+    let joints = follow_joints(around.scene, arm, around.pose)?;
+    let (edited, inputs) = match (source, input_target(around)) {
         (FollowSource::InputArm, Some(pose)) => (pose, true),
         (FollowSource::InputArm, None) => return Err(NO_INPUT_ARM_TO_FOLLOW.into()),
-        (FollowSource::EditedPose, _) => (state.pose.clone(), false),
+        (FollowSource::EditedPose, _) => (around.pose.to_vec(), false),
     };
     Ok(FollowAction::Start {
         arm: Box::new(arm.clone()),
         joints,
-        share: state.follow.share_pct / 100.0,
+        share: follow.share_pct / 100.0,
         edited,
-        gripper_closed: state.gripper == GripperState::Closed,
+        gripper_closed: around.gripper == GripperState::Closed,
         inputs,
     })
 }
 
 /// The input arm's pose as a follow target: each joint within its limits, as a capture stores
 /// it; `None` without an input arm.
-fn input_target(state: &EditorState) -> Option<Vec<f64>> {
-    let pose = state.input_pose.as_ref()?;
+fn input_target(around: &ArmContext<'_>) -> Option<Vec<f64>> {
+    let pose = around.input_pose?;
     Some(
         pose.iter()
             .enumerate()
-            .map(|(joint, &position)| state.clamp_to_limits(joint, position))
+            .map(|(joint, &position)| around.clamp_to_limits(joint, position))
             .collect(),
     )
 }
 
-/// Every frame: hands the edited pose (or the input arm's) to the worker as the target while
-/// following, turns follow off when the worker ended the run (stop, lost link, refusal), when
-/// it holds for want of readings, or when a stop is latched, and asks the worker to leave a run
-/// it shows once follow is off.
-pub(crate) fn update(state: &mut EditorState, device: &mut DeviceLink) {
-    let view = &device.view().follow;
-    if view.ended > state.follow.ended_seen {
-        state.follow.ended_seen = view.ended;
-        state.follow.on = false;
+/// Every frame, with the worker's follow `view`: what to ask of the worker — the edited pose
+/// (or the input arm's) as the target while following, or to leave a run it shows once follow
+/// is off. Turns follow off when the worker ended the run (stop, lost link, refusal), when it
+/// holds for want of readings, or when a stop is latched.
+pub(crate) fn update(
+    follow: &mut FollowSettings,
+    around: &ArmContext<'_>,
+    view: &FollowView,
+) -> Option<FollowAction> {
+    if view.ended > follow.ended_seen {
+        follow.ended_seen = view.ended;
+        follow.on = false;
     }
-    if state.follow.on && matches!(state.stop, StopState::Latched { .. }) {
-        state.follow.on = false;
+    if follow.on && around.stop_latched() {
+        follow.on = false;
     }
     if view.readings_lost
-        && !state.follow.readings_lost_seen
-        && state.follow.on
-        && state.follow.source == FollowSource::InputArm
+        && !follow.readings_lost_seen
+        && follow.on
+        && follow.source == FollowSource::InputArm
     {
         // The run holds already (its message says why): the switch shows it. Only as the run
         // starts holding, so turning follow on again while it comes to rest is not undone.
-        state.follow.on = false;
-        state.follow.leave_sent = true;
+        follow.on = false;
+        follow.leave_sent = true;
     }
-    state.follow.readings_lost_seen = view.readings_lost;
-    if !state.follow.on {
-        state.follow.sent = None;
-        if view.phase == FollowPhase::Following && !state.follow.leave_sent {
-            state.follow.leave_sent = true;
-            device.request(
-                LinkAction::Follow(FollowAction::Leave),
-                &state.scene,
-                state.arm.as_ref(),
-                &state.pose,
-            );
+    follow.readings_lost_seen = view.readings_lost;
+    if !follow.on {
+        follow.sent = None;
+        if view.phase == FollowPhase::Following && !follow.leave_sent {
+            follow.leave_sent = true;
+            return Some(FollowAction::Leave);
         }
-        return;
+        return None;
     }
-    let pose = match state.follow.source {
-        FollowSource::EditedPose => state.pose.clone(),
+    let pose = match follow.source {
+        FollowSource::EditedPose => around.pose.to_vec(),
         // No input arm this frame (readings not mapped yet): the target stays.
-        FollowSource::InputArm => match input_target(state) {
-            Some(pose) => pose,
-            None => return,
-        },
+        FollowSource::InputArm => input_target(around)?,
     };
-    let wanted = (pose, state.gripper == GripperState::Closed);
-    if state.follow.sent.as_ref() != Some(&wanted) {
-        device.request(
-            LinkAction::Follow(FollowAction::Target {
-                pose: wanted.0.clone(),
-                gripper_closed: wanted.1,
-            }),
-            &state.scene,
-            state.arm.as_ref(),
-            &state.pose,
-        );
-        state.follow.sent = Some(wanted);
+    let wanted = (pose, around.gripper == GripperState::Closed);
+    if follow.sent.as_ref() == Some(&wanted) {
+        return None;
     }
+    let action = FollowAction::Target {
+        pose: wanted.0.clone(),
+        gripper_closed: wanted.1,
+    };
+    follow.sent = Some(wanted);
+    Some(action)
 }
 
-/// Before "Store pose" while the device follows: the edited pose becomes what the arm is
-/// doing — the follower's pose now — so that pose is what is stored.
-pub(crate) fn take_arm_pose(state: &mut EditorState, device: &DeviceLink) {
-    let view = &device.view().follow;
-    if state.follow.on
-        && view.phase == FollowPhase::Following
-        && view.positions.len() == state.pose.len()
-    {
-        state.pose.clone_from(&view.positions);
-        state.branch = None;
-        state.branch_choices.clear();
-        state.pose_changed();
-    }
+/// Before "Store pose" while the device follows: what the arm is doing — the follower's pose
+/// now in the worker's `view`, for `joints` joints — for the edited pose to become, so that
+/// pose is what is stored; `None` when not following.
+pub(crate) fn arm_pose(
+    follow: &FollowSettings,
+    view: &FollowView,
+    joints: usize,
+) -> Option<Vec<f64>> {
+    (follow.on && view.phase == FollowPhase::Following && view.positions.len() == joints)
+        .then(|| view.positions.clone())
 }
 
 /// What the editor asks of the device link's worker about follow.

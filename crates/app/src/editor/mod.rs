@@ -21,6 +21,7 @@
 //! [`Editor::logic`] handles what must run whatever is on screen (the emergency-stop key first),
 //! [`Editor::ui`] draws the panels and applies their commands after the frame.
 
+mod arm_context;
 mod arm_form;
 mod calibration;
 mod capture;
@@ -56,7 +57,9 @@ pub use device::{
     StreamPhase,
 };
 pub use dry_run_marks::{ContactMark, DryRunMarks, Solid, UnsettledMark, placement_text};
-pub use estop::{ChannelStopLink, STOP_KEY, STOP_KEY_NAME, StopLink, StopRequest};
+pub use estop::{
+    ChannelStopLink, STOP_KEY, STOP_KEY_NAME, StopLink, StopRequest, StopSource, StopState,
+};
 pub use follow::{
     DEFAULT_FOLLOW_SHARE_PCT, FollowAction, FollowCommand, FollowPhase, FollowSettings,
     FollowSource, FollowView, JOG_WHILE_FOLLOWING_INPUTS, jog_refused,
@@ -71,9 +74,7 @@ pub use playback::{AtEnd, DryRunStatus, Playback, PlaybackCommand, SPEEDS, Timel
 pub use recovery::{Recovery, RecoveryCopy};
 pub use retime_job::{RetimeReport, RetimeRun, RetimeState, RunFigures, WaypointFigures};
 pub use sample::sample_scene;
-pub use state::{
-    BranchChoice, Dialog, EditorState, Level, Message, ReachStatus, StopSource, StopState, ToolsTab,
-};
+pub use state::{BranchChoice, Dialog, EditorState, Level, Message, ReachStatus, ToolsTab};
 pub use traces::{GRID, MAX_BUCKETS, Quantity, Series, Traces, decimate};
 pub use views::{
     ArmOverlay, Camera, DEVICE, MapKey, MapLayer, OVER_RATING, Plane, Projection, ReachLayers,
@@ -89,6 +90,7 @@ use egui::{CentralPanel, Event, Key, Modifiers, Panel, Rect, ScrollArea, UiBuild
 use dry_run_job::DryRunJob;
 use estop::StopPair;
 use files::{FileResult, FileWorker, pick_file, problem_lines};
+use message::Report;
 use panels::TimelinePlot;
 use retime_job::RetimeWorker;
 
@@ -435,7 +437,11 @@ impl Editor {
             self.apply(ctx, tick, frame);
             ctx.request_repaint_after(Duration::from_millis(100));
         }
-        follow::update(&mut self.state, &mut self.device);
+        let (around, follow_settings) = self.state.follow_parts();
+        let asked = follow::update(follow_settings, &around, &self.device.view().follow);
+        if let Some(action) = asked {
+            self.request_link(LinkAction::Follow(action));
+        }
         // The side view keeps its plane while the primary button is down (a drag in either
         // view) and turns when it is released; its reach maps are made for the plane it shows.
         let pressed = ctx.input(|input| input.pointer.primary_down());
@@ -484,7 +490,7 @@ impl Editor {
                 }
             }
         });
-        if step_mm != [0.0; 3] && follow::refuse_jog(&mut self.state) {
+        if step_mm != [0.0; 3] && self.state.refuse_jog() {
             return;
         }
         if step_mm != [0.0; 3]
@@ -561,8 +567,8 @@ impl Editor {
         }
         for report in self.device.poll(self.state.arm.as_ref()) {
             match report {
-                device::Report::Info(text) => self.state.say(Level::Info, text),
-                device::Report::Problem(text) => self.state.say(Level::Error, text),
+                Report::Info(text) => self.state.say(Level::Info, text),
+                Report::Problem(text) => self.state.say(Level::Error, text),
             }
         }
         self.state.device_pose = self.device.simulated_arm_pose();
@@ -778,7 +784,11 @@ impl Editor {
     /// Applies one command, carrying out file and window work it leaves.
     pub fn apply(&mut self, ctx: &egui::Context, command: Command, frame: u64) {
         if command == Command::StoreWaypoint {
-            follow::take_arm_pose(&mut self.state, &self.device);
+            let joints = self.state.pose.len();
+            let view = &self.device.view().follow;
+            if let Some(pose) = follow::arm_pose(&self.state.follow, view, joints) {
+                self.state.move_arm_to(pose);
+            }
         }
         let mut outside = Vec::new();
         let mut stops = StopPair {

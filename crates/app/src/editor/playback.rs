@@ -317,68 +317,72 @@ impl Playback {
 mod tests {
     use super::*;
     use crate::editor::sample::sample_scene;
-    use crate::editor::state::EditorState;
-    use crate::editor::traces::Traces;
+    use crate::scene::{build_arm, pose_from_file_units};
     use crate::task::{dry_run_of, plan_of};
 
-    fn state_with_timeline() -> EditorState {
-        let mut state = EditorState::new(sample_scene(), None);
-        let arm = state.arm().cloned().expect("sample arm");
-        let plan = plan_of(&state.scene, &arm).expect("sample plans");
-        let run = dry_run_of(&state.scene, &arm, &plan).expect("sample runs");
+    /// Playback with the built-in sample's plan and dry run, and the arm's pose as the editor
+    /// opens the sample (its first waypoint's), rad or m.
+    fn playback_with_timeline() -> (Playback, Vec<f64>) {
+        let scene = sample_scene();
+        let arm = build_arm(&scene.arm).expect("sample arm");
+        let plan = plan_of(&scene, &arm).expect("sample plans");
+        let run = dry_run_of(&scene, &arm, &plan).expect("sample runs");
         let traces = Traces::of(&arm, &plan, &run, 1.0, 0.02);
         let timeline = Timeline {
             generation: 1,
-            marks: state
-                .scene
+            marks: scene
                 .waypoints
                 .iter()
                 .zip(plan.timings())
                 .map(|(waypoint, timing)| (waypoint.name.clone(), timing.arrival))
                 .collect(),
-            grippers: state.scene.waypoints.iter().map(|w| w.gripper).collect(),
+            grippers: scene.waypoints.iter().map(|w| w.gripper).collect(),
             found: DryRunMarks::default(),
             plan,
             run,
             traces,
         };
-        state.accept_timeline(Arc::new(timeline));
-        state
+        let pose = pose_from_file_units(&scene.arm, &scene.waypoints[0].joints_deg_or_mm);
+        let mut playback = Playback::default();
+        assert_eq!(playback.accept(Arc::new(timeline), &pose), None);
+        (playback, pose)
     }
 
     #[test]
     fn playing_past_the_end_loops_to_the_start() {
-        let mut state = state_with_timeline();
-        let span = state.playback.timeline.as_ref().map_or(0.0, |t| t.span());
-        state.playback_command(PlaybackCommand::SetCursor(span - 0.03));
-        state.playback_command(PlaybackCommand::Play);
-        assert!(state.advance_playback(10.0));
-        assert!(state.advance_playback(10.05));
-        assert!(
-            (state.playback.cursor - 0.02).abs() < 1e-9,
-            "{}",
-            state.playback.cursor
-        );
-        assert!(state.playback.arm_at_cursor(&state.pose));
+        let (mut playback, pose) = playback_with_timeline();
+        let joints = pose.len();
+        let span = playback.timeline.as_ref().map_or(0.0, |t| t.span());
+        let _ = playback.apply(PlaybackCommand::SetCursor(span - 0.03), joints, joints);
+        let _ = playback.apply(PlaybackCommand::Play, joints, joints);
+        let _ = playback.advance(10.0, joints);
+        assert!(playback.playing);
+        let moved = playback
+            .advance(10.05, joints)
+            .expect("the cursor moves the arm");
+        assert!(playback.playing);
+        assert!((playback.cursor - 0.02).abs() < 1e-9, "{}", playback.cursor);
+        assert!(playback.arm_at_cursor(&moved.positions));
     }
 
     #[test]
     fn a_long_stall_advances_by_one_tenth_of_a_second_at_most() {
-        let mut state = state_with_timeline();
-        state.playback_command(PlaybackCommand::SetSpeed(0.5));
-        state.playback_command(PlaybackCommand::Play);
-        state.advance_playback(1.0);
-        state.advance_playback(6.0);
-        assert!((state.playback.cursor - MAX_FRAME_STEP * 0.5).abs() < 1e-12);
+        let (mut playback, pose) = playback_with_timeline();
+        let joints = pose.len();
+        let _ = playback.apply(PlaybackCommand::SetSpeed(0.5), joints, joints);
+        let _ = playback.apply(PlaybackCommand::Play, joints, joints);
+        let _ = playback.advance(1.0, joints);
+        let _ = playback.advance(6.0, joints);
+        assert!((playback.cursor - MAX_FRAME_STEP * 0.5).abs() < 1e-12);
         // Speeds outside the offered steps are refused.
-        state.playback_command(PlaybackCommand::SetSpeed(3.0));
-        assert_eq!(state.playback.speed, 0.5);
+        let _ = playback.apply(PlaybackCommand::SetSpeed(3.0), joints, joints);
+        assert_eq!(playback.speed, 0.5);
     }
 
     #[test]
     fn the_gripper_follows_the_waypoint_last_reached() {
-        let state = state_with_timeline();
-        let timeline = state.playback.timeline.clone().expect("timeline");
+        let (playback, _) = playback_with_timeline();
+        let timeline = playback.timeline.clone().expect("timeline");
         for (index, (_, arrival)) in timeline.marks.iter().enumerate() {
             assert_eq!(
                 timeline.gripper_at(*arrival + 1e-6),

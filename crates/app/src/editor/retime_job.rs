@@ -15,7 +15,8 @@ use armwright_kinematics::{Arm, gravity_torques, torque_use};
 use armwright_trajectory::{Binding, DryRun, RetimeError};
 
 use super::message::Level;
-use crate::scene::{Arrival, GripperState, Scene, Shaping, placements_of, pose_from_file_units};
+use crate::placement::placements_of;
+use crate::scene::{Arrival, GripperState, Scene, Shaping, pose_from_file_units};
 use crate::task::{RetimeSettings, SceneRetime, retime_scene};
 
 /// The retime tab's data: the target and the run.

@@ -10,38 +10,33 @@ use armwright_kinematics::{
     gravity_torques, max_payload, tool_pose, torque_use,
 };
 
+use super::arm_context::ArmContext;
 use super::arm_form::ArmForm;
 use super::calibration::Calibrating;
 use super::dry_run_marks::DryRunMarks;
+use super::estop::StopState;
 use super::follow::FollowSettings;
 use super::history::History;
 use super::inputs_form::InputsForm;
 pub use super::message::{Level, Message};
 use super::playback::{CursorPose, Playback, PlaybackCommand, Timeline};
 use super::retime_job::RetimeState;
-use crate::scene::{Device, GripperState, JointKindDoc, Scene, build_arm, pose_from_file_units};
+use crate::scene::{Device, GripperState, Scene, build_arm, pose_from_file_units};
 
-/// Where an emergency-stop request came from.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub enum StopSource {
-    /// The button in the top bar.
-    Button,
-    /// The emergency-stop key on the keyboard.
-    Key,
-}
-
-/// The emergency-stop latch. Once stopped, only a confirmed reset clears it.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub enum StopState {
-    /// No stop is latched.
-    Clear,
-    /// A stop was requested and is latched.
-    Latched {
-        /// What requested it.
-        source: StopSource,
-        /// egui frame number in which the request left the editor.
-        frame: u64,
-    },
+/// The editor around one area ([`ArmContext`]), borrowed field by field so that the area's own
+/// part of `$state` stays free to change.
+macro_rules! around {
+    ($state:expr) => {
+        ArmContext {
+            scene: &$state.scene,
+            arm: $state.arm.as_ref(),
+            pose: &$state.pose,
+            gripper: $state.gripper,
+            input_pose: $state.input_pose.as_deref(),
+            caution_acknowledged: $state.caution_acknowledged,
+            stop: $state.stop,
+        }
+    };
 }
 
 /// The tabs of the tools panel on the right.
@@ -309,7 +304,41 @@ impl EditorState {
 
     /// Whether the joint at `index` slides (mm) rather than turns (degrees).
     pub fn is_prismatic(&self, index: usize) -> bool {
-        self.scene.arm.shape.joint_kinds().get(index) == Some(&JointKindDoc::Prismatic)
+        self.context().is_prismatic(index)
+    }
+
+    /// What an area's commands read of the editor around them (`editor/arm_context.rs`).
+    pub(crate) fn context(&self) -> ArmContext<'_> {
+        around!(self)
+    }
+
+    /// The calibration panel's part of the state to change, and the editor around it.
+    pub(crate) fn calibration_parts(&mut self) -> (ArmContext<'_>, &mut Calibrating) {
+        let around = around!(self);
+        (around, &mut self.calibration)
+    }
+
+    /// Follow's settings to change, and the editor around them.
+    /// When jogging is refused ([`super::follow::jog_refused`]), says why (once while it is
+    /// the newest message, so held keys do not fill the status bar) and returns `true`.
+    pub(crate) fn refuse_jog(&mut self) -> bool {
+        if !super::follow::jog_refused(&self.follow) {
+            return false;
+        }
+        let text = super::follow::JOG_WHILE_FOLLOWING_INPUTS;
+        if self
+            .messages
+            .last()
+            .is_none_or(|message| message.text != text)
+        {
+            self.say(Level::Warning, text);
+        }
+        true
+    }
+
+    pub(crate) fn follow_parts(&mut self) -> (ArmContext<'_>, &mut FollowSettings) {
+        let around = around!(self);
+        (around, &mut self.follow)
     }
 
     /// The current pose in the file's units: degrees (revolute) or mm (prismatic).
@@ -372,10 +401,12 @@ impl EditorState {
 
     /// Adds a status message.
     pub fn say(&mut self, level: Level, text: impl Into<String>) {
-        self.messages.push(Message {
-            level,
-            text: text.into(),
-        });
+        self.say_all([Message::new(level, text)]);
+    }
+
+    /// Adds status messages, in order.
+    pub(crate) fn say_all(&mut self, messages: impl IntoIterator<Item = Message>) {
+        self.messages.extend(messages);
         if self.messages.len() > MESSAGES_KEPT {
             let extra = self.messages.len() - MESSAGES_KEPT;
             self.messages.drain(..extra);
@@ -507,8 +538,14 @@ impl EditorState {
         let Some(CursorPose { positions, gripper }) = moved else {
             return;
         };
-        self.pose = positions;
         self.gripper = gripper;
+        self.move_arm_to(positions);
+    }
+
+    /// Puts the arm at `positions` (rad or m, one per joint), set some other way than by a drag:
+    /// no branch known, no drag outcome.
+    pub(crate) fn move_arm_to(&mut self, positions: Vec<f64>) {
+        self.pose = positions;
         self.branch = None;
         self.branch_choices.clear();
         self.reach = ReachStatus::Idle;
@@ -517,19 +554,12 @@ impl EditorState {
 
     /// Clamps a position (rad or m) into the joint's limits.
     pub(crate) fn clamp_to_limits(&self, joint: usize, position: f64) -> f64 {
-        match self.arm.as_ref().and_then(|arm| arm.joints().get(joint)) {
-            Some(spec) if spec.min <= spec.max => position.clamp(spec.min, spec.max),
-            _ => position,
-        }
+        self.context().clamp_to_limits(joint, position)
     }
 
     /// The joint's kind in the arm model (revolute when unknown).
     pub(crate) fn joint_kind(&self, joint: usize) -> JointKind {
-        if self.is_prismatic(joint) {
-            JointKind::Prismatic
-        } else {
-            JointKind::Revolute
-        }
+        self.context().joint_kind(joint)
     }
 
     /// Index of the joint using the most of its rating, and that share, when any is above 1.0.
@@ -544,10 +574,7 @@ impl EditorState {
 
     /// A joint's name for messages: `joint 2 "elbow"`.
     pub fn joint_label(&self, joint: usize) -> String {
-        match self.scene.arm.joints.get(joint) {
-            Some(doc) => format!("joint {} \"{}\"", joint + 1, doc.name),
-            None => format!("joint {}", joint + 1),
-        }
+        self.context().joint_label(joint)
     }
 
     /// What keeps the tool point where the user wants it, in words, worst first: out of reach,

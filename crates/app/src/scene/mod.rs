@@ -11,13 +11,13 @@
 //! place that turns file units into the SI arm model), `load.rs` and
 //! `save.rs` (files: read without side effects, write atomically), `inputs.rs` (the input arm:
 //! each analog input's points fitted, the pose a set of readings gives), `problem.rs` (a located
-//! problem and the nearest-name suggestion), `workcell.rs` (the workspace
-//! and arm as collision geometry, what a pick or place leaves out and what the gripper carries),
-//! `placement.rs` (placement success with each waypoint's tolerance and each joint's calibration
-//! uncertainty).
-//! Turning the sequence into a trajectory task and planning it is [`crate::task`]'s; sampling
-//! the plan is the trajectory crate's (`TaskPlan::sampler`), turning samples into
-//! device setpoints the link crate's (`device_setpoints`).
+//! problem and the nearest-name suggestion).
+//!
+//! What is computed from the document lives outside it: turning the sequence into a trajectory
+//! task and planning it is [`crate::task`]'s, the workspace and arm as collision geometry
+//! [`crate::workcell`]'s, placement success per pick and place [`crate::placement`]'s; sampling
+//! the plan is the trajectory crate's (`TaskPlan::sampler`), turning samples into device
+//! setpoints the link crate's (`device_setpoints`).
 
 mod decode;
 mod document;
@@ -29,14 +29,12 @@ mod inputs;
 mod load;
 mod migrate;
 mod outline;
-mod placement;
 mod problem;
 mod reference;
 mod save;
 mod schema;
 mod units;
 mod validate;
-mod workcell;
 
 pub use document::{
     ArmDoc, ArmShape, ArmTypeWord, Arrival, ArticulatedSize, AxisDoc, BandDoc, BoxDoc,
@@ -48,9 +46,6 @@ pub use document::{
 pub use inputs::{InputMap, InputPose, input_map_of};
 pub use load::{load, load_bytes};
 pub use migrate::{CURRENT_VERSION, FORMAT_NAME};
-pub use placement::{
-    DEFAULT_PLACEMENT_TOLERANCE_MM, Placement, placement_options_of, placements_of,
-};
 pub use problem::Problem;
 pub(crate) use problem::child;
 pub use reference::reference_markdown;
@@ -61,7 +56,6 @@ pub use units::{
     position_to_file_unit, rate_from_file_unit, rate_to_file_unit,
 };
 pub use validate::{sequence_problems, validate};
-pub use workcell::{arm_shape_of, carried_of, exemptions_of, obstacles_of};
 
 use std::path::PathBuf;
 

@@ -12,7 +12,8 @@ use crate::editor::calibration::{
 };
 use crate::editor::command::Command;
 use crate::editor::device::LinkView;
-use crate::editor::state::{EditorState, StopState};
+use crate::editor::estop::StopState;
+use crate::editor::state::EditorState;
 use crate::scene::JointKindDoc;
 
 use super::link::caution_box;
@@ -153,7 +154,7 @@ fn pulse_controls(ui: &mut Ui, state: &EditorState, may_move: bool) -> Command {
                 None => "none yet: this tool has sent no pulse".to_owned(),
             });
             ui.end_row();
-            if let Some((low, high)) = session.safe_range_us(state) {
+            if let Some((low, high)) = session.safe_range_us(&state.scene) {
                 ui.label("safe range");
                 ui.label(format!(
                     "{low:.0}–{high:.0} µs (the servo's, within the device's)"

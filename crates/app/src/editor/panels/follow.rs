@@ -6,11 +6,12 @@ use egui::{Color32, DragValue, Key, Modifiers, RichText, Slider, Ui};
 
 use crate::editor::command::Command;
 use crate::editor::device::LinkView;
+use crate::editor::estop::StopState;
 use crate::editor::follow::{
     FOLLOW_SHARE_RANGE_PCT, FollowCommand, FollowPhase, FollowSource, JOG_WHILE_FOLLOWING_INPUTS,
     jog_refused,
 };
-use crate::editor::state::{EditorState, StopState};
+use crate::editor::state::EditorState;
 
 use super::link::caution_box;
 
@@ -182,7 +183,7 @@ pub fn follow(ui: &mut Ui, state: &EditorState, view: &LinkView) -> Command {
             }
             ui.end_row();
         });
-    let refused = jog_refused(state);
+    let refused = jog_refused(&state.follow);
     if refused {
         ui.colored_label(Color32::from_rgb(230, 159, 0), JOG_WHILE_FOLLOWING_INPUTS);
     }

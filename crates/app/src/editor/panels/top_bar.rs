@@ -5,7 +5,8 @@ use egui::{Button, Color32, RichText, Ui, vec2};
 
 use crate::editor::command::Command;
 use crate::editor::estop::STOP_KEY_NAME;
-use crate::editor::state::{Dialog, EditorState, StopSource, StopState};
+use crate::editor::estop::{StopSource, StopState};
+use crate::editor::state::{Dialog, EditorState};
 
 /// The emergency-stop button's text.
 pub const EMERGENCY_STOP_LABEL: &str = "EMERGENCY STOP";

@@ -3,13 +3,13 @@
 
 use egui::{PointerButton, Pos2, Sense, Ui, Vec2};
 
+use super::contacts;
 use super::drawing::{self, ViewMaps};
 use super::labels::place_labels;
 use super::overlay::{ArmOverlay, overlay_arm, overlay_legend};
 use super::projection::{Projection, fit};
 use super::{Plane, SidePlane, TopPlane, ViewKind};
 use crate::editor::command::Command;
-use crate::editor::dry_run_marks;
 use crate::editor::state::EditorState;
 
 /// Screen distance within which a press grabs the tool point, in points.
@@ -144,7 +144,7 @@ pub fn show_view(
         }
     }
     if let Some(found) = state.dry_run_found() {
-        dry_run_marks::paint_in_view(
+        contacts::paint_in_view(
             ui,
             &clipped,
             &projection,

@@ -7,8 +7,9 @@
 //! tool-point drags; `labels.rs` places names beside things free of each other; `reach_layer.rs`
 //! computes the reach envelope and torque-use map off the UI
 //! thread and holds their textures; `overlay.rs` draws extra arms (the dry run's, say) over the
-//! edited one.
+//! edited one; `contacts.rs` shades the dry run's contacts.
 
+mod contacts;
 mod drawing;
 mod interaction;
 mod labels;
@@ -20,7 +21,6 @@ mod top_view;
 
 pub use drawing::ViewMaps;
 pub use interaction::{Camera, VIEW_HINT, show_view};
-pub(crate) use labels::Label;
 #[cfg(test)]
 pub(crate) use labels::place_labels;
 pub use overlay::{ArmOverlay, DEVICE, SIMULATED};

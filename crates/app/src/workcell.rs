@@ -19,8 +19,8 @@ use armwright_kinematics::{Arm, ArmShape, KinematicsError, Obstacle};
 use armwright_trajectory::{Carry, Exemption, carried_objects, grip_exemptions};
 use nalgebra::Vector3;
 
-use super::document::Scene;
-use super::field_table as table;
+use crate::scene::Scene;
+use crate::scene::field_table as table;
 use crate::task::task_of;
 
 /// The scene's obstacles in the base frame, in m: the table (when it has one) first, then the

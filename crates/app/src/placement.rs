@@ -7,9 +7,8 @@
 use armwright_kinematics::{Arm, MAX_JOINTS};
 use armwright_trajectory::{DryRun, PlacementEstimate, PlacementOptions, placement_estimate};
 
-use super::document::Scene;
-use super::field_table as table;
-use super::units::pose_from_file_units;
+use crate::scene::field_table as table;
+use crate::scene::{Scene, pose_from_file_units};
 
 /// Placement tolerance of a waypoint that gives none, in mm.
 pub const DEFAULT_PLACEMENT_TOLERANCE_MM: f64 = 2.0;
