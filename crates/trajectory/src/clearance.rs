@@ -11,10 +11,11 @@
 //! distance its links could have covered since its last measurement might bring it into contact
 //! or below the move's smallest clearance so far (less the resolution): conservative
 //! advancement, so dwells and far-apart pairs cost nothing, and the smallest clearance is exact
-//! to within the resolution at the looks. A look does not even go over the pairs while every
-//! link's travel since the last pass stays within its budget: each pair's slack then (how far
-//! it lay above what makes it worth measuring), all of it to a link against an obstacle and
-//! half to each of two links, the smallest a link is given being its budget.
+//! to within the resolution at the looks. Each link keeps a travel budget: every pair's slack
+//! when it was last looked at (how far it lay above what makes it worth measuring) is shared
+//! out, all of it to a link against an obstacle and half to each of two links, and a link's
+//! budget is the smallest share it was given. A look goes over only the pairs of links whose
+//! travel has used up their budget, and skips the pairs altogether while none has.
 //!
 //! An object carried in the gripper ([`Carry`]) moves with the tool from the move after its pick
 //! up to and including the move into its place, and is checked against every other obstacle on
