@@ -1,15 +1,19 @@
 //! One editor frame, CPU side: the egui pass (every panel, both views with their reach maps and
 //! the dry run's arm over the commanded one, 500 waypoints in the sequence, the timeline's plot
 //! of every joint, commanded and simulated) and tessellation, without the GPU. Target: at most
-//! 4 ms median.
+//! 4 ms median. Also what the timeline does on the UI thread when the device's output changes:
+//! plan and dry-run the approach the next stream would start with.
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
+use armwright::approach::{approach_of, rest_pose};
 use armwright::editor::{
-    ChannelStopLink, Command, Editor, EditorOptions, EditorState, PlaybackCommand, ViewKind,
-    sample_scene,
+    ChannelStopLink, Command, Editor, EditorOptions, EditorState, PlaybackCommand, Traces,
+    ViewKind, sample_scene,
 };
 use armwright::scene::Waypoint;
+use armwright::task::{dry_run_of, dry_run_options_of};
 use armwright_test_support::seeded::Seeded;
+use armwright_trajectory::ApproachStart;
 use criterion::{Criterion, criterion_group, criterion_main};
 use egui::{RawInput, Rect, pos2, vec2};
 
@@ -111,5 +115,33 @@ fn editor_frame(c: &mut Criterion) {
     });
 }
 
-criterion_group!(benches, editor_frame);
+/// The timeline's approach refresh (`panels/timeline.rs`), run on the UI thread whenever the
+/// device's output or the timeline changes: the sample scene's approach from the rest pose
+/// after the wake pause, planned, dry-run and made into traces.
+fn approach_refresh(c: &mut Criterion) {
+    let state = EditorState::new(sample_scene(), None);
+    let scene = &state.scene;
+    let arm = state.arm().expect("the sample arm is valid");
+    let start = ApproachStart {
+        positions: rest_pose(arm),
+        gripper_closed: false,
+        hold: scene.timing.wake_pause_ms / 1e3,
+    };
+    c.bench_function("editor_approach_plan_and_dry_run", |b| {
+        b.iter(|| {
+            let approach = approach_of(scene, arm, &start).expect("the approach plans");
+            let run = dry_run_of(scene, arm, approach.plan()).expect("and dry-runs");
+            let options = dry_run_options_of(scene);
+            Traces::of(
+                arm,
+                approach.plan(),
+                &run,
+                options.derating,
+                options.servo.frame_period,
+            )
+        })
+    });
+}
+
+criterion_group!(benches, approach_refresh, editor_frame);
 criterion_main!(benches);

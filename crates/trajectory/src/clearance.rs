@@ -11,7 +11,11 @@
 //! distance its links could have covered since its last measurement might bring it into contact
 //! or below the move's smallest clearance so far (less the resolution): conservative
 //! advancement, so dwells and far-apart pairs cost nothing, and the smallest clearance is exact
-//! to within the resolution at the looks.
+//! to within the resolution at the looks. Each link keeps a travel budget: every pair's slack
+//! when it was last looked at (how far it lay above what makes it worth measuring) is shared
+//! out, all of it to a link against an obstacle and half to each of two links, and a link's
+//! budget is the smallest share it was given. A look goes over only the pairs of links whose
+//! travel has used up their budget, and skips the pairs altogether while none has.
 //!
 //! An object carried in the gripper ([`Carry`]) moves with the tool from the move after its pick
 //! up to and including the move into its place, and is checked against every other obstacle on
@@ -185,10 +189,22 @@ pub fn dry_run_clearance(
     timings: &[WaypointTiming],
     options: &ClearanceOptions,
 ) -> Clearance {
+    let end = trace.len().saturating_sub(1) as f64 * trace.step;
+    walk(
+        cell,
+        timings,
+        end,
+        options,
+        Passes::Skipping,
+        trace_positions(trace),
+    )
+}
+
+/// The trace's link positions at any time (s), in straight lines between its samples.
+fn trace_positions(trace: &ServoTrace) -> impl Fn(f64, &mut [f64]) + '_ {
     let samples = trace.len();
     let n = trace.joint_count;
-    let end = samples.saturating_sub(1) as f64 * trace.step;
-    walk(cell, timings, end, options, Passes::Skipping, |t, out| {
+    move |t, out| {
         if samples == 0 {
             return;
         }
@@ -200,7 +216,7 @@ pub fn dry_run_clearance(
         for (j, out) in out.iter_mut().enumerate().take(n) {
             *out = a[j] + (b[j] - a[j]) * share;
         }
-    })
+    }
 }
 
 /// The pairs left out because the gripper holds or reaches into an object, or the tool works
@@ -345,8 +361,8 @@ pub const SUNK_AT_PLACE: f64 = 1e-3;
 /// Whether a look may skip its pass over the pairs when none can need measuring.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 enum Passes {
-    /// Skip the pass while the travel since the last pass is within the smallest slack any pair
-    /// had then (the walk's own path).
+    /// Skip the pass while every link's travel since the last pass is within its budget (the
+    /// walk's own path).
     Skipping,
     /// Measure every pair at every look: the exhaustive check the skipping walk is compared with.
     #[cfg(test)]
@@ -490,6 +506,14 @@ struct CarriedCheck {
     last: (f64, f64, f64),
 }
 
+/// The sides whose travel is kept: each link, and the carried objects.
+const SIDES: usize = MAX_LINKS + 1;
+/// The side of the carried objects: the tool link's travel plus the farthest carried point's
+/// swing about the tool point.
+const CARRIED: usize = MAX_LINKS;
+/// Rounding of the travel sums is far below this margin, m.
+const MARGIN: f64 = 1e-12;
+
 /// One move's bookkeeping: each pair's last distance and how far its links have moved since.
 struct Look<'o> {
     options: &'o ClearanceOptions,
@@ -497,8 +521,9 @@ struct Look<'o> {
     pairs: Vec<Pair>,
     /// Per pair: distance at its last measurement (m) and the links' travel then (m).
     last: Vec<(f64, f64, f64)>,
-    /// Each link's travel since the move began, an upper bound, in m.
-    travel: [f64; MAX_LINKS],
+    /// Each link's travel since the move began, an upper bound, in m; at [`CARRIED`], the
+    /// tool link's plus the farthest carried point's swing about the tool point.
+    travel: [f64; SIDES],
     /// Per pair: whether the other side is a box (whose distance query is iterative, so a cheap
     /// bound goes first).
     boxed: Vec<bool>,
@@ -509,11 +534,19 @@ struct Look<'o> {
     turn: f64,
     /// Whether a look may skip its pass over the pairs.
     passes: Passes,
-    /// The smallest slack (m) of any pair after the last pass: how far its lowest possible
-    /// distance lay above what makes it worth measuring. Zero forces the next pass.
-    slack: f64,
-    /// How much any pair's lowest possible distance may have fallen since the last pass, m.
-    spent: f64,
+    /// Per side (link, or the carried objects at [`CARRIED`]): how far it may travel after the
+    /// last pass before some pair it belongs to could be worth measuring, m. The pairs' slacks
+    /// (how far each one's lowest possible distance lay above what makes it worth measuring)
+    /// are shared out: a pair against an obstacle gives its link all of its slack, a pair of two
+    /// links (or a carried object and a link) gives each half, so while every side stays within
+    /// its budget no pair's two sides together use up its slack. Zero forces the next pass.
+    budget: [f64; SIDES],
+    /// Each side's travel when its budget was last set afresh, m.
+    since: [f64; SIDES],
+    /// The sides out of room at the current pass.
+    spent: [bool; SIDES],
+    /// The tool link, whose travel the carried objects' adds to.
+    tool: usize,
     /// Farthest point of any carried object on this move from the tool point, m.
     reach: f64,
 }
@@ -553,34 +586,67 @@ impl<'o> Look<'o> {
             },
             last: vec![(f64::NEG_INFINITY, 0.0, 0.0); pairs.len()],
             pairs,
-            travel: [0.0; MAX_LINKS],
+            travel: [0.0; SIDES],
             carried,
             turn: 0.0,
             passes,
-            slack: 0.0,
-            spent: 0.0,
+            budget: [0.0; SIDES],
+            since: [0.0; SIDES],
+            spent: [false; SIDES],
+            tool: cell.shape.tool_link(),
             reach,
         }
     }
 
+    /// Adds each link's travel bound (m) and the joints' summed turn (rad) of one step.
     fn moved(&mut self, sweep: &[f64], turn: f64) {
-        let mut farthest = 0.0_f64;
-        for (travel, step) in self.travel.iter_mut().zip(sweep) {
+        for (travel, step) in self.travel.iter_mut().zip(sweep).take(MAX_LINKS) {
             *travel += step;
-            farthest = farthest.max(*step);
         }
         self.turn += turn;
-        // A pair's lowest distance falls by its two sides' travel: at most twice the farthest
-        // any link moved, plus a carried object's swing about the tool point.
-        self.spent += 2.0 * farthest + self.reach * turn;
+        self.travel[CARRIED] = self.travel[self.tool] + self.reach * self.turn;
     }
 
-    /// Whether no pair can be worth measuring now: every pair's lowest possible distance still
-    /// lies above zero and above the threshold, as it did by more than the travel since.
+    /// How much farther each side may travel before some pair could be worth measuring, m
+    /// (less a margin for the rounding of the sums).
+    fn room(&self, side: usize) -> f64 {
+        self.budget[side] - (self.travel[side] - self.since[side]) - MARGIN
+    }
+
+    /// Whether no pair can be worth measuring now: every side's travel since the last pass is
+    /// within its budget, so every pair's lowest possible distance still lies above zero and
+    /// above the threshold.
     fn all_clear(&self) -> bool {
-        // Rounding of the sums is far below this margin (m).
-        const MARGIN: f64 = 1e-12;
-        self.passes == Passes::Skipping && self.spent + MARGIN < self.slack
+        self.passes == Passes::Skipping && (0..SIDES).all(|side| self.room(side) > 0.0)
+    }
+
+    /// Whether a pair of `side` and `other` must be looked at in this pass: one of its sides is
+    /// out of room. A pair whose sides both still have room is clear: each has travelled less
+    /// than its share of the pair's slack since that was shared out.
+    fn due(&self, side: usize, other: Other) -> bool {
+        self.spent[side] || matches!(other, Other::Link(link) if self.spent[link])
+    }
+
+    /// Shares a pair's slack (m, from now) out to its sides: all of it to a side against an
+    /// obstacle, half to each of two moving sides. A side out of room (with a fresh budget
+    /// from now) takes its share as its budget; a side that still has room keeps it only up
+    /// to its share, so that the two sides together cannot use up the slack.
+    fn allow(&mut self, side: usize, other: Other, slack: f64) {
+        let share = |this: &mut Look<'_>, side: usize, share: f64| {
+            let limit = if this.spent[side] {
+                share
+            } else {
+                this.travel[side] - this.since[side] + share
+            };
+            this.budget[side] = this.budget[side].min(limit);
+        };
+        match other {
+            Other::Obstacle(_) => share(self, side, slack),
+            Other::Link(link) => {
+                share(self, side, 0.5 * slack);
+                share(self, link, 0.5 * slack);
+            }
+        }
     }
 
     fn travel_of(&self, other: Other) -> f64 {
@@ -605,17 +671,31 @@ impl<'o> Look<'o> {
         if self.all_clear() {
             return;
         }
-        self.slack = self.pass(cell, t, positions).max(0.0);
-        self.spent = 0.0;
+        // The sides out of room: only their pairs can be worth measuring; they get fresh
+        // budgets from now on, the others keep theirs (or less).
+        let mut spent = [self.passes != Passes::Skipping; SIDES];
+        for (side, spent) in spent.iter_mut().enumerate() {
+            *spent |= self.room(side) <= 0.0;
+            if *spent {
+                self.budget[side] = f64::INFINITY;
+                self.since[side] = self.travel[side];
+            }
+        }
+        self.spent = spent;
+        if !self.pass(cell, t, positions) {
+            self.budget = [0.0; SIDES];
+        }
+        for budget in &mut self.budget {
+            *budget = budget.max(0.0);
+        }
     }
 
     /// One pass over the pairs: each is measured unless its lowest possible distance lies above
-    /// zero and above the threshold. Returns the smallest slack of any pair after it: its lowest
-    /// possible distance less the larger of zero and the threshold when it was looked at (the
-    /// threshold only falls, so that is never more than the slack at the pass's end); zero when
-    /// the pose cannot be placed.
-    fn pass(&mut self, cell: &Workcell<'_>, t: f64, positions: &[f64]) -> f64 {
-        let mut slack = f64::INFINITY;
+    /// zero and above the threshold. Each pair's slack after it (its lowest possible distance
+    /// less the larger of zero and the threshold when it was looked at; the threshold only
+    /// falls, so that is never more than the slack at the pass's end) goes to its sides'
+    /// budgets. Returns false when the pose cannot be placed.
+    fn pass(&mut self, cell: &Workcell<'_>, t: f64, positions: &[f64]) -> bool {
         let mut pose: Option<(ChainPose, PlacedArm)> = None;
         let placed_pose = |pose: &mut Option<(ChainPose, PlacedArm)>| -> bool {
             if pose.is_none() {
@@ -631,20 +711,23 @@ impl<'o> Look<'o> {
         };
         for index in 0..self.pairs.len() {
             let pair = self.pairs[index];
+            if !self.due(pair.link, pair.other) {
+                continue;
+            }
             let (distance, link_then, other_then) = self.last[index];
             let (link_now, other_now) = (self.travel[pair.link], self.travel_of(pair.other));
             let lowest = distance - (link_now - link_then) - (other_now - other_then);
             let threshold = self.threshold();
             let floor = threshold.max(0.0);
             if lowest > 0.0 && lowest >= threshold && self.passes == Passes::Skipping {
-                slack = slack.min(lowest - floor);
+                self.allow(pair.link, pair.other, lowest - floor);
                 continue;
             }
             if !placed_pose(&mut pose) {
-                return 0.0;
+                return false;
             }
             let Some((_, placed)) = pose.as_ref() else {
-                return 0.0;
+                return false;
             };
             // A cheap lower bound first: when it clears the threshold, it serves as well as the
             // distance for the next skip.
@@ -652,17 +735,21 @@ impl<'o> Look<'o> {
                 let bound = pair_distance_bound(cell.shape, placed, cell.obstacles, pair);
                 if bound > 0.0 && bound >= threshold {
                     self.last[index] = (bound, link_now, other_now);
-                    slack = slack.min(bound - floor);
+                    self.allow(pair.link, pair.other, bound - floor);
                     continue;
                 }
             }
             let distance = pair_distance(cell.shape, placed, cell.obstacles, pair);
             self.last[index] = (distance, link_now, other_now);
             self.record(t, pair, None, distance);
-            slack = slack.min(distance - self.threshold().max(0.0));
+            self.allow(pair.link, pair.other, distance - self.threshold().max(0.0));
         }
         for index in 0..self.carried.len() {
             let check = &self.carried[index];
+            let other = check.pair.other;
+            if !self.due(CARRIED, other) {
+                continue;
+            }
             let Some(held) = cell.carried.get(check.carry) else {
                 continue;
             };
@@ -671,14 +758,14 @@ impl<'o> Look<'o> {
             let (distance, then, other_then) = check.last;
             let lowest = distance - (travel - then) - (other_travel - other_then);
             if lowest > 0.0 && lowest >= self.threshold() && self.passes == Passes::Skipping {
-                slack = slack.min(lowest - self.threshold().max(0.0));
+                self.allow(CARRIED, other, lowest - self.threshold().max(0.0));
                 continue;
             }
             if !placed_pose(&mut pose) {
-                return 0.0;
+                return false;
             }
             let Some((chain, placed)) = pose.as_ref() else {
-                return 0.0;
+                return false;
             };
             let distance = match check.pair.other {
                 Other::Obstacle(obstacle) => match cell.obstacles.get(obstacle) {
@@ -698,9 +785,9 @@ impl<'o> Look<'o> {
             let pair = check.pair;
             self.carried[index].last = (distance, travel, other_travel);
             self.record(t, pair, Some(held.object.obstacle), distance);
-            slack = slack.min(distance - self.threshold().max(0.0));
+            self.allow(CARRIED, pair.other, distance - self.threshold().max(0.0));
         }
-        slack
+        true
     }
 
     /// Notes one measurement: `pair` (with its carried object, if that is what was measured)
@@ -747,6 +834,155 @@ mod tests {
     use crate::profile::ProfileShape;
     use crate::servo_sim::ServoModelOptions;
     use armwright_test_support::arms;
+
+    /// Asserts that the skipping walk found the same first contact (move, time, pair, carried
+    /// object, depth) on every move as measuring every pair at every look, and the same smallest
+    /// clearance per move to within the resolution (never below it: it is measured, not
+    /// guessed). Returns how many moves have a contact.
+    fn assert_same(fast: &Clearance, every: &Clearance, options: &ClearanceOptions) -> usize {
+        assert_eq!(fast.moves.len(), every.moves.len());
+        let mut contacts = 0;
+        for (a, b) in fast.moves.iter().zip(&every.moves) {
+            assert_eq!(a.first_contact, b.first_contact, "move {}", a.waypoint);
+            contacts += usize::from(a.first_contact.is_some());
+            let resolution = options
+                .resolution
+                .max(options.relative_resolution * b.min_clearance);
+            assert!(
+                a.min_clearance >= b.min_clearance - 1e-12
+                    && a.min_clearance <= b.min_clearance + resolution,
+                "move {}: skipping {} m, every pair {} m",
+                a.waypoint,
+                a.min_clearance,
+                b.min_clearance
+            );
+        }
+        contacts
+    }
+
+    #[test]
+    fn skipping_finds_what_measuring_every_pair_at_every_look_finds_in_random_scenes() {
+        // Six random scenes (a table at a random height and three boxes of random size and
+        // place around the arm, with and without a wrist roll), each with random moves, every
+        // other one carrying a box on some of them; looked at along the plan and along its dry
+        // run. The skipping walk must find the same first contacts (move, time, pair, depth)
+        // as measuring every pair at every look, and each move's smallest clearance to within
+        // the resolution (0.1 mm or 2 % of it; every other scene with a fine resolution of
+        // 0.01 mm, which leaves the skipping little room). Every third scene's moves are wide
+        // enough to fold the arm onto itself.
+        use crate::dry_run::{DryRunOptions, dry_run};
+        let (mut contacts, mut near, mut walks) = (0, 0, 0);
+        for seed in 0..6_u64 {
+            let options = if seed % 2 == 0 {
+                ClearanceOptions::default()
+            } else {
+                ClearanceOptions {
+                    resolution: 1e-5,
+                    relative_resolution: 0.0,
+                    ..ClearanceOptions::default()
+                }
+            };
+            let spread = if seed % 3 == 2 { 1.4 } else { 0.6 };
+            let mut rng = arms::Seeded::new(100 + seed);
+            let arm = arms::articulated(seed % 2 == 0);
+            let shape = ArmShape::of(&arm);
+            let mut obstacles = vec![Obstacle::table(rng.uniform(-0.01, 0.03))];
+            for name in ["first", "second", "third"] {
+                let size = Vector3::new(
+                    rng.uniform(0.01, 0.04),
+                    rng.uniform(0.01, 0.04),
+                    rng.uniform(0.01, 0.05),
+                );
+                let centre = Vector3::new(rng.uniform(0.08, 0.22), rng.uniform(-0.15, 0.15), 0.0);
+                obstacles.push(Obstacle::standing_box(name, centre, size));
+            }
+            let centre = [0.0, 0.9, -1.2, 0.3, 0.0];
+            let n = arm.joint_count();
+            let waypoints: Vec<TaskWaypoint> = (0..10)
+                .map(|_| TaskWaypoint {
+                    positions: centre[..n]
+                        .iter()
+                        .map(|c| c + rng.uniform(-spread, spread))
+                        .collect(),
+                    stop: rng.uniform(0.0, 1.0) < 0.7,
+                    dwell: 0.05,
+                    speed_share: rng.uniform(0.5, 1.0),
+                    gripper_closed: false,
+                    straight: false,
+                    shape: ProfileShape::DoubleS,
+                })
+                .collect();
+            let carried = if seed % 2 == 1 {
+                let tool = tool_pose(&arm, &waypoints[2].positions).unwrap();
+                let held = Obstacle::standing_box(
+                    "held",
+                    tool.translation.vector - Vector3::new(0.0, 0.0, 0.02),
+                    Vector3::repeat(0.02),
+                );
+                vec![Carry {
+                    first: 3,
+                    last: 6,
+                    object: CarriedBox::picked(1, &held, &tool).unwrap(),
+                    lifted_from: Vec::new(),
+                    put_on: Vec::new(),
+                }]
+            } else {
+                Vec::new()
+            };
+            let task = Task {
+                waypoints,
+                limits: LimitSettings::default(),
+                model: ServoModelOptions::default(),
+                shaping: None,
+            };
+            let plan = plan_task(&arm, &task).unwrap();
+            let cell = Workcell {
+                arm: &arm,
+                shape: &shape,
+                obstacles: &obstacles,
+                exemptions: &[],
+                carried: &carried,
+            };
+            let end = plan.duration();
+            let along_plan = |passes: Passes| {
+                walk(&cell, plan.timings(), end, &options, passes, |t, out| {
+                    plan.positions_at(t.min(end), out)
+                })
+            };
+            let simulated = dry_run(&arm, &plan, plan.timings(), &DryRunOptions::default())
+                .unwrap()
+                .trace;
+            let trace_end = simulated.len().saturating_sub(1) as f64 * simulated.step;
+            let along_dry_run = |passes: Passes| {
+                walk(
+                    &cell,
+                    plan.timings(),
+                    trace_end,
+                    &options,
+                    passes,
+                    trace_positions(&simulated),
+                )
+            };
+            for (fast, every) in [
+                (along_plan(Passes::Skipping), along_plan(Passes::Every)),
+                (
+                    along_dry_run(Passes::Skipping),
+                    along_dry_run(Passes::Every),
+                ),
+            ] {
+                contacts += assert_same(&fast, &every, &options);
+                near += every
+                    .moves
+                    .iter()
+                    .filter(|m| (0.0..0.01).contains(&m.min_clearance))
+                    .count();
+                walks += 1;
+            }
+        }
+        assert_eq!(walks, 12);
+        assert!(contacts > 0, "the random scenes must also have contacts");
+        assert!(near > 0, "and near misses within 10 mm");
+    }
 
     #[test]
     fn skipping_passes_finds_what_measuring_every_pair_at_every_look_finds() {
@@ -819,22 +1055,7 @@ mod tests {
             })
         };
         let (fast, every) = (run(Passes::Skipping), run(Passes::Every));
-        let mut contacts = 0;
-        for (a, b) in fast.moves.iter().zip(&every.moves) {
-            assert_eq!(a.first_contact, b.first_contact, "move {}", a.waypoint);
-            contacts += usize::from(a.first_contact.is_some());
-            let resolution = options
-                .resolution
-                .max(options.relative_resolution * b.min_clearance);
-            assert!(
-                a.min_clearance >= b.min_clearance - 1e-12
-                    && a.min_clearance <= b.min_clearance + resolution,
-                "move {}: skipping {} m, every pair {} m",
-                a.waypoint,
-                a.min_clearance,
-                b.min_clearance
-            );
-        }
+        let contacts = assert_same(&fast, &every, &options);
         assert!(
             contacts > 0,
             "the random moves must also reach into something"
