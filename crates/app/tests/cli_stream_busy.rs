@@ -14,7 +14,7 @@
 
 mod common;
 
-use common::device_sim::{DeviceSim, binary};
+use common::device_sim::{DeviceSim, stream_child};
 use std::io::Read;
 use std::process::{Child, Command, Stdio};
 
@@ -60,22 +60,7 @@ impl Drop for BusyLoops {
 fn the_longest_sample_streams_to_its_end_beside_six_busy_loops() {
     let device = DeviceSim::start();
     let busy = BusyLoops::start(6);
-    let mut stream = binary()
-        .args([
-            "stream",
-            &common::sample_path(LONGEST_SAMPLE),
-            "--port",
-            &device.path,
-            "--rate",
-            "50",
-            "--yes",
-            "--json",
-        ])
-        .stdin(Stdio::null())
-        .stdout(Stdio::piped())
-        .stderr(Stdio::piped())
-        .spawn()
-        .expect("the armwright binary runs");
+    let mut stream = stream_child(LONGEST_SAMPLE, &device);
     let mut stderr = String::new();
     let mut stdout = String::new();
     let mut err_pipe = stream.stderr.take().expect("piped");
