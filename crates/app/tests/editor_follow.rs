@@ -15,14 +15,13 @@ use armwright::editor::{
     ACKNOWLEDGE_LABEL, Command, Editor, FOLLOW_INPUT_LABEL, FOLLOW_LABEL, FollowCommand,
     FollowPhase, FollowSource, JOG_ON_KEY, Level, StopState,
 };
-use armwright::scene::save;
 use armwright_link::{DeviceMode, LinkState, ReadingsSource};
 use egui::{Event, Key, Modifiers};
 use egui_kittest::kittest::{NodeT, Queryable};
 
 use editor_common::{
-    EditorHarness, click_tab, device_mode, file_editor, link_state, press_stop_key, sample_editor,
-    scene_with_inputs, scratch, step_until_slow,
+    EditorHarness, click_tab, connected_with_inputs, device_mode, link_state, press_stop_key,
+    sample_editor, step_until_slow,
 };
 
 fn press(harness: &mut EditorHarness, key: Key, modifiers: Modifiers) {
@@ -234,14 +233,7 @@ fn switch_input_follow(harness: &mut EditorHarness) {
 
 #[test]
 fn follow_the_input_arm_then_leave_lose_readings_and_stop() {
-    let dir = scratch("follow-inputs-scene");
-    let path = dir.join("inputs.armwright.json");
-    save(&scene_with_inputs(), &path).expect("saves");
-    let mut harness = file_editor("follow-inputs", path);
-    harness.get_by_label("Connect").click_accesskit();
-    step_until_slow(&mut harness, "the input arm", |editor| {
-        link_state(editor) == Some(LinkState::Idle) && editor.state.input_pose.is_some()
-    });
+    let mut harness = connected_with_inputs("follow-inputs-scene", "inputs", "follow-inputs");
     click_tab(&mut harness, "Follow");
     assert!(
         !harness.state().state.follow.on,

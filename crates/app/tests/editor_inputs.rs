@@ -14,13 +14,13 @@ use armwright::editor::{
     FollowSource, JOG_ON_KEY, JOG_WHILE_FOLLOWING_INPUTS, Level,
 };
 use armwright::scene::{InputDoc, InputPointDoc, load, save};
-use armwright_link::{LinkState, ReadingsRecording, ReadingsSource};
+use armwright_link::{ReadingsRecording, ReadingsSource};
 use egui::{Event, Key, Modifiers};
 use egui_kittest::kittest::{NodeT, Queryable};
 
 use editor_common::{
-    EditorHarness, click_tab, connect, file_editor, link_state, scene_with_inputs, scratch,
-    step_until, step_until_slow,
+    EditorHarness, click_tab, connect, connected_with_inputs, file_editor, scene_with_inputs,
+    scratch, step_until, step_until_slow,
 };
 
 /// The input arm's section of the Arm tab.
@@ -317,14 +317,7 @@ fn press(harness: &mut EditorHarness, key: Key) {
 
 #[test]
 fn jog_keys_move_nothing_while_the_device_follows_the_input_arm() {
-    let dir = scratch("inputs-jog-scene");
-    let path = dir.join("inputs-jog.armwright.json");
-    save(&scene_with_inputs(), &path).expect("saves");
-    let mut harness = file_editor("inputs-jog", path);
-    harness.get_by_label("Connect").click_accesskit();
-    step_until_slow(&mut harness, "the input arm", |editor| {
-        link_state(editor) == Some(LinkState::Idle) && editor.state.input_pose.is_some()
-    });
+    let mut harness = connected_with_inputs("inputs-jog-scene", "inputs-jog", "inputs-jog");
     click_tab(&mut harness, "Follow");
     harness.get_by_label(ACKNOWLEDGE_LABEL).click_accesskit();
     harness.run_steps(2);

@@ -492,6 +492,20 @@ pub fn assert_stop_reached_link(
     );
 }
 
+/// An editor on a saved copy of [`scene_with_inputs`] (`FILE.armwright.json` in the
+/// scratch directory `scratch_name`; `FILE` is `file`), connected through its own Connect button to the simulated
+/// device, stepped until the link is idle and the input arm has a pose.
+pub fn connected_with_inputs(scratch_name: &str, file: &str, editor: &str) -> EditorHarness {
+    let path = scratch(scratch_name).join(format!("{file}.armwright.json"));
+    armwright::scene::save(&scene_with_inputs(), &path).expect("saves");
+    let mut harness = file_editor(editor, path);
+    harness.get_by_label("Connect").click_accesskit();
+    step_until_slow(&mut harness, "the input arm", |editor| {
+        link_state(editor) == Some(LinkState::Idle) && editor.state.input_pose.is_some()
+    });
+    harness
+}
+
 /// The sample arm with inputs 0–3 on its four joints: readings 1048 and 3048 (the ends of the
 /// simulated sweep) at the two positions given per joint, all inside the joints' limits.
 pub fn scene_with_inputs() -> Scene {
