@@ -734,10 +734,18 @@ const LIFT_PINION_MM: f64 = 10.0;
 /// and calibration of the joint doing the nearest job, and a new lift gets 60 mm of travel on a
 /// 10 mm pinion.
 ///
+/// The input arm's inputs go with the joints they move, by name. Between 4 and 5 joints the
+/// joints kept are the same joints (name, place, servo, calibration), so their inputs are kept;
+/// between the articulated and horizontal-jointed types every joint changes its job (even the
+/// "shoulder" swings about a vertical axis on one and lifts the arm on the other), so an input's
+/// measured positions mean nothing on the new type, as a waypoint's do not.
+///
 /// # Errors
-/// A message saying what would be lost when a switch between articulated and horizontal-jointed
-/// arms meets taught waypoints (their joint positions mean nothing on the other type) or timing
-/// limits naming a joint the new type does not have; the scene is left as it is.
+/// A message saying what would be lost, naming it, when the switch meets taught waypoints
+/// between articulated and horizontal-jointed arms (their joint positions mean nothing on the
+/// other type), timing limits naming a joint the new arm does not have, or inputs of the input
+/// arm that move such a joint — or any input, between articulated and horizontal-jointed arms;
+/// the scene is left as it is.
 pub(crate) fn with_arm_type(
     scene: &Scene,
     choice: ArmTypeChoice,
@@ -763,6 +771,12 @@ pub(crate) fn with_arm_type(
                 .to_string()
         }
         (ArmShape::Articulated5(size), ArmTypeChoice::Articulated4) => {
+            let kept = scene.arm.joints.get(..4)?;
+            if let Err(refusal) = refuse_limits(scene, kept, "4-joint articulated")
+                .and_then(|()| refuse_inputs(scene, kept, "4-joint articulated"))
+            {
+                return Some(Err(refusal));
+            }
             out.arm.shape = ArmShape::Articulated4(size.clone());
             let removed = out.arm.joints.pop()?;
             for waypoint in &mut out.waypoints {
@@ -784,6 +798,9 @@ pub(crate) fn with_arm_type(
                 named(wrist, "wrist roll"),
             ];
             if let Err(refusal) = keeps_taught_data(scene, &joints, "horizontal-jointed") {
+                return Some(Err(refusal));
+            }
+            if let Err(refusal) = refuse_inputs(scene, &[], "horizontal-jointed") {
                 return Some(Err(refusal));
             }
             out.arm.shape = ArmShape::Scara(carried_over(
@@ -814,6 +831,9 @@ pub(crate) fn with_arm_type(
                 named(roll, "wrist pitch"),
             ];
             if let Err(refusal) = keeps_taught_data(scene, &joints, "articulated") {
+                return Some(Err(refusal));
+            }
+            if let Err(refusal) = refuse_inputs(scene, &[], "articulated") {
                 return Some(Err(refusal));
             }
             out.arm.shape = ArmShape::Articulated4(carried_over(
@@ -873,11 +893,26 @@ fn keeps_taught_data(scene: &Scene, joints: &[JointDoc], kind: &str) -> Result<(
     if !scene.waypoints.is_empty() {
         return Err(format!(
             "not switched: the {} taught waypoint(s) hold joint positions that mean nothing on a \
-             {kind} arm and would be lost; save the scene under another name, delete the \
+             {} {kind} arm and would be lost; save the scene under another name, delete the \
              waypoints and switch, then teach them again",
-            scene.waypoints.len()
+            scene.waypoints.len(),
+            article(kind)
         ));
     }
+    refuse_limits(scene, joints, kind)
+}
+
+/// "an" before a word that starts with a vowel ("an articulated arm"), else "a".
+fn article(word: &str) -> &'static str {
+    if word.starts_with(['a', 'e', 'i', 'o', 'u']) {
+        "an"
+    } else {
+        "a"
+    }
+}
+
+/// Refuses a switch that would leave timing limits naming joints the new arm (`joints`) lacks.
+fn refuse_limits(scene: &Scene, joints: &[JointDoc], kind: &str) -> Result<(), String> {
     let orphans: Vec<&str> = scene
         .timing
         .joint_limits
@@ -887,12 +922,41 @@ fn keeps_taught_data(scene: &Scene, joints: &[JointDoc], kind: &str) -> Result<(
         .collect();
     if !orphans.is_empty() {
         return Err(format!(
-            "not switched: the timing limits for {} name joint(s) a {kind} arm does not have and \
-             would be lost; remove them from the scene's timing first",
-            orphans.join(", ")
+            "not switched: the timing limits for {} name joint(s) {} {kind} arm does not have \
+             and would be lost; remove them from the scene's timing first",
+            orphans.join(", "),
+            article(kind)
         ));
     }
     Ok(())
+}
+
+/// Refuses a switch that would leave inputs of the input arm moving joints that go away: any
+/// not among `kept`, the joints that stay the same joints on the new arm.
+fn refuse_inputs(scene: &Scene, kept: &[JointDoc], kind: &str) -> Result<(), String> {
+    let orphans: Vec<String> = scene
+        .inputs
+        .iter()
+        .filter(|input| !kept.iter().any(|joint| joint.name == input.joint))
+        .map(|input| format!("input {} (joint \"{}\")", input.input, input.joint))
+        .collect();
+    let (holds, joints, rows) = match orphans.len() {
+        0 => return Ok(()),
+        1 => ("holds", "a joint", "that row"),
+        _ => ("hold", "joints", "those rows"),
+    };
+    let a = article(kind);
+    let which = if kept.is_empty() {
+        let does = if orphans.len() == 1 { "does" } else { "do" };
+        format!("{joints} that {does} another job on {a} {kind} arm")
+    } else {
+        format!("{joints} {a} {kind} arm does not have")
+    };
+    Err(format!(
+        "not switched: the input arm's {} {holds} measured positions of {which}, and they would \
+         be lost; remove {rows} in the input arm form at the foot of this tab first",
+        orphans.join(", ")
+    ))
 }
 
 #[cfg(test)]
@@ -1058,5 +1122,88 @@ mod tests {
         assert_eq!(validate(&back), Vec::new());
         assert!(build_arm(&back.arm).is_ok());
         assert_eq!(back.arm.shape, scene.arm.shape);
+    }
+
+    fn input_on(input: u32, joint: &str) -> crate::scene::InputDoc {
+        crate::scene::InputDoc {
+            input,
+            joint: joint.into(),
+            points: [(1000, -20.0), (3000, 20.0)]
+                .map(|(reading, position)| crate::scene::InputPointDoc { reading, position })
+                .to_vec(),
+        }
+    }
+
+    #[test]
+    fn an_input_on_the_wrist_roll_refuses_four_joints_and_the_others_are_kept() {
+        let (mut five, _) = with_arm_type(&sample_scene(), ArmTypeChoice::Articulated5)
+            .expect("switches")
+            .expect("allowed");
+        five.inputs = vec![input_on(0, "shoulder"), input_on(4, "wrist roll")];
+        assert_eq!(validate(&five), Vec::new());
+        let refusal = with_arm_type(&five, ArmTypeChoice::Articulated4)
+            .expect("a switch")
+            .expect_err("the roll's input would dangle");
+        assert_eq!(
+            refusal,
+            "not switched: the input arm's input 4 (joint \"wrist roll\") holds measured \
+             positions of a joint a 4-joint articulated arm does not have, and they would be lost; \
+             remove that row in the input arm form at the foot of this tab first"
+        );
+        // Without it, the shoulder's input goes along unchanged and the scene stays valid.
+        five.inputs.truncate(1);
+        let (four, _) = with_arm_type(&five, ArmTypeChoice::Articulated4)
+            .expect("a switch")
+            .expect("allowed");
+        assert_eq!(four.inputs, five.inputs);
+        assert_eq!(validate(&four), Vec::new());
+        // Timing limits of the roll are refused the same way (they used to dangle).
+        five.timing.joint_limits = vec![crate::scene::JointLimitDoc {
+            joint: "wrist roll".into(),
+            ..Default::default()
+        }];
+        let refusal = with_arm_type(&five, ArmTypeChoice::Articulated4)
+            .expect("a switch")
+            .expect_err("the roll's limits would dangle");
+        assert!(
+            refusal.contains("timing limits for wrist roll"),
+            "{refusal}"
+        );
+    }
+
+    #[test]
+    fn any_input_refuses_a_switch_between_articulated_and_horizontal_jointed() {
+        let mut scene = sample_scene();
+        scene.waypoints.clear();
+        scene.timing.joint_limits.clear();
+        // "shoulder" and "elbow" keep their names on the horizontal-jointed arm, but not their
+        // jobs: the inputs' measured positions would mean something else there.
+        scene.inputs = vec![input_on(1, "shoulder"), input_on(2, "elbow")];
+        assert_eq!(validate(&scene), Vec::new());
+        let refusal = with_arm_type(&scene, ArmTypeChoice::Scara)
+            .expect("a switch")
+            .expect_err("refused");
+        assert_eq!(
+            refusal,
+            "not switched: the input arm's input 1 (joint \"shoulder\"), input 2 (joint \
+             \"elbow\") hold measured positions of joints that do another job on a \
+             horizontal-jointed arm, and they would be lost; remove those rows in the input arm \
+             form at the foot of this tab first"
+        );
+        scene.inputs.clear();
+        let (mut scara, _) = with_arm_type(&scene, ArmTypeChoice::Scara)
+            .expect("a switch")
+            .expect("allowed");
+        scara.inputs = vec![input_on(0, "lift")];
+        let refusal = with_arm_type(&scara, ArmTypeChoice::Articulated4)
+            .expect("a switch")
+            .expect_err("refused");
+        assert!(
+            refusal.contains(
+                "input 0 (joint \"lift\") holds measured positions of a joint that does another \
+                 job on an articulated arm"
+            ),
+            "{refusal}"
+        );
     }
 }

@@ -193,18 +193,15 @@ pub(crate) fn apply(
                 .map(|(spec, &position)| spec.calibration.pulse_us(position));
             match wanted {
                 Some(wanted) => send(calibrating, around, wanted, said, link),
-                None => said.push(Message::new(
-                    Level::Warning,
-                    "the arm cannot be built: nothing to hold",
-                )),
+                None => warn(said, "the arm cannot be built: nothing to hold"),
             }
         }
         CalibrationCommand::Step(step_us) => match calibrating.held_pulse_us {
             Some(held) => send(calibrating, around, held + step_us, said, link),
-            None => said.push(Message::new(
-                Level::Warning,
+            None => warn(
+                said,
                 "hold the joint first: its pulse is not known until this tool sends one",
-            )),
+            ),
         },
         CalibrationCommand::TypePosition(text) => calibrating.typed = text,
         CalibrationCommand::Record => record(calibrating, around.scene, said),
@@ -223,10 +220,7 @@ pub(crate) fn apply(
                     widths_us: Vec::new(),
                 };
             }
-            None => said.push(Message::new(
-                Level::Warning,
-                "hold the joint first, then look for the deadband",
-            )),
+            None => warn(said, "hold the joint first, then look for the deadband"),
         },
         CalibrationCommand::Moved => moved(calibrating),
         CalibrationCommand::CancelDeadband => calibrating.deadband = DeadbandSearch::Idle,
@@ -234,6 +228,11 @@ pub(crate) fn apply(
         CalibrationCommand::Apply => return apply_fit(calibrating, around, said),
     }
     None
+}
+
+/// Says `text` as a warning: what the person asked for was not done, and why.
+fn warn(said: &mut Vec<Message>, text: impl Into<String>) {
+    said.push(Message::new(Level::Warning, text));
 }
 
 /// Sends `wanted_us` on the joint's channel through the pulse rule (the device's unit, the
@@ -246,24 +245,21 @@ fn send(
     link: &mut Vec<LinkAction>,
 ) {
     let Some(device) = calibrating.device else {
-        said.push(Message::new(
-            Level::Warning,
-            "connect a device first (the Link tab)",
-        ));
+        warn(said, "connect a device first (the Link tab)");
         return;
     };
     if !around.caution_acknowledged {
-        said.push(Message::new(
-            Level::Warning,
+        warn(
+            said,
             "read and acknowledge the caution before the first pulse is sent",
-        ));
+        );
         return;
     }
     if around.stop_latched() {
-        said.push(Message::new(
-            Level::Warning,
+        warn(
+            said,
             "the emergency stop is latched: check the arm and reset the stop first",
-        ));
+        );
         return;
     }
     let joint = calibrating.joint;
@@ -275,10 +271,7 @@ fn send(
         return;
     };
     let Some(arm) = around.arm else {
-        said.push(Message::new(
-            Level::Warning,
-            "the arm cannot be built: nothing sent",
-        ));
+        warn(said, "the arm cannot be built: nothing sent");
         return;
     };
     let gripper = match around.gripper {
@@ -304,7 +297,7 @@ fn send(
         )
     });
     if let Some(limited) = calibrating.limited.clone() {
-        said.push(Message::new(Level::Warning, limited));
+        warn(said, limited);
     }
     calibrating.held_pulse_us = Some(sent.pulse_us);
     link.push(LinkAction::HoldChannel(ChannelPulse {
@@ -316,10 +309,7 @@ fn send(
 
 fn record(calibrating: &mut Calibrating, scene: &Scene, said: &mut Vec<Message>) {
     let Some(pulse_us) = calibrating.held_pulse_us else {
-        said.push(Message::new(
-            Level::Warning,
-            "hold the joint at a pulse before recording a point",
-        ));
+        warn(said, "hold the joint at a pulse before recording a point");
         return;
     };
     let text = calibrating.typed.trim();
@@ -337,7 +327,7 @@ fn record(calibrating: &mut Calibrating, scene: &Scene, said: &mut Vec<Message>)
         }
         _ => {
             let message = format!("the position read, \"{text}\", is not a number");
-            said.push(Message::new(Level::Warning, message));
+            warn(said, message);
         }
     }
 }
@@ -388,10 +378,7 @@ fn tick(
     };
     if around.stop_latched() {
         calibrating.deadband = DeadbandSearch::Idle;
-        said.push(Message::new(
-            Level::Warning,
-            "deadband search ended by the emergency stop",
-        ));
+        warn(said, "deadband search ended by the emergency stop");
         return;
     }
     let Some(due) = next_step_s else {
@@ -407,13 +394,13 @@ fn tick(
     };
     if (held - from_us).abs() >= DEADBAND_SEARCH_LIMIT_US {
         calibrating.deadband = DeadbandSearch::Idle;
-        said.push(Message::new(
-            Level::Warning,
+        warn(
+            said,
             format!(
                 "no movement seen within {DEADBAND_SEARCH_LIMIT_US:.0} µs: deadband search ended \
                  (is the servo powered?)"
             ),
-        ));
+        );
         return;
     }
     let asked = link.len();
@@ -425,10 +412,11 @@ fn tick(
     }
     if calibrating.limited.is_some() {
         calibrating.deadband = DeadbandSearch::Idle;
-        said.push(Message::new(
-            Level::Warning,
-            "the deadband search reached the end of the safe range: step away from it and start again",
-        ));
+        warn(
+            said,
+            "the deadband search reached the end of the safe range: step away from it and start \
+             again",
+        );
         return;
     }
     set_next_step(calibrating, now_s + DEADBAND_STEP_S);
@@ -489,10 +477,7 @@ fn apply_fit(
 ) -> Option<AppliedFit> {
     let joint = calibrating.joint;
     let Some(Ok(fit)) = &calibrating.fit else {
-        said.push(Message::new(
-            Level::Warning,
-            "record at least two points that fit before applying",
-        ));
+        warn(said, "record at least two points that fit before applying");
         return None;
     };
     let &kind = around.scene.arm.shape.joint_kinds().get(joint)?;

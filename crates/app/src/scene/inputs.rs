@@ -158,8 +158,13 @@ pub(super) fn fit_inputs(scene: &Scene, problems: &mut Vec<Problem>) -> InputMap
     InputMap { mapped, kinds }
 }
 
-/// The least-squares fit of one input's points (reading → rad or m), or what is wrong with them.
-fn fit_input(input: &InputDoc, kind: JointKindDoc) -> Result<CalibrationFit, String> {
+/// The least-squares fit of one input's points (reading → rad or m) on a joint of `kind`, or
+/// what is wrong with them, in the words the validator uses at the input's `points`.
+///
+/// # Errors
+/// Fewer than two points, a point that is not a number, every reading the same, or no change of
+/// position with the reading.
+pub(crate) fn fit_input(input: &InputDoc, kind: JointKindDoc) -> Result<CalibrationFit, String> {
     let points: Vec<CalibrationReading> = input
         .points
         .iter()

@@ -43,6 +43,7 @@ pub use document::{
     LinkSettings, MoveKind, PlacementDoc, ProfileKind, ScaraSize, Scene, ServoDoc, Shaping, Timing,
     ToolMassDoc, TrayDoc, Waypoint, Workspace,
 };
+pub(crate) use inputs::fit_input;
 pub use inputs::{InputMap, InputPose, input_map_of};
 pub use load::{load, load_bytes};
 pub use migrate::{CURRENT_VERSION, FORMAT_NAME};

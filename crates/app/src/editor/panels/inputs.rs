@@ -8,7 +8,9 @@ use egui::{CollapsingHeader, Color32, Grid, RichText, TextEdit, Ui};
 
 use crate::editor::command::Command;
 use crate::editor::device::LinkView;
-use crate::editor::inputs_form::{InputField, InputRow, InputsCommand, joint_kind, place_in_form};
+use crate::editor::inputs_form::{
+    InputField, InputFit, InputRow, InputsCommand, joint_kind, place_in_form,
+};
 use crate::editor::state::EditorState;
 use crate::scene::JointKindDoc;
 
@@ -36,8 +38,10 @@ pub fn inputs(ui: &mut Ui, state: &EditorState, view: &LinkView) -> Command {
     let scene = &state.scene;
     let rows = state.inputs_form.rows(scene);
     let problems = state.inputs_form.problems(scene);
+    let fits = state.inputs_form.fits(scene);
+    let concerns = fit_concerns(&fits);
     let mut title = RichText::new("Input arm (analog inputs)");
-    if !problems.is_empty() {
+    if !problems.is_empty() || !concerns.is_empty() {
         title = title.color(PROBLEM);
     }
     let readings: Option<Vec<u16>> = view
@@ -89,10 +93,37 @@ pub fn inputs(ui: &mut Ui, state: &EditorState, view: &LinkView) -> Command {
                     .on_hover_text(problem.path.as_str());
                 }
             }
+            if !concerns.is_empty() {
+                ui.label(
+                    RichText::new(format!(
+                        "{}, applied all the same:",
+                        super::counted(concerns.len(), "poor fit", "poor fits")
+                    ))
+                    .color(PROBLEM)
+                    .strong(),
+                );
+                for concern in &concerns {
+                    ui.colored_label(PROBLEM, concern);
+                }
+            }
             for (index, row) in rows.iter().enumerate() {
                 ui.separator();
                 let drawn = input_row(ui, state, index, row, readings.as_deref());
                 command = std::mem::replace(&mut command, Command::None).then(drawn);
+                match fits.get(index) {
+                    Some(Some(Ok(fit))) => {
+                        let text = format!("fit: {}", fit.summary());
+                        if fit.concerns.is_empty() {
+                            ui.label(text);
+                        } else {
+                            ui.colored_label(PROBLEM, text);
+                        }
+                    }
+                    Some(Some(Err(why))) => {
+                        ui.colored_label(PROBLEM, format!("no fit: {why}"));
+                    }
+                    _ => {}
+                }
             }
             ui.separator();
             if ui
@@ -105,6 +136,20 @@ pub fn inputs(ui: &mut Ui, state: &EditorState, view: &LinkView) -> Command {
             }
         });
     command
+}
+
+/// What is poor about each row's fit, named by its input and joint:
+/// `input 2 (joint "elbow"): point 3 is 4.7° off the fit …`.
+fn fit_concerns(fits: &[Option<Result<InputFit, String>>]) -> Vec<String> {
+    fits.iter()
+        .flatten()
+        .flatten()
+        .flat_map(|fit| {
+            fit.concerns
+                .iter()
+                .map(|concern| format!("input {} (joint \"{}\"): {concern}", fit.input, fit.joint))
+        })
+        .collect()
 }
 
 /// One row: its joint, its input's number and reading now, its points.
