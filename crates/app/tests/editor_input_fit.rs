@@ -7,42 +7,13 @@
 
 mod editor_common;
 
-use armwright::editor::ADD_INPUT_LABEL;
 use armwright::scene::{InputDoc, InputPointDoc, load, save};
-use egui::{Key, Modifiers};
 use egui_kittest::kittest::Queryable;
 
-use editor_common::{EditorHarness, click_tab, file_editor, scratch};
-
-/// The input arm's section of the Arm tab.
-const SECTION: &str = "Input arm (analog inputs)";
+use editor_common::{click_tab, file_editor, leave_field, open_input_arm_section, retype, scratch};
 
 fn point(reading: u32, position: f64) -> InputPointDoc {
     InputPointDoc { reading, position }
-}
-
-/// Opens the Arm tab and its input arm section.
-fn open_section(harness: &mut EditorHarness) {
-    click_tab(harness, "Arm");
-    if harness.query_by_label(ADD_INPUT_LABEL).is_none() {
-        harness.get_by_label(SECTION).click_accesskit();
-        harness.run_steps(2);
-    }
-    assert!(harness.query_by_label(ADD_INPUT_LABEL).is_some());
-}
-
-/// Focuses a field, selects its text and types `text`, a frame per character.
-fn retype(harness: &mut EditorHarness, label: &str, text: &str) {
-    harness.get_by_label(label).focus();
-    harness.run_steps(2);
-    harness.key_press_modifiers(Modifiers::COMMAND, Key::A);
-    harness.run_steps(1);
-    for piece in text.chars() {
-        harness.get_by_label(label).type_text(&piece.to_string());
-        harness.run_steps(1);
-    }
-    harness.key_press(Key::Tab);
-    harness.run_steps(2);
 }
 
 #[test]
@@ -60,7 +31,7 @@ fn a_point_off_the_fit_is_named_by_input_and_joint_until_measured_again() {
     }];
     save(&scene, &path).expect("saves");
     let mut harness = file_editor("input-fit", path.clone());
-    open_section(&mut harness);
+    open_input_arm_section(&mut harness);
 
     assert!(
         harness
@@ -85,6 +56,7 @@ fn a_point_off_the_fit_is_named_by_input_and_joint_until_measured_again() {
     assert_eq!(harness.state().state.scene.inputs, scene.inputs);
 
     retype(&mut harness, "row 1 point 2 position (°)", "0");
+    leave_field(&mut harness);
     let state = &harness.state().state;
     assert_eq!(state.scene.inputs[0].points[1], point(2000, 0.0));
     assert!(harness.query_by_label(&concern).is_none());
@@ -97,11 +69,13 @@ fn a_point_off_the_fit_is_named_by_input_and_joint_until_measured_again() {
 
     // Two readings alike: no fit, in the fit's own words, under the row.
     retype(&mut harness, "row 1 point 3 reading", "2000");
+    leave_field(&mut harness);
     assert!(
         harness.query_by_label_contains("no fit: ").is_none(),
         "three points, two readings: still a line"
     );
     retype(&mut harness, "row 1 point 1 reading", "2000");
+    leave_field(&mut harness);
     assert!(
         harness
             .query_by_label(

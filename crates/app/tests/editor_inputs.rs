@@ -19,44 +19,13 @@ use egui::{Event, Key, Modifiers};
 use egui_kittest::kittest::{NodeT, Queryable};
 
 use editor_common::{
-    EditorHarness, click_tab, connect, connected_with_inputs, file_editor, scene_with_inputs,
-    scratch, step_until, step_until_slow,
+    EditorHarness, click_tab, connect, connected_with_inputs, file_editor, leave_field,
+    open_input_arm_section, retype, scene_with_inputs, scratch, step_until, step_until_slow,
 };
-
-/// The input arm's section of the Arm tab.
-const SECTION: &str = "Input arm (analog inputs)";
-
-/// Focuses a field, selects its text and types `text`, a frame per character.
-fn retype(harness: &mut EditorHarness, label: &str, text: &str) {
-    harness.get_by_label(label).focus();
-    harness.run_steps(2);
-    harness.key_press_modifiers(Modifiers::COMMAND, Key::A);
-    harness.run_steps(1);
-    for piece in text.chars() {
-        harness.get_by_label(label).type_text(&piece.to_string());
-        harness.run_steps(1);
-    }
-    harness.run_steps(1);
-}
-
-/// Leaves the focused field with Tab, ending its undo step.
-fn leave_field(harness: &mut EditorHarness) {
-    harness.key_press(Key::Tab);
-    harness.run_steps(2);
-}
 
 fn click(harness: &mut EditorHarness, label: &str) {
     harness.get_by_label(label).click_accesskit();
     harness.run_steps(2);
-}
-
-/// Opens the Arm tab and its input arm section.
-fn open_section(harness: &mut EditorHarness) {
-    click_tab(harness, "Arm");
-    if harness.query_by_label(ADD_INPUT_LABEL).is_none() {
-        click(harness, SECTION);
-    }
-    assert!(harness.query_by_label(ADD_INPUT_LABEL).is_some());
 }
 
 fn point(reading: u32, position: f64) -> InputPointDoc {
@@ -71,7 +40,7 @@ fn a_new_input_is_measured_edited_undone_and_saved() {
     assert!(scene.inputs.is_empty());
     save(&scene, &path).expect("saves");
     let mut harness = file_editor("inputs-form", path.clone());
-    open_section(&mut harness);
+    open_input_arm_section(&mut harness);
     let joint = harness.state().state.scene.arm.joints[0].name.clone();
 
     // A new row: its joint and input are chosen, its two points wait to be measured, and each
@@ -238,7 +207,7 @@ fn take_puts_what_the_input_reads_now_into_a_point() {
     let mut harness = file_editor("inputs-take", path);
     connect(&mut harness);
     hold_readings(harness.state(), &[1500, 2500, 3500]);
-    open_section(&mut harness);
+    open_input_arm_section(&mut harness);
     // A row asks the device for readings, though the scene maps no input yet.
     click(&mut harness, ADD_INPUT_LABEL);
     step_until(&mut harness, "the held readings", |editor| {

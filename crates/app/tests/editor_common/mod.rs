@@ -10,8 +10,9 @@ use std::sync::mpsc::Receiver;
 use std::time::{Duration, Instant};
 
 use armwright::editor::{
-    ACKNOWLEDGE_LABEL, ChannelStopLink, DryRunStatus, EMERGENCY_STOP_LABEL, Editor, EditorOptions,
-    ReachStatus, RetimeRun, STOP_KEY, StopRequest, StopSource, StreamEnd, StreamPhase,
+    ACKNOWLEDGE_LABEL, ADD_INPUT_LABEL, ChannelStopLink, DryRunStatus, EMERGENCY_STOP_LABEL,
+    Editor, EditorOptions, ReachStatus, RetimeRun, STOP_KEY, StopRequest, StopSource, StreamEnd,
+    StreamPhase,
 };
 use armwright::scene::{InputDoc, InputPointDoc, Scene};
 use armwright_link::{DeviceMode, LinkState};
@@ -533,4 +534,36 @@ pub fn scene_with_inputs() -> Scene {
         })
         .collect();
     scene
+}
+
+/// The input arm's section of the Arm tab.
+pub const INPUT_ARM_SECTION: &str = "Input arm (analog inputs)";
+
+/// Opens the Arm tab and its input arm section.
+pub fn open_input_arm_section(harness: &mut EditorHarness) {
+    click_tab(harness, "Arm");
+    if harness.query_by_label(ADD_INPUT_LABEL).is_none() {
+        harness.get_by_label(INPUT_ARM_SECTION).click_accesskit();
+        harness.run_steps(2);
+    }
+    assert!(harness.query_by_label(ADD_INPUT_LABEL).is_some());
+}
+
+/// Focuses a field, selects its text and types `text`, a frame per character.
+pub fn retype(harness: &mut EditorHarness, label: &str, text: &str) {
+    harness.get_by_label(label).focus();
+    harness.run_steps(2);
+    harness.key_press_modifiers(Modifiers::COMMAND, egui::Key::A);
+    harness.run_steps(1);
+    for piece in text.chars() {
+        harness.get_by_label(label).type_text(&piece.to_string());
+        harness.run_steps(1);
+    }
+    harness.run_steps(1);
+}
+
+/// Leaves the focused field with Tab, ending its undo step.
+pub fn leave_field(harness: &mut EditorHarness) {
+    harness.key_press(egui::Key::Tab);
+    harness.run_steps(2);
 }
