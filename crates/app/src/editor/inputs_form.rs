@@ -27,7 +27,8 @@ const MOST_INPUTS: u32 = 8;
 /// `min_bow` says), and one step of the reference firmware's 10-bit converter
 /// ([`CONVERTER_STEP_COUNTS`]) is about ¼° on a potentiometer that turns about 270° over its
 /// track (from memory: 270° / 1024 steps). A point 2° off is several times both: a misread
-/// position, an input slipping on its shaft, or a reading taken from another input.
+/// position, an input slipping on its shaft, or a reading taken from another input. On a
+/// sliding joint the same 2 mm: a steel rule is read to about ½ mm (common practice).
 pub const POOR_RESIDUAL: f64 = 2.0;
 
 /// One step of the reference firmware's converter in reading counts: it reads 10 bits and sends
