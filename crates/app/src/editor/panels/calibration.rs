@@ -194,13 +194,7 @@ fn pulse_controls(ui: &mut Ui, state: &EditorState, may_move: bool) -> Command {
 fn points(ui: &mut Ui, state: &EditorState, symbol: &str) -> Command {
     let mut command = Command::None;
     let session = &state.calibration;
-    let kind_si = state
-        .scene
-        .arm
-        .shape
-        .joint_kinds()
-        .get(session.joint)
-        .map_or(1.0, |&kind| si_per_file_unit(kind));
+    let kind_si = si_per_shown_unit(state);
     let residuals = match &session.fit {
         Some(Ok(fit)) => fit.residuals.iter().map(|r| r / kind_si).collect(),
         _ => Vec::new(),
@@ -314,19 +308,24 @@ fn fit_summary(ui: &mut Ui, state: &EditorState, kind: JointKindDoc, symbol: &st
     }
 }
 
+/// rad or m per degree or mm of the joint being calibrated (1 when it is not in the arm).
+fn si_per_shown_unit(state: &EditorState) -> f64 {
+    state
+        .scene
+        .arm
+        .shape
+        .joint_kinds()
+        .get(state.calibration.joint)
+        .map_or(1.0, |&kind| si_per_file_unit(kind))
+}
+
 /// The worst miss of the straight-line fit at the recorded points, in rad or m.
 fn line_worst(state: &EditorState) -> f64 {
     let session = &state.calibration;
     let Some(Ok(fit)) = &session.fit else {
         return 0.0;
     };
-    let si = state
-        .scene
-        .arm
-        .shape
-        .joint_kinds()
-        .get(session.joint)
-        .map_or(1.0, |&kind| si_per_file_unit(kind));
+    let si = si_per_shown_unit(state);
     session
         .points
         .iter()
