@@ -6,7 +6,7 @@ use egui::{Color32, Grid, Key, RichText, Ui};
 
 use armwright_kinematics::FitShape;
 
-use crate::cli::calibrate::si_per_file_unit;
+use crate::calibration_fit::si_per_file_unit;
 use crate::editor::calibration::{
     CalibrationCommand, DEADBAND_STEP_S, DeadbandSearch, PULSE_STEPS_US, SearchLeg,
 };

@@ -228,7 +228,7 @@ mod tests {
         use armwright_link::{SimDevice, SimDeviceConfig, device_setpoints};
         use armwright_trajectory::Sample;
 
-        use crate::cli::pose::evaluate;
+        use crate::pose_report::evaluate;
         use crate::scene::build_arm;
 
         let scene = sample_scene();
@@ -300,9 +300,9 @@ mod tests {
 
     #[test]
     fn the_heaviest_payload_is_the_one_pose_gives_and_follows_the_slider() {
-        use crate::cli::pose::evaluate;
         use crate::editor::command::apply;
         use crate::editor::estop::ChannelStopLink;
+        use crate::pose_report::evaluate;
 
         let mut harness = Harness::new_ui_state(
             |ui, (state, commands): &mut (EditorState, Vec<Command>)| {

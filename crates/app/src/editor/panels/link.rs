@@ -90,7 +90,7 @@ pub fn link(ui: &mut Ui, state: &EditorState, view: &LinkView) -> Command {
         let link = &state.scene.link;
         let channels = usize::from(connection.info.channel_count);
         if let Some(warning) =
-            crate::cli::stream::rate_above_capacity(link.rate_hz, channels, link.baud)
+            crate::link_capacity::rate_above_capacity(link.rate_hz, channels, link.baud)
         {
             ui.colored_label(
                 Color32::from_rgb(255, 200, 0),
