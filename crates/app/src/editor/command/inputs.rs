@@ -2,7 +2,7 @@
 //! are written into it as one undo step (typing into one field merges into one step until the
 //! field is left).
 
-use super::edit;
+use super::history::edit;
 use crate::editor::history::EditKey;
 use crate::editor::inputs_form::InputsCommand;
 use crate::editor::state::EditorState;

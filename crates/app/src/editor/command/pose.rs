@@ -1,11 +1,11 @@
-//! Moving the edited arm: a joint, the held tool angle, a drag of the tool point through
-//! inverse kinematics (staying on the arm's branch), and a switch to another branch.
+//! Moving the edited arm: a joint, the gripper, the held tool angle, a drag of the tool point
+//! through inverse kinematics (staying on the arm's branch), and a switch to another branch.
 
 use armwright_kinematics::{IkError, IkOptions, IkTarget, JointKind, solve_ik};
 use nalgebra::Vector3;
 
 use crate::editor::state::{BranchChoice, EditorState, Level, ReachStatus};
-use crate::scene::position_to_file_unit;
+use crate::scene::{GripperState, position_to_file_unit};
 
 /// A revolute joint turning more than this in one drag step counts as a jump to another branch,
 /// in rad (60°): the nearest solution near a singular pose can be far away.
@@ -23,6 +23,11 @@ pub(super) fn set_joint(state: &mut EditorState, joint: usize, position: f64) {
         state.reach = ReachStatus::Idle;
         state.pose_changed();
     }
+}
+
+/// Opens or closes the gripper of the edited pose.
+pub(super) fn set_gripper(state: &mut EditorState, gripper: GripperState) {
+    state.gripper = gripper;
 }
 
 /// Sets the tool angle a drag holds (rad), wrapped into (−π, π].

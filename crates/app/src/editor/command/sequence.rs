@@ -4,7 +4,8 @@
 
 use nalgebra::Vector3;
 
-use super::{WaypointField, edit};
+use super::WaypointField;
+use super::history::edit;
 use crate::editor::history::EditKey;
 use crate::editor::state::{EditorState, Level, ReachStatus};
 use crate::editor::waypoint_name::relative_name;
