@@ -1,6 +1,6 @@
 //! The scene's workspace and arm as collision geometry: the table, boxes and trays as obstacles
 //! (mm → m), the arm's links as capsules, and the pairs a pick or place leaves out. The one
-//! place that turns the workspace part of the file's units into SI. [`SceneCell`] gathers that
+//! place that turns the workspace part of the file's units into SI. `SceneCell` gathers that
 //! geometry for one scene and looks at the clearance along a plan or a dry run, the same for
 //! `armwright plan` and `simulate` and for the editor's dry-run marks.
 //!
