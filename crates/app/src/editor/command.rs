@@ -503,7 +503,7 @@ mod tests {
                 target: [at.x, at.y, at.z - 0.02],
             },
         );
-        assert_eq!(state.reach, ReachStatus::Reached);
+        assert_eq!(state.readout.reach, ReachStatus::Reached);
         let _ = run(&mut state, Command::StoreWaypoint);
         let second = state.scene.waypoints[1].clone();
         assert_eq!(second.move_kind, MoveKind::Straight);
@@ -587,14 +587,14 @@ mod tests {
         let start = state.tool_point().expect("tool point");
         let target = [start.x + 0.005, start.y, start.z];
         let _ = run(&mut state, Command::DragToolPoint { target });
-        assert_eq!(state.reach, ReachStatus::Reached);
-        let branch = state.branch.clone().expect("a branch");
-        let Some(other) = state.branch_choices.first().cloned() else {
+        assert_eq!(state.readout.reach, ReachStatus::Reached);
+        let branch = state.readout.branch.clone().expect("a branch");
+        let Some(other) = state.readout.branch_choices.first().cloned() else {
             panic!("with wide limits the elbow can bend the other way");
         };
         assert_ne!(other.label, branch);
         let _ = run(&mut state, Command::ChooseBranch(0));
-        assert_eq!(state.branch.as_deref(), Some(other.label.as_str()));
+        assert_eq!(state.readout.branch.as_deref(), Some(other.label.as_str()));
         assert_eq!(state.pose, other.positions);
     }
 
@@ -611,8 +611,8 @@ mod tests {
                 target: [-0.15, 0.0, height],
             },
         );
-        let ReachStatus::AtJointLimit { joint, past_by, .. } = state.reach.clone() else {
-            panic!("{:?}", state.reach);
+        let ReachStatus::AtJointLimit { joint, past_by, .. } = state.readout.reach.clone() else {
+            panic!("{:?}", state.readout.reach);
         };
         assert!(past_by > 0.0);
         assert_eq!(state.pose, pose, "the arm stays where it was");
@@ -657,7 +657,7 @@ mod tests {
             43,
             &mut outside,
         );
-        assert_eq!(state.dialog, Some(Dialog::ConfirmStopReset));
+        assert_eq!(state.view.dialog, Some(Dialog::ConfirmStopReset));
         assert!(matches!(state.stop, StopState::Latched { .. }));
     }
 

@@ -20,7 +20,7 @@ pub(super) fn edit_field(state: &mut EditorState, field: ArmField, text: String)
 
 /// The user left an arm settings field: the next edit starts a new undo step.
 pub(super) fn finish_field(state: &mut EditorState) {
-    state.history.break_merge();
+    state.document.history.break_merge();
 }
 
 /// Switches the arm's type (one undo step), or says why not when taught data would be lost.

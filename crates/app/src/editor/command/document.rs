@@ -17,19 +17,19 @@ pub(super) fn set_description(state: &mut EditorState, text: String) {
 
 /// Opens the scene at `path` (outside the state, on a worker thread).
 pub(super) fn open(state: &mut EditorState, path: PathBuf, outside: &mut Vec<Outside>) {
-    state.dialog = None;
+    state.view.dialog = None;
     outside.push(Outside::Open(path));
 }
 
 /// Saves to the scene's file, or asks for one with the save-as dialog.
 pub(super) fn save(state: &mut EditorState, outside: &mut Vec<Outside>) {
-    match state.file_path.clone() {
+    match state.document.file_path.clone() {
         Some(path) => outside.push(Outside::Save {
             path,
             then_close: false,
         }),
         None => {
-            state.dialog = Some(Dialog::SaveAs {
+            state.view.dialog = Some(Dialog::SaveAs {
                 path: String::new(),
                 then_close: false,
             })
@@ -44,24 +44,24 @@ pub(super) fn save_to(
     then_close: bool,
     outside: &mut Vec<Outside>,
 ) {
-    state.dialog = None;
+    state.view.dialog = None;
     outside.push(Outside::Save { path, then_close });
 }
 
 /// Closes the window, dropping unsaved changes.
 pub(super) fn close_without_saving(state: &mut EditorState, outside: &mut Vec<Outside>) {
-    state.dialog = None;
+    state.view.dialog = None;
     outside.push(Outside::Close);
 }
 
 /// Takes the recovery copy as the scene.
 pub(super) fn recover(state: &mut EditorState, outside: &mut Vec<Outside>) {
-    state.dialog = None;
+    state.view.dialog = None;
     outside.push(Outside::Recover);
 }
 
 /// Throws the recovery copy away.
 pub(super) fn discard_recovery(state: &mut EditorState, outside: &mut Vec<Outside>) {
-    state.dialog = None;
+    state.view.dialog = None;
     outside.push(Outside::DiscardRecovery);
 }

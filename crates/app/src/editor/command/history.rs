@@ -7,7 +7,7 @@ use crate::editor::state::{EditorState, Level};
 /// Undoes the last edit, or says there is none.
 pub(super) fn undo(state: &mut EditorState) {
     let current = snapshot(state);
-    match state.history.undo(current) {
+    match state.document.history.undo(current) {
         Some(previous) => restore(state, previous),
         None => state.say(Level::Info, "nothing to undo"),
     }
@@ -16,7 +16,7 @@ pub(super) fn undo(state: &mut EditorState) {
 /// Redoes the last undone edit, or says there is none.
 pub(super) fn redo(state: &mut EditorState) {
     let current = snapshot(state);
-    match state.history.redo(current) {
+    match state.document.history.redo(current) {
         Some(next) => restore(state, next),
         None => state.say(Level::Info, "nothing to redo"),
     }
@@ -53,7 +53,7 @@ pub(super) fn edit(
     let before = snapshot(state);
     change(state);
     if state.scene != before.scene {
-        state.history.record(before, key);
+        state.document.history.record(before, key);
         state.scene_changed();
     }
 }

@@ -11,7 +11,7 @@ use crate::editor::state::EditorState;
 pub(super) fn apply(state: &mut EditorState, command: InputsCommand) {
     let key = match &command {
         InputsCommand::FinishField => {
-            state.history.break_merge();
+            state.document.history.break_merge();
             return;
         }
         InputsCommand::Type { field, .. } => Some(EditKey::Inputs(*field)),

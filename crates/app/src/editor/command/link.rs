@@ -9,12 +9,12 @@ use crate::scene::Device;
 
 /// Picks the device the link panel connects to.
 pub(super) fn choose_device(state: &mut EditorState, device: Device) {
-    state.link_device = device;
+    state.device.link_device = device;
 }
 
 /// The user read and acknowledged the streaming caution (for this session).
 pub(super) fn acknowledge_caution(state: &mut EditorState) {
-    state.caution_acknowledged = true;
+    state.device.caution_acknowledged = true;
     state.say(
         Level::Info,
         "streaming caution acknowledged for this session",
@@ -23,7 +23,7 @@ pub(super) fn acknowledge_caution(state: &mut EditorState) {
 
 /// Whether each stream ends at the rest pose (park).
 pub(super) fn park_after_stream(state: &mut EditorState, park: bool) {
-    state.park_after_stream = park;
+    state.device.park_after_stream = park;
 }
 
 /// Passes a link action on, unless it would move the arm while that is not allowed: streaming
@@ -33,7 +33,7 @@ pub(super) fn action(state: &mut EditorState, action: LinkAction, outside: &mut 
         action,
         LinkAction::Stream { .. } | LinkAction::Resume | LinkAction::HoldChannel(_)
     );
-    if moves && !state.caution_acknowledged {
+    if moves && !state.device.caution_acknowledged {
         state.say(
             Level::Warning,
             "read and acknowledge the caution in the link panel before streaming",

@@ -28,7 +28,7 @@ pub(super) fn emergency_stop(
 /// Asks before clearing the stop latch; nothing to ask when no stop is latched.
 pub(super) fn request_reset(state: &mut EditorState) {
     if matches!(state.stop, StopState::Latched { .. }) {
-        state.dialog = Some(Dialog::ConfirmStopReset);
+        state.view.dialog = Some(Dialog::ConfirmStopReset);
     }
 }
 
@@ -37,6 +37,6 @@ pub(super) fn confirm_reset(state: &mut EditorState, stop_link: &mut dyn StopLin
     // Built only here, in answer to the confirmation question.
     stop_link.confirm_reset(ResetConfirmation::confirmed_by_person());
     state.stop = StopState::Clear;
-    state.dialog = None;
+    state.view.dialog = None;
     state.say(Level::Info, "emergency stop reset");
 }

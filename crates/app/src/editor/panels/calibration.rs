@@ -92,7 +92,7 @@ pub fn calibration(ui: &mut Ui, state: &EditorState, view: &LinkView) -> Command
     if view.connection.is_none() {
         ui.label("Connect a device in the Link tab to step this joint's pulse.");
     }
-    if !state.caution_acknowledged
+    if !state.device.caution_acknowledged
         && caution_box(
             ui,
             "The first pulse wakes this joint, and any other joint whose servo is limp at \
@@ -108,7 +108,7 @@ pub fn calibration(ui: &mut Ui, state: &EditorState, view: &LinkView) -> Command
         );
     }
     let may_move = view.connection.is_some()
-        && state.caution_acknowledged
+        && state.device.caution_acknowledged
         && matches!(state.stop, StopState::Clear);
     command = command.then(pulse_controls(ui, state, may_move));
     ui.separator();
