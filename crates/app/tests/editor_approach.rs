@@ -156,7 +156,7 @@ fn a_stream_can_end_at_the_rest_pose() {
     acknowledge_caution(&mut harness);
     harness.get_by_label(PARK_LABEL).click_accesskit();
     harness.run_steps(2);
-    assert!(harness.state().state.park_after_stream);
+    assert!(harness.state().state.device.park_after_stream);
     harness.get_by_label("Stream sequence").click_accesskit();
     step_until_slow(&mut harness, "the stream's end", |editor| {
         editor.device().view().phase == StreamPhase::Finished

@@ -42,7 +42,7 @@ fn the_capture_key_stores_the_input_arms_pose_as_a_waypoint() {
     let mut harness = file_editor("capture", path);
     connect(&mut harness);
     step_until(&mut harness, "the input arm", |editor| {
-        editor.state.input_pose.is_some()
+        editor.state.device.input_pose.is_some()
     });
 
     // The readings come from the sweep: six inputs within its swing around mid-scale, and
@@ -69,7 +69,13 @@ fn the_capture_key_stores_the_input_arms_pose_as_a_waypoint() {
     // Capture: the key stores what the input arm showed in the frame it was pressed, which is
     // the mapping of the newest readings the link had.
     let before = harness.state().state.scene.waypoints.len();
-    let shown = harness.state().state.input_pose.clone().expect("input arm");
+    let shown = harness
+        .state()
+        .state
+        .device
+        .input_pose
+        .clone()
+        .expect("input arm");
     let readings = newest_readings(&harness).expect("readings");
     let mapped = input_arm_pose(&harness.state().state, &readings).expect("mapped");
     for (a, b) in shown.iter().zip(&mapped) {
@@ -109,7 +115,7 @@ fn without_inputs_the_capture_key_says_why_nothing_was_stored() {
     let (mut harness, _requests, _dir) = sample_editor("capture-none");
     connect(&mut harness);
     harness.run_steps(5);
-    assert!(harness.state().state.input_pose.is_none());
+    assert!(harness.state().state.device.input_pose.is_none());
     let before = harness.state().state.scene.waypoints.len();
     press_capture_key(&mut harness);
     let state = &harness.state().state;

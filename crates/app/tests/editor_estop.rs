@@ -68,7 +68,7 @@ fn key_and_button_work_with_a_dialog_open() {
     harness.get_by_label("Open…").click();
     harness.run_steps(3);
     assert!(matches!(
-        harness.state().state.dialog,
+        harness.state().state.view.dialog,
         Some(Dialog::Open { .. })
     ));
     // Type into the dialog's path field so it holds keyboard focus.
@@ -83,7 +83,7 @@ fn key_and_button_work_with_a_dialog_open() {
     );
     // The dialog is still there: the stop did not need it out of the way.
     assert!(matches!(
-        harness.state().state.dialog,
+        harness.state().state.view.dialog,
         Some(Dialog::Open { .. })
     ));
 }
@@ -97,7 +97,10 @@ fn the_latch_holds_until_a_confirmed_reset() {
     assert!(harness.state().window_title().contains("STOPPED"));
     harness.get_by_label("Reset stop…").click();
     harness.run_steps(3);
-    assert_eq!(harness.state().state.dialog, Some(Dialog::ConfirmStopReset));
+    assert_eq!(
+        harness.state().state.view.dialog,
+        Some(Dialog::ConfirmStopReset)
+    );
     // Declining keeps the latch.
     harness.get_by_label("Keep stopped").click();
     harness.run_steps(3);

@@ -30,8 +30,8 @@ fn a_bad_scene_shows_its_error_and_the_file_is_unchanged() {
     open_through_dialog(&mut harness, &path);
 
     let state = &harness.state().state;
-    let Some(Dialog::LoadError { problems, .. }) = &state.dialog else {
-        panic!("no load error shown: {:?}", state.dialog);
+    let Some(Dialog::LoadError { problems, .. }) = &state.view.dialog else {
+        panic!("no load error shown: {:?}", state.view.dialog);
     };
     assert!(
         problems
@@ -52,7 +52,7 @@ fn a_bad_scene_shows_its_error_and_the_file_is_unchanged() {
     );
     harness.get_by_label("OK").click();
     harness.run_steps(3);
-    assert_eq!(harness.state().state.dialog, None);
+    assert_eq!(harness.state().state.view.dialog, None);
 }
 
 #[test]
@@ -93,7 +93,7 @@ fn save_as_writes_a_file_that_opens_to_the_same_scene() {
     settle(&mut harness);
     let state = &harness.state().state;
     assert!(!state.is_dirty(), "{:?}", state.messages.last());
-    assert_eq!(state.file_path.as_deref(), Some(path.as_path()));
+    assert_eq!(state.document.file_path.as_deref(), Some(path.as_path()));
     let reloaded = armwright::scene::load(&path).expect("the saved file loads");
     assert_eq!(reloaded, state.scene);
     assert!(!harness.state().window_title().starts_with("* "));
@@ -112,11 +112,14 @@ fn closing_with_unsaved_changes_asks_first() {
         .events
         .push(ViewportEvent::Close);
     harness.run_steps(3);
-    assert_eq!(harness.state().state.dialog, Some(Dialog::UnsavedChanges));
+    assert_eq!(
+        harness.state().state.view.dialog,
+        Some(Dialog::UnsavedChanges)
+    );
     assert!(!harness.state().is_closing());
     harness.get_by_label("Keep editing").click();
     harness.run_steps(3);
-    assert_eq!(harness.state().state.dialog, None);
+    assert_eq!(harness.state().state.view.dialog, None);
     assert!(!harness.state().is_closing());
 }
 
@@ -146,7 +149,7 @@ fn autosave_writes_a_copy_that_a_new_session_offers_to_recover() {
     let beside = Editor::open(None, Box::new(link), options(&dir, 3600));
     let mut beside = editor_common::harness(beside);
     beside.run_steps(3);
-    assert_eq!(beside.state().state.dialog, None);
+    assert_eq!(beside.state().state.view.dialog, None);
     drop(beside);
     drop(harness);
 
@@ -155,7 +158,7 @@ fn autosave_writes_a_copy_that_a_new_session_offers_to_recover() {
     let mut harness = editor_common::harness(editor);
     harness.run_steps(3);
     assert!(matches!(
-        harness.state().state.dialog,
+        harness.state().state.view.dialog,
         Some(Dialog::Recovery { .. })
     ));
     harness.get_by_label("Recover").click();
@@ -173,7 +176,7 @@ fn commands_for_the_file_dialogs_leave_their_work_outside_the_state() {
     armwright::editor::apply(&mut state, Command::Save, &mut link, 0, &mut outside);
     // No file yet: Save asks for one instead of writing anywhere.
     assert!(outside.is_empty());
-    assert!(matches!(state.dialog, Some(Dialog::SaveAs { .. })));
+    assert!(matches!(state.view.dialog, Some(Dialog::SaveAs { .. })));
 }
 
 #[test]
@@ -209,24 +212,28 @@ fn a_scene_files_copy_is_offered_only_when_that_file_is_opened() {
     };
     let other = open(&second);
     assert_eq!(
-        other.state().state.dialog,
+        other.state().state.view.dialog,
         None,
         "not the first file's copy"
     );
     drop(other);
     let untitled = sample_editor_in(&dir);
-    assert_eq!(untitled.state().state.dialog, None, "not offered untitled");
+    assert_eq!(
+        untitled.state().state.view.dialog,
+        None,
+        "not offered untitled"
+    );
     drop(untitled);
     let mut same = open(&first);
     assert!(matches!(
-        same.state().state.dialog,
+        same.state().state.view.dialog,
         Some(Dialog::Recovery { .. })
     ));
     same.get_by_label("Recover").click();
     same.run_steps(3);
     assert_eq!(same.state().state.scene, edited);
     assert_eq!(
-        same.state().state.file_path.as_deref(),
+        same.state().state.document.file_path.as_deref(),
         Some(first.as_path())
     );
 }

@@ -89,9 +89,9 @@ fn dragging_far_out_says_out_of_reach_and_leaves_the_arm() {
     drag(&mut harness, from, far);
     let state = &harness.state().state;
     assert!(
-        matches!(state.reach, ReachStatus::OutOfReach { short_by_mm } if short_by_mm > 100.0),
+        matches!(state.readout.reach, ReachStatus::OutOfReach { short_by_mm } if short_by_mm > 100.0),
         "{:?}",
-        state.reach
+        state.readout.reach
     );
     assert!(harness.query_by_label_contains("OUT OF REACH by").is_some());
     // The last reachable step is kept: the arm moved, but did not jump.
@@ -101,7 +101,7 @@ fn dragging_far_out_says_out_of_reach_and_leaves_the_arm() {
 /// Checks that the arm reached the tool point asked for, listing the problems when not.
 fn assert_reached(state: &EditorState) {
     assert_eq!(
-        state.reach,
+        state.readout.reach,
         ReachStatus::Reached,
         "{:?}",
         state.reach_problems()
@@ -178,8 +178,8 @@ fn open_teach_retime_play_stream_stop_and_reset() {
     open_through_dialog(&mut harness, &path);
     {
         let state = &harness.state().state;
-        assert_eq!(state.dialog, None, "{:?}", state.messages.last());
-        assert_eq!(state.file_path.as_deref(), Some(path.as_path()));
+        assert_eq!(state.view.dialog, None, "{:?}", state.messages.last());
+        assert_eq!(state.document.file_path.as_deref(), Some(path.as_path()));
         assert_eq!(state.scene, on_disk);
         assert!(!state.is_dirty());
     }
@@ -226,7 +226,7 @@ fn open_teach_retime_play_stream_stop_and_reset() {
 
     // Retime for the scene's own target on the worker, then apply.
     click_tab(&mut harness, "Retime");
-    assert_eq!(harness.state().state.tools_tab, ToolsTab::Retime);
+    assert_eq!(harness.state().state.view.tools_tab, ToolsTab::Retime);
     start_retime(&mut harness);
     wait_for_retime(&mut harness);
     let report = match &harness.state().state.retime.run {
@@ -305,7 +305,7 @@ fn open_teach_retime_play_stream_stop_and_reset() {
         "streaming waits for the caution"
     );
     acknowledge_caution(&mut harness);
-    assert!(harness.state().state.caution_acknowledged);
+    assert!(harness.state().state.device.caution_acknowledged);
     stream_until_sending(&mut harness);
     assert_eq!(device_mode(harness.state()), Some(DeviceMode::Driving));
     assert_eq!(

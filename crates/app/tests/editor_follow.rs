@@ -45,12 +45,17 @@ fn press(harness: &mut EditorHarness, key: Key, modifiers: Modifiers) {
 /// Whether the simulated device's arm is within `tolerance` (rad or m) of the edited pose on
 /// every joint.
 fn device_near_edited(editor: &Editor, tolerance: f64) -> bool {
-    editor.state.device_pose.as_ref().is_some_and(|device| {
-        device
-            .iter()
-            .zip(&editor.state.pose)
-            .all(|(a, b)| (a - b).abs() <= tolerance)
-    })
+    editor
+        .state
+        .device
+        .device_pose
+        .as_ref()
+        .is_some_and(|device| {
+            device
+                .iter()
+                .zip(&editor.state.pose)
+                .all(|(a, b)| (a - b).abs() <= tolerance)
+        })
 }
 
 /// Sets the follow speed share (%) as the panel's slider does.
@@ -200,8 +205,8 @@ fn follow_jog_store_stop_and_leave() {
 /// The largest difference (rad or m) between the simulated device's arm and the input arm over
 /// the joints the scene maps (all four of the sample's).
 fn device_from_input_arm(editor: &Editor) -> Option<f64> {
-    let device = editor.state.device_pose.as_ref()?;
-    let input = editor.state.input_pose.as_ref()?;
+    let device = editor.state.device.device_pose.as_ref()?;
+    let input = editor.state.device.input_pose.as_ref()?;
     Some(
         device
             .iter()
@@ -270,7 +275,10 @@ fn follow_the_input_arm_then_leave_lose_readings_and_stop() {
     let caught = std::cell::RefCell::new(vec![false; edited.len()]);
     step_until_slow(&mut harness, "each joint on the input arm", |editor| {
         let mut caught = caught.borrow_mut();
-        if let (Some(device), Some(input)) = (&editor.state.device_pose, &editor.state.input_pose) {
+        if let (Some(device), Some(input)) = (
+            &editor.state.device.device_pose,
+            &editor.state.device.input_pose,
+        ) {
             for (joint, (a, b)) in device.iter().zip(input).enumerate() {
                 caught[joint] |= (a - b).abs() < 5f64.to_radians();
             }
@@ -328,6 +336,7 @@ fn follow_the_input_arm_then_leave_lose_readings_and_stop() {
     let held = harness
         .state()
         .state
+        .device
         .device_pose
         .clone()
         .expect("device arm");
@@ -339,6 +348,7 @@ fn follow_the_input_arm_then_leave_lose_readings_and_stop() {
     let now = harness
         .state()
         .state
+        .device
         .device_pose
         .clone()
         .expect("device arm");

@@ -256,6 +256,7 @@ fn take_puts_what_the_input_reads_now_into_a_point() {
     step_until(&mut harness, "the input arm", |editor| {
         editor
             .state
+            .device
             .input_pose
             .as_ref()
             .is_some_and(|pose| (pose[0].to_degrees() - 20.0).abs() < 1e-9)

@@ -27,7 +27,7 @@ fn connect_acknowledge_stream_stop_by_key_reset_and_stream_again() {
     connect(&mut harness);
     let joints = harness.state().state.joint_count();
     step_until(&mut harness, "the device's arm pose", |editor| {
-        editor.state.device_pose.as_ref().map(Vec::len) == Some(joints)
+        editor.state.device.device_pose.as_ref().map(Vec::len) == Some(joints)
     });
 
     // Streaming waits for the caution: the button is disabled, and clicking it sends nothing.
@@ -38,7 +38,7 @@ fn connect_acknowledge_stream_stop_by_key_reset_and_stream_again() {
     assert_eq!(harness.state().device().view().phase, StreamPhase::Idle);
     assert_eq!(frames_sent(harness.state()), 0);
     acknowledge_caution(&mut harness);
-    assert!(harness.state().state.caution_acknowledged);
+    assert!(harness.state().state.device.caution_acknowledged);
 
     // Stream.
     stream_until_sending(&mut harness);
@@ -148,7 +148,7 @@ fn the_device_pose_is_withdrawn_when_the_arm_is_edited() {
     harness.get_by_label("Connect").click_accesskit();
     let joints = harness.state().state.joint_count();
     step_until(&mut harness, "the device's arm pose", |editor| {
-        editor.state.device_pose.as_ref().map(Vec::len) == Some(joints)
+        editor.state.device.device_pose.as_ref().map(Vec::len) == Some(joints)
     });
     // A wrist roll added in the arm settings: the simulated device still moves the old arm.
     let ctx = harness.ctx.clone();
@@ -160,7 +160,7 @@ fn the_device_pose_is_withdrawn_when_the_arm_is_edited() {
     );
     harness.run_steps(2);
     assert_eq!(harness.state().state.joint_count(), joints + 1);
-    assert_eq!(harness.state().state.device_pose, None);
+    assert_eq!(harness.state().state.device.device_pose, None);
     assert!(harness.state().device().view().arm_changed);
     harness.get_by_label_contains("Disconnect and connect again");
 }
@@ -180,7 +180,7 @@ fn opening_another_scene_moves_the_simulated_device_onto_its_arm() {
     step_until(&mut harness, "the device moving the new arm", |editor| {
         !editor.device().view().arm_changed
             && link_state(editor) == Some(LinkState::Idle)
-            && editor.state.device_pose.as_ref().map(Vec::len) == Some(joints)
+            && editor.state.device.device_pose.as_ref().map(Vec::len) == Some(joints)
     });
     assert!(harness.state().state.messages.iter().any(|message| {
         message

@@ -160,7 +160,11 @@ fn no_overlaps_at(size: [f32; 2]) {
         let mut harness = harness_of_size(editor, size);
         harness.run_steps(3);
         settle(&mut harness);
-        assert_eq!(harness.state().state.dialog, None, "{name} opened a dialog");
+        assert_eq!(
+            harness.state().state.view.dialog,
+            None,
+            "{name} opened a dialog"
+        );
         wait_for_dry_run(&mut harness);
         wait_for_reach_maps(&mut harness);
         let tools_left = |harness: &EditorHarness| {
@@ -181,7 +185,7 @@ fn no_overlaps_at(size: [f32; 2]) {
             (ToolsTab::Follow, "Follow"),
         ] {
             click_tab(&mut harness, label);
-            assert_eq!(harness.state().state.tools_tab, tab);
+            assert_eq!(harness.state().state.view.tools_tab, tab);
             let screen = format!("{name} at {}×{}, {label} tab", size[0], size[1]);
             let count = check_screen(&mut harness, &screen, &mut problems);
             eprintln!("{screen}: {count} texts");

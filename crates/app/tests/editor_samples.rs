@@ -15,7 +15,7 @@ use editor_common::{drag, file_editor, sample_scene};
 fn teach_on(name: &str) {
     let mut harness = file_editor(&format!("sample-{name}"), sample_scene(name));
     assert_eq!(
-        harness.state().state.dialog,
+        harness.state().state.view.dialog,
         None,
         "{name} opened with a dialog"
     );
@@ -26,18 +26,18 @@ fn teach_on(name: &str) {
         let Some(from) = harness.state().camera(kind).tool_on_screen() else {
             panic!("{name}: no tool point drawn in the {kind:?} view");
         };
-        let branch_before = harness.state().state.branch.clone();
+        let branch_before = harness.state().state.readout.branch.clone();
         drag(&mut harness, from, from + step);
         let state = &harness.state().state;
         assert_eq!(
-            state.reach,
+            state.readout.reach,
             ReachStatus::Reached,
             "{name}, {kind:?}: {:?}",
             state.reach_problems()
         );
         if let Some(before) = branch_before {
             assert_eq!(
-                state.branch.as_ref(),
+                state.readout.branch.as_ref(),
                 Some(&before),
                 "{name}: the branch changed"
             );

@@ -32,7 +32,7 @@ fn a_typed_height_and_the_nudge_keys_move_the_tool_point() {
         .get_by_label("tool point z (mm)")
         .set_value_accesskit(z + 10.0);
     harness.run_steps(2);
-    assert_eq!(harness.state().state.reach, ReachStatus::Reached);
+    assert_eq!(harness.state().state.readout.reach, ReachStatus::Reached);
     assert!(
         close(tool_mm(&harness), [x, y, z + 10.0]),
         "{:?}",
@@ -44,7 +44,7 @@ fn a_typed_height_and_the_nudge_keys_move_the_tool_point() {
     harness.run_steps(2);
     harness.key_press(Key::PageDown);
     harness.run_steps(2);
-    assert_eq!(harness.state().state.reach, ReachStatus::Reached);
+    assert_eq!(harness.state().state.readout.reach, ReachStatus::Reached);
     assert!(
         close(tool_mm(&harness), [x + 10.0, y, z + 9.0]),
         "{:?}",
@@ -58,15 +58,18 @@ fn a_typed_height_and_the_nudge_keys_move_the_tool_point() {
         before = harness.state().state.pose.clone();
         harness.key_press_modifiers(Modifiers::SHIFT, Key::ArrowRight);
         harness.run_steps(1);
-        if harness.state().state.reach != ReachStatus::Reached {
+        if harness.state().state.readout.reach != ReachStatus::Reached {
             break;
         }
     }
     harness.run_steps(1);
     assert!(
-        matches!(harness.state().state.reach, ReachStatus::OutOfReach { .. }),
+        matches!(
+            harness.state().state.readout.reach,
+            ReachStatus::OutOfReach { .. }
+        ),
         "{:?}",
-        harness.state().state.reach
+        harness.state().state.readout.reach
     );
     assert_eq!(harness.state().state.pose, before);
     assert!(harness.query_by_label_contains("OUT OF REACH by").is_some());

@@ -10,8 +10,7 @@ use std::sync::{Arc, Mutex, PoisonError};
 use std::time::{Duration, Instant};
 
 use armwright_kinematics::{
-    Arm, CalibrationFit, CalibrationFitOptions, CalibrationReading, FitShape, fit_calibration,
-    sent_pulse,
+    Arm, CalibrationFit, CalibrationReading, FitShape, fit_calibration, sent_pulse,
 };
 use armwright_link::{
     ChannelValues, Link, LinkEvent, SerialTransport, SimDevice, SimDeviceConfig, SimTransport,
@@ -22,7 +21,10 @@ use serde_json::{Value, json};
 use super::Outcome;
 use super::report::{all_rounded, fail, load_scene, print_json, rounded};
 use super::stream::confirm;
-use crate::scene::{CalibrationPoint, JointKindDoc, Scene, save, validate};
+use crate::calibration_fit::{
+    DEADBAND_SEARCH_LIMIT_US, fit_options, fitted_points, fitted_uncertainty, si_per_file_unit,
+};
+use crate::scene::{JointKindDoc, Scene, save, validate};
 use crate::task::servo_model_of;
 
 /// What `calibrate` was asked to do.
@@ -130,10 +132,6 @@ pub(crate) fn run(file: &Path, request: &CalibrateRequest, json: bool) -> Outcom
         }
     }
 }
-
-/// The deadband search gives up after this many µs in one direction without a movement seen:
-/// hobby-servo deadbands are a few µs (common practice). The editor's search stops there too.
-pub(crate) const DEADBAND_SEARCH_LIMIT_US: f64 = 50.0;
 
 /// A deadband found by stepping: the pulse change that moved the joint after each reversal.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -734,66 +732,6 @@ impl FitReport {
             }
         }
     }
-}
-
-/// SI units (rad or m) per file unit (degree or mm) of a joint of this kind.
-pub(crate) fn si_per_file_unit(kind: JointKindDoc) -> f64 {
-    match kind {
-        JointKindDoc::Revolute => 1f64.to_radians(),
-        JointKindDoc::Prismatic => 1e-3,
-    }
-}
-
-/// When a fit of this joint kind's readings is taken as a quadratic: the defaults for a
-/// turning joint; a sliding joint's bow must reach half a millimetre, what a steel rule reads
-/// to (common practice).
-pub(crate) fn fit_options(kind: JointKindDoc) -> CalibrationFitOptions {
-    CalibrationFitOptions {
-        min_bow: match kind {
-            JointKindDoc::Revolute => CalibrationFitOptions::default().min_bow,
-            JointKindDoc::Prismatic => 0.5e-3,
-        },
-        ..CalibrationFitOptions::default()
-    }
-}
-
-/// The scene's two calibration points for a fit: its straight line at the ends of the measured
-/// pulse range (whole µs, as measured), positions in degrees or mm kept to a hundredth.
-pub(crate) fn fitted_points(fit: &CalibrationFit, kind: JointKindDoc) -> [CalibrationPoint; 2] {
-    let from_si = 1.0 / si_per_file_unit(kind);
-    // The accepted range does not enter the two points.
-    let line = fit.to_calibration(0.0, 0.0);
-    [
-        CalibrationPoint {
-            position: (line.position_a * from_si * 100.0).round() / 100.0,
-            pulse_us: line.pulse_a_us.round() as u32,
-        },
-        CalibrationPoint {
-            position: (line.position_b * from_si * 100.0).round() / 100.0,
-            pulse_us: line.pulse_b_us.round() as u32,
-        },
-    ]
-}
-
-/// The calibration uncertainty a straight-line fit leaves, in rad or m: the residual standard
-/// error √(Σ r² / (n − 2)) of the line through `n` readings (Draper & Smith, *Applied Regression
-/// Analysis*, 3rd ed., 1998, §1.4; from memory). `None` for two readings, which any line meets.
-fn line_uncertainty(line_residuals: &[f64]) -> Option<f64> {
-    let n = line_residuals.len();
-    (n > 2).then(|| (line_residuals.iter().map(|r| r * r).sum::<f64>() / (n - 2) as f64).sqrt())
-}
-
-/// The scene's `calibration.uncertainty_deg` (or `_mm`) for a fit of `readings` on a joint of
-/// this kind: the line's residual standard error ([`line_uncertainty`]) in degrees or mm, to
-/// 0.0001; `None` for two readings. `armwright calibrate --write` and the editor's Apply both
-/// write it.
-pub(crate) fn fitted_uncertainty(
-    fit: &CalibrationFit,
-    readings: &[CalibrationReading],
-    kind: JointKindDoc,
-) -> Option<f64> {
-    let from_si = 1.0 / si_per_file_unit(kind);
-    line_uncertainty(&fit.line_residuals(readings)).map(|sd| (sd * from_si * 1e4).round() / 1e4)
 }
 
 /// Saves the scene with joint `index`'s calibration points replaced by the straight-line fit

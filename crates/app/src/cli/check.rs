@@ -37,7 +37,7 @@ pub(crate) fn run(file: &Path, json: bool) -> Outcome {
     let mut notes = sequence_problems(&scene);
     let channels = arm.joint_count() + usize::from(scene.arm.gripper.is_some());
     if let Some(warning) =
-        super::stream::rate_above_capacity(scene.link.rate_hz, channels, scene.link.baud)
+        crate::link_capacity::rate_above_capacity(scene.link.rate_hz, channels, scene.link.baud)
     {
         notes.push(Problem::new("link.rate_hz", warning));
     }

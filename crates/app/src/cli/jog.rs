@@ -1,5 +1,5 @@
 //! `armwright jog`: move the connected arm from a terminal, one typed command a line, through
-//! the same follower as the editor's Follow (`editor/follow.rs`): a joint by degrees (or mm),
+//! the same follow run as the editor's Follow (`follow_run.rs`): a joint by degrees (or mm),
 //! the tool point by mm along x, y or z through inverse kinematics, at a speed share; the pose
 //! is printed as each move comes to rest. `stop` (or Ctrl-C) sends the emergency stop at once,
 //! whatever is queued; `quit` (or the end of input) brings the arm to rest and the device holds.
@@ -21,7 +21,7 @@ use armwright_link::{
 use super::Outcome;
 use super::report::load_scene;
 use super::stream::{CAUTION, confirm};
-use crate::editor::follow::{FollowEnd, FollowRun, follow_joints};
+use crate::follow_run::{FollowEnd, FollowRun, follow_joints};
 use crate::scene::{Device, Scene, pose_from_file_units, pose_to_file_units};
 use crate::task::servo_model_of;
 
@@ -498,7 +498,9 @@ mod tests {
 
     #[test]
     fn commands_read_as_documented_and_bad_ones_say_why() {
-        let scene = crate::editor::sample_scene();
+        // The pen-plotter sample: the scene the editor opens when given no file.
+        let path = armwright_test_support::samples::sample_scene("pen-plotter");
+        let scene = crate::scene::load(&path).expect("sample loads");
         let first = scene.arm.joints[0].name.clone();
         assert_eq!(parse("j 2 -5", &scene), Ok(Typed::Joint(1, -5.0)));
         assert_eq!(

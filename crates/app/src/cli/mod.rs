@@ -13,24 +13,24 @@
 //! (missing file, not JSON, not a scene, newer version, bad arguments).
 
 mod args;
-pub(crate) mod calibrate;
+mod calibrate;
 mod capture;
 mod check;
-pub(crate) mod clearance;
+mod clearance;
 mod device_sim;
 mod envelope;
 mod format;
 mod jog;
 mod plan;
 mod ports;
-pub(crate) mod pose; // shared with the editor's joint-controls test: one pulse rule
+mod pose;
 mod protractor;
 mod reach;
 mod report;
 mod reset;
 mod retime;
 mod simulate;
-pub(crate) mod stream; // its link-capacity warning is shared with check and the editor
+mod stream;
 mod svg;
 
 pub use args::{Cli, Command, SimReadings, View};

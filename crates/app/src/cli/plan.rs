@@ -12,13 +12,14 @@ use armwright_trajectory::{
 use serde_json::{Value, json};
 
 use super::Outcome;
-use super::clearance::{Motion, SceneCell, any_contact};
+use super::clearance::{Motion, add_clearance_json, any_contact, clearance_lines};
 use super::report::{TORQUE_BASIS, fail, load_scene, print_json, rounded};
 use crate::approach::approach_note;
 use crate::scene::{
     JointLimitDoc, Scene, field_table, position_to_file_unit, rate_to_file_unit, save_text,
 };
 use crate::task::plan_of;
+use crate::workcell::SceneCell;
 
 /// Interval at which torque use is looked at along the plan, in s.
 pub(crate) const TORQUE_INTERVAL: f64 = 0.01;
@@ -200,7 +201,7 @@ pub(crate) fn run(file: &Path, rate_hz: f64, csv: Option<&Path>, json: bool) -> 
             "waypoints": waypoints,
             "approach": approach_json(&scene),
         });
-        cell.add_json(&scene, &mut out, &looked);
+        add_clearance_json(&cell, &scene, &mut out, &looked);
         if touched {
             out["ok"] = json!(false);
             out["error"] = json!("the arm hits something along the plan (see collisions)");
@@ -244,7 +245,7 @@ pub(crate) fn run(file: &Path, rate_hz: f64, csv: Option<&Path>, json: bool) -> 
             println!("setpoints written to {}", path.display());
         }
         println!("{}", approach_note(&scene));
-        for line in cell.lines(&scene, &looked) {
+        for line in clearance_lines(&cell, &scene, &looked) {
             println!("{line}");
         }
         if touched {

@@ -15,13 +15,14 @@ use armwright_trajectory::{DryRun, TaskPlan};
 use serde_json::{Value, json};
 
 use super::Outcome;
-use super::clearance::{Motion, SceneCell, any_contact};
+use super::clearance::{Motion, add_clearance_json, any_contact, clearance_lines};
 use super::plan::{TORQUE_INTERVAL, approach_json, load_and_plan};
 use super::report::{TORQUE_BASIS, all_rounded, fail, print_json, rounded};
 use crate::approach::approach_note;
 use crate::placement::{Placement, placements_of};
 use crate::scene::{Arrival, Scene, position_to_file_unit};
 use crate::task::dry_run_of;
+use crate::workcell::SceneCell;
 
 pub(crate) fn run(file: &Path, json: bool) -> Outcome {
     let (scene, arm, plan) = match load_and_plan(file, json) {
@@ -49,7 +50,7 @@ pub(crate) fn run(file: &Path, json: bool) -> Outcome {
     let touched = any_contact(&looked);
     if json {
         let mut out = dry_run_json(&scene, &run, &report);
-        cell.add_json(&scene, &mut out, &looked);
+        add_clearance_json(&cell, &scene, &mut out, &looked);
         if touched {
             out["ok"] = json!(false);
             out["error"] = json!("the arm hits something in the dry run (see collisions)");
@@ -57,7 +58,7 @@ pub(crate) fn run(file: &Path, json: bool) -> Outcome {
         print_json(&out);
     } else {
         print_dry_run(&scene, &run, &report);
-        for line in cell.lines(&scene, &looked) {
+        for line in clearance_lines(&cell, &scene, &looked) {
             println!("{line}");
         }
         if touched {

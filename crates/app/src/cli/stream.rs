@@ -11,7 +11,7 @@ use std::time::{Duration, Instant};
 use armwright_kinematics::Arm;
 use armwright_link::{
     Link, LinkError, LinkEvent, LinkLoss, SerialTransport, SimDeviceConfig, SimTransport,
-    StreamOptions, StreamStats, Transport, setpoint_capacity_hz, setpoint_line_len,
+    StreamOptions, StreamStats, Transport,
 };
 use serde_json::{Value, json};
 
@@ -20,6 +20,7 @@ use super::plan::load_and_plan;
 use super::report::{fail, print_json, rounded};
 use super::reset::{describe_output, output_json};
 use crate::approach::{StreamPlan, WakeMode, stream_plan_waking};
+use crate::link_capacity::rate_above_capacity;
 use crate::scene::{Device, Scene, pose_to_file_units};
 
 /// Shown before anything is sent, whether or not confirmation is asked for.
@@ -420,24 +421,6 @@ fn approach_json(
     })
 }
 
-/// Says when `rate_hz` asks for more setpoint lines a second than a serial link at `baud`
-/// carries for `channels` channels (`armwright_link::setpoint_capacity_hz`, `PROTOCOL.md` §7);
-/// `None` within it. Warned, not refused: the stream's flow control keeps the line from
-/// flooding (the emergency stop still goes out at once), the stream only falls behind its
-/// schedule, and the simulated device has no baud rate at all.
-pub(crate) fn rate_above_capacity(rate_hz: f64, channels: usize, baud: u32) -> Option<String> {
-    let capacity = setpoint_capacity_hz(channels, baud);
-    (rate_hz > capacity).then(|| {
-        format!(
-            "{rate_hz} Hz is more than the link carries: {channels}-channel setpoints are {} \
-             bytes a line and {baud} baud carries at most {} of them a second, so a stream over \
-             a serial port falls behind its schedule; lower the rate or raise link.baud",
-            setpoint_line_len(channels),
-            capacity.floor()
-        )
-    })
-}
-
 /// Reports a stream refused before any setpoint was sent.
 fn refused(json: bool, message: &str) -> Outcome {
     fail(json, message, json!({ "frames_sent": 0 }), Outcome::Refused)
@@ -642,20 +625,6 @@ fn report(json: bool, summary: &Summary) -> Outcome {
 #[cfg(test)]
 mod tests {
     use super::*;
-
-    #[test]
-    fn a_rate_above_the_link_capacity_is_named_with_the_figures() {
-        // PROTOCOL.md §7: 7 channels at 115 200 baud carry 303 setpoints a second.
-        let warning = rate_above_capacity(1000.0, 7, 115_200).expect("above capacity");
-        assert!(
-            warning.starts_with("1000 Hz is more than the link carries")
-                && warning.contains("7-channel setpoints are 38 bytes a line")
-                && warning.contains("at most 303 of them a second"),
-            "{warning}"
-        );
-        assert_eq!(rate_above_capacity(300.0, 7, 115_200), None);
-        assert!(rate_above_capacity(300.0, 7, 57_600).is_some());
-    }
 
     #[test]
     fn only_a_yes_confirms() {

@@ -12,7 +12,7 @@ use armwright_link::{DeviceInfo, arm_setpoint};
 use super::arm_context::ArmContext;
 use super::device::{ChannelPulse, LinkAction};
 use super::message::{Level, Message};
-use crate::cli::calibrate::{
+use crate::calibration_fit::{
     DEADBAND_SEARCH_LIMIT_US, fit_options, fitted_points, fitted_uncertainty, si_per_file_unit,
 };
 use crate::scene::{GripperState, JointKindDoc, Scene, validate};

@@ -43,7 +43,7 @@ pub fn input_arm_pose(state: &EditorState, readings: &[u16]) -> Option<Vec<f64>>
 /// its limits) and store it as a new waypoint after the selected one; `None` when there is no
 /// input arm.
 pub fn capture_command(state: &EditorState) -> Option<Command> {
-    let pose = state.input_pose.as_ref()?;
+    let pose = state.device.input_pose.as_ref()?;
     let mut commands: Vec<Command> = pose
         .iter()
         .enumerate()
@@ -83,7 +83,7 @@ mod tests {
             assert!((kept - edited).abs() < 1e-12, "{pose:?}");
         }
         assert!(capture_command(&state).is_none(), "no readings yet");
-        state.input_pose = Some(pose.clone());
+        state.device.input_pose = Some(pose.clone());
         let Some(Command::Many(commands)) = capture_command(&state) else {
             panic!("a capture command");
         };

@@ -4,29 +4,38 @@
 //! Commands that need the world outside the state (files, the system's file dialog, closing the
 //! window) come back from [`apply`] as [`Outside`] for the editor to carry out.
 //!
-//! By area: `command/pose.rs` moves the edited arm (joints, tool angle, drag, branch),
-//! `command/sequence.rs` edits the waypoints, `command/retime.rs` runs the retime tab; the
-//! stop, dialogs, files, undo and the arm form stay here.
+//! By area, one file each under `command/`, and [`apply`] only dispatches: `stop.rs` the
+//! emergency stop and its reset, `dialogs.rs` the dialog and the tools tab, `document.rs` the
+//! description and the file work, `history.rs` undo, redo and [`edit`](history::edit) (one undo
+//! step), `link.rs` the device link's settings and actions, `pose.rs` moves the edited arm
+//! (joints, gripper, tool angle, drag, branch), `sequence.rs` edits the waypoints, `retime.rs`
+//! runs the retime tab, `arm.rs` the arm settings form, `calibration.rs`, `follow.rs` and
+//! `inputs.rs` hand their commands to their areas.
 
 use std::path::PathBuf;
 
-use armwright_link::ResetConfirmation;
-
-use super::arm_form::{ArmField, ArmTypeChoice, with_arm_type};
-use super::calibration::{self, AppliedFit, CalibrationCommand};
+use super::arm_form::{ArmField, ArmTypeChoice};
+use super::calibration::CalibrationCommand;
 use super::device::LinkAction;
-use super::estop::{StopLink, StopRequest, StopSource, StopState};
-use super::follow::{self, FollowCommand};
-use super::history::{EditKey, Snapshot};
+use super::estop::{StopLink, StopSource};
+use super::follow::FollowCommand;
 use super::playback::PlaybackCommand;
-use super::state::{Dialog, EditorState, Level, ToolsTab};
+use super::state::{Dialog, EditorState, ToolsTab};
 use crate::scene::{Arrival, Device, GripperState, MoveKind, ProfileKind, Scene};
 use crate::task::RetimeSettings;
 
+mod arm;
+mod calibration;
+mod dialogs;
+mod document;
+mod follow;
+mod history;
 mod inputs;
+mod link;
 mod pose;
 mod retime;
 mod sequence;
+mod stop;
 
 /// One change of one waypoint's settings.
 #[derive(Debug, Clone, PartialEq)]
@@ -256,7 +265,8 @@ pub enum Outside {
 }
 
 /// Applies one command to the state. A stop request goes to `stop_link` at once, tagged with
-/// `frame`. Anything that needs files or the window comes back in `outside`.
+/// `frame`. Anything that needs files or the window comes back in `outside`. A dispatch table:
+/// each area's work is in its file under `command/`.
 pub fn apply(
     state: &mut EditorState,
     command: Command,
@@ -271,43 +281,16 @@ pub fn apply(
                 apply(state, command, stop_link, frame, outside);
             }
         }
-        Command::EmergencyStop(source) => {
-            stop_link.send_stop(StopRequest { source, frame });
-            state.stop = StopState::Latched { source, frame };
-            let how = match source {
-                StopSource::Button => "button",
-                StopSource::Key => "key",
-            };
-            state.say(
-                Level::Warning,
-                format!("emergency stop sent ({how}); latched until reset"),
-            );
-        }
-        Command::RequestStopReset => {
-            if matches!(state.stop, StopState::Latched { .. }) {
-                state.dialog = Some(Dialog::ConfirmStopReset);
-            }
-        }
-        Command::ConfirmStopReset => {
-            // Built only here, in answer to the confirmation question.
-            stop_link.confirm_reset(ResetConfirmation::confirmed_by_person());
-            state.stop = StopState::Clear;
-            state.dialog = None;
-            state.say(Level::Info, "emergency stop reset");
-        }
-        Command::ShowToolsTab(tab) => state.tools_tab = tab,
-        Command::ChooseDevice(device) => state.link_device = device,
-        Command::AcknowledgeCaution => {
-            state.caution_acknowledged = true;
-            state.say(
-                Level::Info,
-                "streaming caution acknowledged for this session",
-            );
-        }
-        Command::ParkAfterStream(park) => state.park_after_stream = park,
-        Command::Link(action) => link_action(state, action, outside),
+        Command::EmergencyStop(source) => stop::emergency_stop(state, stop_link, source, frame),
+        Command::RequestStopReset => stop::request_reset(state),
+        Command::ConfirmStopReset => stop::confirm_reset(state, stop_link),
+        Command::ShowToolsTab(tab) => dialogs::show_tab(state, tab),
+        Command::ChooseDevice(device) => link::choose_device(state, device),
+        Command::AcknowledgeCaution => link::acknowledge_caution(state),
+        Command::ParkAfterStream(park) => link::park_after_stream(state, park),
+        Command::Link(action) => link::action(state, action, outside),
         Command::SetJoint { joint, position } => pose::set_joint(state, joint, position),
-        Command::SetGripper(gripper) => state.gripper = gripper,
+        Command::SetGripper(gripper) => pose::set_gripper(state, gripper),
         Command::SetToolAngle(angle) => pose::set_tool_angle(state, angle),
         Command::DragToolPoint { target } => pose::drag_tool_point(state, target),
         Command::ChooseBranch(index) => pose::choose_branch(state, index),
@@ -318,205 +301,48 @@ pub fn apply(
         Command::NewSequence => sequence::clear(state),
         Command::MoveWaypoint { from, to } => sequence::move_to(state, from, to),
         Command::EditWaypoint { index, field } => sequence::edit_field(state, index, field),
-        Command::SetDescription(text) => {
-            edit(state, Some(EditKey::Description), |state| {
-                state.scene.description = text;
-            });
-        }
+        Command::SetDescription(text) => document::set_description(state, text),
         Command::UpdateWaypointPose(index) => sequence::update_pose(state, index),
         Command::SelectWaypoint(index) => sequence::select(state, index),
         Command::JumpToWaypoint(index) => sequence::jump_to(state, index),
-        Command::Undo => {
-            let current = snapshot(state);
-            match state.history.undo(current) {
-                Some(previous) => restore(state, previous),
-                None => state.say(Level::Info, "nothing to undo"),
-            }
-        }
-        Command::Redo => {
-            let current = snapshot(state);
-            match state.history.redo(current) {
-                Some(next) => restore(state, next),
-                None => state.say(Level::Info, "nothing to redo"),
-            }
-        }
-        Command::ShowDialog(dialog) => state.dialog = Some(dialog),
-        Command::CloseDialog => state.dialog = None,
-        Command::SetDialogPath(text) => {
-            if let Some(Dialog::Open { path } | Dialog::SaveAs { path, .. }) = &mut state.dialog {
-                *path = text;
-            }
-        }
-        Command::OpenPath(path) => {
-            state.dialog = None;
-            outside.push(Outside::Open(path));
-        }
-        Command::Save => match state.file_path.clone() {
-            Some(path) => outside.push(Outside::Save {
-                path,
-                then_close: false,
-            }),
-            None => {
-                state.dialog = Some(Dialog::SaveAs {
-                    path: String::new(),
-                    then_close: false,
-                })
-            }
-        },
+        Command::Undo => history::undo(state),
+        Command::Redo => history::redo(state),
+        Command::ShowDialog(dialog) => dialogs::show(state, dialog),
+        Command::CloseDialog => dialogs::close(state),
+        Command::SetDialogPath(text) => dialogs::set_path(state, text),
+        Command::OpenPath(path) => document::open(state, path, outside),
+        Command::Save => document::save(state, outside),
         Command::SaveToPath { path, then_close } => {
-            state.dialog = None;
-            outside.push(Outside::Save { path, then_close });
+            document::save_to(state, path, then_close, outside)
         }
         Command::BrowseForOpen => outside.push(Outside::BrowseForOpen),
         Command::BrowseForSave => outside.push(Outside::BrowseForSave),
-        Command::CloseWithoutSaving => {
-            state.dialog = None;
-            outside.push(Outside::Close);
-        }
-        Command::Recover => {
-            state.dialog = None;
-            outside.push(Outside::Recover);
-        }
-        Command::DiscardRecovery => {
-            state.dialog = None;
-            outside.push(Outside::DiscardRecovery);
-        }
+        Command::CloseWithoutSaving => document::close_without_saving(state, outside),
+        Command::Recover => document::recover(state, outside),
+        Command::DiscardRecovery => document::discard_recovery(state, outside),
         Command::SetRetimeOvershoot(mm) => retime::set_overshoot(state, mm),
         Command::SetRetimeTorqueShare(pct) => retime::set_torque_share(state, pct),
         Command::StartRetime => retime::start(state, outside),
         Command::CancelRetime => retime::cancel(state, outside),
         Command::ApplyRetime => retime::apply_result(state),
         Command::DiscardRetime => retime::discard(state),
-        Command::EditArmField { field, text } => {
-            if let Some(arm) = state.arm_form.type_text(field, text, &state.scene) {
-                edit(state, Some(EditKey::Arm(field)), |state| {
-                    state.scene.arm = arm
-                });
-                state.arm_changed();
-            }
-        }
-        Command::FinishArmField => state.history.break_merge(),
-        Command::ChangeArmType(choice) => {
-            match with_arm_type(&state.scene, choice) {
-                Some(Ok((scene, message))) => {
-                    let same_kinds = scene.arm.shape.joint_kinds().get(..4)
-                        == state.scene.arm.shape.joint_kinds().get(..4);
-                    edit(state, None, |state| state.scene = scene);
-                    if !same_kinds {
-                        // Positions of the old joints mean nothing on the new ones: start at home.
-                        state.pose.clear();
-                    }
-                    state.arm_changed();
-                    state.arm_form.arm_replaced(&state.scene);
-                    state.say(Level::Info, message);
-                }
-                Some(Err(refusal)) => state.say(Level::Warning, refusal),
-                None => {}
-            }
-        }
+        Command::EditArmField { field, text } => arm::edit_field(state, field, text),
+        Command::FinishArmField => arm::finish_field(state),
+        Command::ChangeArmType(choice) => arm::change_type(state, choice),
         Command::Playback(command) => state.playback_command(command),
-        Command::Calibration(command) => calibrate(state, command, outside),
-        Command::Follow(command) => follow_command(state, command, outside),
+        Command::Calibration(command) => calibration::apply(state, command, outside),
+        Command::Follow(command) => follow::apply(state, command, outside),
         Command::Inputs(command) => inputs::apply(state, command),
-    }
-}
-
-/// Applies a calibration command to the panel's part of the state; a fit applied is one undo
-/// step.
-fn calibrate(state: &mut EditorState, command: CalibrationCommand, outside: &mut Vec<Outside>) {
-    let (mut said, mut link) = (Vec::new(), Vec::new());
-    let (around, calibrating) = state.calibration_parts();
-    let applied = calibration::apply(calibrating, &around, command, &mut said, &mut link);
-    state.say_all(said);
-    outside.extend(link.into_iter().map(Outside::Link));
-    if let Some(AppliedFit { scene, message }) = applied {
-        edit(state, None, |state| state.scene = scene);
-        state.arm_changed();
-        state.arm_form.arm_replaced(&state.scene);
-        state.say(Level::Info, message);
-    }
-}
-
-/// Applies a follow command to follow's settings; a jog moves the edited arm.
-fn follow_command(state: &mut EditorState, command: FollowCommand, outside: &mut Vec<Outside>) {
-    if matches!(command, FollowCommand::Jog(_)) && state.refuse_jog() {
-        return;
-    }
-    let (mut said, mut asks) = (Vec::new(), Vec::new());
-    let (around, settings) = state.follow_parts();
-    let jogged = follow::apply(settings, &around, command, &mut said, &mut asks);
-    state.say_all(said);
-    outside.extend(
-        asks.into_iter()
-            .map(|ask| Outside::Link(LinkAction::Follow(ask))),
-    );
-    if let Some(pose) = jogged {
-        state.move_arm_to(pose);
-    }
-}
-
-/// Passes a link action on, unless it would move the arm while that is not allowed: streaming
-/// needs the caution acknowledged and no stop latched.
-fn link_action(state: &mut EditorState, action: LinkAction, outside: &mut Vec<Outside>) {
-    let moves = matches!(
-        action,
-        LinkAction::Stream { .. } | LinkAction::Resume | LinkAction::HoldChannel(_)
-    );
-    if moves && !state.caution_acknowledged {
-        state.say(
-            Level::Warning,
-            "read and acknowledge the caution in the link panel before streaming",
-        );
-    } else if moves && matches!(state.stop, StopState::Latched { .. }) {
-        state.say(
-            Level::Warning,
-            "the emergency stop is latched: check the arm and reset the stop before streaming",
-        );
-    } else {
-        outside.push(Outside::Link(action));
-    }
-}
-
-fn snapshot(state: &EditorState) -> Snapshot {
-    Snapshot {
-        scene: state.scene.clone(),
-        selected_waypoint: state.selected_waypoint,
-    }
-}
-
-fn restore(state: &mut EditorState, snapshot: Snapshot) {
-    let arm_changed = snapshot.scene.arm != state.scene.arm;
-    let timing_changed = snapshot.scene.timing != state.scene.timing;
-    state.scene = snapshot.scene;
-    state.selected_waypoint = snapshot.selected_waypoint;
-    if arm_changed {
-        state.arm_changed();
-        state.arm_form.arm_replaced(&state.scene);
-    } else if timing_changed {
-        state.pose_changed();
-    }
-    state.scene_changed();
-}
-
-/// Runs an edit of the scene as one undo step (merging with the previous step when `key` is the
-/// same as its key).
-pub(super) fn edit(
-    state: &mut EditorState,
-    key: Option<EditKey>,
-    change: impl FnOnce(&mut EditorState),
-) {
-    let before = snapshot(state);
-    change(state);
-    if state.scene != before.scene {
-        state.history.record(before, key);
-        state.scene_changed();
     }
 }
 
 #[cfg(test)]
 mod tests {
+    use armwright_link::ResetConfirmation;
+
     use super::*;
-    use crate::editor::estop::ChannelStopLink;
+    use crate::editor::calibration::DeadbandSearch;
+    use crate::editor::estop::{ChannelStopLink, StopRequest, StopState};
     use crate::editor::sample::sample_scene;
     use crate::editor::state::ReachStatus;
 
@@ -553,7 +379,7 @@ mod tests {
         let per_degree = fit.pulse_per_position_us() * 1f64.to_radians();
         assert!((per_degree - sxx / sxy).abs() < 1e-9, "{per_degree}");
         let before = state.scene.clone();
-        state.calibration.deadband = calibration::DeadbandSearch::Found {
+        state.calibration.deadband = DeadbandSearch::Found {
             widths_us: [5.0, 6.0],
             proposed_us: 5.5,
         };
@@ -677,7 +503,7 @@ mod tests {
                 target: [at.x, at.y, at.z - 0.02],
             },
         );
-        assert_eq!(state.reach, ReachStatus::Reached);
+        assert_eq!(state.readout.reach, ReachStatus::Reached);
         let _ = run(&mut state, Command::StoreWaypoint);
         let second = state.scene.waypoints[1].clone();
         assert_eq!(second.move_kind, MoveKind::Straight);
@@ -761,14 +587,14 @@ mod tests {
         let start = state.tool_point().expect("tool point");
         let target = [start.x + 0.005, start.y, start.z];
         let _ = run(&mut state, Command::DragToolPoint { target });
-        assert_eq!(state.reach, ReachStatus::Reached);
-        let branch = state.branch.clone().expect("a branch");
-        let Some(other) = state.branch_choices.first().cloned() else {
+        assert_eq!(state.readout.reach, ReachStatus::Reached);
+        let branch = state.readout.branch.clone().expect("a branch");
+        let Some(other) = state.readout.branch_choices.first().cloned() else {
             panic!("with wide limits the elbow can bend the other way");
         };
         assert_ne!(other.label, branch);
         let _ = run(&mut state, Command::ChooseBranch(0));
-        assert_eq!(state.branch.as_deref(), Some(other.label.as_str()));
+        assert_eq!(state.readout.branch.as_deref(), Some(other.label.as_str()));
         assert_eq!(state.pose, other.positions);
     }
 
@@ -785,8 +611,8 @@ mod tests {
                 target: [-0.15, 0.0, height],
             },
         );
-        let ReachStatus::AtJointLimit { joint, past_by, .. } = state.reach.clone() else {
-            panic!("{:?}", state.reach);
+        let ReachStatus::AtJointLimit { joint, past_by, .. } = state.readout.reach.clone() else {
+            panic!("{:?}", state.readout.reach);
         };
         assert!(past_by > 0.0);
         assert_eq!(state.pose, pose, "the arm stays where it was");
@@ -831,7 +657,7 @@ mod tests {
             43,
             &mut outside,
         );
-        assert_eq!(state.dialog, Some(Dialog::ConfirmStopReset));
+        assert_eq!(state.view.dialog, Some(Dialog::ConfirmStopReset));
         assert!(matches!(state.stop, StopState::Latched { .. }));
     }
 

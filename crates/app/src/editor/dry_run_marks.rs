@@ -9,7 +9,7 @@
 //! waypoint's tolerance), which the sequence shows per waypoint and the retime panel at its worst.
 //!
 //! [`DryRunMarks::of`] runs on the dry-run worker with the same clearance check as `armwright
-//! simulate` (`cli/clearance.rs`) and the same placement estimate (`placement::placements_of`), so
+//! simulate` (`workcell::SceneCell`) and the same placement estimate (`placement::placements_of`), so
 //! the editor and the command line find the same contacts and the same shares.
 
 use armwright_kinematics::{Arm, CarriedBox, ObstacleShape, Other, forward};
@@ -18,9 +18,9 @@ use egui::{Color32, FontId, Painter, Rect, Ui, pos2};
 use egui_plot::PlotTransform;
 use nalgebra::{Point3, Vector3};
 
-use crate::cli::clearance::SceneCell;
 use crate::placement::{Placement, placements_of};
 use crate::scene::{Arrival, Scene};
+use crate::workcell::SceneCell;
 
 /// Contacts (red: the colour of a stop, as the emergency stop's).
 pub const CONTACT: Color32 = Color32::from_rgb(230, 40, 40);

@@ -2,9 +2,10 @@
 //! tool point, the sequence of waypoints, files with undo and autosave, and an emergency stop
 //! that is always on screen.
 //!
-//! Naming scheme: `state.rs` holds what is saved, undone and tested (no egui types);
-//! `command.rs` is what panels ask for and how it changes the state (`command/`: by area, the
-//! pose, the sequence, the retime tab); `message.rs` a status-bar line; `history.rs` undo and
+//! Naming scheme: `state.rs` holds what is saved, undone and tested (no egui types; `state/`
+//! groups its fields by concern);
+//! `command.rs` is what panels ask for and how it changes the state (`command/`: one file per
+//! area, `apply` only dispatches); `message.rs` a status-bar line; `history.rs` undo and
 //! redo; `estop.rs` the path a stop request takes out of the editor; `device.rs` the link to
 //! a device and its worker thread (connect, stream, pause, reset); `files.rs` file work off
 //! the UI thread; `recovery.rs` the autosaved copy; `sample.rs` the built-in scene;
@@ -77,7 +78,10 @@ pub use playback::{AtEnd, DryRunStatus, Playback, PlaybackCommand, SPEEDS, Timel
 pub use recovery::{Recovery, RecoveryCopy};
 pub use retime_job::{RetimeReport, RetimeRun, RetimeState, RunFigures, WaypointFigures};
 pub use sample::sample_scene;
-pub use state::{BranchChoice, Dialog, EditorState, Level, Message, ReachStatus, ToolsTab};
+pub use state::{
+    BranchChoice, DeviceSide, Dialog, Document, EditorState, Level, Message, PoseReadout,
+    ReachStatus, ToolsTab, ViewState,
+};
 pub use traces::{GRID, MAX_BUCKETS, Quantity, Series, Traces, decimate};
 pub use views::{
     ArmOverlay, Camera, DEVICE, MapKey, MapLayer, OVER_RATING, Plane, Projection, ReachLayers,
@@ -209,7 +213,7 @@ impl Editor {
         };
         editor.claim_recovery();
         if let Some(device) = editor.options.connect_on_start.clone() {
-            editor.state.link_device = device.clone();
+            editor.state.device.link_device = device.clone();
             editor.request_link(LinkAction::Connect(device));
         }
         editor
@@ -223,17 +227,17 @@ impl Editor {
             return;
         };
         if let Some(held) = &self.recovery
-            && held.scene_file() == self.state.file_path.as_deref()
+            && held.scene_file() == self.state.document.file_path.as_deref()
         {
             return;
         }
-        let wanted = folder.claim(self.state.file_path.as_deref());
+        let wanted = folder.claim(self.state.document.file_path.as_deref());
         self.recovery = None;
         if wanted.exists() {
             match wanted.load() {
                 Ok(scene) => {
                     self.recovered = Some(scene);
-                    self.state.dialog = Some(Dialog::Recovery {
+                    self.state.view.dialog = Some(Dialog::Recovery {
                         source: wanted.source(),
                     });
                 }
@@ -285,7 +289,7 @@ impl Editor {
                 editor
                     .state
                     .say(Level::Error, format!("cannot open {}", path.display()));
-                editor.state.dialog = Some(Dialog::LoadError {
+                editor.state.view.dialog = Some(Dialog::LoadError {
                     problems: problem_lines(&error),
                     path,
                 });
@@ -394,7 +398,7 @@ impl Editor {
         if stop_key {
             self.apply(ctx, Command::EmergencyStop(StopSource::Key), frame);
         }
-        if self.state.dialog.is_none() && !ctx.egui_wants_keyboard_input() {
+        if self.state.view.dialog.is_none() && !ctx.egui_wants_keyboard_input() {
             let redo = ctx.input_mut(|input| {
                 input.consume_key(Modifiers::COMMAND | Modifiers::SHIFT, Key::Z)
             });
@@ -424,9 +428,9 @@ impl Editor {
             ctx.request_repaint_after(Duration::from_millis(50));
         }
         if ctx.input(|input| input.viewport().close_requested()) && !self.closing {
-            if self.state.dirty {
+            if self.state.document.dirty {
                 ctx.send_viewport_cmd(egui::ViewportCommand::CancelClose);
-                self.state.dialog = Some(Dialog::UnsavedChanges);
+                self.state.view.dialog = Some(Dialog::UnsavedChanges);
             } else if let Some(recovery) = &self.recovery {
                 recovery.discard();
             }
@@ -474,7 +478,7 @@ impl Editor {
     /// widget has the keyboard (a focused slider or field keeps its own arrow keys).
     fn nudge(&mut self, ctx: &egui::Context, frame: u64) {
         let free = ctx.memory(|memory| memory.focused().is_none());
-        if self.state.dialog.is_some() || ctx.egui_wants_keyboard_input() || !free {
+        if self.state.view.dialog.is_some() || ctx.egui_wants_keyboard_input() || !free {
             return;
         }
         let mut step_mm = [0.0; 3];
@@ -512,8 +516,8 @@ impl Editor {
     /// tab is shown, unless a dialog is open or a widget has the keyboard.
     fn calibration_keys(&mut self, ctx: &egui::Context, frame: u64) {
         let free = ctx.memory(|memory| memory.focused().is_none());
-        if self.state.tools_tab != ToolsTab::Calibrate
-            || self.state.dialog.is_some()
+        if self.state.view.tools_tab != ToolsTab::Calibrate
+            || self.state.view.dialog.is_some()
             || ctx.egui_wants_keyboard_input()
             || !free
         {
@@ -530,7 +534,7 @@ impl Editor {
     /// a widget has the keyboard (typing an "i" into a field is not a capture).
     fn capture_key(&mut self, ctx: &egui::Context, frame: u64) {
         let free = ctx.memory(|memory| memory.focused().is_none());
-        if self.state.dialog.is_some() || ctx.egui_wants_keyboard_input() || !free {
+        if self.state.view.dialog.is_some() || ctx.egui_wants_keyboard_input() || !free {
             return;
         }
         if !ctx.input_mut(|input| input.consume_key(Modifiers::NONE, CAPTURE_KEY)) {
@@ -574,7 +578,7 @@ impl Editor {
                 Report::Problem(text) => self.state.say(Level::Error, text),
             }
         }
-        self.state.device_pose = self.device.simulated_arm_pose();
+        self.state.device.device_pose = self.device.simulated_arm_pose();
         let view = self.device.view();
         let output = view.stats.as_ref().and_then(|stats| stats.device_output);
         let info = view.connection.as_ref().map(|connection| connection.info);
@@ -588,7 +592,7 @@ impl Editor {
             self.request_link(LinkAction::Readings(wanted));
         }
         let readings = self.device.view().stats.as_ref().and_then(|s| s.readings);
-        self.state.input_pose = readings
+        self.state.device.input_pose = readings
             .filter(|_| self.device.view().connection.is_some())
             .and_then(|readings| capture::input_arm_pose(&self.state, readings.as_slice()));
     }
@@ -597,12 +601,13 @@ impl Editor {
     pub fn window_title(&self) -> String {
         let name = self
             .state
+            .document
             .file_path
             .as_ref()
             .and_then(|path| path.file_name())
             .map(|name| name.to_string_lossy().into_owned())
             .unwrap_or_else(|| "sample scene".into());
-        let mark = if self.state.dirty { "* " } else { "" };
+        let mark = if self.state.document.dirty { "* " } else { "" };
         let stop = match self.state.stop {
             StopState::Clear => "",
             StopState::Latched { .. } => " — STOPPED",
@@ -693,7 +698,7 @@ impl Editor {
                         (ToolsTab::Follow, "Follow"),
                     ] {
                         if ui
-                            .selectable_label(self.state.tools_tab == tab, label)
+                            .selectable_label(self.state.view.tools_tab == tab, label)
                             .clicked()
                         {
                             command = Command::ShowToolsTab(tab);
@@ -703,7 +708,7 @@ impl Editor {
                 ui.separator();
                 let shown = ScrollArea::vertical()
                     .id_salt("armwright tools scroll")
-                    .show(ui, |ui| match self.state.tools_tab {
+                    .show(ui, |ui| match self.state.view.tools_tab {
                         ToolsTab::Link => panels::link(ui, &self.state, self.device.view()),
                         ToolsTab::Retime => panels::retime(ui, &self.state),
                         ToolsTab::Arm => panels::arm_settings(ui, &self.state)
@@ -733,12 +738,17 @@ impl Editor {
                     label: "simulated (dry run)".into(),
                     colour: SIMULATED,
                 });
-            let device = self.state.device_pose.clone().map(|pose| ArmOverlay {
-                pose,
-                label: "device (simulated servos)".into(),
-                colour: DEVICE,
-            });
-            let input = self.state.input_pose.clone().map(|pose| ArmOverlay {
+            let device = self
+                .state
+                .device
+                .device_pose
+                .clone()
+                .map(|pose| ArmOverlay {
+                    pose,
+                    label: "device (simulated servos)".into(),
+                    colour: DEVICE,
+                });
+            let input = self.state.device.input_pose.clone().map(|pose| ArmOverlay {
                 pose,
                 label: format!("input arm ({CAPTURE_KEY_NAME} captures)"),
                 colour: INPUT_ARM,
@@ -838,7 +848,7 @@ impl Editor {
                     self.state.replace_scene(scene.clone(), None);
                     // The copy holds unsaved work: keep it marked so, against the file it
                     // came from.
-                    self.state.file_path = source;
+                    self.state.document.file_path = source;
                     self.state.mark_unsaved();
                     self.state.say(Level::Info, "recovered the autosaved copy");
                     self.reattach_simulated_device();
@@ -868,7 +878,7 @@ impl Editor {
     /// change).
     fn reattach_simulated_device(&mut self) {
         if self.device.simulated_device().is_some() {
-            self.state.link_device = crate::scene::Device::Simulated;
+            self.state.device.link_device = crate::scene::Device::Simulated;
             self.request_link(LinkAction::Connect(crate::scene::Device::Simulated));
             self.state.say(
                 Level::Info,
@@ -892,7 +902,7 @@ impl Editor {
                 Err(error) => {
                     self.state
                         .say(Level::Error, format!("cannot open {}", path.display()));
-                    self.state.dialog = Some(Dialog::LoadError {
+                    self.state.view.dialog = Some(Dialog::LoadError {
                         problems: problem_lines(&error),
                         path,
                     });
@@ -908,7 +918,7 @@ impl Editor {
                     self.state.mark_saved(path.clone(), *scene);
                     self.state
                         .say(Level::Info, format!("saved {}", path.display()));
-                    if !self.state.dirty
+                    if !self.state.document.dirty
                         && let Some(recovery) = &self.recovery
                     {
                         recovery.discard();
@@ -924,7 +934,7 @@ impl Editor {
             FileResult::Picked { for_save, path } => match path {
                 Some(path) => {
                     let text = path.display().to_string();
-                    match &mut self.state.dialog {
+                    match &mut self.state.view.dialog {
                         Some(Dialog::Open { path }) if !for_save => *path = text,
                         Some(Dialog::SaveAs { path, .. }) if for_save => *path = text,
                         _ => {}
@@ -951,15 +961,15 @@ impl Editor {
         };
         let last = *self.last_autosave.get_or_insert(now);
         let interval = self.options.autosave_interval.as_secs_f64();
-        if self.state.dirty && now - last >= interval {
+        if self.state.document.dirty && now - last >= interval {
             self.last_autosave = Some(now);
             let scene = self.state.scene.clone();
-            let source = self.state.file_path.clone();
+            let source = self.state.document.file_path.clone();
             self.files.spawn(ctx, move || FileResult::Autosaved {
                 result: recovery.write(&scene, source.as_deref()),
             });
         }
-        if self.state.dirty {
+        if self.state.document.dirty {
             let due = (last + interval - now).max(0.1);
             ctx.request_repaint_after(Duration::from_secs_f64(due));
         }

@@ -1,14 +1,14 @@
 //! What the editor holds between frames and what its tests look at: the scene, the arm built
-//! from it, the current pose, the selected waypoint, undo and redo, the dirty mark, the file, the
-//! messages, the emergency-stop latch and the timeline's playback. No egui types live here.
+//! from it, the current pose, the selected waypoint, the messages, the emergency-stop latch, and
+//! the parts grouped by concern — the document around the scene (`state/document.rs`: undo and
+//! redo, the dirty mark, the file), the readout of the pose (`state/readout.rs`), the device
+//! side of the session (`state/device_side.rs`) and the view (`state/view.rs`) — beside each
+//! area's own part (retime, the forms, playback, calibration, follow). No egui types live here.
 
 use std::path::PathBuf;
 use std::sync::Arc;
 
-use armwright_kinematics::{
-    AccuracyBudget, Arm, ArmType, IkTarget, JointKind, PayloadLimit, accuracy_budget,
-    gravity_torques, max_payload, tool_pose, torque_use,
-};
+use armwright_kinematics::{Arm, ArmType, IkTarget, JointKind, tool_pose};
 
 use super::arm_context::ArmContext;
 use super::arm_form::ArmForm;
@@ -16,12 +16,21 @@ use super::calibration::Calibrating;
 use super::dry_run_marks::DryRunMarks;
 use super::estop::StopState;
 use super::follow::FollowSettings;
-use super::history::History;
 use super::inputs_form::InputsForm;
 pub use super::message::{Level, Message};
 use super::playback::{CursorPose, Playback, PlaybackCommand, Timeline};
 use super::retime_job::RetimeState;
-use crate::scene::{Device, GripperState, Scene, build_arm, pose_from_file_units};
+use crate::scene::{GripperState, Scene, build_arm, pose_from_file_units};
+
+mod device_side;
+mod document;
+mod readout;
+mod view;
+
+pub use device_side::DeviceSide;
+pub use document::Document;
+pub use readout::PoseReadout;
+pub use view::ViewState;
 
 /// The editor around one area ([`ArmContext`]), borrowed field by field so that the area's own
 /// part of `$state` stays free to change.
@@ -32,8 +41,8 @@ macro_rules! around {
             arm: $state.arm.as_ref(),
             pose: &$state.pose,
             gripper: $state.gripper,
-            input_pose: $state.input_pose.as_deref(),
-            caution_acknowledged: $state.caution_acknowledged,
+            input_pose: $state.device.input_pose.as_deref(),
+            caution_acknowledged: $state.device.caution_acknowledged,
             stop: $state.stop,
         }
     };
@@ -130,7 +139,10 @@ pub enum Dialog {
 /// Everything the editor keeps between frames that is saved, undone or tested.
 #[derive(Debug)]
 pub struct EditorState {
-    /// The scene being edited (in the file's units).
+    /// The scene being edited (in the file's units). It stays here rather than in
+    /// [`Document`]: nearly every panel, view, command and worker reads it, and each area's
+    /// commands borrow it beside their own part of the state (`ArmContext`), so it is kept one
+    /// step from the state.
     pub scene: Scene,
     /// The arm model built from `scene.arm`; `None` when the scene's arm cannot be built.
     pub(crate) arm: Option<Arm>,
@@ -141,53 +153,20 @@ pub struct EditorState {
     /// The tool angle held while dragging, in rad: tool pitch for articulated arms and chains,
     /// tool yaw for the horizontal-jointed arm.
     pub tool_angle: f64,
-    /// The inverse-kinematics branch the arm is on, once known.
-    pub branch: Option<String>,
-    /// Other branches that reach the last drag target.
-    pub branch_choices: Vec<BranchChoice>,
-    /// The outcome of the last drag of the tool point.
-    pub reach: ReachStatus,
-    /// Torque use of each joint holding the current pose against gravity with the payload, as a
-    /// share of its derated rating (1.0 = 100 %).
-    pub torque_use: Vec<f64>,
-    /// The tool point's accuracy budget at the current pose (from servo deadband and backlash).
-    pub accuracy: Option<AccuracyBudget>,
-    /// The heaviest payload the current pose can hold within the derated stall torque, as
-    /// `pose --json` gives it (`max_payload_g`); cheap (two gravity passes), so recomputed on
-    /// every pose change.
-    pub max_payload: Option<PayloadLimit>,
+    /// What the pose gives: the branch, the last drag's outcome, torque use, accuracy, payload.
+    pub readout: PoseReadout,
     /// The selected waypoint, if any.
     pub selected_waypoint: Option<usize>,
-    /// Undo and redo steps.
-    pub(crate) history: History,
-    /// The scene as last loaded or saved, to tell whether there are unsaved changes; `None`
-    /// when the scene was never in a file as it is (a recovered copy).
-    saved_scene: Option<Scene>,
-    /// Whether the scene differs from the file.
-    pub dirty: bool,
-    /// The scene's file, once it has one.
-    pub file_path: Option<PathBuf>,
+    /// The document around the scene: undo and redo, the dirty mark, the file.
+    pub document: Document,
     /// Status messages, oldest first (the last few are kept).
     pub messages: Vec<Message>,
     /// The emergency-stop latch.
     pub stop: StopState,
-    /// The dialog shown over the window, if any.
-    pub dialog: Option<Dialog>,
-    /// The tab shown in the tools panel.
-    pub tools_tab: ToolsTab,
-    /// The device the link panel connects to.
-    pub link_device: Device,
-    /// Whether the streaming caution was acknowledged in this session.
-    pub caution_acknowledged: bool,
-    /// Whether a stream ends by moving to the rest pose and holding there, as `stream --park`
-    /// does (the Link tab's checkbox; kept while the editor runs, not saved).
-    pub park_after_stream: bool,
-    /// The joint positions of the arm as the connected simulated device moves it (from its
-    /// servo model), rad (revolute) or m (prismatic); `None` when no such device is connected.
-    pub device_pose: Option<Vec<f64>>,
-    /// The input arm's joint positions from the connected device's analog readings through
-    /// the scene's `inputs`, rad or m (`editor/capture.rs`); `None` without readings or inputs.
-    pub input_pose: Option<Vec<f64>>,
+    /// The device side of the session: the device, the caution, parking, the device's poses.
+    pub device: DeviceSide,
+    /// What the window shows around the views: the tools tab, the dialog, the held side view.
+    pub view: ViewState,
     /// The retime tab: target, run, result.
     pub retime: RetimeState,
     /// The arm settings form: typed text and its problems.
@@ -200,9 +179,6 @@ pub struct EditorState {
     pub calibration: Calibrating,
     /// Follow and jog settings (the session's, not the scene's).
     pub follow: FollowSettings,
-    /// The side view's yaw held while the primary pointer button is down (rad), so that a drag
-    /// in either view does not turn the side view, its shading or its title under the pointer.
-    side_yaw_held: Option<f64>,
 }
 
 /// Most messages kept.
@@ -213,38 +189,24 @@ impl EditorState {
     /// first waypoint when the scene has one.
     pub fn new(scene: Scene, file_path: Option<PathBuf>) -> EditorState {
         let mut state = EditorState {
-            saved_scene: Some(scene.clone()),
+            document: Document::new(&scene, file_path),
             retime: RetimeState::for_scene(&scene),
             scene,
             arm: None,
             pose: Vec::new(),
             gripper: GripperState::Open,
             tool_angle: 0.0,
-            branch: None,
-            branch_choices: Vec::new(),
-            reach: ReachStatus::Idle,
-            torque_use: Vec::new(),
-            accuracy: None,
-            max_payload: None,
+            readout: PoseReadout::default(),
             selected_waypoint: None,
-            history: History::default(),
-            dirty: false,
-            file_path,
             messages: Vec::new(),
             stop: StopState::Clear,
-            dialog: None,
-            tools_tab: ToolsTab::default(),
-            link_device: Device::Simulated,
-            caution_acknowledged: false,
-            park_after_stream: false,
-            device_pose: None,
-            input_pose: None,
+            device: DeviceSide::default(),
+            view: ViewState::default(),
             arm_form: ArmForm::default(),
             inputs_form: InputsForm::default(),
             playback: Playback::default(),
             calibration: Calibrating::default(),
             follow: FollowSettings::default(),
-            side_yaw_held: None,
         };
         state.rebuild_arm();
         let start = state
@@ -270,25 +232,16 @@ impl EditorState {
     /// the session's link state (tab, device, caution, device pose).
     pub(crate) fn replace_scene(&mut self, scene: Scene, file_path: Option<PathBuf>) {
         let messages = std::mem::take(&mut self.messages);
-        let link_device = std::mem::replace(&mut self.link_device, Device::Simulated);
-        let device_pose = self.device_pose.take();
+        let device = std::mem::take(&mut self.device).for_another_scene();
         // Follow's settings stay for the session; following the old scene's arm ends.
         let mut follow = std::mem::take(&mut self.follow);
         follow.on = false;
-        let (stop, tools_tab, caution_acknowledged, park_after_stream) = (
-            self.stop,
-            self.tools_tab,
-            self.caution_acknowledged,
-            self.park_after_stream,
-        );
+        let (stop, tools_tab) = (self.stop, self.view.tools_tab);
         *self = EditorState::new(scene, file_path);
         self.messages = messages;
         self.stop = stop;
-        self.tools_tab = tools_tab;
-        self.link_device = link_device;
-        self.caution_acknowledged = caution_acknowledged;
-        self.park_after_stream = park_after_stream;
-        self.device_pose = device_pose;
+        self.view.tools_tab = tools_tab;
+        self.device = device;
         self.follow = follow;
     }
 
@@ -358,7 +311,8 @@ impl EditorState {
     /// [`EditorState::hold_side_view`]), else the base joint for articulated arms, otherwise the
     /// direction of the tool point from the base axis (0 on the axis).
     pub fn side_view_yaw(&self) -> f64 {
-        self.side_yaw_held
+        self.view
+            .side_yaw_held()
             .unwrap_or_else(|| self.side_view_yaw_of_pose())
     }
 
@@ -367,36 +321,23 @@ impl EditorState {
     /// turns when the drag ends. Keys and typed positions move the arm with the button up, so
     /// the view turns with them at once.
     pub fn hold_side_view(&mut self, held: bool) {
-        self.side_yaw_held = if held {
-            Some(
-                self.side_yaw_held
-                    .unwrap_or_else(|| self.side_view_yaw_of_pose()),
-            )
-        } else {
-            None
-        };
+        let (arm, pose) = (self.arm.as_ref(), &self.pose);
+        self.view
+            .hold_side_yaw(held, || side_view_yaw_of(arm, pose));
     }
 
     /// Whether the side view's yaw is held for a drag.
     pub fn side_view_held(&self) -> bool {
-        self.side_yaw_held.is_some()
+        self.view.side_yaw_held().is_some()
     }
 
     fn side_view_yaw_of_pose(&self) -> f64 {
-        match self.arm.as_ref().map(Arm::arm_type) {
-            Some(ArmType::Articulated4(_) | ArmType::Articulated5(_)) => {
-                self.pose.first().copied().unwrap_or(0.0)
-            }
-            _ => match self.tool_point() {
-                Some(point) if point.x.hypot(point.y) > 1e-9 => point.y.atan2(point.x),
-                _ => 0.0,
-            },
-        }
+        side_view_yaw_of(self.arm.as_ref(), &self.pose)
     }
 
     /// Whether there are unsaved changes.
     pub fn is_dirty(&self) -> bool {
-        self.dirty
+        self.document.dirty
     }
 
     /// Adds a status message.
@@ -415,12 +356,12 @@ impl EditorState {
 
     /// Whether an undo step is available.
     pub fn can_undo(&self) -> bool {
-        self.history.can_undo()
+        self.document.history.can_undo()
     }
 
     /// Whether a redo step is available.
     pub fn can_redo(&self) -> bool {
-        self.history.can_redo()
+        self.document.history.can_redo()
     }
 
     /// Records that `saved` (the scene as it was when the save started) is now in `path`.
@@ -430,14 +371,12 @@ impl EditorState {
         if crate::scene::as_saved(&self.scene) == saved {
             self.scene = saved.clone();
         }
-        self.dirty = self.scene != saved;
-        self.saved_scene = Some(saved);
-        self.file_path = Some(path);
+        self.document.saved(path, saved, &self.scene);
     }
 
     /// Recomputes the dirty mark after an edit.
     pub(crate) fn scene_changed(&mut self) {
-        self.dirty = self.saved_scene.as_ref() != Some(&self.scene);
+        self.document.compare(&self.scene);
         if let Some(selected) = self.selected_waypoint
             && selected >= self.scene.waypoints.len()
         {
@@ -447,8 +386,7 @@ impl EditorState {
 
     /// Marks the scene as not in any file as it is (a recovered copy): unsaved until saved.
     pub(crate) fn mark_unsaved(&mut self) {
-        self.saved_scene = None;
-        self.dirty = true;
+        self.document.unsaved();
     }
 
     /// Rebuilds the arm model from the scene's arm.
@@ -476,27 +414,19 @@ impl EditorState {
         for joint in 0..count {
             self.pose[joint] = self.clamp_to_limits(joint, self.pose[joint]);
         }
-        self.branch = None;
-        self.branch_choices.clear();
-        self.reach = ReachStatus::Idle;
+        self.readout.forget_drag();
         self.pose_changed();
     }
 
     /// Recomputes what depends on the pose: torque use, the heaviest payload and the held tool
     /// angle.
     pub(crate) fn pose_changed(&mut self) {
+        let derating = self.scene.timing.torque_derating_pct / 100.0;
+        self.readout
+            .recompute(self.arm.as_ref(), &self.pose, derating);
         let Some(arm) = self.arm.as_ref() else {
-            self.torque_use.clear();
-            self.accuracy = None;
-            self.max_payload = None;
             return;
         };
-        self.accuracy = accuracy_budget(arm, &self.pose).ok();
-        let derating = self.scene.timing.torque_derating_pct / 100.0;
-        self.max_payload = max_payload(arm, &self.pose, derating).ok();
-        self.torque_use = gravity_torques(arm, &self.pose, arm.payload_mass())
-            .map(|efforts| torque_use(arm, &efforts, derating).as_slice().to_vec())
-            .unwrap_or_default();
         if let Ok(target) = IkTarget::of_pose(arm, &self.pose)
             && let Some(angle) = target.angle
         {
@@ -546,9 +476,7 @@ impl EditorState {
     /// no branch known, no drag outcome.
     pub(crate) fn move_arm_to(&mut self, positions: Vec<f64>) {
         self.pose = positions;
-        self.branch = None;
-        self.branch_choices.clear();
-        self.reach = ReachStatus::Idle;
+        self.readout.forget_drag();
         self.pose_changed();
     }
 
@@ -562,16 +490,6 @@ impl EditorState {
         self.context().joint_kind(joint)
     }
 
-    /// Index of the joint using the most of its rating, and that share, when any is above 1.0.
-    pub fn worst_torque_overload(&self) -> Option<(usize, f64)> {
-        self.torque_use
-            .iter()
-            .copied()
-            .enumerate()
-            .filter(|(_, share)| *share > 1.0)
-            .max_by(|a, b| a.1.total_cmp(&b.1))
-    }
-
     /// A joint's name for messages: `joint 2 "elbow"`.
     pub fn joint_label(&self, joint: usize) -> String {
         self.context().joint_label(joint)
@@ -582,7 +500,7 @@ impl EditorState {
     /// much). Empty when all is well.
     pub fn reach_problems(&self) -> Vec<String> {
         let mut problems = Vec::new();
-        match &self.reach {
+        match &self.readout.reach {
             ReachStatus::Idle | ReachStatus::Reached => {}
             ReachStatus::OutOfReach { short_by_mm } => {
                 problems.push(format!("OUT OF REACH by {short_by_mm:.1} mm"));
@@ -607,7 +525,7 @@ impl EditorState {
             ),
             ReachStatus::NotSolved { reason } => problems.push(format!("NOT SOLVED: {reason}")),
         }
-        for (joint, share) in self.torque_use.iter().enumerate() {
+        for (joint, share) in self.readout.torque_use.iter().enumerate() {
             if *share > 1.0 {
                 problems.push(format!(
                     "OVER TORQUE: {} at {:.0} % of rated",
@@ -617,6 +535,27 @@ impl EditorState {
             }
         }
         problems
+    }
+}
+
+/// The yaw of the side view's plane for `pose` on `arm`, in rad: the base joint for articulated
+/// arms, otherwise the direction of the tool point from the base axis (0 on the axis).
+fn side_view_yaw_of(arm: Option<&Arm>, pose: &[f64]) -> f64 {
+    match arm.map(Arm::arm_type) {
+        Some(ArmType::Articulated4(_) | ArmType::Articulated5(_)) => {
+            pose.first().copied().unwrap_or(0.0)
+        }
+        _ => match arm.and_then(|arm| tool_pose(arm, pose).ok()) {
+            Some(tool) => {
+                let point = tool.translation.vector;
+                if point.x.hypot(point.y) > 1e-9 {
+                    point.y.atan2(point.x)
+                } else {
+                    0.0
+                }
+            }
+            None => 0.0,
+        },
     }
 }
 
@@ -634,7 +573,7 @@ mod tests {
         let weak = stall.value(servo).expect("a stall torque") / 100.0;
         stall.set_value(servo, weak).expect("a number");
         let state = EditorState::new(scene, None);
-        let (joint, share) = state.worst_torque_overload().expect("over torque");
+        let (joint, share) = state.readout.worst_torque_overload().expect("over torque");
         assert_eq!(joint, 1);
         let problems = state.reach_problems();
         let line = format!(
@@ -654,15 +593,18 @@ mod tests {
         let back = state.pose_in_file_units();
         assert!(first.iter().zip(&back).all(|(a, b)| (a - b).abs() < 1e-9));
         assert!(!state.is_dirty());
-        assert_eq!(state.accuracy.map(|budget| budget.worst > 0.0), Some(true));
+        assert_eq!(
+            state.readout.accuracy.map(|budget| budget.worst > 0.0),
+            Some(true)
+        );
     }
 
     #[test]
     fn opening_another_scene_keeps_the_park_choice() {
         let mut state = EditorState::new(sample_scene(), None);
-        assert!(!state.park_after_stream, "off when the editor opens");
-        state.park_after_stream = true;
+        assert!(!state.device.park_after_stream, "off when the editor opens");
+        state.device.park_after_stream = true;
         state.replace_scene(sample_scene(), None);
-        assert!(state.park_after_stream);
+        assert!(state.device.park_after_stream);
     }
 }

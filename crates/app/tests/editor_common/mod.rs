@@ -207,7 +207,7 @@ fn step_until_within(
             "timed out after {limit:?} waiting for {what}: edited pose {:?}, device pose {:?}, \
              link {:?}, messages {:?}",
             harness.state().state.pose,
-            harness.state().state.device_pose,
+            harness.state().state.device.device_pose,
             harness.state().device().view(),
             harness.state().state.messages
         );
@@ -229,7 +229,7 @@ pub fn type_position(harness: &mut EditorHarness, axis: &str, mm: f64) {
 /// Checks that the last target was reached; `what` names it in the failure message.
 pub fn assert_reached(editor: &Editor, what: &str) {
     assert_eq!(
-        editor.state.reach,
+        editor.state.readout.reach,
         ReachStatus::Reached,
         "{what}: {:?}",
         editor.state.reach_problems()
@@ -254,7 +254,10 @@ pub fn save_as_with_enter(harness: &mut EditorHarness, path: &std::path::Path) {
     harness.key_press(egui::Key::Enter);
     harness.run_steps(1);
     settle(harness);
-    assert_eq!(harness.state().state.file_path.as_deref(), Some(path));
+    assert_eq!(
+        harness.state().state.document.file_path.as_deref(),
+        Some(path)
+    );
     assert!(!harness.state().state.is_dirty());
 }
 
@@ -502,7 +505,7 @@ pub fn connected_with_inputs(scratch_name: &str, file: &str, editor: &str) -> Ed
     let mut harness = file_editor(editor, path);
     harness.get_by_label("Connect").click_accesskit();
     step_until_slow(&mut harness, "the input arm", |editor| {
-        link_state(editor) == Some(LinkState::Idle) && editor.state.input_pose.is_some()
+        link_state(editor) == Some(LinkState::Idle) && editor.state.device.input_pose.is_some()
     });
     harness
 }

@@ -2,7 +2,7 @@
 //! are written into it as one undo step (typing into one field merges into one step until the
 //! field is left).
 
-use super::edit;
+use super::history::edit;
 use crate::editor::history::EditKey;
 use crate::editor::inputs_form::InputsCommand;
 use crate::editor::state::EditorState;
@@ -11,7 +11,7 @@ use crate::editor::state::EditorState;
 pub(super) fn apply(state: &mut EditorState, command: InputsCommand) {
     let key = match &command {
         InputsCommand::FinishField => {
-            state.history.break_merge();
+            state.document.history.break_merge();
             return;
         }
         InputsCommand::Type { field, .. } => Some(EditKey::Inputs(*field)),

@@ -1,11 +1,11 @@
-//! Moving the edited arm: a joint, the held tool angle, a drag of the tool point through
-//! inverse kinematics (staying on the arm's branch), and a switch to another branch.
+//! Moving the edited arm: a joint, the gripper, the held tool angle, a drag of the tool point
+//! through inverse kinematics (staying on the arm's branch), and a switch to another branch.
 
 use armwright_kinematics::{IkError, IkOptions, IkTarget, JointKind, solve_ik};
 use nalgebra::Vector3;
 
 use crate::editor::state::{BranchChoice, EditorState, Level, ReachStatus};
-use crate::scene::position_to_file_unit;
+use crate::scene::{GripperState, position_to_file_unit};
 
 /// A revolute joint turning more than this in one drag step counts as a jump to another branch,
 /// in rad (60°): the nearest solution near a singular pose can be far away.
@@ -18,11 +18,14 @@ const SLIDE_JUMP: f64 = 0.05;
 pub(super) fn set_joint(state: &mut EditorState, joint: usize, position: f64) {
     if joint < state.pose.len() && position.is_finite() {
         state.pose[joint] = state.clamp_to_limits(joint, position);
-        state.branch = None;
-        state.branch_choices.clear();
-        state.reach = ReachStatus::Idle;
+        state.readout.forget_drag();
         state.pose_changed();
     }
+}
+
+/// Opens or closes the gripper of the edited pose.
+pub(super) fn set_gripper(state: &mut EditorState, gripper: GripperState) {
+    state.gripper = gripper;
 }
 
 /// Sets the tool angle a drag holds (rad), wrapped into (−π, π].
@@ -34,13 +37,13 @@ pub(super) fn set_tool_angle(state: &mut EditorState, angle: f64) {
 
 /// Puts the arm on the branch the user picked among those the last drag offered.
 pub(super) fn choose_branch(state: &mut EditorState, index: usize) {
-    if let Some(choice) = state.branch_choices.get(index).cloned()
+    if let Some(choice) = state.readout.branch_choices.get(index).cloned()
         && choice.positions.len() == state.pose.len()
     {
         state.pose = choice.positions;
-        state.branch = Some(choice.label.clone());
-        state.branch_choices.clear();
-        state.reach = ReachStatus::Reached;
+        state.readout.branch = Some(choice.label.clone());
+        state.readout.branch_choices.clear();
+        state.readout.reach = ReachStatus::Reached;
         state.pose_changed();
         state.say(
             Level::Info,
@@ -60,7 +63,7 @@ pub(super) fn drag_tool_point(state: &mut EditorState, target: [f64; 3]) {
     match solve_ik(arm, &ik_target, &state.pose, &IkOptions::default()) {
         Ok(solutions) => {
             let branches = solutions.as_slice();
-            let chosen = match &state.branch {
+            let chosen = match &state.readout.branch {
                 Some(label) => branches.iter().find(|branch| branch.label() == label),
                 None => Some(solutions.nearest(&state.pose)),
             };
@@ -69,7 +72,7 @@ pub(super) fn drag_tool_point(state: &mut EditorState, target: [f64; 3]) {
                 .collect();
             let continuous =
                 chosen.filter(|branch| !jumps(&kinds, &state.pose, branch.positions()));
-            state.branch_choices = branches
+            state.readout.branch_choices = branches
                 .iter()
                 .filter(|branch| Some(branch.label()) != continuous.map(|c| c.label()))
                 .map(|branch| BranchChoice {
@@ -80,19 +83,19 @@ pub(super) fn drag_tool_point(state: &mut EditorState, target: [f64; 3]) {
             match continuous {
                 Some(branch) => {
                     state.pose = branch.positions().to_vec();
-                    state.branch = Some(branch.label().to_string());
-                    state.reach = ReachStatus::Reached;
+                    state.readout.branch = Some(branch.label().to_string());
+                    state.readout.reach = ReachStatus::Reached;
                     let angle = state.tool_angle;
                     state.pose_changed();
                     // Keep the angle the user set, not the one read back (they agree up to
                     // rounding, and reading back would let it creep).
                     state.tool_angle = angle;
                 }
-                None => state.reach = ReachStatus::OtherBranchOnly,
+                None => state.readout.reach = ReachStatus::OtherBranchOnly,
             }
         }
         Err(IkError::OutOfReach { short_by }) => {
-            state.reach = ReachStatus::OutOfReach {
+            state.readout.reach = ReachStatus::OutOfReach {
                 short_by_mm: short_by * 1e3,
             };
         }
@@ -106,14 +109,14 @@ pub(super) fn drag_tool_point(state: &mut EditorState, target: [f64; 3]) {
                 .get(joint)
                 .copied()
                 .unwrap_or(crate::scene::JointKindDoc::Revolute);
-            state.reach = ReachStatus::AtJointLimit {
+            state.readout.reach = ReachStatus::AtJointLimit {
                 joint,
                 needed: position_to_file_unit(kind, position),
                 past_by: position_to_file_unit(kind, by),
             };
         }
         Err(error) => {
-            state.reach = ReachStatus::NotSolved {
+            state.readout.reach = ReachStatus::NotSolved {
                 reason: error.to_string(),
             };
         }

@@ -1,7 +1,8 @@
 //! The retime tab's commands: the target, starting and cancelling a run on the worker, and
 //! applying (one undo step) or discarding its result.
 
-use super::{Outside, edit};
+use super::Outside;
+use super::history::edit;
 use crate::editor::retime_job::RetimeRun;
 use crate::editor::state::{EditorState, Level};
 use crate::scene::validate;

@@ -4,9 +4,10 @@
 
 use nalgebra::Vector3;
 
-use super::{WaypointField, edit};
+use super::WaypointField;
+use super::history::edit;
 use crate::editor::history::EditKey;
-use crate::editor::state::{EditorState, Level, ReachStatus};
+use crate::editor::state::{EditorState, Level};
 use crate::editor::waypoint_name::relative_name;
 use crate::scene::{MoveKind, Waypoint, pose_from_file_units};
 
@@ -127,7 +128,7 @@ pub(super) fn update_pose(state: &mut EditorState, index: usize) {
 pub(super) fn select(state: &mut EditorState, index: usize) {
     if index < state.scene.waypoints.len() {
         state.selected_waypoint = Some(index);
-        state.history.break_merge();
+        state.document.history.break_merge();
     }
 }
 
@@ -137,7 +138,7 @@ pub(super) fn jump_to(state: &mut EditorState, index: usize) {
         return;
     };
     state.selected_waypoint = Some(index);
-    state.history.break_merge();
+    state.document.history.break_merge();
     if waypoint.joints_deg_or_mm.len() != state.joint_count() {
         let message = format!(
             "\"{}\" has {} joint positions, the arm has {} joints",
@@ -151,9 +152,7 @@ pub(super) fn jump_to(state: &mut EditorState, index: usize) {
     let gripper = waypoint.gripper;
     state.pose = pose_from_file_units(&state.scene.arm, &waypoint.joints_deg_or_mm);
     state.gripper = gripper;
-    state.branch = None;
-    state.branch_choices.clear();
-    state.reach = ReachStatus::Idle;
+    state.readout.forget_drag();
     state.pose_changed();
 }
 

@@ -6,7 +6,7 @@ use egui::{Color32, Grid, Key, RichText, Ui};
 
 use armwright_kinematics::FitShape;
 
-use crate::cli::calibrate::si_per_file_unit;
+use crate::calibration_fit::si_per_file_unit;
 use crate::editor::calibration::{
     CalibrationCommand, DEADBAND_STEP_S, DeadbandSearch, PULSE_STEPS_US, SearchLeg,
 };
@@ -92,7 +92,7 @@ pub fn calibration(ui: &mut Ui, state: &EditorState, view: &LinkView) -> Command
     if view.connection.is_none() {
         ui.label("Connect a device in the Link tab to step this joint's pulse.");
     }
-    if !state.caution_acknowledged
+    if !state.device.caution_acknowledged
         && caution_box(
             ui,
             "The first pulse wakes this joint, and any other joint whose servo is limp at \
@@ -108,7 +108,7 @@ pub fn calibration(ui: &mut Ui, state: &EditorState, view: &LinkView) -> Command
         );
     }
     let may_move = view.connection.is_some()
-        && state.caution_acknowledged
+        && state.device.caution_acknowledged
         && matches!(state.stop, StopState::Clear);
     command = command.then(pulse_controls(ui, state, may_move));
     ui.separator();

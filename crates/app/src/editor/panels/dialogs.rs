@@ -15,7 +15,7 @@ const WIDTH: f32 = 520.0;
 
 /// Draws the open dialog, if any, over `below` (the window below the top bar).
 pub fn dialogs(ctx: &egui::Context, below: Rect, state: &EditorState) -> Command {
-    let Some(dialog) = &state.dialog else {
+    let Some(dialog) = &state.view.dialog else {
         return Command::None;
     };
     let mut command = Command::None;
@@ -100,7 +100,7 @@ fn dialog_body(ui: &mut egui::Ui, dialog: &Dialog, state: &EditorState) -> Comma
             ui.label("The scene has changes that are not saved. Close anyway?");
             ui.horizontal(|ui| {
                 if ui.button("Save and close").clicked() {
-                    command = match &state.file_path {
+                    command = match &state.document.file_path {
                         Some(path) => Command::SaveToPath {
                             path: path.clone(),
                             then_close: true,
@@ -223,7 +223,7 @@ mod tests {
 
     fn harness(dialog: Dialog) -> Harness<'static, Setup> {
         let mut state = EditorState::new(sample_scene(), None);
-        state.dialog = Some(dialog);
+        state.view.dialog = Some(dialog);
         Harness::builder().with_size([900.0, 700.0]).build_ui_state(
             |ui, (state, commands): &mut Setup| {
                 let below = ui.ctx().content_rect();

@@ -62,7 +62,7 @@ pub fn follow(ui: &mut Ui, state: &EditorState, view: &LinkView) -> Command {
          no faster than the speed share below and never faster than its servos can follow. \
          Or it follows the input arm (amber in the views), moved by hand.",
     );
-    if !state.caution_acknowledged
+    if !state.device.caution_acknowledged
         && caution_box(
             ui,
             "A servo that is limp runs to its first pulse at its own top speed when \
@@ -73,7 +73,7 @@ pub fn follow(ui: &mut Ui, state: &EditorState, view: &LinkView) -> Command {
     }
     let connected = view.connection.is_some();
     let stopped = matches!(state.stop, StopState::Latched { .. });
-    let may_switch = state.caution_acknowledged && connected && !stopped;
+    let may_switch = state.device.caution_acknowledged && connected && !stopped;
     let following = |source| settings.on && settings.source == source;
     let mut on = following(FollowSource::EditedPose);
     let switch = ui.add_enabled(may_switch || on, egui::Checkbox::new(&mut on, FOLLOW_LABEL));
@@ -81,7 +81,7 @@ pub fn follow(ui: &mut Ui, state: &EditorState, view: &LinkView) -> Command {
         command = Command::Follow(FollowCommand::Switch(on));
     }
     let mut on = following(FollowSource::InputArm);
-    let has_input_arm = state.input_pose.is_some();
+    let has_input_arm = state.device.input_pose.is_some();
     let switch = ui
         .add_enabled(
             (may_switch && has_input_arm) || on,
@@ -218,7 +218,7 @@ pub fn follow(ui: &mut Ui, state: &EditorState, view: &LinkView) -> Command {
 /// and `]` jog it. Nothing while a dialog is open or a widget has the keyboard.
 pub fn jog_keys(ctx: &egui::Context, state: &EditorState) -> Vec<Command> {
     let free = ctx.memory(|memory| memory.focused().is_none());
-    if state.dialog.is_some() || ctx.egui_wants_keyboard_input() || !free {
+    if state.view.dialog.is_some() || ctx.egui_wants_keyboard_input() || !free {
         return Vec::new();
     }
     let mut commands = Vec::new();

@@ -298,7 +298,7 @@ fn now_text(state: &EditorState, row: &InputRow, reading_now: Option<u16>) -> St
         .any(|input| input.joint == row.joint && input.input.to_string() == row.input.trim());
     let fitted = joint
         .filter(|_| mapped)
-        .and_then(|joint| Some((joint, *state.input_pose.as_ref()?.get(joint)?)));
+        .and_then(|joint| Some((joint, *state.device.input_pose.as_ref()?.get(joint)?)));
     match fitted {
         Some((joint, position)) => {
             let (value, unit) = if state.is_prismatic(joint) {

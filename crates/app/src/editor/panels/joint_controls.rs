@@ -28,7 +28,7 @@ pub fn shown_pulse(
 /// to sit beside the panel's heading: "payload ≤ 184 g (elbow)"; the hover gives it as `pose`
 /// prints it ("heaviest payload 184 g at the tool point (set by elbow)").
 fn payload_text(state: &EditorState, arm: &Arm) -> Option<(String, String)> {
-    let limit = state.max_payload?;
+    let limit = state.readout.max_payload?;
     Some(match limit.joint.and_then(|j| arm.joints().get(j)) {
         Some(joint) if limit.mass.is_finite() => (
             format!("payload ≤ {:.0} g ({})", limit.mass * 1e3, joint.name),
@@ -50,6 +50,7 @@ fn payload_line(ui: &mut Ui, state: &EditorState, arm: &Arm) {
         return;
     };
     let over = state
+        .readout
         .max_payload
         .is_some_and(|limit| limit.mass < arm.payload_mass());
     if over {
@@ -132,7 +133,7 @@ pub fn joint_controls(ui: &mut Ui, state: &EditorState, pulse_unit_us: f64) -> C
                 ui.label(pulse_text);
             }
         });
-        if let Some(share) = state.torque_use.get(index) {
+        if let Some(share) = state.readout.torque_use.get(index) {
             let colour = if *share > 1.0 {
                 Color32::from_rgb(255, 80, 60)
             } else if *share > 0.8 {
@@ -228,7 +229,7 @@ mod tests {
         use armwright_link::{SimDevice, SimDeviceConfig, device_setpoints};
         use armwright_trajectory::Sample;
 
-        use crate::cli::pose::evaluate;
+        use crate::pose_report::evaluate;
         use crate::scene::build_arm;
 
         let scene = sample_scene();
@@ -300,9 +301,9 @@ mod tests {
 
     #[test]
     fn the_heaviest_payload_is_the_one_pose_gives_and_follows_the_slider() {
-        use crate::cli::pose::evaluate;
         use crate::editor::command::apply;
         use crate::editor::estop::ChannelStopLink;
+        use crate::pose_report::evaluate;
 
         let mut harness = Harness::new_ui_state(
             |ui, (state, commands): &mut (EditorState, Vec<Command>)| {

@@ -41,7 +41,7 @@ pub fn link(ui: &mut Ui, state: &EditorState, view: &LinkView) -> Command {
     ui.add_enabled_ui(!connected && !view.connecting, |ui| {
         if ui
             .radio(
-                state.link_device == Device::Simulated,
+                state.device.link_device == Device::Simulated,
                 "simulated device (in this program)",
             )
             .clicked()
@@ -49,7 +49,7 @@ pub fn link(ui: &mut Ui, state: &EditorState, view: &LinkView) -> Command {
             command = Command::ChooseDevice(Device::Simulated);
         }
         for port in &view.ports {
-            let chosen = state.link_device == Device::Port(port.path.clone());
+            let chosen = state.device.link_device == Device::Port(port.path.clone());
             if ui
                 .radio(chosen, format!("{} — {}", port.path, port.description))
                 .clicked()
@@ -78,7 +78,7 @@ pub fn link(ui: &mut Ui, state: &EditorState, view: &LinkView) -> Command {
             .add_enabled(!view.connecting, egui::Button::new("Connect"))
             .clicked()
         {
-            command = Command::Link(LinkAction::Connect(state.link_device.clone()));
+            command = Command::Link(LinkAction::Connect(state.device.link_device.clone()));
         }
         if view.connecting {
             ui.spinner();
@@ -90,7 +90,7 @@ pub fn link(ui: &mut Ui, state: &EditorState, view: &LinkView) -> Command {
         let link = &state.scene.link;
         let channels = usize::from(connection.info.channel_count);
         if let Some(warning) =
-            crate::cli::stream::rate_above_capacity(link.rate_hz, channels, link.baud)
+            crate::link_capacity::rate_above_capacity(link.rate_hz, channels, link.baud)
         {
             ui.colored_label(
                 Color32::from_rgb(255, 200, 0),
@@ -104,7 +104,7 @@ pub fn link(ui: &mut Ui, state: &EditorState, view: &LinkView) -> Command {
     } else {
         ui.label("not connected");
     }
-    if let Some(pose) = &state.device_pose {
+    if let Some(pose) = &state.device.device_pose {
         ui.separator();
         device_pose(ui, state, pose);
         let limp = view
@@ -211,14 +211,14 @@ pub(super) fn caution_box(ui: &mut Ui, note: &str) -> bool {
 
 fn stream_controls(ui: &mut Ui, state: &EditorState, view: &LinkView) -> Command {
     let mut command = Command::None;
-    if !state.caution_acknowledged && caution_box(ui, LIMP_CAUTION) {
+    if !state.device.caution_acknowledged && caution_box(ui, LIMP_CAUTION) {
         command = Command::AcknowledgeCaution;
     }
     let link_idle = view
         .stats
         .as_ref()
         .is_some_and(|stats| stats.state == LinkState::Idle);
-    let may_move = state.caution_acknowledged && link_idle;
+    let may_move = state.device.caution_acknowledged && link_idle;
     ui.horizontal(|ui| match view.phase {
         StreamPhase::Streaming => {
             if ui.button("Pause stream").clicked() {
@@ -237,7 +237,7 @@ fn stream_controls(ui: &mut Ui, state: &EditorState, view: &LinkView) -> Command
                 .clicked()
             {
                 command = Command::Link(LinkAction::Stream {
-                    park: state.park_after_stream,
+                    park: state.device.park_after_stream,
                 });
             }
         }
@@ -253,12 +253,12 @@ fn stream_controls(ui: &mut Ui, state: &EditorState, view: &LinkView) -> Command
                 .clicked()
             {
                 command = Command::Link(LinkAction::Stream {
-                    park: state.park_after_stream,
+                    park: state.device.park_after_stream,
                 });
             }
         }
     });
-    let mut park = state.park_after_stream;
+    let mut park = state.device.park_after_stream;
     if ui
         .checkbox(&mut park, PARK_LABEL)
         .on_hover_text(
@@ -443,7 +443,7 @@ mod tests {
         harness.run();
         assert_eq!(harness.state().2, vec![Command::AcknowledgeCaution]);
 
-        harness.state_mut().0.caution_acknowledged = true;
+        harness.state_mut().0.device.caution_acknowledged = true;
         harness.run();
         assert!(harness.query_by_label(ACKNOWLEDGE_LABEL).is_none());
         harness.get_by_label("Stream sequence").click();
@@ -458,7 +458,7 @@ mod tests {
             harness.state().2.last(),
             Some(&Command::ParkAfterStream(true))
         );
-        harness.state_mut().0.park_after_stream = true;
+        harness.state_mut().0.device.park_after_stream = true;
         harness.run();
         harness.get_by_label("Stream sequence").click();
         harness.run();
@@ -511,7 +511,7 @@ mod tests {
     fn the_device_pose_is_shown_in_the_scene_units() {
         let mut harness = connected();
         let pose = harness.state().0.pose.clone();
-        harness.state_mut().0.device_pose = Some(pose.clone());
+        harness.state_mut().0.device.device_pose = Some(pose.clone());
         harness.run();
         let first = pose[0].to_degrees();
         harness.get_by_label(&format!("{first:.2} °"));

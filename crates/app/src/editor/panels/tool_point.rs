@@ -74,7 +74,7 @@ pub fn tool_point(ui: &mut Ui, state: &EditorState) -> Command {
             ui.end_row();
         });
     ui.label(RichText::new(NUDGE_KEYS).small().weak());
-    if let Some(budget) = &state.accuracy {
+    if let Some(budget) = &state.readout.accuracy {
         ui.label(format!(
             "accuracy budget: worst ±{:.2} mm, RSS ±{:.2} mm",
             budget.worst * 1e3,
@@ -82,7 +82,7 @@ pub fn tool_point(ui: &mut Ui, state: &EditorState) -> Command {
         ))
         .on_hover_text("from each servo's deadband and backlash at this pose");
     }
-    match (&state.reach, &state.branch) {
+    match (&state.readout.reach, &state.readout.branch) {
         (ReachStatus::Reached, Some(branch)) => {
             ui.colored_label(
                 Color32::LIGHT_GREEN,
@@ -101,9 +101,9 @@ pub fn tool_point(ui: &mut Ui, state: &EditorState) -> Command {
                 .color(Color32::from_rgb(255, 110, 60)),
         );
     }
-    if !state.branch_choices.is_empty() {
+    if !state.readout.branch_choices.is_empty() {
         ui.label("other branches reaching the target:");
-        for (index, choice) in state.branch_choices.iter().enumerate() {
+        for (index, choice) in state.readout.branch_choices.iter().enumerate() {
             if ui
                 .button(format!("switch to \"{}\"", choice.label))
                 .clicked()
@@ -142,7 +142,7 @@ mod tests {
             .set_value_accesskit(x_mm);
         harness.run();
         let state = harness.state();
-        assert_eq!(state.reach, ReachStatus::Reached);
+        assert_eq!(state.readout.reach, ReachStatus::Reached);
         let now = state.tool_point().expect("tool point");
         assert!((now.x * 1e3 - x_mm).abs() < 0.01, "x {} mm", now.x * 1e3);
         assert!((now.y - start.y).abs() < 1e-5 && (now.z - start.z).abs() < 1e-5);
@@ -153,7 +153,7 @@ mod tests {
             .set_value_accesskit(2000.0);
         harness.run();
         assert!(matches!(
-            harness.state().reach,
+            harness.state().readout.reach,
             ReachStatus::OutOfReach { .. }
         ));
         assert!(harness.query_by_label_contains("OUT OF REACH by").is_some());
@@ -162,7 +162,7 @@ mod tests {
     #[test]
     fn an_unreachable_target_is_said_plainly() {
         let mut state = EditorState::new(sample_scene(), None);
-        state.reach = ReachStatus::OutOfReach { short_by_mm: 12.25 };
+        state.readout.reach = ReachStatus::OutOfReach { short_by_mm: 12.25 };
         let mut harness = Harness::new_ui_state(
             |ui, state: &mut EditorState| {
                 let _ = tool_point(ui, state);

@@ -55,7 +55,7 @@ pub fn top_bar(ui: &mut Ui, state: &EditorState) -> Command {
             }
         }
         ui.separator();
-        let free = state.dialog.is_none();
+        let free = state.view.dialog.is_none();
         ui.add_enabled_ui(free, |ui| {
             if ui.button("Open…").clicked() {
                 command = Command::ShowDialog(Dialog::Open {
@@ -68,6 +68,7 @@ pub fn top_bar(ui: &mut Ui, state: &EditorState) -> Command {
             if ui.button("Save as…").clicked() {
                 command = Command::ShowDialog(Dialog::SaveAs {
                     path: state
+                        .document
                         .file_path
                         .as_ref()
                         .map(|path| path.display().to_string())
@@ -93,15 +94,16 @@ pub fn top_bar(ui: &mut Ui, state: &EditorState) -> Command {
         });
         ui.separator();
         let name = state
+            .document
             .file_path
             .as_ref()
             .and_then(|path| path.file_name())
             .map(|name| name.to_string_lossy().into_owned())
             .unwrap_or_else(|| "built-in sample (not saved)".into());
-        let mark = if state.dirty { "* " } else { "" };
+        let mark = if state.document.dirty { "* " } else { "" };
         ui.vertical(|ui| {
             ui.label(format!("{mark}{name}"))
-                .on_hover_text(if state.dirty {
+                .on_hover_text(if state.document.dirty {
                     "unsaved changes"
                 } else {
                     "saved"

@@ -388,9 +388,9 @@ pub fn arm(
 
 fn state_has_problem(state: &EditorState) -> bool {
     !matches!(
-        state.reach,
+        state.readout.reach,
         crate::editor::state::ReachStatus::Idle | crate::editor::state::ReachStatus::Reached
-    ) || state.worst_torque_overload().is_some()
+    ) || state.readout.worst_torque_overload().is_some()
 }
 
 /// The view's title in the top-left corner with a smaller line under it (what slice it shows),
