@@ -46,7 +46,7 @@ const LAST_ACK_WAIT: Duration = Duration::from_secs(2);
 /// watchdog neither ends the stream nor trips the watchdog. Below the reference firmware's
 /// 64-frame (1.28 s) play queue, so a device clock a little slower than the host's does not
 /// fill it.
-const PLAY_AHEAD: Duration = Duration::from_secs(1);
+pub(crate) const PLAY_AHEAD: Duration = Duration::from_secs(1);
 
 /// The options of one `stream` run.
 pub(crate) struct StreamRequest<'a> {
