@@ -798,11 +798,13 @@ impl StopLink for LinkStopLink {
 fn pacing_words(plays_ahead: bool) -> String {
     if plays_ahead {
         format!(
-            "streams are sent {:.1} s ahead (the device plays them from its queue) and wake a              limp arm one joint at a time",
+            "streams are sent {:.1} s ahead (the device plays them from its queue) and wake a \
+             limp arm one joint at a time",
             PLAY_AHEAD.as_secs_f64()
         )
     } else {
-        "streams are sent in real time (the device cannot play them ahead at this rate) and          wake a limp arm with all joints together"
+        "streams are sent in real time (the device cannot play them ahead at this rate) and \
+         wake a limp arm with all joints together"
             .to_owned()
     }
 }
