@@ -170,8 +170,8 @@ pub struct Connection {
     pub name: String,
     /// What the device announced.
     pub info: DeviceInfo,
-    /// Streams are sent [`PLAY_AHEAD`] ahead as planned setpoints the device plays from its
-    /// queue (protocol 4, the scene's rate equal to the device's pulse frame rate): a limp arm
+    /// Streams are sent ahead (1 s, as `armwright stream`) as planned setpoints the device plays
+    /// from its queue (protocol 4, the scene's rate equal to the device's pulse frame rate): a limp arm
     /// is then woken one joint at a time ([`Link::plays_ahead`]).
     pub plays_ahead: bool,
 }
