@@ -112,6 +112,12 @@ fn a_limp_arm_wakes_one_joint_at_a_time_then_the_stream_runs_to_its_end() {
         harness.query_by_label_contains(&words).is_some(),
         "no \"{words}\" on the Link tab"
     );
+    // The timeline draws the approach the stream will make: woken one joint at a time.
+    step_until_slow(&mut harness, "the approach drawn", |editor| {
+        editor.timeline_approach().is_some()
+    });
+    let (from, drawn_s) = harness.state().timeline_approach().expect("drawn");
+    assert_eq!(from, StartFrom::Limp);
     harness.get_by_label("Stream sequence").click_accesskit();
     step_until_slow(&mut harness, "the stream's end", |editor| {
         editor.device().view().phase == StreamPhase::Finished
@@ -206,6 +212,13 @@ fn a_limp_arm_wakes_one_joint_at_a_time_then_the_stream_runs_to_its_end() {
     .expect("the stream plans");
     let total = streamed.setpoints.values.len();
     assert_eq!(harness.state().device().view().progress.1, total);
+    assert!(
+        (drawn_s - streamed.approach.duration()).abs() < 1e-9,
+        "the timeline drew {drawn_s} s of approach, the stream's is {} s",
+        streamed.approach.duration()
+    );
+    let woken_s = (order.len() as u64 * pause_frames) as f64 / rate_hz;
+    assert!(drawn_s > woken_s, "{drawn_s} s, the wake alone {woken_s} s");
     assert_eq!(Some(output), streamed.frame(total - 1), "the last setpoint");
     assert_eq!(waiting, 0);
     // The last frame that differs from the one before went out no sooner than its place in the
