@@ -118,6 +118,15 @@ fn a_limp_arm_wakes_one_joint_at_a_time_then_the_stream_runs_to_its_end() {
     });
     let (from, drawn_s) = harness.state().timeline_approach().expect("drawn");
     assert_eq!(from, StartFrom::Limp);
+    harness.run_steps(2);
+    assert!(
+        harness
+            .query_by_label_contains(
+                "woken at its rest pose (one joint at a time, a wake pause each)"
+            )
+            .is_some(),
+        "the timeline's caption"
+    );
     harness.get_by_label("Stream sequence").click_accesskit();
     step_until_slow(&mut harness, "the stream's end", |editor| {
         editor.device().view().phase == StreamPhase::Finished

@@ -396,10 +396,15 @@ fn approach_caption(approach: Option<&ApproachTrace>) -> String {
                                   the arm now, commanded and dry run"
             .to_owned(),
         Some(StartFrom::Limp | StartFrom::Unknown) => {
-            "shaded before 0 s: a servo is limp, so the arm is woken at its rest pose, held, \
-             then approaches (its dry run starts at rest there: the jump a limp servo makes to \
-             its first pulse is not modelled)"
-                .to_owned()
+            let woken = match approach.map(|approach| approach.wake) {
+                Some(WakeMode::OneAtATime) => "one joint at a time, a wake pause each",
+                _ => "all joints together, held for the wake pause",
+            };
+            format!(
+                "shaded before 0 s: a servo is limp, so the arm is woken at its rest pose \
+                 ({woken}), then approaches (its dry run starts at rest there: the jump a limp \
+                 servo makes to its first pulse is not modelled)"
+            )
         }
         None => "a stream starts with an approach planned from what the device reports at \
                  stream time"
