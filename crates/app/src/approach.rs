@@ -38,12 +38,6 @@ impl StartFrom {
     }
 
     /// A plain sentence for the user, before anything is sent, for a stream that wakes a limp
-    /// arm with every joint together.
-    pub fn describe(self) -> String {
-        self.describe_waking(WakeMode::Together)
-    }
-
-    /// A plain sentence for the user, before anything is sent, for a stream that wakes a limp
     /// arm as `wake` says.
     pub fn describe_waking(self, wake: WakeMode) -> String {
         let why = match self {
@@ -157,10 +151,11 @@ pub struct StreamPlan {
 }
 
 /// How a stream wakes a limp arm: all channels together at the rest pose, or one at a time.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
 pub enum WakeMode {
     /// Every channel gets its first pulse in the first frame (a device that cannot leave a
     /// channel without a pulse in a setpoint).
+    #[default]
     Together,
     /// One channel at a time, the slowest joint first, then the next after the wake pause
     /// (a device that plays planned setpoints, `PROTOCOL.md` §3).
@@ -252,34 +247,6 @@ impl StreamPlan {
     }
 }
 
-/// Plans the stream of `plan` (the scene's, from [`crate::task::plan_of`]) to a device that
-/// reports `output`: approach (after waking at the rest pose when the pose is unknown), plan,
-/// and with `park` the move to the rest pose, as setpoints at `rate_hz`. A limp arm is woken
-/// with every channel at once; see [`stream_plan_waking`].
-///
-/// # Errors
-/// A message saying which part could not be planned or turned into setpoints.
-pub fn stream_plan(
-    scene: &Scene,
-    arm: &Arm,
-    plan: &TaskPlan,
-    output: Option<&ChannelOutput>,
-    device: &DeviceInfo,
-    rate_hz: f64,
-    park: bool,
-) -> Result<StreamPlan, String> {
-    stream_plan_waking(
-        scene,
-        arm,
-        plan,
-        output,
-        device,
-        rate_hz,
-        park,
-        WakeMode::Together,
-    )
-}
-
 /// The wake order of `arm` on the device's channels: its joints (joint `i` on channel `i`),
 /// slowest servo first, then the gripper on the last channel.
 pub fn wake_channels(arm: &Arm, device: &DeviceInfo) -> Vec<usize> {
@@ -290,23 +257,19 @@ pub fn wake_channels(arm: &Arm, device: &DeviceInfo) -> Vec<usize> {
     order
 }
 
-/// [`stream_plan`], waking a limp arm as `wake` says: with [`WakeMode::OneAtATime`] the rest
-/// pose is held for the wake pause once per channel woken ([`StreamPlan::frame`] leaves the
-/// channels not yet woken without a pulse).
-///
-/// # Errors
-/// As [`stream_plan`].
-#[allow(clippy::too_many_arguments)] // the stream's inputs, each named; grouping them adds a type used once
-pub fn stream_plan_waking(
+/// Where the approach starts for a device that reports `output` (as [`approach_start`]), for
+/// a stream at `rate_hz` that wakes a limp arm as `wake` says: with [`WakeMode::OneAtATime`]
+/// the rest pose is held for the wake pause once per channel woken, and the steps say in which
+/// order; `None` when the arm is held or woken together. What a stream sends
+/// ([`stream_plan_waking`]) and the approach the timeline draws both start here.
+pub fn approach_start_waking(
     scene: &Scene,
     arm: &Arm,
-    plan: &TaskPlan,
     output: Option<&ChannelOutput>,
     device: &DeviceInfo,
     rate_hz: f64,
-    park: bool,
     wake: WakeMode,
-) -> Result<StreamPlan, String> {
+) -> (ApproachStart, StartFrom, Option<WakeSteps>) {
     let (mut start, from) = approach_start(scene, arm, output, device);
     let wake = (from.wakes() && wake == WakeMode::OneAtATime).then(|| {
         let pause_frames = ((scene.timing.wake_pause_ms / 1e3 * rate_hz).round() as usize).max(1);
@@ -319,6 +282,30 @@ pub fn stream_plan_waking(
         // Each channel's pause, the last one's included, before the approach moves.
         start.hold = (wake.order.len() * wake.pause_frames) as f64 / rate_hz;
     }
+    (start, from, wake)
+}
+
+/// Plans the stream of `plan` (the scene's, from [`crate::task::plan_of`]) to a device that
+/// reports `output`: approach (after waking at the rest pose when the pose is unknown), plan,
+/// and with `park` the move to the rest pose, as setpoints at `rate_hz`. A limp arm is woken
+/// as `wake` says: with [`WakeMode::OneAtATime`] the rest pose is held for the wake pause once
+/// per channel woken ([`StreamPlan::frame`] leaves the channels not yet woken without a
+/// pulse).
+///
+/// # Errors
+/// A message saying which part could not be planned or turned into setpoints.
+#[allow(clippy::too_many_arguments)] // the stream's inputs, each named; grouping them adds a type used once
+pub fn stream_plan_waking(
+    scene: &Scene,
+    arm: &Arm,
+    plan: &TaskPlan,
+    output: Option<&ChannelOutput>,
+    device: &DeviceInfo,
+    rate_hz: f64,
+    park: bool,
+    wake: WakeMode,
+) -> Result<StreamPlan, String> {
+    let (start, from, wake) = approach_start_waking(scene, arm, output, device, rate_hz, wake);
     let approach = approach_of(scene, arm, &start)
         .map_err(|error| format!("cannot plan the approach: {error}"))?;
     let park = if park {

@@ -157,7 +157,7 @@ impl FollowRun {
         let start = reported.unwrap_or_else(|| edited.to_vec());
         let follower = Follower::new(joints, &start, share, 1.0 / rate_hz)
             .map_err(|error| format!("cannot follow: {error}"))?;
-        link.start_stream().map_err(|error| match error {
+        link.start_live_stream().map_err(|error| match error {
             LinkError::StopLatched => {
                 "cannot follow: the emergency stop is latched; check the arm and reset it".into()
             }

@@ -1,7 +1,17 @@
-//! Whether a scene's setpoint rate fits its serial link: the warning `armwright check` and
-//! `stream` print and the editor's Link tab shows.
+//! What a stream asks of its serial link: whether a scene's setpoint rate fits it (the warning
+//! `armwright check` and `stream` print and the editor's Link tab shows), and how far ahead a
+//! stream is sent to a device that plays ahead (`stream` and the editor alike).
+
+use std::time::Duration;
 
 use armwright_link::{setpoint_capacity_hz, setpoint_line_len};
+
+/// How far ahead a stream is sent to a device that plays planned setpoints from its queue
+/// (`PROTOCOL.md` §3, protocol 4): a host held up for up to this long plus the device's 250 ms
+/// watchdog neither ends the stream nor trips the watchdog. Below the reference firmware's
+/// 64-frame (1.28 s) play queue, so a device clock a little slower than the host's does not
+/// fill it.
+pub(crate) const PLAY_AHEAD: Duration = Duration::from_secs(1);
 
 /// Says when `rate_hz` asks for more setpoint lines a second than a serial link at `baud`
 /// carries for `channels` channels (`armwright_link::setpoint_capacity_hz`, `PROTOCOL.md` §7);

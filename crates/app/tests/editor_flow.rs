@@ -7,7 +7,7 @@ mod editor_common;
 
 use std::time::Instant;
 
-use armwright::approach::stream_plan;
+use armwright::approach::{WakeMode, stream_plan_waking};
 use armwright::editor::{
     EditorState, ReachStatus, RetimeRun, StopSource, StopState, StreamPhase, ToolsTab, ViewKind,
 };
@@ -325,7 +325,8 @@ fn open_teach_retime_play_stream_stop_and_reset() {
         .expect("connected")
         .info;
     let limp = ChannelOutput::limp(device.channel_count);
-    let streamed = stream_plan(
+    // The simulated device plays setpoints ahead: the limp arm is woken one joint at a time.
+    let streamed = stream_plan_waking(
         &retimed,
         &arm,
         &plan,
@@ -333,6 +334,7 @@ fn open_teach_retime_play_stream_stop_and_reset() {
         &device,
         retimed.link.rate_hz,
         false,
+        WakeMode::OneAtATime,
     )
     .expect("the stream plans");
     assert_eq!(

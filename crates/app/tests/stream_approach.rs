@@ -1,12 +1,12 @@
 //! The start of every stream, through the whole path from the scene to setpoints
-//! (`armwright::approach::stream_plan`): from random pulses a device reports holding, the
+//! (`armwright::approach::stream_plan_waking`, waking a limp arm with all joints together): from random pulses a device reports holding, the
 //! first setpoint is those pulses (to one pulse unit) and no step between two setpoints of the
 //! approach moves a joint's pulse further than its speed cap allows (property test); from a limp
 //! device the first setpoint is the rest pose, held for the wake pause; `--park` ends at the rest
 //! pose.
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
-use armwright::approach::{StartFrom, rest_pose, stream_plan};
+use armwright::approach::{StartFrom, WakeMode, rest_pose, stream_plan_waking};
 use armwright::scene::{Scene, build_arm, load};
 use armwright::task::plan_of;
 use armwright_kinematics::Arm;
@@ -37,8 +37,17 @@ fn a_limp_device_wakes_at_the_rest_pose_and_holds_it_for_the_wake_pause() {
     let device = device();
     let limp = ChannelOutput::limp(device.channel_count);
     for output in [Some(&limp), None] {
-        let streamed =
-            stream_plan(&scene, &arm, &plan, output, &device, RATE_HZ, false).expect("planned");
+        let streamed = stream_plan_waking(
+            &scene,
+            &arm,
+            &plan,
+            output,
+            &device,
+            RATE_HZ,
+            false,
+            WakeMode::Together,
+        )
+        .expect("planned");
         assert!(streamed.from.wakes());
         let closed = scene.waypoints[0].gripper == armwright::scene::GripperState::Closed;
         let rest = arm_setpoint(
@@ -55,11 +64,29 @@ fn a_limp_device_wakes_at_the_rest_pose_and_holds_it_for_the_wake_pause() {
         }
         assert!(streamed.approach.duration() > scene.timing.wake_pause_ms / 1e3);
     }
-    let streamed =
-        stream_plan(&scene, &arm, &plan, Some(&limp), &device, RATE_HZ, false).expect("planned");
+    let streamed = stream_plan_waking(
+        &scene,
+        &arm,
+        &plan,
+        Some(&limp),
+        &device,
+        RATE_HZ,
+        false,
+        WakeMode::Together,
+    )
+    .expect("planned");
     assert_eq!(streamed.from, StartFrom::Limp);
-    let streamed =
-        stream_plan(&scene, &arm, &plan, None, &device, RATE_HZ, false).expect("planned");
+    let streamed = stream_plan_waking(
+        &scene,
+        &arm,
+        &plan,
+        None,
+        &device,
+        RATE_HZ,
+        false,
+        WakeMode::Together,
+    )
+    .expect("planned");
     assert_eq!(streamed.from, StartFrom::Unknown);
 }
 
@@ -69,10 +96,28 @@ fn a_parked_stream_ends_at_the_rest_pose() {
     let plan = plan_of(&scene, &arm).expect("plannable");
     let device = device();
     let limp = ChannelOutput::limp(device.channel_count);
-    let plain =
-        stream_plan(&scene, &arm, &plan, Some(&limp), &device, RATE_HZ, false).expect("planned");
-    let parked =
-        stream_plan(&scene, &arm, &plan, Some(&limp), &device, RATE_HZ, true).expect("planned");
+    let plain = stream_plan_waking(
+        &scene,
+        &arm,
+        &plan,
+        Some(&limp),
+        &device,
+        RATE_HZ,
+        false,
+        WakeMode::Together,
+    )
+    .expect("planned");
+    let parked = stream_plan_waking(
+        &scene,
+        &arm,
+        &plan,
+        Some(&limp),
+        &device,
+        RATE_HZ,
+        true,
+        WakeMode::Together,
+    )
+    .expect("planned");
     let park = parked.park.as_ref().expect("a park move");
     assert!(parked.setpoints.values.len() > plain.setpoints.values.len());
     assert!((parked.cycle_s() - plain.cycle_s() - park.duration()).abs() < 1e-9);
@@ -116,7 +161,7 @@ proptest! {
         };
         units[channels - 1] = Some(device.units_from_us(gripper_us));
         let output = ChannelOutput::from_slice(&units).expect("7 channels");
-        let streamed = stream_plan(&scene, &arm, &plan, Some(&output), &device, RATE_HZ, false)
+        let streamed = stream_plan_waking(&scene, &arm, &plan, Some(&output), &device, RATE_HZ, false, WakeMode::Together)
             .expect("planned");
         prop_assert_eq!(streamed.from, StartFrom::Held);
         let reported: ChannelValues = output.pulses().expect("all driven");

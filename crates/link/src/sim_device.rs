@@ -92,6 +92,10 @@ pub struct SimDevice {
     planned: VecDeque<ChannelOutput>,
     /// What the device sends now, channel by channel; `None` while limp on every channel.
     pulses: Option<ChannelOutput>,
+    /// The pulse frame from which `pulses` is what it is (see [`SimDevice::output_since`]).
+    pulses_since: u64,
+    /// Per channel, the pulse frame that gave it its first pulse after it was limp.
+    woken_at: [Option<u64>; crate::protocol::MAX_CHANNELS],
     /// When the watchdog starts counting: the later of the last good line and the frame that
     /// took the play queue's last entry.
     watchdog_from: Duration,
@@ -151,6 +155,8 @@ impl SimDevice {
             next_pulses: None,
             planned: VecDeque::new(),
             pulses: None,
+            pulses_since: 0,
+            woken_at: [None; crate::protocol::MAX_CHANNELS],
             watchdog_from: Duration::ZERO,
             next_frame: Duration::ZERO,
             frames: 0,
@@ -258,6 +264,50 @@ impl SimDevice {
             .unwrap_or_else(|| ChannelOutput::limp(self.info.channel_count))
     }
 
+    /// The pulse frame (counted as [`SimDevice::frames_started`] counts, from 0 at power-up)
+    /// from which the device has sent what it sends now: a test's record of when its output
+    /// last changed, however seldom it looked.
+    pub fn output_since(&self) -> u64 {
+        self.pulses_since
+    }
+
+    /// The pulse frame (as [`SimDevice::output_since`]) in which `channel` got its first pulse
+    /// after it was limp (since power-up, or since the release that made it limp); `None`
+    /// while it is limp or for a channel the device does not have. A test's record of how a
+    /// limp arm was woken, channel by channel.
+    pub fn woken_at(&self, channel: usize) -> Option<u64> {
+        let sending = self
+            .pulses
+            .is_some_and(|pulses| pulses.as_slice().get(channel).copied().flatten().is_some());
+        self.woken_at
+            .get(channel)
+            .copied()
+            .flatten()
+            .filter(|_| sending)
+    }
+
+    /// Starts sending `next` from the pulse frame about to start, noting what changed.
+    fn send_pulses(&mut self, next: Option<ChannelOutput>) {
+        if next == self.pulses {
+            return;
+        }
+        let channels = usize::from(self.info.channel_count);
+        let sends = |output: Option<&ChannelOutput>, channel: usize| {
+            output.is_some_and(|output| output.as_slice().get(channel).copied().flatten().is_some())
+        };
+        for channel in 0..channels.min(self.woken_at.len()) {
+            let before = sends(self.pulses.as_ref(), channel);
+            let after = sends(next.as_ref(), channel);
+            if after && !before {
+                self.woken_at[channel] = Some(self.frames);
+            } else if !after {
+                self.woken_at[channel] = None;
+            }
+        }
+        self.pulses = next;
+        self.pulses_since = self.frames;
+    }
+
     /// Planned setpoints waiting in the play queue.
     pub fn planned_waiting(&self) -> usize {
         self.planned.len()
@@ -353,10 +403,10 @@ impl SimDevice {
             }
             if self.mode == DeviceMode::Driving {
                 if let Some(next) = self.planned.pop_front() {
-                    self.pulses = Some(next);
+                    self.send_pulses(Some(next));
                     self.watchdog_from = self.watchdog_from.max(frame_start);
                 } else if let Some(next) = self.next_pulses.take() {
-                    self.pulses = Some(next);
+                    self.send_pulses(Some(next));
                 }
             }
             self.frames += 1;
@@ -518,7 +568,7 @@ impl SimDevice {
             HostMessage::Release => {
                 self.planned.clear();
                 self.next_pulses = None;
-                self.pulses = None;
+                self.send_pulses(None);
                 self.set_mode(DeviceMode::Limp);
                 AckOutcome::Accepted
             }

@@ -3,6 +3,7 @@
 //! everything, watches the link, and publishes statistics for the UI.
 
 use std::collections::VecDeque;
+use std::sync::atomic::{AtomicBool, Ordering};
 use std::sync::mpsc::{self, Receiver, Sender, SyncSender, TryRecvError};
 use std::sync::{Arc, Mutex, PoisonError};
 use std::thread::JoinHandle;
@@ -97,7 +98,8 @@ pub struct StreamStats {
     pub frames_clamped: u64,
     /// Setpoints written later than their deadline by more than `late_after`.
     pub frames_late: u64,
-    /// Queued setpoints dropped by an emergency stop or a lost link.
+    /// Queued setpoints dropped by an emergency stop, a lost link or a halt
+    /// ([`Link::halt_stream`]).
     pub frames_dropped: u64,
     /// Deadlines that came with the queue empty (the producer fell behind).
     pub underruns: u64,
@@ -171,7 +173,10 @@ pub struct DeviceState {
 }
 
 enum Command {
-    Start(Sender<Result<(), LinkError>>),
+    /// Start a stream; `true`: in real time even on a link that plays ahead.
+    Start(Sender<Result<(), LinkError>>, bool),
+    /// End the stream at once and hold, answered once the device acknowledged the hold.
+    Halt(Sender<Result<(), LinkError>>),
     Finish,
     Send(HostMessage),
     Reset(Sender<Result<(), LinkError>>),
@@ -190,6 +195,8 @@ pub struct Link {
     device: DeviceInfo,
     greeting_timeout: Duration,
     plays_ahead: bool,
+    /// The stream started last goes out in real time ([`Link::start_live_stream`]).
+    live: AtomicBool,
     thread: Option<JoinHandle<()>>,
 }
 
@@ -249,6 +256,8 @@ impl Link {
             greeting_acked_at: None,
             watchdog_trips_at_start: 0,
             lead_frames: 0,
+            stream_lead: 0,
+            halt_replies: Vec::new(),
             last_frame: None,
             setpoints_dry: false,
             jitter: Jitter::default(),
@@ -274,6 +283,7 @@ impl Link {
             device,
             greeting_timeout: options.greeting_timeout,
             plays_ahead: plays_ahead(&options, &device),
+            live: AtomicBool::new(false),
             thread: Some(thread),
         })
     }
@@ -378,8 +388,47 @@ impl Link {
     /// [`LinkError::StopLatched`] after an emergency stop until a confirmed reset,
     /// [`LinkError::Lost`] after a lost link, [`LinkError::AlreadyStreaming`].
     pub fn start_stream(&self) -> Result<(), LinkError> {
+        self.start(false)
+    }
+
+    /// Starts a stream sent in real time (setpoints `s`, one a period as they are due) even on
+    /// a link that plays streams ahead ([`Link::plays_ahead`]): for a stream whose setpoints
+    /// are made as it runs (following a pose live, a single pulse), where a second sent ahead
+    /// would be a second of lag. Otherwise as [`Link::start_stream`]; such a stream takes no
+    /// frame with a limp channel ([`Link::push_frame`]).
+    ///
+    /// # Errors
+    /// As [`Link::start_stream`].
+    pub fn start_live_stream(&self) -> Result<(), LinkError> {
+        self.start(true)
+    }
+
+    fn start(&self, live: bool) -> Result<(), LinkError> {
         let (reply_tx, reply_rx) = mpsc::channel();
-        self.command(Command::Start(reply_tx))?;
+        self.command(Command::Start(reply_tx, live))?;
+        let started = reply_rx.recv().map_err(|_| LinkError::Closed)?;
+        if started.is_ok() {
+            self.live.store(live, Ordering::SeqCst);
+        }
+        started
+    }
+
+    /// Ends the stream now and holds the arm where it is, for a pause: drops the setpoints not
+    /// yet written (counted in [`StreamStats::frames_dropped`]), asks the device to hold —
+    /// which also drops the planned setpoints it has not played yet (`PROTOCOL.md` §3), so a
+    /// stream played ahead stops within a pulse frame of the hold instead of playing on for the
+    /// second it was sent ahead — and waits for the device to acknowledge the hold. From then
+    /// on the device keeps the pulses of the frame it was sending; ask
+    /// [`Link::refresh_state`] which. No [`LinkEvent::StreamFinished`] follows; the link is
+    /// idle. On an idle link it only holds.
+    ///
+    /// # Errors
+    /// [`LinkError::StopLatched`] when the emergency stop is (or becomes) latched, which holds
+    /// already; [`LinkError::Lost`] when the link is or becomes lost before the device
+    /// acknowledges the hold.
+    pub fn halt_stream(&self) -> Result<(), LinkError> {
+        let (reply_tx, reply_rx) = mpsc::channel();
+        self.command(Command::Halt(reply_tx))?;
         reply_rx.recv().map_err(|_| LinkError::Closed)?
     }
 
@@ -407,7 +456,8 @@ impl Link {
     ///
     /// # Errors
     /// As [`Link::push_setpoint`], and [`LinkError::NoPlayAhead`] for a frame with a limp
-    /// channel on a link that does not play ahead ([`Link::plays_ahead`]).
+    /// channel on a link that does not play ahead ([`Link::plays_ahead`]) or in a stream
+    /// started with [`Link::start_live_stream`].
     pub fn push_frame(&self, frame: ChannelOutput) -> Result<(), LinkError> {
         let expected = usize::from(self.device.channel_count);
         if frame.len() != expected {
@@ -416,7 +466,7 @@ impl Link {
                 got: frame.len(),
             });
         }
-        if frame.any_limp() && !self.plays_ahead {
+        if frame.any_limp() && (!self.plays_ahead || self.live.load(Ordering::SeqCst)) {
             return Err(LinkError::NoPlayAhead);
         }
         self.push(frame)
@@ -604,6 +654,8 @@ struct InFlight {
     /// [`Worker::listened`] when it was written.
     sent_listened: Duration,
     message: HostMessage,
+    /// A hold written while a halt waited for one: its acknowledgement answers the halt.
+    halting: bool,
 }
 
 /// A request for the device's state, answered once a status (and, for protocol 2, an
@@ -648,8 +700,13 @@ struct Worker {
     greetings_seen: u32,
     greeting_acked_at: Option<u32>,
     watchdog_trips_at_start: u16,
-    /// Setpoints sent ahead of their time when playing ahead; 0 in real time.
+    /// Setpoints a stream played ahead sends ahead of their time; 0 on a link that does not
+    /// play ahead.
     lead_frames: u32,
+    /// Setpoints the stream now sends ahead: `lead_frames`, or 0 for a live stream.
+    stream_lead: u32,
+    /// Waiting for the device to acknowledge the hold that halts a stream ([`Link::halt_stream`]).
+    halt_replies: Vec<Sender<Result<(), LinkError>>>,
     /// The newest frame sent in this stream.
     last_frame: Option<ChannelOutput>,
     /// No setpoint was waiting the last time one was due.
@@ -923,7 +980,7 @@ impl Worker {
             Some(deadline) if deadline <= now && can_send => Duration::ZERO,
             Some(deadline) if deadline <= now => tick,
             // Played ahead, a setpoint's moment is not its playing time: no need to spin.
-            Some(deadline) if self.lead_frames > 0 => (deadline - now).min(tick),
+            Some(deadline) if self.stream_lead > 0 => (deadline - now).min(tick),
             Some(deadline) if deadline - now < tick => {
                 // Sleep most of the last millisecond, then spin the final 200 µs: waking from
                 // a sleep can take longer than that, spinning cannot.
@@ -943,16 +1000,17 @@ impl Worker {
     fn next_deadline(&self) -> Option<Instant> {
         let schedule = self.schedule.as_ref()?;
         let start = schedule.start?;
-        let due = start + self.options.period * schedule.index.saturating_sub(self.lead_frames);
+        let due = start + self.options.period * schedule.index.saturating_sub(self.stream_lead);
         schedule.draining.is_none().then_some(due)
     }
 
     fn take_commands(&mut self) -> bool {
         loop {
             match self.commands.try_recv() {
-                Ok(Command::Start(reply)) => {
-                    let _ = reply.send(self.start_stream());
+                Ok(Command::Start(reply, live)) => {
+                    let _ = reply.send(self.start_stream(live));
                 }
+                Ok(Command::Halt(reply)) => self.halt(reply),
                 Ok(Command::Finish) => {
                     if let Some(schedule) = &mut self.schedule {
                         schedule.finishing = true;
@@ -987,7 +1045,7 @@ impl Worker {
         }
     }
 
-    fn start_stream(&mut self) -> Result<(), LinkError> {
+    fn start_stream(&mut self, live: bool) -> Result<(), LinkError> {
         match self.stats.state {
             LinkState::Idle => {}
             LinkState::Streaming => return Err(LinkError::AlreadyStreaming),
@@ -1001,6 +1059,7 @@ impl Worker {
             }
         }
         self.stats.state = LinkState::Streaming;
+        self.stream_lead = if live { 0 } else { self.lead_frames };
         // The device's own count, read at connect and with every heartbeat since: a trip
         // before this stream (even one before this host connected) is not this stream's.
         self.watchdog_trips_at_start = self.stats.last_status.map_or(0, |s| s.watchdog_trips);
@@ -1017,10 +1076,44 @@ impl Worker {
         Ok(())
     }
 
+    /// Ends the stream at once and queues a hold ahead of every other line; `reply` is answered
+    /// when the device acknowledges it (see [`Link::halt_stream`]).
+    fn halt(&mut self, reply: Sender<Result<(), LinkError>>) {
+        match self.stats.state {
+            LinkState::Streaming | LinkState::Idle => {}
+            LinkState::Lost => {
+                let loss = self.stats.loss.unwrap_or(LinkLoss::DeviceRestarted);
+                let _ = reply.send(Err(LinkError::Lost(loss)));
+                return;
+            }
+            LinkState::Stopping | LinkState::Stopped | LinkState::Resetting => {
+                let _ = reply.send(Err(LinkError::StopLatched));
+                return;
+            }
+        }
+        self.schedule = None;
+        self.last_frame = None;
+        self.plays_until = None;
+        self.drop_queued();
+        self.stats.state = LinkState::Idle;
+        self.halt_replies.push(reply);
+        self.controls.push_front(HostMessage::Hold);
+        self.publish();
+    }
+
+    /// Answers every halt waiting for the device's word.
+    fn answer_halts(&mut self, answer: &Result<(), LinkError>) {
+        for reply in self.halt_replies.drain(..) {
+            let _ = reply.send(answer.clone());
+        }
+    }
+
     /// The emergency stop: out before anything else, queued setpoints dropped.
     fn emergency_stop(&mut self, requested_at: Instant) {
         self.schedule = None;
         self.controls.clear();
+        // The stop holds too: a halt waiting for its hold gets the stop's word.
+        self.answer_halts(&Err(LinkError::StopLatched));
         self.drop_queued();
         self.stop_requested_at = Some(requested_at);
         self.stats.stop_ack_latency = None;
@@ -1064,7 +1157,7 @@ impl Worker {
     }
 
     fn serve_stream(&mut self, now: Instant) {
-        let lead = self.lead_frames;
+        let lead = self.stream_lead;
         let period = self.options.period;
         let Some(schedule) = &mut self.schedule else {
             self.drop_queued();
@@ -1275,11 +1368,13 @@ impl Worker {
         if matches!(message, HostMessage::Greeting { .. }) {
             self.greeting_requested = true;
         }
+        let halting = message == HostMessage::Hold && !self.halt_replies.is_empty();
         self.in_flight.push_back(InFlight {
             seq,
             sent_at: now,
             sent_listened: self.listened,
             message,
+            halting,
         });
         if self.stats.state == LinkState::Streaming {
             let gap = now.saturating_duration_since(self.last_sent);
@@ -1316,6 +1411,7 @@ impl Worker {
         if let Some(refresh) = self.refresh.take() {
             let _ = refresh.reply.send(Err(LinkError::Lost(loss)));
         }
+        self.answer_halts(&Err(LinkError::Lost(loss)));
         self.emit(LinkEvent::Lost(loss));
     }
 
@@ -1358,7 +1454,11 @@ impl Worker {
                 else {
                     return;
                 };
+                let halted = self.in_flight.iter().take(position + 1).any(|f| f.halting);
                 let acked = self.in_flight.drain(..=position).next_back();
+                if halted {
+                    self.answer_halts(&Ok(()));
+                }
                 self.room = usize::from(ack.room);
                 let Some(acked) = acked else { return };
                 let waited = self.last_heard.saturating_duration_since(acked.sent_at);

@@ -452,3 +452,105 @@ fn a_device_stop_the_host_did_not_send_ends_the_stream() {
     ));
     assert!(injected.elapsed() < Duration::from_millis(100));
 }
+
+/// A link at the device's 20 ms frame that sends streams 1 s ahead, and its device.
+fn connect_playing_ahead() -> (Link, Arc<Mutex<SimDevice>>, Log) {
+    let sim = SimTransport::new(SimDeviceConfig::default());
+    let device = sim.device();
+    let (recorder, log) = Recorder::new(sim, Faults::default());
+    let options = StreamOptions {
+        period: Duration::from_millis(20),
+        play_ahead: Duration::from_secs(1),
+        ..StreamOptions::default()
+    };
+    let link = Link::connect(Box::new(recorder), options).expect("connects");
+    assert!(link.plays_ahead());
+    (link, device, log)
+}
+
+#[test]
+fn a_halt_drops_the_setpoints_sent_ahead_and_the_device_holds_at_once() {
+    let (link, device, log) = connect_playing_ahead();
+    link.start_stream().expect("streams");
+    std::thread::scope(|scope| {
+        scope.spawn(|| {
+            for step in 0..300 {
+                if link.push_setpoint(sweep(step)).is_err() {
+                    // Halted: the stream is over.
+                    return;
+                }
+            }
+        });
+        wait_until("ten frames played", Duration::from_secs(10), || {
+            let device = device.lock().expect("device");
+            device.frames_started() > 10 && device.planned_waiting() > 20
+        });
+        link.halt_stream().expect("halted");
+    });
+    // The hold was acknowledged before `halt_stream` returned: the device has nothing left to
+    // play and keeps the frame it was sending, frame after frame.
+    let (held, since, frames) = {
+        let device = device.lock().expect("device");
+        assert_eq!(device.planned_waiting(), 0);
+        assert_eq!(device.mode(), DeviceMode::Keeping);
+        (
+            device.output(),
+            device.output_since(),
+            device.frames_started(),
+        )
+    };
+    let stats = link.stats();
+    assert_eq!(stats.state, LinkState::Idle);
+    assert!(stats.frames_sent < 300, "{} sent", stats.frames_sent);
+    wait_until("ten more pulse frames", Duration::from_secs(10), || {
+        device.lock().expect("device").frames_started() > frames + 10
+    });
+    let device_now = device.lock().expect("device").output();
+    assert_eq!(device_now, held);
+    assert_eq!(device.lock().expect("device").output_since(), since);
+    assert_eq!(link.refresh_state().expect("state").output, Some(held));
+    assert!(
+        log.lock()
+            .expect("log")
+            .iter()
+            .any(|written| written.line.message == HostMessage::Hold)
+    );
+    // No stream-finished event: the stream was halted, not run out. A new stream starts.
+    assert!(!matches!(
+        link.next_event(Duration::ZERO),
+        Some(LinkEvent::StreamFinished { .. })
+    ));
+    link.start_stream().expect("streams again");
+}
+
+#[test]
+fn a_live_stream_goes_out_in_real_time_on_a_link_that_plays_ahead() {
+    let (link, device, log) = connect_playing_ahead();
+    link.start_live_stream().expect("streams");
+    // A frame with a limp channel needs planned setpoints: refused in a live stream.
+    let mut limp = [Some(1500u16); 7];
+    limp[3] = None;
+    let limp = armwright_link::ChannelOutput::from_slice(&limp).expect("seven channels");
+    assert_eq!(link.push_frame(limp), Err(LinkError::NoPlayAhead));
+    link.push_setpoint(sweep(1)).expect("queued");
+    link.finish_stream().expect("alive");
+    wait_for(&link, Duration::from_secs(10), |e| {
+        matches!(e, LinkEvent::StreamFinished { .. })
+    });
+    assert!(log.lock().expect("log").iter().any(|written| matches!(
+        written.line.message,
+        HostMessage::Setpoint(values) if values == sweep(1)
+    )));
+    assert!(
+        !log.lock()
+            .expect("log")
+            .iter()
+            .any(|written| matches!(written.line.message, HostMessage::Planned(_)))
+    );
+    wait_until("the setpoint sent", Duration::from_secs(10), || {
+        device.lock().expect("device").pulse_units() == Some(sweep(1))
+    });
+    // The next stream plays ahead again, and takes a limp channel.
+    link.start_stream().expect("streams");
+    link.push_frame(limp).expect("planned");
+}

@@ -20,7 +20,7 @@ use super::plan::load_and_plan;
 use super::report::{fail, print_json, rounded};
 use super::reset::{describe_output, output_json};
 use crate::approach::{StreamPlan, WakeMode, stream_plan_waking};
-use crate::link_capacity::rate_above_capacity;
+use crate::link_capacity::{PLAY_AHEAD, rate_above_capacity};
 use crate::scene::{Device, Scene, pose_to_file_units};
 
 /// Shown before anything is sent, whether or not confirmation is asked for.
@@ -41,13 +41,6 @@ const PROGRESS_INTERVAL: Duration = Duration::from_secs(1);
 /// link itself gives up on an unanswered line within 500 ms (`PROTOCOL.md` §8), which ends
 /// the wait sooner; this only bounds it should the link's thread be held up.
 const LAST_ACK_WAIT: Duration = Duration::from_secs(2);
-
-/// How far ahead a stream is sent to a device that plays planned setpoints from its queue
-/// (`PROTOCOL.md` §3, protocol 4): a host held up for up to this long plus the device's 250 ms
-/// watchdog neither ends the stream nor trips the watchdog. Below the reference firmware's
-/// 64-frame (1.28 s) play queue, so a device clock a little slower than the host's does not
-/// fill it.
-const PLAY_AHEAD: Duration = Duration::from_secs(1);
 
 /// The options of one `stream` run.
 pub(crate) struct StreamRequest<'a> {

@@ -23,11 +23,15 @@ use nalgebra::Vector3;
 use super::estop::{StopLink, StopRequest};
 use super::follow::{FollowAction, FollowPhase, FollowRun, FollowView};
 use super::message::Report;
-use crate::approach::stream_plan;
+use crate::approach::{StreamPlan, WakeMode, stream_plan_waking};
+use crate::link_capacity::PLAY_AHEAD;
 use crate::scene::{Device, Scene};
 use crate::task::plan_of;
 
-/// Setpoints queued ahead of the device: a pause takes effect within this many periods.
+/// Setpoints queued between the worker and the link's thread. On a link that sends streams in
+/// real time a pause lets them run out, so it takes effect within this many periods; on one that
+/// plays streams ahead ([`PLAY_AHEAD`]) a pause halts the stream at once instead
+/// ([`Link::halt_stream`]).
 const QUEUE_AHEAD: usize = 8;
 
 /// Readings lines a second the editor asks for while the scene maps inputs: enough for the
@@ -166,6 +170,22 @@ pub struct Connection {
     pub name: String,
     /// What the device announced.
     pub info: DeviceInfo,
+    /// Streams are sent ahead (1 s, as `armwright stream`) as planned setpoints the device plays
+    /// from its queue (protocol 4, the scene's rate equal to the device's pulse frame rate): a limp arm
+    /// is then woken one joint at a time ([`Link::plays_ahead`]).
+    pub plays_ahead: bool,
+}
+
+impl Connection {
+    /// How a stream on this link wakes a limp arm: one joint at a time when it plays ahead
+    /// (only planned setpoints may leave a channel without a pulse), else all together.
+    pub fn wake_mode(&self) -> WakeMode {
+        if self.plays_ahead {
+            WakeMode::OneAtATime
+        } else {
+            WakeMode::Together
+        }
+    }
 }
 
 /// Everything the link panel shows; plain data, refreshed once a frame by the editor.
@@ -183,9 +203,11 @@ pub struct LinkView {
     pub stats: Option<StreamStats>,
     /// Where the stream stands.
     pub phase: StreamPhase,
-    /// Setpoints pushed to the link in this stream, and how many there are.
+    /// Setpoints pushed to the link in this stream, and how many there are. After a pause that
+    /// halted a stream played ahead, the first is where it resumes.
     pub progress: (usize, usize),
-    /// Setpoints of this stream the link wrote to the device.
+    /// Setpoints of this stream the link wrote to the device (after such a pause, where it
+    /// resumes: the ones written ahead were never played).
     pub sent: usize,
     /// Why the stream ended early, once it did.
     pub ended: Option<StreamEnd>,
@@ -198,6 +220,15 @@ pub struct LinkView {
     pub arm_changed: bool,
     /// Where follow stands and the follower's pose.
     pub follow: FollowView,
+}
+
+impl LinkView {
+    /// How a stream on the connected link wakes a limp arm (all together when not connected).
+    pub fn wake_mode(&self) -> WakeMode {
+        self.connection
+            .as_ref()
+            .map_or(WakeMode::Together, Connection::wake_mode)
+    }
 }
 
 /// The stop handle of the link open now, shared by the UI's stop path and the worker.
@@ -763,6 +794,109 @@ impl StopLink for LinkStopLink {
     }
 }
 
+/// How streams go out on a link, for the connect message.
+fn pacing_words(plays_ahead: bool) -> String {
+    if plays_ahead {
+        format!(
+            "streams are sent {:.1} s ahead (the device plays them from its queue) and wake a \
+             limp arm one joint at a time",
+            PLAY_AHEAD.as_secs_f64()
+        )
+    } else {
+        "streams are sent in real time (the device cannot play them ahead at this rate) and \
+         wake a limp arm with all joints together"
+            .to_owned()
+    }
+}
+
+/// How a stream starts, for the editor's message as `armwright stream` says it: how a limp arm
+/// is woken ([`crate::approach::StartFrom::describe_waking`]), in which order, the approach and
+/// the park move.
+fn stream_start_words(
+    scene: &Scene,
+    arm: &Arm,
+    streamed: &StreamPlan,
+    wake: WakeMode,
+    rate_hz: f64,
+) -> String {
+    let mut words = streamed.from.describe_waking(wake);
+    let order: Vec<String> = streamed
+        .wake_times(rate_hz)
+        .iter()
+        .map(|&(channel, at_s)| {
+            let name = arm.joints().get(channel).map_or_else(
+                || {
+                    if arm.gripper().is_some() {
+                        "gripper".to_owned()
+                    } else {
+                        format!("channel {channel}")
+                    }
+                },
+                |joint| joint.name.clone(),
+            );
+            format!("{name} at {at_s:.2} s")
+        })
+        .collect();
+    if !order.is_empty() {
+        words.push_str(&format!(
+            "; wake order, slowest first: {}",
+            order.join(", ")
+        ));
+    }
+    words.push_str(&format!(
+        "; approach {:.2} s at {} % speed share",
+        streamed.approach.duration(),
+        scene.timing.approach_speed_share_pct
+    ));
+    if let Some(parked) = &streamed.park {
+        words.push_str(&format!(
+            "; then the park move to the rest pose, {:.2} s, where the device holds the arm",
+            parked.duration()
+        ));
+    }
+    words
+}
+
+/// Where a stream halted by a pause goes on, given its `frames`, the first `sent` of which the
+/// link wrote, and what the device holds (`held`, as it reported it): after the first frame of
+/// the run of equal frames that ends at the last written frame equal to `held` (as the device
+/// clamps it). Any frame equal to what the device holds is a place to go on from without a jump;
+/// starting again at the run's first frame serves a wake pause or a dwell the pause cut short in
+/// full, never shorter. When no written frame matches but the device holds what it sent before
+/// the stream (`start_output`), none was played: from 0. `None` when neither (the device holds
+/// something else), or when it cannot say what it holds.
+fn resume_index(
+    frames: &[ChannelOutput],
+    sent: usize,
+    held: Option<&ChannelOutput>,
+    start_output: Option<&ChannelOutput>,
+    device: &DeviceInfo,
+) -> Option<usize> {
+    let held = held?;
+    let as_device_sends = |frame: &ChannelOutput| {
+        let clamped: Vec<Option<u16>> = frame
+            .as_slice()
+            .iter()
+            .map(|units| units.map(|units| device.clamp_units(units).0))
+            .collect();
+        ChannelOutput::from_slice(&clamped)
+    };
+    let written = &frames[..sent.min(frames.len())];
+    let last = written
+        .iter()
+        .rposition(|frame| as_device_sends(frame).as_ref() == Some(held));
+    match last {
+        Some(last) => {
+            let first = written[..last]
+                .iter()
+                .rposition(|frame| *frame != written[last])
+                .map_or(0, |before| before + 1);
+            Some(first + 1)
+        }
+        None => (start_output == Some(held)).then_some(0),
+    }
+}
+
 /// Adds a report for the UI to take.
 fn say(published: &Mutex<Published>, report: Report) {
     published
@@ -773,10 +907,19 @@ fn say(published: &Mutex<Published>, report: Report) {
 
 /// A stream being pushed by the worker.
 struct Stream {
-    values: Vec<ChannelValues>,
+    /// Every frame as it is sent ([`StreamPlan::frame`]): while a limp arm is woken one joint at
+    /// a time, the channels not yet woken have no pulse.
+    frames: Vec<ChannelOutput>,
     next: usize,
     phase: StreamPhase,
-    /// The link's count of setpoints written when this stream started.
+    /// The link plays this stream ahead: a pause halts it ([`Link::halt_stream`]).
+    plays_ahead: bool,
+    /// Every frame was pushed and the link told the stream is complete; it is still playing.
+    finishing: bool,
+    /// What the device sent before the stream's first frame.
+    start_output: Option<ChannelOutput>,
+    /// The link's count of setpoints written when this stream started, less the frames before
+    /// where a halting pause left it (so the count from it is this stream's progress).
     sent_before: u64,
     ended: Option<StreamEnd>,
 }
@@ -810,7 +953,7 @@ impl Worker {
             let pushing = self
                 .stream
                 .as_ref()
-                .is_some_and(|stream| stream.phase == StreamPhase::Streaming);
+                .is_some_and(|stream| stream.phase == StreamPhase::Streaming && !stream.finishing);
             let request = if pushing {
                 match self.inbox.try_recv() {
                     Ok(request) => Some(request),
@@ -874,14 +1017,7 @@ impl Worker {
                 ));
             }
             Request::Stream { scene, arm, park } => self.start_stream(&scene, &arm, park),
-            Request::Pause => {
-                if let (Some(stream), Some(link)) = (&mut self.stream, &self.link)
-                    && stream.phase == StreamPhase::Streaming
-                {
-                    stream.phase = StreamPhase::Pausing;
-                    let _ = link.finish_stream();
-                }
-            }
+            Request::Pause => self.pause(),
             Request::Resume => self.resume(),
             Request::HoldChannel(pulse) => self.hold_channel(&pulse),
             Request::Follow(request) => self.follow_request(*request),
@@ -949,9 +1085,13 @@ impl Worker {
                     .map_err(|error| error.to_string()),
             ),
         };
+        // As `armwright stream`: played ahead when the device can (protocol 4, the scene's rate
+        // its pulse frame rate), which a busy computer cannot stall, and which can wake a limp
+        // arm one joint at a time.
         let options = StreamOptions {
             period: Duration::from_secs_f64(1.0 / rate_hz.clamp(1.0, 1000.0)),
             queue_capacity: QUEUE_AHEAD,
+            play_ahead: PLAY_AHEAD,
             ..StreamOptions::default()
         };
         let connected = transport.and_then(|transport| {
@@ -973,6 +1113,7 @@ impl Worker {
                 *handle = Some(stop);
                 drop(handle);
                 let info = link.device();
+                let plays_ahead = link.plays_ahead();
                 self.link = Some(link);
                 self.ask_readings();
                 let mut published = self.lock();
@@ -980,10 +1121,13 @@ impl Worker {
                 published.view.connection = Some(Connection {
                     name: name.clone(),
                     info,
+                    plays_ahead,
                 });
                 published.push(Report::Info(format!(
-                    "connected to {name}: firmware {}, {} channels",
-                    info.firmware, info.channel_count
+                    "connected to {name}: firmware {}, {} channels; {}",
+                    info.firmware,
+                    info.channel_count,
+                    pacing_words(plays_ahead)
                 )));
             }
             Err(error) => self.say(Report::Problem(format!(
@@ -1034,13 +1178,21 @@ impl Worker {
             return;
         };
         self.with_view(|view| view.phase = StreamPhase::Planning);
+        // As `armwright stream`: only a link that plays ahead may leave a channel without a
+        // pulse, which waking one joint at a time needs.
+        let plays_ahead = link.plays_ahead();
+        let wake = if plays_ahead {
+            WakeMode::OneAtATime
+        } else {
+            WakeMode::Together
+        };
         // Every stream starts with the approach from what the device sends now.
         let planned = link
             .refresh_state()
             .map_err(|error| format!("cannot read what the device sends: {error}"))
             .and_then(|state| {
                 let plan = plan_of(scene, arm).map_err(|error| format!("cannot plan: {error}"))?;
-                stream_plan(
+                let streamed = stream_plan_waking(
                     scene,
                     arm,
                     &plan,
@@ -1048,49 +1200,43 @@ impl Worker {
                     &link.device(),
                     self.rate_hz,
                     park,
-                )
+                    wake,
+                )?;
+                Ok((streamed, state.output))
             });
-        let (setpoints, start) = match planned {
-            Ok(streamed) => {
-                let mut start = format!(
-                    "{}; approach {:.2} s at {} % speed share",
-                    streamed.from.describe(),
-                    streamed.approach.duration(),
-                    scene.timing.approach_speed_share_pct
-                );
-                if let Some(parked) = &streamed.park {
-                    start.push_str(&format!(
-                        "; then the park move to the rest pose, {:.2} s, where the device holds \
-                         the arm",
-                        parked.duration()
-                    ));
-                }
-                (streamed.setpoints, start)
-            }
+        let (streamed, start_output) = match planned {
+            Ok(planned) => planned,
             Err(message) => {
                 self.with_view(|view| view.phase = StreamPhase::Ended);
                 self.say(Report::Problem(format!("cannot stream: {message}")));
                 return;
             }
         };
+        let start = stream_start_words(scene, arm, &streamed, wake, self.rate_hz);
         if let Err(error) = link.start_stream() {
             self.with_view(|view| view.phase = StreamPhase::Ended);
             self.say(Report::Problem(format!("cannot stream: {error}")));
             return;
         }
-        let total = setpoints.values.len();
+        let frames: Vec<ChannelOutput> = (0..streamed.setpoints.values.len())
+            .filter_map(|index| streamed.frame(index))
+            .collect();
+        let total = frames.len();
         let sent_before = link.stats().frames_sent;
         self.with_view(|view| {
             view.progress = (0, total);
             view.sent = 0;
             view.ended = None;
-            view.clamped = setpoints.clamped;
-            view.worst_rounding_deg = setpoints.worst_rounding_deg;
+            view.clamped = streamed.setpoints.clamped;
+            view.worst_rounding_deg = streamed.setpoints.worst_rounding_deg;
         });
         self.stream = Some(Stream {
-            values: setpoints.values,
+            frames,
             next: 0,
             phase: StreamPhase::Streaming,
+            plays_ahead,
+            finishing: false,
+            start_output,
             sent_before,
             ended: None,
         });
@@ -1098,6 +1244,83 @@ impl Worker {
             "streaming {total} setpoints at {} Hz: {start}",
             self.rate_hz
         )));
+    }
+
+    /// A pause. On a link that plays ahead the device holds up to [`PLAY_AHEAD`] of planned
+    /// setpoints, which it would go on playing: the stream is halted ([`Link::halt_stream`]:
+    /// setpoints not yet written are dropped, the device drops its queue and holds the frame it
+    /// is sending, acknowledged before this returns), then the device is asked which frame that
+    /// is, where a resume goes on ([`resume_index`]). Otherwise the few setpoints queued run
+    /// out (at most [`QUEUE_AHEAD`] periods) and the device is asked to hold when the link says
+    /// the stream finished.
+    fn pause(&mut self) {
+        let (Some(stream), Some(link)) = (&mut self.stream, &self.link) else {
+            return;
+        };
+        if stream.phase != StreamPhase::Streaming {
+            return;
+        }
+        if !stream.plays_ahead {
+            stream.phase = StreamPhase::Pausing;
+            let _ = link.finish_stream();
+            return;
+        }
+        let sent = link.stats().frames_sent.saturating_sub(stream.sent_before) as usize;
+        let halted = link
+            .halt_stream()
+            .and_then(|()| link.refresh_state())
+            .map(|state| state.output);
+        let held = match halted {
+            Ok(held) => held,
+            Err(error) => {
+                stream.end(match error {
+                    LinkError::StopLatched => StreamEnd::EmergencyStop,
+                    LinkError::Lost(_) => StreamEnd::LinkLost,
+                    _ => StreamEnd::Error,
+                });
+                say(
+                    &self.published,
+                    Report::Problem(format!("the pause did not reach the device: {error}")),
+                );
+                return;
+            }
+        };
+        let info = link.device();
+        match resume_index(
+            &stream.frames,
+            sent,
+            held.as_ref(),
+            stream.start_output.as_ref(),
+            &info,
+        ) {
+            Some(next) => {
+                stream.next = next;
+                stream.finishing = false;
+                stream.phase = StreamPhase::Paused;
+                // Counted from here, the link's setpoints written are this stream's progress.
+                stream.sent_before = link.stats().frames_sent.saturating_sub(next as u64);
+                say(
+                    &self.published,
+                    Report::Info(format!(
+                        "paused at setpoint {next} of {}: the device dropped the setpoints sent \
+                         ahead and holds",
+                        stream.frames.len()
+                    )),
+                );
+            }
+            None => {
+                stream.end(StreamEnd::Error);
+                say(
+                    &self.published,
+                    Report::Problem(
+                        "paused: the device holds, but at pulses none of the stream's setpoints \
+                         has, so the stream cannot resume there; stream again (it approaches \
+                         from where the arm is)"
+                            .into(),
+                    ),
+                );
+            }
+        }
     }
 
     /// Sends one setpoint: `pulse`'s channel at its width, every other channel at what the
@@ -1151,8 +1374,9 @@ impl Worker {
                 }
             }
         }
+        // In real time even on a link that plays ahead: one pulse, wanted now.
         let sent = link
-            .start_stream()
+            .start_live_stream()
             .and_then(|()| link.push_setpoint(values))
             .and_then(|()| link.finish_stream());
         match sent {
@@ -1176,7 +1400,10 @@ impl Worker {
             return;
         }
         match link.start_stream() {
-            Ok(()) => stream.phase = StreamPhase::Streaming,
+            Ok(()) => {
+                stream.phase = StreamPhase::Streaming;
+                stream.finishing = false;
+            }
             Err(error) => {
                 stream.end(match error {
                     LinkError::StopLatched => StreamEnd::EmergencyStop,
@@ -1190,21 +1417,23 @@ impl Worker {
         }
     }
 
-    /// Pushes the next setpoint while streaming; waits at most one period while the link's
-    /// queue is full.
+    /// Pushes the next frame while streaming; waits at most one period while the link's queue
+    /// is full. After the last, tells the link the stream is complete: the stream stays
+    /// [`StreamPhase::Streaming`] (and can be paused) until the link says it finished, which on
+    /// a link that plays ahead is when the device has played the last frame.
     fn push_one(&mut self) {
         let (Some(stream), Some(link)) = (&mut self.stream, &self.link) else {
             return;
         };
-        if stream.phase != StreamPhase::Streaming {
+        if stream.phase != StreamPhase::Streaming || stream.finishing {
             return;
         }
-        let Some(values) = stream.values.get(stream.next) else {
-            stream.phase = StreamPhase::Pausing;
+        let Some(frame) = stream.frames.get(stream.next) else {
+            stream.finishing = true;
             let _ = link.finish_stream();
             return;
         };
-        match link.push_setpoint(*values) {
+        match link.push_frame(*frame) {
             Ok(()) => stream.next += 1,
             Err(error) => {
                 stream.end(match error {
@@ -1232,7 +1461,7 @@ impl Worker {
             );
             let report = match event {
                 LinkEvent::StreamFinished { .. } => match &mut self.stream {
-                    Some(stream) if stream.next >= stream.values.len() => {
+                    Some(stream) if stream.next >= stream.frames.len() => {
                         stream.phase = StreamPhase::Finished;
                         Some(Report::Info("the sequence ran to its end".into()))
                     }
@@ -1399,6 +1628,45 @@ mod tests {
             },
             ..Published::default()
         }
+    }
+
+    fn frame(values: &[Option<u16>]) -> ChannelOutput {
+        ChannelOutput::from_slice(values).expect("a frame")
+    }
+
+    #[test]
+    fn a_halted_stream_resumes_after_the_held_frame_serving_a_cut_wake_pause_again() {
+        let info = SimDevice::new(SimDeviceConfig::default()).info();
+        let woken = frame(&[Some(1500), None]);
+        let rest = frame(&[Some(1500), Some(1500)]);
+        let moving = |units| frame(&[Some(1500), Some(units)]);
+        // Three frames of the first channel's wake pause, two of the rest pose, then a move.
+        let frames = [
+            woken,
+            woken,
+            woken,
+            rest,
+            rest,
+            moving(1510),
+            moving(1520),
+            moving(3000),
+        ];
+        let limp = ChannelOutput::limp(2);
+        let resume = |held: ChannelOutput, sent: usize| {
+            resume_index(&frames, sent, Some(&held), Some(&limp), &info)
+        };
+        // Held in a wake pause or a dwell: the whole run again.
+        assert_eq!(resume(woken, 8), Some(1));
+        assert_eq!(resume(rest, 8), Some(4));
+        assert_eq!(resume(moving(1520), 8), Some(7));
+        // The device clamps 3000 to its 2500 top.
+        assert_eq!(resume(moving(2500), 8), Some(8));
+        // Nothing played yet: from the start.
+        assert_eq!(resume(limp, 8), Some(0));
+        // A frame not written, or pulses no frame has: nowhere to go on from.
+        assert_eq!(resume(moving(1520), 6), None);
+        assert_eq!(resume(moving(1700), 8), None);
+        assert_eq!(resume_index(&frames, 8, None, Some(&limp), &info), None);
     }
 
     /// Whether the window is woken for `published` at `at`.

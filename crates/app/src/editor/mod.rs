@@ -583,7 +583,8 @@ impl Editor {
         let output = view.stats.as_ref().and_then(|stats| stats.device_output);
         let info = view.connection.as_ref().map(|connection| connection.info);
         self.state.calibration.device = info;
-        self.timeline_plot.set_device(output.zip(info));
+        self.timeline_plot
+            .set_device(output.zip(info), view.wake_mode());
         // Wanted while the input arm's form has a row too: its first points take readings.
         let wanted = !self.state.scene.inputs.is_empty()
             || self.state.inputs_form.has_rows(&self.state.scene);

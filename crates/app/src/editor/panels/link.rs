@@ -6,9 +6,11 @@ use egui::{Color32, Grid, RichText, Ui};
 
 use armwright_link::{DeviceMode, Faults, LinkState};
 
+use crate::approach::StartFrom;
 use crate::editor::command::Command;
 use crate::editor::device::{LinkAction, LinkView, StreamEnd, StreamPhase};
 use crate::editor::state::EditorState;
+use crate::link_capacity::PLAY_AHEAD;
 use crate::scene::{Device, pose_to_file_units};
 
 use super::status_bar::CAUTION;
@@ -22,7 +24,8 @@ pub const PARK_LABEL: &str = "End at the rest pose";
 /// The caution's part about limp servos and the approach.
 const LIMP_CAUTION: &str = "A limp servo jumps to its first pulse at its own top speed. Every \
 stream first asks the device what it sends: a limp arm is woken at its rest pose (each joint's \
-home), all joints together, then every stream approaches the first waypoint slowly.";
+home) — one joint at a time, the slowest first, when the device plays setpoints ahead, else all \
+joints together — then every stream approaches the first waypoint slowly.";
 
 /// Draws the link panel from the state and the link's view.
 pub fn link(ui: &mut Ui, state: &EditorState, view: &LinkView) -> Command {
@@ -141,6 +144,25 @@ fn device_info(ui: &mut Ui, view: &LinkView, connection: &crate::editor::device:
         ui.end_row();
         ui.label("frame period");
         ui.label(format!("{:.1} ms", f64::from(info.frame_period_us) / 1e3));
+        ui.end_row();
+        ui.label("streams");
+        ui.label(if connection.plays_ahead {
+            "played ahead from the device's queue"
+        } else {
+            "sent in real time"
+        })
+        .on_hover_text(if connection.plays_ahead {
+            format!(
+                "the device speaks protocol 4 and the scene's rate is its pulse frame rate: \
+                 streams go {:.1} s ahead, so a busy computer does not stop the arm, and a limp \
+                 arm wakes one joint at a time",
+                PLAY_AHEAD.as_secs_f64()
+            )
+        } else {
+            "the device cannot play setpoints ahead at the scene's rate (link.rate_hz must be its \
+             pulse frame rate, protocol 4): a limp arm wakes with all joints together"
+                .to_owned()
+        });
         ui.end_row();
         if let Some(status) = view.stats.as_ref().and_then(|stats| stats.last_status) {
             ui.label("device mode");
@@ -296,8 +318,8 @@ pub(crate) fn approach_words(state: &EditorState, view: &LinkView) -> String {
              sends (asked again at stream time)"
         ),
         (Some(_), Some(Some(_))) => format!(
-            "a servo is limp, so the arm's pose is unknown: a stream wakes it at the rest pose, \
-             holds it {:.0} ms, then approaches at {share} % speed share",
+            "{} (wake pause {:.0} ms, approach at {share} % speed share)",
+            StartFrom::Limp.describe_waking(view.wake_mode()),
             state.scene.timing.wake_pause_ms
         ),
         _ => format!(
@@ -314,6 +336,13 @@ pub(crate) fn stream_words(view: &LinkView) -> String {
     match view.phase {
         StreamPhase::Idle => "stream: none".into(),
         StreamPhase::Planning => "stream: planning".into(),
+        StreamPhase::Streaming if sent >= total && plays_ahead(view) => {
+            format!("stream: all {total} setpoints sent; the device plays the last of them")
+        }
+        StreamPhase::Streaming if plays_ahead(view) => format!(
+            "stream: streaming, {sent} of {total} setpoints sent, up to {:.1} s ahead of the arm",
+            PLAY_AHEAD.as_secs_f64()
+        ),
         StreamPhase::Streaming => {
             format!("stream: streaming, {sent} of {total} setpoints sent ({queued} queued)")
         }
@@ -334,6 +363,13 @@ pub(crate) fn stream_words(view: &LinkView) -> String {
             }
         },
     }
+}
+
+/// Whether the connected link plays streams ahead.
+fn plays_ahead(view: &LinkView) -> bool {
+    view.connection
+        .as_ref()
+        .is_some_and(|connection| connection.plays_ahead)
 }
 
 fn statistics(ui: &mut Ui, view: &LinkView) {
@@ -413,6 +449,7 @@ mod tests {
             connection: Some(Connection {
                 name: "simulated device".into(),
                 info: SimDevice::new(SimDeviceConfig::default()).info(),
+                plays_ahead: true,
             }),
             stats: Some(StreamStats::default()),
             ..LinkView::default()

@@ -26,7 +26,7 @@ use egui_plot::{
     uniform_grid_spacer,
 };
 
-use crate::approach::{StartFrom, approach_of, approach_start};
+use crate::approach::{StartFrom, WakeMode, approach_of, approach_start_waking};
 use crate::editor::command::Command;
 use crate::editor::dry_run_marks;
 use crate::editor::playback::{AtEnd, DryRunStatus, PlaybackCommand, SPEEDS, Timeline};
@@ -83,6 +83,8 @@ pub struct TimelinePlot {
     transform: Option<PlotTransform>,
     /// What the connected device last said it sends, and what it is.
     device: Option<(ChannelOutput, DeviceInfo)>,
+    /// How a stream on the connected link wakes a limp arm.
+    wake: WakeMode,
     /// The approach the next stream would start with, for the device and timeline it was
     /// planned for.
     approach: Option<ApproachTrace>,
@@ -93,6 +95,8 @@ pub struct TimelinePlot {
 struct ApproachTrace {
     generation: u64,
     device: (ChannelOutput, DeviceInfo),
+    wake: WakeMode,
+    rate_hz: f64,
     from: StartFrom,
     duration: f64,
     traces: Traces,
@@ -127,9 +131,11 @@ impl TimelinePlot {
             .sum()
     }
 
-    /// What the connected device last said it sends (`None`: no device, or it cannot say).
-    pub fn set_device(&mut self, device: Option<(ChannelOutput, DeviceInfo)>) {
+    /// What the connected device last said it sends (`None`: no device, or it cannot say),
+    /// and how a stream on its link wakes a limp arm.
+    pub fn set_device(&mut self, device: Option<(ChannelOutput, DeviceInfo)>, wake: WakeMode) {
         self.device = device;
+        self.wake = wake;
     }
 
     /// The approach drawn before time 0: where it starts from and how long it lasts (s);
@@ -153,15 +159,20 @@ impl TimelinePlot {
             self.approach = None;
             return;
         };
-        if self
-            .approach
-            .as_ref()
-            .is_some_and(|a| a.generation == timeline.generation && a.device == device)
-        {
+        let (wake, rate_hz) = (self.wake, state.scene.link.rate_hz);
+        if self.approach.as_ref().is_some_and(|a| {
+            a.generation == timeline.generation
+                && a.device == device
+                && a.wake == wake
+                && a.rate_hz == rate_hz
+        }) {
             return;
         }
         self.approach = state.arm().and_then(|arm| {
-            let (start, from) = approach_start(&state.scene, arm, Some(&device.0), &device.1);
+            // As the stream will start: a limp arm woken one joint at a time holds the rest pose
+            // once per joint before the approach moves.
+            let (start, from, _) =
+                approach_start_waking(&state.scene, arm, Some(&device.0), &device.1, rate_hz, wake);
             let approach = approach_of(&state.scene, arm, &start).ok()?;
             let run = dry_run_of(&state.scene, arm, approach.plan()).ok()?;
             let options = dry_run_options_of(&state.scene);
@@ -175,6 +186,8 @@ impl TimelinePlot {
             Some(ApproachTrace {
                 generation: timeline.generation,
                 device,
+                wake,
+                rate_hz,
                 from,
                 duration: approach.duration(),
                 traces,
@@ -383,10 +396,15 @@ fn approach_caption(approach: Option<&ApproachTrace>) -> String {
                                   the arm now, commanded and dry run"
             .to_owned(),
         Some(StartFrom::Limp | StartFrom::Unknown) => {
-            "shaded before 0 s: a servo is limp, so the arm is woken at its rest pose, held, \
-             then approaches (its dry run starts at rest there: the jump a limp servo makes to \
-             its first pulse is not modelled)"
-                .to_owned()
+            let woken = match approach.map(|approach| approach.wake) {
+                Some(WakeMode::OneAtATime) => "one joint at a time, a wake pause each",
+                _ => "all joints together, held for the wake pause",
+            };
+            format!(
+                "shaded before 0 s: a servo is limp, so the arm is woken at its rest pose \
+                 ({woken}), then approaches (its dry run starts at rest there: the jump a limp \
+                 servo makes to its first pulse is not modelled)"
+            )
         }
         None => "a stream starts with an approach planned from what the device reports at \
                  stream time"
