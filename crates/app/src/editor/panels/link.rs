@@ -147,9 +147,9 @@ fn device_info(ui: &mut Ui, view: &LinkView, connection: &crate::editor::device:
         ui.end_row();
         ui.label("streams");
         ui.label(if connection.plays_ahead {
-            "played ahead from the device's queue"
+            "played ahead"
         } else {
-            "sent in real time"
+            "in real time"
         })
         .on_hover_text(if connection.plays_ahead {
             format!(
