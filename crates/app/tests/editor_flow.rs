@@ -20,9 +20,9 @@ use egui_kittest::kittest::{NodeT, Queryable};
 
 use editor_common::{
     acknowledge_caution, assert_dry_run_ready, assert_stop_reached_link, click_tab, connect,
-    device_mode, drag, hover_stop_button, link_state, open_through_dialog, press_stop_button_at,
-    sample_editor, start_retime, step_until, stream_until_sending, wait_for_dry_run,
-    wait_for_retime,
+    connection, device_mode, drag, hover_stop_button, link_state, open_through_dialog,
+    press_stop_button_at, sample_editor, start_retime, step_until, stream_until_sending,
+    wait_for_dry_run, wait_for_retime,
 };
 
 #[test]
@@ -316,14 +316,7 @@ fn open_teach_retime_play_stream_stop_and_reset() {
     // first), then the retimed sequence: one setpoint per period of its plan, sampled at the
     // scene's rate as `armwright stream` does.
     let samples = plan.sampler(retimed.link.rate_hz).expect("setpoints");
-    let device = harness
-        .state()
-        .device()
-        .view()
-        .connection
-        .as_ref()
-        .expect("connected")
-        .info;
+    let device = connection(harness.state()).info;
     let limp = ChannelOutput::limp(device.channel_count);
     // The simulated device plays setpoints ahead: the limp arm is woken one joint at a time.
     let streamed = stream_plan_waking(

@@ -20,7 +20,7 @@ use armwright_link::{ChannelOutput, DeviceMode, SimDevice};
 use egui_kittest::kittest::Queryable;
 
 use editor_common::{
-    EditorHarness, acknowledge_caution, assert_stop_reached_link, connect, file_editor,
+    EditorHarness, acknowledge_caution, assert_stop_reached_link, connect, connection, file_editor,
     press_stop_key, sample_editor, scratch, step_until, step_until_slow,
 };
 
@@ -88,24 +88,8 @@ fn a_limp_arm_wakes_one_joint_at_a_time_then_the_stream_runs_to_its_end() {
     let mut scene = wake_scene();
     scene.waypoints.truncate(2);
     let mut harness = connected_on("wake-order", &scene);
-    let info = harness
-        .state()
-        .device()
-        .view()
-        .connection
-        .as_ref()
-        .expect("connected")
-        .info;
-    assert!(
-        harness
-            .state()
-            .device()
-            .view()
-            .connection
-            .as_ref()
-            .expect("connected")
-            .plays_ahead
-    );
+    let info = connection(harness.state()).info;
+    assert!(connection(harness.state()).plays_ahead);
     // The Link tab says how the arm will wake, before anything is sent.
     let words = StartFrom::Limp.describe_waking(WakeMode::OneAtATime);
     assert!(

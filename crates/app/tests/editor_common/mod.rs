@@ -10,9 +10,9 @@ use std::sync::mpsc::Receiver;
 use std::time::{Duration, Instant};
 
 use armwright::editor::{
-    ACKNOWLEDGE_LABEL, ADD_INPUT_LABEL, ChannelStopLink, DryRunStatus, EMERGENCY_STOP_LABEL,
-    Editor, EditorOptions, ReachStatus, RetimeRun, STOP_KEY, StopRequest, StopSource, StreamEnd,
-    StreamPhase,
+    ACKNOWLEDGE_LABEL, ADD_INPUT_LABEL, ChannelStopLink, Connection, DryRunStatus,
+    EMERGENCY_STOP_LABEL, Editor, EditorOptions, ReachStatus, RetimeRun, STOP_KEY, StopRequest,
+    StopSource, StreamEnd, StreamPhase,
 };
 use armwright::scene::{InputDoc, InputPointDoc, Scene};
 use armwright_link::{DeviceMode, LinkState};
@@ -395,6 +395,16 @@ pub fn stream_until_sending(harness: &mut EditorHarness) {
 pub fn device_mode(editor: &Editor) -> Option<DeviceMode> {
     let device = editor.device().simulated_device()?;
     Some(device.lock().expect("device").mode())
+}
+
+/// The connected device as the Link tab shows it; stops loudly when none is connected.
+pub fn connection(editor: &Editor) -> &Connection {
+    editor
+        .device()
+        .view()
+        .connection
+        .as_ref()
+        .expect("connected")
 }
 
 /// Frames the link has sent in this connection.
