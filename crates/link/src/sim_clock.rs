@@ -19,6 +19,11 @@
 
 use std::time::{Duration, Instant};
 
+/// How many times [`SimClock::now`] reads the wall clock and the run-queue delay before it
+/// takes reads a wait fell between (a wait each time means a machine so busy that the device's
+/// time barely moves anyway).
+const CONSISTENT_TRIES: usize = 4;
+
 /// A simulated device's clock for the calling thread; see the module's description.
 #[derive(Debug)]
 pub(crate) struct SimClock {
@@ -29,6 +34,8 @@ pub(crate) struct SimClock {
     delay_seen: Duration,
     /// The largest run-queue delay between two looks at the clock.
     longest_wait: Duration,
+    /// The newest time given, which the next is never below.
+    last: Duration,
 }
 
 impl SimClock {
@@ -45,17 +52,38 @@ impl SimClock {
             delay_at_start,
             delay_seen: delay_at_start,
             longest_wait: Duration::ZERO,
+            last: Duration::ZERO,
         }
     }
 
     /// The device's time since the clock started: wall time less the thread's waits for a
     /// processor.
+    ///
+    /// The wall clock and the delay are read as one: a wait for a processor between two reads
+    /// would count in one and not the other, and put the time up to that wait ahead, to fall
+    /// back at the next look. The delay grows only when the thread gets a processor back, so a
+    /// delay that reads the same before and after the wall clock saw no wait in between;
+    /// otherwise all three are read again, up to [`CONSISTENT_TRIES`] times. The time given
+    /// never goes back, whatever the reads.
     pub(crate) fn now(&mut self) -> Duration {
-        if let Some(delay) = self.run_delay.as_mut().and_then(RunDelay::read) {
-            self.longest_wait = self.longest_wait.max(delay.saturating_sub(self.delay_seen));
-            self.delay_seen = self.delay_seen.max(delay);
+        let mut elapsed = self.start.elapsed();
+        if let Some(run_delay) = self.run_delay.as_mut() {
+            let mut delay = None;
+            for _ in 0..CONSISTENT_TRIES {
+                let before = run_delay.read();
+                elapsed = self.start.elapsed();
+                delay = run_delay.read();
+                if before == delay {
+                    break;
+                }
+            }
+            if let Some(delay) = delay {
+                self.longest_wait = self.longest_wait.max(delay.saturating_sub(self.delay_seen));
+                self.delay_seen = self.delay_seen.max(delay);
+            }
         }
-        self.start.elapsed().saturating_sub(self.not_counted())
+        self.last = self.last.max(elapsed.saturating_sub(self.not_counted()));
+        self.last
     }
 
     /// Time the thread waited for a processor since the clock started, which the device's
@@ -144,12 +172,9 @@ mod tests {
                 sum = sum.wrapping_add(std::hint::black_box(i * round));
             }
             let now = clock.now();
-            assert!(
-                now + Duration::from_millis(1) >= last,
-                "{now:?} after {last:?}"
-            );
+            assert!(now >= last, "{now:?} after {last:?}");
             assert!(now <= wall.elapsed(), "{now:?}");
-            last = now.max(last);
+            last = now;
         }
         assert!(clock.longest_wait() <= clock.not_counted());
         std::hint::black_box(sum);
