@@ -319,8 +319,10 @@ impl ToolChain {
     }
 
     /// The tool pose of the first `N` joints (1 to [`MAX_JOINTS`]) two joints at a time: each
-    /// pair's own shift and turn come from the constants of [`ToolPair`], so the running turn
-    /// multiplies once per pair rather than once per joint, and turns one shift per pair.
+    /// pair's own shift and turn come from the constants of [`ToolPair`] (a lone last joint's
+    /// from [`ToolEnd`]), so the running turn multiplies once per pair rather than once per
+    /// joint. Each pair's shift waits for the next one and the two are turned together, one to a
+    /// lane: the running turn's chain of products no longer waits on turning a shift in between.
     #[inline(always)]
     fn pose_by_pairs<const N: usize>(
         &self,
@@ -328,71 +330,100 @@ impl ToolChain {
         angles: Angles,
     ) -> Option<Isometry3<f64>> {
         let (positions, steps, sines, cosines) = self.half_angles::<N>(positions, angles)?;
-        let mut p = [0.0; 3];
-        let mut turn = (1.0, 0.0, 0.0, 0.0);
-        // Written out pair by pair (the conditions are constants) so that nothing loops.
-        // The last pair of an even chain takes the tool offset's turn with its own.
-        let with_tool = |index: usize| N.is_multiple_of(2) && index + 1 == N / 2;
-        if N >= 2 {
-            (p, turn) = self.pair_motion(0, &sines, &cosines, positions, with_tool(0));
+        if N == 0 {
+            return Some(self.tool_at([0.0; 3], IDENTITY_TURN));
         }
-        let mut then_pair = |index: usize| {
-            let (shift, pair_turn) =
-                self.pair_motion(index, &sines, &cosines, positions, with_tool(index));
-            p = add(p, turn_vector(turn, shift));
-            turn = turn_product(turn, pair_turn);
+        // The pairs' own motions, then a lone last joint's with the tool offset's turn; the last
+        // pair of an even chain takes the tool offset's turn with its own.
+        let pair = |index: usize| {
+            let with_tool = N.is_multiple_of(2) && index + 1 == N / 2;
+            self.pair_motion(index, &sines, &cosines, positions, with_tool)
+        };
+        let end = || {
+            self.end_motion(
+                &steps[N - 1],
+                sines[N - 1],
+                cosines[N - 1],
+                positions[N - 1],
+            )
+        };
+        let (s0, t0) = if N >= 2 { pair(0) } else { end() };
+        let mut p = s0;
+        let mut turn = t0;
+        // A shift and the running turn before it, waiting for a second to be turned beside it.
+        let mut waiting: Option<(Turn, [f64; 3])> = None;
+        let mut then = |turn_before: Turn, shift: [f64; 3], p: &mut [f64; 3]| {
+            if let Some((first_turn, first_shift)) = waiting.take() {
+                let [first, second] =
+                    turn_vectors_in_lanes([first_turn, turn_before], [first_shift, shift]);
+                *p = add(*p, add(first, second));
+            } else {
+                waiting = Some((turn_before, shift));
+            }
         };
         if N >= 4 {
-            then_pair(1);
+            let (s1, t1) = pair(1);
+            then(turn, s1, &mut p);
+            turn = turn_product(turn, t1);
         }
         if N >= 6 {
-            then_pair(2);
+            let (s2, t2) = pair(2);
+            then(turn, s2, &mut p);
+            turn = turn_product(turn, t2);
         }
         if N >= 8 {
-            then_pair(3);
+            let (s3, t3) = pair(3);
+            then(turn, s3, &mut p);
+            turn = turn_product(turn, t3);
         }
-        if N % 2 == 1 {
-            let last = N - 1;
-            let step = &steps[last];
-            let end = &self.end;
-            let (s, c) = (sines[last], cosines[last]);
-            let (sin, versine) = (2.0 * s * c, 2.0 * s * s);
-            let [x1, x2] = end.shift_turn;
-            let mut shift = [
-                end.shift[0] + sin * x1[0] + versine * x2[0],
-                end.shift[1] + sin * x1[1] + versine * x2[1],
-                end.shift[2] + sin * x1[2] + versine * x2[2],
-            ];
-            if step.slides {
-                shift = add(shift, scaled(step.axis, positions[last]));
-            }
-            let ([tw, tx, ty, tz], [aw, ax, ay, az]) = (self.tool_turn, end.axis_turn);
-            let end_turn = (
-                c * tw + s * aw,
-                c * tx + s * ax,
-                c * ty + s * ay,
-                c * tz + s * az,
-            );
-            if N == 1 {
-                (p, turn) = (shift, end_turn);
-            } else {
-                p = add(p, turn_vector(turn, shift));
-                turn = turn_product(turn, end_turn);
-            }
-            Some(Isometry3::from_parts(
-                Translation3::new(p[0], p[1], p[2]),
-                UnitQuaternion::new_unchecked(Quaternion::new(turn.0, turn.1, turn.2, turn.3)),
-            ))
-        } else if N == 0 {
-            Some(self.tool_at(p, turn))
-        } else {
+        if N % 2 == 1 && N > 1 {
+            let (s_end, t_end) = end();
+            then(turn, s_end, &mut p);
+            turn = turn_product(turn, t_end);
+        }
+        if N.is_multiple_of(2) {
             // The turn includes the tool offset's: its shift goes as T⁻¹·t.
-            let moved = turn_vector(turn, self.end_pair.tool_shift);
-            Some(Isometry3::from_parts(
-                Translation3::new(p[0] + moved[0], p[1] + moved[1], p[2] + moved[2]),
-                UnitQuaternion::new_unchecked(Quaternion::new(turn.0, turn.1, turn.2, turn.3)),
-            ))
+            then(turn, self.end_pair.tool_shift, &mut p);
         }
+        if let Some((last_turn, last_shift)) = waiting {
+            p = add(p, turn_vector(last_turn, last_shift));
+        }
+        Some(Isometry3::from_parts(
+            Translation3::new(p[0], p[1], p[2]),
+            UnitQuaternion::new_unchecked(Quaternion::new(turn.0, turn.1, turn.2, turn.3)),
+        ))
+    }
+
+    /// The lone last joint of an odd chain with the tool offset: its shift (m) and turn
+    /// (w, x, y, z, the tool offset's included), from its half-angle sine and cosine and its
+    /// position (rad or m).
+    #[inline(always)]
+    fn end_motion(
+        &self,
+        step: &ToolStep,
+        s: f64,
+        c: f64,
+        position: f64,
+    ) -> ([f64; 3], (f64, f64, f64, f64)) {
+        let end = &self.end;
+        let (sin, versine) = (2.0 * s * c, 2.0 * s * s);
+        let [x1, x2] = end.shift_turn;
+        let mut shift = [
+            end.shift[0] + sin * x1[0] + versine * x2[0],
+            end.shift[1] + sin * x1[1] + versine * x2[1],
+            end.shift[2] + sin * x1[2] + versine * x2[2],
+        ];
+        if step.slides {
+            shift = add(shift, scaled(step.axis, position));
+        }
+        let ([tw, tx, ty, tz], [aw, ax, ay, az]) = (self.tool_turn, end.axis_turn);
+        let turn = (
+            c * tw + s * aw,
+            c * tx + s * ax,
+            c * ty + s * ay,
+            c * tz + s * az,
+        );
+        (shift, turn)
     }
 
     /// The tool pose for `positions` (rad or m, one per joint, already checked) and the
@@ -555,6 +586,12 @@ enum Angles {
     WithinHalfTurns,
 }
 
+/// A unit quaternion as (w, x, y, z).
+type Turn = (f64, f64, f64, f64);
+
+/// The turn that turns nothing.
+const IDENTITY_TURN: Turn = (1.0, 0.0, 0.0, 0.0);
+
 /// The Hamilton product of two quaternions (w, x, y, z), each term's products paired for a
 /// short dependency chain.
 #[inline(always)]
@@ -568,6 +605,41 @@ fn turn_product(
         (w * by + y * c) + (z * bx - x * bz),
         (w * bz + z * c) + (x * by - y * bx),
     )
+}
+
+/// Two vectors each turned by its own unit quaternion (w, x, y, z), by the formula of
+/// [`turn_vector`]: every quantity is held as two lanes, the first vector's and the second's,
+/// and each step runs over both lanes before the next, so the two run side by side, two to an
+/// instruction.
+#[inline(always)]
+fn turn_vectors_in_lanes(
+    turns: [(f64, f64, f64, f64); 2],
+    vectors: [[f64; 3]; 2],
+) -> [[f64; 3]; 2] {
+    let [first, second] = turns;
+    let (w, x, y, z) = (
+        [first.0, second.0],
+        [first.1, second.1],
+        [first.2, second.2],
+        [first.3, second.3],
+    );
+    let [v1, v2] = vectors;
+    let (vx, vy, vz) = ([v1[0], v2[0]], [v1[1], v2[1]], [v1[2], v2[2]]);
+    // t = 2·u × v, u the turn's vector part.
+    let (mut tx, mut ty, mut tz) = ([0.0; 2], [0.0; 2], [0.0; 2]);
+    for lane in 0..2 {
+        tx[lane] = 2.0 * (y[lane] * vz[lane] - z[lane] * vy[lane]);
+        ty[lane] = 2.0 * (z[lane] * vx[lane] - x[lane] * vz[lane]);
+        tz[lane] = 2.0 * (x[lane] * vy[lane] - y[lane] * vx[lane]);
+    }
+    // v + w·t + u × t.
+    let (mut ox, mut oy, mut oz) = ([0.0; 2], [0.0; 2], [0.0; 2]);
+    for lane in 0..2 {
+        ox[lane] = vx[lane] + w[lane] * tx[lane] + (y[lane] * tz[lane] - z[lane] * ty[lane]);
+        oy[lane] = vy[lane] + w[lane] * ty[lane] + (z[lane] * tx[lane] - x[lane] * tz[lane]);
+        oz[lane] = vz[lane] + w[lane] * tz[lane] + (x[lane] * ty[lane] - y[lane] * tx[lane]);
+    }
+    [[ox[0], oy[0], oz[0]], [ox[1], oy[1], oz[1]]]
 }
 
 #[inline(always)]
