@@ -3,7 +3,8 @@
 //! slowest first, with the wake pause between, as `armwright stream` does, and the approach and
 //! the sequence then run to the end; a pause halts the frames sent ahead, so the arm stops at
 //! once and holds, and a resume carries on to the end; the emergency stop stops the arm at once
-//! though a second of setpoints waits in the device's queue. Everything is read from the
+//! though a second of setpoints waits in the device's queue, and the stream's line then counts
+//! the setpoints played, not those sent ahead. Everything is read from the
 //! simulated device itself: the pulse frame each channel got its first pulse in, and the frame
 //! its output last changed in.
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
@@ -329,4 +330,14 @@ fn the_emergency_stop_stops_the_frames_sent_ahead_at_once() {
         "the device played on until frame {held_since}; the stop was pressed at {pressed_at}"
     );
     assert_eq!(waiting, 0, "the frames sent ahead were dropped");
+
+    // The stream's line (checked above) counts the setpoints the device had played, from the
+    // frame it holds, not those sent ahead of the arm.
+    let view = harness.state().device().view().clone();
+    let played = view.played_at_stop.expect("named");
+    assert!(
+        played + 10 <= view.sent,
+        "{played} played of {} sent: over 10 were waiting in the device",
+        view.sent
+    );
 }

@@ -211,6 +211,10 @@ pub struct LinkView {
     pub sent: usize,
     /// Why the stream ended early, once it did.
     pub ended: Option<StreamEnd>,
+    /// After an emergency stop, how many of the stream's setpoints the device had played (from
+    /// the pulses it holds), when it could say: on a link that plays ahead, up to a second of
+    /// those sent were never played.
+    pub played_at_stop: Option<usize>,
     /// Planned setpoints whose pulse was limited to its servo's or the device's range.
     pub clamped: usize,
     /// Largest rounding error of the planned setpoints, in degrees.
@@ -286,6 +290,7 @@ struct Urgent {
     faults: Option<Faults>,
     phase: StreamPhase,
     ended: Option<StreamEnd>,
+    played_at_stop: Option<usize>,
     connection: Option<Connection>,
     follow: (FollowPhase, u64),
     /// Reports added for the window (a lost link, a refused stream say why there).
@@ -334,6 +339,7 @@ impl Shown {
                 faults: status.map(|status| status.faults),
                 phase: view.phase,
                 ended: view.ended,
+                played_at_stop: view.played_at_stop,
                 connection: view.connection.clone(),
                 follow: (view.follow.phase, view.follow.ended),
                 reports: published.reports_added,
@@ -873,6 +879,27 @@ fn resume_index(
     device: &DeviceInfo,
 ) -> Option<usize> {
     let held = held?;
+    let written = &frames[..sent.min(frames.len())];
+    match last_written_held(frames, sent, held, device) {
+        Some(last) => {
+            let first = written[..last]
+                .iter()
+                .rposition(|frame| *frame != written[last])
+                .map_or(0, |before| before + 1);
+            Some(first + 1)
+        }
+        None => (start_output == Some(held)).then_some(0),
+    }
+}
+
+/// The index of the last of the first `sent` of `frames` that the device, sending `held` (as
+/// it reported it), may be holding: equal to it once clamped as the device clamps.
+fn last_written_held(
+    frames: &[ChannelOutput],
+    sent: usize,
+    held: &ChannelOutput,
+    device: &DeviceInfo,
+) -> Option<usize> {
     let as_device_sends = |frame: &ChannelOutput| {
         let clamped: Vec<Option<u16>> = frame
             .as_slice()
@@ -881,18 +908,26 @@ fn resume_index(
             .collect();
         ChannelOutput::from_slice(&clamped)
     };
-    let written = &frames[..sent.min(frames.len())];
-    let last = written
+    frames[..sent.min(frames.len())]
         .iter()
-        .rposition(|frame| as_device_sends(frame).as_ref() == Some(held));
-    match last {
-        Some(last) => {
-            let first = written[..last]
-                .iter()
-                .rposition(|frame| *frame != written[last])
-                .map_or(0, |before| before + 1);
-            Some(first + 1)
-        }
+        .rposition(|frame| as_device_sends(frame).as_ref() == Some(held))
+}
+
+/// How many of a stream's setpoints the device had played when an emergency stop held it: its
+/// `frames`, the first `sent` of which the link wrote, and what the device holds (`held`):
+/// up to the last written frame the device may be holding, or none when it holds what it sent
+/// before the stream (`start_output`). `None` when it cannot say what it holds, or holds
+/// neither.
+fn played_before_stop(
+    frames: &[ChannelOutput],
+    sent: usize,
+    held: Option<&ChannelOutput>,
+    start_output: Option<&ChannelOutput>,
+    device: &DeviceInfo,
+) -> Option<usize> {
+    let held = held?;
+    match last_written_held(frames, sent, held, device) {
+        Some(last) => Some(last + 1),
         None => (start_output == Some(held)).then_some(0),
     }
 }
@@ -922,6 +957,9 @@ struct Stream {
     /// where a halting pause left it (so the count from it is this stream's progress).
     sent_before: u64,
     ended: Option<StreamEnd>,
+    /// After an emergency stop, how many setpoints the device had played, from what it holds
+    /// ([`played_before_stop`]).
+    played_at_stop: Option<usize>,
 }
 
 impl Stream {
@@ -1227,6 +1265,7 @@ impl Worker {
             view.progress = (0, total);
             view.sent = 0;
             view.ended = None;
+            view.played_at_stop = None;
             view.clamped = streamed.setpoints.clamped;
             view.worst_rounding_deg = streamed.setpoints.worst_rounding_deg;
         });
@@ -1239,6 +1278,7 @@ impl Worker {
             start_output,
             sent_before,
             ended: None,
+            played_at_stop: None,
         });
         self.say(Report::Info(format!(
             "streaming {total} setpoints at {} Hz: {start}",
@@ -1504,7 +1544,33 @@ impl Worker {
         }
         if ask_output {
             // Not answered (a lost link): the timeline keeps the last report.
-            let _ = link.refresh_state();
+            let held = link.refresh_state().map(|state| state.output);
+            if let (Some(stream), Ok(held)) = (&mut self.stream, held)
+                && stream.ended == Some(StreamEnd::EmergencyStop)
+                && stream.played_at_stop.is_none()
+            {
+                let sent = link.stats().frames_sent.saturating_sub(stream.sent_before) as usize;
+                stream.played_at_stop = played_before_stop(
+                    &stream.frames,
+                    sent,
+                    held.as_ref(),
+                    stream.start_output.as_ref(),
+                    &link.device(),
+                );
+                if let Some(played) = stream.played_at_stop
+                    && played < sent
+                {
+                    say(
+                        &self.published,
+                        Report::Info(format!(
+                            "the device holds setpoint {played} of {}; the {} sent after it were \
+                             dropped unplayed",
+                            stream.frames.len(),
+                            sent - played
+                        )),
+                    );
+                }
+            }
         }
     }
 
@@ -1521,6 +1587,10 @@ impl Worker {
             _ => None,
         };
         let ended = self.stream.as_ref().and_then(|stream| stream.ended);
+        let played_at_stop = self
+            .stream
+            .as_ref()
+            .and_then(|stream| stream.played_at_stop);
         let follow = self.follow.as_ref().map_or_else(
             || FollowView {
                 ended: self.follows_ended,
@@ -1545,6 +1615,7 @@ impl Worker {
         if let Some(sent) = sent {
             published.view.sent = sent;
             published.view.ended = ended;
+            published.view.played_at_stop = played_at_stop;
         }
         self.waking.check(&published);
     }
@@ -1667,6 +1738,41 @@ mod tests {
         assert_eq!(resume(moving(1520), 6), None);
         assert_eq!(resume(moving(1700), 8), None);
         assert_eq!(resume_index(&frames, 8, None, Some(&limp), &info), None);
+    }
+
+    #[test]
+    fn the_setpoints_played_before_a_stop_are_counted_from_the_held_frame() {
+        let info = SimDevice::new(SimDeviceConfig::default()).info();
+        let rest = frame(&[Some(1500), Some(1500)]);
+        let moving = |units| frame(&[Some(1500), Some(units)]);
+        let frames = [
+            rest,
+            rest,
+            moving(1510),
+            moving(1520),
+            moving(3000),
+            moving(1530),
+        ];
+        let limp = ChannelOutput::limp(2);
+        let played = |held: ChannelOutput, sent: usize| {
+            played_before_stop(&frames, sent, Some(&held), Some(&limp), &info)
+        };
+        // Held at the third frame of six written: three played, whatever was sent after it.
+        assert_eq!(played(moving(1510), 6), Some(3));
+        // A run of equal frames counts to its last written one.
+        assert_eq!(played(rest, 2), Some(2));
+        assert_eq!(played(rest, 6), Some(2));
+        // The device clamps 3000 to its 2500 top.
+        assert_eq!(played(moving(2500), 6), Some(5));
+        // What the device sent before the stream: none played.
+        assert_eq!(played(limp, 6), Some(0));
+        // Pulses no written frame has, or nothing known: not counted.
+        assert_eq!(played(moving(1530), 5), None);
+        assert_eq!(played(moving(1700), 6), None);
+        assert_eq!(
+            played_before_stop(&frames, 6, None, Some(&limp), &info),
+            None
+        );
     }
 
     /// Whether the window is woken for `published` at `at`.

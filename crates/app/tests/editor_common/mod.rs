@@ -486,19 +486,24 @@ pub fn assert_stop_reached_link(
     );
     assert_eq!(device_pulses(harness.state()), held, "the device holds");
     assert_eq!(harness.state().device().view().phase, StreamPhase::Ended);
-    // The stream line says what happened and where: the setpoints that reached the device, out
-    // of all of them.
+    // The stream line says what happened and where: the setpoints the device had played (from
+    // the frame it holds, which the editor asks for after the stop), out of all of them.
+    step_until(harness, "the frame the stop held named", |editor| {
+        editor.device().view().played_at_stop.is_some()
+    });
+    harness.run();
     let view = harness.state().device().view().clone();
     assert_eq!(view.ended, Some(StreamEnd::EmergencyStop));
+    let played = view.played_at_stop.expect("named");
     assert!(
-        view.sent < view.progress.1,
-        "{} of {}",
+        played <= view.sent && view.sent < view.progress.1,
+        "{played} played, {} sent of {}",
         view.sent,
         view.progress.1
     );
     let line = format!(
-        "stream: stopped by the emergency stop at {} of {} setpoints",
-        view.sent, view.progress.1
+        "stream: stopped by the emergency stop at {played} of {} setpoints",
+        view.progress.1
     );
     assert!(
         harness.query_by_label(&line).is_some(),

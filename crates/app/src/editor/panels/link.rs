@@ -329,7 +329,8 @@ pub(crate) fn approach_words(state: &EditorState, view: &LinkView) -> String {
     }
 }
 
-/// Where the stream stands, in words, counting the setpoints the link wrote to the device.
+/// Where the stream stands, in words, counting the setpoints the link wrote to the device (after
+/// an emergency stop, those the device had played, when it could say).
 pub(crate) fn stream_words(view: &LinkView) -> String {
     let (queued, total) = view.progress;
     let sent = view.sent.min(total);
@@ -352,9 +353,14 @@ pub(crate) fn stream_words(view: &LinkView) -> String {
         }
         StreamPhase::Finished => format!("stream: ran to its end, {total} setpoints sent"),
         StreamPhase::Ended => match view.ended {
-            Some(StreamEnd::EmergencyStop) => {
-                format!("stream: stopped by the emergency stop at {sent} of {total} setpoints")
-            }
+            Some(StreamEnd::EmergencyStop) => match view.played_at_stop {
+                Some(played) => format!(
+                    "stream: stopped by the emergency stop at {played} of {total} setpoints"
+                ),
+                None => format!(
+                    "stream: stopped by the emergency stop, {sent} of {total} setpoints sent"
+                ),
+            },
             Some(StreamEnd::LinkLost) => {
                 format!("stream: link lost at {sent} of {total} setpoints")
             }
@@ -528,9 +534,19 @@ mod tests {
             ended: Some(StreamEnd::EmergencyStop),
             ..LinkView::default()
         };
+        // Before the device says what it holds: only what was sent is known.
         assert_eq!(
             stream_words(&view),
-            "stream: stopped by the emergency stop at 61 of 250 setpoints"
+            "stream: stopped by the emergency stop, 61 of 250 setpoints sent"
+        );
+        // Then what it had played, however many were sent ahead.
+        let held = LinkView {
+            played_at_stop: Some(12),
+            ..view
+        };
+        assert_eq!(
+            stream_words(&held),
+            "stream: stopped by the emergency stop at 12 of 250 setpoints"
         );
         let finished = LinkView {
             phase: StreamPhase::Finished,
