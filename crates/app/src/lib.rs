@@ -11,6 +11,7 @@ pub(crate) mod calibration_fit; // a calibration fit in the scene's units, for c
 pub mod cli; // the `armwright` subcommands (listed by `armwright --help`)
 pub mod editor; // the desktop editor: views, joints, sequence, files, emergency stop
 pub(crate) mod follow_run; // one follow run on an open link, for the editor's Follow and jog
+pub mod input_fit; // an analog input's fit judged: slope, residuals, what is poor about it
 pub(crate) mod link_capacity; // whether a scene's setpoint rate fits its serial link
 pub mod placement; // placement success per pick and place, with the scene's tolerances
 pub(crate) mod pose_report; // the readout of one pose: tool point, torques, payload, pulses

@@ -8,6 +8,7 @@
 
 mod common;
 
+use armwright_test_support::reference::numbers;
 use common::device_sim::{DeviceSim, binary, stream_child};
 use std::io::Read;
 use std::process::Stdio;
@@ -48,15 +49,6 @@ fn stream(device: &DeviceSim) -> (i32, Value, String) {
     let json = serde_json::from_str(&stdout)
         .unwrap_or_else(|error| panic!("not JSON ({error}): {stdout}\n{stderr}"));
     (code, json, stderr)
-}
-
-fn numbers(value: &Value) -> Vec<f64> {
-    value
-        .as_array()
-        .unwrap_or_else(|| panic!("a list: {value}"))
-        .iter()
-        .map(|v| v.as_f64().unwrap_or_else(|| panic!("a number: {v}")))
-        .collect()
 }
 
 /// The sample's home positions, in degrees: its rest pose.

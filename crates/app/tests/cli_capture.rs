@@ -85,6 +85,7 @@ fn a_recorded_reading_gives_the_mapped_pose_with_unmapped_joints_at_home() {
     assert_eq!(joint_deg(&out, 2), home);
     assert_eq!(out["inputs"], json!([0, 1, null, 3]));
     assert_eq!(out["outside_limits"], json!([]));
+    assert_eq!(out["poor_fits"], json!([]));
     assert_eq!(out["joints"][3], "wrist pitch");
 
     // The text form names every joint, its input and its reading.
@@ -102,6 +103,46 @@ fn a_recorded_reading_gives_the_mapped_pose_with_unmapped_joints_at_home() {
     );
     assert!(stdout.contains("(input 1, reading 1500)"), "{stdout}");
     assert!(stdout.contains("(no input: home)"), "{stdout}");
+}
+
+#[test]
+fn a_poor_fit_is_named_and_the_pose_given_all_the_same() {
+    // The shoulder's input turns 80° over 50 counts: one step of a 10-bit converter (4 counts)
+    // is 6.4° of shoulder, over the 2° the form and check call poor.
+    let scene = scene_with_inputs("capture-poor-fit");
+    let text = std::fs::read_to_string(&scene).expect("scene");
+    let mut document: Value = serde_json::from_str(&text).expect("JSON");
+    document["inputs"][1]["points"][1]["reading"] = json!(1050);
+    std::fs::write(&scene, document.to_string()).expect("writes");
+    let recording = common::scratch_dir("capture-poor-fit-readings").join("still.txt");
+    std::fs::write(&recording, "0 2000 1025 0 2000\n").expect("writes");
+    let args = ["capture", &scene, "--simulated", "--readings"];
+    let recorded = recording.to_string_lossy();
+    let (code, out) = common::armwright_json(&[&args[..], &[&recorded, "--json"]].concat());
+    assert_eq!(code, 0, "{out}");
+    assert_eq!(joint_deg(&out, 1), 60.0, "halfway along the coarse line");
+    let poor = out["poor_fits"].as_array().expect("poor fits");
+    assert_eq!(poor.len(), 1, "{out}");
+    assert_eq!(poor[0]["path"], "inputs[1]");
+    let message = poor[0]["message"].as_str().expect("words");
+    assert!(
+        message.starts_with("input 1 (joint \"shoulder\"): 1.600° per count"),
+        "{message}"
+    );
+    let (code, stdout, stderr) = common::armwright(&[&args[..], &[&recorded]].concat());
+    assert_eq!(code, 0, "{stderr}");
+    assert!(stdout.contains("(input 1, reading 1025)"), "{stdout}");
+    assert!(
+        stderr.contains("warning: poor fit: inputs[1]: input 1 (joint \"shoulder\")"),
+        "{stderr}"
+    );
+    // check names it too, as a note: the file has no problem.
+    let (code, stdout, stderr) = common::armwright(&["check", &scene]);
+    assert_eq!(code, 0, "{stderr}");
+    assert!(
+        stdout.contains("note: inputs[1]: input 1 (joint \"shoulder\"): 1.600° per count"),
+        "{stdout}"
+    );
 }
 
 #[test]

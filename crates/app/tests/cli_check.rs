@@ -4,18 +4,10 @@
 
 mod common;
 
+use armwright_test_support::reference::numbers;
 use common::{armwright, armwright_json, articulated5, sample_path, scara, scene_file, set};
 use nalgebra::{Isometry3, Matrix3, Rotation3, Translation3, Unit, UnitQuaternion, Vector3};
 use serde_json::{Value, json};
-
-fn numbers(value: &Value) -> Vec<f64> {
-    value
-        .as_array()
-        .unwrap()
-        .iter()
-        .map(|v| v.as_f64().unwrap())
-        .collect()
-}
 
 fn vector(value: &Value) -> Vector3<f64> {
     let v = numbers(value);

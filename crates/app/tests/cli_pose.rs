@@ -4,17 +4,9 @@
 
 mod common;
 
+use armwright_test_support::reference::numbers;
 use common::{armwright, armwright_json, articulated5, scene_file, set};
-use serde_json::{Value, json};
-
-fn numbers(value: &Value) -> Vec<f64> {
-    value
-        .as_array()
-        .unwrap()
-        .iter()
-        .map(|v| v.as_f64().unwrap())
-        .collect()
-}
+use serde_json::json;
 
 fn close(a: f64, b: f64, tolerance: f64) -> bool {
     (a - b).abs() <= tolerance

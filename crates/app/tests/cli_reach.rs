@@ -4,17 +4,9 @@
 
 mod common;
 
+use armwright_test_support::reference::numbers;
 use common::{armwright, armwright_json, sample_path};
 use serde_json::{Value, json};
-
-fn numbers(value: &Value) -> Vec<f64> {
-    value
-        .as_array()
-        .unwrap()
-        .iter()
-        .map(|v| v.as_f64().unwrap())
-        .collect()
-}
 
 fn joined(values: &[f64]) -> String {
     values

@@ -5,6 +5,7 @@
 
 mod common;
 
+use armwright_test_support::reference::numbers;
 use common::{armwright, armwright_json, scene_file};
 use serde_json::{Value, json};
 
@@ -40,15 +41,6 @@ fn guide_scene_and_dh_chain() -> (Value, Value) {
         .expect("the guide's Denavit–Hartenberg chain")
         .clone();
     (scene, dh)
-}
-
-fn numbers(value: &Value) -> Vec<f64> {
-    value
-        .as_array()
-        .expect("an array")
-        .iter()
-        .map(|v| v.as_f64().expect("a number"))
-        .collect()
 }
 
 #[test]

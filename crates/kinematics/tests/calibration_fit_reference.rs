@@ -7,19 +7,10 @@
 //! under `ARMWRIGHT_STRICT=1` (`armwright_test_support::outside_tool`).
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
-use armwright_test_support::reference;
+use armwright_test_support::reference::{self, numbers};
 
 use armwright_kinematics::{CalibrationFitOptions, CalibrationReading, FitShape, fit_calibration};
 use serde_json::Value;
-
-fn numbers(value: &Value) -> Vec<f64> {
-    value
-        .as_array()
-        .expect("an array")
-        .iter()
-        .map(|v| v.as_f64().expect("a number"))
-        .collect()
-}
 
 /// `numpy.polyfit` coefficients (highest power first, degrees per µs^k) → ours (lowest first).
 fn lowest_first(value: &Value) -> Vec<f64> {

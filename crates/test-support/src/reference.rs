@@ -21,6 +21,17 @@ pub fn fixture(name: &str) -> Value {
     serde_json::from_str(&text).expect("fixture is JSON")
 }
 
+/// The numbers of a JSON array (a fixture's, or a command's `--json` output); stops loudly,
+/// showing the value, when it is not an array of numbers.
+pub fn numbers(value: &Value) -> Vec<f64> {
+    value
+        .as_array()
+        .unwrap_or_else(|| panic!("a list of numbers: {value}"))
+        .iter()
+        .map(|v| v.as_f64().unwrap_or_else(|| panic!("a number: {v}")))
+        .collect()
+}
+
 /// Python with the reference libraries: `ARMWRIGHT_PYTHON`, else the repository's `.venv`,
 /// else `python3` on the path.
 pub fn python() -> PathBuf {

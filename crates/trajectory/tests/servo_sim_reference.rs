@@ -3,7 +3,7 @@
 //! written by tests/reference/generate_servo_response.py.
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
-use armwright_test_support::reference;
+use armwright_test_support::reference::{self, numbers};
 
 use armwright_kinematics::Calibration;
 use armwright_trajectory::{JointLoad, ServoModel, ServoModelOptions, simulate};
@@ -13,14 +13,6 @@ fn number(v: &Value, key: &str) -> f64 {
     v[key]
         .as_f64()
         .unwrap_or_else(|| panic!("fixture lacks {key}"))
-}
-
-fn numbers(v: &Value) -> Vec<f64> {
-    v.as_array()
-        .expect("an array")
-        .iter()
-        .map(|x| x.as_f64().expect("a number"))
-        .collect()
 }
 
 fn model(v: &Value) -> ServoModel {

@@ -142,6 +142,7 @@ fn report(
 ) -> Outcome {
     let joints = &scene.arm.joints;
     let kinds = scene.arm.shape.joint_kinds();
+    let poor_fits = crate::input_fit::poor_fit_notes(scene);
     let home: Vec<f64> = joints.iter().map(|joint| joint.home).collect();
     let pose = map.pose(readings.as_slice(), &home);
     let input_of = |joint: usize| {
@@ -187,6 +188,7 @@ fn report(
             }).collect::<Vec<_>>(),
             "outside_limits": outside,
             "unread": unread,
+            "poor_fits": problems_json(&poor_fits),
         });
         if kinds.contains(&JointKindDoc::Prismatic) {
             out["joints_mm"] = json!(values(JointKindDoc::Prismatic));
@@ -219,6 +221,10 @@ fn report(
                 None => "no input: home".to_owned(),
             };
             println!("  {:<12} {value:>9.2}{unit}  ({whence})", joint.name);
+        }
+        // Applied all the same, as the editor's form does: the pose above used these fits.
+        for note in &poor_fits {
+            eprintln!("warning: poor fit: {note}");
         }
         if !outside.is_empty() {
             eprintln!(

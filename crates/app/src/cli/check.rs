@@ -41,6 +41,7 @@ pub(crate) fn run(file: &Path, json: bool) -> Outcome {
     {
         notes.push(Problem::new("link.rate_hz", warning));
     }
+    notes.extend(crate::input_fit::poor_fit_notes(&scene));
     if json {
         print_json(&json!({
             "ok": true,

@@ -65,10 +65,7 @@ pub use follow::{
     DEFAULT_FOLLOW_SHARE_PCT, FollowAction, FollowCommand, FollowPhase, FollowSettings,
     FollowSource, FollowView, JOG_WHILE_FOLLOWING_INPUTS, jog_refused,
 };
-pub use inputs_form::{
-    FitKind, InputField, InputFit, InputRow, InputsCommand, InputsForm, PointText, Residuals,
-    place_in_form,
-};
+pub use inputs_form::{InputField, InputRow, InputsCommand, InputsForm, PointText, place_in_form};
 pub use panels::{
     ACKNOWLEDGE_LABEL, CAUTION, EMERGENCY_STOP_LABEL, MOVED_LABEL, NUDGE_KEYS, PARK_LABEL,
 };

@@ -8,10 +8,9 @@ use egui::{CollapsingHeader, Color32, Grid, RichText, TextEdit, Ui};
 
 use crate::editor::command::Command;
 use crate::editor::device::LinkView;
-use crate::editor::inputs_form::{
-    InputField, InputFit, InputRow, InputsCommand, joint_kind, place_in_form,
-};
+use crate::editor::inputs_form::{InputField, InputRow, InputsCommand, joint_kind, place_in_form};
 use crate::editor::state::EditorState;
+use crate::input_fit::InputFit;
 use crate::scene::JointKindDoc;
 
 /// The button that adds an input.
@@ -144,11 +143,7 @@ fn fit_concerns(fits: &[Option<Result<InputFit, String>>]) -> Vec<String> {
     fits.iter()
         .flatten()
         .flatten()
-        .flat_map(|fit| {
-            fit.concerns
-                .iter()
-                .map(|concern| format!("input {} (joint \"{}\"): {concern}", fit.input, fit.joint))
-        })
+        .flat_map(InputFit::named_concerns)
         .collect()
 }
 
