@@ -18,6 +18,7 @@ mod estop; // emergency-stop request handle and the reset confirmation
 mod port; // transports (serial port, pty, simulated device) and port discovery
 mod protocol; // line protocol: encoder and parser for both directions, CRC, line assembly
 mod pulse; // joint position → pulse width through the calibration, rounding and clamping
+mod run_delay; // a thread's waits for a processor (Linux's run-queue delay)
 mod setpoints; // a plan's samples → device setpoints, for streaming
 mod sim_arm; // the arm as the simulated device moves it: pulses → servo model, frame by frame
 #[cfg(unix)]

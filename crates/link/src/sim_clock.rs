@@ -19,6 +19,8 @@
 
 use std::time::{Duration, Instant};
 
+use crate::run_delay::RunDelay;
+
 /// How many times [`SimClock::now`] reads the wall clock and the run-queue delay before it
 /// takes reads a wait fell between (a wait each time means a machine so busy that the device's
 /// time barely moves anyway).
@@ -104,61 +106,9 @@ impl SimClock {
     }
 }
 
-/// The calling thread's run-queue delay, read from `/proc/thread-self/schedstat`.
-#[derive(Debug)]
-struct RunDelay {
-    #[cfg(target_os = "linux")]
-    file: std::fs::File,
-}
-
-impl RunDelay {
-    #[cfg(target_os = "linux")]
-    fn open() -> Option<Self> {
-        let mut opened = Self {
-            file: std::fs::File::open("/proc/thread-self/schedstat").ok()?,
-        };
-        opened.read().map(|_| opened)
-    }
-
-    #[cfg(not(target_os = "linux"))]
-    fn open() -> Option<Self> {
-        None
-    }
-
-    #[cfg(target_os = "linux")]
-    fn read(&mut self) -> Option<Duration> {
-        use std::os::unix::fs::FileExt;
-        let mut buf = [0u8; 96];
-        let count = self.file.read_at(&mut buf, 0).ok()?;
-        parse_run_delay(buf.get(..count)?)
-    }
-
-    #[cfg(not(target_os = "linux"))]
-    fn read(&mut self) -> Option<Duration> {
-        None
-    }
-}
-
-/// The second field of a schedstat line ("run time, run-queue delay, time slices", ns).
-fn parse_run_delay(text: &[u8]) -> Option<Duration> {
-    let text = std::str::from_utf8(text).ok()?;
-    let nanos = text.split_ascii_whitespace().nth(1)?.parse::<u64>().ok()?;
-    Some(Duration::from_nanos(nanos))
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;
-
-    #[test]
-    fn the_second_schedstat_field_is_the_run_queue_delay() {
-        assert_eq!(
-            parse_run_delay(b"50539917 573547104 31\n"),
-            Some(Duration::from_nanos(573_547_104))
-        );
-        assert_eq!(parse_run_delay(b"50539917\n"), None);
-        assert_eq!(parse_run_delay(b"a b c\n"), None);
-    }
 
     #[test]
     fn the_clock_never_runs_ahead_of_the_wall_clock_and_never_goes_back() {

@@ -17,6 +17,7 @@ use crate::protocol::{
     DeviceMode, DeviceStatus, HostLine, HostMessage, LineAssembler, OLDEST_PROTOCOL_VERSION,
     PROTOCOL_VERSION,
 };
+use crate::run_delay::RunDelay;
 
 /// Timing of the link. Every interval is a `Duration`.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -119,6 +120,11 @@ pub struct StreamStats {
     /// device heard from this host (its watchdog trips after 250 ms of it). A host held up
     /// by a busy computer shows here, whatever the device made of it.
     pub send_gap_max: Duration,
+    /// Longest time this host's link thread waited for a processor (ready to run, another
+    /// program running) between two lines written while streaming: Linux's run-queue delay of
+    /// the thread; zero where it cannot be read. Near [`StreamStats::send_gap_max`] it says the
+    /// computer, busy with other programs, held the stream up, not the device or the link.
+    pub host_wait_max: Duration,
     /// Times the device fell silent past the silence limit while it still held planned
     /// setpoints to play (§8 of `PROTOCOL.md`): noticed and counted, not yet a lost link.
     pub device_quiet: u64,
@@ -247,6 +253,8 @@ impl Link {
             schedule: None,
             controls: VecDeque::new(),
             last_sent: Instant::now(),
+            run_delay: None,
+            delay_at_last_sent: None,
             stop_requested_at: None,
             stop_last_written: None,
             reset_reply: None,
@@ -691,6 +699,10 @@ struct Worker {
     schedule: Option<Schedule>,
     controls: VecDeque<HostMessage>,
     last_sent: Instant,
+    /// This thread's run-queue delay, opened by the thread itself ([`Worker::run`]), and
+    /// what it read at the last line written.
+    run_delay: Option<RunDelay>,
+    delay_at_last_sent: Option<Duration>,
     stop_requested_at: Option<Instant>,
     stop_last_written: Option<Instant>,
     reset_reply: Option<Sender<Result<(), LinkError>>>,
@@ -738,6 +750,7 @@ struct Worker {
 impl Worker {
     fn run(&mut self, greeting_reply: Sender<Result<DeviceInfo, LinkError>>) {
         self.stop.serve_from(std::thread::current());
+        self.run_delay = RunDelay::open();
         match self
             .greet()
             .and_then(|device| self.learn_state().map(|()| device))
@@ -1376,11 +1389,20 @@ impl Worker {
             message,
             halting,
         });
+        let delay = self.run_delay.as_mut().and_then(RunDelay::read);
         if self.stats.state == LinkState::Streaming {
             let gap = now.saturating_duration_since(self.last_sent);
             self.stats.send_gap_max = self.stats.send_gap_max.max(gap);
+            if let (Some(delay), Some(before)) = (delay, self.delay_at_last_sent) {
+                // Read a moment after the line's clock: a wait in that moment may count in the
+                // delay and not the gap. No wait between two lines is longer than the time
+                // between them.
+                let waited = delay.saturating_sub(before).min(gap);
+                self.stats.host_wait_max = self.stats.host_wait_max.max(waited);
+            }
         }
         self.last_sent = now;
+        self.delay_at_last_sent = delay.or(self.delay_at_last_sent);
         Ok(())
     }
 

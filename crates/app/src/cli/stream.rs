@@ -31,6 +31,11 @@ of the arm's reach while it is powered, and defer to local codes and licensed pr
 A limp servo jumps to its first pulse at its own top speed, so a limp arm is woken at its
 rest pose first. Ctrl-C sends the emergency stop; the device then holds its pulses until reset.";
 
+/// A wait for a processor this long between two lines of a stream is a computer busy with
+/// other programs, not a scheduler's ordinary turn of a few milliseconds (our choice: 100 ms,
+/// well under the device's watchdog time).
+const BUSY_HOST_WAIT: Duration = Duration::from_millis(100);
+
 /// The device's watchdog time (`PROTOCOL.md` §5).
 const DEVICE_WATCHDOG: Duration = Duration::from_millis(250);
 
@@ -525,6 +530,20 @@ fn ms(duration: Duration) -> f64 {
     rounded(duration.as_secs_f64() * 1e3, 3)
 }
 
+/// What to say of a stream that ended early when this computer kept its thread waiting for a
+/// processor for [`BUSY_HOST_WAIT`] or more between two lines; `None` otherwise.
+fn busy_computer_note(stats: &StreamStats) -> Option<String> {
+    (stats.host_wait_max >= BUSY_HOST_WAIT).then(|| {
+        format!(
+            "this computer kept the stream waiting for a processor for up to {:.0} ms at a time \
+             (its longest silence toward the device: {:.0} ms): other programs held it up; close \
+             them, or run the stream from a terminal of its own",
+            stats.host_wait_max.as_secs_f64() * 1e3,
+            stats.send_gap_max.as_secs_f64() * 1e3
+        )
+    })
+}
+
 /// Prints how the stream went and says how to exit: 0 when it ran to its end, 1 otherwise.
 fn report(json: bool, summary: &Summary) -> Outcome {
     let stats = summary.stats;
@@ -564,6 +583,7 @@ fn report(json: bool, summary: &Summary) -> Outcome {
             "acks_late": stats.acks_late,
             "ack_wait_max_ms": ms(stats.ack_wait_max),
             "send_gap_max_ms": ms(stats.send_gap_max),
+            "host_wait_max_ms": ms(stats.host_wait_max),
             "play_ahead_s": if summary.plays_ahead { json!(PLAY_AHEAD.as_secs_f64()) } else { Value::Null },
             "device_quiet": stats.device_quiet,
             "device_quiet_noticed_after_ms": stats.device_quiet_noticed_after.map(ms).map_or(Value::Null, |v| json!(v)),
@@ -607,6 +627,9 @@ fn report(json: bool, summary: &Summary) -> Outcome {
             None => println!("the sequence ran to its end"),
             Some(reason) => eprintln!("error: {reason}"),
         }
+        if let Some(note) = busy_computer_note(stats).filter(|_| !finished) {
+            eprintln!("  {note}");
+        }
     }
     if finished {
         Outcome::Done
@@ -618,6 +641,26 @@ fn report(json: bool, summary: &Summary) -> Outcome {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn a_busy_computer_is_named_only_past_100_ms_of_waiting() {
+        let mut stats = StreamStats {
+            host_wait_max: Duration::from_millis(60),
+            send_gap_max: Duration::from_millis(70),
+            ..StreamStats::default()
+        };
+        assert_eq!(busy_computer_note(&stats), None);
+        stats.host_wait_max = Duration::from_millis(310);
+        stats.send_gap_max = Duration::from_millis(320);
+        let note = busy_computer_note(&stats).expect("named");
+        assert!(
+            note.starts_with(
+                "this computer kept the stream waiting for a processor for up to 310 ms at a \
+                 time (its longest silence toward the device: 320 ms)"
+            ),
+            "{note}"
+        );
+    }
 
     #[test]
     fn only_a_yes_confirms() {

@@ -302,9 +302,10 @@ struct Urgent {
 struct Routine {
     /// Setpoints sent, acknowledged, late, dropped; underruns.
     frames: [u64; 5],
-    /// Jitter mean, 99th percentile and largest, and the last stop's write latency, in the
-    /// 10 µs the panel prints (0.01 ms).
-    timing: [Option<u128>; 4],
+    /// Jitter mean, 99th percentile and largest, the last stop's write latency, the longest
+    /// silence toward the device and the longest wait for a processor, in the 10 µs the panel
+    /// prints (0.01 ms).
+    timing: [Option<u128>; 6],
     /// The status line's counters: bad lines, bad checksums, clamped values, watchdog trips.
     counts: Option<[u16; 4]>,
     /// What the device says it sends (the timeline draws the approach from it).
@@ -354,12 +355,14 @@ impl Shown {
                         stats.underruns,
                     ]
                 }),
-                timing: stats.map_or([None; 4], |stats| {
+                timing: stats.map_or([None; 6], |stats| {
                     [
                         Some(tens_of_us(stats.jitter_mean)),
                         Some(tens_of_us(stats.jitter_p99)),
                         Some(tens_of_us(stats.jitter_max)),
                         stats.stop_write_latency.map(tens_of_us),
+                        Some(tens_of_us(stats.send_gap_max)),
+                        Some(tens_of_us(stats.host_wait_max)),
                     ]
                 }),
                 counts: status.map(|status| {

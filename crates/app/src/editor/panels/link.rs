@@ -402,6 +402,17 @@ fn statistics(ui: &mut Ui, view: &LinkView) {
             ms(stats.jitter_max)
         ));
         ui.end_row();
+        ui.label("silence / processor wait").on_hover_text(
+            "The longest time the device heard nothing from this computer while streaming, and \
+             the longest the link's thread waited for a processor meanwhile (other programs \
+             running). Near each other, a busy computer held the stream up.",
+        );
+        ui.label(format!(
+            "{} / {}",
+            ms(stats.send_gap_max),
+            ms(stats.host_wait_max)
+        ));
+        ui.end_row();
         if let Some(latency) = stats.stop_write_latency {
             ui.label("last stop written after");
             ui.label(ms(latency));
