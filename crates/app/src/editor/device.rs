@@ -881,28 +881,31 @@ fn resume_index(
     start_output: Option<&ChannelOutput>,
     device: &DeviceInfo,
 ) -> Option<usize> {
-    let held = held?;
+    let played = played_before(frames, sent, held, start_output, device)?;
+    let Some(last) = played.checked_sub(1) else {
+        return Some(0);
+    };
     let written = &frames[..sent.min(frames.len())];
-    match last_written_held(frames, sent, held, device) {
-        Some(last) => {
-            let first = written[..last]
-                .iter()
-                .rposition(|frame| *frame != written[last])
-                .map_or(0, |before| before + 1);
-            Some(first + 1)
-        }
-        None => (start_output == Some(held)).then_some(0),
-    }
+    let first = written[..last]
+        .iter()
+        .rposition(|frame| *frame != written[last])
+        .map_or(0, |before| before + 1);
+    Some(first + 1)
 }
 
-/// The index of the last of the first `sent` of `frames` that the device, sending `held` (as
-/// it reported it), may be holding: equal to it once clamped as the device clamps.
-fn last_written_held(
+/// How many of a stream's setpoints the device had played when it stopped sending new ones (a
+/// pause's halt, an emergency stop): its `frames`, the first `sent` of which the link wrote, and
+/// what the device holds (`held`, as it reported it): up to the last written frame equal to
+/// `held` once clamped as the device clamps, or none when it holds what it sent before the
+/// stream (`start_output`). `None` when it cannot say what it holds, or holds neither.
+fn played_before(
     frames: &[ChannelOutput],
     sent: usize,
-    held: &ChannelOutput,
+    held: Option<&ChannelOutput>,
+    start_output: Option<&ChannelOutput>,
     device: &DeviceInfo,
 ) -> Option<usize> {
+    let held = held?;
     let as_device_sends = |frame: &ChannelOutput| {
         let clamped: Vec<Option<u16>> = frame
             .as_slice()
@@ -911,25 +914,10 @@ fn last_written_held(
             .collect();
         ChannelOutput::from_slice(&clamped)
     };
-    frames[..sent.min(frames.len())]
+    let last = frames[..sent.min(frames.len())]
         .iter()
-        .rposition(|frame| as_device_sends(frame).as_ref() == Some(held))
-}
-
-/// How many of a stream's setpoints the device had played when an emergency stop held it: its
-/// `frames`, the first `sent` of which the link wrote, and what the device holds (`held`):
-/// up to the last written frame the device may be holding, or none when it holds what it sent
-/// before the stream (`start_output`). `None` when it cannot say what it holds, or holds
-/// neither.
-fn played_before_stop(
-    frames: &[ChannelOutput],
-    sent: usize,
-    held: Option<&ChannelOutput>,
-    start_output: Option<&ChannelOutput>,
-    device: &DeviceInfo,
-) -> Option<usize> {
-    let held = held?;
-    match last_written_held(frames, sent, held, device) {
+        .rposition(|frame| as_device_sends(frame).as_ref() == Some(held));
+    match last {
         Some(last) => Some(last + 1),
         None => (start_output == Some(held)).then_some(0),
     }
@@ -961,7 +949,7 @@ struct Stream {
     sent_before: u64,
     ended: Option<StreamEnd>,
     /// After an emergency stop, how many setpoints the device had played, from what it holds
-    /// ([`played_before_stop`]).
+    /// ([`played_before`]).
     played_at_stop: Option<usize>,
 }
 
@@ -1553,7 +1541,7 @@ impl Worker {
                 && stream.played_at_stop.is_none()
             {
                 let sent = link.stats().frames_sent.saturating_sub(stream.sent_before) as usize;
-                stream.played_at_stop = played_before_stop(
+                stream.played_at_stop = played_before(
                     &stream.frames,
                     sent,
                     held.as_ref(),
@@ -1758,7 +1746,7 @@ mod tests {
         ];
         let limp = ChannelOutput::limp(2);
         let played = |held: ChannelOutput, sent: usize| {
-            played_before_stop(&frames, sent, Some(&held), Some(&limp), &info)
+            played_before(&frames, sent, Some(&held), Some(&limp), &info)
         };
         // Held at the third frame of six written: three played, whatever was sent after it.
         assert_eq!(played(moving(1510), 6), Some(3));
@@ -1772,10 +1760,7 @@ mod tests {
         // Pulses no written frame has, or nothing known: not counted.
         assert_eq!(played(moving(1530), 5), None);
         assert_eq!(played(moving(1700), 6), None);
-        assert_eq!(
-            played_before_stop(&frames, 6, None, Some(&limp), &info),
-            None
-        );
+        assert_eq!(played_before(&frames, 6, None, Some(&limp), &info), None);
     }
 
     /// Whether the window is woken for `published` at `at`.
@@ -1802,16 +1787,20 @@ mod tests {
             stats.ack_wait_max = Duration::from_millis(waited_ms);
             stats.acks_late += 1;
             stats.readings_received += 1;
-            stats.send_gap_max = Duration::from_millis(waited_ms * 10);
             stats.stop_ack_latency = Some(Duration::from_micros(waited_ms));
             // Printed to 0.01 ms: a microsecond more is the same text.
             stats.jitter_max = Duration::from_micros(turn as u64);
             let later = start + WAKE_INTERVAL * (turn as u32 + 2);
             assert!(!wakes(&mut waking, &published, later), "turn {turn}");
         }
-        // A figure the panel prints differently does.
+        // A figure the panel prints differently does: a jitter, the longest silence toward the
+        // device, the longest wait for a processor.
         stats(&mut published).jitter_max = Duration::from_micros(40);
         assert!(wakes(&mut waking, &published, start + WAKE_INTERVAL * 10));
+        stats(&mut published).send_gap_max = Duration::from_millis(90);
+        assert!(wakes(&mut waking, &published, start + WAKE_INTERVAL * 12));
+        stats(&mut published).host_wait_max = Duration::from_millis(4);
+        assert!(wakes(&mut waking, &published, start + WAKE_INTERVAL * 14));
     }
 
     #[test]
