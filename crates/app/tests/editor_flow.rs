@@ -5,8 +5,6 @@
 
 mod editor_common;
 
-use std::time::Instant;
-
 use armwright::approach::{WakeMode, stream_plan_waking};
 use armwright::editor::{
     EditorState, ReachStatus, RetimeRun, StopSource, StopState, StreamPhase, ToolsTab, ViewKind,
@@ -19,8 +17,8 @@ use egui::{Key, Modifiers, vec2};
 use egui_kittest::kittest::{NodeT, Queryable};
 
 use editor_common::{
-    acknowledge_caution, assert_dry_run_ready, assert_stop_reached_link, click_tab, connect,
-    connection, device_mode, drag, hover_stop_button, link_state, open_through_dialog,
+    acknowledge_caution, assert_dry_run_ready, click_tab, connect, connection, device_mode, drag,
+    hover_stop_button, link_state, open_through_dialog, press_stop_and_check_link,
     press_stop_button_at, sample_editor, start_retime, step_until, stream_until_sending,
     wait_for_dry_run, wait_for_retime,
 };
@@ -342,15 +340,9 @@ fn open_teach_retime_play_stream_stop_and_reset() {
     // Emergency stop with one click on the stop button: the request reaches the link's
     // emergency-stop handle in the frame of the press.
     let centre = hover_stop_button(&mut harness);
-    let frame_start = Instant::now();
-    let frame = press_stop_button_at(&mut harness, centre);
-    let frame_end = Instant::now();
-    assert_stop_reached_link(
-        &mut harness,
-        &requests,
-        (frame, StopSource::Button),
-        (frame_start, frame_end),
-    );
+    press_stop_and_check_link(&mut harness, &requests, StopSource::Button, |harness| {
+        press_stop_button_at(harness, centre)
+    });
     assert!(matches!(
         harness.state().state.stop,
         StopState::Latched { .. }

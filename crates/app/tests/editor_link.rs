@@ -5,14 +5,14 @@
 
 mod editor_common;
 
-use std::time::{Duration, Instant};
+use std::time::Duration;
 
 use armwright::editor::{StopSource, StreamPhase};
 use armwright_link::{DeviceMode, LinkState};
 use egui_kittest::kittest::{NodeT, Queryable};
 
 use editor_common::{
-    acknowledge_caution, assert_stop_reached_link, connect, device_mode, frames_sent, link_state,
+    acknowledge_caution, connect, device_mode, frames_sent, link_state, press_stop_and_check_link,
     press_stop_key, sample_editor, step_until, stream_until_sending,
 };
 
@@ -48,17 +48,9 @@ fn connect_acknowledge_stream_stop_by_key_reset_and_stream_again() {
     harness.get_by_label("name of waypoint 4").focus();
     harness.run_steps(2);
     assert!(harness.ctx.egui_wants_keyboard_input());
-    let frame_start = Instant::now();
-    let frame = press_stop_key(&mut harness);
-    let frame_end = Instant::now();
     // In that frame the request was handed to the link's emergency-stop handle, the link's
     // thread wrote the stop line and the device latched it and holds.
-    assert_stop_reached_link(
-        &mut harness,
-        &requests,
-        (frame, StopSource::Key),
-        (frame_start, frame_end),
-    );
+    press_stop_and_check_link(&mut harness, &requests, StopSource::Key, press_stop_key);
 
     // Streaming is refused while the stop is latched.
     assert!(

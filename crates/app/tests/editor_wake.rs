@@ -11,8 +11,6 @@
 
 mod editor_common;
 
-use std::time::Instant;
-
 use armwright::approach::{StartFrom, WakeMode, stream_plan_waking, wake_channels};
 use armwright::editor::{StopSource, StreamPhase, sample_scene};
 use armwright::scene::{Scene, build_arm, save};
@@ -21,8 +19,8 @@ use armwright_link::{ChannelOutput, DeviceMode, SimDevice};
 use egui_kittest::kittest::Queryable;
 
 use editor_common::{
-    EditorHarness, acknowledge_caution, assert_stop_reached_link, connect, connection, file_editor,
-    press_stop_key, sample_editor, scratch, step_until, step_until_slow,
+    EditorHarness, acknowledge_caution, connect, connection, file_editor,
+    press_stop_and_check_link, press_stop_key, sample_editor, scratch, step_until, step_until_slow,
 };
 
 /// The wake pause these tests use, ms: 15 pulse frames of 20 ms.
@@ -82,6 +80,25 @@ fn woken_and_playing(editor: &armwright::editor::Editor, frames: u64) -> bool {
     let last = (0..channels).map(|channel| device.woken_at(channel)).max();
     matches!(last, Some(Some(last)) if device.frames_started() >= last + frames)
         && (0..channels).all(|channel| device.woken_at(channel).is_some())
+}
+
+/// Checks that the simulated device's output stopped changing within `within` pulse frames of
+/// frame `at`, when `what` happened, and that it dropped the frames sent ahead; returns the frame
+/// its output has held since.
+fn assert_stopped_within(harness: &EditorHarness, what: &str, at: u64, within: u64) -> u64 {
+    let (held_since, waiting) = on_device(harness, |device| {
+        (device.output_since(), device.planned_waiting())
+    });
+    eprintln!(
+        "the output stopped changing {} frames after {what}",
+        held_since.saturating_sub(at)
+    );
+    assert!(
+        held_since <= at + within,
+        "the device played on until frame {held_since}; {what} at {at}"
+    );
+    assert_eq!(waiting, 0, "the frames sent ahead were dropped");
+    held_since
 }
 
 #[test]
@@ -244,23 +261,13 @@ fn a_pause_stops_the_frames_sent_ahead_at_once_and_a_resume_runs_to_the_end() {
     step_until(&mut harness, "the pause", |editor| {
         editor.device().view().phase == StreamPhase::Paused
     });
-    let (held, held_since, waiting, mode) = on_device(&harness, |device| {
-        (
-            device.output(),
-            device.output_since(),
-            device.planned_waiting(),
-            device.mode(),
-        )
-    });
-    eprintln!(
-        "the output stopped changing {} frames after the pause was clicked",
-        held_since.saturating_sub(clicked_at)
+    let held_since = assert_stopped_within(
+        &harness,
+        "the pause was clicked",
+        clicked_at,
+        PAUSE_WITHIN_FRAMES,
     );
-    assert!(
-        held_since <= clicked_at + PAUSE_WITHIN_FRAMES,
-        "the device played on until frame {held_since}; the pause was clicked at {clicked_at}"
-    );
-    assert_eq!(waiting, 0, "the frames sent ahead were dropped");
+    let (held, mode) = on_device(&harness, |device| (device.output(), device.mode()));
     assert_eq!(mode, DeviceMode::Keeping);
     let view = harness.state().device().view().clone();
     let line = format!(
@@ -309,27 +316,8 @@ fn the_emergency_stop_stops_the_frames_sent_ahead_at_once() {
     let waiting = on_device(&harness, SimDevice::planned_waiting);
     assert!(waiting > 10, "{waiting} frames sent ahead");
     let pressed_at = on_device(&harness, SimDevice::frames_started);
-    let frame_start = Instant::now();
-    let frame = press_stop_key(&mut harness);
-    let frame_end = Instant::now();
-    assert_stop_reached_link(
-        &mut harness,
-        &requests,
-        (frame, StopSource::Key),
-        (frame_start, frame_end),
-    );
-    let (held_since, waiting) = on_device(&harness, |device| {
-        (device.output_since(), device.planned_waiting())
-    });
-    eprintln!(
-        "the output stopped changing {} frames after the stop key",
-        held_since.saturating_sub(pressed_at)
-    );
-    assert!(
-        held_since <= pressed_at + STOP_WITHIN_FRAMES,
-        "the device played on until frame {held_since}; the stop was pressed at {pressed_at}"
-    );
-    assert_eq!(waiting, 0, "the frames sent ahead were dropped");
+    press_stop_and_check_link(&mut harness, &requests, StopSource::Key, press_stop_key);
+    assert_stopped_within(&harness, "the stop key", pressed_at, STOP_WITHIN_FRAMES);
 
     // The stream's line (checked above) counts the setpoints the device had played, from the
     // frame it holds, not those sent ahead of the arm.

@@ -6,13 +6,14 @@
 //! pose.
 #![allow(clippy::unwrap_used, clippy::expect_used, clippy::panic)] // test code may stop loudly
 
-use armwright::approach::{StartFrom, WakeMode, rest_pose, stream_plan_waking};
+use armwright::approach::{StartFrom, StreamPlan, WakeMode, rest_pose, stream_plan_waking};
 use armwright::scene::{Scene, build_arm, load};
 use armwright::task::plan_of;
 use armwright_kinematics::Arm;
 use armwright_link::{
     ChannelOutput, ChannelValues, DeviceInfo, SimDevice, SimDeviceConfig, arm_setpoint,
 };
+use armwright_trajectory::TaskPlan;
 use proptest::prelude::*;
 
 /// A sample with a gripper, so its channel is covered too.
@@ -24,6 +25,28 @@ fn sample() -> (Scene, Arm) {
 }
 
 /// What the simulated device says about itself: 7 channels, 1 µs units, 500–2500 µs.
+/// The stream of `plan` at [`RATE_HZ`], waking a limp arm with all joints together, from what
+/// `device` reports holding (`output`), parked at the end when `park`.
+fn stream_of(
+    scene: &Scene,
+    arm: &Arm,
+    plan: &TaskPlan,
+    output: Option<&ChannelOutput>,
+    device: &DeviceInfo,
+    park: bool,
+) -> Result<StreamPlan, String> {
+    stream_plan_waking(
+        scene,
+        arm,
+        plan,
+        output,
+        device,
+        RATE_HZ,
+        park,
+        WakeMode::Together,
+    )
+}
+
 fn device() -> DeviceInfo {
     SimDevice::new(SimDeviceConfig::default()).info()
 }
@@ -37,17 +60,7 @@ fn a_limp_device_wakes_at_the_rest_pose_and_holds_it_for_the_wake_pause() {
     let device = device();
     let limp = ChannelOutput::limp(device.channel_count);
     for output in [Some(&limp), None] {
-        let streamed = stream_plan_waking(
-            &scene,
-            &arm,
-            &plan,
-            output,
-            &device,
-            RATE_HZ,
-            false,
-            WakeMode::Together,
-        )
-        .expect("planned");
+        let streamed = stream_of(&scene, &arm, &plan, output, &device, false).expect("planned");
         assert!(streamed.from.wakes());
         let closed = scene.waypoints[0].gripper == armwright::scene::GripperState::Closed;
         let rest = arm_setpoint(
@@ -64,29 +77,9 @@ fn a_limp_device_wakes_at_the_rest_pose_and_holds_it_for_the_wake_pause() {
         }
         assert!(streamed.approach.duration() > scene.timing.wake_pause_ms / 1e3);
     }
-    let streamed = stream_plan_waking(
-        &scene,
-        &arm,
-        &plan,
-        Some(&limp),
-        &device,
-        RATE_HZ,
-        false,
-        WakeMode::Together,
-    )
-    .expect("planned");
+    let streamed = stream_of(&scene, &arm, &plan, Some(&limp), &device, false).expect("planned");
     assert_eq!(streamed.from, StartFrom::Limp);
-    let streamed = stream_plan_waking(
-        &scene,
-        &arm,
-        &plan,
-        None,
-        &device,
-        RATE_HZ,
-        false,
-        WakeMode::Together,
-    )
-    .expect("planned");
+    let streamed = stream_of(&scene, &arm, &plan, None, &device, false).expect("planned");
     assert_eq!(streamed.from, StartFrom::Unknown);
 }
 
@@ -96,28 +89,8 @@ fn a_parked_stream_ends_at_the_rest_pose() {
     let plan = plan_of(&scene, &arm).expect("plannable");
     let device = device();
     let limp = ChannelOutput::limp(device.channel_count);
-    let plain = stream_plan_waking(
-        &scene,
-        &arm,
-        &plan,
-        Some(&limp),
-        &device,
-        RATE_HZ,
-        false,
-        WakeMode::Together,
-    )
-    .expect("planned");
-    let parked = stream_plan_waking(
-        &scene,
-        &arm,
-        &plan,
-        Some(&limp),
-        &device,
-        RATE_HZ,
-        true,
-        WakeMode::Together,
-    )
-    .expect("planned");
+    let plain = stream_of(&scene, &arm, &plan, Some(&limp), &device, false).expect("planned");
+    let parked = stream_of(&scene, &arm, &plan, Some(&limp), &device, true).expect("planned");
     let park = parked.park.as_ref().expect("a park move");
     assert!(parked.setpoints.values.len() > plain.setpoints.values.len());
     assert!((parked.cycle_s() - plain.cycle_s() - park.duration()).abs() < 1e-9);
@@ -161,7 +134,7 @@ proptest! {
         };
         units[channels - 1] = Some(device.units_from_us(gripper_us));
         let output = ChannelOutput::from_slice(&units).expect("7 channels");
-        let streamed = stream_plan_waking(&scene, &arm, &plan, Some(&output), &device, RATE_HZ, false, WakeMode::Together)
+        let streamed = stream_of(&scene, &arm, &plan, Some(&output), &device, false)
             .expect("planned");
         prop_assert_eq!(streamed.from, StartFrom::Held);
         let reported: ChannelValues = output.pulses().expect("all driven");

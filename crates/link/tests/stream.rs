@@ -232,12 +232,7 @@ fn a_device_silent_while_it_plays_its_queue_is_noticed_then_given_up_when_it_wou
     let (recorder, _log) = Recorder::new(sim, Faults::default());
     let control = Arc::clone(&recorder.control);
     // At the device's 20 ms frame, sent 1 s ahead as planned setpoints (`PROTOCOL.md` §3).
-    let options = StreamOptions {
-        period: Duration::from_millis(20),
-        play_ahead: Duration::from_secs(1),
-        ..StreamOptions::default()
-    };
-    let link = Link::connect(Box::new(recorder), options).expect("connects");
+    let link = Link::connect(Box::new(recorder), playing_ahead()).expect("connects");
     assert!(link.plays_ahead());
     link.start_stream().expect("streams");
     for step in 0..300 {
@@ -458,14 +453,18 @@ fn connect_playing_ahead() -> (Link, Arc<Mutex<SimDevice>>, Log) {
     let sim = SimTransport::new(SimDeviceConfig::default());
     let device = sim.device();
     let (recorder, log) = Recorder::new(sim, Faults::default());
-    let options = StreamOptions {
+    let link = Link::connect(Box::new(recorder), playing_ahead()).expect("connects");
+    assert!(link.plays_ahead());
+    (link, device, log)
+}
+
+/// Streams at the device's 20 ms frame, sent 1 s ahead as planned setpoints.
+fn playing_ahead() -> StreamOptions {
+    StreamOptions {
         period: Duration::from_millis(20),
         play_ahead: Duration::from_secs(1),
         ..StreamOptions::default()
-    };
-    let link = Link::connect(Box::new(recorder), options).expect("connects");
-    assert!(link.plays_ahead());
-    (link, device, log)
+    }
 }
 
 #[test]

@@ -866,31 +866,20 @@ fn stream_start_words(
     words
 }
 
-/// Where a stream halted by a pause goes on, given its `frames`, the first `sent` of which the
-/// link wrote, and what the device holds (`held`, as it reported it): after the first frame of
-/// the run of equal frames that ends at the last written frame equal to `held` (as the device
-/// clamps it). Any frame equal to what the device holds is a place to go on from without a jump;
-/// starting again at the run's first frame serves a wake pause or a dwell the pause cut short in
-/// full, never shorter. When no written frame matches but the device holds what it sent before
-/// the stream (`start_output`), none was played: from 0. `None` when neither (the device holds
-/// something else), or when it cannot say what it holds.
-fn resume_index(
-    frames: &[ChannelOutput],
-    sent: usize,
-    held: Option<&ChannelOutput>,
-    start_output: Option<&ChannelOutput>,
-    device: &DeviceInfo,
-) -> Option<usize> {
-    let played = played_before(frames, sent, held, start_output, device)?;
+/// Where a stream halted by a pause goes on, given its `frames` and how many of them the device
+/// had `played` ([`played_before`]): after the first frame of the run of equal frames that ends
+/// at the last one played. Any frame equal to what the device holds is a place to go on from
+/// without a jump; starting again at the run's first frame serves a wake pause or a dwell the
+/// pause cut short in full, never shorter. From 0 when none was played.
+fn resume_index(frames: &[ChannelOutput], played: usize) -> usize {
     let Some(last) = played.checked_sub(1) else {
-        return Some(0);
+        return 0;
     };
-    let written = &frames[..sent.min(frames.len())];
-    let first = written[..last]
+    let first = frames[..last]
         .iter()
-        .rposition(|frame| *frame != written[last])
+        .rposition(|frame| *frame != frames[last])
         .map_or(0, |before| before + 1);
-    Some(first + 1)
+    first + 1
 }
 
 /// How many of a stream's setpoints the device had played when it stopped sending new ones (a
@@ -1317,13 +1306,14 @@ impl Worker {
             }
         };
         let info = link.device();
-        match resume_index(
+        let played = played_before(
             &stream.frames,
             sent,
             held.as_ref(),
             stream.start_output.as_ref(),
             &info,
-        ) {
+        );
+        match played.map(|played| resume_index(&stream.frames, played)) {
             Some(next) => {
                 stream.next = next;
                 stream.finishing = false;
@@ -1715,7 +1705,8 @@ mod tests {
         ];
         let limp = ChannelOutput::limp(2);
         let resume = |held: ChannelOutput, sent: usize| {
-            resume_index(&frames, sent, Some(&held), Some(&limp), &info)
+            played_before(&frames, sent, Some(&held), Some(&limp), &info)
+                .map(|played| resume_index(&frames, played))
         };
         // Held in a wake pause or a dwell: the whole run again.
         assert_eq!(resume(woken, 8), Some(1));
@@ -1728,7 +1719,7 @@ mod tests {
         // A frame not written, or pulses no frame has: nowhere to go on from.
         assert_eq!(resume(moving(1520), 6), None);
         assert_eq!(resume(moving(1700), 8), None);
-        assert_eq!(resume_index(&frames, 8, None, Some(&limp), &info), None);
+        assert_eq!(played_before(&frames, 8, None, Some(&limp), &info), None);
     }
 
     #[test]

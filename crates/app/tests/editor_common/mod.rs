@@ -436,16 +436,20 @@ pub fn device_pulses(editor: &Editor) -> Option<Vec<u16>> {
         .map(|values| values.as_slice().to_vec())
 }
 
-/// Checks what a stop pressed in `frame` (timed from `frame_start` to `frame_end`) did while a
-/// stream ran: the editor handed it to the link's emergency-stop handle in that frame and to
-/// `requests`; the link's thread wrote the stop line within [`STOP_LINE_WITHIN`] and the device
-/// latched; afterwards no setpoint goes out and the device holds its pulses.
-pub fn assert_stop_reached_link(
+/// Presses the stop by `press` (which returns the frame it pressed in) while a stream runs,
+/// timing that frame, and checks what it did: the editor handed it to the link's
+/// emergency-stop handle in that frame, from `source`, and to `requests`; the link's thread
+/// wrote the stop line within [`STOP_LINE_WITHIN`] and the device latched; afterwards no
+/// setpoint goes out and the device holds its pulses.
+pub fn press_stop_and_check_link(
     harness: &mut EditorHarness,
     requests: &Receiver<StopRequest>,
-    (frame, source): (u64, StopSource),
-    (frame_start, frame_end): (Instant, Instant),
+    source: StopSource,
+    press: impl FnOnce(&mut EditorHarness) -> u64,
 ) {
+    let frame_start = Instant::now();
+    let frame = press(harness);
+    let frame_end = Instant::now();
     let (handed, at) = harness
         .state()
         .device()
